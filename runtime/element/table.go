@@ -1,0 +1,242 @@
+package element
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/formwright/formwright/runtime/quadrature"
+)
+
+// Table holds an element's basis values, reference gradients and reference
+// second derivatives at every point of a quadrature rule, together with the
+// same data for the geometry element that defines the map to physical cells.
+type Table struct {
+	Element  *Element
+	Geometry *Element
+	Rule     quadrature.Rule
+
+	// Values[q*NumNodes+i] = φ_i(ξ_q).
+	Values []float64
+	// Grads[(q*NumNodes+i)*Dim+k] = ∂φ_i/∂ξ_k (ξ_q).
+	Grads []float64
+	// Hess[((q*NumNodes+i)*Dim+k)*Dim+l] = ∂²φ_i/∂ξ_k∂ξ_l (ξ_q).
+	Hess []float64
+
+	geomValues, geomGrads, geomHess []float64
+}
+
+// Tabulate tabulates e at the points of rule, using e itself as the
+// geometry element (isoparametric map).
+func (e *Element) Tabulate(rule quadrature.Rule) *Table { return e.TabulateWith(e, rule) }
+
+// TabulateWith tabulates e at the points of rule, with the map to physical
+// cells defined by the nodes of geom (e.g. a P1 geometry for a P2 field on
+// straight-sided cells, when only vertex coordinates are at hand). It
+// panics if the cells differ.
+func (e *Element) TabulateWith(geom *Element, rule quadrature.Rule) *Table {
+	if geom.Cell != e.Cell || rule.Cell != e.Cell {
+		panic(fmt.Sprintf("element: tabulating %v with geometry on %v and rule on %v", e.Cell, geom.Cell, rule.Cell))
+	}
+	t := &Table{Element: e, Geometry: geom, Rule: rule}
+	t.Values, t.Grads, t.Hess = tab(e, rule)
+	if geom == e {
+		t.geomValues, t.geomGrads, t.geomHess = t.Values, t.Grads, t.Hess
+	} else {
+		t.geomValues, t.geomGrads, t.geomHess = tab(geom, rule)
+	}
+	return t
+}
+
+func tab(e *Element, rule quadrature.Rule) (v, g, h []float64) {
+	nq, n, d := rule.NumPoints(), e.n, e.dim
+	v, g, h = make([]float64, nq*n), make([]float64, nq*n*d), make([]float64, nq*n*d*d)
+	for q := 0; q < nq; q++ {
+		xi := rule.Points[q*d : (q+1)*d]
+		e.Eval(xi, v[q*n:(q+1)*n])
+		e.EvalGrad(xi, g[q*n*d:(q+1)*n*d])
+		e.EvalHess(xi, h[q*n*d*d:(q+1)*n*d*d])
+	}
+	return v, g, h
+}
+
+// NumPoints is the number of quadrature points.
+func (t *Table) NumPoints() int { return t.Rule.NumPoints() }
+
+// Value returns φ_i(ξ_q) for all i (a sub-slice of Values).
+func (t *Table) Value(q int) []float64 {
+	n := t.Element.n
+	return t.Values[q*n : (q+1)*n]
+}
+
+// PointGeometry is the physical geometry at one quadrature point, filled in
+// place by Table.Map. Create it with Table.NewPointGeometry.
+type PointGeometry struct {
+	Dim, NumNodes int
+	// X is the physical point (Dim).
+	X []float64
+	// J[i*Dim+j] = ∂x_i/∂ξ_j; JInv[i*Dim+j] = ∂ξ_i/∂x_j.
+	J, JInv []float64
+	// DetJ = det J; Weight = quadrature weight × |det J|.
+	DetJ, Weight float64
+	// Grad[i*Dim+k] = ∂φ_i/∂x_k.
+	Grad []float64
+	// Hess[(i*Dim+k)*Dim+l] = ∂²φ_i/∂x_k∂x_l, including the curvature term of
+	// a non-affine map.
+	Hess []float64
+	// G[i*Dim+j] = Σ_k ∂ξ_k/∂x_i ∂ξ_k/∂x_j; GVec[i] = Σ_j ∂ξ_j/∂x_i.
+	G, GVec []float64
+
+	d2x []float64 // ∂²x_k/∂ξ_a∂ξ_b, [(k*Dim+a)*Dim+b]
+	tmp []float64 // Dim*Dim scratch
+}
+
+// NewPointGeometry allocates a PointGeometry sized for t.
+func (t *Table) NewPointGeometry() *PointGeometry {
+	d, n := t.Element.dim, t.Element.n
+	return &PointGeometry{
+		Dim: d, NumNodes: n,
+		X: make([]float64, d), J: make([]float64, d*d), JInv: make([]float64, d*d),
+		Grad: make([]float64, n*d), Hess: make([]float64, n*d*d),
+		G: make([]float64, d*d), GVec: make([]float64, d),
+		d2x: make([]float64, d*d*d), tmp: make([]float64, d*d),
+	}
+}
+
+// JacobianError reports a non-positive Jacobian determinant: an inverted
+// or degenerate cell.
+type JacobianError struct {
+	Point int     // quadrature point
+	Det   float64 // det J there
+}
+
+func (e *JacobianError) Error() string {
+	return fmt.Sprintf("element: non-positive Jacobian determinant %g at quadrature point %d (inverted or degenerate cell)", e.Det, e.Point)
+}
+
+// Map computes the geometry at quadrature point q of the physical cell whose
+// geometry-element nodes have coordinates coords (Geometry.NumNodes()*Dim,
+// node-major). It allocates nothing. If det J <= 0 it returns a
+// *JacobianError; X, J and DetJ are filled, the rest is not.
+func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
+	ge, d := t.Geometry, t.Element.dim
+	ng := ge.n
+	if len(coords) < ng*d {
+		panic(fmt.Sprintf("element: coords has length %d, need %d", len(coords), ng*d))
+	}
+	if out.Dim != d || out.NumNodes != t.Element.n {
+		panic("element: PointGeometry was made for another table")
+	}
+	gv := t.geomValues[q*ng : (q+1)*ng]
+	gg := t.geomGrads[q*ng*d : (q+1)*ng*d]
+	gh := t.geomHess[q*ng*d*d : (q+1)*ng*d*d]
+	J, X, d2x := out.J, out.X, out.d2x
+	clear(J)
+	clear(X)
+	clear(d2x)
+	for n := 0; n < ng; n++ {
+		xn := coords[n*d : (n+1)*d]
+		for i := 0; i < d; i++ {
+			X[i] += xn[i] * gv[n]
+			for j := 0; j < d; j++ {
+				J[i*d+j] += xn[i] * gg[n*d+j]
+				for b := 0; b < d; b++ {
+					d2x[(i*d+j)*d+b] += xn[i] * gh[(n*d+j)*d+b]
+				}
+			}
+		}
+	}
+	det := invert(d, J, out.JInv)
+	out.DetJ = det
+	if !(det > 0) {
+		return &JacobianError{Point: q, Det: det}
+	}
+	out.Weight = t.Rule.Weights[q] * math.Abs(det)
+	Ji := out.JInv
+	for i := 0; i < d; i++ {
+		gs := 0.0
+		for j := 0; j < d; j++ {
+			gs += Ji[j*d+i]
+			s := 0.0
+			for k := 0; k < d; k++ {
+				s += Ji[k*d+i] * Ji[k*d+j]
+			}
+			out.G[i*d+j] = s
+		}
+		out.GVec[i] = gs
+	}
+	n := t.Element.n
+	eg := t.Grads[q*n*d : (q+1)*n*d]
+	eh := t.Hess[q*n*d*d : (q+1)*n*d*d]
+	tmp := out.tmp
+	for a := 0; a < n; a++ {
+		ga := out.Grad[a*d : (a+1)*d]
+		for i := 0; i < d; i++ {
+			s := 0.0
+			for k := 0; k < d; k++ {
+				s += Ji[k*d+i] * eg[a*d+k]
+			}
+			ga[i] = s
+		}
+		// tmp = d²N/dξ² − Σ_k (dN/dx_k) d²x_k/dξ²
+		for p := 0; p < d; p++ {
+			for r := 0; r < d; r++ {
+				s := eh[(a*d+p)*d+r]
+				for k := 0; k < d; k++ {
+					s -= ga[k] * d2x[(k*d+p)*d+r]
+				}
+				tmp[p*d+r] = s
+			}
+		}
+		// Hess = J^{-T} tmp J^{-1}
+		h := out.Hess[a*d*d : (a+1)*d*d]
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				s := 0.0
+				for p := 0; p < d; p++ {
+					for r := 0; r < d; r++ {
+						s += Ji[p*d+i] * tmp[p*d+r] * Ji[r*d+j]
+					}
+				}
+				h[i*d+j] = s
+			}
+		}
+	}
+	return nil
+}
+
+// invert writes the inverse of the d×d matrix a (d <= 3) into inv and
+// returns det a. If det a == 0, inv is left unchanged.
+func invert(d int, a, inv []float64) float64 {
+	switch d {
+	case 1:
+		if a[0] != 0 {
+			inv[0] = 1 / a[0]
+		}
+		return a[0]
+	case 2:
+		det := a[0]*a[3] - a[1]*a[2]
+		if det != 0 {
+			inv[0], inv[1], inv[2], inv[3] = a[3]/det, -a[1]/det, -a[2]/det, a[0]/det
+		}
+		return det
+	case 3:
+		c00 := a[4]*a[8] - a[5]*a[7]
+		c01 := a[5]*a[6] - a[3]*a[8]
+		c02 := a[3]*a[7] - a[4]*a[6]
+		det := a[0]*c00 + a[1]*c01 + a[2]*c02
+		if det != 0 {
+			r := 1 / det
+			inv[0] = c00 * r
+			inv[1] = (a[2]*a[7] - a[1]*a[8]) * r
+			inv[2] = (a[1]*a[5] - a[2]*a[4]) * r
+			inv[3] = c01 * r
+			inv[4] = (a[0]*a[8] - a[2]*a[6]) * r
+			inv[5] = (a[2]*a[3] - a[0]*a[5]) * r
+			inv[6] = c02 * r
+			inv[7] = (a[1]*a[6] - a[0]*a[7]) * r
+			inv[8] = (a[0]*a[4] - a[1]*a[3]) * r
+		}
+		return det
+	}
+	panic(fmt.Sprintf("element: %d-dimensional Jacobian", d))
+}
