@@ -1,0 +1,244 @@
+package lang
+
+// The AST. It is what Parse returns and what the compiler walks. Two closed
+// families, Stmt and Expr, are sealed by unexported marker methods, so a type
+// switch over them can be exhaustive. Every node embeds a Span (From, To),
+// giving it Pos() and End(); the positions are exactly those participle
+// recorded for the grammar structs the node was lowered from. Parentheses
+// are not kept as nodes: the tree shape records the grouping, and the Span
+// of a node whose operand was parenthesised covers the parentheses.
+
+// Node is any statement or expression.
+type Node interface {
+	Pos() Pos // first character
+	End() Pos // just after the last character
+}
+
+// Name is an identifier written in the source, with its position.
+type Name struct {
+	Pos, End Pos
+	Text     string
+}
+
+// File is a parsed model file.
+type File struct {
+	Name  string // file name as given to Parse
+	Src   []byte // the source text
+	Stmts []Stmt // the statements that parsed cleanly, in source order
+}
+
+// Stmt is one statement. The concrete types are *ModelStmt, *DimensionStmt,
+// *SidesStmt, *UseStmt, *UnknownStmt, *GivenStmt, *FormulaStmt,
+// *EquationStmt, *BoundaryStmt, *StabiliseStmt and *TauStmt.
+type Stmt interface {
+	Node
+	stmtNode()
+}
+
+// ModelStmt is "model NAME".
+type ModelStmt struct {
+	Span
+	Name Name
+}
+
+// DimensionStmt is "dimension INT". DimPos and DimEnd delimit the number.
+type DimensionStmt struct {
+	Span
+	Dim            int
+	DimPos, DimEnd Pos
+}
+
+// SidesStmt is "sides NAME {, NAME}".
+type SidesStmt struct {
+	Span
+	Names []Name
+}
+
+// UseStmt is "use NAME {, NAME}"; the names are standard library modules.
+type UseStmt struct {
+	Span
+	Names []Name
+}
+
+// UnknownStmt is "unknown NAME : RANK ELEMENT". Rank is "scalar" or
+// "vector"; Element is recorded as written (the checker validates it).
+type UnknownStmt struct {
+	Span
+	Name    Name
+	Rank    string
+	Element Name
+}
+
+// GivenStmt is "given NAME = EXPR".
+type GivenStmt struct {
+	Span
+	Name  Name
+	Value Expr
+}
+
+// FormulaStmt is "formula NAME ( PARAMS ) = EXPR".
+type FormulaStmt struct {
+	Span
+	Name   Name
+	Params []Name
+	Body   Expr
+}
+
+// EquationStmt is "equation for NAME : LHS = RHS".
+type EquationStmt struct {
+	Span
+	For      Name
+	LHS, RHS Expr
+}
+
+// BoundaryStmt is "at SIDES : TARGET = EXPR". Flux is true when the target
+// was written "flux(NAME)" (a flux or Robin condition) and false for a value
+// condition "NAME".
+type BoundaryStmt struct {
+	Span
+	Sides  []Name
+	Flux   bool
+	Target Name
+	Value  Expr
+}
+
+// StabiliseStmt is "stabilise METHOD {, METHOD}".
+type StabiliseStmt struct {
+	Span
+	Methods []Name
+}
+
+// TauStmt is "tau for NAME = EXPR".
+type TauStmt struct {
+	Span
+	For   Name
+	Value Expr
+}
+
+func (*ModelStmt) stmtNode()     {}
+func (*DimensionStmt) stmtNode() {}
+func (*SidesStmt) stmtNode()     {}
+func (*UseStmt) stmtNode()       {}
+func (*UnknownStmt) stmtNode()   {}
+func (*GivenStmt) stmtNode()     {}
+func (*FormulaStmt) stmtNode()   {}
+func (*EquationStmt) stmtNode()  {}
+func (*BoundaryStmt) stmtNode()  {}
+func (*StabiliseStmt) stmtNode() {}
+func (*TauStmt) stmtNode()       {}
+
+// Expr is an expression. The concrete types are *Number, *Ident, *Call,
+// *Binary, *Unary, *Index and *List.
+type Expr interface {
+	Node
+	exprNode()
+}
+
+// Number is a numeric literal. Text is the exact source text ("1e-3",
+// "2.5E+3"), so the compiler can turn it into an exact rational. It never
+// has a sign: "-1" is a Unary.
+type Number struct {
+	Span
+	Text string
+}
+
+// Ident is a name used in an expression.
+type Ident struct {
+	Span
+	Name string
+}
+
+// Call is "Func(Args...)". FuncPos is the position of the function name.
+type Call struct {
+	Span
+	Func    string
+	FuncPos Pos
+	Args    []Expr
+}
+
+// Binary is "X Op Y" with Op one of "+", "-", "*", "/", "." (contraction,
+// the dot product) and "^". OpPos is the position of the operator.
+type Binary struct {
+	Span
+	Op    string
+	OpPos Pos
+	X, Y  Expr
+}
+
+// Unary is "Op X" with Op "-" or "+".
+type Unary struct {
+	Span
+	Op string
+	X  Expr
+}
+
+// Index is "X[Index]", a 1-based component (the checker validates the
+// range). IndexPos is the position of the number.
+type Index struct {
+	Span
+	X        Expr
+	Index    int
+	IndexPos Pos
+}
+
+// List is a vector or matrix literal "[e1, e2, ...]"; elements may be
+// lists themselves ("[[1,0],[0,1]]").
+type List struct {
+	Span
+	Elems []Expr
+}
+
+func (*Number) exprNode() {}
+func (*Ident) exprNode()  {}
+func (*Call) exprNode()   {}
+func (*Binary) exprNode() {}
+func (*Unary) exprNode()  {}
+func (*Index) exprNode()  {}
+func (*List) exprNode()   {}
+
+// Inspect walks the tree rooted at n in depth-first order, calling f for
+// each node (statements and expressions; Names are not nodes). If f returns
+// false the children of that node are skipped. n may be a *File.
+func Inspect(n any, f func(Node) bool) {
+	switch n := n.(type) {
+	case *File:
+		for _, s := range n.Stmts {
+			Inspect(s, f)
+		}
+		return
+	case nil:
+		return
+	case Node:
+		if !f(n) {
+			return
+		}
+	}
+	switch n := n.(type) {
+	case *GivenStmt:
+		Inspect(n.Value, f)
+	case *FormulaStmt:
+		Inspect(n.Body, f)
+	case *EquationStmt:
+		Inspect(n.LHS, f)
+		Inspect(n.RHS, f)
+	case *BoundaryStmt:
+		Inspect(n.Value, f)
+	case *TauStmt:
+		Inspect(n.Value, f)
+	case *Call:
+		for _, a := range n.Args {
+			Inspect(a, f)
+		}
+	case *Binary:
+		Inspect(n.X, f)
+		Inspect(n.Y, f)
+	case *Unary:
+		Inspect(n.X, f)
+	case *Index:
+		Inspect(n.X, f)
+	case *List:
+		for _, e := range n.Elems {
+			Inspect(e, f)
+		}
+	}
+}
