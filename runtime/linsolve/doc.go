@@ -1,0 +1,36 @@
+// Package linsolve solves the sparse linear systems A x = b assembled by
+// the formwright runtime.
+//
+// Place in the flow lang -> compiler -> runtime: the compiler's generated
+// element kernels are assembled into a runtime/sparse CSR matrix; this
+// package solves the resulting system; runtime/output writes the solution.
+//
+// Contents
+//
+//   - Krylov methods on a small Operator interface: preconditioned
+//     conjugate gradients (CG; Hestenes & Stiefel 1952, J. Res. Nat. Bur.
+//     Standards 49), restarted GMRES(m) with right preconditioning,
+//     modified Gram–Schmidt and Givens rotations (Saad & Schultz 1986,
+//     SIAM J. Sci. Stat. Comput. 7), and BiCGStab with right
+//     preconditioning (van der Vorst 1992, SIAM J. Sci. Stat. Comput. 13).
+//   - Preconditioners: Identity, Jacobi, and ILU(0) on the CSR pattern
+//     (Saad, Iterative Methods for Sparse Linear Systems, 2nd ed., SIAM
+//     2003, §10.3, Algorithm 10.4).
+//   - A direct solver: banded LU with partial pivoting (the band algorithm
+//     of LAPACK's dgbtrf; Golub & Van Loan, Matrix Computations, §4.3)
+//     after a reverse Cuthill–McKee ordering (George & Liu, Computer
+//     Solution of Large Sparse Positive Definite Systems, Prentice-Hall
+//     1981). See FactorBandLU for complexity and limits.
+//   - Solve, a dispatcher driven by Options (Method and PrecondKind parse
+//     from the strings "cg", "gmres", "bicgstab", "direct" and "none",
+//     "jacobi", "ilu0").
+//
+// Convergence is declared when ‖b − A x‖₂ ≤ max(RelTol·‖b‖₂, AbsTol). The
+// relative residual in Result is always recomputed explicitly from A, b and
+// the returned x, never taken from a recurrence.
+//
+// Numerical failures are typed errors: *NotConvergedError,
+// *BreakdownError, *NonFiniteError and *SingularError. Misuse (wrong
+// lengths, non-square matrices) panics with a message prefixed
+// "linsolve: ". Vector arithmetic uses gonum's floats package.
+package linsolve

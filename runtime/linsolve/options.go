@@ -1,0 +1,124 @@
+package linsolve
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Method selects a solver in Solve. The zero value is MethodGMRES, which
+// suits any nonsingular matrix.
+type Method int
+
+const (
+	MethodGMRES    Method = iota // restarted GMRES(m), right preconditioned
+	MethodCG                     // preconditioned CG, for symmetric positive definite A
+	MethodBiCGStab               // BiCGStab, right preconditioned
+	MethodDirect                 // RCM-ordered banded LU with partial pivoting
+)
+
+var methodNames = [...]string{MethodGMRES: "gmres", MethodCG: "cg", MethodBiCGStab: "bicgstab", MethodDirect: "direct"}
+
+func (m Method) String() string {
+	if m >= 0 && int(m) < len(methodNames) {
+		return methodNames[m]
+	}
+	return fmt.Sprintf("Method(%d)", int(m))
+}
+
+// ParseMethod parses "cg", "gmres", "bicgstab" or "direct" (case
+// insensitive).
+func ParseMethod(s string) (Method, error) {
+	for m, name := range methodNames {
+		if strings.EqualFold(s, name) {
+			return Method(m), nil
+		}
+	}
+	return 0, fmt.Errorf("linsolve: unknown method %q (want one of cg, gmres, bicgstab, direct)", s)
+}
+
+// PrecondKind selects a preconditioner in Solve. The zero value is
+// PrecondNone.
+type PrecondKind int
+
+const (
+	PrecondNone   PrecondKind = iota // identity
+	PrecondJacobi                    // inverse of the diagonal
+	PrecondILU0                      // incomplete LU with zero fill
+)
+
+var precondNames = [...]string{PrecondNone: "none", PrecondJacobi: "jacobi", PrecondILU0: "ilu0"}
+
+func (p PrecondKind) String() string {
+	if p >= 0 && int(p) < len(precondNames) {
+		return precondNames[p]
+	}
+	return fmt.Sprintf("PrecondKind(%d)", int(p))
+}
+
+// ParsePrecond parses "none", "jacobi" or "ilu0" (case insensitive).
+func ParsePrecond(s string) (PrecondKind, error) {
+	for p, name := range precondNames {
+		if strings.EqualFold(s, name) {
+			return PrecondKind(p), nil
+		}
+	}
+	return 0, fmt.Errorf("linsolve: unknown preconditioner %q (want one of none, jacobi, ilu0)", s)
+}
+
+// Default values used when the corresponding Options field is zero. They
+// are common practice, no source.
+const (
+	DefaultRelTol  = 1e-10
+	DefaultMaxIter = 10000
+	DefaultRestart = 50
+)
+
+// Options controls the solvers. The zero value asks for GMRES(50) without
+// preconditioning to relative tolerance 1e-10.
+type Options struct {
+	Method  Method
+	Precond PrecondKind
+
+	// Stop when ‖b − A x‖ ≤ max(RelTol·‖b‖, AbsTol). If both are zero,
+	// RelTol = DefaultRelTol.
+	RelTol, AbsTol float64
+	// MaxIter bounds the iterations (GMRES: inner steps over all cycles;
+	// BiCGStab: full steps of two products each). 0 means DefaultMaxIter.
+	MaxIter int
+	// Restart is the GMRES cycle length m. 0 means DefaultRestart.
+	Restart int
+	// Workers > 1 makes Solve use sparse.CSR.MulVecParallel with that many
+	// goroutines (bitwise the same products as serial).
+	Workers int
+	// Progress, if not nil, is called after every iteration with the
+	// iteration count and the current (recurrence) relative residual.
+	Progress func(iter int, relres float64)
+}
+
+func (o Options) relTol() float64 {
+	if o.RelTol == 0 && o.AbsTol == 0 {
+		return DefaultRelTol
+	}
+	return o.RelTol
+}
+
+func (o Options) maxIter() int {
+	if o.MaxIter <= 0 {
+		return DefaultMaxIter
+	}
+	return o.MaxIter
+}
+
+func (o Options) restart() int {
+	if o.Restart <= 0 {
+		return DefaultRestart
+	}
+	return o.Restart
+}
+
+// Result describes a successful solve.
+type Result struct {
+	Solver     string  // e.g. "cg", "gmres", "direct"
+	Iterations int     // iterations used (0 for direct)
+	Residual   float64 // final ‖b − A x‖/‖b‖, recomputed explicitly at the end
+}
