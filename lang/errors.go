@@ -136,7 +136,7 @@ func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 	for _, e := range l {
 		fmt.Fprintln(w, e.Error())
 		src, ok := sources[e.Pos.File]
-		if ok && e.Pos.IsValid() {
+		if ok && e.Pos.IsValid() && e.Msg != tooMany {
 			if line, ok := sourceLine(src, e.Pos); ok {
 				fmt.Fprintf(w, "    %s\n", strings.TrimRight(line, " \t\r"))
 				fmt.Fprintf(w, "    %s\n", caretLine(line, e.Pos, e.End))

@@ -465,6 +465,9 @@ func (d *diagnosis) unexpected() {
 	switch {
 	case d.tok.Pos.Line > d.prev.Pos.Line && d.tok.Type == tokIdent:
 		d.hint = "a new statement must begin with a keyword such as given or equation"
+		if s := Suggest(d.tok.Value, stmtKeywordList()); s != "" {
+			d.hint = fmt.Sprintf("did you mean %q?", s)
+		}
 	case endsOperand(*d.prev) && beginsOperand(d.tok):
 		d.hint = fmt.Sprintf("an operator is missing between %q and %q", d.prev.Value, d.tok.Value)
 	case d.tok.Value == "=":
