@@ -22,6 +22,11 @@ type Table struct {
 	// Hess[((q*NumNodes+i)*Dim+k)*Dim+l] = ∂²φ_i/∂ξ_k∂ξ_l (ξ_q).
 	Hess []float64
 
+	// NoHessians makes Map skip the physical second derivatives
+	// (PointGeometry.Hess is then left unchanged), for kernels that do not
+	// use them.
+	NoHessians bool
+
 	geomValues, geomGrads, geomHess []float64
 }
 
@@ -86,8 +91,8 @@ type PointGeometry struct {
 	// G[i*Dim+j] = Σ_k ∂ξ_k/∂x_i ∂ξ_k/∂x_j; GVec[i] = Σ_j ∂ξ_j/∂x_i.
 	G, GVec []float64
 
-	d2x []float64 // ∂²x_k/∂ξ_a∂ξ_b, [(k*Dim+a)*Dim+b]
-	tmp []float64 // Dim*Dim scratch
+	d2x       []float64 // ∂²x_k/∂ξ_a∂ξ_b, [(k*Dim+a)*Dim+b]
+	tmp, tmp2 []float64 // Dim*Dim scratch
 }
 
 // NewPointGeometry allocates a PointGeometry sized for t.
@@ -98,7 +103,7 @@ func (t *Table) NewPointGeometry() *PointGeometry {
 		X: make([]float64, d), J: make([]float64, d*d), JInv: make([]float64, d*d),
 		Grad: make([]float64, n*d), Hess: make([]float64, n*d*d),
 		G: make([]float64, d*d), GVec: make([]float64, d),
-		d2x: make([]float64, d*d*d), tmp: make([]float64, d*d),
+		d2x: make([]float64, d*d*d), tmp: make([]float64, d*d), tmp2: make([]float64, d*d),
 	}
 }
 
@@ -177,25 +182,35 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 			}
 			ga[i] = s
 		}
-		// tmp = d²N/dξ² − Σ_k (dN/dx_k) d²x_k/dξ²
+		if t.NoHessians {
+			continue
+		}
+		// mm = d²N/dξ² − Σ_k (dN/dx_k) d²x_k/dξ²; tmp = mm J^{-1}
+		ha := eh[a*d*d : (a+1)*d*d]
+		mm := out.tmp2
+		for pr := 0; pr < d*d; pr++ {
+			m := ha[pr]
+			for k := 0; k < d; k++ {
+				m -= ga[k] * d2x[k*d*d+pr]
+			}
+			mm[pr] = m
+		}
 		for p := 0; p < d; p++ {
-			for r := 0; r < d; r++ {
-				s := eh[(a*d+p)*d+r]
-				for k := 0; k < d; k++ {
-					s -= ga[k] * d2x[(k*d+p)*d+r]
+			for j := 0; j < d; j++ {
+				s := 0.0
+				for r := 0; r < d; r++ {
+					s += mm[p*d+r] * Ji[r*d+j]
 				}
-				tmp[p*d+r] = s
+				tmp[p*d+j] = s
 			}
 		}
-		// Hess = J^{-T} tmp J^{-1}
+		// Hess = J^{-T} tmp
 		h := out.Hess[a*d*d : (a+1)*d*d]
 		for i := 0; i < d; i++ {
 			for j := 0; j < d; j++ {
 				s := 0.0
 				for p := 0; p < d; p++ {
-					for r := 0; r < d; r++ {
-						s += Ji[p*d+i] * tmp[p*d+r] * Ji[r*d+j]
-					}
+					s += Ji[p*d+i] * tmp[p*d+j]
 				}
 				h[i*d+j] = s
 			}
