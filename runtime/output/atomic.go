@@ -1,0 +1,126 @@
+package output
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// WriteFileAtomic writes a file by calling write on a buffered writer to a
+// temporary file in the same directory as path, flushing, fsyncing and
+// closing it, and renaming it over path (then fsyncing the directory, best
+// effort). If write or any step fails, the temporary file is removed, an
+// existing file at path is left untouched, and the error is returned. A
+// new file gets mode 0644; an existing file keeps its mode.
+func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	mode := os.FileMode(0o644)
+	if fi, statErr := os.Stat(path); statErr == nil {
+		if !fi.Mode().IsRegular() {
+			return fmt.Errorf("output: %s exists and is not a regular file", path)
+		}
+		mode = fi.Mode().Perm()
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("output: %w", err)
+	}
+	tmp := f.Name()
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(tmp)
+		}
+	}()
+	bw := bufio.NewWriterSize(f, 1<<16)
+	if err = write(bw); err != nil {
+		return err
+	}
+	if err = bw.Flush(); err != nil {
+		return fmt.Errorf("output: writing %s: %w", path, err)
+	}
+	if err = f.Chmod(mode); err != nil {
+		return fmt.Errorf("output: %w", err)
+	}
+	if err = f.Sync(); err != nil {
+		return fmt.Errorf("output: syncing %s: %w", path, err)
+	}
+	if err = f.Close(); err != nil {
+		return fmt.Errorf("output: closing %s: %w", path, err)
+	}
+	if err = os.Rename(tmp, path); err != nil {
+		return fmt.Errorf("output: %w", err)
+	}
+	if d, derr := os.Open(dir); derr == nil {
+		d.Sync() // best effort: makes the rename durable on most file systems
+		d.Close()
+	}
+	return nil
+}
+
+// SameFile reports whether paths a and b name the same file: the same
+// inode when both exist (so links and different spellings are caught),
+// otherwise the same cleaned absolute path.
+func SameFile(a, b string) bool {
+	fa, ea := os.Stat(a)
+	fb, eb := os.Stat(b)
+	if ea == nil && eb == nil {
+		return os.SameFile(fa, fb)
+	}
+	aa, err1 := filepath.Abs(a)
+	ab, err2 := filepath.Abs(b)
+	return err1 == nil && err2 == nil && aa == ab
+}
+
+// OverwriteInputError reports an output path that names an input file.
+type OverwriteInputError struct {
+	Path, Input string
+}
+
+func (e *OverwriteInputError) Error() string {
+	if e.Path == e.Input {
+		return fmt.Sprintf("output: refusing to overwrite input file %s", e.Path)
+	}
+	return fmt.Sprintf("output: refusing to overwrite input file %s (given as output %s)", e.Input, e.Path)
+}
+
+// CheckNotInput returns *OverwriteInputError if path is the same file as
+// one of inputs (see SameFile), nil otherwise.
+func CheckNotInput(path string, inputs ...string) error {
+	for _, in := range inputs {
+		if SameFile(path, in) {
+			return &OverwriteInputError{Path: path, Input: in}
+		}
+	}
+	return nil
+}
+
+// errWriter remembers the first write error so formatting code can write
+// freely and check once.
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) Write(p []byte) (int, error) {
+	if e.err != nil {
+		return 0, e.err
+	}
+	n, err := e.w.Write(p)
+	e.err = err
+	return n, err
+}
+
+func (e *errWriter) str(s string) {
+	if e.err == nil {
+		_, e.err = io.WriteString(e.w, s)
+	}
+}
+
+var errNilGrid = errors.New("output: nil Grid")
