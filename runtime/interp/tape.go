@@ -1,0 +1,474 @@
+package interp
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/formwright/formwright/compiler/ir"
+)
+
+// Input slots of the evaluation environment. An environment is a []float64
+// of length Slots.Len(); the fixed slots come first, then one slot per
+// previous-iterate quantity (see Slots.Previous).
+const (
+	SlotX            = 0  // x, y, z: slots 0, 1, 2
+	SlotT            = 3  // time
+	SlotCellDiameter = 4  // cell_diameter
+	SlotCellVolume   = 5  // cell_volume
+	SlotG            = 6  // G_IJ at slot 6 + 3I + J
+	SlotNormal       = 15 // outward unit normal n_I at slot 15 + I
+	numFixedSlots    = 18
+)
+
+// Dependency bits of a compiled expression: on what its value may vary.
+type Deps uint8
+
+const (
+	// DepPoint: varies inside a cell (x, G, n, previous iterates).
+	DepPoint Deps = 1 << iota
+	// DepTime: depends on t.
+	DepTime
+	// DepCell: depends on the per-cell quantities cell_diameter, cell_volume.
+	DepCell
+)
+
+// PrevInput is one previous-iterate quantity read by compiled code: the
+// derivative D of component Comp of unknown Field, stored in env[Slot].
+type PrevInput struct {
+	Field, Comp int
+	D           [3]uint8
+	Slot        int
+}
+
+// Slots assigns environment slots. One Slots value is shared by all the
+// programs that read the same environment.
+type Slots struct {
+	prev []PrevInput
+}
+
+// Len is the length an environment must have.
+func (s *Slots) Len() int { return numFixedSlots + len(s.prev) }
+
+// Previous lists the previous-iterate quantities with their slots, in slot
+// order. Shared slice: do not modify.
+func (s *Slots) Previous() []PrevInput { return s.prev }
+
+func (s *Slots) prevSlot(f *ir.FieldD) int {
+	for _, p := range s.prev {
+		if p.Field == f.Field.Index && p.Comp == f.Comp && p.D == f.D {
+			return p.Slot
+		}
+	}
+	p := PrevInput{Field: f.Field.Index, Comp: f.Comp, D: f.D, Slot: s.Len()}
+	s.prev = append(s.prev, p)
+	return p.Slot
+}
+
+type opcode uint8
+
+const (
+	opConst  opcode = iota // push consts[arg]
+	opLoad                 // push env[arg]
+	opAdd                  // a b -> a+b
+	opMul                  // a b -> a*b
+	opPowInt               // a -> a^arg (arg may be negative)
+	opPow                  // a b -> a^b
+	opFn                   // a -> fn_arg(a), unary elementary functions
+	opMin                  // a b -> min(a,b)
+	opMax                  // a b -> max(a,b)
+	opStore                // pop -> out[arg]
+)
+
+type instr struct {
+	op  opcode
+	arg int32
+}
+
+// Program is a compiled list of scalar expressions: a stack-machine tape
+// over float64 that writes expression k into out[k]. It is immutable and
+// safe for concurrent use; each goroutine passes its own stack.
+type Program struct {
+	code     []instr
+	consts   []float64
+	maxStack int
+	nOut     int
+	deps     []Deps
+}
+
+// NumOutputs is the number of expressions compiled into p.
+func (p *Program) NumOutputs() int { return p.nOut }
+
+// StackSize is the length of the stack buffer Eval needs.
+func (p *Program) StackSize() int { return p.maxStack }
+
+// Deps returns the dependency bits of output k.
+func (p *Program) Deps(k int) Deps { return p.deps[k] }
+
+// Len is the number of instructions (for tests and reports).
+func (p *Program) Len() int { return len(p.code) }
+
+// UnsupportedError reports an expression node the tape cannot evaluate
+// (it is not part of the lowered-coefficient contract of compiler/ir).
+type UnsupportedError struct {
+	What string
+}
+
+func (e *UnsupportedError) Error() string {
+	return "interp: unsupported in a lowered coefficient: " + e.What
+}
+
+// Compile compiles exprs into one program writing expression k to out[k].
+// Exact rationals become float64 once, here; constant subexpressions are
+// folded; integer powers become repeated multiplication. Previous-iterate
+// fields get slots in s (which may be shared with other programs).
+func Compile(exprs []ir.Expr, s *Slots) (*Program, error) {
+	c := &compiler{slots: s, p: &Program{nOut: len(exprs)}}
+	for k, e := range exprs {
+		d, err := c.expr(e)
+		if err != nil {
+			return nil, err
+		}
+		c.p.deps = append(c.p.deps, d)
+		c.emit(opStore, int32(k), -1)
+	}
+	return c.p, nil
+}
+
+// MustCompile is Compile for expressions known to be valid; it panics.
+func MustCompile(exprs []ir.Expr, s *Slots) *Program {
+	p, err := Compile(exprs, s)
+	if err != nil {
+		panic(err.Error())
+	}
+	return p
+}
+
+type compiler struct {
+	slots *Slots
+	p     *Program
+	depth int
+}
+
+func (c *compiler) emit(op opcode, arg int32, delta int) {
+	c.p.code = append(c.p.code, instr{op, arg})
+	c.depth += delta
+	if c.depth > c.p.maxStack {
+		c.p.maxStack = c.depth
+	}
+}
+
+func (c *compiler) pushConst(v float64) {
+	// Reuse an equal constant: tapes stay small and cache-friendly.
+	for i, k := range c.p.consts {
+		if k == v || (math.IsNaN(k) && math.IsNaN(v)) {
+			c.emit(opConst, int32(i), 1)
+			return
+		}
+	}
+	c.p.consts = append(c.p.consts, v)
+	c.emit(opConst, int32(len(c.p.consts)-1), 1)
+}
+
+// constValue returns the value of e if it contains no input.
+func constValue(e ir.Expr) (float64, bool) {
+	switch e := e.(type) {
+	case *ir.Num:
+		f, _ := e.Val.Float64()
+		return f, true
+	case *ir.Const:
+		if e.Name == "pi" {
+			return math.Pi, true
+		}
+		return 0, false
+	case *ir.Add:
+		s := 0.0
+		for _, t := range e.Terms {
+			v, ok := constValue(t)
+			if !ok {
+				return 0, false
+			}
+			s += v
+		}
+		return s, true
+	case *ir.Mul:
+		s := 1.0
+		for _, t := range e.Factors {
+			v, ok := constValue(t)
+			if !ok {
+				return 0, false
+			}
+			s *= v
+		}
+		return s, true
+	case *ir.Pow:
+		b, ok1 := constValue(e.Base)
+		x, ok2 := constValue(e.Exp)
+		if !ok1 || !ok2 {
+			return 0, false
+		}
+		return powConst(b, x, e.Exp), true
+	case *ir.Call:
+		var a [2]float64
+		if len(e.Args) != e.Fn.Arity() || e.Fn == ir.Norm {
+			return 0, false
+		}
+		for i, t := range e.Args {
+			v, ok := constValue(t)
+			if !ok {
+				return 0, false
+			}
+			a[i] = v
+		}
+		switch e.Fn {
+		case ir.Min:
+			return math.Min(a[0], a[1]), true
+		case ir.Max:
+			return math.Max(a[0], a[1]), true
+		}
+		return apply(e.Fn, a[0]), true
+	}
+	return 0, false
+}
+
+// integerExp returns n if the exponent is an exact small integer.
+func integerExp(e ir.Expr) (int, bool) {
+	n, ok := e.(*ir.Num)
+	if !ok || !n.Val.IsInt() || !n.Val.Num().IsInt64() {
+		return 0, false
+	}
+	v := n.Val.Num().Int64()
+	if v < -64 || v > 64 {
+		return 0, false
+	}
+	return int(v), true
+}
+
+func powConst(b, x float64, exp ir.Expr) float64 {
+	if n, ok := integerExp(exp); ok {
+		return powInt(b, n)
+	}
+	return math.Pow(b, x)
+}
+
+// powInt is b^n by binary powering; exact for the small integers used.
+func powInt(b float64, n int) float64 {
+	neg := n < 0
+	if neg {
+		n = -n
+	}
+	r := 1.0
+	for n > 0 {
+		if n&1 == 1 {
+			r *= b
+		}
+		b *= b
+		n >>= 1
+	}
+	if neg {
+		return 1 / r
+	}
+	return r
+}
+
+func (c *compiler) expr(e ir.Expr) (Deps, error) {
+	if e == nil {
+		return 0, &UnsupportedError{"nil expression"}
+	}
+	if e.Rank() != 0 {
+		return 0, &UnsupportedError{fmt.Sprintf("%T of rank %d", e, e.Rank())}
+	}
+	if v, ok := constValue(e); ok {
+		c.pushConst(v)
+		return 0, nil
+	}
+	switch e := e.(type) {
+	case *ir.Const:
+		return 0, &UnsupportedError{fmt.Sprintf("constant %q", e.Name)}
+	case *ir.Coord:
+		if e.Axis < 0 || e.Axis > 2 {
+			return 0, &UnsupportedError{fmt.Sprintf("coordinate axis %d", e.Axis)}
+		}
+		c.emit(opLoad, int32(SlotX+e.Axis), 1)
+		return DepPoint, nil
+	case *ir.Time:
+		c.emit(opLoad, SlotT, 1)
+		return DepTime, nil
+	case *ir.CellQ:
+		switch e.Name {
+		case "cell_diameter":
+			c.emit(opLoad, SlotCellDiameter, 1)
+			return DepCell, nil
+		case "cell_volume":
+			c.emit(opLoad, SlotCellVolume, 1)
+			return DepCell, nil
+		case "G":
+			if e.I < 0 || e.I > 2 || e.J < 0 || e.J > 2 {
+				return 0, &UnsupportedError{fmt.Sprintf("G[%d][%d]", e.I, e.J)}
+			}
+			c.emit(opLoad, int32(SlotG+3*e.I+e.J), 1)
+			return DepPoint, nil
+		case "n":
+			if e.I < 0 || e.I > 2 {
+				return 0, &UnsupportedError{fmt.Sprintf("n[%d]", e.I)}
+			}
+			c.emit(opLoad, int32(SlotNormal+e.I), 1)
+			return DepPoint, nil
+		}
+		return 0, &UnsupportedError{fmt.Sprintf("cell quantity %q", e.Name)}
+	case *ir.FieldD:
+		if e.Field == nil || e.Field.Role != ir.Previous {
+			return 0, &UnsupportedError{"field that is not a previous iterate"}
+		}
+		if e.DT != 0 {
+			return 0, &UnsupportedError{"time derivative of a previous iterate"}
+		}
+		if int(e.D[0])+int(e.D[1])+int(e.D[2]) > 2 {
+			return 0, &UnsupportedError{"derivative of order > 2 of a previous iterate"}
+		}
+		c.emit(opLoad, int32(c.slots.prevSlot(e)), 1)
+		return DepPoint, nil
+	case *ir.Add:
+		return c.nary(e.Terms, opAdd, "empty sum")
+	case *ir.Mul:
+		return c.nary(e.Factors, opMul, "empty product")
+	case *ir.Pow:
+		d, err := c.expr(e.Base)
+		if err != nil {
+			return 0, err
+		}
+		if n, ok := integerExp(e.Exp); ok {
+			c.emit(opPowInt, int32(n), 0)
+			return d, nil
+		}
+		if x, ok := constValue(e.Exp); ok && x == 0.5 {
+			c.emit(opFn, int32(ir.Sqrt), 0)
+			return d, nil
+		}
+		d2, err := c.expr(e.Exp)
+		if err != nil {
+			return 0, err
+		}
+		c.emit(opPow, 0, -1)
+		return d | d2, nil
+	case *ir.Call:
+		if e.Fn == ir.Norm || e.Fn > ir.Norm {
+			return 0, &UnsupportedError{"function " + e.Fn.String()}
+		}
+		if len(e.Args) != e.Fn.Arity() {
+			return 0, &UnsupportedError{fmt.Sprintf("%s with %d arguments", e.Fn, len(e.Args))}
+		}
+		var d Deps
+		for _, a := range e.Args {
+			da, err := c.expr(a)
+			if err != nil {
+				return 0, err
+			}
+			d |= da
+		}
+		switch e.Fn {
+		case ir.Min:
+			c.emit(opMin, 0, -1)
+		case ir.Max:
+			c.emit(opMax, 0, -1)
+		default:
+			c.emit(opFn, int32(e.Fn), 0)
+		}
+		return d, nil
+	}
+	return 0, &UnsupportedError{fmt.Sprintf("%T", e)}
+}
+
+func (c *compiler) nary(xs []ir.Expr, op opcode, empty string) (Deps, error) {
+	if len(xs) == 0 {
+		return 0, &UnsupportedError{empty}
+	}
+	var d Deps
+	for i, x := range xs {
+		dx, err := c.expr(x)
+		if err != nil {
+			return 0, err
+		}
+		d |= dx
+		if i > 0 {
+			c.emit(op, 0, -1)
+		}
+	}
+	return d, nil
+}
+
+// apply evaluates a unary elementary function.
+func apply(fn ir.Func, a float64) float64 {
+	switch fn {
+	case ir.Sin:
+		return math.Sin(a)
+	case ir.Cos:
+		return math.Cos(a)
+	case ir.Tan:
+		return math.Tan(a)
+	case ir.Exp:
+		return math.Exp(a)
+	case ir.Log:
+		return math.Log(a)
+	case ir.Sqrt:
+		return math.Sqrt(a)
+	case ir.Abs:
+		return math.Abs(a)
+	case ir.Tanh:
+		return math.Tanh(a)
+	case ir.Sinh:
+		return math.Sinh(a)
+	case ir.Cosh:
+		return math.Cosh(a)
+	case ir.Coth:
+		return 1 / math.Tanh(a)
+	case ir.Sign:
+		switch {
+		case a > 0:
+			return 1
+		case a < 0:
+			return -1
+		}
+		return a // ±0 and NaN
+	}
+	panic(fmt.Sprintf("interp: no unary evaluation for %v", fn))
+}
+
+// Eval runs the program: out[k] receives expression k. env is the input
+// environment (length Slots.Len()), stack a scratch buffer of length at
+// least StackSize(). It does not allocate.
+func (p *Program) Eval(env, out, stack []float64) {
+	stack = stack[:p.maxStack]
+	sp := 0
+	for _, in := range p.code {
+		switch in.op {
+		case opConst:
+			stack[sp] = p.consts[in.arg]
+			sp++
+		case opLoad:
+			stack[sp] = env[in.arg]
+			sp++
+		case opAdd:
+			sp--
+			stack[sp-1] += stack[sp]
+		case opMul:
+			sp--
+			stack[sp-1] *= stack[sp]
+		case opPowInt:
+			stack[sp-1] = powInt(stack[sp-1], int(in.arg))
+		case opPow:
+			sp--
+			stack[sp-1] = math.Pow(stack[sp-1], stack[sp])
+		case opFn:
+			stack[sp-1] = apply(ir.Func(in.arg), stack[sp-1])
+		case opMin:
+			sp--
+			stack[sp-1] = math.Min(stack[sp-1], stack[sp])
+		case opMax:
+			sp--
+			stack[sp-1] = math.Max(stack[sp-1], stack[sp])
+		case opStore:
+			sp--
+			out[in.arg] = stack[sp]
+		}
+	}
+}
