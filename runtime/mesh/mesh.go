@@ -1,0 +1,215 @@
+package mesh
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"sort"
+
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/element"
+)
+
+// FacetRef names a facet of a mesh: local facet Facet (cell.Type.Facets
+// order) of cell Cell.
+type FacetRef struct {
+	Cell  int32
+	Facet int32
+}
+
+func compareFacetRef(a, b FacetRef) int {
+	if a.Cell != b.Cell {
+		return int(a.Cell) - int(b.Cell)
+	}
+	return int(a.Facet) - int(b.Facet)
+}
+
+// Mesh is a conforming mesh of one cell type. It holds vertices only;
+// higher-order nodes are made from edges and faces by a dof numbering.
+type Mesh struct {
+	// Dim is the space dimension, equal to Cell.Dim().
+	Dim  int
+	Cell cell.Type
+	// Coords holds vertex coordinates, NumVertices*Dim, vertex-major.
+	Coords []float64
+	// Cells holds vertex indices, NumCells*Cell.NumVertices(), in the
+	// reference vertex order of Cell; every cell is positively oriented
+	// (its map from the reference cell has det J > 0).
+	Cells []int32
+	// Boundaries maps a name to its facets, sorted by (Cell, Facet) without
+	// repeats. "all" is the whole boundary.
+	Boundaries map[string][]FacetRef
+}
+
+// NumVertices is the number of vertices.
+func (m *Mesh) NumVertices() int { return len(m.Coords) / m.Dim }
+
+// NumCells is the number of cells.
+func (m *Mesh) NumCells() int { return len(m.Cells) / m.Cell.NumVertices() }
+
+// CellVertices returns the vertex indices of cell c (a sub-slice of Cells).
+func (m *Mesh) CellVertices(c int) []int32 {
+	nv := m.Cell.NumVertices()
+	return m.Cells[c*nv : (c+1)*nv]
+}
+
+// Vertex returns the coordinates of vertex v (a sub-slice of Coords).
+func (m *Mesh) Vertex(v int) []float64 { return m.Coords[v*m.Dim : (v+1)*m.Dim] }
+
+// CellCoords gathers the vertex coordinates of cell c into dst (grown if
+// needed) and returns it: NumVertices*Dim values, the layout
+// runtime/element expects for a P1/Q1 geometry.
+func (m *Mesh) CellCoords(c int, dst []float64) []float64 {
+	d := m.Dim
+	vs := m.CellVertices(c)
+	dst = slices.Grow(dst[:0], len(vs)*d)[:len(vs)*d]
+	for i, v := range vs {
+		copy(dst[i*d:(i+1)*d], m.Coords[int(v)*d:(int(v)+1)*d])
+	}
+	return dst
+}
+
+// FacetVertices appends the vertex indices of facet f, in the oriented
+// order of cell.Type.Facets, to dst and returns it.
+func (m *Mesh) FacetVertices(f FacetRef, dst []int32) []int32 {
+	cv := m.CellVertices(int(f.Cell))
+	for _, lv := range m.Cell.Facets()[f.Facet] {
+		dst = append(dst, cv[lv])
+	}
+	return dst
+}
+
+// BoundaryNames returns the boundary names in sorted order.
+func (m *Mesh) BoundaryNames() []string {
+	names := make([]string, 0, len(m.Boundaries))
+	for n := range m.Boundaries {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	return names
+}
+
+// CellMeasure is the signed length/area/volume of cell c under its P1/Q1 map.
+func (m *Mesh) CellMeasure(c int) float64 {
+	var buf [24]float64
+	return element.Measure(m.Cell, m.CellCoords(c, buf[:0]))
+}
+
+// Measure is the sum of the cell measures.
+func (m *Mesh) Measure() float64 {
+	s := 0.0
+	for c := 0; c < m.NumCells(); c++ {
+		s += m.CellMeasure(c)
+	}
+	return s
+}
+
+// facetKey is the sorted vertex set of a facet (unused slots -1).
+type facetKey [4]int32
+
+func (m *Mesh) facetKey(c, f int) facetKey {
+	k := facetKey{-1, -1, -1, -1}
+	cv := m.CellVertices(c)
+	for i, lv := range m.Cell.Facets()[f] {
+		k[i] = cv[lv]
+	}
+	n := len(m.Cell.Facets()[f])
+	slices.Sort(k[:n])
+	return k
+}
+
+// facetIndex maps every facet's vertex set to the facets carrying it.
+func (m *Mesh) facetIndex() map[facetKey][]FacetRef {
+	nf := m.Cell.NumFacets()
+	idx := make(map[facetKey][]FacetRef, m.NumCells()*nf/2+1)
+	for c := 0; c < m.NumCells(); c++ {
+		for f := 0; f < nf; f++ {
+			k := m.facetKey(c, f)
+			idx[k] = append(idx[k], FacetRef{int32(c), int32(f)})
+		}
+	}
+	return idx
+}
+
+// TopologicalBoundary returns the facets that belong to exactly one cell,
+// sorted. It builds a hash of all facets: use it for checks and file input,
+// not in hot paths.
+func (m *Mesh) TopologicalBoundary() []FacetRef {
+	var out []FacetRef
+	for _, fs := range m.facetIndex() {
+		if len(fs) == 1 {
+			out = append(out, fs[0])
+		}
+	}
+	slices.SortFunc(out, compareFacetRef)
+	return out
+}
+
+// OrientationError reports an inverted or degenerate cell.
+type OrientationError struct {
+	Cell int
+	Det  float64 // smallest corner Jacobian determinant (scaled), or signed measure
+}
+
+func (e *OrientationError) Error() string {
+	return fmt.Sprintf("mesh: cell %d is inverted or degenerate (Jacobian determinant %g)", e.Cell, e.Det)
+}
+
+// CheckOrientation returns an *OrientationError for the first cell that is
+// not positively oriented: for simplices a non-positive signed measure; for
+// quadrilaterals and hexahedra a non-positive Jacobian determinant of the
+// Q1 map at some vertex (the corner test: necessary for a valid cell and
+// sufficient for quadrilaterals; common practice, no source).
+func (m *Mesh) CheckOrientation() error {
+	var buf [24]float64
+	for c := 0; c < m.NumCells(); c++ {
+		if det := orientation(m.Cell, m.CellCoords(c, buf[:0])); !(det > 0) {
+			return &OrientationError{Cell: c, Det: det}
+		}
+	}
+	return nil
+}
+
+// orientation returns the signed measure (simplices) or the smallest
+// corner Jacobian determinant (tensor cells) of a cell.
+func orientation(c cell.Type, v []float64) float64 {
+	if c.IsSimplex() {
+		return element.Measure(c, v)
+	}
+	d := c.Dim()
+	ref := c.Vertices()
+	nv := c.NumVertices()
+	lo := math.Inf(1)
+	for a := 0; a < nv; a++ {
+		var e [3][3]float64
+		for k := 0; k < d; k++ {
+			// neighbour of a across axis k: reference coordinate k flipped
+			nb := -1
+			for b := 0; b < nv; b++ {
+				same := true
+				for j := 0; j < d; j++ {
+					if (j == k) == (ref[b*d+j] == ref[a*d+j]) {
+						same = false
+					}
+				}
+				if same {
+					nb = b
+				}
+			}
+			s := -ref[a*d+k] // direction of +ξ_k from a
+			for j := 0; j < d; j++ {
+				e[k][j] = s * (v[nb*d+j] - v[a*d+j])
+			}
+		}
+		var det float64
+		if d == 2 {
+			det = e[0][0]*e[1][1] - e[0][1]*e[1][0]
+		} else {
+			det = e[0][0]*(e[1][1]*e[2][2]-e[1][2]*e[2][1]) -
+				e[0][1]*(e[1][0]*e[2][2]-e[1][2]*e[2][0]) +
+				e[0][2]*(e[1][0]*e[2][1]-e[1][1]*e[2][0])
+		}
+		lo = min(lo, det)
+	}
+	return lo
+}

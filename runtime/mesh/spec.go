@@ -1,0 +1,201 @@
+package mesh
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"strconv"
+	"strings"
+)
+
+// Spec is a parsed mesh description for the command line; see ParseSpec.
+type Spec struct {
+	// Kind is "interval", "rect" or "box"; empty when Path is set.
+	Kind    string
+	Bounds  []float64 // x0,x1[,y0,y1[,z0,z1]]
+	N       []int     // cells per direction
+	Pattern Pattern   // rect and box
+	Grading float64   // interval; 1 = uniform
+	// Path is the mesh file to read when the string is not a spec.
+	Path string
+}
+
+// SpecError is a malformed mesh spec; Col is the 1-based byte column of
+// the offending field.
+type SpecError struct {
+	Spec string
+	Col  int
+	Msg  string
+}
+
+func (e *SpecError) Error() string {
+	return fmt.Sprintf("mesh spec %q: col %d: %s", e.Spec, e.Col, e.Msg)
+}
+
+// Detail returns the message followed by the spec and a caret under the
+// offending column, for terminal output.
+func (e *SpecError) Detail() string {
+	return fmt.Sprintf("col %d: %s\n\t%s\n\t%s^", e.Col, e.Msg, e.Spec, strings.Repeat(" ", max(0, e.Col-1)))
+}
+
+var specKinds = map[string]struct {
+	dim      int
+	patterns []Pattern
+}{
+	"interval": {1, nil},
+	"rect":     {2, []Pattern{DiagonalUp, DiagonalDown, Crossed, Quads}},
+	"box":      {3, []Pattern{Kuhn, Hexes}},
+}
+
+// ParseSpec parses a mesh spec:
+//
+//	interval:X0,X1:N[:graded=R]
+//	rect:X0,X1,Y0,Y1:NXxNY[:tri|tri-flip|crossed|quad]     (default tri)
+//	box:X0,X1,Y0,Y1,Z0,Z1:NXxNYxNZ[:tet|hex]               (default tet)
+//
+// Any other string is taken as the path of a mesh file (Spec.Path), unless
+// it starts with a word followed by ':' that names no kind and no file
+// exists under that name, which is reported as an unknown kind. Errors are
+// *SpecError with the column of the offending field.
+func ParseSpec(s string) (Spec, error) {
+	fields := strings.Split(s, ":")
+	col := make([]int, len(fields)) // 1-based start column of each field
+	c := 1
+	for i, f := range fields {
+		col[i] = c
+		c += len(f) + 1
+	}
+	kind, ok := specKinds[fields[0]]
+	if !ok {
+		if len(fields) > 1 && isWord(fields[0]) && len(fields[0]) > 1 {
+			if _, err := os.Stat(s); errors.Is(err, fs.ErrNotExist) {
+				return Spec{}, &SpecError{s, 1, fmt.Sprintf("unknown mesh kind %q (want interval, rect or box) and no file of that name", fields[0])}
+			}
+		}
+		if s == "" {
+			return Spec{}, &SpecError{s, 1, "empty mesh spec"}
+		}
+		return Spec{Path: s}, nil
+	}
+	fail := func(i int, format string, args ...any) (Spec, error) {
+		at := len(s) + 1 // a missing field is reported just past the end
+		if i < len(col) {
+			at = col[i]
+		}
+		return Spec{}, &SpecError{s, at, fmt.Sprintf(format, args...)}
+	}
+	sp := Spec{Kind: fields[0], Grading: 1}
+	if kind.patterns != nil {
+		sp.Pattern = kind.patterns[0]
+	}
+	if len(fields) < 3 {
+		return fail(len(fields), "want %s:BOUNDS:COUNTS", fields[0])
+	}
+	// Bounds.
+	bs := strings.Split(fields[1], ",")
+	if len(bs) != 2*kind.dim {
+		return fail(1, "want %d comma-separated bounds, got %d", 2*kind.dim, len(bs))
+	}
+	off := col[1]
+	for k, b := range bs {
+		v, err := strconv.ParseFloat(strings.TrimSpace(b), 64)
+		if err != nil || v != v || v-v != 0 {
+			return Spec{}, &SpecError{s, off, fmt.Sprintf("bad bound %q: want a finite number", b)}
+		}
+		sp.Bounds = append(sp.Bounds, v)
+		if k%2 == 1 && !(v > sp.Bounds[k-1]) {
+			return Spec{}, &SpecError{s, off, fmt.Sprintf("upper bound %v is not greater than lower bound %v", v, sp.Bounds[k-1])}
+		}
+		off += len(b) + 1
+	}
+	// Counts.
+	ns := strings.Split(fields[2], "x")
+	if len(ns) != kind.dim {
+		return fail(2, "want %d cell counts separated by 'x', got %q", kind.dim, fields[2])
+	}
+	off = col[2]
+	total := 1.0
+	for _, n := range ns {
+		v, err := strconv.Atoi(n)
+		if err != nil || v < 1 {
+			return Spec{}, &SpecError{s, off, fmt.Sprintf("bad cell count %q: want a positive integer", n)}
+		}
+		total *= float64(v)
+		sp.N = append(sp.N, v)
+		off += len(n) + 1
+	}
+	if total*6 > float64(1<<31-1)/4 {
+		return fail(2, "too many cells (%g): cell indices are 32-bit", total)
+	}
+	// Options.
+	for i := 3; i < len(fields); i++ {
+		f := fields[i]
+		if kind.dim == 1 {
+			v, found := strings.CutPrefix(f, "graded=")
+			if !found {
+				return fail(i, "unknown interval option %q (want graded=R)", f)
+			}
+			r, err := strconv.ParseFloat(v, 64)
+			if err != nil || !(r > 0) || r-r != 0 {
+				return Spec{}, &SpecError{s, col[i] + len("graded="), fmt.Sprintf("bad grading %q: want a positive number", v)}
+			}
+			sp.Grading = r
+			continue
+		}
+		if i > 3 {
+			return fail(i, "unexpected field %q after the pattern", f)
+		}
+		p, err := ParsePattern(f)
+		ok := err == nil
+		if ok {
+			ok = false
+			for _, q := range kind.patterns {
+				ok = ok || q == p
+			}
+		}
+		if !ok {
+			names := make([]string, len(kind.patterns))
+			for j, q := range kind.patterns {
+				names[j] = q.String()
+			}
+			return fail(i, "unknown %s pattern %q (want %s)", sp.Kind, f, strings.Join(names, ", "))
+		}
+		sp.Pattern = p
+	}
+	return sp, nil
+}
+
+func isWord(s string) bool {
+	for _, r := range s {
+		if !(r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r == '-' || r == '_') {
+			return false
+		}
+	}
+	return s != ""
+}
+
+// Build generates the mesh a spec describes, or reads Spec.Path.
+func (sp Spec) Build() (*Mesh, error) {
+	b, n := sp.Bounds, sp.N
+	switch sp.Kind {
+	case "":
+		return ReadFile(sp.Path)
+	case "interval":
+		return Interval(b[0], b[1], n[0], sp.Grading), nil
+	case "rect":
+		return Rectangle(b[0], b[1], b[2], b[3], n[0], n[1], sp.Pattern), nil
+	case "box":
+		return Box(b[0], b[1], b[2], b[3], b[4], b[5], n[0], n[1], n[2], sp.Pattern), nil
+	}
+	return nil, fmt.Errorf("mesh: unknown spec kind %q", sp.Kind)
+}
+
+// Load parses s with ParseSpec and builds the mesh (generated or read).
+func Load(s string) (*Mesh, error) {
+	sp, err := ParseSpec(s)
+	if err != nil {
+		return nil, err
+	}
+	return sp.Build()
+}
