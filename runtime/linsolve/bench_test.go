@@ -115,3 +115,36 @@ func BenchmarkFactorP1_200(b *testing.B) {
 	b.ReportMetric(float64(ku), "ku")
 	b.ReportMetric(float64(f.Bytes())/(1<<20), "factor-MiB")
 }
+
+func benchFactor(b *testing.B, A *sparse.CSR, order string) {
+	var perm []int
+	switch order {
+	case "nd":
+		perm = NestedDissection(A)
+	case "rcm":
+		perm = RCM(A)
+	}
+	var f *SparseLU
+	var err error
+	b.ResetTimer()
+	for b.Loop() {
+		if f, err = FactorSparseLU(A, perm, 0); err != nil {
+			b.Fatal(err)
+		}
+	}
+	l, u := f.NNZ()
+	b.ReportMetric(float64(l+u)/float64(A.NNZ()), "fill-ratio")
+}
+
+func BenchmarkSparseLUP1_200ND(b *testing.B)  { benchFactor(b, p1Laplace(200), "nd") }
+func BenchmarkSparseLUP1_200RCM(b *testing.B) { benchFactor(b, p1Laplace(200), "rcm") }
+func BenchmarkSparseLUP1_317ND(b *testing.B)  { benchFactor(b, p1Laplace(317), "nd") }
+func BenchmarkNestedDissectionP1_200(b *testing.B) {
+	A := p1Laplace(200)
+	b.ResetTimer()
+	for b.Loop() {
+		sinkPerm = NestedDissection(A)
+	}
+}
+
+var sinkPerm []int

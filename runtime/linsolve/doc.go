@@ -16,11 +16,15 @@
 //   - Preconditioners: Identity, Jacobi, and ILU(0) on the CSR pattern
 //     (Saad, Iterative Methods for Sparse Linear Systems, 2nd ed., SIAM
 //     2003, §10.3, Algorithm 10.4).
-//   - A direct solver: banded LU with partial pivoting (the band algorithm
-//     of LAPACK's dgbtrf; Golub & Van Loan, Matrix Computations, §4.3)
-//     after a reverse Cuthill–McKee ordering (George & Liu, Computer
-//     Solution of Large Sparse Positive Definite Systems, Prentice-Hall
-//     1981). See FactorBandLU for complexity and limits.
+//   - Direct solvers: a general sparse LU with threshold partial pivoting
+//     (left-looking, Gilbert & Peierls 1988, SIAM J. Sci. Stat. Comput. 9)
+//     under a nested-dissection ordering (George 1973, SIAM J. Numer.
+//     Anal. 10), used by Solve; and a banded LU with partial pivoting (the
+//     band algorithm of LAPACK's dgbtrf; Golub & Van Loan, Matrix
+//     Computations, §4.3) under a reverse Cuthill–McKee ordering (George &
+//     Liu, Computer Solution of Large Sparse Positive Definite Systems,
+//     Prentice-Hall 1981). See FactorSparseLU and FactorBandLU for
+//     complexity and limits.
 //   - Solve, a dispatcher driven by Options (Method and PrecondKind parse
 //     from the strings "cg", "gmres", "bicgstab", "direct" and "none",
 //     "jacobi", "ilu0").

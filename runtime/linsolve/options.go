@@ -13,7 +13,7 @@ const (
 	MethodGMRES    Method = iota // restarted GMRES(m), right preconditioned
 	MethodCG                     // preconditioned CG, for symmetric positive definite A
 	MethodBiCGStab               // BiCGStab, right preconditioned
-	MethodDirect                 // RCM-ordered banded LU with partial pivoting
+	MethodDirect                 // sparse LU, nested dissection, threshold partial pivoting
 )
 
 var methodNames = [...]string{MethodGMRES: "gmres", MethodCG: "cg", MethodBiCGStab: "bicgstab", MethodDirect: "direct"}

@@ -35,7 +35,8 @@ func NewPreconditioner(kind PrecondKind, A *sparse.CSR) (Preconditioner, error) 
 // MethodDirect) and the solution on return. Before solving, A and b are
 // scanned for NaN/Inf (→ *NonFiniteError with Iter 0).
 //
-// MethodDirect factors with FactorBandLU(A, RCM(A)) and then applies up to
+// MethodDirect factors with FactorSparseLU(A, NestedDissection(A),
+// DefaultPivotTol) and then applies up to
 // two steps of iterative refinement while the explicit residual exceeds
 // the tolerance; it reports the residual it reaches without a
 // not-converged error (the factorisation is as accurate as the
@@ -80,7 +81,7 @@ func Solve(A *sparse.CSR, b, x []float64, opts Options) (Result, error) {
 
 func solveDirect(A *sparse.CSR, op Operator, b, x []float64, opts Options) (Result, error) {
 	const name = "direct"
-	f, err := FactorBandLU(A, RCM(A))
+	f, err := FactorSparseLU(A, NestedDissection(A), DefaultPivotTol)
 	if err != nil {
 		return Result{}, err
 	}
