@@ -178,27 +178,15 @@ func orientation(c cell.Type, v []float64) float64 {
 	}
 	d := c.Dim()
 	ref := c.Vertices()
-	nv := c.NumVertices()
+	nb := &cornerNeighbours[c]
 	lo := math.Inf(1)
-	for a := 0; a < nv; a++ {
+	for a := 0; a < c.NumVertices(); a++ {
 		var e [3][3]float64
 		for k := 0; k < d; k++ {
-			// neighbour of a across axis k: reference coordinate k flipped
-			nb := -1
-			for b := 0; b < nv; b++ {
-				same := true
-				for j := 0; j < d; j++ {
-					if (j == k) == (ref[b*d+j] == ref[a*d+j]) {
-						same = false
-					}
-				}
-				if same {
-					nb = b
-				}
-			}
+			b := nb[a][k]
 			s := -ref[a*d+k] // direction of +ξ_k from a
 			for j := 0; j < d; j++ {
-				e[k][j] = s * (v[nb*d+j] - v[a*d+j])
+				e[k][j] = s * (v[b*d+j] - v[a*d+j])
 			}
 		}
 		var det float64
@@ -212,4 +200,29 @@ func orientation(c cell.Type, v []float64) float64 {
 		lo = min(lo, det)
 	}
 	return lo
+}
+
+// cornerNeighbours[c][a][k] is the vertex of tensor cell c joined to vertex
+// a by the edge along reference axis k.
+var cornerNeighbours [cell.Hexahedron + 1][8][3]int
+
+func init() {
+	for _, c := range []cell.Type{cell.Quadrilateral, cell.Hexahedron} {
+		d, ref := c.Dim(), c.Vertices()
+		for a := 0; a < c.NumVertices(); a++ {
+			for k := 0; k < d; k++ {
+				for b := 0; b < c.NumVertices(); b++ {
+					differ := 0
+					for j := 0; j < d; j++ {
+						if ref[a*d+j] != ref[b*d+j] {
+							differ |= 1 << j
+						}
+					}
+					if differ == 1<<k {
+						cornerNeighbours[c][a][k] = b
+					}
+				}
+			}
+		}
+	}
 }

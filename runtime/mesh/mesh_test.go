@@ -1,6 +1,7 @@
 package mesh
 
 import (
+	"errors"
 	"math"
 	"slices"
 	"testing"
@@ -299,5 +300,26 @@ func BenchmarkRectangle999(b *testing.B) { benchmarkRectangle(b, 999) }
 func TestCellTypes(t *testing.T) {
 	if Rectangle(0, 1, 0, 1, 1, 1, Quads).Cell != cell.Quadrilateral || Box(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn).Cell != cell.Tetrahedron {
 		t.Error("wrong cell types")
+	}
+}
+
+// Reflected cells are reported: a hexahedron with its z=-1 and z=+1 faces
+// swapped and a tetrahedron with two vertices swapped have negative
+// Jacobians (orientation reverses under a reflection).
+func TestCheckOrientation(t *testing.T) {
+	h := Box(0, 1, 0, 1, 0, 1, 2, 1, 1, Hexes)
+	cv := h.CellVertices(1)
+	for i := 0; i < 4; i++ {
+		cv[i], cv[i+4] = cv[i+4], cv[i]
+	}
+	var oe *OrientationError
+	if err := h.CheckOrientation(); !errors.As(err, &oe) || oe.Cell != 1 {
+		t.Errorf("hex: got %v, want OrientationError for cell 1", err)
+	}
+	k := Box(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn)
+	cv = k.CellVertices(4)
+	cv[1], cv[2] = cv[2], cv[1]
+	if err := k.CheckOrientation(); !errors.As(err, &oe) || oe.Cell != 4 {
+		t.Errorf("tet: got %v, want OrientationError for cell 4", err)
 	}
 }

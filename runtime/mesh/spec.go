@@ -126,7 +126,7 @@ func ParseSpec(s string) (Spec, error) {
 		off += len(n) + 1
 	}
 	if total*6 > float64(1<<31-1)/4 {
-		return fail(2, "too many cells (%g): cell indices are 32-bit", total)
+		return fail(2, "too many cells (%g) for 32-bit cell and vertex indices", total)
 	}
 	// Options.
 	for i := 3; i < len(fields); i++ {
