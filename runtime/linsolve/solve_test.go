@@ -481,7 +481,7 @@ func TestParse(t *testing.T) {
 // Workers > 1 uses the parallel product, which is bitwise identical to the
 // serial one, so the whole iteration must be too.
 func TestWorkersBitIdentical(t *testing.T) {
-	A := convDiff2D(15, 10, 5)
+	A := convDiff2D(60, 10, 5) // nnz ≈ 17700: above the parallel threshold
 	rng := rand.New(rand.NewPCG(23, 24))
 	b := randVec(rng, A.N)
 	x1 := make([]float64, A.N)
@@ -559,5 +559,33 @@ func TestDirectP1AgainstDenseLU(t *testing.T) {
 	kl, ku := Bandwidths(A, RCM(A))
 	if kl > 2*30 || ku > 2*30 {
 		t.Errorf("RCM bandwidths %d, %d exceed 2m = 60", kl, ku)
+	}
+}
+
+// No allocation inside the iteration loops: the allocation count of a
+// solve must not depend on the number of iterations (MaxIter 5 vs 40 on a
+// problem that needs more than 40).
+func TestNoAllocationPerIteration(t *testing.T) {
+	A := laplace2D(30)
+	rng := rand.New(rand.NewPCG(27, 28))
+	b := randVec(rng, A.N)
+	M, err := NewILU0(A)
+	if err != nil {
+		t.Fatal(err)
+	}
+	x := make([]float64, A.N)
+	type solver func(Operator, []float64, []float64, Preconditioner, Options) (Result, error)
+	for name, f := range map[string]solver{"cg": CG, "gmres": GMRES, "bicgstab": BiCGStab} {
+		count := func(maxIter int) float64 {
+			return testing.AllocsPerRun(3, func() {
+				for i := range x {
+					x[i] = 0
+				}
+				f(A, b, x, M, Options{RelTol: 1e-300, MaxIter: maxIter, Restart: 10})
+			})
+		}
+		if a5, a40 := count(5), count(40); a5 != a40 {
+			t.Errorf("%s: %v allocations at 5 iterations, %v at 40", name, a5, a40)
+		}
 	}
 }

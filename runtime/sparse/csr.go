@@ -115,13 +115,20 @@ func (A *CSR) MulVec(dst, x []float64) {
 	A.mulRows(dst, x, 0, A.N)
 }
 
+// parallelMinNNZ is the size below which MulVecParallel runs serially:
+// starting goroutines costs more than the product (common practice, no
+// source for the value).
+var parallelMinNNZ = 1 << 14
+
 // MulVecParallel computes dst = A x with the rows split into contiguous
 // blocks of roughly equal numbers of nonzeros, one block per worker. Each
 // row is summed in the same order as in MulVec, so the result is bitwise
-// identical to MulVec for any worker count. workers <= 1 runs serially.
+// identical to MulVec for any worker count. workers <= 1, or fewer than
+// 16384 nonzeros, runs serially. Each call starts its goroutines anew
+// (a few small allocations per call).
 func (A *CSR) MulVecParallel(dst, x []float64, workers int) {
 	A.checkMulVec(dst, x)
-	if workers <= 1 || A.N < 2*workers {
+	if workers <= 1 || A.N < 2*workers || A.NNZ() < parallelMinNNZ {
 		A.mulRows(dst, x, 0, A.N)
 		return
 	}

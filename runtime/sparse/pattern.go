@@ -10,7 +10,8 @@ import (
 // element. dofsOf(e, buf) returns the global dofs of element e, and may
 // reuse buf (passed with length 0) to avoid allocation; negative dofs are
 // ignored (so a caller can mark eliminated or absent dofs), and repeated
-// dofs within one element are allowed. Values are zero.
+// dofs within one element are allowed. Values are zero. dofsOf(0, nil) is
+// called once more at the start to size the element list.
 //
 // Memory: no per-row maps. The routine calls dofsOf once per element and
 // keeps the element-to-dof lists in one flat int32 array, builds the
@@ -28,6 +29,12 @@ func PatternFromElements(n int, nElems int, dofsOf func(e int, buf []int32) []in
 	eptr := make([]int, nElems+1)
 	var edof []int32
 	var buf []int32
+	if nElems > 0 {
+		// Size the flat list from the first element (exact for meshes of
+		// one cell type), so appending does not double the memory.
+		buf = dofsOf(0, nil)
+		edof = make([]int32, 0, nElems*len(buf)+len(buf))
+	}
 	for e := 0; e < nElems; e++ {
 		d := dofsOf(e, buf[:0])
 		for _, g := range d {

@@ -81,6 +81,8 @@ func TestMulVecParallelBitIdentical(t *testing.T) {
 	}
 	want := make([]float64, A.N)
 	A.MulVec(want, x)
+	defer func(v int) { parallelMinNNZ = v }(parallelMinNNZ)
+	parallelMinNNZ = 0 // exercise the parallel path on this small matrix
 	for _, w := range []int{0, 1, 2, 3, 4, 7, 16, 200} {
 		got := make([]float64, A.N)
 		for i := range got {
