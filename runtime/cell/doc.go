@@ -40,6 +40,10 @@
 //   - 3D: for a facet (a,b,c[,d]) the outward normal is the right-hand-rule
 //     normal (b-a) x (c-b); quadrilateral faces are listed cyclically.
 //
+// FacetPoint maps the reference cell of a facet (FacetType) onto a local
+// facet; FacetNormal and FacetScale give its outward unit normal and the
+// measure ratio of that map, for boundary integrals (runtime/element).
+//
 // # Local edges
 //
 // The edge list is the one Lagrange P2/Q2 elements use for their edge
