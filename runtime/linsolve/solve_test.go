@@ -589,3 +589,35 @@ func TestNoAllocationPerIteration(t *testing.T) {
 		}
 	}
 }
+
+// Jacobi: dst_i = r_i / a_ii (to 2 ulps: the preconditioner multiplies by
+// the stored reciprocal); a zero diagonal is a *SingularError.
+func TestJacobi(t *testing.T) {
+	A := convDiff1D(5, 3)
+	p, err := NewJacobi(A)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := []float64{1, 2, 3, 4, 5}
+	dst := make([]float64, 5)
+	p.Solve(dst, r)
+	for i := range r {
+		if want := r[i] / A.At(i, i); math.Abs(dst[i]-want) > 4.5e-16*math.Abs(want) {
+			t.Errorf("dst[%d] = %v, want %v", i, dst[i], r[i]/A.At(i, i))
+		}
+	}
+	A.Val[A.Index(2, 2)] = 0
+	var se *SingularError
+	if _, err := NewJacobi(A); !errors.As(err, &se) || se.Row != 2 {
+		t.Errorf("error %v, want *SingularError at row 2", err)
+	}
+}
+
+func TestBandLUTooLarge(t *testing.T) {
+	defer func(v int64) { MaxBandBytes = v }(MaxBandBytes)
+	MaxBandBytes = 1 << 10
+	var te *TooLargeError
+	if _, err := FactorBandLU(laplace2D(10), nil); !errors.As(err, &te) || te.Bytes != 100*(2*10+10+1)*8 {
+		t.Errorf("error %v, want *TooLargeError of %d bytes", err, 100*31*8)
+	}
+}

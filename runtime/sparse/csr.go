@@ -224,6 +224,17 @@ func (A *CSR) At(i, j int) float64 {
 	return 0
 }
 
+// Add adds v to A(i, j), which must be in the pattern (it panics
+// otherwise). It searches; assembly loops should use ScatterIndex and
+// AddScatter instead.
+func (A *CSR) Add(i, j int, v float64) {
+	k := A.Index(i, j)
+	if k < 0 {
+		panic(fmt.Sprintf("sparse: Add: entry (%d,%d) not in the pattern", i, j))
+	}
+	A.Val[k] += v
+}
+
 // Transpose returns Aᵀ as a new CSR matrix (columns sorted, by
 // construction of the counting sort).
 func (A *CSR) Transpose() *CSR {

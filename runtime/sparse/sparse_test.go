@@ -162,3 +162,18 @@ func TestIsSymmetric(t *testing.T) {
 		t.Error("rectangular matrix reported symmetric")
 	}
 }
+
+func TestAdd(t *testing.T) {
+	A := PatternFromElements(3, 2, func(e int, buf []int32) []int32 { return append(buf, int32(e), int32(e+1)) })
+	A.Add(0, 1, 2.5)
+	A.Add(0, 1, 0.5)
+	if A.At(0, 1) != 3 || A.At(1, 0) != 0 {
+		t.Errorf("Add: %v", A.ToDense())
+	}
+	defer func() {
+		if recover() == nil {
+			t.Error("Add outside the pattern did not panic")
+		}
+	}()
+	A.Add(0, 2, 1)
+}
