@@ -1,0 +1,299 @@
+package compiler
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/formwright/formwright/compiler/ir"
+)
+
+// NoteKind says how a derivation note should be read.
+type NoteKind uint8
+
+// Note kinds.
+const (
+	Assumption NoteKind = iota // a fact the derivation relied on
+	Warning                    // an assumption that does not hold exactly here
+)
+
+func (k NoteKind) String() string { return [...]string{"assumption", "warning"}[k] }
+
+// Note is a short statement printed with a derivation stage.
+type Note struct {
+	Kind NoteKind
+	Text string
+}
+
+// MethodForm is the derived form of one method.
+type MethodForm struct {
+	Method Method
+	Stab   []StabTerm
+	Notes  []Note
+}
+
+// Derivation is everything derive prints, stage by stage.
+type Derivation struct {
+	Model      *Model
+	Normalised []ir.Expr // L_i u, simplified (product rules applied)
+	Sources    []ir.Expr // f_i
+	Adjoint    []ir.Expr // (L* v)_i
+	Split      []Split
+	Galerkin   *GalerkinForm
+	Forms      []MethodForm
+	Notes      []Note // notes on the operator and the Galerkin form
+}
+
+// Derive runs every stage for the methods requested (all of the model's
+// when methods is empty).
+func Derive(m *Model, methods []Method) (*Derivation, error) {
+	d := &Derivation{Model: m}
+	for _, eq := range m.Equations {
+		d.Normalised = append(d.Normalised, Simplify(eq.Written, m.Dim))
+		d.Sources = append(d.Sources, Simplify(eq.Source, m.Dim))
+	}
+	adj, err := Adjoint(m)
+	if err != nil {
+		return nil, err
+	}
+	d.Adjoint = adj
+	d.Split = SplitOperator(m)
+	if d.Galerkin, err = WeakGalerkin(m); err != nil {
+		return nil, err
+	}
+	d.Notes = galerkinNotes(m)
+	if len(methods) == 0 {
+		methods = m.Methods
+	}
+	if len(methods) == 0 {
+		methods = []Method{Galerkin}
+	}
+	for _, meth := range methods {
+		f := MethodForm{Method: meth}
+		if meth != Galerkin {
+			f.Stab = Stabilise(m, meth, d.Split, adj)
+			f.Notes = stabNotes(m, meth, d)
+		}
+		d.Forms = append(d.Forms, f)
+	}
+	return d, nil
+}
+
+func galerkinNotes(m *Model) []Note {
+	var notes []Note
+	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
+	add(Assumption, "second-order terms are integrated by parts once; first-order terms (including coupling terms such as a pressure gradient) are kept as written")
+	for _, u := range m.Unknowns {
+		var value, flux, robin, free []string
+		for _, side := range m.Sides {
+			kind := -1
+			for _, bc := range m.BCs {
+				if bc.Unknown == u.Index && containsStr(bc.Sides, side) {
+					kind = int(bc.Kind)
+				}
+			}
+			switch kind {
+			case int(ValueBC):
+				value = append(value, side)
+			case int(FluxBC):
+				flux = append(flux, side)
+			case int(RobinBC):
+				robin = append(robin, side)
+			default:
+				free = append(free, side)
+			}
+		}
+		if len(value) > 0 {
+			add(Assumption, "%s is prescribed on %s: the test function vanishes there, so the boundary integral is dropped", u.Name, strings.Join(value, ", "))
+		}
+		if len(flux) > 0 {
+			add(Assumption, "the flux of %s is prescribed on %s: the boundary integral is kept with the given flux in place of q", u.Name, strings.Join(flux, ", "))
+		}
+		if len(robin) > 0 {
+			add(Assumption, "a Robin condition on %s for %s: the part of the flux proportional to %s enters B", strings.Join(robin, ", "), u.Name, u.Name)
+		}
+		if len(free) > 0 {
+			add(Assumption, "no condition on %s for %s: zero flux (the natural condition), so the boundary integral vanishes", strings.Join(free, ", "), u.Name)
+		}
+	}
+	for _, eq := range m.Equations {
+		if ir.Contains(eq.Written, func(e ir.Expr) bool { _, ok := e.(*ir.TimeDeriv); return ok }) {
+			add(Assumption, "test functions do not depend on time (semi-discretisation in space), so ∂v/∂t = 0")
+			break
+		}
+	}
+	return notes
+}
+
+// coefVaries reports whether the unknown-free factors of a term vary in
+// space.
+func coefVaries(t ir.Expr) bool {
+	varies := false
+	ir.Inspect(t, func(e ir.Expr) bool {
+		if s, ok := e.(*ir.Sym); ok && s.Kind == ir.Coefficient && s.Deps.Spatial() {
+			varies = true
+		}
+		if c, ok := e.(*ir.Coord); ok && c != nil {
+			varies = true
+		}
+		return !varies
+	})
+	return varies
+}
+
+// advectionVelocityDivergence returns, for each advective term of the form
+// b·∇u (or (∇u) b for vectors), ∇·b simplified.
+func advectionDivergences(m *Model, split []Split) []ir.Expr {
+	var out []ir.Expr
+	for _, s := range split {
+		adv := s.Parts[Advective]
+		if adv == nil {
+			continue
+		}
+		for _, t := range additiveTerms(adv) {
+			ir.Inspect(t, func(e ir.Expr) bool {
+				d, ok := e.(*ir.Dot)
+				if !ok {
+					return true
+				}
+				var b ir.Expr
+				switch {
+				case !ir.HasField(d.A) && d.A.Rank() == 1:
+					b = d.A
+				case !ir.HasField(d.B) && d.B.Rank() == 1:
+					b = d.B
+				}
+				if b != nil {
+					out = append(out, Simplify(&ir.Div{At: ir.At{P: b.Pos()}, X: substituteDefs(m, b)}, m.Dim))
+				}
+				return false
+			})
+		}
+	}
+	return out
+}
+
+// substituteDefs replaces coefficient symbols by their definitions, so that
+// derivatives of them can be evaluated.
+func substituteDefs(m *Model, e ir.Expr) ir.Expr {
+	return ir.MapUp(e, func(n ir.Expr) ir.Expr {
+		if s, ok := n.(*ir.Sym); ok && s.Kind == ir.Coefficient {
+			if c := m.Coef(s.Name); c != nil {
+				return substituteDefs(m, c.Def)
+			}
+		}
+		return n
+	})
+}
+
+func stabNotes(m *Model, meth Method, d *Derivation) []Note {
+	var notes []Note
+	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
+	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f, with τ per equation (block-diagonal for systems); integrals over cell interiors only")
+	if len(m.Unknowns) > 1 {
+		add(Assumption, "τ is block-diagonal: one τ per equation (for flow, τ_M on momentum and τ_C on continuity)")
+	}
+	hasDiff, diffVaries := false, false
+	for _, s := range d.Split {
+		if s.Parts[Diffusive] != nil {
+			hasDiff = true
+			for _, t := range additiveTerms(m.Equations[indexOfEq(m, s.For)].Written) {
+				if o, _ := derivOrder(t); o >= 2 && coefVaries(t) {
+					diffVaries = true
+				}
+			}
+		}
+	}
+	switch meth {
+	case SUPG:
+		if hasDiff && !diffVaries {
+			add(Assumption, "B_D(u′, v_h) = 0 for the H¹₀ projector because the diffusivity is constant, so only the advective operator acts on the test function")
+		}
+		if diffVaries {
+			add(Warning, "the diffusivity varies in space, so B_D(u′, v_h) = 0 does not hold exactly under the H¹₀ projector; SUPG drops a term the VMS form keeps")
+		}
+	case GLS:
+		divs := advectionDivergences(m, d.Split)
+		allZero := true
+		for _, dv := range divs {
+			if !ir.IsZero(dv) {
+				allZero = false
+			}
+		}
+		if len(divs) == 0 {
+			break
+		}
+		if allZero {
+			add(Assumption, "B_A(u′, v_h) = −B_A(v_h, u′): the advecting field is divergence-free and u′, v_h vanish on the boundary, so the advective part of L* is −L_A and GLS takes +L v_h")
+		} else {
+			add(Warning, "the advecting field is not divergence-free (∇·a ≠ 0), so B_A is not antisymmetric: GLS and VMS differ in their advective terms")
+		}
+	}
+	if meth == GLS || meth == VMS {
+		for _, s := range d.Split {
+			if s.Parts[Diffusive] != nil && m.IsSimplexP1() {
+				add(Assumption, "on affine linear simplices (P1) second derivatives of v_h vanish inside each cell, so the diffusive part of the test operator drops out there")
+				break
+			}
+		}
+	}
+	return notes
+}
+
+func indexOfEq(m *Model, unknown int) int {
+	for k, eq := range m.Equations {
+		if eq.For == unknown {
+			return k
+		}
+	}
+	return 0
+}
+
+// Lower produces the component-level discrete problem for one method, the
+// input of the runtime and the kernel generator.
+func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
+	m := d.Model
+	var form *MethodForm
+	for i := range d.Forms {
+		if d.Forms[i].Method == meth {
+			form = &d.Forms[i]
+		}
+	}
+	if form == nil {
+		return nil, fmt.Errorf("method %s was not derived", meth)
+	}
+	l := newLowerer(m)
+	p := m.Equations[0].Pos
+	cell := []ir.Expr{d.Galerkin.Bilinear, ir.Neg(p, d.Galerkin.Source)}
+	for _, s := range form.Stab {
+		cell = append(cell, s.Integrand(m.Dim))
+	}
+	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
+	for _, u := range m.Unknowns {
+		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element})
+	}
+	in, err := l.collect(Simplify(ir.Sum(p, cell...), m.Dim), ir.Domain{})
+	if err != nil {
+		return nil, err
+	}
+	lf.Integrals = append(lf.Integrals, in)
+	for _, b := range d.Galerkin.Boundary {
+		in, err := l.collect(b.Integrand, ir.Domain{Side: b.Side})
+		if err != nil {
+			return nil, err
+		}
+		lf.Integrals = append(lf.Integrals, in)
+	}
+	for _, bc := range m.BCs {
+		if bc.Kind != ValueBC {
+			continue
+		}
+		vals := l.Lower(bc.Value)
+		for _, side := range bc.Sides {
+			for c, v := range vals {
+				lf.Dirichlet = append(lf.Dirichlet, ir.DirichletCondition{Side: side, Unknown: bc.Unknown, Comp: c, Value: v})
+			}
+		}
+	}
+	lf.MaxDerivative = maxDeriv(lf.Integrals)
+	return lf, nil
+}

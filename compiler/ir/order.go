@@ -1,0 +1,153 @@
+package ir
+
+import "strings"
+
+// kindOrder fixes the order of node types in canonical sums and products:
+// numbers first, then named leaves, then compound nodes.
+func kindOrder(e Expr) int {
+	switch e.(type) {
+	case *Num:
+		return 0
+	case *Const:
+		return 1
+	case *Coord:
+		return 2
+	case *Time:
+		return 3
+	case *Sym:
+		return 4
+	case *CellQ:
+		return 5
+	case *Call:
+		return 6
+	case *Pow:
+		return 7
+	case *Mul:
+		return 8
+	case *Add:
+		return 9
+	case *Comp:
+		return 10
+	case *Vec:
+		return 11
+	case *Dot:
+		return 12
+	case *DDot:
+		return 13
+	case *Outer:
+		return 21
+	case *Partial:
+		return 14
+	case *Grad:
+		return 15
+	case *Div:
+		return 16
+	case *Lap:
+		return 17
+	case *TimeDeriv:
+		return 18
+	case *Field:
+		return 19
+	case *FieldD:
+		return 20
+	}
+	panic("ir: unknown node")
+}
+
+func cmpInt(a, b int) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
+
+// Compare is a total order on expressions, used to put sums and products in
+// canonical order. Positions are ignored.
+func Compare(a, b Expr) int {
+	if c := cmpInt(kindOrder(a), kindOrder(b)); c != 0 {
+		return c
+	}
+	switch a := a.(type) {
+	case *Num:
+		return a.Val.Cmp(b.(*Num).Val)
+	case *Const:
+		return strings.Compare(a.Name, b.(*Const).Name)
+	case *Coord:
+		return cmpInt(a.Axis, b.(*Coord).Axis)
+	case *Time:
+		return 0
+	case *Sym:
+		bs := b.(*Sym)
+		if c := cmpInt(int(a.Kind), int(bs.Kind)); c != 0 {
+			return c
+		}
+		return strings.Compare(a.Name, bs.Name)
+	case *CellQ:
+		bq := b.(*CellQ)
+		if c := strings.Compare(a.Name, bq.Name); c != 0 {
+			return c
+		}
+		if c := cmpInt(a.I, bq.I); c != 0 {
+			return c
+		}
+		return cmpInt(a.J, bq.J)
+	case *Field:
+		bf := b.(*Field)
+		if c := cmpInt(int(a.Role), int(bf.Role)); c != 0 {
+			return c
+		}
+		return cmpInt(a.Index, bf.Index)
+	case *FieldD:
+		bf := b.(*FieldD)
+		if c := Compare(a.Field, bf.Field); c != 0 {
+			return c
+		}
+		if c := cmpInt(a.Comp, bf.Comp); c != 0 {
+			return c
+		}
+		if c := cmpInt(int(a.DT), int(bf.DT)); c != 0 {
+			return c
+		}
+		// Lower total derivative order first, then lexicographic.
+		ta := int(a.D[0]) + int(a.D[1]) + int(a.D[2])
+		tb := int(bf.D[0]) + int(bf.D[1]) + int(bf.D[2])
+		if c := cmpInt(ta, tb); c != 0 {
+			return c
+		}
+		for k := 0; k < 3; k++ {
+			if c := cmpInt(int(bf.D[k]), int(a.D[k])); c != 0 {
+				return c
+			}
+		}
+		return 0
+	case *Call:
+		bc := b.(*Call)
+		if c := cmpInt(int(a.Fn), int(bc.Fn)); c != 0 {
+			return c
+		}
+	case *Comp:
+		if c := cmpInt(a.I, b.(*Comp).I); c != 0 {
+			return c
+		}
+	case *Partial:
+		if c := cmpInt(a.Axis, b.(*Partial).Axis); c != 0 {
+			return c
+		}
+	}
+	ka, kb := Children(a), Children(b)
+	if c := cmpInt(len(ka), len(kb)); c != 0 {
+		return c
+	}
+	for i := range ka {
+		if c := Compare(ka[i], kb[i]); c != 0 {
+			return c
+		}
+	}
+	return 0
+}
+
+// Equal reports structural equality, ignoring positions.
+func Equal(a, b Expr) bool { return Compare(a, b) == 0 }

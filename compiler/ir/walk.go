@@ -1,0 +1,219 @@
+package ir
+
+import (
+	"fmt"
+	"math/big"
+
+	"github.com/formwright/formwright/lang"
+)
+
+// Children returns the direct sub-expressions of e, in order.
+func Children(e Expr) []Expr {
+	switch e := e.(type) {
+	case *Add:
+		return e.Terms
+	case *Mul:
+		return e.Factors
+	case *Pow:
+		return []Expr{e.Base, e.Exp}
+	case *Call:
+		return e.Args
+	case *Vec:
+		return e.Elems
+	case *Comp:
+		return []Expr{e.X}
+	case *Dot:
+		return []Expr{e.A, e.B}
+	case *DDot:
+		return []Expr{e.A, e.B}
+	case *Outer:
+		return []Expr{e.A, e.B}
+	case *Grad:
+		return []Expr{e.X}
+	case *Div:
+		return []Expr{e.X}
+	case *Lap:
+		return []Expr{e.X}
+	case *Partial:
+		return []Expr{e.X}
+	case *TimeDeriv:
+		return []Expr{e.X}
+	}
+	return nil
+}
+
+// WithChildren returns a copy of e with its sub-expressions replaced by
+// kids (same count and order as Children(e)). The position is kept.
+func WithChildren(e Expr, kids []Expr) Expr {
+	switch e := e.(type) {
+	case *Add:
+		return &Add{e.At, kids}
+	case *Mul:
+		return &Mul{e.At, kids}
+	case *Pow:
+		return &Pow{e.At, kids[0], kids[1]}
+	case *Call:
+		return &Call{e.At, e.Fn, kids}
+	case *Vec:
+		return &Vec{e.At, kids}
+	case *Comp:
+		return &Comp{e.At, kids[0], e.I}
+	case *Dot:
+		return &Dot{e.At, kids[0], kids[1]}
+	case *DDot:
+		return &DDot{e.At, kids[0], kids[1]}
+	case *Outer:
+		return &Outer{e.At, kids[0], kids[1]}
+	case *Grad:
+		return &Grad{e.At, kids[0]}
+	case *Div:
+		return &Div{e.At, kids[0]}
+	case *Lap:
+		return &Lap{e.At, kids[0]}
+	case *Partial:
+		return &Partial{e.At, kids[0], e.Axis}
+	case *TimeDeriv:
+		return &TimeDeriv{e.At, kids[0]}
+	}
+	if len(kids) != 0 {
+		panic(fmt.Sprintf("ir: WithChildren on leaf %T", e))
+	}
+	return e
+}
+
+// Inspect calls f for e and, while f returns true, for its descendants in
+// depth-first order.
+func Inspect(e Expr, f func(Expr) bool) {
+	if !f(e) {
+		return
+	}
+	for _, k := range Children(e) {
+		Inspect(k, f)
+	}
+}
+
+// MapUp rebuilds e bottom-up: children first, then f on the rebuilt node.
+func MapUp(e Expr, f func(Expr) Expr) Expr {
+	kids := Children(e)
+	if len(kids) > 0 {
+		nk := make([]Expr, len(kids))
+		changed := false
+		for i, k := range kids {
+			nk[i] = MapUp(k, f)
+			if nk[i] != k {
+				changed = true
+			}
+		}
+		if changed {
+			e = WithChildren(e, nk)
+		}
+	}
+	return f(e)
+}
+
+// Contains reports whether any node of e satisfies pred.
+func Contains(e Expr, pred func(Expr) bool) bool {
+	found := false
+	Inspect(e, func(n Expr) bool {
+		if found {
+			return false
+		}
+		if pred(n) {
+			found = true
+			return false
+		}
+		return true
+	})
+	return found
+}
+
+// HasRole reports whether e contains a field in the given role.
+func HasRole(e Expr, r Role) bool {
+	return Contains(e, func(n Expr) bool {
+		switch n := n.(type) {
+		case *Field:
+			return n.Role == r
+		case *FieldD:
+			return n.Field.Role == r
+		}
+		return false
+	})
+}
+
+// HasField reports whether e contains any field (in any role).
+func HasField(e Expr) bool {
+	return Contains(e, func(n Expr) bool {
+		switch n.(type) {
+		case *Field, *FieldD:
+			return true
+		}
+		return false
+	})
+}
+
+// Constructors. Each takes the position the new node stands for.
+
+// Int returns the integer constant n.
+func Int(p lang.Pos, n int64) *Num { return &Num{At{p}, big.NewRat(n, 1)} }
+
+// Rat returns the rational constant a/b.
+func Rat(p lang.Pos, a, b int64) *Num { return &Num{At{p}, big.NewRat(a, b)} }
+
+// NewNum wraps a big.Rat (which it does not copy).
+func NewNum(p lang.Pos, r *big.Rat) *Num { return &Num{At{p}, r} }
+
+// Sum builds a sum node without simplifying.
+func Sum(p lang.Pos, terms ...Expr) Expr {
+	if len(terms) == 1 {
+		return terms[0]
+	}
+	return &Add{At{p}, terms}
+}
+
+// Prod builds a product node without simplifying.
+func Prod(p lang.Pos, factors ...Expr) Expr {
+	if len(factors) == 1 {
+		return factors[0]
+	}
+	return &Mul{At{p}, factors}
+}
+
+// Neg builds −e without simplifying.
+func Neg(p lang.Pos, e Expr) Expr { return &Mul{At{p}, []Expr{Int(p, -1), e}} }
+
+// Sub builds a − b without simplifying.
+func Sub(p lang.Pos, a, b Expr) Expr { return &Add{At{p}, []Expr{a, Neg(p, b)}} }
+
+// Zero returns the zero of the given rank in dimension dim.
+func Zero(p lang.Pos, rank, dim int) Expr {
+	if rank == 0 {
+		return Int(p, 0)
+	}
+	el := make([]Expr, dim)
+	for i := range el {
+		el[i] = Zero(p, rank-1, dim)
+	}
+	return &Vec{At{p}, el}
+}
+
+// IsZero reports whether e is literally zero: the number 0 or a Vec of zeros.
+func IsZero(e Expr) bool {
+	switch e := e.(type) {
+	case *Num:
+		return e.Val.Sign() == 0
+	case *Vec:
+		for _, x := range e.Elems {
+			if !IsZero(x) {
+				return false
+			}
+		}
+		return true
+	}
+	return false
+}
+
+// IsNum reports whether e is the rational constant v.
+func IsNum(e Expr, v int64) bool {
+	n, ok := e.(*Num)
+	return ok && n.Val.IsInt() && n.Val.Num().IsInt64() && n.Val.Num().Int64() == v
+}
