@@ -7,10 +7,10 @@ type Part uint8
 
 // The parts of L = L_t + L_A + L_D + L_R.
 const (
-	Temporal   Part = iota // time derivatives
-	Advective              // first-order terms
-	Diffusive              // second-order terms
-	Reactive               // zero-order terms
+	Temporal  Part = iota // time derivatives
+	Advective             // first-order terms
+	Diffusive             // second-order terms
+	Reactive              // zero-order terms
 )
 
 var partNames = [...]string{"temporal", "advective", "diffusive", "reactive"}
