@@ -13,7 +13,13 @@ import (
 type Table struct {
 	Element  *Element
 	Geometry *Element
-	Rule     quadrature.Rule
+	// Rule has its points in cell reference coordinates; on a facet table
+	// they are the facet rule's points mapped onto the facet, and the
+	// weights are scaled by cell.Type.FacetScale (they sum to the measure
+	// of the reference facet).
+	Rule quadrature.Rule
+	// Facet is the local facet of a table made by TabulateFacet, else -1.
+	Facet int
 
 	// Values[q*NumNodes+i] = φ_i(ξ_q).
 	Values []float64
@@ -42,7 +48,7 @@ func (e *Element) TabulateWith(geom *Element, rule quadrature.Rule) *Table {
 	if geom.Cell != e.Cell || rule.Cell != e.Cell {
 		panic(fmt.Sprintf("element: tabulating %v with geometry on %v and rule on %v", e.Cell, geom.Cell, rule.Cell))
 	}
-	t := &Table{Element: e, Geometry: geom, Rule: rule}
+	t := &Table{Element: e, Geometry: geom, Rule: rule, Facet: -1}
 	t.Values, t.Grads, t.Hess = tab(e, rule)
 	if geom == e {
 		t.geomValues, t.geomGrads, t.geomHess = t.Values, t.Grads, t.Hess
@@ -62,6 +68,39 @@ func tab(e *Element, rule quadrature.Rule) (v, g, h []float64) {
 		e.EvalHess(xi, h[q*n*d*d:(q+1)*n*d*d])
 	}
 	return v, g, h
+}
+
+// TabulateFacet tabulates e, with geometry element geom, at the points of
+// a rule on the facet reference cell (rule.Cell == e.Cell.FacetType())
+// mapped onto local facet f by cell.Type.FacetPoint. On the interval a
+// facet is a point: rule is ignored and the table has one point of
+// weight 1. Map on the result also fills PointGeometry.Normal, and its
+// Weight is the surface weight (see Map).
+func (e *Element) TabulateFacet(geom *Element, f int, rule quadrature.Rule) *Table {
+	c, d := e.Cell, e.dim
+	if f < 0 || f >= c.NumFacets() {
+		panic(fmt.Sprintf("element: facet %d of a %v", f, c))
+	}
+	mapped := quadrature.Rule{Cell: c, Degree: rule.Degree}
+	if d == 1 {
+		mapped.Points, mapped.Weights = make([]float64, 1), []float64{1}
+		mapped.Degree = math.MaxInt32
+		c.FacetPoint(f, nil, mapped.Points)
+	} else {
+		if rule.Cell != c.FacetType() {
+			panic(fmt.Sprintf("element: facet rule on %v for a facet of a %v", rule.Cell, c))
+		}
+		nq := rule.NumPoints()
+		mapped.Points, mapped.Weights = make([]float64, nq*d), make([]float64, nq)
+		scale := c.FacetScale(f)
+		for q := 0; q < nq; q++ {
+			c.FacetPoint(f, rule.Points[q*(d-1):(q+1)*(d-1)], mapped.Points[q*d:(q+1)*d])
+			mapped.Weights[q] = rule.Weights[q] * scale
+		}
+	}
+	t := e.TabulateWith(geom, mapped)
+	t.Facet = f
+	return t
 }
 
 // NumPoints is the number of quadrature points.
@@ -90,6 +129,8 @@ type PointGeometry struct {
 	Hess []float64
 	// G[i*Dim+j] = Σ_k ∂ξ_k/∂x_i ∂ξ_k/∂x_j; GVec[i] = Σ_j ∂ξ_j/∂x_i.
 	G, GVec []float64
+	// Normal is the physical outward unit normal (facet tables only).
+	Normal []float64
 
 	d2x       []float64 // ∂²x_k/∂ξ_a∂ξ_b, [(k*Dim+a)*Dim+b]
 	tmp, tmp2 []float64 // Dim*Dim scratch
@@ -102,7 +143,7 @@ func (t *Table) NewPointGeometry() *PointGeometry {
 		Dim: d, NumNodes: n,
 		X: make([]float64, d), J: make([]float64, d*d), JInv: make([]float64, d*d),
 		Grad: make([]float64, n*d), Hess: make([]float64, n*d*d),
-		G: make([]float64, d*d), GVec: make([]float64, d),
+		G: make([]float64, d*d), GVec: make([]float64, d), Normal: make([]float64, d),
 		d2x: make([]float64, d*d*d), tmp: make([]float64, d*d), tmp2: make([]float64, d*d),
 	}
 }
@@ -122,6 +163,12 @@ func (e *JacobianError) Error() string {
 // geometry-element nodes have coordinates coords (Geometry.NumNodes()*Dim,
 // node-major). It allocates nothing. If det J <= 0 it returns a
 // *JacobianError; X, J and DetJ are filled, the rest is not.
+//
+// On a facet table (TabulateFacet) it also fills Normal, the outward unit
+// normal n = J^{-T}N/|J^{-T}N| for the reference normal N, and Weight is
+// the surface weight w_q |det J| |J^{-T}N| (Nanson's formula
+// n da = det J J^{-T} N dA; e.g. Holzapfel, Nonlinear Solid Mechanics,
+// 2000, §2.2), so Σ_q Weight f(x_q) approximates ∫_facet f ds.
 func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 	ge, d := t.Geometry, t.Element.dim
 	ng := ge.n
@@ -157,6 +204,23 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 	}
 	out.Weight = t.Rule.Weights[q] * math.Abs(det)
 	Ji := out.JInv
+	if t.Facet >= 0 {
+		N := t.Element.Cell.FacetNormal(t.Facet)
+		nn := 0.0
+		for i := 0; i < d; i++ {
+			s := 0.0
+			for k := 0; k < d; k++ {
+				s += Ji[k*d+i] * N[k]
+			}
+			out.Normal[i] = s
+			nn += s * s
+		}
+		nn = math.Sqrt(nn)
+		for i := 0; i < d; i++ {
+			out.Normal[i] /= nn
+		}
+		out.Weight *= nn
+	}
 	for i := 0; i < d; i++ {
 		gs := 0.0
 		for j := 0; j < d; j++ {
