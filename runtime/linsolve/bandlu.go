@@ -36,7 +36,7 @@ type BandLU struct {
 // FactorBandLU factors P A Pᵀ = Π L U with the ordering perm (perm[new] =
 // old; nil means identity, RCM(A) is the usual choice) by Gaussian
 // elimination with partial pivoting inside the band, as in LAPACK's
-// dgbtrf (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §4.3.5):
+// dgbtrf (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §4.3):
 // with lower and upper bandwidths kl and ku of P A Pᵀ, row interchanges
 // widen U to kl + ku, so storage is n(2kl + ku + 1) floats and the work is
 // at most about n·kl·(kl + ku) multiply–adds (less where the band holds

@@ -29,6 +29,12 @@
 //     from the strings "cg", "gmres", "bicgstab", "direct" and "none",
 //     "jacobi", "ilu0").
 //
+// Section and algorithm numbers cited from Saad (2003) and Golub & Van
+// Loan (2013) are recalled from memory, not re-checked against the books.
+//
+// Matrices are only read: no function changes RowPtr or Col, so several
+// matrices may share one pattern.
+//
 // Convergence is declared when ‖b − A x‖₂ ≤ max(RelTol·‖b‖₂, AbsTol). The
 // relative residual in Result is always recomputed explicitly from A, b and
 // the returned x, never taken from a recurrence.

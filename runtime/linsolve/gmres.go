@@ -13,7 +13,7 @@ import (
 // the residual it monitors is the true (unpreconditioned) residual. The
 // Arnoldi basis is orthogonalised by modified Gram–Schmidt and the
 // Hessenberg least-squares problem is reduced by Givens rotations (Saad
-// 2003, Algorithms 6.10 and 9.5). M nil means Identity. x holds the initial
+// 2003, §6.5 and §9.3.2). M nil means Identity. x holds the initial
 // guess on entry and the solution on return.
 //
 // Memory: (m+1)·n floats for the basis plus O(m²). Without restart (m ≥ n)

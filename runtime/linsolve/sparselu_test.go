@@ -79,7 +79,7 @@ func saddlePoint(rng *rand.Rand, nk, nb int) *sparse.CSR {
 
 // A tiny diagonal forces an off-diagonal pivot: [[ε, 1], [1, 1]] with
 // ε = 1e-20. Without pivoting, elimination computes 1 − 1/ε and loses x₁
-// entirely (Golub & Van Loan, §3.4.1, the classic example); with the
+// entirely (Golub & Van Loan, §3.4, the classic example); with the
 // threshold test (ε < 0.1·1) the solver must swap rows. Exact solution of
 // [[ε,1],[1,1]] x = (1, 2): x ≈ (1, 1) to within 1e-16.
 func TestSparseLUPivotsAwayFromTinyDiagonal(t *testing.T) {
