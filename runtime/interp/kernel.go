@@ -1,0 +1,643 @@
+package interp
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/quadrature"
+)
+
+// Options tune the interpreted kernels.
+type Options struct {
+	// Degree is the quadrature degree; 0 selects DefaultDegree.
+	Degree int
+}
+
+// DefaultDegree is the quadrature degree the interpreted kernels use when
+// Options.Degree is 0, for the integrals of form on cells of type c. On
+// simplices
+//
+//	max over terms of (k_test − |β|) + (k_trial − |α|)   (k_trial = 0 for linear terms),
+//
+// which integrates the product of the two basis derivatives exactly on
+// affine cells. On quadrilaterals and hexahedra the tensor Gauss rule
+// (runtime/quadrature) counts the degree per coordinate direction, where a
+// derivative does not lower the degree in the other directions, so the
+// degree is k_test + k_trial + 1, the +1 for the bilinear det J of a
+// general quadrilateral (k_max+1 points per direction, the usual choice).
+// In both cases k_max is added when some coefficient varies inside a cell
+// (it is treated like one more function of the highest degree), and the
+// result is at least 1. Common practice, no source.
+func DefaultDegree(form *ir.LoweredForm, c cell.Type) (int, error) {
+	kmax := 0
+	deg := make([]int, len(form.Unknowns))
+	for i, u := range form.Unknowns {
+		e, err := elementFor(u.Element, c)
+		if err != nil {
+			return 0, err
+		}
+		deg[i] = e.Degree
+		kmax = max(kmax, e.Degree)
+	}
+	q, varying := 0, false
+	order := func(f *ir.FieldD) int { return int(f.D[0]) + int(f.D[1]) + int(f.D[2]) }
+	fieldDeg := func(f *ir.FieldD) int {
+		if f.Field.Index < 0 || f.Field.Index >= len(deg) {
+			return kmax
+		}
+		return deg[f.Field.Index]
+	}
+	for _, in := range form.Integrals {
+		for _, ts := range [][]ir.Term{in.Bilinear, in.Linear} {
+			for _, t := range ts {
+				if t.Test == nil || t.Test.Field == nil {
+					continue
+				}
+				var d int
+				if c.IsSimplex() {
+					d = max(0, fieldDeg(t.Test)-order(t.Test))
+					if t.Trial != nil && t.Trial.Field != nil {
+						d += max(0, fieldDeg(t.Trial)-order(t.Trial))
+					}
+				} else {
+					d = fieldDeg(t.Test) + 1
+					if t.Trial != nil && t.Trial.Field != nil {
+						d += fieldDeg(t.Trial)
+					}
+				}
+				q = max(q, d)
+				if ExprDeps(t.Coef)&DepPoint != 0 {
+					varying = true
+				}
+			}
+		}
+	}
+	if varying {
+		q += kmax
+	}
+	return max(q, 1), nil
+}
+
+// ExprDeps returns the dependency bits of a lowered coefficient.
+func ExprDeps(e ir.Expr) Deps {
+	var d Deps
+	ir.Inspect(e, func(x ir.Expr) bool {
+		switch x := x.(type) {
+		case *ir.Coord, *ir.FieldD:
+			d |= DepPoint
+		case *ir.Time:
+			d |= DepTime
+		case *ir.CellQ:
+			if x.Name == "cell_diameter" || x.Name == "cell_volume" {
+				d |= DepCell
+			} else {
+				d |= DepPoint
+			}
+		}
+		return true
+	})
+	return d
+}
+
+// elementFor maps a lowered element name (P1, P2, Q1, Q2) to the Lagrange
+// element on cell c.
+func elementFor(name string, c cell.Type) (*element.Element, error) {
+	if len(name) != 2 || (name[1] != '1' && name[1] != '2') {
+		return nil, fmt.Errorf("interp: unknown element %q (want P1, P2, Q1 or Q2)", name)
+	}
+	deg := int(name[1] - '0')
+	switch name[0] {
+	case 'P':
+		if !c.IsSimplex() {
+			return nil, fmt.Errorf("interp: element %s needs simplex cells, the mesh has %v cells", name, c)
+		}
+	case 'Q':
+		if c.IsSimplex() && c != cell.Interval {
+			return nil, fmt.Errorf("interp: element %s needs quadrilateral or hexahedral cells, the mesh has %v cells", name, c)
+		}
+	default:
+		return nil, fmt.Errorf("interp: unknown element %q (want P1, P2, Q1 or Q2)", name)
+	}
+	return element.Lagrange(c, deg)
+}
+
+// LayoutFor returns the kernel layout of form's unknowns on cells c: the
+// P1/Q1 geometry element and one field per unknown (components: 1 for a
+// scalar, form.Dim for a vector).
+func LayoutFor(form *ir.LoweredForm, c cell.Type) (assemble.Layout, error) {
+	if form.Dim != c.Dim() {
+		return assemble.Layout{}, fmt.Errorf("interp: %d-dimensional form on %v cells", form.Dim, c)
+	}
+	l := assemble.Layout{Cell: c, Geometry: element.MustLagrange(c, 1)}
+	for _, u := range form.Unknowns {
+		e, err := elementFor(u.Element, c)
+		if err != nil {
+			return l, fmt.Errorf("unknown %q: %w", u.Name, err)
+		}
+		nc := 1
+		if u.Rank == 1 {
+			nc = form.Dim
+		} else if u.Rank != 0 {
+			return l, fmt.Errorf("interp: unknown %q has rank %d", u.Name, u.Rank)
+		}
+		l.Fields = append(l.Fields, assemble.FieldLayout{Element: e, Components: nc})
+	}
+	if len(l.Fields) == 0 {
+		return l, fmt.Errorf("interp: form has no unknowns")
+	}
+	return l, nil
+}
+
+// vecSpec is a basis-derivative vector: derivative D of the basis of
+// element elem (an index into integrand.elems).
+type vecSpec struct {
+	elem int
+	D    [3]uint8
+}
+
+type alphaPlan struct {
+	vec, coef int
+}
+
+type betaPlan struct {
+	vec    int
+	alphas []alphaPlan
+}
+
+type blockPlan struct {
+	rowOff, colOff, nr, nc int
+	betas                  []betaPlan
+}
+
+type linPlan struct {
+	rowOff, nr int
+	vec, coef  int
+}
+
+type prevPlan struct {
+	slot, off, vec int // off: local offset of (field, comp)
+}
+
+// integrand is the compiled, read-only description of Σ terms of one
+// domain, shared by a kernel and its forks.
+type integrand struct {
+	lay       assemble.Layout
+	n         int
+	elems     []*element.Element
+	fieldElem []int
+	fieldOff  []int // local offset of field
+	slots     *Slots
+	cellProg  *Program
+	pointProg *Program
+	nCell     int // coefficients constant in a cell come first
+	nCoef     int
+	vecs      []vecSpec
+	blocks    []blockPlan
+	linear    []linPlan
+	prev      []prevPlan
+	needDiam  bool
+	needVol   bool
+}
+
+// scratch is one worker's buffers.
+type scratch struct {
+	env, coef, stack []float64
+	pg               []*element.PointGeometry
+	vec              [][]float64
+	t                []float64
+}
+
+func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term) (*integrand, error) {
+	it := &integrand{lay: lay, n: lay.N(), slots: &Slots{}}
+	off := 0
+	for _, f := range lay.Fields {
+		ei := -1
+		for j, e := range it.elems {
+			if e == f.Element || (e.Degree == f.Element.Degree && e.Cell == f.Element.Cell) {
+				ei = j
+			}
+		}
+		if ei < 0 {
+			ei = len(it.elems)
+			it.elems = append(it.elems, f.Element)
+		}
+		it.fieldElem = append(it.fieldElem, ei)
+		it.fieldOff = append(it.fieldOff, off)
+		off += f.Element.NumNodes() * f.Components
+	}
+	vecID := func(field int, D [3]uint8) int {
+		s := vecSpec{it.fieldElem[field], D}
+		for i, v := range it.vecs {
+			if v == s {
+				return i
+			}
+		}
+		it.vecs = append(it.vecs, s)
+		return len(it.vecs) - 1
+	}
+	check := func(f *ir.FieldD, role ir.Role, what string) error {
+		if f == nil || f.Field == nil {
+			return fmt.Errorf("interp: %s function missing in a term", what)
+		}
+		if f.Field.Role != role {
+			return fmt.Errorf("interp: %s slot holds a %v field", what, f.Field.Role)
+		}
+		if f.Field.Index < 0 || f.Field.Index >= len(lay.Fields) {
+			return fmt.Errorf("interp: %s field index %d out of range", what, f.Field.Index)
+		}
+		if f.Comp < 0 || f.Comp >= lay.Fields[f.Field.Index].Components {
+			return fmt.Errorf("interp: %s component %d of field %q out of range", what, f.Comp, f.Field.Name)
+		}
+		if f.DT != 0 {
+			return fmt.Errorf("interp: time derivative of the %s function (time stepping lowers it away)", what)
+		}
+		if int(f.D[0])+int(f.D[1])+int(f.D[2]) > 2 {
+			return fmt.Errorf("interp: derivative of order > 2 of the %s function", what)
+		}
+		for k := lay.Cell.Dim(); k < 3; k++ {
+			if f.D[k] != 0 {
+				return fmt.Errorf("interp: derivative along axis %d in %d dimensions", k, lay.Cell.Dim())
+			}
+		}
+		return nil
+	}
+	// Group terms: coefficient expressions per (test, trial) pair.
+	type key struct {
+		tf, tc, uf, uc int
+		tD, uD         [3]uint8
+		linear         bool
+	}
+	var keys []key
+	var coefs [][]ir.Expr
+	add := func(k key, c ir.Expr) {
+		for i, q := range keys {
+			if q == k {
+				coefs[i] = append(coefs[i], c)
+				return
+			}
+		}
+		keys = append(keys, k)
+		coefs = append(coefs, []ir.Expr{c})
+	}
+	for _, t := range bil {
+		if err := check(t.Test, ir.Test, "test"); err != nil {
+			return nil, err
+		}
+		if err := check(t.Trial, ir.Trial, "trial"); err != nil {
+			return nil, err
+		}
+		add(key{t.Test.Field.Index, t.Test.Comp, t.Trial.Field.Index, t.Trial.Comp, t.Test.D, t.Trial.D, false}, t.Coef)
+	}
+	for _, t := range lin {
+		if t.Trial != nil {
+			return nil, fmt.Errorf("interp: linear-form term with a trial function")
+		}
+		if err := check(t.Test, ir.Test, "test"); err != nil {
+			return nil, err
+		}
+		add(key{tf: t.Test.Field.Index, tc: t.Test.Comp, tD: t.Test.D, linear: true}, t.Coef)
+	}
+	// Split the summed coefficients into per-cell and per-point programs:
+	// coefficients 0..nCell-1 are constant in a cell, the rest vary.
+	var cellE, pointE []ir.Expr
+	var cellK, pointK []int
+	for i, cs := range coefs {
+		var e ir.Expr = &ir.Add{Terms: cs}
+		if len(cs) == 1 {
+			e = cs[0]
+		}
+		d := ExprDeps(e)
+		it.needDiam = it.needDiam || usesCellQ(e, "cell_diameter")
+		it.needVol = it.needVol || usesCellQ(e, "cell_volume")
+		if d&DepPoint == 0 {
+			cellE = append(cellE, e)
+			cellK = append(cellK, i)
+		} else {
+			pointE = append(pointE, e)
+			pointK = append(pointK, i)
+		}
+	}
+	coefIdx := make([]int, len(keys))
+	for j, i := range cellK {
+		coefIdx[i] = j
+	}
+	for j, i := range pointK {
+		coefIdx[i] = len(cellK) + j
+	}
+	it.nCell = len(cellK)
+	it.nCoef = len(keys)
+	var err error
+	if it.cellProg, err = Compile(cellE, it.slots); err != nil {
+		return nil, err
+	}
+	if it.pointProg, err = Compile(pointE, it.slots); err != nil {
+		return nil, err
+	}
+	// Plans.
+	blockOf := func(k key) *blockPlan {
+		ro := it.fieldOff[k.tf] + k.tc*lay.Fields[k.tf].Element.NumNodes()
+		co := it.fieldOff[k.uf] + k.uc*lay.Fields[k.uf].Element.NumNodes()
+		for i := range it.blocks {
+			if it.blocks[i].rowOff == ro && it.blocks[i].colOff == co {
+				return &it.blocks[i]
+			}
+		}
+		it.blocks = append(it.blocks, blockPlan{rowOff: ro, colOff: co, nr: lay.Fields[k.tf].Element.NumNodes(), nc: lay.Fields[k.uf].Element.NumNodes()})
+		return &it.blocks[len(it.blocks)-1]
+	}
+	for i, k := range keys {
+		tv := vecID(k.tf, k.tD)
+		if k.linear {
+			it.linear = append(it.linear, linPlan{
+				rowOff: it.fieldOff[k.tf] + k.tc*lay.Fields[k.tf].Element.NumNodes(),
+				nr:     lay.Fields[k.tf].Element.NumNodes(), vec: tv, coef: coefIdx[i],
+			})
+			continue
+		}
+		bp := blockOf(k)
+		uv := vecID(k.uf, k.uD)
+		found := false
+		for j := range bp.betas {
+			if bp.betas[j].vec == tv {
+				bp.betas[j].alphas = append(bp.betas[j].alphas, alphaPlan{uv, coefIdx[i]})
+				found = true
+			}
+		}
+		if !found {
+			bp.betas = append(bp.betas, betaPlan{vec: tv, alphas: []alphaPlan{{uv, coefIdx[i]}}})
+		}
+	}
+	for _, p := range it.slots.Previous() {
+		if p.Field < 0 || p.Field >= len(lay.Fields) || p.Comp < 0 || p.Comp >= lay.Fields[p.Field].Components {
+			return nil, fmt.Errorf("interp: previous iterate of field %d component %d out of range", p.Field, p.Comp)
+		}
+		it.prev = append(it.prev, prevPlan{
+			slot: p.Slot,
+			off:  it.fieldOff[p.Field] + p.Comp*lay.Fields[p.Field].Element.NumNodes(),
+			vec:  vecID(p.Field, p.D),
+		})
+	}
+	return it, nil
+}
+
+func usesCellQ(e ir.Expr, name string) bool {
+	found := false
+	ir.Inspect(e, func(x ir.Expr) bool {
+		if q, ok := x.(*ir.CellQ); ok && q.Name == name {
+			found = true
+		}
+		return !found
+	})
+	return found
+}
+
+// NeedsPrevious reports whether the coefficients read a previous iterate.
+func (it *integrand) NeedsPrevious() bool { return len(it.prev) > 0 }
+
+func (it *integrand) newScratch(tabs []*element.Table) *scratch {
+	s := &scratch{
+		env:   make([]float64, it.slots.Len()),
+		coef:  make([]float64, it.nCoef),
+		stack: make([]float64, max(it.cellProg.StackSize(), it.pointProg.StackSize())),
+	}
+	for _, t := range tabs {
+		s.pg = append(s.pg, t.NewPointGeometry())
+	}
+	maxN := 0
+	for _, e := range it.elems {
+		maxN = max(maxN, e.NumNodes())
+	}
+	for range it.vecs {
+		s.vec = append(s.vec, make([]float64, maxN))
+	}
+	s.t = make([]float64, maxN)
+	return s
+}
+
+// beginCell fills the per-cell environment and evaluates the per-cell
+// coefficients.
+func (it *integrand) beginCell(s *scratch, in *assemble.CellInput) {
+	c := it.lay.Cell
+	if it.needDiam {
+		s.env[SlotCellDiameter] = assemble.CellDiameter(c, in.Coords)
+	}
+	if it.needVol {
+		s.env[SlotCellVolume] = assemble.CellVolume(c, in.Coords)
+	}
+	s.env[SlotT] = in.Time
+	it.cellProg.Eval(s.env, s.coef[:it.nCell], s.stack)
+}
+
+// pointCoefs evaluates the coefficients that vary inside the cell.
+func (it *integrand) pointCoefs(s *scratch) {
+	it.pointProg.Eval(s.env, s.coef[it.nCell:], s.stack)
+}
+
+// point maps quadrature point q with tables tabs (one per element), fills
+// the basis vectors and the per-point environment (x, G; the caller sets
+// the normal), reads the previous iterate, and reports false for a
+// non-positive Jacobian.
+func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assemble.CellInput) bool {
+	d := it.lay.Cell.Dim()
+	for i, t := range tabs {
+		if err := t.Map(in.Coords, q, s.pg[i]); err != nil {
+			return false
+		}
+	}
+	pg := s.pg[0]
+	copy(s.env[SlotX:SlotX+d], pg.X)
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			s.env[SlotG+3*i+j] = pg.G[i*d+j]
+		}
+	}
+	for v, spec := range it.vecs {
+		g := s.pg[spec.elem]
+		t := tabs[spec.elem]
+		nn := it.elems[spec.elem].NumNodes()
+		dst := s.vec[v][:nn]
+		switch o := int(spec.D[0]) + int(spec.D[1]) + int(spec.D[2]); o {
+		case 0:
+			copy(dst, t.Value(q))
+		case 1:
+			k := axisOf(spec.D, 0)
+			for i := range dst {
+				dst[i] = g.Grad[i*d+k]
+			}
+		case 2:
+			k := axisOf(spec.D, 0)
+			l := axisOf(spec.D, 1)
+			for i := range dst {
+				dst[i] = g.Hess[(i*d+k)*d+l]
+			}
+		}
+	}
+	for _, p := range it.prev {
+		v := s.vec[p.vec]
+		nn := it.elems[it.vecs[p.vec].elem].NumNodes()
+		if in.Previous == nil {
+			s.env[p.slot] = 0
+			continue
+		}
+		sum := 0.0
+		pv := in.Previous[p.off:]
+		for i := 0; i < nn && i < len(pv); i++ {
+			sum += pv[i] * v[i]
+		}
+		s.env[p.slot] = sum
+	}
+	return true
+}
+
+// axisOf returns the axis of the (which+1)-th unit in the multi-index D
+// (D of order 1 or 2).
+func axisOf(D [3]uint8, which int) int {
+	n := 0
+	for k := 0; k < 3; k++ {
+		for r := uint8(0); r < D[k]; r++ {
+			if n == which {
+				return k
+			}
+			n++
+		}
+	}
+	return 0
+}
+
+// accumulate adds weight w times the integrand at the current point.
+func (it *integrand) accumulate(s *scratch, w float64, A, b []float64) {
+	n := it.n
+	coef := s.coef
+	for bi := range it.blocks {
+		bp := &it.blocks[bi]
+		t := s.t[:bp.nc]
+		for _, be := range bp.betas {
+			clear(t)
+			for _, a := range be.alphas {
+				c := w * coef[a.coef]
+				u := s.vec[a.vec][:bp.nc]
+				for j, x := range u {
+					t[j] += c * x
+				}
+			}
+			tv := s.vec[be.vec][:bp.nr]
+			for i, x := range tv {
+				if x == 0 {
+					continue
+				}
+				row := A[(bp.rowOff+i)*n+bp.colOff : (bp.rowOff+i)*n+bp.colOff+bp.nc]
+				for j, y := range t {
+					row[j] += x * y
+				}
+			}
+		}
+	}
+	for _, lp := range it.linear {
+		c := w * coef[lp.coef]
+		v := s.vec[lp.vec][:lp.nr]
+		bb := b[lp.rowOff : lp.rowOff+lp.nr]
+		for i, x := range v {
+			bb[i] += c * x
+		}
+	}
+}
+
+func fillNaN(A, b []float64) {
+	nan := math.NaN()
+	for i := range A {
+		A[i] = nan
+	}
+	for i := range b {
+		b[i] = nan
+	}
+}
+
+// Kernel is the interpreted cell kernel of a lowered form: it implements
+// assemble.Kernel and assemble.Forker.
+type Kernel struct {
+	it   *integrand
+	tabs []*element.Table
+	rule quadrature.Rule
+	s    *scratch
+}
+
+var (
+	_ assemble.Kernel      = (*Kernel)(nil)
+	_ assemble.Forker      = (*Kernel)(nil)
+	_ assemble.FacetKernel = (*FacetKernel)(nil)
+)
+
+func splitIntegrals(form *ir.LoweredForm, side string) (bil, lin []ir.Term) {
+	for _, in := range form.Integrals {
+		if in.Domain.Side == side {
+			bil = append(bil, in.Bilinear...)
+			lin = append(lin, in.Linear...)
+		}
+	}
+	return bil, lin
+}
+
+// NewKernel builds the interpreted kernel of the cell integrals of form
+// (all integrals with Domain.Side == "") on cells of type c.
+func NewKernel(form *ir.LoweredForm, c cell.Type, opts Options) (*Kernel, error) {
+	lay, err := LayoutFor(form, c)
+	if err != nil {
+		return nil, err
+	}
+	deg := opts.Degree
+	if deg <= 0 {
+		if deg, err = DefaultDegree(form, c); err != nil {
+			return nil, err
+		}
+	}
+	bil, lin := splitIntegrals(form, "")
+	it, err := newIntegrand(form, lay, bil, lin)
+	if err != nil {
+		return nil, err
+	}
+	k := &Kernel{it: it, rule: quadrature.For(c, deg)}
+	for _, e := range it.elems {
+		k.tabs = append(k.tabs, e.TabulateWith(lay.Geometry, k.rule))
+	}
+	k.s = it.newScratch(k.tabs)
+	return k, nil
+}
+
+// Layout implements assemble.Kernel.
+func (k *Kernel) Layout() assemble.Layout { return k.it.lay }
+
+// Fork implements assemble.Forker: same tables and tapes, new scratch.
+func (k *Kernel) Fork() assemble.Kernel {
+	f := *k
+	f.s = k.it.newScratch(k.tabs)
+	return &f
+}
+
+// Rule is the quadrature rule the kernel integrates with.
+func (k *Kernel) Rule() quadrature.Rule { return k.rule }
+
+// NeedsPrevious reports whether the form's coefficients read a previous
+// iterate (a nonlinear problem solved by Picard iteration).
+func (k *Kernel) NeedsPrevious() bool { return k.it.NeedsPrevious() }
+
+// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// determinant it fills A and b with NaN, which the linear solvers report
+// as a *linsolve.NonFiniteError. It does not allocate.
+func (k *Kernel) Cell(in *assemble.CellInput, A, b []float64) {
+	it, s := k.it, k.s
+	clear(A[:it.n*it.n])
+	clear(b[:it.n])
+	it.beginCell(s, in)
+	for q := 0; q < k.rule.NumPoints(); q++ {
+		if !it.point(s, k.tabs, q, in) {
+			fillNaN(A[:it.n*it.n], b[:it.n])
+			return
+		}
+		it.pointCoefs(s)
+		it.accumulate(s, s.pg[0].Weight, A, b)
+	}
+}
