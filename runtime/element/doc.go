@@ -43,6 +43,10 @@
 // which keeps the curvature term of a non-affine map; the metric tensor
 // G = J^{-T}J^{-1}, G_ij = Σ_k ∂ξ_k/∂x_i ∂ξ_k/∂x_j, and g_i = Σ_j ∂ξ_j/∂x_i
 // (Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197).
+// Facet tables (TabulateFacet) carry a facet rule mapped onto one local
+// facet; their Map adds the outward unit normal and the surface weight,
+// for boundary integrals.
+//
 // G depends on the reference cell: on [-1,1]^d a square of side h has
 // G = (4/h²) I, on the unit simplex a right triangle with legs h has
 // G = (1/h²) I.
