@@ -60,7 +60,9 @@ func (l ErrorList) Full() bool { return len(l) > MaxErrors }
 // Len returns the number of entries.
 func (l ErrorList) Len() int { return len(l) }
 
-// Sort orders the errors by file, then offset, then message. A closing
+// Sort orders the errors by file, line, column and message (line and
+// column rather than offset, so errors built by hand without an offset
+// still sort right). A closing
 // "too many errors" entry stays last.
 func (l ErrorList) Sort() {
 	body := l
@@ -72,8 +74,11 @@ func (l ErrorList) Sort() {
 		if a.File != b.File {
 			return a.File < b.File
 		}
-		if a.Offset != b.Offset {
-			return a.Offset < b.Offset
+		if a.Line != b.Line {
+			return a.Line < b.Line
+		}
+		if a.Col != b.Col {
+			return a.Col < b.Col
 		}
 		return body[i].Msg < body[j].Msg
 	})
