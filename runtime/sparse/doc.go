@@ -15,6 +15,10 @@
 // strictly increasing within a row. Column indices are int32 (so the
 // number of columns is limited to 2^31-1), row pointers are int.
 //
+// No function changes RowPtr or Col of an existing matrix (EliminateRows
+// and the assembly helpers write Val only), so several matrices may share
+// one pattern.
+//
 // Misuse (mismatched lengths, out-of-range indices) panics with a message
 // prefixed "sparse: ". No method returns an error: every operation here is
 // total on well-formed input.
