@@ -14,7 +14,9 @@ import (
 // closing it, and renaming it over path (then fsyncing the directory, best
 // effort). If write or any step fails, the temporary file is removed, an
 // existing file at path is left untouched, and the error is returned. A
-// new file gets mode 0644; an existing file keeps its mode.
+// new file gets mode 0644; an existing file keeps its mode. If path is a
+// symbolic link, the link itself is replaced by the new regular file.
+// Callers should check the path against their inputs first (CheckNotInput).
 func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
