@@ -151,13 +151,14 @@ func read(rd io.Reader, name string) (*Mesh, error) {
 	if err != nil {
 		return nil, err
 	}
-	m := &Mesh{Dim: dim, Cell: ct, Coords: make([]float64, 0, nv*dim), Boundaries: map[string][]FacetRef{}}
+	// Capacities are capped: a corrupt count must not allocate gigabytes.
+	m := &Mesh{Dim: dim, Cell: ct, Coords: make([]float64, 0, min(nv, 1<<16)*dim), Boundaries: map[string][]FacetRef{}}
 	for i := 0; i < nv; i++ {
 		f, err := r.next()
 		if err != nil {
 			return nil, err
 		}
-		if f == nil || isWord(f[0]) {
+		if f == nil || isKeyword(f[0]) {
 			return nil, r.errf("vertex %d missing: the file declares %d vertices", i, nv)
 		}
 		if len(f) != dim {
@@ -179,14 +180,13 @@ func read(rd io.Reader, name string) (*Mesh, error) {
 		return nil, err
 	}
 	nvc := ct.NumVertices()
-	m.Cells = make([]int32, 0, nc*nvc)
-	cellLine := make([]int, nc)
+	m.Cells = make([]int32, 0, min(nc, 1<<16)*nvc)
 	for i := 0; i < nc; i++ {
 		f, err := r.next()
 		if err != nil {
 			return nil, err
 		}
-		if f == nil || isWord(f[0]) {
+		if f == nil || isKeyword(f[0]) {
 			return nil, r.errf("cell %d missing: the file declares %d cells", i, nc)
 		}
 		if len(f) != nvc {
@@ -202,7 +202,6 @@ func read(rd io.Reader, name string) (*Mesh, error) {
 			}
 			m.Cells = append(m.Cells, int32(v))
 		}
-		cellLine[i] = r.last
 		var buf [24]float64
 		if det := orientation(ct, m.CellCoords(i, buf[:0])); !(det > 0) {
 			return nil, r.errf("cell %d is inverted or degenerate (Jacobian determinant %g): list its vertices in positive orientation", i, det)
@@ -243,14 +242,14 @@ func read(rd io.Reader, name string) (*Mesh, error) {
 		if err != nil {
 			return nil, err
 		}
-		refs := make([]FacetRef, 0, n)
+		refs := make([]FacetRef, 0, min(n, 1<<16))
 		nfv := len(ct.Facets()[0])
 		for i := 0; i < n; i++ {
 			f, err := r.next()
 			if err != nil {
 				return nil, err
 			}
-			if f == nil || isWord(f[0]) {
+			if f == nil || isKeyword(f[0]) {
 				return nil, r.errf("boundary %q: facet %d missing: %d declared", bname, i, n)
 			}
 			if len(f) != nfv {
@@ -305,6 +304,16 @@ func read(rd io.Reader, name string) (*Mesh, error) {
 	slices.SortFunc(all, compareFacetRef)
 	m.Boundaries[All] = all
 	return m, nil
+}
+
+// isKeyword reports whether s starts a record of the format: a section
+// that begins early means the previous one is short.
+func isKeyword(s string) bool {
+	switch s {
+	case FileMagic, "dimension", "cell", "vertices", "cells", "boundary", "end":
+		return true
+	}
+	return false
 }
 
 func validName(s string) bool {
