@@ -167,8 +167,8 @@ func (e *JacobianError) Error() string {
 // On a facet table (TabulateFacet) it also fills Normal, the outward unit
 // normal n = J^{-T}N/|J^{-T}N| for the reference normal N, and Weight is
 // the surface weight w_q |det J| |J^{-T}N| (Nanson's formula
-// n da = det J J^{-T} N dA; e.g. Holzapfel, Nonlinear Solid Mechanics,
-// 2000, §2.2), so Σ_q Weight f(x_q) approximates ∫_facet f ds.
+// n da = det J J^{-T} N dA; e.g. G. A. Holzapfel, Nonlinear Solid Mechanics
+// (2000), ch. 2), so Σ_q Weight f(x_q) approximates ∫_facet f ds.
 func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 	ge, d := t.Geometry, t.Element.dim
 	ng := ge.n
