@@ -944,3 +944,64 @@ func (c *checker) expandFormula(e *lang.Call, fm *formula) ir.Expr {
 	c.params = save
 	return v
 }
+
+// exprPrefix wraps a lone expression into a statement the parser accepts.
+const exprPrefix = "given expression_ = "
+
+// ParseExpr reads one expression in the model language against a checked
+// model: its unknowns, coefficients, the cell quantities and the names
+// derived forms use (test(u), tau_<u> and the normal n). Errors carry
+// positions in src (file name "name", line 1 onwards).
+func (m *Model) ParseExpr(name, src string) (ir.Expr, lang.ErrorList) {
+	f, errs := lang.Parse(name, []byte(exprPrefix+src))
+	shift := func(p lang.Pos) lang.Pos {
+		if p.Line == 1 {
+			p.Col -= len(exprPrefix)
+			if p.Col < 1 {
+				p.Col = 1
+			}
+		}
+		p.Offset -= len(exprPrefix)
+		if p.Offset < 0 {
+			p.Offset = 0
+		}
+		return p
+	}
+	for _, e := range errs {
+		e.Pos, e.End = shift(e.Pos), shift(e.End)
+	}
+	if len(errs) > 0 {
+		return nil, errs
+	}
+	var g *lang.GivenStmt
+	for _, s := range f.Stmts {
+		if gs, ok := s.(*lang.GivenStmt); ok && g == nil {
+			g = gs
+		} else {
+			errs.Add(shift(s.Pos()), shift(s.End()), "expected one expression", "")
+			return nil, errs
+		}
+	}
+	if g == nil {
+		errs.Add(lang.Pos{File: name, Line: 1, Col: 1}, lang.Pos{}, "expected an expression", "")
+		return nil, errs
+	}
+	c := &checker{m: m, dim: m.Dim, unknowns: map[string]*Unknown{}, coefs: map[string]*coefDecl{}, formulas: map[string]*formula{}, allowTest: true}
+	for _, u := range m.Unknowns {
+		c.unknowns[u.Name] = u
+	}
+	for _, cf := range m.Coefs {
+		c.coefs[cf.Name] = &coefDecl{state: checked, coef: cf}
+	}
+	c.params = map[string]ir.Expr{"n": &ir.Sym{Name: Normal.Name, Kind: Normal.Kind, R: 1}}
+	for i, ts := range m.TauSym {
+		if ts != nil {
+			c.params[ts.Name] = m.TauSym[i]
+		}
+	}
+	e := c.expr(g.Value)
+	for _, er := range c.errs {
+		er.Pos, er.End = shift(er.Pos), shift(er.End)
+	}
+	return e, c.errs
+}
