@@ -53,9 +53,14 @@ func (l *ErrorList) Add(pos, end Pos, msg, hint string) {
 	*l = append(*l, &Error{Pos: pos, End: end, Msg: msg, Hint: hint})
 }
 
+// push appends an error without applying the cap.
+func (l *ErrorList) push(pos, end Pos, msg, hint string) {
+	*l = append(*l, &Error{Pos: pos, End: end, Msg: msg, Hint: hint})
+}
+
 // Full reports whether the list has reached its cap, so callers can stop
 // looking for more errors.
-func (l ErrorList) Full() bool { return len(l) > MaxErrors }
+func (l ErrorList) Full() bool { return len(l) > MaxErrors && l[len(l)-1].Msg == tooMany }
 
 // Len returns the number of entries.
 func (l ErrorList) Len() int { return len(l) }

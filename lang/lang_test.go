@@ -707,3 +707,25 @@ func TestColumnsCountRunes(t *testing.T) {
 		t.Error("message not UTF-8")
 	}
 }
+
+// The cap applies after sorting and one-per-line reduction, so the errors
+// shown are the first ten lines with errors, even when a statement gives
+// two errors on one line or lexical errors come from late in the file.
+func TestCapKeepsFirstLines(t *testing.T) {
+	var b strings.Builder
+	for i := 0; i < 12; i++ {
+		fmt.Fprintf(&b, "given t%d = tau(1) $ $\n", i) // three raw errors per line
+	}
+	_, errs := Parse("cap.fw", []byte(b.String()))
+	if len(errs) != MaxErrors+1 || !errs.Full() {
+		t.Fatalf("%d errors: %v", len(errs), errs)
+	}
+	for i, e := range errs[:MaxErrors] {
+		if e.Pos.Line != i+1 || e.Msg != `expected an expression after "="` {
+			t.Errorf("error %d: %v", i, e)
+		}
+	}
+	if e := errs[MaxErrors]; e.Msg != "too many errors" || e.Pos.Line != 11 {
+		t.Errorf("last entry %v", e)
+	}
+}

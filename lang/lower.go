@@ -15,7 +15,7 @@ type lowerer struct {
 
 func (lw *lowerer) errorf(from, to Pos, hint, format string, args ...any) {
 	lw.bad = true
-	lw.errs.Add(from, to, fmt.Sprintf(format, args...), hint)
+	lw.errs.push(from, to, fmt.Sprintf(format, args...), hint)
 }
 
 func lowerName(n *name) Name {

@@ -24,34 +24,52 @@ import (
 // each piece keeps the tokens, and so the positions, of the whole file.
 func Parse(filename string, src []byte) (*File, ErrorList) {
 	f := &File{Name: filename, Src: src}
+	// Errors are first collected without the cap, then sorted and reduced
+	// to one per line, and only then capped, so the reported errors are
+	// the first ones in the file.
+	var raw ErrorList
+	p := &parser{filename: filename, src: src, errs: &raw}
+	if p.lex() {
+		lw := &lowerer{errs: &raw}
+		for _, c := range p.chunks() {
+			if p.errorLinesBefore(p.toks[c.from].Pos.Offset) > MaxErrors {
+				break // the errors of this and later statements would be dropped anyway
+			}
+			if c.bad || c.empty {
+				continue
+			}
+			peek, err := lexer.Upgrade(&replay{toks: p.toks[c.from:c.to], eof: p.eofAt(c.to)}, tokWhite, tokComment)
+			if err != nil {
+				panic("lang: replaying tokens: " + err.Error())
+			}
+			s, err := stmtParser.ParseFromLexer(peek)
+			if err != nil {
+				p.syntaxError(c, err)
+				continue
+			}
+			if st := lw.stmt(s); st != nil {
+				f.Stmts = append(f.Stmts, st)
+			}
+		}
+	}
+	raw.RemoveMultiples()
 	var errs ErrorList
-	p := &parser{filename: filename, src: src, errs: &errs}
-	if !p.lex() {
-		return f, errs
+	for _, e := range raw {
+		errs.Add(e.Pos, e.End, e.Msg, e.Hint)
 	}
-	lw := &lowerer{errs: &errs}
-	for _, c := range p.chunks() {
-		if errs.Full() {
-			break
-		}
-		if c.bad || c.empty {
-			continue
-		}
-		peek, err := lexer.Upgrade(&replay{toks: p.toks[c.from:c.to], eof: p.eofAt(c.to)}, tokWhite, tokComment)
-		if err != nil {
-			panic("lang: replaying tokens: " + err.Error())
-		}
-		s, err := stmtParser.ParseFromLexer(peek)
-		if err != nil {
-			p.syntaxError(c, err)
-			continue
-		}
-		if st := lw.stmt(s); st != nil {
-			f.Stmts = append(f.Stmts, st)
-		}
-	}
-	errs.RemoveMultiples()
 	return f, errs
+}
+
+// errorLinesBefore counts the distinct lines holding errors that start
+// before offset off.
+func (p *parser) errorLinesBefore(off int) int {
+	lines := map[int]bool{}
+	for _, e := range *p.errs {
+		if e.Pos.Offset < off {
+			lines[e.Pos.Line] = true
+		}
+	}
+	return len(lines)
 }
 
 // parser holds the state of one Parse call.
@@ -113,20 +131,29 @@ func (p *parser) lex() bool {
 		if errors.As(err, &perr) {
 			pos = posOf(perr.Position())
 		}
-		p.errs.Add(pos, Pos{}, err.Error(), "")
+		p.errs.push(pos, Pos{}, err.Error(), "")
 		return false
 	}
 	p.badTok = make([]bool, len(p.toks))
+	lastLine, lines := 0, 0
+	report := func(t lexer.Token, msg, hint string) {
+		// One lexical error per line, and no more lines than can be shown.
+		if t.Pos.Line == lastLine || lines > MaxErrors {
+			return
+		}
+		lastLine, lines = t.Pos.Line, lines+1
+		p.errs.push(posOf(t.Pos), tokEnd(t), msg, hint)
+	}
 	for i, t := range p.toks {
 		switch t.Type {
 		case tokInvalid:
 			p.badTok[i] = true
 			msg, hint := unknownChar(t.Value)
-			p.errs.Add(posOf(t.Pos), tokEnd(t), msg, hint)
+			report(t, msg, hint)
 		case tokNumber:
 			if msg, hint := checkNumber(t.Value); msg != "" {
 				p.badTok[i] = true
-				p.errs.Add(posOf(t.Pos), tokEnd(t), msg, hint)
+				report(t, msg, hint)
 			}
 		}
 	}
@@ -247,7 +274,7 @@ func (p *parser) chunks() []chunk {
 func (p *parser) syntaxError(c chunk, err error) {
 	var perr participle.Error
 	if !errors.As(err, &perr) {
-		p.errs.Add(posOf(p.toks[c.from].Pos), Pos{}, err.Error(), "")
+		p.errs.push(posOf(p.toks[c.from].Pos), Pos{}, err.Error(), "")
 		return
 	}
 	where := perr.Position()
@@ -274,7 +301,7 @@ func (p *parser) syntaxError(c chunk, err error) {
 		prev = &p.toks[i]
 	}
 	if ti < 0 {
-		p.errs.Add(posOf(where), Pos{}, cleanMessage(msg), "")
+		p.errs.push(posOf(where), Pos{}, cleanMessage(msg), "")
 		return
 	}
 	tok := p.toks[ti]
@@ -283,7 +310,7 @@ func (p *parser) syntaxError(c chunk, err error) {
 	}
 	d := &diagnosis{p: p, c: c, tok: tok, tokIndex: ti, prev: prev, expect: expect}
 	d.explain()
-	p.errs.Add(d.pos, d.end, d.msg, d.hint)
+	p.errs.push(d.pos, d.end, d.msg, d.hint)
 }
 
 // diagnosis builds the message for one syntax error.
@@ -392,8 +419,6 @@ func firstExpected(s string) string {
 	return s
 }
 
-var literalRE = regexp.MustCompile(`"[^"]*"`)
-
 func (d *diagnosis) explain() {
 	d.pos, d.end = posOf(d.tok.Pos), tokEnd(d.tok)
 	if d.atBreak() {
@@ -423,6 +448,8 @@ func (d *diagnosis) explain() {
 		if d.prev != nil && (d.prev.Value == "=" || d.prev.Value == ":") && d.hint == "" && d.endOfStmt() {
 			d.hint = "the right-hand side is missing"
 		}
+	case first == "Name" && d.prev != nil && (d.prev.Value == "scalar" || d.prev.Value == "vector"):
+		d.msg = "expected an element name such as P1" + d.after() + d.found()
 	case first == "Name":
 		d.msg = "expected a name" + d.after() + d.found()
 		if real.Type == tokKeyword && !d.atBreak() {
@@ -445,15 +472,56 @@ func (d *diagnosis) explain() {
 	case first[0] == '"':
 		d.msg = "expected " + first + d.after() + d.found()
 	case first[0] == '(':
-		alts := literalRE.FindAllString(first, -1)
+		alts := describeAlternatives(first)
 		if len(alts) == 0 {
-			d.msg = cleanMessage(d.expect)
+			d.msg = "unexpected " + describe(d.tok, d.p)
 			return
 		}
 		d.msg = "expected " + orList(alts) + d.after() + d.found()
 	default:
 		d.msg = fmt.Sprintf("unexpected %s", describe(d.tok, d.p))
 	}
+}
+
+// nameLists are the statements that take a comma-separated list of names.
+var nameLists = map[string]bool{"sides": true, "use": true, "stabilise": true}
+
+// inExpression reports whether an "=" (or the ":" of an equation) comes
+// before the offending token in its statement, so it sits in an
+// expression.
+func (d *diagnosis) inExpression() bool {
+	isEq := d.p.toks[d.c.from].Value == "equation"
+	for i := d.c.from; i < d.tokIndex; i++ {
+		if v := d.p.toks[i].Value; v == "=" || (isEq && v == ":") {
+			return true
+		}
+	}
+	return false
+}
+
+// describeAlternatives turns a participle group such as
+// `("scalar" | "vector")` or `(FluxTarget | Name)` into words.
+func describeAlternatives(group string) []string {
+	inner := strings.TrimSuffix(strings.TrimPrefix(group, "("), ")")
+	var out []string
+	for _, alt := range strings.Split(inner, "|") {
+		alt = strings.TrimSpace(alt)
+		switch {
+		case strings.HasPrefix(alt, `"`):
+			out = append(out, alt)
+		case alt == "Name" || alt == "<ident>":
+			out = append(out, "a name")
+		case alt == "FluxTarget":
+			out = append(out, "flux(NAME)")
+		case alt == "NumberLit" || alt == "<number>":
+			out = append(out, "a number")
+		case exprProductions[alt]:
+			out = append(out, "an expression")
+		default:
+			return nil
+		}
+	}
+	return out
 }
 
 // unexpected handles a complete statement followed by stray tokens.
@@ -468,8 +536,10 @@ func (d *diagnosis) unexpected() {
 		if s := Suggest(d.tok.Value, stmtKeywordList()); s != "" {
 			d.hint = fmt.Sprintf("did you mean %q?", s)
 		}
-	case endsOperand(*d.prev) && beginsOperand(d.tok):
+	case endsOperand(*d.prev) && beginsOperand(d.tok) && d.inExpression():
 		d.hint = fmt.Sprintf("an operator is missing between %q and %q", d.prev.Value, d.tok.Value)
+	case d.tok.Type == tokIdent && nameLists[d.p.toks[d.c.from].Value]:
+		d.hint = `separate the names with ","`
 	case d.tok.Value == "=":
 		d.hint = `a statement has only one "="`
 	case d.tok.Value == ")" || d.tok.Value == "]":
@@ -521,6 +591,9 @@ func (d *diagnosis) closing(closer string) {
 		commaOK = isCall || isList
 		o := d.p.toks[open].Pos
 		d.hint = fmt.Sprintf("the %q at %d:%d is not closed", opener, o.Line, o.Column)
+		if !commaOK && opener == "(" && d.tok.Value == "," {
+			d.hint = "write a vector as [a, b]; parentheses only group"
+		}
 	}
 	if commaOK && !d.endOfStmt() {
 		d.msg = fmt.Sprintf("expected \",\" or %q%s%s", closer, d.after(), d.found())
