@@ -32,7 +32,9 @@ func fd(f *ir.Field, comp int, d ...uint8) *ir.FieldD {
 	return x
 }
 
-func term(c ir.Expr, trial, test *ir.FieldD) ir.Term { return ir.Term{Coef: c, Trial: trial, Test: test} }
+func term(c ir.Expr, trial, test *ir.FieldD) ir.Term {
+	return ir.Term{Coef: c, Trial: trial, Test: test}
+}
 
 // scalarForm is a one-unknown form with the given cell terms.
 func scalarForm(dim int, elem string, bil, lin []ir.Term) *ir.LoweredForm {

@@ -1,0 +1,101 @@
+package assemble_test
+
+import (
+	"runtime"
+	"testing"
+
+	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/sparse"
+)
+
+// Benchmarks: 2D advection–diffusion SUPG (supgForm) on P1 triangles of the
+// unit square, nodes×nodes vertices, 2(nodes−1)² cells, interpreted kernel.
+// The bar is a plain serial loop with the same kernel and positions
+// precomputed the same way (benchPlain), and one that searches the CSR
+// row per cell (benchPlainSearch).
+
+var sinkVal float64
+
+func report(b *testing.B, cells int) {
+	ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N) / float64(cells)
+	b.ReportMetric(ns, "ns/cell")
+	b.ReportMetric(1e9/ns, "cells/s")
+}
+
+func benchAssemble(b *testing.B, nodes, workers int) {
+	var m0, m1 runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&m0)
+	p := newProblem(b, nodes, 0)
+	p.a.Workers = workers
+	A, rhs := p.a.NewMatrix(), make([]float64, p.a.Dofs.NumDofs)
+	runtime.GC()
+	runtime.ReadMemStats(&m1)
+	nnz := A.NNZ()
+	b.ResetTimer()
+	for b.Loop() {
+		if err := p.a.Assemble(p.k, nil, A, rhs, assemble.Input{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	report(b, p.m.NumCells())
+	// Memory kept by mesh, dof map, pattern, scatter positions, matrix and
+	// right-hand side, per stored nonzero.
+	b.ReportMetric(float64(m1.HeapAlloc-m0.HeapAlloc)/float64(nnz), "B/nnz")
+	sinkVal = A.Val[0] + rhs[0]
+}
+
+func benchPlain(b *testing.B, nodes int, search bool) {
+	p := newProblem(b, nodes, 0)
+	A, rhs := p.a.NewMatrix(), make([]float64, p.a.Dofs.NumDofs)
+	n := p.k.Layout().N()
+	nc := p.m.NumCells()
+	var pos []int32
+	if !search {
+		pos = make([]int32, nc*n*n)
+		var tmp []int
+		for c := 0; c < nc; c++ {
+			tmp = A.ScatterIndex(p.a.Dofs.CellDofs(c), tmp)
+			for i, v := range tmp {
+				pos[c*n*n+i] = int32(v)
+			}
+		}
+	}
+	b.ResetTimer()
+	for b.Loop() {
+		if search {
+			plainLoop(p, A, rhs)
+			continue
+		}
+		plainPrecomputed(p, A, rhs, pos)
+	}
+	report(b, nc)
+	sinkVal = A.Val[0] + rhs[0]
+}
+
+func plainPrecomputed(p *problem, A *sparse.CSR, b []float64, pos []int32) {
+	clear(A.Val)
+	clear(b)
+	n := p.k.Layout().N()
+	Ae, be := make([]float64, n*n), make([]float64, n)
+	in := &assemble.CellInput{}
+	for c := 0; c < p.m.NumCells(); c++ {
+		in.Index = c
+		in.Coords = p.m.CellCoords(c, in.Coords[:0])
+		p.k.Cell(in, Ae, be)
+		for i, q := range pos[c*n*n : (c+1)*n*n] {
+			A.Val[q] += Ae[i]
+		}
+		for i, g := range p.a.Dofs.CellDofs(c) {
+			b[g] += be[i]
+		}
+	}
+}
+
+func BenchmarkAssembleSUPG1000Nodes1Worker(b *testing.B)  { benchAssemble(b, 1000, 1) }
+func BenchmarkAssembleSUPG1000Nodes2Workers(b *testing.B) { benchAssemble(b, 1000, 2) }
+func BenchmarkPlainLoopSUPG1000Nodes(b *testing.B)        { benchPlain(b, 1000, false) }
+func BenchmarkPlainLoopSearchSUPG1000Nodes(b *testing.B)  { benchPlain(b, 1000, true) }
+func BenchmarkAssembleSUPG200Nodes1Worker(b *testing.B)   { benchAssemble(b, 200, 1) }
+func BenchmarkAssembleSUPG200Nodes2Workers(b *testing.B)  { benchAssemble(b, 200, 2) }
+func BenchmarkPlainLoopSUPG200Nodes(b *testing.B)         { benchPlain(b, 200, false) }
