@@ -245,7 +245,7 @@ func TestGoodFiles(t *testing.T) {
 
 func TestStatementCounts(t *testing.T) {
 	// Counted by hand from the files.
-	want := map[string]int{"tank_dye.fw": 17, "creeping.fw": 13, "layout.fw": 17, "oneline_1d.fw": 10}
+	want := map[string]int{"tank_dye.fw": 17, "creeping.fw": 13, "layout.fw": 18, "oneline_1d.fw": 10}
 	for _, path := range goodFiles(t) {
 		src, _ := os.ReadFile(path)
 		f := mustParse(t, path, src)
@@ -727,5 +727,33 @@ func TestCapKeepsFirstLines(t *testing.T) {
 	}
 	if e := errs[MaxErrors]; e.Msg != "too many errors" || e.Pos.Line != 11 {
 		t.Errorf("last entry %v", e)
+	}
+}
+
+// Hints for common slips.
+func TestHints(t *testing.T) {
+	cases := []struct{ src, hint string }{
+		{"given a = 2x", "write 2*x for a product; a name must begin with a letter or _"},
+		{"equaton for u: u = 0", `did you mean "equation"?`},
+		{"model m\nequaton for u: u = 0", `did you mean "equation"?`},
+		{"given a = .5", "write 0.5"},
+		{"given a = 1.", "write 1.0 or 1"},
+		{"given for = 1", `"for" is a reserved word and cannot be used as a name`},
+		{"given a = (1+2", `the "(" at 1:11 is not closed`},
+		{"given a = (1, 2)", "write a vector as [a, b]; parentheses only group"},
+		{"given a = b c", `an operator is missing between "b" and "c"`},
+		{"sides left right", `separate the names with ","`},
+		{"given a = 1;", `statements need no terminator: each one ends where the next keyword begins`},
+		{"at left: grad(u) = 0", "a boundary condition prescribes NAME or flux(NAME)"},
+	}
+	for _, c := range cases {
+		_, errs := Parse("h.fw", []byte(c.src))
+		if len(errs) == 0 {
+			t.Errorf("%q: no error", c.src)
+			continue
+		}
+		if errs[0].Hint != c.hint {
+			t.Errorf("%q: hint %q, want %q (error %v)", c.src, errs[0].Hint, c.hint, errs[0])
+		}
 	}
 }

@@ -181,6 +181,8 @@ func unknownChar(s string) (msg, hint string) {
 	return msg, hint
 }
 
+var identRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
+
 var numberRE = regexp.MustCompile(`^[0-9]+(\.[0-9]+)?([eE][+-]?[0-9]+)?$`)
 
 // checkNumber validates the text of a Number token; it returns an empty
@@ -218,6 +220,9 @@ func checkNumber(s string) (msg, hint string) {
 		if k == j {
 			return fmt.Sprintf("the exponent of %q has no digits", s), ""
 		}
+	}
+	if j := strings.IndexFunc(s, func(r rune) bool { return r < '0' || r > '9' }); j > 0 && identRE.MatchString(s[j:]) {
+		return fmt.Sprintf("malformed number %q", s), fmt.Sprintf("write %s*%s for a product; a name must begin with a letter or _", s[:j], s[j:])
 	}
 	return fmt.Sprintf("malformed number %q", s), "a name must begin with a letter or _"
 }
