@@ -1,0 +1,17 @@
+// Package problem is the solve driver of formwright: it takes a lowered
+// form (compiler/ir.LoweredForm) and a mesh and returns the discrete
+// solution with a summary of what was done.
+//
+// Place in the flow lang -> compiler -> runtime: the command parses a
+// model (lang), derives and lowers its weak form (compiler), and calls
+// Solve, which numbers the dofs (runtime/dof), builds kernels — the
+// interpreted ones of runtime/interp, or the generated ones passed in
+// Options.Kernels —, assembles in parallel (runtime/assemble), imposes the
+// value conditions by row elimination and solves (runtime/linsolve). The
+// verify command and the convergence tests use ErrorNorms against exact
+// solutions.
+//
+// Nonlinear forms whose coefficients read a previous iterate (Picard
+// linearisation of a convecting velocity) are solved by repeated
+// assembly and solution until the iterates settle.
+package problem

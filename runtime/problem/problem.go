@@ -1,0 +1,370 @@
+package problem
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/dof"
+	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/linsolve"
+	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/sparse"
+)
+
+// KernelSet is a set of compiled element kernels for one form on one cell
+// type: the cell kernel and one facet kernel per boundary side carrying an
+// integral. The generated Go kernels of the back end come as a KernelSet.
+type KernelSet struct {
+	Cell   assemble.Kernel
+	Facets []assemble.FacetKernel
+}
+
+// Options control Solve. The zero value asks for the interpreted kernels,
+// their default quadrature, GOMAXPROCS workers, the automatic solver
+// choice and t = 0.
+type Options struct {
+	// Time is the value of t in coefficients and boundary data.
+	Time float64
+	// Workers for the element loop (<= 0: GOMAXPROCS) and the solver's
+	// matrix–vector products.
+	Workers int
+	// Degree is the quadrature degree of the interpreted kernels (0: the
+	// default of interp.DefaultDegree).
+	Degree int
+	// Kernels, if not nil, replaces the interpreted kernels.
+	Kernels *KernelSet
+	// Solver, if not nil, overrides the automatic choice (see Solve).
+	Solver *linsolve.Options
+	// Picard iteration for forms whose coefficients read a previous
+	// iterate: at most MaxPicard solves (0: 50), stopping when
+	// ‖x_k − x_{k−1}‖ ≤ PicardTol·‖x_k‖ (0: 1e-8). Initial is the first
+	// previous iterate (nil: zero with the Dirichlet values).
+	MaxPicard int
+	PicardTol float64
+	Initial   []float64
+}
+
+// DirectLimit: below this many unknowns the automatic choice is the direct
+// solver.
+const DirectLimit = 200000
+
+// Phase is the wall time of one step of Solve.
+type Phase struct {
+	Name string
+	Wall time.Duration
+}
+
+// FieldRange is the range of one component of one field.
+type FieldRange struct {
+	Field    string
+	Comp     int
+	Min, Max float64
+}
+
+// Summary describes a solve for reports and logs.
+type Summary struct {
+	Mesh       string // e.g. "triangle mesh, 2 dimensions"
+	Cells      int
+	Vertices   int
+	Nodes      []int // global nodes of each field's space
+	Dofs       int
+	Method     string // the form's method: galerkin, supg, gls, vms
+	KernelPath string // "interpreted" or "compiled"
+	Symmetric  bool   // the assembled matrix is symmetric (before Dirichlet)
+	Solver     string // linsolve method and preconditioner, e.g. "cg+ilu0"
+	Iterations int    // of the last linear solve
+	Residual   float64
+	Picard     int // nonlinear iterations (1 for a linear problem)
+	Workers    int
+	Phases     []Phase
+	Ranges     []FieldRange
+}
+
+// FieldValues are the nodal values of one field: Values[comp][node] at
+// the nodes of the field's space (Solution.Dofs.NodeCoords(field)).
+type FieldValues struct {
+	Name       string
+	Components int
+	Values     [][]float64
+}
+
+// Solution is the result of Solve.
+type Solution struct {
+	Form   *ir.LoweredForm
+	Mesh   *mesh.Mesh
+	Dofs   *dof.Map
+	X      []float64 // global dof vector (runtime/dof order)
+	Fields []FieldValues
+	// Matrix and RHS are the assembled system before Dirichlet
+	// elimination (of the last Picard step).
+	Matrix  *sparse.CSR
+	RHS     []float64
+	Summary Summary
+}
+
+// PicardError reports a Picard iteration that did not settle.
+type PicardError struct {
+	Iter   int
+	Change float64 // last relative change ‖x_k − x_{k−1}‖/‖x_k‖
+	Tol    float64
+}
+
+func (e *PicardError) Error() string {
+	return fmt.Sprintf("problem: Picard iteration not converged after %d steps (relative change %.1e > %g)", e.Iter, e.Change, e.Tol)
+}
+
+// previousUser is the optional capability of a kernel that says whether
+// it reads the previous iterate (interp.Kernel has it).
+type previousUser interface{ NeedsPrevious() bool }
+
+// Solve discretises form on m and solves it: dof numbering (runtime/dof),
+// kernels (interpreted from the form unless opts.Kernels is set), parallel
+// assembly (runtime/assemble), Dirichlet values by row elimination at the
+// boundary nodes (values from the lowered expressions evaluated there with
+// the coefficient tape; later conditions win where sides meet), and the
+// linear solve (runtime/linsolve). The automatic solver choice is the
+// direct solver below DirectLimit unknowns, else CG+ILU(0) for a symmetric
+// matrix (elimination then keeps the symmetry) and GMRES+ILU(0) otherwise.
+//
+// Input errors (unknown element, side missing from the mesh, malformed
+// form) are returned as errors; numerical failures of the linear solver
+// are returned unchanged as the linsolve typed errors
+// (*linsolve.NotConvergedError, ...), so callers can tell them apart.
+func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) {
+	sum := Summary{Method: form.Method, Cells: m.NumCells(), Vertices: m.NumVertices(), Workers: opts.Workers}
+	sum.Mesh = fmt.Sprintf("%v mesh, %d dimensions, sides %v", m.Cell, m.Dim, m.BoundaryNames())
+	clock := time.Now()
+	phase := func(name string) {
+		now := time.Now()
+		sum.Phases = append(sum.Phases, Phase{name, now.Sub(clock)})
+		clock = now
+	}
+	lay, err := interp.LayoutFor(form, m.Cell)
+	if err != nil {
+		return nil, err
+	}
+	var specs []dof.FieldSpec
+	for i, f := range lay.Fields {
+		specs = append(specs, dof.FieldSpec{Name: form.Unknowns[i].Name, Element: f.Element, Components: f.Components})
+	}
+	dm, err := dof.New(m.Cell, m.Coords, m.Cells, specs)
+	if err != nil {
+		return nil, err
+	}
+	for _, f := range dm.Fields {
+		sum.Nodes = append(sum.Nodes, f.NumNodes)
+	}
+	sum.Dofs = dm.NumDofs
+	phase("dofs")
+
+	var cellK assemble.Kernel
+	var facetK []assemble.FacetKernel
+	if opts.Kernels != nil {
+		sum.KernelPath = "compiled"
+		cellK, facetK = opts.Kernels.Cell, opts.Kernels.Facets
+	} else {
+		sum.KernelPath = "interpreted"
+		ik, err := interp.NewKernel(form, m.Cell, interp.Options{Degree: opts.Degree})
+		if err != nil {
+			return nil, err
+		}
+		cellK = ik
+		fks, err := interp.NewFacetKernels(form, m.Cell, interp.Options{Degree: opts.Degree})
+		if err != nil {
+			return nil, err
+		}
+		for _, f := range fks {
+			facetK = append(facetK, f)
+		}
+	}
+	fixed, values, err := dirichlet(form, m, dm, opts.Time)
+	if err != nil {
+		return nil, err
+	}
+	phase("kernels+dirichlet-data")
+
+	asm := assemble.New(m, dm)
+	asm.Workers = opts.Workers
+	A := asm.NewMatrix()
+	b := make([]float64, dm.NumDofs)
+	phase("pattern")
+
+	needPrev := false
+	if p, ok := cellK.(previousUser); ok {
+		needPrev = p.NeedsPrevious()
+	}
+	for _, fk := range facetK {
+		if p, ok := fk.(previousUser); ok && p.NeedsPrevious() {
+			needPrev = true
+		}
+	}
+	maxIt, tol := opts.MaxPicard, opts.PicardTol
+	if maxIt <= 0 {
+		maxIt = 50
+	}
+	if tol <= 0 {
+		tol = 1e-8
+	}
+	if !needPrev {
+		maxIt = 1
+	}
+	x := make([]float64, dm.NumDofs)
+	var prev []float64
+	if needPrev {
+		prev = make([]float64, dm.NumDofs)
+		if opts.Initial != nil {
+			if len(opts.Initial) != dm.NumDofs {
+				return nil, fmt.Errorf("problem: initial iterate has %d values for %d dofs", len(opts.Initial), dm.NumDofs)
+			}
+			copy(prev, opts.Initial)
+		}
+		for i, f := range fixed {
+			if f {
+				prev[i] = values[i]
+			}
+		}
+		copy(x, prev)
+	}
+	var Asys *sparse.CSR
+	var bsys []float64
+	var tAsm, tSolve time.Duration
+	for it := 1; it <= maxIt; it++ {
+		t0 := time.Now()
+		if err := asm.Assemble(cellK, facetK, A, b, assemble.Input{Time: opts.Time, Previous: prev}); err != nil {
+			return nil, err
+		}
+		sum.Symmetric = A.IsSymmetric(1e-12)
+		Asys = A.Clone()
+		bsys = append(bsys[:0], b...)
+		Asys.EliminateRows(fixed, values, bsys, sum.Symmetric)
+		t1 := time.Now()
+		tAsm += t1.Sub(t0)
+		so := chooseSolver(opts, sum.Symmetric, dm.NumDofs)
+		sum.Solver = so.Method.String()
+		if so.Method != linsolve.MethodDirect {
+			sum.Solver += "+" + so.Precond.String()
+		}
+		res, err := linsolve.Solve(Asys, bsys, x, so)
+		tSolve += time.Since(t1)
+		if err != nil {
+			return nil, err
+		}
+		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
+		if !needPrev {
+			break
+		}
+		dn, xn := 0.0, 0.0
+		for i := range x {
+			dn += (x[i] - prev[i]) * (x[i] - prev[i])
+			xn += x[i] * x[i]
+		}
+		change := math.Sqrt(dn) / math.Max(math.Sqrt(xn), math.SmallestNonzeroFloat64)
+		copy(prev, x)
+		if change <= tol {
+			break
+		}
+		if it == maxIt {
+			return nil, &PicardError{Iter: it, Change: change, Tol: tol}
+		}
+	}
+	clock = time.Now()
+	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
+
+	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Matrix: A, RHS: b}
+	for k, f := range dm.Fields {
+		fv := FieldValues{Name: f.Name, Components: f.Components}
+		for c := 0; c < f.Components; c++ {
+			v := make([]float64, f.NumNodes)
+			lo, hi := math.Inf(1), math.Inf(-1)
+			for n := range v {
+				v[n] = x[dm.Global(k, c, n)]
+				lo, hi = math.Min(lo, v[n]), math.Max(hi, v[n])
+			}
+			fv.Values = append(fv.Values, v)
+			sum.Ranges = append(sum.Ranges, FieldRange{Field: f.Name, Comp: c, Min: lo, Max: hi})
+		}
+		sol.Fields = append(sol.Fields, fv)
+	}
+	phase("output")
+	sol.Summary = sum
+	return sol, nil
+}
+
+func chooseSolver(opts Options, symmetric bool, n int) linsolve.Options {
+	if opts.Solver != nil {
+		so := *opts.Solver
+		if so.Workers == 0 {
+			so.Workers = opts.Workers
+		}
+		return so
+	}
+	so := linsolve.Options{Workers: opts.Workers}
+	switch {
+	case n < DirectLimit:
+		so.Method = linsolve.MethodDirect
+	case symmetric:
+		so.Method, so.Precond = linsolve.MethodCG, linsolve.PrecondILU0
+	default:
+		so.Method, so.Precond = linsolve.MethodGMRES, linsolve.PrecondILU0
+	}
+	return so
+}
+
+// ErrNoSide is wrapped by the error for a condition or integral on a side
+// the mesh does not have.
+var ErrNoSide = errors.New("side not in the mesh")
+
+// dirichlet evaluates the value conditions at the boundary nodes.
+func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bool, []float64, error) {
+	fixed := make([]bool, dm.NumDofs)
+	values := make([]float64, dm.NumDofs)
+	if len(form.Dirichlet) == 0 {
+		return fixed, values, nil
+	}
+	for _, dc := range form.Dirichlet {
+		if dc.Unknown < 0 || dc.Unknown >= len(dm.Fields) {
+			return nil, nil, fmt.Errorf("problem: Dirichlet condition on unknown %d of %d", dc.Unknown, len(dm.Fields))
+		}
+		f := dm.Fields[dc.Unknown]
+		if dc.Comp < 0 || dc.Comp >= f.Components {
+			return nil, nil, fmt.Errorf("problem: Dirichlet condition on component %d of %q (%d components)", dc.Comp, f.Name, f.Components)
+		}
+		refs, ok := m.Boundaries[dc.Side]
+		if !ok {
+			return nil, nil, fmt.Errorf("problem: value condition on %q: %w (sides: %v)", dc.Side, ErrNoSide, m.BoundaryNames())
+		}
+		if interp.ExprDeps(dc.Value)&(interp.DepCell) != 0 {
+			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q uses a cell quantity", f.Name, dc.Side)
+		}
+		slots := &interp.Slots{}
+		p, err := interp.Compile([]ir.Expr{dc.Value}, slots)
+		if err != nil {
+			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q: %w", f.Name, dc.Side, err)
+		}
+		if len(slots.Previous()) > 0 {
+			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q depends on an unknown", f.Name, dc.Side)
+		}
+		env := make([]float64, slots.Len())
+		env[interp.SlotT] = t
+		out := make([]float64, 1)
+		stack := make([]float64, p.StackSize())
+		facets := make([]dof.Facet, len(refs))
+		for i, r := range refs {
+			facets[i] = dof.Facet{Cell: int(r.Cell), Local: int(r.Facet)}
+		}
+		xs := dm.NodeCoords(dc.Unknown)
+		d := dm.Dim
+		for _, n := range dm.BoundaryNodes(dc.Unknown, facets) {
+			copy(env[interp.SlotX:interp.SlotX+d], xs[int(n)*d:int(n+1)*d])
+			p.Eval(env, out, stack)
+			g := dm.Global(dc.Unknown, dc.Comp, int(n))
+			fixed[g] = true
+			values[g] = out[0]
+		}
+	}
+	return fixed, values, nil
+}
