@@ -4,6 +4,8 @@ import (
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/dof"
+	"github.com/formwright/formwright/runtime/mesh"
 )
 
 func num(a, b int64) ir.Expr { return &ir.Num{Val: big.NewRat(a, b)} }
@@ -39,4 +41,12 @@ func axis(k int) []uint8 {
 	d := make([]uint8, 3)
 	d[k] = 1
 	return d
+}
+
+func facets(m *mesh.Mesh, side string) []dof.Facet {
+	var out []dof.Facet
+	for _, f := range m.Boundaries[side] {
+		out = append(out, dof.Facet{Cell: int(f.Cell), Local: int(f.Facet)})
+	}
+	return out
 }
