@@ -340,7 +340,7 @@ func checkPositions(t *testing.T, f *File) {
 				t.Errorf("ident %q spans %q", n.Name, span)
 			}
 		case *Call:
-			if !strings.HasPrefix(string(f.Src[n.FuncPos.Offset:]), n.Func+"(") && !strings.HasPrefix(string(f.Src[n.FuncPos.Offset:]), n.Func) {
+			if n.FuncPos != n.Pos() || !strings.HasPrefix(span, n.Func) {
 				t.Errorf("call %s: FuncPos at %q", n.Func, span)
 			}
 			if !strings.HasSuffix(span, ")") {
@@ -663,9 +663,11 @@ func TestSuggest(t *testing.T) {
 			t.Errorf("Suggest(%q) = %q, want %q", c.in, got, c.want)
 		}
 	}
-	// Distances from the textbook example pair kitten/sitting (3) and
-	// the optimal-string-alignment case ca/abc (3, where the unrestricted
-	// Damerau distance is 2).
+	// Reference distances [memory, standard examples]: kitten/sitting is 3
+	// (the usual Levenshtein example); ca/abc is 3 in the optimal string
+	// alignment distance used here, whereas the unrestricted
+	// Damerau-Levenshtein distance is 2 (the usual example of the
+	// difference). Both recomputed by hand.
 	if d := editDistance("kitten", "sitting"); d != 3 {
 		t.Errorf("kitten/sitting: %d", d)
 	}
