@@ -9,8 +9,9 @@ import (
 )
 
 // maxSimplifyRounds caps the fixed-point iteration of Simplify; each round
-// is a full bottom-up rewrite, and real models settle in two or three.
-const maxSimplifyRounds = 12
+// is a full bottom-up rewrite that pushes each derivative one level down,
+// so deep nests need several; real models settle in under ten.
+const maxSimplifyRounds = 100
 
 // Simplify brings e to canonical form in dimension dim: sums and products
 // flattened, constants folded exactly, like terms collected, operands put in
@@ -21,6 +22,20 @@ const maxSimplifyRounds = 12
 // Simplify is a pure function: it never modifies e.
 func Simplify(e ir.Expr, dim int) ir.Expr {
 	s := simplifier{dim: dim}
+	e = s.fixedPoint(e)
+	// At the root, a number times a sum is written as a sum: −(a + b)
+	// becomes −a − b, so a simplified operator reads as a list of terms.
+	if m, ok := e.(*ir.Mul); ok && len(m.Factors) == 2 {
+		if _, ok := num(m.Factors[0]); ok {
+			if _, ok := m.Factors[1].(*ir.Add); ok {
+				e = s.fixedPoint(&ir.Add{At: m.At, Terms: []ir.Expr{e}})
+			}
+		}
+	}
+	return e
+}
+
+func (s simplifier) fixedPoint(e ir.Expr) ir.Expr {
 	for i := 0; i < maxSimplifyRounds; i++ {
 		n := ir.MapUp(e, s.node)
 		if ir.Equal(n, e) {
@@ -107,13 +122,27 @@ func scale(p lang.Pos, c *big.Rat, rest ir.Expr) ir.Expr {
 
 func (s simplifier) add(e *ir.Add) ir.Expr {
 	rank := e.Rank()
+	// Flatten nested sums; a number times a sum, as a term, spreads into
+	// this sum so that like terms can meet: a − (b − c) = a − b + c. The
+	// rule applies only here, never inside products, so the canonical form
+	// does not depend on how a product was associated.
 	var flat []ir.Expr
 	for _, t := range e.Terms {
-		if a, ok := t.(*ir.Add); ok {
-			flat = append(flat, a.Terms...)
-		} else {
-			flat = append(flat, t)
+		switch t := t.(type) {
+		case *ir.Add:
+			flat = append(flat, t.Terms...)
+			continue
+		case *ir.Mul:
+			if len(t.Factors) == 2 {
+				if c, ok := num(t.Factors[0]); ok {
+					if a, ok := t.Factors[1].(*ir.Add); ok {
+						flat = append(flat, distribute(t.P, c, a).(*ir.Add).Terms...)
+						continue
+					}
+				}
+			}
 		}
+		flat = append(flat, t)
 	}
 	// Several literal vectors in one sum add componentwise.
 	var vecs []*ir.Vec
@@ -260,19 +289,8 @@ func (s simplifier) mul(e *ir.Mul) ir.Expr {
 		}
 		i = j
 	}
-	// A number times a sum distributes, so that like terms can meet.
 	if len(factors) == 0 && tensor == nil {
 		return ir.NewNum(e.P, c)
-	}
-	if len(factors) == 0 && c.Cmp(big.NewRat(1, 1)) != 0 {
-		if a, ok := tensor.(*ir.Add); ok {
-			return distribute(e.P, c, a)
-		}
-	}
-	if len(factors) == 1 && tensor == nil && c.Cmp(big.NewRat(1, 1)) != 0 {
-		if a, ok := factors[0].(*ir.Add); ok {
-			return distribute(e.P, c, a)
-		}
 	}
 	// Scalars times a literal vector go inside it.
 	if v, ok := tensor.(*ir.Vec); ok {
