@@ -479,12 +479,12 @@ func (d *diagnosis) explain() {
 	case first[0] == '(':
 		alts := describeAlternatives(first)
 		if len(alts) == 0 {
-			d.msg = "unexpected " + describe(d.tok, d.p)
+			d.msg = "unexpected " + describe(d.tok)
 			return
 		}
 		d.msg = "expected " + orList(alts) + d.after() + d.found()
 	default:
-		d.msg = fmt.Sprintf("unexpected %s", describe(d.tok, d.p))
+		d.msg = fmt.Sprintf("unexpected %s", describe(d.tok))
 	}
 }
 
@@ -531,7 +531,7 @@ func describeAlternatives(group string) []string {
 
 // unexpected handles a complete statement followed by stray tokens.
 func (d *diagnosis) unexpected() {
-	d.msg = fmt.Sprintf("unexpected %s", describe(d.tok, d.p))
+	d.msg = fmt.Sprintf("unexpected %s", describe(d.tok))
 	if d.prev == nil {
 		return
 	}
@@ -624,7 +624,7 @@ func beginsOperand(t lexer.Token) bool {
 	return t.Type == tokIdent || t.Type == tokNumber || t.Value == "(" || t.Value == "["
 }
 
-func describe(t lexer.Token, p *parser) string {
+func describe(t lexer.Token) string {
 	if t.Type == lexer.EOF {
 		return "end of file"
 	}
