@@ -1,6 +1,7 @@
 package lang
 
 import (
+	"bytes"
 	"fmt"
 	"io"
 	"sort"
@@ -139,9 +140,11 @@ func (l ErrorList) Error() string {
 //	    ^~~~
 //	    hint: the hint
 //
-// The source line is looked up in sources by the error's file name; when it
-// is missing only the first line is printed. The caret stands under Pos; the
-// tildes run to End when End is on the same line.
+// The source line is looked up in sources by the error's file name and
+// line number; when it is missing only the first line is printed. The caret
+// stands under Pos (columns count runes; tabs before it are kept so it
+// lines up in a terminal); the tildes run to End when End is on the same
+// line. A closing "too many errors" entry is printed without source.
 func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 	for _, e := range l {
 		fmt.Fprintln(w, e.Error())
@@ -158,21 +161,25 @@ func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 	}
 }
 
-// sourceLine returns the text of the line holding p (without its newline).
-// It trusts p.Offset and checks it against p.Line and p.Col loosely.
+// sourceLine returns the text of line p.Line of src (without its
+// newline). It goes by the line number rather than the offset, so a
+// position built by hand with only Line and Col still finds its line.
 func sourceLine(src []byte, p Pos) (string, bool) {
-	if p.Offset < 0 || p.Offset > len(src) {
-		return "", false
+	line := 1
+	start := 0
+	for line < p.Line {
+		i := bytes.IndexByte(src[start:], '\n')
+		if i < 0 {
+			return "", false
+		}
+		start += i + 1
+		line++
 	}
-	start := p.Offset
-	for start > 0 && src[start-1] != '\n' {
-		start--
+	end := bytes.IndexByte(src[start:], '\n')
+	if end < 0 {
+		return string(src[start:]), true
 	}
-	end := p.Offset
-	for end < len(src) && src[end] != '\n' {
-		end++
-	}
-	return string(src[start:end]), true
+	return string(src[start : start+end]), true
 }
 
 // caretLine builds the marker line: the prefix of line before the column

@@ -572,6 +572,15 @@ func TestFormatCaret(t *testing.T) {
 	if want := "t.fw:1:4: m\n    \t\tab\n    \t\t ^\n"; b.String() != want {
 		t.Errorf("tabs: got %q want %q", b.String(), want)
 	}
+	// A position made by hand without an offset still finds its line; the
+	// tildes stop at the end of the line.
+	l = nil
+	l.Add(Pos{File: "t.fw", Line: 2, Col: 3}, Pos{File: "t.fw", Line: 2, Col: 40}, "m", "h")
+	b.Reset()
+	l.Format(&b, map[string][]byte{"t.fw": []byte("one\ntwo three\n")})
+	if want := "t.fw:2:3: m\n    two three\n      ^~~~~~~\n    hint: h\n"; b.String() != want {
+		t.Errorf("by line: got %q want %q", b.String(), want)
+	}
 }
 
 func TestErrorList(t *testing.T) {
