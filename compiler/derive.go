@@ -188,9 +188,18 @@ func substituteDefs(m *Model, e ir.Expr) ir.Expr {
 func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 	var notes []Note
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
-	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f, with τ per equation (block-diagonal for systems); integrals over cell interiors only")
+	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f; the stabilisation integrals are over cell interiors only")
 	if len(m.Unknowns) > 1 {
 		add(Assumption, "τ is block-diagonal: one τ per equation (for flow, τ_M on momentum and τ_C on continuity)")
+	}
+	lagged := false
+	for _, eq := range m.Equations {
+		if ir.HasRole(eq.Written, ir.Previous) {
+			lagged = true
+		}
+	}
+	if lagged && meth == VMS {
+		add(Warning, "the convecting velocity is the previous iterate (Picard linearisation), so the fine-scale velocity does not advect: the cross- and Reynolds-stress terms of residual-based VMS turbulence modelling (Bazilevs et al. 2007) are not included")
 	}
 	hasDiff, diffVaries := false, false
 	for _, s := range d.Split {

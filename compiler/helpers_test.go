@@ -26,8 +26,8 @@ func mustModel(t testing.TB, src string) *Model {
 }
 
 // checkErrors returns the error messages Check reports for src.
-func checkErrors(src string) lang.ErrorList {
-	f, errs := lang.Parse("bad.fw", []byte(src))
+func checkErrors(file, src string) lang.ErrorList {
+	f, errs := lang.Parse(file, []byte(src))
 	_, cerrs := Check(f, CheckOptions{Load: stdlib.Module})
 	return append(errs, cerrs...)
 }

@@ -80,7 +80,9 @@ func WeakGalerkin(m *Model) (*GalerkinForm, error) {
 			parts = append(parts, ir.Neg(bc.Pos, contract(bc.Pos, bc.Value, m.Test(bc.Unknown))))
 		}
 		if len(parts) > 0 {
-			g.Boundary = append(g.Boundary, BoundaryPart{Side: side, Integrand: Simplify(ir.Sum(p, parts...), m.Dim)})
+			if in := Simplify(ir.Sum(p, parts...), m.Dim); !ir.IsZero(in) {
+				g.Boundary = append(g.Boundary, BoundaryPart{Side: side, Integrand: in})
+			}
 		}
 	}
 	return g, nil

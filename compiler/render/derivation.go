@@ -80,6 +80,9 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 		}
 		t.printf("  unknown %s: %s %s, tested with %s\n", u.Name, rank, u.Element, t.test(u.Index))
 	}
+	for _, c := range m.Coefs {
+		t.printf("  given %s = %s\n", t.e(c.Sym), t.e(c.Def))
+	}
 	t.printf("\n1. Operator as written, L(%s) = f\n", t.unknownList())
 	for k, eq := range m.Equations {
 		t.printf("   equation for %s:  %s = %s\n", m.Unknowns[eq.For].Name, t.e(eq.Written), t.e(d.Sources[k]))
