@@ -7,7 +7,7 @@ import (
 )
 
 // DualStackSize is the length of the stack buffer EvalGrad needs.
-func (p *Program) DualStackSize() int { return 4 * p.maxStack }
+func (p *Program) DualStackSize() int { return 4 * (p.maxStack + p.nTemp) }
 
 // EvalGrad runs the program in forward-mode automatic differentiation
 // (dual numbers with three tangent directions, the Cartesian axes): out[k]
@@ -21,6 +21,7 @@ func (p *Program) DualStackSize() int { return 4 * p.maxStack }
 // Derivatives (SIAM, 2nd ed. 2008), ch. 3.
 func (p *Program) EvalGrad(env, out, grad, stack []float64) {
 	st := stack[:4*p.maxStack]
+	temp := stack[4*p.maxStack : 4*(p.maxStack+p.nTemp)]
 	sp := 0 // in dual entries
 	for _, in := range p.code {
 		switch in.op {
@@ -99,6 +100,11 @@ func (p *Program) EvalGrad(env, out, grad, stack []float64) {
 			e := st[4*sp : 4*sp+4]
 			out[in.arg] = e[0]
 			grad[3*in.arg], grad[3*in.arg+1], grad[3*in.arg+2] = e[1], e[2], e[3]
+		case opTmpSet:
+			copy(temp[4*in.arg:4*in.arg+4], st[4*sp-4:4*sp])
+		case opTmpGet:
+			copy(st[4*sp:4*sp+4], temp[4*in.arg:4*in.arg+4])
+			sp++
 		}
 	}
 }

@@ -166,18 +166,17 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 	it.beginCell(s, ci)
 	d := it.lay.Cell.Dim()
 	for q := 0; q < fd.rule.NumPoints(); q++ {
-		if !it.point(s, fd.tabs, q, ci) {
+		if _, ok := it.point(s, fd.tabs, q, ci); !ok {
 			fillNaN(A[:n*n], b[:n])
 			return
 		}
-		pg := s.pg[0]
 		// Normal: J^{-T} n_ref, normalised.
 		var nv [3]float64
 		nn := 0.0
 		for kk := 0; kk < d; kk++ {
 			v := 0.0
 			for i := 0; i < d; i++ {
-				v += pg.JInv[i*d+kk] * fd.nref[i]
+				v += s.JInv[i*d+kk] * fd.nref[i]
 			}
 			nv[kk] = v
 			nn += v * v
@@ -194,7 +193,7 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 				for i := 0; i < d; i++ {
 					v := 0.0
 					for j := 0; j < d; j++ {
-						v += pg.J[i*d+j] * fd.tang[m][j]
+						v += s.J[i*d+j] * fd.tang[m][j]
 					}
 					t[m][i] = v
 				}

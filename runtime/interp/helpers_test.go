@@ -4,6 +4,8 @@ import (
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/element"
 )
 
 // Small builders for hand-written lowered forms.
@@ -55,3 +57,6 @@ func laplaceTerms(dim int) []ir.Term {
 	}
 	return t
 }
+
+func elementFor1(c cell.Type) *element.Element { return element.MustLagrange(c, 1) }
+func elementFor2(c cell.Type) *element.Element { return element.MustLagrange(c, 2) }

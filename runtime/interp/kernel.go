@@ -193,7 +193,9 @@ type integrand struct {
 	slots     *Slots
 	cellProg  *Program
 	pointProg *Program
-	nCell     int // coefficients constant in a cell come first
+	nCell     int // coefficients constant in a cell come first,
+	nHoist    int // then the hoisted subexpressions, then the varying ones
+	auxSlots  []int
 	nCoef     int
 	vecs      []vecSpec
 	blocks    []blockPlan
@@ -201,11 +203,14 @@ type integrand struct {
 	prev      []prevPlan
 	needDiam  bool
 	needVol   bool
+	affine    bool // simplex cells with their linear geometry
 }
 
 // scratch is one worker's buffers.
 type scratch struct {
 	env, coef, stack []float64
+	J, JInv          []float64 // Dim×Dim at the current point
+	det              float64
 	pg               []*element.PointGeometry
 	vec              [][]float64
 	t                []float64
@@ -213,6 +218,7 @@ type scratch struct {
 
 func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term) (*integrand, error) {
 	it := &integrand{lay: lay, n: lay.N(), slots: &Slots{}}
+	it.affine = lay.Cell.IsSimplex() && lay.Geometry.Degree == 1
 	off := 0
 	for _, f := range lay.Fields {
 		ei := -1
@@ -321,20 +327,43 @@ func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term)
 			pointK = append(pointK, i)
 		}
 	}
+	// Hoist the maximal cell-constant composite subexpressions of the
+	// varying coefficients (e.g. τ in τ·f(x)) into the per-cell program;
+	// the per-point program reads them from environment slots.
+	subst := map[string]int{}
+	var hoisted []ir.Expr
+	for _, e := range pointE {
+		ir.Inspect(e, func(x ir.Expr) bool {
+			if !composite(x) || ExprDeps(x)&DepPoint != 0 {
+				return true
+			}
+			if _, ok := constValue(x); ok {
+				return false
+			}
+			k := ExprKey(x)
+			if _, ok := subst[k]; !ok {
+				subst[k] = it.slots.Aux()
+				hoisted = append(hoisted, x)
+				it.auxSlots = append(it.auxSlots, subst[k])
+			}
+			return false
+		})
+	}
 	coefIdx := make([]int, len(keys))
 	for j, i := range cellK {
 		coefIdx[i] = j
 	}
-	for j, i := range pointK {
-		coefIdx[i] = len(cellK) + j
-	}
 	it.nCell = len(cellK)
-	it.nCoef = len(keys)
+	it.nHoist = len(hoisted)
+	for j, i := range pointK {
+		coefIdx[i] = it.nCell + it.nHoist + j
+	}
+	it.nCoef = len(keys) + it.nHoist
 	var err error
-	if it.cellProg, err = Compile(cellE, it.slots); err != nil {
+	if it.cellProg, err = Compile(append(cellE, hoisted...), it.slots); err != nil {
 		return nil, err
 	}
-	if it.pointProg, err = Compile(pointE, it.slots); err != nil {
+	if it.pointProg, err = compileWith(pointE, it.slots, subst); err != nil {
 		return nil, err
 	}
 	// Plans.
@@ -407,6 +436,8 @@ func (it *integrand) newScratch(tabs []*element.Table) *scratch {
 	for _, t := range tabs {
 		s.pg = append(s.pg, t.NewPointGeometry())
 	}
+	d := it.lay.Cell.Dim()
+	s.J, s.JInv = make([]float64, d*d), make([]float64, d*d)
 	maxN := 0
 	for _, e := range it.elems {
 		maxN = max(maxN, e.NumNodes())
@@ -429,51 +460,172 @@ func (it *integrand) beginCell(s *scratch, in *assemble.CellInput) {
 		s.env[SlotCellVolume] = assemble.CellVolume(c, in.Coords)
 	}
 	s.env[SlotT] = in.Time
-	it.cellProg.Eval(s.env, s.coef[:it.nCell], s.stack)
+	it.cellProg.Eval(s.env, s.coef[:it.nCell+it.nHoist], s.stack)
+	for j, slot := range it.auxSlots {
+		s.env[slot] = s.coef[it.nCell+j]
+	}
 }
 
 // pointCoefs evaluates the coefficients that vary inside the cell.
 func (it *integrand) pointCoefs(s *scratch) {
-	it.pointProg.Eval(s.env, s.coef[it.nCell:], s.stack)
+	it.pointProg.Eval(s.env, s.coef[it.nCell+it.nHoist:], s.stack)
 }
 
-// point maps quadrature point q with tables tabs (one per element), fills
-// the basis vectors and the per-point environment (x, G; the caller sets
-// the normal), reads the previous iterate, and reports false for a
-// non-positive Jacobian.
-func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assemble.CellInput) bool {
+// affineCell computes, on a simplex with its linear geometry, the
+// constant Jacobian J = [x_1 − x_0, ..., x_d − x_0], its inverse, det J and
+// the metric G = J^{-T} J^{-1} once per cell. It reports false for
+// det J <= 0.
+func (it *integrand) affineCell(s *scratch, coords []float64) bool {
 	d := it.lay.Cell.Dim()
-	for i, t := range tabs {
-		if err := t.Map(in.Coords, q, s.pg[i]); err != nil {
-			return false
-		}
-	}
-	pg := s.pg[0]
-	copy(s.env[SlotX:SlotX+d], pg.X)
+	J := s.J[:d*d]
 	for i := 0; i < d; i++ {
 		for j := 0; j < d; j++ {
-			s.env[SlotG+3*i+j] = pg.G[i*d+j]
+			J[i*d+j] = coords[(j+1)*d+i] - coords[i]
 		}
 	}
+	det := invert(d, J, s.JInv[:d*d])
+	s.det = det
+	if !(det > 0) {
+		return false
+	}
+	Ji := s.JInv
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			g := 0.0
+			for k := 0; k < d; k++ {
+				g += Ji[k*d+i] * Ji[k*d+j]
+			}
+			s.env[SlotG+3*i+j] = g
+		}
+	}
+	return true
+}
+
+// invert writes the inverse of the d×d matrix a into inv and returns
+// det a (inv untouched when det a = 0).
+func invert(d int, a, inv []float64) float64 {
+	switch d {
+	case 1:
+		if a[0] != 0 {
+			inv[0] = 1 / a[0]
+		}
+		return a[0]
+	case 2:
+		det := a[0]*a[3] - a[1]*a[2]
+		if det != 0 {
+			inv[0], inv[1], inv[2], inv[3] = a[3]/det, -a[1]/det, -a[2]/det, a[0]/det
+		}
+		return det
+	}
+	c00 := a[4]*a[8] - a[5]*a[7]
+	c01 := a[5]*a[6] - a[3]*a[8]
+	c02 := a[3]*a[7] - a[4]*a[6]
+	det := a[0]*c00 + a[1]*c01 + a[2]*c02
+	if det != 0 {
+		r := 1 / det
+		inv[0] = c00 * r
+		inv[1] = (a[2]*a[7] - a[1]*a[8]) * r
+		inv[2] = (a[1]*a[5] - a[2]*a[4]) * r
+		inv[3] = c01 * r
+		inv[4] = (a[0]*a[8] - a[2]*a[6]) * r
+		inv[5] = (a[2]*a[3] - a[0]*a[5]) * r
+		inv[6] = c02 * r
+		inv[7] = (a[1]*a[6] - a[0]*a[7]) * r
+		inv[8] = (a[0]*a[4] - a[1]*a[3]) * r
+	}
+	return det
+}
+
+// point prepares quadrature point q with tables tabs (one per element):
+// the geometry, the basis-derivative vectors, the per-point environment
+// (x, G; facet kernels add the normal) and the previous-iterate values. It
+// returns the cell quadrature weight w_q·|det J| and false for a
+// non-positive Jacobian.
+//
+// On simplices (affine map, linear geometry) the Jacobian comes from
+// affineCell and the physical derivatives are J^{-T}∇_ξφ and
+// J^{-T}H_ξφ J^{-1}; otherwise element.Table.Map computes them, with the
+// curvature term of the non-affine map in the Hessians.
+func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assemble.CellInput) (float64, bool) {
+	d := it.lay.Cell.Dim()
+	var w float64
+	if it.affine {
+		if q == 0 && !it.affineCell(s, in.Coords) {
+			return 0, false
+		}
+		xi := tabs[0].Rule.Points[q*d : (q+1)*d]
+		J := s.J
+		for i := 0; i < d; i++ {
+			x := in.Coords[i]
+			for j := 0; j < d; j++ {
+				x += J[i*d+j] * xi[j]
+			}
+			s.env[SlotX+i] = x
+		}
+		w = tabs[0].Rule.Weights[q] * s.det
+	} else {
+		for i, t := range tabs {
+			if err := t.Map(in.Coords, q, s.pg[i]); err != nil {
+				return 0, false
+			}
+		}
+		pg := s.pg[0]
+		copy(s.env[SlotX:SlotX+d], pg.X)
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				s.env[SlotG+3*i+j] = pg.G[i*d+j]
+			}
+		}
+		copy(s.J, pg.J)
+		copy(s.JInv, pg.JInv)
+		w = pg.Weight
+	}
+	Ji := s.JInv
 	for v, spec := range it.vecs {
-		g := s.pg[spec.elem]
 		t := tabs[spec.elem]
 		nn := it.elems[spec.elem].NumNodes()
 		dst := s.vec[v][:nn]
-		switch o := int(spec.D[0]) + int(spec.D[1]) + int(spec.D[2]); o {
-		case 0:
+		o := int(spec.D[0]) + int(spec.D[1]) + int(spec.D[2])
+		if o == 0 {
 			copy(dst, t.Value(q))
-		case 1:
-			k := axisOf(spec.D, 0)
-			for i := range dst {
-				dst[i] = g.Grad[i*d+k]
+			continue
+		}
+		k := axisOf(spec.D, 0)
+		if !it.affine {
+			g := s.pg[spec.elem]
+			if o == 1 {
+				for i := range dst {
+					dst[i] = g.Grad[i*d+k]
+				}
+			} else {
+				l := axisOf(spec.D, 1)
+				for i := range dst {
+					dst[i] = g.Hess[(i*d+k)*d+l]
+				}
 			}
-		case 2:
-			k := axisOf(spec.D, 0)
-			l := axisOf(spec.D, 1)
+			continue
+		}
+		if o == 1 {
+			gr := t.Grads[q*nn*d : (q+1)*nn*d]
 			for i := range dst {
-				dst[i] = g.Hess[(i*d+k)*d+l]
+				v := 0.0
+				for m := 0; m < d; m++ {
+					v += Ji[m*d+k] * gr[i*d+m]
+				}
+				dst[i] = v
 			}
+			continue
+		}
+		l := axisOf(spec.D, 1)
+		hs := t.Hess[q*nn*d*d : (q+1)*nn*d*d]
+		for i := range dst {
+			v := 0.0
+			for m := 0; m < d; m++ {
+				for p := 0; p < d; p++ {
+					v += Ji[m*d+k] * hs[(i*d+m)*d+p] * Ji[p*d+l]
+				}
+			}
+			dst[i] = v
 		}
 	}
 	for _, p := range it.prev {
@@ -490,7 +642,7 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assembl
 		}
 		s.env[p.slot] = sum
 	}
-	return true
+	return w, true
 }
 
 // axisOf returns the axis of the (which+1)-th unit in the multi-index D
@@ -633,11 +785,12 @@ func (k *Kernel) Cell(in *assemble.CellInput, A, b []float64) {
 	clear(b[:it.n])
 	it.beginCell(s, in)
 	for q := 0; q < k.rule.NumPoints(); q++ {
-		if !it.point(s, k.tabs, q, in) {
+		w, ok := it.point(s, k.tabs, q, in)
+		if !ok {
 			fillNaN(A[:it.n*it.n], b[:it.n])
 			return
 		}
 		it.pointCoefs(s)
-		it.accumulate(s, s.pg[0].Weight, A, b)
+		it.accumulate(s, w, A, b)
 	}
 }

@@ -251,3 +251,99 @@ func TestKernelErrors(t *testing.T) {
 		t.Error("test function in the trial slot accepted")
 	}
 }
+
+var sink float64
+
+func benchKernel(b *testing.B, elem string, c cell.Type) {
+	h := &ir.CellQ{Name: "cell_diameter"}
+	alpha := mul(num(50, 1), h)
+	tau := mul(h, num(1, 2), add(call(ir.Coth, alpha), mul(num(-1, 1), pow(alpha, num(-1, 1)))))
+	a := []ir.Expr{num(1, 1), num(1, 2)}
+	f := add(num(1, 1), mul(coord(0), coord(1)))
+	var bil, lin []ir.Term
+	for i := 0; i < 2; i++ {
+		di := []uint8{0, 0}
+		di[i] = 1
+		bil = append(bil, term(num(1, 100), fd(uField, 0, di...), fd(vField, 0, di...)), term(a[i], fd(uField, 0, di...), fd(vField, 0)))
+		for j := 0; j < 2; j++ {
+			dj := []uint8{0, 0}
+			dj[j] = 1
+			bil = append(bil, term(mul(tau, a[i], a[j]), fd(uField, 0, dj...), fd(vField, 0, di...)))
+		}
+		lin = append(lin, term(mul(tau, f, a[i]), nil, fd(vField, 0, di...)))
+	}
+	lin = append(lin, term(f, nil, fd(vField, 0)))
+	k, err := NewKernel(scalarForm(2, elem, bil, lin), c, Options{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	n := k.Layout().N()
+	A, rhs := make([]float64, n*n), make([]float64, n)
+	in := &assemble.CellInput{Coords: []float64{0, 0, 0.01, 0, 0, 0.01}}
+	if c == cell.Quadrilateral {
+		in.Coords = []float64{0, 0, 0.01, 0, 0.01, 0.01, 0, 0.01}
+	}
+	for b.Loop() {
+		k.Cell(in, A, rhs)
+	}
+	sink = A[0]
+}
+
+func BenchmarkKernelSUPGP1(b *testing.B) { benchKernel(b, "P1", cell.Triangle) }
+func BenchmarkKernelSUPGP2(b *testing.B) { benchKernel(b, "P2", cell.Triangle) }
+func BenchmarkKernelSUPGQ1(b *testing.B) { benchKernel(b, "Q1", cell.Quadrilateral) }
+
+// Non-affine Hessians: under a bilinear (trilinear) map, x_k² is a
+// polynomial of degree ≤ 2 in each reference variable, so the Q2 space
+// contains Σ_k x_k² exactly and its Laplacian is 2·dim everywhere. Hence
+// Σ_j (∫ Δφ_j φ_i) u_j = 2·dim ∫ φ_i for the nodal values u_j of Σ x_k²
+// (an identity of the exact space). Dropping the curvature term
+// −Σ_k (∂φ/∂x_k) ∂²x_k/∂ξ² of the map breaks it. Same rule on both sides:
+// tolerance 1e-12 relative.
+func TestQ2NonAffineHessian(t *testing.T) {
+	for _, c := range []cell.Type{cell.Quadrilateral, cell.Hexahedron} {
+		d := c.Dim()
+		var bil []ir.Term
+		for k := 0; k < d; k++ {
+			dd := make([]uint8, 3)
+			dd[k] = 2
+			bil = append(bil, term(num(1, 1), fd(uField, 0, dd...), fd(vField, 0)))
+		}
+		form := scalarForm(d, "Q2", bil, []ir.Term{term(num(int64(2*d), 1), nil, fd(vField, 0))})
+		rng := rand.New(rand.NewPCG(3, 4))
+		coords := append([]float64(nil), c.Vertices()...)
+		for i := range coords {
+			coords[i] += 0.3 * (rng.Float64() - 0.5)
+		}
+		A, b, n := elementMatrix(t, form, c, coords)
+		// Nodal values of Σ x_k² at the Q2 nodes mapped by the Q1 map.
+		e := elementFor2(c)
+		geom := elementFor1(c)
+		ref := e.RefNodes()
+		phi := make([]float64, geom.NumNodes())
+		u := make([]float64, n)
+		for i := 0; i < n; i++ {
+			geom.Eval(ref[i*d:(i+1)*d], phi)
+			for k := 0; k < d; k++ {
+				x := 0.0
+				for v := range phi {
+					x += phi[v] * coords[v*d+k]
+				}
+				u[i] += x * x
+			}
+		}
+		scale := 0.0
+		for _, v := range b {
+			scale = math.Max(scale, math.Abs(v))
+		}
+		for i := 0; i < n; i++ {
+			s := 0.0
+			for j := 0; j < n; j++ {
+				s += A[i*n+j] * u[j]
+			}
+			if math.Abs(s-b[i]) > 1e-12*scale {
+				t.Errorf("%v row %d: ∫Δu φ_i = %.15g, 2d∫φ_i = %.15g", c, i, s, b[i])
+			}
+		}
+	}
+}

@@ -44,10 +44,18 @@ type PrevInput struct {
 // programs that read the same environment.
 type Slots struct {
 	prev []PrevInput
+	aux  int
 }
 
 // Len is the length an environment must have.
-func (s *Slots) Len() int { return numFixedSlots + len(s.prev) }
+func (s *Slots) Len() int { return numFixedSlots + len(s.prev) + s.aux }
+
+// Aux reserves a new slot for a value the caller computes (e.g. a
+// per-cell subexpression hoisted out of per-point tapes) and returns it.
+func (s *Slots) Aux() int {
+	s.aux++
+	return s.Len() - 1
+}
 
 // Previous lists the previous-iterate quantities with their slots, in slot
 // order. Shared slice: do not modify.
@@ -77,6 +85,8 @@ const (
 	opMin                  // a b -> min(a,b)
 	opMax                  // a b -> max(a,b)
 	opStore                // pop -> out[arg]
+	opTmpSet               // copy top -> temp[arg] (no pop)
+	opTmpGet               // push temp[arg]
 )
 
 type instr struct {
@@ -91,6 +101,7 @@ type Program struct {
 	code     []instr
 	consts   []float64
 	maxStack int
+	nTemp    int // common subexpressions, stored after the stack
 	nOut     int
 	deps     []Deps
 }
@@ -98,8 +109,9 @@ type Program struct {
 // NumOutputs is the number of expressions compiled into p.
 func (p *Program) NumOutputs() int { return p.nOut }
 
-// StackSize is the length of the stack buffer Eval needs.
-func (p *Program) StackSize() int { return p.maxStack }
+// StackSize is the length of the stack buffer Eval needs (the stack proper
+// and the common-subexpression temporaries).
+func (p *Program) StackSize() int { return p.maxStack + p.nTemp }
 
 // Deps returns the dependency bits of output k.
 func (p *Program) Deps(k int) Deps { return p.deps[k] }
@@ -119,10 +131,22 @@ func (e *UnsupportedError) Error() string {
 
 // Compile compiles exprs into one program writing expression k to out[k].
 // Exact rationals become float64 once, here; constant subexpressions are
-// folded; integer powers become repeated multiplication. Previous-iterate
-// fields get slots in s (which may be shared with other programs).
+// folded; integer powers become repeated multiplication; a subexpression
+// occurring more than once (structurally equal) is computed once and kept
+// in a temporary. Previous-iterate fields get slots in s (which may be
+// shared with other programs).
 func Compile(exprs []ir.Expr, s *Slots) (*Program, error) {
-	c := &compiler{slots: s, p: &Program{nOut: len(exprs)}}
+	return compileWith(exprs, s, nil)
+}
+
+// compileWith is Compile where every subexpression whose structural key
+// is in subst is read from the environment slot subst[key] instead.
+func compileWith(exprs []ir.Expr, s *Slots, subst map[string]int) (*Program, error) {
+	c := &compiler{slots: s, p: &Program{nOut: len(exprs)}, subst: subst,
+		count: map[string]int{}, temp: map[string]int32{}, keys: map[ir.Expr]string{}}
+	for _, e := range exprs {
+		c.countSubtrees(e)
+	}
 	for k, e := range exprs {
 		d, err := c.expr(e)
 		if err != nil {
@@ -147,6 +171,92 @@ type compiler struct {
 	slots *Slots
 	p     *Program
 	depth int
+	subst map[string]int
+	count map[string]int   // occurrences of each composite subtree
+	temp  map[string]int32 // temporaries already computed
+	keys  map[ir.Expr]string
+}
+
+// key returns the structural key of e (memoised per node).
+func (c *compiler) key(e ir.Expr) string {
+	if k, ok := c.keys[e]; ok {
+		return k
+	}
+	k := ExprKey(e)
+	c.keys[e] = k
+	return k
+}
+
+func composite(e ir.Expr) bool {
+	switch e.(type) {
+	case *ir.Add, *ir.Mul, *ir.Pow, *ir.Call:
+		return true
+	}
+	return false
+}
+
+func (c *compiler) countSubtrees(e ir.Expr) {
+	ir.Inspect(e, func(x ir.Expr) bool {
+		if composite(x) {
+			if _, ok := constValue(x); !ok {
+				k := c.key(x)
+				c.count[k]++
+				// Count the children of a repeated subtree once only.
+				return c.count[k] == 1
+			}
+		}
+		return true
+	})
+}
+
+// ExprKey is a structural key of a lowered expression: equal keys mean
+// equal expressions (positions are ignored).
+func ExprKey(e ir.Expr) string {
+	var b []byte
+	var walk func(e ir.Expr)
+	walk = func(e ir.Expr) {
+		switch e := e.(type) {
+		case *ir.Num:
+			b = append(b, 'n')
+			b = append(b, e.Val.RatString()...)
+		case *ir.Const:
+			b = append(b, 'k')
+			b = append(b, e.Name...)
+		case *ir.Coord:
+			b = append(b, 'x', byte('0'+e.Axis))
+		case *ir.Time:
+			b = append(b, 't')
+		case *ir.CellQ:
+			b = fmt.Appendf(b, "q%s.%d.%d", e.Name, e.I, e.J)
+		case *ir.FieldD:
+			idx := -1
+			if e.Field != nil {
+				idx = e.Field.Index*4 + int(e.Field.Role)
+			}
+			b = fmt.Appendf(b, "f%d.%d.%d%d%d.%d", idx, e.Comp, e.D[0], e.D[1], e.D[2], e.DT)
+		default:
+			switch e := e.(type) {
+			case *ir.Add:
+				b = append(b, "(+"...)
+			case *ir.Mul:
+				b = append(b, "(*"...)
+			case *ir.Pow:
+				b = append(b, "(^"...)
+			case *ir.Call:
+				b = append(b, '(')
+				b = append(b, e.Fn.String()...)
+			default:
+				b = fmt.Appendf(b, "(%T", e)
+			}
+			for _, k := range ir.Children(e) {
+				b = append(b, ' ')
+				walk(k)
+			}
+			b = append(b, ')')
+		}
+	}
+	walk(e)
+	return string(b)
 }
 
 func (c *compiler) emit(op opcode, arg int32, delta int) {
@@ -281,6 +391,32 @@ func (c *compiler) expr(e ir.Expr) (Deps, error) {
 		c.pushConst(v)
 		return 0, nil
 	}
+	if c.subst != nil {
+		if slot, ok := c.subst[c.key(e)]; ok {
+			c.emit(opLoad, int32(slot), 1)
+			return ExprDeps(e), nil
+		}
+	}
+	if composite(e) && c.count[c.key(e)] > 1 {
+		k := c.key(e)
+		if t, ok := c.temp[k]; ok {
+			c.emit(opTmpGet, t, 1)
+			return ExprDeps(e), nil
+		}
+		d, err := c.node(e)
+		if err != nil {
+			return 0, err
+		}
+		t := int32(c.p.nTemp)
+		c.p.nTemp++
+		c.temp[k] = t
+		c.emit(opTmpSet, t, 0)
+		return d, nil
+	}
+	return c.node(e)
+}
+
+func (c *compiler) node(e ir.Expr) (Deps, error) {
 	switch e := e.(type) {
 	case *ir.Const:
 		return 0, &UnsupportedError{fmt.Sprintf("constant %q", e.Name)}
@@ -437,6 +573,7 @@ func apply(fn ir.Func, a float64) float64 {
 // environment (length Slots.Len()), stack a scratch buffer of length at
 // least StackSize(). It does not allocate.
 func (p *Program) Eval(env, out, stack []float64) {
+	temp := stack[p.maxStack : p.maxStack+p.nTemp]
 	stack = stack[:p.maxStack]
 	sp := 0
 	for _, in := range p.code {
@@ -469,6 +606,11 @@ func (p *Program) Eval(env, out, stack []float64) {
 		case opStore:
 			sp--
 			out[in.arg] = stack[sp]
+		case opTmpSet:
+			temp[in.arg] = stack[sp-1]
+		case opTmpGet:
+			stack[sp] = temp[in.arg]
+			sp++
 		}
 	}
 }
