@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"time"
 
 	"github.com/formwright/formwright/compiler/ir"
@@ -136,6 +137,9 @@ type previousUser interface{ NeedsPrevious() bool }
 // (*linsolve.NotConvergedError, ...), so callers can tell them apart.
 func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) {
 	sum := Summary{Method: form.Method, Cells: m.NumCells(), Vertices: m.NumVertices(), Workers: opts.Workers}
+	if sum.Workers <= 0 {
+		sum.Workers = runtime.GOMAXPROCS(0)
+	}
 	sum.Mesh = fmt.Sprintf("%v mesh, %d dimensions, sides %v", m.Cell, m.Dim, m.BoundaryNames())
 	clock := time.Now()
 	phase := func(name string) {
