@@ -1,0 +1,509 @@
+package gogen
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/formwright/formwright/compiler/ir"
+)
+
+// The scalar DAG: every value the generated kernel computes is a node,
+// hash-consed on its operation and operands (so a subexpression that occurs
+// twice is computed once), folded when its operands are constants, and
+// tagged with the loop level it varies at, so code is scheduled at the
+// outermost level where its operands are known: constants at generation
+// time, cell values once per cell, point values once per quadrature point.
+
+type level uint8
+
+const (
+	lvConst level = iota // known at generation time
+	lvCell               // constant in a cell
+	lvPoint              // varies with the quadrature point
+)
+
+type opKind uint8
+
+const (
+	opConst opKind = iota
+	opLeaf         // a Go operand (x[3], in.Time, tab[q][2]) used in place
+	opExt          // a Go expression evaluated once into a temporary
+	opAdd
+	opMul
+	opDiv
+	opNeg
+	opFn  // unary elementary function
+	opMin // math.Min(a, b)
+	opMax // math.Max(a, b)
+	opPow // math.Pow(a, b)
+)
+
+type node struct {
+	op   opKind
+	lv   level
+	val  float64 // opConst
+	code string  // opLeaf, opExt
+	fn   ir.Func // opFn
+	args []int
+	hint string // preferred variable name (generator-chosen identifiers only)
+}
+
+type dag struct {
+	nodes []node
+	index map[string]int
+}
+
+func newDAG() *dag {
+	d := &dag{index: map[string]int{}}
+	return d
+}
+
+func (d *dag) intern(n node) int {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%d|%d|%s|%d|", n.op, n.lv, n.code, n.fn)
+	if n.op == opConst {
+		b.WriteString(strconv.FormatUint(math.Float64bits(n.val), 16))
+	}
+	for _, a := range n.args {
+		b.WriteString(strconv.Itoa(a))
+		b.WriteByte(',')
+	}
+	k := b.String()
+	if id, ok := d.index[k]; ok {
+		if d.nodes[id].hint == "" {
+			d.nodes[id].hint = n.hint
+		}
+		return id
+	}
+	d.nodes = append(d.nodes, n)
+	d.index[k] = len(d.nodes) - 1
+	return len(d.nodes) - 1
+}
+
+func (d *dag) konst(v float64) int {
+	if v == 0 {
+		v = 0 // -0 → +0: the sign of zero never matters in the sums built here
+	}
+	return d.intern(node{op: opConst, val: v})
+}
+
+func (d *dag) isConst(id int) (float64, bool) {
+	n := &d.nodes[id]
+	return n.val, n.op == opConst
+}
+
+func (d *dag) leaf(code string, lv level) int {
+	return d.intern(node{op: opLeaf, code: code, lv: lv})
+}
+
+func (d *dag) ext(code string, lv level, hint string) int {
+	return d.intern(node{op: opExt, code: code, lv: lv, hint: hint})
+}
+
+func (d *dag) maxLevel(args []int) level {
+	lv := lvConst
+	for _, a := range args {
+		if d.nodes[a].lv > lv {
+			lv = d.nodes[a].lv
+		}
+	}
+	return lv
+}
+
+// name sets the preferred variable name of id (first hint wins).
+func (d *dag) name(id int, hint string) int {
+	if d.nodes[id].hint == "" && d.nodes[id].op != opConst && d.nodes[id].op != opLeaf {
+		d.nodes[id].hint = hint
+	}
+	return id
+}
+
+func (d *dag) add(xs ...int) int {
+	var terms []int
+	c := 0.0
+	for _, x := range xs {
+		n := &d.nodes[x]
+		switch n.op {
+		case opConst:
+			c += n.val
+		default:
+			terms = append(terms, x)
+		}
+	}
+	// Re-fold constants pulled out of flattened sums.
+	var rest []int
+	for _, t := range terms {
+		if v, ok := d.isConst(t); ok {
+			c += v
+			continue
+		}
+		rest = append(rest, t)
+	}
+	if c != 0 {
+		rest = append(rest, d.konst(c))
+	}
+	switch len(rest) {
+	case 0:
+		return d.konst(0)
+	case 1:
+		return rest[0]
+	}
+	sort.Ints(rest)
+	return d.intern(node{op: opAdd, args: rest, lv: d.maxLevel(rest)})
+}
+
+func (d *dag) sub(a, b int) int { return d.add(a, d.neg(b)) }
+
+func (d *dag) neg(a int) int {
+	n := &d.nodes[a]
+	switch n.op {
+	case opConst:
+		return d.konst(-n.val)
+	case opNeg:
+		return n.args[0]
+	}
+	return d.intern(node{op: opNeg, args: []int{a}, lv: n.lv})
+}
+
+// mul builds a product. A zero constant factor gives zero: the generated
+// code assumes finite operands (as the sums it accumulates do).
+func (d *dag) mul(xs ...int) int {
+	var fs []int
+	c := 1.0
+	negs := 0
+	var walk func(x int)
+	walk = func(x int) {
+		n := &d.nodes[x]
+		switch n.op {
+		case opConst:
+			c *= n.val
+		case opNeg:
+			negs++
+			walk(n.args[0])
+		default:
+			fs = append(fs, x)
+		}
+	}
+	for _, x := range xs {
+		walk(x)
+	}
+	if negs%2 == 1 {
+		c = -c
+	}
+	if c == 0 {
+		return d.konst(0)
+	}
+	if len(fs) == 0 {
+		return d.konst(c)
+	}
+	sort.Ints(fs)
+	var p int
+	if len(fs) == 1 {
+		p = fs[0]
+	} else {
+		p = d.intern(node{op: opMul, args: fs, lv: d.maxLevel(fs)})
+	}
+	switch c {
+	case 1:
+		return p
+	case -1:
+		return d.neg(p)
+	}
+	all := append([]int{d.konst(c)}, fs...)
+	sort.Ints(all)
+	return d.intern(node{op: opMul, args: all, lv: d.maxLevel(all)})
+}
+
+func (d *dag) div(a, b int) int {
+	bv, bc := d.isConst(b)
+	av, ac := d.isConst(a)
+	switch {
+	case ac && bc:
+		return d.konst(av / bv)
+	case ac && av == 0:
+		return d.konst(0)
+	case bc && bv == 1:
+		return a
+	case bc && bv == -1:
+		return d.neg(a)
+	}
+	return d.intern(node{op: opDiv, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
+}
+
+func (d *dag) fn(f ir.Func, a int) int {
+	if v, ok := d.isConst(a); ok {
+		return d.konst(applyFn(f, v))
+	}
+	if f == ir.Coth {
+		return d.div(d.konst(1), d.fn(ir.Tanh, a))
+	}
+	return d.intern(node{op: opFn, fn: f, args: []int{a}, lv: d.nodes[a].lv})
+}
+
+func (d *dag) minmax(op opKind, a, b int) int {
+	av, ac := d.isConst(a)
+	bv, bc := d.isConst(b)
+	if ac && bc {
+		if op == opMin {
+			return d.konst(math.Min(av, bv))
+		}
+		return d.konst(math.Max(av, bv))
+	}
+	return d.intern(node{op: op, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
+}
+
+// powInt is a^n by binary powering, as the interpreted tape does.
+func (d *dag) powInt(a, n int) int {
+	if n == 0 {
+		return d.konst(1)
+	}
+	if n < 0 {
+		return d.div(d.konst(1), d.powInt(a, -n))
+	}
+	r := -1
+	b := a
+	for n > 0 {
+		if n&1 == 1 {
+			if r < 0 {
+				r = b
+			} else {
+				r = d.mul(r, b)
+			}
+		}
+		n >>= 1
+		if n > 0 {
+			b = d.mul(b, b)
+		}
+	}
+	return r
+}
+
+func (d *dag) pow(a, b int) int {
+	av, ac := d.isConst(a)
+	bv, bc := d.isConst(b)
+	if ac && bc {
+		return d.konst(math.Pow(av, bv))
+	}
+	if bc && bv == 0.5 {
+		return d.fn(ir.Sqrt, a)
+	}
+	return d.intern(node{op: opPow, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
+}
+
+func applyFn(f ir.Func, a float64) float64 {
+	switch f {
+	case ir.Sin:
+		return math.Sin(a)
+	case ir.Cos:
+		return math.Cos(a)
+	case ir.Tan:
+		return math.Tan(a)
+	case ir.Exp:
+		return math.Exp(a)
+	case ir.Log:
+		return math.Log(a)
+	case ir.Sqrt:
+		return math.Sqrt(a)
+	case ir.Abs:
+		return math.Abs(a)
+	case ir.Tanh:
+		return math.Tanh(a)
+	case ir.Sinh:
+		return math.Sinh(a)
+	case ir.Cosh:
+		return math.Cosh(a)
+	case ir.Coth:
+		return 1 / math.Tanh(a)
+	case ir.Sign:
+		switch {
+		case a > 0:
+			return 1
+		case a < 0:
+			return -1
+		}
+		return a
+	}
+	panic("gogen: no evaluation for function " + f.String())
+}
+
+var goFuncs = map[ir.Func]string{
+	ir.Sin: "math.Sin", ir.Cos: "math.Cos", ir.Tan: "math.Tan", ir.Exp: "math.Exp", ir.Log: "math.Log",
+	ir.Sqrt: "math.Sqrt", ir.Abs: "math.Abs", ir.Tanh: "math.Tanh", ir.Sinh: "math.Sinh", ir.Cosh: "math.Cosh",
+	ir.Sign: "fwSign",
+}
+
+// literal formats a float64 as a Go constant that reads back exactly.
+func literal(v float64) string {
+	switch {
+	case math.IsNaN(v):
+		return "math.NaN()"
+	case math.IsInf(v, 1):
+		return "math.Inf(1)"
+	case math.IsInf(v, -1):
+		return "math.Inf(-1)"
+	}
+	s := strconv.FormatFloat(v, 'g', -1, 64)
+	if !strings.ContainsAny(s, ".eE") {
+		s += ".0"
+	}
+	if v < 0 {
+		s = "(" + s + ")"
+	}
+	return s
+}
+
+// scheduler assigns variable names and writes the assignments of the nodes
+// needed by a set of roots, level by level.
+type scheduler struct {
+	d       *dag
+	names   map[int]string
+	used    map[string]bool
+	counter map[level]int
+	usesFn  map[string]bool // helper functions referenced (fwSign)
+	usesMth bool
+	// signName is the file's sign helper function.
+	signName string
+}
+
+func newScheduler(d *dag) *scheduler {
+	return &scheduler{d: d, names: map[int]string{}, used: map[string]bool{}, counter: map[level]int{}, usesFn: map[string]bool{}}
+}
+
+// reserve marks identifiers the body declares itself.
+func (s *scheduler) reserve(names ...string) {
+	for _, n := range names {
+		s.used[n] = true
+	}
+}
+
+// ref is the Go operand for node id (its variable, leaf code or literal).
+func (s *scheduler) ref(id int) string {
+	n := &s.d.nodes[id]
+	switch n.op {
+	case opConst:
+		if math.IsNaN(n.val) || math.IsInf(n.val, 0) {
+			s.usesMth = true
+		}
+		return literal(n.val)
+	case opLeaf:
+		return n.code
+	}
+	name, ok := s.names[id]
+	if !ok {
+		panic(fmt.Sprintf("gogen: node %d used before it is scheduled", id))
+	}
+	return name
+}
+
+// needed returns the set of non-trivial nodes reachable from roots.
+func (s *scheduler) needed(roots []int) map[int]bool {
+	need := map[int]bool{}
+	var visit func(id int)
+	visit = func(id int) {
+		if need[id] {
+			return
+		}
+		n := &s.d.nodes[id]
+		if n.op == opConst || n.op == opLeaf {
+			return
+		}
+		need[id] = true
+		for _, a := range n.args {
+			visit(a)
+		}
+	}
+	for _, r := range roots {
+		visit(r)
+	}
+	return need
+}
+
+// emit writes, in creation order (which is topological), the assignments
+// of the needed nodes of level lv that are not yet scheduled.
+func (s *scheduler) emit(w *strings.Builder, need map[int]bool, lv level) {
+	for id := range s.d.nodes {
+		if !need[id] || s.d.nodes[id].lv != lv {
+			continue
+		}
+		if _, done := s.names[id]; done {
+			continue
+		}
+		expr := s.expr(id)
+		name := s.newName(id, lv)
+		fmt.Fprintf(w, "%s := %s\n", name, expr)
+	}
+}
+
+func (s *scheduler) newName(id int, lv level) string {
+	h := s.d.nodes[id].hint
+	if h != "" && !s.used[h] {
+		s.used[h] = true
+		s.names[id] = h
+		return h
+	}
+	prefix := "c"
+	if lv == lvPoint {
+		prefix = "p"
+	}
+	for {
+		s.counter[lv]++
+		n := fmt.Sprintf("%s%d", prefix, s.counter[lv])
+		if !s.used[n] {
+			s.used[n] = true
+			s.names[id] = n
+			return n
+		}
+	}
+}
+
+func (s *scheduler) expr(id int) string {
+	n := &s.d.nodes[id]
+	switch n.op {
+	case opExt:
+		return n.code
+	case opAdd:
+		var b strings.Builder
+		for i, a := range n.args {
+			an := &s.d.nodes[a]
+			switch {
+			case an.op == opNeg && i > 0:
+				b.WriteString(" - " + s.ref(an.args[0]))
+			case an.op == opConst && an.val < 0 && i > 0:
+				b.WriteString(" - " + literal(-an.val))
+			default:
+				if i > 0 {
+					b.WriteString(" + ")
+				}
+				b.WriteString(s.ref(a))
+			}
+		}
+		return b.String()
+	case opMul:
+		parts := make([]string, len(n.args))
+		for i, a := range n.args {
+			parts[i] = s.ref(a)
+		}
+		return strings.Join(parts, " * ")
+	case opDiv:
+		return s.ref(n.args[0]) + " / " + s.ref(n.args[1])
+	case opNeg:
+		return "-" + s.ref(n.args[0])
+	case opFn:
+		f := goFuncs[n.fn]
+		if f == "fwSign" {
+			s.usesFn["fwSign"] = true
+			f = s.signName
+		} else {
+			s.usesMth = true
+		}
+		return f + "(" + s.ref(n.args[0]) + ")"
+	case opMin, opMax, opPow:
+		s.usesMth = true
+		f := map[opKind]string{opMin: "math.Min", opMax: "math.Max", opPow: "math.Pow"}[n.op]
+		return f + "(" + s.ref(n.args[0]) + ", " + s.ref(n.args[1]) + ")"
+	}
+	panic(fmt.Sprintf("gogen: no expression for node kind %d", n.op))
+}

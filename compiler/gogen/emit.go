@@ -1,0 +1,473 @@
+package gogen
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+// prod is c · Π ids (c = 1 when ids is non-empty and no factor is given).
+type prod struct {
+	c   float64
+	ids []int
+}
+
+type stmt struct {
+	comment []string
+	target  string
+	terms   []prod
+}
+
+type block struct {
+	ro, co, nr, nc int
+	tei, uei       int
+	groups         []*group
+}
+
+// refPart is one term of a physical basis derivative on an affine cell:
+// K (a cell-constant node) times reference derivative idx (0 value, 1+m
+// ∂/∂ξ_m, 1+d+m·d+n ∂²/∂ξ_m∂ξ_n with m ≤ n).
+type refPart struct {
+	idx, k int
+}
+
+func (g *bodyGen) refDecomp(D [3]uint8) []refPart {
+	d := g.dim
+	switch order(D) {
+	case 0:
+		return []refPart{{0, g.d.konst(1)}}
+	case 1:
+		k := axes(D)[0]
+		var out []refPart
+		for m := 0; m < d; m++ {
+			out = append(out, refPart{1 + m, g.jinv(m, k)})
+		}
+		return out
+	}
+	ax := axes(D)
+	k, l := ax[0], ax[1]
+	var out []refPart
+	for m := 0; m < d; m++ {
+		for n := m; n < d; n++ {
+			K := g.d.mul(g.jinv(m, k), g.jinv(n, l))
+			if m != n {
+				K = g.d.add(K, g.d.mul(g.jinv(n, k), g.jinv(m, l)))
+			}
+			out = append(out, refPart{1 + d + m*d + n, K})
+		}
+	}
+	return out
+}
+
+// refAt is reference derivative idx of basis function a of element ei at
+// point q.
+func (g *bodyGen) refAt(ei, idx, q, a int) float64 {
+	d := g.dim
+	t := g.etab[ei]
+	switch {
+	case idx == 0:
+		return t.val[q][a]
+	case idx <= d:
+		return t.grad[q][a*d+idx-1]
+	}
+	r := idx - 1 - d
+	m, n := r/d, r%d
+	return t.hess[q][(a*d+m)*d+n]
+}
+
+// preMatrix is Σ_q w_q R^b_i(q) R^a_j(q), the reference integral of a pair
+// of reference derivatives (a == -1: the linear form, R^a = 1), with
+// entries below tol·max|entry| set to zero: they are round-off of sums
+// that vanish exactly (tolerance common practice, no source; it bounds
+// the relative change of an entry by about 1e-14).
+func (g *bodyGen) preMatrix(tei, b, uei, a, nr, nc int) [][]float64 {
+	M := make([][]float64, nr)
+	mx := 0.0
+	for i := range M {
+		M[i] = make([]float64, max(nc, 1))
+		for j := range M[i] {
+			s := 0.0
+			for q := 0; q < g.nq; q++ {
+				r := g.refAt(tei, b, q, i)
+				if a >= 0 {
+					r *= g.refAt(uei, a, q, j)
+				}
+				s += g.wts[q] * r
+			}
+			M[i][j] = s
+			mx = math.Max(mx, math.Abs(s))
+		}
+	}
+	for i := range M {
+		for j := range M[i] {
+			if math.Abs(M[i][j]) <= 1e-14*mx {
+				M[i][j] = 0
+			}
+		}
+	}
+	return M
+}
+
+func (g *bodyGen) blocks(gs []*group) (bil []*block, lin []*block) {
+	find := func(list *[]*block, ro, co, nr, nc, tei, uei int) *block {
+		for _, b := range *list {
+			if b.ro == ro && b.co == co {
+				return b
+			}
+		}
+		b := &block{ro: ro, co: co, nr: nr, nc: nc, tei: tei, uei: uei}
+		*list = append(*list, b)
+		return b
+	}
+	for _, gr := range gs {
+		tf := g.fields[gr.key.tf]
+		ro := tf.off + gr.key.tc*tf.elem.NumNodes()
+		if gr.key.linear {
+			b := find(&lin, ro, 0, tf.elem.NumNodes(), 0, tf.ei, -1)
+			b.groups = append(b.groups, gr)
+			continue
+		}
+		uf := g.fields[gr.key.uf]
+		co := uf.off + gr.key.uc*uf.elem.NumNodes()
+		b := find(&bil, ro, co, tf.elem.NumNodes(), uf.elem.NumNodes(), tf.ei, uf.ei)
+		b.groups = append(b.groups, gr)
+	}
+	return bil, lin
+}
+
+// body generates the statements of one element computation. facetCall is
+// true for a facet method (the input is then a *assemble.CellInput too).
+func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
+	N := g.n
+	bil, lin := g.blocks(gs)
+	var roots []int
+	var stmtsA, stmtsB []stmt
+	comment := func(b *block, strategy string, pick func(*group) bool) []string {
+		out := []string{fmt.Sprintf("%s, rows %d..%d, columns %d..%d:", strategy, b.ro, b.ro+b.nr-1, b.co, b.co+max(b.nc, 1)-1)}
+		if b.nc == 0 {
+			out[0] = fmt.Sprintf("%s, rows %d..%d of the right-hand side:", strategy, b.ro, b.ro+b.nr-1)
+		}
+		for _, gr := range b.groups {
+			if pick(gr) {
+				for _, s := range termComment(gr) {
+					out = append(out, "  "+s)
+				}
+			}
+		}
+		return out
+	}
+	isA := func(gr *group) bool { return gr.cellA }
+	isB := func(gr *group) bool { return !gr.cellA }
+	hasAny := func(b *block, pick func(*group) bool) bool {
+		for _, gr := range b.groups {
+			if pick(gr) {
+				return true
+			}
+		}
+		return false
+	}
+	scale := g.scale()
+	roots = append(roots, g.det())
+
+	// Strategy A: cell-constant coefficients on affine cells, integrated
+	// in advance. A_ij += Σ_(b,a) M^{ba}_ij G_ba with the reference
+	// integrals M^{ba} constants and the geometry factors
+	// G_ba = Σ_terms coef·scale·K_b·K_a computed once per cell.
+	for _, b := range append(append([]*block{}, bil...), lin...) {
+		if !hasAny(b, isA) {
+			continue
+		}
+		pairs := map[[2]int]int{}
+		lists := map[[2]int][]int{}
+		for _, gr := range b.groups {
+			if !gr.cellA {
+				continue
+			}
+			cs := g.d.mul(gr.coef, scale)
+			tdec := g.refDecomp(gr.key.tD)
+			udec := []refPart{{-1, g.d.konst(1)}}
+			if !gr.key.linear {
+				udec = g.refDecomp(gr.key.uD)
+			}
+			for _, tp := range tdec {
+				for _, up := range udec {
+					k := [2]int{tp.idx, up.idx}
+					lists[k] = append(lists[k], g.d.mul(cs, g.d.mul(tp.k, up.k)))
+				}
+			}
+		}
+		keys := make([][2]int, 0, len(lists))
+		for k := range lists {
+			pairs[k] = 0
+		}
+		keys = sortedKeys(pairs)
+		mats := map[[2]int][][]float64{}
+		for _, k := range keys {
+			pairs[k] = g.d.add(lists[k]...)
+			mats[k] = g.preMatrix(b.tei, k[0], b.uei, k[1], b.nr, b.nc)
+		}
+		first := true
+		for i := 0; i < b.nr; i++ {
+			for j := 0; j < max(b.nc, 1); j++ {
+				r, c := b.ro+i, b.co+j
+				var target string
+				if b.nc == 0 {
+					target = fmt.Sprintf("rhs[%d]", r)
+				} else {
+					if sym && r > c {
+						continue
+					}
+					target = fmt.Sprintf("acc[%d]", r*N+c)
+				}
+				var terms []prod
+				for _, k := range keys {
+					m := mats[k][i][j]
+					if m == 0 {
+						continue
+					}
+					if v, ok := g.d.isConst(pairs[k]); ok {
+						if v == 0 {
+							continue
+						}
+					}
+					terms = append(terms, prod{m, []int{pairs[k]}})
+					roots = append(roots, pairs[k])
+				}
+				if len(terms) == 0 {
+					continue
+				}
+				s := stmt{target: target, terms: terms}
+				if first {
+					s.comment = comment(b, "Integrated in advance (affine cell, coefficients constant in the cell)", isA)
+					first = false
+				}
+				stmtsA = append(stmtsA, s)
+			}
+		}
+	}
+
+	// Strategy B: per quadrature point. For each test derivative β of a
+	// block, t_β[j] = Σ_α w·coef_αβ·D^α φ_j, then
+	// A_ij += Σ_β D^β φ_i · t_β[j]; b_i += Σ_β w·coef_β·D^β φ_i.
+	w := -1
+	for _, b := range bil {
+		if !hasAny(b, isB) {
+			continue
+		}
+		if w < 0 {
+			w = g.weight()
+		}
+		type beta struct {
+			tD [3]uint8
+			t  []int
+		}
+		var betas []*beta
+		for _, gr := range b.groups {
+			if gr.cellA {
+				continue
+			}
+			var be *beta
+			for _, x := range betas {
+				if x.tD == gr.key.tD {
+					be = x
+				}
+			}
+			if be == nil {
+				be = &beta{tD: gr.key.tD, t: make([]int, b.nc)}
+				for j := range be.t {
+					be.t[j] = g.d.konst(0)
+				}
+				betas = append(betas, be)
+			}
+			wc := g.d.mul(w, gr.coef)
+			for j := 0; j < b.nc; j++ {
+				be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.basis(b.uei, j, gr.key.uD)))
+			}
+		}
+		first := true
+		for i := 0; i < b.nr; i++ {
+			for j := 0; j < b.nc; j++ {
+				r, c := b.ro+i, b.co+j
+				if sym && r > c {
+					continue
+				}
+				var terms []prod
+				for _, be := range betas {
+					v := g.basis(b.tei, i, be.tD)
+					t := be.t[j]
+					terms = appendProd(g, terms, &roots, v, t)
+				}
+				if len(terms) == 0 {
+					continue
+				}
+				s := stmt{target: fmt.Sprintf("acc[%d]", r*N+c), terms: terms}
+				if first {
+					s.comment = comment(b, "At each quadrature point", isB)
+					first = false
+				}
+				stmtsB = append(stmtsB, s)
+			}
+		}
+	}
+	for _, b := range lin {
+		if !hasAny(b, isB) {
+			continue
+		}
+		if w < 0 {
+			w = g.weight()
+		}
+		first := true
+		for i := 0; i < b.nr; i++ {
+			var terms []prod
+			for _, gr := range b.groups {
+				if gr.cellA {
+					continue
+				}
+				wc := g.d.mul(w, gr.coef)
+				terms = appendProd(g, terms, &roots, g.basis(b.tei, i, gr.key.tD), wc)
+			}
+			if len(terms) == 0 {
+				continue
+			}
+			s := stmt{target: fmt.Sprintf("rhs[%d]", b.ro+i), terms: terms}
+			if first {
+				s.comment = comment(b, "At each quadrature point", isB)
+				first = false
+			}
+			stmtsB = append(stmtsB, s)
+		}
+	}
+	if g.err != nil {
+		return "", g.err
+	}
+
+	// Schedule and write.
+	sc := newScheduler(g.d)
+	sc.signName = g.names.sign
+	sc.reserve("x", "pv", "q", "acc", "rhs", "in", "A", "b", "k")
+	need := sc.needed(roots)
+	var w0 strings.Builder
+	ng := g.geom.NumNodes() * g.dim
+	fmt.Fprintf(&w0, "A = A[:%d:%d]\nb = b[:%d:%d]\n", N*N, N*N, N, N)
+	fmt.Fprintf(&w0, "x := in.Coords[:%d:%d]\n", ng, ng)
+	if g.usesPrev {
+		fmt.Fprintf(&w0, "// The previous iterate is zero when there is none.\nvar zero [%d]float64\npv := zero[:]\nif in.Previous != nil {\npv = in.Previous[:%d:%d]\n}\n", N, N, N)
+	}
+	w0.WriteString("// Per cell: geometry, cell quantities and coefficients constant in the cell.\n")
+	sc.emit(&w0, need, lvCell)
+	detLv := g.d.nodes[g.det()].lv
+	check := fmt.Sprintf("if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.refOrNil(g.det()), g.names.fillNaN)
+	if detLv <= lvCell {
+		w0.WriteString(check)
+	}
+	hasA := false
+	hasB := false
+	for _, s := range append(append([]stmt{}, stmtsA...), stmtsB...) {
+		if strings.HasPrefix(s.target, "acc") {
+			hasA = true
+		} else {
+			hasB = true
+		}
+	}
+	if hasA {
+		fmt.Fprintf(&w0, "var acc [%d]float64\n", N*N)
+	}
+	if hasB {
+		fmt.Fprintf(&w0, "var rhs [%d]float64\n", N)
+	}
+	writeStmts(&w0, sc, stmtsA)
+	if len(stmtsB) > 0 || detLv == lvPoint {
+		fmt.Fprintf(&w0, "for q := 0; q < %d; q++ {\n", g.nq)
+		w0.WriteString("// Per quadrature point: geometry, coefficients, basis derivatives.\n")
+		sc.emit(&w0, need, lvPoint)
+		if detLv == lvPoint {
+			check = fmt.Sprintf("if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.ref(g.det()), g.names.fillNaN)
+			w0.WriteString(check)
+		}
+		writeStmts(&w0, sc, stmtsB)
+		w0.WriteString("}\n")
+	}
+	if hasA {
+		if sym {
+			w0.WriteString("// The form is symmetric: mirror the upper triangle.\n")
+			if N <= 12 {
+				for r := 0; r < N; r++ {
+					for c := r + 1; c < N; c++ {
+						fmt.Fprintf(&w0, "acc[%d] = acc[%d]\n", c*N+r, r*N+c)
+					}
+				}
+			} else {
+				fmt.Fprintf(&w0, "for r := 0; r < %d; r++ {\nfor c := r + 1; c < %d; c++ {\nacc[c*%d+r] = acc[r*%d+c]\n}\n}\n", N, N, N, N)
+			}
+		}
+		w0.WriteString("copy(A, acc[:])\n")
+	} else {
+		w0.WriteString("clear(A)\n")
+	}
+	if hasB {
+		w0.WriteString("copy(b, rhs[:])\n")
+	} else {
+		w0.WriteString("clear(b)\n")
+	}
+	if sc.usesMth {
+		g.names.usesMath = true
+	}
+	if sc.usesFn["fwSign"] {
+		g.names.usesSign = true
+	}
+	return w0.String(), nil
+}
+
+// refOrNil is ref for nodes already scheduled at cell level.
+func (s *scheduler) refOrNil(id int) string { return s.ref(id) }
+
+func appendProd(g *bodyGen, terms []prod, roots *[]int, a, b int) []prod {
+	av, ac := g.d.isConst(a)
+	bv, bc := g.d.isConst(b)
+	switch {
+	case ac && av == 0, bc && bv == 0:
+		return terms
+	case ac && bc:
+		return append(terms, prod{av * bv, nil})
+	case ac:
+		*roots = append(*roots, b)
+		return append(terms, prod{av, []int{b}})
+	case bc:
+		*roots = append(*roots, a)
+		return append(terms, prod{bv, []int{a}})
+	}
+	*roots = append(*roots, a, b)
+	return append(terms, prod{1, []int{a, b}})
+}
+
+func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
+	for _, s := range ss {
+		for _, c := range s.comment {
+			w.WriteString("// " + c + "\n")
+		}
+		var b strings.Builder
+		for i, t := range s.terms {
+			var factors []string
+			c := t.c
+			neg := false
+			if c < 0 && i > 0 {
+				c, neg = -c, true
+			}
+			if c != 1 || len(t.ids) == 0 {
+				factors = append(factors, literal(c))
+			}
+			for _, id := range t.ids {
+				factors = append(factors, sc.ref(id))
+			}
+			switch {
+			case i == 0:
+			case neg:
+				b.WriteString(" - ")
+			default:
+				b.WriteString(" + ")
+			}
+			b.WriteString(strings.Join(factors, "*"))
+		}
+		fmt.Fprintf(w, "%s += %s\n", s.target, b.String())
+	}
+}
