@@ -33,16 +33,25 @@ const (
 // Corner says where a legend goes inside the data area.
 type Corner int
 
-// Legend positions; the zero value is the top right corner.
+// Legend positions. The zero value, AutoCorner, is each plot's own
+// default: top right for Line, top left for Convergence (where small h
+// and large errors leave that corner empty).
 const (
-	TopRight Corner = iota
+	AutoCorner Corner = iota
+	TopRight
 	TopLeft
 	BottomRight
 	BottomLeft
 )
 
-func (c Corner) top() bool  { return c == TopRight || c == TopLeft }
-func (c Corner) left() bool { return c == TopLeft || c == BottomLeft }
+// place sets the legend position of p, def standing in for AutoCorner.
+func (c Corner) place(p *gplot.Plot, def Corner) {
+	if c == AutoCorner {
+		c = def
+	}
+	p.Legend.Top = c == TopRight || c == TopLeft
+	p.Legend.Left = c == TopLeft || c == BottomLeft
+}
 
 // pxToPt converts a length in pixels to a gonum length (points).
 func pxToPt(px float64) vg.Length { return vg.Length(px * 72 / dpi) }

@@ -88,7 +88,7 @@ func renderLine(series []Series, opts LineOptions) (*vgimg.Canvas, error) {
 	}
 
 	p := newPlot(opts.Title, orDefault(opts.XLabel, "x"), orDefault(opts.YLabel, "u"), w)
-	p.Legend.Top, p.Legend.Left = opts.Legend.top(), opts.Legend.left()
+	opts.Legend.place(p, TopRight)
 	p.Add(plotter.NewGrid())
 	lw := vg.Length(1.25 * float64(fontSize(w, 1)))
 
