@@ -1,8 +1,434 @@
 package main
 
-import "io"
+import (
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/formwright/formwright/compiler"
+	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/linsolve"
+	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/output"
+	"github.com/formwright/formwright/runtime/problem"
+)
+
+// solveFlags are the options of solve (and of verify, which solves too).
+type solveFlags struct {
+	method  *string
+	mesh    *string
+	solver  *string
+	tol     *float64
+	maxIter *int
+	workers *int
+	time    *float64
+	quiet   *bool
+}
+
+func addSolveFlags(fs *flag.FlagSet) *solveFlags {
+	return &solveFlags{
+		method:  fs.String("method", "", "galerkin, supg, gls or vms (default: the model's first stabilised method, else galerkin)"),
+		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a mesh file (default: by dimension and element)"),
+		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi or +ilu0 (e.g. gmres+ilu0)"),
+		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers (default 1e-10)"),
+		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
+		workers: fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
+		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data"),
+		quiet:   fs.Bool("quiet", false, "no progress on standard error"),
+	}
+}
+
+// defaultMesh picks the built-in mesh for a model: the unit interval,
+// square or cube, cut into cells of the family the unknowns use.
+func defaultMesh(m *compiler.Model) string {
+	quad := strings.HasPrefix(m.Unknowns[0].Element, "Q")
+	switch m.Dim {
+	case 1:
+		return "interval:0,1:64"
+	case 2:
+		if quad {
+			return "rect:0,1,0,1:48x48:quad"
+		}
+		return "rect:0,1,0,1:64x64:tri"
+	}
+	if quad {
+		return "box:0,1,0,1,0,1:10x10x10:hex"
+	}
+	return "box:0,1,0,1,0,1:10x10x10:tet"
+}
+
+// pickMethod resolves --method against the model.
+func pickMethod(m *compiler.Model, s string) (compiler.Method, error) {
+	if s == "" {
+		for _, meth := range m.Methods {
+			if meth != compiler.Galerkin {
+				return meth, nil
+			}
+		}
+		return compiler.Galerkin, nil
+	}
+	meth, ok := compiler.MethodByName(s)
+	if !ok {
+		return 0, &usageError{fmt.Sprintf("unknown method %q (use galerkin, supg, gls or vms)", s)}
+	}
+	if meth != compiler.Galerkin {
+		for _, u := range m.Unknowns {
+			if m.Tau[u.Index] == nil {
+				return 0, &usageError{fmt.Sprintf("%s needs a tau for %s: add \"tau for %s = ...\" to the model", meth, u.Name, u.Name)}
+			}
+		}
+	}
+	return meth, nil
+}
+
+// parseSolver reads --solver.
+func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options, error) {
+	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 {
+		return nil, nil
+	}
+	so := &linsolve.Options{RelTol: *sf.tol, MaxIter: *sf.maxIter, Progress: progress, Workers: *sf.workers}
+	name := *sf.solver
+	if name == "auto" {
+		name = "gmres+ilu0"
+	}
+	meth, pre, _ := strings.Cut(name, "+")
+	var err error
+	if so.Method, err = linsolve.ParseMethod(meth); err != nil {
+		return nil, &usageError{fmt.Sprintf("--solver: %v", err)}
+	}
+	if pre != "" {
+		if so.Precond, err = linsolve.ParsePrecond(pre); err != nil {
+			return nil, &usageError{fmt.Sprintf("--solver: %v", err)}
+		}
+	} else if so.Method != linsolve.MethodDirect {
+		so.Precond = linsolve.PrecondILU0
+	}
+	return so, nil
+}
+
+// lowerModel derives and lowers one method of a model.
+func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
+	d, err := compiler.Derive(m, []compiler.Method{meth})
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	lf, err := d.Lower(meth)
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	return lf, nil
+}
+
+// buildMesh reads --mesh (or the default) and checks it against the model.
+func buildMesh(m *compiler.Model, spec string) (*mesh.Mesh, string, error) {
+	if spec == "" {
+		spec = defaultMesh(m)
+	}
+	msh, err := mesh.Load(spec)
+	if err != nil {
+		var se *mesh.SpecError
+		if errors.As(err, &se) {
+			return nil, spec, &usageError{"--mesh: " + se.Detail()}
+		}
+		return nil, spec, &usageError{"--mesh: " + err.Error()}
+	}
+	if msh.Dim != m.Dim {
+		return nil, spec, &usageError{fmt.Sprintf("--mesh: a %d-dimensional mesh for a %d-dimensional model", msh.Dim, m.Dim)}
+	}
+	for _, u := range m.Unknowns {
+		simplexElem := strings.HasPrefix(u.Element, "P")
+		if simplexElem != msh.Cell.IsSimplex() {
+			return nil, spec, &usageError{fmt.Sprintf("--mesh: unknown %s uses %s elements, which need %s cells, but the mesh has %v cells",
+				u.Name, u.Element, map[bool]string{true: "simplex", false: "quadrilateral or hexahedral"}[simplexElem], msh.Cell)}
+		}
+	}
+	for _, side := range m.Sides {
+		if _, ok := msh.Boundaries[side]; !ok {
+			for _, bc := range m.BCs {
+				if containsSide(bc.Sides, side) {
+					return nil, spec, &usageError{fmt.Sprintf("--mesh: the model sets a condition on side %q, which the mesh does not have (it has %s)", side, strings.Join(msh.BoundaryNames(), ", "))}
+				}
+			}
+		}
+	}
+	return msh, spec, nil
+}
+
+func containsSide(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
 
 // cmdSolve assembles and solves a model's discrete problem.
 func cmdSolve(args []string, stdout, stderr io.Writer) error {
-	return &usageError{"solve is not available in this build yet"}
+	fs := flag.NewFlagSet("solve", flag.ContinueOnError)
+	sf := addSolveFlags(fs)
+	out := fs.String("out", "", "write the solution: FILE.vtu (VTK XML, binary appended), FILE.csv")
+	ascii := fs.Bool("vtu-ascii", false, "write .vtu in ASCII instead of binary appended")
+	asJSON := fs.Bool("json", false, "print the summary and nodal values as JSON")
+	plotPath := fs.String("plot", "", "draw the solution as a PNG (1D line plot, 2D colour map with contours)")
+	pos, err := parseArgs(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) != 1 {
+		return &usageError{"solve takes one model"}
+	}
+	if *out != "" {
+		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
+			return &usageError{fmt.Sprintf("--out: unknown file type %q (use .vtu or .csv)", ext)}
+		}
+		if err := output.CheckNotInput(*out, pos[0]); err != nil {
+			return &usageError{err.Error()}
+		}
+	}
+	if *plotPath != "" {
+		if err := output.CheckNotInput(*plotPath, pos[0]); err != nil {
+			return &usageError{err.Error()}
+		}
+	}
+	m, err := loadModel(pos[0])
+	if err != nil {
+		return err
+	}
+	meth, err := pickMethod(m, *sf.method)
+	if err != nil {
+		return err
+	}
+	progress := func(it int, r float64) {
+		if !*sf.quiet && it%25 == 0 {
+			fmt.Fprintf(stderr, "  iteration %d, relative residual %.3e\n", it, r)
+		}
+	}
+	so, err := parseSolver(sf, progress)
+	if err != nil {
+		return err
+	}
+	msh, spec, err := buildMesh(m, *sf.mesh)
+	if err != nil {
+		return err
+	}
+	lf, err := lowerModel(m, meth)
+	if err != nil {
+		return err
+	}
+	start := time.Now()
+	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so}
+	path := kernelPath(lf, msh, &opts)
+	sol, err := problem.Solve(lf, msh, opts)
+	if err != nil {
+		return solveError(err)
+	}
+	wall := time.Since(start)
+	if err := checkFinite(sol); err != nil {
+		return err
+	}
+	if *out != "" {
+		if err := writeSolution(*out, sol, *ascii); err != nil {
+			return err
+		}
+	}
+	if *plotPath != "" {
+		if err := plotSolution(*plotPath, sol, m, meth); err != nil {
+			return err
+		}
+	}
+	if *asJSON {
+		return writeSummaryJSON(stdout, m, meth, spec, path, sol, wall)
+	}
+	writeSummaryText(stdout, m, meth, spec, path, sol, wall)
+	return nil
+}
+
+// solveError sorts a runtime error into input errors (status 2) and
+// numerical failures (status 1).
+func solveError(err error) error {
+	var nc *linsolve.NotConvergedError
+	var bd *linsolve.BreakdownError
+	var nf *linsolve.NonFiniteError
+	var sg *linsolve.SingularError
+	var pe *problem.PicardError
+	var tl *linsolve.TooLargeError
+	switch {
+	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &sg), errors.As(err, &pe), errors.As(err, &tl):
+		return fmt.Errorf("numerical failure, no result written: %w", err)
+	case errors.Is(err, problem.ErrNoSide):
+		return &usageError{err.Error()}
+	}
+	return fmt.Errorf("solve failed, no result written: %w", err)
+}
+
+func checkFinite(sol *problem.Solution) error {
+	for _, v := range sol.X {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("numerical failure, no result written: the solution has non-finite values")
+		}
+	}
+	return nil
+}
+
+func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) {
+	s := sol.Summary
+	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
+	fmt.Fprintf(w, "method     %s\n", meth)
+	fmt.Fprintf(w, "mesh       %s: %d cells, %d vertices\n", spec, s.Cells, s.Vertices)
+	var us []string
+	for i, u := range m.Unknowns {
+		us = append(us, fmt.Sprintf("%s (%s, %d nodes)", u.Name, u.Element, s.Nodes[i]))
+	}
+	fmt.Fprintf(w, "unknowns   %s; %d dofs\n", strings.Join(us, ", "), s.Dofs)
+	for _, u := range m.Unknowns {
+		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
+			fmt.Fprintf(w, "tau        tau_%s = %s\n", u.Name, syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim)))
+		}
+	}
+	fmt.Fprintf(w, "kernels    %s\n", path)
+	fmt.Fprintf(w, "solver     %s, %d iterations, relative residual %.2e\n", s.Solver, s.Iterations, s.Residual)
+	if s.Picard > 1 {
+		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
+	}
+	fmt.Fprintf(w, "wall time  %.3f s (", wall.Seconds())
+	for i, p := range s.Phases {
+		if i > 0 {
+			fmt.Fprint(w, ", ")
+		}
+		fmt.Fprintf(w, "%s %.3f", p.Name, p.Wall.Seconds())
+	}
+	fmt.Fprintf(w, ") on %d workers\n", s.Workers)
+	for _, r := range s.Ranges {
+		name := r.Field
+		if len(sol.Fields) > 0 && fieldComponents(sol, r.Field) > 1 {
+			name = fmt.Sprintf("%s[%d]", r.Field, r.Comp+1)
+		}
+		fmt.Fprintf(w, "range      %s in [%.6g, %.6g]\n", name, r.Min, r.Max)
+	}
+}
+
+func fieldComponents(sol *problem.Solution, name string) int {
+	for _, f := range sol.Fields {
+		if f.Name == name {
+			return f.Components
+		}
+	}
+	return 1
+}
+
+// jsonSolve is the --json output of solve (documented in the README).
+type jsonSolve struct {
+	Schema     string            `json:"schema"`
+	Model      string            `json:"model"`
+	File       string            `json:"file"`
+	Method     string            `json:"method"`
+	Mesh       string            `json:"mesh"`
+	Cells      int               `json:"cells"`
+	Vertices   int               `json:"vertices"`
+	Dofs       int               `json:"dofs"`
+	Kernels    string            `json:"kernels"`
+	Solver     string            `json:"solver"`
+	Iterations int               `json:"iterations"`
+	Residual   float64           `json:"residual"`
+	Picard     int               `json:"picard_iterations"`
+	WallTime   float64           `json:"wall_time_s"`
+	Tau        map[string]string `json:"tau"`
+	Fields     []jsonField       `json:"fields"`
+}
+
+type jsonField struct {
+	Name       string      `json:"name"`
+	Element    string      `json:"element"`
+	Components int         `json:"components"`
+	Min        []float64   `json:"min"`
+	Max        []float64   `json:"max"`
+	Nodes      [][]float64 `json:"nodes"`  // coordinates of the field's nodes
+	Values     [][]float64 `json:"values"` // values[comp][node]
+}
+
+func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) error {
+	s := sol.Summary
+	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
+		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, WallTime: wall.Seconds(), Tau: map[string]string{}}
+	for _, u := range m.Unknowns {
+		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
+			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))
+		}
+	}
+	for k, f := range sol.Fields {
+		jf := jsonField{Name: f.Name, Element: m.Unknowns[k].Element, Components: f.Components, Values: f.Values}
+		coords := sol.Dofs.NodeCoords(k)
+		d := m.Dim
+		for n := 0; n < len(coords)/d; n++ {
+			jf.Nodes = append(jf.Nodes, coords[n*d:(n+1)*d])
+		}
+		for _, r := range s.Ranges {
+			if r.Field == f.Name {
+				jf.Min = append(jf.Min, r.Min)
+				jf.Max = append(jf.Max, r.Max)
+			}
+		}
+		out.Fields = append(out.Fields, jf)
+	}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", " ")
+	return enc.Encode(out)
+}
+
+// gridOf builds the output grid: the mesh vertices and linear cells, with
+// each field's values at the vertices (vertex nodes come first in every
+// element space, numbered as the mesh vertices).
+func gridOf(sol *problem.Solution) *output.Grid {
+	msh := sol.Mesh
+	d := msh.Dim
+	nv := msh.NumVertices()
+	g := &output.Grid{Points: make([]float64, 3*nv)}
+	for v := 0; v < nv; v++ {
+		copy(g.Points[3*v:3*v+d], msh.Coords[v*d:(v+1)*d])
+	}
+	vpc := msh.Cell.NumVertices()
+	order := cell.VTKOrder(msh.Cell, 1)
+	code := uint8(cell.VTKType(msh.Cell, 1))
+	for c := 0; c < msh.NumCells(); c++ {
+		verts := msh.Cells[c*vpc : (c+1)*vpc]
+		for _, i := range order {
+			g.Connectivity = append(g.Connectivity, int64(verts[i]))
+		}
+		g.Offsets = append(g.Offsets, int64(len(g.Connectivity)))
+		g.Types = append(g.Types, code)
+	}
+	for _, f := range sol.Fields {
+		arr := output.Array{Name: f.Name, Components: f.Components}
+		if f.Components > 1 {
+			arr.Components = 3 // VTK vectors have three components
+		}
+		arr.Values = make([]float64, nv*arr.Components)
+		for v := 0; v < nv; v++ {
+			for c := 0; c < f.Components; c++ {
+				arr.Values[v*arr.Components+c] = f.Values[c][v]
+			}
+		}
+		g.PointData = append(g.PointData, arr)
+	}
+	return g
+}
+
+func writeSolution(path string, sol *problem.Solution, ascii bool) error {
+	g := gridOf(sol)
+	if filepath.Ext(path) == ".csv" {
+		return output.WriteCSVFile(path, g, sol.Mesh.Dim)
+	}
+	opts := output.VTUOptions{Encoding: output.Binary}
+	if ascii {
+		opts.Encoding = output.ASCII
+	}
+	return output.WriteVTUFile(path, g, opts)
 }
