@@ -47,7 +47,7 @@ func ExampleConvergence_zeroError() {
 }
 
 // Nodal values of two methods and the exact solution of
-// u' − 0.1 u'' = 0, u(0) = 0, u(1) = 1 (Pe = 10).
+// u' − 0.1 u” = 0, u(0) = 0, u(1) = 1 (Pe = 10).
 func ExampleLine() {
 	dir, _ := os.MkdirTemp("", "plot")
 	defer os.RemoveAll(dir)
