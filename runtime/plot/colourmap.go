@@ -151,6 +151,7 @@ func renderColourMap(tri Triangulation, values []float64, opts MapOptions) (*vgi
 	cb.Y.Label.Text = opts.ValueLabel
 	cb.Y.Label.TextStyle.Font.Size = vg.Length(12 * s)
 	cb.Y.Tick.Label.Font.Size = vg.Length(10 * s)
+	cb.Y.Tick.Marker = linearTicks{}
 	cb.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true, Colors: 256}, &levelMarks{levels: levels, style: lineStyle})
 
 	cv := newCanvas(w, h)

@@ -108,6 +108,7 @@ func newPlot(title, xlabel, ylabel string, w int) *gplot.Plot {
 	p.X.Label.Text = xlabel
 	p.Y.Label.Text = ylabel
 	for _, a := range []*gplot.Axis{&p.X, &p.Y} {
+		a.Tick.Marker = linearTicks{}
 		a.Label.TextStyle.Font.Size = vg.Length(12 * s)
 		a.Tick.Label.Font.Size = vg.Length(10 * s)
 	}

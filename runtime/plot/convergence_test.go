@@ -143,3 +143,38 @@ func TestLogTicks(t *testing.T) {
 		t.Errorf("0.12..0.35: labels %v, want [0.2 0.3] (fallback to every multiple)", got)
 	}
 }
+
+// TestLinearTicks: steps of 1, 2 or 5 times a power of ten, labels with
+// the decimals the step needs.
+func TestLinearTicks(t *testing.T) {
+	lab := func(lo, hi float64) []string {
+		var s []string
+		for _, tk := range (linearTicks{}).Ticks(lo, hi) {
+			if tk.Label != "" {
+				s = append(s, tk.Label)
+			}
+		}
+		return s
+	}
+	for _, c := range []struct {
+		lo, hi float64
+		want   []string
+	}{
+		{0, 1, []string{"0.0", "0.2", "0.4", "0.6", "0.8", "1.0"}},
+		{-0.38, 1.02, []string{"-0.2", "0.0", "0.2", "0.4", "0.6", "0.8", "1.0"}},
+		{-1.6, 2.6, []string{"-1", "0", "1", "2"}},
+		{0, 4, []string{"0", "1", "2", "3", "4"}},
+	} {
+		got := lab(c.lo, c.hi)
+		if len(got) != len(c.want) {
+			t.Errorf("[%g, %g]: %v, want %v", c.lo, c.hi, got, c.want)
+			continue
+		}
+		for i := range got {
+			if got[i] != c.want[i] {
+				t.Errorf("[%g, %g]: %v, want %v", c.lo, c.hi, got, c.want)
+				break
+			}
+		}
+	}
+}

@@ -46,8 +46,8 @@ func ExampleConvergence_zeroError() {
 	// plot: Convergence: curve 0 "SUPG, L2": Err[1] = 0: a log axis needs positive values
 }
 
-// Nodal values of two methods and the exact solution of
-// u' − 0.1 u” = 0, u(0) = 0, u(1) = 1 (Pe = 10).
+// Nodal values of a nodally exact method and the exact solution of
+// u′ − 0.1 u″ = 0, u(0) = 0, u(1) = 1 (Pe = 10).
 func ExampleLine() {
 	dir, _ := os.MkdirTemp("", "plot")
 	defer os.RemoveAll(dir)
