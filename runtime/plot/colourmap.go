@@ -125,7 +125,7 @@ func renderColourMap(tri Triangulation, values []float64, opts MapOptions) (*vgi
 	cm.SetMin(lo)
 	cm.SetMax(hi)
 
-	s := math.Max(0.75, float64(w)/800)
+	s := scale(w)
 	lineCol := opts.ContourColour
 	if lineCol == nil {
 		lineCol = color.Black

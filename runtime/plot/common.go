@@ -7,7 +7,6 @@ import (
 	"math"
 
 	gplot "gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -101,7 +100,7 @@ func checkFinite(fn, item, name string, v []float64) error {
 // on larger ones, never below 9 pt.
 func newPlot(title, xlabel, ylabel string, w int) *gplot.Plot {
 	p := gplot.New()
-	s := math.Max(0.75, float64(w)/800)
+	s := scale(w)
 	p.Title.Text = title
 	p.Title.TextStyle.Font.Size = vg.Length(14 * s)
 	p.Title.Padding = vg.Length(6 * s)
@@ -153,7 +152,6 @@ func margin(c draw.Canvas, w int) draw.Canvas {
 	return draw.Crop(c, m, -m, m, -m)
 }
 
-// fontSize is a convenience for text styles made here.
-func fontSize(w int, pt float64) font.Length {
-	return font.Length(pt * math.Max(0.75, float64(w)/800))
-}
+// scale is the factor applied to font sizes and line widths: 1 on an
+// 800-pixel-wide image, in proportion on wider ones, never below 0.75.
+func scale(w int) float64 { return math.Max(0.75, float64(w)/800) }

@@ -104,7 +104,7 @@ func renderConvergence(curves []Curve, opts ConvOptions) (*vgimg.Canvas, error) 
 	grid.Horizontal.Color = color.Gray{0xdd}
 	grid.Vertical.Color = color.Gray{0xdd}
 	p.Add(grid)
-	s := math.Max(0.75, float64(w)/800)
+	s := scale(w)
 	lw := vg.Length(1.25 * s)
 
 	// Reference lines first, so the data is drawn over them.

@@ -90,7 +90,7 @@ func renderLine(series []Series, opts LineOptions) (*vgimg.Canvas, error) {
 	p := newPlot(opts.Title, orDefault(opts.XLabel, "x"), orDefault(opts.YLabel, "u"), w)
 	opts.Legend.place(p, TopRight)
 	p.Add(plotter.NewGrid())
-	lw := vg.Length(1.25 * float64(fontSize(w, 1)))
+	lw := vg.Length(1.25 * scale(w))
 
 	if opts.Exact != nil {
 		exact, err := sampleExact(fn, opts, xmin, xmax)
