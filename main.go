@@ -47,6 +47,7 @@ const usage = `formwright: stabilised weak forms from strong-form operators
 usage:
   formwright derive MODEL [--method galerkin|supg|gls|vms|all] [--format text|latex|json] [-o FILE]
   formwright solve  MODEL [--method M] [--mesh SPEC] [--solver S] [--out FILE.vtu|FILE.csv] [--json] [--quiet]
+  formwright verify MODEL [--exact EXPR] [--source EXPR] [--levels N] [--method M|all] [--tol T] [--plot FILE.png] [--sweep-pe COEF] [--json]
   formwright models       list the standard models and library modules
 
 MODEL is a model file (.fw) or the name of a standard model.
@@ -70,6 +71,8 @@ func run(args []string, stdout, stderr io.Writer) (status int) {
 		err = cmdDerive(args[1:], stdout, stderr)
 	case "solve":
 		err = cmdSolve(args[1:], stdout, stderr)
+	case "verify":
+		err = cmdVerify(args[1:], stdout, stderr)
 	case "models":
 		fmt.Fprintf(stdout, "standard models: %s\nlibrary modules: %s\n", strings.Join(stdlib.Models(), ", "), strings.Join(stdlib.Modules(), ", "))
 	case "help", "-h", "--help":

@@ -237,6 +237,14 @@ func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 			add(Warning, "the advecting field is not divergence-free (∇·a ≠ 0), so B_A is not antisymmetric: GLS and VMS differ in their advective terms")
 		}
 	}
+	if meth == VMS && hasDiff {
+		for _, u := range m.Unknowns {
+			if u.Element == "P2" || u.Element == "Q2" {
+				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ below h²/C_inv, and the inverse constant C_inv grows with the degree: for %s use a degree-aware τ (c1 = 4p⁴, tau_codina_degree) (Franca, Frey & Hughes 1992; Codina 2002)", u.Element)
+				break
+			}
+		}
+	}
 	if meth == GLS || meth == VMS {
 		for _, s := range d.Split {
 			if s.Parts[Diffusive] != nil && m.IsSimplexP1() {

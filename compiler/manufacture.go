@@ -1,0 +1,152 @@
+package compiler
+
+import (
+	"fmt"
+
+	"github.com/formwright/formwright/compiler/ir"
+)
+
+// LowerExpr writes an expression of the model as its scalar components
+// (row-major), with coefficients and τ substituted: the form the runtime
+// evaluates.
+func LowerExpr(m *Model, e ir.Expr) []ir.Expr { return newLowerer(m).Lower(e) }
+
+// Manufactured is a model rewritten so that a chosen function is its exact
+// solution (the method of manufactured solutions: Roache 2002, J. Fluids
+// Eng. 124; Salari & Knupp 2000, Sandia report SAND2000-1444).
+type Manufactured struct {
+	Model *Model
+	// Exact holds the exact solution of each unknown.
+	Exact []ir.Expr
+	// Sources holds the derived source of each equation, L(u*).
+	Sources []ir.Expr
+}
+
+// Manufacture applies the model's operator to exact (one expression per
+// unknown, of the unknown's rank) symbolically and returns a copy of the
+// model whose sources are f = L(u*) and whose boundary data make u* exact:
+// value conditions take u* itself, flux and Robin conditions keep their
+// form with the flux of u* added as data (flux(u) = G(u) + q(u*) − G(u*)),
+// and sides without a condition get the flux of u*. sources, where not nil
+// for an equation, replaces the derived source (to check a source worked
+// out by hand).
+func Manufacture(m *Model, exact []ir.Expr, sources []ir.Expr) (*Manufactured, error) {
+	if len(exact) != len(m.Unknowns) {
+		return nil, fmt.Errorf("manufactured solution: %d expressions for %d unknowns", len(exact), len(m.Unknowns))
+	}
+	for i, u := range m.Unknowns {
+		if exact[i].Rank() != u.Rank {
+			return nil, fmt.Errorf("manufactured solution for %s is a %s, but %s is a %s", u.Name, rankName(exact[i].Rank()), u.Name, rankName(u.Rank))
+		}
+		if ir.HasField(exact[i]) {
+			return nil, fmt.Errorf("manufactured solution for %s must be a function of the coordinates and time only", u.Name)
+		}
+	}
+	sub := func(e ir.Expr) ir.Expr {
+		return ir.MapUp(e, func(n ir.Expr) ir.Expr {
+			if f, ok := n.(*ir.Field); ok && (f.Role == ir.Trial || f.Role == ir.Previous) {
+				return exact[f.Index]
+			}
+			return n
+		})
+	}
+	g, err := WeakGalerkin(m)
+	if err != nil {
+		return nil, err
+	}
+	mm := *m
+	mm.Equations = nil
+	out := &Manufactured{Model: &mm, Exact: exact}
+	for k, eq := range m.Equations {
+		src := Simplify(substituteDefs(m, sub(eq.Written)), m.Dim)
+		if sources != nil && k < len(sources) && sources[k] != nil {
+			src = sources[k]
+		}
+		e := *eq
+		e.Source = src
+		mm.Equations = append(mm.Equations, &e)
+		out.Sources = append(out.Sources, src)
+	}
+	mm.BCs = nil
+	for _, u := range m.Unknowns {
+		for _, side := range m.Sides {
+			var bc *BC
+			for _, b := range m.BCs {
+				if b.Unknown == u.Index && containsStr(b.Sides, side) {
+					bc = b
+				}
+			}
+			p := u.Pos
+			if bc != nil {
+				p = bc.Pos
+			}
+			if bc != nil && bc.Kind == ValueBC {
+				mm.BCs = append(mm.BCs, &BC{Sides: []string{side}, Unknown: u.Index, Kind: ValueBC, Value: exact[u.Index], Pos: p})
+				continue
+			}
+			q := g.Flux[u.Index]
+			if q == nil {
+				continue // no second-order term: no flux to prescribe
+			}
+			var given ir.Expr = ir.Zero(p, u.Rank, m.Dim)
+			kind := FluxBC
+			if bc != nil {
+				given = bc.Value
+				kind = bc.Kind
+			}
+			data := Simplify(ir.Sub(p, substituteDefs(m, sub(q)), substituteDefs(m, sub(given))), m.Dim)
+			mm.BCs = append(mm.BCs, &BC{Sides: []string{side}, Unknown: u.Index, Kind: kind, Value: ir.Sum(p, given, data), Pos: p})
+		}
+	}
+	return out, nil
+}
+
+// DefaultExact is a smooth, non-polynomial solution suited to a model's
+// dimension, for each unknown (vectors get shifted variants per component).
+func DefaultExact(m *Model) []string {
+	scalar := map[int][]string{
+		1: {"sin(pi*x) + x*exp(x)/2", "cos(pi*x/2)", "exp(x)*sin(2*x)"},
+		2: {"sin(pi*x)*sin(pi*y) + x*exp(y)/2", "cos(pi*x)*sin(pi*y)", "sin(pi*x)*cos(pi*y)"},
+		3: {"sin(pi*x)*sin(pi*y)*sin(pi*z) + x*y*z", "cos(pi*x)*sin(pi*y)*z", "sin(pi*x)*y*cos(pi*z)"},
+	}[m.Dim]
+	var out []string
+	for _, u := range m.Unknowns {
+		if u.Rank == 0 {
+			out = append(out, scalar[u.Index%len(scalar)])
+			continue
+		}
+		s := "["
+		for c := 0; c < m.Dim; c++ {
+			if c > 0 {
+				s += ", "
+			}
+			s += scalar[(u.Index+c)%len(scalar)]
+		}
+		out = append(out, s+"]")
+	}
+	return out
+}
+
+// OverrideCoef returns a copy of the model with one constant coefficient
+// given a new value (for parameter sweeps).
+func OverrideCoef(m *Model, name string, value ir.Expr) (*Model, error) {
+	c := m.Coef(name)
+	if c == nil {
+		return nil, fmt.Errorf("the model has no coefficient %q", name)
+	}
+	if c.Def.Rank() != 0 || depsOf(c.Def) != 0 {
+		return nil, fmt.Errorf("coefficient %q is not a constant scalar, so it cannot be swept", name)
+	}
+	mm := *m
+	mm.Coefs = nil
+	for _, k := range m.Coefs {
+		if k.Name == name {
+			kk := *k
+			kk.Def = value
+			mm.Coefs = append(mm.Coefs, &kk)
+			continue
+		}
+		mm.Coefs = append(mm.Coefs, k)
+	}
+	return &mm, nil
+}
