@@ -411,7 +411,13 @@ func (s *scheduler) needed(roots []int) map[int]bool {
 			return
 		}
 		need[id] = true
-		for _, a := range n.args {
+		for i, a := range n.args {
+			an := &s.d.nodes[a]
+			if n.op == opAdd && i > 0 && an.op == opNeg {
+				// written as "- operand" (see expr)
+				visit(an.args[0])
+				continue
+			}
 			visit(a)
 		}
 	}

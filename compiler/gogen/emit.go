@@ -143,9 +143,9 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	var roots []int
 	var stmtsA, stmtsB []stmt
 	comment := func(b *block, strategy string, pick func(*group) bool) []string {
-		out := []string{fmt.Sprintf("%s, rows %d..%d, columns %d..%d:", strategy, b.ro, b.ro+b.nr-1, b.co, b.co+max(b.nc, 1)-1)}
+		out := []string{fmt.Sprintf("%s: rows %d..%d, columns %d..%d:", strategy, b.ro, b.ro+b.nr-1, b.co, b.co+max(b.nc, 1)-1)}
 		if b.nc == 0 {
-			out[0] = fmt.Sprintf("%s, rows %d..%d of the right-hand side:", strategy, b.ro, b.ro+b.nr-1)
+			out[0] = fmt.Sprintf("%s: rows %d..%d of the right-hand side:", strategy, b.ro, b.ro+b.nr-1)
 		}
 		for _, gr := range b.groups {
 			if pick(gr) {
@@ -356,9 +356,8 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	w0.WriteString("// Per cell: geometry, cell quantities and coefficients constant in the cell.\n")
 	sc.emit(&w0, need, lvCell)
 	detLv := g.d.nodes[g.det()].lv
-	check := fmt.Sprintf("if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.refOrNil(g.det()), g.names.fillNaN)
 	if detLv <= lvCell {
-		w0.WriteString(check)
+		fmt.Fprintf(&w0, "if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.ref(g.det()), g.names.fillNaN)
 	}
 	hasA := false
 	hasB := false
@@ -381,8 +380,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		w0.WriteString("// Per quadrature point: geometry, coefficients, basis derivatives.\n")
 		sc.emit(&w0, need, lvPoint)
 		if detLv == lvPoint {
-			check = fmt.Sprintf("if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.ref(g.det()), g.names.fillNaN)
-			w0.WriteString(check)
+			fmt.Fprintf(&w0, "if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.ref(g.det()), g.names.fillNaN)
 		}
 		writeStmts(&w0, sc, stmtsB)
 		w0.WriteString("}\n")
@@ -418,8 +416,6 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	return w0.String(), nil
 }
 
-// refOrNil is ref for nodes already scheduled at cell level.
-func (s *scheduler) refOrNil(id int) string { return s.ref(id) }
 
 func appendProd(g *bodyGen, terms []prod, roots *[]int, a, b int) []prod {
 	av, ac := g.d.isConst(a)
@@ -440,8 +436,37 @@ func appendProd(g *bodyGen, terms []prod, roots *[]int, a, b int) []prod {
 	return append(terms, prod{1, []int{a, b}})
 }
 
+// merge adds up terms with the same factors.
+func merge(ts []prod) []prod {
+	var out []prod
+	for _, t := range ts {
+		found := false
+		for i := range out {
+			if len(out[i].ids) == len(t.ids) && fmt.Sprint(out[i].ids) == fmt.Sprint(t.ids) {
+				out[i].c += t.c
+				found = true
+				break
+			}
+		}
+		if !found {
+			out = append(out, t)
+		}
+	}
+	kept := out[:0]
+	for _, t := range out {
+		if t.c != 0 {
+			kept = append(kept, t)
+		}
+	}
+	return kept
+}
+
 func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
 	for _, s := range ss {
+		s.terms = merge(s.terms)
+		if len(s.terms) == 0 {
+			continue
+		}
 		for _, c := range s.comment {
 			w.WriteString("// " + c + "\n")
 		}

@@ -1,0 +1,172 @@
+package gogen
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/formwright/formwright/compiler"
+	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/stdlib"
+)
+
+// lowerAll parses, checks, derives and lowers a model for every method it
+// declares.
+func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
+	t.Helper()
+	f, errs := lang.Parse(file, src)
+	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
+	errs = append(errs, cerrs...)
+	if len(errs) > 0 {
+		var b strings.Builder
+		errs.Format(&b, m.Sources)
+		t.Fatalf("%s does not check:\n%s", file, b.String())
+	}
+	d, err := compiler.Derive(m, nil)
+	if err != nil {
+		t.Fatalf("%s: derive: %v", file, err)
+	}
+	var out []*ir.LoweredForm
+	for _, fm := range d.Forms {
+		lf, err := d.Lower(fm.Method)
+		if err != nil {
+			t.Fatalf("%s: lower %v: %v", file, fm.Method, err)
+		}
+		out = append(out, lf)
+	}
+	return out
+}
+
+func stdModel(t testing.TB, name string) (string, []byte) {
+	t.Helper()
+	file, src, err := stdlib.Model(name)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return file, src
+}
+
+// repoRoot finds the module root (the directory whose go.mod declares
+// github.com/formwright/formwright) above the working directory.
+func repoRoot(t testing.TB) string {
+	t.Helper()
+	dir, err := os.Getwd()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for {
+		b, err := os.ReadFile(filepath.Join(dir, "go.mod"))
+		if err == nil && strings.Contains(string(b), "module github.com/formwright/formwright\n") {
+			return dir
+		}
+		parent := filepath.Dir(dir)
+		if parent == dir {
+			t.Fatal("module root not found")
+		}
+		dir = parent
+	}
+}
+
+// modelCase is a model for the end-to-end tests.
+type modelCase struct {
+	name string // Go package name of its generated kernels
+	file string
+	src  string
+}
+
+// The model variants. Sources: stdlib models, and variants of adr on every
+// supported element and cell, a symmetric diffusion–reaction problem, a
+// Robin condition, a metric-tensor τ, and hostile names.
+func modelCases(t testing.TB) []modelCase {
+	var cs []modelCase
+	for _, n := range []string{"adr", "stokes", "oseen", "navier_stokes"} {
+		f, s := stdModel(t, n)
+		cs = append(cs, modelCase{n, f, string(s)})
+	}
+	adr := func(dim int, elem, a, kappa string) string {
+		return "model adr_variant\ndimension " + string(rune('0'+dim)) + "\nuse tau\nunknown c: scalar " + elem +
+			"\ngiven a = " + a + "\ngiven kappa = " + kappa + "\ngiven sigma = 1/10\ngiven f = 1 + x\ngiven h = cell_diameter\n" +
+			"equation for c: a . grad(c) - div(kappa*grad(c)) + sigma*c = f\nat all: c = 0\nstabilise galerkin, supg, gls, vms\n" +
+			"tau for c = tau_codina(norm(a), kappa, sigma, h)\n"
+	}
+	cs = append(cs,
+		modelCase{"adrp2", "adr_p2.fw", adr(2, "P2", "[1, 1/2]", "1/100*(1 + x*y)")},
+		modelCase{"adrq1", "adr_q1.fw", adr(2, "Q1", "[1, 1/2]", "1/100")},
+		modelCase{"adrq2", "adr_q2.fw", adr(2, "Q2", "[1, 1/2]", "1/100")},
+		modelCase{"adrint", "adr_interval.fw", adr(1, "P1", "[1]", "1/50")},
+		modelCase{"adrint2", "adr_interval_q2.fw", adr(1, "Q2", "[1]", "1/50*(2 + x)")},
+		modelCase{"adrtet", "adr_tet.fw", adr(3, "P1", "[1, 1/2, 1/4]", "1/100")},
+		modelCase{"adrtet2", "adr_tet_p2.fw", adr(3, "P2", "[1, 1/2, 1/4]", "1/100")},
+		modelCase{"adrhex", "adr_hex.fw", adr(3, "Q1", "[1, 1/2, 1/4]", "1/100*(1+z)")},
+		modelCase{"diffreac", "diffreac.fw", "model diffreac\ndimension 2\nunknown u: scalar P2\ngiven k = 2\ngiven s = 3\n" +
+			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n"},
+		modelCase{"diffreacq", "diffreac_q.fw", "model diffreac\ndimension 2\nunknown u: scalar Q1\ngiven k = 2 + x\ngiven s = 3\n" +
+			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n"},
+		modelCase{"robin", "robin.fw", `# Robin and flux conditions on a tank (after lang/testdata/tank_dye.fw).
+model robin
+dimension 2
+use tau
+unknown c: scalar P1
+given a = [1, 0.5]
+given kappa = 1e-3 * (1 + x^2)
+given f = exp(-10*((x-0.5)^2 + y^2))
+given h = cell_diameter
+equation for c: a . grad(c) - div(kappa*grad(c)) = f
+at left, bottom: c = 0
+at right: flux(c) = x*y
+at top: flux(c) = 2*(1 - c)
+stabilise galerkin, supg, gls, vms
+tau for c = tau_codina(norm(a), kappa, 0, h)
+`},
+		modelCase{"robinq", "robin_q.fw", `model robin_q
+dimension 2
+use tau
+unknown c: scalar Q1
+given a = [1, 0.5]
+given kappa = 1/100
+given h = cell_diameter
+equation for c: a . grad(c) - div(kappa*grad(c)) = 1
+at left: c = 0
+at top: flux(c) = 2*(1 - c)*(1 + x)
+stabilise galerkin, supg
+tau for c = tau_codina(norm(a), kappa, 0, h)
+`},
+		modelCase{"metric", "metric.fw", `model metric
+dimension 2
+use tau
+unknown c: scalar Q1
+given a = [1, 1/3]
+given kappa = 1/100
+equation for c: a . grad(c) - div(kappa*grad(c)) = 1
+at all: c = 0
+stabilise supg, vms
+tau for c = tau_metric_steady(a, kappa, 36)
+`},
+		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel},
+	)
+	return cs
+}
+
+// hostileModel uses names that are Go keywords, predeclared identifiers
+// or collide with the generator's own (func, init, return_, _, nan, x, q,
+// acc, rhs, A, b) — all legal model names.
+const hostileModel = `# Names chosen to collide with Go. */ /* not a comment end in Go
+model func
+dimension 2
+sides init, return_, _, go
+unknown func: scalar P1
+given return_ = 1
+given x_ = 1/10
+given nan = 2
+given acc = [1, 0]
+given rhs = 1
+equation for func: acc . grad(func) - div(x_*grad(func)) + nan*func = rhs
+at init: func = 0
+at return_: flux(func) = 1
+at _: flux(func) = 2 - func
+at go: flux(func) = return_ * x
+stabilise galerkin, supg
+tau for func = 1/(2/cell_diameter + 4*x_/cell_diameter^2)
+`
