@@ -5,6 +5,7 @@ import (
 	"math"
 	"runtime"
 	"sync"
+	"sync/atomic"
 
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/mesh"
@@ -52,11 +53,12 @@ func New(m *mesh.Mesh, dm *dof.Map) *Assembler {
 			dst[i] = int32(v)
 		}
 	}
+	a.pattern.Val = nil // structure only; matrices come from NewMatrix
 	return a
 }
 
-// Pattern returns the assembler's CSR pattern (values are scratch). Use
-// NewMatrix for a matrix to assemble into.
+// Pattern returns the assembler's CSR pattern: RowPtr and Col only (Val
+// is nil). Use NewMatrix for a matrix to assemble into.
 func (a *Assembler) Pattern() *sparse.CSR { return a.pattern }
 
 // NewMatrix returns a zero matrix with the assembler's pattern; RowPtr and
@@ -114,6 +116,9 @@ func batchCells(n int) int {
 	return max(64, (1<<18)/(n*n+n))
 }
 
+// subChunk is the number of cells a worker takes at a time in phase 1.
+const subChunk = 256
+
 // rowBlockShift: rows are owned in blocks of 64 for the parallel scatter,
 // so two workers rarely write the same cache line of Val.
 const rowBlockShift = 6
@@ -124,8 +129,9 @@ const rowBlockShift = 6
 // its side.
 //
 // Parallel and deterministic: the cells are taken in batches; in each
-// batch the workers first compute the element matrices of contiguous
-// chunks of cells into a batch buffer, then scatter it, each worker adding
+// batch the workers first compute the element matrices of sub-chunks of
+// 256 cells, taken from a shared counter, into a batch buffer, then
+// scatter it, each worker adding
 // only the rows it owns (row blocks of 64 dealt round-robin) while walking
 // the batch in cell order. Every entry of A and b therefore receives its
 // contributions in increasing cell order, whatever the number of workers:
@@ -181,13 +187,25 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 			a.scatterAll(A, b, start, end, bufA, bufB)
 			continue
 		}
+		// Phase 1: workers take sub-chunks of the batch from a shared
+		// counter (dynamic balance on a shared machine); where a cell's
+		// element data is computed does not affect the result.
+		var next atomic.Int64
+		nsub := int64((cnt + subChunk - 1) / subChunk)
 		for w := 0; w < W; w++ {
-			lo, hi := start+cnt*w/W, start+cnt*(w+1)/W
 			wk := ws[w]
 			run := func() {
-				for c := lo; c < hi; c++ {
-					i := c - start
-					a.compute(wk, c, bufA[i*n*n:(i+1)*n*n], bufB[i*n:(i+1)*n], in.Previous)
+				for {
+					j := next.Add(1) - 1
+					if j >= nsub {
+						return
+					}
+					lo := start + int(j)*subChunk
+					hi := min(lo+subChunk, end)
+					for c := lo; c < hi; c++ {
+						i := c - start
+						a.compute(wk, c, bufA[i*n*n:(i+1)*n*n], bufB[i*n:(i+1)*n], in.Previous)
+					}
 				}
 			}
 			if w == W-1 {

@@ -8,6 +8,7 @@ import (
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/mesh"
+	"gonum.org/v1/gonum/mat"
 )
 
 // p1Laplace is a hand-written P1 triangle kernel for ∫∇u·∇v + ∫ v, by the
@@ -114,5 +115,68 @@ func TestLayoutMismatch(t *testing.T) {
 	a := New(m, dm)
 	if err := a.Assemble(p1Laplace{}, nil, a.NewMatrix(), make([]float64, dm.NumDofs), Input{}); err == nil {
 		t.Error("triangle kernel on a quad mesh accepted")
+	}
+}
+
+// Constrain on the P1 Laplacian: the constrained system keeps symmetry
+// and its solution equals the dense solution of the reduced (free–free)
+// system with the boundary values moved to the right-hand side, computed
+// independently with gonum's dense LU.
+func TestConstrainAgainstReducedDense(t *testing.T) {
+	m, a := setup(t, 5)
+	A := a.NewMatrix()
+	b := make([]float64, a.Dofs.NumDofs)
+	if err := a.Assemble(p1Laplace{}, nil, A, b, Input{}); err != nil {
+		t.Fatal(err)
+	}
+	n := a.Dofs.NumDofs
+	fixed, values := make([]bool, n), make([]float64, n)
+	for v := 0; v < n; v++ {
+		x := m.Vertex(v)
+		if x[0] == 0 || x[1] == 0 || x[0] == 1 || x[1] == 1 {
+			fixed[v], values[v] = true, x[0]+2*x[1]
+		}
+	}
+	D := A.ToDense()
+	var free []int
+	for i := 0; i < n; i++ {
+		if !fixed[i] {
+			free = append(free, i)
+		}
+	}
+	red := mat.NewDense(len(free), len(free), nil)
+	rhs := mat.NewVecDense(len(free), nil)
+	for r, i := range free {
+		s := b[i]
+		for j := 0; j < n; j++ {
+			if fixed[j] {
+				s -= D.At(i, j) * values[j]
+			}
+		}
+		rhs.SetVec(r, s)
+		for c, j := range free {
+			red.Set(r, c, D.At(i, j))
+		}
+	}
+	var want mat.VecDense
+	if err := want.SolveVec(red, rhs); err != nil {
+		t.Fatal(err)
+	}
+	if !Constrain(A, b, fixed, values) || !A.IsSymmetric(0) {
+		t.Fatal("P1 Laplacian not treated as symmetric")
+	}
+	var got mat.VecDense
+	if err := got.SolveVec(A.ToDense(), mat.NewVecDense(n, b)); err != nil {
+		t.Fatal(err)
+	}
+	for r, i := range free {
+		if math.Abs(got.AtVec(i)-want.AtVec(r)) > 1e-12 {
+			t.Errorf("dof %d: %v, reduced system gives %v", i, got.AtVec(i), want.AtVec(r))
+		}
+	}
+	for i := 0; i < n; i++ {
+		if fixed[i] && math.Abs(got.AtVec(i)-values[i]) > 1e-12 {
+			t.Errorf("fixed dof %d = %v, want %v", i, got.AtVec(i), values[i])
+		}
 	}
 }

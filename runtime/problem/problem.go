@@ -241,10 +241,9 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 		if err := asm.Assemble(cellK, facetK, A, b, assemble.Input{Time: opts.Time, Previous: prev}); err != nil {
 			return nil, err
 		}
-		sum.Symmetric = A.IsSymmetric(1e-12)
 		Asys = A.Clone()
 		bsys = append(bsys[:0], b...)
-		Asys.EliminateRows(fixed, values, bsys, sum.Symmetric)
+		sum.Symmetric = assemble.Constrain(Asys, bsys, fixed, values)
 		t1 := time.Now()
 		tAsm += t1.Sub(t0)
 		so := chooseSolver(opts, sum.Symmetric, dm.NumDofs)
