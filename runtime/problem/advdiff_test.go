@@ -149,3 +149,41 @@ func TestGalerkinOscillates1D(t *testing.T) {
 	}
 	t.Logf("Galerkin α = 2.5, N = %d: max nodal error %.3f, %d sign changes", n, maxErr, changes)
 }
+
+// Boundary integrals end to end: −u″ = 0 on (0,1), u(0) = 0 and the Robin
+// condition u′(1) + β u(1) = g, weak form ∫ u′v′ + β u(1)v(1) = g v(1)
+// (a bilinear and a linear term on side "right"). Exact solution
+// u = g x/(1+β) (by hand), reproduced nodally by P1 (the exact solution is
+// in the space). Tolerance 1e-13.
+func TestRobinBoundary1D(t *testing.T) {
+	beta, g := 3.0, 2.0
+	form := &ir.LoweredForm{
+		Method: "galerkin", Dim: 1,
+		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Integrals: []ir.Integral{
+			{Bilinear: []ir.Term{{Coef: num(1, 1), Trial: fd(trialU, 0, 1), Test: fd(testU, 0, 1)}}},
+			{Domain: ir.Domain{Side: mesh.Right},
+				Bilinear: []ir.Term{{Coef: flt(beta), Trial: fd(trialU, 0), Test: fd(testU, 0)}},
+				Linear:   []ir.Term{{Coef: mul(flt(g), &ir.CellQ{Name: "n", I: 0}), Test: fd(testU, 0)}}},
+		},
+		Dirichlet: []ir.DirichletCondition{{Side: mesh.Left, Value: num(0, 1)}},
+	}
+	sol, err := Solve(form, mesh.Interval(0, 1, 7, 1.2), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	xs := sol.Dofs.NodeCoords(0)
+	for i, u := range sol.Fields[0].Values[0] {
+		if want := g * xs[i] / (1 + beta); math.Abs(u-want) > 1e-13 {
+			t.Errorf("u(%v) = %.15g, want %.15g", xs[i], u, want)
+		}
+	}
+	if sol.Summary.Symmetric != true {
+		t.Error("symmetric Robin form reported nonsymmetric")
+	}
+	// A side the mesh lacks is an input error, not a panic.
+	form.Integrals[1].Domain.Side = "outlet"
+	if _, err := Solve(form, mesh.Interval(0, 1, 4, 1), Options{}); err == nil {
+		t.Error("integral on a missing side accepted")
+	}
+}

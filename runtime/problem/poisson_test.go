@@ -3,12 +3,14 @@ package problem
 import (
 	"bytes"
 	"encoding/binary"
+	"errors"
 	"math"
 	"testing"
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/quadrature"
 )
@@ -183,5 +185,32 @@ func TestSolveBitIdenticalWorkers(t *testing.T) {
 		if !bytes.Equal(bitsOf(sol.Matrix.Val), bitsOf(ref.Matrix.Val)) || !bytes.Equal(bitsOf(sol.RHS), bitsOf(ref.RHS)) || !bytes.Equal(bitsOf(sol.X), bitsOf(ref.X)) {
 			t.Errorf("%d workers: results differ from 1 worker", w)
 		}
+	}
+}
+
+// Numerical failure comes back as the linsolve typed error, unchanged:
+// CG limited to 3 iterations cannot solve a 20×20 Poisson problem to
+// 1e-10.
+func TestSolverFailureIsTyped(t *testing.T) {
+	f := mul(num(2, 1), pi, pi, sinSin())
+	_, err := Solve(poisson("P1", f), mesh.Rectangle(0, 1, 0, 1, 20, 20, mesh.DiagonalUp),
+		Options{Solver: &linsolve.Options{Method: linsolve.MethodCG, MaxIter: 3}})
+	var nc *linsolve.NotConvergedError
+	if !errors.As(err, &nc) || nc.Iter != 3 {
+		t.Fatalf("error %v (%T), want *linsolve.NotConvergedError after 3 iterations", err, err)
+	}
+	// The automatic choice for a symmetric problem with the iterative path
+	// forced by size is CG+ILU(0); here (small) it is direct.
+	sol, err := Solve(poisson("P1", f), mesh.Rectangle(0, 1, 0, 1, 20, 20, mesh.DiagonalUp), Options{})
+	if err != nil || sol.Summary.Solver != "direct" || !sol.Summary.Symmetric {
+		t.Errorf("automatic choice: %v, %q, symmetric %v", err, sol.Summary.Solver, sol.Summary.Symmetric)
+	}
+	so := chooseSolver(Options{}, true, DirectLimit)
+	if so.Method != linsolve.MethodCG || so.Precond != linsolve.PrecondILU0 {
+		t.Errorf("large symmetric: %v+%v, want cg+ilu0", so.Method, so.Precond)
+	}
+	so = chooseSolver(Options{}, false, DirectLimit)
+	if so.Method != linsolve.MethodGMRES || so.Precond != linsolve.PrecondILU0 {
+		t.Errorf("large nonsymmetric: %v+%v, want gmres+ilu0", so.Method, so.Precond)
 	}
 }
