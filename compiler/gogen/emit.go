@@ -416,7 +416,6 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	return w0.String(), nil
 }
 
-
 func appendProd(g *bodyGen, terms []prod, roots *[]int, a, b int) []prod {
 	av, ac := g.d.isConst(a)
 	bv, bc := g.d.isConst(b)

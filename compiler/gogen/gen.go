@@ -334,15 +334,17 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	if !ok {
 		mid = "Method" + Mangle(lf.Method)
 	}
-	typ := fn.prefix + mid + "Kernel"
+	// A second form of the same method in one file gets its index.
+	suffix := ""
+	if typeNames[fn.prefix+mid+"Kernel"] {
+		suffix = strconv.Itoa(fi)
+	}
+	typ := fn.prefix + mid + "Kernel" + suffix
 	if typeNames[typ] {
-		typ = fmt.Sprintf("%s%sKernel%d", fn.prefix, mid, fi)
+		return fmt.Errorf("gogen: duplicate kernel name %s", typ)
 	}
 	typeNames[typ] = true
-	internal := fn.internal + mid
-	if fi > 0 {
-		internal = fmt.Sprintf("%s%d", internal, fi)
-	}
+	internal := fn.internal + mid + suffix
 	layoutVar := internal + "Layout"
 
 	// Fields.
@@ -402,7 +404,7 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 		return err
 	}
 	flushTables(g)
-	fmt.Fprintf(body, "// %s is the generated cell kernel of the %s form on %v cells, quadrature\n// degree %d (%d points). It implements assemble.Kernel, keeps no state and\n// does not allocate.", typ, lf.Method, c, deg, rule.NumPoints())
+	fmt.Fprintf(body, "// %s is the generated cell kernel of the %s form on %v cells, quadrature\n// degree %d (%s). It implements assemble.Kernel, keeps no state and\n// does not allocate.", typ, lf.Method, c, deg, points(rule.NumPoints()))
 	if sym {
 		body.WriteString(" The form is symmetric; only the upper triangle is computed.")
 	}
@@ -428,10 +430,7 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	}
 	var facetTypes []string
 	for si, side := range sides {
-		ft := fmt.Sprintf("%s%sFacetKernel_%s", fn.prefix, mid, Mangle(side))
-		if fi > 0 {
-			ft = fmt.Sprintf("%s%sFacetKernel%d_%s", fn.prefix, mid, fi, Mangle(side))
-		}
+		ft := fmt.Sprintf("%s%sFacetKernel%s_%s", fn.prefix, mid, suffix, Mangle(side))
 		if typeNames[ft] {
 			return fmt.Errorf("gogen: duplicate facet kernel name %s", ft)
 		}
@@ -454,7 +453,7 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 			}
 			flushTables(g)
 			fmt.Fprintf(&cases, "case %d:\nk.facet%d(&in.CellInput, A, b)\n", f, f)
-			fmt.Fprintf(&methods, "// facet%d integrates over local facet %d (%d points).\nfunc (%s) facet%d(in *assemble.CellInput, A, b []float64) {\n%s}\n\n", f, f, len(wts), ft, f, code)
+			fmt.Fprintf(&methods, "// facet%d integrates over local facet %d (%s).\nfunc (%s) facet%d(in *assemble.CellInput, A, b []float64) {\n%s}\n\n", f, f, points(len(wts)), ft, f, code)
 		}
 		fmt.Fprintf(body, "// %s is the generated kernel of the %s form's integral over the\n// boundary side %s. It implements assemble.FacetKernel and does not allocate.\n", ft, lf.Method, strconv.Quote(sanitize(side)))
 		fmt.Fprintf(body, "type %s struct{}\n\nvar _ assemble.FacetKernel = %s{}\n\n", ft, ft)
@@ -478,4 +477,11 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	}
 	reg.WriteString("})\n")
 	return nil
+}
+
+func points(n int) string {
+	if n == 1 {
+		return "1 point"
+	}
+	return strconv.Itoa(n) + " points"
 }

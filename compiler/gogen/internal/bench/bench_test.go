@@ -1,0 +1,139 @@
+package bench
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/interp"
+)
+
+// randomCells returns n seeded random non-degenerate cells: the reference
+// cell with each vertex moved by up to 1/8 of its size, scaled and
+// shifted.
+func randomCells(c cell.Type, n int) []assemble.CellInput {
+	rng := rand.New(rand.NewPCG(7, 11))
+	ref := c.Vertices()
+	d := c.Dim()
+	out := make([]assemble.CellInput, n)
+	for k := range out {
+		s := 0.01 + 0.1*rng.Float64()
+		sx, sy := rng.Float64(), rng.Float64()
+		x := make([]float64, len(ref))
+		for i, v := range ref {
+			shift := sx
+			if i%d == 1 {
+				shift = sy
+			}
+			x[i] = s*(v+0.25*(rng.Float64()-0.5)) + shift
+		}
+		out[k] = assemble.CellInput{Index: k, Coords: x}
+	}
+	return out
+}
+
+func kernels(t testing.TB, model string, c cell.Type) (gen, hand assemble.Kernel, in *interp.Kernel) {
+	_, lf := lowerSUPG(t, model)
+	ik, err := interp.NewKernel(lf, c, interp.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	switch c {
+	case cell.Triangle:
+		return P1SUPGKernel{}, handP1{}, ik
+	}
+	return Q2SUPGKernel{}, handQ2{}, ik
+}
+
+// The three kernels compute the same element matrix and vector: the
+// interpreted one (runtime/interp) is the reference for both, within
+// 1e-13 of the largest entry (round-off of sums in different orders;
+// common practice, no source). This also checks that the hand-written bar
+// really implements the form.
+func TestKernelsAgree(t *testing.T) {
+	for _, tc := range []struct {
+		model string
+		c     cell.Type
+	}{{"adr", cell.Triangle}, {"adr_q2.fw", cell.Quadrilateral}} {
+		gen, hand, ik := kernels(t, tc.model, tc.c)
+		if tc.c == cell.Quadrilateral && ik.Rule().NumPoints() != q2q {
+			t.Fatalf("interpreted Q2 rule has %d points, the hand-written kernel assumes %d", ik.Rule().NumPoints(), q2q)
+		}
+		n := gen.Layout().N()
+		for _, in := range randomCells(tc.c, 8) {
+			Ar, br := make([]float64, n*n), make([]float64, n)
+			ik.Cell(&in, Ar, br)
+			for name, k := range map[string]assemble.Kernel{"generated": gen, "hand-written": hand} {
+				A, b := make([]float64, n*n), make([]float64, n)
+				k.Cell(&in, A, b)
+				for _, p := range [][2][]float64{{A, Ar}, {b, br}} {
+					scale := 0.0
+					for _, v := range p[1] {
+						scale = math.Max(scale, math.Abs(v))
+					}
+					for i := range p[1] {
+						if math.Abs(p[0][i]-p[1][i]) > 1e-13*scale {
+							t.Fatalf("%s %v cell %d: entry %d = %.17g, interpreted %.17g", name, tc.c, in.Index, i, p[0][i], p[1][i])
+						}
+					}
+				}
+			}
+		}
+		in := randomCells(tc.c, 1)[0]
+		A, b := make([]float64, n*n), make([]float64, n)
+		if a := testing.AllocsPerRun(100, func() { gen.Cell(&in, A, b) }); a != 0 {
+			t.Errorf("generated %v kernel allocates %v times per cell", tc.c, a)
+		}
+	}
+}
+
+var sink float64
+
+// benchKernel times one element matrix and vector per iteration, cycling
+// through 256 seeded random cells, and reports ns/element.
+func benchKernel(b *testing.B, k assemble.Kernel, c cell.Type) {
+	cells := randomCells(c, 256)
+	n := k.Layout().N()
+	A, rhs := make([]float64, n*n), make([]float64, n)
+	i := 0
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		k.Cell(&cells[i&255], A, rhs)
+		i++
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/element")
+	sink += A[0] + rhs[0]
+}
+
+func BenchmarkSUPGP1Generated(b *testing.B) {
+	g, _, _ := kernels(b, "adr", cell.Triangle)
+	benchKernel(b, g, cell.Triangle)
+}
+
+func BenchmarkSUPGP1Hand(b *testing.B) {
+	_, h, _ := kernels(b, "adr", cell.Triangle)
+	benchKernel(b, h, cell.Triangle)
+}
+
+func BenchmarkSUPGP1Interpreted(b *testing.B) {
+	_, _, k := kernels(b, "adr", cell.Triangle)
+	benchKernel(b, k, cell.Triangle)
+}
+
+func BenchmarkSUPGQ2Generated(b *testing.B) {
+	g, _, _ := kernels(b, "adr_q2.fw", cell.Quadrilateral)
+	benchKernel(b, g, cell.Quadrilateral)
+}
+
+func BenchmarkSUPGQ2Hand(b *testing.B) {
+	_, h, _ := kernels(b, "adr_q2.fw", cell.Quadrilateral)
+	benchKernel(b, h, cell.Quadrilateral)
+}
+
+func BenchmarkSUPGQ2Interpreted(b *testing.B) {
+	_, _, k := kernels(b, "adr_q2.fw", cell.Quadrilateral)
+	benchKernel(b, k, cell.Quadrilateral)
+}
