@@ -202,9 +202,26 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	meth, err := pickMethod(m, *sf.method)
-	if err != nil {
-		return err
+	var methods []compiler.Method
+	if *sf.method == "all" {
+		methods = m.Methods
+		if len(methods) == 0 {
+			methods = []compiler.Method{compiler.Galerkin}
+		}
+		if *out != "" || *asJSON {
+			return &usageError{"--method all cannot be combined with --out or --json: choose one method"}
+		}
+	} else {
+		meth, err := pickMethod(m, *sf.method)
+		if err != nil {
+			return err
+		}
+		methods = []compiler.Method{meth}
+	}
+	for _, meth := range methods {
+		if _, err := pickMethod(m, meth.String()); err != nil {
+			return err
+		}
 	}
 	progress := func(it int, r float64) {
 		if !*sf.quiet && it%25 == 0 {
@@ -219,35 +236,50 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	lf, err := lowerModel(m, meth)
-	if err != nil {
-		return err
-	}
-	start := time.Now()
-	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so}
-	path := kernelPath(lf, msh, &opts)
-	sol, err := problem.Solve(lf, msh, opts)
-	if err != nil {
-		return solveError(err)
-	}
-	wall := time.Since(start)
-	if err := checkFinite(sol); err != nil {
-		return err
+	var sols []*problem.Solution
+	for k, meth := range methods {
+		lf, err := lowerModel(m, meth)
+		if err != nil {
+			return err
+		}
+		start := time.Now()
+		opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so}
+		path := kernelPath(lf, msh, &opts)
+		sol, err := problem.Solve(lf, msh, opts)
+		if err != nil {
+			return solveError(err)
+		}
+		wall := time.Since(start)
+		if err := checkFinite(sol); err != nil {
+			return err
+		}
+		sols = append(sols, sol)
+		if *asJSON {
+			if *out != "" {
+				if err := writeSolution(*out, sol, *ascii); err != nil {
+					return err
+				}
+			}
+			return writeSummaryJSON(stdout, m, meth, spec, path, sol, wall)
+		}
+		if k > 0 {
+			fmt.Fprintln(stdout)
+		}
+		writeSummaryText(stdout, m, meth, spec, path, sol, wall)
+		if e := exactError(m, sol); e != "" {
+			fmt.Fprintln(stdout, e)
+		}
 	}
 	if *out != "" {
-		if err := writeSolution(*out, sol, *ascii); err != nil {
+		if err := writeSolution(*out, sols[0], *ascii); err != nil {
 			return err
 		}
 	}
 	if *plotPath != "" {
-		if err := plotSolution(*plotPath, sol, m, meth); err != nil {
+		if err := plotSolutions(*plotPath, sols, m, methods); err != nil {
 			return err
 		}
 	}
-	if *asJSON {
-		return writeSummaryJSON(stdout, m, meth, spec, path, sol, wall)
-	}
-	writeSummaryText(stdout, m, meth, spec, path, sol, wall)
 	return nil
 }
 

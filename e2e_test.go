@@ -48,7 +48,7 @@ func solveModel(t *testing.T, src string, meth compiler.Method, spec string) *pr
 	return sol
 }
 
-// exact1D is the solution of a u' − k u'' = s on (0,1), u(0) = 0, u(1) = 1
+// exact1D is the solution of a u' − k u” = s on (0,1), u(0) = 0, u(1) = 1
 // (REFERENCES.md, checked): u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1),
 // Pe = a/k, written in the overflow-free form for large Pe.
 func exact1D(a, k, s, x float64) float64 {

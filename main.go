@@ -48,6 +48,7 @@ usage:
   formwright derive MODEL [--method galerkin|supg|gls|vms|all] [--format text|latex|json] [-o FILE]
   formwright solve  MODEL [--method M] [--mesh SPEC] [--solver S] [--out FILE.vtu|FILE.csv] [--json] [--quiet]
   formwright verify MODEL [--exact EXPR] [--source EXPR] [--levels N] [--method M|all] [--tol T] [--plot FILE.png] [--sweep-pe COEF] [--json]
+  formwright gen    MODEL [-o DIR] [--package NAME] [--method M,...] [--prefix NAME]
   formwright models       list the standard models and library modules
 
 MODEL is a model file (.fw) or the name of a standard model.
@@ -73,6 +74,8 @@ func run(args []string, stdout, stderr io.Writer) (status int) {
 		err = cmdSolve(args[1:], stdout, stderr)
 	case "verify":
 		err = cmdVerify(args[1:], stdout, stderr)
+	case "gen":
+		err = cmdGen(args[1:], stdout, stderr)
 	case "models":
 		fmt.Fprintf(stdout, "standard models: %s\nlibrary modules: %s\n", strings.Join(stdlib.Models(), ", "), strings.Join(stdlib.Modules(), ", "))
 	case "help", "-h", "--help":
