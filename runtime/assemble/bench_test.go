@@ -2,6 +2,7 @@ package assemble_test
 
 import (
 	"runtime"
+	"sync"
 	"testing"
 
 	"github.com/formwright/formwright/runtime/assemble"
@@ -99,3 +100,91 @@ func BenchmarkPlainLoopSearchSUPG1000Nodes(b *testing.B)  { benchPlain(b, 1000, 
 func BenchmarkAssembleSUPG200Nodes1Worker(b *testing.B)   { benchAssemble(b, 200, 1) }
 func BenchmarkAssembleSUPG200Nodes2Workers(b *testing.B)  { benchAssemble(b, 200, 2) }
 func BenchmarkPlainLoopSUPG200Nodes(b *testing.B)         { benchPlain(b, 200, false) }
+
+// benchColoured is the alternative the assembler was compared with: cells
+// greedily coloured so that no two cells of a colour share a dof, colours
+// run in order, the cells of a colour split among the workers, each cell
+// computed and scattered directly (deterministic too, but in colour order,
+// not cell order).
+func benchColoured(b *testing.B, nodes, workers int) {
+	p := newProblem(b, nodes, 0)
+	A, rhs := p.a.NewMatrix(), make([]float64, p.a.Dofs.NumDofs)
+	n := p.k.Layout().N()
+	nc := p.m.NumCells()
+	pos := make([]int32, nc*n*n)
+	var tmp []int
+	used := make([]uint64, p.a.Dofs.NumDofs)
+	colour := make([]int, nc)
+	ncol := 0
+	for c := 0; c < nc; c++ {
+		dofs := p.a.Dofs.CellDofs(c)
+		tmp = A.ScatterIndex(dofs, tmp)
+		for i, v := range tmp {
+			pos[c*n*n+i] = int32(v)
+		}
+		var m uint64
+		for _, g := range dofs {
+			m |= used[g]
+		}
+		k := 0
+		for m&(1<<k) != 0 {
+			k++
+		}
+		colour[c] = k
+		ncol = max(ncol, k+1)
+		for _, g := range dofs {
+			used[g] |= 1 << k
+		}
+	}
+	start := make([]int, ncol+1)
+	for _, k := range colour {
+		start[k+1]++
+	}
+	for k := 0; k < ncol; k++ {
+		start[k+1] += start[k]
+	}
+	order := make([]int, nc)
+	next := append([]int(nil), start[:ncol]...)
+	for c, k := range colour {
+		order[next[k]] = c
+		next[k]++
+	}
+	ks := make([]assemble.Kernel, workers)
+	for w := range ks {
+		ks[w] = p.k.Fork()
+	}
+	b.ResetTimer()
+	for b.Loop() {
+		clear(A.Val)
+		clear(rhs)
+		for k := 0; k < ncol; k++ {
+			cells := order[start[k]:start[k+1]]
+			var wg sync.WaitGroup
+			for w := 0; w < workers; w++ {
+				part := cells[len(cells)*w/workers : len(cells)*(w+1)/workers]
+				wg.Go(func() {
+					Ae, be := make([]float64, n*n), make([]float64, n)
+					in := &assemble.CellInput{}
+					for _, c := range part {
+						in.Index = c
+						in.Coords = p.m.CellCoords(c, in.Coords[:0])
+						ks[w].Cell(in, Ae, be)
+						for i, q := range pos[c*n*n : (c+1)*n*n] {
+							A.Val[q] += Ae[i]
+						}
+						for i, g := range p.a.Dofs.CellDofs(c) {
+							rhs[g] += be[i]
+						}
+					}
+				})
+			}
+			wg.Wait()
+		}
+	}
+	report(b, nc)
+	b.ReportMetric(float64(ncol), "colours")
+	sinkVal = A.Val[0] + rhs[0]
+}
+
+func BenchmarkColouredSUPG1000Nodes1Worker(b *testing.B)  { benchColoured(b, 1000, 1) }
+func BenchmarkColouredSUPG1000Nodes2Workers(b *testing.B) { benchColoured(b, 1000, 2) }
