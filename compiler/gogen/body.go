@@ -169,6 +169,9 @@ func (g *bodyGen) refGrad(ei, a, m int) int {
 
 func (g *bodyGen) refHess(ei, a, m, n int) int {
 	d := g.dim
+	if m > n {
+		m, n = n, m // symmetric
+	}
 	if ei < 0 {
 		return g.entry(g.tabName(ei, "Hess"), g.gtab.hess, (a*d+m)*d+n)
 	}
@@ -222,53 +225,78 @@ func (g *bodyGen) cof(k int) int {
 	return s(m(J(1, 0), J(2, 1)), m(J(1, 1), J(2, 0)))
 }
 
-// jinv is ∂ξ_i/∂x_j.
-func (g *bodyGen) jinv(i, j int) int {
-	return g.memoize(fmt.Sprintf("K%d%d", i, j), func() int {
+// adj is entry (i, j) of the adjugate of J, so that ∂ξ_i/∂x_j =
+// adj(i, j)/det J.
+func (g *bodyGen) adj(i, j int) int {
+	return g.memoize(fmt.Sprintf("adj%d%d", i, j), func() int {
 		J := func(i, j int) int { return g.jac(i, j) }
 		m, s := g.d.mul, g.d.sub
-		det := g.det()
-		var v int
 		switch g.dim {
 		case 1:
-			v = g.d.div(g.d.konst(1), det)
+			return g.d.konst(1)
 		case 2:
 			switch 2*i + j {
 			case 0:
-				v = g.d.div(J(1, 1), det)
+				return J(1, 1)
 			case 1:
-				v = g.d.div(g.d.neg(J(0, 1)), det)
+				return g.d.neg(J(0, 1))
 			case 2:
-				v = g.d.div(g.d.neg(J(1, 0)), det)
-			case 3:
-				v = g.d.div(J(0, 0), det)
+				return g.d.neg(J(1, 0))
 			}
-		case 3:
-			r := g.memoize("rdet", func() int { return g.d.name(g.d.div(g.d.konst(1), det), "rdetJ") })
-			var c int
-			switch 3*i + j {
-			case 0:
-				c = g.cof(0)
-			case 1:
-				c = s(m(J(0, 2), J(2, 1)), m(J(0, 1), J(2, 2)))
-			case 2:
-				c = s(m(J(0, 1), J(1, 2)), m(J(0, 2), J(1, 1)))
-			case 3:
-				c = g.cof(1)
-			case 4:
-				c = s(m(J(0, 0), J(2, 2)), m(J(0, 2), J(2, 0)))
-			case 5:
-				c = s(m(J(0, 2), J(1, 0)), m(J(0, 0), J(1, 2)))
-			case 6:
-				c = g.cof(2)
-			case 7:
-				c = s(m(J(0, 1), J(2, 0)), m(J(0, 0), J(2, 1)))
-			case 8:
-				c = s(m(J(0, 0), J(1, 1)), m(J(0, 1), J(1, 0)))
-			}
-			v = m(c, r)
+			return J(0, 0)
 		}
-		return g.d.name(v, fmt.Sprintf("k%d%d", i, j))
+		switch 3*i + j {
+		case 0:
+			return g.cof(0)
+		case 1:
+			return s(m(J(0, 2), J(2, 1)), m(J(0, 1), J(2, 2)))
+		case 2:
+			return s(m(J(0, 1), J(1, 2)), m(J(0, 2), J(1, 1)))
+		case 3:
+			return g.cof(1)
+		case 4:
+			return s(m(J(0, 0), J(2, 2)), m(J(0, 2), J(2, 0)))
+		case 5:
+			return s(m(J(0, 2), J(1, 0)), m(J(0, 0), J(1, 2)))
+		case 6:
+			return g.cof(2)
+		case 7:
+			return s(m(J(0, 1), J(2, 0)), m(J(0, 0), J(2, 1)))
+		}
+		return s(m(J(0, 0), J(1, 1)), m(J(0, 1), J(1, 0)))
+	})
+}
+
+// rdet is 1/det J.
+func (g *bodyGen) rdet() int {
+	return g.memoize("rdet", func() int { return g.d.name(g.d.recip(g.det()), "rdetJ") })
+}
+
+// jinv is ∂ξ_i/∂x_j.
+func (g *bodyGen) jinv(i, j int) int {
+	return g.memoize(fmt.Sprintf("K%d%d", i, j), func() int {
+		if g.dim == 1 {
+			return g.d.name(g.rdet(), "k00")
+		}
+		return g.d.name(g.d.mul(g.adj(i, j), g.rdet()), fmt.Sprintf("k%d%d", i, j))
+	})
+}
+
+// scaledR is scale·(1/det J)^p: the integration factor of a pre-integrated
+// pair whose two basis derivatives carry p adjugate factors in all. In a
+// cell the scale is det J itself, so the powers cancel exactly.
+func (g *bodyGen) scaledR(p int) int {
+	return g.memoize(fmt.Sprintf("sR%d", p), func() int {
+		if g.facet != nil {
+			return g.d.mul(g.measure(), g.d.powInt(g.rdet(), p))
+		}
+		switch p {
+		case 0:
+			return g.det()
+		case 1:
+			return g.d.konst(1)
+		}
+		return g.d.powInt(g.rdet(), p-1)
 	})
 }
 
@@ -283,6 +311,9 @@ func (g *bodyGen) point(k int) int {
 }
 
 func (g *bodyGen) d2x(k, a, b int) int {
+	if a > b {
+		a, b = b, a
+	}
 	return g.memoize(fmt.Sprintf("D2X%d%d%d", k, a, b), func() int {
 		var ts []int
 		for n := 0; n < g.geom.NumNodes(); n++ {
@@ -466,6 +497,9 @@ func (g *bodyGen) physHess(ei, a, k, l int) int {
 	return g.memoize(fmt.Sprintf("h%d.%d.%d.%d", ei, a, k, l), func() int {
 		d := g.dim
 		mm := func(p, r int) int {
+			if p > r {
+				p, r = r, p // Ĥ and ∂²x/∂ξ² are symmetric
+			}
 			return g.memoize(fmt.Sprintf("mm%d.%d.%d.%d", ei, a, p, r), func() int {
 				ts := []int{g.refHess(ei, a, p, r)}
 				for kk := 0; kk < d; kk++ {
@@ -474,15 +508,26 @@ func (g *bodyGen) physHess(ei, a, k, l int) int {
 				return g.d.add(ts...)
 			})
 		}
-		var outer []int
+		// H_kl = Σ_{p≤r} (K_pk K_rl + [p≠r] K_rk K_pl) mm_pr: the factors
+		// depend on the point only and are shared by all basis functions.
+		var ts []int
 		for p := 0; p < d; p++ {
-			var inner []int
-			for r := 0; r < d; r++ {
-				inner = append(inner, g.d.mul(mm(p, r), g.jinv(r, l)))
+			for r := p; r < d; r++ {
+				ts = append(ts, g.d.mul(g.hessFactor(p, r, k, l), mm(p, r)))
 			}
-			outer = append(outer, g.d.mul(g.jinv(p, k), g.d.add(inner...)))
 		}
-		return g.d.add(outer...)
+		return g.d.add(ts...)
+	})
+}
+
+// hessFactor is K_pk K_rl + [p≠r] K_rk K_pl (K = J⁻¹), p ≤ r, k ≤ l.
+func (g *bodyGen) hessFactor(p, r, k, l int) int {
+	return g.memoize(fmt.Sprintf("hf%d%d%d%d", p, r, k, l), func() int {
+		f := g.d.mul(g.jinv(p, k), g.jinv(r, l))
+		if p != r {
+			f = g.d.add(f, g.d.mul(g.jinv(r, k), g.jinv(p, l)))
+		}
+		return f
 	})
 }
 
@@ -580,21 +625,11 @@ func (g *bodyGen) coef(e ir.Expr) int {
 		if len(e.Factors) == 0 {
 			return g.fail("gogen: empty product")
 		}
-		var num, den []int
+		var fs []int
 		for _, f := range e.Factors {
-			if p, ok := f.(*ir.Pow); ok {
-				if n, ok := integerExp(p.Exp); ok && n < 0 {
-					den = append(den, d.powInt(g.coef(p.Base), -n))
-					continue
-				}
-			}
-			num = append(num, g.coef(f))
+			fs = append(fs, g.coef(f))
 		}
-		nu := d.mul(num...)
-		if len(den) == 0 {
-			return nu
-		}
-		return d.div(nu, d.mul(den...))
+		return d.mul(fs...)
 	case *ir.Pow:
 		b := g.coef(e.Base)
 		if n, ok := integerExp(e.Exp); ok {

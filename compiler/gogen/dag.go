@@ -217,6 +217,8 @@ func (d *dag) mul(xs ...int) int {
 	return d.intern(node{op: opMul, args: all, lv: d.maxLevel(all)})
 }
 
+// div builds a/b as a·(1/b): the reciprocal is a node of its own, so
+// several quotients by the same denominator cost one division.
 func (d *dag) div(a, b int) int {
 	bv, bc := d.isConst(b)
 	av, ac := d.isConst(a)
@@ -225,12 +227,22 @@ func (d *dag) div(a, b int) int {
 		return d.konst(av / bv)
 	case ac && av == 0:
 		return d.konst(0)
-	case bc && bv == 1:
-		return a
-	case bc && bv == -1:
-		return d.neg(a)
+	case bc:
+		return d.mul(a, d.konst(1/bv))
 	}
-	return d.intern(node{op: opDiv, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
+	return d.mul(a, d.recip(b))
+}
+
+// recip is 1/b.
+func (d *dag) recip(b int) int {
+	if v, ok := d.isConst(b); ok {
+		return d.konst(1 / v)
+	}
+	n := &d.nodes[b]
+	if n.op == opNeg {
+		return d.neg(d.recip(n.args[0]))
+	}
+	return d.intern(node{op: opDiv, args: []int{d.konst(1), b}, lv: n.lv})
 }
 
 func (d *dag) fn(f ir.Func, a int) int {
@@ -261,7 +273,7 @@ func (d *dag) powInt(a, n int) int {
 		return d.konst(1)
 	}
 	if n < 0 {
-		return d.div(d.konst(1), d.powInt(a, -n))
+		return d.powInt(d.recip(a), -n)
 	}
 	r := -1
 	b := a

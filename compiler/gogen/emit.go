@@ -25,22 +25,23 @@ type block struct {
 }
 
 // refPart is one term of a physical basis derivative on an affine cell:
-// K (a cell-constant node) times reference derivative idx (0 value, 1+m
-// ∂/∂ξ_m, 1+d+m·d+n ∂²/∂ξ_m∂ξ_n with m ≤ n).
+// adj·(1/det J)^rp (adj a cell-constant node made of adjugate entries of
+// J) times reference derivative idx (0 value, 1+m ∂/∂ξ_m, 1+d+m·d+n
+// ∂²/∂ξ_m∂ξ_n with m ≤ n).
 type refPart struct {
-	idx, k int
+	idx, k, rp int
 }
 
 func (g *bodyGen) refDecomp(D [3]uint8) []refPart {
 	d := g.dim
 	switch order(D) {
 	case 0:
-		return []refPart{{0, g.d.konst(1)}}
+		return []refPart{{0, g.d.konst(1), 0}}
 	case 1:
 		k := axes(D)[0]
 		var out []refPart
 		for m := 0; m < d; m++ {
-			out = append(out, refPart{1 + m, g.jinv(m, k)})
+			out = append(out, refPart{1 + m, g.adj(m, k), 1})
 		}
 		return out
 	}
@@ -49,11 +50,11 @@ func (g *bodyGen) refDecomp(D [3]uint8) []refPart {
 	var out []refPart
 	for m := 0; m < d; m++ {
 		for n := m; n < d; n++ {
-			K := g.d.mul(g.jinv(m, k), g.jinv(n, l))
+			K := g.d.mul(g.adj(m, k), g.adj(n, l))
 			if m != n {
-				K = g.d.add(K, g.d.mul(g.jinv(n, k), g.jinv(m, l)))
+				K = g.d.add(K, g.d.mul(g.adj(n, k), g.adj(m, l)))
 			}
-			out = append(out, refPart{1 + d + m*d + n, K})
+			out = append(out, refPart{1 + d + m*d + n, K, 2})
 		}
 	}
 	return out
@@ -166,7 +167,6 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		}
 		return false
 	}
-	scale := g.scale()
 	roots = append(roots, g.det())
 
 	// Strategy A: cell-constant coefficients on affine cells, integrated
@@ -179,31 +179,31 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		}
 		pairs := map[[2]int]int{}
 		lists := map[[2]int][]int{}
+		rpow := map[[2]int]int{}
 		for _, gr := range b.groups {
 			if !gr.cellA {
 				continue
 			}
-			cs := g.d.mul(gr.coef, scale)
 			tdec := g.refDecomp(gr.key.tD)
-			udec := []refPart{{-1, g.d.konst(1)}}
+			udec := []refPart{{-1, g.d.konst(1), 0}}
 			if !gr.key.linear {
 				udec = g.refDecomp(gr.key.uD)
 			}
 			for _, tp := range tdec {
 				for _, up := range udec {
 					k := [2]int{tp.idx, up.idx}
-					lists[k] = append(lists[k], g.d.mul(cs, g.d.mul(tp.k, up.k)))
+					lists[k] = append(lists[k], g.d.mul(gr.coef, g.d.mul(tp.k, up.k)))
+					rpow[k] = tp.rp + up.rp // fixed by the derivative orders
 				}
 			}
 		}
-		keys := make([][2]int, 0, len(lists))
 		for k := range lists {
 			pairs[k] = 0
 		}
-		keys = sortedKeys(pairs)
+		keys := sortedKeys(pairs)
 		mats := map[[2]int][][]float64{}
 		for _, k := range keys {
-			pairs[k] = g.d.add(lists[k]...)
+			pairs[k] = g.d.mul(g.scaledR(rpow[k]), g.d.add(lists[k]...))
 			mats[k] = g.preMatrix(b.tei, k[0], b.uei, k[1], b.nr, b.nc)
 		}
 		first := true
@@ -258,8 +258,9 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			w = g.weight()
 		}
 		type beta struct {
-			tD [3]uint8
-			t  []int
+			tD     [3]uint8
+			t      []int
+			alphas []*group
 		}
 		var betas []*beta
 		for _, gr := range b.groups {
@@ -279,9 +280,32 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 				}
 				betas = append(betas, be)
 			}
-			wc := g.d.mul(w, gr.coef)
-			for j := 0; j < b.nc; j++ {
-				be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.basis(b.uei, j, gr.key.uD)))
+			be.alphas = append(be.alphas, gr)
+		}
+		// t_β[j] = Σ_coef (w·coef)·(Σ_α with that coef D^α φ_j): equal
+		// coefficients (e.g. the two halves of a Laplacian) share a product.
+		for _, be := range betas {
+			var coefs []int
+			for _, gr := range be.alphas {
+				dup := false
+				for _, c := range coefs {
+					dup = dup || c == gr.coef
+				}
+				if !dup {
+					coefs = append(coefs, gr.coef)
+				}
+			}
+			for _, c := range coefs {
+				wc := g.d.mul(w, c)
+				for j := 0; j < b.nc; j++ {
+					var sum []int
+					for _, gr := range be.alphas {
+						if gr.coef == c {
+							sum = append(sum, g.basis(b.uei, j, gr.key.uD))
+						}
+					}
+					be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.d.add(sum...)))
+				}
 			}
 		}
 		first := true

@@ -69,68 +69,60 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := math.Max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 0.04 / c18
-	c20 := 2.23606797749979 / diameter
-	c21 := c19 + c20
-	c22 := 0.25 / c21
-	coef2 := c22 + 0.01
-	coef4 := 0.5 / c21
-	coef12 := 1.0 / c21
-	coef8 := 0.01 + coef12
+	c18 := 1.0 / diameter
+	c19 := c18 * c18
+	c20 := 0.04 * c19
+	c21 := c18 * 2.23606797749979
+	c22 := c20 + c21
+	coef12 := 1.0 / c22
+	c23 := 0.25 * coef12
+	coef2 := c23 + 0.01
+	coef4 := 0.5 * coef12
+	coef8 := coef12 + 0.01
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c23 := j00 * j11
+	c24 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c24 := j01 * j10
-	detJ := c23 - c24
-	c25 := 0.5 * detJ
-	c26 := -j01
-	k01 := c26 / detJ
-	k11 := j00 / detJ
-	c27 := c25 * k01
-	c28 := c25 * k11
-	k00 := j11 / detJ
-	c29 := -j10
-	k10 := c29 / detJ
-	c30 := detJ * k00
-	c31 := detJ * k10
-	c32 := coef2 * detJ
-	c33 := k01 * k01
-	c34 := c32 * c33
-	c35 := k01 * k11
-	c36 := c32 * c35
-	c37 := k11 * k11
-	c38 := c32 * c37
-	c39 := coef4 * detJ
-	c40 := k01 * k00
-	c41 := c39 * c40
-	c42 := k01 * k10
-	c43 := c39 * c42
-	c44 := k11 * k00
-	c45 := c39 * c44
-	c46 := k11 * k10
-	c47 := c39 * c46
-	c48 := k00 * k00
-	c49 := k00 * k10
-	c50 := k10 * k10
-	c51 := coef8 * detJ
-	c52 := c48 * c51
-	c53 := c49 * c51
-	c54 := c50 * c51
-	c55 := c27 + c30
-	c56 := c28 + c31
-	c57 := c34 + c41 + c41 + c52
-	c58 := c36 + c43 + c45 + c53
-	c59 := c38 + c47 + c47 + c54
-	c60 := k01 * c39
-	c61 := k11 * c39
-	c62 := coef12 * detJ
-	c63 := k00 * c62
-	c64 := k10 * c62
-	c65 := c60 + c63
-	c66 := c61 + c64
+	c25 := j01 * j10
+	detJ := c24 - c25
+	c26 := j01 * (-0.5)
+	c27 := 0.5 * j00
+	c28 := j01 * j01
+	c29 := coef2 * c28
+	c30 := j00 * j01
+	c31 := coef2 * c30
+	c32 := -c31
+	c33 := j00 * j00
+	c34 := coef2 * c33
+	c35 := j11 * j01
+	c36 := coef4 * c35
+	c37 := coef4 * c25
+	c38 := coef4 * c24
+	c39 := j00 * j10
+	c40 := coef4 * c39
+	c41 := j11 * j11
+	c42 := j11 * j10
+	c43 := j10 * j10
+	c44 := coef8 * c41
+	c45 := coef8 * c42
+	c46 := coef8 * c43
+	c47 := j11 + c26
+	c48 := c27 - j10
+	rdetJ := 1.0 / detJ
+	c49 := c29 - c36 - c36 + c44
+	c50 := rdetJ * c49
+	c51 := c32 + c37 + c38 - c45
+	c52 := rdetJ * c51
+	c53 := c34 - c40 - c40 + c46
+	c54 := rdetJ * c53
+	c55 := coef4 * j01
+	c56 := -c55
+	c57 := coef4 * j00
+	c58 := coef12 * j11
+	c59 := coef12 * j10
+	c60 := c56 + c58
+	c61 := c57 - c59
 	if !(detJ > 0) {
 		fwP1FillNaN(A, b)
 		return
@@ -149,23 +141,23 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
 	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
 	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56 + 0.5*c57 + c58 + 0.5*c59
-	acc[1] += 0.1666666666666667*c55 - 0.5*c57 - 0.5*c58
-	acc[2] += 0.1666666666666667*c56 - 0.5*c58 - 0.5*c59
-	acc[3] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56 - 0.5*c57 - 0.5*c58
-	acc[4] += 0.16666666666666666*c55 + 0.5*c57
-	acc[5] += 0.16666666666666666*c56 + 0.5*c58
-	acc[6] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56 - 0.5*c58 - 0.5*c59
-	acc[7] += 0.16666666666666666*c55 + 0.5*c58
-	acc[8] += 0.16666666666666666*c56 + 0.5*c59
+	acc[0] += (-0.1666666666666667)*c47 - 0.1666666666666667*c48 + 0.5*c50 + c52 + 0.5*c54
+	acc[1] += 0.1666666666666667*c47 - 0.5*c50 - 0.5*c52
+	acc[2] += 0.1666666666666667*c48 - 0.5*c52 - 0.5*c54
+	acc[3] += (-0.16666666666666666)*c47 - 0.16666666666666666*c48 - 0.5*c50 - 0.5*c52
+	acc[4] += 0.16666666666666666*c47 + 0.5*c50
+	acc[5] += 0.16666666666666666*c48 + 0.5*c52
+	acc[6] += (-0.16666666666666666)*c47 - 0.16666666666666666*c48 - 0.5*c52 - 0.5*c54
+	acc[7] += 0.16666666666666666*c47 + 0.5*c52
+	acc[8] += 0.16666666666666666*c48 + 0.5*c54
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//
 	//	1 · test(c)   [adr.fw:12]
 	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
 	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	rhs[0] += 0.1666666666666667*detJ - 0.5*c65 - 0.5*c66
-	rhs[1] += 0.16666666666666666*detJ + 0.5*c65
-	rhs[2] += 0.16666666666666666*detJ + 0.5*c66
+	rhs[0] += 0.1666666666666667*detJ - 0.5*c60 - 0.5*c61
+	rhs[1] += 0.16666666666666666*detJ + 0.5*c60
+	rhs[2] += 0.16666666666666666*detJ + 0.5*c61
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
