@@ -126,6 +126,19 @@ func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error
 	return lf, nil
 }
 
+// checkSteady refuses forms with time derivatives: the runtime has no time
+// stepping yet, so such models can be derived but not solved.
+func checkSteady(lf *ir.LoweredForm, m *compiler.Model) error {
+	for _, in := range lf.Integrals {
+		for _, t := range in.Bilinear {
+			if t.Trial.DT > 0 {
+				return &usageError{fmt.Sprintf("model %s has a time derivative: transient problems can be derived (formwright derive) but not yet solved", m.Name)}
+			}
+		}
+	}
+	return nil
+}
+
 // buildMesh reads --mesh (or the default) and checks it against the model.
 func buildMesh(m *compiler.Model, spec string) (*mesh.Mesh, string, error) {
 	if spec == "" {
@@ -240,6 +253,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	for k, meth := range methods {
 		lf, err := lowerModel(m, meth)
 		if err != nil {
+			return err
+		}
+		if err := checkSteady(lf, m); err != nil {
 			return err
 		}
 		start := time.Now()

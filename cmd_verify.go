@@ -215,6 +215,9 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
+		if err := checkSteady(lf, m); err != nil {
+			return err
+		}
 		k := elementDegree(m.Unknowns[0].Element)
 		vm := verifyMethod{Method: meth.String(), Field: m.Unknowns[0].Name, Element: m.Unknowns[0].Element,
 			ExpectedL2: float64(k + 1), ExpectedH1: float64(k), Pass: true}

@@ -45,6 +45,7 @@ func (e *inputError) Error() string { return e.errs.Error() }
 const usage = `formwright: stabilised weak forms from strong-form operators
 
 usage:
+  formwright demo         derive and solve the standard model adr (no files written)
   formwright derive MODEL [--method galerkin|supg|gls|vms|all] [--format text|latex|json] [-o FILE]
   formwright solve  MODEL [--method M] [--mesh SPEC] [--solver S] [--out FILE.vtu|FILE.csv] [--json] [--quiet]
   formwright verify MODEL [--exact EXPR] [--source EXPR] [--levels N] [--method M|all] [--tol T] [--plot FILE.png] [--sweep-pe COEF] [--json]
@@ -76,6 +77,8 @@ func run(args []string, stdout, stderr io.Writer) (status int) {
 		err = cmdVerify(args[1:], stdout, stderr)
 	case "gen":
 		err = cmdGen(args[1:], stdout, stderr)
+	case "demo":
+		err = cmdDemo(args[1:], stdout, stderr)
 	case "models":
 		fmt.Fprintf(stdout, "standard models: %s\nlibrary modules: %s\n", strings.Join(stdlib.Models(), ", "), strings.Join(stdlib.Modules(), ", "))
 	case "help", "-h", "--help":

@@ -253,6 +253,9 @@ func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 			}
 		}
 	}
+	if hasDiff && m.IsSimplexP1() {
+		add(Warning, "on P1 the strong residual loses the diffusive term of u_h inside each cell, so the method is only weakly consistent: near element Péclet number 1 the L² rate can fall below 2 until the mesh resolves the diffusion (Jansen, Collis, Whiting & Shakib 1999, CMAME 174)")
+	}
 	return notes
 }
 
