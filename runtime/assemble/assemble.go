@@ -174,10 +174,8 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 	bs := min(batchCells(n), max(nc, 1))
 	bufA := make([]float64, bs*n*n)
 	bufB := make([]float64, bs*n)
-	var wg sync.WaitGroup
 	for start := 0; start < nc; start += bs {
 		end := min(start+bs, nc)
-		cnt := end - start
 		if W == 1 {
 			w := ws[0]
 			for c := start; c < end; c++ {
@@ -187,39 +185,7 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 			a.scatterAll(A, b, start, end, bufA, bufB)
 			continue
 		}
-		// Phase 1: workers take sub-chunks of the batch from a shared
-		// counter (dynamic balance on a shared machine); where a cell's
-		// element data is computed does not affect the result.
-		var next atomic.Int64
-		nsub := int64((cnt + subChunk - 1) / subChunk)
-		for w := 0; w < W; w++ {
-			wk := ws[w]
-			run := func() {
-				for {
-					j := next.Add(1) - 1
-					if j >= nsub {
-						return
-					}
-					lo := start + int(j)*subChunk
-					hi := min(lo+subChunk, end)
-					for c := lo; c < hi; c++ {
-						i := c - start
-						a.compute(wk, c, bufA[i*n*n:(i+1)*n*n], bufB[i*n:(i+1)*n], in.Previous)
-					}
-				}
-			}
-			if w == W-1 {
-				run() // the calling goroutine is the last worker
-			} else {
-				wg.Go(run)
-			}
-		}
-		wg.Wait()
-		for w := 0; w < W-1; w++ {
-			wg.Go(func() { a.scatterOwned(A, b, start, end, bufA, bufB, w, W) })
-		}
-		a.scatterOwned(A, b, start, end, bufA, bufB, W-1, W)
-		wg.Wait()
+		a.parallelBatch(ws, start, end, A, b, bufA, bufB, in.Previous)
 	}
 	// Boundary facets, serially.
 	w := ws[0]
@@ -240,6 +206,49 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 		}
 	}
 	return nil
+}
+
+// parallelBatch computes and scatters the cells start..end with len(ws)
+// workers (phase 1: element data by sub-chunks from a shared counter;
+// phase 2: scatter by row ownership, in cell order).
+func (a *Assembler) parallelBatch(ws []*worker, start, end int, A *sparse.CSR, b, bufA, bufB, prev []float64) {
+	W := len(ws)
+	n := a.nLocal
+	cnt := end - start
+	var wg sync.WaitGroup
+	// Phase 1: workers take sub-chunks of the batch from a shared
+	// counter (dynamic balance on a shared machine); where a cell's
+	// element data is computed does not affect the result.
+	var next atomic.Int64
+	nsub := int64((cnt + subChunk - 1) / subChunk)
+	for w := 0; w < W; w++ {
+		wk := ws[w]
+		run := func() {
+			for {
+				j := next.Add(1) - 1
+				if j >= nsub {
+					return
+				}
+				lo := start + int(j)*subChunk
+				hi := min(lo+subChunk, end)
+				for c := lo; c < hi; c++ {
+					i := c - start
+					a.compute(wk, c, bufA[i*n*n:(i+1)*n*n], bufB[i*n:(i+1)*n], prev)
+				}
+			}
+		}
+		if w == W-1 {
+			run() // the calling goroutine is the last worker
+		} else {
+			wg.Go(run)
+		}
+	}
+	wg.Wait()
+	for w := 0; w < W-1; w++ {
+		wg.Go(func() { a.scatterOwned(A, b, start, end, bufA, bufB, w, W) })
+	}
+	a.scatterOwned(A, b, start, end, bufA, bufB, W-1, W)
+	wg.Wait()
 }
 
 func (a *Assembler) newWorker(k Kernel, w int, in Input) *worker {
