@@ -410,6 +410,22 @@ func (s *scheduler) ref(id int) string {
 	return name
 }
 
+// addOrder is the order the terms of a sum are written in: the first
+// term that is not a negation leads, so "a - b" rather than "-b + a".
+func (s *scheduler) addOrder(n *node) []int {
+	for i, a := range n.args {
+		an := &s.d.nodes[a]
+		if an.op != opNeg && !(an.op == opConst && an.val < 0) {
+			if i == 0 {
+				return n.args
+			}
+			out := append([]int{a}, n.args[:i]...)
+			return append(out, n.args[i+1:]...)
+		}
+	}
+	return n.args
+}
+
 // needed returns the set of non-trivial nodes reachable from roots.
 func (s *scheduler) needed(roots []int) map[int]bool {
 	need := map[int]bool{}
@@ -423,7 +439,11 @@ func (s *scheduler) needed(roots []int) map[int]bool {
 			return
 		}
 		need[id] = true
-		for i, a := range n.args {
+		args := n.args
+		if n.op == opAdd {
+			args = s.addOrder(n)
+		}
+		for i, a := range args {
 			an := &s.d.nodes[a]
 			if n.op == opAdd && i > 0 && an.op == opNeg {
 				// written as "- operand" (see expr)
@@ -484,7 +504,7 @@ func (s *scheduler) expr(id int) string {
 		return n.code
 	case opAdd:
 		var b strings.Builder
-		for i, a := range n.args {
+		for i, a := range s.addOrder(n) {
 			an := &s.d.nodes[a]
 			switch {
 			case an.op == opNeg && i > 0:

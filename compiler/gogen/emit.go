@@ -16,6 +16,7 @@ type stmt struct {
 	comment []string
 	target  string
 	terms   []prod
+	assign  bool // "=" rather than "+="
 }
 
 type block struct {
@@ -226,9 +227,10 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 						continue
 					}
 					if v, ok := g.d.isConst(pairs[k]); ok {
-						if v == 0 {
-							continue
+						if v != 0 {
+							terms = append(terms, prod{m * v, nil})
 						}
+						continue
 					}
 					terms = append(terms, prod{m, []int{pairs[k]}})
 					roots = append(roots, pairs[k])
@@ -392,14 +394,75 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			hasB = true
 		}
 	}
-	if hasA {
-		fmt.Fprintf(&w0, "var acc [%d]float64\n", N*N)
+	mirror := func(arr string) {
+		if !sym {
+			return
+		}
+		w0.WriteString("// The form is symmetric: mirror the upper triangle.\n")
+		if N <= 12 {
+			for r := 0; r < N; r++ {
+				for c := r + 1; c < N; c++ {
+					fmt.Fprintf(&w0, "%s[%d] = %s[%d]\n", arr, c*N+r, arr, r*N+c)
+				}
+			}
+		} else {
+			fmt.Fprintf(&w0, "for r := 0; r < %d; r++ {\nfor c := r + 1; c < %d; c++ {\n%s[c*%d+r] = %s[r*%d+c]\n}\n}\n", N, N, arr, N, arr, N)
+		}
 	}
-	if hasB {
-		fmt.Fprintf(&w0, "var rhs [%d]float64\n", N)
-	}
-	writeStmts(&w0, sc, stmtsA)
-	if len(stmtsB) > 0 || detLv == lvPoint {
+	if len(stmtsB) == 0 && detLv != lvPoint {
+		// Everything was integrated in advance: each entry is one
+		// assignment, written straight into A and b.
+		setA, setB := map[int]bool{}, map[int]bool{}
+		for i := range stmtsA {
+			s := &stmtsA[i]
+			var k int
+			if strings.HasPrefix(s.target, "acc") {
+				fmt.Sscanf(s.target, "acc[%d]", &k)
+				s.target = fmt.Sprintf("A[%d]", k)
+				setA[k] = true
+			} else {
+				fmt.Sscanf(s.target, "rhs[%d]", &k)
+				s.target = fmt.Sprintf("b[%d]", k)
+				setB[k] = true
+			}
+			s.assign = true
+		}
+		if sym {
+			for r := 0; r < N; r++ {
+				for c := r + 1; c < N; c++ {
+					if setA[r*N+c] {
+						setA[c*N+r] = true
+					}
+				}
+			}
+		}
+		zero := func(arr string, n int, set map[int]bool) {
+			if len(set) == 0 {
+				fmt.Fprintf(&w0, "clear(%s)\n", arr)
+				return
+			}
+			if n-len(set) > 16 {
+				fmt.Fprintf(&w0, "clear(%s)\n", arr)
+				return
+			}
+			for k := 0; k < n; k++ {
+				if !set[k] {
+					fmt.Fprintf(&w0, "%s[%d] = 0\n", arr, k)
+				}
+			}
+		}
+		zero("A", N*N, setA)
+		zero("b", N, setB)
+		writeStmts(&w0, sc, stmtsA)
+		mirror("A")
+	} else {
+		if hasA {
+			fmt.Fprintf(&w0, "var acc [%d]float64\n", N*N)
+		}
+		if hasB {
+			fmt.Fprintf(&w0, "var rhs [%d]float64\n", N)
+		}
+		writeStmts(&w0, sc, stmtsA)
 		fmt.Fprintf(&w0, "for q := 0; q < %d; q++ {\n", g.nq)
 		w0.WriteString("// Per quadrature point: geometry, coefficients, basis derivatives.\n")
 		sc.emit(&w0, need, lvPoint)
@@ -408,28 +471,17 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		}
 		writeStmts(&w0, sc, stmtsB)
 		w0.WriteString("}\n")
-	}
-	if hasA {
-		if sym {
-			w0.WriteString("// The form is symmetric: mirror the upper triangle.\n")
-			if N <= 12 {
-				for r := 0; r < N; r++ {
-					for c := r + 1; c < N; c++ {
-						fmt.Fprintf(&w0, "acc[%d] = acc[%d]\n", c*N+r, r*N+c)
-					}
-				}
-			} else {
-				fmt.Fprintf(&w0, "for r := 0; r < %d; r++ {\nfor c := r + 1; c < %d; c++ {\nacc[c*%d+r] = acc[r*%d+c]\n}\n}\n", N, N, N, N)
-			}
+		if hasA {
+			mirror("acc")
+			w0.WriteString("copy(A, acc[:])\n")
+		} else {
+			w0.WriteString("clear(A)\n")
 		}
-		w0.WriteString("copy(A, acc[:])\n")
-	} else {
-		w0.WriteString("clear(A)\n")
-	}
-	if hasB {
-		w0.WriteString("copy(b, rhs[:])\n")
-	} else {
-		w0.WriteString("clear(b)\n")
+		if hasB {
+			w0.WriteString("copy(b, rhs[:])\n")
+		} else {
+			w0.WriteString("clear(b)\n")
+		}
 	}
 	if sc.usesMth {
 		g.names.usesMath = true
@@ -488,6 +540,9 @@ func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
 	for _, s := range ss {
 		s.terms = merge(s.terms)
 		if len(s.terms) == 0 {
+			if s.assign {
+				fmt.Fprintf(w, "%s = 0\n", s.target)
+			}
 			continue
 		}
 		for _, c := range s.comment {
@@ -516,6 +571,10 @@ func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
 			}
 			b.WriteString(strings.Join(factors, "*"))
 		}
-		fmt.Fprintf(w, "%s += %s\n", s.target, b.String())
+		op := "+="
+		if s.assign {
+			op = "="
+		}
+		fmt.Fprintf(w, "%s %s %s\n", s.target, op, b.String())
 	}
 }

@@ -92,43 +92,39 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c29 := coef2 * c28
 	c30 := j00 * j01
 	c31 := coef2 * c30
-	c32 := -c31
-	c33 := j00 * j00
-	c34 := coef2 * c33
-	c35 := j11 * j01
-	c36 := coef4 * c35
-	c37 := coef4 * c25
-	c38 := coef4 * c24
-	c39 := j00 * j10
-	c40 := coef4 * c39
-	c41 := j11 * j11
-	c42 := j11 * j10
-	c43 := j10 * j10
+	c32 := j00 * j00
+	c33 := coef2 * c32
+	c34 := j11 * j01
+	c35 := coef4 * c34
+	c36 := coef4 * c25
+	c37 := coef4 * c24
+	c38 := j00 * j10
+	c39 := coef4 * c38
+	c40 := j11 * j11
+	c41 := j11 * j10
+	c42 := j10 * j10
+	c43 := coef8 * c40
 	c44 := coef8 * c41
 	c45 := coef8 * c42
-	c46 := coef8 * c43
-	c47 := j11 + c26
-	c48 := c27 - j10
+	c46 := j11 + c26
+	c47 := c27 - j10
 	rdetJ := 1.0 / detJ
-	c49 := c29 - c36 - c36 + c44
-	c50 := rdetJ * c49
-	c51 := c32 + c37 + c38 - c45
-	c52 := rdetJ * c51
-	c53 := c34 - c40 - c40 + c46
-	c54 := rdetJ * c53
-	c55 := coef4 * j01
-	c56 := -c55
-	c57 := coef4 * j00
-	c58 := coef12 * j11
-	c59 := coef12 * j10
-	c60 := c56 + c58
-	c61 := c57 - c59
+	c48 := c29 - c35 - c35 + c43
+	c49 := rdetJ * c48
+	c50 := c36 - c31 + c37 - c44
+	c51 := rdetJ * c50
+	c52 := c33 - c39 - c39 + c45
+	c53 := rdetJ * c52
+	c54 := coef4 * j01
+	c55 := coef4 * j00
+	c56 := coef12 * j11
+	c57 := coef12 * j10
+	c58 := c56 - c54
+	c59 := c55 - c57
 	if !(detJ > 0) {
 		fwP1FillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//
 	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
@@ -141,25 +137,23 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
 	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
 	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c47 - 0.1666666666666667*c48 + 0.5*c50 + c52 + 0.5*c54
-	acc[1] += 0.1666666666666667*c47 - 0.5*c50 - 0.5*c52
-	acc[2] += 0.1666666666666667*c48 - 0.5*c52 - 0.5*c54
-	acc[3] += (-0.16666666666666666)*c47 - 0.16666666666666666*c48 - 0.5*c50 - 0.5*c52
-	acc[4] += 0.16666666666666666*c47 + 0.5*c50
-	acc[5] += 0.16666666666666666*c48 + 0.5*c52
-	acc[6] += (-0.16666666666666666)*c47 - 0.16666666666666666*c48 - 0.5*c52 - 0.5*c54
-	acc[7] += 0.16666666666666666*c47 + 0.5*c52
-	acc[8] += 0.16666666666666666*c48 + 0.5*c54
+	A[0] = (-0.1666666666666667)*c46 - 0.1666666666666667*c47 + 0.5*c49 + c51 + 0.5*c53
+	A[1] = 0.1666666666666667*c46 - 0.5*c49 - 0.5*c51
+	A[2] = 0.1666666666666667*c47 - 0.5*c51 - 0.5*c53
+	A[3] = (-0.16666666666666666)*c46 - 0.16666666666666666*c47 - 0.5*c49 - 0.5*c51
+	A[4] = 0.16666666666666666*c46 + 0.5*c49
+	A[5] = 0.16666666666666666*c47 + 0.5*c51
+	A[6] = (-0.16666666666666666)*c46 - 0.16666666666666666*c47 - 0.5*c51 - 0.5*c53
+	A[7] = 0.16666666666666666*c46 + 0.5*c51
+	A[8] = 0.16666666666666666*c47 + 0.5*c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//
 	//	1 · test(c)   [adr.fw:12]
 	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
 	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	rhs[0] += 0.1666666666666667*detJ - 0.5*c60 - 0.5*c61
-	rhs[1] += 0.16666666666666666*detJ + 0.5*c60
-	rhs[2] += 0.16666666666666666*detJ + 0.5*c61
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	b[0] = 0.1666666666666667*detJ - 0.5*c58 - 0.5*c59
+	b[1] = 0.16666666666666666*detJ + 0.5*c58
+	b[2] = 0.16666666666666666*detJ + 0.5*c59
 }
 
 // fwP1FillNaN fills A and b with NaN: the cell has a non-positive Jacobian
