@@ -1,6 +1,7 @@
 package problem
 
 import (
+	"errors"
 	"math"
 	"testing"
 
@@ -183,7 +184,7 @@ func TestRobinBoundary1D(t *testing.T) {
 	}
 	// A side the mesh lacks is an input error, not a panic.
 	form.Integrals[1].Domain.Side = "outlet"
-	if _, err := Solve(form, mesh.Interval(0, 1, 4, 1), Options{}); err == nil {
-		t.Error("integral on a missing side accepted")
+	if _, err := Solve(form, mesh.Interval(0, 1, 4, 1), Options{}); !errors.Is(err, ErrNoSide) {
+		t.Errorf("integral on a missing side: error %v, want one wrapping ErrNoSide", err)
 	}
 }

@@ -185,6 +185,11 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 			facetK = append(facetK, f)
 		}
 	}
+	for _, fk := range facetK {
+		if _, ok := m.Boundaries[fk.Side()]; !ok {
+			return nil, fmt.Errorf("problem: boundary integral on %q: %w (sides: %v)", fk.Side(), ErrNoSide, m.BoundaryNames())
+		}
+	}
 	fixed, values, err := dirichlet(form, m, dm, opts.Time)
 	if err != nil {
 		return nil, err
