@@ -27,6 +27,7 @@ type solveFlags struct {
 	solver  *string
 	tol     *float64
 	maxIter *int
+	restart *int
 	workers *int
 	time    *float64
 	quiet   *bool
@@ -39,6 +40,7 @@ func addSolveFlags(fs *flag.FlagSet) *solveFlags {
 		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi or +ilu0 (e.g. gmres+ilu0)"),
 		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers (default 1e-10)"),
 		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
+		restart: fs.Int("restart", 0, "GMRES restart length (default 50)"),
 		workers: fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
 		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data"),
 		quiet:   fs.Bool("quiet", false, "no progress on standard error"),
@@ -90,10 +92,10 @@ func pickMethod(m *compiler.Model, s string) (compiler.Method, error) {
 
 // parseSolver reads --solver.
 func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options, error) {
-	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 {
+	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 && *sf.restart == 0 {
 		return nil, nil
 	}
-	so := &linsolve.Options{RelTol: *sf.tol, MaxIter: *sf.maxIter, Progress: progress, Workers: *sf.workers}
+	so := &linsolve.Options{RelTol: *sf.tol, MaxIter: *sf.maxIter, Restart: *sf.restart, Progress: progress, Workers: *sf.workers}
 	name := *sf.solver
 	if name == "auto" {
 		name = "gmres+ilu0"
