@@ -45,6 +45,7 @@ type bodyGen struct {
 	nq       int
 	facet    *facetGeom
 	affine   bool
+	loop     bool   // loop mode: basis functions in generated loops, not unrolled
 	prefix   string // table name prefix
 	names    *fileNames
 
@@ -94,6 +95,28 @@ func (g *bodyGen) init() {
 
 // entry returns the node for table data[q][idx]: a constant when the value
 // is the same at every point, else a load from a package-level table.
+// symA is the basis index of loop mode: the node is built once for a
+// basis function index that the generated basis loop supplies.
+const symA = -1
+
+// entryAt is entry for basis function a (symA: the loop variable) whose
+// data start at a*stride+off.
+func (g *bodyGen) entryAt(name string, data [][]float64, ei, a, stride, off int) int {
+	if a != symA {
+		return g.entry(name, data, a*stride+off)
+	}
+	g.declare(name, data)
+	v := fmt.Sprintf("a%d", ei)
+	idx := v
+	if stride != 1 {
+		idx = fmt.Sprintf("%s*%d", v, stride)
+	}
+	if off != 0 {
+		idx = fmt.Sprintf("%s+%d", idx, off)
+	}
+	return g.d.basisLeaf(fmt.Sprintf("%s[q][%s]", name, idx), ei)
+}
+
 func (g *bodyGen) entry(name string, data [][]float64, idx int) int {
 	v0 := data[0][idx]
 	same := true
@@ -106,6 +129,11 @@ func (g *bodyGen) entry(name string, data [][]float64, idx int) int {
 	if same {
 		return g.d.konst(v0)
 	}
+	g.declare(name, data)
+	return g.d.leaf(fmt.Sprintf("%s[q][%d]", name, idx), lvPoint)
+}
+
+func (g *bodyGen) declare(name string, data [][]float64) {
 	if _, ok := g.used[name]; !ok {
 		var b strings.Builder
 		fmt.Fprintf(&b, "%s = [%d][%d]float64{\n", name, len(data), len(data[0]))
@@ -123,7 +151,6 @@ func (g *bodyGen) entry(name string, data [][]float64, idx int) int {
 		g.used[name] = b.String()
 		g.order = append(g.order, name)
 	}
-	return g.d.leaf(fmt.Sprintf("%s[q][%d]", name, idx), lvPoint)
 }
 
 func literalBare(v float64) string {
@@ -157,14 +184,14 @@ func (g *bodyGen) refVal(ei, a int) int {
 	if ei < 0 {
 		return g.entry(g.tabName(ei, "Val"), g.gtab.val, a)
 	}
-	return g.entry(g.tabName(ei, "Val"), g.etab[ei].val, a)
+	return g.entryAt(g.tabName(ei, "Val"), g.etab[ei].val, ei, a, 1, 0)
 }
 
 func (g *bodyGen) refGrad(ei, a, m int) int {
 	if ei < 0 {
 		return g.entry(g.tabName(ei, "Grad"), g.gtab.grad, a*g.dim+m)
 	}
-	return g.entry(g.tabName(ei, "Grad"), g.etab[ei].grad, a*g.dim+m)
+	return g.entryAt(g.tabName(ei, "Grad"), g.etab[ei].grad, ei, a, g.dim, m)
 }
 
 func (g *bodyGen) refHess(ei, a, m, n int) int {
@@ -175,7 +202,7 @@ func (g *bodyGen) refHess(ei, a, m, n int) int {
 	if ei < 0 {
 		return g.entry(g.tabName(ei, "Hess"), g.gtab.hess, (a*d+m)*d+n)
 	}
-	return g.entry(g.tabName(ei, "Hess"), g.etab[ei].hess, (a*d+m)*d+n)
+	return g.entryAt(g.tabName(ei, "Hess"), g.etab[ei].hess, ei, a, d*d, m*d+n)
 }
 
 // Geometry (the formulas of element.Table.Map, so the results agree with
@@ -752,7 +779,7 @@ func (g *bodyGen) groups(bil, lin []ir.Term) ([]*group, error) {
 			cs = append(cs, g.coef(t.Coef))
 		}
 		gr.coef = g.d.name(g.d.add(cs...), fmt.Sprintf("coef%d", i))
-		gr.cellA = g.affine && g.d.nodes[gr.coef].lv <= lvCell
+		gr.cellA = g.affine && !g.loop && g.d.nodes[gr.coef].lv <= lvCell
 	}
 	return out, g.err
 }

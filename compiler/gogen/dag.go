@@ -23,6 +23,7 @@ const (
 	lvConst level = iota // known at generation time
 	lvCell               // constant in a cell
 	lvPoint              // varies with the quadrature point
+	lvBasis              // varies with the basis function (loop mode: symbolic index)
 )
 
 type opKind uint8
@@ -49,6 +50,7 @@ type node struct {
 	fn   ir.Func // opFn
 	args []int
 	hint string // preferred variable name (generator-chosen identifiers only)
+	elem int    // lvBasis: 1 + the element whose basis loop computes the node
 }
 
 type dag struct {
@@ -62,8 +64,19 @@ func newDAG() *dag {
 }
 
 func (d *dag) intern(n node) int {
+	if n.lv == lvBasis && n.elem == 0 {
+		for _, a := range n.args {
+			e := d.nodes[a].elem
+			if e != 0 && n.elem != 0 && e != n.elem {
+				panic("gogen: a basis-loop node mixes two elements")
+			}
+			if e != 0 {
+				n.elem = e
+			}
+		}
+	}
 	var b strings.Builder
-	fmt.Fprintf(&b, "%d|%d|%s|%d|", n.op, n.lv, n.code, n.fn)
+	fmt.Fprintf(&b, "%d|%d|%d|%s|%d|", n.op, n.lv, n.elem, n.code, n.fn)
 	if n.op == opConst {
 		b.WriteString(strconv.FormatUint(math.Float64bits(n.val), 16))
 	}
@@ -97,6 +110,11 @@ func (d *dag) isConst(id int) (float64, bool) {
 
 func (d *dag) leaf(code string, lv level) int {
 	return d.intern(node{op: opLeaf, code: code, lv: lv})
+}
+
+// basisLeaf is a load in the basis loop of element elem.
+func (d *dag) basisLeaf(code string, elem int) int {
+	return d.intern(node{op: opLeaf, code: code, lv: lvBasis, elem: elem + 1})
 }
 
 func (d *dag) ext(code string, lv level, hint string) int {
@@ -462,8 +480,14 @@ func (s *scheduler) needed(roots []int) map[int]bool {
 // emit writes, in creation order (which is topological), the assignments
 // of the needed nodes of level lv that are not yet scheduled.
 func (s *scheduler) emit(w *strings.Builder, need map[int]bool, lv level) {
+	s.emitElem(w, need, lv, 0)
+}
+
+// emitElem is emit restricted to the basis loop of one element (elem = 1 +
+// element index) when lv is lvBasis.
+func (s *scheduler) emitElem(w *strings.Builder, need map[int]bool, lv level, elem int) {
 	for id := range s.d.nodes {
-		if !need[id] || s.d.nodes[id].lv != lv {
+		if !need[id] || s.d.nodes[id].lv != lv || s.d.nodes[id].elem != elem {
 			continue
 		}
 		if _, done := s.names[id]; done {
@@ -483,8 +507,11 @@ func (s *scheduler) newName(id int, lv level) string {
 		return h
 	}
 	prefix := "c"
-	if lv == lvPoint {
+	switch lv {
+	case lvPoint:
 		prefix = "p"
+	case lvBasis:
+		prefix = "e"
 	}
 	for {
 		s.counter[lv]++

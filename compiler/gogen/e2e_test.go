@@ -283,7 +283,7 @@ func TestGeneratedMatchesInterpreted(t *testing.T) {
 	for _, mc := range modelCases(t) {
 		forms := lowerAll(t, mc.file, []byte(mc.src))
 		src, err := Generate(forms, Options{Package: mc.name, ModelFile: mc.file, CommandLine: "gen " + mc.file + " -o . --package " + mc.name,
-			Output: filepath.Join(dir, mc.name, "kernels.go")})
+			Output: filepath.Join(dir, mc.name, "kernels.go"), loopAbove: mc.loopAbove})
 		if err != nil {
 			t.Fatalf("%s: %v", mc.file, err)
 		}

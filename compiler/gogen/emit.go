@@ -3,6 +3,7 @@ package gogen
 import (
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 )
 
@@ -17,6 +18,16 @@ type stmt struct {
 	target  string
 	terms   []prod
 	assign  bool // "=" rather than "+="
+}
+
+// loopStmt is an accumulation over all basis-function pairs of a block in
+// loop mode: acc[(ro+i)·N+co+j] += Σ v[i]·t[j] (b[ro+i] += Σ v[i]·t when
+// nc == 0, t a scalar).
+type loopStmt struct {
+	comment        []string
+	ro, co, nr, nc int
+	upper          bool // j from i (symmetric diagonal block)
+	pairs          [][2]int
 }
 
 type block struct {
@@ -144,6 +155,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	bil, lin := g.blocks(gs)
 	var roots []int
 	var stmtsA, stmtsB []stmt
+	var loops []loopStmt
 	comment := func(b *block, strategy string, pick func(*group) bool) []string {
 		out := []string{fmt.Sprintf("%s: rows %d..%d, columns %d..%d:", strategy, b.ro, b.ro+b.nr-1, b.co, b.co+max(b.nc, 1)-1)}
 		if b.nc == 0 {
@@ -276,7 +288,11 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 				}
 			}
 			if be == nil {
-				be = &beta{tD: gr.key.tD, t: make([]int, b.nc)}
+				nt := b.nc
+				if g.loop {
+					nt = 1 // t[0] stands for t[j], j the loop variable
+				}
+				be = &beta{tD: gr.key.tD, t: make([]int, nt)}
 				for j := range be.t {
 					be.t[j] = g.d.konst(0)
 				}
@@ -299,16 +315,34 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			}
 			for _, c := range coefs {
 				wc := g.d.mul(w, c)
-				for j := 0; j < b.nc; j++ {
+				for j := range be.t {
+					jj := j
+					if g.loop {
+						jj = symA
+					}
 					var sum []int
 					for _, gr := range be.alphas {
 						if gr.coef == c {
-							sum = append(sum, g.basis(b.uei, j, gr.key.uD))
+							sum = append(sum, g.basis(b.uei, jj, gr.key.uD))
 						}
 					}
 					be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.d.add(sum...)))
 				}
 			}
+		}
+		if g.loop {
+			if sym && b.ro > b.co {
+				continue
+			}
+			ls := loopStmt{comment: comment(b, "At each quadrature point, all basis-function pairs", isB),
+				ro: b.ro, co: b.co, nr: b.nr, nc: b.nc, upper: sym && b.ro == b.co}
+			for _, be := range betas {
+				v := g.basis(b.tei, symA, be.tD)
+				ls.pairs = append(ls.pairs, [2]int{v, be.t[0]})
+				roots = append(roots, v, be.t[0])
+			}
+			loops = append(loops, ls)
+			continue
 		}
 		first := true
 		for i := 0; i < b.nr; i++ {
@@ -342,6 +376,19 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		if w < 0 {
 			w = g.weight()
 		}
+		if g.loop {
+			ls := loopStmt{comment: comment(b, "At each quadrature point, all basis functions", isB), ro: b.ro, nr: b.nr}
+			for _, gr := range b.groups {
+				if gr.cellA {
+					continue
+				}
+				v, wc := g.basis(b.tei, symA, gr.key.tD), g.d.mul(w, gr.coef)
+				ls.pairs = append(ls.pairs, [2]int{v, wc})
+				roots = append(roots, v, wc)
+			}
+			loops = append(loops, ls)
+			continue
+		}
 		first := true
 		for i := 0; i < b.nr; i++ {
 			var terms []prod
@@ -370,7 +417,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	// Schedule and write.
 	sc := newScheduler(g.d)
 	sc.signName = g.names.sign
-	sc.reserve("x", "pv", "q", "acc", "rhs", "in", "A", "b", "k")
+	sc.reserve("x", "pv", "q", "acc", "rhs", "in", "A", "b", "k", "i", "j", "row", "zero")
 	need := sc.needed(roots)
 	var w0 strings.Builder
 	ng := g.geom.NumNodes() * g.dim
@@ -409,7 +456,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			fmt.Fprintf(&w0, "for r := 0; r < %d; r++ {\nfor c := r + 1; c < %d; c++ {\n%s[c*%d+r] = %s[r*%d+c]\n}\n}\n", N, N, arr, N, arr, N)
 		}
 	}
-	if len(stmtsB) == 0 && detLv != lvPoint {
+	if len(stmtsB) == 0 && len(loops) == 0 && detLv != lvPoint {
 		// Everything was integrated in advance: each entry is one
 		// assignment, written straight into A and b.
 		setA, setB := map[int]bool{}, map[int]bool{}
@@ -456,12 +503,20 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		writeStmts(&w0, sc, stmtsA)
 		mirror("A")
 	} else {
+		for _, l := range loops {
+			if l.nc > 0 {
+				hasA = true
+			} else {
+				hasB = true
+			}
+		}
 		if hasA {
 			fmt.Fprintf(&w0, "var acc [%d]float64\n", N*N)
 		}
 		if hasB {
 			fmt.Fprintf(&w0, "var rhs [%d]float64\n", N)
 		}
+		arrays := g.basisArrays(&w0, sc, need, roots)
 		writeStmts(&w0, sc, stmtsA)
 		fmt.Fprintf(&w0, "for q := 0; q < %d; q++ {\n", g.nq)
 		w0.WriteString("// Per quadrature point: geometry, coefficients, basis derivatives.\n")
@@ -469,7 +524,9 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		if detLv == lvPoint {
 			fmt.Fprintf(&w0, "if !(%s > 0) {\n%s(A, b)\nreturn\n}\n", sc.ref(g.det()), g.names.fillNaN)
 		}
+		g.basisLoops(&w0, sc, need, arrays)
 		writeStmts(&w0, sc, stmtsB)
+		writeLoops(&w0, sc, loops, arrays, N)
 		w0.WriteString("}\n")
 		if hasA {
 			mirror("acc")
@@ -576,5 +633,83 @@ func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
 			op = "="
 		}
 		fmt.Fprintf(w, "%s %s %s\n", s.target, op, b.String())
+	}
+}
+
+// basisArrays declares one array per basis-loop root (a value the
+// accumulation loops read for every basis function).
+func (g *bodyGen) basisArrays(w *strings.Builder, sc *scheduler, need map[int]bool, roots []int) map[int]string {
+	arrays := map[int]string{}
+	var ids []int
+	for _, r := range roots {
+		if g.d.nodes[r].lv == lvBasis {
+			if _, ok := arrays[r]; !ok {
+				arrays[r] = ""
+				ids = append(ids, r)
+			}
+		}
+	}
+	sort.Ints(ids)
+	for k, id := range ids {
+		name := fmt.Sprintf("basis%d", k)
+		sc.reserve(name)
+		arrays[id] = name
+		fmt.Fprintf(w, "var %s [%d]float64\n", name, g.elems[g.d.nodes[id].elem-1].NumNodes())
+	}
+	return arrays
+}
+
+// basisLoops writes, per element, the loop over its basis functions that
+// fills the arrays.
+func (g *bodyGen) basisLoops(w *strings.Builder, sc *scheduler, need map[int]bool, arrays map[int]string) {
+	for ei, e := range g.elems {
+		var ids []int
+		for id, name := range arrays {
+			if name != "" && g.d.nodes[id].elem == ei+1 {
+				ids = append(ids, id)
+			}
+		}
+		if len(ids) == 0 {
+			continue
+		}
+		sort.Ints(ids)
+		v := fmt.Sprintf("a%d", ei)
+		fmt.Fprintf(w, "for %s := 0; %s < %d; %s++ {\n", v, v, e.NumNodes(), v)
+		sc.emitElem(w, need, lvBasis, ei+1)
+		for _, id := range ids {
+			fmt.Fprintf(w, "%s[%s] = %s\n", arrays[id], v, sc.ref(id))
+		}
+		w.WriteString("}\n")
+	}
+}
+
+func writeLoops(w *strings.Builder, sc *scheduler, loops []loopStmt, arrays map[int]string, N int) {
+	at := func(id int, idx string) string {
+		if name := arrays[id]; name != "" {
+			return name + "[" + idx + "]"
+		}
+		return sc.ref(id)
+	}
+	for _, l := range loops {
+		for _, c := range l.comment {
+			w.WriteString("// " + c + "\n")
+		}
+		var terms []string
+		if l.nc == 0 {
+			for _, p := range l.pairs {
+				terms = append(terms, at(p[0], "i")+"*"+at(p[1], "i"))
+			}
+			fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrhs[%d+i] += %s\n}\n", l.nr, l.ro, strings.Join(terms, " + "))
+			continue
+		}
+		for _, p := range l.pairs {
+			terms = append(terms, at(p[0], "i")+"*"+at(p[1], "j"))
+		}
+		j0 := "0"
+		if l.upper {
+			j0 = "i"
+		}
+		fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrow := acc[(%d+i)*%d+%d : (%d+i)*%d+%d+%d]\nfor j := %s; j < %d; j++ {\nrow[j] += %s\n}\n}\n",
+			l.nr, l.ro, N, l.co, l.ro, N, l.co, l.nc, j0, l.nc, strings.Join(terms, " + "))
 	}
 }

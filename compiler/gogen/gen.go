@@ -40,6 +40,11 @@ type Options struct {
 	// generated source does not parse or format, it is written beside it
 	// as <name>_broken.go for inspection (nowhere when Output is empty).
 	Output string
+
+	// loopAbove: elements with more nodes than this get generated loops
+	// over their basis functions instead of unrolled code (0: 10, so P1,
+	// P2 and Q1 unroll, Q2 on hexahedra loops). Tests lower it.
+	loopAbove int
 }
 
 // BrokenError reports generated source that does not parse or format; it
@@ -68,6 +73,7 @@ type fileNames struct {
 	usesMath bool
 	usesSign bool
 	usesVol  bool
+	loopAbove int
 }
 
 // Generate writes one Go source file with the element kernels of forms:
@@ -85,7 +91,10 @@ func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
 	if err != nil {
 		return nil, err
 	}
-	fn := &fileNames{prefix: opts.Prefix, internal: "fw" + opts.Prefix}
+	fn := &fileNames{prefix: opts.Prefix, internal: "fw" + opts.Prefix, loopAbove: opts.loopAbove}
+	if fn.loopAbove <= 0 {
+		fn.loopAbove = 10
+	}
 	fn.fillNaN = fn.internal + "FillNaN"
 	fn.sign = fn.internal + "Sign"
 
@@ -367,9 +376,13 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	}
 	N := lay.N()
 	affine := c.IsSimplex()
+	loop := false
+	for _, e := range elems {
+		loop = loop || e.NumNodes() > fn.loopAbove
+	}
 	newGen := func(pts, wts []float64, fg *facetGeom, prefix string) *bodyGen {
 		g := &bodyGen{c: c, dim: c.Dim(), n: N, fields: fields, elems: elems, geom: lay.Geometry,
-			pts: pts, wts: wts, facet: fg, affine: affine, prefix: prefix, names: fn}
+			pts: pts, wts: wts, facet: fg, affine: affine, loop: loop, prefix: prefix, names: fn}
 		g.init()
 		return g
 	}

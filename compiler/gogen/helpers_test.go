@@ -74,6 +74,8 @@ type modelCase struct {
 	name string // Go package name of its generated kernels
 	file string
 	src  string
+	// loopAbove is Options.loopAbove (0: default)
+	loopAbove int
 }
 
 // The model variants. Sources: stdlib models, and variants of adr on every
@@ -83,7 +85,7 @@ func modelCases(t testing.TB) []modelCase {
 	var cs []modelCase
 	for _, n := range []string{"adr", "stokes", "oseen", "navier_stokes"} {
 		f, s := stdModel(t, n)
-		cs = append(cs, modelCase{n, f, string(s)})
+		cs = append(cs, modelCase{n, f, string(s), 0})
 	}
 	adr := func(dim int, elem, a, kappa string) string {
 		return "model adr_variant\ndimension " + string(rune('0'+dim)) + "\nuse tau\nunknown c: scalar " + elem +
@@ -92,18 +94,18 @@ func modelCases(t testing.TB) []modelCase {
 			"tau for c = tau_codina(norm(a), kappa, sigma, h)\n"
 	}
 	cs = append(cs,
-		modelCase{"adrp2", "adr_p2.fw", adr(2, "P2", "[1, 1/2]", "1/100*(1 + x*y)")},
-		modelCase{"adrq1", "adr_q1.fw", adr(2, "Q1", "[1, 1/2]", "1/100")},
-		modelCase{"adrq2", "adr_q2.fw", adr(2, "Q2", "[1, 1/2]", "1/100")},
-		modelCase{"adrint", "adr_interval.fw", adr(1, "P1", "[1]", "1/50")},
-		modelCase{"adrint2", "adr_interval_q2.fw", adr(1, "Q2", "[1]", "1/50*(2 + x)")},
-		modelCase{"adrtet", "adr_tet.fw", adr(3, "P1", "[1, 1/2, 1/4]", "1/100")},
-		modelCase{"adrtet2", "adr_tet_p2.fw", adr(3, "P2", "[1, 1/2, 1/4]", "1/100")},
-		modelCase{"adrhex", "adr_hex.fw", adr(3, "Q1", "[1, 1/2, 1/4]", "1/100*(1+z)")},
+		modelCase{"adrp2", "adr_p2.fw", adr(2, "P2", "[1, 1/2]", "1/100*(1 + x*y)"), 0},
+		modelCase{"adrq1", "adr_q1.fw", adr(2, "Q1", "[1, 1/2]", "1/100"), 0},
+		modelCase{"adrq2", "adr_q2.fw", adr(2, "Q2", "[1, 1/2]", "1/100"), 0},
+		modelCase{"adrint", "adr_interval.fw", adr(1, "P1", "[1]", "1/50"), 0},
+		modelCase{"adrint2", "adr_interval_q2.fw", adr(1, "Q2", "[1]", "1/50*(2 + x)"), 0},
+		modelCase{"adrtet", "adr_tet.fw", adr(3, "P1", "[1, 1/2, 1/4]", "1/100"), 0},
+		modelCase{"adrtet2", "adr_tet_p2.fw", adr(3, "P2", "[1, 1/2, 1/4]", "1/100"), 0},
+		modelCase{"adrhex", "adr_hex.fw", adr(3, "Q1", "[1, 1/2, 1/4]", "1/100*(1+z)"), 0},
 		modelCase{"diffreac", "diffreac.fw", "model diffreac\ndimension 2\nunknown u: scalar P2\ngiven k = 2\ngiven s = 3\n" +
-			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n"},
+			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n", 0},
 		modelCase{"diffreacq", "diffreac_q.fw", "model diffreac\ndimension 2\nunknown u: scalar Q1\ngiven k = 2 + x\ngiven s = 3\n" +
-			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n"},
+			"equation for u: -div(k*grad(u)) + s*u = 1\nat all: u = 0\nstabilise galerkin\n", 0},
 		modelCase{"robin", "robin.fw", `# Robin and flux conditions on a tank (after lang/testdata/tank_dye.fw).
 model robin
 dimension 2
@@ -119,20 +121,8 @@ at right: flux(c) = x*y
 at top: flux(c) = 2*(1 - c)
 stabilise galerkin, supg, gls, vms
 tau for c = tau_codina(norm(a), kappa, 0, h)
-`},
-		modelCase{"robinq", "robin_q.fw", `model robin_q
-dimension 2
-use tau
-unknown c: scalar Q1
-given a = [1, 0.5]
-given kappa = 1/100
-given h = cell_diameter
-equation for c: a . grad(c) - div(kappa*grad(c)) = 1
-at left: c = 0
-at top: flux(c) = 2*(1 - c)*(1 + x)
-stabilise galerkin, supg
-tau for c = tau_codina(norm(a), kappa, 0, h)
-`},
+`, 0},
+		modelCase{"robinq", "robin_q.fw", robinQ, 0},
 		modelCase{"metric", "metric.fw", `model metric
 dimension 2
 use tau
@@ -143,8 +133,14 @@ equation for c: a . grad(c) - div(kappa*grad(c)) = 1
 at all: c = 0
 stabilise supg, vms
 tau for c = tau_metric_steady(a, kappa, 36)
-`},
-		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel},
+`, 0},
+		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel, 0},
+		// Loop mode (generated loops over basis functions) on cheap
+		// elements, and Q2 hexahedra, where it is the default.
+		modelCase{"adrq1loop", "adr_q1_loops.fw", adr(2, "Q1", "[1, 1/2]", "1/100*(1+y)"), 1},
+		modelCase{"robinloop", "robin_loops.fw", robinQ, 1},
+		modelCase{"stokesloop", "stokes_loops.fw", stokesQ1, 1},
+		modelCase{"adrhex2", "adr_hex_q2.fw", adr(3, "Q2", "[1, 1/2, 1/4]", "1/100"), 0},
 	)
 	return cs
 }
@@ -169,4 +165,35 @@ at _: flux(func) = 2 - func
 at go: flux(func) = return_ * x
 stabilise galerkin, supg
 tau for func = 1/(2/cell_diameter + 4*x_/cell_diameter^2)
+`
+
+const robinQ = `model robin_q
+dimension 2
+use tau
+unknown c: scalar Q1
+given a = [1, 0.5]
+given kappa = 1/100
+given h = cell_diameter
+equation for c: a . grad(c) - div(kappa*grad(c)) = 1
+at left: c = 0
+at top: flux(c) = 2*(1 - c)*(1 + x)
+stabilise galerkin, supg
+tau for c = tau_codina(norm(a), kappa, 0, h)
+`
+
+// stokesQ1 is stdlib/models/stokes.fw on Q1 quadrilaterals.
+const stokesQ1 = `model stokes_q1
+dimension 2
+use tau
+unknown vel: vector Q1
+unknown p: scalar Q1
+given nu = 1
+given g = [0, 0]
+given h = cell_diameter
+equation for vel: -div(nu*grad(vel)) + grad(p) = g
+equation for p: div(vel) = 0
+at all: vel = [0, 0]
+stabilise galerkin, supg, gls, vms
+tau for vel = tau_stokes_momentum(nu, h)
+tau for p = tau_stokes_continuity(tau_stokes_momentum(nu, h), h)
 `
