@@ -66,13 +66,13 @@ func (e *BrokenError) Unwrap() error { return e.Err }
 
 // fileNames holds the file-wide identifiers and what the file uses.
 type fileNames struct {
-	prefix   string // exported prefix
-	internal string // unexported prefix
-	fillNaN  string
-	sign     string
-	usesMath bool
-	usesSign bool
-	usesVol  bool
+	prefix    string // exported prefix
+	internal  string // unexported prefix
+	fillNaN   string
+	sign      string
+	usesMath  bool
+	usesSign  bool
+	usesVol   bool
 	loopAbove int
 }
 
