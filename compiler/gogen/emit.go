@@ -606,7 +606,14 @@ func writeStmts(w *strings.Builder, sc *scheduler, ss []stmt) {
 			w.WriteString("// " + c + "\n")
 		}
 		var b strings.Builder
+		grouped, ok := groupTerms(sc, s.terms)
+		if ok {
+			b.WriteString(grouped)
+		}
 		for i, t := range s.terms {
+			if ok {
+				break
+			}
 			var factors []string
 			c := t.c
 			neg := false
@@ -712,4 +719,66 @@ func writeLoops(w *strings.Builder, sc *scheduler, loops []loopStmt, arrays map[
 		fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrow := acc[(%d+i)*%d+%d : (%d+i)*%d+%d+%d]\nfor j := %s; j < %d; j++ {\nrow[j] += %s\n}\n}\n",
 			l.nr, l.ro, N, l.co, l.ro, N, l.co, l.nc, j0, l.nc, strings.Join(terms, " + "))
 	}
+}
+
+// groupTerms writes c·x ± c·y ± ... as c·(x ± y ± ...) for terms of one
+// factor whose constants have equal magnitude (the reference integrals of
+// a pre-integrated entry often do), saving a multiplication per term. It
+// reports false when nothing would be grouped.
+func groupTerms(sc *scheduler, ts []prod) (string, bool) {
+	type grp struct {
+		c     float64
+		terms []prod
+	}
+	var gs []*grp
+	any := false
+	for _, t := range ts {
+		m := math.Abs(t.c)
+		if len(t.ids) == 1 && m != 1 {
+			found := false
+			for _, g := range gs {
+				if g.c == m && len(g.terms[0].ids) == 1 {
+					g.terms = append(g.terms, t)
+					found, any = true, true
+					break
+				}
+			}
+			if found {
+				continue
+			}
+		}
+		gs = append(gs, &grp{c: m, terms: []prod{t}})
+	}
+	if !any {
+		return "", false
+	}
+	var parts []string
+	for _, g := range gs {
+		if len(g.terms) == 1 {
+			t := g.terms[0]
+			var f []string
+			if t.c != 1 || len(t.ids) == 0 {
+				f = append(f, literal(t.c))
+			}
+			for _, id := range t.ids {
+				f = append(f, sc.ref(id))
+			}
+			parts = append(parts, strings.Join(f, "*"))
+			continue
+		}
+		var in strings.Builder
+		for k, t := range g.terms {
+			switch {
+			case k == 0 && t.c < 0:
+				in.WriteString("-")
+			case k > 0 && t.c < 0:
+				in.WriteString(" - ")
+			case k > 0:
+				in.WriteString(" + ")
+			}
+			in.WriteString(sc.ref(t.ids[0]))
+		}
+		parts = append(parts, literal(g.c)+"*("+in.String()+")")
+	}
+	return strings.Join(parts, " + "), true
 }
