@@ -51,13 +51,27 @@ func BiCGStab(A Operator, b, x []float64, M Preconditioner, opts Options) (Resul
 	restart()
 	rho := floats.Dot(rhat, r)
 	fresh := true
+	brokeSinceStep := false // a breakdown restart with no step since
 	var alphaPrev, omegaPrev float64
 	for it := 1; it <= mon.maxIter; it++ {
 		if !fresh {
 			rhoNew := floats.Dot(rhat, r)
 			if rhoNew == 0 {
+				// r̂ᵀr = 0 with r ≠ 0 happens when the residual has moved
+				// off the support of r̂ (e.g. a right-hand side living only
+				// on Dirichlet rows, which converge at once). Restart once
+				// with r̂ = r; a second breakdown right after it is real.
+				if !brokeSinceStep {
+					restart()
+					rho = floats.Dot(rhat, r)
+					brokeSinceStep = true
+					fresh = true
+					it--
+					continue
+				}
 				return Result{}, &BreakdownError{Solver: name, Iter: it, What: "r̂ᵀr = 0"}
 			}
+			brokeSinceStep = false
 			beta := (rhoNew / rho) * (alphaPrev / omegaPrev)
 			rho = rhoNew
 			// p = r + β (p − ω v)
