@@ -164,7 +164,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		for _, gr := range b.groups {
 			if pick(gr) {
 				for _, s := range termComment(gr) {
-					out = append(out, "  "+s)
+					out = append(out, "  • "+s)
 				}
 			}
 		}

@@ -13,6 +13,8 @@ import (
 	"testing"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/interp"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files")
@@ -220,5 +222,19 @@ func TestStructure(t *testing.T) {
 	}
 	if !strings.Contains(dr, "mirror the upper triangle") {
 		t.Error("symmetric diffusion–reaction form not mirrored")
+	}
+}
+
+// A form the kernels cannot evaluate is an error, as for the interpreted
+// kernels: the time derivative of the trial function in stdlib heat (time
+// stepping is meant to lower it away) — runtime/interp refuses it too.
+func TestUnsupported(t *testing.T) {
+	f, src := stdModel(t, "heat")
+	forms := lowerAll(t, f, src)
+	if _, err := Generate(forms, Options{Package: "k"}); err == nil || !strings.Contains(err.Error(), "time derivative") {
+		t.Errorf("heat: err = %v, want a time-derivative error", err)
+	}
+	if _, err := interp.NewKernel(forms[0], cell.Triangle, interp.Options{}); err == nil {
+		t.Error("interp accepts the heat form: the generator should too")
 	}
 }

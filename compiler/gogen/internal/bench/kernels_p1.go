@@ -126,17 +126,16 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		return
 	}
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//	(1) · partial(c, x) · test(c)   [adr.fw:12]
-	//	(1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
+	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
+	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c53) + c51
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c51)
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c51-c53)
@@ -147,10 +146,9 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[7] = 0.16666666666666666*c46 + 0.5*c51
 	A[8] = 0.16666666666666666*c47 + 0.5*c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(c)   [adr.fw:12]
-	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	//   - 1 · test(c)   [adr.fw:12]
+	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
 	b[0] = 0.1666666666666667*detJ + 0.5*(-c58-c59)
 	b[1] = 0.16666666666666666*detJ + 0.5*c58
 	b[2] = 0.16666666666666666*detJ + 0.5*c59

@@ -443,17 +443,16 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 			return
 		}
 		// At each quadrature point: rows 0..8, columns 0..8:
-		//
-		//	(1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
-		//	(1) · partial(c, x) · test(c)   [adr_q2.fw:12]
-		//	(1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
-		//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
+		//   - (1) · partial(c, x) · test(c)   [adr_q2.fw:12]
+		//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
 		acc[0] += fwQ2SUPGCellBasis2Val[q][0]*p62 + p23*p252 + p60*p299
 		acc[1] += fwQ2SUPGCellBasis2Val[q][0]*p67 + p23*p254 + p60*p301
 		acc[2] += fwQ2SUPGCellBasis2Val[q][0]*p72 + p23*p256 + p60*p303
@@ -536,10 +535,9 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[79] += fwQ2SUPGCellBasis2Val[q][8]*p97 + p55*p266 + p100*p313
 		acc[80] += fwQ2SUPGCellBasis2Val[q][8]*p102 + p55*p268 + p100*p315
 		// At each quadrature point: rows 0..8 of the right-hand side:
-		//
-		//	1 · test(c)   [adr_q2.fw:12]
-		//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr_q2.fw:12]
-		//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+		//   - 1 · test(c)   [adr_q2.fw:12]
+		//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
 		rhs[0] += fwQ2SUPGCellBasis2Val[q][0]*w + p23*p250 + p60*p316
 		rhs[1] += fwQ2SUPGCellBasis2Val[q][1]*w + p27*p250 + p65*p316
 		rhs[2] += fwQ2SUPGCellBasis2Val[q][2]*w + p31*p250 + p70*p316
