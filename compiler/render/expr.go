@@ -411,6 +411,9 @@ func (p printer) mul(e *ir.Mul) (string, int) {
 		parts := make([]string, len(fs))
 		for i, f := range fs {
 			min := precUnary
+			if _, ok := f.(*ir.Div); ok && i < len(fs)-1 && p.style != Syntax {
+				min = precAtom // (∇·a) v, not ∇·a v
+			}
 			if p.style == Syntax {
 				// Contractions bind like products in the language, so a dot
 				// inside a product keeps its parentheses.
