@@ -265,7 +265,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		curves = append(curves, plot.Curve{Method: meth.String(), Norm: "L2", H: hs, Err: e2}, plot.Curve{Method: meth.String(), Norm: "H1", H: hs, Err: e1})
 	}
 	if *sweep != "" {
-		sw, err := peSweep(m, mf, exactFns[0], methods, *sweep, *speed, *pattern, n0<<(*levels-1), stdout, *asJSON)
+		sw, err := peSweep(m, mf, methods, *sweep, *speed, *pattern, n0<<(*levels-1), stdout, *asJSON)
 		if err != nil {
 			return err
 		}
@@ -311,7 +311,7 @@ func printTable(w io.Writer, vm verifyMethod) {
 
 // peSweep solves on one mesh for element Péclet numbers 0.01…1000, setting
 // the named diffusivity to κ = |a| h / (2 Pe).
-func peSweep(m *compiler.Model, mf *compiler.Manufactured, exact problem.Exact, methods []compiler.Method, coef string, speed float64, pattern string, n int, w io.Writer, quiet bool) ([]sweepMethod, error) {
+func peSweep(m *compiler.Model, mf *compiler.Manufactured, methods []compiler.Method, coef string, speed float64, pattern string, n int, w io.Writer, quiet bool) ([]sweepMethod, error) {
 	msh, err := studyMesh(m, pattern, n)
 	if err != nil {
 		return nil, &usageError{err.Error()}
@@ -346,7 +346,12 @@ func peSweep(m *compiler.Model, mf *compiler.Manufactured, exact problem.Exact, 
 			if err != nil {
 				return nil, solveError(err)
 			}
-			l2, h1 := sol.ErrorNorms(0, exact, 0, 0)
+			// The exact solution may involve the swept coefficient.
+			ex, err := problem.ExactFromExprs(m.Dim, compiler.LowerExpr(mm, mf.Exact[0]))
+			if err != nil {
+				return nil, &usageError{err.Error()}
+			}
+			l2, h1 := sol.ErrorNorms(0, ex, 0, 0)
 			sm.Rows = append(sm.Rows, sweepRow{Peclet: pe, Value: kv, L2: l2, H1: h1})
 		}
 		if !quiet {

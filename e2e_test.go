@@ -208,3 +208,39 @@ func TestVerifyCatchesWrongSource(t *testing.T) {
 		t.Errorf("message does not name method and norm: %q", errb.String())
 	}
 }
+
+// TestVerifyPecletSweep: the τ sweep on the 1D layer with its exact
+// solution. At large element Péclet numbers Galerkin's error grows without
+// bound, while SUPG with the optimal τ is nodally exact, so its error is
+// the interpolation error of the unresolved layer in the last cell, which
+// tends to that of a unit step: ‖e‖_L² = √(h/3) and |e|_H¹ = √(1/h)
+// (closed form: the interpolant rises linearly from 0 to 1 over the last
+// cell of width h while the exact solution stays 0 there).
+func TestVerifyPecletSweep(t *testing.T) {
+	var out, errb bytes.Buffer
+	exact := "(exp(a*(x - 1)/k) - exp(-a/k))/(1 - exp(-a/k))"
+	st := run([]string{"verify", "examples/river_outfall_layer/model.fw", "--method", "galerkin,supg", "--levels", "2", "--tol", "5",
+		"--sweep-pe", "k", "--exact", exact, "--json", "--quiet"}, &out, &errb)
+	if st != exitOK {
+		t.Fatalf("status %d: %s", st, errb.String())
+	}
+	var rep verifyReport
+	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Sweep) != 2 || len(rep.Sweep[0].Rows) != 11 {
+		t.Fatalf("sweep has %d methods, want 2 with 11 Péclet numbers", len(rep.Sweep))
+	}
+	gal, supg := rep.Sweep[0].Rows, rep.Sweep[1].Rows
+	h := 1.0 / 16 // the finest of two levels from 8 cells
+	last := supg[len(supg)-1]
+	if math.Abs(last.Peclet-1000) > 1e-9 {
+		t.Fatalf("last Péclet number %g, want 1000", last.Peclet)
+	}
+	if math.Abs(last.L2-math.Sqrt(h/3)) > 1e-3 || math.Abs(last.H1-math.Sqrt(1/h)) > 1e-2 {
+		t.Errorf("SUPG at Pe_h = 1000: errors %.5f, %.4f; the step-interpolation limits are %.5f, %.4f", last.L2, last.H1, math.Sqrt(h/3), math.Sqrt(1/h))
+	}
+	if g := gal[len(gal)-1]; g.L2 < 50*last.L2 {
+		t.Errorf("Galerkin at Pe_h = 1000: L2 error %.3g, not much larger than SUPG's %.3g", g.L2, last.L2)
+	}
+}
