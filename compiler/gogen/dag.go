@@ -37,8 +37,8 @@ const (
 	opDiv
 	opNeg
 	opFn  // unary elementary function
-	opMin // math.Min(a, b)
-	opMax // math.Max(a, b)
+	opMin // min(a, b): the builtin has math.Min's NaN and ±0 rules, inline
+	opMax // max(a, b)
 	opPow // math.Pow(a, b)
 )
 
@@ -566,8 +566,10 @@ func (s *scheduler) expr(id int) string {
 		}
 		return f + "(" + s.ref(n.args[0]) + ")"
 	case opMin, opMax, opPow:
-		s.usesMth = true
-		f := map[opKind]string{opMin: "math.Min", opMax: "math.Max", opPow: "math.Pow"}[n.op]
+		f := map[opKind]string{opMin: "min", opMax: "max", opPow: "math.Pow"}[n.op]
+		if n.op == opPow {
+			s.usesMth = true
+		}
 		return f + "(" + s.ref(n.args[0]) + ", " + s.ref(n.args[1]) + ")"
 	}
 	panic(fmt.Sprintf("gogen: no expression for node kind %d", n.op))

@@ -191,7 +191,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			continue
 		}
 		pairs := map[[2]int]int{}
-		lists := map[[2]int][]int{}
+		atoms := map[[2]int]map[int][]int{}
 		rpow := map[[2]int]int{}
 		for _, gr := range b.groups {
 			if !gr.cellA {
@@ -202,21 +202,46 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			if !gr.key.linear {
 				udec = g.refDecomp(gr.key.uD)
 			}
+			lin := g.linearTerms(gr.coef)
 			for _, tp := range tdec {
 				for _, up := range udec {
 					k := [2]int{tp.idx, up.idx}
-					lists[k] = append(lists[k], g.d.mul(gr.coef, g.d.mul(tp.k, up.k)))
+					kk := g.d.mul(tp.k, up.k)
+					if atoms[k] == nil {
+						atoms[k] = map[int][]int{}
+					}
+					for _, lt := range lin {
+						atoms[k][lt.atom] = append(atoms[k][lt.atom], g.d.mul(g.d.konst(lt.c), kk))
+					}
 					rpow[k] = tp.rp + up.rp // fixed by the derivative orders
 				}
 			}
 		}
-		for k := range lists {
+		for k := range atoms {
 			pairs[k] = 0
 		}
 		keys := sortedKeys(pairs)
 		mats := map[[2]int][][]float64{}
 		for _, k := range keys {
-			pairs[k] = g.d.mul(g.scaledR(rpow[k]), g.d.add(lists[k]...))
+			// G = Σ_atoms atom · (scale·r^p·Σ λ K_b K_a): the geometric sums
+			// do not wait for the coefficients (τ comes last in the
+			// dependency chain of the cell), which then cost one
+			// multiply-add each.
+			var ids []int
+			for a := range atoms[k] {
+				ids = append(ids, a)
+			}
+			sort.Ints(ids)
+			var ts []int
+			for _, a := range ids {
+				inner := g.d.mul(g.scaledR(rpow[k]), g.d.add(atoms[k][a]...))
+				if a < 0 {
+					ts = append(ts, inner)
+				} else {
+					ts = append(ts, g.d.mul(a, inner))
+				}
+			}
+			pairs[k] = g.d.add(ts...)
 			mats[k] = g.preMatrix(b.tei, k[0], b.uei, k[1], b.nr, b.nc)
 		}
 		first := true
@@ -417,7 +442,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	// Schedule and write.
 	sc := newScheduler(g.d)
 	sc.signName = g.names.sign
-	sc.reserve("x", "pv", "q", "acc", "rhs", "in", "A", "b", "k", "i", "j", "row", "zero")
+	sc.reserve("x", "pv", "q", "acc", "rhs", "in", "A", "b", "k", "i", "j", "row", "zero", "min", "max", "math", "clear", "copy")
 	need := sc.needed(roots)
 	var w0 strings.Builder
 	ng := g.geom.NumNodes() * g.dim
@@ -781,4 +806,51 @@ func groupTerms(sc *scheduler, ts []prod) (string, bool) {
 		parts = append(parts, literal(g.c)+"*("+in.String()+")")
 	}
 	return strings.Join(parts, " + "), true
+}
+
+// linTerm is λ·atom; atom −1 stands for the constant 1.
+type linTerm struct {
+	c    float64
+	atom int
+}
+
+// linearTerms writes a coefficient node as Σ λ_k·atom_k with constant λ
+// (sums are split, constant factors of products pulled out): a
+// coefficient 1/4·τ + 1/100 gives atoms τ and 1.
+func (g *bodyGen) linearTerms(id int) []linTerm {
+	n := &g.d.nodes[id]
+	switch n.op {
+	case opConst:
+		return []linTerm{{n.val, -1}}
+	case opAdd:
+		var out []linTerm
+		for _, a := range n.args {
+			out = append(out, g.linearTerms(a)...)
+		}
+		return out
+	case opNeg:
+		out := g.linearTerms(n.args[0])
+		for i := range out {
+			out[i].c = -out[i].c
+		}
+		return out
+	case opMul:
+		c := 1.0
+		var rest []int
+		for _, a := range n.args {
+			if v, ok := g.d.isConst(a); ok {
+				c *= v
+			} else {
+				rest = append(rest, a)
+			}
+		}
+		if c != 1 {
+			r := rest[0]
+			if len(rest) > 1 {
+				r = g.d.mul(rest...)
+			}
+			return []linTerm{{c, r}}
+		}
+	}
+	return []linTerm{{1, id}}
 }

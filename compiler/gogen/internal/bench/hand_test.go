@@ -71,14 +71,15 @@ func (handP1) Cell(in *assemble.CellInput, A, b []float64) {
 	e01 := (x1-x0)*(x1-x0) + (y1-y0)*(y1-y0)
 	e02 := (x2-x0)*(x2-x0) + (y2-y0)*(y2-y0)
 	e12 := (x2-x1)*(x2-x1) + (y2-y1)*(y2-y1)
-	h := math.Sqrt(math.Max(math.Max(e01, e02), e12))
+	h := math.Sqrt(max(e01, e02, e12))
 	tau := codinaTau(h)
 	area := 0.5 * det
 	a0 := adrAx*g0x + adrAy*g0y
 	a1 := adrAx*g1x + adrAy*g1y
 	a2 := adrAx*g2x + adrAy*g2y
 	// Column factors: area·(a·∇φ_j)/3 and κ·area·∇φ_j; row factor τ a·∇φ_i.
-	c0, c1, c2 := area*a0/3, area*a1/3, area*a2/3
+	third := area * (1.0 / 3)
+	c0, c1, c2 := third*a0, third*a1, third*a2
 	t0, t1, t2 := tau*area*a0, tau*area*a1, tau*area*a2
 	k := adrKappa * area
 	k0x, k0y, k1x, k1y, k2x, k2y := k*g0x, k*g0y, k*g1x, k*g1y, k*g2x, k*g2y
@@ -91,7 +92,6 @@ func (handP1) Cell(in *assemble.CellInput, A, b []float64) {
 	A[6] = c0 + k0x*g2x + k0y*g2y + t2*a0
 	A[7] = c1 + k1x*g2x + k1y*g2y + t2*a1
 	A[8] = c2 + k2x*g2x + k2y*g2y + t2*a2
-	third := area / 3
 	b[0] = third + t0
 	b[1] = third + t1
 	b[2] = third + t2

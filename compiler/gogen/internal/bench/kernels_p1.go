@@ -61,13 +61,13 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := 1.0 / diameter
 	c19 := c18 * c18
@@ -75,52 +75,59 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c21 := c18 * 2.23606797749979
 	c22 := c20 + c21
 	coef12 := 1.0 / c22
-	c23 := 0.25 * coef12
-	coef2 := c23 + 0.01
-	coef4 := 0.5 * coef12
-	coef8 := coef12 + 0.01
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c24 := j00 * j11
+	c23 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c25 := j01 * j10
-	detJ := c24 - c25
-	c26 := j01 * (-0.5)
-	c27 := 0.5 * j00
-	c28 := j01 * j01
-	c29 := coef2 * c28
+	c24 := j01 * j10
+	detJ := c23 - c24
+	c25 := j01 * (-0.5)
+	c26 := 0.5 * j00
+	c27 := j01 * j01
+	c28 := 0.25 * c27
+	c29 := 0.01 * c27
 	c30 := j00 * j01
-	c31 := coef2 * c30
-	c32 := j00 * j00
-	c33 := coef2 * c32
-	c34 := j11 * j01
-	c35 := coef4 * c34
-	c36 := coef4 * c25
-	c37 := coef4 * c24
-	c38 := j00 * j10
-	c39 := coef4 * c38
-	c40 := j11 * j11
-	c41 := j11 * j10
-	c42 := j10 * j10
-	c43 := coef8 * c40
-	c44 := coef8 * c41
-	c45 := coef8 * c42
-	c46 := j11 + c26
-	c47 := c27 - j10
+	c31 := c30 * (-0.25)
+	c32 := (-0.01) * c30
+	c33 := j00 * j00
+	c34 := 0.25 * c33
+	c35 := 0.01 * c33
+	c36 := j11 * j01
+	c37 := (-0.5) * c36
+	c38 := 0.5 * c24
+	c39 := 0.5 * c23
+	c40 := j00 * j10
+	c41 := (-0.5) * c40
+	c42 := j11 * j11
+	c43 := j11 * j10
+	c44 := j10 * j10
+	c45 := 0.01 * c42
+	c46 := (-0.01) * c43
+	c47 := 0.01 * c44
+	c48 := j11 + c25
+	c49 := c26 - j10
 	rdetJ := 1.0 / detJ
-	c48 := c29 - c35 - c35 + c43
-	c49 := rdetJ * c48
-	c50 := c36 - c31 + c37 - c44
+	c50 := c29 + c45
 	c51 := rdetJ * c50
-	c52 := c33 - c39 - c39 + c45
+	c52 := c28 + c37 + c37 + c42
 	c53 := rdetJ * c52
-	c54 := coef4 * j01
-	c55 := coef4 * j00
-	c56 := coef12 * j11
-	c57 := coef12 * j10
-	c58 := c56 - c54
-	c59 := c55 - c57
+	c54 := coef12 * c53
+	c55 := c51 + c54
+	c56 := c32 + c46
+	c57 := rdetJ * c56
+	c58 := c31 + c38 + c39 - c43
+	c59 := rdetJ * c58
+	c60 := coef12 * c59
+	c61 := c57 + c60
+	c62 := c35 + c47
+	c63 := rdetJ * c62
+	c64 := c34 + c41 + c41 + c44
+	c65 := rdetJ * c64
+	c66 := coef12 * c65
+	c67 := c63 + c66
+	c68 := coef12 * c48
+	c69 := coef12 * c49
 	if !(detJ > 0) {
 		fwP1FillNaN(A, b)
 		return
@@ -136,22 +143,22 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
 	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c53) + c51
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c51)
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c51-c53)
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c51)
-	A[4] = 0.16666666666666666*c46 + 0.5*c49
-	A[5] = 0.16666666666666666*c47 + 0.5*c51
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c51-c53)
-	A[7] = 0.16666666666666666*c46 + 0.5*c51
-	A[8] = 0.16666666666666666*c47 + 0.5*c53
+	A[0] = 0.1666666666666667*(-c48-c49) + 0.5*(c55+c67) + c61
+	A[1] = 0.1666666666666667*c48 + 0.5*(-c55-c61)
+	A[2] = 0.1666666666666667*c49 + 0.5*(-c61-c67)
+	A[3] = 0.16666666666666666*(-c48-c49) + 0.5*(-c55-c61)
+	A[4] = 0.16666666666666666*c48 + 0.5*c55
+	A[5] = 0.16666666666666666*c49 + 0.5*c61
+	A[6] = 0.16666666666666666*(-c48-c49) + 0.5*(-c61-c67)
+	A[7] = 0.16666666666666666*c48 + 0.5*c61
+	A[8] = 0.16666666666666666*c49 + 0.5*c67
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
 	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
 	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	b[0] = 0.1666666666666667*detJ + 0.5*(-c58-c59)
-	b[1] = 0.16666666666666666*detJ + 0.5*c58
-	b[2] = 0.16666666666666666*detJ + 0.5*c59
+	b[0] = 0.1666666666666667*detJ + 0.5*(-c68-c69)
+	b[1] = 0.16666666666666666*detJ + 0.5*c68
+	b[2] = 0.16666666666666666*detJ + 0.5*c69
 }
 
 // fwP1FillNaN fills A and b with NaN: the cell has a non-positive Jacobian
