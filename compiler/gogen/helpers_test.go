@@ -109,12 +109,12 @@ func modelCases(t testing.TB) []modelCase {
 		modelCase{"robin", "robin.fw", `# Robin and flux conditions on a tank (after lang/testdata/tank_dye.fw).
 model robin
 dimension 2
-use tau
+use tau, sizes
 unknown c: scalar P1
 given a = [1, 0.5]
 given kappa = 1e-3 * (1 + x^2)
-given f = exp(-10*((x-0.5)^2 + y^2))
-given h = cell_diameter
+given f = exp(-10*((x-0.5)^2 + y^2)) * (1 + t)
+given h = h_disc(cell_volume)
 equation for c: a . grad(c) - div(kappa*grad(c)) = f
 at left, bottom: c = 0
 at right: flux(c) = x*y
@@ -129,7 +129,7 @@ use tau
 unknown c: scalar Q1
 given a = [1, 1/3]
 given kappa = 1/100
-equation for c: a . grad(c) - div(kappa*grad(c)) = 1
+equation for c: a . grad(c) - div(kappa*grad(c)) = 1 + t*x
 at all: c = 0
 stabilise supg, vms
 tau for c = tau_metric_steady(a, kappa, 36)
@@ -169,11 +169,11 @@ tau for func = 1/(2/cell_diameter + 4*x_/cell_diameter^2)
 
 const robinQ = `model robin_q
 dimension 2
-use tau
+use tau, sizes
 unknown c: scalar Q1
 given a = [1, 0.5]
 given kappa = 1/100
-given h = cell_diameter
+given h = h_disc(cell_volume) + 0*cell_diameter
 equation for c: a . grad(c) - div(kappa*grad(c)) = 1
 at left: c = 0
 at top: flux(c) = 2*(1 - c)*(1 + x)
