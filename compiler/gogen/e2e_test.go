@@ -208,6 +208,20 @@ func main() {
 					}
 				}
 			}
+			// An inverted cell (two vertices swapped): both kernels fill
+			// A and b with NaN.
+			bad := randomCell(k.Cell, rng)
+			d := k.Cell.Dim()
+			for i := 0; i < d; i++ {
+				bad[i], bad[d+i] = bad[d+i], bad[i]
+			}
+			badIn := assemble.CellInput{Coords: bad, Previous: make([]float64, n)}
+			ik.Cell(&badIn, A1, b1)
+			gk.Cell(&badIn, A2, b2)
+			if !math.IsNaN(A1[0]) || !math.IsNaN(A2[0]) || !math.IsNaN(b2[n-1]) {
+				fmt.Println("FAIL", name, "inverted cell: generated", A2[0], b2[n-1], "interpreted", A1[0])
+				fails++
+			}
 			// Zero allocation per element.
 			fixedIn := &assemble.CellInput{Coords: randomCellFixed(k.Cell), Previous: make([]float64, n)}
 			allocs := testingAllocs(func() { gk.Cell(fixedIn, A2, b2) })

@@ -157,7 +157,12 @@ func selectForms(forms []*ir.LoweredForm, methods []string) ([]*ir.LoweredForm, 
 		return forms, nil
 	}
 	var out []*ir.LoweredForm
+	seen := map[string]bool{}
 	for _, m := range methods {
+		if seen[m] {
+			continue
+		}
+		seen[m] = true
 		found := false
 		for _, f := range forms {
 			if f.Method == m {

@@ -141,6 +141,9 @@ tau for c = tau_metric_steady(a, kappa, 36)
 		modelCase{"robinloop", "robin_loops.fw", robinQ, 1},
 		modelCase{"stokesloop", "stokes_loops.fw", stokesQ1, 1},
 		modelCase{"adrhex2", "adr_hex_q2.fw", adr(3, "Q2", "[1, 1/2, 1/4]", "1/100"), 0},
+		// Mixed elements (Taylor–Hood P2/P1 and Q2/Q1), unrolled and in loops.
+		modelCase{"stokesth", "stokes_p2p1.fw", strings.NewReplacer("vector Q1", "vector P2", "scalar Q1", "scalar P1").Replace(stokesQ1), 0},
+		modelCase{"stokesq2q1", "stokes_q2q1_loops.fw", strings.NewReplacer("vector Q1", "vector Q2").Replace(stokesQ1), 1},
 	)
 	return cs
 }
