@@ -229,6 +229,13 @@ func main() {
 				fmt.Println("FAIL", name, "allocates", allocs)
 				fails++
 			}
+			for _, fk := range gfk {
+				fin := &assemble.FacetInput{CellInput: *fixedIn, Facet: k.Cell.NumFacets() - 1}
+				if a := testingAllocs(func() { fk.Facet(fin, A2, b2) }); a != 0 {
+					fmt.Println("FAIL", name, "facet kernel", fk.Side(), "allocates", a)
+					fails++
+				}
+			}
 		}
 	}
 	fmt.Printf("checked %%d matrices and vectors, worst relative difference %%.3g, %%d failures\n", checks, worst, fails)
