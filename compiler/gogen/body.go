@@ -58,7 +58,7 @@ type bodyGen struct {
 	memo map[string]int
 	err  error
 
-	usesPrev, usesVol bool
+	usesPrev bool
 }
 
 func (g *bodyGen) fail(format string, a ...any) int {
@@ -169,15 +169,13 @@ func (g *bodyGen) memoize(key string, f func() int) int {
 
 // Reference data.
 
+// tabName names the table of kind (Val, Grad, Hess) of distinct element
+// ei, or of the geometry element for ei < 0.
 func (g *bodyGen) tabName(ei int, kind string) string {
-	deg := 1
-	if ei >= 0 {
-		deg = g.elems[ei].Degree
-	}
 	if ei < 0 {
 		return fmt.Sprintf("%sGeom%s", g.prefix, kind)
 	}
-	return fmt.Sprintf("%sBasis%d%s", g.prefix, deg, kind)
+	return fmt.Sprintf("%sBasis%d%s", g.prefix, g.elems[ei].Degree, kind)
 }
 
 func (g *bodyGen) refVal(ei, a int) int {
@@ -487,7 +485,6 @@ func (g *bodyGen) cellVolume() int {
 		if g.c.IsSimplex() {
 			return g.d.name(g.d.fn(ir.Abs, g.d.mul(g.det(), g.d.konst(g.c.Measure()))), "volume")
 		}
-		g.usesVol = true
 		return g.d.ext(fmt.Sprintf("assemble.CellVolume(cell.%s, x)", cellIdent(g.c)), lvCell, "volume")
 	})
 }

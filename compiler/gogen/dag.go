@@ -393,7 +393,6 @@ type scheduler struct {
 	used    map[string]bool
 	counter map[level]int
 	usesFn  map[string]bool // helper functions referenced (fwSign)
-	usesMth bool
 	// signName is the file's sign helper function.
 	signName string
 }
@@ -414,9 +413,6 @@ func (s *scheduler) ref(id int) string {
 	n := &s.d.nodes[id]
 	switch n.op {
 	case opConst:
-		if math.IsNaN(n.val) || math.IsInf(n.val, 0) {
-			s.usesMth = true
-		}
 		return literal(n.val)
 	case opLeaf:
 		return n.code
@@ -561,15 +557,10 @@ func (s *scheduler) expr(id int) string {
 		if f == "fwSign" {
 			s.usesFn["fwSign"] = true
 			f = s.signName
-		} else {
-			s.usesMth = true
 		}
 		return f + "(" + s.ref(n.args[0]) + ")"
 	case opMin, opMax, opPow:
 		f := map[opKind]string{opMin: "min", opMax: "max", opPow: "math.Pow"}[n.op]
-		if n.op == opPow {
-			s.usesMth = true
-		}
 		return f + "(" + s.ref(n.args[0]) + ", " + s.ref(n.args[1]) + ")"
 	}
 	panic(fmt.Sprintf("gogen: no expression for node kind %d", n.op))

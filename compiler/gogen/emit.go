@@ -565,9 +565,6 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			w0.WriteString("clear(b)\n")
 		}
 	}
-	if sc.usesMth {
-		g.names.usesMath = true
-	}
 	if sc.usesFn["fwSign"] {
 		g.names.usesSign = true
 	}

@@ -70,9 +70,7 @@ type fileNames struct {
 	internal  string // unexported prefix
 	fillNaN   string
 	sign      string
-	usesMath  bool
 	usesSign  bool
-	usesVol   bool
 	loopAbove int
 }
 
@@ -394,9 +392,6 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	flushTables := func(g *bodyGen) {
 		for _, name := range g.order {
 			tables.WriteString(g.used[name] + "\n")
-		}
-		if g.usesVol {
-			fn.usesVol = true
 		}
 	}
 
