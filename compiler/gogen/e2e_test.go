@@ -6,6 +6,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"regexp"
+	"sort"
 	"strconv"
 	"strings"
 	"testing"
@@ -299,9 +300,22 @@ func TestGeneratedMatchesInterpreted(t *testing.T) {
 	if sum, err := os.ReadFile(filepath.Join(root, "go.sum")); err == nil {
 		write("go.sum", sum)
 	}
-	var imports, cases strings.Builder
+	var imports, caseList strings.Builder
 	var pkgs []string
-	for _, mc := range modelCases(t) {
+	cases := modelCases(t)
+	// The project's example models too (read-only; they are the models
+	// whose generated kernels the command ships).
+	examples, _ := filepath.Glob(filepath.Join(root, "examples", "*", "model.fw"))
+	sort.Strings(examples)
+	for _, p := range examples {
+		src, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		name := filepath.Base(filepath.Dir(p))
+		cases = append(cases, modelCase{"ex" + strings.ReplaceAll(name, "_", ""), "examples/" + name + "/model.fw", string(src), 0})
+	}
+	for _, mc := range cases {
 		forms := lowerAll(t, mc.file, []byte(mc.src))
 		src, err := Generate(forms, Options{Package: mc.name, ModelFile: mc.file, CommandLine: "gen " + mc.file + " -o . --package " + mc.name,
 			Output: filepath.Join(dir, mc.name, "kernels.go"), loopAbove: mc.loopAbove})
@@ -310,10 +324,10 @@ func TestGeneratedMatchesInterpreted(t *testing.T) {
 		}
 		write(filepath.Join(mc.name, "kernels.go"), src)
 		fmt.Fprintf(&imports, "\t_ \"fwcheck/%s\"\n", mc.name)
-		fmt.Fprintf(&cases, "\t{%s, %s},\n", strconv.Quote(mc.file), strconv.Quote(mc.src))
+		fmt.Fprintf(&caseList, "\t{%s, %s},\n", strconv.Quote(mc.file), strconv.Quote(mc.src))
 		pkgs = append(pkgs, "./"+mc.name)
 	}
-	write("main.go", []byte(fmt.Sprintf(checkProgram, imports.String(), cases.String())))
+	write("main.go", []byte(fmt.Sprintf(checkProgram, imports.String(), caseList.String())))
 	write("allocs.go", []byte(allocsFile))
 
 	env := append(os.Environ(), "GOFLAGS=-mod=mod", "GOPROXY=off", "GOWORK=off")
