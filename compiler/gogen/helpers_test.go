@@ -135,6 +135,10 @@ stabilise supg, vms
 tau for c = tau_metric_steady(a, kappa, 36)
 `, 0},
 		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel, 0},
+		// Every elementary function, fractional and negative powers, in
+		// cell and boundary coefficients, on P1 and Q1.
+		modelCase{"funcs", "funcs.fw", funcsModel("P1"), 0},
+		modelCase{"funcsq", "funcs_q.fw", funcsModel("Q1"), 0},
 		// Loop mode (generated loops over basis functions) on cheap
 		// elements, and Q2 hexahedra, where it is the default.
 		modelCase{"adrq1loop", "adr_q1_loops.fw", adr(2, "Q1", "[1, 1/2]", "1/100*(1+y)"), 1},
@@ -200,3 +204,20 @@ stabilise galerkin, supg, gls, vms
 tau for vel = tau_stokes_momentum(nu, h)
 tau for p = tau_stokes_continuity(tau_stokes_momentum(nu, h), h)
 `
+
+func funcsModel(elem string) string {
+	return `model funcs
+dimension 2
+use tau
+unknown c: scalar ` + elem + `
+given a = [1 + sin(x)*cos(y), tanh(x - y)/2]
+given kappa = (2 + sign(x - 1/2)*coth(2 + y) + min(x, y) + max(x, 1/3))/50
+given sigma = tan(x/4) + sinh(x)*cosh(y)/10 + log(2 + x) + (1 + x^2)^(1/3) + (2 + y)^(-2) + abs(x - y) + exp(-x) + sqrt(1 + y^2)
+given h = cell_diameter
+equation for c: a . grad(c) - div(kappa*grad(c)) + sigma*c = pi*x
+at left: c = 0
+at top: flux(c) = sign(x - 1/2) + min(x, 1/2)*c
+stabilise galerkin, supg, gls
+tau for c = tau_doubly_asymptotic(norm(a), kappa, h) + 0*tau_optimal(norm(a), kappa, h)
+`
+}
