@@ -218,6 +218,14 @@ func (d *dag) mul(xs ...int) int {
 		return d.konst(c)
 	}
 	sort.Ints(fs)
+	// √y·√y = y (cell_diameter² from the diameter's square root).
+	for i := 0; i+1 < len(fs); i++ {
+		n := &d.nodes[fs[i]]
+		if fs[i] == fs[i+1] && n.op == opFn && n.fn == ir.Sqrt {
+			rest := append(append([]int{d.konst(c), n.args[0]}, fs[:i]...), fs[i+2:]...)
+			return d.mul(rest...)
+		}
+	}
 	var p int
 	if len(fs) == 1 {
 		p = fs[0]
@@ -260,7 +268,89 @@ func (d *dag) recip(b int) int {
 	if n.op == opNeg {
 		return d.neg(d.recip(n.args[0]))
 	}
+	if n.op == opAdd {
+		if id, ok := d.recipPoly(b); ok {
+			return id
+		}
+	}
 	return d.intern(node{op: opDiv, args: []int{d.konst(1), b}, lv: n.lv})
+}
+
+// isRecip reports whether id is 1/h, and h.
+func (d *dag) isRecip(id int) (int, bool) {
+	n := &d.nodes[id]
+	if n.op == opDiv {
+		if v, ok := d.isConst(n.args[0]); ok && v == 1 {
+			return n.args[1], true
+		}
+	}
+	return 0, false
+}
+
+// factors flattens a product into its constant and its other factors.
+func (d *dag) factors(id int) (float64, []int) {
+	n := &d.nodes[id]
+	switch n.op {
+	case opConst:
+		return n.val, nil
+	case opNeg:
+		c, fs := d.factors(n.args[0])
+		return -c, fs
+	case opMul:
+		c := 1.0
+		var fs []int
+		for _, a := range n.args {
+			ca, fa := d.factors(a)
+			c *= ca
+			fs = append(fs, fa...)
+		}
+		return c, fs
+	}
+	return 1, []int{id}
+}
+
+// recipPoly rewrites 1/(Σ c_i X_i r^k_i), r = 1/h, as
+// h^m/(Σ c_i X_i h^(m−k_i)) with m = max k_i: one division instead of
+// two or more. τ formulas have this shape (1/(4κ/h² + 2|a|/h + |σ|)),
+// and it shortens the dependency chain of a cell. The value changes by
+// round-off only.
+func (d *dag) recipPoly(b int) (int, bool) {
+	type term struct {
+		c    float64
+		rest []int
+		k    int
+	}
+	var ts []term
+	h := -1
+	for _, a := range d.nodes[b].args {
+		c, fs := d.factors(a)
+		t := term{c: c}
+		for _, f := range fs {
+			if hh, ok := d.isRecip(f); ok && (h < 0 || hh == h) {
+				h = hh
+				t.k++
+				continue
+			}
+			t.rest = append(t.rest, f)
+		}
+		ts = append(ts, t)
+	}
+	m := 0
+	for _, t := range ts {
+		m = max(m, t.k)
+	}
+	if h < 0 || m == 0 || m > 4 {
+		return 0, false
+	}
+	var den []int
+	for _, t := range ts {
+		f := append([]int{d.konst(t.c)}, t.rest...)
+		if m-t.k > 0 {
+			f = append(f, d.powInt(h, m-t.k))
+		}
+		den = append(den, d.mul(f...))
+	}
+	return d.mul(d.powInt(h, m), d.recip(d.add(den...))), true
 }
 
 func (d *dag) fn(f ir.Func, a int) int {
