@@ -222,6 +222,9 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		}
 		keys := sortedKeys(pairs)
 		mats := map[[2]int][][]float64{}
+		inner := map[[2]int]map[int]int{}
+		late := map[int]bool{}
+		var lateIDs []int
 		for _, k := range keys {
 			// G = Σ_atoms atom · (scale·r^p·Σ λ K_b K_a): the geometric sums
 			// do not wait for the coefficients (τ comes last in the
@@ -232,18 +235,22 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 				ids = append(ids, a)
 			}
 			sort.Ints(ids)
-			var ts []int
+			inner[k] = map[int]int{}
 			for _, a := range ids {
-				inner := g.d.mul(g.scaledR(rpow[k]), g.d.add(atoms[k][a]...))
-				if a < 0 {
-					ts = append(ts, inner)
-				} else {
-					ts = append(ts, g.d.mul(a, inner))
+				inner[k][a] = g.d.mul(g.scaledR(rpow[k]), g.d.add(atoms[k][a]...))
+				if a >= 0 && !late[a] {
+					late[a] = true
+					lateIDs = append(lateIDs, a)
 				}
 			}
-			pairs[k] = g.d.add(ts...)
+			if len(ids) == 1 && ids[0] < 0 {
+				pairs[k] = inner[k][-1]
+			} else {
+				pairs[k] = -1 // has coefficient atoms
+			}
 			mats[k] = g.preMatrix(b.tei, k[0], b.uei, k[1], b.nr, b.nc)
 		}
+		sort.Ints(lateIDs)
 		first := true
 		for i := 0; i < b.nr; i++ {
 			for j := 0; j < max(b.nc, 1); j++ {
@@ -257,20 +264,39 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 					}
 					target = fmt.Sprintf("acc[%d]", r*N+c)
 				}
+				// Entry = Σ_k M_k G_k(1) + Σ_atoms atom·(Σ_k M_k G_k(atom)):
+				// the sums are ready before the coefficient atoms (τ), which
+				// cost one multiply-add each at the end of the chain.
 				var terms []prod
 				for _, k := range keys {
 					m := mats[k][i][j]
 					if m == 0 {
 						continue
 					}
-					if v, ok := g.d.isConst(pairs[k]); ok {
+					one, ok := inner[k][-1]
+					if !ok {
+						continue
+					}
+					if v, ok := g.d.isConst(one); ok {
 						if v != 0 {
 							terms = append(terms, prod{m * v, nil})
 						}
 						continue
 					}
-					terms = append(terms, prod{m, []int{pairs[k]}})
-					roots = append(roots, pairs[k])
+					terms = append(terms, prod{m, []int{one}})
+					roots = append(roots, one)
+				}
+				for _, a := range lateIDs {
+					var sum []int
+					for _, k := range keys {
+						m := mats[k][i][j]
+						if x, ok := inner[k][a]; ok && m != 0 {
+							sum = append(sum, g.d.mul(g.d.konst(m), x))
+						}
+					}
+					if len(sum) > 0 {
+						terms = appendProd(g, terms, &roots, a, g.d.add(sum...))
+					}
 				}
 				if len(terms) == 0 {
 					continue

@@ -110,22 +110,28 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c49 := rdetJ * c48
 	c50 := c26 + c35 + c35 + c40
 	c51 := rdetJ * c50
-	c52 := coef12 * c51
-	c53 := c49 + c52
-	c54 := c30 + c44
+	c52 := c30 + c44
+	c53 := rdetJ * c52
+	c54 := c29 + c36 + c37 - c41
 	c55 := rdetJ * c54
-	c56 := c29 + c36 + c37 - c41
+	c56 := c33 + c45
 	c57 := rdetJ * c56
-	c58 := coef12 * c57
-	c59 := c55 + c58
-	c60 := c33 + c45
-	c61 := rdetJ * c60
-	c62 := c32 + c39 + c39 + c42
-	c63 := rdetJ * c62
-	c64 := coef12 * c63
-	c65 := c61 + c64
-	c66 := coef12 * c46
-	c67 := coef12 * c47
+	c58 := c32 + c39 + c39 + c42
+	c59 := rdetJ * c58
+	c60 := 0.5 * c51
+	c61 := 0.5 * c55
+	c62 := 0.5 * c59
+	c63 := c60 + c61 + c61 + c62
+	c64 := (-0.5) * c51
+	c65 := (-0.5) * c55
+	c66 := c64 + c65
+	c67 := (-0.5) * c59
+	c68 := c65 + c67
+	c69 := (-0.5) * c46
+	c70 := (-0.5) * c47
+	c71 := c69 + c70
+	c72 := 0.5 * c46
+	c73 := 0.5 * c47
 	if !(detJ > 0) {
 		fwP1FillNaN(A, b)
 		return
@@ -141,22 +147,22 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
 	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c53+c65) + c59
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c53-c59)
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c59-c65)
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c59)
-	A[4] = 0.16666666666666666*c46 + 0.5*c53
-	A[5] = 0.16666666666666666*c47 + 0.5*c59
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c59-c65)
-	A[7] = 0.16666666666666666*c46 + 0.5*c59
-	A[8] = 0.16666666666666666*c47 + 0.5*c65
+	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
+	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
+	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
+	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef12*c66
+	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef12*c60
+	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef12*c61
+	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef12*c68
+	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef12*c61
+	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
 	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
 	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	b[0] = 0.1666666666666667*detJ + 0.5*(-c66-c67)
-	b[1] = 0.16666666666666666*detJ + 0.5*c66
-	b[2] = 0.16666666666666666*detJ + 0.5*c67
+	b[0] = 0.1666666666666667*detJ + coef12*c71
+	b[1] = 0.16666666666666666*detJ + coef12*c72
+	b[2] = 0.16666666666666666*detJ + coef12*c73
 }
 
 // fwP1FillNaN fills A and b with NaN: the cell has a non-positive Jacobian
