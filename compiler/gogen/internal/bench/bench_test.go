@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
@@ -137,3 +138,39 @@ func BenchmarkSUPGQ2Interpreted(b *testing.B) {
 	_, _, k := kernels(b, "adr_q2.fw", cell.Quadrilateral)
 	benchKernel(b, k, cell.Quadrilateral)
 }
+
+// benchRatios times the three kernels in alternating blocks of calls and
+// keeps each kernel's fastest block, which is robust against other load
+// on the machine; it reports ns/element of each and the ratios
+// hand/generated and interpreted/generated.
+func benchRatios(b *testing.B, model string, c cell.Type, calls int) {
+	gen, hand, ik := kernels(b, model, c)
+	cells := randomCells(c, 256)
+	n := gen.Layout().N()
+	A, rhs := make([]float64, n*n), make([]float64, n)
+	ks := []assemble.Kernel{gen, hand, ik}
+	best := []float64{math.Inf(1), math.Inf(1), math.Inf(1)}
+	for b.Loop() {
+		for i, k := range ks {
+			m := calls
+			if i == 2 {
+				m = max(1, calls/10)
+			}
+			start := time.Now()
+			for j := 0; j < m; j++ {
+				k.Cell(&cells[j&255], A, rhs)
+			}
+			best[i] = math.Min(best[i], float64(time.Since(start).Nanoseconds())/float64(m))
+		}
+	}
+	sink += A[0] + rhs[0]
+	b.ReportMetric(best[0], "gen-ns/element")
+	b.ReportMetric(best[1], "hand-ns/element")
+	b.ReportMetric(best[2], "interp-ns/element")
+	b.ReportMetric(best[1]/best[0], "hand/gen")
+	b.ReportMetric(best[2]/best[0], "interp/gen")
+}
+
+func BenchmarkRatiosSUPGP1(b *testing.B) { benchRatios(b, "adr", cell.Triangle, 2000) }
+
+func BenchmarkRatiosSUPGQ2(b *testing.B) { benchRatios(b, "adr_q2.fw", cell.Quadrilateral, 100) }
