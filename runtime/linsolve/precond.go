@@ -48,9 +48,17 @@ type ILU0 struct {
 // pattern or a pivot becomes zero (possible for matrices that are not
 // M-matrices or diagonally dominant), and *NonFiniteError if a factor
 // entry is NaN or Inf.
-func NewILU0(A *sparse.CSR) (*ILU0, error) {
+func NewILU0(A *sparse.CSR) (*ILU0, error) { return NewILU0Shifted(A, 0) }
+
+// NewILU0Shifted is ILU(0) of A + shift·diag(A), the shifted incomplete
+// factorisation (Manteuffel 1980, Math. Comp. 34); see Options.ILUShift.
+// shift = 0 is plain ILU(0).
+func NewILU0Shifted(A *sparse.CSR, shift float64) (*ILU0, error) {
 	const name = "ilu0"
 	checkSquare(name, A)
+	if shift < 0 || !finite(shift) {
+		panic(fmt.Sprintf("linsolve: ILU(0) shift %g must be finite and non-negative", shift))
+	}
 	n := A.N
 	lu := A.Clone()
 	diag := make([]int, n)
@@ -59,6 +67,7 @@ func NewILU0(A *sparse.CSR) (*ILU0, error) {
 		if diag[i] < 0 {
 			return nil, &SingularError{Solver: name, Row: i, What: "no diagonal entry in the pattern"}
 		}
+		lu.Val[diag[i]] *= 1 + shift
 	}
 	iw := make([]int, n)
 	for i := range iw {

@@ -64,7 +64,13 @@ func Solve(A *sparse.CSR, b, x []float64, opts Options) (Result, error) {
 	if opts.Method == MethodDirect {
 		return solveDirect(A, op, b, x, opts)
 	}
-	M, err := NewPreconditioner(opts.Precond, A)
+	var M Preconditioner
+	var err error
+	if opts.Precond == PrecondILU0 && opts.ILUShift != 0 {
+		M, err = NewILU0Shifted(A, opts.ILUShift)
+	} else {
+		M, err = NewPreconditioner(opts.Precond, A)
+	}
 	if err != nil {
 		return Result{}, err
 	}
