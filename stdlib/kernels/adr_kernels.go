@@ -69,74 +69,59 @@ func (AdrGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:3:3]
 	x := in.Coords[:6:6]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
-	c5 := 0.5 * detJ
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := j01 * (-0.5)
+	c4 := 0.5 * j00
+	c5 := j01 * j01
+	c6 := 0.01 * c5
+	c7 := j00 * j01
+	c8 := c7 * (-0.01)
+	c9 := j00 * j00
+	c10 := 0.01 * c9
+	c11 := j11 * j11
+	c12 := 0.01 * c11
+	c13 := j11 * j10
+	c14 := (-0.01) * c13
+	c15 := j10 * j10
+	c16 := 0.01 * c15
+	c17 := j11 + c3
+	c18 := c4 - j10
 	rdetJ := 1.0 / detJ
-	c6 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c7 := c5 * c6
-	c8 := -c7
-	c9 := c5 * k11
-	k00 := j11 * rdetJ
-	c10 := j10 * rdetJ
-	c11 := detJ * k00
-	c12 := detJ * c10
-	c13 := 0.01 * detJ
-	c14 := c6 * c6
-	c15 := c13 * c14
-	c16 := c6 * k11
-	c17 := c13 * c16
-	c18 := -c17
-	c19 := k11 * k11
-	c20 := c13 * c19
-	c21 := k00 * k00
-	c22 := c13 * c21
-	c23 := k00 * c10
-	c24 := c13 * c23
-	c25 := c10 * c10
-	c26 := c13 * c25
-	c27 := c8 + c11
-	c28 := c9 - c12
-	c29 := c15 + c22
-	c30 := c18 - c24
-	c31 := c20 + c26
+	c19 := c6 + c12
+	c20 := rdetJ * c19
+	c21 := c8 + c14
+	c22 := rdetJ * c21
+	c23 := c10 + c16
+	c24 := rdetJ * c23
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//	(1) · partial(c, x) · test(c)   [adr.fw:12]
-	//	(1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//	(1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c27 - 0.1666666666666667*c28 + 0.5*c29 + c30 + 0.5*c31
-	acc[1] += 0.1666666666666667*c27 - 0.5*c29 - 0.5*c30
-	acc[2] += 0.1666666666666667*c28 - 0.5*c30 - 0.5*c31
-	acc[3] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28 - 0.5*c29 - 0.5*c30
-	acc[4] += 0.16666666666666666*c27 + 0.5*c29
-	acc[5] += 0.16666666666666666*c28 + 0.5*c30
-	acc[6] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28 - 0.5*c30 - 0.5*c31
-	acc[7] += 0.16666666666666666*c27 + 0.5*c30
-	acc[8] += 0.16666666666666666*c28 + 0.5*c31
+	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
+	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
+	//   - (1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	A[0] = 0.1666666666666667*(-c17-c18) + 0.5*(c20+c24) + c22
+	A[1] = 0.1666666666666667*c17 + 0.5*(-c20-c22)
+	A[2] = 0.1666666666666667*c18 + 0.5*(-c22-c24)
+	A[3] = 0.16666666666666666*(-c17-c18) + 0.5*(-c20-c22)
+	A[4] = 0.16666666666666666*c17 + 0.5*c20
+	A[5] = 0.16666666666666666*c18 + 0.5*c22
+	A[6] = 0.16666666666666666*(-c17-c18) + 0.5*(-c22-c24)
+	A[7] = 0.16666666666666666*c17 + 0.5*c22
+	A[8] = 0.16666666666666666*c18 + 0.5*c24
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(c)   [adr.fw:12]
-	rhs[0] += 0.1666666666666667 * detJ
-	rhs[1] += 0.16666666666666666 * detJ
-	rhs[2] += 0.16666666666666666 * detJ
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - 1 · test(c)   [adr.fw:12]
+	b[0] = 0.1666666666666667 * detJ
+	b[1] = 0.16666666666666666 * detJ
+	b[2] = 0.16666666666666666 * detJ
 }
 
 // fwAdrSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
@@ -179,117 +164,108 @@ func (AdrSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.23606797749979 * c21
-	c23 := c20 + c22
-	coef12 := 1.0 / c23
-	c24 := 0.25 * coef12
-	coef2 := c24 + 0.01
-	coef4 := 0.5 * coef12
-	coef8 := coef12 + 0.01
+	c18 := diameter * 2.23606797749979
+	c19 := 0.04 + c18
+	c20 := 1.0 / c19
+	coef12 := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c25 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c26 := j01 * j10
-	detJ := c25 - c26
-	c27 := 0.5 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.5)
+	c24 := 0.5 * j00
+	c25 := j01 * j01
+	c26 := 0.25 * c25
+	c27 := 0.01 * c25
+	c28 := j00 * j01
+	c29 := c28 * (-0.25)
+	c30 := (-0.01) * c28
+	c31 := j00 * j00
+	c32 := 0.25 * c31
+	c33 := 0.01 * c31
+	c34 := j11 * j01
+	c35 := (-0.5) * c34
+	c36 := 0.5 * c22
+	c37 := 0.5 * c21
+	c38 := j00 * j10
+	c39 := (-0.5) * c38
+	c40 := j11 * j11
+	c41 := j11 * j10
+	c42 := j10 * j10
+	c43 := 0.01 * c40
+	c44 := (-0.01) * c41
+	c45 := 0.01 * c42
+	c46 := j11 + c23
+	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c28 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c29 := c27 * c28
-	c30 := -c29
-	c31 := c27 * k11
-	k00 := j11 * rdetJ
-	c32 := j10 * rdetJ
-	c33 := detJ * k00
-	c34 := detJ * c32
-	c35 := coef2 * detJ
-	c36 := c28 * c28
-	c37 := c35 * c36
-	c38 := c28 * k11
-	c39 := c35 * c38
-	c40 := -c39
-	c41 := k11 * k11
-	c42 := c35 * c41
-	c43 := coef4 * detJ
-	c44 := c28 * k00
-	c45 := c43 * c44
-	c46 := c28 * c32
-	c47 := c43 * c46
-	c48 := k11 * k00
-	c49 := c43 * c48
-	c50 := k11 * c32
-	c51 := c43 * c50
-	c52 := k00 * k00
-	c53 := k00 * c32
-	c54 := c32 * c32
-	c55 := coef8 * detJ
-	c56 := c52 * c55
-	c57 := c53 * c55
-	c58 := c54 * c55
-	c59 := c30 + c33
-	c60 := c31 - c34
-	c61 := c37 - c45 - c45 + c56
-	c62 := c40 + c47 + c49 - c57
-	c63 := c42 - c51 - c51 + c58
-	c64 := c28 * c43
-	c65 := -c64
-	c66 := k11 * c43
-	c67 := coef12 * detJ
-	c68 := k00 * c67
-	c69 := c32 * c67
-	c70 := c65 + c68
-	c71 := c66 - c69
+	c48 := c27 + c43
+	c49 := rdetJ * c48
+	c50 := c26 + c35 + c35 + c40
+	c51 := rdetJ * c50
+	c52 := c30 + c44
+	c53 := rdetJ * c52
+	c54 := c29 + c36 + c37 - c41
+	c55 := rdetJ * c54
+	c56 := c33 + c45
+	c57 := rdetJ * c56
+	c58 := c32 + c39 + c39 + c42
+	c59 := rdetJ * c58
+	c60 := 0.5 * c51
+	c61 := 0.5 * c55
+	c62 := 0.5 * c59
+	c63 := c60 + c61 + c61 + c62
+	c64 := (-0.5) * c51
+	c65 := (-0.5) * c55
+	c66 := c64 + c65
+	c67 := (-0.5) * c59
+	c68 := c65 + c67
+	c69 := (-0.5) * c46
+	c70 := (-0.5) * c47
+	c71 := c69 + c70
+	c72 := 0.5 * c46
+	c73 := 0.5 * c47
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//	(1) · partial(c, x) · test(c)   [adr.fw:12]
-	//	(1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c59 - 0.1666666666666667*c60 + 0.5*c61 + c62 + 0.5*c63
-	acc[1] += 0.1666666666666667*c59 - 0.5*c61 - 0.5*c62
-	acc[2] += 0.1666666666666667*c60 - 0.5*c62 - 0.5*c63
-	acc[3] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c61 - 0.5*c62
-	acc[4] += 0.16666666666666666*c59 + 0.5*c61
-	acc[5] += 0.16666666666666666*c60 + 0.5*c62
-	acc[6] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c62 - 0.5*c63
-	acc[7] += 0.16666666666666666*c59 + 0.5*c62
-	acc[8] += 0.16666666666666666*c60 + 0.5*c63
+	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
+	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
+	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
+	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
+	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
+	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef12*c66
+	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef12*c60
+	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef12*c61
+	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef12*c68
+	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef12*c61
+	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(c)   [adr.fw:12]
-	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	rhs[0] += 0.1666666666666667*detJ - 0.5*c70 - 0.5*c71
-	rhs[1] += 0.16666666666666666*detJ + 0.5*c70
-	rhs[2] += 0.16666666666666666*detJ + 0.5*c71
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - 1 · test(c)   [adr.fw:12]
+	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	b[0] = 0.1666666666666667*detJ + coef12*c71
+	b[1] = 0.16666666666666666*detJ + coef12*c72
+	b[2] = 0.16666666666666666*detJ + coef12*c73
 }
 
 // fwAdrGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -332,127 +308,118 @@ func (AdrGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.23606797749979 * c21
-	c23 := c20 + c22
-	coef21 := 1.0 / c23
-	c24 := 0.25 * coef21
-	coef2 := c24 + 0.01
-	coef4 := 0.5 * coef21
-	coef12 := coef21 + 0.01
+	c18 := diameter * 2.23606797749979
+	c19 := 0.04 + c18
+	c20 := 1.0 / c19
+	coef21 := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c25 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c26 := j01 * j10
-	detJ := c25 - c26
-	c27 := 0.5 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.5)
+	c24 := 0.5 * j00
+	c25 := j01 * j01
+	c26 := 0.25 * c25
+	c27 := 0.01 * c25
+	c28 := j00 * j01
+	c29 := c28 * (-0.25)
+	c30 := (-0.01) * c28
+	c31 := j00 * j00
+	c32 := 0.25 * c31
+	c33 := 0.01 * c31
+	c34 := j11 * j01
+	c35 := (-0.5) * c34
+	c36 := 0.5 * c22
+	c37 := 0.5 * c21
+	c38 := j00 * j10
+	c39 := (-0.5) * c38
+	c40 := j11 * j11
+	c41 := j11 * j10
+	c42 := j10 * j10
+	c43 := 0.01 * c40
+	c44 := (-0.01) * c41
+	c45 := 0.01 * c42
+	c46 := j11 + c23
+	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c28 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c29 := c27 * c28
-	c30 := -c29
-	c31 := c27 * k11
-	k00 := j11 * rdetJ
-	c32 := j10 * rdetJ
-	c33 := detJ * k00
-	c34 := detJ * c32
-	c35 := coef2 * detJ
-	c36 := c28 * c28
-	c37 := c35 * c36
-	c38 := c28 * k11
-	c39 := c35 * c38
-	c40 := -c39
-	c41 := k11 * k11
-	c42 := c35 * c41
-	c43 := coef4 * detJ
-	c44 := c28 * k00
-	c45 := c43 * c44
-	c46 := c28 * c32
-	c47 := c43 * c46
-	c48 := k11 * k00
-	c49 := c43 * c48
-	c50 := k11 * c32
-	c51 := c43 * c50
-	c52 := k00 * k00
-	c53 := k00 * c32
-	c54 := c32 * c32
-	c55 := coef12 * detJ
-	c56 := c52 * c55
-	c57 := c53 * c55
-	c58 := c54 * c55
-	c59 := c30 + c33
-	c60 := c31 - c34
-	c61 := c37 - c45 - c45 + c56
-	c62 := c40 + c47 + c49 - c57
-	c63 := c42 - c51 - c51 + c58
-	c64 := c28 * c43
-	c65 := -c64
-	c66 := k11 * c43
-	c67 := coef21 * detJ
-	c68 := k00 * c67
-	c69 := c32 * c67
-	c70 := c65 + c68
-	c71 := c66 - c69
+	c48 := c27 + c43
+	c49 := rdetJ * c48
+	c50 := c26 + c35 + c35 + c40
+	c51 := rdetJ * c50
+	c52 := c30 + c44
+	c53 := rdetJ * c52
+	c54 := c29 + c36 + c37 - c41
+	c55 := rdetJ * c54
+	c56 := c33 + c45
+	c57 := rdetJ * c56
+	c58 := c32 + c39 + c39 + c42
+	c59 := rdetJ * c58
+	c60 := 0.5 * c51
+	c61 := 0.5 * c55
+	c62 := 0.5 * c59
+	c63 := c60 + c61 + c61 + c62
+	c64 := (-0.5) * c51
+	c65 := (-0.5) * c55
+	c66 := c64 + c65
+	c67 := (-0.5) * c59
+	c68 := c65 + c67
+	c69 := (-0.5) * c46
+	c70 := (-0.5) * c47
+	c71 := c69 + c70
+	c72 := 0.5 * c46
+	c73 := 0.5 * c47
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//	(1) · partial(c, x) · test(c)   [adr.fw:12]
-	//	(1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c59 - 0.1666666666666667*c60 + 0.5*c61 + c62 + 0.5*c63
-	acc[1] += 0.1666666666666667*c59 - 0.5*c61 - 0.5*c62
-	acc[2] += 0.1666666666666667*c60 - 0.5*c62 - 0.5*c63
-	acc[3] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c61 - 0.5*c62
-	acc[4] += 0.16666666666666666*c59 + 0.5*c61
-	acc[5] += 0.16666666666666666*c60 + 0.5*c62
-	acc[6] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c62 - 0.5*c63
-	acc[7] += 0.16666666666666666*c59 + 0.5*c62
-	acc[8] += 0.16666666666666666*c60 + 0.5*c63
+	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
+	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
+	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
+	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
+	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
+	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
+	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef21*c66
+	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef21*c60
+	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef21*c61
+	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef21*c68
+	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef21*c61
+	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(c)   [adr.fw:12]
-	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//	-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	//	-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
-	rhs[0] += 0.1666666666666667*detJ - 0.5*c70 - 0.5*c71
-	rhs[1] += 0.16666666666666666*detJ + 0.5*c70
-	rhs[2] += 0.16666666666666666*detJ + 0.5*c71
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - 1 · test(c)   [adr.fw:12]
+	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
+	//   - -1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	//   - -1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
+	b[0] = 0.1666666666666667*detJ + coef21*c71
+	b[1] = 0.16666666666666666*detJ + coef21*c72
+	b[2] = 0.16666666666666666*detJ + coef21*c73
 }
 
 // fwAdrVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -495,127 +462,118 @@ func (AdrVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.23606797749979 * c21
-	c23 := c20 + c22
-	coef21 := 1.0 / c23
-	c24 := 0.25 * coef21
-	coef2 := c24 + 0.01
-	coef4 := 0.5 * coef21
-	coef12 := coef21 + 0.01
+	c18 := diameter * 2.23606797749979
+	c19 := 0.04 + c18
+	c20 := 1.0 / c19
+	coef21 := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c25 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c26 := j01 * j10
-	detJ := c25 - c26
-	c27 := 0.5 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.5)
+	c24 := 0.5 * j00
+	c25 := j01 * j01
+	c26 := 0.25 * c25
+	c27 := 0.01 * c25
+	c28 := j00 * j01
+	c29 := c28 * (-0.25)
+	c30 := (-0.01) * c28
+	c31 := j00 * j00
+	c32 := 0.25 * c31
+	c33 := 0.01 * c31
+	c34 := j11 * j01
+	c35 := (-0.5) * c34
+	c36 := 0.5 * c22
+	c37 := 0.5 * c21
+	c38 := j00 * j10
+	c39 := (-0.5) * c38
+	c40 := j11 * j11
+	c41 := j11 * j10
+	c42 := j10 * j10
+	c43 := 0.01 * c40
+	c44 := (-0.01) * c41
+	c45 := 0.01 * c42
+	c46 := j11 + c23
+	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c28 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c29 := c27 * c28
-	c30 := -c29
-	c31 := c27 * k11
-	k00 := j11 * rdetJ
-	c32 := j10 * rdetJ
-	c33 := detJ * k00
-	c34 := detJ * c32
-	c35 := coef2 * detJ
-	c36 := c28 * c28
-	c37 := c35 * c36
-	c38 := c28 * k11
-	c39 := c35 * c38
-	c40 := -c39
-	c41 := k11 * k11
-	c42 := c35 * c41
-	c43 := coef4 * detJ
-	c44 := c28 * k00
-	c45 := c43 * c44
-	c46 := c28 * c32
-	c47 := c43 * c46
-	c48 := k11 * k00
-	c49 := c43 * c48
-	c50 := k11 * c32
-	c51 := c43 * c50
-	c52 := k00 * k00
-	c53 := k00 * c32
-	c54 := c32 * c32
-	c55 := coef12 * detJ
-	c56 := c52 * c55
-	c57 := c53 * c55
-	c58 := c54 * c55
-	c59 := c30 + c33
-	c60 := c31 - c34
-	c61 := c37 - c45 - c45 + c56
-	c62 := c40 + c47 + c49 - c57
-	c63 := c42 - c51 - c51 + c58
-	c64 := c28 * c43
-	c65 := -c64
-	c66 := k11 * c43
-	c67 := coef21 * detJ
-	c68 := k00 * c67
-	c69 := c32 * c67
-	c70 := c65 + c68
-	c71 := c66 - c69
+	c48 := c27 + c43
+	c49 := rdetJ * c48
+	c50 := c26 + c35 + c35 + c40
+	c51 := rdetJ * c50
+	c52 := c30 + c44
+	c53 := rdetJ * c52
+	c54 := c29 + c36 + c37 - c41
+	c55 := rdetJ * c54
+	c56 := c33 + c45
+	c57 := rdetJ * c56
+	c58 := c32 + c39 + c39 + c42
+	c59 := rdetJ * c58
+	c60 := 0.5 * c51
+	c61 := 0.5 * c55
+	c62 := 0.5 * c59
+	c63 := c60 + c61 + c61 + c62
+	c64 := (-0.5) * c51
+	c65 := (-0.5) * c55
+	c66 := c64 + c65
+	c67 := (-0.5) * c59
+	c68 := c65 + c67
+	c69 := (-0.5) * c46
+	c70 := (-0.5) * c47
+	c71 := c69 + c70
+	c72 := 0.5 * c46
+	c73 := 0.5 * c47
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//	(1) · partial(c, x) · test(c)   [adr.fw:12]
-	//	(1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//	(-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//	(1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//	((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//	(1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
-	acc[0] += (-0.1666666666666667)*c59 - 0.1666666666666667*c60 + 0.5*c61 + c62 + 0.5*c63
-	acc[1] += 0.1666666666666667*c59 - 0.5*c61 - 0.5*c62
-	acc[2] += 0.1666666666666667*c60 - 0.5*c62 - 0.5*c63
-	acc[3] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c61 - 0.5*c62
-	acc[4] += 0.16666666666666666*c59 + 0.5*c61
-	acc[5] += 0.16666666666666666*c60 + 0.5*c62
-	acc[6] += (-0.16666666666666666)*c59 - 0.16666666666666666*c60 - 0.5*c62 - 0.5*c63
-	acc[7] += 0.16666666666666666*c59 + 0.5*c62
-	acc[8] += 0.16666666666666666*c60 + 0.5*c63
+	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
+	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
+	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
+	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
+	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
+	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
+	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef21*c66
+	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef21*c60
+	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef21*c61
+	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef21*c68
+	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef21*c61
+	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(c)   [adr.fw:12]
-	//	1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//	1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
-	//	(1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	//	1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
-	rhs[0] += 0.1666666666666667*detJ - 0.5*c70 - 0.5*c71
-	rhs[1] += 0.16666666666666666*detJ + 0.5*c70
-	rhs[2] += 0.16666666666666666*detJ + 0.5*c71
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - 1 · test(c)   [adr.fw:12]
+	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
+	//   - 1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	//   - 1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
+	b[0] = 0.1666666666666667*detJ + coef21*c71
+	b[1] = 0.16666666666666666*detJ + coef21*c72
+	b[2] = 0.16666666666666666*detJ + coef21*c73
 }
 
 // fwAdrFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

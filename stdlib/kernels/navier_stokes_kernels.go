@@ -76,125 +76,114 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		pv = in.Previous[:9:9]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
-	c5 := 0.01 * detJ
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := -j01
+	c4 := j01 * j01
+	c5 := 0.01 * c4
+	c6 := j00 * j01
+	c7 := c6 * (-0.01)
+	c8 := j00 * j00
+	c9 := 0.01 * c8
+	c10 := -j10
+	c11 := j11 * j11
+	c12 := 0.01 * c11
+	c13 := j11 * j10
+	c14 := (-0.01) * c13
+	c15 := j10 * j10
+	c16 := 0.01 * c15
 	rdetJ := 1.0 / detJ
-	c6 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c7 := c6 * c6
-	c8 := c5 * c7
-	c9 := c6 * k11
-	c10 := c5 * c9
-	c11 := -c10
-	c12 := k11 * k11
-	c13 := c5 * c12
-	k00 := j11 * rdetJ
-	c14 := j10 * rdetJ
-	c15 := k00 * k00
-	c16 := c5 * c15
-	c17 := k00 * c14
-	c18 := c5 * c17
-	c19 := c14 * c14
-	c20 := c5 * c19
-	c21 := c8 + c16
-	c22 := c11 - c18
-	c23 := c13 + c20
-	c24 := detJ * k00
-	c25 := detJ * c14
-	c26 := -c25
-	c27 := detJ * c6
-	c28 := -c27
-	c29 := detJ * k11
+	c17 := c5 + c12
+	c18 := rdetJ * c17
+	c19 := c7 + c14
+	c20 := rdetJ * c19
+	c21 := c9 + c16
+	c22 := rdetJ * c21
 	w := detJ * 0.16666666666666666
-	c30 := c6 - k11
-	c31 := c14 - k00
+	c23 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c24 := c23 - k11
+	k00 := j11 * rdetJ
+	c25 := j10 * rdetJ
+	c26 := c25 - k00
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-	//	(1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-	acc[0] += 0.5*c21 + c22 + 0.5*c23
-	acc[1] += (-0.5)*c21 - 0.5*c22
-	acc[2] += (-0.5)*c22 - 0.5*c23
-	acc[9] += (-0.5)*c21 - 0.5*c22
-	acc[10] += 0.5 * c21
-	acc[11] += 0.5 * c22
-	acc[18] += (-0.5)*c22 - 0.5*c23
-	acc[19] += 0.5 * c22
-	acc[20] += 0.5 * c23
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+	acc[0] += 0.5*(c18+c22) + c20
+	acc[1] += 0.5 * (-c18 - c20)
+	acc[2] += 0.5 * (-c20 - c22)
+	acc[9] += 0.5 * (-c18 - c20)
+	acc[10] += 0.5 * c18
+	acc[11] += 0.5 * c20
+	acc[18] += 0.5 * (-c20 - c22)
+	acc[19] += 0.5 * c20
+	acc[20] += 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
-	acc[6] += (-0.16666666666666669)*c24 - 0.16666666666666669*c26
-	acc[7] += 0.16666666666666669 * c24
-	acc[8] += 0.16666666666666669 * c26
-	acc[15] += (-0.16666666666666669)*c24 - 0.16666666666666669*c26
-	acc[16] += 0.16666666666666669 * c24
-	acc[17] += 0.16666666666666669 * c26
-	acc[24] += (-0.16666666666666666)*c24 - 0.16666666666666666*c26
-	acc[25] += 0.16666666666666666 * c24
-	acc[26] += 0.16666666666666666 * c26
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
+	acc[6] += 0.16666666666666669 * (-j11 - c10)
+	acc[7] += 0.16666666666666669 * j11
+	acc[8] += 0.16666666666666669 * c10
+	acc[15] += 0.16666666666666669 * (-j11 - c10)
+	acc[16] += 0.16666666666666669 * j11
+	acc[17] += 0.16666666666666669 * c10
+	acc[24] += 0.16666666666666666 * (-j11 - c10)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c10
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-	//	(1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-	acc[30] += 0.5*c21 + c22 + 0.5*c23
-	acc[31] += (-0.5)*c21 - 0.5*c22
-	acc[32] += (-0.5)*c22 - 0.5*c23
-	acc[39] += (-0.5)*c21 - 0.5*c22
-	acc[40] += 0.5 * c21
-	acc[41] += 0.5 * c22
-	acc[48] += (-0.5)*c22 - 0.5*c23
-	acc[49] += 0.5 * c22
-	acc[50] += 0.5 * c23
+	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+	acc[30] += 0.5*(c18+c22) + c20
+	acc[31] += 0.5 * (-c18 - c20)
+	acc[32] += 0.5 * (-c20 - c22)
+	acc[39] += 0.5 * (-c18 - c20)
+	acc[40] += 0.5 * c18
+	acc[41] += 0.5 * c20
+	acc[48] += 0.5 * (-c20 - c22)
+	acc[49] += 0.5 * c20
+	acc[50] += 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
-	acc[33] += (-0.16666666666666669)*c28 - 0.16666666666666669*c29
-	acc[34] += 0.16666666666666669 * c28
-	acc[35] += 0.16666666666666669 * c29
-	acc[42] += (-0.16666666666666669)*c28 - 0.16666666666666669*c29
-	acc[43] += 0.16666666666666669 * c28
-	acc[44] += 0.16666666666666669 * c29
-	acc[51] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[52] += 0.16666666666666666 * c28
-	acc[53] += 0.16666666666666666 * c29
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
+	acc[33] += 0.16666666666666669 * (-c3 - j00)
+	acc[34] += 0.16666666666666669 * c3
+	acc[35] += 0.16666666666666669 * j00
+	acc[42] += 0.16666666666666669 * (-c3 - j00)
+	acc[43] += 0.16666666666666669 * c3
+	acc[44] += 0.16666666666666669 * j00
+	acc[51] += 0.16666666666666666 * (-c3 - j00)
+	acc[52] += 0.16666666666666666 * c3
+	acc[53] += 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
-	acc[54] += (-0.16666666666666669)*c24 - 0.16666666666666669*c26
-	acc[55] += 0.16666666666666669 * c24
-	acc[56] += 0.16666666666666669 * c26
-	acc[63] += (-0.16666666666666669)*c24 - 0.16666666666666669*c26
-	acc[64] += 0.16666666666666669 * c24
-	acc[65] += 0.16666666666666669 * c26
-	acc[72] += (-0.16666666666666666)*c24 - 0.16666666666666666*c26
-	acc[73] += 0.16666666666666666 * c24
-	acc[74] += 0.16666666666666666 * c26
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
+	acc[54] += 0.16666666666666669 * (-j11 - c10)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c10
+	acc[63] += 0.16666666666666669 * (-j11 - c10)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c10
+	acc[72] += 0.16666666666666666 * (-j11 - c10)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c10
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
-	acc[57] += (-0.16666666666666669)*c28 - 0.16666666666666669*c29
-	acc[58] += 0.16666666666666669 * c28
-	acc[59] += 0.16666666666666669 * c29
-	acc[66] += (-0.16666666666666669)*c28 - 0.16666666666666669*c29
-	acc[67] += 0.16666666666666669 * c28
-	acc[68] += 0.16666666666666669 * c29
-	acc[75] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[76] += 0.16666666666666666 * c28
-	acc[77] += 0.16666666666666666 * c29
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
+	acc[57] += 0.16666666666666669 * (-c3 - j00)
+	acc[58] += 0.16666666666666669 * c3
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c3 - j00)
+	acc[67] += 0.16666666666666669 * c3
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c3 - j00)
+	acc[76] += 0.16666666666666666 * c3
+	acc[77] += 0.16666666666666666 * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGalerkinCellBasis1Val[q][0]
@@ -206,43 +195,40 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p6 := fwNavierStokesGalerkinCellBasis1Val[q][2] * pv[2]
 		coef1 := p4 + p5 + p6
 		p7 := coef0 * w
-		p8 := p7 * c30
-		p9 := c6 * p7
-		p10 := -p9
-		p11 := k11 * p7
-		p12 := coef1 * w
-		p13 := p12 * c31
-		p14 := p8 + p13
-		p15 := k00 * p12
-		p16 := p10 + p15
-		p17 := c14 * p12
-		p18 := p11 - p17
+		p8 := p7 * c24
+		p9 := p7 * c23
+		p10 := p7 * k11
+		p11 := coef1 * w
+		p12 := p11 * c26
+		p13 := p8 + p12
+		p14 := p11 * k00
+		p15 := p14 - p9
+		p16 := p11 * c25
+		p17 := p10 - p16
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
-		acc[0] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p14
-		acc[1] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p16
-		acc[2] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p18
-		acc[9] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p14
-		acc[10] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p16
-		acc[11] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p18
-		acc[18] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p14
-		acc[19] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p16
-		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p18
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
+		acc[0] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
+		acc[1] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
+		acc[2] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
+		acc[9] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p13
+		acc[10] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p15
+		acc[11] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p17
+		acc[18] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p13
+		acc[19] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p15
+		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//
-		//	(previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
-		acc[30] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p14
-		acc[31] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p16
-		acc[32] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p18
-		acc[39] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p14
-		acc[40] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p16
-		acc[41] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p18
-		acc[48] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p14
-		acc[49] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p16
-		acc[50] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p18
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
+		acc[30] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
+		acc[31] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
+		acc[32] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
+		acc[39] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p13
+		acc[40] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p15
+		acc[41] += fwNavierStokesGalerkinCellBasis1Val[q][1] * p17
+		acc[48] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p13
+		acc[49] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p15
+		acc[50] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -295,94 +281,85 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := 1.0 / diameter
-	c19 := diameter * diameter
-	c20 := 1.0 / c19
-	c21 := 0.04 * c20
+	c19 := c18 * c18
+	c20 := 0.04 * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
-	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c24 := j10 * rdetJ
-	k10 := -c24
-	c25 := detJ * k00
-	c26 := detJ * c24
-	c27 := -c26
-	c28 := j01 * rdetJ
-	k01 := -c28
-	k11 := j00 * rdetJ
-	c29 := detJ * c28
-	c30 := -c29
-	c31 := detJ * k11
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := -j10
+	c24 := -j01
 	w := detJ * 0.16666666666666666
-	c32 := c28 - k11
-	c33 := c24 - k00
+	rdetJ := 1.0 / detJ
+	c25 := j01 * rdetJ
+	k01 := -c25
+	k11 := j00 * rdetJ
+	c26 := c25 - k11
+	k00 := j11 * rdetJ
+	c27 := j10 * rdetJ
+	k10 := -c27
+	c28 := c27 - k00
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
-	acc[6] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[7] += 0.16666666666666669 * c25
-	acc[8] += 0.16666666666666669 * c27
-	acc[15] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[16] += 0.16666666666666669 * c25
-	acc[17] += 0.16666666666666669 * c27
-	acc[24] += (-0.16666666666666666)*c25 - 0.16666666666666666*c27
-	acc[25] += 0.16666666666666666 * c25
-	acc[26] += 0.16666666666666666 * c27
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
+	acc[6] += 0.16666666666666669 * (-j11 - c23)
+	acc[7] += 0.16666666666666669 * j11
+	acc[8] += 0.16666666666666669 * c23
+	acc[15] += 0.16666666666666669 * (-j11 - c23)
+	acc[16] += 0.16666666666666669 * j11
+	acc[17] += 0.16666666666666669 * c23
+	acc[24] += 0.16666666666666666 * (-j11 - c23)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
-	acc[33] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[34] += 0.16666666666666669 * c30
-	acc[35] += 0.16666666666666669 * c31
-	acc[42] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[43] += 0.16666666666666669 * c30
-	acc[44] += 0.16666666666666669 * c31
-	acc[51] += (-0.16666666666666666)*c30 - 0.16666666666666666*c31
-	acc[52] += 0.16666666666666666 * c30
-	acc[53] += 0.16666666666666666 * c31
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
+	acc[33] += 0.16666666666666669 * (-c24 - j00)
+	acc[34] += 0.16666666666666669 * c24
+	acc[35] += 0.16666666666666669 * j00
+	acc[42] += 0.16666666666666669 * (-c24 - j00)
+	acc[43] += 0.16666666666666669 * c24
+	acc[44] += 0.16666666666666669 * j00
+	acc[51] += 0.16666666666666666 * (-c24 - j00)
+	acc[52] += 0.16666666666666666 * c24
+	acc[53] += 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
-	acc[54] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[55] += 0.16666666666666669 * c25
-	acc[56] += 0.16666666666666669 * c27
-	acc[63] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[64] += 0.16666666666666669 * c25
-	acc[65] += 0.16666666666666669 * c27
-	acc[72] += (-0.16666666666666666)*c25 - 0.16666666666666666*c27
-	acc[73] += 0.16666666666666666 * c25
-	acc[74] += 0.16666666666666666 * c27
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
+	acc[54] += 0.16666666666666669 * (-j11 - c23)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c23
+	acc[63] += 0.16666666666666669 * (-j11 - c23)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
-	acc[57] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[58] += 0.16666666666666669 * c30
-	acc[59] += 0.16666666666666669 * c31
-	acc[66] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[67] += 0.16666666666666669 * c30
-	acc[68] += 0.16666666666666669 * c31
-	acc[75] += (-0.16666666666666666)*c30 - 0.16666666666666666*c31
-	acc[76] += 0.16666666666666666 * c30
-	acc[77] += 0.16666666666666666 * c31
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
+	acc[57] += 0.16666666666666669 * (-c24 - j00)
+	acc[58] += 0.16666666666666669 * c24
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c24 - j00)
+	acc[67] += 0.16666666666666669 * c24
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c24 - j00)
+	acc[76] += 0.16666666666666666 * c24
+	acc[77] += 0.16666666666666666 * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesSUPGCellBasis1Val[q][0]
@@ -397,245 +374,233 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p8 := coef0 * coef0
 		p9 := p7 + p8
 		p10 := math.Sqrt(p9)
-		p11 := 2.0 * p10
-		p12 := p11 * c18
-		p13 := p12 + c21
-		coef34 := 1.0 / p13
-		p14 := p8 * coef34
-		coef3 := p14 + 0.01
-		p15 := coef0 * coef1
-		coef5 := coef34 * p15
+		p11 := 2.0 * c18 * p10
+		p12 := p11 + c20
+		p13 := 2.0 * diameter * p10
+		p14 := 0.04 + p13
+		p15 := 1.0 / p14
+		coef34 := c17 * p15
+		p16 := p8 * coef34
+		coef3 := p16 + 0.01
 		coef7 := coef0 * coef34
-		coef12 := c19 * p13 * 0.25
-		p16 := p7 * coef34
-		coef10 := 0.01 + coef12 + p16
+		coef5 := coef0 * coef1 * coef34
 		coef13 := coef1 * coef34
-		coef18 := p14 + 0.01 + coef12
-		coef25 := 0.01 + p16
-		p17 := coef0 * w
-		p18 := p17 * c32
-		p19 := c28 * p17
-		p20 := -p19
-		p21 := k11 * p17
+		coef12 := c17 * p12 * 0.25
+		p17 := p7 * coef34
+		coef10 := 0.01 + coef12 + p17
+		coef18 := p16 + 0.01 + coef12
+		coef25 := 0.01 + p17
+		p18 := coef0 * w
+		p19 := p18 * c26
+		p20 := p18 * c25
+		p21 := p18 * k11
 		p22 := coef1 * w
-		p23 := p22 * c33
-		p24 := p18 + p23
-		p25 := k00 * p22
-		p26 := p20 + p25
-		p27 := c24 * p22
+		p23 := p22 * c28
+		p24 := p19 + p23
+		p25 := p22 * k00
+		p26 := p25 - p20
+		p27 := p22 * c27
 		p28 := p21 - p27
 		p29 := coef3 * w
-		p30 := c32 * p29
-		p31 := c28 * p29
-		p32 := -p31
-		p33 := k11 * p29
-		p34 := coef5 * w
-		p35 := c33 * p34
-		p36 := p30 + p35
-		p37 := k00 * p34
-		p38 := p32 + p37
-		p39 := c24 * p34
-		p40 := -p39
-		p41 := p33 - p39
-		p42 := c32 * p34
-		p43 := c28 * p34
-		p44 := -p43
-		p45 := k11 * p34
-		p46 := coef10 * w
-		p47 := c33 * p46
-		p48 := p42 + p47
-		p49 := k00 * p46
-		p50 := p44 + p49
-		p51 := c24 * p46
-		p52 := p45 - p51
-		p53 := coef7 * w
-		p54 := c33 * p53
-		p55 := k00 * p53
-		p56 := c24 * p53
-		p57 := -p56
-		p58 := coef13 * w
-		p59 := c33 * p58
-		p60 := k00 * p58
-		p61 := c24 * p58
-		p62 := -p61
-		p63 := coef12 * w
-		p64 := c32 * p63
-		p65 := c28 * p63
-		p66 := -p65
-		p67 := k11 * p63
-		p68 := coef18 * w
-		p69 := c32 * p68
-		p70 := c28 * p68
-		p71 := k11 * p68
-		p72 := p35 + p69
-		p73 := p37 - p70
-		p74 := p40 + p71
-		p75 := coef25 * w
-		p76 := c33 * p75
-		p77 := p42 + p76
-		p78 := k00 * p75
-		p79 := p44 + p78
-		p80 := c24 * p75
-		p81 := p45 - p80
-		p82 := c32 * p53
-		p83 := c28 * p53
-		p84 := -p83
-		p85 := k11 * p53
-		p86 := c32 * p58
-		p87 := c28 * p58
-		p88 := -p87
-		p89 := k11 * p58
-		p90 := c33 * p63
-		p91 := k00 * p63
-		p92 := c24 * p63
-		p93 := -p92
-		p94 := p59 + p82
-		p95 := p60 - p83
-		p96 := p62 + p85
-		p97 := coef34 * w
-		p98 := c32 * p97
-		p99 := c28 * p97
-		p100 := -p99
-		p101 := k11 * p97
-		p102 := c33 * p97
-		p103 := k00 * p97
-		p104 := c24 * p97
-		p105 := -p104
+		p30 := c26 * p29
+		p31 := c25 * p29
+		p32 := k11 * p29
+		p33 := coef5 * w
+		p34 := c28 * p33
+		p35 := p30 + p34
+		p36 := k00 * p33
+		p37 := p36 - p31
+		p38 := c27 * p33
+		p39 := p32 - p38
+		p40 := c26 * p33
+		p41 := c25 * p33
+		p42 := k11 * p33
+		p43 := coef10 * w
+		p44 := c28 * p43
+		p45 := p40 + p44
+		p46 := k00 * p43
+		p47 := p46 - p41
+		p48 := c27 * p43
+		p49 := p42 - p48
+		p50 := coef7 * w
+		p51 := c28 * p50
+		p52 := k00 * p50
+		p53 := c27 * p50
+		p54 := -p53
+		p55 := coef13 * w
+		p56 := c28 * p55
+		p57 := k00 * p55
+		p58 := c27 * p55
+		p59 := -p58
+		p60 := coef12 * w
+		p61 := c26 * p60
+		p62 := c25 * p60
+		p63 := -p62
+		p64 := k11 * p60
+		p65 := coef18 * w
+		p66 := c26 * p65
+		p67 := c25 * p65
+		p68 := k11 * p65
+		p69 := p34 + p66
+		p70 := p36 - p67
+		p71 := p68 - p38
+		p72 := coef25 * w
+		p73 := c28 * p72
+		p74 := p40 + p73
+		p75 := k00 * p72
+		p76 := p75 - p41
+		p77 := c27 * p72
+		p78 := p42 - p77
+		p79 := c26 * p50
+		p80 := c25 * p50
+		p81 := -p80
+		p82 := k11 * p50
+		p83 := c26 * p55
+		p84 := c25 * p55
+		p85 := -p84
+		p86 := k11 * p55
+		p87 := c28 * p60
+		p88 := k00 * p60
+		p89 := c27 * p60
+		p90 := -p89
+		p91 := p56 + p79
+		p92 := p57 - p80
+		p93 := p82 - p58
+		p94 := coef34 * w
+		p95 := c26 * p94
+		p96 := c25 * p94
+		p97 := -p96
+		p98 := k11 * p94
+		p99 := c28 * p94
+		p100 := k00 * p94
+		p101 := c27 * p94
+		p102 := -p101
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c32*p36 + c33*p48
-		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c32*p38 + c33*p50
-		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c32*p41 + c33*p52
-		acc[9] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p36 + k00*p48
-		acc[10] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p38 + k00*p50
-		acc[11] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p41 + k00*p52
-		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p36 + k10*p48
-		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p38 + k10*p50
-		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p41 + k10*p52
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
+		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
+		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
+		acc[9] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
+		acc[10] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
+		acc[11] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
+		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
+		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
+		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		acc[6] += c32*p54 + c33*p59
-		acc[7] += c32*p55 + c33*p60
-		acc[8] += c32*p57 + c33*p62
-		acc[15] += k01*p54 + k00*p59
-		acc[16] += k01*p55 + k00*p60
-		acc[17] += k01*p57 + k00*p62
-		acc[24] += k11*p54 + k10*p59
-		acc[25] += k11*p55 + k10*p60
-		acc[26] += k11*p57 + k10*p62
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		acc[6] += c26*p51 + c28*p56
+		acc[7] += c26*p52 + c28*p57
+		acc[8] += c26*p54 + c28*p59
+		acc[15] += k01*p51 + k00*p56
+		acc[16] += k01*p52 + k00*p57
+		acc[17] += k01*p54 + k00*p59
+		acc[24] += k11*p51 + k10*p56
+		acc[25] += k11*p52 + k10*p57
+		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		acc[3] += c33 * p64
-		acc[4] += c33 * p66
-		acc[5] += c33 * p67
-		acc[12] += k00 * p64
-		acc[13] += k00 * p66
-		acc[14] += k00 * p67
-		acc[21] += k10 * p64
-		acc[22] += k10 * p66
-		acc[23] += k10 * p67
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		acc[3] += c28 * p61
+		acc[4] += c28 * p63
+		acc[5] += c28 * p64
+		acc[12] += k00 * p61
+		acc[13] += k00 * p63
+		acc[14] += k00 * p64
+		acc[21] += k10 * p61
+		acc[22] += k10 * p63
+		acc[23] += k10 * p64
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//
-		//	(previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c32*p72 + c33*p77
-		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c32*p73 + c33*p79
-		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c32*p74 + c33*p81
-		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p72 + k00*p77
-		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p73 + k00*p79
-		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p74 + k00*p81
-		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p72 + k10*p77
-		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p73 + k10*p79
-		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p74 + k10*p81
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
+		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
+		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
+		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
+		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
+		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
+		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
+		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
+		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		acc[33] += c32*p82 + c33*p86
-		acc[34] += c32*p84 + c33*p88
-		acc[35] += c32*p85 + c33*p89
-		acc[42] += k01*p82 + k00*p86
-		acc[43] += k01*p84 + k00*p88
-		acc[44] += k01*p85 + k00*p89
-		acc[51] += k11*p82 + k10*p86
-		acc[52] += k11*p84 + k10*p88
-		acc[53] += k11*p85 + k10*p89
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		acc[33] += c26*p79 + c28*p83
+		acc[34] += c26*p81 + c28*p85
+		acc[35] += c26*p82 + c28*p86
+		acc[42] += k01*p79 + k00*p83
+		acc[43] += k01*p81 + k00*p85
+		acc[44] += k01*p82 + k00*p86
+		acc[51] += k11*p79 + k10*p83
+		acc[52] += k11*p81 + k10*p85
+		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		acc[27] += c32 * p90
-		acc[28] += c32 * p91
-		acc[29] += c32 * p93
-		acc[36] += k01 * p90
-		acc[37] += k01 * p91
-		acc[38] += k01 * p93
-		acc[45] += k11 * p90
-		acc[46] += k11 * p91
-		acc[47] += k11 * p93
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		acc[27] += c26 * p87
+		acc[28] += c26 * p88
+		acc[29] += c26 * p90
+		acc[36] += k01 * p87
+		acc[37] += k01 * p88
+		acc[38] += k01 * p90
+		acc[45] += k11 * p87
+		acc[46] += k11 * p88
+		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
-		acc[54] += c33 * p94
-		acc[55] += c33 * p95
-		acc[56] += c33 * p96
-		acc[63] += k00 * p94
-		acc[64] += k00 * p95
-		acc[65] += k00 * p96
-		acc[72] += k10 * p94
-		acc[73] += k10 * p95
-		acc[74] += k10 * p96
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
+		acc[54] += c28 * p91
+		acc[55] += c28 * p92
+		acc[56] += c28 * p93
+		acc[63] += k00 * p91
+		acc[64] += k00 * p92
+		acc[65] += k00 * p93
+		acc[72] += k10 * p91
+		acc[73] += k10 * p92
+		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
-		acc[57] += c32 * p94
-		acc[58] += c32 * p95
-		acc[59] += c32 * p96
-		acc[66] += k01 * p94
-		acc[67] += k01 * p95
-		acc[68] += k01 * p96
-		acc[75] += k11 * p94
-		acc[76] += k11 * p95
-		acc[77] += k11 * p96
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
+		acc[57] += c26 * p91
+		acc[58] += c26 * p92
+		acc[59] += c26 * p93
+		acc[66] += k01 * p91
+		acc[67] += k01 * p92
+		acc[68] += k01 * p93
+		acc[75] += k11 * p91
+		acc[76] += k11 * p92
+		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += c32*p98 + c33*p102
-		acc[61] += c32*p100 + c33*p103
-		acc[62] += c32*p101 + c33*p105
-		acc[69] += k01*p98 + k00*p102
-		acc[70] += k01*p100 + k00*p103
-		acc[71] += k01*p101 + k00*p105
-		acc[78] += k11*p98 + k10*p102
-		acc[79] += k11*p100 + k10*p103
-		acc[80] += k11*p101 + k10*p105
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+		acc[60] += c26*p95 + c28*p99
+		acc[61] += c26*p97 + c28*p100
+		acc[62] += c26*p98 + c28*p102
+		acc[69] += k01*p95 + k00*p99
+		acc[70] += k01*p97 + k00*p100
+		acc[71] += k01*p98 + k00*p102
+		acc[78] += k11*p95 + k10*p99
+		acc[79] += k11*p97 + k10*p100
+		acc[80] += k11*p98 + k10*p102
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -688,94 +653,85 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := 1.0 / diameter
-	c19 := diameter * diameter
-	c20 := 1.0 / c19
-	c21 := 0.04 * c20
+	c19 := c18 * c18
+	c20 := 0.04 * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
-	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c24 := j10 * rdetJ
-	k10 := -c24
-	c25 := detJ * k00
-	c26 := detJ * c24
-	c27 := -c26
-	c28 := j01 * rdetJ
-	k01 := -c28
-	k11 := j00 * rdetJ
-	c29 := detJ * c28
-	c30 := -c29
-	c31 := detJ * k11
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := -j10
+	c24 := -j01
 	w := detJ * 0.16666666666666666
-	c32 := c28 - k11
-	c33 := c24 - k00
+	rdetJ := 1.0 / detJ
+	c25 := j01 * rdetJ
+	k01 := -c25
+	k11 := j00 * rdetJ
+	c26 := c25 - k11
+	k00 := j11 * rdetJ
+	c27 := j10 * rdetJ
+	k10 := -c27
+	c28 := c27 - k00
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
-	acc[6] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[7] += 0.16666666666666669 * c25
-	acc[8] += 0.16666666666666669 * c27
-	acc[15] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[16] += 0.16666666666666669 * c25
-	acc[17] += 0.16666666666666669 * c27
-	acc[24] += (-0.16666666666666666)*c25 - 0.16666666666666666*c27
-	acc[25] += 0.16666666666666666 * c25
-	acc[26] += 0.16666666666666666 * c27
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
+	acc[6] += 0.16666666666666669 * (-j11 - c23)
+	acc[7] += 0.16666666666666669 * j11
+	acc[8] += 0.16666666666666669 * c23
+	acc[15] += 0.16666666666666669 * (-j11 - c23)
+	acc[16] += 0.16666666666666669 * j11
+	acc[17] += 0.16666666666666669 * c23
+	acc[24] += 0.16666666666666666 * (-j11 - c23)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
-	acc[33] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[34] += 0.16666666666666669 * c30
-	acc[35] += 0.16666666666666669 * c31
-	acc[42] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[43] += 0.16666666666666669 * c30
-	acc[44] += 0.16666666666666669 * c31
-	acc[51] += (-0.16666666666666666)*c30 - 0.16666666666666666*c31
-	acc[52] += 0.16666666666666666 * c30
-	acc[53] += 0.16666666666666666 * c31
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
+	acc[33] += 0.16666666666666669 * (-c24 - j00)
+	acc[34] += 0.16666666666666669 * c24
+	acc[35] += 0.16666666666666669 * j00
+	acc[42] += 0.16666666666666669 * (-c24 - j00)
+	acc[43] += 0.16666666666666669 * c24
+	acc[44] += 0.16666666666666669 * j00
+	acc[51] += 0.16666666666666666 * (-c24 - j00)
+	acc[52] += 0.16666666666666666 * c24
+	acc[53] += 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
-	acc[54] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[55] += 0.16666666666666669 * c25
-	acc[56] += 0.16666666666666669 * c27
-	acc[63] += (-0.16666666666666669)*c25 - 0.16666666666666669*c27
-	acc[64] += 0.16666666666666669 * c25
-	acc[65] += 0.16666666666666669 * c27
-	acc[72] += (-0.16666666666666666)*c25 - 0.16666666666666666*c27
-	acc[73] += 0.16666666666666666 * c25
-	acc[74] += 0.16666666666666666 * c27
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
+	acc[54] += 0.16666666666666669 * (-j11 - c23)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c23
+	acc[63] += 0.16666666666666669 * (-j11 - c23)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
-	acc[57] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[58] += 0.16666666666666669 * c30
-	acc[59] += 0.16666666666666669 * c31
-	acc[66] += (-0.16666666666666669)*c30 - 0.16666666666666669*c31
-	acc[67] += 0.16666666666666669 * c30
-	acc[68] += 0.16666666666666669 * c31
-	acc[75] += (-0.16666666666666666)*c30 - 0.16666666666666666*c31
-	acc[76] += 0.16666666666666666 * c30
-	acc[77] += 0.16666666666666666 * c31
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
+	acc[57] += 0.16666666666666669 * (-c24 - j00)
+	acc[58] += 0.16666666666666669 * c24
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c24 - j00)
+	acc[67] += 0.16666666666666669 * c24
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c24 - j00)
+	acc[76] += 0.16666666666666666 * c24
+	acc[77] += 0.16666666666666666 * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGLSCellBasis1Val[q][0]
@@ -790,265 +746,253 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p8 := coef0 * coef0
 		p9 := p7 + p8
 		p10 := math.Sqrt(p9)
-		p11 := 2.0 * p10
-		p12 := p11 * c18
-		p13 := p12 + c21
-		coef54 := 1.0 / p13
-		p14 := p8 * coef54
-		coef3 := p14 + 0.01
-		p15 := coef0 * coef1
-		coef5 := coef54 * p15
+		p11 := 2.0 * c18 * p10
+		p12 := p11 + c20
+		p13 := 2.0 * diameter * p10
+		p14 := 0.04 + p13
+		p15 := 1.0 / p14
+		coef54 := c17 * p15
+		p16 := p8 * coef54
+		coef3 := p16 + 0.01
 		coef7 := coef0 * coef54
-		coef17 := c19 * p13 * 0.25
-		p16 := p7 * coef54
-		coef15 := 0.01 + coef17 + p16
+		coef5 := coef0 * coef1 * coef54
 		coef18 := coef1 * coef54
-		coef28 := p14 + 0.01 + coef17
-		coef40 := 0.01 + p16
-		p17 := coef0 * w
-		p18 := p17 * c32
-		p19 := c28 * p17
-		p20 := -p19
-		p21 := k11 * p17
+		coef17 := c17 * p12 * 0.25
+		p17 := p7 * coef54
+		coef15 := 0.01 + coef17 + p17
+		coef28 := p16 + 0.01 + coef17
+		coef40 := 0.01 + p17
+		p18 := coef0 * w
+		p19 := p18 * c26
+		p20 := p18 * c25
+		p21 := p18 * k11
 		p22 := coef1 * w
-		p23 := p22 * c33
-		p24 := p18 + p23
-		p25 := k00 * p22
-		p26 := p20 + p25
-		p27 := c24 * p22
+		p23 := p22 * c28
+		p24 := p19 + p23
+		p25 := p22 * k00
+		p26 := p25 - p20
+		p27 := p22 * c27
 		p28 := p21 - p27
 		p29 := coef3 * w
-		p30 := c32 * p29
-		p31 := c28 * p29
-		p32 := -p31
-		p33 := k11 * p29
-		p34 := coef5 * w
-		p35 := c33 * p34
-		p36 := p30 + p35
-		p37 := k00 * p34
-		p38 := p32 + p37
-		p39 := c24 * p34
-		p40 := -p39
-		p41 := p33 - p39
-		p42 := c32 * p34
-		p43 := c28 * p34
-		p44 := -p43
-		p45 := k11 * p34
-		p46 := coef15 * w
-		p47 := c33 * p46
-		p48 := p42 + p47
-		p49 := k00 * p46
-		p50 := p44 + p49
-		p51 := c24 * p46
-		p52 := p45 - p51
-		p53 := coef7 * w
-		p54 := c33 * p53
-		p55 := k00 * p53
-		p56 := c24 * p53
-		p57 := -p56
-		p58 := coef18 * w
-		p59 := c33 * p58
-		p60 := k00 * p58
-		p61 := c24 * p58
-		p62 := -p61
-		p63 := coef17 * w
-		p64 := c32 * p63
-		p65 := c28 * p63
-		p66 := -p65
-		p67 := k11 * p63
-		p68 := coef28 * w
-		p69 := c32 * p68
-		p70 := c28 * p68
-		p71 := k11 * p68
-		p72 := p35 + p69
-		p73 := p37 - p70
-		p74 := p40 + p71
-		p75 := coef40 * w
-		p76 := c33 * p75
-		p77 := p42 + p76
-		p78 := k00 * p75
-		p79 := p44 + p78
-		p80 := c24 * p75
-		p81 := p45 - p80
-		p82 := c32 * p53
-		p83 := c28 * p53
-		p84 := -p83
-		p85 := k11 * p53
-		p86 := c32 * p58
-		p87 := c28 * p58
-		p88 := -p87
-		p89 := k11 * p58
-		p90 := c33 * p63
-		p91 := k00 * p63
-		p92 := c24 * p63
-		p93 := -p92
-		p94 := p59 + p82
-		p95 := p60 - p83
-		p96 := p62 + p85
-		p97 := coef54 * w
-		p98 := c32 * p97
-		p99 := c28 * p97
-		p100 := -p99
-		p101 := k11 * p97
-		p102 := c33 * p97
-		p103 := k00 * p97
-		p104 := c24 * p97
-		p105 := -p104
+		p30 := c26 * p29
+		p31 := c25 * p29
+		p32 := k11 * p29
+		p33 := coef5 * w
+		p34 := c28 * p33
+		p35 := p30 + p34
+		p36 := k00 * p33
+		p37 := p36 - p31
+		p38 := c27 * p33
+		p39 := p32 - p38
+		p40 := c26 * p33
+		p41 := c25 * p33
+		p42 := k11 * p33
+		p43 := coef15 * w
+		p44 := c28 * p43
+		p45 := p40 + p44
+		p46 := k00 * p43
+		p47 := p46 - p41
+		p48 := c27 * p43
+		p49 := p42 - p48
+		p50 := coef7 * w
+		p51 := c28 * p50
+		p52 := k00 * p50
+		p53 := c27 * p50
+		p54 := -p53
+		p55 := coef18 * w
+		p56 := c28 * p55
+		p57 := k00 * p55
+		p58 := c27 * p55
+		p59 := -p58
+		p60 := coef17 * w
+		p61 := c26 * p60
+		p62 := c25 * p60
+		p63 := -p62
+		p64 := k11 * p60
+		p65 := coef28 * w
+		p66 := c26 * p65
+		p67 := c25 * p65
+		p68 := k11 * p65
+		p69 := p34 + p66
+		p70 := p36 - p67
+		p71 := p68 - p38
+		p72 := coef40 * w
+		p73 := c28 * p72
+		p74 := p40 + p73
+		p75 := k00 * p72
+		p76 := p75 - p41
+		p77 := c27 * p72
+		p78 := p42 - p77
+		p79 := c26 * p50
+		p80 := c25 * p50
+		p81 := -p80
+		p82 := k11 * p50
+		p83 := c26 * p55
+		p84 := c25 * p55
+		p85 := -p84
+		p86 := k11 * p55
+		p87 := c28 * p60
+		p88 := k00 * p60
+		p89 := c27 * p60
+		p90 := -p89
+		p91 := p56 + p79
+		p92 := p57 - p80
+		p93 := p82 - p58
+		p94 := coef54 * w
+		p95 := c26 * p94
+		p96 := c25 * p94
+		p97 := -p96
+		p98 := k11 * p94
+		p99 := c28 * p94
+		p100 := k00 * p94
+		p101 := c27 * p94
+		p102 := -p101
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c32*p36 + c33*p48
-		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c32*p38 + c33*p50
-		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c32*p41 + c33*p52
-		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p36 + k00*p48
-		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p38 + k00*p50
-		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p41 + k00*p52
-		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p36 + k10*p48
-		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p38 + k10*p50
-		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p41 + k10*p52
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
+		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
+		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
+		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
+		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
+		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
+		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
+		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
+		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		acc[6] += c32*p54 + c33*p59
-		acc[7] += c32*p55 + c33*p60
-		acc[8] += c32*p57 + c33*p62
-		acc[15] += k01*p54 + k00*p59
-		acc[16] += k01*p55 + k00*p60
-		acc[17] += k01*p57 + k00*p62
-		acc[24] += k11*p54 + k10*p59
-		acc[25] += k11*p55 + k10*p60
-		acc[26] += k11*p57 + k10*p62
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		acc[6] += c26*p51 + c28*p56
+		acc[7] += c26*p52 + c28*p57
+		acc[8] += c26*p54 + c28*p59
+		acc[15] += k01*p51 + k00*p56
+		acc[16] += k01*p52 + k00*p57
+		acc[17] += k01*p54 + k00*p59
+		acc[24] += k11*p51 + k10*p56
+		acc[25] += k11*p52 + k10*p57
+		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		acc[3] += c33 * p64
-		acc[4] += c33 * p66
-		acc[5] += c33 * p67
-		acc[12] += k00 * p64
-		acc[13] += k00 * p66
-		acc[14] += k00 * p67
-		acc[21] += k10 * p64
-		acc[22] += k10 * p66
-		acc[23] += k10 * p67
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		acc[3] += c28 * p61
+		acc[4] += c28 * p63
+		acc[5] += c28 * p64
+		acc[12] += k00 * p61
+		acc[13] += k00 * p63
+		acc[14] += k00 * p64
+		acc[21] += k10 * p61
+		acc[22] += k10 * p63
+		acc[23] += k10 * p64
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//
-		//	(previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c32*p72 + c33*p77
-		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c32*p73 + c33*p79
-		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c32*p74 + c33*p81
-		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p72 + k00*p77
-		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p73 + k00*p79
-		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p74 + k00*p81
-		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p72 + k10*p77
-		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p73 + k10*p79
-		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p74 + k10*p81
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
+		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
+		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
+		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
+		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
+		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
+		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
+		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
+		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		acc[33] += c32*p82 + c33*p86
-		acc[34] += c32*p84 + c33*p88
-		acc[35] += c32*p85 + c33*p89
-		acc[42] += k01*p82 + k00*p86
-		acc[43] += k01*p84 + k00*p88
-		acc[44] += k01*p85 + k00*p89
-		acc[51] += k11*p82 + k10*p86
-		acc[52] += k11*p84 + k10*p88
-		acc[53] += k11*p85 + k10*p89
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		acc[33] += c26*p79 + c28*p83
+		acc[34] += c26*p81 + c28*p85
+		acc[35] += c26*p82 + c28*p86
+		acc[42] += k01*p79 + k00*p83
+		acc[43] += k01*p81 + k00*p85
+		acc[44] += k01*p82 + k00*p86
+		acc[51] += k11*p79 + k10*p83
+		acc[52] += k11*p81 + k10*p85
+		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		acc[27] += c32 * p90
-		acc[28] += c32 * p91
-		acc[29] += c32 * p93
-		acc[36] += k01 * p90
-		acc[37] += k01 * p91
-		acc[38] += k01 * p93
-		acc[45] += k11 * p90
-		acc[46] += k11 * p91
-		acc[47] += k11 * p93
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		acc[27] += c26 * p87
+		acc[28] += c26 * p88
+		acc[29] += c26 * p90
+		acc[36] += k01 * p87
+		acc[37] += k01 * p88
+		acc[38] += k01 * p90
+		acc[45] += k11 * p87
+		acc[46] += k11 * p88
+		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
-		acc[54] += c33 * p94
-		acc[55] += c33 * p95
-		acc[56] += c33 * p96
-		acc[63] += k00 * p94
-		acc[64] += k00 * p95
-		acc[65] += k00 * p96
-		acc[72] += k10 * p94
-		acc[73] += k10 * p95
-		acc[74] += k10 * p96
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
+		acc[54] += c28 * p91
+		acc[55] += c28 * p92
+		acc[56] += c28 * p93
+		acc[63] += k00 * p91
+		acc[64] += k00 * p92
+		acc[65] += k00 * p93
+		acc[72] += k10 * p91
+		acc[73] += k10 * p92
+		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
-		acc[57] += c32 * p94
-		acc[58] += c32 * p95
-		acc[59] += c32 * p96
-		acc[66] += k01 * p94
-		acc[67] += k01 * p95
-		acc[68] += k01 * p96
-		acc[75] += k11 * p94
-		acc[76] += k11 * p95
-		acc[77] += k11 * p96
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
+		acc[57] += c26 * p91
+		acc[58] += c26 * p92
+		acc[59] += c26 * p93
+		acc[66] += k01 * p91
+		acc[67] += k01 * p92
+		acc[68] += k01 * p93
+		acc[75] += k11 * p91
+		acc[76] += k11 * p92
+		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += c32*p98 + c33*p102
-		acc[61] += c32*p100 + c33*p103
-		acc[62] += c32*p101 + c33*p105
-		acc[69] += k01*p98 + k00*p102
-		acc[70] += k01*p100 + k00*p103
-		acc[71] += k01*p101 + k00*p105
-		acc[78] += k11*p98 + k10*p102
-		acc[79] += k11*p100 + k10*p103
-		acc[80] += k11*p101 + k10*p105
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+		acc[60] += c26*p95 + c28*p99
+		acc[61] += c26*p97 + c28*p100
+		acc[62] += c26*p98 + c28*p102
+		acc[69] += k01*p95 + k00*p99
+		acc[70] += k01*p97 + k00*p100
+		acc[71] += k01*p98 + k00*p102
+		acc[78] += k11*p95 + k10*p99
+		acc[79] += k11*p97 + k10*p100
+		acc[80] += k11*p98 + k10*p102
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -1101,35 +1045,35 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := 1.0 / diameter
-	c19 := diameter * diameter
-	c20 := 1.0 / c19
-	c21 := 0.04 * c20
-	j00 := x[2] - x[0]
+	c19 := c18 * c18
+	c20 := 0.04 * c19
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
+	c22 := j01 * j10
+	detJ := c21 - c22
 	rdetJ := 1.0 / detJ
 	k00 := j11 * rdetJ
-	c24 := -k00
-	c25 := j10 * rdetJ
-	k10 := -c25
-	c26 := c24 + c25
-	c27 := pv[0] * c26
-	c28 := pv[1] * k00
-	c29 := pv[2] * c25
-	c30 := c27 + c28 - c29
+	c23 := -j10
+	c24 := j10 * rdetJ
+	k10 := -c24
+	c25 := c24 - k00
+	c26 := pv[0] * c25
+	c27 := pv[1] * k00
+	c28 := pv[2] * c24
+	c29 := c26 + c27 - c28
+	c30 := -j01
 	c31 := j01 * rdetJ
 	k01 := -c31
 	k11 := j00 * rdetJ
@@ -1138,13 +1082,7 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c34 := pv[4] * c31
 	c35 := pv[5] * k11
 	c36 := c33 - c34 + c35
-	c37 := c30 + c36
-	c38 := detJ * k00
-	c39 := detJ * c25
-	c40 := -c39
-	c41 := detJ * c31
-	c42 := -c41
-	c43 := detJ * k11
+	c37 := c29 + c36
 	w := detJ * 0.16666666666666666
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
@@ -1152,29 +1090,27 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
-	acc[54] += (-0.16666666666666669)*c38 - 0.16666666666666669*c40
-	acc[55] += 0.16666666666666669 * c38
-	acc[56] += 0.16666666666666669 * c40
-	acc[63] += (-0.16666666666666669)*c38 - 0.16666666666666669*c40
-	acc[64] += 0.16666666666666669 * c38
-	acc[65] += 0.16666666666666669 * c40
-	acc[72] += (-0.16666666666666666)*c38 - 0.16666666666666666*c40
-	acc[73] += 0.16666666666666666 * c38
-	acc[74] += 0.16666666666666666 * c40
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:12]
+	acc[54] += 0.16666666666666669 * (-j11 - c23)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c23
+	acc[63] += 0.16666666666666669 * (-j11 - c23)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
-	acc[57] += (-0.16666666666666669)*c42 - 0.16666666666666669*c43
-	acc[58] += 0.16666666666666669 * c42
-	acc[59] += 0.16666666666666669 * c43
-	acc[66] += (-0.16666666666666669)*c42 - 0.16666666666666669*c43
-	acc[67] += 0.16666666666666669 * c42
-	acc[68] += 0.16666666666666669 * c43
-	acc[75] += (-0.16666666666666666)*c42 - 0.16666666666666666*c43
-	acc[76] += 0.16666666666666666 * c42
-	acc[77] += 0.16666666666666666 * c43
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:12]
+	acc[57] += 0.16666666666666669 * (-c30 - j00)
+	acc[58] += 0.16666666666666669 * c30
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c30 - j00)
+	acc[67] += 0.16666666666666669 * c30
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c30 - j00)
+	acc[76] += 0.16666666666666666 * c30
+	acc[77] += 0.16666666666666666 * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesVMSCellBasis1Val[q][0]
@@ -1189,288 +1125,274 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p10 := p9 * p9
 		p11 := p5 + p10
 		p12 := math.Sqrt(p11)
-		p13 := 2.0 * p12
-		p14 := p13 * c18
-		p15 := p14 + c21
-		p16 := p9 * c37
-		coef58 := 1.0 / p15
-		p17 := p16 * coef58
-		coef0 := p9 + p17
-		p18 := p4 * c37
-		p19 := coef58 * p18
-		coef2 := p4 + p19
-		p20 := c37 * coef58
-		coef4 := 1.0 + p20
+		p13 := 2.0 * c18 * p12
+		p14 := p13 + c20
+		p15 := 2.0 * diameter * p12
+		p16 := 0.04 + p15
+		p17 := 1.0 / p16
+		coef58 := c17 * p17
+		p18 := p9 * coef58 * c37
+		coef0 := p9 + p18
+		p19 := coef58 * c37
+		p20 := p4 * coef58 * c37
+		coef2 := p4 + p20
+		coef4 := 1.0 + p19
 		p21 := p10 * coef58
 		coef5 := p21 + 0.01
-		p22 := p4 * p9
-		coef7 := coef58 * p22
 		coef9 := p9 * coef58
-		coef19 := c19 * p15 * 0.25
-		p23 := p5 * coef58
-		coef17 := 0.01 + coef19 + p23
+		coef7 := p4 * p9 * coef58
 		coef20 := p4 * coef58
+		coef19 := c17 * p14 * 0.25
+		p22 := p5 * coef58
+		coef17 := 0.01 + coef19 + p22
 		coef32 := p21 + 0.01 + coef19
-		coef44 := 0.01 + p23
-		p24 := coef0 * w
-		p25 := c32 * p24
-		p26 := c31 * p24
-		p27 := -p26
-		p28 := k11 * p24
-		p29 := coef2 * w
-		p30 := c26 * p29
-		p31 := p25 + p30
-		p32 := k00 * p29
-		p33 := p27 + p32
-		p34 := c25 * p29
-		p35 := p28 - p34
-		p36 := coef5 * w
-		p37 := c32 * p36
-		p38 := c31 * p36
-		p39 := -p38
-		p40 := k11 * p36
-		p41 := coef7 * w
-		p42 := c26 * p41
-		p43 := p37 + p42
-		p44 := k00 * p41
-		p45 := p39 + p44
-		p46 := c25 * p41
-		p47 := -p46
-		p48 := p40 - p46
-		p49 := c32 * p41
-		p50 := c31 * p41
-		p51 := -p50
-		p52 := k11 * p41
-		p53 := coef17 * w
-		p54 := c26 * p53
-		p55 := p49 + p54
-		p56 := k00 * p53
-		p57 := p51 + p56
-		p58 := c25 * p53
-		p59 := p52 - p58
-		p60 := coef4 * w
-		p61 := c26 * p60
+		coef44 := 0.01 + p22
+		p23 := coef0 * w
+		p24 := c32 * p23
+		p25 := c31 * p23
+		p26 := k11 * p23
+		p27 := coef2 * w
+		p28 := c25 * p27
+		p29 := p24 + p28
+		p30 := k00 * p27
+		p31 := p30 - p25
+		p32 := c24 * p27
+		p33 := p26 - p32
+		p34 := coef5 * w
+		p35 := c32 * p34
+		p36 := c31 * p34
+		p37 := k11 * p34
+		p38 := coef7 * w
+		p39 := c25 * p38
+		p40 := p35 + p39
+		p41 := k00 * p38
+		p42 := p41 - p36
+		p43 := c24 * p38
+		p44 := p37 - p43
+		p45 := c32 * p38
+		p46 := c31 * p38
+		p47 := k11 * p38
+		p48 := coef17 * w
+		p49 := c25 * p48
+		p50 := p45 + p49
+		p51 := k00 * p48
+		p52 := p51 - p46
+		p53 := c24 * p48
+		p54 := p47 - p53
+		p55 := coef4 * w
+		p56 := c25 * p55
+		p57 := k00 * p55
+		p58 := c24 * p55
+		p59 := -p58
+		p60 := coef9 * w
+		p61 := c25 * p60
 		p62 := k00 * p60
-		p63 := c25 * p60
+		p63 := c24 * p60
 		p64 := -p63
-		p65 := coef9 * w
-		p66 := c26 * p65
+		p65 := coef20 * w
+		p66 := c25 * p65
 		p67 := k00 * p65
-		p68 := c25 * p65
+		p68 := c24 * p65
 		p69 := -p68
-		p70 := coef20 * w
-		p71 := c26 * p70
-		p72 := k00 * p70
-		p73 := c25 * p70
-		p74 := -p73
-		p75 := coef19 * w
+		p70 := coef19 * w
+		p71 := c32 * p70
+		p72 := c31 * p70
+		p73 := -p72
+		p74 := k11 * p70
+		p75 := coef32 * w
 		p76 := c32 * p75
 		p77 := c31 * p75
-		p78 := -p77
-		p79 := k11 * p75
-		p80 := coef32 * w
-		p81 := c32 * p80
-		p82 := c31 * p80
-		p83 := k11 * p80
-		p84 := p42 + p81
-		p85 := p44 - p82
-		p86 := p47 + p83
-		p87 := coef44 * w
-		p88 := c26 * p87
-		p89 := p49 + p88
-		p90 := k00 * p87
-		p91 := p51 + p90
-		p92 := c25 * p87
-		p93 := p52 - p92
-		p94 := c32 * p60
-		p95 := c31 * p60
-		p96 := -p95
-		p97 := k11 * p60
-		p98 := c32 * p65
-		p99 := c31 * p65
-		p100 := -p99
-		p101 := k11 * p65
-		p102 := c32 * p70
-		p103 := c31 * p70
+		p78 := k11 * p75
+		p79 := p39 + p76
+		p80 := p41 - p77
+		p81 := p78 - p43
+		p82 := coef44 * w
+		p83 := c25 * p82
+		p84 := p45 + p83
+		p85 := k00 * p82
+		p86 := p85 - p46
+		p87 := c24 * p82
+		p88 := p47 - p87
+		p89 := c32 * p55
+		p90 := c31 * p55
+		p91 := -p90
+		p92 := k11 * p55
+		p93 := c32 * p60
+		p94 := c31 * p60
+		p95 := -p94
+		p96 := k11 * p60
+		p97 := c32 * p65
+		p98 := c31 * p65
+		p99 := -p98
+		p100 := k11 * p65
+		p101 := c25 * p70
+		p102 := k00 * p70
+		p103 := c24 * p70
 		p104 := -p103
-		p105 := k11 * p70
-		p106 := c26 * p75
-		p107 := k00 * p75
-		p108 := c25 * p75
-		p109 := -p108
-		p110 := p71 + p98
-		p111 := p72 - p99
-		p112 := p74 + p101
-		p113 := coef58 * w
-		p114 := c32 * p113
-		p115 := c31 * p113
+		p105 := p66 + p93
+		p106 := p67 - p94
+		p107 := p96 - p68
+		p108 := coef58 * w
+		p109 := c32 * p108
+		p110 := c31 * p108
+		p111 := -p110
+		p112 := k11 * p108
+		p113 := c25 * p108
+		p114 := k00 * p108
+		p115 := c24 * p108
 		p116 := -p115
-		p117 := k11 * p113
-		p118 := c26 * p113
-		p119 := k00 * p113
-		p120 := c25 * p113
-		p121 := -p120
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:12]
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c32*p43 + c26*p55
-		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c32*p45 + c26*p57
-		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c32*p48 + c26*p59
-		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p43 + k00*p55
-		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p45 + k00*p57
-		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p35 + k01*p48 + k00*p59
-		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p43 + k10*p55
-		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p45 + k10*p57
-		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p35 + k11*p48 + k10*p59
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p29 + c32*p40 + c25*p50
+		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c32*p42 + c25*p52
+		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c32*p44 + c25*p54
+		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p29 + k01*p40 + k00*p50
+		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p42 + k00*p52
+		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p44 + k00*p54
+		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p29 + k11*p40 + k10*p50
+		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p42 + k10*p52
+		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p44 + k10*p54
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
-		//	(1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		//	(1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
-		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p61 + c32*p66 + c26*p71
-		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p62 + c32*p67 + c26*p72
-		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p64 + c32*p69 + c26*p74
-		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p61 + k01*p66 + k00*p71
-		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p62 + k01*p67 + k00*p72
-		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p64 + k01*p69 + k00*p74
-		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p61 + k11*p66 + k10*p71
-		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p62 + k11*p67 + k10*p72
-		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p64 + k11*p69 + k10*p74
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:12]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:12]
+		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p56 + c32*p61 + c25*p66
+		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p57 + c32*p62 + c25*p67
+		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p59 + c32*p64 + c25*p69
+		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p56 + k01*p61 + k00*p66
+		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p57 + k01*p62 + k00*p67
+		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p59 + k01*p64 + k00*p69
+		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p56 + k11*p61 + k10*p66
+		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p57 + k11*p62 + k10*p67
+		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p59 + k11*p64 + k10*p69
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
-		acc[3] += c26 * p76
-		acc[4] += c26 * p78
-		acc[5] += c26 * p79
-		acc[12] += k00 * p76
-		acc[13] += k00 * p78
-		acc[14] += k00 * p79
-		acc[21] += k10 * p76
-		acc[22] += k10 * p78
-		acc[23] += k10 * p79
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:12]
+		acc[3] += c25 * p71
+		acc[4] += c25 * p73
+		acc[5] += c25 * p74
+		acc[12] += k00 * p71
+		acc[13] += k00 * p73
+		acc[14] += k00 * p74
+		acc[21] += k10 * p71
+		acc[22] += k10 * p73
+		acc[23] += k10 * p74
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		//	(-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c32*p84 + c26*p89
-		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c32*p85 + c26*p91
-		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c32*p86 + c26*p93
-		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p84 + k00*p89
-		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p85 + k00*p91
-		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p35 + k01*p86 + k00*p93
-		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p84 + k10*p89
-		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p85 + k10*p91
-		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p35 + k11*p86 + k10*p93
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p29 + c32*p79 + c25*p84
+		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c32*p80 + c25*p86
+		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c32*p81 + c25*p88
+		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p29 + k01*p79 + k00*p84
+		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p80 + k00*p86
+		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p81 + k00*p88
+		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p29 + k11*p79 + k10*p84
+		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p80 + k10*p86
+		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p81 + k10*p88
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//
-		//	((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		//	(1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
-		//	(1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
-		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p94 + c32*p98 + c26*p102
-		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p96 + c32*p100 + c26*p104
-		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p97 + c32*p101 + c26*p105
-		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p94 + k01*p98 + k00*p102
-		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p96 + k01*p100 + k00*p104
-		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p97 + k01*p101 + k00*p105
-		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p94 + k11*p98 + k10*p102
-		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p96 + k11*p100 + k10*p104
-		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p97 + k11*p101 + k10*p105
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:12]
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:12]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:12]
+		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p89 + c32*p93 + c25*p97
+		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p91 + c32*p95 + c25*p99
+		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p92 + c32*p96 + c25*p100
+		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p89 + k01*p93 + k00*p97
+		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p91 + k01*p95 + k00*p99
+		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p92 + k01*p96 + k00*p100
+		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p89 + k11*p93 + k10*p97
+		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p91 + k11*p95 + k10*p99
+		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p92 + k11*p96 + k10*p100
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//
-		//	(cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
-		acc[27] += c32 * p106
-		acc[28] += c32 * p107
-		acc[29] += c32 * p109
-		acc[36] += k01 * p106
-		acc[37] += k01 * p107
-		acc[38] += k01 * p109
-		acc[45] += k11 * p106
-		acc[46] += k11 * p107
-		acc[47] += k11 * p109
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:12]
+		acc[27] += c32 * p101
+		acc[28] += c32 * p102
+		acc[29] += c32 * p104
+		acc[36] += k01 * p101
+		acc[37] += k01 * p102
+		acc[38] += k01 * p104
+		acc[45] += k11 * p101
+		acc[46] += k11 * p102
+		acc[47] += k11 * p104
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
-		acc[54] += c26 * p110
-		acc[55] += c26 * p111
-		acc[56] += c26 * p112
-		acc[63] += k00 * p110
-		acc[64] += k00 * p111
-		acc[65] += k00 * p112
-		acc[72] += k10 * p110
-		acc[73] += k10 * p111
-		acc[74] += k10 * p112
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:12]
+		acc[54] += c25 * p105
+		acc[55] += c25 * p106
+		acc[56] += c25 * p107
+		acc[63] += k00 * p105
+		acc[64] += k00 * p106
+		acc[65] += k00 * p107
+		acc[72] += k10 * p105
+		acc[73] += k10 * p106
+		acc[74] += k10 * p107
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//
-		//	(previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
-		//	(-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
-		acc[57] += c32 * p110
-		acc[58] += c32 * p111
-		acc[59] += c32 * p112
-		acc[66] += k01 * p110
-		acc[67] += k01 * p111
-		acc[68] += k01 * p112
-		acc[75] += k11 * p110
-		acc[76] += k11 * p111
-		acc[77] += k11 * p112
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:12]
+		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:12]
+		acc[57] += c32 * p105
+		acc[58] += c32 * p106
+		acc[59] += c32 * p107
+		acc[66] += k01 * p105
+		acc[67] += k01 * p106
+		acc[68] += k01 * p107
+		acc[75] += k11 * p105
+		acc[76] += k11 * p106
+		acc[77] += k11 * p107
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//	((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += c32*p114 + c26*p118
-		acc[61] += c32*p116 + c26*p119
-		acc[62] += c32*p117 + c26*p121
-		acc[69] += k01*p114 + k00*p118
-		acc[70] += k01*p116 + k00*p119
-		acc[71] += k01*p117 + k00*p121
-		acc[78] += k11*p114 + k10*p118
-		acc[79] += k11*p116 + k10*p119
-		acc[80] += k11*p117 + k10*p121
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+		acc[60] += c32*p109 + c25*p113
+		acc[61] += c32*p111 + c25*p114
+		acc[62] += c32*p112 + c25*p116
+		acc[69] += k01*p109 + k00*p113
+		acc[70] += k01*p111 + k00*p114
+		acc[71] += k01*p112 + k00*p116
+		acc[78] += k11*p109 + k10*p113
+		acc[79] += k11*p111 + k10*p114
+		acc[80] += k11*p112 + k10*p116
 	}
 	copy(A, acc[:])
 	clear(b)

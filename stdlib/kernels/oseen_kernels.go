@@ -70,126 +70,110 @@ func (OseenGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:9:9]
 	x := in.Coords[:6:6]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := -j10
+	c4 := -j01
+	c5 := j01 * j01
+	c6 := 0.01 * c5
+	c7 := j00 * j01
+	c8 := c7 * (-0.01)
+	c9 := j00 * j00
+	c10 := 0.01 * c9
+	c11 := j11 * j11
+	c12 := 0.01 * c11
+	c13 := j11 * j10
+	c14 := (-0.01) * c13
+	c15 := j10 * j10
+	c16 := 0.01 * c15
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c5 := j10 * rdetJ
-	c6 := detJ * k00
-	c7 := detJ * c5
-	c8 := -c7
-	c9 := 0.01 * detJ
-	c10 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c11 := c10 * c10
-	c12 := c9 * c11
-	c13 := c10 * k11
-	c14 := c9 * c13
-	c15 := -c14
-	c16 := k11 * k11
-	c17 := c9 * c16
-	c18 := k00 * k00
-	c19 := c9 * c18
-	c20 := k00 * c5
-	c21 := c9 * c20
-	c22 := c5 * c5
-	c23 := c9 * c22
-	c24 := c12 + c19
-	c25 := c15 - c21
-	c26 := c17 + c23
-	c27 := detJ * c10
-	c28 := -c27
-	c29 := detJ * k11
+	c17 := c6 + c12
+	c18 := rdetJ * c17
+	c19 := c8 + c14
+	c20 := rdetJ * c19
+	c21 := c10 + c16
+	c22 := rdetJ * c21
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//	(1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//	(1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	acc[0] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8 + 0.5*c24 + c25 + 0.5*c26
-	acc[1] += 0.1666666666666667*c6 - 0.5*c24 - 0.5*c25
-	acc[2] += 0.1666666666666667*c8 - 0.5*c25 - 0.5*c26
-	acc[9] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8 - 0.5*c24 - 0.5*c25
-	acc[10] += 0.16666666666666666*c6 + 0.5*c24
-	acc[11] += 0.16666666666666666*c8 + 0.5*c25
-	acc[18] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8 - 0.5*c25 - 0.5*c26
-	acc[19] += 0.16666666666666666*c6 + 0.5*c25
-	acc[20] += 0.16666666666666666*c8 + 0.5*c26
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	acc[6] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[7] += 0.1666666666666667 * c6
-	acc[8] += 0.1666666666666667 * c8
-	acc[15] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[16] += 0.16666666666666666 * c6
-	acc[17] += 0.16666666666666666 * c8
-	acc[24] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[25] += 0.16666666666666666 * c6
-	acc[26] += 0.16666666666666666 * c8
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//	(1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//	(1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	acc[30] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8 + 0.5*c24 + c25 + 0.5*c26
-	acc[31] += 0.1666666666666667*c6 - 0.5*c24 - 0.5*c25
-	acc[32] += 0.1666666666666667*c8 - 0.5*c25 - 0.5*c26
-	acc[39] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8 - 0.5*c24 - 0.5*c25
-	acc[40] += 0.16666666666666666*c6 + 0.5*c24
-	acc[41] += 0.16666666666666666*c8 + 0.5*c25
-	acc[48] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8 - 0.5*c25 - 0.5*c26
-	acc[49] += 0.16666666666666666*c6 + 0.5*c25
-	acc[50] += 0.16666666666666666*c8 + 0.5*c26
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	acc[33] += (-0.1666666666666667)*c28 - 0.1666666666666667*c29
-	acc[34] += 0.1666666666666667 * c28
-	acc[35] += 0.1666666666666667 * c29
-	acc[42] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[43] += 0.16666666666666666 * c28
-	acc[44] += 0.16666666666666666 * c29
-	acc[51] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[52] += 0.16666666666666666 * c28
-	acc[53] += 0.16666666666666666 * c29
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	acc[54] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[55] += 0.1666666666666667 * c6
-	acc[56] += 0.1666666666666667 * c8
-	acc[63] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[64] += 0.16666666666666666 * c6
-	acc[65] += 0.16666666666666666 * c8
-	acc[72] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[73] += 0.16666666666666666 * c6
-	acc[74] += 0.16666666666666666 * c8
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	acc[57] += (-0.1666666666666667)*c28 - 0.1666666666666667*c29
-	acc[58] += 0.1666666666666667 * c28
-	acc[59] += 0.1666666666666667 * c29
-	acc[66] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[67] += 0.16666666666666666 * c28
-	acc[68] += 0.16666666666666666 * c29
-	acc[75] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[76] += 0.16666666666666666 * c28
-	acc[77] += 0.16666666666666666 * c29
-	copy(A, acc[:])
+	clear(A)
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
+	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	A[0] = 0.1666666666666667*(-j11-c3) + 0.5*(c18+c22) + c20
+	A[1] = 0.1666666666666667*j11 + 0.5*(-c18-c20)
+	A[2] = 0.1666666666666667*c3 + 0.5*(-c20-c22)
+	A[9] = 0.16666666666666666*(-j11-c3) + 0.5*(-c18-c20)
+	A[10] = 0.16666666666666666*j11 + 0.5*c18
+	A[11] = 0.16666666666666666*c3 + 0.5*c20
+	A[18] = 0.16666666666666666*(-j11-c3) + 0.5*(-c20-c22)
+	A[19] = 0.16666666666666666*j11 + 0.5*c20
+	A[20] = 0.16666666666666666*c3 + 0.5*c22
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
+	A[6] = 0.1666666666666667 * (-j11 - c3)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c3
+	A[15] = 0.16666666666666666 * (-j11 - c3)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c3
+	A[24] = 0.16666666666666666 * (-j11 - c3)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c3
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
+	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	A[30] = 0.1666666666666667*(-j11-c3) + 0.5*(c18+c22) + c20
+	A[31] = 0.1666666666666667*j11 + 0.5*(-c18-c20)
+	A[32] = 0.1666666666666667*c3 + 0.5*(-c20-c22)
+	A[39] = 0.16666666666666666*(-j11-c3) + 0.5*(-c18-c20)
+	A[40] = 0.16666666666666666*j11 + 0.5*c18
+	A[41] = 0.16666666666666666*c3 + 0.5*c20
+	A[48] = 0.16666666666666666*(-j11-c3) + 0.5*(-c20-c22)
+	A[49] = 0.16666666666666666*j11 + 0.5*c20
+	A[50] = 0.16666666666666666*c3 + 0.5*c22
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
+	A[33] = 0.1666666666666667 * (-c4 - j00)
+	A[34] = 0.1666666666666667 * c4
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c4 - j00)
+	A[43] = 0.16666666666666666 * c4
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c4 - j00)
+	A[52] = 0.16666666666666666 * c4
+	A[53] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
+	A[54] = 0.1666666666666667 * (-j11 - c3)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c3
+	A[63] = 0.16666666666666666 * (-j11 - c3)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c3
+	A[72] = 0.16666666666666666 * (-j11 - c3)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c3
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
+	A[57] = 0.1666666666666667 * (-c4 - j00)
+	A[58] = 0.1666666666666667 * c4
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c4 - j00)
+	A[67] = 0.16666666666666666 * c4
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c4 - j00)
+	A[76] = 0.16666666666666666 * c4
+	A[77] = 0.16666666666666666 * j00
 }
 
 // fwOseenSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
@@ -233,233 +217,271 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
+	c18 := 1.0 / diameter
+	c19 := c18 * c18
 	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.0 * c21
-	c23 := c20 + c22
-	coef7 := 1.0 / c23
-	coef6 := c18 * c23 * 0.25
-	coef4 := 0.01 + coef7 + coef6
-	coef11 := 0.01 + coef6
-	coef13 := 0.01 + coef7
+	c21 := c18 * 2.0
+	c22 := c20 + c21
+	c23 := diameter * 2.0
+	c24 := 0.04 + c23
+	c25 := 1.0 / c24
+	coef7 := c17 * c25
+	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c24 := j00 * j11
+	c27 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c25 := j01 * j10
-	detJ := c24 - c25
+	c28 := j01 * j10
+	detJ := c27 - c28
+	c29 := -j10
+	c30 := -j01
+	c31 := j01 * j01
+	c32 := 0.01 * c31
+	c33 := j00 * j01
+	c34 := -c33
+	c35 := (-0.01) * c33
+	c36 := j00 * j00
+	c37 := 0.01 * c36
+	c38 := j11 * j11
+	c39 := 0.01 * c38
+	c40 := 0.25 * c38
+	c41 := j11 * j10
+	c42 := (-0.01) * c41
+	c43 := c41 * (-0.25)
+	c44 := j10 * j10
+	c45 := 0.01 * c44
+	c46 := 0.25 * c44
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c26 := j10 * rdetJ
-	c27 := detJ * k00
-	c28 := detJ * c26
-	c29 := -c28
-	c30 := 0.01 * detJ
-	c31 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c32 := c31 * c31
-	c33 := c30 * c32
-	c34 := c31 * k11
-	c35 := c30 * c34
-	c36 := -c35
-	c37 := k11 * k11
-	c38 := c30 * c37
-	c39 := coef4 * detJ
-	c40 := k00 * k00
-	c41 := c39 * c40
-	c42 := k00 * c26
-	c43 := c39 * c42
-	c44 := c26 * c26
-	c45 := c39 * c44
-	c46 := c33 + c41
-	c47 := c36 - c43
-	c48 := c38 + c45
-	c49 := coef7 * detJ
-	c50 := c40 * c49
-	c51 := c42 * c49
-	c52 := -c51
-	c53 := c44 * c49
-	c54 := coef6 * detJ
-	c55 := k00 * c31
-	c56 := c54 * c55
-	c57 := -c56
-	c58 := k00 * k11
-	c59 := c54 * c58
-	c60 := c26 * c31
-	c61 := c54 * c60
-	c62 := c26 * k11
-	c63 := c54 * c62
-	c64 := -c63
-	c65 := coef11 * detJ
-	c66 := c32 * c65
-	c67 := c34 * c65
-	c68 := -c67
-	c69 := c37 * c65
-	c70 := coef13 * detJ
-	c71 := c40 * c70
-	c72 := c42 * c70
-	c73 := c44 * c70
-	c74 := c66 + c71
-	c75 := c68 - c72
-	c76 := c69 + c73
-	c77 := detJ * c31
-	c78 := -c77
-	c79 := detJ * k11
-	c80 := c49 * c55
-	c81 := -c80
-	c82 := c49 * c58
-	c83 := c49 * c60
-	c84 := c49 * c62
-	c85 := -c84
-	c86 := c32 * c49
-	c87 := c34 * c49
-	c88 := c37 * c49
-	c89 := c50 + c86
-	c90 := c52 - c87
-	c91 := c53 + c88
+	c47 := c32 + c39
+	c48 := rdetJ * c47
+	c49 := c38 * rdetJ
+	c50 := c40 * rdetJ
+	c51 := c35 + c42
+	c52 := rdetJ * c51
+	c53 := c41 * rdetJ
+	c54 := c43 * rdetJ
+	c55 := c37 + c45
+	c56 := rdetJ * c55
+	c57 := c44 * rdetJ
+	c58 := c46 * rdetJ
+	c59 := c49 * 0.5
+	c60 := c53 * (-0.5)
+	c61 := c57 * 0.5
+	c62 := c59 + c60 + c60 + c61
+	c63 := c50 * 0.5
+	c64 := c54 * 0.5
+	c65 := c58 * 0.5
+	c66 := c63 + c64 + c64 + c65
+	c67 := c49 * (-0.5)
+	c68 := c53 * 0.5
+	c69 := c67 + c68
+	c70 := c50 * (-0.5)
+	c71 := c54 * (-0.5)
+	c72 := c70 + c71
+	c73 := c57 * (-0.5)
+	c74 := c68 + c73
+	c75 := c58 * (-0.5)
+	c76 := c71 + c75
+	c77 := j11 * j01
+	c78 := (-0.25) * c77
+	c79 := 0.25 * c27
+	c80 := 0.25 * c28
+	c81 := j00 * j10
+	c82 := (-0.25) * c81
+	c83 := rdetJ * c78
+	c84 := rdetJ * c79
+	c85 := rdetJ * c80
+	c86 := rdetJ * c82
+	c87 := 0.5 * c83
+	c88 := 0.5 * c84
+	c89 := 0.5 * c85
+	c90 := 0.5 * c86
+	c91 := c87 + c88 + c89 + c90
+	c92 := (-0.5) * c83
+	c93 := (-0.5) * c85
+	c94 := c92 + c93
+	c95 := (-0.5) * c84
+	c96 := (-0.5) * c86
+	c97 := c95 + c96
+	c98 := c92 + c95
+	c99 := c93 + c96
+	c100 := 0.25 * c31
+	c101 := c33 * (-0.25)
+	c102 := 0.25 * c36
+	c103 := rdetJ * c100
+	c104 := rdetJ * c101
+	c105 := rdetJ * c102
+	c106 := 0.5 * c103
+	c107 := 0.5 * c104
+	c108 := 0.5 * c105
+	c109 := c106 + c107 + c107 + c108
+	c110 := (-0.5) * c103
+	c111 := (-0.5) * c104
+	c112 := c110 + c111
+	c113 := (-0.5) * c105
+	c114 := c111 + c113
+	c115 := rdetJ * c77
+	c116 := c27 * rdetJ
+	c117 := c28 * rdetJ
+	c118 := rdetJ * c81
+	c119 := (-0.5) * c115
+	c120 := 0.5 * c116
+	c121 := 0.5 * c117
+	c122 := (-0.5) * c118
+	c123 := c119 + c120 + c121 + c122
+	c124 := 0.5 * c115
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := (-0.5) * c116
+	c128 := 0.5 * c118
+	c129 := c127 + c128
+	c130 := c124 + c127
+	c131 := c125 + c128
+	c132 := c31 + c38
+	c133 := rdetJ * c132
+	c134 := c34 - c41
+	c135 := rdetJ * c134
+	c136 := c36 + c44
+	c137 := rdetJ * c136
+	c138 := 0.5 * c133
+	c139 := 0.5 * c135
+	c140 := 0.5 * c137
+	c141 := c138 + c139 + c139 + c140
+	c142 := (-0.5) * c133
+	c143 := (-0.5) * c135
+	c144 := c142 + c143
+	c145 := (-0.5) * c137
+	c146 := c143 + c145
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//	(1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	acc[0] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c46 + c47 + 0.5*c48
-	acc[1] += 0.1666666666666667*c27 - 0.5*c46 - 0.5*c47
-	acc[2] += 0.1666666666666667*c29 - 0.5*c47 - 0.5*c48
-	acc[9] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c46 - 0.5*c47
-	acc[10] += 0.16666666666666666*c27 + 0.5*c46
-	acc[11] += 0.16666666666666666*c29 + 0.5*c47
-	acc[18] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c47 - 0.5*c48
-	acc[19] += 0.16666666666666666*c27 + 0.5*c47
-	acc[20] += 0.16666666666666666*c29 + 0.5*c48
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	acc[6] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[7] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[8] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[15] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[16] += 0.16666666666666666*c27 + 0.5*c50
-	acc[17] += 0.16666666666666666*c29 + 0.5*c52
-	acc[24] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[25] += 0.16666666666666666*c27 + 0.5*c52
-	acc[26] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	acc[3] += 0.5*c57 + 0.5*c59 + 0.5*c61 + 0.5*c64
-	acc[4] += (-0.5)*c57 - 0.5*c61
-	acc[5] += (-0.5)*c59 - 0.5*c64
-	acc[12] += (-0.5)*c57 - 0.5*c59
-	acc[13] += 0.5 * c57
-	acc[14] += 0.5 * c59
-	acc[21] += (-0.5)*c61 - 0.5*c64
-	acc[22] += 0.5 * c61
-	acc[23] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	acc[30] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c74 + c75 + 0.5*c76
-	acc[31] += 0.1666666666666667*c27 - 0.5*c74 - 0.5*c75
-	acc[32] += 0.1666666666666667*c29 - 0.5*c75 - 0.5*c76
-	acc[39] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c74 - 0.5*c75
-	acc[40] += 0.16666666666666666*c27 + 0.5*c74
-	acc[41] += 0.16666666666666666*c29 + 0.5*c75
-	acc[48] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c75 - 0.5*c76
-	acc[49] += 0.16666666666666666*c27 + 0.5*c75
-	acc[50] += 0.16666666666666666*c29 + 0.5*c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	acc[33] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c82 + 0.5*c83 + 0.5*c85
-	acc[34] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c83
-	acc[35] += 0.1666666666666667*c79 - 0.5*c82 - 0.5*c85
-	acc[42] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c82
-	acc[43] += 0.16666666666666666*c78 + 0.5*c81
-	acc[44] += 0.16666666666666666*c79 + 0.5*c82
-	acc[51] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c83 - 0.5*c85
-	acc[52] += 0.16666666666666666*c78 + 0.5*c83
-	acc[53] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
-	acc[27] += 0.5*c57 + 0.5*c61 + 0.5*c59 + 0.5*c64
-	acc[28] += (-0.5)*c57 - 0.5*c59
-	acc[29] += (-0.5)*c61 - 0.5*c64
-	acc[36] += (-0.5)*c57 - 0.5*c61
-	acc[37] += 0.5 * c57
-	acc[38] += 0.5 * c61
-	acc[45] += (-0.5)*c59 - 0.5*c64
-	acc[46] += 0.5 * c59
-	acc[47] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	acc[54] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[55] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[56] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[63] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[64] += 0.16666666666666666*c27 + 0.5*c50
-	acc[65] += 0.16666666666666666*c29 + 0.5*c52
-	acc[72] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[73] += 0.16666666666666666*c27 + 0.5*c52
-	acc[74] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	acc[57] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c83 + 0.5*c82 + 0.5*c85
-	acc[58] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c82
-	acc[59] += 0.1666666666666667*c79 - 0.5*c83 - 0.5*c85
-	acc[66] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c83
-	acc[67] += 0.16666666666666666*c78 + 0.5*c81
-	acc[68] += 0.16666666666666666*c79 + 0.5*c83
-	acc[75] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c82 - 0.5*c85
-	acc[76] += 0.16666666666666666*c78 + 0.5*c82
-	acc[77] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-	acc[60] += 0.5*c89 + c90 + 0.5*c91
-	acc[61] += (-0.5)*c89 - 0.5*c90
-	acc[62] += (-0.5)*c90 - 0.5*c91
-	acc[69] += (-0.5)*c89 - 0.5*c90
-	acc[70] += 0.5 * c89
-	acc[71] += 0.5 * c90
-	acc[78] += (-0.5)*c90 - 0.5*c91
-	acc[79] += 0.5 * c90
-	acc[80] += 0.5 * c91
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c66
+	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c72
+	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c76
+	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef7*c69 + c26*c72
+	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef7*c59 + c26*c63
+	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef7*c60 + c26*c64
+	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef7*c74 + c26*c76
+	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef7*c60 + c26*c64
+	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c65
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
+	A[6] = 0.1666666666666667*(-j11-c29) + coef7*c62
+	A[7] = 0.1666666666666667*j11 + coef7*c69
+	A[8] = 0.1666666666666667*c29 + coef7*c74
+	A[15] = 0.16666666666666666*(-j11-c29) + coef7*c69
+	A[16] = 0.16666666666666666*j11 + coef7*c59
+	A[17] = 0.16666666666666666*c29 + coef7*c60
+	A[24] = 0.16666666666666666*(-j11-c29) + coef7*c74
+	A[25] = 0.16666666666666666*j11 + coef7*c60
+	A[26] = 0.16666666666666666*c29 + coef7*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	A[3] = c26 * c91
+	A[4] = c26 * c94
+	A[5] = c26 * c97
+	A[12] = c26 * c98
+	A[13] = c26 * c87
+	A[14] = c26 * c88
+	A[21] = c26 * c99
+	A[22] = c26 * c89
+	A[23] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c109
+	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c112
+	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c114
+	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef7*c69 + c26*c112
+	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef7*c59 + c26*c106
+	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef7*c60 + c26*c107
+	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef7*c74 + c26*c114
+	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef7*c60 + c26*c107
+	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c108
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
+	A[33] = 0.1666666666666667*(-c30-j00) + coef7*c123
+	A[34] = 0.1666666666666667*c30 + coef7*c126
+	A[35] = 0.1666666666666667*j00 + coef7*c129
+	A[42] = 0.16666666666666666*(-c30-j00) + coef7*c130
+	A[43] = 0.16666666666666666*c30 + coef7*c119
+	A[44] = 0.16666666666666666*j00 + coef7*c120
+	A[51] = 0.16666666666666666*(-c30-j00) + coef7*c131
+	A[52] = 0.16666666666666666*c30 + coef7*c121
+	A[53] = 0.16666666666666666*j00 + coef7*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	A[27] = c26 * c91
+	A[28] = c26 * c98
+	A[29] = c26 * c99
+	A[36] = c26 * c94
+	A[37] = c26 * c87
+	A[38] = c26 * c89
+	A[45] = c26 * c97
+	A[46] = c26 * c88
+	A[47] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	A[54] = 0.1666666666666667*(-j11-c29) + coef7*c62
+	A[55] = 0.1666666666666667*j11 + coef7*c69
+	A[56] = 0.1666666666666667*c29 + coef7*c74
+	A[63] = 0.16666666666666666*(-j11-c29) + coef7*c69
+	A[64] = 0.16666666666666666*j11 + coef7*c59
+	A[65] = 0.16666666666666666*c29 + coef7*c60
+	A[72] = 0.16666666666666666*(-j11-c29) + coef7*c74
+	A[73] = 0.16666666666666666*j11 + coef7*c60
+	A[74] = 0.16666666666666666*c29 + coef7*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	A[57] = 0.1666666666666667*(-c30-j00) + coef7*c123
+	A[58] = 0.1666666666666667*c30 + coef7*c130
+	A[59] = 0.1666666666666667*j00 + coef7*c131
+	A[66] = 0.16666666666666666*(-c30-j00) + coef7*c126
+	A[67] = 0.16666666666666666*c30 + coef7*c119
+	A[68] = 0.16666666666666666*j00 + coef7*c121
+	A[75] = 0.16666666666666666*(-c30-j00) + coef7*c129
+	A[76] = 0.16666666666666666*c30 + coef7*c120
+	A[77] = 0.16666666666666666*j00 + coef7*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	A[60] = coef7 * c141
+	A[61] = coef7 * c144
+	A[62] = coef7 * c146
+	A[69] = coef7 * c144
+	A[70] = coef7 * c138
+	A[71] = coef7 * c139
+	A[78] = coef7 * c146
+	A[79] = coef7 * c139
+	A[80] = coef7 * c140
 }
 
 // fwOseenGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -503,249 +525,287 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
+	c18 := 1.0 / diameter
+	c19 := c18 * c18
 	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.0 * c21
-	c23 := c20 + c22
-	coef11 := 1.0 / c23
-	coef10 := c18 * c23 * 0.25
-	coef8 := 0.01 + coef11 + coef10
-	coef19 := 0.01 + coef10
-	coef25 := 0.01 + coef11
+	c21 := c18 * 2.0
+	c22 := c20 + c21
+	c23 := diameter * 2.0
+	c24 := 0.04 + c23
+	c25 := 1.0 / c24
+	coef11 := c17 * c25
+	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c24 := j00 * j11
+	c27 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c25 := j01 * j10
-	detJ := c24 - c25
+	c28 := j01 * j10
+	detJ := c27 - c28
+	c29 := -j10
+	c30 := -j01
+	c31 := j01 * j01
+	c32 := 0.01 * c31
+	c33 := j00 * j01
+	c34 := -c33
+	c35 := (-0.01) * c33
+	c36 := j00 * j00
+	c37 := 0.01 * c36
+	c38 := j11 * j11
+	c39 := j11 * j10
+	c40 := j10 * j10
+	c41 := 0.01 * c38
+	c42 := 0.25 * c38
+	c43 := (-0.01) * c39
+	c44 := c39 * (-0.25)
+	c45 := 0.01 * c40
+	c46 := 0.25 * c40
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c26 := j10 * rdetJ
-	c27 := detJ * k00
-	c28 := detJ * c26
-	c29 := -c28
-	c30 := 0.01 * detJ
-	c31 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c32 := c31 * c31
-	c33 := c30 * c32
-	c34 := c31 * k11
-	c35 := c30 * c34
-	c36 := -c35
-	c37 := k11 * k11
-	c38 := c30 * c37
-	c39 := k00 * k00
-	c40 := k00 * c26
-	c41 := c26 * c26
-	c42 := coef8 * detJ
-	c43 := c39 * c42
-	c44 := c40 * c42
-	c45 := c41 * c42
-	c46 := c33 + c43
-	c47 := c36 - c44
-	c48 := c38 + c45
-	c49 := coef11 * detJ
-	c50 := c39 * c49
-	c51 := c40 * c49
-	c52 := -c51
-	c53 := c41 * c49
-	c54 := coef10 * detJ
-	c55 := k00 * c31
-	c56 := c54 * c55
-	c57 := -c56
-	c58 := k00 * k11
-	c59 := c54 * c58
-	c60 := c26 * c31
-	c61 := c54 * c60
-	c62 := c26 * k11
-	c63 := c54 * c62
-	c64 := -c63
-	c65 := coef19 * detJ
-	c66 := c32 * c65
-	c67 := c34 * c65
-	c68 := -c67
-	c69 := c37 * c65
-	c70 := coef25 * detJ
-	c71 := c39 * c70
-	c72 := c40 * c70
-	c73 := c41 * c70
-	c74 := c66 + c71
-	c75 := c68 - c72
-	c76 := c69 + c73
-	c77 := detJ * c31
-	c78 := -c77
-	c79 := detJ * k11
-	c80 := c49 * c55
-	c81 := -c80
-	c82 := c49 * c58
-	c83 := c49 * c60
-	c84 := c49 * c62
-	c85 := -c84
-	c86 := c32 * c49
-	c87 := c34 * c49
-	c88 := c37 * c49
-	c89 := c50 + c86
-	c90 := c52 - c87
-	c91 := c53 + c88
+	c47 := c32 + c41
+	c48 := rdetJ * c47
+	c49 := c38 * rdetJ
+	c50 := c42 * rdetJ
+	c51 := c35 + c43
+	c52 := rdetJ * c51
+	c53 := c39 * rdetJ
+	c54 := c44 * rdetJ
+	c55 := c37 + c45
+	c56 := rdetJ * c55
+	c57 := c40 * rdetJ
+	c58 := c46 * rdetJ
+	c59 := c49 * 0.5
+	c60 := c53 * (-0.5)
+	c61 := c57 * 0.5
+	c62 := c59 + c60 + c60 + c61
+	c63 := c50 * 0.5
+	c64 := c54 * 0.5
+	c65 := c58 * 0.5
+	c66 := c63 + c64 + c64 + c65
+	c67 := c49 * (-0.5)
+	c68 := c53 * 0.5
+	c69 := c67 + c68
+	c70 := c50 * (-0.5)
+	c71 := c54 * (-0.5)
+	c72 := c70 + c71
+	c73 := c57 * (-0.5)
+	c74 := c68 + c73
+	c75 := c58 * (-0.5)
+	c76 := c71 + c75
+	c77 := j11 * j01
+	c78 := (-0.25) * c77
+	c79 := 0.25 * c27
+	c80 := 0.25 * c28
+	c81 := j00 * j10
+	c82 := (-0.25) * c81
+	c83 := rdetJ * c78
+	c84 := rdetJ * c79
+	c85 := rdetJ * c80
+	c86 := rdetJ * c82
+	c87 := 0.5 * c83
+	c88 := 0.5 * c84
+	c89 := 0.5 * c85
+	c90 := 0.5 * c86
+	c91 := c87 + c88 + c89 + c90
+	c92 := (-0.5) * c83
+	c93 := (-0.5) * c85
+	c94 := c92 + c93
+	c95 := (-0.5) * c84
+	c96 := (-0.5) * c86
+	c97 := c95 + c96
+	c98 := c92 + c95
+	c99 := c93 + c96
+	c100 := 0.25 * c31
+	c101 := c33 * (-0.25)
+	c102 := 0.25 * c36
+	c103 := rdetJ * c100
+	c104 := rdetJ * c101
+	c105 := rdetJ * c102
+	c106 := 0.5 * c103
+	c107 := 0.5 * c104
+	c108 := 0.5 * c105
+	c109 := c106 + c107 + c107 + c108
+	c110 := (-0.5) * c103
+	c111 := (-0.5) * c104
+	c112 := c110 + c111
+	c113 := (-0.5) * c105
+	c114 := c111 + c113
+	c115 := rdetJ * c77
+	c116 := c27 * rdetJ
+	c117 := c28 * rdetJ
+	c118 := rdetJ * c81
+	c119 := (-0.5) * c115
+	c120 := 0.5 * c116
+	c121 := 0.5 * c117
+	c122 := (-0.5) * c118
+	c123 := c119 + c120 + c121 + c122
+	c124 := 0.5 * c115
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := (-0.5) * c116
+	c128 := 0.5 * c118
+	c129 := c127 + c128
+	c130 := c124 + c127
+	c131 := c125 + c128
+	c132 := c31 + c38
+	c133 := rdetJ * c132
+	c134 := c34 - c39
+	c135 := rdetJ * c134
+	c136 := c36 + c40
+	c137 := rdetJ * c136
+	c138 := 0.5 * c133
+	c139 := 0.5 * c135
+	c140 := 0.5 * c137
+	c141 := c138 + c139 + c139 + c140
+	c142 := (-0.5) * c133
+	c143 := (-0.5) * c135
+	c144 := c142 + c143
+	c145 := (-0.5) * c137
+	c146 := c143 + c145
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//	(1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	acc[0] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c46 + c47 + 0.5*c48
-	acc[1] += 0.1666666666666667*c27 - 0.5*c46 - 0.5*c47
-	acc[2] += 0.1666666666666667*c29 - 0.5*c47 - 0.5*c48
-	acc[9] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c46 - 0.5*c47
-	acc[10] += 0.16666666666666666*c27 + 0.5*c46
-	acc[11] += 0.16666666666666666*c29 + 0.5*c47
-	acc[18] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c47 - 0.5*c48
-	acc[19] += 0.16666666666666666*c27 + 0.5*c47
-	acc[20] += 0.16666666666666666*c29 + 0.5*c48
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	acc[6] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[7] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[8] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[15] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[16] += 0.16666666666666666*c27 + 0.5*c50
-	acc[17] += 0.16666666666666666*c29 + 0.5*c52
-	acc[24] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[25] += 0.16666666666666666*c27 + 0.5*c52
-	acc[26] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	acc[3] += 0.5*c57 + 0.5*c59 + 0.5*c61 + 0.5*c64
-	acc[4] += (-0.5)*c57 - 0.5*c61
-	acc[5] += (-0.5)*c59 - 0.5*c64
-	acc[12] += (-0.5)*c57 - 0.5*c59
-	acc[13] += 0.5 * c57
-	acc[14] += 0.5 * c59
-	acc[21] += (-0.5)*c61 - 0.5*c64
-	acc[22] += 0.5 * c61
-	acc[23] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//	(1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	acc[30] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c74 + c75 + 0.5*c76
-	acc[31] += 0.1666666666666667*c27 - 0.5*c74 - 0.5*c75
-	acc[32] += 0.1666666666666667*c29 - 0.5*c75 - 0.5*c76
-	acc[39] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c74 - 0.5*c75
-	acc[40] += 0.16666666666666666*c27 + 0.5*c74
-	acc[41] += 0.16666666666666666*c29 + 0.5*c75
-	acc[48] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c75 - 0.5*c76
-	acc[49] += 0.16666666666666666*c27 + 0.5*c75
-	acc[50] += 0.16666666666666666*c29 + 0.5*c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	acc[33] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c82 + 0.5*c83 + 0.5*c85
-	acc[34] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c83
-	acc[35] += 0.1666666666666667*c79 - 0.5*c82 - 0.5*c85
-	acc[42] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c82
-	acc[43] += 0.16666666666666666*c78 + 0.5*c81
-	acc[44] += 0.16666666666666666*c79 + 0.5*c82
-	acc[51] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c83 - 0.5*c85
-	acc[52] += 0.16666666666666666*c78 + 0.5*c83
-	acc[53] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
-	acc[27] += 0.5*c57 + 0.5*c61 + 0.5*c59 + 0.5*c64
-	acc[28] += (-0.5)*c57 - 0.5*c59
-	acc[29] += (-0.5)*c61 - 0.5*c64
-	acc[36] += (-0.5)*c57 - 0.5*c61
-	acc[37] += 0.5 * c57
-	acc[38] += 0.5 * c61
-	acc[45] += (-0.5)*c59 - 0.5*c64
-	acc[46] += 0.5 * c59
-	acc[47] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	acc[54] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[55] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[56] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[63] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[64] += 0.16666666666666666*c27 + 0.5*c50
-	acc[65] += 0.16666666666666666*c29 + 0.5*c52
-	acc[72] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[73] += 0.16666666666666666*c27 + 0.5*c52
-	acc[74] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	acc[57] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c83 + 0.5*c82 + 0.5*c85
-	acc[58] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c82
-	acc[59] += 0.1666666666666667*c79 - 0.5*c83 - 0.5*c85
-	acc[66] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c83
-	acc[67] += 0.16666666666666666*c78 + 0.5*c81
-	acc[68] += 0.16666666666666666*c79 + 0.5*c83
-	acc[75] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c82 - 0.5*c85
-	acc[76] += 0.16666666666666666*c78 + 0.5*c82
-	acc[77] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-	acc[60] += 0.5*c89 + c90 + 0.5*c91
-	acc[61] += (-0.5)*c89 - 0.5*c90
-	acc[62] += (-0.5)*c90 - 0.5*c91
-	acc[69] += (-0.5)*c89 - 0.5*c90
-	acc[70] += 0.5 * c89
-	acc[71] += 0.5 * c90
-	acc[78] += (-0.5)*c90 - 0.5*c91
-	acc[79] += 0.5 * c90
-	acc[80] += 0.5 * c91
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
+	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
+	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
+	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c72
+	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c63
+	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c64
+	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c76
+	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c64
+	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
+	A[7] = 0.1666666666666667*j11 + coef11*c69
+	A[8] = 0.1666666666666667*c29 + coef11*c74
+	A[15] = 0.16666666666666666*(-j11-c29) + coef11*c69
+	A[16] = 0.16666666666666666*j11 + coef11*c59
+	A[17] = 0.16666666666666666*c29 + coef11*c60
+	A[24] = 0.16666666666666666*(-j11-c29) + coef11*c74
+	A[25] = 0.16666666666666666*j11 + coef11*c60
+	A[26] = 0.16666666666666666*c29 + coef11*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	A[3] = c26 * c91
+	A[4] = c26 * c94
+	A[5] = c26 * c97
+	A[12] = c26 * c98
+	A[13] = c26 * c87
+	A[14] = c26 * c88
+	A[21] = c26 * c99
+	A[22] = c26 * c89
+	A[23] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
+	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
+	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
+	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c112
+	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c106
+	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c107
+	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c114
+	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c107
+	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
+	A[34] = 0.1666666666666667*c30 + coef11*c126
+	A[35] = 0.1666666666666667*j00 + coef11*c129
+	A[42] = 0.16666666666666666*(-c30-j00) + coef11*c130
+	A[43] = 0.16666666666666666*c30 + coef11*c119
+	A[44] = 0.16666666666666666*j00 + coef11*c120
+	A[51] = 0.16666666666666666*(-c30-j00) + coef11*c131
+	A[52] = 0.16666666666666666*c30 + coef11*c121
+	A[53] = 0.16666666666666666*j00 + coef11*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	A[27] = c26 * c91
+	A[28] = c26 * c98
+	A[29] = c26 * c99
+	A[36] = c26 * c94
+	A[37] = c26 * c87
+	A[38] = c26 * c89
+	A[45] = c26 * c97
+	A[46] = c26 * c88
+	A[47] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
+	A[55] = 0.1666666666666667*j11 + coef11*c69
+	A[56] = 0.1666666666666667*c29 + coef11*c74
+	A[63] = 0.16666666666666666*(-j11-c29) + coef11*c69
+	A[64] = 0.16666666666666666*j11 + coef11*c59
+	A[65] = 0.16666666666666666*c29 + coef11*c60
+	A[72] = 0.16666666666666666*(-j11-c29) + coef11*c74
+	A[73] = 0.16666666666666666*j11 + coef11*c60
+	A[74] = 0.16666666666666666*c29 + coef11*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
+	A[58] = 0.1666666666666667*c30 + coef11*c130
+	A[59] = 0.1666666666666667*j00 + coef11*c131
+	A[66] = 0.16666666666666666*(-c30-j00) + coef11*c126
+	A[67] = 0.16666666666666666*c30 + coef11*c119
+	A[68] = 0.16666666666666666*j00 + coef11*c121
+	A[75] = 0.16666666666666666*(-c30-j00) + coef11*c129
+	A[76] = 0.16666666666666666*c30 + coef11*c120
+	A[77] = 0.16666666666666666*j00 + coef11*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	A[60] = coef11 * c141
+	A[61] = coef11 * c144
+	A[62] = coef11 * c146
+	A[69] = coef11 * c144
+	A[70] = coef11 * c138
+	A[71] = coef11 * c139
+	A[78] = coef11 * c146
+	A[79] = coef11 * c139
+	A[80] = coef11 * c140
 }
 
 // fwOseenVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -789,249 +849,287 @@ func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
+	c18 := 1.0 / diameter
+	c19 := c18 * c18
 	c20 := 0.04 * c19
-	c21 := 1.0 / diameter
-	c22 := 2.0 * c21
-	c23 := c20 + c22
-	coef11 := 1.0 / c23
-	coef10 := c18 * c23 * 0.25
-	coef8 := 0.01 + coef11 + coef10
-	coef19 := 0.01 + coef10
-	coef25 := 0.01 + coef11
+	c21 := c18 * 2.0
+	c22 := c20 + c21
+	c23 := diameter * 2.0
+	c24 := 0.04 + c23
+	c25 := 1.0 / c24
+	coef11 := c17 * c25
+	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c24 := j00 * j11
+	c27 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c25 := j01 * j10
-	detJ := c24 - c25
+	c28 := j01 * j10
+	detJ := c27 - c28
+	c29 := -j10
+	c30 := -j01
+	c31 := j01 * j01
+	c32 := 0.01 * c31
+	c33 := j00 * j01
+	c34 := -c33
+	c35 := (-0.01) * c33
+	c36 := j00 * j00
+	c37 := 0.01 * c36
+	c38 := j11 * j11
+	c39 := j11 * j10
+	c40 := j10 * j10
+	c41 := 0.01 * c38
+	c42 := 0.25 * c38
+	c43 := (-0.01) * c39
+	c44 := c39 * (-0.25)
+	c45 := 0.01 * c40
+	c46 := 0.25 * c40
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c26 := j10 * rdetJ
-	c27 := detJ * k00
-	c28 := detJ * c26
-	c29 := -c28
-	c30 := 0.01 * detJ
-	c31 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c32 := c31 * c31
-	c33 := c30 * c32
-	c34 := c31 * k11
-	c35 := c30 * c34
-	c36 := -c35
-	c37 := k11 * k11
-	c38 := c30 * c37
-	c39 := k00 * k00
-	c40 := k00 * c26
-	c41 := c26 * c26
-	c42 := coef8 * detJ
-	c43 := c39 * c42
-	c44 := c40 * c42
-	c45 := c41 * c42
-	c46 := c33 + c43
-	c47 := c36 - c44
-	c48 := c38 + c45
-	c49 := coef11 * detJ
-	c50 := c39 * c49
-	c51 := c40 * c49
-	c52 := -c51
-	c53 := c41 * c49
-	c54 := coef10 * detJ
-	c55 := k00 * c31
-	c56 := c54 * c55
-	c57 := -c56
-	c58 := k00 * k11
-	c59 := c54 * c58
-	c60 := c26 * c31
-	c61 := c54 * c60
-	c62 := c26 * k11
-	c63 := c54 * c62
-	c64 := -c63
-	c65 := coef19 * detJ
-	c66 := c32 * c65
-	c67 := c34 * c65
-	c68 := -c67
-	c69 := c37 * c65
-	c70 := coef25 * detJ
-	c71 := c39 * c70
-	c72 := c40 * c70
-	c73 := c41 * c70
-	c74 := c66 + c71
-	c75 := c68 - c72
-	c76 := c69 + c73
-	c77 := detJ * c31
-	c78 := -c77
-	c79 := detJ * k11
-	c80 := c49 * c55
-	c81 := -c80
-	c82 := c49 * c58
-	c83 := c49 * c60
-	c84 := c49 * c62
-	c85 := -c84
-	c86 := c32 * c49
-	c87 := c34 * c49
-	c88 := c37 * c49
-	c89 := c50 + c86
-	c90 := c52 - c87
-	c91 := c53 + c88
+	c47 := c32 + c41
+	c48 := rdetJ * c47
+	c49 := c38 * rdetJ
+	c50 := c42 * rdetJ
+	c51 := c35 + c43
+	c52 := rdetJ * c51
+	c53 := c39 * rdetJ
+	c54 := c44 * rdetJ
+	c55 := c37 + c45
+	c56 := rdetJ * c55
+	c57 := c40 * rdetJ
+	c58 := c46 * rdetJ
+	c59 := c49 * 0.5
+	c60 := c53 * (-0.5)
+	c61 := c57 * 0.5
+	c62 := c59 + c60 + c60 + c61
+	c63 := c50 * 0.5
+	c64 := c54 * 0.5
+	c65 := c58 * 0.5
+	c66 := c63 + c64 + c64 + c65
+	c67 := c49 * (-0.5)
+	c68 := c53 * 0.5
+	c69 := c67 + c68
+	c70 := c50 * (-0.5)
+	c71 := c54 * (-0.5)
+	c72 := c70 + c71
+	c73 := c57 * (-0.5)
+	c74 := c68 + c73
+	c75 := c58 * (-0.5)
+	c76 := c71 + c75
+	c77 := j11 * j01
+	c78 := (-0.25) * c77
+	c79 := 0.25 * c27
+	c80 := 0.25 * c28
+	c81 := j00 * j10
+	c82 := (-0.25) * c81
+	c83 := rdetJ * c78
+	c84 := rdetJ * c79
+	c85 := rdetJ * c80
+	c86 := rdetJ * c82
+	c87 := 0.5 * c83
+	c88 := 0.5 * c84
+	c89 := 0.5 * c85
+	c90 := 0.5 * c86
+	c91 := c87 + c88 + c89 + c90
+	c92 := (-0.5) * c83
+	c93 := (-0.5) * c85
+	c94 := c92 + c93
+	c95 := (-0.5) * c84
+	c96 := (-0.5) * c86
+	c97 := c95 + c96
+	c98 := c92 + c95
+	c99 := c93 + c96
+	c100 := 0.25 * c31
+	c101 := c33 * (-0.25)
+	c102 := 0.25 * c36
+	c103 := rdetJ * c100
+	c104 := rdetJ * c101
+	c105 := rdetJ * c102
+	c106 := 0.5 * c103
+	c107 := 0.5 * c104
+	c108 := 0.5 * c105
+	c109 := c106 + c107 + c107 + c108
+	c110 := (-0.5) * c103
+	c111 := (-0.5) * c104
+	c112 := c110 + c111
+	c113 := (-0.5) * c105
+	c114 := c111 + c113
+	c115 := rdetJ * c77
+	c116 := c27 * rdetJ
+	c117 := c28 * rdetJ
+	c118 := rdetJ * c81
+	c119 := (-0.5) * c115
+	c120 := 0.5 * c116
+	c121 := 0.5 * c117
+	c122 := (-0.5) * c118
+	c123 := c119 + c120 + c121 + c122
+	c124 := 0.5 * c115
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := (-0.5) * c116
+	c128 := 0.5 * c118
+	c129 := c127 + c128
+	c130 := c124 + c127
+	c131 := c125 + c128
+	c132 := c31 + c38
+	c133 := rdetJ * c132
+	c134 := c34 - c39
+	c135 := rdetJ * c134
+	c136 := c36 + c40
+	c137 := rdetJ * c136
+	c138 := 0.5 * c133
+	c139 := 0.5 * c135
+	c140 := 0.5 * c137
+	c141 := c138 + c139 + c139 + c140
+	c142 := (-0.5) * c133
+	c143 := (-0.5) * c135
+	c144 := c142 + c143
+	c145 := (-0.5) * c137
+	c146 := c143 + c145
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//	(1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	acc[0] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c46 + c47 + 0.5*c48
-	acc[1] += 0.1666666666666667*c27 - 0.5*c46 - 0.5*c47
-	acc[2] += 0.1666666666666667*c29 - 0.5*c47 - 0.5*c48
-	acc[9] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c46 - 0.5*c47
-	acc[10] += 0.16666666666666666*c27 + 0.5*c46
-	acc[11] += 0.16666666666666666*c29 + 0.5*c47
-	acc[18] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c47 - 0.5*c48
-	acc[19] += 0.16666666666666666*c27 + 0.5*c47
-	acc[20] += 0.16666666666666666*c29 + 0.5*c48
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	acc[6] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[7] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[8] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[15] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[16] += 0.16666666666666666*c27 + 0.5*c50
-	acc[17] += 0.16666666666666666*c29 + 0.5*c52
-	acc[24] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[25] += 0.16666666666666666*c27 + 0.5*c52
-	acc[26] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	acc[3] += 0.5*c57 + 0.5*c59 + 0.5*c61 + 0.5*c64
-	acc[4] += (-0.5)*c57 - 0.5*c61
-	acc[5] += (-0.5)*c59 - 0.5*c64
-	acc[12] += (-0.5)*c57 - 0.5*c59
-	acc[13] += 0.5 * c57
-	acc[14] += 0.5 * c59
-	acc[21] += (-0.5)*c61 - 0.5*c64
-	acc[22] += 0.5 * c61
-	acc[23] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//	(-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	acc[30] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c74 + c75 + 0.5*c76
-	acc[31] += 0.1666666666666667*c27 - 0.5*c74 - 0.5*c75
-	acc[32] += 0.1666666666666667*c29 - 0.5*c75 - 0.5*c76
-	acc[39] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c74 - 0.5*c75
-	acc[40] += 0.16666666666666666*c27 + 0.5*c74
-	acc[41] += 0.16666666666666666*c29 + 0.5*c75
-	acc[48] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c75 - 0.5*c76
-	acc[49] += 0.16666666666666666*c27 + 0.5*c75
-	acc[50] += 0.16666666666666666*c29 + 0.5*c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	//	(1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	acc[33] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c82 + 0.5*c83 + 0.5*c85
-	acc[34] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c83
-	acc[35] += 0.1666666666666667*c79 - 0.5*c82 - 0.5*c85
-	acc[42] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c82
-	acc[43] += 0.16666666666666666*c78 + 0.5*c81
-	acc[44] += 0.16666666666666666*c79 + 0.5*c82
-	acc[51] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c83 - 0.5*c85
-	acc[52] += 0.16666666666666666*c78 + 0.5*c83
-	acc[53] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
-	acc[27] += 0.5*c57 + 0.5*c61 + 0.5*c59 + 0.5*c64
-	acc[28] += (-0.5)*c57 - 0.5*c59
-	acc[29] += (-0.5)*c61 - 0.5*c64
-	acc[36] += (-0.5)*c57 - 0.5*c61
-	acc[37] += 0.5 * c57
-	acc[38] += 0.5 * c61
-	acc[45] += (-0.5)*c59 - 0.5*c64
-	acc[46] += 0.5 * c59
-	acc[47] += 0.5 * c64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	acc[54] += (-0.1666666666666667)*c27 - 0.1666666666666667*c29 + 0.5*c50 + c52 + 0.5*c53
-	acc[55] += 0.1666666666666667*c27 - 0.5*c50 - 0.5*c52
-	acc[56] += 0.1666666666666667*c29 - 0.5*c52 - 0.5*c53
-	acc[63] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c50 - 0.5*c52
-	acc[64] += 0.16666666666666666*c27 + 0.5*c50
-	acc[65] += 0.16666666666666666*c29 + 0.5*c52
-	acc[72] += (-0.16666666666666666)*c27 - 0.16666666666666666*c29 - 0.5*c52 - 0.5*c53
-	acc[73] += 0.16666666666666666*c27 + 0.5*c52
-	acc[74] += 0.16666666666666666*c29 + 0.5*c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//	(-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	acc[57] += (-0.1666666666666667)*c78 - 0.1666666666666667*c79 + 0.5*c81 + 0.5*c83 + 0.5*c82 + 0.5*c85
-	acc[58] += 0.1666666666666667*c78 - 0.5*c81 - 0.5*c82
-	acc[59] += 0.1666666666666667*c79 - 0.5*c83 - 0.5*c85
-	acc[66] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c81 - 0.5*c83
-	acc[67] += 0.16666666666666666*c78 + 0.5*c81
-	acc[68] += 0.16666666666666666*c79 + 0.5*c83
-	acc[75] += (-0.16666666666666666)*c78 - 0.16666666666666666*c79 - 0.5*c82 - 0.5*c85
-	acc[76] += 0.16666666666666666*c78 + 0.5*c82
-	acc[77] += 0.16666666666666666*c79 + 0.5*c85
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//	((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-	acc[60] += 0.5*c89 + c90 + 0.5*c91
-	acc[61] += (-0.5)*c89 - 0.5*c90
-	acc[62] += (-0.5)*c90 - 0.5*c91
-	acc[69] += (-0.5)*c89 - 0.5*c90
-	acc[70] += 0.5 * c89
-	acc[71] += 0.5 * c90
-	acc[78] += (-0.5)*c90 - 0.5*c91
-	acc[79] += 0.5 * c90
-	acc[80] += 0.5 * c91
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
+	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
+	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
+	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c72
+	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c63
+	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c64
+	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c76
+	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c64
+	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
+	A[7] = 0.1666666666666667*j11 + coef11*c69
+	A[8] = 0.1666666666666667*c29 + coef11*c74
+	A[15] = 0.16666666666666666*(-j11-c29) + coef11*c69
+	A[16] = 0.16666666666666666*j11 + coef11*c59
+	A[17] = 0.16666666666666666*c29 + coef11*c60
+	A[24] = 0.16666666666666666*(-j11-c29) + coef11*c74
+	A[25] = 0.16666666666666666*j11 + coef11*c60
+	A[26] = 0.16666666666666666*c29 + coef11*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	A[3] = c26 * c91
+	A[4] = c26 * c94
+	A[5] = c26 * c97
+	A[12] = c26 * c98
+	A[13] = c26 * c87
+	A[14] = c26 * c88
+	A[21] = c26 * c99
+	A[22] = c26 * c89
+	A[23] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
+	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
+	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
+	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c112
+	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c106
+	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c107
+	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c114
+	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c107
+	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
+	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
+	A[34] = 0.1666666666666667*c30 + coef11*c126
+	A[35] = 0.1666666666666667*j00 + coef11*c129
+	A[42] = 0.16666666666666666*(-c30-j00) + coef11*c130
+	A[43] = 0.16666666666666666*c30 + coef11*c119
+	A[44] = 0.16666666666666666*j00 + coef11*c120
+	A[51] = 0.16666666666666666*(-c30-j00) + coef11*c131
+	A[52] = 0.16666666666666666*c30 + coef11*c121
+	A[53] = 0.16666666666666666*j00 + coef11*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	A[27] = c26 * c91
+	A[28] = c26 * c98
+	A[29] = c26 * c99
+	A[36] = c26 * c94
+	A[37] = c26 * c87
+	A[38] = c26 * c89
+	A[45] = c26 * c97
+	A[46] = c26 * c88
+	A[47] = c26 * c90
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
+	A[55] = 0.1666666666666667*j11 + coef11*c69
+	A[56] = 0.1666666666666667*c29 + coef11*c74
+	A[63] = 0.16666666666666666*(-j11-c29) + coef11*c69
+	A[64] = 0.16666666666666666*j11 + coef11*c59
+	A[65] = 0.16666666666666666*c29 + coef11*c60
+	A[72] = 0.16666666666666666*(-j11-c29) + coef11*c74
+	A[73] = 0.16666666666666666*j11 + coef11*c60
+	A[74] = 0.16666666666666666*c29 + coef11*c61
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
+	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
+	A[58] = 0.1666666666666667*c30 + coef11*c130
+	A[59] = 0.1666666666666667*j00 + coef11*c131
+	A[66] = 0.16666666666666666*(-c30-j00) + coef11*c126
+	A[67] = 0.16666666666666666*c30 + coef11*c119
+	A[68] = 0.16666666666666666*j00 + coef11*c121
+	A[75] = 0.16666666666666666*(-c30-j00) + coef11*c129
+	A[76] = 0.16666666666666666*c30 + coef11*c120
+	A[77] = 0.16666666666666666*j00 + coef11*c122
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
+	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	A[60] = coef11 * c141
+	A[61] = coef11 * c144
+	A[62] = coef11 * c146
+	A[69] = coef11 * c144
+	A[70] = coef11 * c138
+	A[71] = coef11 * c139
+	A[78] = coef11 * c146
+	A[79] = coef11 * c139
+	A[80] = coef11 * c140
 }
 
 // fwOseenFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

@@ -70,123 +70,103 @@ func (StokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:9:9]
 	x := in.Coords[:6:6]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := -j10
+	c4 := -j01
+	c5 := j01 * j01
+	c6 := j00 * j01
+	c7 := -c6
+	c8 := j00 * j00
+	c9 := j11 * j11
+	c10 := j11 * j10
+	c11 := j10 * j10
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c5 := j10 * rdetJ
-	c6 := detJ * k00
-	c7 := detJ * c5
-	c8 := -c7
-	c9 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c10 := c9 * c9
-	c11 := detJ * c10
-	c12 := c9 * k11
-	c13 := detJ * c12
-	c14 := -c13
-	c15 := k11 * k11
-	c16 := detJ * c15
-	c17 := k00 * k00
-	c18 := detJ * c17
-	c19 := k00 * c5
-	c20 := detJ * c19
-	c21 := c5 * c5
-	c22 := detJ * c21
-	c23 := c11 + c18
-	c24 := c14 - c20
-	c25 := c16 + c22
-	c26 := detJ * c9
-	c27 := -c26
-	c28 := detJ * k11
+	c12 := c5 + c9
+	c13 := rdetJ * c12
+	c14 := c7 - c10
+	c15 := rdetJ * c14
+	c16 := c8 + c11
+	c17 := rdetJ * c16
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	acc[6] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[7] += 0.1666666666666667 * c6
-	acc[8] += 0.1666666666666667 * c8
-	acc[15] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[16] += 0.16666666666666666 * c6
-	acc[17] += 0.16666666666666666 * c8
-	acc[24] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[25] += 0.16666666666666666 * c6
-	acc[26] += 0.16666666666666666 * c8
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//	(1) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	acc[0] += 0.5*c23 + c24 + 0.5*c25
-	acc[1] += (-0.5)*c23 - 0.5*c24
-	acc[2] += (-0.5)*c24 - 0.5*c25
-	acc[9] += (-0.5)*c23 - 0.5*c24
-	acc[10] += 0.5 * c23
-	acc[11] += 0.5 * c24
-	acc[18] += (-0.5)*c24 - 0.5*c25
-	acc[19] += 0.5 * c24
-	acc[20] += 0.5 * c25
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	acc[33] += (-0.1666666666666667)*c27 - 0.1666666666666667*c28
-	acc[34] += 0.1666666666666667 * c27
-	acc[35] += 0.1666666666666667 * c28
-	acc[42] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28
-	acc[43] += 0.16666666666666666 * c27
-	acc[44] += 0.16666666666666666 * c28
-	acc[51] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28
-	acc[52] += 0.16666666666666666 * c27
-	acc[53] += 0.16666666666666666 * c28
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//	(1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	acc[30] += 0.5*c23 + c24 + 0.5*c25
-	acc[31] += (-0.5)*c23 - 0.5*c24
-	acc[32] += (-0.5)*c24 - 0.5*c25
-	acc[39] += (-0.5)*c23 - 0.5*c24
-	acc[40] += 0.5 * c23
-	acc[41] += 0.5 * c24
-	acc[48] += (-0.5)*c24 - 0.5*c25
-	acc[49] += 0.5 * c24
-	acc[50] += 0.5 * c25
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	acc[54] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[55] += 0.1666666666666667 * c6
-	acc[56] += 0.1666666666666667 * c8
-	acc[63] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[64] += 0.16666666666666666 * c6
-	acc[65] += 0.16666666666666666 * c8
-	acc[72] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[73] += 0.16666666666666666 * c6
-	acc[74] += 0.16666666666666666 * c8
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	acc[57] += (-0.1666666666666667)*c27 - 0.1666666666666667*c28
-	acc[58] += 0.1666666666666667 * c27
-	acc[59] += 0.1666666666666667 * c28
-	acc[66] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28
-	acc[67] += 0.16666666666666666 * c27
-	acc[68] += 0.16666666666666666 * c28
-	acc[75] += (-0.16666666666666666)*c27 - 0.16666666666666666*c28
-	acc[76] += 0.16666666666666666 * c27
-	acc[77] += 0.16666666666666666 * c28
-	copy(A, acc[:])
+	clear(A)
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
+	A[6] = 0.1666666666666667 * (-j11 - c3)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c3
+	A[15] = 0.16666666666666666 * (-j11 - c3)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c3
+	A[24] = 0.16666666666666666 * (-j11 - c3)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c3
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
+	//   - (1) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	A[0] = 0.5*(c13+c17) + c15
+	A[1] = 0.5 * (-c13 - c15)
+	A[2] = 0.5 * (-c15 - c17)
+	A[9] = 0.5 * (-c13 - c15)
+	A[10] = 0.5 * c13
+	A[11] = 0.5 * c15
+	A[18] = 0.5 * (-c15 - c17)
+	A[19] = 0.5 * c15
+	A[20] = 0.5 * c17
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
+	A[33] = 0.1666666666666667 * (-c4 - j00)
+	A[34] = 0.1666666666666667 * c4
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c4 - j00)
+	A[43] = 0.16666666666666666 * c4
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c4 - j00)
+	A[52] = 0.16666666666666666 * c4
+	A[53] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (1) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
+	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	A[30] = 0.5*(c13+c17) + c15
+	A[31] = 0.5 * (-c13 - c15)
+	A[32] = 0.5 * (-c15 - c17)
+	A[39] = 0.5 * (-c13 - c15)
+	A[40] = 0.5 * c13
+	A[41] = 0.5 * c15
+	A[48] = 0.5 * (-c15 - c17)
+	A[49] = 0.5 * c15
+	A[50] = 0.5 * c17
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
+	A[54] = 0.1666666666666667 * (-j11 - c3)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c3
+	A[63] = 0.16666666666666666 * (-j11 - c3)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c3
+	A[72] = 0.16666666666666666 * (-j11 - c3)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c3
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
+	A[57] = 0.1666666666666667 * (-c4 - j00)
+	A[58] = 0.1666666666666667 * c4
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c4 - j00)
+	A[67] = 0.16666666666666666 * c4
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c4 - j00)
+	A[76] = 0.16666666666666666 * c4
+	A[77] = 0.16666666666666666 * j00
 }
 
 // fwStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
@@ -230,204 +210,187 @@ func (StokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef12 := c18 * 0.25
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := j00 * j01
+	c24 := j00 * j00
+	c25 := j11 * j11
+	c26 := 2.0 * c25
+	c27 := j11 * j10
+	c28 := c27 * (-2.0)
+	c29 := j10 * j10
+	c30 := 2.0 * c29
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c26 := c25 * c25
-	c27 := detJ * c26
-	c28 := c25 * k11
-	c29 := detJ * c28
-	c30 := -c29
-	c31 := k11 * k11
-	c32 := detJ * c31
-	c33 := 2.0 * detJ
-	c34 := k00 * k00
-	c35 := c33 * c34
-	c36 := k00 * c21
-	c37 := c33 * c36
-	c38 := c21 * c21
-	c39 := c33 * c38
-	c40 := c27 + c35
-	c41 := c30 - c37
-	c42 := c32 + c39
-	c43 := k00 * c25
-	c44 := detJ * c43
-	c45 := -c44
-	c46 := k00 * k11
-	c47 := detJ * c46
-	c48 := c21 * c25
-	c49 := detJ * c48
-	c50 := c21 * k11
-	c51 := detJ * c50
-	c52 := -c51
-	c53 := detJ * c25
-	c54 := -c53
-	c55 := detJ * k11
-	c56 := c26 * c33
-	c57 := c28 * c33
-	c58 := -c57
-	c59 := c31 * c33
-	c60 := detJ * c34
-	c61 := detJ * c36
-	c62 := detJ * c38
-	c63 := c56 + c60
-	c64 := c58 - c61
-	c65 := c59 + c62
-	c66 := coef12 * detJ
-	c67 := c26 * c66
-	c68 := c28 * c66
-	c69 := -c68
-	c70 := c31 * c66
-	c71 := c34 * c66
-	c72 := c36 * c66
-	c73 := c38 * c66
-	c74 := c67 + c71
-	c75 := c69 - c72
-	c76 := c70 + c73
+	c31 := c22 + c26
+	c32 := rdetJ * c31
+	c33 := c28 - c23
+	c34 := rdetJ * c33
+	c35 := c24 + c30
+	c36 := rdetJ * c35
+	c37 := j11 * j01
+	c38 := j00 * j10
+	c39 := rdetJ * c37
+	c40 := -c39
+	c41 := c18 * rdetJ
+	c42 := c19 * rdetJ
+	c43 := rdetJ * c38
+	c44 := -c43
+	c45 := 2.0 * c22
+	c46 := c23 * (-2.0)
+	c47 := 2.0 * c24
+	c48 := c25 + c45
+	c49 := rdetJ * c48
+	c50 := c46 - c27
+	c51 := rdetJ * c50
+	c52 := c29 + c47
+	c53 := rdetJ * c52
+	c54 := 0.25 * c22
+	c55 := (-0.25) * c23
+	c56 := 0.25 * c24
+	c57 := 0.25 * c25
+	c58 := (-0.25) * c27
+	c59 := 0.25 * c29
+	c60 := c54 + c57
+	c61 := rdetJ * c60
+	c62 := c55 + c58
+	c63 := rdetJ * c62
+	c64 := c56 + c59
+	c65 := rdetJ * c64
+	c66 := c61 * 0.5
+	c67 := c63 * 0.5
+	c68 := c65 * 0.5
+	c69 := c66 + c67 + c67 + c68
+	c70 := c61 * (-0.5)
+	c71 := c63 * (-0.5)
+	c72 := c70 + c71
+	c73 := c65 * (-0.5)
+	c74 := c71 + c73
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//	(2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	acc[0] += 0.5*c40 + c41 + 0.5*c42
-	acc[1] += (-0.5)*c40 - 0.5*c41
-	acc[2] += (-0.5)*c41 - 0.5*c42
-	acc[9] += (-0.5)*c40 - 0.5*c41
-	acc[10] += 0.5 * c40
-	acc[11] += 0.5 * c41
-	acc[18] += (-0.5)*c41 - 0.5*c42
-	acc[19] += 0.5 * c41
-	acc[20] += 0.5 * c42
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
-	acc[3] += 0.5*c45 + 0.5*c47 + 0.5*c49 + 0.5*c52
-	acc[4] += (-0.5)*c45 - 0.5*c49
-	acc[5] += (-0.5)*c47 - 0.5*c52
-	acc[12] += (-0.5)*c45 - 0.5*c47
-	acc[13] += 0.5 * c45
-	acc[14] += 0.5 * c47
-	acc[21] += (-0.5)*c49 - 0.5*c52
-	acc[22] += 0.5 * c49
-	acc[23] += 0.5 * c52
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	acc[33] += (-0.1666666666666667)*c54 - 0.1666666666666667*c55
-	acc[34] += 0.1666666666666667 * c54
-	acc[35] += 0.1666666666666667 * c55
-	acc[42] += (-0.16666666666666666)*c54 - 0.16666666666666666*c55
-	acc[43] += 0.16666666666666666 * c54
-	acc[44] += 0.16666666666666666 * c55
-	acc[51] += (-0.16666666666666666)*c54 - 0.16666666666666666*c55
-	acc[52] += 0.16666666666666666 * c54
-	acc[53] += 0.16666666666666666 * c55
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
-	acc[27] += 0.5*c45 + 0.5*c49 + 0.5*c47 + 0.5*c52
-	acc[28] += (-0.5)*c45 - 0.5*c47
-	acc[29] += (-0.5)*c49 - 0.5*c52
-	acc[36] += (-0.5)*c45 - 0.5*c49
-	acc[37] += 0.5 * c45
-	acc[38] += 0.5 * c49
-	acc[45] += (-0.5)*c47 - 0.5*c52
-	acc[46] += 0.5 * c47
-	acc[47] += 0.5 * c52
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//	(1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	acc[30] += 0.5*c63 + c64 + 0.5*c65
-	acc[31] += (-0.5)*c63 - 0.5*c64
-	acc[32] += (-0.5)*c64 - 0.5*c65
-	acc[39] += (-0.5)*c63 - 0.5*c64
-	acc[40] += 0.5 * c63
-	acc[41] += 0.5 * c64
-	acc[48] += (-0.5)*c64 - 0.5*c65
-	acc[49] += 0.5 * c64
-	acc[50] += 0.5 * c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	acc[57] += (-0.1666666666666667)*c54 - 0.1666666666666667*c55
-	acc[58] += 0.1666666666666667 * c54
-	acc[59] += 0.1666666666666667 * c55
-	acc[66] += (-0.16666666666666666)*c54 - 0.16666666666666666*c55
-	acc[67] += 0.16666666666666666 * c54
-	acc[68] += 0.16666666666666666 * c55
-	acc[75] += (-0.16666666666666666)*c54 - 0.16666666666666666*c55
-	acc[76] += 0.16666666666666666 * c54
-	acc[77] += 0.16666666666666666 * c55
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[60] += 0.5*c74 + c75 + 0.5*c76
-	acc[61] += (-0.5)*c74 - 0.5*c75
-	acc[62] += (-0.5)*c75 - 0.5*c76
-	acc[69] += (-0.5)*c74 - 0.5*c75
-	acc[70] += 0.5 * c74
-	acc[71] += 0.5 * c75
-	acc[78] += (-0.5)*c75 - 0.5*c76
-	acc[79] += 0.5 * c75
-	acc[80] += 0.5 * c76
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
+	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	A[0] = 0.5*(c32+c36) + c34
+	A[1] = 0.5 * (-c32 - c34)
+	A[2] = 0.5 * (-c34 - c36)
+	A[9] = 0.5 * (-c32 - c34)
+	A[10] = 0.5 * c32
+	A[11] = 0.5 * c34
+	A[18] = 0.5 * (-c34 - c36)
+	A[19] = 0.5 * c34
+	A[20] = 0.5 * c36
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	A[3] = 0.5 * (c40 + c41 + c42 + c44)
+	A[4] = 0.5 * (-c40 - c42)
+	A[5] = 0.5 * (-c41 - c44)
+	A[12] = 0.5 * (-c40 - c41)
+	A[13] = 0.5 * c40
+	A[14] = 0.5 * c41
+	A[21] = 0.5 * (-c42 - c44)
+	A[22] = 0.5 * c42
+	A[23] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	A[27] = 0.5 * (c40 + c42 + c41 + c44)
+	A[28] = 0.5 * (-c40 - c41)
+	A[29] = 0.5 * (-c42 - c44)
+	A[36] = 0.5 * (-c40 - c42)
+	A[37] = 0.5 * c40
+	A[38] = 0.5 * c42
+	A[45] = 0.5 * (-c41 - c44)
+	A[46] = 0.5 * c41
+	A[47] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
+	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	A[30] = 0.5*(c49+c53) + c51
+	A[31] = 0.5 * (-c49 - c51)
+	A[32] = 0.5 * (-c51 - c53)
+	A[39] = 0.5 * (-c49 - c51)
+	A[40] = 0.5 * c49
+	A[41] = 0.5 * c51
+	A[48] = 0.5 * (-c51 - c53)
+	A[49] = 0.5 * c51
+	A[50] = 0.5 * c53
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	A[60] = c17 * c69
+	A[61] = c17 * c72
+	A[62] = c17 * c74
+	A[69] = c17 * c72
+	A[70] = c17 * c66
+	A[71] = c17 * c67
+	A[78] = c17 * c74
+	A[79] = c17 * c67
+	A[80] = c17 * c68
 }
 
 // fwStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -471,216 +434,199 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef2 := 0.25 * c18
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := j00 * j01
+	c24 := j00 * j00
+	c25 := j11 * j11
+	c26 := j11 * j10
+	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := j01 * rdetJ
-	c26 := c25 * c25
-	k11 := j00 * rdetJ
-	c27 := c25 * k11
-	c28 := k11 * k11
-	c29 := k00 * k00
-	c30 := k00 * c21
-	c31 := c21 * c21
-	c32 := detJ * c26
-	c33 := detJ * c27
-	c34 := -c33
-	c35 := detJ * c28
-	c36 := coef2 * detJ
-	c37 := 2.0 * detJ
-	c38 := c29 * c37
-	c39 := c30 * c37
-	c40 := c31 * c37
-	c41 := c32 + c38
-	c42 := c34 - c39
-	c43 := c35 + c40
-	c44 := k00 * c25
-	c45 := detJ * c44
-	c46 := -c45
-	c47 := k00 * k11
-	c48 := detJ * c47
-	c49 := c21 * c25
-	c50 := detJ * c49
-	c51 := c21 * k11
-	c52 := detJ * c51
-	c53 := -c52
-	c54 := detJ * c25
-	c55 := -c54
-	c56 := detJ * k11
-	c57 := c26 * c37
-	c58 := c27 * c37
-	c59 := -c58
-	c60 := c28 * c37
-	c61 := detJ * c29
-	c62 := detJ * c30
-	c63 := detJ * c31
-	c64 := c57 + c61
-	c65 := c59 - c62
-	c66 := c60 + c63
-	c67 := c26 * c36
-	c68 := c27 * c36
-	c69 := -c68
-	c70 := c28 * c36
-	c71 := c29 * c36
-	c72 := c30 * c36
-	c73 := c31 * c36
-	c74 := c67 + c71
-	c75 := c69 - c72
-	c76 := c70 + c73
+	c28 := 2.0 * c25
+	c29 := c26 * (-2.0)
+	c30 := 2.0 * c27
+	c31 := c22 + c28
+	c32 := rdetJ * c31
+	c33 := c29 - c23
+	c34 := rdetJ * c33
+	c35 := c24 + c30
+	c36 := rdetJ * c35
+	c37 := j11 * j01
+	c38 := j00 * j10
+	c39 := rdetJ * c37
+	c40 := -c39
+	c41 := c18 * rdetJ
+	c42 := c19 * rdetJ
+	c43 := rdetJ * c38
+	c44 := -c43
+	c45 := 2.0 * c22
+	c46 := c23 * (-2.0)
+	c47 := 2.0 * c24
+	c48 := c25 + c45
+	c49 := rdetJ * c48
+	c50 := c46 - c26
+	c51 := rdetJ * c50
+	c52 := c27 + c47
+	c53 := rdetJ * c52
+	c54 := 0.25 * c22
+	c55 := (-0.25) * c23
+	c56 := 0.25 * c24
+	c57 := 0.25 * c25
+	c58 := (-0.25) * c26
+	c59 := 0.25 * c27
+	c60 := c54 + c57
+	c61 := rdetJ * c60
+	c62 := c55 + c58
+	c63 := rdetJ * c62
+	c64 := c56 + c59
+	c65 := rdetJ * c64
+	c66 := c61 * 0.5
+	c67 := c63 * 0.5
+	c68 := c65 * 0.5
+	c69 := c66 + c67 + c67 + c68
+	c70 := c61 * (-0.5)
+	c71 := c63 * (-0.5)
+	c72 := c70 + c71
+	c73 := c65 * (-0.5)
+	c74 := c71 + c73
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	acc[0] += 0.5*c41 + c42 + 0.5*c43
-	acc[1] += (-0.5)*c41 - 0.5*c42
-	acc[2] += (-0.5)*c42 - 0.5*c43
-	acc[9] += (-0.5)*c41 - 0.5*c42
-	acc[10] += 0.5 * c41
-	acc[11] += 0.5 * c42
-	acc[18] += (-0.5)*c42 - 0.5*c43
-	acc[19] += 0.5 * c42
-	acc[20] += 0.5 * c43
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
-	acc[3] += 0.5*c46 + 0.5*c48 + 0.5*c50 + 0.5*c53
-	acc[4] += (-0.5)*c46 - 0.5*c50
-	acc[5] += (-0.5)*c48 - 0.5*c53
-	acc[12] += (-0.5)*c46 - 0.5*c48
-	acc[13] += 0.5 * c46
-	acc[14] += 0.5 * c48
-	acc[21] += (-0.5)*c50 - 0.5*c53
-	acc[22] += 0.5 * c50
-	acc[23] += 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	acc[33] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[34] += 0.1666666666666667 * c55
-	acc[35] += 0.1666666666666667 * c56
-	acc[42] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[43] += 0.16666666666666666 * c55
-	acc[44] += 0.16666666666666666 * c56
-	acc[51] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[52] += 0.16666666666666666 * c55
-	acc[53] += 0.16666666666666666 * c56
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
-	acc[27] += 0.5*c46 + 0.5*c50 + 0.5*c48 + 0.5*c53
-	acc[28] += (-0.5)*c46 - 0.5*c48
-	acc[29] += (-0.5)*c50 - 0.5*c53
-	acc[36] += (-0.5)*c46 - 0.5*c50
-	acc[37] += 0.5 * c46
-	acc[38] += 0.5 * c50
-	acc[45] += (-0.5)*c48 - 0.5*c53
-	acc[46] += 0.5 * c48
-	acc[47] += 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	acc[30] += 0.5*c64 + c65 + 0.5*c66
-	acc[31] += (-0.5)*c64 - 0.5*c65
-	acc[32] += (-0.5)*c65 - 0.5*c66
-	acc[39] += (-0.5)*c64 - 0.5*c65
-	acc[40] += 0.5 * c64
-	acc[41] += 0.5 * c65
-	acc[48] += (-0.5)*c65 - 0.5*c66
-	acc[49] += 0.5 * c65
-	acc[50] += 0.5 * c66
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	acc[57] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[58] += 0.1666666666666667 * c55
-	acc[59] += 0.1666666666666667 * c56
-	acc[66] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[67] += 0.16666666666666666 * c55
-	acc[68] += 0.16666666666666666 * c56
-	acc[75] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[76] += 0.16666666666666666 * c55
-	acc[77] += 0.16666666666666666 * c56
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[60] += 0.5*c74 + c75 + 0.5*c76
-	acc[61] += (-0.5)*c74 - 0.5*c75
-	acc[62] += (-0.5)*c75 - 0.5*c76
-	acc[69] += (-0.5)*c74 - 0.5*c75
-	acc[70] += 0.5 * c74
-	acc[71] += 0.5 * c75
-	acc[78] += (-0.5)*c75 - 0.5*c76
-	acc[79] += 0.5 * c75
-	acc[80] += 0.5 * c76
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	A[0] = 0.5*(c32+c36) + c34
+	A[1] = 0.5 * (-c32 - c34)
+	A[2] = 0.5 * (-c34 - c36)
+	A[9] = 0.5 * (-c32 - c34)
+	A[10] = 0.5 * c32
+	A[11] = 0.5 * c34
+	A[18] = 0.5 * (-c34 - c36)
+	A[19] = 0.5 * c34
+	A[20] = 0.5 * c36
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	A[3] = 0.5 * (c40 + c41 + c42 + c44)
+	A[4] = 0.5 * (-c40 - c42)
+	A[5] = 0.5 * (-c41 - c44)
+	A[12] = 0.5 * (-c40 - c41)
+	A[13] = 0.5 * c40
+	A[14] = 0.5 * c41
+	A[21] = 0.5 * (-c42 - c44)
+	A[22] = 0.5 * c42
+	A[23] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	A[27] = 0.5 * (c40 + c42 + c41 + c44)
+	A[28] = 0.5 * (-c40 - c41)
+	A[29] = 0.5 * (-c42 - c44)
+	A[36] = 0.5 * (-c40 - c42)
+	A[37] = 0.5 * c40
+	A[38] = 0.5 * c42
+	A[45] = 0.5 * (-c41 - c44)
+	A[46] = 0.5 * c41
+	A[47] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	A[30] = 0.5*(c49+c53) + c51
+	A[31] = 0.5 * (-c49 - c51)
+	A[32] = 0.5 * (-c51 - c53)
+	A[39] = 0.5 * (-c49 - c51)
+	A[40] = 0.5 * c49
+	A[41] = 0.5 * c51
+	A[48] = 0.5 * (-c51 - c53)
+	A[49] = 0.5 * c51
+	A[50] = 0.5 * c53
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	A[60] = c17 * c69
+	A[61] = c17 * c72
+	A[62] = c17 * c74
+	A[69] = c17 * c72
+	A[70] = c17 * c66
+	A[71] = c17 * c67
+	A[78] = c17 * c74
+	A[79] = c17 * c67
+	A[80] = c17 * c68
 }
 
 // fwStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -724,216 +670,199 @@ func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef4 := c18 * 0.25
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := j00 * j01
+	c24 := j00 * j00
+	c25 := j11 * j11
+	c26 := j11 * j10
+	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := coef4 * detJ
-	c26 := j01 * rdetJ
-	c27 := c26 * c26
-	k11 := j00 * rdetJ
-	c28 := c26 * k11
-	c29 := k11 * k11
-	c30 := k00 * k00
-	c31 := k00 * c21
-	c32 := c21 * c21
-	c33 := detJ * c27
-	c34 := detJ * c28
-	c35 := -c34
-	c36 := detJ * c29
-	c37 := 2.0 * detJ
-	c38 := c30 * c37
-	c39 := c31 * c37
-	c40 := c32 * c37
-	c41 := c33 + c38
-	c42 := c35 - c39
-	c43 := c36 + c40
-	c44 := k00 * c26
-	c45 := detJ * c44
-	c46 := -c45
-	c47 := k00 * k11
-	c48 := detJ * c47
-	c49 := c21 * c26
-	c50 := detJ * c49
-	c51 := c21 * k11
-	c52 := detJ * c51
-	c53 := -c52
-	c54 := detJ * c26
-	c55 := -c54
-	c56 := detJ * k11
-	c57 := c27 * c37
-	c58 := c28 * c37
-	c59 := -c58
-	c60 := c29 * c37
-	c61 := detJ * c30
-	c62 := detJ * c31
-	c63 := detJ * c32
-	c64 := c57 + c61
-	c65 := c59 - c62
-	c66 := c60 + c63
-	c67 := c25 * c27
-	c68 := c25 * c28
-	c69 := -c68
-	c70 := c25 * c29
-	c71 := c25 * c30
-	c72 := c25 * c31
-	c73 := c25 * c32
-	c74 := c67 + c71
-	c75 := c69 - c72
-	c76 := c70 + c73
+	c28 := 2.0 * c25
+	c29 := c26 * (-2.0)
+	c30 := 2.0 * c27
+	c31 := c22 + c28
+	c32 := rdetJ * c31
+	c33 := c29 - c23
+	c34 := rdetJ * c33
+	c35 := c24 + c30
+	c36 := rdetJ * c35
+	c37 := j11 * j01
+	c38 := j00 * j10
+	c39 := rdetJ * c37
+	c40 := -c39
+	c41 := c18 * rdetJ
+	c42 := c19 * rdetJ
+	c43 := rdetJ * c38
+	c44 := -c43
+	c45 := 2.0 * c22
+	c46 := c23 * (-2.0)
+	c47 := 2.0 * c24
+	c48 := c25 + c45
+	c49 := rdetJ * c48
+	c50 := c46 - c26
+	c51 := rdetJ * c50
+	c52 := c27 + c47
+	c53 := rdetJ * c52
+	c54 := 0.25 * c22
+	c55 := (-0.25) * c23
+	c56 := 0.25 * c24
+	c57 := 0.25 * c25
+	c58 := (-0.25) * c26
+	c59 := 0.25 * c27
+	c60 := c54 + c57
+	c61 := rdetJ * c60
+	c62 := c55 + c58
+	c63 := rdetJ * c62
+	c64 := c56 + c59
+	c65 := rdetJ * c64
+	c66 := c61 * 0.5
+	c67 := c63 * 0.5
+	c68 := c65 * 0.5
+	c69 := c66 + c67 + c67 + c68
+	c70 := c61 * (-0.5)
+	c71 := c63 * (-0.5)
+	c72 := c70 + c71
+	c73 := c65 * (-0.5)
+	c74 := c71 + c73
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//	(2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	acc[0] += 0.5*c41 + c42 + 0.5*c43
-	acc[1] += (-0.5)*c41 - 0.5*c42
-	acc[2] += (-0.5)*c42 - 0.5*c43
-	acc[9] += (-0.5)*c41 - 0.5*c42
-	acc[10] += 0.5 * c41
-	acc[11] += 0.5 * c42
-	acc[18] += (-0.5)*c42 - 0.5*c43
-	acc[19] += 0.5 * c42
-	acc[20] += 0.5 * c43
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
-	acc[3] += 0.5*c46 + 0.5*c48 + 0.5*c50 + 0.5*c53
-	acc[4] += (-0.5)*c46 - 0.5*c50
-	acc[5] += (-0.5)*c48 - 0.5*c53
-	acc[12] += (-0.5)*c46 - 0.5*c48
-	acc[13] += 0.5 * c46
-	acc[14] += 0.5 * c48
-	acc[21] += (-0.5)*c50 - 0.5*c53
-	acc[22] += 0.5 * c50
-	acc[23] += 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	acc[33] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[34] += 0.1666666666666667 * c55
-	acc[35] += 0.1666666666666667 * c56
-	acc[42] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[43] += 0.16666666666666666 * c55
-	acc[44] += 0.16666666666666666 * c56
-	acc[51] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[52] += 0.16666666666666666 * c55
-	acc[53] += 0.16666666666666666 * c56
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
-	acc[27] += 0.5*c46 + 0.5*c50 + 0.5*c48 + 0.5*c53
-	acc[28] += (-0.5)*c46 - 0.5*c48
-	acc[29] += (-0.5)*c50 - 0.5*c53
-	acc[36] += (-0.5)*c46 - 0.5*c50
-	acc[37] += 0.5 * c46
-	acc[38] += 0.5 * c50
-	acc[45] += (-0.5)*c48 - 0.5*c53
-	acc[46] += 0.5 * c48
-	acc[47] += 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//	(1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	acc[30] += 0.5*c64 + c65 + 0.5*c66
-	acc[31] += (-0.5)*c64 - 0.5*c65
-	acc[32] += (-0.5)*c65 - 0.5*c66
-	acc[39] += (-0.5)*c64 - 0.5*c65
-	acc[40] += 0.5 * c64
-	acc[41] += 0.5 * c65
-	acc[48] += (-0.5)*c65 - 0.5*c66
-	acc[49] += 0.5 * c65
-	acc[50] += 0.5 * c66
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	acc[57] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[58] += 0.1666666666666667 * c55
-	acc[59] += 0.1666666666666667 * c56
-	acc[66] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[67] += 0.16666666666666666 * c55
-	acc[68] += 0.16666666666666666 * c56
-	acc[75] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[76] += 0.16666666666666666 * c55
-	acc[77] += 0.16666666666666666 * c56
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
-	acc[60] += 0.5*c74 + c75 + 0.5*c76
-	acc[61] += (-0.5)*c74 - 0.5*c75
-	acc[62] += (-0.5)*c75 - 0.5*c76
-	acc[69] += (-0.5)*c74 - 0.5*c75
-	acc[70] += 0.5 * c74
-	acc[71] += 0.5 * c75
-	acc[78] += (-0.5)*c75 - 0.5*c76
-	acc[79] += 0.5 * c75
-	acc[80] += 0.5 * c76
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
+	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	A[0] = 0.5*(c32+c36) + c34
+	A[1] = 0.5 * (-c32 - c34)
+	A[2] = 0.5 * (-c34 - c36)
+	A[9] = 0.5 * (-c32 - c34)
+	A[10] = 0.5 * c32
+	A[11] = 0.5 * c34
+	A[18] = 0.5 * (-c34 - c36)
+	A[19] = 0.5 * c34
+	A[20] = 0.5 * c36
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
+	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	A[3] = 0.5 * (c40 + c41 + c42 + c44)
+	A[4] = 0.5 * (-c40 - c42)
+	A[5] = 0.5 * (-c41 - c44)
+	A[12] = 0.5 * (-c40 - c41)
+	A[13] = 0.5 * c40
+	A[14] = 0.5 * c41
+	A[21] = 0.5 * (-c42 - c44)
+	A[22] = 0.5 * c42
+	A[23] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
+	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
+	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	A[27] = 0.5 * (c40 + c42 + c41 + c44)
+	A[28] = 0.5 * (-c40 - c41)
+	A[29] = 0.5 * (-c42 - c44)
+	A[36] = 0.5 * (-c40 - c42)
+	A[37] = 0.5 * c40
+	A[38] = 0.5 * c42
+	A[45] = 0.5 * (-c41 - c44)
+	A[46] = 0.5 * c41
+	A[47] = 0.5 * c44
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
+	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	A[30] = 0.5*(c49+c53) + c51
+	A[31] = 0.5 * (-c49 - c51)
+	A[32] = 0.5 * (-c51 - c53)
+	A[39] = 0.5 * (-c49 - c51)
+	A[40] = 0.5 * c49
+	A[41] = 0.5 * c51
+	A[48] = 0.5 * (-c51 - c53)
+	A[49] = 0.5 * c51
+	A[50] = 0.5 * c53
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	A[60] = c17 * c69
+	A[61] = c17 * c72
+	A[62] = c17 * c74
+	A[69] = c17 * c72
+	A[70] = c17 * c66
+	A[71] = c17 * c67
+	A[78] = c17 * c74
+	A[79] = c17 * c67
+	A[80] = c17 * c68
 }
 
 // fwStokesFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

@@ -69,68 +69,57 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:3:3]
 	x := in.Coords[:6:6]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
-	c5 := 0.49999999999999994 * detJ
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := j01 * (-0.49999999999999994)
+	c4 := 0.49999999999999994 * j00
+	c5 := 0.8660254037844387 * j11
+	c6 := j10 * (-0.8660254037844387)
+	c7 := j01 * j01
+	c8 := 1e-06 * c7
+	c9 := j00 * j01
+	c10 := c9 * (-1e-06)
+	c11 := j00 * j00
+	c12 := 1e-06 * c11
+	c13 := j11 * j11
+	c14 := 1e-06 * c13
+	c15 := j11 * j10
+	c16 := (-1e-06) * c15
+	c17 := j10 * j10
+	c18 := 1e-06 * c17
+	c19 := c3 + c5
+	c20 := c4 + c6
 	rdetJ := 1.0 / detJ
-	c6 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c7 := c5 * c6
-	c8 := -c7
-	c9 := c5 * k11
-	c10 := 0.8660254037844387 * detJ
-	k00 := j11 * rdetJ
-	c11 := j10 * rdetJ
-	c12 := c10 * k00
-	c13 := c10 * c11
-	c14 := 1e-06 * detJ
-	c15 := c6 * c6
-	c16 := c14 * c15
-	c17 := c6 * k11
-	c18 := c14 * c17
-	c19 := -c18
-	c20 := k11 * k11
-	c21 := c14 * c20
-	c22 := k00 * k00
-	c23 := c14 * c22
-	c24 := k00 * c11
-	c25 := c14 * c24
-	c26 := c11 * c11
-	c27 := c14 * c26
-	c28 := c8 + c12
-	c29 := c9 - c13
-	c30 := c16 + c23
-	c31 := c19 - c25
-	c32 := c21 + c27
+	c21 := c8 + c14
+	c22 := rdetJ * c21
+	c23 := c10 + c16
+	c24 := rdetJ * c23
+	c25 := c12 + c18
+	c26 := rdetJ * c25
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//	(cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//	(1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//	(1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	acc[0] += (-0.1666666666666667)*c28 - 0.1666666666666667*c29 + 0.5*c30 + c31 + 0.5*c32
-	acc[1] += 0.1666666666666667*c28 - 0.5*c30 - 0.5*c31
-	acc[2] += 0.1666666666666667*c29 - 0.5*c31 - 0.5*c32
-	acc[3] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29 - 0.5*c30 - 0.5*c31
-	acc[4] += 0.16666666666666666*c28 + 0.5*c30
-	acc[5] += 0.16666666666666666*c29 + 0.5*c31
-	acc[6] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29 - 0.5*c31 - 0.5*c32
-	acc[7] += 0.16666666666666666*c28 + 0.5*c31
-	acc[8] += 0.16666666666666666*c29 + 0.5*c32
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	A[0] = 0.1666666666666667*(-c19-c20) + 0.5*(c22+c26) + c24
+	A[1] = 0.1666666666666667*c19 + 0.5*(-c22-c24)
+	A[2] = 0.1666666666666667*c20 + 0.5*(-c24-c26)
+	A[3] = 0.16666666666666666*(-c19-c20) + 0.5*(-c22-c24)
+	A[4] = 0.16666666666666666*c19 + 0.5*c22
+	A[5] = 0.16666666666666666*c20 + 0.5*c24
+	A[6] = 0.16666666666666666*(-c19-c20) + 0.5*(-c24-c26)
+	A[7] = 0.16666666666666666*c19 + 0.5*c24
+	A[8] = 0.16666666666666666*c20 + 0.5*c26
 }
 
 // fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
@@ -173,97 +162,101 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
-	c19 := math.Min(c18, 1.0)
-	c20 := diameter * c19 * 0.12499999999999997
-	coef2 := c20 + 1e-06
-	coef4 := diameter * c19 * 0.21650635094610965
-	c21 := diameter * c19 * 0.37500000000000006
-	coef8 := 1e-06 + c21
+	c19 := min(c18, 1.0)
+	c20 := diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
-	c24 := 0.49999999999999994 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.49999999999999994)
+	c24 := 0.49999999999999994 * j00
+	c25 := 0.8660254037844387 * j11
+	c26 := j10 * (-0.8660254037844387)
+	c27 := j01 * j01
+	c28 := 0.12499999999999997 * c27
+	c29 := 1e-06 * c27
+	c30 := j00 * j01
+	c31 := c30 * (-0.12499999999999997)
+	c32 := c30 * (-1e-06)
+	c33 := j00 * j00
+	c34 := 0.12499999999999997 * c33
+	c35 := 1e-06 * c33
+	c36 := j11 * j01
+	c37 := c36 * (-0.21650635094610965)
+	c38 := 0.21650635094610965 * c22
+	c39 := 0.21650635094610965 * c21
+	c40 := j00 * j10
+	c41 := (-0.21650635094610965) * c40
+	c42 := j11 * j11
+	c43 := j11 * j10
+	c44 := j10 * j10
+	c45 := 1e-06 * c42
+	c46 := 0.37500000000000006 * c42
+	c47 := (-1e-06) * c43
+	c48 := c43 * (-0.37500000000000006)
+	c49 := 1e-06 * c44
+	c50 := 0.37500000000000006 * c44
+	c51 := c23 + c25
+	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c25 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c26 := c24 * c25
-	c27 := -c26
-	c28 := c24 * k11
-	c29 := 0.8660254037844387 * detJ
-	k00 := j11 * rdetJ
-	c30 := j10 * rdetJ
-	c31 := c29 * k00
-	c32 := c29 * c30
-	c33 := coef2 * detJ
-	c34 := c25 * c25
-	c35 := c33 * c34
-	c36 := c25 * k11
-	c37 := c33 * c36
-	c38 := -c37
-	c39 := k11 * k11
-	c40 := c33 * c39
-	c41 := coef4 * detJ
-	c42 := c25 * k00
-	c43 := c41 * c42
-	c44 := c25 * c30
-	c45 := c41 * c44
-	c46 := k11 * k00
-	c47 := c41 * c46
-	c48 := k11 * c30
-	c49 := c41 * c48
-	c50 := k00 * k00
-	c51 := k00 * c30
-	c52 := c30 * c30
-	c53 := coef8 * detJ
-	c54 := c50 * c53
-	c55 := c51 * c53
-	c56 := c52 * c53
-	c57 := c27 + c31
-	c58 := c28 - c32
-	c59 := c35 - c43 - c43 + c54
-	c60 := c38 + c45 + c47 - c55
-	c61 := c40 - c49 - c49 + c56
+	c53 := c29 + c45
+	c54 := rdetJ * c53
+	c55 := c28 + c37 + c37 + c46
+	c56 := rdetJ * c55
+	c57 := c32 + c47
+	c58 := rdetJ * c57
+	c59 := c31 + c38 + c39 + c48
+	c60 := rdetJ * c59
+	c61 := c35 + c49
+	c62 := rdetJ * c61
+	c63 := c34 + c41 + c41 + c50
+	c64 := rdetJ * c63
+	c65 := 0.5 * c56
+	c66 := 0.5 * c60
+	c67 := 0.5 * c64
+	c68 := c65 + c66 + c66 + c67
+	c69 := (-0.5) * c56
+	c70 := (-0.5) * c60
+	c71 := c69 + c70
+	c72 := (-0.5) * c64
+	c73 := c70 + c72
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//	(cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//	(cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//	(cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	acc[0] += (-0.1666666666666667)*c57 - 0.1666666666666667*c58 + 0.5*c59 + c60 + 0.5*c61
-	acc[1] += 0.1666666666666667*c57 - 0.5*c59 - 0.5*c60
-	acc[2] += 0.1666666666666667*c58 - 0.5*c60 - 0.5*c61
-	acc[3] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c59 - 0.5*c60
-	acc[4] += 0.16666666666666666*c57 + 0.5*c59
-	acc[5] += 0.16666666666666666*c58 + 0.5*c60
-	acc[6] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c60 - 0.5*c61
-	acc[7] += 0.16666666666666666*c57 + 0.5*c60
-	acc[8] += 0.16666666666666666*c58 + 0.5*c61
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
+	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
+	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
+	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
+	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
+	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
+	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
+	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
+	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
 // fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -306,105 +299,109 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
-	c19 := math.Min(c18, 1.0)
-	c20 := diameter * c19 * 0.12499999999999997
-	coef2 := c20 + 1e-06
-	coef4 := diameter * c19 * 0.21650635094610965
-	c21 := diameter * c19 * 0.37500000000000006
-	coef12 := 1e-06 + c21
+	c19 := min(c18, 1.0)
+	c20 := diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
-	c24 := 0.49999999999999994 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.49999999999999994)
+	c24 := 0.49999999999999994 * j00
+	c25 := 0.8660254037844387 * j11
+	c26 := j10 * (-0.8660254037844387)
+	c27 := j01 * j01
+	c28 := 0.12499999999999997 * c27
+	c29 := 1e-06 * c27
+	c30 := j00 * j01
+	c31 := c30 * (-0.12499999999999997)
+	c32 := c30 * (-1e-06)
+	c33 := j00 * j00
+	c34 := 0.12499999999999997 * c33
+	c35 := 1e-06 * c33
+	c36 := j11 * j01
+	c37 := c36 * (-0.21650635094610965)
+	c38 := 0.21650635094610965 * c22
+	c39 := 0.21650635094610965 * c21
+	c40 := j00 * j10
+	c41 := (-0.21650635094610965) * c40
+	c42 := j11 * j11
+	c43 := j11 * j10
+	c44 := j10 * j10
+	c45 := 1e-06 * c42
+	c46 := 0.37500000000000006 * c42
+	c47 := (-1e-06) * c43
+	c48 := c43 * (-0.37500000000000006)
+	c49 := 1e-06 * c44
+	c50 := 0.37500000000000006 * c44
+	c51 := c23 + c25
+	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c25 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c26 := c24 * c25
-	c27 := -c26
-	c28 := c24 * k11
-	c29 := 0.8660254037844387 * detJ
-	k00 := j11 * rdetJ
-	c30 := j10 * rdetJ
-	c31 := c29 * k00
-	c32 := c29 * c30
-	c33 := coef2 * detJ
-	c34 := c25 * c25
-	c35 := c33 * c34
-	c36 := c25 * k11
-	c37 := c33 * c36
-	c38 := -c37
-	c39 := k11 * k11
-	c40 := c33 * c39
-	c41 := coef4 * detJ
-	c42 := c25 * k00
-	c43 := c41 * c42
-	c44 := c25 * c30
-	c45 := c41 * c44
-	c46 := k11 * k00
-	c47 := c41 * c46
-	c48 := k11 * c30
-	c49 := c41 * c48
-	c50 := k00 * k00
-	c51 := k00 * c30
-	c52 := c30 * c30
-	c53 := coef12 * detJ
-	c54 := c50 * c53
-	c55 := c51 * c53
-	c56 := c52 * c53
-	c57 := c27 + c31
-	c58 := c28 - c32
-	c59 := c35 - c43 - c43 + c54
-	c60 := c38 + c45 + c47 - c55
-	c61 := c40 - c49 - c49 + c56
+	c53 := c29 + c45
+	c54 := rdetJ * c53
+	c55 := c28 + c37 + c37 + c46
+	c56 := rdetJ * c55
+	c57 := c32 + c47
+	c58 := rdetJ * c57
+	c59 := c31 + c38 + c39 + c48
+	c60 := rdetJ * c59
+	c61 := c35 + c49
+	c62 := rdetJ * c61
+	c63 := c34 + c41 + c41 + c50
+	c64 := rdetJ * c63
+	c65 := 0.5 * c56
+	c66 := 0.5 * c60
+	c67 := 0.5 * c64
+	c68 := c65 + c66 + c66 + c67
+	c69 := (-0.5) * c56
+	c70 := (-0.5) * c60
+	c71 := c69 + c70
+	c72 := (-0.5) * c64
+	c73 := c70 + c72
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//	(cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//	(cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//	(cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//	(cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//	(cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//	(cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//	(cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
-	acc[0] += (-0.1666666666666667)*c57 - 0.1666666666666667*c58 + 0.5*c59 + c60 + 0.5*c61
-	acc[1] += 0.1666666666666667*c57 - 0.5*c59 - 0.5*c60
-	acc[2] += 0.1666666666666667*c58 - 0.5*c60 - 0.5*c61
-	acc[3] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c59 - 0.5*c60
-	acc[4] += 0.16666666666666666*c57 + 0.5*c59
-	acc[5] += 0.16666666666666666*c58 + 0.5*c60
-	acc[6] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c60 - 0.5*c61
-	acc[7] += 0.16666666666666666*c57 + 0.5*c60
-	acc[8] += 0.16666666666666666*c58 + 0.5*c61
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
+	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
+	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
+	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
+	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
+	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
+	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
+	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
+	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
+	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
 // fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -447,105 +444,109 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
-	c19 := math.Min(c18, 1.0)
-	c20 := diameter * c19 * 0.12499999999999997
-	coef2 := c20 + 1e-06
-	coef4 := diameter * c19 * 0.21650635094610965
-	c21 := diameter * c19 * 0.37500000000000006
-	coef12 := 1e-06 + c21
+	c19 := min(c18, 1.0)
+	c20 := diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c22 := j00 * j11
+	c21 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c23 := j01 * j10
-	detJ := c22 - c23
-	c24 := 0.49999999999999994 * detJ
+	c22 := j01 * j10
+	detJ := c21 - c22
+	c23 := j01 * (-0.49999999999999994)
+	c24 := 0.49999999999999994 * j00
+	c25 := 0.8660254037844387 * j11
+	c26 := j10 * (-0.8660254037844387)
+	c27 := j01 * j01
+	c28 := 0.12499999999999997 * c27
+	c29 := 1e-06 * c27
+	c30 := j00 * j01
+	c31 := c30 * (-0.12499999999999997)
+	c32 := c30 * (-1e-06)
+	c33 := j00 * j00
+	c34 := 0.12499999999999997 * c33
+	c35 := 1e-06 * c33
+	c36 := j11 * j01
+	c37 := c36 * (-0.21650635094610965)
+	c38 := 0.21650635094610965 * c22
+	c39 := 0.21650635094610965 * c21
+	c40 := j00 * j10
+	c41 := (-0.21650635094610965) * c40
+	c42 := j11 * j11
+	c43 := j11 * j10
+	c44 := j10 * j10
+	c45 := 1e-06 * c42
+	c46 := 0.37500000000000006 * c42
+	c47 := (-1e-06) * c43
+	c48 := c43 * (-0.37500000000000006)
+	c49 := 1e-06 * c44
+	c50 := 0.37500000000000006 * c44
+	c51 := c23 + c25
+	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c25 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c26 := c24 * c25
-	c27 := -c26
-	c28 := c24 * k11
-	c29 := 0.8660254037844387 * detJ
-	k00 := j11 * rdetJ
-	c30 := j10 * rdetJ
-	c31 := c29 * k00
-	c32 := c29 * c30
-	c33 := coef2 * detJ
-	c34 := c25 * c25
-	c35 := c33 * c34
-	c36 := c25 * k11
-	c37 := c33 * c36
-	c38 := -c37
-	c39 := k11 * k11
-	c40 := c33 * c39
-	c41 := coef4 * detJ
-	c42 := c25 * k00
-	c43 := c41 * c42
-	c44 := c25 * c30
-	c45 := c41 * c44
-	c46 := k11 * k00
-	c47 := c41 * c46
-	c48 := k11 * c30
-	c49 := c41 * c48
-	c50 := k00 * k00
-	c51 := k00 * c30
-	c52 := c30 * c30
-	c53 := coef12 * detJ
-	c54 := c50 * c53
-	c55 := c51 * c53
-	c56 := c52 * c53
-	c57 := c27 + c31
-	c58 := c28 - c32
-	c59 := c35 - c43 - c43 + c54
-	c60 := c38 + c45 + c47 - c55
-	c61 := c40 - c49 - c49 + c56
+	c53 := c29 + c45
+	c54 := rdetJ * c53
+	c55 := c28 + c37 + c37 + c46
+	c56 := rdetJ * c55
+	c57 := c32 + c47
+	c58 := rdetJ * c57
+	c59 := c31 + c38 + c39 + c48
+	c60 := rdetJ * c59
+	c61 := c35 + c49
+	c62 := rdetJ * c61
+	c63 := c34 + c41 + c41 + c50
+	c64 := rdetJ * c63
+	c65 := 0.5 * c56
+	c66 := 0.5 * c60
+	c67 := 0.5 * c64
+	c68 := c65 + c66 + c66 + c67
+	c69 := (-0.5) * c56
+	c70 := (-0.5) * c60
+	c71 := c69 + c70
+	c72 := (-0.5) * c64
+	c73 := c70 + c72
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//	(cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//	(cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//	(-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//	(-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//	(cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//	(-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//	(cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//	(cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//	(-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//	(cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//	(-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//	(cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//	(-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
-	acc[0] += (-0.1666666666666667)*c57 - 0.1666666666666667*c58 + 0.5*c59 + c60 + 0.5*c61
-	acc[1] += 0.1666666666666667*c57 - 0.5*c59 - 0.5*c60
-	acc[2] += 0.1666666666666667*c58 - 0.5*c60 - 0.5*c61
-	acc[3] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c59 - 0.5*c60
-	acc[4] += 0.16666666666666666*c57 + 0.5*c59
-	acc[5] += 0.16666666666666666*c58 + 0.5*c60
-	acc[6] += (-0.16666666666666666)*c57 - 0.16666666666666666*c58 - 0.5*c60 - 0.5*c61
-	acc[7] += 0.16666666666666666*c57 + 0.5*c60
-	acc[8] += 0.16666666666666666*c58 + 0.5*c61
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
+	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (-cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (-cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (-cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
+	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
+	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
+	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
+	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
+	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
+	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
+	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
+	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
+	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
 // fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

@@ -83,10 +83,9 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	k11 := j00 * rdetJ
 	c5 := c4 - k11
 	k00 := j11 * rdetJ
-	c6 := -k00
-	c7 := j10 * rdetJ
-	k10 := -c7
-	c8 := c6 + c7
+	c6 := j10 * rdetJ
+	k10 := -c6
+	c7 := c6 - k00
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
@@ -94,8 +93,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	var acc [9]float64
 	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/10) · salt · test(salt)   [model.fw:17]
+	//   - (1/10) · salt · test(salt)   [model.fw:17]
 	acc[0] += 0.08333333333333334 * c3
 	acc[1] += 0.04166666666666667 * c3
 	acc[2] += 0.041666666666666685 * c3
@@ -106,8 +104,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	acc[7] += 0.04166666666666667 * c3
 	acc[8] += 0.08333333333333334 * c3
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(salt)   [model.fw:17]
+	//   - 1 · test(salt)   [model.fw:17]
 	rhs[0] += 0.16666666666666669 * detJ
 	rhs[1] += 0.16666666666666669 * detJ
 	rhs[2] += 0.16666666666666669 * detJ
@@ -132,39 +129,37 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p11 := coef1 * w
 		p12 := p11 * c5
 		p13 := p11 * c4
-		p14 := -p13
-		p15 := p11 * k11
-		p16 := coef2 * w
-		p17 := p16 * c8
-		p18 := p12 + p17
-		p19 := p16 * k00
-		p20 := p14 + p19
-		p21 := p16 * c7
-		p22 := p15 - p21
-		p23 := coef3 * w
-		p24 := c5 * p23
-		p25 := c4 * p23
-		p26 := -p25
-		p27 := k11 * p23
-		p28 := c8 * p23
-		p29 := k00 * p23
-		p30 := c7 * p23
-		p31 := -p30
+		p14 := p11 * k11
+		p15 := coef2 * w
+		p16 := p15 * c7
+		p17 := p12 + p16
+		p18 := p15 * k00
+		p19 := p18 - p13
+		p20 := p15 * c6
+		p21 := p14 - p20
+		p22 := coef3 * w
+		p23 := c5 * p22
+		p24 := c4 * p22
+		p25 := -p24
+		p26 := k11 * p22
+		p27 := c7 * p22
+		p28 := k00 * p22
+		p29 := c6 * p22
+		p30 := -p29
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//	(-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//	(y (-y + 1)/20 + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
-		//	(y (-y + 1)/20 + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
-		acc[0] += fwGalerkinCellBasis1Val[q][0]*p18 + c5*p24 + c8*p28
-		acc[1] += fwGalerkinCellBasis1Val[q][0]*p20 + c5*p26 + c8*p29
-		acc[2] += fwGalerkinCellBasis1Val[q][0]*p22 + c5*p27 + c8*p31
-		acc[3] += fwGalerkinCellBasis1Val[q][1]*p18 + k01*p24 + k00*p28
-		acc[4] += fwGalerkinCellBasis1Val[q][1]*p20 + k01*p26 + k00*p29
-		acc[5] += fwGalerkinCellBasis1Val[q][1]*p22 + k01*p27 + k00*p31
-		acc[6] += fwGalerkinCellBasis1Val[q][2]*p18 + k11*p24 + k10*p28
-		acc[7] += fwGalerkinCellBasis1Val[q][2]*p20 + k11*p26 + k10*p29
-		acc[8] += fwGalerkinCellBasis1Val[q][2]*p22 + k11*p27 + k10*p31
+		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (y (-y + 1)/20 + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
+		//   - (y (-y + 1)/20 + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
+		acc[0] += fwGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
+		acc[1] += fwGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
+		acc[2] += fwGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
+		acc[3] += fwGalerkinCellBasis1Val[q][1]*p17 + k01*p23 + k00*p27
+		acc[4] += fwGalerkinCellBasis1Val[q][1]*p19 + k01*p25 + k00*p28
+		acc[5] += fwGalerkinCellBasis1Val[q][1]*p21 + k01*p26 + k00*p30
+		acc[6] += fwGalerkinCellBasis1Val[q][2]*p17 + k11*p23 + k10*p27
+		acc[7] += fwGalerkinCellBasis1Val[q][2]*p19 + k11*p25 + k10*p28
+		acc[8] += fwGalerkinCellBasis1Val[q][2]*p21 + k11*p26 + k10*p30
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -210,35 +205,32 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 1.0 / diameter
+	c18 := 0.1 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c19 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
-	c23 := 0.1 * detJ
+	c20 := j01 * j10
+	detJ := c19 - c20
+	c21 := 0.1 * detJ
 	rdetJ := 1.0 / detJ
-	c24 := j01 * rdetJ
-	k01 := -c24
+	c22 := j01 * rdetJ
+	k01 := -c22
 	k11 := j00 * rdetJ
-	c25 := c24 - k11
+	c23 := c22 - k11
 	k00 := j11 * rdetJ
-	c26 := -k00
-	c27 := j10 * rdetJ
-	k10 := -c27
-	c28 := c26 + c27
+	c24 := j10 * rdetJ
+	k10 := -c24
+	c25 := c24 - k00
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
@@ -246,20 +238,18 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	var acc [9]float64
 	var rhs [3]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(1/10) · salt · test(salt)   [model.fw:17]
-	acc[0] += 0.08333333333333334 * c23
-	acc[1] += 0.04166666666666667 * c23
-	acc[2] += 0.041666666666666685 * c23
-	acc[3] += 0.04166666666666667 * c23
-	acc[4] += 0.08333333333333334 * c23
-	acc[5] += 0.04166666666666667 * c23
-	acc[6] += 0.041666666666666685 * c23
-	acc[7] += 0.04166666666666667 * c23
-	acc[8] += 0.08333333333333334 * c23
+	//   - (1/10) · salt · test(salt)   [model.fw:17]
+	acc[0] += 0.08333333333333334 * c21
+	acc[1] += 0.04166666666666667 * c21
+	acc[2] += 0.041666666666666685 * c21
+	acc[3] += 0.04166666666666667 * c21
+	acc[4] += 0.08333333333333334 * c21
+	acc[5] += 0.04166666666666667 * c21
+	acc[6] += 0.041666666666666685 * c21
+	acc[7] += 0.04166666666666667 * c21
+	acc[8] += 0.08333333333333334 * c21
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//
-	//	1 · test(salt)   [model.fw:17]
+	//   - 1 · test(salt)   [model.fw:17]
 	rhs[0] += 0.16666666666666669 * detJ
 	rhs[1] += 0.16666666666666669 * detJ
 	rhs[2] += 0.16666666666666669 * detJ
@@ -280,117 +270,108 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p9 := 1.0 - x1
 		p10 := x1 * 0.05 * p9
 		p11 := 0.05 + p10
-		p12 := 4.0 * p11
-		p13 := p12 * c19
-		p14 := x1 * x1
-		p15 := 0.01 * p14
-		p16 := coef2 * coef2
-		p17 := p15 + p16
-		p18 := math.Sqrt(p17)
-		p19 := 2.0 * p18
-		p20 := p19 * c20
-		p21 := 0.1 + p13 + p20
-		p22 := x1 * 0.01
-		p23 := 1.0 / p21
-		coef3 := p22 * p23
-		p24 := p15 * p23
-		p25 := x1 * (-0.1)
-		p26 := 0.05 + p25
-		p27 := x1 * (-0.1) * p26
-		p28 := p23 * p27
-		coef4 := 0.05 + p10 + p24 + p28
-		p29 := 0.1 * x1 * coef2
-		coef6 := p23 * p29
-		p30 := 0.1 * coef2
-		coef8 := p23 * p30
-		p31 := coef2 * p26
-		p32 := p23 * p31
-		coef9 := coef6 - p32
-		p33 := p16 * p23
-		coef11 := 0.05 + p10 + p33
-		coef14 := coef1 * p23
-		coef15 := coef2 * p23
+		p12 := x1 * x1
+		p13 := 0.01 * p12
+		p14 := coef2 * coef2
+		p15 := p13 + p14
+		p16 := math.Sqrt(p15)
+		p17 := 4.0 * p11
+		p18 := diameter * 2.0 * p16
+		p19 := c18 + p17 + p18
+		p20 := 1.0 / p19
+		p21 := c17 * p20
+		coef3 := x1 * 0.01 * p21
+		p22 := 0.01 * p12 * p21
+		p23 := x1 * (-0.1)
+		p24 := 0.05 + p23
+		p25 := x1 * p21 * (-0.1) * p24
+		coef4 := 0.05 + p10 + p22 + p25
+		coef6 := 0.1 * x1 * coef2 * p21
+		coef15 := coef2 * p21
+		coef8 := 0.1 * coef2 * p21
+		p26 := coef2 * p21 * p24
+		coef9 := coef6 - p26
+		p27 := p14 * p21
+		coef11 := 0.05 + p10 + p27
+		coef14 := 0.1 * x1 * p21
 		w := detJ * fwSUPGCellWeights[q]
-		p34 := coef1 * w
-		p35 := p34 * c25
-		p36 := p34 * c24
-		p37 := -p36
-		p38 := p34 * k11
-		p39 := coef2 * w
-		p40 := p39 * c28
-		p41 := p35 + p40
-		p42 := p39 * k00
-		p43 := p37 + p42
-		p44 := p39 * c27
-		p45 := p38 - p44
-		p46 := coef3 * w
-		p47 := p46 * fwSUPGCellBasis1Val[q][0]
-		p48 := p46 * fwSUPGCellBasis1Val[q][1]
-		p49 := p46 * fwSUPGCellBasis1Val[q][2]
-		p50 := coef4 * w
+		p28 := coef1 * w
+		p29 := p28 * c23
+		p30 := p28 * c22
+		p31 := p28 * k11
+		p32 := coef2 * w
+		p33 := p32 * c25
+		p34 := p29 + p33
+		p35 := p32 * k00
+		p36 := p35 - p30
+		p37 := p32 * c24
+		p38 := p31 - p37
+		p39 := coef3 * w
+		p40 := p39 * fwSUPGCellBasis1Val[q][0]
+		p41 := p39 * fwSUPGCellBasis1Val[q][1]
+		p42 := p39 * fwSUPGCellBasis1Val[q][2]
+		p43 := coef4 * w
+		p44 := c23 * p43
+		p45 := p40 + p44
+		p46 := c22 * p43
+		p47 := p41 - p46
+		p48 := k11 * p43
+		p49 := p42 + p48
+		p50 := coef6 * w
 		p51 := c25 * p50
-		p52 := p47 + p51
-		p53 := c24 * p50
-		p54 := p48 - p53
-		p55 := k11 * p50
-		p56 := p49 + p55
-		p57 := coef6 * w
-		p58 := c28 * p57
-		p59 := p52 + p58
-		p60 := k00 * p57
-		p61 := p54 + p60
-		p62 := c27 * p57
-		p63 := p56 - p62
-		p64 := coef8 * w
-		p65 := fwSUPGCellBasis1Val[q][0] * p64
-		p66 := fwSUPGCellBasis1Val[q][1] * p64
-		p67 := fwSUPGCellBasis1Val[q][2] * p64
-		p68 := coef9 * w
+		p52 := p45 + p51
+		p53 := k00 * p50
+		p54 := p47 + p53
+		p55 := c24 * p50
+		p56 := p49 - p55
+		p57 := coef8 * w
+		p58 := fwSUPGCellBasis1Val[q][0] * p57
+		p59 := fwSUPGCellBasis1Val[q][1] * p57
+		p60 := fwSUPGCellBasis1Val[q][2] * p57
+		p61 := coef9 * w
+		p62 := c23 * p61
+		p63 := p58 + p62
+		p64 := c22 * p61
+		p65 := p59 - p64
+		p66 := k11 * p61
+		p67 := p60 + p66
+		p68 := coef11 * w
 		p69 := c25 * p68
-		p70 := p65 + p69
-		p71 := c24 * p68
-		p72 := p66 - p71
-		p73 := k11 * p68
-		p74 := p67 + p73
-		p75 := coef11 * w
-		p76 := c28 * p75
-		p77 := p70 + p76
-		p78 := k00 * p75
-		p79 := p72 + p78
-		p80 := c27 * p75
-		p81 := p74 - p80
-		p82 := coef14 * w
-		p83 := coef15 * w
+		p70 := p63 + p69
+		p71 := k00 * p68
+		p72 := p65 + p71
+		p73 := c24 * p68
+		p74 := p67 - p73
+		p75 := coef14 * w
+		p76 := coef15 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//	(-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//	(y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//	(y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - y (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//	((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//	(y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		acc[0] += fwSUPGCellBasis1Val[q][0]*p41 + c25*p59 + c28*p77
-		acc[1] += fwSUPGCellBasis1Val[q][0]*p43 + c25*p61 + c28*p79
-		acc[2] += fwSUPGCellBasis1Val[q][0]*p45 + c25*p63 + c28*p81
-		acc[3] += fwSUPGCellBasis1Val[q][1]*p41 + k01*p59 + k00*p77
-		acc[4] += fwSUPGCellBasis1Val[q][1]*p43 + k01*p61 + k00*p79
-		acc[5] += fwSUPGCellBasis1Val[q][1]*p45 + k01*p63 + k00*p81
-		acc[6] += fwSUPGCellBasis1Val[q][2]*p41 + k11*p59 + k10*p77
-		acc[7] += fwSUPGCellBasis1Val[q][2]*p43 + k11*p61 + k10*p79
-		acc[8] += fwSUPGCellBasis1Val[q][2]*p45 + k11*p63 + k10*p81
+		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - y (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		acc[0] += fwSUPGCellBasis1Val[q][0]*p34 + c23*p52 + c25*p70
+		acc[1] += fwSUPGCellBasis1Val[q][0]*p36 + c23*p54 + c25*p72
+		acc[2] += fwSUPGCellBasis1Val[q][0]*p38 + c23*p56 + c25*p74
+		acc[3] += fwSUPGCellBasis1Val[q][1]*p34 + k01*p52 + k00*p70
+		acc[4] += fwSUPGCellBasis1Val[q][1]*p36 + k01*p54 + k00*p72
+		acc[5] += fwSUPGCellBasis1Val[q][1]*p38 + k01*p56 + k00*p74
+		acc[6] += fwSUPGCellBasis1Val[q][2]*p34 + k11*p52 + k10*p70
+		acc[7] += fwSUPGCellBasis1Val[q][2]*p36 + k11*p54 + k10*p72
+		acc[8] += fwSUPGCellBasis1Val[q][2]*p38 + k11*p56 + k10*p74
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//
-		//	y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(test(salt), y)   [model.fw:17]
-		//	(-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		rhs[0] += c25*p82 + c28*p83
-		rhs[1] += k01*p82 + k00*p83
-		rhs[2] += k11*p82 + k10*p83
+		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(test(salt), y)   [model.fw:17]
+		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		rhs[0] += c23*p75 + c25*p76
+		rhs[1] += k01*p75 + k00*p76
+		rhs[2] += k11*p75 + k10*p76
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -436,34 +417,31 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 1.0 / diameter
+	c18 := c17 * 0.1
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c19 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
+	c20 := j01 * j10
+	detJ := c19 - c20
 	rdetJ := 1.0 / detJ
-	c23 := j01 * rdetJ
-	k01 := -c23
+	c21 := j01 * rdetJ
+	k01 := -c21
 	k11 := j00 * rdetJ
-	c24 := c23 - k11
+	c22 := c21 - k11
 	k00 := j11 * rdetJ
-	c25 := -k00
-	c26 := j10 * rdetJ
-	k10 := -c26
-	c27 := c25 + c26
+	c23 := j10 * rdetJ
+	k10 := -c23
+	c24 := c23 - k00
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
@@ -476,164 +454,154 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p2 := x[3] * fwGLSCellGeomVal[q][1]
 		p3 := x[5] * fwGLSCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
-		p4 := -x1
-		p5 := p4 + 1.0
-		p6 := 0.05 * x1 * p5
-		p7 := 0.05 + p6
-		p8 := 4.0 * p7
-		p9 := p8 * c19
-		p10 := x1 * x1
-		p11 := 0.01 * p10
-		p12 := x[0] * fwGLSCellGeomVal[q][0]
-		p13 := x[2] * fwGLSCellGeomVal[q][1]
-		p14 := x[4] * fwGLSCellGeomVal[q][2]
-		x0 := p12 + p13 + p14
-		p15 := x0 * x0
-		p16 := (-0.25) * p15
-		p17 := 1.0 + p16
-		p18 := p17 * p17
-		p19 := p11 + p18
-		p20 := math.Sqrt(p19)
-		p21 := 2.0 * p20
-		p22 := p21 * c20
-		p23 := p9 + p22 + 0.1
-		p24 := 1.0 / p23
-		p25 := 0.01 * p24
-		coef0 := 0.1 + p25
-		p26 := x1 * 0.1
-		p27 := 0.01 * x1
-		p28 := p24 * p27
-		p29 := x1 * (-0.1)
-		p30 := 0.05 + p29
-		p31 := (-0.1) * p30
-		p32 := p24 * p31
-		coef1 := p26 + p28 + p32
-		p33 := p17 * 0.1
-		coef15 := p24 * p33
-		coef3 := 1.0 + p16 + coef15
-		coef5 := p28 + p32
-		p34 := p11 * p24
-		p35 := p30 * p30
-		p36 := p24 * p35
-		p37 := x1 * p30 * (-0.2)
-		p38 := p24 * p37
-		coef6 := 0.05 + p6 + p34 + p36 + p38
-		p39 := x1 * p17 * 0.1
-		p40 := p24 * p39
-		p41 := p17 * p30
-		p42 := p24 * p41
-		coef8 := p40 - p42
-		p43 := p18 * p24
-		coef18 := 0.05 + p6 + p43
-		p44 := 0.1 * p24
-		coef25 := 1.0 + p44
-		p45 := p24 * p26
-		p46 := p24 * p30
-		coef26 := p45 - p46
-		coef28 := p17 * p24
+		p4 := 1.0 - x1
+		p5 := 0.05 * x1 * p4
+		p6 := 0.05 + p5
+		p7 := x1 * x1
+		p8 := 0.01 * p7
+		p9 := x[0] * fwGLSCellGeomVal[q][0]
+		p10 := x[2] * fwGLSCellGeomVal[q][1]
+		p11 := x[4] * fwGLSCellGeomVal[q][2]
+		x0 := p9 + p10 + p11
+		p12 := x0 * x0
+		p13 := (-0.25) * p12
+		p14 := 1.0 + p13
+		p15 := p14 * p14
+		p16 := p8 + p15
+		p17 := math.Sqrt(p16)
+		p18 := 4.0 * p6
+		p19 := diameter * 2.0 * p17
+		p20 := p18 + p19 + c18
+		p21 := 1.0 / p20
+		p22 := c17 * p21
+		p23 := 0.01 * p22
+		coef0 := 0.1 + p23
+		p24 := x1 * 0.1
+		p25 := 0.01 * x1 * p22
+		p26 := x1 * (-0.1)
+		p27 := 0.05 + p26
+		p28 := p22 * p27
+		p29 := p22 * (-0.1) * p27
+		coef1 := p24 + p25 + p29
+		coef28 := p14 * p22
+		coef15 := p14 * 0.1 * p22
+		coef3 := 1.0 + p13 + coef15
+		coef5 := p25 + p29
+		p30 := 0.01 * p7 * p22
+		p31 := p27 * p27
+		p32 := p22 * p31
+		p33 := x1 * p22 * p27 * (-0.2)
+		coef6 := 0.05 + p5 + p30 + p32 + p33
+		p34 := x1 * p14 * 0.1 * p22
+		p35 := p14 * p22 * p27
+		coef8 := p34 - p35
+		p36 := p15 * p22
+		coef18 := 0.05 + p5 + p36
+		p37 := 0.1 * p22
+		coef25 := 1.0 + p37
+		p38 := x1 * 0.1 * p22
+		coef26 := p38 - p28
 		w := detJ * fwGLSCellWeights[q]
-		p47 := coef0 * w
-		p48 := p47 * fwGLSCellBasis1Val[q][0]
-		p49 := p47 * fwGLSCellBasis1Val[q][1]
-		p50 := p47 * fwGLSCellBasis1Val[q][2]
-		p51 := coef1 * w
-		p52 := p51 * c24
-		p53 := p48 + p52
-		p54 := p51 * c23
-		p55 := p49 - p54
-		p56 := p51 * k11
-		p57 := p50 + p56
-		p58 := coef3 * w
-		p59 := c27 * p58
-		p60 := p53 + p59
-		p61 := k00 * p58
-		p62 := p55 + p61
-		p63 := c26 * p58
-		p64 := p57 - p63
-		p65 := coef5 * w
-		p66 := fwGLSCellBasis1Val[q][0] * p65
-		p67 := fwGLSCellBasis1Val[q][1] * p65
-		p68 := fwGLSCellBasis1Val[q][2] * p65
-		p69 := coef6 * w
-		p70 := c24 * p69
-		p71 := p66 + p70
-		p72 := c23 * p69
-		p73 := p67 - p72
-		p74 := k11 * p69
-		p75 := p68 + p74
-		p76 := coef8 * w
-		p77 := c27 * p76
-		p78 := p71 + p77
-		p79 := k00 * p76
-		p80 := p73 + p79
-		p81 := c26 * p76
-		p82 := p75 - p81
-		p83 := coef15 * w
-		p84 := fwGLSCellBasis1Val[q][0] * p83
-		p85 := fwGLSCellBasis1Val[q][1] * p83
-		p86 := fwGLSCellBasis1Val[q][2] * p83
-		p87 := c24 * p76
-		p88 := p84 + p87
-		p89 := c23 * p76
-		p90 := p85 - p89
-		p91 := k11 * p76
-		p92 := p86 + p91
-		p93 := coef18 * w
-		p94 := c27 * p93
-		p95 := p88 + p94
-		p96 := k00 * p93
-		p97 := p90 + p96
-		p98 := c26 * p93
-		p99 := p92 - p98
-		p100 := coef25 * w
-		p101 := coef26 * w
-		p102 := coef28 * w
+		p39 := coef0 * w
+		p40 := p39 * fwGLSCellBasis1Val[q][0]
+		p41 := p39 * fwGLSCellBasis1Val[q][1]
+		p42 := p39 * fwGLSCellBasis1Val[q][2]
+		p43 := coef1 * w
+		p44 := p43 * c22
+		p45 := p40 + p44
+		p46 := p43 * c21
+		p47 := p41 - p46
+		p48 := p43 * k11
+		p49 := p42 + p48
+		p50 := coef3 * w
+		p51 := c24 * p50
+		p52 := p45 + p51
+		p53 := k00 * p50
+		p54 := p47 + p53
+		p55 := c23 * p50
+		p56 := p49 - p55
+		p57 := coef5 * w
+		p58 := fwGLSCellBasis1Val[q][0] * p57
+		p59 := fwGLSCellBasis1Val[q][1] * p57
+		p60 := fwGLSCellBasis1Val[q][2] * p57
+		p61 := coef6 * w
+		p62 := c22 * p61
+		p63 := p58 + p62
+		p64 := c21 * p61
+		p65 := p59 - p64
+		p66 := k11 * p61
+		p67 := p60 + p66
+		p68 := coef8 * w
+		p69 := c24 * p68
+		p70 := p63 + p69
+		p71 := k00 * p68
+		p72 := p65 + p71
+		p73 := c23 * p68
+		p74 := p67 - p73
+		p75 := coef15 * w
+		p76 := fwGLSCellBasis1Val[q][0] * p75
+		p77 := fwGLSCellBasis1Val[q][1] * p75
+		p78 := fwGLSCellBasis1Val[q][2] * p75
+		p79 := c22 * p68
+		p80 := p76 + p79
+		p81 := c21 * p68
+		p82 := p77 - p81
+		p83 := k11 * p68
+		p84 := p78 + p83
+		p85 := coef18 * w
+		p86 := c24 * p85
+		p87 := p80 + p86
+		p88 := k00 * p85
+		p89 := p82 + p88
+		p90 := c23 * p85
+		p91 := p84 - p90
+		p92 := coef25 * w
+		p93 := coef26 * w
+		p94 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//	(y/10 + y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y) · test(salt)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//	(-x²/4 + (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//	(y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//	(y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) - y (-y/10 + 1/20)/(5 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//	((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//	(y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwGLSCellBasis1Val[q][0]*p60 + c24*p78 + c27*p95
-		acc[1] += fwGLSCellBasis1Val[q][0]*p62 + c24*p80 + c27*p97
-		acc[2] += fwGLSCellBasis1Val[q][0]*p64 + c24*p82 + c27*p99
-		acc[3] += fwGLSCellBasis1Val[q][1]*p60 + k01*p78 + k00*p95
-		acc[4] += fwGLSCellBasis1Val[q][1]*p62 + k01*p80 + k00*p97
-		acc[5] += fwGLSCellBasis1Val[q][1]*p64 + k01*p82 + k00*p99
-		acc[6] += fwGLSCellBasis1Val[q][2]*p60 + k11*p78 + k10*p95
-		acc[7] += fwGLSCellBasis1Val[q][2]*p62 + k11*p80 + k10*p97
-		acc[8] += fwGLSCellBasis1Val[q][2]*p64 + k11*p82 + k10*p99
+		//   - (1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (y/10 + y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (-x²/4 + (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) - y (-y/10 + 1/20)/(5 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		acc[0] += fwGLSCellBasis1Val[q][0]*p52 + c22*p70 + c24*p87
+		acc[1] += fwGLSCellBasis1Val[q][0]*p54 + c22*p72 + c24*p89
+		acc[2] += fwGLSCellBasis1Val[q][0]*p56 + c22*p74 + c24*p91
+		acc[3] += fwGLSCellBasis1Val[q][1]*p52 + k01*p70 + k00*p87
+		acc[4] += fwGLSCellBasis1Val[q][1]*p54 + k01*p72 + k00*p89
+		acc[5] += fwGLSCellBasis1Val[q][1]*p56 + k01*p74 + k00*p91
+		acc[6] += fwGLSCellBasis1Val[q][2]*p52 + k11*p70 + k10*p87
+		acc[7] += fwGLSCellBasis1Val[q][2]*p54 + k11*p72 + k10*p89
+		acc[8] += fwGLSCellBasis1Val[q][2]*p56 + k11*p74 + k10*p91
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//
-		//	1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1 · test(salt)   [model.fw:17]
-		//	y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//	-(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//	(-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//	-(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwGLSCellBasis1Val[q][0]*p100 + c24*p101 + c27*p102
-		rhs[1] += fwGLSCellBasis1Val[q][1]*p100 + k01*p101 + k00*p102
-		rhs[2] += fwGLSCellBasis1Val[q][2]*p100 + k11*p101 + k10*p102
+		//   - 1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1 · test(salt)   [model.fw:17]
+		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
+		//   - -(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		//   - -(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
+		rhs[0] += fwGLSCellBasis1Val[q][0]*p92 + c22*p93 + c24*p94
+		rhs[1] += fwGLSCellBasis1Val[q][1]*p92 + k01*p93 + k00*p94
+		rhs[2] += fwGLSCellBasis1Val[q][2]*p92 + k11*p93 + k10*p94
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -679,34 +647,31 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
+	c17 := max(c11, c16)
 	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	c19 := 1.0 / c18
-	c20 := 1.0 / diameter
+	c18 := c17 * 0.1
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c19 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
+	c20 := j01 * j10
+	detJ := c19 - c20
 	rdetJ := 1.0 / detJ
-	c23 := j01 * rdetJ
-	k01 := -c23
+	c21 := j01 * rdetJ
+	k01 := -c21
 	k11 := j00 * rdetJ
-	c24 := c23 - k11
+	c22 := c21 - k11
 	k00 := j11 * rdetJ
-	c25 := -k00
-	c26 := j10 * rdetJ
-	k10 := -c26
-	c27 := c25 + c26
+	c23 := j10 * rdetJ
+	k10 := -c23
+	c24 := c23 - k00
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
@@ -719,179 +684,164 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p2 := x[3] * fwVMSCellGeomVal[q][1]
 		p3 := x[5] * fwVMSCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
-		p4 := -x1
-		p5 := p4 + 1.0
-		p6 := 0.05 * x1 * p5
-		p7 := 0.05 + p6
-		p8 := 4.0 * p7
-		p9 := p8 * c19
-		p10 := x1 * x1
-		p11 := 0.01 * p10
-		p12 := x[0] * fwVMSCellGeomVal[q][0]
-		p13 := x[2] * fwVMSCellGeomVal[q][1]
-		p14 := x[4] * fwVMSCellGeomVal[q][2]
-		x0 := p12 + p13 + p14
-		p15 := x0 * x0
-		p16 := (-0.25) * p15
-		p17 := 1.0 + p16
-		p18 := p17 * p17
-		p19 := p11 + p18
-		p20 := math.Sqrt(p19)
-		p21 := 2.0 * p20
-		p22 := p21 * c20
-		p23 := p9 + p22 + 0.1
-		p24 := 1.0 / p23
-		p25 := (-0.01) * p24
-		p26 := x0 * (-0.5)
-		p27 := 0.1 + p26
-		p28 := 0.1 * p27
-		p29 := p24 * p28
-		coef0 := 0.1 + p25 + p29
-		p30 := x1 * 0.1
-		p31 := (-0.01) * x1
-		p32 := p24 * p31
-		p33 := x1 * (-0.1)
-		p34 := 0.05 + p33
-		p35 := 0.1 * p34
-		p36 := p24 * p35
-		p37 := x1 * 0.1 * p27
-		p38 := p24 * p37
-		p39 := p27 * p34
-		p40 := p24 * p39
-		coef1 := p30 + p32 + p36 + p38 - p40
-		p41 := p17 * (-0.1)
-		p42 := p24 * p41
-		p43 := p17 * p27
-		p44 := p24 * p43
-		coef3 := 1.0 + p16 + p42 + p44
-		p45 := x1 * 0.01
-		p46 := p24 * p45
-		coef5 := p36 + p46
-		p47 := p11 * p24
-		p48 := p34 * p34
-		p49 := p24 * p48
-		coef6 := 0.05 + p6 + p47 - p49
-		p50 := x1 * p17 * 0.1
-		p51 := p24 * p50
-		p52 := p17 * p34
-		p53 := p24 * p52
-		coef8 := p51 + p53
-		p54 := p17 * 0.1
-		coef15 := p24 * p54
-		coef16 := p51 - p53
-		p55 := p18 * p24
-		coef18 := 0.05 + p6 + p55
-		p56 := p24 * (-0.1)
-		p57 := p24 * p27
-		coef25 := 1.0 + p56 + p57
-		p58 := p24 * p30
-		p59 := p24 * p34
-		coef26 := p58 + p59
-		coef28 := p17 * p24
+		p4 := 1.0 - x1
+		p5 := 0.05 * x1 * p4
+		p6 := 0.05 + p5
+		p7 := x1 * x1
+		p8 := 0.01 * p7
+		p9 := x[0] * fwVMSCellGeomVal[q][0]
+		p10 := x[2] * fwVMSCellGeomVal[q][1]
+		p11 := x[4] * fwVMSCellGeomVal[q][2]
+		x0 := p9 + p10 + p11
+		p12 := x0 * x0
+		p13 := (-0.25) * p12
+		p14 := 1.0 + p13
+		p15 := p14 * p14
+		p16 := p8 + p15
+		p17 := math.Sqrt(p16)
+		p18 := 4.0 * p6
+		p19 := diameter * 2.0 * p17
+		p20 := p18 + p19 + c18
+		p21 := 1.0 / p20
+		p22 := c17 * p21
+		p23 := (-0.01) * p22
+		p24 := x0 * (-0.5)
+		p25 := 0.1 + p24
+		p26 := p22 * p25
+		p27 := 0.1 * p22 * p25
+		coef0 := 0.1 + p23 + p27
+		p28 := x1 * 0.1
+		p29 := (-0.01) * x1 * p22
+		p30 := x1 * (-0.1)
+		p31 := 0.05 + p30
+		p32 := p22 * p31
+		p33 := 0.1 * p22 * p31
+		p34 := x1 * 0.1 * p22 * p25
+		p35 := p22 * p25 * p31
+		coef1 := p28 + p29 + p33 + p34 - p35
+		coef28 := p14 * p22
+		p36 := p14 * p22 * (-0.1)
+		p37 := p14 * p22 * p25
+		coef3 := 1.0 + p13 + p36 + p37
+		p38 := x1 * 0.01 * p22
+		coef5 := p33 + p38
+		p39 := 0.01 * p7 * p22
+		p40 := p31 * p31
+		p41 := p22 * p40
+		coef6 := 0.05 + p5 + p39 - p41
+		p42 := x1 * p14 * 0.1 * p22
+		p43 := p14 * p22 * p31
+		coef8 := p42 + p43
+		coef15 := p14 * 0.1 * p22
+		coef16 := p42 - p43
+		p44 := p15 * p22
+		coef18 := 0.05 + p5 + p44
+		p45 := p22 * (-0.1)
+		coef25 := 1.0 + p26 + p45
+		p46 := x1 * 0.1 * p22
+		coef26 := p32 + p46
 		w := detJ * fwVMSCellWeights[q]
-		p60 := coef0 * w
-		p61 := p60 * fwVMSCellBasis1Val[q][0]
-		p62 := p60 * fwVMSCellBasis1Val[q][1]
-		p63 := p60 * fwVMSCellBasis1Val[q][2]
-		p64 := coef1 * w
-		p65 := p64 * c24
-		p66 := p61 + p65
-		p67 := p64 * c23
-		p68 := p62 - p67
-		p69 := p64 * k11
-		p70 := p63 + p69
-		p71 := coef3 * w
-		p72 := c27 * p71
-		p73 := p66 + p72
-		p74 := k00 * p71
+		p47 := coef0 * w
+		p48 := p47 * fwVMSCellBasis1Val[q][0]
+		p49 := p47 * fwVMSCellBasis1Val[q][1]
+		p50 := p47 * fwVMSCellBasis1Val[q][2]
+		p51 := coef1 * w
+		p52 := p51 * c22
+		p53 := p48 + p52
+		p54 := p51 * c21
+		p55 := p49 - p54
+		p56 := p51 * k11
+		p57 := p50 + p56
+		p58 := coef3 * w
+		p59 := c24 * p58
+		p60 := p53 + p59
+		p61 := k00 * p58
+		p62 := p55 + p61
+		p63 := c23 * p58
+		p64 := p57 - p63
+		p65 := coef5 * w
+		p66 := fwVMSCellBasis1Val[q][0] * p65
+		p67 := fwVMSCellBasis1Val[q][1] * p65
+		p68 := fwVMSCellBasis1Val[q][2] * p65
+		p69 := coef6 * w
+		p70 := c22 * p69
+		p71 := p66 + p70
+		p72 := c21 * p69
+		p73 := p67 - p72
+		p74 := k11 * p69
 		p75 := p68 + p74
-		p76 := c26 * p71
-		p77 := p70 - p76
-		p78 := coef5 * w
-		p79 := fwVMSCellBasis1Val[q][0] * p78
-		p80 := fwVMSCellBasis1Val[q][1] * p78
-		p81 := fwVMSCellBasis1Val[q][2] * p78
-		p82 := coef6 * w
-		p83 := c24 * p82
-		p84 := p79 + p83
-		p85 := c23 * p82
-		p86 := p80 - p85
-		p87 := k11 * p82
-		p88 := p81 + p87
-		p89 := coef8 * w
-		p90 := c27 * p89
-		p91 := p84 + p90
-		p92 := k00 * p89
+		p76 := coef8 * w
+		p77 := c24 * p76
+		p78 := p71 + p77
+		p79 := k00 * p76
+		p80 := p73 + p79
+		p81 := c23 * p76
+		p82 := p75 - p81
+		p83 := coef15 * w
+		p84 := fwVMSCellBasis1Val[q][0] * p83
+		p85 := fwVMSCellBasis1Val[q][1] * p83
+		p86 := fwVMSCellBasis1Val[q][2] * p83
+		p87 := coef16 * w
+		p88 := c22 * p87
+		p89 := p84 + p88
+		p90 := c21 * p87
+		p91 := p85 - p90
+		p92 := k11 * p87
 		p93 := p86 + p92
-		p94 := c26 * p89
-		p95 := p88 - p94
-		p96 := coef15 * w
-		p97 := fwVMSCellBasis1Val[q][0] * p96
-		p98 := fwVMSCellBasis1Val[q][1] * p96
-		p99 := fwVMSCellBasis1Val[q][2] * p96
-		p100 := coef16 * w
-		p101 := c24 * p100
-		p102 := p97 + p101
-		p103 := c23 * p100
-		p104 := p98 - p103
-		p105 := k11 * p100
-		p106 := p99 + p105
-		p107 := coef18 * w
-		p108 := c27 * p107
-		p109 := p102 + p108
-		p110 := k00 * p107
-		p111 := p104 + p110
-		p112 := c26 * p107
-		p113 := p106 - p112
-		p114 := coef25 * w
-		p115 := coef26 * w
-		p116 := coef28 * w
+		p94 := coef18 * w
+		p95 := c24 * p94
+		p96 := p89 + p95
+		p97 := k00 * p94
+		p98 := p91 + p97
+		p99 := c23 * p94
+		p100 := p93 - p99
+		p101 := coef25 * w
+		p102 := coef26 * w
+		p103 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//
-		//	(-1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//	(y/10 - y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + y (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · test(salt)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//	(-x²/4 - (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10) (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//	(y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//	(y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//	(-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//	(y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//	((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//	((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//	(y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//	(y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//	(-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//	((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//	(y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//	((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//	(-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwVMSCellBasis1Val[q][0]*p73 + c24*p91 + c27*p109
-		acc[1] += fwVMSCellBasis1Val[q][0]*p75 + c24*p93 + c27*p111
-		acc[2] += fwVMSCellBasis1Val[q][0]*p77 + c24*p95 + c27*p113
-		acc[3] += fwVMSCellBasis1Val[q][1]*p73 + k01*p91 + k00*p109
-		acc[4] += fwVMSCellBasis1Val[q][1]*p75 + k01*p93 + k00*p111
-		acc[5] += fwVMSCellBasis1Val[q][1]*p77 + k01*p95 + k00*p113
-		acc[6] += fwVMSCellBasis1Val[q][2]*p73 + k11*p91 + k10*p109
-		acc[7] += fwVMSCellBasis1Val[q][2]*p75 + k11*p93 + k10*p111
-		acc[8] += fwVMSCellBasis1Val[q][2]*p77 + k11*p95 + k10*p113
+		//   - (-1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (y/10 - y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + y (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (-x²/4 - (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10) (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		acc[0] += fwVMSCellBasis1Val[q][0]*p60 + c22*p78 + c24*p96
+		acc[1] += fwVMSCellBasis1Val[q][0]*p62 + c22*p80 + c24*p98
+		acc[2] += fwVMSCellBasis1Val[q][0]*p64 + c22*p82 + c24*p100
+		acc[3] += fwVMSCellBasis1Val[q][1]*p60 + k01*p78 + k00*p96
+		acc[4] += fwVMSCellBasis1Val[q][1]*p62 + k01*p80 + k00*p98
+		acc[5] += fwVMSCellBasis1Val[q][1]*p64 + k01*p82 + k00*p100
+		acc[6] += fwVMSCellBasis1Val[q][2]*p60 + k11*p78 + k10*p96
+		acc[7] += fwVMSCellBasis1Val[q][2]*p62 + k11*p80 + k10*p98
+		acc[8] += fwVMSCellBasis1Val[q][2]*p64 + k11*p82 + k10*p100
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//
-		//	-1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1 · test(salt)   [model.fw:17]
-		//	y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//	(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//	(-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//	(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwVMSCellBasis1Val[q][0]*p114 + c24*p115 + c27*p116
-		rhs[1] += fwVMSCellBasis1Val[q][1]*p114 + k01*p115 + k00*p116
-		rhs[2] += fwVMSCellBasis1Val[q][2]*p114 + k11*p115 + k10*p116
+		//   - -1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1 · test(salt)   [model.fw:17]
+		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
+		rhs[0] += fwVMSCellBasis1Val[q][0]*p101 + c22*p102 + c24*p103
+		rhs[1] += fwVMSCellBasis1Val[q][1]*p101 + k01*p102 + k00*p103
+		rhs[2] += fwVMSCellBasis1Val[q][2]*p101 + k11*p102 + k10*p103
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

@@ -69,28 +69,21 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:2:2]
 	x := in.Coords[:2:2]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[1]
-	k00 := 1.0 / j00
-	c2 := j00 * k00
-	c3 := 0.002 * j00
-	c4 := k00 * k00
-	c5 := c3 * c4
+	j00 := x[1] - x[0]
+	rdetJ := 1.0 / j00
+	c1 := 0.002 * rdetJ
 	if !(j00 > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [4]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//
-	//	(1) · partial(c, x) · test(c)   [model.fw:18]
-	//	(1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	acc[0] += (-0.5)*c2 + c5
-	acc[1] += 0.5*c2 - c5
-	acc[2] += (-0.5)*c2 - c5
-	acc[3] += 0.5*c2 + c5
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
+	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
+	//   - (1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	A[0] = (-0.5) + c1
+	A[1] = 0.5 - c1
+	A[2] = (-0.5) - c1
+	A[3] = 0.5 + c1
 }
 
 // fwSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
@@ -132,30 +125,25 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c6 := 1.0 / diameter
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := 0.5 * diameter * c8
-	coef1 := c9 + 0.002
+	c9 := diameter * c8
 	j00 := x[1] - x[0]
-	k00 := 1.0 / j00
-	c10 := j00 * k00
-	c11 := coef1 * j00
-	c12 := k00 * k00
-	c13 := c11 * c12
+	rdetJ := 1.0 / j00
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [4]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//
-	//	(1) · partial(c, x) · test(c)   [model.fw:18]
-	//	(cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//	(-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	acc[0] += (-0.5)*c10 + c13
-	acc[1] += 0.5*c10 - c13
-	acc[2] += (-0.5)*c10 - c13
-	acc[3] += 0.5*c10 + c13
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
+	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
@@ -197,32 +185,27 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c6 := 1.0 / diameter
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := 0.5 * diameter * c8
-	coef1 := c9 + 0.002
+	c9 := diameter * c8
 	j00 := x[1] - x[0]
-	k00 := 1.0 / j00
-	c10 := j00 * k00
-	c11 := coef1 * j00
-	c12 := k00 * k00
-	c13 := c11 * c12
+	rdetJ := 1.0 / j00
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [4]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//
-	//	(1) · partial(c, x) · test(c)   [model.fw:18]
-	//	(cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//	(-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//	(-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//	(cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
-	acc[0] += (-0.5)*c10 + c13
-	acc[1] += 0.5*c10 - c13
-	acc[2] += (-0.5)*c10 - c13
-	acc[3] += 0.5*c10 + c13
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
+	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
@@ -264,32 +247,27 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c6 := 1.0 / diameter
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := 0.5 * diameter * c8
-	coef1 := c9 + 0.002
+	c9 := diameter * c8
 	j00 := x[1] - x[0]
-	k00 := 1.0 / j00
-	c10 := j00 * k00
-	c11 := coef1 * j00
-	c12 := k00 * k00
-	c13 := c11 * c12
+	rdetJ := 1.0 / j00
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [4]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//
-	//	(1) · partial(c, x) · test(c)   [model.fw:18]
-	//	(cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//	(-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//	(cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//	(-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
-	acc[0] += (-0.5)*c10 + c13
-	acc[1] += 0.5*c10 - c13
-	acc[2] += (-0.5)*c10 - c13
-	acc[3] += 0.5*c10 + c13
-	copy(A, acc[:])
 	clear(b)
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
+	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

@@ -70,132 +70,119 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b = b[:9:9]
 	x := in.Coords[:6:6]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := -x[0]
-	j00 := c1 + x[2]
-	c2 := -x[1]
-	j11 := c2 + x[5]
-	c3 := j00 * j11
-	j01 := c1 + x[4]
-	j10 := c2 + x[3]
-	c4 := j01 * j10
-	detJ := c3 - c4
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c2 := j01 * j10
+	detJ := c1 - c2
+	c3 := -j10
+	c4 := -j01
+	c5 := j01 * j01
+	c6 := 20.0 * c5
+	c7 := j00 * j01
+	c8 := c7 * (-20.0)
+	c9 := j00 * j00
+	c10 := 20.0 * c9
+	c11 := j11 * j11
+	c12 := 20.0 * c11
+	c13 := j11 * j10
+	c14 := (-20.0) * c13
+	c15 := j10 * j10
+	c16 := 20.0 * c15
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c5 := j10 * rdetJ
-	c6 := detJ * k00
-	c7 := detJ * c5
-	c8 := -c7
-	c9 := 20.0 * detJ
-	c10 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c11 := c10 * c10
-	c12 := c9 * c11
-	c13 := c10 * k11
-	c14 := c9 * c13
-	c15 := -c14
-	c16 := k11 * k11
-	c17 := c9 * c16
-	c18 := k00 * k00
-	c19 := c9 * c18
-	c20 := k00 * c5
-	c21 := c9 * c20
-	c22 := c5 * c5
-	c23 := c9 * c22
-	c24 := c12 + c19
-	c25 := c15 - c21
-	c26 := c17 + c23
-	c27 := detJ * c10
-	c28 := -c27
-	c29 := detJ * k11
-	c30 := (-9.81) * detJ
+	c17 := c6 + c12
+	c18 := rdetJ * c17
+	c19 := c8 + c14
+	c20 := rdetJ * c19
+	c21 := c10 + c16
+	c22 := rdetJ * c21
+	c23 := (-9.81) * detJ
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	var rhs [9]float64
+	clear(A)
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
+	b[6] = 0
+	b[7] = 0
+	b[8] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	acc[6] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[7] += 0.1666666666666667 * c6
-	acc[8] += 0.1666666666666667 * c8
-	acc[15] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[16] += 0.16666666666666666 * c6
-	acc[17] += 0.16666666666666666 * c8
-	acc[24] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[25] += 0.16666666666666666 * c6
-	acc[26] += 0.16666666666666666 * c8
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	A[6] = 0.1666666666666667 * (-j11 - c3)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c3
+	A[15] = 0.16666666666666666 * (-j11 - c3)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c3
+	A[24] = 0.16666666666666666 * (-j11 - c3)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c3
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//	(20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:14]
-	acc[0] += 0.5*c24 + c25 + 0.5*c26
-	acc[1] += (-0.5)*c24 - 0.5*c25
-	acc[2] += (-0.5)*c25 - 0.5*c26
-	acc[9] += (-0.5)*c24 - 0.5*c25
-	acc[10] += 0.5 * c24
-	acc[11] += 0.5 * c25
-	acc[18] += (-0.5)*c25 - 0.5*c26
-	acc[19] += 0.5 * c25
-	acc[20] += 0.5 * c26
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:14]
+	A[0] = 0.5*(c18+c22) + c20
+	A[1] = 0.5 * (-c18 - c20)
+	A[2] = 0.5 * (-c20 - c22)
+	A[9] = 0.5 * (-c18 - c20)
+	A[10] = 0.5 * c18
+	A[11] = 0.5 * c20
+	A[18] = 0.5 * (-c20 - c22)
+	A[19] = 0.5 * c20
+	A[20] = 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	acc[33] += (-0.1666666666666667)*c28 - 0.1666666666666667*c29
-	acc[34] += 0.1666666666666667 * c28
-	acc[35] += 0.1666666666666667 * c29
-	acc[42] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[43] += 0.16666666666666666 * c28
-	acc[44] += 0.16666666666666666 * c29
-	acc[51] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[52] += 0.16666666666666666 * c28
-	acc[53] += 0.16666666666666666 * c29
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	A[33] = 0.1666666666666667 * (-c4 - j00)
+	A[34] = 0.1666666666666667 * c4
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c4 - j00)
+	A[43] = 0.16666666666666666 * c4
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c4 - j00)
+	A[52] = 0.16666666666666666 * c4
+	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:14]
-	//	(20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	acc[30] += 0.5*c24 + c25 + 0.5*c26
-	acc[31] += (-0.5)*c24 - 0.5*c25
-	acc[32] += (-0.5)*c25 - 0.5*c26
-	acc[39] += (-0.5)*c24 - 0.5*c25
-	acc[40] += 0.5 * c24
-	acc[41] += 0.5 * c25
-	acc[48] += (-0.5)*c25 - 0.5*c26
-	acc[49] += 0.5 * c25
-	acc[50] += 0.5 * c26
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:14]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	A[30] = 0.5*(c18+c22) + c20
+	A[31] = 0.5 * (-c18 - c20)
+	A[32] = 0.5 * (-c20 - c22)
+	A[39] = 0.5 * (-c18 - c20)
+	A[40] = 0.5 * c18
+	A[41] = 0.5 * c20
+	A[48] = 0.5 * (-c20 - c22)
+	A[49] = 0.5 * c20
+	A[50] = 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	acc[54] += (-0.1666666666666667)*c6 - 0.1666666666666667*c8
-	acc[55] += 0.1666666666666667 * c6
-	acc[56] += 0.1666666666666667 * c8
-	acc[63] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[64] += 0.16666666666666666 * c6
-	acc[65] += 0.16666666666666666 * c8
-	acc[72] += (-0.16666666666666666)*c6 - 0.16666666666666666*c8
-	acc[73] += 0.16666666666666666 * c6
-	acc[74] += 0.16666666666666666 * c8
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
+	A[54] = 0.1666666666666667 * (-j11 - c3)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c3
+	A[63] = 0.16666666666666666 * (-j11 - c3)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c3
+	A[72] = 0.16666666666666666 * (-j11 - c3)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c3
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	acc[57] += (-0.1666666666666667)*c28 - 0.1666666666666667*c29
-	acc[58] += 0.1666666666666667 * c28
-	acc[59] += 0.1666666666666667 * c29
-	acc[66] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[67] += 0.16666666666666666 * c28
-	acc[68] += 0.16666666666666666 * c29
-	acc[75] += (-0.16666666666666666)*c28 - 0.16666666666666666*c29
-	acc[76] += 0.16666666666666666 * c28
-	acc[77] += 0.16666666666666666 * c29
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
+	A[57] = 0.1666666666666667 * (-c4 - j00)
+	A[58] = 0.1666666666666667 * c4
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c4 - j00)
+	A[67] = 0.16666666666666666 * c4
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c4 - j00)
+	A[76] = 0.16666666666666666 * c4
+	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//
-	//	-981/100 · test(vel)[2]   [model.fw:14]
-	rhs[3] += 0.1666666666666667 * c30
-	rhs[4] += 0.16666666666666666 * c30
-	rhs[5] += 0.16666666666666666 * c30
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	b[3] = 0.1666666666666667 * c23
+	b[4] = 0.16666666666666666 * c23
+	b[5] = 0.16666666666666666 * c23
 }
 
 // fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
@@ -239,224 +226,215 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef12 := c18 * 0.0125
-	coef17 := c18 * (-0.122625)
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := 20.0 * c22
+	c24 := j00 * j01
+	c25 := c24 * (-20.0)
+	c26 := j00 * j00
+	c27 := 20.0 * c26
+	c28 := j11 * j11
+	c29 := 40.0 * c28
+	c30 := j11 * j10
+	c31 := c30 * (-40.0)
+	c32 := j10 * j10
+	c33 := 40.0 * c32
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := 20.0 * detJ
-	c26 := j01 * rdetJ
-	k11 := j00 * rdetJ
-	c27 := c26 * c26
-	c28 := c25 * c27
-	c29 := c26 * k11
-	c30 := c25 * c29
-	c31 := -c30
-	c32 := k11 * k11
-	c33 := c25 * c32
-	c34 := 40.0 * detJ
-	c35 := k00 * k00
-	c36 := c34 * c35
-	c37 := k00 * c21
-	c38 := c34 * c37
-	c39 := c21 * c21
-	c40 := c34 * c39
-	c41 := c28 + c36
-	c42 := c31 - c38
-	c43 := c33 + c40
-	c44 := k00 * c26
-	c45 := c25 * c44
-	c46 := -c45
-	c47 := k00 * k11
-	c48 := c25 * c47
-	c49 := c21 * c26
-	c50 := c25 * c49
-	c51 := c21 * k11
-	c52 := c25 * c51
-	c53 := -c52
-	c54 := detJ * c26
-	c55 := -c54
-	c56 := detJ * k11
-	c57 := c27 * c34
-	c58 := c29 * c34
-	c59 := -c58
-	c60 := c32 * c34
-	c61 := c25 * c35
-	c62 := c25 * c37
-	c63 := c25 * c39
-	c64 := c57 + c61
-	c65 := c59 - c62
-	c66 := c60 + c63
-	c67 := coef12 * detJ
-	c68 := c27 * c67
-	c69 := c29 * c67
-	c70 := -c69
-	c71 := c32 * c67
-	c72 := c35 * c67
-	c73 := c37 * c67
-	c74 := c39 * c67
-	c75 := c68 + c72
-	c76 := c70 - c73
-	c77 := c71 + c74
-	c78 := (-9.81) * detJ
-	c79 := coef17 * detJ
-	c80 := c26 * c79
-	c81 := -c80
-	c82 := k11 * c79
+	c34 := c23 + c29
+	c35 := rdetJ * c34
+	c36 := c25 + c31
+	c37 := rdetJ * c36
+	c38 := c27 + c33
+	c39 := rdetJ * c38
+	c40 := j11 * j01
+	c41 := (-20.0) * c40
+	c42 := 20.0 * c18
+	c43 := 20.0 * c19
+	c44 := j00 * j10
+	c45 := (-20.0) * c44
+	c46 := rdetJ * c41
+	c47 := rdetJ * c42
+	c48 := rdetJ * c43
+	c49 := rdetJ * c45
+	c50 := 40.0 * c22
+	c51 := c24 * (-40.0)
+	c52 := 40.0 * c26
+	c53 := 20.0 * c28
+	c54 := (-20.0) * c30
+	c55 := 20.0 * c32
+	c56 := c50 + c53
+	c57 := rdetJ * c56
+	c58 := c51 + c54
+	c59 := rdetJ * c58
+	c60 := c52 + c55
+	c61 := rdetJ * c60
+	c62 := 0.0125 * c22
+	c63 := c24 * (-0.0125)
+	c64 := 0.0125 * c26
+	c65 := 0.0125 * c28
+	c66 := c30 * (-0.0125)
+	c67 := 0.0125 * c32
+	c68 := c62 + c65
+	c69 := rdetJ * c68
+	c70 := c63 + c66
+	c71 := rdetJ * c70
+	c72 := c64 + c67
+	c73 := rdetJ * c72
+	c74 := c69 * 0.5
+	c75 := c71 * 0.5
+	c76 := c73 * 0.5
+	c77 := c74 + c75 + c75 + c76
+	c78 := c69 * (-0.5)
+	c79 := c71 * (-0.5)
+	c80 := c78 + c79
+	c81 := c73 * (-0.5)
+	c82 := c79 + c81
+	c83 := (-9.81) * detJ
+	c84 := j01 * 0.122625
+	c85 := (-0.122625) * j00
+	c86 := (-0.5) * c84
+	c87 := (-0.5) * c85
+	c88 := c86 + c87
+	c89 := 0.5 * c84
+	c90 := 0.5 * c85
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	var rhs [9]float64
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//	(40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	acc[0] += 0.5*c41 + c42 + 0.5*c43
-	acc[1] += (-0.5)*c41 - 0.5*c42
-	acc[2] += (-0.5)*c42 - 0.5*c43
-	acc[9] += (-0.5)*c41 - 0.5*c42
-	acc[10] += 0.5 * c41
-	acc[11] += 0.5 * c42
-	acc[18] += (-0.5)*c42 - 0.5*c43
-	acc[19] += 0.5 * c42
-	acc[20] += 0.5 * c43
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	A[0] = 0.5*(c35+c39) + c37
+	A[1] = 0.5 * (-c35 - c37)
+	A[2] = 0.5 * (-c37 - c39)
+	A[9] = 0.5 * (-c35 - c37)
+	A[10] = 0.5 * c35
+	A[11] = 0.5 * c37
+	A[18] = 0.5 * (-c37 - c39)
+	A[19] = 0.5 * c37
+	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
-	acc[3] += 0.5*c46 + 0.5*c48 + 0.5*c50 + 0.5*c53
-	acc[4] += (-0.5)*c46 - 0.5*c50
-	acc[5] += (-0.5)*c48 - 0.5*c53
-	acc[12] += (-0.5)*c46 - 0.5*c48
-	acc[13] += 0.5 * c46
-	acc[14] += 0.5 * c48
-	acc[21] += (-0.5)*c50 - 0.5*c53
-	acc[22] += 0.5 * c50
-	acc[23] += 0.5 * c53
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	A[3] = 0.5 * (c46 + c47 + c48 + c49)
+	A[4] = 0.5 * (-c46 - c48)
+	A[5] = 0.5 * (-c47 - c49)
+	A[12] = 0.5 * (-c46 - c47)
+	A[13] = 0.5 * c46
+	A[14] = 0.5 * c47
+	A[21] = 0.5 * (-c48 - c49)
+	A[22] = 0.5 * c48
+	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	acc[33] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[34] += 0.1666666666666667 * c55
-	acc[35] += 0.1666666666666667 * c56
-	acc[42] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[43] += 0.16666666666666666 * c55
-	acc[44] += 0.16666666666666666 * c56
-	acc[51] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[52] += 0.16666666666666666 * c55
-	acc[53] += 0.16666666666666666 * c56
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
-	acc[27] += 0.5*c46 + 0.5*c50 + 0.5*c48 + 0.5*c53
-	acc[28] += (-0.5)*c46 - 0.5*c48
-	acc[29] += (-0.5)*c50 - 0.5*c53
-	acc[36] += (-0.5)*c46 - 0.5*c50
-	acc[37] += 0.5 * c46
-	acc[38] += 0.5 * c50
-	acc[45] += (-0.5)*c48 - 0.5*c53
-	acc[46] += 0.5 * c48
-	acc[47] += 0.5 * c53
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	A[27] = 0.5 * (c46 + c48 + c47 + c49)
+	A[28] = 0.5 * (-c46 - c47)
+	A[29] = 0.5 * (-c48 - c49)
+	A[36] = 0.5 * (-c46 - c48)
+	A[37] = 0.5 * c46
+	A[38] = 0.5 * c48
+	A[45] = 0.5 * (-c47 - c49)
+	A[46] = 0.5 * c47
+	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//	(20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	acc[30] += 0.5*c64 + c65 + 0.5*c66
-	acc[31] += (-0.5)*c64 - 0.5*c65
-	acc[32] += (-0.5)*c65 - 0.5*c66
-	acc[39] += (-0.5)*c64 - 0.5*c65
-	acc[40] += 0.5 * c64
-	acc[41] += 0.5 * c65
-	acc[48] += (-0.5)*c65 - 0.5*c66
-	acc[49] += 0.5 * c65
-	acc[50] += 0.5 * c66
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	A[30] = 0.5*(c57+c61) + c59
+	A[31] = 0.5 * (-c57 - c59)
+	A[32] = 0.5 * (-c59 - c61)
+	A[39] = 0.5 * (-c57 - c59)
+	A[40] = 0.5 * c57
+	A[41] = 0.5 * c59
+	A[48] = 0.5 * (-c59 - c61)
+	A[49] = 0.5 * c59
+	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
-	acc[57] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[58] += 0.1666666666666667 * c55
-	acc[59] += 0.1666666666666667 * c56
-	acc[66] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[67] += 0.16666666666666666 * c55
-	acc[68] += 0.16666666666666666 * c56
-	acc[75] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[76] += 0.16666666666666666 * c55
-	acc[77] += 0.16666666666666666 * c56
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//	(cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
-	acc[60] += 0.5*c75 + c76 + 0.5*c77
-	acc[61] += (-0.5)*c75 - 0.5*c76
-	acc[62] += (-0.5)*c76 - 0.5*c77
-	acc[69] += (-0.5)*c75 - 0.5*c76
-	acc[70] += 0.5 * c75
-	acc[71] += 0.5 * c76
-	acc[78] += (-0.5)*c76 - 0.5*c77
-	acc[79] += 0.5 * c76
-	acc[80] += 0.5 * c77
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	A[60] = c17 * c77
+	A[61] = c17 * c80
+	A[62] = c17 * c82
+	A[69] = c17 * c80
+	A[70] = c17 * c74
+	A[71] = c17 * c75
+	A[78] = c17 * c82
+	A[79] = c17 * c75
+	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//
-	//	-981/100 · test(vel)[2]   [model.fw:14]
-	rhs[3] += 0.1666666666666667 * c78
-	rhs[4] += 0.16666666666666666 * c78
-	rhs[5] += 0.16666666666666666 * c78
+	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	b[3] = 0.1666666666666667 * c83
+	b[4] = 0.16666666666666666 * c83
+	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//
-	//	-981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
-	rhs[6] += (-0.5)*c81 - 0.5*c82
-	rhs[7] += 0.5 * c81
-	rhs[8] += 0.5 * c82
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	b[6] = c17 * c88
+	b[7] = c17 * c89
+	b[8] = c17 * c90
 }
 
 // fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -500,238 +478,229 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef24 := c18 * 0.0125
-	coef31 := c18 * (-0.122625)
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := j00 * j01
+	c24 := j00 * j00
+	c25 := j11 * j11
+	c26 := j11 * j10
+	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := j01 * rdetJ
-	c26 := c25 * c25
-	k11 := j00 * rdetJ
-	c27 := c25 * k11
-	c28 := k11 * k11
-	c29 := k00 * k00
-	c30 := k00 * c21
-	c31 := c21 * c21
-	c32 := 20.0 * detJ
-	c33 := c26 * c32
-	c34 := c27 * c32
-	c35 := -c34
-	c36 := c28 * c32
-	c37 := 40.0 * detJ
-	c38 := c29 * c37
-	c39 := c30 * c37
-	c40 := c31 * c37
-	c41 := c33 + c38
-	c42 := c35 - c39
-	c43 := c36 + c40
-	c44 := k00 * c25
-	c45 := c32 * c44
-	c46 := -c45
-	c47 := k00 * k11
-	c48 := c32 * c47
-	c49 := c21 * c25
-	c50 := c32 * c49
-	c51 := c21 * k11
-	c52 := c32 * c51
-	c53 := -c52
-	c54 := detJ * c25
-	c55 := -c54
-	c56 := detJ * k11
-	c57 := c26 * c37
-	c58 := c27 * c37
-	c59 := -c58
-	c60 := c28 * c37
-	c61 := c29 * c32
-	c62 := c30 * c32
-	c63 := c31 * c32
-	c64 := c57 + c61
-	c65 := c59 - c62
-	c66 := c60 + c63
-	c67 := coef24 * detJ
-	c68 := c26 * c67
-	c69 := c27 * c67
-	c70 := -c69
-	c71 := c28 * c67
-	c72 := c29 * c67
-	c73 := c30 * c67
-	c74 := c31 * c67
-	c75 := c68 + c72
-	c76 := c70 - c73
-	c77 := c71 + c74
-	c78 := (-9.81) * detJ
-	c79 := coef31 * detJ
-	c80 := c25 * c79
-	c81 := -c80
-	c82 := k11 * c79
+	c28 := 20.0 * c22
+	c29 := c23 * (-20.0)
+	c30 := 20.0 * c24
+	c31 := 40.0 * c25
+	c32 := c26 * (-40.0)
+	c33 := 40.0 * c27
+	c34 := c28 + c31
+	c35 := rdetJ * c34
+	c36 := c29 + c32
+	c37 := rdetJ * c36
+	c38 := c30 + c33
+	c39 := rdetJ * c38
+	c40 := j11 * j01
+	c41 := (-20.0) * c40
+	c42 := 20.0 * c18
+	c43 := 20.0 * c19
+	c44 := j00 * j10
+	c45 := (-20.0) * c44
+	c46 := rdetJ * c41
+	c47 := rdetJ * c42
+	c48 := rdetJ * c43
+	c49 := rdetJ * c45
+	c50 := 40.0 * c22
+	c51 := c23 * (-40.0)
+	c52 := 40.0 * c24
+	c53 := 20.0 * c25
+	c54 := c26 * (-20.0)
+	c55 := 20.0 * c27
+	c56 := c50 + c53
+	c57 := rdetJ * c56
+	c58 := c51 + c54
+	c59 := rdetJ * c58
+	c60 := c52 + c55
+	c61 := rdetJ * c60
+	c62 := 0.0125 * c22
+	c63 := c23 * (-0.0125)
+	c64 := 0.0125 * c24
+	c65 := 0.0125 * c25
+	c66 := c26 * (-0.0125)
+	c67 := 0.0125 * c27
+	c68 := c62 + c65
+	c69 := rdetJ * c68
+	c70 := c63 + c66
+	c71 := rdetJ * c70
+	c72 := c64 + c67
+	c73 := rdetJ * c72
+	c74 := c69 * 0.5
+	c75 := c71 * 0.5
+	c76 := c73 * 0.5
+	c77 := c74 + c75 + c75 + c76
+	c78 := c69 * (-0.5)
+	c79 := c71 * (-0.5)
+	c80 := c78 + c79
+	c81 := c73 * (-0.5)
+	c82 := c79 + c81
+	c83 := (-9.81) * detJ
+	c84 := j01 * 0.122625
+	c85 := (-0.122625) * j00
+	c86 := (-0.5) * c84
+	c87 := (-0.5) * c85
+	c88 := c86 + c87
+	c89 := 0.5 * c84
+	c90 := 0.5 * c85
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	var rhs [9]float64
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	//	(5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
-	acc[0] += 0.5*c41 + c42 + 0.5*c43
-	acc[1] += (-0.5)*c41 - 0.5*c42
-	acc[2] += (-0.5)*c42 - 0.5*c43
-	acc[9] += (-0.5)*c41 - 0.5*c42
-	acc[10] += 0.5 * c41
-	acc[11] += 0.5 * c42
-	acc[18] += (-0.5)*c42 - 0.5*c43
-	acc[19] += 0.5 * c42
-	acc[20] += 0.5 * c43
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	A[0] = 0.5*(c35+c39) + c37
+	A[1] = 0.5 * (-c35 - c37)
+	A[2] = 0.5 * (-c37 - c39)
+	A[9] = 0.5 * (-c35 - c37)
+	A[10] = 0.5 * c35
+	A[11] = 0.5 * c37
+	A[18] = 0.5 * (-c37 - c39)
+	A[19] = 0.5 * c37
+	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
-	acc[3] += 0.5*c46 + 0.5*c48 + 0.5*c50 + 0.5*c53
-	acc[4] += (-0.5)*c46 - 0.5*c50
-	acc[5] += (-0.5)*c48 - 0.5*c53
-	acc[12] += (-0.5)*c46 - 0.5*c48
-	acc[13] += 0.5 * c46
-	acc[14] += 0.5 * c48
-	acc[21] += (-0.5)*c50 - 0.5*c53
-	acc[22] += 0.5 * c50
-	acc[23] += 0.5 * c53
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	A[3] = 0.5 * (c46 + c47 + c48 + c49)
+	A[4] = 0.5 * (-c46 - c48)
+	A[5] = 0.5 * (-c47 - c49)
+	A[12] = 0.5 * (-c46 - c47)
+	A[13] = 0.5 * c46
+	A[14] = 0.5 * c47
+	A[21] = 0.5 * (-c48 - c49)
+	A[22] = 0.5 * c48
+	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	acc[33] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[34] += 0.1666666666666667 * c55
-	acc[35] += 0.1666666666666667 * c56
-	acc[42] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[43] += 0.16666666666666666 * c55
-	acc[44] += 0.16666666666666666 * c56
-	acc[51] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[52] += 0.16666666666666666 * c55
-	acc[53] += 0.16666666666666666 * c56
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
-	acc[27] += 0.5*c46 + 0.5*c50 + 0.5*c48 + 0.5*c53
-	acc[28] += (-0.5)*c46 - 0.5*c48
-	acc[29] += (-0.5)*c50 - 0.5*c53
-	acc[36] += (-0.5)*c46 - 0.5*c50
-	acc[37] += 0.5 * c46
-	acc[38] += 0.5 * c50
-	acc[45] += (-0.5)*c48 - 0.5*c53
-	acc[46] += 0.5 * c48
-	acc[47] += 0.5 * c53
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	A[27] = 0.5 * (c46 + c48 + c47 + c49)
+	A[28] = 0.5 * (-c46 - c47)
+	A[29] = 0.5 * (-c48 - c49)
+	A[36] = 0.5 * (-c46 - c48)
+	A[37] = 0.5 * c46
+	A[38] = 0.5 * c48
+	A[45] = 0.5 * (-c47 - c49)
+	A[46] = 0.5 * c47
+	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//	(5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	//	(5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
-	acc[30] += 0.5*c64 + c65 + 0.5*c66
-	acc[31] += (-0.5)*c64 - 0.5*c65
-	acc[32] += (-0.5)*c65 - 0.5*c66
-	acc[39] += (-0.5)*c64 - 0.5*c65
-	acc[40] += 0.5 * c64
-	acc[41] += 0.5 * c65
-	acc[48] += (-0.5)*c65 - 0.5*c66
-	acc[49] += 0.5 * c65
-	acc[50] += 0.5 * c66
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
+	A[30] = 0.5*(c57+c61) + c59
+	A[31] = 0.5 * (-c57 - c59)
+	A[32] = 0.5 * (-c59 - c61)
+	A[39] = 0.5 * (-c57 - c59)
+	A[40] = 0.5 * c57
+	A[41] = 0.5 * c59
+	A[48] = 0.5 * (-c59 - c61)
+	A[49] = 0.5 * c59
+	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
-	acc[57] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[58] += 0.1666666666666667 * c55
-	acc[59] += 0.1666666666666667 * c56
-	acc[66] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[67] += 0.16666666666666666 * c55
-	acc[68] += 0.16666666666666666 * c56
-	acc[75] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[76] += 0.16666666666666666 * c55
-	acc[77] += 0.16666666666666666 * c56
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//	(cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
-	acc[60] += 0.5*c75 + c76 + 0.5*c77
-	acc[61] += (-0.5)*c75 - 0.5*c76
-	acc[62] += (-0.5)*c76 - 0.5*c77
-	acc[69] += (-0.5)*c75 - 0.5*c76
-	acc[70] += 0.5 * c75
-	acc[71] += 0.5 * c76
-	acc[78] += (-0.5)*c76 - 0.5*c77
-	acc[79] += 0.5 * c76
-	acc[80] += 0.5 * c77
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	A[60] = c17 * c77
+	A[61] = c17 * c80
+	A[62] = c17 * c82
+	A[69] = c17 * c80
+	A[70] = c17 * c74
+	A[71] = c17 * c75
+	A[78] = c17 * c82
+	A[79] = c17 * c75
+	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//
-	//	-981/100 · test(vel)[2]   [model.fw:14]
-	//	981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
-	rhs[3] += 0.1666666666666667 * c78
-	rhs[4] += 0.16666666666666666 * c78
-	rhs[5] += 0.16666666666666666 * c78
+	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	//   - 981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - 981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
+	b[3] = 0.1666666666666667 * c83
+	b[4] = 0.16666666666666666 * c83
+	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//
-	//	-981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
-	rhs[6] += (-0.5)*c81 - 0.5*c82
-	rhs[7] += 0.5 * c81
-	rhs[8] += 0.5 * c82
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	b[6] = c17 * c88
+	b[7] = c17 * c89
+	b[8] = c17 * c90
 }
 
 // fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -775,238 +744,229 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c8 := x[1] - x[5]
 	c9 := c8 * c8
 	c10 := c7 + c9
-	c11 := math.Max(c5, c10)
+	c11 := max(c5, c10)
 	c12 := x[2] - x[4]
 	c13 := c12 * c12
 	c14 := x[3] - x[5]
 	c15 := c14 * c14
 	c16 := c13 + c15
-	c17 := math.Max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * diameter
-	coef24 := c18 * 0.0125
-	coef31 := c18 * (-0.122625)
+	c17 := max(c11, c16)
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	c18 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
+	c19 := j01 * j10
+	detJ := c18 - c19
+	c20 := -j10
+	c21 := -j01
+	c22 := j01 * j01
+	c23 := j00 * j01
+	c24 := j00 * j00
+	c25 := j11 * j11
+	c26 := j11 * j10
+	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c21 := j10 * rdetJ
-	c22 := detJ * k00
-	c23 := detJ * c21
-	c24 := -c23
-	c25 := j01 * rdetJ
-	c26 := c25 * c25
-	k11 := j00 * rdetJ
-	c27 := c25 * k11
-	c28 := k11 * k11
-	c29 := k00 * k00
-	c30 := k00 * c21
-	c31 := c21 * c21
-	c32 := 20.0 * detJ
-	c33 := c26 * c32
-	c34 := c27 * c32
-	c35 := -c34
-	c36 := c28 * c32
-	c37 := 40.0 * detJ
-	c38 := c29 * c37
-	c39 := c30 * c37
-	c40 := c31 * c37
-	c41 := c33 + c38
-	c42 := c35 - c39
-	c43 := c36 + c40
-	c44 := k00 * c25
-	c45 := c32 * c44
-	c46 := -c45
-	c47 := k00 * k11
-	c48 := c32 * c47
-	c49 := c21 * c25
-	c50 := c32 * c49
-	c51 := c21 * k11
-	c52 := c32 * c51
-	c53 := -c52
-	c54 := detJ * c25
-	c55 := -c54
-	c56 := detJ * k11
-	c57 := c26 * c37
-	c58 := c27 * c37
-	c59 := -c58
-	c60 := c28 * c37
-	c61 := c29 * c32
-	c62 := c30 * c32
-	c63 := c31 * c32
-	c64 := c57 + c61
-	c65 := c59 - c62
-	c66 := c60 + c63
-	c67 := coef24 * detJ
-	c68 := c26 * c67
-	c69 := c27 * c67
-	c70 := -c69
-	c71 := c28 * c67
-	c72 := c29 * c67
-	c73 := c30 * c67
-	c74 := c31 * c67
-	c75 := c68 + c72
-	c76 := c70 - c73
-	c77 := c71 + c74
-	c78 := (-9.81) * detJ
-	c79 := coef31 * detJ
-	c80 := c25 * c79
-	c81 := -c80
-	c82 := k11 * c79
+	c28 := 20.0 * c22
+	c29 := c23 * (-20.0)
+	c30 := 20.0 * c24
+	c31 := 40.0 * c25
+	c32 := c26 * (-40.0)
+	c33 := 40.0 * c27
+	c34 := c28 + c31
+	c35 := rdetJ * c34
+	c36 := c29 + c32
+	c37 := rdetJ * c36
+	c38 := c30 + c33
+	c39 := rdetJ * c38
+	c40 := j11 * j01
+	c41 := (-20.0) * c40
+	c42 := 20.0 * c18
+	c43 := 20.0 * c19
+	c44 := j00 * j10
+	c45 := (-20.0) * c44
+	c46 := rdetJ * c41
+	c47 := rdetJ * c42
+	c48 := rdetJ * c43
+	c49 := rdetJ * c45
+	c50 := 40.0 * c22
+	c51 := c23 * (-40.0)
+	c52 := 40.0 * c24
+	c53 := 20.0 * c25
+	c54 := c26 * (-20.0)
+	c55 := 20.0 * c27
+	c56 := c50 + c53
+	c57 := rdetJ * c56
+	c58 := c51 + c54
+	c59 := rdetJ * c58
+	c60 := c52 + c55
+	c61 := rdetJ * c60
+	c62 := 0.0125 * c22
+	c63 := c23 * (-0.0125)
+	c64 := 0.0125 * c24
+	c65 := 0.0125 * c25
+	c66 := c26 * (-0.0125)
+	c67 := 0.0125 * c27
+	c68 := c62 + c65
+	c69 := rdetJ * c68
+	c70 := c63 + c66
+	c71 := rdetJ * c70
+	c72 := c64 + c67
+	c73 := rdetJ * c72
+	c74 := c69 * 0.5
+	c75 := c71 * 0.5
+	c76 := c73 * 0.5
+	c77 := c74 + c75 + c75 + c76
+	c78 := c69 * (-0.5)
+	c79 := c71 * (-0.5)
+	c80 := c78 + c79
+	c81 := c73 * (-0.5)
+	c82 := c79 + c81
+	c83 := (-9.81) * detJ
+	c84 := j01 * 0.122625
+	c85 := (-0.122625) * j00
+	c86 := (-0.5) * c84
+	c87 := (-0.5) * c85
+	c88 := c86 + c87
+	c89 := 0.5 * c84
+	c90 := 0.5 * c85
 	if !(detJ > 0) {
 		fwFillNaN(A, b)
 		return
 	}
-	var acc [81]float64
-	var rhs [9]float64
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//
-	//	(1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
-	acc[6] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[7] += 0.1666666666666667 * c22
-	acc[8] += 0.1666666666666667 * c24
-	acc[15] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[16] += 0.16666666666666666 * c22
-	acc[17] += 0.16666666666666666 * c24
-	acc[24] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[25] += 0.16666666666666666 * c22
-	acc[26] += 0.16666666666666666 * c24
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	A[6] = 0.1666666666666667 * (-j11 - c20)
+	A[7] = 0.1666666666666667 * j11
+	A[8] = 0.1666666666666667 * c20
+	A[15] = 0.16666666666666666 * (-j11 - c20)
+	A[16] = 0.16666666666666666 * j11
+	A[17] = 0.16666666666666666 * c20
+	A[24] = 0.16666666666666666 * (-j11 - c20)
+	A[25] = 0.16666666666666666 * j11
+	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//
-	//	(20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//	(40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	//	(-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
-	acc[0] += 0.5*c41 + c42 + 0.5*c43
-	acc[1] += (-0.5)*c41 - 0.5*c42
-	acc[2] += (-0.5)*c42 - 0.5*c43
-	acc[9] += (-0.5)*c41 - 0.5*c42
-	acc[10] += 0.5 * c41
-	acc[11] += 0.5 * c42
-	acc[18] += (-0.5)*c42 - 0.5*c43
-	acc[19] += 0.5 * c42
-	acc[20] += 0.5 * c43
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	A[0] = 0.5*(c35+c39) + c37
+	A[1] = 0.5 * (-c35 - c37)
+	A[2] = 0.5 * (-c37 - c39)
+	A[9] = 0.5 * (-c35 - c37)
+	A[10] = 0.5 * c35
+	A[11] = 0.5 * c37
+	A[18] = 0.5 * (-c37 - c39)
+	A[19] = 0.5 * c37
+	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//
-	//	(20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
-	acc[3] += 0.5*c46 + 0.5*c48 + 0.5*c50 + 0.5*c53
-	acc[4] += (-0.5)*c46 - 0.5*c50
-	acc[5] += (-0.5)*c48 - 0.5*c53
-	acc[12] += (-0.5)*c46 - 0.5*c48
-	acc[13] += 0.5 * c46
-	acc[14] += 0.5 * c48
-	acc[21] += (-0.5)*c50 - 0.5*c53
-	acc[22] += 0.5 * c50
-	acc[23] += 0.5 * c53
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	A[3] = 0.5 * (c46 + c47 + c48 + c49)
+	A[4] = 0.5 * (-c46 - c48)
+	A[5] = 0.5 * (-c47 - c49)
+	A[12] = 0.5 * (-c46 - c47)
+	A[13] = 0.5 * c46
+	A[14] = 0.5 * c47
+	A[21] = 0.5 * (-c48 - c49)
+	A[22] = 0.5 * c48
+	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//
-	//	(1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	acc[33] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[34] += 0.1666666666666667 * c55
-	acc[35] += 0.1666666666666667 * c56
-	acc[42] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[43] += 0.16666666666666666 * c55
-	acc[44] += 0.16666666666666666 * c56
-	acc[51] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[52] += 0.16666666666666666 * c55
-	acc[53] += 0.16666666666666666 * c56
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	A[33] = 0.1666666666666667 * (-c21 - j00)
+	A[34] = 0.1666666666666667 * c21
+	A[35] = 0.1666666666666667 * j00
+	A[42] = 0.16666666666666666 * (-c21 - j00)
+	A[43] = 0.16666666666666666 * c21
+	A[44] = 0.16666666666666666 * j00
+	A[51] = 0.16666666666666666 * (-c21 - j00)
+	A[52] = 0.16666666666666666 * c21
+	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//
-	//	(20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
-	acc[27] += 0.5*c46 + 0.5*c50 + 0.5*c48 + 0.5*c53
-	acc[28] += (-0.5)*c46 - 0.5*c48
-	acc[29] += (-0.5)*c50 - 0.5*c53
-	acc[36] += (-0.5)*c46 - 0.5*c50
-	acc[37] += 0.5 * c46
-	acc[38] += 0.5 * c50
-	acc[45] += (-0.5)*c48 - 0.5*c53
-	acc[46] += 0.5 * c48
-	acc[47] += 0.5 * c53
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	A[27] = 0.5 * (c46 + c48 + c47 + c49)
+	A[28] = 0.5 * (-c46 - c47)
+	A[29] = 0.5 * (-c48 - c49)
+	A[36] = 0.5 * (-c46 - c48)
+	A[37] = 0.5 * c46
+	A[38] = 0.5 * c48
+	A[45] = 0.5 * (-c47 - c49)
+	A[46] = 0.5 * c47
+	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//
-	//	(40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//	(-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	(20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	//	(-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
-	acc[30] += 0.5*c64 + c65 + 0.5*c66
-	acc[31] += (-0.5)*c64 - 0.5*c65
-	acc[32] += (-0.5)*c65 - 0.5*c66
-	acc[39] += (-0.5)*c64 - 0.5*c65
-	acc[40] += 0.5 * c64
-	acc[41] += 0.5 * c65
-	acc[48] += (-0.5)*c65 - 0.5*c66
-	acc[49] += 0.5 * c65
-	acc[50] += 0.5 * c66
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
+	A[30] = 0.5*(c57+c61) + c59
+	A[31] = 0.5 * (-c57 - c59)
+	A[32] = 0.5 * (-c59 - c61)
+	A[39] = 0.5 * (-c57 - c59)
+	A[40] = 0.5 * c57
+	A[41] = 0.5 * c59
+	A[48] = 0.5 * (-c59 - c61)
+	A[49] = 0.5 * c59
+	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//
-	//	(1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
-	acc[54] += (-0.1666666666666667)*c22 - 0.1666666666666667*c24
-	acc[55] += 0.1666666666666667 * c22
-	acc[56] += 0.1666666666666667 * c24
-	acc[63] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[64] += 0.16666666666666666 * c22
-	acc[65] += 0.16666666666666666 * c24
-	acc[72] += (-0.16666666666666666)*c22 - 0.16666666666666666*c24
-	acc[73] += 0.16666666666666666 * c22
-	acc[74] += 0.16666666666666666 * c24
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	A[54] = 0.1666666666666667 * (-j11 - c20)
+	A[55] = 0.1666666666666667 * j11
+	A[56] = 0.1666666666666667 * c20
+	A[63] = 0.16666666666666666 * (-j11 - c20)
+	A[64] = 0.16666666666666666 * j11
+	A[65] = 0.16666666666666666 * c20
+	A[72] = 0.16666666666666666 * (-j11 - c20)
+	A[73] = 0.16666666666666666 * j11
+	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//
-	//	(1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//	(-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
-	acc[57] += (-0.1666666666666667)*c55 - 0.1666666666666667*c56
-	acc[58] += 0.1666666666666667 * c55
-	acc[59] += 0.1666666666666667 * c56
-	acc[66] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[67] += 0.16666666666666666 * c55
-	acc[68] += 0.16666666666666666 * c56
-	acc[75] += (-0.16666666666666666)*c55 - 0.16666666666666666*c56
-	acc[76] += 0.16666666666666666 * c55
-	acc[77] += 0.16666666666666666 * c56
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	A[57] = 0.1666666666666667 * (-c21 - j00)
+	A[58] = 0.1666666666666667 * c21
+	A[59] = 0.1666666666666667 * j00
+	A[66] = 0.16666666666666666 * (-c21 - j00)
+	A[67] = 0.16666666666666666 * c21
+	A[68] = 0.16666666666666666 * j00
+	A[75] = 0.16666666666666666 * (-c21 - j00)
+	A[76] = 0.16666666666666666 * c21
+	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//
-	//	(cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//	(cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
-	acc[60] += 0.5*c75 + c76 + 0.5*c77
-	acc[61] += (-0.5)*c75 - 0.5*c76
-	acc[62] += (-0.5)*c76 - 0.5*c77
-	acc[69] += (-0.5)*c75 - 0.5*c76
-	acc[70] += 0.5 * c75
-	acc[71] += 0.5 * c76
-	acc[78] += (-0.5)*c76 - 0.5*c77
-	acc[79] += 0.5 * c76
-	acc[80] += 0.5 * c77
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	A[60] = c17 * c77
+	A[61] = c17 * c80
+	A[62] = c17 * c82
+	A[69] = c17 * c80
+	A[70] = c17 * c74
+	A[71] = c17 * c75
+	A[78] = c17 * c82
+	A[79] = c17 * c75
+	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//
-	//	-981/100 · test(vel)[2]   [model.fw:14]
-	//	-981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
-	//	-981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
-	rhs[3] += 0.1666666666666667 * c78
-	rhs[4] += 0.16666666666666666 * c78
-	rhs[5] += 0.16666666666666666 * c78
+	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	//   - -981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - -981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
+	b[3] = 0.1666666666666667 * c83
+	b[4] = 0.16666666666666666 * c83
+	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//
-	//	-981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
-	rhs[6] += (-0.5)*c81 - 0.5*c82
-	rhs[7] += 0.5 * c81
-	rhs[8] += 0.5 * c82
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	b[6] = c17 * c88
+	b[7] = c17 * c89
+	b[8] = c17 * c90
 }
 
 // fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
