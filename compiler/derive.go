@@ -240,7 +240,7 @@ func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 	if meth == VMS && hasDiff {
 		for _, u := range m.Unknowns {
 			if u.Element == "P2" || u.Element == "Q2" {
-				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ below h²/C_inv, and the inverse constant C_inv grows with the degree: for %s use a degree-aware τ (c1 = 4p⁴, tau_codina_degree) (Franca, Frey & Hughes 1992; Codina 2002)", u.Element)
+				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ below h²/C_inv, and the inverse constant C_inv grows with the degree: for %s use a degree-aware τ (c1 = 4p⁴, tau_codina_degree), and with h = cell_diameter even that can be too large: erratic errors in verify mean τ must shrink (Franca, Frey & Hughes 1992; Codina 2002)", u.Element)
 				break
 			}
 		}
