@@ -264,59 +264,11 @@ func sanitize(s string) string {
 
 func baseName(p string) string { return filepath.Base(filepath.ToSlash(p)) }
 
-// facetRule is the quadrature the interpreted facet kernel uses on local
-// facet f (runtime/interp makeFacet): the facet reference rule of the same
-// degree mapped into the cell by the facet's vertices, with the facet
-// rule's weights, constant tangents and reference outward normal.
+// facetRule is the quadrature the facet kernels use on local facet f
+// (interp.NewReferenceFacet, shared so both paths integrate alike).
 func facetRule(c cell.Type, f, deg int) (pts, wts []float64, fg *facetGeom) {
-	d := c.Dim()
-	verts := c.Vertices()
-	fv := c.Facets()[f]
-	fg = &facetGeom{}
-	if d == 1 {
-		v := fv[0]
-		fg.nref[0] = 1
-		if verts[v] == 0 {
-			fg.nref[0] = -1
-		}
-		return []float64{verts[v]}, []float64{1}, fg
-	}
-	ft := c.FacetType()
-	fr := quadrature.For(ft, deg)
-	fe := element.MustLagrange(ft, 1)
-	fdim := ft.Dim()
-	nq := fr.NumPoints()
-	pts = make([]float64, nq*d)
-	phi := make([]float64, fe.NumNodes())
-	dphi := make([]float64, fe.NumNodes()*fdim)
-	for q := 0; q < nq; q++ {
-		s := fr.Points[q*fdim : (q+1)*fdim]
-		fe.Eval(s, phi)
-		for a, v := range fv {
-			for k := 0; k < d; k++ {
-				pts[q*d+k] += phi[a] * verts[v*d+k]
-			}
-		}
-	}
-	fe.EvalGrad(fr.Points[:fdim], dphi)
-	for m := 0; m < fdim; m++ {
-		for a, v := range fv {
-			for k := 0; k < d; k++ {
-				fg.tang[m][k] += dphi[a*fdim+m] * verts[v*d+k]
-			}
-		}
-	}
-	p := func(i, k int) float64 { return verts[fv[i]*d+k] }
-	if d == 2 {
-		fg.nref[0], fg.nref[1] = p(1, 1)-p(0, 1), -(p(1, 0) - p(0, 0))
-	} else {
-		var u, w [3]float64
-		for k := 0; k < 3; k++ {
-			u[k], w[k] = p(1, k)-p(0, k), p(2, k)-p(1, k)
-		}
-		fg.nref = [3]float64{u[1]*w[2] - u[2]*w[1], u[2]*w[0] - u[0]*w[2], u[0]*w[1] - u[1]*w[0]}
-	}
-	return pts, append([]float64(nil), fr.Weights...), fg
+	rf := interp.NewReferenceFacet(c, f, deg)
+	return rf.Rule.Points, rf.Rule.Weights, &facetGeom{tang: rf.Tangents, nref: rf.Normal}
 }
 
 func splitIntegrals(lf *ir.LoweredForm, side string) (bil, lin []ir.Term) {

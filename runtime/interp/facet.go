@@ -87,6 +87,24 @@ func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetK
 	return out, nil
 }
 
+// ReferenceFacet is the quadrature on local facet f of the reference cell
+// c that the facet kernels integrate with (interpreted and generated alike):
+// the facet's reference rule of the given degree mapped into the cell's
+// reference coordinates by the facet's vertices, with the facet rule's
+// weights; the constant tangents ∂ξ/∂s_k of that affine parametrisation;
+// and the reference outward normal (not normalised).
+type ReferenceFacet struct {
+	Rule     quadrature.Rule
+	Tangents [2][3]float64
+	Normal   [3]float64
+}
+
+// NewReferenceFacet builds the ReferenceFacet of local facet f of c.
+func NewReferenceFacet(c cell.Type, f, deg int) ReferenceFacet {
+	fd := makeFacet(c, f, deg)
+	return ReferenceFacet{Rule: fd.rule, Tangents: fd.tang, Normal: fd.nref}
+}
+
 func makeFacet(c cell.Type, f, deg int) facetData {
 	d := c.Dim()
 	verts := c.Vertices()
