@@ -71,16 +71,7 @@ func adjointTerm(dim int, t, w ir.Expr, emit func(unknown int, e ir.Expr)) error
 		}
 		return nil
 	case *ir.Mul:
-		// Exactly one factor holds the unknown (the term is linear).
-		var field ir.Expr
-		var rest []ir.Expr
-		for _, f := range t.Factors {
-			if ir.HasRole(f, ir.Trial) && field == nil {
-				field = f
-			} else {
-				rest = append(rest, f)
-			}
-		}
+		field, rest := trialFactor(t)
 		if field == nil {
 			return nil
 		}

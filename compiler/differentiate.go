@@ -130,6 +130,48 @@ func chain(p lang.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
 	return nil
 }
 
+// leibniz applies the rules shared by every derivative d that keeps the
+// rank (a partial derivative in space or time): linearity over sums and
+// literal vectors, the product rule over products and contractions, and
+// the chain rule. It returns nil when none applies.
+func leibniz(p lang.Pos, x ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
+	at := ir.At{P: p}
+	switch x := x.(type) {
+	case *ir.Add:
+		t := make([]ir.Expr, len(x.Terms))
+		for i, u := range x.Terms {
+			t[i] = d(u)
+		}
+		return &ir.Add{At: at, Terms: t}
+	case *ir.Mul:
+		var t []ir.Expr
+		for i, f := range x.Factors {
+			rest := productExcept(p, x.Factors, i)
+			if f.Rank() > 0 {
+				t = append(t, ir.Prod(p, append(rest, d(f))...))
+			} else {
+				t = append(t, ir.Prod(p, append([]ir.Expr{d(f)}, rest...)...))
+			}
+		}
+		return ir.Sum(p, t...)
+	case *ir.Pow, *ir.Call:
+		return chain(p, x, d)
+	case *ir.Vec:
+		el := make([]ir.Expr, len(x.Elems))
+		for i, u := range x.Elems {
+			el[i] = d(u)
+		}
+		return &ir.Vec{At: at, Elems: el}
+	case *ir.Dot:
+		return ir.Sum(p, &ir.Dot{At: x.At, A: d(x.A), B: x.B}, &ir.Dot{At: x.At, A: x.A, B: d(x.B)})
+	case *ir.DDot:
+		return ir.Sum(p, &ir.DDot{At: x.At, A: d(x.A), B: x.B}, &ir.DDot{At: x.At, A: x.A, B: d(x.B)})
+	case *ir.Outer:
+		return ir.Sum(p, &ir.Outer{At: x.At, A: d(x.A), B: x.B}, &ir.Outer{At: x.At, A: x.A, B: d(x.B)})
+	}
+	return nil
+}
+
 func (s simplifier) grad(e *ir.Grad) ir.Expr {
 	p := e.P
 	x := e.X
@@ -195,39 +237,10 @@ func (s simplifier) partial(p lang.Pos, x ir.Expr, axis int, orig ir.Expr) ir.Ex
 	switch x := x.(type) {
 	case *ir.Coord:
 		return ir.Int(p, 1) // x.Axis == axis, or dependsOn would have said no
-	case *ir.Add:
-		t := make([]ir.Expr, len(x.Terms))
-		for i, u := range x.Terms {
-			t[i] = d(u)
-		}
-		return &ir.Add{At: at, Terms: t}
-	case *ir.Mul:
-		var t []ir.Expr
-		for i, f := range x.Factors {
-			rest := productExcept(p, x.Factors, i)
-			if f.Rank() > 0 {
-				t = append(t, ir.Prod(p, append(rest, d(f))...))
-			} else {
-				t = append(t, ir.Prod(p, append([]ir.Expr{d(f)}, rest...)...))
-			}
-		}
-		return ir.Sum(p, t...)
-	case *ir.Pow, *ir.Call:
-		if r := chain(p, x, d); r != nil {
+	case *ir.Add, *ir.Mul, *ir.Pow, *ir.Call, *ir.Vec, *ir.Dot, *ir.DDot, *ir.Outer:
+		if r := leibniz(p, x, d); r != nil {
 			return r
 		}
-	case *ir.Vec:
-		el := make([]ir.Expr, len(x.Elems))
-		for i, u := range x.Elems {
-			el[i] = d(u)
-		}
-		return &ir.Vec{At: at, Elems: el}
-	case *ir.Dot:
-		return ir.Sum(p, &ir.Dot{At: x.At, A: d(x.A), B: x.B}, &ir.Dot{At: x.At, A: x.A, B: d(x.B)})
-	case *ir.DDot:
-		return ir.Sum(p, &ir.DDot{At: x.At, A: d(x.A), B: x.B}, &ir.DDot{At: x.At, A: x.A, B: d(x.B)})
-	case *ir.Outer:
-		return ir.Sum(p, &ir.Outer{At: x.At, A: d(x.A), B: x.B}, &ir.Outer{At: x.At, A: x.A, B: d(x.B)})
 	case *ir.FieldD:
 		d := *x
 		d.D[axis]++
@@ -351,33 +364,10 @@ func (s simplifier) timeDeriv(e *ir.TimeDeriv) ir.Expr {
 		n := *x
 		n.DT++
 		return &n
-	case *ir.Add:
-		t := make([]ir.Expr, len(x.Terms))
-		for i, u := range x.Terms {
-			t[i] = d(u)
-		}
-		return &ir.Add{At: e.At, Terms: t}
-	case *ir.Mul:
-		var t []ir.Expr
-		for i, f := range x.Factors {
-			rest := productExcept(p, x.Factors, i)
-			if f.Rank() > 0 {
-				t = append(t, ir.Prod(p, append(rest, d(f))...))
-			} else {
-				t = append(t, ir.Prod(p, append([]ir.Expr{d(f)}, rest...)...))
-			}
-		}
-		return ir.Sum(p, t...)
-	case *ir.Pow, *ir.Call:
-		if r := chain(p, x, d); r != nil {
+	case *ir.Add, *ir.Mul, *ir.Pow, *ir.Call, *ir.Vec, *ir.Dot, *ir.DDot, *ir.Outer:
+		if r := leibniz(p, x, d); r != nil {
 			return r
 		}
-	case *ir.Vec:
-		el := make([]ir.Expr, len(x.Elems))
-		for i, u := range x.Elems {
-			el[i] = d(u)
-		}
-		return &ir.Vec{At: e.At, Elems: el}
 	case *ir.Grad:
 		return &ir.Grad{At: x.At, X: d(x.X)}
 	case *ir.Div:
@@ -386,8 +376,6 @@ func (s simplifier) timeDeriv(e *ir.TimeDeriv) ir.Expr {
 		return &ir.Lap{At: x.At, X: d(x.X)}
 	case *ir.Partial:
 		return &ir.Partial{At: x.At, X: d(x.X), Axis: x.Axis}
-	case *ir.Dot:
-		return ir.Sum(p, &ir.Dot{At: x.At, A: d(x.A), B: x.B}, &ir.Dot{At: x.At, A: x.A, B: d(x.B)})
 	}
 	return e
 }

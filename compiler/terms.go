@@ -223,3 +223,17 @@ func derivOrder(t ir.Expr) (order int, timeDeriv bool) {
 	walk(t, 0)
 	return order, timeDeriv
 }
+
+// trialFactor splits a product that is linear in the unknown into the one
+// factor holding the unknown and the other factors (nil, all factors when
+// none holds it).
+func trialFactor(m *ir.Mul) (field ir.Expr, rest []ir.Expr) {
+	for _, f := range m.Factors {
+		if field == nil && ir.HasRole(f, ir.Trial) {
+			field = f
+		} else {
+			rest = append(rest, f)
+		}
+	}
+	return field, rest
+}

@@ -96,15 +96,7 @@ func ibp(dim int, t, w ir.Expr) (vol, bnd ir.Expr, err error) {
 	n := ir.Expr(&ir.Sym{At: at, Name: Normal.Name, Kind: Normal.Kind, R: 1})
 	switch t := t.(type) {
 	case *ir.Mul:
-		var field ir.Expr
-		var rest []ir.Expr
-		for _, f := range t.Factors {
-			if ir.HasRole(f, ir.Trial) && field == nil {
-				field = f
-			} else {
-				rest = append(rest, f)
-			}
-		}
+		field, rest := trialFactor(t)
 		if field != nil && mulOf(p, rest...).Rank() == 0 {
 			return ibp(dim, field, mulOf(p, append(rest, w)...))
 		}
