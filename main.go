@@ -1,12 +1,3 @@
-// Command formwright derives stabilised weak forms from a PDE operator
-// stated in strong form, and solves and verifies them.
-//
-//	formwright derive MODEL [--method M] [--format text|latex|json] [-o FILE]
-//	formwright solve  MODEL [--method M] [--mesh SPEC] [--out FILE] [--json] ...
-//
-// MODEL is a model file (.fw) or the name of a standard model (adr, heat,
-// stokes, oseen, navier_stokes). Exit status: 0 success, 1 numerical
-// failure, 2 bad input or usage.
 package main
 
 import (
