@@ -124,6 +124,21 @@ func (e *PicardError) Error() string {
 	return fmt.Sprintf("problem: Picard iteration not converged after %d steps (relative change %.1e > %g)", e.Iter, e.Change, e.Tol)
 }
 
+// formReadsPrevious reports whether any coefficient of the form reads the
+// previous iterate of an unknown.
+func formReadsPrevious(form *ir.LoweredForm) bool {
+	for _, in := range form.Integrals {
+		for _, ts := range [][]ir.Term{in.Bilinear, in.Linear} {
+			for _, t := range ts {
+				if ir.HasRole(t.Coef, ir.Previous) {
+					return true
+				}
+			}
+		}
+	}
+	return false
+}
+
 // previousUser is the optional capability of a kernel that says whether
 // it reads the previous iterate (interp.Kernel has it).
 type previousUser interface{ NeedsPrevious() bool }
@@ -209,9 +224,11 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 	b := make([]float64, dm.NumDofs)
 	phase("pattern")
 
-	needPrev := false
-	if p, ok := cellK.(previousUser); ok {
-		needPrev = p.NeedsPrevious()
+	// Whether the form reads the previous iterate is a property of the
+	// form, whichever kernels implement it; a kernel may also say so.
+	needPrev := formReadsPrevious(form)
+	if p, ok := cellK.(previousUser); ok && p.NeedsPrevious() {
+		needPrev = true
 	}
 	for _, fk := range facetK {
 		if p, ok := fk.(previousUser); ok && p.NeedsPrevious() {
