@@ -32,6 +32,9 @@ type solveFlags struct {
 	workers *int
 	time    *float64
 	quiet   *bool
+	dt      *float64
+	steps   *int
+	until   *float64
 }
 
 func addSolveFlags(fs *flag.FlagSet) *solveFlags {
@@ -46,6 +49,9 @@ func addSolveFlags(fs *flag.FlagSet) *solveFlags {
 		workers: fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
 		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data"),
 		quiet:   fs.Bool("quiet", false, "no progress on standard error"),
+		dt:      fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)"),
+		steps:   fs.Int("steps", 0, "number of time steps of a transient model"),
+		until:   fs.Float64("until", 0, "end time of a transient model (instead of --steps)"),
 	}
 }
 
@@ -139,17 +145,79 @@ func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error
 	return lf, nil
 }
 
-// checkSteady refuses forms with time derivatives: the runtime has no time
-// stepping yet, so such models can be derived but not solved.
+// checkSteady refuses forms with time derivatives where only steady
+// problems are handled (verify).
 func checkSteady(lf *ir.LoweredForm, m *compiler.Model) error {
-	for _, in := range lf.Integrals {
-		for _, t := range in.Bilinear {
-			if t.Trial.DT > 0 {
-				return &usageError{fmt.Sprintf("model %s has a time derivative: transient problems can be derived (formwright derive) but not yet solved", m.Name)}
+	if problem.IsTransient(lf) {
+		return &usageError{fmt.Sprintf("model %s has a time derivative: verify handles steady problems; solve it with --dt and --steps", m.Name)}
+	}
+	return nil
+}
+
+// solveTransient steps a transient model by backward Euler from t = --time
+// with the initial values of the coefficients initial_<unknown> (zero where
+// a model has none).
+func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, sf *solveFlags, opts problem.Options, stderr io.Writer) (*problem.Solution, error) {
+	dt := *sf.dt
+	if dt == 0 {
+		if c := m.Coef("step"); c != nil && c.Def.Rank() == 0 && !ir.HasField(c.Def) {
+			if v, ok := constValue(m, c); ok {
+				dt = v
 			}
 		}
 	}
-	return nil
+	if !(dt > 0) {
+		return nil, &usageError{fmt.Sprintf("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)}
+	}
+	steps := *sf.steps
+	if steps == 0 && *sf.until > *sf.time {
+		steps = int(math.Round((*sf.until - *sf.time) / dt))
+	}
+	if steps < 1 {
+		return nil, &usageError{fmt.Sprintf("model %s is transient: give --steps N or --until T", m.Name)}
+	}
+	var init []problem.Exact
+	for _, u := range m.Unknowns {
+		c := m.Coef("initial_" + u.Name)
+		if c == nil {
+			init = append(init, nil)
+			continue
+		}
+		if c.Def.Rank() != u.Rank {
+			return nil, &usageError{fmt.Sprintf("initial_%s must have the rank of %s", u.Name, u.Name)}
+		}
+		fn, err := problem.ExactFromExprs(m.Dim, compiler.LowerExpr(m, c.Sym))
+		if err != nil {
+			return nil, &usageError{fmt.Sprintf("initial_%s: %v", u.Name, err)}
+		}
+		init = append(init, fn)
+	}
+	observe := func(n int, t float64, _ *problem.Solution) {
+		if !*sf.quiet && (n%10 == 0 || n == steps) {
+			fmt.Fprintf(stderr, "  step %d of %d, t = %g\n", n, steps, t)
+		}
+	}
+	sol, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: *sf.time, Initial: init, Observe: observe})
+	if err != nil {
+		return nil, solveError(err)
+	}
+	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", steps, dt, *sf.time+float64(steps)*dt)
+	return sol, nil
+}
+
+// constValue evaluates a coefficient that depends on nothing.
+func constValue(m *compiler.Model, c *compiler.Coef) (float64, bool) {
+	low := compiler.LowerExpr(m, c.Sym)[0]
+	if ir.Contains(low, func(e ir.Expr) bool {
+		switch e.(type) {
+		case *ir.Coord, *ir.Time, *ir.CellQ, *ir.FieldD:
+			return true
+		}
+		return false
+	}) {
+		return 0, false
+	}
+	return ir.Eval(low, pointEnv{0, 0, 0}), true
 }
 
 // buildMesh reads --mesh (or the default) and checks it against the model.
@@ -268,15 +336,20 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
-		if err := checkSteady(lf, m); err != nil {
-			return err
-		}
 		start := time.Now()
 		opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so}
-		path := kernelPath(lf, msh, &opts)
-		sol, err := problem.Solve(lf, msh, opts)
+		var sol *problem.Solution
+		path := "interpreted"
+		if problem.IsTransient(lf) {
+			sol, err = solveTransient(m, lf, msh, sf, opts, stderr)
+		} else {
+			path = kernelPath(lf, msh, &opts)
+			if sol, err = problem.Solve(lf, msh, opts); err != nil {
+				err = solveError(err)
+			}
+		}
 		if err != nil {
-			return solveError(err)
+			return err
 		}
 		wall := time.Since(start)
 		if err := checkFinite(sol); err != nil {
@@ -342,7 +415,7 @@ func checkFinite(sol *problem.Solution) error {
 func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) {
 	s := sol.Summary
 	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
-	fmt.Fprintf(w, "method     %s\n", meth)
+	fmt.Fprintf(w, "method     %s\n", s.Method)
 	fmt.Fprintf(w, "mesh       %s: %d cells, %d vertices\n", spec, s.Cells, s.Vertices)
 	var us []string
 	for i, u := range m.Unknowns {

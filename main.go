@@ -38,7 +38,8 @@ const usage = `formwright: stabilised weak forms from strong-form operators
 usage:
   formwright demo         derive and solve the standard model adr (no files written)
   formwright derive MODEL [--method galerkin|supg|gls|vms|all] [--format text|latex|json] [-o FILE]
-  formwright solve  MODEL [--method M] [--mesh SPEC] [--solver S] [--out FILE.vtu|FILE.csv] [--json] [--quiet]
+  formwright solve  MODEL [--method M] [--mesh SPEC] [--solver S] [--out FILE.vtu|FILE.csv] [--json] [--plot FILE.png] [--quiet]
+                          transient models: --dt DT (--steps N | --until T)
   formwright verify MODEL [--exact EXPR] [--source EXPR] [--levels N] [--method M|all] [--tol T] [--plot FILE.png] [--sweep-pe COEF] [--json]
   formwright gen    MODEL [-o DIR] [--package NAME] [--method M,...] [--prefix NAME]
   formwright models       list the standard models and library modules

@@ -83,6 +83,11 @@ func TestExitStatuses(t *testing.T) {
 		{[]string{"derive", "adr", "--format", "pdf"}, exitBadInput, "unknown format"},
 		{[]string{"derive", "adr", "--method", "upwind"}, exitBadInput, "unknown method"},
 		{[]string{"derive", filepath.Join(dir, "missing.fw")}, exitBadInput, "cannot read model"},
+		{[]string{"solve", "heat"}, exitBadInput, "give --steps N or --until T"},
+		{[]string{"solve", "heat", "--steps", "3", "--quiet"}, exitOK, ""},
+		{[]string{"verify", "heat", "--quiet"}, exitBadInput, "verify handles steady problems"},
+		{[]string{"solve", "adr", "--mesh", "rect:0,1,0,1:8x8:quad"}, exitBadInput, "need simplex cells"},
+		{[]string{"solve", "adr", "--out", "u.txt"}, exitBadInput, "unknown file type"},
 		{[]string{"derive", bad}, exitBadInput, "bad.fw:4:22: unknown identifier \"kapa\"\n    equation for c: -div(kapa*grad(c)) = 1\n                         ^~~~"},
 	}
 	for _, c := range cases {

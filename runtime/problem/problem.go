@@ -47,6 +47,10 @@ type Options struct {
 	MaxPicard int
 	PicardTol float64
 	Initial   []float64
+	// PreviousFixed holds the previous field at Initial for a single solve
+	// instead of iterating: the previous time level of a time step (see
+	// SolveTransient).
+	PreviousFixed bool
 }
 
 // DirectLimit: below this many unknowns the automatic choice is the direct
@@ -255,9 +259,11 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 			}
 			copy(prev, opts.Initial)
 		}
-		for i, f := range fixed {
-			if f {
-				prev[i] = values[i]
+		if !opts.PreviousFixed {
+			for i, f := range fixed {
+				if f {
+					prev[i] = values[i]
+				}
 			}
 		}
 		copy(x, prev)
@@ -289,7 +295,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 			return nil, err
 		}
 		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
-		if !needPrev {
+		if !needPrev || opts.PreviousFixed {
 			break
 		}
 		dn, xn := 0.0, 0.0

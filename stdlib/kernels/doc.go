@@ -2,7 +2,8 @@
 // models, compiled into the formwright command: solve finds them by the
 // content hash of the derived form and uses them instead of the
 // interpreted path (its summary says "kernels compiled"). The transient
-// heat model is not here: the runtime has no time stepping yet.
+// heat model is not here: its time-stepped form depends on the step, so
+// solve runs it on the interpreted path.
 //
 // Regenerate with "go generate ./stdlib/kernels" after a change to the
 // models or the generator; the root package's tests fail when these files

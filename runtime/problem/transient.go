@@ -1,0 +1,141 @@
+package problem
+
+import (
+	"fmt"
+	"math"
+	"math/big"
+
+	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/dof"
+	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/mesh"
+)
+
+// IsTransient reports whether a form has time derivatives of the unknown.
+func IsTransient(form *ir.LoweredForm) bool {
+	for _, in := range form.Integrals {
+		for _, t := range in.Bilinear {
+			if t.Trial.DT > 0 {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// BackwardEuler rewrites a form with first time derivatives of the unknown
+// into the steady form of one implicit (backward) Euler step of size dt:
+// every term c ∂ₜD^αu · D^βv becomes c D^αu/dt · D^βv in the bilinear form
+// and c D^αuⁿ/dt · D^βv in the linear form, where uⁿ, the solution of the
+// previous time level, is the form's previous field. The method is first
+// order in time and unconditionally stable for the heat equation (e.g.
+// Hughes, The Finite Element Method, 1987, §8.2). Forms that already read a
+// previous iterate (Picard) cannot be stepped this way.
+func BackwardEuler(form *ir.LoweredForm, dt float64) (*ir.LoweredForm, error) {
+	if !(dt > 0) || math.IsInf(dt, 0) {
+		return nil, fmt.Errorf("problem: time step %g must be positive and finite", dt)
+	}
+	if formReadsPrevious(form) {
+		return nil, fmt.Errorf("problem: time stepping of a form that is also Picard-iterated (previous(...)) is not supported")
+	}
+	inv := new(big.Rat)
+	inv.SetFloat64(1 / dt)
+	out := *form
+	out.Integrals = nil
+	for _, in := range form.Integrals {
+		n := ir.Integral{Domain: in.Domain, Linear: append([]ir.Term(nil), in.Linear...)}
+		for _, t := range in.Bilinear {
+			if t.Trial.DT == 0 {
+				n.Bilinear = append(n.Bilinear, t)
+				continue
+			}
+			if t.Trial.DT > 1 {
+				return nil, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
+			}
+			p := t.Coef.Pos()
+			scaled := ir.Prod(p, ir.NewNum(p, inv), t.Coef)
+			trial := *t.Trial
+			trial.DT = 0
+			n.Bilinear = append(n.Bilinear, ir.Term{Coef: scaled, Trial: &trial, Test: t.Test})
+			prevField := *t.Trial.Field
+			prevField.Role = ir.Previous
+			prev := trial
+			prev.Field = &prevField
+			n.Linear = append(n.Linear, ir.Term{Coef: ir.Prod(p, scaled, &prev), Test: t.Test})
+		}
+		out.Integrals = append(out.Integrals, n)
+	}
+	return &out, nil
+}
+
+// TransientOptions control SolveTransient.
+type TransientOptions struct {
+	// Options are the options of each step's solve (Time is set per step).
+	Options
+	// Step is the time step, Steps the number of steps from Start.
+	Step  float64
+	Steps int
+	Start float64
+	// Initial gives the initial value of each field (nil entries and a nil
+	// slice mean zero); it is evaluated at the field's nodes.
+	Initial []Exact
+	// Observe, if not nil, is called after every step.
+	Observe func(step int, t float64, s *Solution)
+}
+
+// SolveTransient integrates a form with time derivatives by backward Euler
+// steps (BackwardEuler): each step is one steady solve with the previous
+// time level held fixed and t the new time. It returns the solution at the
+// last step.
+func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
+	if opts.Steps < 1 {
+		return nil, fmt.Errorf("problem: %d time steps", opts.Steps)
+	}
+	step, err := BackwardEuler(form, opts.Step)
+	if err != nil {
+		return nil, err
+	}
+	lay, err := interp.LayoutFor(form, m.Cell)
+	if err != nil {
+		return nil, err
+	}
+	var specs []dof.FieldSpec
+	for i, f := range lay.Fields {
+		specs = append(specs, dof.FieldSpec{Name: form.Unknowns[i].Name, Element: f.Element, Components: f.Components})
+	}
+	dm, err := dof.New(m.Cell, m.Coords, m.Cells, specs)
+	if err != nil {
+		return nil, err
+	}
+	x := make([]float64, dm.NumDofs)
+	for k, f := range dm.Fields {
+		if k >= len(opts.Initial) || opts.Initial[k] == nil {
+			continue
+		}
+		coords := dm.NodeCoords(k)
+		u := make([]float64, f.Components)
+		g := make([]float64, f.Components*dm.Dim)
+		for n := 0; n < f.NumNodes; n++ {
+			opts.Initial[k](coords[n*dm.Dim:(n+1)*dm.Dim], opts.Start, u, g)
+			for c := 0; c < f.Components; c++ {
+				x[dm.Global(k, c, n)] = u[c]
+			}
+		}
+	}
+	so := opts.Options
+	so.PreviousFixed = true
+	var sol *Solution
+	for n := 1; n <= opts.Steps; n++ {
+		so.Time = opts.Start + float64(n)*opts.Step
+		so.Initial = x
+		sol, err = Solve(step, m, so)
+		if err != nil {
+			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
+		}
+		x = sol.X
+		if opts.Observe != nil {
+			opts.Observe(n, so.Time, sol)
+		}
+	}
+	return sol, nil
+}

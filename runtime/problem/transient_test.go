@@ -1,0 +1,116 @@
+package problem_test
+
+import (
+	"math"
+	"testing"
+
+	"github.com/formwright/formwright/compiler"
+	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/problem"
+)
+
+// heatForm lowers u_t − k Δu = 0 on the unit square with u = 0 on the
+// boundary, through the compiler.
+func heatForm(t *testing.T) (*compiler.Model, *compiler.Derivation) {
+	t.Helper()
+	src := `model heat_mode
+dimension 2
+unknown u: scalar P1
+given k = 1
+given initial_u = sin(pi*x)*sin(pi*y)
+equation for u: dt(u) - k*lap(u) = 0
+at all: u = 0
+`
+	f, errs := lang.Parse("heat.fw", []byte(src))
+	m, cerrs := compiler.Check(f, compiler.CheckOptions{})
+	if len(errs)+len(cerrs) > 0 {
+		t.Fatal(errs, cerrs)
+	}
+	d, err := compiler.Derive(m, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m, d
+}
+
+// TestBackwardEulerHeatMode: the mode sin(πx) sin(πy) of the heat equation
+// decays as e^{−2π²kt}; one backward Euler step multiplies it by
+// 1/(1 + 2π²k Δt) (the amplification factor of the implicit Euler method,
+// e.g. Hughes 1987 §8.2), so after n steps the centre value is
+// (1 + 2π²kΔt)^{−n} up to the spatial error of P1 on a 64² mesh (~2e-4
+// relative: the eigenvalue of the P1 discretisation differs from 2π² by
+// O(h²)). Halving Δt halves the error against e^{−2π²kt}: first order in
+// time, checked within 0.1.
+func TestBackwardEulerHeatMode(t *testing.T) {
+	m, d := heatForm(t)
+	lf, err := d.Lower(compiler.Galerkin)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !problem.IsTransient(lf) {
+		t.Fatal("the heat form is not recognised as transient")
+	}
+	init, err := problem.ExactFromExprs(2, compiler.LowerExpr(m, m.Coef("initial_u").Sym))
+	if err != nil {
+		t.Fatal(err)
+	}
+	msh, err := mesh.Load("rect:0,1,0,1:64x64:tri")
+	if err != nil {
+		t.Fatal(err)
+	}
+	const tEnd = 0.05
+	lambda := 2 * math.Pi * math.Pi
+	var errs []float64
+	for _, steps := range []int{5, 10, 20} {
+		dt := tEnd / float64(steps)
+		sol, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: dt, Steps: steps, Initial: []problem.Exact{init}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		centre := -1.0
+		coords := sol.Dofs.NodeCoords(0)
+		for n := 0; n < len(coords)/2; n++ {
+			if math.Abs(coords[2*n]-0.5) < 1e-12 && math.Abs(coords[2*n+1]-0.5) < 1e-12 {
+				centre = sol.Fields[0].Values[0][n]
+			}
+		}
+		be := math.Pow(1+lambda*dt, -float64(steps))
+		if math.Abs(centre-be) > 2e-3*be {
+			t.Errorf("%d steps: centre value %.6f, backward Euler factor %.6f", steps, centre, be)
+		}
+		t.Logf("%d steps: centre %.6f, backward Euler %.6f, exact %.6f", steps, centre, be, math.Exp(-lambda*tEnd))
+		errs = append(errs, math.Abs(centre-math.Exp(-lambda*tEnd)))
+	}
+	for i := 1; i < len(errs); i++ {
+		if order := math.Log2(errs[i-1] / errs[i]); math.Abs(order-1) > 0.1 {
+			t.Errorf("observed time order %.3f between %d and %d steps, want 1", order, 5<<(i-1), 5<<i)
+		}
+	}
+}
+
+// TestBackwardEulerRejectsPicard: a form that reads previous(...) cannot
+// also be time-stepped with the previous field as the old time level.
+func TestBackwardEulerRejectsPicard(t *testing.T) {
+	src := `model mixed
+dimension 1
+unknown u: scalar P1
+equation for u: dt(u) + previous(u)*partial(u, x) = 0
+`
+	f, _ := lang.Parse("m.fw", []byte(src))
+	m, errs := compiler.Check(f, compiler.CheckOptions{})
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	d, _ := compiler.Derive(m, nil)
+	lf, err := d.Lower(compiler.Galerkin)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := problem.BackwardEuler(lf, 0.1); err == nil {
+		t.Error("no error for a Picard-iterated transient form")
+	}
+	if _, err := problem.BackwardEuler(lf, -1); err == nil {
+		t.Error("no error for a negative step")
+	}
+}
