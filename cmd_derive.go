@@ -49,8 +49,8 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 		methods = m.Methods
 	}
 	for _, meth := range methods {
-		if meth != compiler.Galerkin && m.Tau[0] == nil {
-			return &usageError{fmt.Sprintf("%s needs a tau: add \"tau for %s = ...\" to the model", meth, m.Unknowns[0].Name)}
+		if _, err := pickMethod(m, meth.String()); err != nil {
+			return err
 		}
 	}
 	d, err := compiler.Derive(m, methods)

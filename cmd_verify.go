@@ -93,6 +93,7 @@ func studyMesh(m *compiler.Model, pattern string, n int) (*mesh.Mesh, error) {
 
 // cmdVerify runs a manufactured-solution convergence study.
 func cmdVerify(args []string, stdout, stderr io.Writer) error {
+	// The errors reported are those of the model's first unknown.
 	fs := flag.NewFlagSet("verify", flag.ContinueOnError)
 	exactFlag := fs.String("exact", "", "manufactured solution, one expression per unknown separated by ';' (default: a smooth non-polynomial function, printed)")
 	sourceFlag := fs.String("source", "", "use this source instead of the derived one (to check a hand-derived source)")
