@@ -37,6 +37,7 @@ type verifyMethod struct {
 	Element    string        `json:"element"`
 	ExpectedL2 float64       `json:"expected_l2_order"`
 	ExpectedH1 float64       `json:"expected_h1_order"`
+	CheckH1    bool          `json:"h1_checked"`
 	Levels     []verifyLevel `json:"levels"`
 	Pass       bool          `json:"pass"`
 }
@@ -93,7 +94,6 @@ func studyMesh(m *compiler.Model, pattern string, n int) (*mesh.Mesh, error) {
 
 // cmdVerify runs a manufactured-solution convergence study.
 func cmdVerify(args []string, stdout, stderr io.Writer) error {
-	// The errors reported are those of the model's first unknown.
 	fs := flag.NewFlagSet("verify", flag.ContinueOnError)
 	exactFlag := fs.String("exact", "", "manufactured solution, one expression per unknown separated by ';' (default: a smooth non-polynomial function, printed)")
 	sourceFlag := fs.String("source", "", "use this source instead of the derived one (to check a hand-derived source)")
@@ -107,6 +107,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	sweep := fs.String("sweep-pe", "", "also sweep the element Péclet number 0.01…1000 by setting this constant diffusivity coefficient")
 	speed := fs.Float64("speed", 1, "advection speed |a| used to turn Péclet numbers into diffusivities in --sweep-pe")
 	quiet := fs.Bool("quiet", false, "no progress on standard error")
+	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
 	pos, err := parseArgs(fs, args)
 	if err != nil {
 		return err
@@ -211,6 +212,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	var curves []plot.Curve
+	split := compiler.SplitOperator(m)
 	for _, meth := range methods {
 		lf, err := lowerModel(mf.Model, meth)
 		if err != nil {
@@ -219,9 +221,12 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if err := checkSteady(lf, m); err != nil {
 			return err
 		}
-		k := elementDegree(m.Unknowns[0].Element)
-		vm := verifyMethod{Method: meth.String(), Field: m.Unknowns[0].Name, Element: m.Unknowns[0].Element,
-			ExpectedL2: float64(k + 1), ExpectedH1: float64(k), Pass: true}
+		vms := make([]verifyMethod, len(m.Unknowns))
+		finestNorm := make([]float64, len(m.Unknowns)) // ‖u*‖ on the latest mesh
+		for i, u := range m.Unknowns {
+			l2, h1, checkH1 := expectedOrders(m, split, i)
+			vms[i] = verifyMethod{Method: meth.String(), Field: u.Name, Element: u.Element, ExpectedL2: l2, ExpectedH1: h1, CheckH1: checkH1, Pass: true}
+		}
 		for l := 0; l < *levels; l++ {
 			n := n0 << l
 			msh, err := studyMesh(m, *pattern, n)
@@ -237,33 +242,57 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			if err != nil {
 				return solveError(err)
 			}
-			l2, h1 := sol.ErrorNorms(0, exactFns[0], 0, 0)
-			lv := verifyLevel{N: n, H: 1 / float64(n), Dofs: sol.Summary.Dofs, L2: l2, H1: h1}
-			if l > 0 {
-				prev := vm.Levels[l-1]
-				lv.OrderL2 = math.Log(prev.L2/l2) / math.Log(prev.H/lv.H)
-				lv.OrderH1 = math.Log(prev.H1/h1) / math.Log(prev.H/lv.H)
+			zero := *sol
+			zero.X = make([]float64, len(sol.X))
+			for i := range vms {
+				vm := &vms[i]
+				finestNorm[i], _ = zero.ErrorNorms(i, exactFns[i], 0, 0)
+				l2, h1 := sol.ErrorNorms(i, exactFns[i], 0, 0)
+				lv := verifyLevel{N: n, H: 1 / float64(n), Dofs: sol.Summary.Dofs, L2: l2, H1: h1}
+				if l > 0 {
+					prev := vm.Levels[l-1]
+					lv.OrderL2 = math.Log(prev.L2/l2) / math.Log(prev.H/lv.H)
+					lv.OrderH1 = math.Log(prev.H1/h1) / math.Log(prev.H/lv.H)
+				}
+				vm.Levels = append(vm.Levels, lv)
 			}
-			vm.Levels = append(vm.Levels, lv)
 		}
-		last := vm.Levels[len(vm.Levels)-1]
-		if last.OrderL2 < vm.ExpectedL2-*tol || math.IsNaN(last.OrderL2) {
-			vm.Pass = false
-			rep.Failed = append(rep.Failed, fmt.Sprintf("%s: L2 order %.2f on the finest pair, expected %.0f (tolerance %.2f)", meth, last.OrderL2, vm.ExpectedL2, *tol))
+		for i := range vms {
+			vm := &vms[i]
+			last := vm.Levels[len(vm.Levels)-1]
+			// An order is meaningless if the error is as large as the
+			// solution: e.g. the spurious pressure modes of an unstable
+			// pair, which shrink at the right rate from a huge size
+			// (common practice, no source).
+			if last.L2 >= finestNorm[i] {
+				vm.Pass = false
+				rep.Failed = append(rep.Failed, fmt.Sprintf("%s: %s L2 error %.3g on the finest mesh is not smaller than the solution itself (%.3g)", meth, vm.Field, last.L2, finestNorm[i]))
+			}
+			if last.OrderL2 < vm.ExpectedL2-*tol || math.IsNaN(last.OrderL2) {
+				vm.Pass = false
+				rep.Failed = append(rep.Failed, fmt.Sprintf("%s: %s L2 order %.2f on the finest pair, expected %.0f (tolerance %.2f)", meth, vm.Field, last.OrderL2, vm.ExpectedL2, *tol))
+			}
+			if vm.CheckH1 && (last.OrderH1 < vm.ExpectedH1-*tol || math.IsNaN(last.OrderH1)) {
+				vm.Pass = false
+				rep.Failed = append(rep.Failed, fmt.Sprintf("%s: %s H1 order %.2f on the finest pair, expected %.0f (tolerance %.2f)", meth, vm.Field, last.OrderH1, vm.ExpectedH1, *tol))
+			}
+			rep.Methods = append(rep.Methods, *vm)
+			if !*asJSON {
+				printTable(stdout, *vm)
+			}
+			var hs, e2, e1 []float64
+			for _, lv := range vm.Levels {
+				hs, e2, e1 = append(hs, lv.H), append(e2, lv.L2), append(e1, lv.H1)
+			}
+			label := meth.String()
+			if len(vms) > 1 {
+				label += " " + vm.Field
+			}
+			curves = append(curves, plot.Curve{Method: label, Norm: "L2", H: hs, Err: e2})
+			if vm.CheckH1 {
+				curves = append(curves, plot.Curve{Method: label, Norm: "H1", H: hs, Err: e1})
+			}
 		}
-		if last.OrderH1 < vm.ExpectedH1-*tol || math.IsNaN(last.OrderH1) {
-			vm.Pass = false
-			rep.Failed = append(rep.Failed, fmt.Sprintf("%s: H1 order %.2f on the finest pair, expected %.0f (tolerance %.2f)", meth, last.OrderH1, vm.ExpectedH1, *tol))
-		}
-		rep.Methods = append(rep.Methods, vm)
-		if !*asJSON {
-			printTable(stdout, vm)
-		}
-		var hs, e2, e1 []float64
-		for _, lv := range vm.Levels {
-			hs, e2, e1 = append(hs, lv.H), append(e2, lv.L2), append(e1, lv.H1)
-		}
-		curves = append(curves, plot.Curve{Method: meth.String(), Norm: "L2", H: hs, Err: e2}, plot.Curve{Method: meth.String(), Norm: "H1", H: hs, Err: e1})
 	}
 	if *sweep != "" {
 		sw, err := peSweep(m, mf, methods, *sweep, *speed, *pattern, n0<<(*levels-1), stdout, *asJSON)
@@ -285,13 +314,32 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
-	if len(rep.Failed) > 0 {
+	if len(rep.Failed) > 0 && *check {
 		return &convergenceError{rep.Failed}
 	}
 	if !*asJSON {
-		fmt.Fprintf(stdout, "all observed orders within %.2f of the expected ones\n", *tol)
+		if len(rep.Failed) > 0 {
+			fmt.Fprintf(stdout, "not checked (--check=false); shortfalls:\n  %s\n", strings.Join(rep.Failed, "\n  "))
+		} else {
+			fmt.Fprintf(stdout, "all observed orders within %.2f of the expected ones\n", *tol)
+		}
 	}
 	return nil
+}
+
+// expectedOrders gives the orders verify expects for unknown i with
+// elements of degree k: L² k+1 and H¹ k when its own equation has a
+// second-order part (Ciarlet 1978); L² k and no H¹ check when it has none,
+// as for the pressure of an equal-order stabilised flow pair (Hughes,
+// Franca & Balestra 1986) — REFERENCES.md.
+func expectedOrders(m *compiler.Model, split []compiler.Split, i int) (l2, h1 float64, checkH1 bool) {
+	k := float64(elementDegree(m.Unknowns[i].Element))
+	for _, s := range split {
+		if s.For == i && s.Parts[compiler.Diffusive] != nil {
+			return k + 1, k, true
+		}
+	}
+	return k, 0, false
 }
 
 func printTable(w io.Writer, vm verifyMethod) {
@@ -299,7 +347,11 @@ func printTable(w io.Writer, vm verifyMethod) {
 	if !vm.Pass {
 		status = "FAILED"
 	}
-	fmt.Fprintf(w, "\n%s, %s %s (expected orders: L2 %.0f, H1 %.0f) %s\n", vm.Method, vm.Field, vm.Element, vm.ExpectedL2, vm.ExpectedH1, status)
+	h1 := fmt.Sprintf("H1 %.0f", vm.ExpectedH1)
+	if !vm.CheckH1 {
+		h1 = "H1 not checked"
+	}
+	fmt.Fprintf(w, "\n%s, %s %s (expected orders: L2 %.0f, %s) %s\n", vm.Method, vm.Field, vm.Element, vm.ExpectedL2, h1, status)
 	fmt.Fprintf(w, "  %10s %8s %12s %6s %12s %6s\n", "h", "dofs", "L2 error", "order", "H1 error", "order")
 	for i, lv := range vm.Levels {
 		o2, o1 := "", ""
