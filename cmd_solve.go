@@ -517,37 +517,67 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	return enc.Encode(out)
 }
 
-// gridOf builds the output grid: the mesh vertices and linear cells, with
-// each field's values at the vertices (vertex nodes come first in every
-// element space, numbered as the mesh vertices).
+// gridOf builds the output grid on the nodes of the highest-degree field:
+// linear VTK cells for P1/Q1, quadratic ones (VTK_QUADRATIC_TRIANGLE,
+// VTK_BIQUADRATIC_QUAD, ...) for P2/Q2, so edge and interior nodes are
+// written too. Fields of lower degree are evaluated at those nodes with
+// their own basis (exact, since their space is contained in the higher
+// one's).
 func gridOf(sol *problem.Solution) *output.Grid {
+	dm := sol.Dofs
 	msh := sol.Mesh
 	d := msh.Dim
-	nv := msh.NumVertices()
-	g := &output.Grid{Points: make([]float64, 3*nv)}
-	for v := 0; v < nv; v++ {
-		copy(g.Points[3*v:3*v+d], msh.Coords[v*d:(v+1)*d])
+	top := 0
+	for k, f := range dm.Fields {
+		if f.Element.Degree > dm.Fields[top].Element.Degree {
+			top = k
+		}
 	}
-	vpc := msh.Cell.NumVertices()
-	order := cell.VTKOrder(msh.Cell, 1)
-	code := uint8(cell.VTKType(msh.Cell, 1))
+	hi := dm.Fields[top].Element
+	coords := dm.NodeCoords(top)
+	np := len(coords) / d
+	g := &output.Grid{Points: make([]float64, 3*np)}
+	for n := 0; n < np; n++ {
+		copy(g.Points[3*n:3*n+d], coords[n*d:(n+1)*d])
+	}
+	order := cell.VTKOrder(msh.Cell, hi.Degree)
+	code := uint8(cell.VTKType(msh.Cell, hi.Degree))
 	for c := 0; c < msh.NumCells(); c++ {
-		verts := msh.Cells[c*vpc : (c+1)*vpc]
+		nodes := dm.CellNodes(top, c)
 		for _, i := range order {
-			g.Connectivity = append(g.Connectivity, int64(verts[i]))
+			g.Connectivity = append(g.Connectivity, int64(nodes[i]))
 		}
 		g.Offsets = append(g.Offsets, int64(len(g.Connectivity)))
 		g.Types = append(g.Types, code)
 	}
-	for _, f := range sol.Fields {
+	ref := hi.RefNodes()
+	for k, f := range sol.Fields {
 		arr := output.Array{Name: f.Name, Components: f.Components}
 		if f.Components > 1 {
 			arr.Components = 3 // VTK vectors have three components
 		}
-		arr.Values = make([]float64, nv*arr.Components)
-		for v := 0; v < nv; v++ {
-			for c := 0; c < f.Components; c++ {
-				arr.Values[v*arr.Components+c] = f.Values[c][v]
+		arr.Values = make([]float64, np*arr.Components)
+		lo := dm.Fields[k].Element
+		if lo == hi {
+			for n := 0; n < np; n++ {
+				for c := 0; c < f.Components; c++ {
+					arr.Values[n*arr.Components+c] = f.Values[c][n]
+				}
+			}
+		} else {
+			phi := make([]float64, lo.NumNodes())
+			for c := 0; c < msh.NumCells(); c++ {
+				hn, ln := dm.CellNodes(top, c), dm.CellNodes(k, c)
+				for a := 0; a < hi.NumNodes(); a++ {
+					lo.Eval(ref[a*d:(a+1)*d], phi)
+					for comp := 0; comp < f.Components; comp++ {
+						v := 0.0
+						for b, nb := range ln {
+							v += phi[b] * f.Values[comp][nb]
+						}
+						arr.Values[int(hn[a])*arr.Components+comp] = v
+					}
+				}
 			}
 		}
 		g.PointData = append(g.PointData, arr)

@@ -407,3 +407,50 @@ func TestVerifyStokesEqualOrder(t *testing.T) {
 		t.Errorf("Galerkin P1/P1: status %d, stderr %q; want exit 1 on the pressure", st, errb.String())
 	}
 }
+
+// TestOutputGridQuadratic: a P2/P1 (Taylor–Hood) solution is written on the
+// P2 nodes with quadratic VTK cells (VTK_QUADRATIC_TRIANGLE = 22, VTK file
+// format standard); the P1 pressure at an edge midpoint is the mean of its
+// values at the edge's ends (linear interpolation, exact).
+func TestOutputGridQuadratic(t *testing.T) {
+	src := strings.Replace(strings.Replace(stokesCheck, "unknown vel: vector P1", "unknown vel: vector P2", 1), "stabilise galerkin, supg, gls, vms", "stabilise galerkin", 1)
+	sol := solveModel(t, src, compiler.Galerkin, "rect:0,1,0,1:4x4:tri")
+	g := gridOf(sol)
+	nv := sol.Mesh.NumVertices()
+	np := len(g.Points) / 3
+	if np != sol.Dofs.Fields[0].NumNodes || np <= nv {
+		t.Fatalf("%d points, want the %d P2 nodes", np, sol.Dofs.Fields[0].NumNodes)
+	}
+	for _, ty := range g.Types {
+		if ty != 22 {
+			t.Fatalf("cell type %d, want 22", ty)
+		}
+	}
+	p := g.PointData[1]
+	if p.Name != "p" {
+		t.Fatalf("second array %q", p.Name)
+	}
+	// Every edge node lies midway between two vertices; find them by
+	// position and compare.
+	pts := g.Points
+	checked := 0
+	for c := 0; c < sol.Mesh.NumCells(); c++ {
+		cv := sol.Mesh.Cells[3*c : 3*c+3]
+		for _, e := range [][2]int32{{cv[0], cv[1]}, {cv[1], cv[2]}, {cv[2], cv[0]}} {
+			mx := (pts[3*e[0]] + pts[3*e[1]]) / 2
+			my := (pts[3*e[0]+1] + pts[3*e[1]+1]) / 2
+			for n := nv; n < np; n++ {
+				if math.Abs(pts[3*n]-mx) < 1e-12 && math.Abs(pts[3*n+1]-my) < 1e-12 {
+					want := (p.Values[e[0]] + p.Values[e[1]]) / 2
+					if math.Abs(p.Values[n]-want) > 1e-12*(1+math.Abs(want)) {
+						t.Errorf("pressure at edge node %d: %g, mean of the ends %g", n, p.Values[n], want)
+					}
+					checked++
+				}
+			}
+		}
+	}
+	if checked == 0 {
+		t.Fatal("no edge node checked")
+	}
+}
