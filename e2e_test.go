@@ -154,15 +154,15 @@ func diffusionADR(t *testing.T, element string) string {
 }
 
 // TestVerifyOrders: on the diffusion-dominated advection–diffusion model,
-// verify observes L² and H¹ orders within 0.1 of k+1 and k for P1 and P2
-// (Ciarlet 1978; Brenner & Scott) for all four methods.
+// verify observes L² and H¹ orders within 0.1 of k+1 and k for P1, P2 and
+// Q1 (Ciarlet 1978; Brenner & Scott) for all four methods.
 func TestVerifyOrders(t *testing.T) {
-	for _, el := range []string{"P1", "P2"} {
+	for _, el := range []string{"P1", "P2", "Q1"} {
 		path := writeModel(t, diffusionADR(t, el))
 		var out, errb bytes.Buffer
 		// P2 from 8 cells per unit: on coarser meshes VMS is still
 		// pre-asymptotic (its diffusive adjoint term enters with a minus).
-		base := map[string]string{"P1": "4", "P2": "8"}[el]
+		base := map[string]string{"P1": "4", "P2": "8", "Q1": "4"}[el]
 		st := run([]string{"verify", path, "--method", "all", "--json", "--quiet", "--tol", "0.1", "--base", base}, &out, &errb)
 		if st != exitOK {
 			t.Fatalf("%s: status %d\n%s\n%s", el, st, out.String(), errb.String())
