@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -246,22 +247,13 @@ func buildMesh(m *compiler.Model, spec string) (*mesh.Mesh, string, error) {
 	for _, side := range m.Sides {
 		if _, ok := msh.Boundaries[side]; !ok {
 			for _, bc := range m.BCs {
-				if containsSide(bc.Sides, side) {
+				if slices.Contains(bc.Sides, side) {
 					return nil, spec, &usageError{fmt.Sprintf("--mesh: the model sets a condition on side %q, which the mesh does not have (it has %s)", side, strings.Join(msh.BoundaryNames(), ", "))}
 				}
 			}
 		}
 	}
 	return msh, spec, nil
-}
-
-func containsSide(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 // cmdSolve assembles and solves a model's discrete problem.

@@ -3,6 +3,7 @@ package compiler
 import (
 	"fmt"
 	"math/big"
+	"slices"
 	"sort"
 	"strings"
 
@@ -153,7 +154,7 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 			m.Dim = s.Dim
 		case *lang.SidesStmt:
 			for _, n := range s.Names {
-				if containsStr(m.Sides, n.Text) {
+				if slices.Contains(m.Sides, n.Text) {
 					c.errorf(n.Pos, n.End, "", "side %q listed twice", n.Text)
 					continue
 				}
@@ -209,15 +210,6 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 			c.errorf(u.Pos, lang.Pos{}, "in one dimension use a scalar", "vector unknown %q in a 1-dimensional model", u.Name)
 		}
 	}
-}
-
-func containsStr(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 func (c *checker) use(n lang.Name, opts CheckOptions) {
@@ -447,7 +439,7 @@ func (c *checker) checkBoundaries(f *lang.File) {
 		}
 		bc := &BC{Unknown: u.Index, Pos: s.Pos()}
 		for _, n := range s.Sides {
-			if n.Text != "all" && !containsStr(m.Sides, n.Text) {
+			if n.Text != "all" && !slices.Contains(m.Sides, n.Text) {
 				hint := "the sides are " + strings.Join(m.Sides, ", ") + " and all"
 				if sug := lang.Suggest(n.Text, m.Sides); sug != "" {
 					hint = fmt.Sprintf("did you mean %q?", sug)

@@ -2,6 +2,7 @@ package compiler
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
@@ -87,7 +88,7 @@ func galerkinNotes(m *Model) []Note {
 		for _, side := range m.Sides {
 			kind := -1
 			for _, bc := range m.BCs {
-				if bc.Unknown == u.Index && containsStr(bc.Sides, side) {
+				if bc.Unknown == u.Index && slices.Contains(bc.Sides, side) {
 					kind = int(bc.Kind)
 				}
 			}

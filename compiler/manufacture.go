@@ -2,6 +2,7 @@ package compiler
 
 import (
 	"fmt"
+	"slices"
 
 	"github.com/formwright/formwright/compiler/ir"
 )
@@ -72,7 +73,7 @@ func Manufacture(m *Model, exact []ir.Expr, sources []ir.Expr) (*Manufactured, e
 		for _, side := range m.Sides {
 			var bc *BC
 			for _, b := range m.BCs {
-				if b.Unknown == u.Index && containsStr(b.Sides, side) {
+				if b.Unknown == u.Index && slices.Contains(b.Sides, side) {
 					bc = b
 				}
 			}

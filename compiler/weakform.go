@@ -2,6 +2,7 @@ package compiler
 
 import (
 	"fmt"
+	"slices"
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
@@ -73,7 +74,7 @@ func WeakGalerkin(m *Model) (*GalerkinForm, error) {
 	for _, side := range m.Sides {
 		var parts []ir.Expr
 		for _, bc := range m.BCs {
-			if bc.Kind == ValueBC || !containsStr(bc.Sides, side) {
+			if bc.Kind == ValueBC || !slices.Contains(bc.Sides, side) {
 				continue
 			}
 			// −∫ q·v with q the prescribed flux g (which may hold u: Robin).
