@@ -36,6 +36,6 @@ tau for u = 1
 	fmt.Println("L* v =", render.Expr(d.Adjoint[0], render.Text, names))
 	fmt.Println("with a substituted:", render.Expr(compiler.Simplify(compiler.LowerExpr(m, d.Adjoint[0])[0], 2), render.Syntax, names))
 	// Output:
-	// L* v = -k Δv - (∇·a) v - a·∇v
+	// L* v = −k Δv − (∇·a) v − a·∇v
 	// with a substituted: -x*partial(test(u), x) - test(u) - (1/10)*partial(test(u), x, x) - (1/10)*partial(test(u), y, y)
 }

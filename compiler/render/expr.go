@@ -309,7 +309,7 @@ func (p printer) sym(s *ir.Sym) string {
 func (p printer) num(r *big.Rat) (string, int) {
 	if r.Sign() < 0 {
 		s, _ := p.num(new(big.Rat).Neg(r))
-		return "-" + s, precUnary
+		return p.minus() + s, precUnary
 	}
 	if r.IsInt() {
 		return r.Num().String(), precAtom
@@ -333,6 +333,15 @@ func (p printer) diffOp(syn, txt, tex string, x ir.Expr) string {
 		return tex + p.sub(x, precAtom)
 	}
 	return txt + p.sub(x, precAtom)
+}
+
+// minus is the minus sign: ASCII in the model syntax and LaTeX, U+2212 in
+// Unicode text.
+func (p printer) minus() string {
+	if p.style == Text {
+		return "−"
+	}
+	return "-"
 }
 
 // negated reports whether a term prints with a leading minus, and returns
@@ -366,11 +375,11 @@ func (p printer) add(e *ir.Add) (string, int) {
 		s := p.sub(pos, precMul)
 		switch {
 		case i == 0 && neg:
-			b.WriteString("-" + s)
+			b.WriteString(p.minus() + s)
 		case i == 0:
 			b.WriteString(s)
 		case neg:
-			b.WriteString(" - " + s)
+			b.WriteString(" " + p.minus() + " " + s)
 		default:
 			b.WriteString(" + " + s)
 		}
@@ -380,7 +389,7 @@ func (p printer) add(e *ir.Add) (string, int) {
 
 func (p printer) mul(e *ir.Mul) (string, int) {
 	if pos, neg := negated(e); neg {
-		return "-" + p.sub(pos, precMul), precMul
+		return p.minus() + p.sub(pos, precMul), precMul
 	}
 	var num, den []ir.Expr
 	for _, f := range e.Factors {

@@ -512,13 +512,13 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c27*p35 + c29*p45
 		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c27*p37 + c29*p47
 		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c27*p39 + c29*p49
@@ -556,13 +556,13 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c27*p75 + c29*p80
 		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c27*p76 + c29*p82
 		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c27*p77 + c29*p84
@@ -598,9 +598,9 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[47] += k11 * p98
 		// At each quadrature point: rows 6..8, columns 0..2:
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
 		acc[54] += c29 * p99
 		acc[55] += c29 * p100
 		acc[56] += c29 * p101
@@ -612,9 +612,9 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[74] += k10 * p101
 		// At each quadrature point: rows 6..8, columns 3..5:
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
 		acc[57] += c27 * p99
 		acc[58] += c27 * p100
 		acc[59] += c27 * p101
@@ -889,20 +889,20 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p25 + c26*p36 + c28*p46
 		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p27 + c26*p38 + c28*p48
@@ -915,10 +915,10 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p29 + k11*p40 + k10*p50
 		// At each quadrature point: rows 0..2, columns 6..8:
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		acc[6] += c26*p52 + c28*p62
 		acc[7] += c26*p53 + c28*p64
 		acc[8] += c26*p55 + c28*p66
@@ -943,20 +943,20 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p25 + c26*p76 + c28*p81
 		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p27 + c26*p77 + c28*p83
@@ -970,9 +970,9 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		// At each quadrature point: rows 3..5, columns 6..8:
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		acc[33] += c26*p87 + c28*p92
 		acc[34] += c26*p89 + c28*p94
 		acc[35] += c26*p91 + c28*p95
@@ -996,9 +996,9 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		// At each quadrature point: rows 6..8, columns 0..2:
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
 		acc[54] += fwNavierStokesGLSCellBasis1Val[q][0]*p101 + c28*p105
 		acc[55] += fwNavierStokesGLSCellBasis1Val[q][0]*p102 + c28*p106
 		acc[56] += fwNavierStokesGLSCellBasis1Val[q][0]*p104 + c28*p107
@@ -1011,9 +1011,9 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		// At each quadrature point: rows 6..8, columns 3..5:
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
 		acc[57] += fwNavierStokesGLSCellBasis1Val[q][0]*p108 + c26*p105
 		acc[58] += fwNavierStokesGLSCellBasis1Val[q][0]*p110 + c26*p106
 		acc[59] += fwNavierStokesGLSCellBasis1Val[q][0]*p111 + c26*p107
@@ -1288,25 +1288,25 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p139 := -p138
 		// At each quadrature point: rows 0..2, columns 0..2:
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:18]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:18]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c30*p42 + c24*p52
 		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c30*p44 + c24*p54
 		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c30*p46 + c24*p56
@@ -1345,25 +1345,25 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[23] += k10 * p82
 		// At each quadrature point: rows 3..5, columns 3..5:
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:18]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (-(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:18]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (-previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (-1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c30*p87 + c24*p92
 		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c30*p88 + c24*p94
 		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c30*p89 + c24*p96
@@ -1401,11 +1401,11 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[46] += k11 * p112
 		acc[47] += k11 * p114
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (-cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
+		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
 		acc[54] += fwNavierStokesVMSCellBasis1Val[q][0]*p116 + c24*p120
 		acc[55] += fwNavierStokesVMSCellBasis1Val[q][0]*p117 + c24*p121
 		acc[56] += fwNavierStokesVMSCellBasis1Val[q][0]*p119 + c24*p122
@@ -1416,11 +1416,11 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[73] += fwNavierStokesVMSCellBasis1Val[q][2]*p117 + k10*p121
 		acc[74] += fwNavierStokesVMSCellBasis1Val[q][2]*p119 + k10*p122
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (-cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
+		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (-1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
 		acc[57] += fwNavierStokesVMSCellBasis1Val[q][0]*p123 + c30*p120
 		acc[58] += fwNavierStokesVMSCellBasis1Val[q][0]*p125 + c30*p121
 		acc[59] += fwNavierStokesVMSCellBasis1Val[q][0]*p126 + c30*p122
@@ -1431,7 +1431,7 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[76] += fwNavierStokesVMSCellBasis1Val[q][2]*p125 + k11*p121
 		acc[77] += fwNavierStokesVMSCellBasis1Val[q][2]*p126 + k11*p122
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (-cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/400000000000000 + 1/10000000) · p · test(p)   [navier_stokes.fw:18]
+		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/400000000000000 + 1/10000000) · p · test(p)   [navier_stokes.fw:18]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
 		acc[60] += fwNavierStokesVMSCellBasis1Val[q][0]*p128 + c30*p132 + c24*p136

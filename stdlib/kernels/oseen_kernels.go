@@ -369,9 +369,9 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c72
 	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c76
@@ -407,9 +407,9 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
 	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c112
 	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c114
@@ -444,9 +444,9 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef7*c62
 	A[55] = 0.1666666666666667*j11 + coef7*c69
 	A[56] = 0.1666666666666667*c29 + coef7*c74
@@ -458,9 +458,9 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef7*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef7*c123
 	A[58] = 0.1666666666666667*c30 + coef7*c130
 	A[59] = 0.1666666666666667*j00 + coef7*c131
@@ -678,13 +678,13 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
@@ -697,9 +697,9 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[7] = 0.1666666666666667*j11 + coef11*c69
 	A[8] = 0.1666666666666667*c29 + coef11*c74
@@ -724,13 +724,13 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
 	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
@@ -743,9 +743,9 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[34] = 0.1666666666666667*c30 + coef11*c126
 	A[35] = 0.1666666666666667*j00 + coef11*c129
@@ -768,9 +768,9 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[55] = 0.1666666666666667*j11 + coef11*c69
 	A[56] = 0.1666666666666667*c29 + coef11*c74
@@ -782,9 +782,9 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[58] = 0.1666666666666667*c30 + coef11*c130
 	A[59] = 0.1666666666666667*j00 + coef11*c131
@@ -1001,15 +1001,15 @@ func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
 	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
 	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
@@ -1047,15 +1047,15 @@ func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
 	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
 	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (-1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
 	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
@@ -1092,9 +1092,9 @@ func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[55] = 0.1666666666666667*j11 + coef11*c69
 	A[56] = 0.1666666666666667*c29 + coef11*c74
@@ -1106,9 +1106,9 @@ func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[58] = 0.1666666666666667*c30 + coef11*c130
 	A[59] = 0.1666666666666667*j00 + coef11*c131

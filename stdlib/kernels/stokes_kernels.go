@@ -355,8 +355,8 @@ func (StokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -368,8 +368,8 @@ func (StokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -511,8 +511,8 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -551,8 +551,8 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[23] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -591,8 +591,8 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -604,8 +604,8 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -760,11 +760,11 @@ func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
 	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -811,11 +811,11 @@ func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[47] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
 	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -827,8 +827,8 @@ func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -840,8 +840,8 @@ func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00

@@ -148,9 +148,9 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p30 := -p29
 		// At each quadrature point: rows 0..2, columns 0..2:
 		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (y (-y + 1)/20 + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
-		//   - (y (-y + 1)/20 + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
+		//   - (−x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (y (−y + 1)/20 + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
+		//   - (y (−y + 1)/20 + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
 		acc[0] += fwGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
 		acc[1] += fwGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
 		acc[2] += fwGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
@@ -346,17 +346,17 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p76 := coef15 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
 		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (-x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - y (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − y (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
 		acc[0] += fwSUPGCellBasis1Val[q][0]*p34 + c23*p52 + c25*p70
 		acc[1] += fwSUPGCellBasis1Val[q][0]*p36 + c23*p54 + c25*p72
 		acc[2] += fwSUPGCellBasis1Val[q][0]*p38 + c23*p56 + c25*p74
@@ -367,8 +367,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[7] += fwSUPGCellBasis1Val[q][2]*p36 + k11*p54 + k10*p72
 		acc[8] += fwSUPGCellBasis1Val[q][2]*p38 + k11*p56 + k10*p74
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(test(salt), y)   [model.fw:17]
-		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(test(salt), y)   [model.fw:17]
+		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
 		rhs[0] += c23*p75 + c25*p76
 		rhs[1] += k01*p75 + k00*p76
 		rhs[2] += k11*p75 + k10*p76
@@ -559,31 +559,31 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p93 := coef26 * w
 		p94 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (y/10 + y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (-x²/4 + (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) - y (-y/10 + 1/20)/(5 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (1/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (y/10 + y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (−x²/4 + (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) − y (−y/10 + 1/20)/(5 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
 		acc[0] += fwGLSCellBasis1Val[q][0]*p52 + c22*p70 + c24*p87
 		acc[1] += fwGLSCellBasis1Val[q][0]*p54 + c22*p72 + c24*p89
 		acc[2] += fwGLSCellBasis1Val[q][0]*p56 + c22*p74 + c24*p91
@@ -594,11 +594,11 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[7] += fwGLSCellBasis1Val[q][2]*p54 + k11*p72 + k10*p89
 		acc[8] += fwGLSCellBasis1Val[q][2]*p56 + k11*p74 + k10*p91
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - 1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1 · test(salt)   [model.fw:17]
-		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//   - -(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//   - -(y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
+		//   - 1/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1 · test(salt)   [model.fw:17]
+		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
+		//   - −(y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		//   - −(y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
 		rhs[0] += fwGLSCellBasis1Val[q][0]*p92 + c22*p93 + c24*p94
 		rhs[1] += fwGLSCellBasis1Val[q][1]*p92 + k01*p93 + k00*p94
 		rhs[2] += fwGLSCellBasis1Val[q][2]*p92 + k11*p93 + k10*p94
@@ -799,31 +799,31 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p102 := coef26 * w
 		p103 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (-1/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (y/10 - y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + y (-x/2 + 1/10)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (-x²/4 - (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10) (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x/2 + 1/10) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (y/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-y + 1)/20 + y²/(100 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (-y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-x²/4 + 1)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-x²/4 + 1) (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-y + 1)/20 + (-x²/4 + 1)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (-(-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - ((y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (y (y (-y + 1)/20 + 1/20)/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) - (-y/10 + 1/20) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((-x²/4 + 1) (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (-(y (-y + 1)/20 + 1/20)²/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−1/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (y/10 − y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + y (−x/2 + 1/10)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (−x²/4 − (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10) (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - ((−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
 		acc[0] += fwVMSCellBasis1Val[q][0]*p60 + c22*p78 + c24*p96
 		acc[1] += fwVMSCellBasis1Val[q][0]*p62 + c22*p80 + c24*p98
 		acc[2] += fwVMSCellBasis1Val[q][0]*p64 + c22*p82 + c24*p100
@@ -834,11 +834,11 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[7] += fwVMSCellBasis1Val[q][2]*p62 + k11*p80 + k10*p98
 		acc[8] += fwVMSCellBasis1Val[q][2]*p64 + k11*p82 + k10*p100
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - -1/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-x/2 + 1/10)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) + 1 · test(salt)   [model.fw:17]
-		//   - y/(10 (4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10)) + (-y/10 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (-x²/4 + 1)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (-y + 1)/20 + 1/20)/(4 (y (-y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (-x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
+		//   - −1/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1 · test(salt)   [model.fw:17]
+		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
+		//   - (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
+		//   - (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
 		rhs[0] += fwVMSCellBasis1Val[q][0]*p101 + c22*p102 + c24*p103
 		rhs[1] += fwVMSCellBasis1Val[q][1]*p101 + k01*p102 + k00*p103
 		rhs[2] += fwVMSCellBasis1Val[q][2]*p101 + k11*p102 + k10*p103

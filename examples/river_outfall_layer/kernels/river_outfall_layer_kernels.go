@@ -138,8 +138,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
@@ -198,10 +198,10 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
@@ -260,10 +260,10 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (-cell_diameter (coth(250 cell_diameter) - 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12

@@ -179,7 +179,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c4
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:14]
 	b[3] = 0.1666666666666667 * c23
 	b[4] = 0.16666666666666666 * c23
 	b[5] = 0.16666666666666666 * c23
@@ -389,8 +389,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -402,8 +402,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -426,12 +426,12 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:14]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90
@@ -573,8 +573,8 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -613,8 +613,8 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -653,8 +653,8 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -666,8 +666,8 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -690,14 +690,14 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - -981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:14]
 	//   - 981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
 	//   - 981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90
@@ -852,11 +852,11 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
 	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	//   - (-5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -903,11 +903,11 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
 	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	//   - (-5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -919,8 +919,8 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -932,8 +932,8 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (-cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -956,14 +956,14 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - -981/100 · test(vel)[2]   [model.fw:14]
-	//   - -981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - -981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
+	//   - −981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - -981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90

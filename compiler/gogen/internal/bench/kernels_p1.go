@@ -140,13 +140,13 @@ func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
 	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
 	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
 	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
 	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
 	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68

@@ -444,13 +444,13 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - (1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
 		//   - (1) · partial(c, x) · test(c)   [adr_q2.fw:12]
 		//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
 		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (-1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
 		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
 		//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (-1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
 		acc[0] += fwQ2SUPGCellBasis2Val[q][0]*p62 + p23*p252 + p60*p299
 		acc[1] += fwQ2SUPGCellBasis2Val[q][0]*p67 + p23*p254 + p60*p301
 		acc[2] += fwQ2SUPGCellBasis2Val[q][0]*p72 + p23*p256 + p60*p303
