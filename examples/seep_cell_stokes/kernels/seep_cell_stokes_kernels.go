@@ -111,7 +111,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b[7] = 0
 	b[8] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c3)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c3
@@ -122,8 +122,8 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666 * j11
 	A[26] = 0.16666666666666666 * c3
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:14]
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
 	A[0] = 0.5*(c18+c22) + c20
 	A[1] = 0.5 * (-c18 - c20)
 	A[2] = 0.5 * (-c20 - c22)
@@ -134,7 +134,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[19] = 0.5 * c20
 	A[20] = 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c4 - j00)
 	A[34] = 0.1666666666666667 * c4
 	A[35] = 0.1666666666666667 * j00
@@ -145,8 +145,8 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666 * c4
 	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:14]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
 	A[30] = 0.5*(c18+c22) + c20
 	A[31] = 0.5 * (-c18 - c20)
 	A[32] = 0.5 * (-c20 - c22)
@@ -157,7 +157,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[49] = 0.5 * c20
 	A[50] = 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c3)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c3
@@ -168,7 +168,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[73] = 0.16666666666666666 * j11
 	A[74] = 0.16666666666666666 * c3
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c4 - j00)
 	A[58] = 0.1666666666666667 * c4
 	A[59] = 0.1666666666666667 * j00
@@ -179,7 +179,7 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c4
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:15]
 	b[3] = 0.1666666666666667 * c23
 	b[4] = 0.16666666666666666 * c23
 	b[5] = 0.16666666666666666 * c23
@@ -320,7 +320,7 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b[1] = 0
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -331,8 +331,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666 * j11
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -343,7 +343,7 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -354,7 +354,7 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -365,7 +365,7 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666 * c21
 	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -376,8 +376,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -388,9 +388,9 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -401,9 +401,9 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[73] = 0.16666666666666666 * j11
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -414,8 +414,8 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -426,12 +426,12 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:15]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90
@@ -572,9 +572,9 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b[1] = 0
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -585,12 +585,12 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666 * j11
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
+	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -601,7 +601,7 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -612,9 +612,9 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -625,7 +625,7 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666 * c21
 	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -636,12 +636,12 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
+	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -652,9 +652,9 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -665,9 +665,9 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[73] = 0.16666666666666666 * j11
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -678,8 +678,8 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -690,14 +690,14 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:14]
-	//   - 981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - 981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:15]
+	//   - 981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - 981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:15]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90
@@ -838,9 +838,9 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	b[1] = 0
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:14]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -851,12 +851,12 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666 * j11
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:14]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:14]
+	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
+	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -867,7 +867,7 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:15]
+	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -878,9 +878,9 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:14]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -891,7 +891,7 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666 * c21
 	A[53] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:15]
+	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -902,12 +902,12 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:14]
-	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
+	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -918,9 +918,9 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:14]
+	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -931,9 +931,9 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[73] = 0.16666666666666666 * j11
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:14]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:14]
+	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -944,8 +944,8 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:14]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:14]
+	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
+	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -956,14 +956,14 @@ func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	A[79] = c17 * c75
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:14]
-	//   - −981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:14]
-	//   - −981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:14]
+	//   - −981/100 · test(vel)[2]   [model.fw:15]
+	//   - −981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - −981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:15]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:14]
+	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
 	b[6] = c17 * c88
 	b[7] = c17 * c89
 	b[8] = c17 * c90
