@@ -124,7 +124,7 @@ func loadModel(arg string) (*compiler.Model, error) {
 		return nil, err
 	}
 	f, errs := lang.Parse(file, src)
-	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
+	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module, Partial: len(errs) > 0})
 	errs = append(errs, cerrs...)
 	if len(errs) > 0 {
 		errs.Sort()

@@ -71,6 +71,8 @@ func TestExitStatuses(t *testing.T) {
 	dir := t.TempDir()
 	bad := filepath.Join(dir, "bad.fw")
 	os.WriteFile(bad, []byte("model m\ndimension 2\nunknown c: scalar P1\nequation for c: -div(kapa*grad(c)) = 1\n"), 0o644)
+	syn := filepath.Join(dir, "syntax.fw")
+	os.WriteFile(syn, []byte("model m\ndimension 2\nunknown c: scalar P1\nequation for c: a . grad(c) = 1 +\n"), 0o644)
 	cases := []struct {
 		args   []string
 		status int
@@ -88,11 +90,17 @@ func TestExitStatuses(t *testing.T) {
 		{[]string{"verify", "heat", "--quiet"}, exitBadInput, "verify handles steady problems"},
 		{[]string{"solve", "adr", "--mesh", "rect:0,1,0,1:8x8:quad"}, exitBadInput, "need simplex cells"},
 		{[]string{"solve", "adr", "--out", "u.txt"}, exitBadInput, "unknown file type"},
+		{[]string{"derive", syn}, exitBadInput, "syntax.fw:4:34: expected an expression after \"+\""},
 		{[]string{"derive", bad}, exitBadInput, "bad.fw:4:22: unknown identifier \"kapa\"\n    equation for c: -div(kapa*grad(c)) = 1\n                         ^~~~"},
 	}
 	for _, c := range cases {
 		var out, errb bytes.Buffer
 		st := run(c.args, &out, &errb)
+		// A statement that did not parse must not cause follow-on errors
+		// about what is missing.
+		if strings.Contains(errb.String(), "no equation for unknown") {
+			t.Errorf("%v: follow-on error after a syntax error: %q", c.args, errb.String())
+		}
 		if st != c.status {
 			t.Errorf("%v: status %d, want %d (stderr %q)", c.args, st, c.status, errb.String())
 		}

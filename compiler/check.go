@@ -19,6 +19,11 @@ type Loader func(name string) (file string, src []byte, err error)
 type CheckOptions struct {
 	// Load resolves "use" statements; nil means no library is available.
 	Load Loader
+	// Partial says the file had syntax errors, so statements may be
+	// missing: errors about what is absent (no model, dimension, unknown,
+	// equation or τ) are not reported, since the statement may be the one
+	// that did not parse.
+	Partial bool
 }
 
 // Cell quantities a model may use, with their ranks. They are constant in
@@ -64,6 +69,7 @@ type coefDecl struct {
 }
 
 type checker struct {
+	partial  bool
 	m        *Model
 	errs     lang.ErrorList
 	dim      int
@@ -79,6 +85,7 @@ type checker struct {
 // every error found (syntax errors are the parser's; these are semantic).
 func Check(f *lang.File, opts CheckOptions) (*Model, lang.ErrorList) {
 	c := &checker{
+		partial:  opts.Partial,
 		m:        &Model{File: f.Name, Sources: map[string][]byte{f.Name: f.Src}},
 		unknowns: map[string]*Unknown{},
 		coefs:    map[string]*coefDecl{},
@@ -191,18 +198,20 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 			c.formulas[s.Name.Text] = &formula{name: s.Name.Text, params: s.Params, body: s.Body, pos: s.Name.Pos}
 		}
 	}
-	if modelSeen == nil {
+	if modelSeen == nil && !c.partial {
 		c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "start the file with \"model NAME\"", "missing model statement")
 	}
 	if dimSeen == nil {
-		c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "add \"dimension 1\", \"dimension 2\" or \"dimension 3\"", "missing dimension statement")
+		if !c.partial {
+			c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "add \"dimension 1\", \"dimension 2\" or \"dimension 3\"", "missing dimension statement")
+		}
 		return
 	}
 	c.dim = m.Dim
 	if len(m.Sides) == 0 {
 		m.Sides = append([]string(nil), defaultSides[m.Dim]...)
 	}
-	if len(m.Unknowns) == 0 {
+	if len(m.Unknowns) == 0 && !c.partial {
 		c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "declare one with \"unknown u: scalar P1\"", "the model has no unknown")
 	}
 	for _, u := range m.Unknowns {
@@ -385,7 +394,7 @@ func (c *checker) checkEquations(f *lang.File) {
 		}
 		m.Equations = append(m.Equations, eq)
 	}
-	if len(c.errs) == 0 {
+	if len(c.errs) == 0 && !c.partial {
 		for _, u := range m.Unknowns {
 			if _, ok := byUnknown[u.Index]; !ok {
 				c.errorf(u.Pos, lang.Pos{}, fmt.Sprintf("add \"equation for %s: ... = ...\"", u.Name), "no equation for unknown %q", u.Name)
@@ -552,7 +561,7 @@ func (c *checker) checkStabilisation(f *lang.File) {
 			needTau = true
 		}
 	}
-	if needTau {
+	if needTau && !c.partial {
 		for _, u := range m.Unknowns {
 			if m.Tau[u.Index] == nil {
 				c.errorf(u.Pos, lang.Pos{}, fmt.Sprintf("add \"tau for %s = ...\" (the library module tau has standard definitions)", u.Name), "a stabilised method needs tau for %q", u.Name)
