@@ -133,7 +133,7 @@ func coefVaries(t ir.Expr) bool {
 		if s, ok := e.(*ir.Sym); ok && s.Kind == ir.Coefficient && s.Deps.Spatial() {
 			varies = true
 		}
-		if c, ok := e.(*ir.Coord); ok && c != nil {
+		if _, ok := e.(*ir.Coord); ok {
 			varies = true
 		}
 		return !varies

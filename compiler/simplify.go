@@ -148,7 +148,7 @@ func (s simplifier) add(e *ir.Add) ir.Expr {
 	var vecs []*ir.Vec
 	var others []ir.Expr
 	for _, t := range flat {
-		if v, ok := t.(*ir.Vec); ok && len(vecs) >= 0 {
+		if v, ok := t.(*ir.Vec); ok {
 			vecs = append(vecs, v)
 		} else {
 			others = append(others, t)
@@ -236,10 +236,11 @@ func (s simplifier) mul(e *ir.Mul) ir.Expr {
 		}
 	}
 	c := big.NewRat(1, 1)
+	// A scalar factor as base^exp with a rational exponent; a factor
+	// with a symbolic exponent is kept whole as its own base.
 	type power struct {
 		base ir.Expr
-		exp  *big.Rat // nil: exponent is symbolic, kept in sym
-		sym  ir.Expr
+		exp  *big.Rat
 	}
 	var scalars []power
 	var tensor ir.Expr
@@ -259,13 +260,13 @@ func (s simplifier) mul(e *ir.Mul) ir.Expr {
 		}
 		if p, ok := f.(*ir.Pow); ok {
 			if k, ok := num(p.Exp); ok {
-				scalars = append(scalars, power{p.Base, new(big.Rat).Set(k), nil})
+				scalars = append(scalars, power{p.Base, new(big.Rat).Set(k)})
 				continue
 			}
-			scalars = append(scalars, power{f, big.NewRat(1, 1), nil})
+			scalars = append(scalars, power{f, big.NewRat(1, 1)})
 			continue
 		}
-		scalars = append(scalars, power{f, big.NewRat(1, 1), nil})
+		scalars = append(scalars, power{f, big.NewRat(1, 1)})
 	}
 	if c.Sign() == 0 || (tensor != nil && ir.IsZero(tensor)) {
 		return ir.Zero(e.P, rank, s.dim)
