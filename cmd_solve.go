@@ -146,15 +146,6 @@ func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error
 	return lf, nil
 }
 
-// checkSteady refuses forms with time derivatives where only steady
-// problems are handled (verify).
-func checkSteady(lf *ir.LoweredForm, m *compiler.Model) error {
-	if problem.IsTransient(lf) {
-		return &usageError{fmt.Sprintf("model %s has a time derivative: verify handles steady problems; solve it with --dt and --steps", m.Name)}
-	}
-	return nil
-}
-
 // solveTransient steps a transient model by backward Euler from t = --time
 // with the initial values of the coefficients initial_<unknown> (zero where
 // a model has none).

@@ -108,6 +108,8 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	speed := fs.Float64("speed", 1, "advection speed |a| used to turn Péclet numbers into diffusivities in --sweep-pe")
 	quiet := fs.Bool("quiet", false, "no progress on standard error")
 	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
+	until := fs.Float64("until", 0, "transient models: compare with the exact solution at this time")
+	steps0 := fs.Int("steps", 4, "transient models: backward Euler steps on the coarsest mesh; each refinement multiplies them by 2^(k+1), so that Δt ∝ h^(k+1)")
 	pos, err := parseArgs(fs, args)
 	if err != nil {
 		return err
@@ -218,8 +220,16 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
-		if err := checkSteady(lf, m); err != nil {
-			return err
+		transient := problem.IsTransient(lf)
+		if transient && !(*until > 0) {
+			return &usageError{fmt.Sprintf("model %s is transient: give the comparison time with --until T", m.Name)}
+		}
+		if transient && *steps0 < 1 {
+			return &usageError{"--steps must be at least 1"}
+		}
+		kmax := 1
+		for _, u := range m.Unknowns {
+			kmax = max(kmax, elementDegree(u.Element))
 		}
 		vms := make([]verifyMethod, len(m.Unknowns))
 		finestNorm := make([]float64, len(m.Unknowns)) // ‖u*‖ on the latest mesh
@@ -236,9 +246,22 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			if !*quiet {
 				fmt.Fprintf(stderr, "  %s: level %d, %d cells\n", meth, l+1, msh.NumCells())
 			}
-			opts := problem.Options{}
-			kernelPath(lf, msh, &opts)
-			sol, err := problem.Solve(lf, msh, opts)
+			var sol *problem.Solution
+			tEnd := 0.0
+			if transient {
+				// Δt ∝ h^(k+1) keeps the first-order time error below the
+				// spatial L² error O(h^(k+1)).
+				steps := *steps0 << (uint(kmax+1) * uint(l))
+				if steps > 100000 {
+					return &usageError{fmt.Sprintf("level %d would need %d time steps: use fewer --levels or a smaller --steps", l+1, steps)}
+				}
+				tEnd = *until
+				sol, err = problem.SolveTransient(lf, msh, problem.TransientOptions{Step: tEnd / float64(steps), Steps: steps, Initial: exactFns})
+			} else {
+				opts := problem.Options{}
+				kernelPath(lf, msh, &opts)
+				sol, err = problem.Solve(lf, msh, opts)
+			}
 			if err != nil {
 				return solveError(err)
 			}
@@ -246,8 +269,8 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			zero.X = make([]float64, len(sol.X))
 			for i := range vms {
 				vm := &vms[i]
-				finestNorm[i], _ = zero.ErrorNorms(i, exactFns[i], 0, 0)
-				l2, h1 := sol.ErrorNorms(i, exactFns[i], 0, 0)
+				finestNorm[i], _ = zero.ErrorNorms(i, exactFns[i], tEnd, 0)
+				l2, h1 := sol.ErrorNorms(i, exactFns[i], tEnd, 0)
 				lv := verifyLevel{N: n, H: 1 / float64(n), Dofs: sol.Summary.Dofs, L2: l2, H1: h1}
 				if l > 0 {
 					prev := vm.Levels[l-1]

@@ -454,3 +454,32 @@ func TestOutputGridQuadratic(t *testing.T) {
 		t.Fatal("no edge node checked")
 	}
 }
+
+// TestVerifyTransient: verify on a transient advection–diffusion model with
+// a manufactured u(x, y, t) whose boundary data change in time. Backward
+// Euler with Δt ∝ h² (the default refinement for P1) keeps the time error
+// at the size of the spatial one, so Galerkin shows the spatial orders 2
+// and 1 at t = 0.5 (Ciarlet 1978; first order of backward Euler, e.g.
+// Hughes 1987 §8.2).
+func TestVerifyTransient(t *testing.T) {
+	path := writeModel(t, `model heat_check
+dimension 2
+unknown u: scalar P1
+given k = 1/10
+given a = [1, 1/2]
+equation for u: dt(u) + a . grad(u) - div(k*grad(u)) = 0
+at all: u = 0
+`)
+	var out, errb bytes.Buffer
+	st := run([]string{"verify", path, "--until", "0.5", "--json", "--quiet", "--tol", "0.1",
+		"--exact", "exp(-t)*sin(pi*x)*sin(pi*y) + x*y*t"}, &out, &errb)
+	if st != exitOK {
+		t.Fatalf("status %d\n%s%s", st, out.String(), errb.String())
+	}
+	var rep verifyReport
+	json.Unmarshal(out.Bytes(), &rep)
+	last := rep.Methods[0].Levels[len(rep.Methods[0].Levels)-1]
+	if math.Abs(last.OrderL2-2) > 0.1 || math.Abs(last.OrderH1-1) > 0.1 {
+		t.Errorf("orders %.2f, %.2f, want 2 and 1", last.OrderL2, last.OrderH1)
+	}
+}
