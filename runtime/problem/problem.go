@@ -128,6 +128,20 @@ func (e *PicardError) Error() string {
 	return fmt.Sprintf("problem: Picard iteration not converged after %d steps (relative change %.1e > %g)", e.Iter, e.Change, e.Tol)
 }
 
+// dofMap numbers the form's fields on the mesh, with the elements the
+// kernels use (interp.LayoutFor).
+func dofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Map, error) {
+	lay, err := interp.LayoutFor(form, m.Cell)
+	if err != nil {
+		return nil, err
+	}
+	var specs []dof.FieldSpec
+	for i, f := range lay.Fields {
+		specs = append(specs, dof.FieldSpec{Name: form.Unknowns[i].Name, Element: f.Element, Components: f.Components})
+	}
+	return dof.New(m.Cell, m.Coords, m.Cells, specs)
+}
+
 // formReadsPrevious reports whether any coefficient of the form reads the
 // previous iterate of an unknown.
 func formReadsPrevious(form *ir.LoweredForm) bool {
@@ -173,15 +187,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 		sum.Phases = append(sum.Phases, Phase{name, now.Sub(clock)})
 		clock = now
 	}
-	lay, err := interp.LayoutFor(form, m.Cell)
-	if err != nil {
-		return nil, err
-	}
-	var specs []dof.FieldSpec
-	for i, f := range lay.Fields {
-		specs = append(specs, dof.FieldSpec{Name: form.Unknowns[i].Name, Element: f.Element, Components: f.Components})
-	}
-	dm, err := dof.New(m.Cell, m.Coords, m.Cells, specs)
+	dm, err := dofMap(form, m)
 	if err != nil {
 		return nil, err
 	}

@@ -6,8 +6,6 @@ import (
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/dof"
-	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/mesh"
 )
 
@@ -95,15 +93,7 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	if err != nil {
 		return nil, err
 	}
-	lay, err := interp.LayoutFor(form, m.Cell)
-	if err != nil {
-		return nil, err
-	}
-	var specs []dof.FieldSpec
-	for i, f := range lay.Fields {
-		specs = append(specs, dof.FieldSpec{Name: form.Unknowns[i].Name, Element: f.Element, Components: f.Components})
-	}
-	dm, err := dof.New(m.Cell, m.Coords, m.Cells, specs)
+	dm, err := dofMap(form, m)
 	if err != nil {
 		return nil, err
 	}
