@@ -379,20 +379,7 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	fmt.Fprintf(body, "// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian\n// determinant it fills A and b with NaN.\nfunc (%s) Cell(in *assemble.CellInput, A, b []float64) {\n%s}\n\n", typ, code)
 
 	// Facet kernels, one per side.
-	var sides []string
-	for _, in := range lf.Integrals {
-		s := in.Domain.Side
-		if s == "" {
-			continue
-		}
-		dup := false
-		for _, t := range sides {
-			dup = dup || t == s
-		}
-		if !dup {
-			sides = append(sides, s)
-		}
-	}
+	sides := lf.Sides()
 	var facetTypes []string
 	for si, side := range sides {
 		ft := fmt.Sprintf("%s%sFacetKernel%s_%s", fn.prefix, mid, suffix, Mangle(side))

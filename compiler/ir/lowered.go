@@ -1,5 +1,7 @@
 package ir
 
+import "slices"
+
 // Lowered forms: the contract between the compiler and the runtime.
 //
 // A derived weak form is lowered to components and expanded into terms
@@ -65,4 +67,16 @@ type DirichletCondition struct {
 	Unknown int
 	Comp    int
 	Value   Expr
+}
+
+// Sides lists the boundary sides that carry an integral, in the order they
+// first appear; facet kernels (interpreted and generated) follow it.
+func (lf *LoweredForm) Sides() []string {
+	var sides []string
+	for _, in := range lf.Integrals {
+		if s := in.Domain.Side; s != "" && !slices.Contains(sides, s) {
+			sides = append(sides, s)
+		}
+	}
+	return sides
 }

@@ -52,20 +52,7 @@ func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetK
 			return nil, err
 		}
 	}
-	var sides []string
-	for _, in := range form.Integrals {
-		s := in.Domain.Side
-		if s == "" {
-			continue
-		}
-		dup := false
-		for _, t := range sides {
-			dup = dup || t == s
-		}
-		if !dup {
-			sides = append(sides, s)
-		}
-	}
+	sides := form.Sides()
 	var out []*FacetKernel
 	for _, side := range sides {
 		bil, lin := splitIntegrals(form, side)
