@@ -165,7 +165,7 @@ func linearJacobian(c cell.Type, v, xi, jinv []float64) (float64, []float64) {
 			}
 		}
 	}
-	det := invert(d, J[:d*d], Ji[:d*d])
+	det := Invert(d, J[:d*d], Ji[:d*d])
 	if jinv != nil {
 		copy(jinv, Ji[:d*d])
 	}

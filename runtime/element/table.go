@@ -197,7 +197,7 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 			}
 		}
 	}
-	det := invert(d, J, out.JInv)
+	det := Invert(d, J, out.JInv)
 	out.DetJ = det
 	if !(det > 0) {
 		return &JacobianError{Point: q, Det: det}
@@ -283,9 +283,11 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 	return nil
 }
 
-// invert writes the inverse of the d×d matrix a (d <= 3) into inv and
-// returns det a. If det a == 0, inv is left unchanged.
-func invert(d int, a, inv []float64) float64 {
+// Invert writes the inverse of the d×d matrix a (d <= 3, row-major) into
+// inv by the adjugate and returns det a. If det a == 0, inv is left
+// unchanged. It does not allocate; the interpreted kernels use it too, so
+// both paths invert Jacobians with the same arithmetic.
+func Invert(d int, a, inv []float64) float64 {
 	switch d {
 	case 1:
 		if a[0] != 0 {

@@ -483,7 +483,7 @@ func (it *integrand) affineCell(s *scratch, coords []float64) bool {
 			J[i*d+j] = coords[(j+1)*d+i] - coords[i]
 		}
 	}
-	det := invert(d, J, s.JInv[:d*d])
+	det := element.Invert(d, J, s.JInv[:d*d])
 	s.det = det
 	if !(det > 0) {
 		return false
@@ -499,41 +499,6 @@ func (it *integrand) affineCell(s *scratch, coords []float64) bool {
 		}
 	}
 	return true
-}
-
-// invert writes the inverse of the d×d matrix a into inv and returns
-// det a (inv untouched when det a = 0).
-func invert(d int, a, inv []float64) float64 {
-	switch d {
-	case 1:
-		if a[0] != 0 {
-			inv[0] = 1 / a[0]
-		}
-		return a[0]
-	case 2:
-		det := a[0]*a[3] - a[1]*a[2]
-		if det != 0 {
-			inv[0], inv[1], inv[2], inv[3] = a[3]/det, -a[1]/det, -a[2]/det, a[0]/det
-		}
-		return det
-	}
-	c00 := a[4]*a[8] - a[5]*a[7]
-	c01 := a[5]*a[6] - a[3]*a[8]
-	c02 := a[3]*a[7] - a[4]*a[6]
-	det := a[0]*c00 + a[1]*c01 + a[2]*c02
-	if det != 0 {
-		r := 1 / det
-		inv[0] = c00 * r
-		inv[1] = (a[2]*a[7] - a[1]*a[8]) * r
-		inv[2] = (a[1]*a[5] - a[2]*a[4]) * r
-		inv[3] = c01 * r
-		inv[4] = (a[0]*a[8] - a[2]*a[6]) * r
-		inv[5] = (a[2]*a[3] - a[0]*a[5]) * r
-		inv[6] = c02 * r
-		inv[7] = (a[1]*a[6] - a[0]*a[7]) * r
-		inv[8] = (a[0]*a[4] - a[1]*a[3]) * r
-	}
-	return det
 }
 
 // point prepares quadrature point q with tables tabs (one per element):
