@@ -411,7 +411,11 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 	}
 	fmt.Fprintf(w, "kernels    %s\n", path)
-	fmt.Fprintf(w, "solver     %s, %d iterations, relative residual %.2e\n", s.Solver, s.Iterations, s.Residual)
+	if s.Solver == "direct" {
+		fmt.Fprintf(w, "solver     direct sparse LU, relative residual %.2e\n", s.Residual)
+	} else {
+		fmt.Fprintf(w, "solver     %s, %d iterations, relative residual %.2e\n", s.Solver, s.Iterations, s.Residual)
+	}
 	if s.Picard > 1 {
 		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
 	}
