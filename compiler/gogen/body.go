@@ -519,29 +519,65 @@ func (g *bodyGen) physHess(ei, a, k, l int) int {
 		k, l = l, k
 	}
 	return g.memoize(fmt.Sprintf("h%d.%d.%d.%d", ei, a, k, l), func() int {
-		d := g.dim
-		mm := func(p, r int) int {
-			if p > r {
-				p, r = r, p // Ĥ and ∂²x/∂ξ² are symmetric
-			}
-			return g.memoize(fmt.Sprintf("mm%d.%d.%d.%d", ei, a, p, r), func() int {
-				ts := []int{g.refHess(ei, a, p, r)}
-				for kk := 0; kk < d; kk++ {
-					ts = append(ts, g.d.neg(g.d.mul(g.physGrad(ei, a, kk), g.d2x(kk, p, r))))
-				}
-				return g.d.add(ts...)
-			})
-		}
-		// H_kl = Σ_{p≤r} (K_pk K_rl + [p≠r] K_rk K_pl) mm_pr: the factors
+		// H_kl = Σ_{p≤r} (K_pk K_rl + [p≠r] K_rk K_pl) m_pr: the factors
 		// depend on the point only and are shared by all basis functions.
 		var ts []int
-		for p := 0; p < d; p++ {
-			for r := p; r < d; r++ {
-				ts = append(ts, g.d.mul(g.hessFactor(p, r, k, l), mm(p, r)))
+		for p := 0; p < g.dim; p++ {
+			for r := p; r < g.dim; r++ {
+				ts = append(ts, g.d.mul(g.hessFactor(p, r, k, l), g.refHessMapped(ei, a, p, r)))
 			}
 		}
 		return g.d.add(ts...)
 	})
+}
+
+// refHessMapped is m_pr = ∂²φ_a/∂ξ_p∂ξ_r − Σ_k ∂φ_a/∂x_k ∂²x_k/∂ξ_p∂ξ_r,
+// the reference Hessian corrected for the curvature of the map, so that
+// the physical Hessian is K^T m K (K = J⁻¹).
+func (g *bodyGen) refHessMapped(ei, a, p, r int) int {
+	if p > r {
+		p, r = r, p // Ĥ and ∂²x/∂ξ² are symmetric
+	}
+	return g.memoize(fmt.Sprintf("mm%d.%d.%d.%d", ei, a, p, r), func() int {
+		ts := []int{g.refHess(ei, a, p, r)}
+		for k := 0; k < g.dim; k++ {
+			ts = append(ts, g.d.neg(g.d.mul(g.physGrad(ei, a, k), g.d2x(k, p, r))))
+		}
+		return g.d.add(ts...)
+	})
+}
+
+// basisSum is Σ_D D^D φ_a over the multi-indices Ds (distinct). Two or more
+// second derivatives are summed through the mapped reference Hessian,
+// Σ_(k,l) H_kl = Σ_{p≤r} (Σ_(k,l) hf_prkl) m_pr: the weights are shared by
+// all basis functions at the point, so a Laplacian costs one product per
+// reference entry and basis function instead of one per physical entry.
+func (g *bodyGen) basisSum(ei, a int, Ds [][3]uint8) int {
+	var ts []int
+	var second [][2]int
+	for _, D := range Ds {
+		if order(D) == 2 {
+			ax := axes(D)
+			second = append(second, [2]int{ax[0], ax[1]})
+			continue
+		}
+		ts = append(ts, g.basis(ei, a, D))
+	}
+	if len(second) == 1 {
+		ts = append(ts, g.physHess(ei, a, second[0][0], second[0][1]))
+	}
+	if len(second) > 1 {
+		for p := 0; p < g.dim; p++ {
+			for r := p; r < g.dim; r++ {
+				var ws []int
+				for _, kl := range second {
+					ws = append(ws, g.hessFactor(p, r, kl[0], kl[1]))
+				}
+				ts = append(ts, g.d.mul(g.d.add(ws...), g.refHessMapped(ei, a, p, r)))
+			}
+		}
+	}
+	return g.d.add(ts...)
 }
 
 // hessFactor is K_pk K_rl + [p≠r] K_rk K_pl (K = J⁻¹), p ≤ r, k ≤ l.

@@ -498,6 +498,18 @@ func (s *scheduler) reserve(names ...string) {
 	}
 }
 
+// fresh returns an unused identifier prefix+N (N from 0) and marks it
+// used; the body declares it itself.
+func (s *scheduler) fresh(prefix string) string {
+	for k := 0; ; k++ {
+		n := fmt.Sprintf("%s%d", prefix, k)
+		if !s.used[n] {
+			s.used[n] = true
+			return n
+		}
+	}
+}
+
 // ref is the Go operand for node id (its variable, leaf code or literal).
 func (s *scheduler) ref(id int) string {
 	n := &s.d.nodes[id]

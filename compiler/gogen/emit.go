@@ -3,6 +3,7 @@ package gogen
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 )
@@ -324,6 +325,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 		}
 		type beta struct {
 			tD     [3]uint8
+			tDs    [][3]uint8 // tD and the derivatives merged into it
 			t      []int
 			alphas []*group
 		}
@@ -371,16 +373,36 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 					if g.loop {
 						jj = symA
 					}
-					var sum []int
+					var Ds [][3]uint8
 					for _, gr := range be.alphas {
 						if gr.coef == c {
-							sum = append(sum, g.basis(b.uei, jj, gr.key.uD))
+							Ds = append(Ds, gr.key.uD)
 						}
 					}
-					be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.d.add(sum...)))
+					be.t[j] = g.d.add(be.t[j], g.d.mul(wc, g.basisSum(b.uei, jj, Ds)))
 				}
 			}
 		}
+		// Test derivatives whose column factors are the same nodes (the two
+		// halves of a test-side Laplacian in GLS and VMS) share one row
+		// factor, their sum: the point's update has one rank less.
+		var merged []*beta
+		for _, be := range betas {
+			var into *beta
+			for _, m := range merged {
+				if slices.Equal(m.t, be.t) {
+					into = m
+				}
+			}
+			if into == nil {
+				be.tDs = [][3]uint8{be.tD}
+				merged = append(merged, be)
+				continue
+			}
+			into.tDs = append(into.tDs, be.tD)
+			into.alphas = append(into.alphas, be.alphas...)
+		}
+		betas = merged
 		if g.loop {
 			if sym && b.ro > b.co {
 				continue
@@ -388,7 +410,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 			ls := loopStmt{comment: comment(b, "At each quadrature point, all basis-function pairs", isB),
 				ro: b.ro, co: b.co, nr: b.nr, nc: b.nc, upper: sym && b.ro == b.co}
 			for _, be := range betas {
-				v := g.basis(b.tei, symA, be.tD)
+				v := g.basisSum(b.tei, symA, be.tDs)
 				ls.pairs = append(ls.pairs, [2]int{v, be.t[0]})
 				roots = append(roots, v, be.t[0])
 			}
@@ -404,7 +426,7 @@ func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 				}
 				var terms []prod
 				for _, be := range betas {
-					v := g.basis(b.tei, i, be.tD)
+					v := g.basisSum(b.tei, i, be.tDs)
 					t := be.t[j]
 					terms = appendProd(g, terms, &roots, v, t)
 				}
@@ -757,15 +779,34 @@ func writeLoops(w *strings.Builder, sc *scheduler, loops []loopStmt, arrays map[
 			fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrhs[%d+i] += %s\n}\n", l.nr, l.ro, strings.Join(terms, " + "))
 			continue
 		}
+		// The row (test-function) factors are read once per row into
+		// locals, so that the inner loop over columns only loads the
+		// column factors.
+		rowf := map[int]string{}
+		var hoist []string
 		for _, p := range l.pairs {
-			terms = append(terms, at(p[0], "i")+"*"+at(p[1], "j"))
+			rf := at(p[0], "i")
+			if arrays[p[0]] != "" {
+				if _, ok := rowf[p[0]]; !ok {
+					rowf[p[0]] = sc.fresh("rowf")
+					hoist = append(hoist, rowf[p[0]]+" := "+rf)
+				}
+				rf = rowf[p[0]]
+			}
+			terms = append(terms, rf+"*"+at(p[1], "j"))
 		}
 		j0 := "0"
 		if l.upper {
 			j0 = "i"
 		}
-		fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrow := acc[(%d+i)*%d+%d : (%d+i)*%d+%d+%d]\nfor j := %s; j < %d; j++ {\nrow[j] += %s\n}\n}\n",
-			l.nr, l.ro, N, l.co, l.ro, N, l.co, l.nc, j0, l.nc, strings.Join(terms, " + "))
+		lo := fmt.Sprintf("(%d+i)*%d+%d", l.ro, N, l.co)
+		hi := fmt.Sprintf("%s+%d", lo, l.nc)
+		fmt.Fprintf(w, "for i := 0; i < %d; i++ {\n", l.nr)
+		for _, h := range hoist {
+			w.WriteString(h + "\n")
+		}
+		fmt.Fprintf(w, "row := acc[%s : %s : %s]\nfor j := %s; j < len(row); j++ {\nrow[j] += %s\n}\n}\n",
+			lo, hi, hi, j0, strings.Join(terms, " + "))
 	}
 }
 

@@ -42,8 +42,8 @@ type Options struct {
 	Output string
 
 	// loopAbove: elements with more nodes than this get generated loops
-	// over their basis functions instead of unrolled code (0: 10, so P1,
-	// P2 and Q1 unroll, Q2 on hexahedra loops). Tests lower it.
+	// over their basis functions instead of unrolled code (0: 8, so P1,
+	// P2 and Q1 unroll; Q2, P3 and larger loop). Tests lower it.
 	loopAbove int
 }
 
@@ -91,7 +91,7 @@ func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
 	}
 	fn := &fileNames{prefix: opts.Prefix, internal: "fw" + opts.Prefix, loopAbove: opts.loopAbove}
 	if fn.loopAbove <= 0 {
-		fn.loopAbove = 10
+		fn.loopAbove = 8
 	}
 	fn.fillNaN = fn.internal + "FillNaN"
 	fn.sign = fn.internal + "Sign"

@@ -177,7 +177,7 @@ func (handQ2) Cell(in *assemble.CellInput, A, b []float64) {
 		// K = J⁻¹: K[m][k] = ∂ξ_m/∂x_k.
 		k00, k01, k10, k11 := j11*r, -j01*r, -j10*r, j00*r
 		w := q2W[q] * det
-		var S, T, Adv, L, Kx, Ky [q2n]float64
+		var Adv, L, Kx, Ky [q2n]float64
 		phi, dx, dy := &q2Phi[q], &q2Dx[q], &q2Dy[q]
 		dxx, dxy, dyy := &q2Dxx[q], &q2Dxy[q], &q2Dyy[q]
 		for i := 0; i < q2n; i++ {
@@ -189,28 +189,31 @@ func (handQ2) Cell(in *assemble.CellInput, A, b []float64) {
 			hxx := k00*k00*dxx[i] + 2*k00*k10*mxy + k10*k10*dyy[i]
 			hyy := k01*k01*dxx[i] + 2*k01*k11*mxy + k11*k11*dyy[i]
 			adv := adrAx*px + adrAy*py
-			// Row factors: S = φ + τ a·∇φ (the SUPG test function), and
-			// the gradient; column factors: w a·∇φ, −w κ Δφ, w κ ∇φ.
-			S[i] = phi[i] + tau*adv
-			T[i] = tau * adv
+			// Column factors w a·∇φ and −w κ Δφ; the right-hand side is
+			// ∫ f (φ + τ a·∇φ), the SUPG test function.
 			Adv[i] = w * adv
 			L[i] = -w * adrKappa * (hxx + hyy)
 			Kx[i], Ky[i] = px, py
-			rhs[i] += w * S[i]
-		}
-		var WKx, WKy [q2n]float64
-		wk := w * adrKappa
-		for j := 0; j < q2n; j++ {
-			WKx[j], WKy[j] = wk*Kx[j], wk*Ky[j]
+			rhs[i] += w * (phi[i] + tau*adv)
 		}
 		// A_ij += S_i w a·∇φ_j − τ a·∇φ_i w κ Δφ_j + w κ ∇φ_i·∇φ_j (the
 		// Galerkin diffusion is in weak form, only the SUPG residual
-		// carries Δφ_j).
+		// carries Δφ_j). Grouped by the test factors φ_i, ∂φ_i/∂x and
+		// ∂φ_i/∂y, the point's contribution has rank 3:
+		//   A_ij += φ_i Adv_j + ∂xφ_i Cx_j + ∂yφ_i Cy_j,
+		//   C_j = τ a (Adv_j + L_j) + w κ ∇φ_j.
+		var Cx, Cy [q2n]float64
+		wk := w * adrKappa
+		for j := 0; j < q2n; j++ {
+			r := tau * (Adv[j] + L[j])
+			Cx[j] = adrAx*r + wk*Kx[j]
+			Cy[j] = adrAy*r + wk*Ky[j]
+		}
 		for i := 0; i < q2n; i++ {
-			si, ti, xi, yi := S[i], T[i], Kx[i], Ky[i]
+			pi, xi, yi := phi[i], Kx[i], Ky[i]
 			row := acc[i*q2n : i*q2n+q2n : i*q2n+q2n]
 			for j := range row {
-				row[j] += si*Adv[j] + ti*L[j] + xi*WKx[j] + yi*WKy[j]
+				row[j] += pi*Adv[j] + xi*Cx[j] + yi*Cy[j]
 			}
 		}
 	}
