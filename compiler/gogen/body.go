@@ -106,15 +106,7 @@ func (g *bodyGen) entryAt(name string, data [][]float64, ei, a, stride, off int)
 		return g.entry(name, data, a*stride+off)
 	}
 	g.declare(name, data)
-	v := fmt.Sprintf("a%d", ei)
-	idx := v
-	if stride != 1 {
-		idx = fmt.Sprintf("%s*%d", v, stride)
-	}
-	if off != 0 {
-		idx = fmt.Sprintf("%s+%d", idx, off)
-	}
-	return g.d.basisLeaf(fmt.Sprintf("%s[q][%s]", name, idx), ei)
+	return g.d.basisLeaf(name, stride, off, ei)
 }
 
 func (g *bodyGen) entry(name string, data [][]float64, idx int) int {

@@ -51,6 +51,10 @@ type node struct {
 	args []int
 	hint string // preferred variable name (generator-chosen identifiers only)
 	elem int    // lvBasis: 1 + the element whose basis loop computes the node
+	// A basis-loop table load tab[q][v*stride+off] (v the loop variable):
+	// tab is empty for other nodes.
+	tab         string
+	stride, off int
 }
 
 type dag struct {
@@ -113,8 +117,23 @@ func (d *dag) leaf(code string, lv level) int {
 }
 
 // basisLeaf is a load in the basis loop of element elem.
-func (d *dag) basisLeaf(code string, elem int) int {
-	return d.intern(node{op: opLeaf, code: code, lv: lvBasis, elem: elem + 1})
+// basisLeaf is the load tab[q][v*stride+off] in the basis loop of element
+// elem, v its loop variable.
+func (d *dag) basisLeaf(tab string, stride, off, elem int) int {
+	v := fmt.Sprintf("a%d", elem)
+	return d.intern(node{op: opLeaf, code: tableLoad(tab, v, stride, off), lv: lvBasis, elem: elem + 1, tab: tab, stride: stride, off: off})
+}
+
+// tableLoad is the Go expression tab[q][v*stride+off].
+func tableLoad(tab, v string, stride, off int) string {
+	idx := v
+	if stride != 1 {
+		idx = fmt.Sprintf("%s*%d", v, stride)
+	}
+	if off != 0 {
+		idx = fmt.Sprintf("%s+%d", idx, off)
+	}
+	return fmt.Sprintf("%s[q][%s]", tab, idx)
 }
 
 func (d *dag) ext(code string, lv level, hint string) int {

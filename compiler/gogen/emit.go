@@ -719,7 +719,8 @@ func (g *bodyGen) basisArrays(w *strings.Builder, sc *scheduler, need map[int]bo
 	arrays := map[int]string{}
 	var ids []int
 	for _, r := range roots {
-		if g.d.nodes[r].lv == lvBasis {
+		// Table loads are read from the table where they are used.
+		if n := &g.d.nodes[r]; n.lv == lvBasis && n.tab == "" {
 			if _, ok := arrays[r]; !ok {
 				arrays[r] = ""
 				ids = append(ids, r)
@@ -760,40 +761,75 @@ func (g *bodyGen) basisLoops(w *strings.Builder, sc *scheduler, need map[int]boo
 	}
 }
 
+// writeLoops writes the accumulation loops of loop mode. The row (test
+// function) factors of a block are read once per row into locals, so that
+// the inner loop over columns only loads column factors; a right-hand-side
+// loop over the same rows is fused into the matrix loop, after its column
+// loop, and shares those locals.
 func writeLoops(w *strings.Builder, sc *scheduler, loops []loopStmt, arrays map[int]string, N int) {
 	at := func(id int, idx string) string {
 		if name := arrays[id]; name != "" {
 			return name + "[" + idx + "]"
 		}
+		if n := &sc.d.nodes[id]; n.tab != "" {
+			return tableLoad(n.tab, idx, n.stride, n.off)
+		}
 		return sc.ref(id)
 	}
-	for _, l := range loops {
+	perBasis := func(id int) bool { return arrays[id] != "" || sc.d.nodes[id].tab != "" }
+	fusedInto := map[int]int{} // rhs loop → matrix loop
+	hasRHS := map[int]int{}    // matrix loop → rhs loop
+	for k, l := range loops {
+		if l.nc != 0 {
+			continue
+		}
+		for m, lm := range loops {
+			if _, taken := hasRHS[m]; !taken && lm.nc != 0 && lm.ro == l.ro && lm.nr == l.nr {
+				fusedInto[k], hasRHS[m] = m, k
+				break
+			}
+		}
+	}
+	for k, l := range loops {
+		if _, ok := fusedInto[k]; ok {
+			continue
+		}
 		for _, c := range l.comment {
 			w.WriteString("// " + c + "\n")
 		}
-		var terms []string
-		if l.nc == 0 {
-			for _, p := range l.pairs {
-				terms = append(terms, at(p[0], "i")+"*"+at(p[1], "i"))
-			}
-			fmt.Fprintf(w, "for i := 0; i < %d; i++ {\nrhs[%d+i] += %s\n}\n", l.nr, l.ro, strings.Join(terms, " + "))
-			continue
-		}
-		// The row (test-function) factors are read once per row into
-		// locals, so that the inner loop over columns only loads the
-		// column factors.
 		rowf := map[int]string{}
 		var hoist []string
-		for _, p := range l.pairs {
-			rf := at(p[0], "i")
-			if arrays[p[0]] != "" {
-				if _, ok := rowf[p[0]]; !ok {
-					rowf[p[0]] = sc.fresh("rowf")
-					hoist = append(hoist, rowf[p[0]]+" := "+rf)
-				}
-				rf = rowf[p[0]]
+		rowFactor := func(id int) string {
+			if !perBasis(id) {
+				return sc.ref(id)
 			}
-			terms = append(terms, rf+"*"+at(p[1], "j"))
+			if _, ok := rowf[id]; !ok {
+				rowf[id] = sc.fresh("rowf")
+				hoist = append(hoist, rowf[id]+" := "+at(id, "i"))
+			}
+			return rowf[id]
+		}
+		products := func(l loopStmt, col string) string {
+			var terms []string
+			for _, p := range l.pairs {
+				terms = append(terms, rowFactor(p[0])+"*"+at(p[1], col))
+			}
+			return strings.Join(terms, " + ")
+		}
+		if l.nc == 0 {
+			sum := products(l, "i")
+			fmt.Fprintf(w, "for i := 0; i < %d; i++ {\n%s\nrhs[%d+i] += %s\n}\n", l.nr, strings.Join(hoist, "\n"), l.ro, sum)
+			continue
+		}
+		sum := products(l, "j")
+		var rhs string
+		if r, ok := hasRHS[k]; ok {
+			var b strings.Builder
+			for _, c := range loops[r].comment {
+				b.WriteString("// " + c + "\n")
+			}
+			fmt.Fprintf(&b, "rhs[%d+i] += %s\n", loops[r].ro, products(loops[r], "i"))
+			rhs = b.String()
 		}
 		j0 := "0"
 		if l.upper {
@@ -805,8 +841,8 @@ func writeLoops(w *strings.Builder, sc *scheduler, loops []loopStmt, arrays map[
 		for _, h := range hoist {
 			w.WriteString(h + "\n")
 		}
-		fmt.Fprintf(w, "row := acc[%s : %s : %s]\nfor j := %s; j < len(row); j++ {\nrow[j] += %s\n}\n}\n",
-			lo, hi, hi, j0, strings.Join(terms, " + "))
+		fmt.Fprintf(w, "row := acc[%s : %s : %s]\nfor j := %s; j < len(row); j++ {\nrow[j] += %s\n}\n%s}\n",
+			lo, hi, hi, j0, sum, rhs)
 	}
 }
 

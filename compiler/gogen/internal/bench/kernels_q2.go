@@ -114,7 +114,6 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	var basis2 [9]float64
 	var basis3 [9]float64
 	var basis4 [9]float64
-	var basis5 [9]float64
 	for q := 0; q < 9; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[0] * fwQ2SUPGCellGeomGrad[q][0]
@@ -202,7 +201,6 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 			basis2[a0] = e9
 			basis3[a0] = e21
 			basis4[a0] = e26
-			basis5[a0] = fwQ2SUPGCellBasis2Val[q][a0]
 		}
 		// At each quadrature point, all basis-function pairs: rows 0..8, columns 0..8:
 		//   - (1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
@@ -216,20 +214,18 @@ func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
 		//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
 		for i := 0; i < 9; i++ {
-			rowf0 := basis5[i]
+			rowf0 := fwQ2SUPGCellBasis2Val[q][i]
 			rowf1 := basis0[i]
 			rowf2 := basis1[i]
 			row := acc[(0+i)*9+0 : (0+i)*9+0+9 : (0+i)*9+0+9]
 			for j := 0; j < len(row); j++ {
 				row[j] += rowf0*basis2[j] + rowf1*basis3[j] + rowf2*basis4[j]
 			}
-		}
-		// At each quadrature point, all basis functions: rows 0..8 of the right-hand side:
-		//   - 1 · test(c)   [adr_q2.fw:12]
-		//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-		for i := 0; i < 9; i++ {
-			rhs[0+i] += basis5[i]*w + basis0[i]*p37 + basis1[i]*p40
+			// At each quadrature point, all basis functions: rows 0..8 of the right-hand side:
+			//   - 1 · test(c)   [adr_q2.fw:12]
+			//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr_q2.fw:12]
+			//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+			rhs[0+i] += rowf0*w + rowf1*p37 + rowf2*p40
 		}
 	}
 	copy(A, acc[:])
