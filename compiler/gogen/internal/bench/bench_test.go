@@ -143,7 +143,7 @@ func BenchmarkSUPGQ2Interpreted(b *testing.B) {
 // every kernel evaluating the form point by point must perform, whatever
 // produced it: at each of the 9 points the rank-3 update
 // A_ij += Σ_r U_r,i V_r,j (r over the test factors φ_i, ∂φ_i/∂x, ∂φ_i/∂y)
-// and b_i += Σ_r U_r,i v_r, 2 268 multiply–adds in all, from factors that
+// and b_i += Σ_r U_r,i v_r, 2 430 multiply–adds in all, from factors that
 // are already in tables. Geometry, τ and the basis derivatives are free
 // for it, so its time bounds every such kernel from below, and the
 // interpreted kernel's time over it bounds the speed-up any generated
