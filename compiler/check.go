@@ -32,12 +32,14 @@ var cellQuantities = map[string]int{
 	"cell_diameter": 0, // longest edge
 	"cell_volume":   0, // length, area or volume of the cell
 	"G":             2, // element metric tensor G = J⁻ᵀJ⁻¹ (Bazilevs et al. 2007)
+	// C_inv = sup h²‖Δv‖²/‖∇v‖² of the unknowns' elements (Model.InverseEstimate)
+	"inverse_estimate": 0,
 }
 
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
 	"norm", "pow", "test", "previous", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
-	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G"}
+	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate"}
 
 // defaultSides are the side names of the built-in meshes, by dimension.
 var defaultSides = map[int][]string{

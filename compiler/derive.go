@@ -239,10 +239,11 @@ func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 		}
 	}
 	if meth == VMS && hasDiff {
-		for _, u := range m.Unknowns {
-			if u.Element == "P2" || u.Element == "Q2" {
-				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ below h²/C_inv, and the inverse constant C_inv grows with the degree: for %s use a degree-aware τ (c1 = 4p⁴, tau_codina_degree), and with h = cell_diameter even that can be too large: erratic errors in verify mean τ must shrink (Franca, Frey & Hughes 1992; Codina 2002)", u.Element)
-				break
+		if cinv, which := m.InverseEstimate(); cinv > 0 {
+			if m.usesInverseEstimate() {
+				add(Assumption, "τ is bounded with the inverse-estimate constant C_inv = %g (%s; sup h²‖Δv‖²/‖∇v‖², Harari & Hughes 1992): where τκ ≤ h²/(2 C_inv), the negative diffusive term of L* takes at most half of the Galerkin diffusion, so the VMS form stays coercive (Franca, Frey & Hughes 1992)", cinv, which)
+			} else {
+				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ < h²/C_inv, and here C_inv = %g (%s; sup h²‖Δv‖²/‖∇v‖²): a τ with diffusive limit h²/(c κ) needs c > C_inv. tau_ffh bounds τ with inverse_estimate (Franca, Frey & Hughes 1992)", cinv, which)
 			}
 		}
 	}
@@ -317,4 +318,37 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	}
 	lf.MaxDerivative = maxDeriv(lf.Integrals)
 	return lf, nil
+}
+
+// usesInverseEstimate reports whether some τ of the model refers to the
+// cell quantity inverse_estimate, directly or through coefficients.
+func (m *Model) usesInverseEstimate() bool {
+	seen := map[string]bool{}
+	var uses func(e ir.Expr) bool
+	uses = func(e ir.Expr) bool {
+		found := false
+		ir.Inspect(e, func(x ir.Expr) bool {
+			s, ok := x.(*ir.Sym)
+			if !ok || found {
+				return !found
+			}
+			switch {
+			case s.Kind == ir.CellQuantity && s.Name == "inverse_estimate":
+				found = true
+			case s.Kind == ir.Coefficient && !seen[s.Name]:
+				seen[s.Name] = true
+				if c := m.Coef(s.Name); c != nil && c.Def != nil {
+					found = uses(c.Def)
+				}
+			}
+			return !found
+		})
+		return found
+	}
+	for _, t := range m.Tau {
+		if t != nil && uses(t) {
+			return true
+		}
+	}
+	return false
 }

@@ -225,6 +225,15 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		}
 		panic("compiler: lower: unknown tau " + s.Name)
 	case ir.CellQuantity:
+		if s.Name == "inverse_estimate" {
+			// A constant of the elements, not of the cell: lowered to its
+			// value so that every kernel, interpreted or generated, uses
+			// the same number.
+			v, _ := l.m.InverseEstimate()
+			r := new(big.Rat)
+			r.SetFloat64(v)
+			return []ir.Expr{&ir.Num{At: at, Val: r}}
+		}
 		switch s.R {
 		case 0:
 			return []ir.Expr{&ir.CellQ{At: at, Name: s.Name}}

@@ -1,8 +1,13 @@
 package compiler
 
 import (
+	"fmt"
+	"math"
+
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/element"
 )
 
 // Method is a discretisation method.
@@ -135,4 +140,60 @@ func (m *Model) IsSimplexP1() bool {
 		}
 	}
 	return true
+}
+
+// InverseEstimate is the value the cell quantity inverse_estimate lowers
+// to: the largest inverse-estimate constant C_inv = sup h²‖Δv‖²/‖∇v‖² of
+// the elements of the model's unknowns, each on its reference cell
+// (element.InverseEstimate; Harari & Hughes 1992). The largest one is the
+// conservative choice for a τ shared by several fields. It also returns
+// the element that attains it, for the derivation notes. A value within
+// 1e-9 of an integer is rounded to it: the reference values of the
+// implemented elements are integers (12, 96, 240, 48, 108 for degree 2).
+func (m *Model) InverseEstimate() (float64, string) {
+	best, which := 0.0, ""
+	for _, u := range m.Unknowns {
+		c, k, ok := elementCell(u.Element, m.Dim)
+		if !ok {
+			continue
+		}
+		e, err := element.Lagrange(c, k)
+		if err != nil {
+			continue
+		}
+		v, err := element.InverseEstimate(e)
+		if err != nil {
+			continue
+		}
+		if r := math.Round(v); math.Abs(v-r) <= 1e-9*math.Max(1, r) {
+			v = r
+		}
+		if v > best || which == "" {
+			best, which = v, fmt.Sprintf("%s on the reference %v", u.Element, c)
+		}
+	}
+	return best, which
+}
+
+// elementCell maps an element name (P1, P2, Q1, Q2) and the dimension to
+// the reference cell and degree: P on simplices, Q on quadrilaterals and
+// hexahedra (and on the interval in 1D).
+func elementCell(name string, dim int) (cell.Type, int, bool) {
+	if len(name) != 2 || name[1] < '1' || name[1] > '9' {
+		return 0, 0, false
+	}
+	k := int(name[1] - '0')
+	switch {
+	case dim == 1:
+		return cell.Interval, k, true
+	case name[0] == 'P' && dim == 2:
+		return cell.Triangle, k, true
+	case name[0] == 'P' && dim == 3:
+		return cell.Tetrahedron, k, true
+	case name[0] == 'Q' && dim == 2:
+		return cell.Quadrilateral, k, true
+	case name[0] == 'Q' && dim == 3:
+		return cell.Hexahedron, k, true
+	}
+	return 0, 0, false
 }

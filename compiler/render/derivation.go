@@ -239,7 +239,8 @@ func (t *textWriter) latexNotes(ns []compiler.Note) {
 func latexText(s string) string {
 	r := strings.NewReplacer(`\`, `\textbackslash{}`, "_", `\_`, "&", `\&`, "%", `\%`, "#", `\#`, "$", `\$`, "{", `\{`, "}", `\}`, "^", `\^{}`, "~", `\~{}`,
 		"τ", `$\tau$`, "′", `$'$`, "≈", `$\approx$`, "−", `$-$`, "·", `$\cdot$`, "¹", `$^1$`, "₀", `$_0$`, "∇", `$\nabla$`, "≠", `$\neq$`,
-		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`)
+		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`,
+		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`)
 	return r.Replace(s)
 }
 

@@ -298,6 +298,13 @@ func (p printer) sym(s *ir.Sym) string {
 		case LaTeX:
 			return `|K|`
 		}
+	case "inverse_estimate":
+		switch p.style {
+		case Text:
+			return "C_inv"
+		case LaTeX:
+			return `C_{\mathrm{inv}}`
+		}
 	case "n":
 		if p.style == LaTeX {
 			return `\mathbf{n}`

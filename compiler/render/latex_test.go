@@ -2,10 +2,15 @@ package render
 
 import (
 	"bytes"
+	"go/ast"
+	"go/parser"
+	"go/token"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"testing"
+	"unicode"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/stdlib"
@@ -52,4 +57,37 @@ func tail(s string, n int) string {
 		return s[len(s)-n:]
 	}
 	return s
+}
+
+// TestLaTeXNoteSymbols: every non-ASCII character in the string literals
+// of compiler/derive.go, where the derivation notes are written, comes out
+// of latexText as plain ASCII, so pdflatex without Unicode support accepts
+// any note (pdflatex stops at the first unmapped character).
+func TestLaTeXNoteSymbols(t *testing.T) {
+	src, err := os.ReadFile(filepath.Join("..", "derive.go"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	fs := token.NewFileSet()
+	f, err := parser.ParseFile(fs, "derive.go", src, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	seen := map[rune]bool{}
+	ast.Inspect(f, func(n ast.Node) bool {
+		if lit, ok := n.(*ast.BasicLit); ok && lit.Kind == token.STRING {
+			for _, r := range lit.Value {
+				if r > unicode.MaxASCII && !seen[r] {
+					seen[r] = true
+					if out := latexText(string(r)); strings.ContainsFunc(out, func(c rune) bool { return c > unicode.MaxASCII }) {
+						t.Errorf("latexText(%q) = %q: not mapped to ASCII", r, out)
+					}
+				}
+			}
+		}
+		return true
+	})
+	if len(seen) == 0 {
+		t.Fatal("no non-ASCII characters found in derive.go: is the path right?")
+	}
 }
