@@ -411,10 +411,17 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 	}
 	fmt.Fprintf(w, "kernels    %s\n", path)
+	setups := ""
+	if s.Prepared > 1 {
+		setups = fmt.Sprintf(", %d set-ups", s.Prepared)
+	}
 	if s.Solver == "direct" {
-		fmt.Fprintf(w, "solver     direct sparse LU, relative residual %.2e\n", s.Residual)
+		if s.Prepared > 1 {
+			setups = fmt.Sprintf(", %d factorisations", s.Prepared)
+		}
+		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e\n", setups, s.Residual)
 	} else {
-		fmt.Fprintf(w, "solver     %s, %d iterations, relative residual %.2e\n", s.Solver, s.Iterations, s.Residual)
+		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e\n", s.Solver, setups, s.Iterations, s.Residual)
 	}
 	if s.Picard > 1 {
 		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
@@ -460,6 +467,7 @@ type jsonSolve struct {
 	Iterations int               `json:"iterations"`
 	Residual   float64           `json:"residual"`
 	Picard     int               `json:"picard_iterations"`
+	Setups     int               `json:"solver_setups"` // factorisations or preconditioner builds
 	WallTime   float64           `json:"wall_time_s"`
 	Tau        map[string]string `json:"tau"`
 	Fields     []jsonField       `json:"fields"`
@@ -478,7 +486,7 @@ type jsonField struct {
 func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared, WallTime: wall.Seconds(), Tau: map[string]string{}}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))

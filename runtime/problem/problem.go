@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"time"
 
 	"github.com/formwright/formwright/compiler/ir"
@@ -90,9 +91,13 @@ type Summary struct {
 	Iterations int    // of the last linear solve
 	Residual   float64
 	Picard     int // nonlinear iterations (1 for a linear problem)
-	Workers    int
-	Phases     []Phase
-	Ranges     []FieldRange
+	// Prepared counts the factorisations (or preconditioner set-ups) of
+	// the linear solver so far; a transient solve with a constant matrix
+	// has 1 for all its steps.
+	Prepared int
+	Workers  int
+	Phases   []Phase
+	Ranges   []FieldRange
 }
 
 // FieldValues are the nodal values of one field: Values[comp][node] at
@@ -111,7 +116,9 @@ type Solution struct {
 	X      []float64 // global dof vector (runtime/dof order)
 	Fields []FieldValues
 	// Matrix and RHS are the assembled system before Dirichlet
-	// elimination (of the last Picard step).
+	// elimination (of the last Picard step). The solutions SolveTransient
+	// hands to Observe share them with the next step, which overwrites
+	// them.
 	Matrix  *sparse.CSR
 	RHS     []float64
 	Summary Summary
@@ -176,6 +183,36 @@ type previousUser interface{ NeedsPrevious() bool }
 // are returned unchanged as the linsolve typed errors
 // (*linsolve.NotConvergedError, ...), so callers can tell them apart.
 func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) {
+	s, err := newSystem(form, m, opts)
+	if err != nil {
+		return nil, err
+	}
+	return s.solve(opts)
+}
+
+// system is the set-up of one form on one mesh that does not change
+// between solves: dof numbering, kernels, assembler and matrix pattern.
+// SolveTransient keeps one for all time steps, together with the prepared
+// linear solver while the constrained matrix stays the same.
+type system struct {
+	form     *ir.LoweredForm
+	m        *mesh.Mesh
+	dm       *dof.Map
+	cellK    assemble.Kernel
+	facetK   []assemble.FacetKernel
+	asm      *assemble.Assembler
+	A        *sparse.CSR
+	b        []float64
+	needPrev bool
+	setup    Summary // mesh, dofs, kernel path and the set-up phases
+	// prepared is the linear solver of the last solve and its options;
+	// prepares counts how often one was built.
+	prepared     *linsolve.Prepared
+	preparedOpts linsolve.Options
+	prepares     int
+}
+
+func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error) {
 	sum := Summary{Method: form.Method, Cells: m.NumCells(), Vertices: m.NumVertices(), Workers: opts.Workers}
 	if sum.Workers <= 0 {
 		sum.Workers = runtime.GOMAXPROCS(0)
@@ -197,54 +234,90 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 	sum.Dofs = dm.NumDofs
 	phase("dofs")
 
-	var cellK assemble.Kernel
-	var facetK []assemble.FacetKernel
+	s := &system{form: form, m: m, dm: dm}
 	if opts.Kernels != nil {
 		sum.KernelPath = "compiled"
-		cellK, facetK = opts.Kernels.Cell, opts.Kernels.Facets
+		s.cellK, s.facetK = opts.Kernels.Cell, opts.Kernels.Facets
 	} else {
 		sum.KernelPath = "interpreted"
 		ik, err := interp.NewKernel(form, m.Cell, interp.Options{Degree: opts.Degree})
 		if err != nil {
 			return nil, err
 		}
-		cellK = ik
+		s.cellK = ik
 		fks, err := interp.NewFacetKernels(form, m.Cell, interp.Options{Degree: opts.Degree})
 		if err != nil {
 			return nil, err
 		}
 		for _, f := range fks {
-			facetK = append(facetK, f)
+			s.facetK = append(s.facetK, f)
 		}
 	}
-	for _, fk := range facetK {
+	for _, fk := range s.facetK {
 		if _, ok := m.Boundaries[fk.Side()]; !ok {
 			return nil, fmt.Errorf("problem: boundary integral on %q: %w (sides: %v)", fk.Side(), ErrNoSide, m.BoundaryNames())
 		}
 	}
-	fixed, values, err := dirichlet(form, m, dm, opts.Time)
-	if err != nil {
-		return nil, err
-	}
-	phase("kernels+dirichlet-data")
+	phase("kernels")
 
-	asm := assemble.New(m, dm)
-	asm.Workers = opts.Workers
-	A := asm.NewMatrix()
-	b := make([]float64, dm.NumDofs)
+	s.asm = assemble.New(m, dm)
+	s.asm.Workers = opts.Workers
+	s.A = s.asm.NewMatrix()
+	s.b = make([]float64, dm.NumDofs)
 	phase("pattern")
 
 	// Whether the form reads the previous iterate is a property of the
 	// form, whichever kernels implement it; a kernel may also say so.
-	needPrev := formReadsPrevious(form)
-	if p, ok := cellK.(previousUser); ok && p.NeedsPrevious() {
-		needPrev = true
+	s.needPrev = formReadsPrevious(form)
+	if p, ok := s.cellK.(previousUser); ok && p.NeedsPrevious() {
+		s.needPrev = true
 	}
-	for _, fk := range facetK {
+	for _, fk := range s.facetK {
 		if p, ok := fk.(previousUser); ok && p.NeedsPrevious() {
-			needPrev = true
+			s.needPrev = true
 		}
 	}
+	s.setup = sum
+	return s, nil
+}
+
+// linearSolve solves the constrained system, reusing the prepared solver
+// of the previous call when the matrix and the options are the same (bit
+// for bit: assembly is deterministic, so a constant matrix is recognised
+// exactly).
+func (s *system) linearSolve(A *sparse.CSR, b, x []float64, so linsolve.Options) (linsolve.Result, error) {
+	if p := s.prepared; p == nil || !sameOptions(s.preparedOpts, so) || !slices.Equal(p.A.Val, A.Val) ||
+		!slices.Equal(p.A.Col, A.Col) || !slices.Equal(p.A.RowPtr, A.RowPtr) {
+		p, err := linsolve.Prepare(A, so)
+		if err != nil {
+			return linsolve.Result{}, err
+		}
+		s.prepared, s.preparedOpts = p, so
+		s.prepares++
+	}
+	return s.prepared.Solve(b, x)
+}
+
+// sameOptions compares the options that shape a prepared solver.
+func sameOptions(a, b linsolve.Options) bool {
+	return a.Method == b.Method && a.Precond == b.Precond && a.ILUShift == b.ILUShift && a.Workers == b.Workers &&
+		a.RelTol == b.RelTol && a.AbsTol == b.AbsTol && a.MaxIter == b.MaxIter && a.Restart == b.Restart
+}
+
+// solve assembles and solves at opts.Time, iterating Picard when the form
+// reads its previous iterate (unless opts.PreviousFixed).
+func (s *system) solve(opts Options) (*Solution, error) {
+	form, m, dm := s.form, s.m, s.dm
+	sum := s.setup
+	sum.Phases = slices.Clone(s.setup.Phases)
+	clock := time.Now()
+	fixed, values, err := dirichlet(form, m, dm, opts.Time)
+	if err != nil {
+		return nil, err
+	}
+	sum.Phases = append(sum.Phases, Phase{"dirichlet-data", time.Since(clock)})
+
+	A, b := s.A, s.b
 	maxIt, tol := opts.MaxPicard, opts.PicardTol
 	if maxIt <= 0 {
 		maxIt = 50
@@ -252,12 +325,12 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 	if tol <= 0 {
 		tol = 1e-8
 	}
-	if !needPrev {
+	if !s.needPrev {
 		maxIt = 1
 	}
 	x := make([]float64, dm.NumDofs)
 	var prev []float64
-	if needPrev {
+	if s.needPrev {
 		prev = make([]float64, dm.NumDofs)
 		if opts.Initial != nil {
 			if len(opts.Initial) != dm.NumDofs {
@@ -279,7 +352,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 	var tAsm, tSolve time.Duration
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
-		if err := asm.Assemble(cellK, facetK, A, b, assemble.Input{Time: opts.Time, Previous: prev}); err != nil {
+		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, assemble.Input{Time: opts.Time, Previous: prev}); err != nil {
 			return nil, err
 		}
 		Asys = A.Clone()
@@ -295,13 +368,13 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 				sum.Solver += fmt.Sprintf(" (shift %g)", so.ILUShift)
 			}
 		}
-		res, err := linsolve.Solve(Asys, bsys, x, so)
+		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
 		if err != nil {
 			return nil, err
 		}
 		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
-		if !needPrev || opts.PreviousFixed {
+		if !s.needPrev || opts.PreviousFixed {
 			break
 		}
 		dn, xn := 0.0, 0.0
@@ -318,6 +391,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 			return nil, &PicardError{Iter: it, Change: change, Tol: tol}
 		}
 	}
+	sum.Prepared = s.prepares
 	clock = time.Now()
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
 
@@ -336,7 +410,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 		}
 		sol.Fields = append(sol.Fields, fv)
 	}
-	phase("output")
+	sum.Phases = append(sum.Phases, Phase{"output", time.Since(clock)})
 	sol.Summary = sum
 	return sol, nil
 }

@@ -83,8 +83,11 @@ type TransientOptions struct {
 
 // SolveTransient integrates a form with time derivatives by backward Euler
 // steps (BackwardEuler): each step is one steady solve with the previous
-// time level held fixed and t the new time. It returns the solution at the
-// last step.
+// time level held fixed and t the new time. The dof map, kernels and
+// matrix pattern are set up once; while the constrained matrix does not
+// change (no coefficient depends on t), its factorisation or
+// preconditioner is built once and reused, so a step costs an assembly
+// and a back-substitution. It returns the solution at the last step.
 func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
 	if opts.Steps < 1 {
 		return nil, fmt.Errorf("problem: %d time steps", opts.Steps)
@@ -114,11 +117,17 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	}
 	so := opts.Options
 	so.PreviousFixed = true
+	// One set-up for all steps; the linear solver is prepared again only
+	// when the constrained matrix changes (coefficients that depend on t).
+	sys, err := newSystem(step, m, so)
+	if err != nil {
+		return nil, err
+	}
 	var sol *Solution
 	for n := 1; n <= opts.Steps; n++ {
 		so.Time = opts.Start + float64(n)*opts.Step
 		so.Initial = x
-		sol, err = Solve(step, m, so)
+		sol, err = sys.solve(so)
 		if err != nil {
 			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
 		}
