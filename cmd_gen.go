@@ -14,6 +14,7 @@ import (
 	"github.com/formwright/formwright/compiler/gogen"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/output"
+	"github.com/formwright/formwright/runtime/problem"
 )
 
 // generatedHeader starts every file gen writes; gen overwrites only files
@@ -47,6 +48,13 @@ func generate(modelArg, dir, pkg, prefix string, methods []compiler.Method, cmdl
 		lf, err := lowerModel(m, meth)
 		if err != nil {
 			return nil, err
+		}
+		if problem.IsTransient(lf) {
+			// The kernels of one backward Euler step, with Δt read from
+			// the kernel input: the form solve and verify step with.
+			if lf, err = problem.BackwardEuler(lf); err != nil {
+				return nil, &usageError{err.Error()}
+			}
 		}
 		forms = append(forms, lf)
 	}

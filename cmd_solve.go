@@ -324,6 +324,10 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		var sol *problem.Solution
 		path := "interpreted"
 		if problem.IsTransient(lf) {
+			// Compiled kernels implement the stepped form.
+			if stepped, serr := problem.BackwardEuler(lf); serr == nil {
+				path = kernelPath(stepped, msh, &opts)
+			}
 			sol, err = solveTransient(m, lf, msh, sf, opts, stderr)
 		} else {
 			path = kernelPath(lf, msh, &opts)

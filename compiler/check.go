@@ -34,12 +34,15 @@ var cellQuantities = map[string]int{
 	"G":             2, // element metric tensor G = J⁻ᵀJ⁻¹ (Bazilevs et al. 2007)
 	// C_inv = sup h²‖Δv‖²/‖∇v‖² of the unknowns' elements (Model.InverseEstimate)
 	"inverse_estimate": 0,
+	// Δt of the time integration, for transient models (a τ with a
+	// time-step term reads it, so τ always matches the step in use)
+	"time_step": 0,
 }
 
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
 	"norm", "pow", "test", "previous", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
-	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate"}
+	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate", "time_step"}
 
 // defaultSides are the side names of the built-in meshes, by dimension.
 var defaultSides = map[int][]string{
@@ -101,8 +104,59 @@ func Check(f *lang.File, opts CheckOptions) (*Model, lang.ErrorList) {
 	c.checkEquations(f)
 	c.checkBoundaries(f)
 	c.checkStabilisation(f)
+	c.checkTimeStep()
 	c.errs.Sort()
 	return c.m, c.errs
+}
+
+// checkTimeStep reports time_step in a model without time derivatives:
+// the quantity is the Δt of the time integration, and a steady solve has
+// none.
+func (c *checker) checkTimeStep() {
+	m := c.m
+	transient := false
+	var uses []ir.Expr
+	for _, eq := range m.Equations {
+		for _, e := range []ir.Expr{eq.Written, eq.Source} {
+			if e == nil {
+				continue
+			}
+			ir.Inspect(e, func(x ir.Expr) bool {
+				if _, ok := x.(*ir.TimeDeriv); ok {
+					transient = true
+				}
+				return true
+			})
+			uses = append(uses, e)
+		}
+	}
+	if transient {
+		return
+	}
+	for _, cf := range m.Coefs {
+		uses = append(uses, cf.Def)
+	}
+	uses = append(uses, m.Tau...)
+	for _, bc := range m.BCs {
+		uses = append(uses, bc.Value)
+	}
+	for _, e := range uses {
+		if e == nil {
+			continue
+		}
+		var at *ir.Sym
+		ir.Inspect(e, func(x ir.Expr) bool {
+			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Name == "time_step" && at == nil {
+				at = s
+			}
+			return at == nil
+		})
+		if at != nil {
+			p := at.Pos()
+			c.errorf(p, p, "time_step is the Δt of a transient model (one with dt(...)); give a steady model's value as a coefficient", "time_step in a model without time derivatives")
+			return
+		}
+	}
 }
 
 func (c *checker) errorf(pos, end lang.Pos, hint, format string, args ...any) {

@@ -627,6 +627,8 @@ func (g *bodyGen) coef(e ir.Expr) int {
 			return g.cellDiameter()
 		case "cell_volume":
 			return g.cellVolume()
+		case "time_step":
+			return d.leaf("in.Step", lvCell)
 		case "G":
 			if e.I < 0 || e.I >= g.dim || e.J < 0 || e.J >= g.dim {
 				return g.fail("gogen: G[%d][%d] in %d dimensions", e.I, e.J, g.dim)

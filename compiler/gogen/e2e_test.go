@@ -42,6 +42,7 @@ import (
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/stdlib"
 %s)
 
@@ -122,6 +123,9 @@ func main() {
 		}
 		for _, fm := range d.Forms {
 			lf, err := d.Lower(fm.Method)
+			if err == nil && problem.IsTransient(lf) {
+				lf, err = problem.BackwardEuler(lf)
+			}
 			if err != nil {
 				fmt.Println("FAIL", cs.file, err)
 				fails++
@@ -168,7 +172,7 @@ func main() {
 			A1, b1 := make([]float64, n*n), make([]float64, n)
 			A2, b2 := make([]float64, n*n), make([]float64, n)
 			for trial := 0; trial < 4; trial++ {
-				in := assemble.CellInput{Coords: randomCell(k.Cell, rng), Time: rng.Float64()}
+				in := assemble.CellInput{Coords: randomCell(k.Cell, rng), Time: rng.Float64(), Step: 0.01 + rng.Float64()}
 				if ik.NeedsPrevious() {
 					in.Previous = make([]float64, n)
 					for i := range in.Previous {

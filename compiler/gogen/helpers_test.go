@@ -9,6 +9,7 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -31,6 +32,10 @@ func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 	var out []*ir.LoweredForm
 	for _, fm := range d.Forms {
 		lf, err := d.Lower(fm.Method)
+		if err == nil && problem.IsTransient(lf) {
+			// The kernels of one backward Euler step, as gen writes them.
+			lf, err = problem.BackwardEuler(lf)
+		}
 		if err != nil {
 			t.Fatalf("%s: lower %v: %v", file, fm.Method, err)
 		}
@@ -83,7 +88,7 @@ type modelCase struct {
 // Robin condition, a metric-tensor τ, and hostile names.
 func modelCases(t testing.TB) []modelCase {
 	var cs []modelCase
-	for _, n := range []string{"adr", "stokes", "oseen", "navier_stokes"} {
+	for _, n := range []string{"adr", "stokes", "oseen", "navier_stokes", "heat"} {
 		f, s := stdModel(t, n)
 		cs = append(cs, modelCase{n, f, string(s), 0})
 	}
@@ -135,6 +140,20 @@ stabilise supg, vms
 tau for c = tau_metric_steady(a, kappa, 36)
 `, 0},
 		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel, 0},
+		// Transient on Q2 in loops, time_step in τ and a time-dependent
+		// source: the kernels of one backward Euler step.
+		modelCase{"heatq2", "heat_q2.fw", `model heat_q2
+dimension 2
+use tau
+unknown u: scalar Q2
+given a = [1, 1/2]
+given k = 1/20
+given h = cell_diameter
+equation for u: dt(u) + a . grad(u) - div(k*grad(u)) = (1 + t)*x
+at all: u = 0
+stabilise galerkin, supg, gls, vms
+tau for u = tau_shakib(norm(a), k, h, time_step)
+`, 0},
 		// Every elementary function, fractional and negative powers, in
 		// cell and boundary coefficients, on P1 and Q1.
 		modelCase{"funcs", "funcs.fw", funcsModel("P1"), 0},

@@ -298,6 +298,13 @@ func (p printer) sym(s *ir.Sym) string {
 		case LaTeX:
 			return `|K|`
 		}
+	case "time_step":
+		switch p.style {
+		case Text:
+			return "Δt"
+		case LaTeX:
+			return `\Delta t`
+		}
 	case "inverse_estimate":
 		switch p.style {
 		case Text:

@@ -71,6 +71,9 @@ func (a *Assembler) NewMatrix() *sparse.CSR {
 // Input is the per-assembly data passed to the kernels.
 type Input struct {
 	Time float64
+	// Step is the time step Δt of a time-stepped form (the lowered cell
+	// quantity time_step); 0 for steady forms.
+	Step float64
 	// Previous is the global dof vector of the previous iterate, or nil.
 	Previous []float64
 }
@@ -195,7 +198,7 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 		for _, f := range sides[i] {
 			c := int(f.Cell)
 			a.Mesh.CellCoords(c, w.in.Coords[:0])
-			fin.CellInput = CellInput{Index: c, Coords: w.in.Coords, Time: in.Time}
+			fin.CellInput = CellInput{Index: c, Coords: w.in.Coords, Time: in.Time, Step: in.Step}
 			if in.Previous != nil {
 				a.Dofs.Gather(c, in.Previous, w.prev)
 				fin.Previous = w.prev
@@ -259,6 +262,7 @@ func (a *Assembler) newWorker(k Kernel, w int, in Input) *worker {
 	nv := a.Mesh.Cell.NumVertices()
 	wk.in.Coords = make([]float64, nv*a.Mesh.Dim)
 	wk.in.Time = in.Time
+	wk.in.Step = in.Step
 	if in.Previous != nil {
 		wk.prev = make([]float64, a.nLocal)
 	}

@@ -42,6 +42,8 @@ type CellInput struct {
 	// NumNodes*Dim, node-major.
 	Coords []float64
 	Time   float64
+	// Step is the time step Δt of a time-stepped form (time_step).
+	Step float64
 	// Previous holds the local dof values of the previous iterate, in
 	// local dof order; nil when there is none.
 	Previous []float64

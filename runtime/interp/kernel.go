@@ -92,9 +92,12 @@ func ExprDeps(e ir.Expr) Deps {
 		case *ir.Time:
 			d |= DepTime
 		case *ir.CellQ:
-			if x.Name == "cell_diameter" || x.Name == "cell_volume" {
+			switch x.Name {
+			case "cell_diameter", "cell_volume":
 				d |= DepCell
-			} else {
+			case "time_step":
+				d |= DepTime
+			default:
 				d |= DepPoint
 			}
 		}
@@ -460,6 +463,7 @@ func (it *integrand) beginCell(s *scratch, in *assemble.CellInput) {
 		s.env[SlotCellVolume] = assemble.CellVolume(c, in.Coords)
 	}
 	s.env[SlotT] = in.Time
+	s.env[SlotStep] = in.Step
 	it.cellProg.Eval(s.env, s.coef[:it.nCell+it.nHoist], s.stack)
 	for j, slot := range it.auxSlots {
 		s.env[slot] = s.coef[it.nCell+j]

@@ -17,7 +17,8 @@ const (
 	SlotCellVolume   = 5  // cell_volume
 	SlotG            = 6  // G_IJ at slot 6 + 3I + J
 	SlotNormal       = 15 // outward unit normal n_I at slot 15 + I
-	numFixedSlots    = 18
+	SlotStep         = 18 // time_step, the Δt of a time-stepped form
+	numFixedSlots    = 19
 )
 
 // Dependency bits of a compiled expression: on what its value may vary.
@@ -437,6 +438,9 @@ func (c *compiler) node(e ir.Expr) (Deps, error) {
 		case "cell_volume":
 			c.emit(opLoad, SlotCellVolume, 1)
 			return DepCell, nil
+		case "time_step":
+			c.emit(opLoad, SlotStep, 1)
+			return DepTime, nil
 		case "G":
 			if e.I < 0 || e.I > 2 || e.J < 0 || e.J > 2 {
 				return 0, &UnsupportedError{fmt.Sprintf("G[%d][%d]", e.I, e.J)}

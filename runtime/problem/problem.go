@@ -31,6 +31,9 @@ type KernelSet struct {
 type Options struct {
 	// Time is the value of t in coefficients and boundary data.
 	Time float64
+	// Step is the value of the cell quantity time_step (Δt) in the form:
+	// set by SolveTransient for the stepped form of BackwardEuler.
+	Step float64
 	// Workers for the element loop (<= 0: GOMAXPROCS) and the solver's
 	// matrix–vector products.
 	Workers int
@@ -352,7 +355,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	var tAsm, tSolve time.Duration
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
-		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, assemble.Input{Time: opts.Time, Previous: prev}); err != nil {
+		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}); err != nil {
 			return nil, err
 		}
 		Asys = A.Clone()

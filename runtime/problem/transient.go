@@ -22,22 +22,20 @@ func IsTransient(form *ir.LoweredForm) bool {
 }
 
 // BackwardEuler rewrites a form with first time derivatives of the unknown
-// into the steady form of one implicit (backward) Euler step of size dt:
-// every term c ∂ₜD^αu · D^βv becomes c D^αu/dt · D^βv in the bilinear form
-// and c D^αuⁿ/dt · D^βv in the linear form, where uⁿ, the solution of the
-// previous time level, is the form's previous field. The method is first
-// order in time and unconditionally stable for the heat equation (e.g.
-// Hughes, The Finite Element Method, 1987, §8.2). Forms that already read a
-// previous iterate (Picard) cannot be stepped this way.
-func BackwardEuler(form *ir.LoweredForm, dt float64) (*ir.LoweredForm, error) {
-	if !(dt > 0) || math.IsInf(dt, 0) {
-		return nil, fmt.Errorf("problem: time step %g must be positive and finite", dt)
-	}
+// into the steady form of one implicit (backward) Euler step: every term
+// c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv in the bilinear form and
+// c D^αuⁿ/Δt · D^βv in the linear form, where uⁿ, the solution of the
+// previous time level, is the form's previous field. Δt stays symbolic,
+// the cell quantity time_step that kernels read from their input
+// (assemble.Input.Step), so one stepped form, and one set of generated
+// kernels, serves every step size. The method is first order in time and
+// unconditionally stable for the heat equation (e.g. Hughes, The Finite
+// Element Method, 1987, §8.2). Forms that already read a previous iterate
+// (Picard) cannot be stepped this way.
+func BackwardEuler(form *ir.LoweredForm) (*ir.LoweredForm, error) {
 	if formReadsPrevious(form) {
 		return nil, fmt.Errorf("problem: time stepping of a form that is also Picard-iterated (previous(...)) is not supported")
 	}
-	inv := new(big.Rat)
-	inv.SetFloat64(1 / dt)
 	out := *form
 	out.Integrals = nil
 	for _, in := range form.Integrals {
@@ -51,7 +49,8 @@ func BackwardEuler(form *ir.LoweredForm, dt float64) (*ir.LoweredForm, error) {
 				return nil, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
 			}
 			p := t.Coef.Pos()
-			scaled := ir.Prod(p, ir.NewNum(p, inv), t.Coef)
+			invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
+			scaled := ir.Prod(p, invStep, t.Coef)
 			trial := *t.Trial
 			trial.DT = 0
 			n.Bilinear = append(n.Bilinear, ir.Term{Coef: scaled, Trial: &trial, Test: t.Test})
@@ -92,7 +91,10 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	if opts.Steps < 1 {
 		return nil, fmt.Errorf("problem: %d time steps", opts.Steps)
 	}
-	step, err := BackwardEuler(form, opts.Step)
+	if !(opts.Step > 0) || math.IsInf(opts.Step, 0) {
+		return nil, fmt.Errorf("problem: time step %g must be positive and finite", opts.Step)
+	}
+	step, err := BackwardEuler(form)
 	if err != nil {
 		return nil, err
 	}
@@ -117,6 +119,7 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	}
 	so := opts.Options
 	so.PreviousFixed = true
+	so.Step = opts.Step
 	// One set-up for all steps; the linear solver is prepared again only
 	// when the constrained matrix changes (coefficients that depend on t).
 	sys, err := newSystem(step, m, so)

@@ -107,10 +107,14 @@ equation for u: dt(u) + previous(u)*partial(u, x) = 0
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := problem.BackwardEuler(lf, 0.1); err == nil {
+	if _, err := problem.BackwardEuler(lf); err == nil {
 		t.Error("no error for a Picard-iterated transient form")
 	}
-	if _, err := problem.BackwardEuler(lf, -1); err == nil {
+	msh, err := mesh.Load("interval:0,1:8")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: -1, Steps: 1}); err == nil {
 		t.Error("no error for a negative step")
 	}
 }
@@ -118,7 +122,8 @@ equation for u: dt(u) + previous(u)*partial(u, x) = 0
 // TestTransientReusesFactorisation: SolveTransient sets up once and
 // factorises once while the matrix is constant, and its steps equal those
 // of separate steady solves of the backward Euler form (the independent
-// path: Solve on BackwardEuler(form, dt), set up anew each step) to 1e-12.
+// path: Solve on BackwardEuler(form) with Step dt, set up anew each step)
+// to 1e-12.
 // With a source that depends on t the matrix is still constant; with a
 // diffusivity that depends on t it is not, and every step factorises.
 func TestTransientReusesFactorisation(t *testing.T) {
@@ -164,7 +169,7 @@ at all: u = 0
 		if sol.Summary.Prepared != tc.prepared {
 			t.Errorf("k = %s, f = %s: %d factorisations in %d steps, want %d", tc.k, tc.f, sol.Summary.Prepared, steps, tc.prepared)
 		}
-		stepped, err := problem.BackwardEuler(lf, dt)
+		stepped, err := problem.BackwardEuler(lf)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -176,7 +181,7 @@ at all: u = 0
 			x[n] = u[0]
 		}
 		for n := 1; n <= steps; n++ {
-			ref, err := problem.Solve(stepped, msh, problem.Options{Time: float64(n) * dt, Initial: x, PreviousFixed: true})
+			ref, err := problem.Solve(stepped, msh, problem.Options{Time: float64(n) * dt, Step: dt, Initial: x, PreviousFixed: true})
 			if err != nil {
 				t.Fatal(err)
 			}
