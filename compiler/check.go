@@ -1056,6 +1056,9 @@ func (m *Model) ParseExpr(name, src string) (ir.Expr, lang.ErrorList) {
 			c.params[ts.Name] = m.TauSym[i]
 		}
 	}
+	for _, fs := range m.FineSym {
+		c.params[fs.Name] = fs
+	}
 	e := c.expr(g.Value)
 	for _, er := range c.errs {
 		er.Pos, er.End = shift(er.Pos), shift(er.End)

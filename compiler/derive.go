@@ -29,7 +29,14 @@ type Note struct {
 type MethodForm struct {
 	Method Method
 	Stab   []StabTerm
-	Notes  []Note
+	// Fine and Cross are residual-based VMS turbulence modelling of a
+	// Picard-lagged convecting velocity (fineScaleAdvection): the
+	// fine-scale velocities, and the cell integrand of the cross-stress
+	// terms added to B (nil when there are none). The Reynolds-stress
+	// terms are in the VMS test operators of Stab.
+	Fine  []*FineScale
+	Cross ir.Expr
+	Notes []Note
 }
 
 // Derivation is everything derive prints, stage by stage.
@@ -72,7 +79,11 @@ func Derive(m *Model, methods []Method) (*Derivation, error) {
 		f := MethodForm{Method: meth}
 		if meth != Galerkin {
 			f.Stab = Stabilise(m, meth, d.Split, adj)
-			f.Notes = stabNotes(m, meth, d)
+			var skipped []string
+			if meth == VMS {
+				skipped = addFineScale(m, &f)
+			}
+			f.Notes = stabNotes(m, meth, d, &f, skipped)
 		}
 		d.Forms = append(d.Forms, f)
 	}
@@ -186,7 +197,37 @@ func substituteDefs(m *Model, e ir.Expr) ir.Expr {
 	})
 }
 
-func stabNotes(m *Model, meth Method, d *Derivation) []Note {
+// addFineScale adds the fine-scale advection of residual-based VMS to a
+// VMS form (fineScaleAdvection): the cross-stress integrand Σ (δL u_h)·v
+// and, in each row's test operator, −δL with the test function in place of
+// the unknown. It returns the convection terms it could not rewrite.
+func addFineScale(m *Model, f *MethodForm) []string {
+	fs, delta, skipped := fineScaleAdvection(m)
+	if len(fs) == 0 {
+		return skipped
+	}
+	f.Fine = fs
+	m.FineSym = m.FineSym[:0]
+	for _, x := range fs {
+		m.FineSym = append(m.FineSym, x.Sym)
+	}
+	var cross []ir.Expr
+	for k, eq := range m.Equations {
+		if delta[k] == nil {
+			continue
+		}
+		cross = append(cross, contract(eq.Pos, delta[k], m.Test(eq.For)))
+		for i := range f.Stab {
+			if s := &f.Stab[i]; s.For == eq.For {
+				s.TestOp = Simplify(ir.Sub(eq.Pos, s.TestOp, toTest(delta[k])), m.Dim)
+			}
+		}
+	}
+	f.Cross = Simplify(ir.Sum(m.Equations[0].Pos, cross...), m.Dim)
+	return skipped
+}
+
+func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm, skipped []string) []Note {
 	var notes []Note
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
 	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f; the stabilisation integrals are over cell interiors only")
@@ -200,7 +241,16 @@ func stabNotes(m *Model, meth Method, d *Derivation) []Note {
 		}
 	}
 	if lagged && meth == VMS {
-		add(Warning, "the convecting velocity is the previous iterate (Picard linearisation), so the fine-scale velocity does not advect: the cross- and Reynolds-stress terms of residual-based VMS turbulence modelling (Bazilevs et al. 2007) are not included")
+		for _, fs := range f.Fine {
+			u := m.Unknowns[fs.Unknown].Name
+			add(Assumption, "residual-based VMS turbulence modelling (Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197): the convecting velocity previous(%[1]s) becomes previous(%[1]s) + %[1]s′, with the fine-scale velocity %[1]s′ = −τ R_%[1]s at the previous iterate (Picard). The Galerkin convection gains the cross-stress term (v, (∇%[1]s) %[1]s′) and L* the term −(∇v) %[1]s′, which with τR = −u′ is the Reynolds stress −(∇v, u′ ⊗ %[1]s′); both vanish with the residual, so the form stays consistent", u)
+		}
+		if len(f.Fine) == 0 {
+			add(Warning, "the convecting velocity is the previous iterate (Picard linearisation), but no vector unknown with a τ is convected, so the fine-scale velocity does not advect: no cross- or Reynolds-stress terms (Bazilevs et al. 2007)")
+		}
+		for _, s := range skipped {
+			add(Warning, "%s reads the lagged velocity but is left as written in the VMS form: the fine-scale velocity enters only first-order terms linear in it, without its derivatives", s)
+		}
 	}
 	hasDiff, diffVaries := false, false
 	for _, s := range d.Split {
@@ -284,10 +334,16 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 		return nil, fmt.Errorf("method %s was not derived", meth)
 	}
 	l := newLowerer(m)
+	for _, fs := range form.Fine {
+		l.fine[fs.Sym.Name] = fs.Def
+	}
 	p := m.Equations[0].Pos
 	cell := []ir.Expr{d.Galerkin.Bilinear, ir.Neg(p, d.Galerkin.Source)}
 	for _, s := range form.Stab {
 		cell = append(cell, s.Integrand(m.Dim))
+	}
+	if form.Cross != nil {
+		cell = append(cell, form.Cross)
 	}
 	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
 	for _, u := range m.Unknowns {

@@ -17,10 +17,13 @@ type lowerer struct {
 	m    *Model
 	dim  int
 	memo map[string][]ir.Expr
+	// fine holds the definitions of the fine-scale velocities of the form
+	// being lowered, by symbol name.
+	fine map[string]ir.Expr
 }
 
 func newLowerer(m *Model) *lowerer {
-	return &lowerer{m: m, dim: m.Dim, memo: map[string][]ir.Expr{}}
+	return &lowerer{m: m, dim: m.Dim, memo: map[string][]ir.Expr{}, fine: map[string]ir.Expr{}}
 }
 
 func (l *lowerer) pow(r int) int {
@@ -209,6 +212,18 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 			panic("compiler: lower: unknown coefficient " + s.Name)
 		}
 		c := l.Lower(cf.Def)
+		l.memo[key] = c
+		return c
+	case ir.FineScale:
+		key := "f:" + s.Name
+		if c, ok := l.memo[key]; ok {
+			return c
+		}
+		def, ok := l.fine[s.Name]
+		if !ok {
+			panic("compiler: lower: unknown fine-scale velocity " + s.Name)
+		}
+		c := l.Lower(def)
 		l.memo[key] = c
 		return c
 	case ir.Tau:

@@ -106,6 +106,9 @@ type Model struct {
 	// given); TauSym the symbol that stands for it in derived forms.
 	Tau    []ir.Expr
 	TauSym []*ir.Sym
+	// FineSym holds the fine-scale velocity symbols of the last VMS
+	// derivation (FineScale), so that ParseExpr reads derived forms back.
+	FineSym []*ir.Sym
 	// Sources maps file names to their text, for error messages.
 	Sources map[string][]byte
 }

@@ -58,9 +58,13 @@ const (
 	Tau
 	// Param is a formula parameter; it never survives formula expansion.
 	Param
+	// FineScale is the fine-scale velocity U′ = −τ R of residual-based VMS
+	// at the previous iterate (compiler.FineScale), with a definition that
+	// lowering substitutes.
+	FineScale
 )
 
-var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter"}
+var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter", "fine-scale velocity"}
 
 func (k SymKind) String() string { return symKindNames[k] }
 

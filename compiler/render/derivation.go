@@ -134,11 +134,17 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 			}
 			parts = append(parts, fmt.Sprintf("%s Σ_K (%s R_%s, %s)_K", sign, t.e(s.Tau), m.Unknowns[s.For].Name, t.e(s.TestOp)))
 		}
+		if f.Cross != nil {
+			parts = append(parts, fmt.Sprintf("+ Σ_K (%s)_K", t.e(f.Cross)))
+		}
 		t.printf("   B %s = F\n", strings.Join(parts, " "))
 		for _, s := range f.Stab {
 			name := m.Unknowns[s.For].Name
 			t.printf("   R_%s = %s\n", name, t.e(s.Residual))
 			t.printf("   %s = %s\n", t.e(s.Tau), t.e(compiler.Simplify(m.Tau[s.For], m.Dim)))
+		}
+		for _, fs := range f.Fine {
+			t.printf("   %s = %s   (fine-scale velocity at the previous iterate)\n", t.e(fs.Sym), t.e(fs.Def))
 		}
 		if len(f.Stab) == 0 {
 			t.printf("   no stabilisation term: the operator has no part this method acts on\n")
@@ -208,10 +214,16 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 			}
 			parts = append(parts, fmt.Sprintf("%s \\sum_K \\left(%s R_{\\mathrm{%s}}, %s\\right)_K", sign, t.e(s.Tau), latexText(m.Unknowns[s.For].Name), t.e(s.TestOp)))
 		}
+		if f.Cross != nil {
+			parts = append(parts, fmt.Sprintf("+ \\sum_K \\left(%s\\right)_K", t.e(f.Cross)))
+		}
 		t.printf("&B %s = F \\\\\n", strings.Join(parts, " "))
 		for _, s := range f.Stab {
 			t.printf("R_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[s.For].Name), t.e(s.Residual))
 			t.printf("%s &= %s \\\\\n", t.e(s.Tau), t.e(compiler.Simplify(m.Tau[s.For], m.Dim)))
+		}
+		for _, fs := range f.Fine {
+			t.printf("%s &= %s \\\\\n", t.e(fs.Sym), t.e(fs.Def))
 		}
 		t.printf("\\end{align*}\n")
 		t.latexNotes(f.Notes)
@@ -240,7 +252,7 @@ func latexText(s string) string {
 	r := strings.NewReplacer(`\`, `\textbackslash{}`, "_", `\_`, "&", `\&`, "%", `\%`, "#", `\#`, "$", `\$`, "{", `\{`, "}", `\}`, "^", `\^{}`, "~", `\~{}`,
 		"τ", `$\tau$`, "′", `$'$`, "≈", `$\approx$`, "−", `$-$`, "·", `$\cdot$`, "¹", `$^1$`, "₀", `$_0$`, "∇", `$\nabla$`, "≠", `$\neq$`,
 		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`,
-		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`)
+		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "⁽", "", "⁾", "")
 	return r.Replace(s)
 }
 
@@ -385,7 +397,16 @@ type jsonBoundary struct {
 type jsonMethod struct {
 	Method string     `json:"method"`
 	Terms  []jsonStab `json:"terms"`
-	Notes  []jsonNote `json:"notes"`
+	// Residual-based VMS turbulence modelling of a lagged convection.
+	FineScale   []jsonFine  `json:"fine_scale,omitempty"`
+	CrossStress *Expression `json:"cross_stress,omitempty"`
+	Notes       []jsonNote  `json:"notes"`
+}
+
+type jsonFine struct {
+	For        string      `json:"for"`
+	Symbol     *Expression `json:"symbol"`
+	Definition *Expression `json:"definition"`
 }
 
 type jsonStab struct {
@@ -456,6 +477,12 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 		jm := jsonMethod{Method: f.Method.String(), Terms: []jsonStab{}, Notes: jnotes(f.Notes)}
 		for _, s := range f.Stab {
 			jm.Terms = append(jm.Terms, jsonStab{m.Unknowns[s.For].Name, s.Sign, jexpr(s.Tau, names), jexpr(s.Residual, names), jexpr(s.TestOp, names), jexpr(s.Integrand(m.Dim), names)})
+		}
+		for _, fs := range f.Fine {
+			jm.FineScale = append(jm.FineScale, jsonFine{m.Unknowns[fs.Unknown].Name, jexpr(fs.Sym, names), jexpr(fs.Def, names)})
+		}
+		if f.Cross != nil {
+			jm.CrossStress = jexpr(f.Cross, names)
 		}
 		out.Stabilised = append(out.Stabilised, jm)
 	}

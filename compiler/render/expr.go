@@ -283,6 +283,16 @@ func (p printer) fieldD(f *ir.FieldD) string {
 }
 
 func (p printer) sym(s *ir.Sym) string {
+	if s.Kind == ir.FineScale {
+		// fine_<U> reads U′ in the printed derivation.
+		u := strings.TrimPrefix(s.Name, "fine_")
+		switch p.style {
+		case Text:
+			return p.name(u) + "′"
+		case LaTeX:
+			return p.name(u) + "'"
+		}
+	}
 	switch s.Name {
 	case "cell_diameter":
 		switch p.style {

@@ -31,7 +31,7 @@ func init() {
 		Degree:  3,
 		NewCell: func() assemble.Kernel { return NavierStokesGLSKernel{} },
 	})
-	compiled.Register("f8a3bea56d2f1616f53af983ab003137", compiled.Kernels{
+	compiled.Register("0397ee2aca3d5bf8e100df32ffa53222", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
@@ -1111,9 +1111,9 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c23 := j10 * rdetJ
 	k10 := -c23
 	c24 := c23 - k00
-	c25 := pv[0] * c24
-	c26 := pv[1] * k00
-	c27 := pv[2] * c23
+	c25 := pv[3] * c24
+	c26 := pv[4] * k00
+	c27 := pv[5] * c23
 	c28 := c25 + c26 - c27
 	c29 := j01 * rdetJ
 	k01 := -c29
@@ -1123,7 +1123,23 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c32 := pv[4] * c29
 	c33 := pv[5] * k11
 	c34 := c31 - c32 + c33
-	c35 := c28 + c34
+	c35 := c30 * pv[6]
+	c36 := c29 * pv[7]
+	c37 := k11 * pv[8]
+	c38 := c35 - c36 + c37
+	c39 := pv[0] * c24
+	c40 := pv[1] * k00
+	c41 := pv[2] * c23
+	c42 := c39 + c40 - c41
+	c43 := c34 + c42
+	c44 := pv[0] * c30
+	c45 := pv[1] * c29
+	c46 := pv[2] * k11
+	c47 := c44 - c45 + c46
+	c48 := c24 * pv[6]
+	c49 := k00 * pv[7]
+	c50 := c23 * pv[8]
+	c51 := c48 + c49 - c50
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
@@ -1149,300 +1165,328 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
 		coef61 := c17 * p17
-		p18 := p9 * coef61 * c35
-		coef0 := p9 + p18
-		p19 := coef61 * c35
-		p20 := p4 * coef61 * c35
-		coef2 := p4 + p20
-		coef4 := 1.0 + p19
-		p21 := p10 * coef61
-		coef5 := p21 + 0.01
-		coef9 := p9 * coef61
-		coef7 := p4 * p9 * coef61
-		coef21 := p4 * coef61
+		p18 := p4 * c28
+		p19 := p9 * c34
+		p20 := p18 + p19 + c38
+		p21 := coef61 * p20
+		p22 := p9 * coef61 * c43
+		coef0 := p9 - p21 + p22
+		p23 := coef61 * c43
+		p24 := p4 * c42
+		p25 := p9 * c47
+		p26 := p24 + p25 + c51
+		p27 := coef61 * p26
+		p28 := p4 * coef61 * c43
+		coef2 := p4 - p27 + p28
+		coef4 := 1.0 + p23
+		p29 := p10 * coef61
+		p30 := coef61 * coef61
+		p31 := p9 * p20 * p30
+		coef5 := p29 - p31 + 0.01
+		p32 := p20 * p30
+		coef57 := p9 * coef61
+		p33 := p4 * p20 * p30
+		p34 := p4 * p9 * coef61
+		coef7 := p34 - p33
+		coef9 := coef57 - p32
+		coef59 := p4 * coef61
+		p35 := p9 * p26 * p30
+		coef15 := p34 - p35
+		p36 := p26 * p30
 		coef19 := c17 * p14 * 0.25
-		p22 := p5 * coef61
-		coef17 := 0.01 + coef19 + p22
+		p37 := p5 * coef61
+		p38 := p4 * p26 * p30
+		coef17 := 0.01 + coef19 + p37 - p38
 		coef20 := c17 * p14 * 2.5e-08
-		coef33 := p21 + 0.01 + coef19
-		coef46 := 0.01 + p22
-		p23 := c17 * p14 * (-2.5e-08)
-		coef54 := 1.0 + p23
-		p24 := c17 * p14 * (-2.5e-15)
-		coef56 := p24 + 1e-07
+		coef21 := coef59 - p36
+		coef33 := p29 - p31 + 0.01 + coef19
+		coef46 := 0.01 + p37 - p38
+		p39 := c17 * p14 * (-2.5e-08)
+		coef54 := 1.0 + p39
+		p40 := c17 * p14 * (-2.5e-15)
+		coef56 := p40 + 1e-07
 		w := detJ * fwNavierStokesVMSCellWeights[q]
-		p25 := coef0 * w
-		p26 := c30 * p25
-		p27 := c29 * p25
-		p28 := k11 * p25
-		p29 := coef2 * w
-		p30 := c24 * p29
-		p31 := p26 + p30
-		p32 := k00 * p29
-		p33 := p32 - p27
-		p34 := c23 * p29
-		p35 := p28 - p34
-		p36 := coef5 * w
-		p37 := c30 * p36
-		p38 := c29 * p36
-		p39 := k11 * p36
-		p40 := coef7 * w
-		p41 := c24 * p40
-		p42 := p37 + p41
-		p43 := k00 * p40
-		p44 := p43 - p38
-		p45 := c23 * p40
-		p46 := p39 - p45
-		p47 := c30 * p40
-		p48 := c29 * p40
-		p49 := k11 * p40
-		p50 := coef17 * w
-		p51 := c24 * p50
-		p52 := p47 + p51
-		p53 := k00 * p50
-		p54 := p53 - p48
-		p55 := c23 * p50
-		p56 := p49 - p55
-		p57 := coef4 * w
-		p58 := c24 * p57
-		p59 := k00 * p57
-		p60 := c23 * p57
-		p61 := -p60
-		p62 := coef9 * w
-		p63 := c24 * p62
-		p64 := k00 * p62
-		p65 := c23 * p62
-		p66 := -p65
-		p67 := coef20 * w
-		p68 := fwNavierStokesVMSCellBasis1Val[q][0] * p67
-		p69 := fwNavierStokesVMSCellBasis1Val[q][1] * p67
-		p70 := fwNavierStokesVMSCellBasis1Val[q][2] * p67
-		p71 := coef21 * w
-		p72 := c24 * p71
-		p73 := p68 + p72
-		p74 := k00 * p71
-		p75 := p69 + p74
-		p76 := c23 * p71
-		p77 := p70 - p76
-		p78 := coef19 * w
-		p79 := c30 * p78
-		p80 := c29 * p78
-		p81 := -p80
-		p82 := k11 * p78
-		p83 := coef33 * w
-		p84 := c30 * p83
-		p85 := c29 * p83
-		p86 := k11 * p83
-		p87 := p41 + p84
-		p88 := p43 - p85
-		p89 := p86 - p45
-		p90 := coef46 * w
-		p91 := c24 * p90
-		p92 := p47 + p91
-		p93 := k00 * p90
-		p94 := p93 - p48
-		p95 := c23 * p90
-		p96 := p49 - p95
-		p97 := c30 * p57
-		p98 := c29 * p57
-		p99 := -p98
-		p100 := k11 * p57
-		p101 := c30 * p62
-		p102 := p68 + p101
-		p103 := c29 * p62
-		p104 := p69 - p103
-		p105 := k11 * p62
-		p106 := p70 + p105
-		p107 := c30 * p71
-		p108 := c29 * p71
-		p109 := -p108
-		p110 := k11 * p71
-		p111 := c24 * p78
-		p112 := k00 * p78
-		p113 := c23 * p78
-		p114 := -p113
-		p115 := coef54 * w
-		p116 := c24 * p115
-		p117 := k00 * p115
-		p118 := c23 * p115
-		p119 := -p118
-		p120 := p72 + p101
-		p121 := p74 - p103
-		p122 := p105 - p76
-		p123 := c30 * p115
-		p124 := c29 * p115
-		p125 := -p124
-		p126 := k11 * p115
-		p127 := coef56 * w
-		p128 := fwNavierStokesVMSCellBasis1Val[q][0] * p127
-		p129 := fwNavierStokesVMSCellBasis1Val[q][1] * p127
-		p130 := fwNavierStokesVMSCellBasis1Val[q][2] * p127
-		p131 := coef61 * w
-		p132 := c30 * p131
-		p133 := c29 * p131
-		p134 := -p133
-		p135 := k11 * p131
-		p136 := c24 * p131
-		p137 := k00 * p131
-		p138 := c23 * p131
-		p139 := -p138
+		p41 := coef0 * w
+		p42 := c30 * p41
+		p43 := c29 * p41
+		p44 := k11 * p41
+		p45 := coef2 * w
+		p46 := c24 * p45
+		p47 := p42 + p46
+		p48 := k00 * p45
+		p49 := p48 - p43
+		p50 := c23 * p45
+		p51 := p44 - p50
+		p52 := coef5 * w
+		p53 := c30 * p52
+		p54 := c29 * p52
+		p55 := k11 * p52
+		p56 := coef7 * w
+		p57 := c24 * p56
+		p58 := p53 + p57
+		p59 := k00 * p56
+		p60 := p59 - p54
+		p61 := c23 * p56
+		p62 := p55 - p61
+		p63 := coef15 * w
+		p64 := c30 * p63
+		p65 := c29 * p63
+		p66 := k11 * p63
+		p67 := coef17 * w
+		p68 := c24 * p67
+		p69 := p64 + p68
+		p70 := k00 * p67
+		p71 := p70 - p65
+		p72 := c23 * p67
+		p73 := p66 - p72
+		p74 := coef4 * w
+		p75 := c24 * p74
+		p76 := k00 * p74
+		p77 := c23 * p74
+		p78 := -p77
+		p79 := coef9 * w
+		p80 := c24 * p79
+		p81 := k00 * p79
+		p82 := c23 * p79
+		p83 := -p82
+		p84 := coef20 * w
+		p85 := fwNavierStokesVMSCellBasis1Val[q][0] * p84
+		p86 := fwNavierStokesVMSCellBasis1Val[q][1] * p84
+		p87 := fwNavierStokesVMSCellBasis1Val[q][2] * p84
+		p88 := coef21 * w
+		p89 := c24 * p88
+		p90 := p85 + p89
+		p91 := k00 * p88
+		p92 := p86 + p91
+		p93 := c23 * p88
+		p94 := p87 - p93
+		p95 := coef19 * w
+		p96 := c30 * p95
+		p97 := c29 * p95
+		p98 := -p97
+		p99 := k11 * p95
+		p100 := coef33 * w
+		p101 := c30 * p100
+		p102 := c29 * p100
+		p103 := k11 * p100
+		p104 := p57 + p101
+		p105 := p59 - p102
+		p106 := p103 - p61
+		p107 := coef46 * w
+		p108 := c24 * p107
+		p109 := p64 + p108
+		p110 := k00 * p107
+		p111 := p110 - p65
+		p112 := c23 * p107
+		p113 := p66 - p112
+		p114 := c30 * p74
+		p115 := c29 * p74
+		p116 := -p115
+		p117 := k11 * p74
+		p118 := c30 * p79
+		p119 := p85 + p118
+		p120 := c29 * p79
+		p121 := p86 - p120
+		p122 := k11 * p79
+		p123 := p87 + p122
+		p124 := c30 * p88
+		p125 := c29 * p88
+		p126 := -p125
+		p127 := k11 * p88
+		p128 := c24 * p95
+		p129 := k00 * p95
+		p130 := c23 * p95
+		p131 := -p130
+		p132 := coef54 * w
+		p133 := c24 * p132
+		p134 := k00 * p132
+		p135 := c23 * p132
+		p136 := -p135
+		p137 := coef57 * w
+		p138 := c30 * p137
+		p139 := c29 * p137
+		p140 := k11 * p137
+		p141 := coef59 * w
+		p142 := c24 * p141
+		p143 := p138 + p142
+		p144 := k00 * p141
+		p145 := p144 - p139
+		p146 := c23 * p141
+		p147 := p140 - p146
+		p148 := c30 * p132
+		p149 := c29 * p132
+		p150 := -p149
+		p151 := k11 * p132
+		p152 := coef56 * w
+		p153 := fwNavierStokesVMSCellBasis1Val[q][0] * p152
+		p154 := fwNavierStokesVMSCellBasis1Val[q][1] * p152
+		p155 := fwNavierStokesVMSCellBasis1Val[q][2] * p152
+		p156 := coef61 * w
+		p157 := c30 * p156
+		p158 := c29 * p156
+		p159 := -p158
+		p160 := k11 * p156
+		p161 := c24 * p156
+		p162 := k00 * p156
+		p163 := c23 * p156
+		p164 := -p163
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
 		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c30*p42 + c24*p52
-		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c30*p44 + c24*p54
-		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c30*p46 + c24*p56
-		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p42 + k00*p52
-		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p44 + k00*p54
-		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p35 + k01*p46 + k00*p56
-		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p42 + k10*p52
-		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p44 + k10*p54
-		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p35 + k11*p46 + k10*p56
+		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c30*p58 + c24*p69
+		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c30*p60 + c24*p71
+		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p51 + c30*p62 + c24*p73
+		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p58 + k00*p69
+		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p60 + k00*p71
+		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p51 + k01*p62 + k00*p73
+		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p58 + k10*p69
+		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p60 + k10*p71
+		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p51 + k11*p62 + k10*p73
 		// At each quadrature point: rows 0..2, columns 6..8:
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
 		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
 		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p58 + c30*p63 + c24*p73
-		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p59 + c30*p64 + c24*p75
-		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p61 + c30*p66 + c24*p77
-		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p58 + k01*p63 + k00*p73
-		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p59 + k01*p64 + k00*p75
-		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p61 + k01*p66 + k00*p77
-		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p58 + k11*p63 + k10*p73
-		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p59 + k11*p64 + k10*p75
-		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p61 + k11*p66 + k10*p77
+		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p75 + c30*p80 + c24*p90
+		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p76 + c30*p81 + c24*p92
+		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p78 + c30*p83 + c24*p94
+		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p75 + k01*p80 + k00*p90
+		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p76 + k01*p81 + k00*p92
+		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p78 + k01*p83 + k00*p94
+		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p90
+		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p76 + k11*p81 + k10*p92
+		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p78 + k11*p83 + k10*p94
 		// At each quadrature point: rows 0..2, columns 3..5:
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[3] += c24 * p79
-		acc[4] += c24 * p81
-		acc[5] += c24 * p82
-		acc[12] += k00 * p79
-		acc[13] += k00 * p81
-		acc[14] += k00 * p82
-		acc[21] += k10 * p79
-		acc[22] += k10 * p81
-		acc[23] += k10 * p82
+		acc[3] += c24 * p96
+		acc[4] += c24 * p98
+		acc[5] += c24 * p99
+		acc[12] += k00 * p96
+		acc[13] += k00 * p98
+		acc[14] += k00 * p99
+		acc[21] += k10 * p96
+		acc[22] += k10 * p98
+		acc[23] += k10 * p99
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
 		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p31 + c30*p87 + c24*p92
-		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p33 + c30*p88 + c24*p94
-		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p35 + c30*p89 + c24*p96
-		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p31 + k01*p87 + k00*p92
-		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p33 + k01*p88 + k00*p94
-		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p35 + k01*p89 + k00*p96
-		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p31 + k11*p87 + k10*p92
-		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p33 + k11*p88 + k10*p94
-		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p35 + k11*p89 + k10*p96
+		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c30*p104 + c24*p109
+		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c30*p105 + c24*p111
+		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p51 + c30*p106 + c24*p113
+		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p104 + k00*p109
+		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p105 + k00*p111
+		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p51 + k01*p106 + k00*p113
+		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p104 + k10*p109
+		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p105 + k10*p111
+		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p51 + k11*p106 + k10*p113
 		// At each quadrature point: rows 3..5, columns 6..8:
 		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:18]
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
 		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
 		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p97 + c30*p102 + c24*p107
-		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p99 + c30*p104 + c24*p109
-		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p100 + c30*p106 + c24*p110
-		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p97 + k01*p102 + k00*p107
-		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p99 + k01*p104 + k00*p109
-		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p100 + k01*p106 + k00*p110
-		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p97 + k11*p102 + k10*p107
-		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p99 + k11*p104 + k10*p109
-		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p100 + k11*p106 + k10*p110
+		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p114 + c30*p119 + c24*p124
+		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p116 + c30*p121 + c24*p126
+		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p117 + c30*p123 + c24*p127
+		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p114 + k01*p119 + k00*p124
+		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p116 + k01*p121 + k00*p126
+		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p117 + k01*p123 + k00*p127
+		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p114 + k11*p119 + k10*p124
+		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p116 + k11*p121 + k10*p126
+		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p117 + k11*p123 + k10*p127
 		// At each quadrature point: rows 3..5, columns 0..2:
 		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		acc[27] += c30 * p111
-		acc[28] += c30 * p112
-		acc[29] += c30 * p114
-		acc[36] += k01 * p111
-		acc[37] += k01 * p112
-		acc[38] += k01 * p114
-		acc[45] += k11 * p111
-		acc[46] += k11 * p112
-		acc[47] += k11 * p114
+		acc[27] += c30 * p128
+		acc[28] += c30 * p129
+		acc[29] += c30 * p131
+		acc[36] += k01 * p128
+		acc[37] += k01 * p129
+		acc[38] += k01 * p131
+		acc[45] += k11 * p128
+		acc[46] += k11 * p129
+		acc[47] += k11 * p131
 		// At each quadrature point: rows 6..8, columns 0..2:
 		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
 		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
-		acc[54] += fwNavierStokesVMSCellBasis1Val[q][0]*p116 + c24*p120
-		acc[55] += fwNavierStokesVMSCellBasis1Val[q][0]*p117 + c24*p121
-		acc[56] += fwNavierStokesVMSCellBasis1Val[q][0]*p119 + c24*p122
-		acc[63] += fwNavierStokesVMSCellBasis1Val[q][1]*p116 + k00*p120
-		acc[64] += fwNavierStokesVMSCellBasis1Val[q][1]*p117 + k00*p121
-		acc[65] += fwNavierStokesVMSCellBasis1Val[q][1]*p119 + k00*p122
-		acc[72] += fwNavierStokesVMSCellBasis1Val[q][2]*p116 + k10*p120
-		acc[73] += fwNavierStokesVMSCellBasis1Val[q][2]*p117 + k10*p121
-		acc[74] += fwNavierStokesVMSCellBasis1Val[q][2]*p119 + k10*p122
+		acc[54] += fwNavierStokesVMSCellBasis1Val[q][0]*p133 + c24*p143
+		acc[55] += fwNavierStokesVMSCellBasis1Val[q][0]*p134 + c24*p145
+		acc[56] += fwNavierStokesVMSCellBasis1Val[q][0]*p136 + c24*p147
+		acc[63] += fwNavierStokesVMSCellBasis1Val[q][1]*p133 + k00*p143
+		acc[64] += fwNavierStokesVMSCellBasis1Val[q][1]*p134 + k00*p145
+		acc[65] += fwNavierStokesVMSCellBasis1Val[q][1]*p136 + k00*p147
+		acc[72] += fwNavierStokesVMSCellBasis1Val[q][2]*p133 + k10*p143
+		acc[73] += fwNavierStokesVMSCellBasis1Val[q][2]*p134 + k10*p145
+		acc[74] += fwNavierStokesVMSCellBasis1Val[q][2]*p136 + k10*p147
 		// At each quadrature point: rows 6..8, columns 3..5:
 		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
 		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
 		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
-		acc[57] += fwNavierStokesVMSCellBasis1Val[q][0]*p123 + c30*p120
-		acc[58] += fwNavierStokesVMSCellBasis1Val[q][0]*p125 + c30*p121
-		acc[59] += fwNavierStokesVMSCellBasis1Val[q][0]*p126 + c30*p122
-		acc[66] += fwNavierStokesVMSCellBasis1Val[q][1]*p123 + k01*p120
-		acc[67] += fwNavierStokesVMSCellBasis1Val[q][1]*p125 + k01*p121
-		acc[68] += fwNavierStokesVMSCellBasis1Val[q][1]*p126 + k01*p122
-		acc[75] += fwNavierStokesVMSCellBasis1Val[q][2]*p123 + k11*p120
-		acc[76] += fwNavierStokesVMSCellBasis1Val[q][2]*p125 + k11*p121
-		acc[77] += fwNavierStokesVMSCellBasis1Val[q][2]*p126 + k11*p122
+		acc[57] += fwNavierStokesVMSCellBasis1Val[q][0]*p148 + c30*p143
+		acc[58] += fwNavierStokesVMSCellBasis1Val[q][0]*p150 + c30*p145
+		acc[59] += fwNavierStokesVMSCellBasis1Val[q][0]*p151 + c30*p147
+		acc[66] += fwNavierStokesVMSCellBasis1Val[q][1]*p148 + k01*p143
+		acc[67] += fwNavierStokesVMSCellBasis1Val[q][1]*p150 + k01*p145
+		acc[68] += fwNavierStokesVMSCellBasis1Val[q][1]*p151 + k01*p147
+		acc[75] += fwNavierStokesVMSCellBasis1Val[q][2]*p148 + k11*p143
+		acc[76] += fwNavierStokesVMSCellBasis1Val[q][2]*p150 + k11*p145
+		acc[77] += fwNavierStokesVMSCellBasis1Val[q][2]*p151 + k11*p147
 		// At each quadrature point: rows 6..8, columns 6..8:
 		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/400000000000000 + 1/10000000) · p · test(p)   [navier_stokes.fw:18]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += fwNavierStokesVMSCellBasis1Val[q][0]*p128 + c30*p132 + c24*p136
-		acc[61] += fwNavierStokesVMSCellBasis1Val[q][0]*p129 + c30*p134 + c24*p137
-		acc[62] += fwNavierStokesVMSCellBasis1Val[q][0]*p130 + c30*p135 + c24*p139
-		acc[69] += fwNavierStokesVMSCellBasis1Val[q][1]*p128 + k01*p132 + k00*p136
-		acc[70] += fwNavierStokesVMSCellBasis1Val[q][1]*p129 + k01*p134 + k00*p137
-		acc[71] += fwNavierStokesVMSCellBasis1Val[q][1]*p130 + k01*p135 + k00*p139
-		acc[78] += fwNavierStokesVMSCellBasis1Val[q][2]*p128 + k11*p132 + k10*p136
-		acc[79] += fwNavierStokesVMSCellBasis1Val[q][2]*p129 + k11*p134 + k10*p137
-		acc[80] += fwNavierStokesVMSCellBasis1Val[q][2]*p130 + k11*p135 + k10*p139
+		acc[60] += fwNavierStokesVMSCellBasis1Val[q][0]*p153 + c30*p157 + c24*p161
+		acc[61] += fwNavierStokesVMSCellBasis1Val[q][0]*p154 + c30*p159 + c24*p162
+		acc[62] += fwNavierStokesVMSCellBasis1Val[q][0]*p155 + c30*p160 + c24*p164
+		acc[69] += fwNavierStokesVMSCellBasis1Val[q][1]*p153 + k01*p157 + k00*p161
+		acc[70] += fwNavierStokesVMSCellBasis1Val[q][1]*p154 + k01*p159 + k00*p162
+		acc[71] += fwNavierStokesVMSCellBasis1Val[q][1]*p155 + k01*p160 + k00*p164
+		acc[78] += fwNavierStokesVMSCellBasis1Val[q][2]*p153 + k11*p157 + k10*p161
+		acc[79] += fwNavierStokesVMSCellBasis1Val[q][2]*p154 + k11*p159 + k10*p162
+		acc[80] += fwNavierStokesVMSCellBasis1Val[q][2]*p155 + k11*p160 + k10*p164
 	}
 	copy(A, acc[:])
 	clear(b)
