@@ -382,7 +382,11 @@ func solveError(err error) error {
 	var pe *problem.PicardError
 	var tl *linsolve.TooLargeError
 	switch {
-	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &sg), errors.As(err, &pe), errors.As(err, &tl):
+	case errors.As(err, &sg):
+		return fmt.Errorf("numerical failure, no result written: %w: the discrete problem has more than one solution. "+
+			"A field that the equations fix only up to a constant needs a mean condition (mean p = 0); "+
+			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
+	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
 	case errors.Is(err, problem.ErrNoSide):
 		return &usageError{err.Error()}
@@ -430,6 +434,9 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	if s.Picard > 1 {
 		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
 	}
+	for _, mc := range m.Means {
+		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)
+	}
 	fmt.Fprintf(w, "wall time  %.3f s (", wall.Seconds())
 	for i, p := range s.Phases {
 		if i > 0 {
@@ -458,23 +465,25 @@ func fieldComponents(sol *problem.Solution, name string) int {
 
 // jsonSolve is the --json output of solve (documented in the README).
 type jsonSolve struct {
-	Schema     string            `json:"schema"`
-	Model      string            `json:"model"`
-	File       string            `json:"file"`
-	Method     string            `json:"method"`
-	Mesh       string            `json:"mesh"`
-	Cells      int               `json:"cells"`
-	Vertices   int               `json:"vertices"`
-	Dofs       int               `json:"dofs"`
-	Kernels    string            `json:"kernels"`
-	Solver     string            `json:"solver"`
-	Iterations int               `json:"iterations"`
-	Residual   float64           `json:"residual"`
-	Picard     int               `json:"picard_iterations"`
-	Setups     int               `json:"solver_setups"` // factorisations or preconditioner builds
-	WallTime   float64           `json:"wall_time_s"`
-	Tau        map[string]string `json:"tau"`
-	Fields     []jsonField       `json:"fields"`
+	Schema     string  `json:"schema"`
+	Model      string  `json:"model"`
+	File       string  `json:"file"`
+	Method     string  `json:"method"`
+	Mesh       string  `json:"mesh"`
+	Cells      int     `json:"cells"`
+	Vertices   int     `json:"vertices"`
+	Dofs       int     `json:"dofs"`
+	Kernels    string  `json:"kernels"`
+	Solver     string  `json:"solver"`
+	Iterations int     `json:"iterations"`
+	Residual   float64 `json:"residual"`
+	Picard     int     `json:"picard_iterations"`
+	Setups     int     `json:"solver_setups"` // factorisations or preconditioner builds
+	// MeanResidual: models with mean conditions; see problem.Summary.
+	MeanResidual float64           `json:"mean_residual,omitempty"`
+	WallTime     float64           `json:"wall_time_s"`
+	Tau          map[string]string `json:"tau"`
+	Fields       []jsonField       `json:"fields"`
 }
 
 type jsonField struct {
@@ -490,7 +499,7 @@ type jsonField struct {
 func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared, MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))

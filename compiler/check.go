@@ -103,10 +103,64 @@ func Check(f *lang.File, opts CheckOptions) (*Model, lang.ErrorList) {
 	c.checkCoefs()
 	c.checkEquations(f)
 	c.checkBoundaries(f)
+	c.checkMeans(f)
 	c.checkStabilisation(f)
 	c.checkTimeStep()
 	c.errs.Sort()
 	return c.m, c.errs
+}
+
+// checkMeans checks the mean conditions: a scalar unknown, at most one
+// each, no value condition on the same unknown (which would fix the
+// constant already), and a constant value.
+func (c *checker) checkMeans(f *lang.File) {
+	m := c.m
+	seen := map[int]lang.Pos{}
+	for _, s := range f.Stmts {
+		s, ok := s.(*lang.MeanStmt)
+		if !ok {
+			continue
+		}
+		u, ok := c.unknowns[s.Target.Text]
+		if !ok {
+			c.unknownName(s.Target, "unknown")
+			continue
+		}
+		if u.Rank != 0 {
+			c.errorf(s.Target.Pos, s.Target.End, "a mean condition fixes one constant: the pressure of an enclosed flow, for instance", "mean of %q: only a scalar unknown can have a mean condition", u.Name)
+			continue
+		}
+		if prev, dup := seen[u.Index]; dup {
+			c.errorf(s.Pos(), s.End(), "", "second mean condition for %q (first at %s)", u.Name, prev)
+			continue
+		}
+		seen[u.Index] = s.Pos()
+		fixed := false
+		for _, bc := range m.BCs {
+			fixed = fixed || bc.Unknown == u.Index && bc.Kind == ValueBC
+		}
+		if fixed {
+			c.errorf(s.Pos(), s.End(), "remove the mean condition, or the value condition on "+u.Name, "%q has a value condition on the boundary, which fixes its constant already: a mean condition would over-constrain it", u.Name)
+			continue
+		}
+		v := c.exprWith(s.Value, false)
+		if v == nil {
+			continue
+		}
+		if v.Rank() != 0 || ir.HasField(v) || ir.Contains(v, func(e ir.Expr) bool {
+			switch e := e.(type) {
+			case *ir.Coord, *ir.Time:
+				return true
+			case *ir.Sym:
+				return e.Kind == ir.CellQuantity || e.Deps != 0
+			}
+			return false
+		}) {
+			c.errorf(s.Value.Pos(), s.Value.End(), "give a number or a constant coefficient", "the mean of %q must be a constant", u.Name)
+			continue
+		}
+		m.Means = append(m.Means, &MeanCondition{Unknown: u.Index, Value: v, Pos: s.Pos()})
+	}
 }
 
 // checkTimeStep reports time_step in a model without time derivatives:

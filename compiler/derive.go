@@ -127,6 +127,14 @@ func galerkinNotes(m *Model) []Note {
 			add(Assumption, "no condition on %s for %s: zero flux (the natural condition), so the boundary integral vanishes", strings.Join(free, ", "), u.Name)
 		}
 	}
+	for _, mc := range m.Means {
+		u := m.Unknowns[mc.Unknown].Name
+		val := "its value"
+		if n, ok := LowerExpr(m, mc.Value)[0].(*ir.Num); ok {
+			val = n.Val.RatString()
+		}
+		add(Assumption, "the mean of %[1]s over Ω is prescribed, (1/|Ω|) ∫_Ω %[1]s dx = %[2]s: %[1]s has no value condition, so the equations fix it only up to a constant. The solver fixes %[1]s at one node, solves, and shifts %[1]s by a constant to this mean", u, val)
+	}
 	for _, eq := range m.Equations {
 		if ir.Contains(eq.Written, func(e ir.Expr) bool { _, ok := e.(*ir.TimeDeriv); return ok }) {
 			add(Assumption, "test functions do not depend on time (semi-discretisation in space), so ∂v/∂t = 0")
@@ -371,6 +379,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 				lf.Dirichlet = append(lf.Dirichlet, ir.DirichletCondition{Side: side, Unknown: bc.Unknown, Comp: c, Value: v})
 			}
 		}
+	}
+	for _, mc := range m.Means {
+		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})
 	}
 	lf.MaxDerivative = maxDeriv(lf.Integrals)
 	return lf, nil

@@ -48,6 +48,16 @@ type Unknown struct {
 	Pos     lang.Pos
 }
 
+// MeanCondition prescribes the mean of a scalar unknown over the domain,
+// (1/|Ω|) ∫_Ω u dx = Value ("mean u = VALUE"). It fixes the constant that
+// the operator and the boundary conditions leave free, as for the pressure
+// of an enclosed flow, whose velocity is prescribed on the whole boundary.
+type MeanCondition struct {
+	Unknown int
+	Value   ir.Expr // a constant
+	Pos     lang.Pos
+}
+
 // Coef is a checked coefficient ("given").
 type Coef struct {
 	Name string
@@ -101,6 +111,7 @@ type Model struct {
 	Coefs     []*Coef // in declaration order
 	Equations []*Equation
 	BCs       []*BC
+	Means     []*MeanCondition
 	Methods   []Method
 	// Tau holds the τ definition of each equation (nil where none is
 	// given); TauSym the symbol that stands for it in derived forms.

@@ -29,7 +29,7 @@ type File struct {
 
 // Stmt is one statement. The concrete types are *ModelStmt, *DimensionStmt,
 // *SidesStmt, *UseStmt, *UnknownStmt, *GivenStmt, *FormulaStmt,
-// *EquationStmt, *BoundaryStmt, *StabiliseStmt and *TauStmt.
+// *EquationStmt, *BoundaryStmt, *StabiliseStmt, *TauStmt and *MeanStmt.
 type Stmt interface {
 	Node
 	stmtNode()
@@ -115,6 +115,16 @@ type TauStmt struct {
 	Value Expr
 }
 
+// MeanStmt is "mean NAME = EXPR": the mean of an unknown over the domain,
+// for an unknown the other conditions fix only up to a constant (the
+// pressure of an enclosed flow).
+type MeanStmt struct {
+	Span
+	Target Name
+	Value  Expr
+}
+
+func (*MeanStmt) stmtNode()      {}
 func (*ModelStmt) stmtNode()     {}
 func (*DimensionStmt) stmtNode() {}
 func (*SidesStmt) stmtNode()     {}
@@ -224,6 +234,8 @@ func Inspect(n any, f func(Node) bool) {
 	case *BoundaryStmt:
 		Inspect(n.Value, f)
 	case *TauStmt:
+		Inspect(n.Value, f)
+	case *MeanStmt:
 		Inspect(n.Value, f)
 	case *Call:
 		for _, a := range n.Args {

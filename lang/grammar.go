@@ -34,6 +34,7 @@ type statement struct {
 	Boundary    *boundaryDecl  `parser:"| @@"`
 	Stabilise   *stabiliseDecl `parser:"| @@"`
 	Tau         *tauDecl       `parser:"| @@"`
+	Mean        *meanDecl      `parser:"| @@"`
 }
 
 type name struct {
@@ -115,6 +116,12 @@ type stabiliseDecl struct {
 type tauDecl struct {
 	Pos, EndPos lexer.Position
 	For         *name `parser:"\"tau\" \"for\" @@ \"=\""`
+	Value       *sum  `parser:"@@"`
+}
+
+type meanDecl struct {
+	Pos, EndPos lexer.Position
+	Target      *name `parser:"\"mean\" @@ \"=\""`
 	Value       *sum  `parser:"@@"`
 }
 

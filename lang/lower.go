@@ -73,6 +73,8 @@ func (lw *lowerer) stmt(s *statement) Stmt {
 		out = &StabiliseStmt{Span: sp, Methods: lowerNames(s.Stabilise.Methods)}
 	case s.Tau != nil:
 		out = &TauStmt{Span: sp, For: lowerName(s.Tau.For), Value: lw.sum(s.Tau.Value)}
+	case s.Mean != nil:
+		out = &MeanStmt{Span: sp, Target: lowerName(s.Mean.Target), Value: lw.sum(s.Mean.Value)}
 	default:
 		panic("lang: statement with no alternative set")
 	}

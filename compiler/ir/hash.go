@@ -29,6 +29,9 @@ func FormHash(lf *LoweredForm) string {
 	for _, d := range lf.Dirichlet {
 		fmt.Fprintf(&b, "dirichlet %q %d %d %s\n", d.Side, d.Unknown, d.Comp, Debug(d.Value))
 	}
+	for _, mc := range lf.Means {
+		fmt.Fprintf(&b, "mean %d %s\n", mc.Unknown, Debug(mc.Value))
+	}
 	sum := sha256.Sum256([]byte(b.String()))
 	return hex.EncodeToString(sum[:16])
 }

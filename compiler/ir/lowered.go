@@ -49,6 +49,9 @@ type LoweredForm struct {
 	// Dirichlet lists the value conditions: on Side, component Comp of
 	// unknown Unknown equals Value (a lowered scalar expression of x, t).
 	Dirichlet []DirichletCondition
+	// Means lists the mean conditions: the mean of scalar unknown Unknown
+	// over the domain equals Value (a lowered constant).
+	Means []MeanCondition
 	// MaxDerivative is the highest spatial derivative order on trial or
 	// test functions (2 for GLS/VMS with second-order operators).
 	MaxDerivative int
@@ -59,6 +62,12 @@ type LoweredUnknown struct {
 	Name    string
 	Rank    int    // 0 scalar, 1 vector
 	Element string // P1, P2, Q1, Q2
+}
+
+// MeanCondition prescribes the mean of a scalar unknown over the domain.
+type MeanCondition struct {
+	Unknown int
+	Value   Expr
 }
 
 // DirichletCondition is a prescribed value on a boundary side.

@@ -252,7 +252,7 @@ func latexText(s string) string {
 	r := strings.NewReplacer(`\`, `\textbackslash{}`, "_", `\_`, "&", `\&`, "%", `\%`, "#", `\#`, "$", `\$`, "{", `\{`, "}", `\}`, "^", `\^{}`, "~", `\~{}`,
 		"τ", `$\tau$`, "′", `$'$`, "≈", `$\approx$`, "−", `$-$`, "·", `$\cdot$`, "¹", `$^1$`, "₀", `$_0$`, "∇", `$\nabla$`, "≠", `$\neq$`,
 		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`,
-		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "⁽", "", "⁾", "")
+		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "Ω", `$\Omega$`, "∫", `$\int$`, "∑", `$\sum$`, "⁽", "", "⁾", "")
 	return r.Replace(s)
 }
 
@@ -353,6 +353,7 @@ type jsonDerivation struct {
 	Tau        []jsonRow       `json:"tau"`
 	Notes      []jsonNote      `json:"notes"`
 	Boundaries []jsonCondition `json:"boundary_conditions"`
+	Means      []jsonRow       `json:"mean_conditions"`
 }
 
 type jsonUnknown struct {
@@ -495,6 +496,10 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 	out.Boundaries = []jsonCondition{}
 	for _, bc := range m.BCs {
 		out.Boundaries = append(out.Boundaries, jsonCondition{m.Unknowns[bc.Unknown].Name, bc.Kind.String(), bc.Sides, jexpr(bc.Value, names)})
+	}
+	out.Means = []jsonRow{}
+	for _, mc := range m.Means {
+		out.Means = append(out.Means, jsonRow{m.Unknowns[mc.Unknown].Name, jexpr(mc.Value, names)})
 	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")

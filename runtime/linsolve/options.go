@@ -94,6 +94,9 @@ type Options struct {
 	// grows exponentially with the mesh (Elman 1986, Math. Comp. 47); a
 	// shift of about 0.1 keeps them bounded at a small cost in quality.
 	ILUShift float64
+	// Unscaled makes MethodDirect factor A itself instead of the
+	// diagonally scaled S A S (see Prepare); for comparison only.
+	Unscaled bool
 	// Workers > 1 makes Solve use sparse.CSR.MulVecParallel with that many
 	// goroutines (bitwise the same products as serial).
 	Workers int

@@ -736,3 +736,58 @@ func TestPreparedReuse(t *testing.T) {
 		}
 	}
 }
+
+// TestDirectScaling: the direct solver scales a matrix whose coupled
+// diagonal spans more than ScaleSpread (a saddle-point system with an
+// O(ε) pressure block) and leaves other matrices alone; decoupled
+// (Dirichlet) rows do not count. The solutions match gonum's dense LU
+// either way.
+func TestDirectScaling(t *testing.T) {
+	lap := laplace2D(6) // diagonal 4 everywhere
+	f, err := factorScaled(lap, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range f.s {
+		if s != 1 {
+			t.Fatal("Laplacian scaled, but its diagonal does not spread")
+		}
+	}
+	// [K B; Bᵀ −εI] with K the Laplacian, B a coupling, ε = 1e-7, and a
+	// decoupled identity row at the end.
+	n := lap.N
+	var ents [][3]float64
+	for i := 0; i < n; i++ {
+		for k := lap.RowPtr[i]; k < lap.RowPtr[i+1]; k++ {
+			ents = append(ents, [3]float64{float64(i), float64(lap.Col[k]), lap.Val[k]})
+		}
+	}
+	m := n / 2
+	for j := 0; j < m; j++ {
+		ents = append(ents, [3]float64{float64(2 * j), float64(n + j), 1}, [3]float64{float64(n + j), float64(2 * j), 1},
+			[3]float64{float64(n + j), float64(n + j), -1e-7})
+	}
+	ents = append(ents, [3]float64{float64(n + m), float64(n + m), 1})
+	D := mat.NewDense(n+m+1, n+m+1, nil)
+	for _, e := range ents {
+		D.Set(int(e[0]), int(e[1]), D.At(int(e[0]), int(e[1]))+e[2])
+	}
+	A := sparse.FromDense(D, 0)
+	f, err = factorScaled(A, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(f.s[n]-1/math.Sqrt(1e-7)) > 1e-6 || f.s[n+m] != 1 {
+		t.Errorf("saddle point: scale of the pressure row %g, of the decoupled row %g", f.s[n], f.s[n+m])
+	}
+	b := randVec(rand.New(rand.NewPCG(1, 2)), A.N)
+	for _, uns := range []bool{false, true} {
+		x := make([]float64, A.N)
+		if _, err := Solve(A, b, x, Options{Method: MethodDirect, Unscaled: uns}); err != nil {
+			t.Fatal(err)
+		}
+		if e := relErr(x, denseSolve(A, b)); e > 1e-9 {
+			t.Errorf("unscaled=%v: relative error %.2e against dense LU", uns, e)
+		}
+	}
+}

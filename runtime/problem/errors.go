@@ -55,6 +55,21 @@ func ExactFromExprs(dim int, comps []ir.Expr) (Exact, error) {
 // the discretisation error of degree-k elements. t is the time passed to
 // exact.
 func (s *Solution) ErrorNorms(field int, exact Exact, t float64, degree int) (l2, h1 float64) {
+	e2, g2, _, _ := s.errorIntegrals(field, exact, t, degree)
+	return math.Sqrt(e2), math.Sqrt(g2)
+}
+
+// ErrorNormsUpToConstant is ErrorNorms for a scalar field that is defined
+// only up to a constant (one with a mean condition): the L² norm of
+// e − ē, e = u − u_h and ē its mean, from ‖e − ē‖² = ∫e² − (∫e)²/|Ω|. The
+// H¹ seminorm does not see constants.
+func (s *Solution) ErrorNormsUpToConstant(field int, exact Exact, t float64, degree int) (l2, h1 float64) {
+	e2, g2, e1, vol := s.errorIntegrals(field, exact, t, degree)
+	return math.Sqrt(math.Max(0, e2-e1*e1/vol)), math.Sqrt(g2)
+}
+
+// errorIntegrals returns ∫|e|², ∫|∇e|², ∫Σ_c e_c and |Ω| for e = u − u_h.
+func (s *Solution) errorIntegrals(field int, exact Exact, t float64, degree int) (e2, g2, e1, vol float64) {
 	dm := s.Dofs
 	f := dm.Fields[field]
 	e := f.Element
@@ -69,13 +84,12 @@ func (s *Solution) ErrorNorms(field int, exact Exact, t float64, degree int) (l2
 	u, gu := make([]float64, nc), make([]float64, nc*d)
 	uh, guh := make([]float64, nc), make([]float64, nc*d)
 	var coords []float64
-	var e2, g2 float64
 	for c := 0; c < dm.NumCells; c++ {
 		coords = s.Mesh.CellCoords(c, coords)
 		nodes := dm.CellNodes(field, c)
 		for q := 0; q < rule.NumPoints(); q++ {
 			if err := tab.Map(coords, q, pg); err != nil {
-				return math.NaN(), math.NaN()
+				return math.NaN(), math.NaN(), math.NaN(), math.NaN()
 			}
 			phi := tab.Value(q)
 			clear(uh)
@@ -90,9 +104,11 @@ func (s *Solution) ErrorNorms(field int, exact Exact, t float64, degree int) (l2
 				}
 			}
 			exact(pg.X, t, u, gu)
+			vol += pg.Weight
 			for comp := 0; comp < nc; comp++ {
 				r := u[comp] - uh[comp]
 				e2 += pg.Weight * r * r
+				e1 += pg.Weight * r
 				for k := 0; k < d; k++ {
 					r := gu[comp*d+k] - guh[comp*d+k]
 					g2 += pg.Weight * r * r
@@ -100,5 +116,5 @@ func (s *Solution) ErrorNorms(field int, exact Exact, t float64, degree int) (l2
 			}
 		}
 	}
-	return math.Sqrt(e2), math.Sqrt(g2)
+	return e2, g2, e1, vol
 }

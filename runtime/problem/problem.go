@@ -98,9 +98,13 @@ type Summary struct {
 	// the linear solver so far; a transient solve with a constant matrix
 	// has 1 for all its steps.
 	Prepared int
-	Workers  int
-	Phases   []Phase
-	Ranges   []FieldRange
+	// MeanResidual is, for forms with mean conditions, the largest
+	// relative residual of the equations replaced by fixing one dof (0 when
+	// the constant is exactly free; see meanFix).
+	MeanResidual float64
+	Workers      int
+	Phases       []Phase
+	Ranges       []FieldRange
 }
 
 // FieldValues are the nodal values of one field: Values[comp][node] at
@@ -207,6 +211,7 @@ type system struct {
 	A        *sparse.CSR
 	b        []float64
 	needPrev bool
+	means    []meanFix
 	setup    Summary // mesh, dofs, kernel path and the set-up phases
 	// prepared is the linear solver of the last solve and its options;
 	// prepares counts how often one was built.
@@ -263,6 +268,9 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	}
 	phase("kernels")
 
+	if s.means, err = newMeanFixes(form, m, dm); err != nil {
+		return nil, err
+	}
 	s.asm = assemble.New(m, dm)
 	s.asm.Workers = opts.Workers
 	s.A = s.asm.NewMatrix()
@@ -304,7 +312,7 @@ func (s *system) linearSolve(A *sparse.CSR, b, x []float64, so linsolve.Options)
 // sameOptions compares the options that shape a prepared solver.
 func sameOptions(a, b linsolve.Options) bool {
 	return a.Method == b.Method && a.Precond == b.Precond && a.ILUShift == b.ILUShift && a.Workers == b.Workers &&
-		a.RelTol == b.RelTol && a.AbsTol == b.AbsTol && a.MaxIter == b.MaxIter && a.Restart == b.Restart
+		a.RelTol == b.RelTol && a.AbsTol == b.AbsTol && a.MaxIter == b.MaxIter && a.Restart == b.Restart && a.Unscaled == b.Unscaled
 }
 
 // solve assembles and solves at opts.Time, iterating Picard when the form
@@ -317,6 +325,9 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	fixed, values, err := dirichlet(form, m, dm, opts.Time)
 	if err != nil {
 		return nil, err
+	}
+	for _, mf := range s.means {
+		fixed[mf.pin], values[mf.pin] = true, 0
 	}
 	sum.Phases = append(sum.Phases, Phase{"dirichlet-data", time.Since(clock)})
 
@@ -377,6 +388,11 @@ func (s *system) solve(opts Options) (*Solution, error) {
 			return nil, err
 		}
 		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
+		sum.MeanResidual = 0
+		for i := range s.means {
+			sum.MeanResidual = math.Max(sum.MeanResidual, s.means[i].replacedResidual(A, b, x))
+			s.means[i].shift(x)
+		}
 		if !s.needPrev || opts.PreviousFixed {
 			break
 		}

@@ -13,28 +13,28 @@ import (
 )
 
 func init() {
-	compiled.Register("a5daa4691d94f98d3108a26d3dd2a060", compiled.Kernels{
+	compiled.Register("f77894581e6982e374018d70b3542901", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
-		Degree:  3,
+		Degree:  2,
 		NewCell: func() assemble.Kernel { return NavierStokesGalerkinKernel{} },
 	})
-	compiled.Register("71d0b181b7067ecc9c95d8fbc5e08c07", compiled.Kernels{
+	compiled.Register("3159450448ba077b8769a0dcba56460b", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
-		Degree:  3,
+		Degree:  2,
 		NewCell: func() assemble.Kernel { return NavierStokesSUPGKernel{} },
 	})
-	compiled.Register("dfb52582940676b9cfa4c4ba8470f515", compiled.Kernels{
+	compiled.Register("d6599324c541b14e7595da6467be7f66", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
-		Degree:  3,
+		Degree:  2,
 		NewCell: func() assemble.Kernel { return NavierStokesGLSKernel{} },
 	})
-	compiled.Register("0397ee2aca3d5bf8e100df32ffa53222", compiled.Kernels{
+	compiled.Register("d0ad3f0e9f71c25928ebf56a9a35ba92", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
-		Degree:  3,
+		Degree:  2,
 		NewCell: func() assemble.Kernel { return NavierStokesVMSKernel{} },
 	})
 }
@@ -51,7 +51,7 @@ var fwNavierStokesGalerkinLayout = assemble.Layout{
 }
 
 // NavierStokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesGalerkinKernel struct{}
 
@@ -61,7 +61,7 @@ var _ assemble.Kernel = NavierStokesGalerkinKernel{}
 func (NavierStokesGalerkinKernel) Layout() assemble.Layout { return fwNavierStokesGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesGalerkinKernel) Degree() int { return 3 }
+func (NavierStokesGalerkinKernel) Degree() int { return 2 }
 
 // Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -104,21 +104,21 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	c20 := rdetJ * c19
 	c21 := c9 + c16
 	c22 := rdetJ * c21
-	c23 := 1e-07 * detJ
-	c24 := j01 * rdetJ
+	w := detJ * 0.16666666666666666
+	c23 := j01 * rdetJ
 	k11 := j00 * rdetJ
-	c25 := c24 - k11
+	c24 := c23 - k11
 	k00 := j11 * rdetJ
-	c26 := j10 * rdetJ
-	c27 := c26 - k00
+	c25 := j10 * rdetJ
+	c26 := c25 - k00
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
+	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 	acc[0] += 0.5*(c18+c22) + c20
 	acc[1] += 0.5 * (-c18 - c20)
 	acc[2] += 0.5 * (-c20 - c22)
@@ -129,19 +129,19 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	acc[19] += 0.5 * c20
 	acc[20] += 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
 	acc[6] += 0.16666666666666669 * (-j11 - c10)
 	acc[7] += 0.16666666666666669 * j11
 	acc[8] += 0.16666666666666669 * c10
 	acc[15] += 0.16666666666666669 * (-j11 - c10)
 	acc[16] += 0.16666666666666669 * j11
 	acc[17] += 0.16666666666666669 * c10
-	acc[24] += 0.16666666666666669 * (-j11 - c10)
-	acc[25] += 0.16666666666666669 * j11
-	acc[26] += 0.16666666666666669 * c10
+	acc[24] += 0.16666666666666666 * (-j11 - c10)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c10
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
+	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 	acc[30] += 0.5*(c18+c22) + c20
 	acc[31] += 0.5 * (-c18 - c20)
 	acc[32] += 0.5 * (-c20 - c22)
@@ -152,50 +152,39 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	acc[49] += 0.5 * c20
 	acc[50] += 0.5 * c22
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
 	acc[33] += 0.16666666666666669 * (-c3 - j00)
 	acc[34] += 0.16666666666666669 * c3
 	acc[35] += 0.16666666666666669 * j00
 	acc[42] += 0.16666666666666669 * (-c3 - j00)
 	acc[43] += 0.16666666666666669 * c3
 	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666669 * (-c3 - j00)
-	acc[52] += 0.16666666666666669 * c3
-	acc[53] += 0.16666666666666669 * j00
+	acc[51] += 0.16666666666666666 * (-c3 - j00)
+	acc[52] += 0.16666666666666666 * c3
+	acc[53] += 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
 	acc[54] += 0.16666666666666669 * (-j11 - c10)
 	acc[55] += 0.16666666666666669 * j11
 	acc[56] += 0.16666666666666669 * c10
 	acc[63] += 0.16666666666666669 * (-j11 - c10)
 	acc[64] += 0.16666666666666669 * j11
 	acc[65] += 0.16666666666666669 * c10
-	acc[72] += 0.16666666666666669 * (-j11 - c10)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c10
+	acc[72] += 0.16666666666666666 * (-j11 - c10)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c10
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
 	acc[57] += 0.16666666666666669 * (-c3 - j00)
 	acc[58] += 0.16666666666666669 * c3
 	acc[59] += 0.16666666666666669 * j00
 	acc[66] += 0.16666666666666669 * (-c3 - j00)
 	acc[67] += 0.16666666666666669 * c3
 	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c3 - j00)
-	acc[76] += 0.16666666666666669 * c3
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (1/10000000) · p · test(p)   [navier_stokes.fw:19]
-	acc[60] += 0.08333333333333334 * c23
-	acc[61] += 0.04166666666666667 * c23
-	acc[62] += 0.041666666666666685 * c23
-	acc[69] += 0.04166666666666667 * c23
-	acc[70] += 0.08333333333333334 * c23
-	acc[71] += 0.04166666666666667 * c23
-	acc[78] += 0.041666666666666685 * c23
-	acc[79] += 0.04166666666666667 * c23
-	acc[80] += 0.08333333333333334 * c23
-	for q := 0; q < 4; q++ {
+	acc[75] += 0.16666666666666666 * (-c3 - j00)
+	acc[76] += 0.16666666666666666 * c3
+	acc[77] += 0.16666666666666666 * j00
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGalerkinCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesGalerkinCellBasis1Val[q][1]
@@ -205,21 +194,20 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p5 := fwNavierStokesGalerkinCellBasis1Val[q][1] * pv[1]
 		p6 := fwNavierStokesGalerkinCellBasis1Val[q][2] * pv[2]
 		coef1 := p4 + p5 + p6
-		w := detJ * fwNavierStokesGalerkinCellWeights[q]
 		p7 := coef0 * w
-		p8 := p7 * c25
-		p9 := p7 * c24
+		p8 := p7 * c24
+		p9 := p7 * c23
 		p10 := p7 * k11
 		p11 := coef1 * w
-		p12 := p11 * c27
+		p12 := p11 * c26
 		p13 := p8 + p12
 		p14 := p11 * k00
 		p15 := p14 - p9
-		p16 := p11 * c26
+		p16 := p11 * c25
 		p17 := p10 - p16
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
 		acc[0] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
 		acc[1] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
 		acc[2] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
@@ -230,8 +218,8 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[19] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p15
 		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
 		acc[30] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
 		acc[31] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
 		acc[32] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
@@ -258,7 +246,7 @@ var fwNavierStokesSUPGLayout = assemble.Layout{
 }
 
 // NavierStokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesSUPGKernel struct{}
 
@@ -268,7 +256,7 @@ var _ assemble.Kernel = NavierStokesSUPGKernel{}
 func (NavierStokesSUPGKernel) Layout() assemble.Layout { return fwNavierStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesSUPGKernel) Degree() int { return 3 }
+func (NavierStokesSUPGKernel) Degree() int { return 2 }
 
 // Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -313,77 +301,66 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
-	c25 := 1e-07 * detJ
+	w := detJ * 0.16666666666666666
 	rdetJ := 1.0 / detJ
-	c26 := j01 * rdetJ
-	k01 := -c26
+	c25 := j01 * rdetJ
+	k01 := -c25
 	k11 := j00 * rdetJ
-	c27 := c26 - k11
+	c26 := c25 - k11
 	k00 := j11 * rdetJ
-	c28 := j10 * rdetJ
-	k10 := -c28
-	c29 := c28 - k00
+	c27 := j10 * rdetJ
+	k10 := -c27
+	c28 := c27 - k00
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
 	acc[6] += 0.16666666666666669 * (-j11 - c23)
 	acc[7] += 0.16666666666666669 * j11
 	acc[8] += 0.16666666666666669 * c23
 	acc[15] += 0.16666666666666669 * (-j11 - c23)
 	acc[16] += 0.16666666666666669 * j11
 	acc[17] += 0.16666666666666669 * c23
-	acc[24] += 0.16666666666666669 * (-j11 - c23)
-	acc[25] += 0.16666666666666669 * j11
-	acc[26] += 0.16666666666666669 * c23
+	acc[24] += 0.16666666666666666 * (-j11 - c23)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
 	acc[33] += 0.16666666666666669 * (-c24 - j00)
 	acc[34] += 0.16666666666666669 * c24
 	acc[35] += 0.16666666666666669 * j00
 	acc[42] += 0.16666666666666669 * (-c24 - j00)
 	acc[43] += 0.16666666666666669 * c24
 	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666669 * (-c24 - j00)
-	acc[52] += 0.16666666666666669 * c24
-	acc[53] += 0.16666666666666669 * j00
+	acc[51] += 0.16666666666666666 * (-c24 - j00)
+	acc[52] += 0.16666666666666666 * c24
+	acc[53] += 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
 	acc[54] += 0.16666666666666669 * (-j11 - c23)
 	acc[55] += 0.16666666666666669 * j11
 	acc[56] += 0.16666666666666669 * c23
 	acc[63] += 0.16666666666666669 * (-j11 - c23)
 	acc[64] += 0.16666666666666669 * j11
 	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666669 * (-j11 - c23)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
 	acc[57] += 0.16666666666666669 * (-c24 - j00)
 	acc[58] += 0.16666666666666669 * c24
 	acc[59] += 0.16666666666666669 * j00
 	acc[66] += 0.16666666666666669 * (-c24 - j00)
 	acc[67] += 0.16666666666666669 * c24
 	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c24 - j00)
-	acc[76] += 0.16666666666666669 * c24
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (1/10000000) · p · test(p)   [navier_stokes.fw:19]
-	acc[60] += 0.08333333333333334 * c25
-	acc[61] += 0.04166666666666667 * c25
-	acc[62] += 0.041666666666666685 * c25
-	acc[69] += 0.04166666666666667 * c25
-	acc[70] += 0.08333333333333334 * c25
-	acc[71] += 0.04166666666666667 * c25
-	acc[78] += 0.041666666666666685 * c25
-	acc[79] += 0.04166666666666667 * c25
-	acc[80] += 0.08333333333333334 * c25
-	for q := 0; q < 4; q++ {
+	acc[75] += 0.16666666666666666 * (-c24 - j00)
+	acc[76] += 0.16666666666666666 * c24
+	acc[77] += 0.16666666666666666 * j00
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesSUPGCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesSUPGCellBasis1Val[q][1]
@@ -402,126 +379,116 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p13 := 2.0 * diameter * p10
 		p14 := 0.04 + p13
 		p15 := 1.0 / p14
-		coef37 := c17 * p15
-		p16 := p8 * coef37
+		coef34 := c17 * p15
+		p16 := p8 * coef34
 		coef3 := p16 + 0.01
-		coef7 := coef0 * coef37
-		coef5 := coef0 * coef1 * coef37
-		coef14 := coef1 * coef37
+		coef7 := coef0 * coef34
+		coef5 := coef0 * coef1 * coef34
+		coef13 := coef1 * coef34
 		coef12 := c17 * p12 * 0.25
-		p17 := p7 * coef37
+		p17 := p7 * coef34
 		coef10 := 0.01 + coef12 + p17
-		coef13 := c17 * p12 * 2.5e-08
-		coef19 := p16 + 0.01 + coef12
-		coef27 := 0.01 + p17
-		w := detJ * fwNavierStokesSUPGCellWeights[q]
+		coef18 := p16 + 0.01 + coef12
+		coef25 := 0.01 + p17
 		p18 := coef0 * w
-		p19 := p18 * c27
-		p20 := p18 * c26
+		p19 := p18 * c26
+		p20 := p18 * c25
 		p21 := p18 * k11
 		p22 := coef1 * w
-		p23 := p22 * c29
+		p23 := p22 * c28
 		p24 := p19 + p23
 		p25 := p22 * k00
 		p26 := p25 - p20
-		p27 := p22 * c28
+		p27 := p22 * c27
 		p28 := p21 - p27
 		p29 := coef3 * w
-		p30 := c27 * p29
-		p31 := c26 * p29
+		p30 := c26 * p29
+		p31 := c25 * p29
 		p32 := k11 * p29
 		p33 := coef5 * w
-		p34 := c29 * p33
+		p34 := c28 * p33
 		p35 := p30 + p34
 		p36 := k00 * p33
 		p37 := p36 - p31
-		p38 := c28 * p33
+		p38 := c27 * p33
 		p39 := p32 - p38
-		p40 := c27 * p33
-		p41 := c26 * p33
+		p40 := c26 * p33
+		p41 := c25 * p33
 		p42 := k11 * p33
 		p43 := coef10 * w
-		p44 := c29 * p43
+		p44 := c28 * p43
 		p45 := p40 + p44
 		p46 := k00 * p43
 		p47 := p46 - p41
-		p48 := c28 * p43
+		p48 := c27 * p43
 		p49 := p42 - p48
 		p50 := coef7 * w
-		p51 := c29 * p50
+		p51 := c28 * p50
 		p52 := k00 * p50
-		p53 := c28 * p50
+		p53 := c27 * p50
 		p54 := -p53
 		p55 := coef13 * w
-		p56 := fwNavierStokesSUPGCellBasis1Val[q][0] * p55
-		p57 := fwNavierStokesSUPGCellBasis1Val[q][1] * p55
-		p58 := fwNavierStokesSUPGCellBasis1Val[q][2] * p55
-		p59 := coef14 * w
-		p60 := c29 * p59
-		p61 := p56 + p60
-		p62 := k00 * p59
-		p63 := p57 + p62
-		p64 := c28 * p59
-		p65 := p58 - p64
-		p66 := coef12 * w
-		p67 := c27 * p66
-		p68 := c26 * p66
-		p69 := -p68
-		p70 := k11 * p66
-		p71 := coef19 * w
-		p72 := c27 * p71
-		p73 := c26 * p71
-		p74 := k11 * p71
-		p75 := p34 + p72
-		p76 := p36 - p73
-		p77 := p74 - p38
-		p78 := coef27 * w
-		p79 := c29 * p78
-		p80 := p40 + p79
-		p81 := k00 * p78
-		p82 := p81 - p41
-		p83 := c28 * p78
-		p84 := p42 - p83
-		p85 := c27 * p50
-		p86 := p56 + p85
-		p87 := c26 * p50
-		p88 := p57 - p87
-		p89 := k11 * p50
-		p90 := p58 + p89
-		p91 := c27 * p59
-		p92 := c26 * p59
-		p93 := -p92
-		p94 := k11 * p59
-		p95 := c29 * p66
-		p96 := k00 * p66
-		p97 := c28 * p66
-		p98 := -p97
-		p99 := p60 + p85
-		p100 := p62 - p87
-		p101 := p89 - p64
-		p102 := coef37 * w
-		p103 := c27 * p102
-		p104 := c26 * p102
-		p105 := -p104
-		p106 := k11 * p102
-		p107 := c29 * p102
-		p108 := k00 * p102
-		p109 := c28 * p102
-		p110 := -p109
+		p56 := c28 * p55
+		p57 := k00 * p55
+		p58 := c27 * p55
+		p59 := -p58
+		p60 := coef12 * w
+		p61 := c26 * p60
+		p62 := c25 * p60
+		p63 := -p62
+		p64 := k11 * p60
+		p65 := coef18 * w
+		p66 := c26 * p65
+		p67 := c25 * p65
+		p68 := k11 * p65
+		p69 := p34 + p66
+		p70 := p36 - p67
+		p71 := p68 - p38
+		p72 := coef25 * w
+		p73 := c28 * p72
+		p74 := p40 + p73
+		p75 := k00 * p72
+		p76 := p75 - p41
+		p77 := c27 * p72
+		p78 := p42 - p77
+		p79 := c26 * p50
+		p80 := c25 * p50
+		p81 := -p80
+		p82 := k11 * p50
+		p83 := c26 * p55
+		p84 := c25 * p55
+		p85 := -p84
+		p86 := k11 * p55
+		p87 := c28 * p60
+		p88 := k00 * p60
+		p89 := c27 * p60
+		p90 := -p89
+		p91 := p56 + p79
+		p92 := p57 - p80
+		p93 := p82 - p58
+		p94 := coef34 * w
+		p95 := c26 * p94
+		p96 := c25 * p94
+		p97 := -p96
+		p98 := k11 * p94
+		p99 := c28 * p94
+		p100 := k00 * p94
+		p101 := c27 * p94
+		p102 := -p101
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c27*p35 + c29*p45
-		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c27*p37 + c29*p47
-		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c27*p39 + c29*p49
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
+		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
+		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
 		acc[9] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
 		acc[10] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
 		acc[11] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
@@ -529,113 +496,111 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[6] += c27*p51 + c29*p61
-		acc[7] += c27*p52 + c29*p63
-		acc[8] += c27*p54 + c29*p65
-		acc[15] += k01*p51 + k00*p61
-		acc[16] += k01*p52 + k00*p63
-		acc[17] += k01*p54 + k00*p65
-		acc[24] += k11*p51 + k10*p61
-		acc[25] += k11*p52 + k10*p63
-		acc[26] += k11*p54 + k10*p65
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		acc[6] += c26*p51 + c28*p56
+		acc[7] += c26*p52 + c28*p57
+		acc[8] += c26*p54 + c28*p59
+		acc[15] += k01*p51 + k00*p56
+		acc[16] += k01*p52 + k00*p57
+		acc[17] += k01*p54 + k00*p59
+		acc[24] += k11*p51 + k10*p56
+		acc[25] += k11*p52 + k10*p57
+		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[3] += c29 * p67
-		acc[4] += c29 * p69
-		acc[5] += c29 * p70
-		acc[12] += k00 * p67
-		acc[13] += k00 * p69
-		acc[14] += k00 * p70
-		acc[21] += k10 * p67
-		acc[22] += k10 * p69
-		acc[23] += k10 * p70
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		acc[3] += c28 * p61
+		acc[4] += c28 * p63
+		acc[5] += c28 * p64
+		acc[12] += k00 * p61
+		acc[13] += k00 * p63
+		acc[14] += k00 * p64
+		acc[21] += k10 * p61
+		acc[22] += k10 * p63
+		acc[23] += k10 * p64
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c27*p75 + c29*p80
-		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c27*p76 + c29*p82
-		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c27*p77 + c29*p84
-		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p75 + k00*p80
-		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p76 + k00*p82
-		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p77 + k00*p84
-		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p75 + k10*p80
-		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p76 + k10*p82
-		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p77 + k10*p84
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
+		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
+		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
+		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
+		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
+		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
+		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
+		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
+		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		acc[33] += c27*p86 + c29*p91
-		acc[34] += c27*p88 + c29*p93
-		acc[35] += c27*p90 + c29*p94
-		acc[42] += k01*p86 + k00*p91
-		acc[43] += k01*p88 + k00*p93
-		acc[44] += k01*p90 + k00*p94
-		acc[51] += k11*p86 + k10*p91
-		acc[52] += k11*p88 + k10*p93
-		acc[53] += k11*p90 + k10*p94
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		acc[33] += c26*p79 + c28*p83
+		acc[34] += c26*p81 + c28*p85
+		acc[35] += c26*p82 + c28*p86
+		acc[42] += k01*p79 + k00*p83
+		acc[43] += k01*p81 + k00*p85
+		acc[44] += k01*p82 + k00*p86
+		acc[51] += k11*p79 + k10*p83
+		acc[52] += k11*p81 + k10*p85
+		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		acc[27] += c27 * p95
-		acc[28] += c27 * p96
-		acc[29] += c27 * p98
-		acc[36] += k01 * p95
-		acc[37] += k01 * p96
-		acc[38] += k01 * p98
-		acc[45] += k11 * p95
-		acc[46] += k11 * p96
-		acc[47] += k11 * p98
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		acc[27] += c26 * p87
+		acc[28] += c26 * p88
+		acc[29] += c26 * p90
+		acc[36] += k01 * p87
+		acc[37] += k01 * p88
+		acc[38] += k01 * p90
+		acc[45] += k11 * p87
+		acc[46] += k11 * p88
+		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
-		acc[54] += c29 * p99
-		acc[55] += c29 * p100
-		acc[56] += c29 * p101
-		acc[63] += k00 * p99
-		acc[64] += k00 * p100
-		acc[65] += k00 * p101
-		acc[72] += k10 * p99
-		acc[73] += k10 * p100
-		acc[74] += k10 * p101
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		acc[54] += c28 * p91
+		acc[55] += c28 * p92
+		acc[56] += c28 * p93
+		acc[63] += k00 * p91
+		acc[64] += k00 * p92
+		acc[65] += k00 * p93
+		acc[72] += k10 * p91
+		acc[73] += k10 * p92
+		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
-		acc[57] += c27 * p99
-		acc[58] += c27 * p100
-		acc[59] += c27 * p101
-		acc[66] += k01 * p99
-		acc[67] += k01 * p100
-		acc[68] += k01 * p101
-		acc[75] += k11 * p99
-		acc[76] += k11 * p100
-		acc[77] += k11 * p101
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		acc[57] += c26 * p91
+		acc[58] += c26 * p92
+		acc[59] += c26 * p93
+		acc[66] += k01 * p91
+		acc[67] += k01 * p92
+		acc[68] += k01 * p93
+		acc[75] += k11 * p91
+		acc[76] += k11 * p92
+		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += c27*p103 + c29*p107
-		acc[61] += c27*p105 + c29*p108
-		acc[62] += c27*p106 + c29*p110
-		acc[69] += k01*p103 + k00*p107
-		acc[70] += k01*p105 + k00*p108
-		acc[71] += k01*p106 + k00*p110
-		acc[78] += k11*p103 + k10*p107
-		acc[79] += k11*p105 + k10*p108
-		acc[80] += k11*p106 + k10*p110
+		acc[60] += c26*p95 + c28*p99
+		acc[61] += c26*p97 + c28*p100
+		acc[62] += c26*p98 + c28*p102
+		acc[69] += k01*p95 + k00*p99
+		acc[70] += k01*p97 + k00*p100
+		acc[71] += k01*p98 + k00*p102
+		acc[78] += k11*p95 + k10*p99
+		acc[79] += k11*p97 + k10*p100
+		acc[80] += k11*p98 + k10*p102
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -653,7 +618,7 @@ var fwNavierStokesGLSLayout = assemble.Layout{
 }
 
 // NavierStokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesGLSKernel struct{}
 
@@ -663,7 +628,7 @@ var _ assemble.Kernel = NavierStokesGLSKernel{}
 func (NavierStokesGLSKernel) Layout() assemble.Layout { return fwNavierStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesGLSKernel) Degree() int { return 3 }
+func (NavierStokesGLSKernel) Degree() int { return 2 }
 
 // Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -708,6 +673,7 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
+	w := detJ * 0.16666666666666666
 	rdetJ := 1.0 / detJ
 	c25 := j01 * rdetJ
 	k01 := -c25
@@ -723,28 +689,50 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	}
 	var acc [81]float64
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
 	acc[6] += 0.16666666666666669 * (-j11 - c23)
 	acc[7] += 0.16666666666666669 * j11
 	acc[8] += 0.16666666666666669 * c23
 	acc[15] += 0.16666666666666669 * (-j11 - c23)
 	acc[16] += 0.16666666666666669 * j11
 	acc[17] += 0.16666666666666669 * c23
-	acc[24] += 0.16666666666666669 * (-j11 - c23)
-	acc[25] += 0.16666666666666669 * j11
-	acc[26] += 0.16666666666666669 * c23
+	acc[24] += 0.16666666666666666 * (-j11 - c23)
+	acc[25] += 0.16666666666666666 * j11
+	acc[26] += 0.16666666666666666 * c23
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:18]
+	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
 	acc[33] += 0.16666666666666669 * (-c24 - j00)
 	acc[34] += 0.16666666666666669 * c24
 	acc[35] += 0.16666666666666669 * j00
 	acc[42] += 0.16666666666666669 * (-c24 - j00)
 	acc[43] += 0.16666666666666669 * c24
 	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666669 * (-c24 - j00)
-	acc[52] += 0.16666666666666669 * c24
-	acc[53] += 0.16666666666666669 * j00
-	for q := 0; q < 4; q++ {
+	acc[51] += 0.16666666666666666 * (-c24 - j00)
+	acc[52] += 0.16666666666666666 * c24
+	acc[53] += 0.16666666666666666 * j00
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
+	acc[54] += 0.16666666666666669 * (-j11 - c23)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c23
+	acc[63] += 0.16666666666666669 * (-j11 - c23)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
+	acc[57] += 0.16666666666666669 * (-c24 - j00)
+	acc[58] += 0.16666666666666669 * c24
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c24 - j00)
+	acc[67] += 0.16666666666666669 * c24
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c24 - j00)
+	acc[76] += 0.16666666666666666 * c24
+	acc[77] += 0.16666666666666666 * j00
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGLSCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesGLSCellBasis1Val[q][1]
@@ -763,279 +751,248 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p13 := 2.0 * diameter * p10
 		p14 := 0.04 + p13
 		p15 := 1.0 / p14
-		coef57 := c17 * p15
-		p16 := p8 * coef57
+		coef54 := c17 * p15
+		p16 := p8 * coef54
 		coef3 := p16 + 0.01
-		coef7 := coef0 * coef57
-		coef5 := coef0 * coef1 * coef57
-		coef19 := coef1 * coef57
+		coef7 := coef0 * coef54
+		coef5 := coef0 * coef1 * coef54
+		coef18 := coef1 * coef54
 		coef17 := c17 * p12 * 0.25
-		p17 := p7 * coef57
+		p17 := p7 * coef54
 		coef15 := 0.01 + coef17 + p17
-		coef18 := c17 * p12 * 2.5e-08
-		coef29 := p16 + 0.01 + coef17
-		coef42 := 0.01 + p17
-		coef50 := 1.0 + coef18
-		p18 := c17 * p12 * 2.5e-15
-		coef52 := p18 + 1e-07
-		w := detJ * fwNavierStokesGLSCellWeights[q]
-		p19 := coef0 * w
-		p20 := p19 * c26
-		p21 := p19 * c25
-		p22 := p19 * k11
-		p23 := coef1 * w
-		p24 := p23 * c28
-		p25 := p20 + p24
-		p26 := p23 * k00
-		p27 := p26 - p21
-		p28 := p23 * c27
-		p29 := p22 - p28
-		p30 := coef3 * w
-		p31 := c26 * p30
-		p32 := c25 * p30
-		p33 := k11 * p30
-		p34 := coef5 * w
-		p35 := c28 * p34
-		p36 := p31 + p35
-		p37 := k00 * p34
-		p38 := p37 - p32
-		p39 := c27 * p34
-		p40 := p33 - p39
-		p41 := c26 * p34
-		p42 := c25 * p34
-		p43 := k11 * p34
-		p44 := coef15 * w
-		p45 := c28 * p44
-		p46 := p41 + p45
-		p47 := k00 * p44
-		p48 := p47 - p42
-		p49 := c27 * p44
-		p50 := p43 - p49
-		p51 := coef7 * w
-		p52 := c28 * p51
-		p53 := k00 * p51
-		p54 := c27 * p51
-		p55 := -p54
-		p56 := coef18 * w
-		p57 := fwNavierStokesGLSCellBasis1Val[q][0] * p56
-		p58 := fwNavierStokesGLSCellBasis1Val[q][1] * p56
-		p59 := fwNavierStokesGLSCellBasis1Val[q][2] * p56
-		p60 := coef19 * w
-		p61 := c28 * p60
-		p62 := p57 + p61
-		p63 := k00 * p60
-		p64 := p58 + p63
-		p65 := c27 * p60
-		p66 := p59 - p65
-		p67 := coef17 * w
-		p68 := c26 * p67
-		p69 := c25 * p67
-		p70 := -p69
-		p71 := k11 * p67
-		p72 := coef29 * w
-		p73 := c26 * p72
-		p74 := c25 * p72
-		p75 := k11 * p72
-		p76 := p35 + p73
-		p77 := p37 - p74
-		p78 := p75 - p39
-		p79 := coef42 * w
-		p80 := c28 * p79
-		p81 := p41 + p80
-		p82 := k00 * p79
-		p83 := p82 - p42
-		p84 := c27 * p79
-		p85 := p43 - p84
-		p86 := c26 * p51
-		p87 := p57 + p86
-		p88 := c25 * p51
-		p89 := p58 - p88
-		p90 := k11 * p51
-		p91 := p59 + p90
-		p92 := c26 * p60
-		p93 := c25 * p60
-		p94 := -p93
-		p95 := k11 * p60
-		p96 := c28 * p67
-		p97 := k00 * p67
-		p98 := c27 * p67
-		p99 := -p98
-		p100 := coef50 * w
-		p101 := c28 * p100
-		p102 := k00 * p100
-		p103 := c27 * p100
-		p104 := -p103
-		p105 := p61 + p86
-		p106 := p63 - p88
-		p107 := p90 - p65
-		p108 := c26 * p100
-		p109 := c25 * p100
-		p110 := -p109
-		p111 := k11 * p100
-		p112 := coef52 * w
-		p113 := fwNavierStokesGLSCellBasis1Val[q][0] * p112
-		p114 := fwNavierStokesGLSCellBasis1Val[q][1] * p112
-		p115 := fwNavierStokesGLSCellBasis1Val[q][2] * p112
-		p116 := coef57 * w
-		p117 := c26 * p116
-		p118 := c25 * p116
-		p119 := -p118
-		p120 := k11 * p116
-		p121 := c28 * p116
-		p122 := k00 * p116
-		p123 := c27 * p116
-		p124 := -p123
+		coef28 := p16 + 0.01 + coef17
+		coef40 := 0.01 + p17
+		p18 := coef0 * w
+		p19 := p18 * c26
+		p20 := p18 * c25
+		p21 := p18 * k11
+		p22 := coef1 * w
+		p23 := p22 * c28
+		p24 := p19 + p23
+		p25 := p22 * k00
+		p26 := p25 - p20
+		p27 := p22 * c27
+		p28 := p21 - p27
+		p29 := coef3 * w
+		p30 := c26 * p29
+		p31 := c25 * p29
+		p32 := k11 * p29
+		p33 := coef5 * w
+		p34 := c28 * p33
+		p35 := p30 + p34
+		p36 := k00 * p33
+		p37 := p36 - p31
+		p38 := c27 * p33
+		p39 := p32 - p38
+		p40 := c26 * p33
+		p41 := c25 * p33
+		p42 := k11 * p33
+		p43 := coef15 * w
+		p44 := c28 * p43
+		p45 := p40 + p44
+		p46 := k00 * p43
+		p47 := p46 - p41
+		p48 := c27 * p43
+		p49 := p42 - p48
+		p50 := coef7 * w
+		p51 := c28 * p50
+		p52 := k00 * p50
+		p53 := c27 * p50
+		p54 := -p53
+		p55 := coef18 * w
+		p56 := c28 * p55
+		p57 := k00 * p55
+		p58 := c27 * p55
+		p59 := -p58
+		p60 := coef17 * w
+		p61 := c26 * p60
+		p62 := c25 * p60
+		p63 := -p62
+		p64 := k11 * p60
+		p65 := coef28 * w
+		p66 := c26 * p65
+		p67 := c25 * p65
+		p68 := k11 * p65
+		p69 := p34 + p66
+		p70 := p36 - p67
+		p71 := p68 - p38
+		p72 := coef40 * w
+		p73 := c28 * p72
+		p74 := p40 + p73
+		p75 := k00 * p72
+		p76 := p75 - p41
+		p77 := c27 * p72
+		p78 := p42 - p77
+		p79 := c26 * p50
+		p80 := c25 * p50
+		p81 := -p80
+		p82 := k11 * p50
+		p83 := c26 * p55
+		p84 := c25 * p55
+		p85 := -p84
+		p86 := k11 * p55
+		p87 := c28 * p60
+		p88 := k00 * p60
+		p89 := c27 * p60
+		p90 := -p89
+		p91 := p56 + p79
+		p92 := p57 - p80
+		p93 := p82 - p58
+		p94 := coef54 * w
+		p95 := c26 * p94
+		p96 := c25 * p94
+		p97 := -p96
+		p98 := k11 * p94
+		p99 := c28 * p94
+		p100 := k00 * p94
+		p101 := c27 * p94
+		p102 := -p101
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p25 + c26*p36 + c28*p46
-		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p27 + c26*p38 + c28*p48
-		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p29 + c26*p40 + c28*p50
-		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p25 + k01*p36 + k00*p46
-		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p27 + k01*p38 + k00*p48
-		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p29 + k01*p40 + k00*p50
-		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p25 + k11*p36 + k10*p46
-		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p27 + k11*p38 + k10*p48
-		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p29 + k11*p40 + k10*p50
+		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
+		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
+		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
+		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
+		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
+		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
+		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
+		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
+		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[6] += c26*p52 + c28*p62
-		acc[7] += c26*p53 + c28*p64
-		acc[8] += c26*p55 + c28*p66
-		acc[15] += k01*p52 + k00*p62
-		acc[16] += k01*p53 + k00*p64
-		acc[17] += k01*p55 + k00*p66
-		acc[24] += k11*p52 + k10*p62
-		acc[25] += k11*p53 + k10*p64
-		acc[26] += k11*p55 + k10*p66
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[6] += c26*p51 + c28*p56
+		acc[7] += c26*p52 + c28*p57
+		acc[8] += c26*p54 + c28*p59
+		acc[15] += k01*p51 + k00*p56
+		acc[16] += k01*p52 + k00*p57
+		acc[17] += k01*p54 + k00*p59
+		acc[24] += k11*p51 + k10*p56
+		acc[25] += k11*p52 + k10*p57
+		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[3] += c28 * p68
-		acc[4] += c28 * p70
-		acc[5] += c28 * p71
-		acc[12] += k00 * p68
-		acc[13] += k00 * p70
-		acc[14] += k00 * p71
-		acc[21] += k10 * p68
-		acc[22] += k10 * p70
-		acc[23] += k10 * p71
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		acc[3] += c28 * p61
+		acc[4] += c28 * p63
+		acc[5] += c28 * p64
+		acc[12] += k00 * p61
+		acc[13] += k00 * p63
+		acc[14] += k00 * p64
+		acc[21] += k10 * p61
+		acc[22] += k10 * p63
+		acc[23] += k10 * p64
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p25 + c26*p76 + c28*p81
-		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p27 + c26*p77 + c28*p83
-		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p29 + c26*p78 + c28*p85
-		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p25 + k01*p76 + k00*p81
-		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p27 + k01*p77 + k00*p83
-		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p29 + k01*p78 + k00*p85
-		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p25 + k11*p76 + k10*p81
-		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p27 + k11*p77 + k10*p83
-		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p29 + k11*p78 + k10*p85
+		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
+		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
+		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
+		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
+		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
+		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
+		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
+		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
+		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[33] += c26*p87 + c28*p92
-		acc[34] += c26*p89 + c28*p94
-		acc[35] += c26*p91 + c28*p95
-		acc[42] += k01*p87 + k00*p92
-		acc[43] += k01*p89 + k00*p94
-		acc[44] += k01*p91 + k00*p95
-		acc[51] += k11*p87 + k10*p92
-		acc[52] += k11*p89 + k10*p94
-		acc[53] += k11*p91 + k10*p95
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[33] += c26*p79 + c28*p83
+		acc[34] += c26*p81 + c28*p85
+		acc[35] += c26*p82 + c28*p86
+		acc[42] += k01*p79 + k00*p83
+		acc[43] += k01*p81 + k00*p85
+		acc[44] += k01*p82 + k00*p86
+		acc[51] += k11*p79 + k10*p83
+		acc[52] += k11*p81 + k10*p85
+		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		acc[27] += c26 * p96
-		acc[28] += c26 * p97
-		acc[29] += c26 * p99
-		acc[36] += k01 * p96
-		acc[37] += k01 * p97
-		acc[38] += k01 * p99
-		acc[45] += k11 * p96
-		acc[46] += k11 * p97
-		acc[47] += k11 * p99
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		acc[27] += c26 * p87
+		acc[28] += c26 * p88
+		acc[29] += c26 * p90
+		acc[36] += k01 * p87
+		acc[37] += k01 * p88
+		acc[38] += k01 * p90
+		acc[45] += k11 * p87
+		acc[46] += k11 * p88
+		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
-		acc[54] += fwNavierStokesGLSCellBasis1Val[q][0]*p101 + c28*p105
-		acc[55] += fwNavierStokesGLSCellBasis1Val[q][0]*p102 + c28*p106
-		acc[56] += fwNavierStokesGLSCellBasis1Val[q][0]*p104 + c28*p107
-		acc[63] += fwNavierStokesGLSCellBasis1Val[q][1]*p101 + k00*p105
-		acc[64] += fwNavierStokesGLSCellBasis1Val[q][1]*p102 + k00*p106
-		acc[65] += fwNavierStokesGLSCellBasis1Val[q][1]*p104 + k00*p107
-		acc[72] += fwNavierStokesGLSCellBasis1Val[q][2]*p101 + k10*p105
-		acc[73] += fwNavierStokesGLSCellBasis1Val[q][2]*p102 + k10*p106
-		acc[74] += fwNavierStokesGLSCellBasis1Val[q][2]*p104 + k10*p107
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		acc[54] += c28 * p91
+		acc[55] += c28 * p92
+		acc[56] += c28 * p93
+		acc[63] += k00 * p91
+		acc[64] += k00 * p92
+		acc[65] += k00 * p93
+		acc[72] += k10 * p91
+		acc[73] += k10 * p92
+		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
-		acc[57] += fwNavierStokesGLSCellBasis1Val[q][0]*p108 + c26*p105
-		acc[58] += fwNavierStokesGLSCellBasis1Val[q][0]*p110 + c26*p106
-		acc[59] += fwNavierStokesGLSCellBasis1Val[q][0]*p111 + c26*p107
-		acc[66] += fwNavierStokesGLSCellBasis1Val[q][1]*p108 + k01*p105
-		acc[67] += fwNavierStokesGLSCellBasis1Val[q][1]*p110 + k01*p106
-		acc[68] += fwNavierStokesGLSCellBasis1Val[q][1]*p111 + k01*p107
-		acc[75] += fwNavierStokesGLSCellBasis1Val[q][2]*p108 + k11*p105
-		acc[76] += fwNavierStokesGLSCellBasis1Val[q][2]*p110 + k11*p106
-		acc[77] += fwNavierStokesGLSCellBasis1Val[q][2]*p111 + k11*p107
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		acc[57] += c26 * p91
+		acc[58] += c26 * p92
+		acc[59] += c26 * p93
+		acc[66] += k01 * p91
+		acc[67] += k01 * p92
+		acc[68] += k01 * p93
+		acc[75] += k11 * p91
+		acc[76] += k11 * p92
+		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/400000000000000 + 1/10000000) · p · test(p)   [navier_stokes.fw:18]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += fwNavierStokesGLSCellBasis1Val[q][0]*p113 + c26*p117 + c28*p121
-		acc[61] += fwNavierStokesGLSCellBasis1Val[q][0]*p114 + c26*p119 + c28*p122
-		acc[62] += fwNavierStokesGLSCellBasis1Val[q][0]*p115 + c26*p120 + c28*p124
-		acc[69] += fwNavierStokesGLSCellBasis1Val[q][1]*p113 + k01*p117 + k00*p121
-		acc[70] += fwNavierStokesGLSCellBasis1Val[q][1]*p114 + k01*p119 + k00*p122
-		acc[71] += fwNavierStokesGLSCellBasis1Val[q][1]*p115 + k01*p120 + k00*p124
-		acc[78] += fwNavierStokesGLSCellBasis1Val[q][2]*p113 + k11*p117 + k10*p121
-		acc[79] += fwNavierStokesGLSCellBasis1Val[q][2]*p114 + k11*p119 + k10*p122
-		acc[80] += fwNavierStokesGLSCellBasis1Val[q][2]*p115 + k11*p120 + k10*p124
+		acc[60] += c26*p95 + c28*p99
+		acc[61] += c26*p97 + c28*p100
+		acc[62] += c26*p98 + c28*p102
+		acc[69] += k01*p95 + k00*p99
+		acc[70] += k01*p97 + k00*p100
+		acc[71] += k01*p98 + k00*p102
+		acc[78] += k11*p95 + k10*p99
+		acc[79] += k11*p97 + k10*p100
+		acc[80] += k11*p98 + k10*p102
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -1053,7 +1010,7 @@ var fwNavierStokesVMSLayout = assemble.Layout{
 }
 
 // NavierStokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesVMSKernel struct{}
 
@@ -1063,7 +1020,7 @@ var _ assemble.Kernel = NavierStokesVMSKernel{}
 func (NavierStokesVMSKernel) Layout() assemble.Layout { return fwNavierStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesVMSKernel) Degree() int { return 3 }
+func (NavierStokesVMSKernel) Degree() int { return 2 }
 
 // Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -1108,44 +1065,69 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	rdetJ := 1.0 / detJ
 	k00 := j11 * rdetJ
-	c23 := j10 * rdetJ
-	k10 := -c23
-	c24 := c23 - k00
-	c25 := pv[3] * c24
-	c26 := pv[4] * k00
-	c27 := pv[5] * c23
-	c28 := c25 + c26 - c27
-	c29 := j01 * rdetJ
-	k01 := -c29
+	c23 := -j10
+	c24 := j10 * rdetJ
+	k10 := -c24
+	c25 := c24 - k00
+	c26 := pv[3] * c25
+	c27 := pv[4] * k00
+	c28 := pv[5] * c24
+	c29 := c26 + c27 - c28
+	c30 := -j01
+	c31 := j01 * rdetJ
+	k01 := -c31
 	k11 := j00 * rdetJ
-	c30 := c29 - k11
-	c31 := pv[3] * c30
-	c32 := pv[4] * c29
-	c33 := pv[5] * k11
-	c34 := c31 - c32 + c33
-	c35 := c30 * pv[6]
-	c36 := c29 * pv[7]
-	c37 := k11 * pv[8]
-	c38 := c35 - c36 + c37
-	c39 := pv[0] * c24
-	c40 := pv[1] * k00
-	c41 := pv[2] * c23
-	c42 := c39 + c40 - c41
-	c43 := c34 + c42
-	c44 := pv[0] * c30
-	c45 := pv[1] * c29
-	c46 := pv[2] * k11
-	c47 := c44 - c45 + c46
-	c48 := c24 * pv[6]
-	c49 := k00 * pv[7]
-	c50 := c23 * pv[8]
-	c51 := c48 + c49 - c50
+	c32 := c31 - k11
+	c33 := pv[3] * c32
+	c34 := pv[4] * c31
+	c35 := pv[5] * k11
+	c36 := c33 - c34 + c35
+	c37 := c32 * pv[6]
+	c38 := c31 * pv[7]
+	c39 := k11 * pv[8]
+	c40 := c37 - c38 + c39
+	c41 := pv[0] * c25
+	c42 := pv[1] * k00
+	c43 := pv[2] * c24
+	c44 := c41 + c42 - c43
+	c45 := c36 + c44
+	c46 := pv[0] * c32
+	c47 := pv[1] * c31
+	c48 := pv[2] * k11
+	c49 := c46 - c47 + c48
+	c50 := c25 * pv[6]
+	c51 := k00 * pv[7]
+	c52 := c24 * pv[8]
+	c53 := c50 + c51 - c52
+	w := detJ * 0.16666666666666666
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
-	for q := 0; q < 4; q++ {
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
+	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
+	acc[54] += 0.16666666666666669 * (-j11 - c23)
+	acc[55] += 0.16666666666666669 * j11
+	acc[56] += 0.16666666666666669 * c23
+	acc[63] += 0.16666666666666669 * (-j11 - c23)
+	acc[64] += 0.16666666666666669 * j11
+	acc[65] += 0.16666666666666669 * c23
+	acc[72] += 0.16666666666666666 * (-j11 - c23)
+	acc[73] += 0.16666666666666666 * j11
+	acc[74] += 0.16666666666666666 * c23
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
+	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
+	acc[57] += 0.16666666666666669 * (-c30 - j00)
+	acc[58] += 0.16666666666666669 * c30
+	acc[59] += 0.16666666666666669 * j00
+	acc[66] += 0.16666666666666669 * (-c30 - j00)
+	acc[67] += 0.16666666666666669 * c30
+	acc[68] += 0.16666666666666669 * j00
+	acc[75] += 0.16666666666666666 * (-c30 - j00)
+	acc[76] += 0.16666666666666666 * c30
+	acc[77] += 0.16666666666666666 * j00
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNavierStokesVMSCellBasis1Val[q][1]
@@ -1164,329 +1146,297 @@ func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 		p15 := 2.0 * diameter * p12
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
-		coef61 := c17 * p17
-		p18 := p4 * c28
-		p19 := p9 * c34
-		p20 := p18 + p19 + c38
-		p21 := coef61 * p20
-		p22 := p9 * coef61 * c43
+		coef58 := c17 * p17
+		p18 := p4 * c29
+		p19 := p9 * c36
+		p20 := p18 + p19 + c40
+		p21 := coef58 * p20
+		p22 := p9 * coef58 * c45
 		coef0 := p9 - p21 + p22
-		p23 := coef61 * c43
-		p24 := p4 * c42
-		p25 := p9 * c47
-		p26 := p24 + p25 + c51
-		p27 := coef61 * p26
-		p28 := p4 * coef61 * c43
+		p23 := coef58 * c45
+		p24 := p4 * c44
+		p25 := p9 * c49
+		p26 := p24 + p25 + c53
+		p27 := coef58 * p26
+		p28 := p4 * coef58 * c45
 		coef2 := p4 - p27 + p28
 		coef4 := 1.0 + p23
-		p29 := p10 * coef61
-		p30 := coef61 * coef61
+		p29 := p10 * coef58
+		p30 := coef58 * coef58
 		p31 := p9 * p20 * p30
 		coef5 := p29 - p31 + 0.01
 		p32 := p20 * p30
-		coef57 := p9 * coef61
+		coef54 := p9 * coef58
 		p33 := p4 * p20 * p30
-		p34 := p4 * p9 * coef61
+		p34 := p4 * p9 * coef58
 		coef7 := p34 - p33
-		coef9 := coef57 - p32
-		coef59 := p4 * coef61
+		coef9 := coef54 - p32
+		coef56 := p4 * coef58
 		p35 := p9 * p26 * p30
 		coef15 := p34 - p35
 		p36 := p26 * p30
 		coef19 := c17 * p14 * 0.25
-		p37 := p5 * coef61
+		p37 := p5 * coef58
 		p38 := p4 * p26 * p30
 		coef17 := 0.01 + coef19 + p37 - p38
-		coef20 := c17 * p14 * 2.5e-08
-		coef21 := coef59 - p36
-		coef33 := p29 - p31 + 0.01 + coef19
-		coef46 := 0.01 + p37 - p38
-		p39 := c17 * p14 * (-2.5e-08)
-		coef54 := 1.0 + p39
-		p40 := c17 * p14 * (-2.5e-15)
-		coef56 := p40 + 1e-07
-		w := detJ * fwNavierStokesVMSCellWeights[q]
-		p41 := coef0 * w
-		p42 := c30 * p41
-		p43 := c29 * p41
-		p44 := k11 * p41
-		p45 := coef2 * w
-		p46 := c24 * p45
-		p47 := p42 + p46
-		p48 := k00 * p45
-		p49 := p48 - p43
-		p50 := c23 * p45
-		p51 := p44 - p50
-		p52 := coef5 * w
-		p53 := c30 * p52
-		p54 := c29 * p52
-		p55 := k11 * p52
-		p56 := coef7 * w
-		p57 := c24 * p56
-		p58 := p53 + p57
-		p59 := k00 * p56
-		p60 := p59 - p54
-		p61 := c23 * p56
-		p62 := p55 - p61
-		p63 := coef15 * w
-		p64 := c30 * p63
-		p65 := c29 * p63
-		p66 := k11 * p63
-		p67 := coef17 * w
-		p68 := c24 * p67
-		p69 := p64 + p68
-		p70 := k00 * p67
-		p71 := p70 - p65
-		p72 := c23 * p67
-		p73 := p66 - p72
-		p74 := coef4 * w
-		p75 := c24 * p74
-		p76 := k00 * p74
-		p77 := c23 * p74
-		p78 := -p77
-		p79 := coef9 * w
-		p80 := c24 * p79
-		p81 := k00 * p79
-		p82 := c23 * p79
-		p83 := -p82
-		p84 := coef20 * w
-		p85 := fwNavierStokesVMSCellBasis1Val[q][0] * p84
-		p86 := fwNavierStokesVMSCellBasis1Val[q][1] * p84
-		p87 := fwNavierStokesVMSCellBasis1Val[q][2] * p84
-		p88 := coef21 * w
-		p89 := c24 * p88
-		p90 := p85 + p89
-		p91 := k00 * p88
-		p92 := p86 + p91
-		p93 := c23 * p88
-		p94 := p87 - p93
-		p95 := coef19 * w
-		p96 := c30 * p95
-		p97 := c29 * p95
-		p98 := -p97
-		p99 := k11 * p95
-		p100 := coef33 * w
-		p101 := c30 * p100
-		p102 := c29 * p100
-		p103 := k11 * p100
-		p104 := p57 + p101
-		p105 := p59 - p102
-		p106 := p103 - p61
-		p107 := coef46 * w
-		p108 := c24 * p107
-		p109 := p64 + p108
-		p110 := k00 * p107
-		p111 := p110 - p65
-		p112 := c23 * p107
-		p113 := p66 - p112
-		p114 := c30 * p74
-		p115 := c29 * p74
+		coef20 := coef56 - p36
+		coef32 := p29 - p31 + 0.01 + coef19
+		coef44 := 0.01 + p37 - p38
+		p39 := coef0 * w
+		p40 := c32 * p39
+		p41 := c31 * p39
+		p42 := k11 * p39
+		p43 := coef2 * w
+		p44 := c25 * p43
+		p45 := p40 + p44
+		p46 := k00 * p43
+		p47 := p46 - p41
+		p48 := c24 * p43
+		p49 := p42 - p48
+		p50 := coef5 * w
+		p51 := c32 * p50
+		p52 := c31 * p50
+		p53 := k11 * p50
+		p54 := coef7 * w
+		p55 := c25 * p54
+		p56 := p51 + p55
+		p57 := k00 * p54
+		p58 := p57 - p52
+		p59 := c24 * p54
+		p60 := p53 - p59
+		p61 := coef15 * w
+		p62 := c32 * p61
+		p63 := c31 * p61
+		p64 := k11 * p61
+		p65 := coef17 * w
+		p66 := c25 * p65
+		p67 := p62 + p66
+		p68 := k00 * p65
+		p69 := p68 - p63
+		p70 := c24 * p65
+		p71 := p64 - p70
+		p72 := coef4 * w
+		p73 := c25 * p72
+		p74 := k00 * p72
+		p75 := c24 * p72
+		p76 := -p75
+		p77 := coef9 * w
+		p78 := c25 * p77
+		p79 := k00 * p77
+		p80 := c24 * p77
+		p81 := -p80
+		p82 := coef20 * w
+		p83 := c25 * p82
+		p84 := k00 * p82
+		p85 := c24 * p82
+		p86 := -p85
+		p87 := coef19 * w
+		p88 := c32 * p87
+		p89 := c31 * p87
+		p90 := -p89
+		p91 := k11 * p87
+		p92 := coef32 * w
+		p93 := c32 * p92
+		p94 := c31 * p92
+		p95 := k11 * p92
+		p96 := p55 + p93
+		p97 := p57 - p94
+		p98 := p95 - p59
+		p99 := coef44 * w
+		p100 := c25 * p99
+		p101 := p62 + p100
+		p102 := k00 * p99
+		p103 := p102 - p63
+		p104 := c24 * p99
+		p105 := p64 - p104
+		p106 := c32 * p72
+		p107 := c31 * p72
+		p108 := -p107
+		p109 := k11 * p72
+		p110 := c32 * p77
+		p111 := c31 * p77
+		p112 := -p111
+		p113 := k11 * p77
+		p114 := c32 * p82
+		p115 := c31 * p82
 		p116 := -p115
-		p117 := k11 * p74
-		p118 := c30 * p79
-		p119 := p85 + p118
-		p120 := c29 * p79
-		p121 := p86 - p120
-		p122 := k11 * p79
-		p123 := p87 + p122
-		p124 := c30 * p88
-		p125 := c29 * p88
-		p126 := -p125
-		p127 := k11 * p88
-		p128 := c24 * p95
-		p129 := k00 * p95
-		p130 := c23 * p95
-		p131 := -p130
-		p132 := coef54 * w
-		p133 := c24 * p132
-		p134 := k00 * p132
-		p135 := c23 * p132
+		p117 := k11 * p82
+		p118 := c25 * p87
+		p119 := k00 * p87
+		p120 := c24 * p87
+		p121 := -p120
+		p122 := coef54 * w
+		p123 := c32 * p122
+		p124 := c31 * p122
+		p125 := k11 * p122
+		p126 := coef56 * w
+		p127 := c25 * p126
+		p128 := p123 + p127
+		p129 := k00 * p126
+		p130 := p129 - p124
+		p131 := c24 * p126
+		p132 := p125 - p131
+		p133 := coef58 * w
+		p134 := c32 * p133
+		p135 := c31 * p133
 		p136 := -p135
-		p137 := coef57 * w
-		p138 := c30 * p137
-		p139 := c29 * p137
-		p140 := k11 * p137
-		p141 := coef59 * w
-		p142 := c24 * p141
-		p143 := p138 + p142
-		p144 := k00 * p141
-		p145 := p144 - p139
-		p146 := c23 * p141
-		p147 := p140 - p146
-		p148 := c30 * p132
-		p149 := c29 * p132
-		p150 := -p149
-		p151 := k11 * p132
-		p152 := coef56 * w
-		p153 := fwNavierStokesVMSCellBasis1Val[q][0] * p152
-		p154 := fwNavierStokesVMSCellBasis1Val[q][1] * p152
-		p155 := fwNavierStokesVMSCellBasis1Val[q][2] * p152
-		p156 := coef61 * w
-		p157 := c30 * p156
-		p158 := c29 * p156
-		p159 := -p158
-		p160 := k11 * p156
-		p161 := c24 * p156
-		p162 := k00 * p156
-		p163 := c23 * p156
-		p164 := -p163
+		p137 := k11 * p133
+		p138 := c25 * p133
+		p139 := k00 * p133
+		p140 := c24 * p133
+		p141 := -p140
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c30*p58 + c24*p69
-		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c30*p60 + c24*p71
-		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p51 + c30*p62 + c24*p73
-		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p58 + k00*p69
-		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p60 + k00*p71
-		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p51 + k01*p62 + k00*p73
-		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p58 + k10*p69
-		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p60 + k10*p71
-		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p51 + k11*p62 + k10*p73
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p45 + c32*p56 + c25*p67
+		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c32*p58 + c25*p69
+		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c32*p60 + c25*p71
+		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p45 + k01*p56 + k00*p67
+		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p58 + k00*p69
+		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p60 + k00*p71
+		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p45 + k11*p56 + k10*p67
+		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p58 + k10*p69
+		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p60 + k10*p71
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:18]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:18]
-		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p75 + c30*p80 + c24*p90
-		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p76 + c30*p81 + c24*p92
-		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p78 + c30*p83 + c24*p94
-		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p75 + k01*p80 + k00*p90
-		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p76 + k01*p81 + k00*p92
-		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p78 + k01*p83 + k00*p94
-		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p90
-		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p76 + k11*p81 + k10*p92
-		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p78 + k11*p83 + k10*p94
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
+		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p74 + c32*p79 + c25*p84
+		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p76 + c32*p81 + c25*p86
+		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p73 + k01*p78 + k00*p83
+		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p74 + k01*p79 + k00*p84
+		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p76 + k01*p81 + k00*p86
+		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
+		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p74 + k11*p79 + k10*p84
+		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p76 + k11*p81 + k10*p86
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:18]
-		acc[3] += c24 * p96
-		acc[4] += c24 * p98
-		acc[5] += c24 * p99
-		acc[12] += k00 * p96
-		acc[13] += k00 * p98
-		acc[14] += k00 * p99
-		acc[21] += k10 * p96
-		acc[22] += k10 * p98
-		acc[23] += k10 * p99
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		acc[3] += c25 * p88
+		acc[4] += c25 * p90
+		acc[5] += c25 * p91
+		acc[12] += k00 * p88
+		acc[13] += k00 * p90
+		acc[14] += k00 * p91
+		acc[21] += k10 * p88
+		acc[22] += k10 * p90
+		acc[23] += k10 * p91
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c30*p104 + c24*p109
-		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c30*p105 + c24*p111
-		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p51 + c30*p106 + c24*p113
-		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p104 + k00*p109
-		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p105 + k00*p111
-		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p51 + k01*p106 + k00*p113
-		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p104 + k10*p109
-		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p105 + k10*p111
-		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p51 + k11*p106 + k10*p113
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p45 + c32*p96 + c25*p101
+		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c32*p97 + c25*p103
+		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c32*p98 + c25*p105
+		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p45 + k01*p96 + k00*p101
+		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p97 + k00*p103
+		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p98 + k00*p105
+		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p45 + k11*p96 + k10*p101
+		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p97 + k10*p103
+		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p98 + k10*p105
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:18]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000) · p · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:18]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:18]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:18]
-		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p114 + c30*p119 + c24*p124
-		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p116 + c30*p121 + c24*p126
-		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p117 + c30*p123 + c24*p127
-		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p114 + k01*p119 + k00*p124
-		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p116 + k01*p121 + k00*p126
-		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p117 + k01*p123 + k00*p127
-		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p114 + k11*p119 + k10*p124
-		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p116 + k11*p121 + k10*p126
-		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p117 + k11*p123 + k10*p127
+		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p106 + c32*p110 + c25*p114
+		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p108 + c32*p112 + c25*p116
+		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p109 + c32*p113 + c25*p117
+		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p106 + k01*p110 + k00*p114
+		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p108 + k01*p112 + k00*p116
+		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p109 + k01*p113 + k00*p117
+		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p106 + k11*p110 + k10*p114
+		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
+		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p109 + k11*p113 + k10*p117
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:18]
-		acc[27] += c30 * p128
-		acc[28] += c30 * p129
-		acc[29] += c30 * p131
-		acc[36] += k01 * p128
-		acc[37] += k01 * p129
-		acc[38] += k01 * p131
-		acc[45] += k11 * p128
-		acc[46] += k11 * p129
-		acc[47] += k11 * p131
+		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		acc[27] += c32 * p118
+		acc[28] += c32 * p119
+		acc[29] += c32 * p121
+		acc[36] += k01 * p118
+		acc[37] += k01 * p119
+		acc[38] += k01 * p121
+		acc[45] += k11 * p118
+		acc[46] += k11 * p119
+		acc[47] += k11 * p121
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:18]
-		acc[54] += fwNavierStokesVMSCellBasis1Val[q][0]*p133 + c24*p143
-		acc[55] += fwNavierStokesVMSCellBasis1Val[q][0]*p134 + c24*p145
-		acc[56] += fwNavierStokesVMSCellBasis1Val[q][0]*p136 + c24*p147
-		acc[63] += fwNavierStokesVMSCellBasis1Val[q][1]*p133 + k00*p143
-		acc[64] += fwNavierStokesVMSCellBasis1Val[q][1]*p134 + k00*p145
-		acc[65] += fwNavierStokesVMSCellBasis1Val[q][1]*p136 + k00*p147
-		acc[72] += fwNavierStokesVMSCellBasis1Val[q][2]*p133 + k10*p143
-		acc[73] += fwNavierStokesVMSCellBasis1Val[q][2]*p134 + k10*p145
-		acc[74] += fwNavierStokesVMSCellBasis1Val[q][2]*p136 + k10*p147
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		acc[54] += c25 * p128
+		acc[55] += c25 * p130
+		acc[56] += c25 * p132
+		acc[63] += k00 * p128
+		acc[64] += k00 * p130
+		acc[65] += k00 * p132
+		acc[72] += k10 * p128
+		acc[73] += k10 * p130
+		acc[74] += k10 * p132
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/40000000 + 1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:18]
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:18]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:18]
-		acc[57] += fwNavierStokesVMSCellBasis1Val[q][0]*p148 + c30*p143
-		acc[58] += fwNavierStokesVMSCellBasis1Val[q][0]*p150 + c30*p145
-		acc[59] += fwNavierStokesVMSCellBasis1Val[q][0]*p151 + c30*p147
-		acc[66] += fwNavierStokesVMSCellBasis1Val[q][1]*p148 + k01*p143
-		acc[67] += fwNavierStokesVMSCellBasis1Val[q][1]*p150 + k01*p145
-		acc[68] += fwNavierStokesVMSCellBasis1Val[q][1]*p151 + k01*p147
-		acc[75] += fwNavierStokesVMSCellBasis1Val[q][2]*p148 + k11*p143
-		acc[76] += fwNavierStokesVMSCellBasis1Val[q][2]*p150 + k11*p145
-		acc[77] += fwNavierStokesVMSCellBasis1Val[q][2]*p151 + k11*p147
+		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		acc[57] += c32 * p128
+		acc[58] += c32 * p130
+		acc[59] += c32 * p132
+		acc[66] += k01 * p128
+		acc[67] += k01 * p130
+		acc[68] += k01 * p132
+		acc[75] += k11 * p128
+		acc[76] += k11 * p130
+		acc[77] += k11 * p132
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (−cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/400000000000000 + 1/10000000) · p · test(p)   [navier_stokes.fw:18]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
 		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += fwNavierStokesVMSCellBasis1Val[q][0]*p153 + c30*p157 + c24*p161
-		acc[61] += fwNavierStokesVMSCellBasis1Val[q][0]*p154 + c30*p159 + c24*p162
-		acc[62] += fwNavierStokesVMSCellBasis1Val[q][0]*p155 + c30*p160 + c24*p164
-		acc[69] += fwNavierStokesVMSCellBasis1Val[q][1]*p153 + k01*p157 + k00*p161
-		acc[70] += fwNavierStokesVMSCellBasis1Val[q][1]*p154 + k01*p159 + k00*p162
-		acc[71] += fwNavierStokesVMSCellBasis1Val[q][1]*p155 + k01*p160 + k00*p164
-		acc[78] += fwNavierStokesVMSCellBasis1Val[q][2]*p153 + k11*p157 + k10*p161
-		acc[79] += fwNavierStokesVMSCellBasis1Val[q][2]*p154 + k11*p159 + k10*p162
-		acc[80] += fwNavierStokesVMSCellBasis1Val[q][2]*p155 + k11*p160 + k10*p164
+		acc[60] += c32*p134 + c25*p138
+		acc[61] += c32*p136 + c25*p139
+		acc[62] += c32*p137 + c25*p141
+		acc[69] += k01*p134 + k00*p138
+		acc[70] += k01*p136 + k00*p139
+		acc[71] += k01*p137 + k00*p141
+		acc[78] += k11*p134 + k10*p138
+		acc[79] += k11*p136 + k10*p139
+		acc[80] += k11*p137 + k10*p141
 	}
 	copy(A, acc[:])
 	clear(b)
@@ -1506,32 +1456,24 @@ func fwNavierStokesFillNaN(A, b []float64) {
 // Tabulated reference data: basis values, gradients and second
 // derivatives at the quadrature points, and quadrature weights.
 var (
-	fwNavierStokesGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesGalerkinCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
+		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
+		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
 	}
-	fwNavierStokesGalerkinCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwNavierStokesSUPGCellBasis1Val   = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesSUPGCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
+		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
+		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
 	}
-	fwNavierStokesSUPGCellWeights  = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwNavierStokesGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesGLSCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
+		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
+		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
 	}
-	fwNavierStokesGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwNavierStokesVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesVMSCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
+		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
+		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
 	}
-	fwNavierStokesVMSCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
 )

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("f1ab498537952dd57e62aa2a4d1acbee", compiled.Kernels{
+	compiled.Register("e775ef33abea62d0eebe4d7018e09950", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return StokesGalerkinKernel{} },
 	})
-	compiled.Register("c676c3a60332e7c4e1824d95ba4fa3ec", compiled.Kernels{
+	compiled.Register("aed522f0c233f728da480f401899ea69", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return StokesSUPGKernel{} },
 	})
-	compiled.Register("fb2c2fd82df29a8794c9cac505f6ce8c", compiled.Kernels{
+	compiled.Register("fe9cf6e75a81fba500c5fdad6d660984", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return StokesGLSKernel{} },
 	})
-	compiled.Register("141f9030299120fa5b304b283cc24fc6", compiled.Kernels{
+	compiled.Register("d012f3ab11e203fd15c7dff4e06215c7", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("39cdf968ab82470fe3e8b5d073e7a48e", compiled.Kernels{
+	compiled.Register("a3560d3703a6f08efeb6e43f4cf5557c", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return GalerkinKernel{} },
 	})
-	compiled.Register("402a3011af22eb6562d8f8561eedb3f3", compiled.Kernels{
+	compiled.Register("bcbb3285c5a3d1b4888c0d41bf9b7bd7", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return SUPGKernel{} },
 	})
-	compiled.Register("ece168385af94d73ab6d13e01ed15378", compiled.Kernels{
+	compiled.Register("ec8fb60014d1d65065a1f51adfcbf0a0", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() assemble.Kernel { return GLSKernel{} },
 	})
-	compiled.Register("00fd80372097586cbb9eb32f24058dba", compiled.Kernels{
+	compiled.Register("0f5e07fc8b9f341d2147b8d3294f257e", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
