@@ -253,11 +253,11 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm, skipped []st
 			u := m.Unknowns[fs.Unknown].Name
 			add(Assumption, "residual-based VMS turbulence modelling (Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197): the convecting velocity previous(%[1]s) becomes previous(%[1]s) + %[1]s′, with the fine-scale velocity %[1]s′ = −τ R_%[1]s at the previous iterate (Picard). The Galerkin convection gains the cross-stress term (v, (∇%[1]s) %[1]s′) and L* the term −(∇v) %[1]s′, which with τR = −u′ is the Reynolds stress −(∇v, u′ ⊗ %[1]s′); both vanish with the residual, so the form stays consistent", u)
 		}
-		if len(f.Fine) == 0 {
+		if len(f.Fine) == 0 && len(skipped) == 0 {
 			add(Warning, "the convecting velocity is the previous iterate (Picard linearisation), but no vector unknown with a τ is convected, so the fine-scale velocity does not advect: no cross- or Reynolds-stress terms (Bazilevs et al. 2007)")
 		}
 		for _, s := range skipped {
-			add(Warning, "%s reads the lagged velocity but is left as written in the VMS form: the fine-scale velocity enters only first-order terms linear in it, without its derivatives", s)
+			add(Warning, "%s", s)
 		}
 	}
 	hasDiff, diffVaries := false, false

@@ -26,7 +26,10 @@ type FineScale struct {
 // with τR = −u′ is the Reynolds-stress term −(∇v, u′ ⊗ U′) of the
 // conservation form. Only terms of U's own equation that are first order,
 // linear in previous(U) and do not differentiate it are rewritten (the
-// convection (∇u) previous(u)); others are reported in skipped.
+// convection (∇u) previous(u)); others are reported in skipped, as
+// warnings for the derivation. A transient model gets no fine-scale
+// advection: its U′ would need ∂ₜU at the previous iterate, which the
+// time stepping does not provide.
 //
 // It returns the fine-scale velocities and, per equation (m.Equations
 // order), δL: the rewritten terms, nil where there are none.
@@ -35,6 +38,13 @@ func fineScaleAdvection(m *Model) (fs []*FineScale, delta []ir.Expr, skipped []s
 	for k, eq := range m.Equations {
 		U := m.Unknowns[eq.For]
 		if U.Rank != 1 || m.TauSym[U.Index] == nil {
+			continue
+		}
+		if !readsPrevious(eq.Written, U.Index) {
+			continue
+		}
+		if ir.Contains(eq.Written, func(e ir.Expr) bool { _, ok := e.(*ir.TimeDeriv); return ok }) {
+			skipped = append(skipped, fmt.Sprintf("the equation for %[1]s is transient, so its fine-scale velocity %[1]s′ = −τ R_%[1]s would need ∂ₜ%[1]s at the previous iterate, which the time stepping does not provide: the VMS form has no cross- or Reynolds-stress terms (Bazilevs et al. 2007), only −(τR, L*v)", U.Name))
 			continue
 		}
 		var fine *FineScale
@@ -55,7 +65,7 @@ func fineScaleAdvection(m *Model) (fs []*FineScale, delta []ir.Expr, skipped []s
 				why = fmt.Sprintf("it is not linear in previous(%s)", U.Name)
 			}
 			if why != "" {
-				skipped = append(skipped, fmt.Sprintf("%s (%s)", renderShort(t), why))
+				skipped = append(skipped, fmt.Sprintf("%s (%s) reads the lagged velocity but is left as written in the VMS form: the fine-scale velocity enters only first-order terms linear in it, without its derivatives", renderShort(t), why))
 				continue
 			}
 			if fine == nil {

@@ -212,6 +212,11 @@ type system struct {
 	b        []float64
 	needPrev bool
 	means    []meanFix
+	// mass, if not nil, is the old time level of a Picard-iterated time
+	// step (splitBackwardEuler): each iteration assembles the mass form
+	// with the current iterate and adds M(u_prev) uⁿ to the right-hand
+	// side, uⁿ = mass.old.
+	mass *oldLevel
 	setup    Summary // mesh, dofs, kernel path and the set-up phases
 	// prepared is the linear solver of the last solve and its options;
 	// prepares counts how often one was built.
@@ -366,8 +371,18 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	var tAsm, tSolve time.Duration
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
-		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}); err != nil {
+		in := assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}
+		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, in); err != nil {
 			return nil, err
+		}
+		if l := s.mass; l != nil {
+			if err := s.asm.Assemble(l.k, nil, l.M, l.b, in); err != nil {
+				return nil, err
+			}
+			l.M.MulVec(l.b, l.old)
+			for i, v := range l.b {
+				b[i] += v
+			}
 		}
 		Asys = A.Clone()
 		bsys = append(bsys[:0], b...)

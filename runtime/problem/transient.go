@@ -6,7 +6,11 @@ import (
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/dof"
+	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/sparse"
 )
 
 // IsTransient reports whether a form has time derivatives of the unknown.
@@ -31,10 +35,10 @@ func IsTransient(form *ir.LoweredForm) bool {
 // kernels, serves every step size. The method is first order in time and
 // unconditionally stable for the heat equation (e.g. Hughes, The Finite
 // Element Method, 1987, §8.2). Forms that already read a previous iterate
-// (Picard) cannot be stepped this way.
+// (Picard) are stepped by SolveTransient with splitBackwardEuler instead.
 func BackwardEuler(form *ir.LoweredForm) (*ir.LoweredForm, error) {
 	if formReadsPrevious(form) {
-		return nil, fmt.Errorf("problem: time stepping of a form that is also Picard-iterated (previous(...)) is not supported")
+		return nil, fmt.Errorf("problem: the form is also Picard-iterated (previous(...)), so its time step has no single stepped form: SolveTransient steps it with a separate mass form on the interpreted kernels, and no kernels are generated for it")
 	}
 	out := *form
 	out.Integrals = nil
@@ -94,6 +98,9 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	if !(opts.Step > 0) || math.IsInf(opts.Step, 0) {
 		return nil, fmt.Errorf("problem: time step %g must be positive and finite", opts.Step)
 	}
+	if formReadsPrevious(form) {
+		return solveTransientPicard(form, m, opts)
+	}
 	step, err := BackwardEuler(form)
 	if err != nil {
 		return nil, err
@@ -102,21 +109,7 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	if err != nil {
 		return nil, err
 	}
-	x := make([]float64, dm.NumDofs)
-	for k, f := range dm.Fields {
-		if k >= len(opts.Initial) || opts.Initial[k] == nil {
-			continue
-		}
-		coords := dm.NodeCoords(k)
-		u := make([]float64, f.Components)
-		g := make([]float64, f.Components*dm.Dim)
-		for n := 0; n < f.NumNodes; n++ {
-			opts.Initial[k](coords[n*dm.Dim:(n+1)*dm.Dim], opts.Start, u, g)
-			for c := 0; c < f.Components; c++ {
-				x[dm.Global(k, c, n)] = u[c]
-			}
-		}
-	}
+	x := initialValues(dm, opts)
 	so := opts.Options
 	so.PreviousFixed = true
 	so.Step = opts.Step
@@ -140,4 +133,114 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 		}
 	}
 	return sol, nil
+}
+
+// splitBackwardEuler rewrites a form whose coefficients read the previous
+// Picard iterate into one backward Euler step without touching that role:
+// the step form, where every c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv and
+// the linear form is unchanged, and the mass form M of the same
+// time-derivative terms, c D^αu/Δt · D^βv alone. The old time level enters
+// as the right-hand side M uⁿ, so previous(·) keeps meaning the Picard
+// iterate within the step; where c reads the iterate (τ and the SUPG test
+// function of a stabilised flow), M is assembled again at every iteration.
+// Time-derivative terms must be in cell integrals.
+func splitBackwardEuler(form *ir.LoweredForm) (step, mass *ir.LoweredForm, err error) {
+	s, mf := *form, *form
+	s.Integrals, mf.Integrals, mf.Dirichlet, mf.Means = nil, nil, nil, nil
+	var massTerms []ir.Term
+	for _, in := range form.Integrals {
+		n := ir.Integral{Domain: in.Domain, Linear: in.Linear}
+		for _, t := range in.Bilinear {
+			if t.Trial.DT == 0 {
+				n.Bilinear = append(n.Bilinear, t)
+				continue
+			}
+			switch {
+			case t.Trial.DT > 1:
+				return nil, nil, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
+			case in.Domain.Side != "":
+				return nil, nil, fmt.Errorf("problem: a time derivative in a boundary integral (side %q) cannot be stepped", in.Domain.Side)
+			}
+			p := t.Coef.Pos()
+			invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
+			trial := *t.Trial
+			trial.DT = 0
+			st := ir.Term{Coef: ir.Prod(p, invStep, t.Coef), Trial: &trial, Test: t.Test}
+			n.Bilinear = append(n.Bilinear, st)
+			massTerms = append(massTerms, st)
+		}
+		s.Integrals = append(s.Integrals, n)
+	}
+	mf.Integrals = []ir.Integral{{Bilinear: massTerms}}
+	return &s, &mf, nil
+}
+
+// solveTransientPicard is SolveTransient for a form that is also
+// Picard-iterated (a convecting velocity lagged by previous(·), as in
+// transient Navier–Stokes): each backward Euler step is a Picard
+// iteration that starts from the old time level uⁿ, with the right-hand
+// side F + M uⁿ/Δt (splitBackwardEuler).
+func solveTransientPicard(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
+	step, mass, err := splitBackwardEuler(form)
+	if err != nil {
+		return nil, err
+	}
+	so := opts.Options
+	so.Step = opts.Step
+	so.PreviousFixed = false
+	sys, err := newSystem(step, m, so)
+	if err != nil {
+		return nil, err
+	}
+	mk, err := interp.NewKernel(mass, m.Cell, interp.Options{Degree: opts.Degree})
+	if err != nil {
+		return nil, err
+	}
+	x := initialValues(sys.dm, opts)
+	sys.mass = &oldLevel{k: mk, M: sys.asm.NewMatrix(), b: make([]float64, sys.dm.NumDofs)}
+	var sol *Solution
+	for n := 1; n <= opts.Steps; n++ {
+		so.Time = opts.Start + float64(n)*opts.Step
+		sys.mass.old = x
+		so.Initial = x
+		sol, err = sys.solve(so)
+		if err != nil {
+			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
+		}
+		x = sol.X
+		if opts.Observe != nil {
+			opts.Observe(n, so.Time, sol)
+		}
+	}
+	return sol, nil
+}
+
+// initialValues evaluates opts.Initial at the nodes of each field (zero
+// where there is none).
+func initialValues(dm *dof.Map, opts TransientOptions) []float64 {
+	x := make([]float64, dm.NumDofs)
+	for k, f := range dm.Fields {
+		if k >= len(opts.Initial) || opts.Initial[k] == nil {
+			continue
+		}
+		coords := dm.NodeCoords(k)
+		u := make([]float64, f.Components)
+		g := make([]float64, f.Components*dm.Dim)
+		for n := 0; n < f.NumNodes; n++ {
+			opts.Initial[k](coords[n*dm.Dim:(n+1)*dm.Dim], opts.Start, u, g)
+			for c := 0; c < f.Components; c++ {
+				x[dm.Global(k, c, n)] = u[c]
+			}
+		}
+	}
+	return x
+}
+
+// oldLevel is the old time level of a Picard-iterated backward Euler step:
+// the mass kernel, its matrix and a right-hand-side buffer, and uⁿ.
+type oldLevel struct {
+	k   assemble.Kernel
+	M   *sparse.CSR
+	b   []float64
+	old []float64
 }
