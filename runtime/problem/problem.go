@@ -216,8 +216,8 @@ type system struct {
 	// step (splitBackwardEuler): each iteration assembles the mass form
 	// with the current iterate and adds M(u_prev) uⁿ to the right-hand
 	// side, uⁿ = mass.old.
-	mass *oldLevel
-	setup    Summary // mesh, dofs, kernel path and the set-up phases
+	mass  *oldLevel
+	setup Summary // mesh, dofs, kernel path and the set-up phases
 	// prepared is the linear solver of the last solve and its options;
 	// prepares counts how often one was built.
 	prepared     *linsolve.Prepared
