@@ -37,6 +37,11 @@ func newMeanFixes(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]meanFix, e
 		if f.Components != 1 {
 			return nil, fmt.Errorf("problem: mean condition on %s, which has %d components", f.Name, f.Components)
 		}
+		for _, d := range form.Dirichlet {
+			if d.Unknown == mc.Unknown {
+				return nil, fmt.Errorf("problem: %s has both a value condition (on %q) and a mean condition", f.Name, d.Side)
+			}
+		}
 		target := ir.Eval(mc.Value, constEnv{})
 		if math.IsNaN(target) || math.IsInf(target, 0) {
 			return nil, fmt.Errorf("problem: the mean of %s is not a finite constant", f.Name)
