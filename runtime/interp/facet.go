@@ -63,8 +63,8 @@ func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetK
 		fk := &FacetKernel{side: side, it: it}
 		for f := 0; f < c.NumFacets(); f++ {
 			fd := makeFacet(c, f, deg)
-			for _, e := range it.elems {
-				fd.tabs = append(fd.tabs, e.TabulateWith(lay.Geometry, fd.rule))
+			for ei, e := range it.elems {
+				fd.tabs = append(fd.tabs, it.table(ei, e, lay.Geometry, fd.rule))
 			}
 			fk.facets = append(fk.facets, fd)
 		}

@@ -614,6 +614,20 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assembl
 	return w, true
 }
 
+// table tabulates element ei of the integrand on rule, telling Map to skip
+// the physical Hessians when no term or previous-iterate value needs a
+// second derivative of that element's basis.
+func (it *integrand) table(ei int, e, geom *element.Element, rule quadrature.Rule) *element.Table {
+	t := e.TabulateWith(geom, rule)
+	t.NoHessians = true
+	for _, v := range it.vecs {
+		if v.elem == ei && int(v.D[0])+int(v.D[1])+int(v.D[2]) == 2 {
+			t.NoHessians = false
+		}
+	}
+	return t
+}
+
 // axisOf returns the axis of the (which+1)-th unit in the multi-index D
 // (D of order 1 or 2).
 func axisOf(D [3]uint8, which int) int {
@@ -721,8 +735,8 @@ func NewKernel(form *ir.LoweredForm, c cell.Type, opts Options) (*Kernel, error)
 		return nil, err
 	}
 	k := &Kernel{it: it, rule: quadrature.For(c, deg)}
-	for _, e := range it.elems {
-		k.tabs = append(k.tabs, e.TabulateWith(lay.Geometry, k.rule))
+	for ei, e := range it.elems {
+		k.tabs = append(k.tabs, it.table(ei, e, lay.Geometry, k.rule))
 	}
 	k.s = it.newScratch(k.tabs)
 	return k, nil
