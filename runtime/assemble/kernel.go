@@ -1,7 +1,6 @@
 package assemble
 
 import (
-	"fmt"
 	"math"
 
 	"github.com/formwright/formwright/runtime/cell"
@@ -88,22 +87,7 @@ type Forker interface {
 // diagonal. It is the value of the cell quantity cell_diameter for both
 // the interpreted and the generated kernels. No allocation.
 func CellDiameter(c cell.Type, vertexCoords []float64) float64 {
-	d, nv := c.Dim(), c.NumVertices()
-	if len(vertexCoords) < d*nv {
-		panic(fmt.Sprintf("assemble: %d vertex coordinates for a %v", len(vertexCoords), c))
-	}
-	h2 := 0.0
-	for a := 0; a < nv; a++ {
-		for b := a + 1; b < nv; b++ {
-			s := 0.0
-			for k := 0; k < d; k++ {
-				t := vertexCoords[a*d+k] - vertexCoords[b*d+k]
-				s += t * t
-			}
-			h2 = math.Max(h2, s)
-		}
-	}
-	return math.Sqrt(h2)
+	return element.Diameter(c, vertexCoords)
 }
 
 // CellVolume is the length, area or volume of a cell under its P1/Q1 map

@@ -6,7 +6,6 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
-	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/quadrature"
 )
 
@@ -101,25 +100,6 @@ func InverseEstimate(e *Element) (float64, error) {
 	if mu < 1e-12 {
 		mu = 0 // Δv = 0 on the reference cell, up to round-off
 	}
-	h := referenceDiameter(c)
+	h := Diameter(c, c.Vertices())
 	return h * h * mu, nil
-}
-
-// referenceDiameter is the largest distance between two vertices of the
-// reference cell.
-func referenceDiameter(c cell.Type) float64 {
-	v, d := c.Vertices(), c.Dim()
-	nv := len(v) / d
-	best := 0.0
-	for i := 0; i < nv; i++ {
-		for j := i + 1; j < nv; j++ {
-			s := 0.0
-			for k := 0; k < d; k++ {
-				t := v[i*d+k] - v[j*d+k]
-				s += t * t
-			}
-			best = max(best, s)
-		}
-	}
-	return math.Sqrt(best)
 }

@@ -263,3 +263,25 @@ func MetricLength(c cell.Type, v, dir []float64) float64 {
 	}
 	return lref * an / math.Sqrt(s)
 }
+
+// Diameter is the largest distance between two vertices of a cell of
+// straight edges (v: NumVertices*Dim): on simplices the longest edge, on
+// quadrilaterals and hexahedra a diagonal. No allocation.
+func Diameter(c cell.Type, v []float64) float64 {
+	d, nv := c.Dim(), c.NumVertices()
+	if len(v) < d*nv {
+		panic(fmt.Sprintf("element: %d vertex coordinates for a %v", len(v), c))
+	}
+	h2 := 0.0
+	for a := 0; a < nv; a++ {
+		for b := a + 1; b < nv; b++ {
+			s := 0.0
+			for k := 0; k < d; k++ {
+				t := v[a*d+k] - v[b*d+k]
+				s += t * t
+			}
+			h2 = math.Max(h2, s)
+		}
+	}
+	return math.Sqrt(h2)
+}

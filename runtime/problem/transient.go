@@ -119,20 +119,7 @@ func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (
 	if err != nil {
 		return nil, err
 	}
-	var sol *Solution
-	for n := 1; n <= opts.Steps; n++ {
-		so.Time = opts.Start + float64(n)*opts.Step
-		so.Initial = x
-		sol, err = sys.solve(so)
-		if err != nil {
-			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
-		}
-		x = sol.X
-		if opts.Observe != nil {
-			opts.Observe(n, so.Time, sol)
-		}
-	}
-	return sol, nil
+	return sys.march(so, x, opts)
 }
 
 // splitBackwardEuler rewrites a form whose coefficients read the previous
@@ -198,13 +185,23 @@ func solveTransientPicard(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOpti
 	}
 	x := initialValues(sys.dm, opts)
 	sys.mass = &oldLevel{k: mk, M: sys.asm.NewMatrix(), b: make([]float64, sys.dm.NumDofs)}
+	return sys.march(so, x, opts)
+}
+
+// march takes opts.Steps backward Euler steps from x, the values at
+// opts.Start: each step is one solve of the system at the new time, with
+// the old level as the previous field (PreviousFixed) or as the mass
+// right-hand side (a Picard-iterated step, which also starts from it).
+func (s *system) march(so Options, x []float64, opts TransientOptions) (*Solution, error) {
 	var sol *Solution
+	var err error
 	for n := 1; n <= opts.Steps; n++ {
 		so.Time = opts.Start + float64(n)*opts.Step
-		sys.mass.old = x
+		if s.mass != nil {
+			s.mass.old = x
+		}
 		so.Initial = x
-		sol, err = sys.solve(so)
-		if err != nil {
+		if sol, err = s.solve(so); err != nil {
 			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
 		}
 		x = sol.X
