@@ -36,6 +36,7 @@ type solveFlags struct {
 	dt      *float64
 	steps   *int
 	until   *float64
+	relax   *float64
 }
 
 func addSolveFlags(fs *flag.FlagSet) *solveFlags {
@@ -53,6 +54,7 @@ func addSolveFlags(fs *flag.FlagSet) *solveFlags {
 		dt:      fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)"),
 		steps:   fs.Int("steps", 0, "number of time steps of a transient model"),
 		until:   fs.Float64("until", 0, "end time of a transient model (instead of --steps)"),
+		relax:   fs.Float64("relax", 0, "Picard under-relaxation ω in (0, 1): the next iterate is u_prev + ω(u − u_prev) (default: none)"),
 	}
 }
 
@@ -262,6 +264,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return &usageError{"solve takes one model"}
 	}
+	if r := *sf.relax; !(r >= 0 && r <= 1) {
+		return &usageError{fmt.Sprintf("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)}
+	}
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
 			return &usageError{fmt.Sprintf("--out: unknown file type %q (use .vtu or .csv)", ext)}
@@ -320,7 +325,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		start := time.Now()
-		opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so}
+		opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so, PicardRelax: *sf.relax}
 		var sol *problem.Solution
 		path := "interpreted"
 		if problem.IsTransient(lf) {

@@ -151,8 +151,27 @@ func TestPicardQuasilinear(t *testing.T) {
 	if r := math.Log2(l2[0] / l2[1]); math.Abs(r-2) > 0.1 {
 		t.Errorf("Picard P1 L2 order %.3f, want 2", r)
 	}
+	// Under-relaxation (ω = 1/2) reaches the same fixed point, in more
+	// steps on this problem, whose plain iteration already contracts.
+	msh := mesh.Interval(0, 1, 16, 1)
+	plain, err := Solve(form, msh, Options{PicardTol: 1e-11})
+	if err != nil {
+		t.Fatal(err)
+	}
+	relaxed, err := Solve(form, msh, Options{PicardTol: 1e-11, PicardRelax: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range plain.X {
+		if math.Abs(plain.X[i]-relaxed.X[i]) > 1e-9 {
+			t.Fatalf("relaxed Picard differs at dof %d: %.12g vs %.12g", i, relaxed.X[i], plain.X[i])
+		}
+	}
+	if relaxed.Summary.Picard <= plain.Summary.Picard {
+		t.Errorf("relaxed Picard took %d steps, plain %d: the relaxation was not applied", relaxed.Summary.Picard, plain.Summary.Picard)
+	}
 	// A budget of one step cannot settle: typed error.
-	_, err := Solve(form, mesh.Interval(0, 1, 8, 1), Options{MaxPicard: 1})
+	_, err = Solve(form, mesh.Interval(0, 1, 8, 1), Options{MaxPicard: 1})
 	if _, ok := err.(*PicardError); !ok {
 		t.Errorf("one Picard step: error %v, want *PicardError", err)
 	}

@@ -50,7 +50,12 @@ type Options struct {
 	// previous iterate (nil: zero with the Dirichlet values).
 	MaxPicard int
 	PicardTol float64
-	Initial   []float64
+	// PicardRelax ω in (0, 1) under-relaxes the iteration: the next
+	// previous iterate is u_prev + ω (u − u_prev) (0 or 1: none). It helps
+	// iterations that oscillate, such as a discontinuity-capturing
+	// diffusivity lagged by one iterate.
+	PicardRelax float64
+	Initial     []float64
 	// PreviousFixed holds the previous field at Initial for a single solve
 	// instead of iterating: the previous time level of a time step (see
 	// SolveTransient).
@@ -417,6 +422,12 @@ func (s *system) solve(opts Options) (*Solution, error) {
 			xn += x[i] * x[i]
 		}
 		change := math.Sqrt(dn) / math.Max(math.Sqrt(xn), math.SmallestNonzeroFloat64)
+		if w := opts.PicardRelax; w > 0 && w < 1 {
+			// Under-relaxation: the next iterate is prev + ω (x − prev).
+			for i := range x {
+				x[i] = prev[i] + w*(x[i]-prev[i])
+			}
+		}
 		copy(prev, x)
 		if change <= tol {
 			break
