@@ -13,13 +13,18 @@ import (
 // heatForm lowers u_t − k Δu = 0 on the unit square with u = 0 on the
 // boundary, through the compiler.
 func heatForm(t *testing.T) (*compiler.Model, *compiler.Derivation) {
+	return heatFormWith(t, "1", "0")
+}
+
+// heatFormWith is heatForm with diffusivity k and source f (expressions).
+func heatFormWith(t *testing.T, k, source string) (*compiler.Model, *compiler.Derivation) {
 	t.Helper()
 	src := `model heat_mode
 dimension 2
 unknown u: scalar P1
-given k = 1
+given k = ` + k + `
 given initial_u = sin(pi*x)*sin(pi*y)
-equation for u: dt(u) - k*lap(u) = 0
+equation for u: dt(u) - k*lap(u) = ` + source + `
 at all: u = 0
 `
 	f, errs := lang.Parse("heat.fw", []byte(src))
@@ -131,22 +136,7 @@ func TestTransientReusesFactorisation(t *testing.T) {
 		k, f     string
 		prepared int
 	}{{"1", "0", 1}, {"1", "t*x", 1}, {"1 + t", "0", 4}} {
-		src := `model heat_reuse
-dimension 2
-unknown u: scalar P1
-given initial_u = sin(pi*x)*sin(pi*y)
-equation for u: dt(u) - (` + tc.k + `)*lap(u) = ` + tc.f + `
-at all: u = 0
-`
-		f, errs := lang.Parse("heat.fw", []byte(src))
-		m, cerrs := compiler.Check(f, compiler.CheckOptions{})
-		if len(errs)+len(cerrs) > 0 {
-			t.Fatal(errs, cerrs)
-		}
-		d, err := compiler.Derive(m, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
+		m, d := heatFormWith(t, tc.k, tc.f)
 		lf, err := d.Lower(compiler.Galerkin)
 		if err != nil {
 			t.Fatal(err)
