@@ -121,9 +121,8 @@ func (c *checker) checkMeans(f *lang.File) {
 		if !ok {
 			continue
 		}
-		u, ok := c.unknowns[s.Target.Text]
-		if !ok {
-			c.unknownName(s.Target, "unknown")
+		u := c.lookupUnknown(s.Target)
+		if u == nil {
 			continue
 		}
 		if u.Rank != 0 {
@@ -445,9 +444,8 @@ func (c *checker) checkEquations(f *lang.File) {
 		if !ok {
 			continue
 		}
-		u, ok := c.unknowns[s.For.Text]
-		if !ok {
-			c.unknownName(s.For, "unknown")
+		u := c.lookupUnknown(s.For)
+		if u == nil {
 			continue
 		}
 		if prev, dup := byUnknown[u.Index]; dup {
@@ -524,6 +522,17 @@ func rankName(r int) string {
 	return "matrix"
 }
 
+// lookupUnknown returns the unknown named n, or reports that there is
+// none (with a suggestion) and returns nil.
+func (c *checker) lookupUnknown(n lang.Name) *Unknown {
+	u, ok := c.unknowns[n.Text]
+	if !ok {
+		c.unknownName(n, "unknown")
+		return nil
+	}
+	return u
+}
+
 func (c *checker) unknownName(n lang.Name, what string) {
 	var cand []string
 	for k := range c.unknowns {
@@ -551,9 +560,8 @@ func (c *checker) checkBoundaries(f *lang.File) {
 		if !ok {
 			continue
 		}
-		u, ok := c.unknowns[s.Target.Text]
-		if !ok {
-			c.unknownName(s.Target, "unknown")
+		u := c.lookupUnknown(s.Target)
+		if u == nil {
 			continue
 		}
 		bc := &BC{Unknown: u.Index, Pos: s.Pos()}
@@ -639,9 +647,8 @@ func (c *checker) checkStabilisation(f *lang.File) {
 				}
 			}
 		case *lang.TauStmt:
-			u, ok := c.unknowns[s.For.Text]
-			if !ok {
-				c.unknownName(s.For, "unknown")
+			u := c.lookupUnknown(s.For)
+			if u == nil {
 				continue
 			}
 			if m.Tau[u.Index] != nil {
