@@ -183,6 +183,25 @@ func (c *checker) checkTimeStep() {
 			uses = append(uses, e)
 		}
 	}
+	firstUse := func(e ir.Expr) *ir.Sym {
+		var at *ir.Sym
+		if e == nil {
+			return nil
+		}
+		ir.Inspect(e, func(x ir.Expr) bool {
+			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Name == "time_step" && at == nil {
+				at = s
+			}
+			return at == nil
+		})
+		return at
+	}
+	// Boundary data are evaluated at the nodes, where there is no step.
+	for _, bc := range m.BCs {
+		if at := firstUse(bc.Value); at != nil {
+			c.errorf(at.Pos(), at.Pos(), "boundary data may depend on t, not on the step", "time_step in a boundary condition")
+		}
+	}
 	if transient {
 		return
 	}
@@ -190,21 +209,8 @@ func (c *checker) checkTimeStep() {
 		uses = append(uses, cf.Def)
 	}
 	uses = append(uses, m.Tau...)
-	for _, bc := range m.BCs {
-		uses = append(uses, bc.Value)
-	}
 	for _, e := range uses {
-		if e == nil {
-			continue
-		}
-		var at *ir.Sym
-		ir.Inspect(e, func(x ir.Expr) bool {
-			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Name == "time_step" && at == nil {
-				at = s
-			}
-			return at == nil
-		})
-		if at != nil {
+		if at := firstUse(e); at != nil {
 			p := at.Pos()
 			c.errorf(p, p, "time_step is the Δt of a transient model (one with dt(...)); give a steady model's value as a coefficient", "time_step in a model without time derivatives")
 			return
