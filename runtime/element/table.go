@@ -236,6 +236,10 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 	n := t.Element.n
 	eg := t.Grads[q*n*d : (q+1)*n*d]
 	eh := t.Hess[q*n*d*d : (q+1)*n*d*d]
+	if d == 2 {
+		t.mapBasis2D(out, eg, eh, d2x)
+		return nil
+	}
 	tmp := out.tmp
 	for a := 0; a < n; a++ {
 		ga := out.Grad[a*d : (a+1)*d]
@@ -281,6 +285,48 @@ func (t *Table) Map(coords []float64, q int, out *PointGeometry) error {
 		}
 	}
 	return nil
+}
+
+// mapBasis2D is the basis part of Map for d = 2, written out: the same
+// products in the same order as the general loops (K = J⁻¹):
+// ∇φ = Kᵀ∇̂φ, m = Ĥφ − Σ_k ∂φ/∂x_k ∂²x_k/∂ξ², Hφ = Kᵀ m K.
+func (t *Table) mapBasis2D(out *PointGeometry, eg, eh, d2x []float64) {
+	K := out.JInv[:4:4]
+	k00, k01, k10, k11 := K[0], K[1], K[2], K[3]
+	n := t.Element.n
+	grad := out.Grad[: 2*n : 2*n]
+	eg = eg[: 2*n : 2*n]
+	for a := 0; a < n; a++ {
+		e0, e1 := eg[2*a], eg[2*a+1]
+		g0 := k00*e0 + k10*e1
+		g1 := k01*e0 + k11*e1
+		grad[2*a], grad[2*a+1] = g0, g1
+	}
+	if t.NoHessians {
+		return
+	}
+	c := d2x[:8:8]
+	hess := out.Hess[: 4*n : 4*n]
+	eh = eh[: 4*n : 4*n]
+	for a := 0; a < n; a++ {
+		g0, g1 := grad[2*a], grad[2*a+1]
+		h := eh[4*a : 4*a+4 : 4*a+4]
+		m00 := h[0] - g0*c[0] - g1*c[4]
+		m01 := h[1] - g0*c[1] - g1*c[5]
+		m10 := h[2] - g0*c[2] - g1*c[6]
+		m11 := h[3] - g0*c[3] - g1*c[7]
+		// tmp = m K
+		t00 := m00*k00 + m01*k10
+		t01 := m00*k01 + m01*k11
+		t10 := m10*k00 + m11*k10
+		t11 := m10*k01 + m11*k11
+		// H = Kᵀ tmp
+		o := hess[4*a : 4*a+4 : 4*a+4]
+		o[0] = k00*t00 + k10*t10
+		o[1] = k00*t01 + k10*t11
+		o[2] = k01*t00 + k11*t10
+		o[3] = k01*t01 + k11*t11
+	}
 }
 
 // Invert writes the inverse of the d×d matrix a (d <= 3, row-major) into
