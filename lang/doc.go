@@ -29,9 +29,10 @@
 //	at NAME {, NAME} : flux ( NAME ) = EXPR    flux or Robin condition
 //	stabilise METHOD {, METHOD}
 //	tau for NAME = EXPR
+//	mean NAME = EXPR                           the mean of an unknown over the domain
 //
 // The reserved words are model dimension sides use unknown scalar vector
-// given formula equation for at flux stabilise tau. They cannot be used as
+// given formula equation for at flux stabilise tau mean. They cannot be used as
 // names, except that a module name after "use" may be "tau" (the standard
 // library module of stabilisation parameters). Every other word, including
 // grad, div, lap, dt, dot, sin and exp, is an ordinary identifier; the
