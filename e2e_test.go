@@ -612,3 +612,30 @@ func TestTransientNavierStokesTaylorGreen(t *testing.T) {
 		}
 	}
 }
+
+// TestVerifyTaylorHood: the inf–sup stable Taylor–Hood pair P2/P1 needs no
+// stabilisation. Galerkin with the pressure mean fixed converges at the
+// optimal orders of the pair, velocity 3 (L²) and 2 (H¹), pressure 2 (L²)
+// (Taylor & Hood 1973; the error estimates of Brezzi & Fortin 1991,
+// recalled from memory), within 0.1 on the finest pair of four meshes.
+func TestVerifyTaylorHood(t *testing.T) {
+	_, src, _ := stdlib.Model("stokes")
+	s := strings.Replace(strings.Replace(string(src), "unknown vel: vector P1", "unknown vel: vector P2", 1), "stabilise galerkin, supg, gls, vms", "stabilise galerkin", 1)
+	path := writeModel(t, s)
+	var out, errb bytes.Buffer
+	if st := run([]string{"verify", path, "--method", "galerkin", "--json", "--quiet", "--base", "4"}, &out, &errb); st != exitOK {
+		t.Fatalf("status %d\n%s%s", st, out.String(), errb.String())
+	}
+	var rep verifyReport
+	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
+		t.Fatal(err)
+	}
+	want := map[string][2]float64{"vel": {3, 2}, "p": {2, 0}}
+	for _, vm := range rep.Methods {
+		last := vm.Levels[len(vm.Levels)-1]
+		w := want[vm.Field]
+		if math.Abs(last.OrderL2-w[0]) > 0.1 || (w[1] > 0 && math.Abs(last.OrderH1-w[1]) > 0.1) {
+			t.Errorf("%s: orders L2 %.2f, H1 %.2f; want %g, %g", vm.Field, last.OrderL2, last.OrderH1, w[0], w[1])
+		}
+	}
+}
