@@ -53,7 +53,7 @@ func generate(modelArg, dir, pkg, prefix string, methods []compiler.Method, cmdl
 			// The kernels of one backward Euler step, with Δt read from
 			// the kernel input: the form solve and verify step with.
 			if lf, err = problem.BackwardEuler(lf); err != nil {
-				return nil, &usageError{err.Error()}
+				return nil, &usageError{fmt.Sprintf("model %s is transient and Picard-iterated (previous(...)): solve steps it on the interpreted kernels, and gen generates no kernels for it", m.Name)}
 			}
 		}
 		forms = append(forms, lf)
