@@ -69,3 +69,19 @@ func TestGeneratedKernelsUpToDate(t *testing.T) {
 		}
 	}
 }
+
+// TestGenRefusesTransientPicard: a model that is both transient and
+// Picard-iterated has no single stepped form to generate; gen says so,
+// exits 2 and writes nothing.
+func TestGenRefusesTransientPicard(t *testing.T) {
+	path := writeModel(t, taylorGreen)
+	dir := filepath.Join(t.TempDir(), "k")
+	var out, errb bytes.Buffer
+	st := run([]string{"gen", path, "-o", dir}, &out, &errb)
+	if st != exitBadInput || !strings.Contains(errb.String(), "transient and Picard-iterated") {
+		t.Errorf("status %d, stderr %q; want 2 and the reason", st, errb.String())
+	}
+	if _, err := os.Stat(dir); !os.IsNotExist(err) {
+		t.Errorf("gen created %s", dir)
+	}
+}
