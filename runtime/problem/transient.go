@@ -49,20 +49,16 @@ func BackwardEuler(form *ir.LoweredForm) (*ir.LoweredForm, error) {
 				n.Bilinear = append(n.Bilinear, t)
 				continue
 			}
-			if t.Trial.DT > 1 {
-				return nil, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
+			st, err := steppedTerm(t)
+			if err != nil {
+				return nil, err
 			}
-			p := t.Coef.Pos()
-			invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
-			scaled := ir.Prod(p, invStep, t.Coef)
-			trial := *t.Trial
-			trial.DT = 0
-			n.Bilinear = append(n.Bilinear, ir.Term{Coef: scaled, Trial: &trial, Test: t.Test})
+			n.Bilinear = append(n.Bilinear, st)
 			prevField := *t.Trial.Field
 			prevField.Role = ir.Previous
-			prev := trial
+			prev := *st.Trial
 			prev.Field = &prevField
-			n.Linear = append(n.Linear, ir.Term{Coef: ir.Prod(p, scaled, &prev), Test: t.Test})
+			n.Linear = append(n.Linear, ir.Term{Coef: ir.Prod(st.Coef.Pos(), st.Coef, &prev), Test: t.Test})
 		}
 		out.Integrals = append(out.Integrals, n)
 	}
@@ -142,17 +138,13 @@ func splitBackwardEuler(form *ir.LoweredForm) (step, mass *ir.LoweredForm, err e
 				n.Bilinear = append(n.Bilinear, t)
 				continue
 			}
-			switch {
-			case t.Trial.DT > 1:
-				return nil, nil, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
-			case in.Domain.Side != "":
+			if in.Domain.Side != "" {
 				return nil, nil, fmt.Errorf("problem: a time derivative in a boundary integral (side %q) cannot be stepped", in.Domain.Side)
 			}
-			p := t.Coef.Pos()
-			invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
-			trial := *t.Trial
-			trial.DT = 0
-			st := ir.Term{Coef: ir.Prod(p, invStep, t.Coef), Trial: &trial, Test: t.Test}
+			st, err := steppedTerm(t)
+			if err != nil {
+				return nil, nil, err
+			}
 			n.Bilinear = append(n.Bilinear, st)
 			massTerms = append(massTerms, st)
 		}
@@ -240,4 +232,18 @@ type oldLevel struct {
 	M   *sparse.CSR
 	b   []float64
 	old []float64
+}
+
+// steppedTerm is the backward Euler image of a first time-derivative term:
+// c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv, Δt the cell quantity
+// time_step.
+func steppedTerm(t ir.Term) (ir.Term, error) {
+	if t.Trial.DT > 1 {
+		return ir.Term{}, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
+	}
+	p := t.Coef.Pos()
+	invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
+	trial := *t.Trial
+	trial.DT = 0
+	return ir.Term{Coef: ir.Prod(p, invStep, t.Coef), Trial: &trial, Test: t.Test}, nil
 }
