@@ -83,14 +83,7 @@ func fineScaleAdvection(m *Model) (fs []*FineScale, delta []ir.Expr, skipped []s
 
 func newFineScale(m *Model, eq *Equation, U *Unknown) *FineScale {
 	p := eq.Pos
-	r := ir.MapUp(residual(m, eq, p), func(n ir.Expr) ir.Expr {
-		if f, ok := n.(*ir.Field); ok && f.Role == ir.Trial {
-			g := *f
-			g.Role = ir.Previous
-			return &g
-		}
-		return n
-	})
+	r := withRole(residual(m, eq, p), ir.Trial, ir.Previous)
 	def := Simplify(ir.Neg(p, ir.Prod(p, m.TauSym[U.Index], r)), m.Dim)
 	return &FineScale{
 		Unknown: U.Index,

@@ -62,11 +62,15 @@ func SplitOperator(m *Model) []Split {
 
 // toTest replaces every trial field by the test function of the same
 // unknown: the operator applied to the test functions, L v.
-func toTest(e ir.Expr) ir.Expr {
+func toTest(e ir.Expr) ir.Expr { return withRole(e, ir.Trial, ir.Test) }
+
+// withRole replaces every field of role from in e by the same field with
+// role to.
+func withRole(e ir.Expr, from, to ir.Role) ir.Expr {
 	return ir.MapUp(e, func(n ir.Expr) ir.Expr {
-		if f, ok := n.(*ir.Field); ok && f.Role == ir.Trial {
+		if f, ok := n.(*ir.Field); ok && f.Role == from {
 			g := *f
-			g.Role = ir.Test
+			g.Role = to
 			return &g
 		}
 		return n
