@@ -171,15 +171,7 @@ func adrWithTau(t *testing.T, element, tau string) string {
 func TestVerifyOrders(t *testing.T) {
 	for _, el := range []string{"P1", "P2", "Q1"} {
 		path := writeModel(t, diffusionADR(t, el))
-		var out, errb bytes.Buffer
-		st := run([]string{"verify", path, "--method", "all", "--json", "--quiet", "--tol", "0.1", "--base", "4"}, &out, &errb)
-		if st != exitOK {
-			t.Fatalf("%s: status %d\n%s\n%s", el, st, out.String(), errb.String())
-		}
-		var rep verifyReport
-		if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
-			t.Fatal(err)
-		}
+		rep := verifyJSON(t, path, "--method", "all", "--tol", "0.1", "--base", "4")
 		k := float64(el[1] - '0')
 		for _, vm := range rep.Methods {
 			last := vm.Levels[len(vm.Levels)-1]
@@ -205,15 +197,7 @@ func TestVerifyOrders(t *testing.T) {
 func TestVMSQuadraticInverseEstimate(t *testing.T) {
 	l2 := func(tau, method string) []float64 {
 		path := writeModel(t, adrWithTau(t, "P2", tau))
-		var out, errb bytes.Buffer
-		st := run([]string{"verify", path, "--method", method, "--json", "--quiet", "--check=false", "--base", "4", "--levels", "3"}, &out, &errb)
-		if st != exitOK {
-			t.Fatalf("%s with %s: status %d\n%s", method, tau, st, errb.String())
-		}
-		var rep verifyReport
-		if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
-			t.Fatal(err)
-		}
+		rep := verifyJSON(t, path, "--method", method, "--check=false", "--base", "4", "--levels", "3")
 		var e []float64
 		for _, lv := range rep.Methods[0].Levels {
 			e = append(e, lv.L2)
@@ -583,15 +567,7 @@ func TestTransientNavierStokesTaylorGreen(t *testing.T) {
 	}
 	path := writeModel(t, taylorGreen)
 	exact := "[-cos(x)*sin(y)*exp(-2*nu*t), sin(x)*cos(y)*exp(-2*nu*t)]; -(cos(2*x)+cos(2*y))/4*exp(-4*nu*t)"
-	var out, errb bytes.Buffer
-	st := run([]string{"verify", path, "--method", "supg,gls,vms", "--exact", exact, "--until", "0.2", "--steps", "2", "--levels", "3", "--json", "--quiet"}, &out, &errb)
-	if st != exitOK {
-		t.Fatalf("status %d\n%s%s", st, out.String(), errb.String())
-	}
-	var rep verifyReport
-	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
-		t.Fatal(err)
-	}
+	rep := verifyJSON(t, path, "--method", "supg,gls,vms", "--exact", exact, "--until", "0.2", "--steps", "2", "--levels", "3")
 	if len(rep.Sources) != 2 || rep.Sources[1] != "0" {
 		t.Errorf("manufactured sources %q: the continuity source should simplify to 0", rep.Sources)
 	}
@@ -622,14 +598,7 @@ func TestVerifyTaylorHood(t *testing.T) {
 	_, src, _ := stdlib.Model("stokes")
 	s := strings.Replace(strings.Replace(string(src), "unknown vel: vector P1", "unknown vel: vector P2", 1), "stabilise galerkin, supg, gls, vms", "stabilise galerkin", 1)
 	path := writeModel(t, s)
-	var out, errb bytes.Buffer
-	if st := run([]string{"verify", path, "--method", "galerkin", "--json", "--quiet", "--base", "4"}, &out, &errb); st != exitOK {
-		t.Fatalf("status %d\n%s%s", st, out.String(), errb.String())
-	}
-	var rep verifyReport
-	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
-		t.Fatal(err)
-	}
+	rep := verifyJSON(t, path, "--method", "galerkin", "--base", "4")
 	want := map[string][2]float64{"vel": {3, 2}, "p": {2, 0}}
 	for _, vm := range rep.Methods {
 		last := vm.Levels[len(vm.Levels)-1]
@@ -638,4 +607,19 @@ func TestVerifyTaylorHood(t *testing.T) {
 			t.Errorf("%s: orders L2 %.2f, H1 %.2f; want %g, %g", vm.Field, last.OrderL2, last.OrderH1, w[0], w[1])
 		}
 	}
+}
+
+// verifyJSON runs verify with --json --quiet and the given arguments,
+// requires exit status 0 and returns the parsed report.
+func verifyJSON(t *testing.T, args ...string) verifyReport {
+	t.Helper()
+	var out, errb bytes.Buffer
+	if st := run(append(append([]string{"verify"}, args...), "--json", "--quiet"), &out, &errb); st != exitOK {
+		t.Fatalf("verify %v: status %d\n%s%s", args, st, out.String(), errb.String())
+	}
+	var rep verifyReport
+	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
+		t.Fatalf("verify %v: %v", args, err)
+	}
+	return rep
 }
