@@ -13,7 +13,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/output"
 	"github.com/formwright/formwright/runtime/plot"
@@ -415,7 +415,7 @@ func peSweep(m *compiler.Model, mf *compiler.Manufactured, methods []compiler.Me
 		for e := -2.0; e <= 3.0; e += 0.5 {
 			pe := math.Pow(10, e)
 			kv := speed * h / (2 * pe)
-			val := ir.NewNum(lang.Pos{}, new(big.Rat).SetFloat64(kv))
+			val := ir.NewNum(source.Pos{}, new(big.Rat).SetFloat64(kv))
 			mm, err := compiler.OverrideCoef(m, coef, val)
 			if err != nil {
 				return nil, &usageError{"--sweep-pe: " + err.Error()}

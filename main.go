@@ -10,6 +10,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -27,7 +28,7 @@ func (e *usageError) Error() string { return e.msg }
 
 // inputError carries a model's error list: exit status 2.
 type inputError struct {
-	errs    lang.ErrorList
+	errs    source.ErrorList
 	sources map[string][]byte
 }
 

@@ -4,7 +4,7 @@ import (
 	"fmt"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Adjoint returns the formal adjoint of the model's block operator applied
@@ -45,7 +45,7 @@ func Adjoint(m *Model) ([]ir.Expr, error) {
 
 // UnsupportedError reports a construct a derivation step cannot handle.
 type UnsupportedError struct {
-	Pos  lang.Pos
+	Pos  source.Pos
 	What string
 }
 
@@ -152,7 +152,7 @@ func adjointTerm(dim int, t, w ir.Expr, emit func(unknown int, e ir.Expr)) error
 }
 
 // contract is the full contraction of two tensors of equal rank.
-func contract(p lang.Pos, a, b ir.Expr) ir.Expr {
+func contract(p source.Pos, a, b ir.Expr) ir.Expr {
 	switch a.Rank() {
 	case 0:
 		return mulOf(p, a, b)
@@ -162,7 +162,7 @@ func contract(p lang.Pos, a, b ir.Expr) ir.Expr {
 	return &ir.DDot{At: ir.At{P: p}, A: a, B: b}
 }
 
-func zeroLike(p lang.Pos, w ir.Expr, dim int) ir.Expr { return ir.Zero(p, w.Rank(), dim) }
+func zeroLike(p source.Pos, w ir.Expr, dim int) ir.Expr { return ir.Zero(p, w.Rank(), dim) }
 
 func nodeName(e ir.Expr) string {
 	switch e.(type) {

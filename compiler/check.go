@@ -9,6 +9,7 @@ import (
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Loader finds a library module named in a "use" statement and returns its
@@ -55,7 +56,7 @@ type formula struct {
 	name   string
 	params []lang.Name
 	body   lang.Expr
-	pos    lang.Pos
+	pos    source.Pos
 	active bool // being expanded (recursion check)
 }
 
@@ -76,7 +77,7 @@ type coefDecl struct {
 type checker struct {
 	partial  bool
 	m        *Model
-	errs     lang.ErrorList
+	errs     source.ErrorList
 	dim      int
 	unknowns map[string]*Unknown
 	coefs    map[string]*coefDecl
@@ -88,7 +89,7 @@ type checker struct {
 
 // Check resolves and types a parsed model file, returning the model and
 // every error found (syntax errors are the parser's; these are semantic).
-func Check(f *lang.File, opts CheckOptions) (*Model, lang.ErrorList) {
+func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	c := &checker{
 		partial:  opts.Partial,
 		m:        &Model{File: f.Name, Sources: map[string][]byte{f.Name: f.Src}},
@@ -115,7 +116,7 @@ func Check(f *lang.File, opts CheckOptions) (*Model, lang.ErrorList) {
 // constant already), and a constant value.
 func (c *checker) checkMeans(f *lang.File) {
 	m := c.m
-	seen := map[int]lang.Pos{}
+	seen := map[int]source.Pos{}
 	for _, s := range f.Stmts {
 		s, ok := s.(*lang.MeanStmt)
 		if !ok {
@@ -218,7 +219,7 @@ func (c *checker) checkTimeStep() {
 	}
 }
 
-func (c *checker) errorf(pos, end lang.Pos, hint, format string, args ...any) {
+func (c *checker) errorf(pos, end source.Pos, hint, format string, args ...any) {
 	c.errs.Add(pos, end, fmt.Sprintf(format, args...), hint)
 }
 
@@ -235,7 +236,7 @@ func (c *checker) declared(n lang.Name) bool {
 		c.errorf(n.Pos, n.End, "choose another name", "%q is a built-in name and cannot be redefined", n.Text)
 		return true
 	}
-	var prev lang.Pos
+	var prev source.Pos
 	if u, ok := c.unknowns[n.Text]; ok {
 		prev = u.Pos
 	} else if d, ok := c.coefs[n.Text]; ok {
@@ -251,7 +252,7 @@ func (c *checker) declared(n lang.Name) bool {
 
 func (c *checker) declare(f *lang.File, opts CheckOptions) {
 	m := c.m
-	var modelSeen, dimSeen *lang.Pos
+	var modelSeen, dimSeen *source.Pos
 	for _, s := range f.Stmts {
 		switch s := s.(type) {
 		case *lang.ModelStmt:
@@ -314,11 +315,11 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 		}
 	}
 	if modelSeen == nil && !c.partial {
-		c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "start the file with \"model NAME\"", "missing model statement")
+		c.errorf(source.Pos{File: f.Name, Line: 1, Col: 1}, source.Pos{}, "start the file with \"model NAME\"", "missing model statement")
 	}
 	if dimSeen == nil {
 		if !c.partial {
-			c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "add \"dimension 1\", \"dimension 2\" or \"dimension 3\"", "missing dimension statement")
+			c.errorf(source.Pos{File: f.Name, Line: 1, Col: 1}, source.Pos{}, "add \"dimension 1\", \"dimension 2\" or \"dimension 3\"", "missing dimension statement")
 		}
 		return
 	}
@@ -327,11 +328,11 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 		m.Sides = append([]string(nil), defaultSides[m.Dim]...)
 	}
 	if len(m.Unknowns) == 0 && !c.partial {
-		c.errorf(lang.Pos{File: f.Name, Line: 1, Col: 1}, lang.Pos{}, "declare one with \"unknown u: scalar P1\"", "the model has no unknown")
+		c.errorf(source.Pos{File: f.Name, Line: 1, Col: 1}, source.Pos{}, "declare one with \"unknown u: scalar P1\"", "the model has no unknown")
 	}
 	for _, u := range m.Unknowns {
 		if u.Rank == 1 && m.Dim == 1 {
-			c.errorf(u.Pos, lang.Pos{}, "in one dimension use a scalar", "vector unknown %q in a 1-dimensional model", u.Name)
+			c.errorf(u.Pos, source.Pos{}, "in one dimension use a scalar", "vector unknown %q in a 1-dimensional model", u.Name)
 		}
 	}
 }
@@ -482,10 +483,10 @@ func (c *checker) checkEquations(f *lang.File) {
 			deg, bad := trialDegree(t)
 			switch {
 			case bad != nil:
-				c.errorf(bad.Pos(), lang.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears inside a nonlinear function")
+				c.errorf(bad.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears inside a nonlinear function")
 				ok = false
 			case deg > 1:
-				c.errorf(t.Pos(), lang.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears %d times in one product", deg)
+				c.errorf(t.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears %d times in one product", deg)
 				ok = false
 			case deg == 1:
 				op = append(op, t)
@@ -511,7 +512,7 @@ func (c *checker) checkEquations(f *lang.File) {
 	if len(c.errs) == 0 && !c.partial {
 		for _, u := range m.Unknowns {
 			if _, ok := byUnknown[u.Index]; !ok {
-				c.errorf(u.Pos, lang.Pos{}, fmt.Sprintf("add \"equation for %s: ... = ...\"", u.Name), "no equation for unknown %q", u.Name)
+				c.errorf(u.Pos, source.Pos{}, fmt.Sprintf("add \"equation for %s: ... = ...\"", u.Name), "no equation for unknown %q", u.Name)
 			}
 		}
 	}
@@ -546,7 +547,7 @@ func (c *checker) unknownName(n lang.Name, what string) {
 	}
 	sort.Strings(cand)
 	hint := ""
-	if s := lang.Suggest(n.Text, cand); s != "" {
+	if s := source.Suggest(n.Text, cand); s != "" {
 		hint = fmt.Sprintf("did you mean %q?", s)
 	} else if len(cand) > 0 {
 		hint = "the unknowns are " + strings.Join(cand, ", ")
@@ -560,7 +561,7 @@ func (c *checker) checkBoundaries(f *lang.File) {
 		side string
 		u    int
 	}
-	seen := map[key]lang.Pos{}
+	seen := map[key]source.Pos{}
 	for _, s := range f.Stmts {
 		s, ok := s.(*lang.BoundaryStmt)
 		if !ok {
@@ -574,7 +575,7 @@ func (c *checker) checkBoundaries(f *lang.File) {
 		for _, n := range s.Sides {
 			if n.Text != "all" && !slices.Contains(m.Sides, n.Text) {
 				hint := "the sides are " + strings.Join(m.Sides, ", ") + " and all"
-				if sug := lang.Suggest(n.Text, m.Sides); sug != "" {
+				if sug := source.Suggest(n.Text, m.Sides); sug != "" {
 					hint = fmt.Sprintf("did you mean %q?", sug)
 				}
 				c.errorf(n.Pos, n.End, hint, "side %q is not defined by this model", n.Text)
@@ -614,7 +615,7 @@ func (c *checker) checkBoundaries(f *lang.File) {
 			for _, t := range additiveTerms(v) {
 				deg, bad := trialDegree(t)
 				if bad != nil || deg > 1 {
-					c.errorf(t.Pos(), lang.Pos{}, "a Robin condition is linear in the unknown: flux(u) = g − β u", "nonlinear boundary condition")
+					c.errorf(t.Pos(), source.Pos{}, "a Robin condition is linear in the unknown: flux(u) = g − β u", "nonlinear boundary condition")
 					break
 				}
 				if deg == 1 {
@@ -641,7 +642,7 @@ func (c *checker) checkStabilisation(f *lang.File) {
 				meth, ok := MethodByName(n.Text)
 				if !ok {
 					hint := "the methods are galerkin, supg, gls and vms"
-					if sug := lang.Suggest(n.Text, methodNames[:]); sug != "" {
+					if sug := source.Suggest(n.Text, methodNames[:]); sug != "" {
 						hint = fmt.Sprintf("did you mean %q?", sug)
 					}
 					c.errorf(n.Pos, n.End, hint, "unknown method %q", n.Text)
@@ -687,7 +688,7 @@ func (c *checker) checkStabilisation(f *lang.File) {
 	if needTau && !c.partial {
 		for _, u := range m.Unknowns {
 			if m.Tau[u.Index] == nil {
-				c.errorf(u.Pos, lang.Pos{}, fmt.Sprintf("add \"tau for %s = ...\" (the library module tau has standard definitions)", u.Name), "a stabilised method needs tau for %q", u.Name)
+				c.errorf(u.Pos, source.Pos{}, fmt.Sprintf("add \"tau for %s = ...\" (the library module tau has standard definitions)", u.Name), "a stabilised method needs tau for %q", u.Name)
 			}
 		}
 	}
@@ -831,7 +832,7 @@ func (c *checker) suggest(name string) string {
 		cand = append(cand, k)
 	}
 	sort.Strings(cand)
-	if s := lang.Suggest(name, cand); s != "" {
+	if s := source.Suggest(name, cand); s != "" {
 		return fmt.Sprintf("did you mean %q?", s)
 	}
 	return ""
@@ -847,7 +848,7 @@ func (c *checker) binary(e *lang.Binary) ir.Expr {
 	switch e.Op {
 	case "+", "-":
 		if x.Rank() != y.Rank() {
-			c.errorf(e.OpPos, lang.Pos{}, "both operands of + and - have the same rank", "cannot %s a %s and a %s", map[string]string{"+": "add", "-": "subtract"}[e.Op], rankName(x.Rank()), rankName(y.Rank()))
+			c.errorf(e.OpPos, source.Pos{}, "both operands of + and - have the same rank", "cannot %s a %s and a %s", map[string]string{"+": "add", "-": "subtract"}[e.Op], rankName(x.Rank()), rankName(y.Rank()))
 			return nil
 		}
 		if e.Op == "-" {
@@ -856,7 +857,7 @@ func (c *checker) binary(e *lang.Binary) ir.Expr {
 		return &ir.Add{At: at, Terms: []ir.Expr{x, y}}
 	case "*":
 		if x.Rank() > 0 && y.Rank() > 0 {
-			c.errorf(e.OpPos, lang.Pos{}, "use . (or dot) to contract two vectors, outer(a, b) for their outer product", "cannot multiply a %s by a %s with *", rankName(x.Rank()), rankName(y.Rank()))
+			c.errorf(e.OpPos, source.Pos{}, "use . (or dot) to contract two vectors, outer(a, b) for their outer product", "cannot multiply a %s by a %s with *", rankName(x.Rank()), rankName(y.Rank()))
 			return nil
 		}
 		return &ir.Mul{At: at, Factors: []ir.Expr{x, y}}
@@ -868,20 +869,20 @@ func (c *checker) binary(e *lang.Binary) ir.Expr {
 		return &ir.Mul{At: at, Factors: []ir.Expr{x, &ir.Pow{At: ir.At{P: e.Y.Pos()}, Base: y, Exp: ir.Int(e.Y.Pos(), -1)}}}
 	case "^":
 		if x.Rank() > 0 || y.Rank() > 0 {
-			c.errorf(e.OpPos, lang.Pos{}, "powers are of scalars; for |a|² write a . a", "cannot raise a %s to a %s power", rankName(x.Rank()), rankName(y.Rank()))
+			c.errorf(e.OpPos, source.Pos{}, "powers are of scalars; for |a|² write a . a", "cannot raise a %s to a %s power", rankName(x.Rank()), rankName(y.Rank()))
 			return nil
 		}
 		return &ir.Pow{At: at, Base: x, Exp: y}
 	case ".":
 		return c.dot(e.OpPos, e.Pos(), x, y)
 	}
-	c.errorf(e.OpPos, lang.Pos{}, "", "unknown operator %q", e.Op)
+	c.errorf(e.OpPos, source.Pos{}, "", "unknown operator %q", e.Op)
 	return nil
 }
 
-func (c *checker) dot(opPos, p lang.Pos, x, y ir.Expr) ir.Expr {
+func (c *checker) dot(opPos, p source.Pos, x, y ir.Expr) ir.Expr {
 	if x.Rank() == 0 || y.Rank() == 0 {
-		c.errorf(opPos, lang.Pos{}, "use * to multiply by a scalar", "dot product of a %s and a %s", rankName(x.Rank()), rankName(y.Rank()))
+		c.errorf(opPos, source.Pos{}, "use * to multiply by a scalar", "dot product of a %s and a %s", rankName(x.Rank()), rankName(y.Rank()))
 		return nil
 	}
 	return &ir.Dot{At: ir.At{P: p}, A: x, B: y}
@@ -1015,7 +1016,7 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 	}
 	fn, ok := ir.FuncByName(e.Func)
 	if !ok {
-		c.errorf(e.FuncPos, lang.Pos{}, c.suggest(e.Func), "unknown function %q", e.Func)
+		c.errorf(e.FuncPos, source.Pos{}, c.suggest(e.Func), "unknown function %q", e.Func)
 		return nil
 	}
 	if !nargs(fn.Arity()) {
@@ -1076,9 +1077,9 @@ const exprPrefix = "given expression_ = "
 // model: its unknowns, coefficients, the cell quantities and the names
 // derived forms use (test(u), tau_<u> and the normal n). Errors carry
 // positions in src (file name "name", line 1 onwards).
-func (m *Model) ParseExpr(name, src string) (ir.Expr, lang.ErrorList) {
+func (m *Model) ParseExpr(name, src string) (ir.Expr, source.ErrorList) {
 	f, errs := lang.Parse(name, []byte(exprPrefix+src))
-	shift := func(p lang.Pos) lang.Pos {
+	shift := func(p source.Pos) source.Pos {
 		if p.Line == 1 {
 			p.Col -= len(exprPrefix)
 			if p.Col < 1 {
@@ -1107,7 +1108,7 @@ func (m *Model) ParseExpr(name, src string) (ir.Expr, lang.ErrorList) {
 		}
 	}
 	if g == nil {
-		errs.Add(lang.Pos{File: name, Line: 1, Col: 1}, lang.Pos{}, "expected an expression", "")
+		errs.Add(source.Pos{File: name, Line: 1, Col: 1}, source.Pos{}, "expected an expression", "")
 		return nil, errs
 	}
 	c := &checker{m: m, dim: m.Dim, unknowns: map[string]*Unknown{}, coefs: map[string]*coefDecl{}, formulas: map[string]*formula{}, allowTest: true}

@@ -2,7 +2,7 @@ package compiler
 
 import (
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // This file holds the differentiation rules of Simplify: the sum rule, the
@@ -38,7 +38,7 @@ func dependsOn(e ir.Expr, mask ir.Deps) bool {
 }
 
 // productExcept returns the product of all factors but the ones at skip.
-func productExcept(p lang.Pos, f []ir.Expr, skip ...int) []ir.Expr {
+func productExcept(p source.Pos, f []ir.Expr, skip ...int) []ir.Expr {
 	var out []ir.Expr
 outer:
 	for i, x := range f {
@@ -52,7 +52,7 @@ outer:
 	return out
 }
 
-func mulOf(p lang.Pos, f ...ir.Expr) ir.Expr {
+func mulOf(p source.Pos, f ...ir.Expr) ir.Expr {
 	if len(f) == 0 {
 		return ir.Int(p, 1)
 	}
@@ -61,7 +61,7 @@ func mulOf(p lang.Pos, f ...ir.Expr) ir.Expr {
 
 // derivOf returns f'(g) for an elementary function of one argument, or nil
 // when the function has no derivative rule here.
-func derivOf(p lang.Pos, fn ir.Func, g ir.Expr) ir.Expr {
+func derivOf(p source.Pos, fn ir.Func, g ir.Expr) ir.Expr {
 	call := func(f ir.Func) ir.Expr { return &ir.Call{At: ir.At{P: p}, Fn: f, Args: []ir.Expr{g}} }
 	sq := func(x ir.Expr) ir.Expr { return &ir.Pow{At: ir.At{P: p}, Base: x, Exp: ir.Int(p, 2)} }
 	one := ir.Int(p, 1)
@@ -94,7 +94,7 @@ func derivOf(p lang.Pos, fn ir.Func, g ir.Expr) ir.Expr {
 
 // chain differentiates a scalar Pow or Call with the operator d (one of
 // grad, partial, time derivative), returning nil when no rule applies.
-func chain(p lang.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
+func chain(p source.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
 	switch e := e.(type) {
 	case *ir.Pow:
 		if !dependsOn(e.Exp, spaceDeps|ir.DepT) {
@@ -134,7 +134,7 @@ func chain(p lang.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
 // rank (a partial derivative in space or time): linearity over sums and
 // literal vectors, the product rule over products and contractions, and
 // the chain rule. It returns nil when none applies.
-func leibniz(p lang.Pos, x ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
+func leibniz(p source.Pos, x ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
 	at := ir.At{P: p}
 	switch x := x.(type) {
 	case *ir.Add:
@@ -228,7 +228,7 @@ func (s simplifier) grad(e *ir.Grad) ir.Expr {
 	return e
 }
 
-func (s simplifier) partial(p lang.Pos, x ir.Expr, axis int, orig ir.Expr) ir.Expr {
+func (s simplifier) partial(p source.Pos, x ir.Expr, axis int, orig ir.Expr) ir.Expr {
 	if !dependsOn(x, ir.DepAxis(axis)) {
 		return ir.Zero(p, x.Rank(), s.dim)
 	}

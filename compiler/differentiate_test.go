@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"gonum.org/v1/gonum/diff/fd"
 )
 
@@ -14,7 +14,7 @@ import (
 // depth, from functions that stay finite on [0.1, 0.9]² (log and powers of
 // positive bases only).
 func randomScalar(r *rand.Rand, depth int) ir.Expr {
-	var p lang.Pos
+	var p source.Pos
 	x := func() ir.Expr { return &ir.Coord{Axis: r.IntN(2)} }
 	if depth == 0 {
 		switch r.IntN(3) {

@@ -4,7 +4,7 @@ import (
 	"fmt"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // FineScale is the fine-scale velocity U′ = −τ_U R_U of a convected vector
@@ -164,7 +164,7 @@ func replacePrevious(t ir.Expr, u int, by ir.Expr) ir.Expr {
 
 // renderShort names a term in a note by its position.
 func renderShort(t ir.Expr) string {
-	if p := t.Pos(); p != (lang.Pos{}) {
+	if p := t.Pos(); p != (source.Pos{}) {
 		return "the term at " + p.String()
 	}
 	return "a term"

@@ -7,6 +7,7 @@ import (
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/stdlib"
 	"gonum.org/v1/gonum/integrate/quad"
 )
@@ -26,7 +27,7 @@ func mustModel(t testing.TB, src string) *Model {
 }
 
 // checkErrors returns the error messages Check reports for src.
-func checkErrors(file, src string) lang.ErrorList {
+func checkErrors(file, src string) source.ErrorList {
 	f, errs := lang.Parse(file, []byte(src))
 	_, cerrs := Check(f, CheckOptions{Load: stdlib.Module})
 	return append(errs, cerrs...)

@@ -6,7 +6,7 @@ import (
 	"sort"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // lowerer writes tensor expressions as lists of scalar component
@@ -272,7 +272,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 
 // NonlinearError reports a term of a form that is not bilinear.
 type NonlinearError struct {
-	Pos lang.Pos
+	Pos source.Pos
 	Msg string
 }
 

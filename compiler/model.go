@@ -5,7 +5,7 @@ import (
 	"math"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
 )
@@ -45,7 +45,7 @@ type Unknown struct {
 	Index   int
 	Rank    int
 	Element string // P1, P2, Q1, Q2
-	Pos     lang.Pos
+	Pos     source.Pos
 }
 
 // MeanCondition prescribes the mean of a scalar unknown over the domain,
@@ -55,7 +55,7 @@ type Unknown struct {
 type MeanCondition struct {
 	Unknown int
 	Value   ir.Expr // a constant
-	Pos     lang.Pos
+	Pos     source.Pos
 }
 
 // Coef is a checked coefficient ("given").
@@ -63,7 +63,7 @@ type Coef struct {
 	Name string
 	Def  ir.Expr
 	Sym  *ir.Sym
-	Pos  lang.Pos
+	Pos  source.Pos
 }
 
 // Equation is one row of the block operator: L_i(u) = f_i, tested with
@@ -75,7 +75,7 @@ type Equation struct {
 	// the right; both are unsimplified so the derivation can show them.
 	Written ir.Expr
 	Source  ir.Expr
-	Pos     lang.Pos
+	Pos     source.Pos
 }
 
 // BCKind is the kind of a boundary condition.
@@ -98,7 +98,7 @@ type BC struct {
 	Unknown int
 	Kind    BCKind
 	Value   ir.Expr
-	Pos     lang.Pos
+	Pos     source.Pos
 }
 
 // Model is a checked model: every name resolved, every expression typed.

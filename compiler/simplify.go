@@ -5,7 +5,7 @@ import (
 	"sort"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // maxSimplifyRounds caps the fixed-point iteration of Simplify; each round
@@ -106,7 +106,7 @@ func splitCoef(e ir.Expr) (*big.Rat, ir.Expr) {
 	return big.NewRat(1, 1), e
 }
 
-func scale(p lang.Pos, c *big.Rat, rest ir.Expr) ir.Expr {
+func scale(p source.Pos, c *big.Rat, rest ir.Expr) ir.Expr {
 	if rest == nil {
 		return ir.NewNum(p, c)
 	}
@@ -173,7 +173,7 @@ func (s simplifier) add(e *ir.Add) ir.Expr {
 	type term struct {
 		c    *big.Rat
 		rest ir.Expr
-		p    lang.Pos
+		p    source.Pos
 	}
 	var terms []term
 	for _, t := range others {
@@ -314,7 +314,7 @@ func (s simplifier) mul(e *ir.Mul) ir.Expr {
 	return &ir.Mul{At: e.At, Factors: factors}
 }
 
-func distribute(p lang.Pos, c *big.Rat, a *ir.Add) ir.Expr {
+func distribute(p source.Pos, c *big.Rat, a *ir.Add) ir.Expr {
 	t := make([]ir.Expr, len(a.Terms))
 	for i, x := range a.Terms {
 		t[i] = &ir.Mul{At: ir.At{P: x.Pos()}, Factors: []ir.Expr{ir.NewNum(p, c), x}}
@@ -511,7 +511,7 @@ func pullScalars(e ir.Expr) ([]ir.Expr, ir.Expr) {
 // bilinear applies the rules every bilinear product shares: zero operands,
 // sums distribute, scalar factors move out. rebuild makes the product of two
 // reduced operands; literal handles two literal vectors.
-func (s simplifier) bilinear(p lang.Pos, a, b ir.Expr, rank int, rebuild func(a, b ir.Expr) ir.Expr) (ir.Expr, bool) {
+func (s simplifier) bilinear(p source.Pos, a, b ir.Expr, rank int, rebuild func(a, b ir.Expr) ir.Expr) (ir.Expr, bool) {
 	if ir.IsZero(a) || ir.IsZero(b) {
 		return ir.Zero(p, rank, s.dim), true
 	}

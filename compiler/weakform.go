@@ -5,7 +5,7 @@ import (
 	"slices"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Normal is the outward unit normal on boundary integrals.
@@ -210,6 +210,6 @@ func Stabilise(m *Model, meth Method, split []Split, adj []ir.Expr) []StabTerm {
 	return out
 }
 
-func residual(m *Model, eq *Equation, p lang.Pos) ir.Expr {
+func residual(m *Model, eq *Equation, p source.Pos) ir.Expr {
 	return Simplify(ir.Sub(p, eq.Written, eq.Source), m.Dim)
 }

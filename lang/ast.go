@@ -1,5 +1,7 @@
 package lang
 
+import "github.com/formwright/formwright/lang/source"
+
 // The AST. It is what Parse returns and what the compiler walks. Two closed
 // families, Stmt and Expr, are sealed by unexported marker methods, so a type
 // switch over them can be exhaustive. Every node embeds a Span (From, To),
@@ -10,13 +12,13 @@ package lang
 
 // Node is any statement or expression.
 type Node interface {
-	Pos() Pos // first character
-	End() Pos // just after the last character
+	Pos() source.Pos // first character
+	End() source.Pos // just after the last character
 }
 
 // Name is an identifier written in the source, with its position.
 type Name struct {
-	Pos, End Pos
+	Pos, End source.Pos
 	Text     string
 }
 
@@ -37,33 +39,33 @@ type Stmt interface {
 
 // ModelStmt is "model NAME".
 type ModelStmt struct {
-	Span
+	source.Span
 	Name Name
 }
 
 // DimensionStmt is "dimension INT". DimPos and DimEnd delimit the number.
 type DimensionStmt struct {
-	Span
+	source.Span
 	Dim            int
-	DimPos, DimEnd Pos
+	DimPos, DimEnd source.Pos
 }
 
 // SidesStmt is "sides NAME {, NAME}".
 type SidesStmt struct {
-	Span
+	source.Span
 	Names []Name
 }
 
 // UseStmt is "use NAME {, NAME}"; the names are standard library modules.
 type UseStmt struct {
-	Span
+	source.Span
 	Names []Name
 }
 
 // UnknownStmt is "unknown NAME : RANK ELEMENT". Rank is "scalar" or
 // "vector"; Element is recorded as written (the checker validates it).
 type UnknownStmt struct {
-	Span
+	source.Span
 	Name    Name
 	Rank    string
 	Element Name
@@ -71,14 +73,14 @@ type UnknownStmt struct {
 
 // GivenStmt is "given NAME = EXPR".
 type GivenStmt struct {
-	Span
+	source.Span
 	Name  Name
 	Value Expr
 }
 
 // FormulaStmt is "formula NAME ( PARAMS ) = EXPR".
 type FormulaStmt struct {
-	Span
+	source.Span
 	Name   Name
 	Params []Name
 	Body   Expr
@@ -86,7 +88,7 @@ type FormulaStmt struct {
 
 // EquationStmt is "equation for NAME : LHS = RHS".
 type EquationStmt struct {
-	Span
+	source.Span
 	For      Name
 	LHS, RHS Expr
 }
@@ -95,7 +97,7 @@ type EquationStmt struct {
 // was written "flux(NAME)" (a flux or Robin condition) and false for a value
 // condition "NAME".
 type BoundaryStmt struct {
-	Span
+	source.Span
 	Sides  []Name
 	Flux   bool
 	Target Name
@@ -104,13 +106,13 @@ type BoundaryStmt struct {
 
 // StabiliseStmt is "stabilise METHOD {, METHOD}".
 type StabiliseStmt struct {
-	Span
+	source.Span
 	Methods []Name
 }
 
 // TauStmt is "tau for NAME = EXPR".
 type TauStmt struct {
-	Span
+	source.Span
 	For   Name
 	Value Expr
 }
@@ -119,7 +121,7 @@ type TauStmt struct {
 // for an unknown the other conditions fix only up to a constant (the
 // pressure of an enclosed flow).
 type MeanStmt struct {
-	Span
+	source.Span
 	Target Name
 	Value  Expr
 }
@@ -148,36 +150,36 @@ type Expr interface {
 // "2.5E+3"), so the compiler can turn it into an exact rational. It never
 // has a sign: "-1" is a Unary.
 type Number struct {
-	Span
+	source.Span
 	Text string
 }
 
 // Ident is a name used in an expression.
 type Ident struct {
-	Span
+	source.Span
 	Name string
 }
 
 // Call is "Func(Args...)". FuncPos is the position of the function name.
 type Call struct {
-	Span
+	source.Span
 	Func    string
-	FuncPos Pos
+	FuncPos source.Pos
 	Args    []Expr
 }
 
 // Binary is "X Op Y" with Op one of "+", "-", "*", "/", "." (contraction,
 // the dot product) and "^". OpPos is the position of the operator.
 type Binary struct {
-	Span
+	source.Span
 	Op    string
-	OpPos Pos
+	OpPos source.Pos
 	X, Y  Expr
 }
 
 // Unary is "Op X" with Op "-" or "+".
 type Unary struct {
-	Span
+	source.Span
 	Op string
 	X  Expr
 }
@@ -185,16 +187,16 @@ type Unary struct {
 // Index is "X[Index]", a 1-based component (the checker validates the
 // range). IndexPos is the position of the number.
 type Index struct {
-	Span
+	source.Span
 	X        Expr
 	Index    int
-	IndexPos Pos
+	IndexPos source.Pos
 }
 
 // List is a vector or matrix literal "[e1, e2, ...]"; elements may be
 // lists themselves ("[[1,0],[0,1]]").
 type List struct {
-	Span
+	source.Span
 	Elems []Expr
 }
 

@@ -6,8 +6,9 @@
 // positions; the compiler checks that tree (names, ranks, elements,
 // methods), derives the weak and stabilised forms and generates kernels;
 // the runtime assembles and solves them. Syntax errors from lang and
-// semantic errors from the compiler's checker share one ErrorList type, so
-// a tool prints both the same way (file:line:col, the source line, a caret,
+// semantic errors from the compiler's checker share one source.ErrorList
+// type (package lang/source, which depends on nothing), so a tool prints
+// both the same way (file:line:col, the source line, a caret,
 // a hint).
 //
 // # The model language
@@ -59,7 +60,7 @@
 //
 // # Positions
 //
-// Pos holds a file name, a 0-based byte Offset and a 1-based Line and Col;
+// A source.Pos holds a file name, a 0-based byte Offset and a 1-based Line and Col;
 // Col counts runes, as the participle lexer does. Every node has Pos() (its
 // first character) and End() (just after its last character).
 //
@@ -68,8 +69,8 @@
 // Parse returns the partial tree and every syntax error: the token stream
 // is cut before each statement keyword and each statement is parsed on its
 // own, so the errors of several statements are all reported. The list is
-// sorted, keeps the first error of each line and stops at MaxErrors with a
-// "too many errors" entry. ErrorList.Format prints the source line under
+// sorted, keeps the first error of each line and stops at source.MaxErrors
+// with a "too many errors" entry. ErrorList.Format prints the source line under
 // each error with a caret and tildes under the offending text.
 //
 // # Implementation

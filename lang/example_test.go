@@ -36,8 +36,3 @@ given k = 1 + * 2
 	// top operator "-" at drift.fw:5:30
 	// 6 statements
 }
-
-func ExampleSuggest() {
-	fmt.Println(lang.Suggest("kapa", []string{"sigma", "kappa", "nu"}))
-	// Output: kappa
-}

@@ -1,6 +1,8 @@
 package lang
 
 import (
+	"github.com/formwright/formwright/lang/source"
+
 	"bytes"
 	"fmt"
 	"os"
@@ -25,7 +27,7 @@ func fuzzOne(t *testing.T, src []byte) {
 		if file == nil {
 			t.Fatal("nil file")
 		}
-		if len(errs) > MaxErrors+1 {
+		if len(errs) > source.MaxErrors+1 {
 			t.Fatalf("%d errors, more than the cap", len(errs))
 		}
 		for _, e := range errs {
@@ -55,7 +57,7 @@ func fuzzOne(t *testing.T, src []byte) {
 		if err != nil {
 			t.Fatalf("statement-wise parse succeeded, whole-file parse failed: %v", err)
 		}
-		lw := &lowerer{errs: new(ErrorList)}
+		lw := &lowerer{errs: new(source.ErrorList)}
 		g := &File{}
 		for _, s := range whole.Stmts {
 			g.Stmts = append(g.Stmts, lw.stmt(s))

@@ -1,6 +1,8 @@
 package lang
 
 import (
+	"github.com/formwright/formwright/lang/source"
+
 	"fmt"
 	"strconv"
 )
@@ -9,13 +11,13 @@ import (
 // It reports the few errors the grammar cannot express (a dimension or an
 // index that is not a whole number).
 type lowerer struct {
-	errs *ErrorList
+	errs *source.ErrorList
 	bad  bool // an error was reported for the current statement
 }
 
-func (lw *lowerer) errorf(from, to Pos, hint, format string, args ...any) {
+func (lw *lowerer) errorf(from, to source.Pos, hint, format string, args ...any) {
 	lw.bad = true
-	lw.errs.push(from, to, fmt.Sprintf(format, args...), hint)
+	lw.errs.Append(from, to, fmt.Sprintf(format, args...), hint)
 }
 
 func lowerName(n *name) Name {

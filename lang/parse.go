@@ -1,6 +1,8 @@
 package lang
 
 import (
+	"github.com/formwright/formwright/lang/source"
+
 	"errors"
 	"fmt"
 	"regexp"
@@ -22,17 +24,17 @@ import (
 // are reserved), and each piece is parsed on its own, so an error in one
 // statement never hides the errors of the next. Positions are unaffected:
 // each piece keeps the tokens, and so the positions, of the whole file.
-func Parse(filename string, src []byte) (*File, ErrorList) {
+func Parse(filename string, src []byte) (*File, source.ErrorList) {
 	f := &File{Name: filename, Src: src}
 	// Errors are first collected without the cap, then sorted and reduced
 	// to one per line, and only then capped, so the reported errors are
 	// the first ones in the file.
-	var raw ErrorList
+	var raw source.ErrorList
 	p := &parser{filename: filename, src: src, errs: &raw}
 	if p.lex() {
 		lw := &lowerer{errs: &raw}
 		for _, c := range p.chunks() {
-			if p.errorLinesBefore(p.toks[c.from].Pos.Offset) > MaxErrors {
+			if p.errorLinesBefore(p.toks[c.from].Pos.Offset) > source.MaxErrors {
 				break // the errors of this and later statements would be dropped anyway
 			}
 			if c.bad || c.empty {
@@ -53,7 +55,7 @@ func Parse(filename string, src []byte) (*File, ErrorList) {
 		}
 	}
 	raw.RemoveMultiples()
-	var errs ErrorList
+	var errs source.ErrorList
 	for _, e := range raw {
 		errs.Add(e.Pos, e.End, e.Msg, e.Hint)
 	}
@@ -78,7 +80,7 @@ type parser struct {
 	src      []byte
 	toks     []lexer.Token // every token, elided ones included, ending with EOF
 	badTok   []bool        // token i had a lexical error
-	errs     *ErrorList
+	errs     *source.ErrorList
 }
 
 // chunk is the token range [from, to) of one statement.
@@ -111,7 +113,7 @@ func (p *parser) eofAt(i int) lexer.Token {
 func elided(t lexer.Token) bool { return t.Type == tokWhite || t.Type == tokComment }
 
 // tokEnd returns the position just after token t.
-func tokEnd(t lexer.Token) Pos {
+func tokEnd(t lexer.Token) source.Pos {
 	p := t.Pos
 	p.Advance(t.Value)
 	return posOf(p)
@@ -126,23 +128,23 @@ func (p *parser) lex() bool {
 		p.toks, err = lexer.ConsumeAll(l)
 	}
 	if err != nil {
-		pos := Pos{File: p.filename}
+		pos := source.Pos{File: p.filename}
 		var perr participle.Error
 		if errors.As(err, &perr) {
 			pos = posOf(perr.Position())
 		}
-		p.errs.push(pos, Pos{}, err.Error(), "")
+		p.errs.Append(pos, source.Pos{}, err.Error(), "")
 		return false
 	}
 	p.badTok = make([]bool, len(p.toks))
 	lastLine, lines := 0, 0
 	report := func(t lexer.Token, msg, hint string) {
 		// One lexical error per line, and no more lines than can be shown.
-		if t.Pos.Line == lastLine || lines > MaxErrors {
+		if t.Pos.Line == lastLine || lines > source.MaxErrors {
 			return
 		}
 		lastLine, lines = t.Pos.Line, lines+1
-		p.errs.push(posOf(t.Pos), tokEnd(t), msg, hint)
+		p.errs.Append(posOf(t.Pos), tokEnd(t), msg, hint)
 	}
 	for i, t := range p.toks {
 		switch t.Type {
@@ -279,7 +281,7 @@ func (p *parser) chunks() []chunk {
 func (p *parser) syntaxError(c chunk, err error) {
 	var perr participle.Error
 	if !errors.As(err, &perr) {
-		p.errs.push(posOf(p.toks[c.from].Pos), Pos{}, err.Error(), "")
+		p.errs.Append(posOf(p.toks[c.from].Pos), source.Pos{}, err.Error(), "")
 		return
 	}
 	where := perr.Position()
@@ -306,7 +308,7 @@ func (p *parser) syntaxError(c chunk, err error) {
 		prev = &p.toks[i]
 	}
 	if ti < 0 {
-		p.errs.push(posOf(where), Pos{}, cleanMessage(msg), "")
+		p.errs.Append(posOf(where), source.Pos{}, cleanMessage(msg), "")
 		return
 	}
 	tok := p.toks[ti]
@@ -315,7 +317,7 @@ func (p *parser) syntaxError(c chunk, err error) {
 	}
 	d := &diagnosis{p: p, c: c, tok: tok, tokIndex: ti, prev: prev, expect: expect}
 	d.explain()
-	p.errs.push(d.pos, d.end, d.msg, d.hint)
+	p.errs.Append(d.pos, d.end, d.msg, d.hint)
 }
 
 // diagnosis builds the message for one syntax error.
@@ -327,7 +329,7 @@ type diagnosis struct {
 	prev     *lexer.Token // the significant token before it, nil at the start
 	expect   string       // participle's expectation, e.g. `":" Sum "=" Sum`
 
-	pos, end  Pos
+	pos, end  source.Pos
 	msg, hint string
 }
 
@@ -427,10 +429,10 @@ func firstExpected(s string) string {
 func (d *diagnosis) explain() {
 	d.pos, d.end = posOf(d.tok.Pos), tokEnd(d.tok)
 	if d.atBreak() {
-		d.pos, d.end = tokEnd(*d.prev), Pos{}
+		d.pos, d.end = tokEnd(*d.prev), source.Pos{}
 	}
 	if d.endOfStmt() {
-		d.end = Pos{}
+		d.end = source.Pos{}
 	}
 	first := firstExpected(d.expect)
 	real := d.p.toks[d.tokIndex] // the token in the file (the next keyword when tok is the statement's end)
@@ -442,7 +444,7 @@ func (d *diagnosis) explain() {
 		d.msg = "expected a statement" + d.found()
 		d.hint = "every statement begins with one of: " + strings.Join(stmtKeywordList(), ", ")
 		if real.Type == tokIdent {
-			if s := Suggest(real.Value, stmtKeywordList()); s != "" {
+			if s := source.Suggest(real.Value, stmtKeywordList()); s != "" {
 				d.hint = fmt.Sprintf("did you mean %q?", s)
 			}
 		}
@@ -538,7 +540,7 @@ func (d *diagnosis) unexpected() {
 	switch {
 	case d.tok.Pos.Line > d.prev.Pos.Line && d.tok.Type == tokIdent:
 		d.hint = "a new statement must begin with a keyword such as given or equation"
-		if s := Suggest(d.tok.Value, stmtKeywordList()); s != "" {
+		if s := source.Suggest(d.tok.Value, stmtKeywordList()); s != "" {
 			d.hint = fmt.Sprintf("did you mean %q?", s)
 		}
 	case endsOperand(*d.prev) && beginsOperand(d.tok) && d.inExpression():

@@ -75,7 +75,7 @@ func randomCell(c cell.Type, rng *rand.Rand) []float64 {
 
 func okCorners(c cell.Type, x []float64) bool {
 	k, err := interp.NewKernel(&ir.LoweredForm{Method: "galerkin", Dim: c.Dim(), Unknowns: []ir.LoweredUnknown{{Name: "u", Element: map[bool]string{true: "P1", false: "Q1"}[c.IsSimplex()]}},
-		Integrals: []ir.Integral{{Linear: []ir.Term{{Coef: ir.Int(lang.Pos{}, 1), Test: &ir.FieldD{Field: &ir.Field{Name: "u", Role: ir.Test}}}}}}}, c, interp.Options{Degree: 3})
+		Integrals: []ir.Integral{{Linear: []ir.Term{{Coef: ir.Int(source.Pos{}, 1), Test: &ir.FieldD{Field: &ir.Field{Name: "u", Role: ir.Test}}}}}}}, c, interp.Options{Degree: 3})
 	if err != nil {
 		panic(err)
 	}

@@ -3,7 +3,7 @@ package ir
 import (
 	"math/big"
 
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Expr is a node of the typed expression IR. The family is closed: only the
@@ -13,15 +13,15 @@ type Expr interface {
 	Rank() int
 	// Pos is the model-file position the node was made from; rewrites keep
 	// the position of the node they replace.
-	Pos() lang.Pos
+	Pos() source.Pos
 	exprNode()
 }
 
 // At is embedded in every node to carry its source position.
-type At struct{ P lang.Pos }
+type At struct{ P source.Pos }
 
 // Pos returns the source position.
-func (a At) Pos() lang.Pos { return a.P }
+func (a At) Pos() source.Pos { return a.P }
 
 // Num is an exact rational constant.
 type Num struct {

@@ -4,10 +4,10 @@ import (
 	"math"
 	"testing"
 
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
-var p lang.Pos
+var p source.Pos
 
 // TestCompareIsTotalOrder: Compare is antisymmetric and transitive on a
 // sample of nodes, and Equal ignores positions.
@@ -29,7 +29,7 @@ func TestCompareIsTotalOrder(t *testing.T) {
 			}
 		}
 	}
-	moved := &Sym{At: At{lang.Pos{File: "f", Line: 3, Col: 4}}, Name: "k", Kind: Coefficient}
+	moved := &Sym{At: At{source.Pos{File: "f", Line: 3, Col: 4}}, Name: "k", Kind: Coefficient}
 	if !Equal(k, moved) {
 		t.Error("Equal depends on positions")
 	}

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math/big"
 
-	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Children returns the direct sub-expressions of e, in order.
@@ -154,16 +154,16 @@ func HasField(e Expr) bool {
 // Constructors. Each takes the position the new node stands for.
 
 // Int returns the integer constant n.
-func Int(p lang.Pos, n int64) *Num { return &Num{At{p}, big.NewRat(n, 1)} }
+func Int(p source.Pos, n int64) *Num { return &Num{At{p}, big.NewRat(n, 1)} }
 
 // Rat returns the rational constant a/b.
-func Rat(p lang.Pos, a, b int64) *Num { return &Num{At{p}, big.NewRat(a, b)} }
+func Rat(p source.Pos, a, b int64) *Num { return &Num{At{p}, big.NewRat(a, b)} }
 
 // NewNum wraps a big.Rat (which it does not copy).
-func NewNum(p lang.Pos, r *big.Rat) *Num { return &Num{At{p}, r} }
+func NewNum(p source.Pos, r *big.Rat) *Num { return &Num{At{p}, r} }
 
 // Sum builds a sum node without simplifying.
-func Sum(p lang.Pos, terms ...Expr) Expr {
+func Sum(p source.Pos, terms ...Expr) Expr {
 	if len(terms) == 1 {
 		return terms[0]
 	}
@@ -171,7 +171,7 @@ func Sum(p lang.Pos, terms ...Expr) Expr {
 }
 
 // Prod builds a product node without simplifying.
-func Prod(p lang.Pos, factors ...Expr) Expr {
+func Prod(p source.Pos, factors ...Expr) Expr {
 	if len(factors) == 1 {
 		return factors[0]
 	}
@@ -179,13 +179,13 @@ func Prod(p lang.Pos, factors ...Expr) Expr {
 }
 
 // Neg builds −e without simplifying.
-func Neg(p lang.Pos, e Expr) Expr { return &Mul{At{p}, []Expr{Int(p, -1), e}} }
+func Neg(p source.Pos, e Expr) Expr { return &Mul{At{p}, []Expr{Int(p, -1), e}} }
 
 // Sub builds a − b without simplifying.
-func Sub(p lang.Pos, a, b Expr) Expr { return &Add{At{p}, []Expr{a, Neg(p, b)}} }
+func Sub(p source.Pos, a, b Expr) Expr { return &Add{At{p}, []Expr{a, Neg(p, b)}} }
 
 // Zero returns the zero of the given rank in dimension dim.
-func Zero(p lang.Pos, rank, dim int) Expr {
+func Zero(p source.Pos, rank, dim int) Expr {
 	if rank == 0 {
 		return Int(p, 0)
 	}

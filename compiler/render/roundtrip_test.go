@@ -8,6 +8,7 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -47,7 +48,7 @@ type gen struct {
 func (g gen) sym(name string) ir.Expr { return g.m.Coef(name).Sym }
 
 func (g gen) scalar(depth int) ir.Expr {
-	var p lang.Pos
+	var p source.Pos
 	if depth == 0 {
 		switch g.r.IntN(7) {
 		case 0:
@@ -91,7 +92,7 @@ func (g gen) scalar(depth int) ir.Expr {
 }
 
 func (g gen) vector(depth int) ir.Expr {
-	var p lang.Pos
+	var p source.Pos
 	if depth == 0 {
 		switch g.r.IntN(3) {
 		case 0:

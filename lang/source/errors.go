@@ -1,4 +1,4 @@
-package lang
+package source
 
 import (
 	"bytes"
@@ -54,8 +54,10 @@ func (l *ErrorList) Add(pos, end Pos, msg, hint string) {
 	*l = append(*l, &Error{Pos: pos, End: end, Msg: msg, Hint: hint})
 }
 
-// push appends an error without applying the cap.
-func (l *ErrorList) push(pos, end Pos, msg, hint string) {
+// Append appends an error without applying the cap. A caller that sorts
+// and trims the list itself (the parser keeps the first error of each
+// line, then caps) collects with Append.
+func (l *ErrorList) Append(pos, end Pos, msg, hint string) {
 	*l = append(*l, &Error{Pos: pos, End: end, Msg: msg, Hint: hint})
 }
 
