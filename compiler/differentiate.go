@@ -59,39 +59,6 @@ func mulOf(p source.Pos, f ...ir.Expr) ir.Expr {
 	return ir.Prod(p, f...)
 }
 
-// derivOf returns f'(g) for an elementary function of one argument, or nil
-// when the function has no derivative rule here.
-func derivOf(p source.Pos, fn ir.Func, g ir.Expr) ir.Expr {
-	call := func(f ir.Func) ir.Expr { return &ir.Call{At: ir.At{P: p}, Fn: f, Args: []ir.Expr{g}} }
-	sq := func(x ir.Expr) ir.Expr { return &ir.Pow{At: ir.At{P: p}, Base: x, Exp: ir.Int(p, 2)} }
-	one := ir.Int(p, 1)
-	switch fn {
-	case ir.Sin:
-		return call(ir.Cos)
-	case ir.Cos:
-		return ir.Neg(p, call(ir.Sin))
-	case ir.Tan:
-		return ir.Sum(p, one, sq(call(ir.Tan)))
-	case ir.Exp:
-		return call(ir.Exp)
-	case ir.Log:
-		return &ir.Pow{At: ir.At{P: p}, Base: g, Exp: ir.Int(p, -1)}
-	case ir.Abs:
-		return call(ir.Sign)
-	case ir.Sign:
-		return ir.Int(p, 0)
-	case ir.Tanh:
-		return ir.Sub(p, one, sq(call(ir.Tanh)))
-	case ir.Sinh:
-		return call(ir.Cosh)
-	case ir.Cosh:
-		return call(ir.Sinh)
-	case ir.Coth:
-		return ir.Sub(p, one, sq(call(ir.Coth)))
-	}
-	return nil
-}
-
 // chain differentiates a scalar Pow or Call with the operator d (one of
 // grad, partial, time derivative), returning nil when no rule applies.
 func chain(p source.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
@@ -123,7 +90,7 @@ func chain(p source.Pos, e ir.Expr, d func(ir.Expr) ir.Expr) ir.Expr {
 			a := e.Args[0]
 			return ir.Prod(p, &ir.Pow{At: e.At, Base: e, Exp: ir.Int(p, -1)}, &ir.Dot{At: e.At, A: a, B: d(a)})
 		}
-		if f := derivOf(p, e.Fn, e.Args[0]); f != nil {
+		if f := e.Fn.Derivative(p, e.Args[0]); f != nil {
 			return ir.Prod(p, f, d(e.Args[0]))
 		}
 	}

@@ -702,7 +702,7 @@ func (g *bodyGen) coef(e ir.Expr) int {
 		case ir.Norm:
 			return g.fail("gogen: norm of a vector in a lowered coefficient")
 		}
-		if _, ok := goFuncs[e.Fn]; !ok && e.Fn != ir.Coth {
+		if e.Fn.GoName() == "" && e.Fn != ir.Coth && e.Fn != ir.Sign {
 			return g.fail("gogen: function %s", e.Fn)
 		}
 		return d.fn(e.Fn, g.coef(e.Args[0]))

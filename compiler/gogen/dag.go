@@ -374,7 +374,7 @@ func (d *dag) recipPoly(b int) (int, bool) {
 
 func (d *dag) fn(f ir.Func, a int) int {
 	if v, ok := d.isConst(a); ok {
-		return d.konst(applyFn(f, v))
+		return d.konst(f.Value(v))
 	}
 	if f == ir.Coth {
 		return d.div(d.konst(1), d.fn(ir.Tanh, a))
@@ -430,48 +430,6 @@ func (d *dag) pow(a, b int) int {
 		return d.fn(ir.Sqrt, a)
 	}
 	return d.intern(node{op: opPow, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
-}
-
-func applyFn(f ir.Func, a float64) float64 {
-	switch f {
-	case ir.Sin:
-		return math.Sin(a)
-	case ir.Cos:
-		return math.Cos(a)
-	case ir.Tan:
-		return math.Tan(a)
-	case ir.Exp:
-		return math.Exp(a)
-	case ir.Log:
-		return math.Log(a)
-	case ir.Sqrt:
-		return math.Sqrt(a)
-	case ir.Abs:
-		return math.Abs(a)
-	case ir.Tanh:
-		return math.Tanh(a)
-	case ir.Sinh:
-		return math.Sinh(a)
-	case ir.Cosh:
-		return math.Cosh(a)
-	case ir.Coth:
-		return 1 / math.Tanh(a)
-	case ir.Sign:
-		switch {
-		case a > 0:
-			return 1
-		case a < 0:
-			return -1
-		}
-		return a
-	}
-	panic("gogen: no evaluation for function " + f.String())
-}
-
-var goFuncs = map[ir.Func]string{
-	ir.Sin: "math.Sin", ir.Cos: "math.Cos", ir.Tan: "math.Tan", ir.Exp: "math.Exp", ir.Log: "math.Log",
-	ir.Sqrt: "math.Sqrt", ir.Abs: "math.Abs", ir.Tanh: "math.Tanh", ir.Sinh: "math.Sinh", ir.Cosh: "math.Cosh",
-	ir.Sign: "fwSign",
 }
 
 // literal formats a float64 as a Go constant that reads back exactly.
@@ -674,8 +632,8 @@ func (s *scheduler) expr(id int) string {
 	case opNeg:
 		return "-" + s.ref(n.args[0])
 	case opFn:
-		f := goFuncs[n.fn]
-		if f == "fwSign" {
+		f := n.fn.GoName()
+		if n.fn == ir.Sign {
 			s.usesFn["fwSign"] = true
 			f = s.signName
 		}

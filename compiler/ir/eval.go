@@ -70,40 +70,12 @@ func powi(b float64, n int64) float64 {
 
 func callFloat(fn Func, x float64, args []Expr, env Env) float64 {
 	switch fn {
-	case Sin:
-		return math.Sin(x)
-	case Cos:
-		return math.Cos(x)
-	case Tan:
-		return math.Tan(x)
-	case Exp:
-		return math.Exp(x)
-	case Log:
-		return math.Log(x)
-	case Sqrt:
-		return math.Sqrt(x)
-	case Abs:
-		return math.Abs(x)
-	case Tanh:
-		return math.Tanh(x)
-	case Sinh:
-		return math.Sinh(x)
-	case Cosh:
-		return math.Cosh(x)
-	case Coth:
-		return 1 / math.Tanh(x)
-	case Sign:
-		switch {
-		case x > 0:
-			return 1
-		case x < 0:
-			return -1
-		}
-		return 0
 	case Min:
 		return math.Min(x, Eval(args[1], env))
 	case Max:
 		return math.Max(x, Eval(args[1], env))
+	case Norm:
+		panic("ir: Eval: function norm needs lowering first")
 	}
-	panic("ir: Eval: function " + fn.String() + " needs lowering first")
+	return fn.Value(x)
 }

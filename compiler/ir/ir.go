@@ -145,50 +145,6 @@ type Pow struct {
 	Base, Exp Expr
 }
 
-// Func names an elementary function.
-type Func uint8
-
-// Elementary functions.
-const (
-	Sin Func = iota
-	Cos
-	Tan
-	Exp
-	Log
-	Sqrt
-	Abs
-	Tanh
-	Sinh
-	Cosh
-	Coth
-	Min
-	Max
-	Sign
-	Norm // Euclidean norm of a vector argument
-)
-
-var funcNames = [...]string{"sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh", "cosh", "coth", "min", "max", "sign", "norm"}
-
-func (f Func) String() string { return funcNames[f] }
-
-// FuncByName maps a model-language function name to its Func.
-func FuncByName(name string) (Func, bool) {
-	for i, n := range funcNames {
-		if n == name {
-			return Func(i), true
-		}
-	}
-	return 0, false
-}
-
-// Arity is the number of arguments the function takes.
-func (f Func) Arity() int {
-	if f == Min || f == Max {
-		return 2
-	}
-	return 1
-}
-
 // Call applies an elementary function. The result is a scalar.
 type Call struct {
 	At

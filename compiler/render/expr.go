@@ -523,11 +523,7 @@ func (p printer) call(e *ir.Call) (string, int) {
 		}
 	}
 	if p.style == LaTeX {
-		switch e.Fn {
-		case ir.Sin, ir.Cos, ir.Tan, ir.Exp, ir.Log, ir.Tanh, ir.Sinh, ir.Cosh, ir.Coth, ir.Min, ir.Max:
-			return `\` + e.Fn.String() + `\left(` + strings.Join(args, ", ") + `\right)`, precAtom
-		}
-		return `\operatorname{` + e.Fn.String() + `}\left(` + strings.Join(args, ", ") + `\right)`, precAtom
+		return e.Fn.LaTeX() + `\left(` + strings.Join(args, ", ") + `\right)`, precAtom
 	}
 	return e.Fn.String() + "(" + strings.Join(args, ", ") + ")", precAtom
 }

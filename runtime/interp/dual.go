@@ -82,7 +82,7 @@ func (p *Program) EvalGrad(env, out, grad, stack []float64) {
 			a[0] = v
 		case opFn:
 			a := st[4*sp-4 : 4*sp]
-			v, d := applyDeriv(ir.Func(in.arg), a[0])
+			v, d := ir.Func(in.arg).ValueSlope(a[0])
 			a[0] = v
 			scale(a, d)
 		case opMin, opMax:
@@ -113,42 +113,4 @@ func scale(a []float64, d float64) {
 	a[1] *= d
 	a[2] *= d
 	a[3] *= d
-}
-
-// applyDeriv returns f(a) and f'(a).
-func applyDeriv(fn ir.Func, a float64) (v, d float64) {
-	switch fn {
-	case ir.Sin:
-		s, c := math.Sincos(a)
-		return s, c
-	case ir.Cos:
-		s, c := math.Sincos(a)
-		return c, -s
-	case ir.Tan:
-		t := math.Tan(a)
-		return t, 1 + t*t
-	case ir.Exp:
-		e := math.Exp(a)
-		return e, e
-	case ir.Log:
-		return math.Log(a), 1 / a
-	case ir.Sqrt:
-		s := math.Sqrt(a)
-		return s, 0.5 / s
-	case ir.Abs:
-		return math.Abs(a), apply(ir.Sign, a)
-	case ir.Tanh:
-		t := math.Tanh(a)
-		return t, 1 - t*t
-	case ir.Sinh:
-		return math.Sinh(a), math.Cosh(a)
-	case ir.Cosh:
-		return math.Cosh(a), math.Sinh(a)
-	case ir.Coth:
-		c := 1 / math.Tanh(a)
-		return c, 1 - c*c
-	case ir.Sign:
-		return apply(ir.Sign, a), 0
-	}
-	return apply(fn, a), 0
 }

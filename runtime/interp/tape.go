@@ -336,7 +336,7 @@ func constValue(e ir.Expr) (float64, bool) {
 		case ir.Max:
 			return math.Max(a[0], a[1]), true
 		}
-		return apply(e.Fn, a[0]), true
+		return e.Fn.Value(a[0]), true
 	}
 	return 0, false
 }
@@ -536,43 +536,6 @@ func (c *compiler) nary(xs []ir.Expr, op opcode, empty string) (Deps, error) {
 	return d, nil
 }
 
-// apply evaluates a unary elementary function.
-func apply(fn ir.Func, a float64) float64 {
-	switch fn {
-	case ir.Sin:
-		return math.Sin(a)
-	case ir.Cos:
-		return math.Cos(a)
-	case ir.Tan:
-		return math.Tan(a)
-	case ir.Exp:
-		return math.Exp(a)
-	case ir.Log:
-		return math.Log(a)
-	case ir.Sqrt:
-		return math.Sqrt(a)
-	case ir.Abs:
-		return math.Abs(a)
-	case ir.Tanh:
-		return math.Tanh(a)
-	case ir.Sinh:
-		return math.Sinh(a)
-	case ir.Cosh:
-		return math.Cosh(a)
-	case ir.Coth:
-		return 1 / math.Tanh(a)
-	case ir.Sign:
-		switch {
-		case a > 0:
-			return 1
-		case a < 0:
-			return -1
-		}
-		return a // ±0 and NaN
-	}
-	panic(fmt.Sprintf("interp: no unary evaluation for %v", fn))
-}
-
 // Eval runs the program: out[k] receives expression k. env is the input
 // environment (length Slots.Len()), stack a scratch buffer of length at
 // least StackSize(). It does not allocate.
@@ -600,7 +563,7 @@ func (p *Program) Eval(env, out, stack []float64) {
 			sp--
 			stack[sp-1] = math.Pow(stack[sp-1], stack[sp])
 		case opFn:
-			stack[sp-1] = apply(ir.Func(in.arg), stack[sp-1])
+			stack[sp-1] = ir.Func(in.arg).Value(stack[sp-1])
 		case opMin:
 			sp--
 			stack[sp-1] = math.Min(stack[sp-1], stack[sp])
