@@ -27,19 +27,6 @@ type CheckOptions struct {
 	Partial bool
 }
 
-// Cell quantities a model may use, with their ranks. They are constant in
-// each cell.
-var cellQuantities = map[string]int{
-	"cell_diameter": 0, // longest edge
-	"cell_volume":   0, // length, area or volume of the cell
-	"G":             2, // element metric tensor G = J⁻ᵀJ⁻¹ (Bazilevs et al. 2007)
-	// C_inv = sup h²‖Δv‖²/‖∇v‖² of the unknowns' elements (Model.InverseEstimate)
-	"inverse_estimate": 0,
-	// Δt of the time integration, for transient models (a τ with a
-	// time-step term reads it, so τ always matches the step in use)
-	"time_step": 0,
-}
-
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
 	"norm", "pow", "test", "previous", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
@@ -190,7 +177,7 @@ func (c *checker) checkTimeStep() {
 			return nil
 		}
 		ir.Inspect(e, func(x ir.Expr) bool {
-			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Name == "time_step" && at == nil {
+			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Q == ir.TimeStep && at == nil {
 				at = s
 			}
 			return at == nil
@@ -790,11 +777,8 @@ func (c *checker) ident(e *lang.Ident) ir.Expr {
 	case "pi":
 		return &ir.Const{At: at, Name: "pi"}
 	}
-	if r, ok := cellQuantities[e.Name]; ok {
-		if e.Name == "G" && c.dim == 1 {
-			r = 2
-		}
-		return &ir.Sym{At: at, Name: e.Name, Kind: ir.CellQuantity, R: r}
+	if q, ok := ir.QuantityByName(e.Name); ok {
+		return &ir.Sym{At: at, Name: e.Name, Kind: ir.CellQuantity, R: q.Rank(), Q: q}
 	}
 	if u, ok := c.unknowns[e.Name]; ok {
 		return &ir.Field{At: at, Name: u.Name, Index: u.Index, Role: ir.Trial, R: u.Rank}

@@ -400,7 +400,7 @@ func (m *Model) usesInverseEstimate() bool {
 				return !found
 			}
 			switch {
-			case s.Kind == ir.CellQuantity && s.Name == "inverse_estimate":
+			case s.Kind == ir.CellQuantity && s.Q == ir.InverseEstimate:
 				found = true
 			case s.Kind == ir.Coefficient && !seen[s.Name]:
 				seen[s.Name] = true

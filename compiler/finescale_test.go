@@ -145,7 +145,7 @@ func (e arbitraryEnv) value(key string) float64 {
 
 func (e arbitraryEnv) Coord(axis int) float64    { return e.value(fmt.Sprint("x", axis)) }
 func (e arbitraryEnv) Time() float64             { return e.value("t") }
-func (e arbitraryEnv) CellQ(q *ir.CellQ) float64 { return 1.5 + e.value(q.Name) }
+func (e arbitraryEnv) CellQ(q *ir.CellQ) float64 { return 1.5 + e.value(q.Q.String()) }
 func (e arbitraryEnv) FieldD(f *ir.FieldD) float64 {
 	return e.value(fmt.Sprint(f.Field.Role, f.Field.Index, f.Comp, f.D, f.DT))
 }

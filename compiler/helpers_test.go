@@ -59,7 +59,7 @@ type pointEnv struct {
 func (e *pointEnv) Coord(axis int) float64 { return e.x[axis] }
 func (e *pointEnv) Time() float64          { return 0 }
 func (e *pointEnv) CellQ(q *ir.CellQ) float64 {
-	panic("cell quantity in a pointwise test: " + q.Name)
+	panic("cell quantity in a pointwise test: " + q.Q.String())
 }
 func (e *pointEnv) FieldD(f *ir.FieldD) float64 {
 	key := [2]int{f.Field.Index, f.Comp}

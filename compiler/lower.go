@@ -240,7 +240,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		}
 		panic("compiler: lower: unknown tau " + s.Name)
 	case ir.CellQuantity:
-		if s.Name == "inverse_estimate" {
+		if s.Q == ir.InverseEstimate {
 			// A constant of the elements, not of the cell: lowered to its
 			// value so that every kernel, interpreted or generated, uses
 			// the same number.
@@ -251,18 +251,18 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		}
 		switch s.R {
 		case 0:
-			return []ir.Expr{&ir.CellQ{At: at, Name: s.Name}}
+			return []ir.Expr{&ir.CellQ{At: at, Q: s.Q}}
 		case 1:
 			out := make([]ir.Expr, l.dim)
 			for i := range out {
-				out[i] = &ir.CellQ{At: at, Name: s.Name, I: i}
+				out[i] = &ir.CellQ{At: at, Q: s.Q, I: i}
 			}
 			return out
 		}
 		out := make([]ir.Expr, 0, l.dim*l.dim)
 		for i := 0; i < l.dim; i++ {
 			for j := 0; j < l.dim; j++ {
-				out = append(out, &ir.CellQ{At: at, Name: s.Name, I: i, J: j})
+				out = append(out, &ir.CellQ{At: at, Q: s.Q, I: i, J: j})
 			}
 		}
 		return out

@@ -9,7 +9,7 @@ import (
 )
 
 // Normal is the outward unit normal on boundary integrals.
-var Normal = &ir.Sym{Name: "n", Kind: ir.CellQuantity, R: 1}
+var Normal = &ir.Sym{Name: ir.Normal.String(), Kind: ir.CellQuantity, R: 1, Q: ir.Normal}
 
 // BoundaryPart is a boundary integral on one side.
 type BoundaryPart struct {

@@ -622,25 +622,25 @@ func (g *bodyGen) coef(e ir.Expr) int {
 	case *ir.Time:
 		return d.leaf("in.Time", lvCell)
 	case *ir.CellQ:
-		switch e.Name {
-		case "cell_diameter":
+		switch e.Q {
+		case ir.Diameter:
 			return g.cellDiameter()
-		case "cell_volume":
+		case ir.Volume:
 			return g.cellVolume()
-		case "time_step":
+		case ir.TimeStep:
 			return d.leaf("in.Step", lvCell)
-		case "G":
+		case ir.Metric:
 			if e.I < 0 || e.I >= g.dim || e.J < 0 || e.J >= g.dim {
 				return g.fail("gogen: G[%d][%d] in %d dimensions", e.I, e.J, g.dim)
 			}
 			return g.metric(e.I, e.J)
-		case "n":
+		case ir.Normal:
 			if e.I < 0 || e.I >= g.dim {
 				return g.fail("gogen: n[%d] in %d dimensions", e.I, g.dim)
 			}
 			return g.normal(e.I)
 		}
-		return g.fail("gogen: unknown cell quantity %q", e.Name)
+		return g.fail("gogen: unknown quantity %v", e.Q)
 	case *ir.FieldD:
 		if e.Field == nil || e.Field.Role != ir.Previous {
 			return g.fail("gogen: a trial or test function inside a coefficient")

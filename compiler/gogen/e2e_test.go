@@ -38,6 +38,7 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"

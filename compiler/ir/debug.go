@@ -38,7 +38,7 @@ func debug(b *strings.Builder, e Expr) {
 		fmt.Fprintf(b, "%s:%s[%d]d%v", e.Field.Role, e.Field.Name, e.Comp, e.D)
 		return
 	case *CellQ:
-		fmt.Fprintf(b, "%s[%d,%d]", e.Name, e.I, e.J)
+		fmt.Fprintf(b, "%s[%d,%d]", e.Q, e.I, e.J)
 		return
 	case *Call:
 		head = e.Fn.String()

@@ -51,8 +51,8 @@ const (
 	// Coefficient is a model coefficient ("given"), with a definition
 	// that lowering substitutes.
 	Coefficient SymKind = iota
-	// CellQuantity is a per-cell geometric quantity (cell_diameter,
-	// cell_volume, the metric tensor G). It is constant inside each cell.
+	// CellQuantity is a quantity of the cell or the discretisation (see
+	// Quantity); Sym.Q says which.
 	CellQuantity
 	// Tau is the stabilisation parameter of one equation.
 	Tau
@@ -78,6 +78,8 @@ type Sym struct {
 	// Deps says on what the symbol's value may depend (known from its
 	// definition). A derivative along a variable not in Deps is zero.
 	Deps Deps
+	// Q is the quantity a CellQuantity symbol stands for.
+	Q Quantity
 }
 
 // Deps is a set of variables a quantity may depend on.
@@ -228,10 +230,10 @@ type FieldD struct {
 }
 
 // CellQ is a scalar leaf of lowered expressions: component (I, J) of a
-// cell quantity (I = J = 0 for scalar ones).
+// quantity (I = J = 0 for scalar ones).
 type CellQ struct {
 	At
-	Name string
+	Q    Quantity
 	I, J int
 }
 

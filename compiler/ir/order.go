@@ -87,7 +87,7 @@ func Compare(a, b Expr) int {
 		return strings.Compare(a.Name, bs.Name)
 	case *CellQ:
 		bq := b.(*CellQ)
-		if c := strings.Compare(a.Name, bq.Name); c != 0 {
+		if c := strings.Compare(a.Q.String(), bq.Q.String()); c != 0 {
 			return c
 		}
 		if c := cmpInt(a.I, bq.I); c != 0 {

@@ -235,13 +235,13 @@ func (p printer) expr(e ir.Expr) (string, int) {
 	case *ir.FieldD:
 		return p.fieldD(e), precAtom
 	case *ir.CellQ:
-		if e.Name == "G" {
-			return fmt.Sprintf("G[%d][%d]", e.I+1, e.J+1), precAtom
+		switch e.Q.Rank() {
+		case 2:
+			return fmt.Sprintf("%v[%d][%d]", e.Q, e.I+1, e.J+1), precAtom
+		case 1:
+			return fmt.Sprintf("%v[%d]", e.Q, e.I+1), precAtom
 		}
-		if e.Name == "n" {
-			return fmt.Sprintf("n[%d]", e.I+1), precAtom
-		}
-		return e.Name, precAtom
+		return e.Q.String(), precAtom
 	}
 	return fmt.Sprintf("<%T>", e), precAtom
 }

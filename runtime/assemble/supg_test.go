@@ -44,7 +44,7 @@ func supgForm() *ir.LoweredForm {
 	a := []ir.Expr{num(1, 1), num(1, 2)}
 	k := num(1, 100)
 	anorm := &ir.Pow{Base: add(mul(a[0], a[0]), mul(a[1], a[1])), Exp: num(1, 2)}
-	h := &ir.CellQ{Name: "cell_diameter"}
+	h := &ir.CellQ{Q: ir.Diameter}
 	alpha := mul(anorm, h, &ir.Pow{Base: mul(num(2, 1), k), Exp: num(-1, 1)})
 	xi := add(&ir.Call{Fn: ir.Coth, Args: []ir.Expr{alpha}}, mul(num(-1, 1), &ir.Pow{Base: alpha, Exp: num(-1, 1)}))
 	tau := mul(h, &ir.Pow{Base: mul(num(2, 1), anorm), Exp: num(-1, 1)}, xi)
@@ -150,7 +150,7 @@ func TestAssembleFacets(t *testing.T) {
 	form := &ir.LoweredForm{
 		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "c", Element: "Q1"}},
 		Integrals: []ir.Integral{
-			{Domain: ir.Domain{Side: mesh.Top}, Linear: []ir.Term{{Coef: &ir.CellQ{Name: "n", I: 1}, Test: fd(vF)}}},
+			{Domain: ir.Domain{Side: mesh.Top}, Linear: []ir.Term{{Coef: &ir.CellQ{Q: ir.Normal, I: 1}, Test: fd(vF)}}},
 			{Domain: ir.Domain{Side: mesh.Left}, Linear: []ir.Term{{Coef: num(3, 1), Test: fd(vF)}}},
 		},
 	}

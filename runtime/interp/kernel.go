@@ -92,12 +92,12 @@ func ExprDeps(e ir.Expr) Deps {
 		case *ir.Time:
 			d |= DepTime
 		case *ir.CellQ:
-			switch x.Name {
-			case "cell_diameter", "cell_volume":
+			switch x.Q.Variation() {
+			case ir.PerCell:
 				d |= DepCell
-			case "time_step":
+			case ir.PerStep:
 				d |= DepTime
-			default:
+			case ir.PerPoint:
 				d |= DepPoint
 			}
 		}
@@ -320,8 +320,8 @@ func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term)
 			e = cs[0]
 		}
 		d := ExprDeps(e)
-		it.needDiam = it.needDiam || usesCellQ(e, "cell_diameter")
-		it.needVol = it.needVol || usesCellQ(e, "cell_volume")
+		it.needDiam = it.needDiam || usesQuantity(e, ir.Diameter)
+		it.needVol = it.needVol || usesQuantity(e, ir.Volume)
 		if d&DepPoint == 0 {
 			cellE = append(cellE, e)
 			cellK = append(cellK, i)
@@ -416,10 +416,10 @@ func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term)
 	return it, nil
 }
 
-func usesCellQ(e ir.Expr, name string) bool {
+func usesQuantity(e ir.Expr, want ir.Quantity) bool {
 	found := false
 	ir.Inspect(e, func(x ir.Expr) bool {
-		if q, ok := x.(*ir.CellQ); ok && q.Name == name {
+		if q, ok := x.(*ir.CellQ); ok && q.Q == want {
 			found = true
 		}
 		return !found

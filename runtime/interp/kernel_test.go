@@ -159,7 +159,7 @@ func TestFacetKernelTriangle(t *testing.T) {
 		Integrals: []ir.Integral{{
 			Domain:   ir.Domain{Side: "outlet"},
 			Bilinear: []ir.Term{term(num(1, 1), fd(uField, 0), fd(vField, 0))},
-			Linear:   []ir.Term{term(&ir.CellQ{Name: "n", I: 0}, nil, fd(vField, 0))},
+			Linear:   []ir.Term{term(&ir.CellQ{Q: ir.Normal, I: 0}, nil, fd(vField, 0))},
 		}},
 	}
 	fks, err := NewFacetKernels(form, cell.Triangle, Options{})
@@ -181,7 +181,7 @@ func TestFacetKernelHexNormals(t *testing.T) {
 	for k := 0; k < 3; k++ {
 		form.Integrals = append(form.Integrals, ir.Integral{
 			Domain: ir.Domain{Side: "s"},
-			Linear: []ir.Term{term(mul(num(int64(k+1), 1), &ir.CellQ{Name: "n", I: k}), nil, fd(vField, 0))},
+			Linear: []ir.Term{term(mul(num(int64(k+1), 1), &ir.CellQ{Q: ir.Normal, I: k}), nil, fd(vField, 0))},
 		})
 	}
 	fks, err := NewFacetKernels(form, cell.Hexahedron, Options{})
@@ -210,7 +210,7 @@ func TestFacetKernelHexNormals(t *testing.T) {
 
 func TestKernelCellDoesNotAllocate(t *testing.T) {
 	// SUPG-like coefficients: cell-constant τ with coth, and a varying one.
-	h := &ir.CellQ{Name: "cell_diameter"}
+	h := &ir.CellQ{Q: ir.Diameter}
 	alpha := mul(num(5, 1), h)
 	tau := mul(h, add(call(ir.Coth, alpha), mul(num(-1, 1), pow(alpha, num(-1, 1)))))
 	bil := append(laplaceTerms(2),
@@ -255,7 +255,7 @@ func TestKernelErrors(t *testing.T) {
 var sink float64
 
 func benchKernel(b *testing.B, elem string, c cell.Type) {
-	h := &ir.CellQ{Name: "cell_diameter"}
+	h := &ir.CellQ{Q: ir.Diameter}
 	alpha := mul(num(50, 1), h)
 	tau := mul(h, num(1, 2), add(call(ir.Coth, alpha), mul(num(-1, 1), pow(alpha, num(-1, 1)))))
 	a := []ir.Expr{num(1, 1), num(1, 2)}

@@ -228,7 +228,7 @@ func ExprKey(e ir.Expr) string {
 		case *ir.Time:
 			b = append(b, 't')
 		case *ir.CellQ:
-			b = fmt.Appendf(b, "q%s.%d.%d", e.Name, e.I, e.J)
+			b = fmt.Appendf(b, "q%d.%d.%d", e.Q, e.I, e.J)
 		case *ir.FieldD:
 			idx := -1
 			if e.Field != nil {
@@ -431,30 +431,30 @@ func (c *compiler) node(e ir.Expr) (Deps, error) {
 		c.emit(opLoad, SlotT, 1)
 		return DepTime, nil
 	case *ir.CellQ:
-		switch e.Name {
-		case "cell_diameter":
+		switch e.Q {
+		case ir.Diameter:
 			c.emit(opLoad, SlotCellDiameter, 1)
 			return DepCell, nil
-		case "cell_volume":
+		case ir.Volume:
 			c.emit(opLoad, SlotCellVolume, 1)
 			return DepCell, nil
-		case "time_step":
+		case ir.TimeStep:
 			c.emit(opLoad, SlotStep, 1)
 			return DepTime, nil
-		case "G":
+		case ir.Metric:
 			if e.I < 0 || e.I > 2 || e.J < 0 || e.J > 2 {
 				return 0, &UnsupportedError{fmt.Sprintf("G[%d][%d]", e.I, e.J)}
 			}
 			c.emit(opLoad, int32(SlotG+3*e.I+e.J), 1)
 			return DepPoint, nil
-		case "n":
+		case ir.Normal:
 			if e.I < 0 || e.I > 2 {
 				return 0, &UnsupportedError{fmt.Sprintf("n[%d]", e.I)}
 			}
 			c.emit(opLoad, int32(SlotNormal+e.I), 1)
 			return DepPoint, nil
 		}
-		return 0, &UnsupportedError{fmt.Sprintf("cell quantity %q", e.Name)}
+		return 0, &UnsupportedError{fmt.Sprintf("quantity %v", e.Q)}
 	case *ir.FieldD:
 		if e.Field == nil || e.Field.Role != ir.Previous {
 			return 0, &UnsupportedError{"field that is not a previous iterate"}

@@ -14,7 +14,7 @@ import (
 // the values are printed to 15 digits; at α = 0.1 coth α − 1/α cancels
 // about two digits.
 func TestTapeOptimalUpwindFunction(t *testing.T) {
-	alpha := &ir.CellQ{Name: "cell_diameter"} // any input slot will do
+	alpha := &ir.CellQ{Q: ir.Diameter} // any input slot will do
 	xi := add(call(ir.Coth, alpha), mul(num(-1, 1), pow(alpha, num(-1, 1))))
 	s := &Slots{}
 	p := MustCompile([]ir.Expr{xi}, s)
@@ -103,7 +103,7 @@ func TestTapeRejects(t *testing.T) {
 	for _, e := range []ir.Expr{
 		&ir.Sym{Name: "kappa"},
 		&ir.FieldD{Field: &ir.Field{Name: "u", Role: ir.Trial}},
-		&ir.CellQ{Name: "mystery"},
+		&ir.CellQ{Q: ir.InverseEstimate}, // lowering replaces it by its number
 		&ir.Call{Fn: ir.Norm, Args: []ir.Expr{coord(0)}},
 	} {
 		if _, err := Compile([]ir.Expr{e}, s); err == nil {

@@ -165,7 +165,7 @@ func TestRobinBoundary1D(t *testing.T) {
 			{Bilinear: []ir.Term{{Coef: num(1, 1), Trial: fd(trialU, 0, 1), Test: fd(testU, 0, 1)}}},
 			{Domain: ir.Domain{Side: mesh.Right},
 				Bilinear: []ir.Term{{Coef: flt(beta), Trial: fd(trialU, 0), Test: fd(testU, 0)}},
-				Linear:   []ir.Term{{Coef: mul(flt(g), &ir.CellQ{Name: "n", I: 0}), Test: fd(testU, 0)}}},
+				Linear:   []ir.Term{{Coef: mul(flt(g), &ir.CellQ{Q: ir.Normal, I: 0}), Test: fd(testU, 0)}}},
 		},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.Left, Value: num(0, 1)}},
 	}

@@ -25,7 +25,7 @@ func coord(k int) ir.Expr               { return &ir.Coord{Axis: k} }
 
 var (
 	pi     = &ir.Const{Name: "pi"}
-	hCell  = &ir.CellQ{Name: "cell_diameter"}
+	hCell  = &ir.CellQ{Q: ir.Diameter}
 	trialU = &ir.Field{Name: "u", Index: 0, Role: ir.Trial}
 	testU  = &ir.Field{Name: "u", Index: 0, Role: ir.Test}
 )

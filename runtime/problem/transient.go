@@ -242,7 +242,7 @@ func steppedTerm(t ir.Term) (ir.Term, error) {
 		return ir.Term{}, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
 	}
 	p := t.Coef.Pos()
-	invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Name: "time_step"}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
+	invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Q: ir.TimeStep}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
 	trial := *t.Trial
 	trial.DT = 0
 	return ir.Term{Coef: ir.Prod(p, invStep, t.Coef), Trial: &trial, Test: t.Test}, nil
