@@ -61,7 +61,7 @@ func addSolveFlags(fs *flag.FlagSet) *solveFlags {
 // defaultMesh picks the built-in mesh for a model: the unit interval,
 // square or cube, cut into cells of the family the unknowns use.
 func defaultMesh(m *compiler.Model) string {
-	quad := strings.HasPrefix(m.Unknowns[0].Element, "Q")
+	quad := m.Unknowns[0].Element.Family == ir.TensorProduct
 	switch m.Dim {
 	case 1:
 		return "interval:0,1:64"
@@ -231,10 +231,9 @@ func buildMesh(m *compiler.Model, spec string) (*mesh.Mesh, string, error) {
 		return nil, spec, &usageError{fmt.Sprintf("--mesh: a %d-dimensional mesh for a %d-dimensional model", msh.Dim, m.Dim)}
 	}
 	for _, u := range m.Unknowns {
-		simplexElem := strings.HasPrefix(u.Element, "P")
-		if simplexElem != msh.Cell.IsSimplex() {
-			return nil, spec, &usageError{fmt.Sprintf("--mesh: unknown %s uses %s elements, which need %s cells, but the mesh has %v cells",
-				u.Name, u.Element, map[bool]string{true: "simplex", false: "quadrilateral or hexahedral"}[simplexElem], msh.Cell)}
+		if m.Dim > 1 && (u.Element.Family == ir.Simplicial) != msh.Cell.IsSimplex() {
+			return nil, spec, &usageError{fmt.Sprintf("--mesh: unknown %s uses %v elements, which need %s cells, but the mesh has %v cells",
+				u.Name, u.Element, u.Element.CellNoun(m.Dim), msh.Cell)}
 		}
 	}
 	for _, side := range m.Sides {
@@ -511,7 +510,7 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 	}
 	for k, f := range sol.Fields {
-		jf := jsonField{Name: f.Name, Element: m.Unknowns[k].Element, Components: f.Components, Values: f.Values}
+		jf := jsonField{Name: f.Name, Element: m.Unknowns[k].Element.String(), Components: f.Components, Values: f.Values}
 		coords := sol.Dofs.NodeCoords(k)
 		d := m.Dim
 		for n := 0; n < len(coords)/d; n++ {

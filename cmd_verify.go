@@ -8,7 +8,6 @@ import (
 	"io"
 	"math"
 	"math/big"
-	"strconv"
 	"strings"
 
 	"github.com/formwright/formwright/compiler"
@@ -71,12 +70,6 @@ type convergenceError struct{ msgs []string }
 
 func (e *convergenceError) Error() string {
 	return "convergence check failed:\n  " + strings.Join(e.msgs, "\n  ")
-}
-
-// elementDegree reads the polynomial degree from an element name.
-func elementDegree(el string) int {
-	d, _ := strconv.Atoi(el[1:])
-	return d
 }
 
 // studyMesh is the mesh of level l: n cells per unit length.
@@ -185,11 +178,11 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	}
 	if *pattern == "" {
 		switch {
-		case m.Dim == 2 && strings.HasPrefix(m.Unknowns[0].Element, "Q"):
+		case m.Dim == 2 && m.Unknowns[0].Element.Family == ir.TensorProduct:
 			*pattern = "quad"
 		case m.Dim == 2:
 			*pattern = "tri"
-		case strings.HasPrefix(m.Unknowns[0].Element, "Q"):
+		case m.Unknowns[0].Element.Family == ir.TensorProduct:
 			*pattern = "hex"
 		default:
 			*pattern = "tet"
@@ -230,13 +223,13 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 		kmax := 1
 		for _, u := range m.Unknowns {
-			kmax = max(kmax, elementDegree(u.Element))
+			kmax = max(kmax, u.Element.Degree)
 		}
 		vms := make([]verifyMethod, len(m.Unknowns))
 		finestNorm := make([]float64, len(m.Unknowns)) // ‖u*‖ on the latest mesh
 		for i, u := range m.Unknowns {
 			l2, h1, checkH1 := expectedOrders(m, split, i)
-			vms[i] = verifyMethod{Method: meth.String(), Field: u.Name, Element: u.Element, ExpectedL2: l2, ExpectedH1: h1, CheckH1: checkH1, Pass: true}
+			vms[i] = verifyMethod{Method: meth.String(), Field: u.Name, Element: u.Element.String(), ExpectedL2: l2, ExpectedH1: h1, CheckH1: checkH1, Pass: true}
 		}
 		for l := 0; l < *levels; l++ {
 			n := n0 << l
@@ -338,7 +331,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		rep.Sweep = sw
 	}
 	if *plotPath != "" {
-		k := float64(elementDegree(m.Unknowns[0].Element))
+		k := float64(m.Unknowns[0].Element.Degree)
 		if err := plot.Convergence(*plotPath, curves, plot.ConvOptions{Title: "convergence: " + m.Name, Orders: []float64{k, k + 1}, Rates: true}); err != nil {
 			return fmt.Errorf("plot: %w", err)
 		}
@@ -369,7 +362,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 // as for the pressure of an equal-order stabilised flow pair (Hughes,
 // Franca & Balestra 1986) — REFERENCES.md.
 func expectedOrders(m *compiler.Model, split []compiler.Split, i int) (l2, h1 float64, checkH1 bool) {
-	k := float64(elementDegree(m.Unknowns[i].Element))
+	k := float64(m.Unknowns[i].Element.Degree)
 	for _, s := range split {
 		if s.For == i && s.Parts[compiler.Diffusive] != nil {
 			return k + 1, k, true

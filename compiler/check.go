@@ -278,15 +278,19 @@ func (c *checker) declare(f *lang.File, opts CheckOptions) {
 			if c.declared(s.Name) {
 				continue
 			}
-			u := &Unknown{Name: s.Name.Text, Index: len(m.Unknowns), Element: s.Element.Text, Pos: s.Name.Pos}
+			u := &Unknown{Name: s.Name.Text, Index: len(m.Unknowns), Pos: s.Name.Pos}
 			if s.Rank == "vector" {
 				u.Rank = 1
 			}
-			switch s.Element.Text {
-			case "P1", "P2", "Q1", "Q2":
-			default:
+			el, err := ir.ParseElement(s.Element.Text)
+			switch {
+			case err != nil:
 				c.errorf(s.Element.Pos, s.Element.End, "use P1 or P2 (simplices) or Q1 or Q2 (quadrilaterals, hexahedra)", "unknown element %q", s.Element.Text)
+			case len(m.Unknowns) > 0 && m.Unknowns[0].Element.Family != 0 && m.Unknowns[0].Element.Family != el.Family:
+				c.errorf(s.Element.Pos, s.Element.End, fmt.Sprintf("a mesh has one kind of cell: use %c elements here too", m.Unknowns[0].Element.String()[0]),
+					"unknown %s uses %v elements, but %s uses %v", u.Name, el, m.Unknowns[0].Name, m.Unknowns[0].Element)
 			}
+			u.Element = el
 			c.unknowns[u.Name] = u
 			m.Unknowns = append(m.Unknowns, u)
 		case *lang.GivenStmt:
@@ -1102,7 +1106,7 @@ func (m *Model) ParseExpr(name, src string) (ir.Expr, source.ErrorList) {
 	for _, cf := range m.Coefs {
 		c.coefs[cf.Name] = &coefDecl{state: checked, coef: cf}
 	}
-	c.params = map[string]ir.Expr{"n": &ir.Sym{Name: Normal.Name, Kind: Normal.Kind, R: 1}}
+	c.params = map[string]ir.Expr{"n": &ir.Sym{Name: Normal.Name, Kind: Normal.Kind, R: 1, Q: Normal.Q}}
 	for i, ts := range m.TauSym {
 		if ts != nil {
 			c.params[ts.Name] = m.TauSym[i]

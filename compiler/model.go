@@ -44,7 +44,7 @@ type Unknown struct {
 	Name    string
 	Index   int
 	Rank    int
-	Element string // P1, P2, Q1, Q2
+	Element ir.Element
 	Pos     source.Pos
 }
 
@@ -149,7 +149,7 @@ func (m *Model) Coef(name string) *Coef {
 // second derivatives of the basis vanish inside each cell.
 func (m *Model) IsSimplexP1() bool {
 	for _, u := range m.Unknowns {
-		if u.Element != "P1" {
+		if u.Element != (ir.Element{Family: ir.Simplicial, Degree: 1}) {
 			return false
 		}
 	}
@@ -167,11 +167,8 @@ func (m *Model) IsSimplexP1() bool {
 func (m *Model) InverseEstimate() (float64, string) {
 	best, which := 0.0, ""
 	for _, u := range m.Unknowns {
-		c, k, ok := elementCell(u.Element, m.Dim)
-		if !ok {
-			continue
-		}
-		e, err := element.Lagrange(c, k)
+		c := cell.Of(m.Dim, u.Element.Family == ir.TensorProduct)
+		e, err := element.Lagrange(c, u.Element.Degree)
 		if err != nil {
 			continue
 		}
@@ -187,27 +184,4 @@ func (m *Model) InverseEstimate() (float64, string) {
 		}
 	}
 	return best, which
-}
-
-// elementCell maps an element name (P1, P2, Q1, Q2) and the dimension to
-// the reference cell and degree: P on simplices, Q on quadrilaterals and
-// hexahedra (and on the interval in 1D).
-func elementCell(name string, dim int) (cell.Type, int, bool) {
-	if len(name) != 2 || name[1] < '1' || name[1] > '9' {
-		return 0, 0, false
-	}
-	k := int(name[1] - '0')
-	switch {
-	case dim == 1:
-		return cell.Interval, k, true
-	case name[0] == 'P' && dim == 2:
-		return cell.Triangle, k, true
-	case name[0] == 'P' && dim == 3:
-		return cell.Tetrahedron, k, true
-	case name[0] == 'Q' && dim == 2:
-		return cell.Quadrilateral, k, true
-	case name[0] == 'Q' && dim == 3:
-		return cell.Hexahedron, k, true
-	}
-	return 0, 0, false
 }

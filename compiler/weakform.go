@@ -94,7 +94,7 @@ func WeakGalerkin(m *Model) (*GalerkinForm, error) {
 func ibp(dim int, t, w ir.Expr) (vol, bnd ir.Expr, err error) {
 	p := t.Pos()
 	at := ir.At{P: p}
-	n := ir.Expr(&ir.Sym{At: at, Name: Normal.Name, Kind: Normal.Kind, R: 1})
+	n := ir.Expr(&ir.Sym{At: at, Name: Normal.Name, Kind: Normal.Kind, R: 1, Q: Normal.Q})
 	switch t := t.(type) {
 	case *ir.Mul:
 		field, rest := trialFactor(t)

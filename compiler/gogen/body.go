@@ -477,7 +477,7 @@ func (g *bodyGen) cellVolume() int {
 		if g.c.IsSimplex() {
 			return g.d.name(g.d.fn(ir.Abs, g.d.mul(g.det(), g.d.konst(g.c.Measure()))), "volume")
 		}
-		return g.d.ext(fmt.Sprintf("assemble.CellVolume(cell.%s, x)", cellIdent(g.c)), lvCell, "volume")
+		return g.d.ext(fmt.Sprintf("kernel.CellVolume(cell.%s, x)", cellIdent(g.c)), lvCell, "volume")
 	})
 }
 

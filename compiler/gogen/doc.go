@@ -1,7 +1,7 @@
 // Package gogen is formwright's Go back end: it turns the lowered forms of
 // a model (compiler/ir.LoweredForm, one per method) into one Go source
-// file of element kernels that implement runtime/assemble.Kernel and
-// assemble.FacetKernel, and register themselves with runtime/compiled
+// file of element kernels that implement runtime/kernel.Kernel and
+// kernel.FacetKernel, and register themselves with runtime/compiled
 // under the content hash of their form (ir.FormHash).
 //
 // Place in the flow lang -> compiler -> runtime: the model is parsed
@@ -30,7 +30,7 @@
 // into the cell as runtime/interp does), the same geometry
 // (element.Table.Map: Jacobian, inverse, physical gradients and Hessians
 // with the curvature term of non-affine maps), the same cell quantities
-// (assemble.CellDiameter, assemble.CellVolume, G = J⁻ᵀJ⁻¹, the outward
+// (kernel.CellDiameter, kernel.CellVolume, G = J⁻ᵀJ⁻¹, the outward
 // unit normal J⁻ᵀN/|J⁻ᵀN|), and NaN-filled output on a cell with a
 // non-positive Jacobian determinant.
 //

@@ -39,7 +39,7 @@ import (
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/lang/source"
-	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/interp"
@@ -68,21 +68,21 @@ func randomCell(c cell.Type, rng *rand.Rand) []float64 {
 		if c.IsSimplex() && d == 1 && x[1] > x[0] {
 			return x
 		}
-		if assemble.CellVolume(c, x) > 0.05*s*s && okCorners(c, x) {
+		if kernel.CellVolume(c, x) > 0.05*s*s && okCorners(c, x) {
 			return x
 		}
 	}
 }
 
 func okCorners(c cell.Type, x []float64) bool {
-	k, err := interp.NewKernel(&ir.LoweredForm{Method: "galerkin", Dim: c.Dim(), Unknowns: []ir.LoweredUnknown{{Name: "u", Element: map[bool]string{true: "P1", false: "Q1"}[c.IsSimplex()]}},
+	k, err := interp.NewKernel(&ir.LoweredForm{Method: "galerkin", Dim: c.Dim(), Unknowns: []ir.LoweredUnknown{{Name: "u", Element: map[bool]ir.Element{true: ir.P1, false: ir.Q1}[c.IsSimplex()]}},
 		Integrals: []ir.Integral{{Linear: []ir.Term{{Coef: ir.Int(source.Pos{}, 1), Test: &ir.FieldD{Field: &ir.Field{Name: "u", Role: ir.Test}}}}}}}, c, interp.Options{Degree: 3})
 	if err != nil {
 		panic(err)
 	}
 	n := k.Layout().N()
 	A, b := make([]float64, n*n), make([]float64, n)
-	k.Cell(&assemble.CellInput{Coords: x}, A, b)
+	k.Cell(&kernel.CellInput{Coords: x}, A, b)
 	return !math.IsNaN(b[0])
 }
 
@@ -161,7 +161,7 @@ func main() {
 				fails++
 				continue
 			}
-			var gfk []assemble.FacetKernel
+			var gfk []kernel.FacetKernel
 			if k.NewFacets != nil {
 				gfk = k.NewFacets()
 			}
@@ -173,7 +173,7 @@ func main() {
 			A1, b1 := make([]float64, n*n), make([]float64, n)
 			A2, b2 := make([]float64, n*n), make([]float64, n)
 			for trial := 0; trial < 4; trial++ {
-				in := assemble.CellInput{Coords: randomCell(k.Cell, rng), Time: rng.Float64(), Step: 0.01 + rng.Float64()}
+				in := kernel.CellInput{Coords: randomCell(k.Cell, rng), Time: rng.Float64(), Step: 0.01 + rng.Float64()}
 				if ik.NeedsPrevious() {
 					in.Previous = make([]float64, n)
 					for i := range in.Previous {
@@ -200,7 +200,7 @@ func main() {
 						continue
 					}
 					for fct := 0; fct < k.Cell.NumFacets(); fct++ {
-						fin := assemble.FacetInput{CellInput: in, Facet: fct}
+						fin := kernel.FacetInput{CellInput: in, Facet: fct}
 						ifk[s].Facet(&fin, A1, b1)
 						gfk[s].Facet(&fin, A2, b2)
 						for _, x := range [][2][]float64{{A2, A1}, {b2, b1}} {
@@ -221,7 +221,7 @@ func main() {
 			for i := 0; i < d; i++ {
 				bad[i], bad[d+i] = bad[d+i], bad[i]
 			}
-			badIn := assemble.CellInput{Coords: bad, Previous: make([]float64, n)}
+			badIn := kernel.CellInput{Coords: bad, Previous: make([]float64, n)}
 			ik.Cell(&badIn, A1, b1)
 			gk.Cell(&badIn, A2, b2)
 			if !math.IsNaN(A1[0]) || !math.IsNaN(A2[0]) || !math.IsNaN(b2[n-1]) {
@@ -229,14 +229,14 @@ func main() {
 				fails++
 			}
 			// Zero allocation per element.
-			fixedIn := &assemble.CellInput{Coords: randomCellFixed(k.Cell), Previous: make([]float64, n)}
+			fixedIn := &kernel.CellInput{Coords: randomCellFixed(k.Cell), Previous: make([]float64, n)}
 			allocs := testingAllocs(func() { gk.Cell(fixedIn, A2, b2) })
 			if allocs != 0 {
 				fmt.Println("FAIL", name, "allocates", allocs)
 				fails++
 			}
 			for _, fk := range gfk {
-				fin := &assemble.FacetInput{CellInput: *fixedIn, Facet: k.Cell.NumFacets() - 1}
+				fin := &kernel.FacetInput{CellInput: *fixedIn, Facet: k.Cell.NumFacets() - 1}
 				if a := testingAllocs(func() { fk.Facet(fin, A2, b2) }); a != 0 {
 					fmt.Println("FAIL", name, "facet kernel", fk.Side(), "allocates", a)
 					fails++

@@ -150,7 +150,7 @@ func (g *bodyGen) blocks(gs []*group) (bil []*block, lin []*block) {
 }
 
 // body generates the statements of one element computation. facetCall is
-// true for a facet method (the input is then a *assemble.CellInput too).
+// true for a facet method (the input is then a *kernel.CellInput too).
 func (g *bodyGen) body(gs []*group, sym bool) (string, error) {
 	N := g.n
 	bil, lin := g.blocks(gs)

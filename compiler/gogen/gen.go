@@ -14,7 +14,6 @@ import (
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
-	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/quadrature"
 )
 
@@ -109,7 +108,7 @@ func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
 	fmt.Fprintf(&out, "// formwright %s\n\n", sanitize(opts.CommandLine))
 	fmt.Fprintf(&out, "package %s\n\n", opts.Package)
 	out.WriteString("import (\n")
-	out.WriteString("\"math\"\n\n\"github.com/formwright/formwright/runtime/assemble\"\n\"github.com/formwright/formwright/runtime/cell\"\n\"github.com/formwright/formwright/runtime/compiled\"\n\"github.com/formwright/formwright/runtime/element\"\n)\n\n")
+	out.WriteString("\"math\"\n\n\"github.com/formwright/formwright/runtime/cell\"\n\"github.com/formwright/formwright/runtime/compiled\"\n\"github.com/formwright/formwright/runtime/element\"\n\"github.com/formwright/formwright/runtime/kernel\"\n)\n\n")
 	out.WriteString("func init() {\n" + reg.String() + "}\n\n")
 	out.WriteString(body.String())
 	fmt.Fprintf(&out, "// %s fills A and b with NaN: the cell has a non-positive Jacobian\n// determinant (as the interpreted kernels report it).\nfunc %s(A, b []float64) {\nfor i := range A {\nA[i] = math.NaN()\n}\nfor i := range b {\nb[i] = math.NaN()\n}\n}\n\n", fn.fillNaN, fn.fillNaN)
@@ -181,29 +180,10 @@ func cellFor(lf *ir.LoweredForm) (cell.Type, error) {
 	if len(lf.Unknowns) == 0 {
 		return 0, fmt.Errorf("gogen: form has no unknowns")
 	}
-	var fam byte
-	for _, u := range lf.Unknowns {
-		if len(u.Element) != 2 {
-			return 0, fmt.Errorf("gogen: unknown element %q", u.Element)
-		}
-		if fam != 0 && u.Element[0] != fam && lf.Dim > 1 {
-			return 0, fmt.Errorf("gogen: unknowns mix element families %c and %c", fam, u.Element[0])
-		}
-		fam = u.Element[0]
+	if err := lf.Validate(); err != nil {
+		return 0, fmt.Errorf("gogen: %w", err)
 	}
-	switch {
-	case lf.Dim == 1:
-		return cell.Interval, nil
-	case fam == 'P' && lf.Dim == 2:
-		return cell.Triangle, nil
-	case fam == 'P' && lf.Dim == 3:
-		return cell.Tetrahedron, nil
-	case fam == 'Q' && lf.Dim == 2:
-		return cell.Quadrilateral, nil
-	case fam == 'Q' && lf.Dim == 3:
-		return cell.Hexahedron, nil
-	}
-	return 0, fmt.Errorf("gogen: no cell for element family %q in %d dimensions", fam, lf.Dim)
+	return cell.Of(lf.Dim, lf.Family() == ir.TensorProduct), nil
 }
 
 func cellIdent(c cell.Type) string {
@@ -265,9 +245,9 @@ func sanitize(s string) string {
 func baseName(p string) string { return filepath.Base(filepath.ToSlash(p)) }
 
 // facetRule is the quadrature the facet kernels use on local facet f
-// (interp.NewReferenceFacet, shared so both paths integrate alike).
+// (element.NewReferenceFacet, shared so both paths integrate alike).
 func facetRule(c cell.Type, f, deg int) (pts, wts []float64, fg *facetGeom) {
-	rf := interp.NewReferenceFacet(c, f, deg)
+	rf := element.NewReferenceFacet(c, f, deg)
 	return rf.Rule.Points, rf.Rule.Weights, &facetGeom{tang: rf.Tangents, nref: rf.Normal}
 }
 
@@ -286,14 +266,7 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	if err != nil {
 		return err
 	}
-	lay, err := interp.LayoutFor(lf, c)
-	if err != nil {
-		return err
-	}
-	deg, err := interp.DefaultDegree(lf, c)
-	if err != nil {
-		return err
-	}
+	deg := lf.QuadratureDegree()
 	mid, ok := methodIdents[lf.Method]
 	if !ok {
 		mid = "Method" + Mangle(lf.Method)
@@ -315,28 +288,33 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 	var fields []fieldInfo
 	var elems []*element.Element
 	off := 0
-	for _, f := range lay.Fields {
+	for _, u := range lf.Unknowns {
+		fe, err := element.Lagrange(c, u.Element.Degree)
+		if err != nil {
+			return err
+		}
 		ei := -1
 		for j, e := range elems {
-			if e.Degree == f.Element.Degree {
+			if e.Degree == fe.Degree {
 				ei = j
 			}
 		}
 		if ei < 0 {
 			ei = len(elems)
-			elems = append(elems, f.Element)
+			elems = append(elems, fe)
 		}
-		fields = append(fields, fieldInfo{elem: f.Element, ei: ei, comps: f.Components, off: off})
-		off += f.Element.NumNodes() * f.Components
+		fields = append(fields, fieldInfo{elem: fe, ei: ei, comps: u.Components(lf.Dim), off: off})
+		off += fe.NumNodes() * u.Components(lf.Dim)
 	}
-	N := lay.N()
+	N := off
+	geometry := element.MustLagrange(c, 1)
 	affine := c.IsSimplex()
 	loop := false
 	for _, e := range elems {
 		loop = loop || e.NumNodes() > fn.loopAbove
 	}
 	newGen := func(pts, wts []float64, fg *facetGeom, prefix string) *bodyGen {
-		g := &bodyGen{c: c, dim: c.Dim(), n: N, fields: fields, elems: elems, geom: lay.Geometry,
+		g := &bodyGen{c: c, dim: c.Dim(), n: N, fields: fields, elems: elems, geom: geometry,
 			pts: pts, wts: wts, facet: fg, affine: affine, loop: loop, prefix: prefix, names: fn}
 		g.init()
 		return g
@@ -349,9 +327,9 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 
 	// Layout.
 	fmt.Fprintf(body, "// %s is the element layout of the %s kernels: %s cells, fields in local dof\n// order (field-major, then component, then element node); %d local dofs.\n", layoutVar, lf.Method, c, N)
-	fmt.Fprintf(body, "var %s = assemble.Layout{\nCell: cell.%s,\nGeometry: element.MustLagrange(cell.%s, 1),\nFields: []assemble.FieldLayout{\n", layoutVar, cellIdent(c), cellIdent(c))
-	for i, f := range lay.Fields {
-		fmt.Fprintf(body, "{Element: element.MustLagrange(cell.%s, %d), Components: %d}, // %s\n", cellIdent(c), f.Element.Degree, f.Components, sanitize(lf.Unknowns[i].Name+" "+lf.Unknowns[i].Element))
+	fmt.Fprintf(body, "var %s = kernel.Layout{\nCell: cell.%s,\nGeometry: element.MustLagrange(cell.%s, 1),\nFields: []kernel.FieldLayout{\n", layoutVar, cellIdent(c), cellIdent(c))
+	for i, f := range fields {
+		fmt.Fprintf(body, "{Element: element.MustLagrange(cell.%s, %d), Components: %d}, // %s\n", cellIdent(c), f.elem.Degree, f.comps, sanitize(lf.Unknowns[i].Name+" "+lf.Unknowns[i].Element.String()))
 	}
 	body.WriteString("},\n}\n\n")
 
@@ -369,14 +347,14 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 		return err
 	}
 	flushTables(g)
-	fmt.Fprintf(body, "// %s is the generated cell kernel of the %s form on %v cells, quadrature\n// degree %d (%s). It implements assemble.Kernel, keeps no state and\n// does not allocate.", typ, lf.Method, c, deg, points(rule.NumPoints()))
+	fmt.Fprintf(body, "// %s is the generated cell kernel of the %s form on %v cells, quadrature\n// degree %d (%s). It implements kernel.Kernel, keeps no state and\n// does not allocate.", typ, lf.Method, c, deg, points(rule.NumPoints()))
 	if sym {
 		body.WriteString(" The form is symmetric; only the upper triangle is computed.")
 	}
-	fmt.Fprintf(body, "\ntype %s struct{}\n\nvar _ assemble.Kernel = %s{}\n\n", typ, typ)
-	fmt.Fprintf(body, "// Layout implements assemble.Kernel.\nfunc (%s) Layout() assemble.Layout { return %s }\n\n", typ, layoutVar)
+	fmt.Fprintf(body, "\ntype %s struct{}\n\nvar _ kernel.Kernel = %s{}\n\n", typ, typ)
+	fmt.Fprintf(body, "// Layout implements kernel.Kernel.\nfunc (%s) Layout() kernel.Layout { return %s }\n\n", typ, layoutVar)
 	fmt.Fprintf(body, "// Degree is the quadrature degree the kernel integrates with.\nfunc (%s) Degree() int { return %d }\n\n", typ, deg)
-	fmt.Fprintf(body, "// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian\n// determinant it fills A and b with NaN.\nfunc (%s) Cell(in *assemble.CellInput, A, b []float64) {\n%s}\n\n", typ, code)
+	fmt.Fprintf(body, "// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian\n// determinant it fills A and b with NaN.\nfunc (%s) Cell(in *kernel.CellInput, A, b []float64) {\n%s}\n\n", typ, code)
 
 	// Facet kernels, one per side.
 	sides := lf.Sides()
@@ -405,20 +383,20 @@ func genForm(body, tables, reg *strings.Builder, lf *ir.LoweredForm, fi int, fn 
 			}
 			flushTables(g)
 			fmt.Fprintf(&cases, "case %d:\nk.facet%d(&in.CellInput, A, b)\n", f, f)
-			fmt.Fprintf(&methods, "// facet%d integrates over local facet %d (%s).\nfunc (%s) facet%d(in *assemble.CellInput, A, b []float64) {\n%s}\n\n", f, f, points(len(wts)), ft, f, code)
+			fmt.Fprintf(&methods, "// facet%d integrates over local facet %d (%s).\nfunc (%s) facet%d(in *kernel.CellInput, A, b []float64) {\n%s}\n\n", f, f, points(len(wts)), ft, f, code)
 		}
-		fmt.Fprintf(body, "// %s is the generated kernel of the %s form's integral over the\n// boundary side %s. It implements assemble.FacetKernel and does not allocate.\n", ft, lf.Method, strconv.Quote(sanitize(side)))
-		fmt.Fprintf(body, "type %s struct{}\n\nvar _ assemble.FacetKernel = %s{}\n\n", ft, ft)
-		fmt.Fprintf(body, "// Side implements assemble.FacetKernel.\nfunc (%s) Side() string { return %s }\n\n", ft, strconv.Quote(side))
-		fmt.Fprintf(body, "// Layout is the layout of the element matrix (that of the cell kernel).\nfunc (%s) Layout() assemble.Layout { return %s }\n\n", ft, layoutVar)
-		fmt.Fprintf(body, "// Facet implements assemble.FacetKernel.\nfunc (k %s) Facet(in *assemble.FacetInput, A, b []float64) {\nswitch in.Facet {\n%sdefault:\npanic(\"generated kernel: facet index out of range\")\n}\n}\n\n", ft, cases.String())
+		fmt.Fprintf(body, "// %s is the generated kernel of the %s form's integral over the\n// boundary side %s. It implements kernel.FacetKernel and does not allocate.\n", ft, lf.Method, strconv.Quote(sanitize(side)))
+		fmt.Fprintf(body, "type %s struct{}\n\nvar _ kernel.FacetKernel = %s{}\n\n", ft, ft)
+		fmt.Fprintf(body, "// Side implements kernel.FacetKernel.\nfunc (%s) Side() string { return %s }\n\n", ft, strconv.Quote(side))
+		fmt.Fprintf(body, "// Layout is the layout of the element matrix (that of the cell kernel).\nfunc (%s) Layout() kernel.Layout { return %s }\n\n", ft, layoutVar)
+		fmt.Fprintf(body, "// Facet implements kernel.FacetKernel.\nfunc (k %s) Facet(in *kernel.FacetInput, A, b []float64) {\nswitch in.Facet {\n%sdefault:\npanic(\"generated kernel: facet index out of range\")\n}\n}\n\n", ft, cases.String())
 		body.WriteString(methods.String())
 	}
 
 	// Registration.
-	fmt.Fprintf(reg, "compiled.Register(%s, compiled.Kernels{\nMethod: %s,\nCell: cell.%s,\nDegree: %d,\nNewCell: func() assemble.Kernel { return %s{} },\n", strconv.Quote(ir.FormHash(lf)), strconv.Quote(lf.Method), cellIdent(c), deg, typ)
+	fmt.Fprintf(reg, "compiled.Register(%s, compiled.Kernels{\nMethod: %s,\nCell: cell.%s,\nDegree: %d,\nNewCell: func() kernel.Kernel { return %s{} },\n", strconv.Quote(ir.FormHash(lf)), strconv.Quote(lf.Method), cellIdent(c), deg, typ)
 	if len(facetTypes) > 0 {
-		reg.WriteString("NewFacets: func() []assemble.FacetKernel {\nreturn []assemble.FacetKernel{")
+		reg.WriteString("NewFacets: func() []kernel.FacetKernel {\nreturn []kernel.FacetKernel{")
 		for i, ft := range facetTypes {
 			if i > 0 {
 				reg.WriteString(", ")

@@ -59,7 +59,7 @@ func TestFormHash(t *testing.T) {
 	u := &Field{Name: "u", Role: Trial}
 	v := &Field{Name: "u", Role: Test}
 	mk := func(c int64) *LoweredForm {
-		return &LoweredForm{Method: "galerkin", Dim: 1, Unknowns: []LoweredUnknown{{Name: "u", Element: "P1"}},
+		return &LoweredForm{Method: "galerkin", Dim: 1, Unknowns: []LoweredUnknown{{Name: "u", Element: P1}},
 			Integrals: []Integral{{Bilinear: []Term{{Coef: Int(p, c), Trial: &FieldD{Field: u, D: [3]uint8{1}}, Test: &FieldD{Field: v, D: [3]uint8{1}}}}}}}
 	}
 	if FormHash(mk(1)) != FormHash(mk(1)) {

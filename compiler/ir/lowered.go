@@ -1,6 +1,9 @@
 package ir
 
-import "slices"
+import (
+	"fmt"
+	"slices"
+)
 
 // Lowered forms: the contract between the compiler and the runtime.
 //
@@ -60,8 +63,17 @@ type LoweredForm struct {
 // LoweredUnknown describes one unknown field.
 type LoweredUnknown struct {
 	Name    string
-	Rank    int    // 0 scalar, 1 vector
-	Element string // P1, P2, Q1, Q2
+	Rank    int // 0 scalar, 1 vector
+	Element Element
+}
+
+// Components is the number of scalar components of the unknown in
+// dimension dim.
+func (u LoweredUnknown) Components(dim int) int {
+	if u.Rank == 1 {
+		return dim
+	}
+	return 1
 }
 
 // MeanCondition prescribes the mean of a scalar unknown over the domain.
@@ -88,4 +100,205 @@ func (lf *LoweredForm) Sides() []string {
 		}
 	}
 	return sides
+}
+
+// Family is the element family of the form's unknowns (Validate checks
+// that they share one).
+func (lf *LoweredForm) Family() Family {
+	if len(lf.Unknowns) == 0 {
+		return 0
+	}
+	return lf.Unknowns[0].Element.Family
+}
+
+// ContractError is a lowered form that breaks the contract above.
+type ContractError struct{ Msg string }
+
+func (e *ContractError) Error() string { return "lowered form: " + e.Msg }
+
+// Validate checks the contract: the dimension, the unknowns (one element
+// family, ranks 0 and 1), every term's trial and test derivatives, the
+// leaves of every coefficient, and the boundary and mean conditions. The
+// interpreted kernels and the back ends call it before they read a form,
+// so each of them may rely on it.
+func (lf *LoweredForm) Validate() error {
+	bad := func(format string, args ...any) error { return &ContractError{fmt.Sprintf(format, args...)} }
+	if lf.Dim < 1 || lf.Dim > 3 {
+		return bad("dimension %d", lf.Dim)
+	}
+	if len(lf.Unknowns) == 0 {
+		return bad("no unknowns")
+	}
+	for _, u := range lf.Unknowns {
+		if _, err := ParseElement(u.Element.String()); err != nil {
+			return bad("unknown %s: %v", u.Name, err)
+		}
+		if u.Element.Family != lf.Family() && lf.Dim > 1 {
+			return bad("unknowns mix %v and %v elements", lf.Unknowns[0].Element, u.Element)
+		}
+		if u.Rank != 0 && u.Rank != 1 {
+			return bad("unknown %s has rank %d", u.Name, u.Rank)
+		}
+	}
+	field := func(f *FieldD, role Role) error {
+		if f == nil || f.Field == nil {
+			return bad("a term without its %v function", role)
+		}
+		if f.Field.Role != role {
+			return bad("%v function %s where the %v function belongs", f.Field.Role, f.Field.Name, role)
+		}
+		if f.Field.Index < 0 || f.Field.Index >= len(lf.Unknowns) {
+			return bad("field %s has index %d of %d unknowns", f.Field.Name, f.Field.Index, len(lf.Unknowns))
+		}
+		if u := lf.Unknowns[f.Field.Index]; f.Comp < 0 || f.Comp >= u.Components(lf.Dim) {
+			return bad("component %d of %s", f.Comp, u.Name)
+		}
+		for k := lf.Dim; k < 3; k++ {
+			if f.D[k] != 0 {
+				return bad("derivative along axis %d in %d dimensions", k, lf.Dim)
+			}
+		}
+		if f.DT != 0 && role != Previous {
+			return bad("a time derivative of the %v function (lowering for a time step removes them)", role)
+		}
+		return nil
+	}
+	var leafErr error
+	coef := func(e Expr) error {
+		leafErr = nil
+		Inspect(e, func(x Expr) bool {
+			if leafErr != nil {
+				return false
+			}
+			switch x := x.(type) {
+			case *Num, *Add, *Mul, *Pow, *Time:
+			case *Const:
+				if x.Name != "pi" {
+					leafErr = bad("unknown constant %s", x.Name)
+				}
+			case *Coord:
+				if x.Axis < 0 || x.Axis >= lf.Dim {
+					leafErr = bad("coordinate axis %d in %d dimensions", x.Axis, lf.Dim)
+				}
+			case *CellQ:
+				if x.Q == NoQuantity || x.Q >= numQuantities || x.Q == InverseEstimate {
+					leafErr = bad("quantity %v in a coefficient", x.Q)
+				} else if x.I < 0 || x.J < 0 || (x.Q.Rank() >= 1 && x.I >= lf.Dim) || (x.Q.Rank() == 2 && x.J >= lf.Dim) {
+					leafErr = bad("component (%d, %d) of %v", x.I, x.J, x.Q)
+				}
+			case *Call:
+				if x.Fn == Norm || len(x.Args) != x.Fn.Arity() {
+					leafErr = bad("%v with %d arguments in a coefficient", x.Fn, len(x.Args))
+				}
+			case *FieldD:
+				leafErr = field(x, Previous)
+			default:
+				leafErr = bad("%T in a coefficient", x)
+			}
+			return leafErr == nil
+		})
+		return leafErr
+	}
+	for _, in := range lf.Integrals {
+		for _, t := range in.Bilinear {
+			if err := field(t.Trial, Trial); err != nil {
+				return err
+			}
+			if err := field(t.Test, Test); err != nil {
+				return err
+			}
+			if err := coef(t.Coef); err != nil {
+				return err
+			}
+		}
+		for _, t := range in.Linear {
+			if t.Trial != nil {
+				return bad("a linear term with a trial function")
+			}
+			if err := field(t.Test, Test); err != nil {
+				return err
+			}
+			if err := coef(t.Coef); err != nil {
+				return err
+			}
+		}
+	}
+	for _, d := range lf.Dirichlet {
+		if d.Unknown < 0 || d.Unknown >= len(lf.Unknowns) || d.Comp < 0 || d.Comp >= lf.Unknowns[d.Unknown].Components(lf.Dim) {
+			return bad("value condition on component %d of unknown %d", d.Comp, d.Unknown)
+		}
+		if err := coef(d.Value); err != nil {
+			return err
+		}
+	}
+	for _, m := range lf.Means {
+		if m.Unknown < 0 || m.Unknown >= len(lf.Unknowns) || lf.Unknowns[m.Unknown].Rank != 0 {
+			return bad("mean condition on unknown %d, which is not a scalar", m.Unknown)
+		}
+	}
+	return nil
+}
+
+// VariesInCell reports whether a lowered coefficient may vary inside a
+// cell: it reads a coordinate, an iterate or a quantity that varies from
+// point to point.
+func VariesInCell(e Expr) bool {
+	return Contains(e, func(x Expr) bool {
+		switch x := x.(type) {
+		case *Coord, *FieldD:
+			return true
+		case *CellQ:
+			return x.Q.Variation() == PerPoint
+		}
+		return false
+	})
+}
+
+// QuadratureDegree is the quadrature degree the kernels of the form use,
+// interpreted and generated alike. On simplicial cells it is
+//
+//	max over terms of (k_test − |β|) + (k_trial − |α|)   (k_trial = 0 for linear terms),
+//
+// which integrates the product of the two basis derivatives exactly on
+// affine cells. On quadrilaterals and hexahedra the tensor Gauss rule
+// counts the degree per coordinate direction, where a derivative does not
+// lower the degree in the other directions, so the degree is k_test +
+// k_trial + 1, the +1 for the bilinear det J of a general quadrilateral
+// (k_max+1 points per direction, the usual choice). In both cases k_max is
+// added when some coefficient varies inside a cell (it is treated like
+// one more function of the highest degree), and the result is at least 1.
+// Common practice, no source. The form must be valid.
+func (lf *LoweredForm) QuadratureDegree() int {
+	kmax := 0
+	for _, u := range lf.Unknowns {
+		kmax = max(kmax, u.Element.Degree)
+	}
+	simplicial := lf.Dim == 1 || lf.Family() == Simplicial
+	degree := func(f *FieldD) int { return lf.Unknowns[f.Field.Index].Element.Degree }
+	order := func(f *FieldD) int { return int(f.D[0]) + int(f.D[1]) + int(f.D[2]) }
+	q, varying := 0, false
+	for _, in := range lf.Integrals {
+		for _, ts := range [][]Term{in.Bilinear, in.Linear} {
+			for _, t := range ts {
+				var d int
+				if simplicial {
+					d = max(0, degree(t.Test)-order(t.Test))
+					if t.Trial != nil {
+						d += max(0, degree(t.Trial)-order(t.Trial))
+					}
+				} else {
+					d = degree(t.Test) + 1
+					if t.Trial != nil {
+						d += degree(t.Trial)
+					}
+				}
+				q = max(q, d)
+				varying = varying || VariesInCell(t.Coef)
+			}
+		}
+	}
+	if varying {
+		q += kmax
+	}
+	return max(q, 1)
 }

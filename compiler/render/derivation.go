@@ -448,7 +448,7 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 	names := namesFor(m)
 	out := jsonDerivation{Schema: SchemaVersion, Model: m.Name, File: m.File, Dimension: m.Dim, Notes: jnotes(d.Notes)}
 	for _, u := range m.Unknowns {
-		out.Unknowns = append(out.Unknowns, jsonUnknown{u.Name, u.Rank, u.Element, Expr(m.Test(u.Index), Text, names)})
+		out.Unknowns = append(out.Unknowns, jsonUnknown{u.Name, u.Rank, u.Element.String(), Expr(m.Test(u.Index), Text, names)})
 	}
 	for k, eq := range m.Equations {
 		name := m.Unknowns[eq.For].Name

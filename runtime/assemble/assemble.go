@@ -8,6 +8,7 @@ import (
 	"sync/atomic"
 
 	"github.com/formwright/formwright/runtime/dof"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
 )
@@ -86,7 +87,7 @@ func (e *LayoutError) Error() string { return "assemble: " + e.Msg }
 // CheckLayout verifies that a kernel layout matches the dof map: same cell,
 // fields with the same element degrees and component counts, geometry on
 // the mesh's vertices.
-func (a *Assembler) CheckLayout(l Layout) error {
+func (a *Assembler) CheckLayout(l kernel.Layout) error {
 	dm := a.Dofs
 	if l.Cell != dm.Cell {
 		return &LayoutError{fmt.Sprintf("kernel for %v cells on a %v mesh", l.Cell, dm.Cell)}
@@ -108,8 +109,8 @@ func (a *Assembler) CheckLayout(l Layout) error {
 
 // worker holds one goroutine's buffers, made once per Assemble call.
 type worker struct {
-	k    Kernel
-	in   CellInput
+	k    kernel.Kernel
+	in   kernel.CellInput
 	prev []float64
 }
 
@@ -143,7 +144,7 @@ const rowBlockShift = 6
 // mesh and changes the summation order with the colouring, so a 1-worker
 // run would not equal the plain loop.) Facet contributions are added
 // after the cells, serially in the side's facet order.
-func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []float64, in Input) error {
+func (a *Assembler) Assemble(k kernel.Kernel, facets []kernel.FacetKernel, A *sparse.CSR, b []float64, in Input) error {
 	if err := a.CheckLayout(k.Layout()); err != nil {
 		return err
 	}
@@ -193,12 +194,12 @@ func (a *Assembler) Assemble(k Kernel, facets []FacetKernel, A *sparse.CSR, b []
 	// Boundary facets, serially.
 	w := ws[0]
 	fa, fb := bufA[:n*n], bufB[:n]
-	fin := &FacetInput{}
+	fin := &kernel.FacetInput{}
 	for i, fk := range facets {
 		for _, f := range sides[i] {
 			c := int(f.Cell)
 			a.Mesh.CellCoords(c, w.in.Coords[:0])
-			fin.CellInput = CellInput{Index: c, Coords: w.in.Coords, Time: in.Time, Step: in.Step}
+			fin.CellInput = kernel.CellInput{Index: c, Coords: w.in.Coords, Time: in.Time, Step: in.Step}
 			if in.Previous != nil {
 				a.Dofs.Gather(c, in.Previous, w.prev)
 				fin.Previous = w.prev
@@ -254,9 +255,9 @@ func (a *Assembler) parallelBatch(ws []*worker, start, end int, A *sparse.CSR, b
 	wg.Wait()
 }
 
-func (a *Assembler) newWorker(k Kernel, w int, in Input) *worker {
+func (a *Assembler) newWorker(k kernel.Kernel, w int, in Input) *worker {
 	wk := &worker{k: k}
-	if f, ok := k.(Forker); ok && w > 0 {
+	if f, ok := k.(kernel.Forker); ok && w > 0 {
 		wk.k = f.Fork()
 	}
 	nv := a.Mesh.Cell.NumVertices()

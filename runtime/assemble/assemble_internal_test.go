@@ -7,6 +7,7 @@ import (
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/mesh"
 	"gonum.org/v1/gonum/mat"
 )
@@ -16,12 +17,12 @@ import (
 // c_i = x_k − x_j (Zienkiewicz, Taylor & Zhu 2005, §4.2), and b_i = |T|/3.
 type p1Laplace struct{}
 
-func (p1Laplace) Layout() Layout {
+func (p1Laplace) Layout() kernel.Layout {
 	e := element.MustLagrange(cell.Triangle, 1)
-	return Layout{Cell: cell.Triangle, Geometry: e, Fields: []FieldLayout{{Element: e, Components: 1}}}
+	return kernel.Layout{Cell: cell.Triangle, Geometry: e, Fields: []kernel.FieldLayout{{Element: e, Components: 1}}}
 }
 
-func (p1Laplace) Cell(in *CellInput, A, b []float64) {
+func (p1Laplace) Cell(in *kernel.CellInput, A, b []float64) {
 	x := in.Coords
 	var bb, cc [3]float64
 	for i := 0; i < 3; i++ {

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/sparse"
 )
 
@@ -89,7 +90,7 @@ func plainPrecomputed(p *problem, A *sparse.CSR, b []float64, pos []int32) {
 	clear(b)
 	n := p.k.Layout().N()
 	Ae, be := make([]float64, n*n), make([]float64, n)
-	in := &assemble.CellInput{}
+	in := &kernel.CellInput{}
 	for c := 0; c < p.m.NumCells(); c++ {
 		in.Index = c
 		in.Coords = p.m.CellCoords(c, in.Coords[:0])
@@ -159,7 +160,7 @@ func benchColoured(b *testing.B, nodes, workers int) {
 		order[next[k]] = c
 		next[k]++
 	}
-	ks := make([]assemble.Kernel, workers)
+	ks := make([]kernel.Kernel, workers)
 	for w := range ks {
 		ks[w] = p.k.Fork()
 	}
@@ -174,7 +175,7 @@ func benchColoured(b *testing.B, nodes, workers int) {
 				part := cells[len(cells)*w/workers : len(cells)*(w+1)/workers]
 				wg.Go(func() {
 					Ae, be := make([]float64, n*n), make([]float64, n)
-					in := &assemble.CellInput{}
+					in := &kernel.CellInput{}
 					for _, c := range part {
 						in.Index = c
 						in.Coords = p.m.CellCoords(c, in.Coords[:0])

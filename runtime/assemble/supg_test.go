@@ -12,6 +12,7 @@ import (
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
 )
@@ -62,7 +63,7 @@ func supgForm() *ir.LoweredForm {
 	lin = append(lin, ir.Term{Coef: f, Test: fd(vF)})
 	return &ir.LoweredForm{
 		Method: "supg", Dim: 2,
-		Unknowns:  []ir.LoweredUnknown{{Name: "c", Element: "P1"}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "c", Element: ir.P1}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: lin}},
 	}
 }
@@ -76,7 +77,7 @@ type problem struct {
 func newProblem(tb testing.TB, nodes int, pattern mesh.Pattern) *problem {
 	m := mesh.Rectangle(0, 1, 0, 1, nodes-1, nodes-1, pattern)
 	form := supgForm()
-	lay, err := interp.LayoutFor(form, m.Cell)
+	lay, err := kernel.LayoutFor(form, m.Cell)
 	if err != nil {
 		tb.Fatal(err)
 	}
@@ -99,7 +100,7 @@ func plainLoop(p *problem, A *sparse.CSR, b []float64) {
 	clear(b)
 	n := p.k.Layout().N()
 	Ae, be := make([]float64, n*n), make([]float64, n)
-	in := &assemble.CellInput{}
+	in := &kernel.CellInput{}
 	var pos []int
 	for c := 0; c < p.m.NumCells(); c++ {
 		in.Index = c
@@ -148,7 +149,7 @@ func TestAssembleBitIdenticalAcrossWorkers(t *testing.T) {
 func TestAssembleFacets(t *testing.T) {
 	m := mesh.Rectangle(0, 1, 0, 1, 5, 7, mesh.Quads)
 	form := &ir.LoweredForm{
-		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "c", Element: "Q1"}},
+		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "c", Element: ir.Q1}},
 		Integrals: []ir.Integral{
 			{Domain: ir.Domain{Side: mesh.Top}, Linear: []ir.Term{{Coef: &ir.CellQ{Q: ir.Normal, I: 1}, Test: fd(vF)}}},
 			{Domain: ir.Domain{Side: mesh.Left}, Linear: []ir.Term{{Coef: num(3, 1), Test: fd(vF)}}},
@@ -167,7 +168,7 @@ func TestAssembleFacets(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var fk []assemble.FacetKernel
+	var fk []kernel.FacetKernel
 	for _, f := range fks {
 		fk = append(fk, f)
 	}
@@ -200,7 +201,7 @@ func TestAssembleFacets(t *testing.T) {
 	}
 	bad := &ir.LoweredForm{Dim: 2, Unknowns: form.Unknowns, Integrals: []ir.Integral{{Domain: ir.Domain{Side: "nowhere"}, Linear: form.Integrals[0].Linear}}}
 	fks, _ = interp.NewFacetKernels(bad, m.Cell, interp.Options{})
-	if err := a.Assemble(k, []assemble.FacetKernel{fks[0]}, A, b, assemble.Input{}); err == nil {
+	if err := a.Assemble(k, []kernel.FacetKernel{fks[0]}, A, b, assemble.Input{}); err == nil {
 		t.Error("unknown side accepted")
 	}
 }

@@ -52,6 +52,25 @@ func Parse(name string) (Type, error) {
 	return 0, fmt.Errorf("cell: unknown cell type %q (want interval, triangle, tetrahedron, quadrilateral or hexahedron)", name)
 }
 
+// Of returns the cell of dimension dim (1, 2 or 3): the interval in 1D;
+// otherwise the triangle or tetrahedron, or with tensorProduct the
+// quadrilateral or hexahedron. It returns 0 for other dimensions.
+func Of(dim int, tensorProduct bool) Type {
+	switch {
+	case dim == 1:
+		return Interval
+	case dim == 2 && tensorProduct:
+		return Quadrilateral
+	case dim == 2:
+		return Triangle
+	case dim == 3 && tensorProduct:
+		return Hexahedron
+	case dim == 3:
+		return Tetrahedron
+	}
+	return 0
+}
+
 // Dim is the topological (and reference-space) dimension of the cell.
 func (c Type) Dim() int {
 	c.must()

@@ -4,8 +4,8 @@ import (
 	"sort"
 	"sync"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 // Kernels are the constructors of the generated kernels of one lowered
@@ -18,11 +18,11 @@ type Kernels struct {
 	Cell   cell.Type
 	Degree int
 	// NewCell returns the kernel of the cell integrals.
-	NewCell func() assemble.Kernel
+	NewCell func() kernel.Kernel
 	// NewFacets returns one kernel per boundary side that carries an
 	// integral, in the order the sides first appear in the form; nil or an
 	// empty result when there are none.
-	NewFacets func() []assemble.FacetKernel
+	NewFacets func() []kernel.FacetKernel
 }
 
 var (

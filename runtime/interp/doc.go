@@ -4,7 +4,7 @@
 //
 // Place in the flow lang -> compiler -> runtime: the compiler lowers a
 // model to an ir.LoweredForm; this package turns it into element kernels
-// (assemble.Kernel, assemble.FacetKernel) that runtime/assemble loops over
+// (kernel.Kernel, kernel.FacetKernel) that runtime/assemble loops over
 // and runtime/problem solves with. The generated Go kernels of the back
 // end implement the same interfaces and are tested against these.
 //
@@ -36,6 +36,6 @@
 //	A[i][j] += w · D^β φ_i · Σ_α c_βα D^α φ_j,    b[i] += w · Σ_β c_β D^β φ_i,
 //
 // so the inner loop is a plain axpy over the trial nodes. cell_diameter is
-// assemble.CellDiameter (the largest vertex distance) and cell_volume
-// assemble.CellVolume.
+// kernel.CellDiameter (the largest vertex distance) and cell_volume
+// kernel.CellVolume.
 package interp

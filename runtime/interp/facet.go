@@ -5,10 +5,9 @@ import (
 	"math"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
-	"github.com/formwright/formwright/runtime/quadrature"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 // facetData is the quadrature on one local facet: a rule whose points are
@@ -16,14 +15,12 @@ import (
 // rule), the constant reference tangents ∂ξ/∂s_k of the facet
 // parametrisation and the reference outward normal.
 type facetData struct {
-	rule quadrature.Rule
+	element.ReferenceFacet
 	tabs []*element.Table
-	tang [2][3]float64
-	nref [3]float64
 }
 
 // FacetKernel is the interpreted kernel of the boundary integrals of a
-// lowered form on one side: it implements assemble.FacetKernel.
+// lowered form on one side: it implements kernel.FacetKernel.
 type FacetKernel struct {
 	side   string
 	it     *integrand
@@ -42,15 +39,9 @@ type FacetKernel struct {
 // and the outward unit normal is J^{-T} n_ref normalised, where n_ref is
 // the reference normal from the facet's vertex orientation (runtime/cell).
 func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetKernel, error) {
-	lay, err := LayoutFor(form, c)
+	lay, deg, err := layoutAndDegree(form, c, opts)
 	if err != nil {
 		return nil, err
-	}
-	deg := opts.Degree
-	if deg <= 0 {
-		if deg, err = DefaultDegree(form, c); err != nil {
-			return nil, err
-		}
 	}
 	sides := form.Sides()
 	var out []*FacetKernel
@@ -62,9 +53,9 @@ func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetK
 		}
 		fk := &FacetKernel{side: side, it: it}
 		for f := 0; f < c.NumFacets(); f++ {
-			fd := makeFacet(c, f, deg)
+			fd := facetData{ReferenceFacet: element.NewReferenceFacet(c, f, deg)}
 			for ei, e := range it.elems {
-				fd.tabs = append(fd.tabs, it.table(ei, e, lay.Geometry, fd.rule))
+				fd.tabs = append(fd.tabs, it.table(ei, e, lay.Geometry, fd.Rule))
 			}
 			fk.facets = append(fk.facets, fd)
 		}
@@ -74,94 +65,16 @@ func NewFacetKernels(form *ir.LoweredForm, c cell.Type, opts Options) ([]*FacetK
 	return out, nil
 }
 
-// ReferenceFacet is the quadrature on local facet f of the reference cell
-// c that the facet kernels integrate with (interpreted and generated alike):
-// the facet's reference rule of the given degree mapped into the cell's
-// reference coordinates by the facet's vertices, with the facet rule's
-// weights; the constant tangents ∂ξ/∂s_k of that affine parametrisation;
-// and the reference outward normal (not normalised).
-type ReferenceFacet struct {
-	Rule     quadrature.Rule
-	Tangents [2][3]float64
-	Normal   [3]float64
-}
-
-// NewReferenceFacet builds the ReferenceFacet of local facet f of c.
-func NewReferenceFacet(c cell.Type, f, deg int) ReferenceFacet {
-	fd := makeFacet(c, f, deg)
-	return ReferenceFacet{Rule: fd.rule, Tangents: fd.tang, Normal: fd.nref}
-}
-
-func makeFacet(c cell.Type, f, deg int) facetData {
-	d := c.Dim()
-	verts := c.Vertices()
-	fv := c.Facets()[f]
-	var fd facetData
-	if d == 1 {
-		v := fv[0]
-		fd.rule = quadrature.Rule{Cell: c, Degree: deg, Points: []float64{verts[v]}, Weights: []float64{1}}
-		// Facet 0 is x = 1 (normal +x), facet 1 is x = 0 (normal −x).
-		fd.nref[0] = 1
-		if verts[v] == 0 {
-			fd.nref[0] = -1
-		}
-		return fd
-	}
-	ft := c.FacetType()
-	fr := quadrature.For(ft, deg)
-	fe := element.MustLagrange(ft, 1)
-	fdim := ft.Dim()
-	nq := fr.NumPoints()
-	pts := make([]float64, nq*d)
-	phi := make([]float64, fe.NumNodes())
-	dphi := make([]float64, fe.NumNodes()*fdim)
-	for q := 0; q < nq; q++ {
-		s := fr.Points[q*fdim : (q+1)*fdim]
-		fe.Eval(s, phi)
-		for a, v := range fv {
-			for k := 0; k < d; k++ {
-				pts[q*d+k] += phi[a] * verts[v*d+k]
-			}
-		}
-	}
-	// Tangents: constant, since every reference facet is affine.
-	fe.EvalGrad(fr.Points[:fdim], dphi)
-	for m := 0; m < fdim; m++ {
-		for a, v := range fv {
-			for k := 0; k < d; k++ {
-				fd.tang[m][k] += dphi[a*fdim+m] * verts[v*d+k]
-			}
-		}
-	}
-	p := func(i, k int) float64 { return verts[fv[i]*d+k] }
-	if d == 2 {
-		// Cell on the left of (a → b): n = (t_y, −t_x).
-		fd.nref[0], fd.nref[1] = p(1, 1)-p(0, 1), -(p(1, 0) - p(0, 0))
-	} else {
-		var u, w [3]float64
-		for k := 0; k < 3; k++ {
-			u[k], w[k] = p(1, k)-p(0, k), p(2, k)-p(1, k)
-		}
-		fd.nref = cross(u, w)
-	}
-	fd.rule = quadrature.Rule{Cell: c, Degree: fr.Degree, Points: pts, Weights: append([]float64(nil), fr.Weights...)}
-	return fd
-}
-
-func cross(u, w [3]float64) [3]float64 {
-	return [3]float64{u[1]*w[2] - u[2]*w[1], u[2]*w[0] - u[0]*w[2], u[0]*w[1] - u[1]*w[0]}
-}
-
-// Side implements assemble.FacetKernel.
+// Side implements kernel.FacetKernel.
 func (k *FacetKernel) Side() string { return k.side }
 
 // Layout is the layout of the element matrix the kernel writes (that of
 // the cell kernel of the same form).
-func (k *FacetKernel) Layout() assemble.Layout { return k.it.lay }
+func (k *FacetKernel) Layout() kernel.Layout { return k.it.lay }
 
-// Facet implements assemble.FacetKernel. It fills A and b with NaN on a
+// Facet implements kernel.FacetKernel. It fills A and b with NaN on a
 // non-positive Jacobian determinant; no allocation.
-func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
+func (k *FacetKernel) Facet(in *kernel.FacetInput, A, b []float64) {
 	it, s := k.it, k.s
 	n := it.n
 	clear(A[:n*n])
@@ -170,7 +83,7 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 	ci := &in.CellInput
 	it.beginCell(s, ci)
 	d := it.lay.Cell.Dim()
-	for q := 0; q < fd.rule.NumPoints(); q++ {
+	for q := 0; q < fd.Rule.NumPoints(); q++ {
 		if _, ok := it.point(s, fd.tabs, q, ci); !ok {
 			fillNaN(A[:n*n], b[:n])
 			return
@@ -181,7 +94,7 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 		for kk := 0; kk < d; kk++ {
 			v := 0.0
 			for i := 0; i < d; i++ {
-				v += s.JInv[i*d+kk] * fd.nref[i]
+				v += s.JInv[i*d+kk] * fd.Normal[i]
 			}
 			nv[kk] = v
 			nn += v * v
@@ -198,7 +111,7 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 				for i := 0; i < d; i++ {
 					v := 0.0
 					for j := 0; j < d; j++ {
-						v += s.J[i*d+j] * fd.tang[m][j]
+						v += s.J[i*d+j] * fd.Tangents[m][j]
 					}
 					t[m][i] = v
 				}
@@ -206,11 +119,11 @@ func (k *FacetKernel) Facet(in *assemble.FacetInput, A, b []float64) {
 			if d == 2 {
 				meas = math.Hypot(t[0][0], t[0][1])
 			} else {
-				c := cross(t[0], t[1])
+				c := element.Cross(t[0], t[1])
 				meas = math.Sqrt(c[0]*c[0] + c[1]*c[1] + c[2]*c[2])
 			}
 		}
 		it.pointCoefs(s)
-		it.accumulate(s, fd.rule.Weights[q]*meas, A, b)
+		it.accumulate(s, fd.Rule.Weights[q]*meas, A, b)
 	}
 }

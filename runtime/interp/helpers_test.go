@@ -38,8 +38,17 @@ func term(c ir.Expr, trial, test *ir.FieldD) ir.Term {
 	return ir.Term{Coef: c, Trial: trial, Test: test}
 }
 
+// mustElement reads an element name that the test knows to be valid.
+func mustElement(name string) ir.Element {
+	e, err := ir.ParseElement(name)
+	if err != nil {
+		panic(err)
+	}
+	return e
+}
+
 // scalarForm is a one-unknown form with the given cell terms.
-func scalarForm(dim int, elem string, bil, lin []ir.Term) *ir.LoweredForm {
+func scalarForm(dim int, elem ir.Element, bil, lin []ir.Term) *ir.LoweredForm {
 	return &ir.LoweredForm{
 		Method: "galerkin", Dim: dim,
 		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: elem}},

@@ -5,81 +5,17 @@ import (
 	"math"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/quadrature"
 )
 
 // Options tune the interpreted kernels.
 type Options struct {
-	// Degree is the quadrature degree; 0 selects DefaultDegree.
+	// Degree is the quadrature degree; 0 selects the form's own
+	// (ir.LoweredForm.QuadratureDegree).
 	Degree int
-}
-
-// DefaultDegree is the quadrature degree the interpreted kernels use when
-// Options.Degree is 0, for the integrals of form on cells of type c. On
-// simplices
-//
-//	max over terms of (k_test − |β|) + (k_trial − |α|)   (k_trial = 0 for linear terms),
-//
-// which integrates the product of the two basis derivatives exactly on
-// affine cells. On quadrilaterals and hexahedra the tensor Gauss rule
-// (runtime/quadrature) counts the degree per coordinate direction, where a
-// derivative does not lower the degree in the other directions, so the
-// degree is k_test + k_trial + 1, the +1 for the bilinear det J of a
-// general quadrilateral (k_max+1 points per direction, the usual choice).
-// In both cases k_max is added when some coefficient varies inside a cell
-// (it is treated like one more function of the highest degree), and the
-// result is at least 1. Common practice, no source.
-func DefaultDegree(form *ir.LoweredForm, c cell.Type) (int, error) {
-	kmax := 0
-	deg := make([]int, len(form.Unknowns))
-	for i, u := range form.Unknowns {
-		e, err := elementFor(u.Element, c)
-		if err != nil {
-			return 0, err
-		}
-		deg[i] = e.Degree
-		kmax = max(kmax, e.Degree)
-	}
-	q, varying := 0, false
-	order := func(f *ir.FieldD) int { return int(f.D[0]) + int(f.D[1]) + int(f.D[2]) }
-	fieldDeg := func(f *ir.FieldD) int {
-		if f.Field.Index < 0 || f.Field.Index >= len(deg) {
-			return kmax
-		}
-		return deg[f.Field.Index]
-	}
-	for _, in := range form.Integrals {
-		for _, ts := range [][]ir.Term{in.Bilinear, in.Linear} {
-			for _, t := range ts {
-				if t.Test == nil || t.Test.Field == nil {
-					continue
-				}
-				var d int
-				if c.IsSimplex() {
-					d = max(0, fieldDeg(t.Test)-order(t.Test))
-					if t.Trial != nil && t.Trial.Field != nil {
-						d += max(0, fieldDeg(t.Trial)-order(t.Trial))
-					}
-				} else {
-					d = fieldDeg(t.Test) + 1
-					if t.Trial != nil && t.Trial.Field != nil {
-						d += fieldDeg(t.Trial)
-					}
-				}
-				q = max(q, d)
-				if ExprDeps(t.Coef)&DepPoint != 0 {
-					varying = true
-				}
-			}
-		}
-	}
-	if varying {
-		q += kmax
-	}
-	return max(q, 1), nil
 }
 
 // ExprDeps returns the dependency bits of a lowered coefficient.
@@ -106,53 +42,23 @@ func ExprDeps(e ir.Expr) Deps {
 	return d
 }
 
-// elementFor maps a lowered element name (P1, P2, Q1, Q2) to the Lagrange
-// element on cell c.
-func elementFor(name string, c cell.Type) (*element.Element, error) {
-	if len(name) != 2 || (name[1] != '1' && name[1] != '2') {
-		return nil, fmt.Errorf("interp: unknown element %q (want P1, P2, Q1 or Q2)", name)
+// layoutAndDegree checks the lowered-form contract and returns the
+// layout of form on cells c and the quadrature degree: opts.Degree, or
+// the form's own (ir.LoweredForm.QuadratureDegree), which the generated
+// kernels use too.
+func layoutAndDegree(form *ir.LoweredForm, c cell.Type, opts Options) (kernel.Layout, int, error) {
+	if err := form.Validate(); err != nil {
+		return kernel.Layout{}, 0, err
 	}
-	deg := int(name[1] - '0')
-	switch name[0] {
-	case 'P':
-		if !c.IsSimplex() {
-			return nil, fmt.Errorf("interp: element %s needs simplex cells, the mesh has %v cells", name, c)
-		}
-	case 'Q':
-		if c.IsSimplex() && c != cell.Interval {
-			return nil, fmt.Errorf("interp: element %s needs quadrilateral or hexahedral cells, the mesh has %v cells", name, c)
-		}
-	default:
-		return nil, fmt.Errorf("interp: unknown element %q (want P1, P2, Q1 or Q2)", name)
+	lay, err := kernel.LayoutFor(form, c)
+	if err != nil {
+		return lay, 0, err
 	}
-	return element.Lagrange(c, deg)
-}
-
-// LayoutFor returns the kernel layout of form's unknowns on cells c: the
-// P1/Q1 geometry element and one field per unknown (components: 1 for a
-// scalar, form.Dim for a vector).
-func LayoutFor(form *ir.LoweredForm, c cell.Type) (assemble.Layout, error) {
-	if form.Dim != c.Dim() {
-		return assemble.Layout{}, fmt.Errorf("interp: %d-dimensional form on %v cells", form.Dim, c)
+	deg := opts.Degree
+	if deg <= 0 {
+		deg = form.QuadratureDegree()
 	}
-	l := assemble.Layout{Cell: c, Geometry: element.MustLagrange(c, 1)}
-	for _, u := range form.Unknowns {
-		e, err := elementFor(u.Element, c)
-		if err != nil {
-			return l, fmt.Errorf("unknown %q: %w", u.Name, err)
-		}
-		nc := 1
-		if u.Rank == 1 {
-			nc = form.Dim
-		} else if u.Rank != 0 {
-			return l, fmt.Errorf("interp: unknown %q has rank %d", u.Name, u.Rank)
-		}
-		l.Fields = append(l.Fields, assemble.FieldLayout{Element: e, Components: nc})
-	}
-	if len(l.Fields) == 0 {
-		return l, fmt.Errorf("interp: form has no unknowns")
-	}
-	return l, nil
+	return lay, deg, nil
 }
 
 // vecSpec is a basis-derivative vector: derivative D of the basis of
@@ -188,7 +94,7 @@ type prevPlan struct {
 // integrand is the compiled, read-only description of Σ terms of one
 // domain, shared by a kernel and its forks.
 type integrand struct {
-	lay       assemble.Layout
+	lay       kernel.Layout
 	n         int
 	elems     []*element.Element
 	fieldElem []int
@@ -219,7 +125,7 @@ type scratch struct {
 	t                []float64
 }
 
-func newIntegrand(form *ir.LoweredForm, lay assemble.Layout, bil, lin []ir.Term) (*integrand, error) {
+func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (*integrand, error) {
 	it := &integrand{lay: lay, n: lay.N(), slots: &Slots{}}
 	it.affine = lay.Cell.IsSimplex() && lay.Geometry.Degree == 1
 	off := 0
@@ -454,13 +360,13 @@ func (it *integrand) newScratch(tabs []*element.Table) *scratch {
 
 // beginCell fills the per-cell environment and evaluates the per-cell
 // coefficients.
-func (it *integrand) beginCell(s *scratch, in *assemble.CellInput) {
+func (it *integrand) beginCell(s *scratch, in *kernel.CellInput) {
 	c := it.lay.Cell
 	if it.needDiam {
-		s.env[SlotCellDiameter] = assemble.CellDiameter(c, in.Coords)
+		s.env[SlotCellDiameter] = kernel.CellDiameter(c, in.Coords)
 	}
 	if it.needVol {
-		s.env[SlotCellVolume] = assemble.CellVolume(c, in.Coords)
+		s.env[SlotCellVolume] = kernel.CellVolume(c, in.Coords)
 	}
 	s.env[SlotT] = in.Time
 	s.env[SlotStep] = in.Step
@@ -515,7 +421,7 @@ func (it *integrand) affineCell(s *scratch, coords []float64) bool {
 // affineCell and the physical derivatives are J^{-T}∇_ξφ and
 // J^{-T}H_ξφ J^{-1}; otherwise element.Table.Map computes them, with the
 // curvature term of the non-affine map in the Hessians.
-func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *assemble.CellInput) (float64, bool) {
+func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *kernel.CellInput) (float64, bool) {
 	d := it.lay.Cell.Dim()
 	var w float64
 	if it.affine {
@@ -692,7 +598,7 @@ func fillNaN(A, b []float64) {
 }
 
 // Kernel is the interpreted cell kernel of a lowered form: it implements
-// assemble.Kernel and assemble.Forker.
+// kernel.Kernel and kernel.Forker.
 type Kernel struct {
 	it   *integrand
 	tabs []*element.Table
@@ -701,9 +607,9 @@ type Kernel struct {
 }
 
 var (
-	_ assemble.Kernel      = (*Kernel)(nil)
-	_ assemble.Forker      = (*Kernel)(nil)
-	_ assemble.FacetKernel = (*FacetKernel)(nil)
+	_ kernel.Kernel      = (*Kernel)(nil)
+	_ kernel.Forker      = (*Kernel)(nil)
+	_ kernel.FacetKernel = (*FacetKernel)(nil)
 )
 
 func splitIntegrals(form *ir.LoweredForm, side string) (bil, lin []ir.Term) {
@@ -719,15 +625,9 @@ func splitIntegrals(form *ir.LoweredForm, side string) (bil, lin []ir.Term) {
 // NewKernel builds the interpreted kernel of the cell integrals of form
 // (all integrals with Domain.Side == "") on cells of type c.
 func NewKernel(form *ir.LoweredForm, c cell.Type, opts Options) (*Kernel, error) {
-	lay, err := LayoutFor(form, c)
+	lay, deg, err := layoutAndDegree(form, c, opts)
 	if err != nil {
 		return nil, err
-	}
-	deg := opts.Degree
-	if deg <= 0 {
-		if deg, err = DefaultDegree(form, c); err != nil {
-			return nil, err
-		}
 	}
 	bil, lin := splitIntegrals(form, "")
 	it, err := newIntegrand(form, lay, bil, lin)
@@ -742,11 +642,11 @@ func NewKernel(form *ir.LoweredForm, c cell.Type, opts Options) (*Kernel, error)
 	return k, nil
 }
 
-// Layout implements assemble.Kernel.
-func (k *Kernel) Layout() assemble.Layout { return k.it.lay }
+// Layout implements kernel.Kernel.
+func (k *Kernel) Layout() kernel.Layout { return k.it.lay }
 
-// Fork implements assemble.Forker: same tables and tapes, new scratch.
-func (k *Kernel) Fork() assemble.Kernel {
+// Fork implements kernel.Forker: same tables and tapes, new scratch.
+func (k *Kernel) Fork() kernel.Kernel {
 	f := *k
 	f.s = k.it.newScratch(k.tabs)
 	return &f
@@ -759,10 +659,10 @@ func (k *Kernel) Rule() quadrature.Rule { return k.rule }
 // iterate (a nonlinear problem solved by Picard iteration).
 func (k *Kernel) NeedsPrevious() bool { return k.it.NeedsPrevious() }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN, which the linear solvers report
 // as a *linsolve.NonFiniteError. It does not allocate.
-func (k *Kernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (k *Kernel) Cell(in *kernel.CellInput, A, b []float64) {
 	it, s := k.it, k.s
 	clear(A[:it.n*it.n])
 	clear(b[:it.n])

@@ -6,8 +6,8 @@ import (
 	"testing"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func elementMatrix(t *testing.T, form *ir.LoweredForm, c cell.Type, coords []float64) ([]float64, []float64, int) {
@@ -18,7 +18,7 @@ func elementMatrix(t *testing.T, form *ir.LoweredForm, c cell.Type, coords []flo
 	}
 	n := k.Layout().N()
 	A, b := make([]float64, n*n), make([]float64, n)
-	k.Cell(&assemble.CellInput{Coords: coords}, A, b)
+	k.Cell(&kernel.CellInput{Coords: coords}, A, b)
 	return A, b, n
 }
 
@@ -40,9 +40,9 @@ func checkMatrix(t *testing.T, name string, got, want []float64, tol float64) {
 // 1e-15: sums of a few exactly representable products.
 func TestP1TriangleTextbook(t *testing.T) {
 	tri := []float64{0, 0, 1, 0, 0, 1}
-	A, _, _ := elementMatrix(t, scalarForm(2, "P1", laplaceTerms(2), nil), cell.Triangle, tri)
+	A, _, _ := elementMatrix(t, scalarForm(2, ir.P1, laplaceTerms(2), nil), cell.Triangle, tri)
 	checkMatrix(t, "stiffness", A, []float64{1, -0.5, -0.5, -0.5, 0.5, 0, -0.5, 0, 0.5}, 1e-15)
-	mass := scalarForm(2, "P1", []ir.Term{term(num(1, 1), fd(uField, 0), fd(vField, 0))}, nil)
+	mass := scalarForm(2, ir.P1, []ir.Term{term(num(1, 1), fd(uField, 0), fd(vField, 0))}, nil)
 	M, _, _ := elementMatrix(t, mass, cell.Triangle, tri)
 	a := 0.5 / 12
 	checkMatrix(t, "mass", M, []float64{2 * a, a, a, a, 2 * a, a, a, a, 2 * a}, 1e-15)
@@ -54,12 +54,12 @@ func TestP1TriangleTextbook(t *testing.T) {
 // relative to the entries' size.
 func TestP1IntervalTextbook(t *testing.T) {
 	x0, h, k, a := 0.3, 0.125, 0.7, 2.5
-	form := scalarForm(1, "P1", []ir.Term{
+	form := scalarForm(1, ir.P1, []ir.Term{
 		term(flt(k), fd(uField, 0, 1), fd(vField, 0, 1)),
 	}, nil)
 	A, _, _ := elementMatrix(t, form, cell.Interval, []float64{x0, x0 + h})
 	checkMatrix(t, "diffusion", A, []float64{k / h, -k / h, -k / h, k / h}, 1e-14*k/h)
-	form = scalarForm(1, "P1", []ir.Term{term(flt(a), fd(uField, 0, 1), fd(vField, 0))}, nil)
+	form = scalarForm(1, ir.P1, []ir.Term{term(flt(a), fd(uField, 0, 1), fd(vField, 0))}, nil)
 	A, _, _ = elementMatrix(t, form, cell.Interval, []float64{x0, x0 + h})
 	checkMatrix(t, "advection", A, []float64{-a / 2, a / 2, -a / 2, a / 2}, 1e-14*a)
 }
@@ -69,7 +69,7 @@ func TestP1IntervalTextbook(t *testing.T) {
 // common closed form, e.g. Braess, Finite Elements, 2007, §II.8).
 func TestQ1SquareTextbook(t *testing.T) {
 	sq := []float64{0, 0, 1, 0, 1, 1, 0, 1}
-	A, _, _ := elementMatrix(t, scalarForm(2, "Q1", laplaceTerms(2), nil), cell.Quadrilateral, sq)
+	A, _, _ := elementMatrix(t, scalarForm(2, ir.Q1, laplaceTerms(2), nil), cell.Quadrilateral, sq)
 	w := []float64{4, -1, -2, -1, -1, 4, -1, -2, -2, -1, 4, -1, -1, -2, -1, 4}
 	for i := range w {
 		w[i] /= 6
@@ -97,7 +97,7 @@ func TestStiffnessRowSumsZero(t *testing.T) {
 			}
 			name += string(rune('0' + deg))
 			coords := jitter(c.Vertices(), 0.2)
-			A, _, n := elementMatrix(t, scalarForm(c.Dim(), name, laplaceTerms(c.Dim()), nil), c, coords)
+			A, _, n := elementMatrix(t, scalarForm(c.Dim(), mustElement(name), laplaceTerms(c.Dim()), nil), c, coords)
 			amax := 0.0
 			for _, v := range A {
 				amax = math.Max(amax, math.Abs(v))
@@ -126,7 +126,7 @@ func TestStiffnessRowSumsZero(t *testing.T) {
 func TestP2HessianTerm(t *testing.T) {
 	tri := []float64{0.1, 0.2, 1.3, 0.1, 0.4, 0.9}
 	area := 0.5 * math.Abs((1.3-0.1)*(0.9-0.2)-(0.4-0.1)*(0.1-0.2))
-	form := scalarForm(2, "P2", []ir.Term{
+	form := scalarForm(2, ir.P2, []ir.Term{
 		term(num(1, 1), fd(uField, 0, 2), fd(vField, 0)),
 		term(num(1, 1), fd(uField, 0, 0, 2), fd(vField, 0)),
 	}, nil)
@@ -155,7 +155,7 @@ func TestP2HessianTerm(t *testing.T) {
 // matrix (L/6)[[2,1],[1,2]] on the facet nodes (Hughes 1987).
 func TestFacetKernelTriangle(t *testing.T) {
 	form := &ir.LoweredForm{
-		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{
 			Domain:   ir.Domain{Side: "outlet"},
 			Bilinear: []ir.Term{term(num(1, 1), fd(uField, 0), fd(vField, 0))},
@@ -167,7 +167,7 @@ func TestFacetKernelTriangle(t *testing.T) {
 		t.Fatal(fks, err)
 	}
 	A, b := make([]float64, 9), make([]float64, 3)
-	fks[0].Facet(&assemble.FacetInput{CellInput: assemble.CellInput{Coords: []float64{0, 0, 1, 0, 0, 1}}, Facet: 0}, A, b)
+	fks[0].Facet(&kernel.FacetInput{CellInput: kernel.CellInput{Coords: []float64{0, 0, 1, 0, 0, 1}}, Facet: 0}, A, b)
 	checkMatrix(t, "facet b", b, []float64{0, 0.5, 0.5}, 1e-15)
 	L := math.Sqrt2
 	checkMatrix(t, "facet mass", A, []float64{0, 0, 0, 0, L / 3, L / 6, 0, L / 6, L / 3}, 1e-15)
@@ -177,7 +177,7 @@ func TestFacetKernelTriangle(t *testing.T) {
 // ∫_facet n_k v summed over the nodes is n_k × area, with the face areas
 // 3, 3, 6, 6, 2, 2 for x-, x+, y-, y+, z-, z+ (runtime/cell facet order).
 func TestFacetKernelHexNormals(t *testing.T) {
-	form := &ir.LoweredForm{Dim: 3, Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "Q1"}}}
+	form := &ir.LoweredForm{Dim: 3, Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.Q1}}}
 	for k := 0; k < 3; k++ {
 		form.Integrals = append(form.Integrals, ir.Integral{
 			Domain: ir.Domain{Side: "s"},
@@ -197,7 +197,7 @@ func TestFacetKernelHexNormals(t *testing.T) {
 	want := []float64{-1 * 3, 1 * 3, -2 * 6, 2 * 6, -3 * 2, 3 * 2}
 	A, b := make([]float64, 64), make([]float64, 8)
 	for f := 0; f < 6; f++ {
-		fks[0].Facet(&assemble.FacetInput{CellInput: assemble.CellInput{Coords: box}, Facet: f}, A, b)
+		fks[0].Facet(&kernel.FacetInput{CellInput: kernel.CellInput{Coords: box}, Facet: f}, A, b)
 		s := 0.0
 		for _, v := range b {
 			s += v
@@ -216,45 +216,45 @@ func TestKernelCellDoesNotAllocate(t *testing.T) {
 	bil := append(laplaceTerms(2),
 		term(tau, fd(uField, 0, 1), fd(vField, 0, 1)),
 		term(call(ir.Sin, coord(0)), fd(uField, 0, 0, 1), fd(vField, 0)))
-	k, err := NewKernel(scalarForm(2, "P2", bil, []ir.Term{term(coord(1), nil, fd(vField, 0))}), cell.Triangle, Options{})
+	k, err := NewKernel(scalarForm(2, ir.P2, bil, []ir.Term{term(coord(1), nil, fd(vField, 0))}), cell.Triangle, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	n := k.Layout().N()
 	A, b := make([]float64, n*n), make([]float64, n)
-	in := &assemble.CellInput{Coords: []float64{0, 0, 1, 0, 0, 1}}
+	in := &kernel.CellInput{Coords: []float64{0, 0, 1, 0, 0, 1}}
 	if a := testing.AllocsPerRun(100, func() { k.Cell(in, A, b) }); a != 0 {
 		t.Errorf("Kernel.Cell allocates %v times per call", a)
 	}
 }
 
 func TestInvertedCellGivesNaN(t *testing.T) {
-	A, b, _ := elementMatrix(t, scalarForm(2, "P1", laplaceTerms(2), nil), cell.Triangle, []float64{0, 0, 0, 1, 1, 0})
+	A, b, _ := elementMatrix(t, scalarForm(2, ir.P1, laplaceTerms(2), nil), cell.Triangle, []float64{0, 0, 0, 1, 1, 0})
 	if !math.IsNaN(A[0]) || !math.IsNaN(b[0]) {
 		t.Errorf("inverted cell: A[0] = %v, b[0] = %v, want NaN", A[0], b[0])
 	}
 }
 
 func TestKernelErrors(t *testing.T) {
-	if _, err := NewKernel(scalarForm(2, "P1", laplaceTerms(2), nil), cell.Quadrilateral, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(2, ir.P1, laplaceTerms(2), nil), cell.Quadrilateral, Options{}); err == nil {
 		t.Error("P1 on quadrilaterals accepted")
 	}
-	if _, err := NewKernel(scalarForm(2, "R7", laplaceTerms(2), nil), cell.Triangle, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(2, ir.Element{Family: 9, Degree: 7}, laplaceTerms(2), nil), cell.Triangle, Options{}); err == nil {
 		t.Error("unknown element accepted")
 	}
 	bad := []ir.Term{term(num(1, 1), fd(uField, 0, 3), fd(vField, 0))}
-	if _, err := NewKernel(scalarForm(1, "P2", bad, nil), cell.Interval, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(1, ir.P2, bad, nil), cell.Interval, Options{}); err == nil {
 		t.Error("third derivative accepted")
 	}
 	swapped := []ir.Term{term(num(1, 1), fd(vField, 0), fd(uField, 0))}
-	if _, err := NewKernel(scalarForm(1, "P1", swapped, nil), cell.Interval, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(1, ir.P1, swapped, nil), cell.Interval, Options{}); err == nil {
 		t.Error("test function in the trial slot accepted")
 	}
 }
 
 var sink float64
 
-func benchKernel(b *testing.B, elem string, c cell.Type) {
+func benchKernel(b *testing.B, elem ir.Element, c cell.Type) {
 	h := &ir.CellQ{Q: ir.Diameter}
 	alpha := mul(num(50, 1), h)
 	tau := mul(h, num(1, 2), add(call(ir.Coth, alpha), mul(num(-1, 1), pow(alpha, num(-1, 1)))))
@@ -279,7 +279,7 @@ func benchKernel(b *testing.B, elem string, c cell.Type) {
 	}
 	n := k.Layout().N()
 	A, rhs := make([]float64, n*n), make([]float64, n)
-	in := &assemble.CellInput{Coords: []float64{0, 0, 0.01, 0, 0, 0.01}}
+	in := &kernel.CellInput{Coords: []float64{0, 0, 0.01, 0, 0, 0.01}}
 	if c == cell.Quadrilateral {
 		in.Coords = []float64{0, 0, 0.01, 0, 0.01, 0.01, 0, 0.01}
 	}
@@ -289,9 +289,9 @@ func benchKernel(b *testing.B, elem string, c cell.Type) {
 	sink = A[0]
 }
 
-func BenchmarkKernelSUPGP1(b *testing.B) { benchKernel(b, "P1", cell.Triangle) }
-func BenchmarkKernelSUPGP2(b *testing.B) { benchKernel(b, "P2", cell.Triangle) }
-func BenchmarkKernelSUPGQ1(b *testing.B) { benchKernel(b, "Q1", cell.Quadrilateral) }
+func BenchmarkKernelSUPGP1(b *testing.B) { benchKernel(b, ir.P1, cell.Triangle) }
+func BenchmarkKernelSUPGP2(b *testing.B) { benchKernel(b, ir.P2, cell.Triangle) }
+func BenchmarkKernelSUPGQ1(b *testing.B) { benchKernel(b, ir.Q1, cell.Quadrilateral) }
 
 // Non-affine Hessians: under a bilinear (trilinear) map, x_k² is a
 // polynomial of degree ≤ 2 in each reference variable, so the Q2 space
@@ -309,7 +309,7 @@ func TestQ2NonAffineHessian(t *testing.T) {
 			dd[k] = 2
 			bil = append(bil, term(num(1, 1), fd(uField, 0, dd...), fd(vField, 0)))
 		}
-		form := scalarForm(d, "Q2", bil, []ir.Term{term(num(int64(2*d), 1), nil, fd(vField, 0))})
+		form := scalarForm(d, ir.Q2, bil, []ir.Term{term(num(int64(2*d), 1), nil, fd(vField, 0))})
 		rng := rand.New(rand.NewPCG(3, 4))
 		coords := append([]float64(nil), c.Vertices()...)
 		for i := range coords {

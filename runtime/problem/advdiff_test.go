@@ -39,7 +39,7 @@ func advDiff1D(a, k, s float64, supg bool) *ir.LoweredForm {
 	}
 	return &ir.LoweredForm{
 		Method: method, Dim: 1,
-		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: lin}},
 		Dirichlet: []ir.DirichletCondition{
 			{Side: mesh.Left, Value: num(0, 1)},
@@ -160,7 +160,7 @@ func TestRobinBoundary1D(t *testing.T) {
 	beta, g := 3.0, 2.0
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 1,
-		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{
 			{Bilinear: []ir.Term{{Coef: num(1, 1), Trial: fd(trialU, 0, 1), Test: fd(testU, 0, 1)}}},
 			{Domain: ir.Domain{Side: mesh.Right},

@@ -18,7 +18,7 @@ func ExampleSolve() {
 	one := &ir.Num{Val: big.NewRat(1, 1)}
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 1,
-		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{
 			// ∫ u′ v′ = ∫ 1·v
 			Bilinear: []ir.Term{{Coef: one, Trial: &ir.FieldD{Field: u, D: [3]uint8{1}}, Test: &ir.FieldD{Field: v, D: [3]uint8{1}}}},

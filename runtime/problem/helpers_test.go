@@ -50,3 +50,12 @@ func facets(m *mesh.Mesh, side string) []dof.Facet {
 	}
 	return out
 }
+
+// mustElement reads an element name that the test knows to be valid.
+func mustElement(name string) ir.Element {
+	e, err := ir.ParseElement(name)
+	if err != nil {
+		panic(err)
+	}
+	return e
+}

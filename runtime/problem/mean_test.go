@@ -18,7 +18,7 @@ func neumannPoisson(f ir.Expr, c int64) *ir.LoweredForm {
 	}
 	return &ir.LoweredForm{
 		Method: "galerkin", Dim: 2,
-		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: []ir.Term{{Coef: f, Test: fd(testU, 0)}}}},
 		Means:     []ir.MeanCondition{{Unknown: 0, Value: num(c, 1)}},
 	}

@@ -38,7 +38,7 @@ func TestMixedOrderCoupledSystem(t *testing.T) {
 	bil = append(bil, ir.Term{Coef: one, Trial: fd(trialU, 0), Test: fd(testP, 0)})
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 2,
-		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P2"}, {Name: "p", Element: "P1"}},
+		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.P2}, {Name: "p", Element: ir.P1}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: []ir.Term{
 			{Coef: f1, Test: fd(testU, 0)}, {Coef: f2, Test: fd(testP, 0)},
 		}}},
@@ -89,7 +89,7 @@ func TestVectorFieldQ2(t *testing.T) {
 	}
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 2,
-		Unknowns:  []ir.LoweredUnknown{{Name: "w", Rank: 1, Element: "Q2"}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "w", Rank: 1, Element: ir.Q2}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: lin}},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.All, Comp: 0, Value: num(0, 1)}, {Side: mesh.All, Comp: 1, Value: num(0, 1)}},
 	}
@@ -128,7 +128,7 @@ func TestPicardQuasilinear(t *testing.T) {
 	f := add(mul(add(num(1, 1), mul(s, s)), pi, pi, s), mul(num(-2, 1), s, pi, pi, c, c))
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 1,
-		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns: []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{
 			Bilinear: []ir.Term{{Coef: add(num(1, 1), mul(prev, prev)), Trial: fd(trialU, 0, 1), Test: fd(testU, 0, 1)}},
 			Linear:   []ir.Term{{Coef: f, Test: fd(testU, 0)}},

@@ -5,9 +5,9 @@ import (
 	"testing"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/mesh"
 )
 
@@ -19,7 +19,7 @@ func laplaceForm(dim int, elem string, f, g ir.Expr) *ir.LoweredForm {
 	}
 	return &ir.LoweredForm{
 		Method: "galerkin", Dim: dim,
-		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: elem}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: mustElement(elem)}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: []ir.Term{{Coef: f, Test: fd(testU, 0)}}}},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.All, Value: g}},
 	}
@@ -85,12 +85,12 @@ func TestPatchAllCells(t *testing.T) {
 // generated kernel.
 type handP1 struct{}
 
-func (handP1) Layout() assemble.Layout {
+func (handP1) Layout() kernel.Layout {
 	e := element.MustLagrange(cell.Triangle, 1)
-	return assemble.Layout{Cell: cell.Triangle, Geometry: e, Fields: []assemble.FieldLayout{{Element: e, Components: 1}}}
+	return kernel.Layout{Cell: cell.Triangle, Geometry: e, Fields: []kernel.FieldLayout{{Element: e, Components: 1}}}
 }
 
-func (handP1) Cell(in *assemble.CellInput, A, b []float64) {
+func (handP1) Cell(in *kernel.CellInput, A, b []float64) {
 	x := in.Coords
 	var bb, cc [3]float64
 	for i := 0; i < 3; i++ {

@@ -29,7 +29,7 @@ func poisson(elem string, f ir.Expr) *ir.LoweredForm {
 	}
 	return &ir.LoweredForm{
 		Method: "galerkin", Dim: 2,
-		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: elem}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: mustElement(elem)}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: []ir.Term{{Coef: f, Test: fd(testU, 0)}}}},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.All, Value: num(0, 1)}},
 	}

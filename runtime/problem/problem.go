@@ -12,6 +12,7 @@ import (
 	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
@@ -21,8 +22,8 @@ import (
 // type: the cell kernel and one facet kernel per boundary side carrying an
 // integral. The generated Go kernels of the back end come as a KernelSet.
 type KernelSet struct {
-	Cell   assemble.Kernel
-	Facets []assemble.FacetKernel
+	Cell   kernel.Kernel
+	Facets []kernel.FacetKernel
 }
 
 // Options control Solve. The zero value asks for the interpreted kernels,
@@ -148,9 +149,9 @@ func (e *PicardError) Error() string {
 }
 
 // dofMap numbers the form's fields on the mesh, with the elements the
-// kernels use (interp.LayoutFor).
+// kernels use (kernel.LayoutFor).
 func dofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Map, error) {
-	lay, err := interp.LayoutFor(form, m.Cell)
+	lay, err := kernel.LayoutFor(form, m.Cell)
 	if err != nil {
 		return nil, err
 	}
@@ -210,8 +211,8 @@ type system struct {
 	form     *ir.LoweredForm
 	m        *mesh.Mesh
 	dm       *dof.Map
-	cellK    assemble.Kernel
-	facetK   []assemble.FacetKernel
+	cellK    kernel.Kernel
+	facetK   []kernel.FacetKernel
 	asm      *assemble.Assembler
 	A        *sparse.CSR
 	b        []float64

@@ -23,7 +23,7 @@ func TestSplitBackwardEulerMatchesStepped(t *testing.T) {
 	}
 	form := &ir.LoweredForm{
 		Method: "galerkin", Dim: 2,
-		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: "P1"}},
+		Unknowns:  []ir.LoweredUnknown{{Name: "u", Element: ir.P1}},
 		Integrals: []ir.Integral{{Bilinear: bil, Linear: []ir.Term{{Coef: num(1, 1), Test: fd(testU, 0)}}}},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.All, Value: num(0, 1)}},
 	}

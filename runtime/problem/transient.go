@@ -6,9 +6,9 @@ import (
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
 )
@@ -228,7 +228,7 @@ func initialValues(dm *dof.Map, opts TransientOptions) []float64 {
 // oldLevel is the old time level of a Picard-iterated backward Euler step:
 // the mass kernel, its matrix and a right-hand-side buffer, and uⁿ.
 type oldLevel struct {
-	k   assemble.Kernel
+	k   kernel.Kernel
 	M   *sparse.CSR
 	b   []float64
 	old []float64

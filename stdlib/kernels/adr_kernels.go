@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,54 +17,54 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return AdrGalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return AdrGalerkinKernel{} },
 	})
 	compiled.Register("f6df99148ba11ce0a486c0d6d6fbba59", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return AdrSUPGKernel{} },
+		NewCell: func() kernel.Kernel { return AdrSUPGKernel{} },
 	})
 	compiled.Register("8c67589596b37222f2ae634fdbabf299", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return AdrGLSKernel{} },
+		NewCell: func() kernel.Kernel { return AdrGLSKernel{} },
 	})
 	compiled.Register("59a11e010b87bd32e8891c238b9b8506", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return AdrVMSKernel{} },
+		NewCell: func() kernel.Kernel { return AdrVMSKernel{} },
 	})
 }
 
 // fwAdrGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwAdrGalerkinLayout = assemble.Layout{
+var fwAdrGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // c P1
 	},
 }
 
 // AdrGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type AdrGalerkinKernel struct{}
 
-var _ assemble.Kernel = AdrGalerkinKernel{}
+var _ kernel.Kernel = AdrGalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (AdrGalerkinKernel) Layout() assemble.Layout { return fwAdrGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (AdrGalerkinKernel) Layout() kernel.Layout { return fwAdrGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (AdrGalerkinKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (AdrGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -126,30 +126,30 @@ func (AdrGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwAdrSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwAdrSUPGLayout = assemble.Layout{
+var fwAdrSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // c P1
 	},
 }
 
 // AdrSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type AdrSUPGKernel struct{}
 
-var _ assemble.Kernel = AdrSUPGKernel{}
+var _ kernel.Kernel = AdrSUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (AdrSUPGKernel) Layout() assemble.Layout { return fwAdrSUPGLayout }
+// Layout implements kernel.Kernel.
+func (AdrSUPGKernel) Layout() kernel.Layout { return fwAdrSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (AdrSUPGKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (AdrSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -270,30 +270,30 @@ func (AdrSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwAdrGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwAdrGLSLayout = assemble.Layout{
+var fwAdrGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // c P1
 	},
 }
 
 // AdrGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type AdrGLSKernel struct{}
 
-var _ assemble.Kernel = AdrGLSKernel{}
+var _ kernel.Kernel = AdrGLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (AdrGLSKernel) Layout() assemble.Layout { return fwAdrGLSLayout }
+// Layout implements kernel.Kernel.
+func (AdrGLSKernel) Layout() kernel.Layout { return fwAdrGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (AdrGLSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (AdrGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -424,30 +424,30 @@ func (AdrGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwAdrVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwAdrVMSLayout = assemble.Layout{
+var fwAdrVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // c P1
 	},
 }
 
 // AdrVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type AdrVMSKernel struct{}
 
-var _ assemble.Kernel = AdrVMSKernel{}
+var _ kernel.Kernel = AdrVMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (AdrVMSKernel) Layout() assemble.Layout { return fwAdrVMSLayout }
+// Layout implements kernel.Kernel.
+func (AdrVMSKernel) Layout() kernel.Layout { return fwAdrVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (AdrVMSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (AdrVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]

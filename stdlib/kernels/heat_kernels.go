@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,54 +17,54 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return HeatGalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return HeatGalerkinKernel{} },
 	})
 	compiled.Register("c27b378f3603fd622988da8a1c7a1a84", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return HeatSUPGKernel{} },
+		NewCell: func() kernel.Kernel { return HeatSUPGKernel{} },
 	})
 	compiled.Register("a9f1aad30a25da63d14cec439d85bb5d", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return HeatGLSKernel{} },
+		NewCell: func() kernel.Kernel { return HeatGLSKernel{} },
 	})
 	compiled.Register("591c9b66d2198de4f9875c1bc5cbd05b", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return HeatVMSKernel{} },
+		NewCell: func() kernel.Kernel { return HeatVMSKernel{} },
 	})
 }
 
 // fwHeatGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwHeatGalerkinLayout = assemble.Layout{
+var fwHeatGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // temp P1
 	},
 }
 
 // HeatGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type HeatGalerkinKernel struct{}
 
-var _ assemble.Kernel = HeatGalerkinKernel{}
+var _ kernel.Kernel = HeatGalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (HeatGalerkinKernel) Layout() assemble.Layout { return fwHeatGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (HeatGalerkinKernel) Layout() kernel.Layout { return fwHeatGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (HeatGalerkinKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (HeatGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -147,30 +147,30 @@ func (HeatGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwHeatSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwHeatSUPGLayout = assemble.Layout{
+var fwHeatSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // temp P1
 	},
 }
 
 // HeatSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type HeatSUPGKernel struct{}
 
-var _ assemble.Kernel = HeatSUPGKernel{}
+var _ kernel.Kernel = HeatSUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (HeatSUPGKernel) Layout() assemble.Layout { return fwHeatSUPGLayout }
+// Layout implements kernel.Kernel.
+func (HeatSUPGKernel) Layout() kernel.Layout { return fwHeatSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (HeatSUPGKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (HeatSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -308,30 +308,30 @@ func (HeatSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwHeatGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwHeatGLSLayout = assemble.Layout{
+var fwHeatGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // temp P1
 	},
 }
 
 // HeatGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type HeatGLSKernel struct{}
 
-var _ assemble.Kernel = HeatGLSKernel{}
+var _ kernel.Kernel = HeatGLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (HeatGLSKernel) Layout() assemble.Layout { return fwHeatGLSLayout }
+// Layout implements kernel.Kernel.
+func (HeatGLSKernel) Layout() kernel.Layout { return fwHeatGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (HeatGLSKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (HeatGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -479,30 +479,30 @@ func (HeatGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwHeatVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwHeatVMSLayout = assemble.Layout{
+var fwHeatVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // temp P1
 	},
 }
 
 // HeatVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type HeatVMSKernel struct{}
 
-var _ assemble.Kernel = HeatVMSKernel{}
+var _ kernel.Kernel = HeatVMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (HeatVMSKernel) Layout() assemble.Layout { return fwHeatVMSLayout }
+// Layout implements kernel.Kernel.
+func (HeatVMSKernel) Layout() kernel.Layout { return fwHeatVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (HeatVMSKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (HeatVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]

@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,55 +17,55 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  2,
-		NewCell: func() assemble.Kernel { return NavierStokesGalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return NavierStokesGalerkinKernel{} },
 	})
 	compiled.Register("3159450448ba077b8769a0dcba56460b", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  2,
-		NewCell: func() assemble.Kernel { return NavierStokesSUPGKernel{} },
+		NewCell: func() kernel.Kernel { return NavierStokesSUPGKernel{} },
 	})
 	compiled.Register("d6599324c541b14e7595da6467be7f66", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  2,
-		NewCell: func() assemble.Kernel { return NavierStokesGLSKernel{} },
+		NewCell: func() kernel.Kernel { return NavierStokesGLSKernel{} },
 	})
 	compiled.Register("d0ad3f0e9f71c25928ebf56a9a35ba92", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  2,
-		NewCell: func() assemble.Kernel { return NavierStokesVMSKernel{} },
+		NewCell: func() kernel.Kernel { return NavierStokesVMSKernel{} },
 	})
 }
 
 // fwNavierStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwNavierStokesGalerkinLayout = assemble.Layout{
+var fwNavierStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // NavierStokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesGalerkinKernel struct{}
 
-var _ assemble.Kernel = NavierStokesGalerkinKernel{}
+var _ kernel.Kernel = NavierStokesGalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (NavierStokesGalerkinKernel) Layout() assemble.Layout { return fwNavierStokesGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (NavierStokesGalerkinKernel) Layout() kernel.Layout { return fwNavierStokesGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (NavierStokesGalerkinKernel) Degree() int { return 2 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -236,31 +236,31 @@ func (NavierStokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwNavierStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwNavierStokesSUPGLayout = assemble.Layout{
+var fwNavierStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // NavierStokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesSUPGKernel struct{}
 
-var _ assemble.Kernel = NavierStokesSUPGKernel{}
+var _ kernel.Kernel = NavierStokesSUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (NavierStokesSUPGKernel) Layout() assemble.Layout { return fwNavierStokesSUPGLayout }
+// Layout implements kernel.Kernel.
+func (NavierStokesSUPGKernel) Layout() kernel.Layout { return fwNavierStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (NavierStokesSUPGKernel) Degree() int { return 2 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -608,31 +608,31 @@ func (NavierStokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwNavierStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwNavierStokesGLSLayout = assemble.Layout{
+var fwNavierStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // NavierStokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesGLSKernel struct{}
 
-var _ assemble.Kernel = NavierStokesGLSKernel{}
+var _ kernel.Kernel = NavierStokesGLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (NavierStokesGLSKernel) Layout() assemble.Layout { return fwNavierStokesGLSLayout }
+// Layout implements kernel.Kernel.
+func (NavierStokesGLSKernel) Layout() kernel.Layout { return fwNavierStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (NavierStokesGLSKernel) Degree() int { return 2 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -1000,31 +1000,31 @@ func (NavierStokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwNavierStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwNavierStokesVMSLayout = assemble.Layout{
+var fwNavierStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // NavierStokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 2 (3 points). It implements assemble.Kernel, keeps no state and
+// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type NavierStokesVMSKernel struct{}
 
-var _ assemble.Kernel = NavierStokesVMSKernel{}
+var _ kernel.Kernel = NavierStokesVMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (NavierStokesVMSKernel) Layout() assemble.Layout { return fwNavierStokesVMSLayout }
+// Layout implements kernel.Kernel.
+func (NavierStokesVMSKernel) Layout() kernel.Layout { return fwNavierStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (NavierStokesVMSKernel) Degree() int { return 2 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (NavierStokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]

@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,55 +17,55 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return OseenGalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return OseenGalerkinKernel{} },
 	})
 	compiled.Register("052ae498408ec4ec374622f6390408a1", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return OseenSUPGKernel{} },
+		NewCell: func() kernel.Kernel { return OseenSUPGKernel{} },
 	})
 	compiled.Register("be4ad70ebc9560ae0bdd32657cf697cb", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return OseenGLSKernel{} },
+		NewCell: func() kernel.Kernel { return OseenGLSKernel{} },
 	})
 	compiled.Register("68618f8e2046600edb3c3a6f782c8b4c", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return OseenVMSKernel{} },
+		NewCell: func() kernel.Kernel { return OseenVMSKernel{} },
 	})
 }
 
 // fwOseenGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwOseenGalerkinLayout = assemble.Layout{
+var fwOseenGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // OseenGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type OseenGalerkinKernel struct{}
 
-var _ assemble.Kernel = OseenGalerkinKernel{}
+var _ kernel.Kernel = OseenGalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (OseenGalerkinKernel) Layout() assemble.Layout { return fwOseenGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (OseenGalerkinKernel) Layout() kernel.Layout { return fwOseenGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (OseenGalerkinKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (OseenGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -178,31 +178,31 @@ func (OseenGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwOseenSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwOseenSUPGLayout = assemble.Layout{
+var fwOseenSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // OseenSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type OseenSUPGKernel struct{}
 
-var _ assemble.Kernel = OseenSUPGKernel{}
+var _ kernel.Kernel = OseenSUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (OseenSUPGKernel) Layout() assemble.Layout { return fwOseenSUPGLayout }
+// Layout implements kernel.Kernel.
+func (OseenSUPGKernel) Layout() kernel.Layout { return fwOseenSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (OseenSUPGKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -486,31 +486,31 @@ func (OseenSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwOseenGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwOseenGLSLayout = assemble.Layout{
+var fwOseenGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // OseenGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type OseenGLSKernel struct{}
 
-var _ assemble.Kernel = OseenGLSKernel{}
+var _ kernel.Kernel = OseenGLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (OseenGLSKernel) Layout() assemble.Layout { return fwOseenGLSLayout }
+// Layout implements kernel.Kernel.
+func (OseenGLSKernel) Layout() kernel.Layout { return fwOseenGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (OseenGLSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -810,31 +810,31 @@ func (OseenGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwOseenVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwOseenVMSLayout = assemble.Layout{
+var fwOseenVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // OseenVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type OseenVMSKernel struct{}
 
-var _ assemble.Kernel = OseenVMSKernel{}
+var _ kernel.Kernel = OseenVMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (OseenVMSKernel) Layout() assemble.Layout { return fwOseenVMSLayout }
+// Layout implements kernel.Kernel.
+func (OseenVMSKernel) Layout() kernel.Layout { return fwOseenVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (OseenVMSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (OseenVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]

@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,55 +17,55 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return StokesGalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return StokesGalerkinKernel{} },
 	})
 	compiled.Register("aed522f0c233f728da480f401899ea69", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return StokesSUPGKernel{} },
+		NewCell: func() kernel.Kernel { return StokesSUPGKernel{} },
 	})
 	compiled.Register("fe9cf6e75a81fba500c5fdad6d660984", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return StokesGLSKernel{} },
+		NewCell: func() kernel.Kernel { return StokesGLSKernel{} },
 	})
 	compiled.Register("d012f3ab11e203fd15c7dff4e06215c7", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return StokesVMSKernel{} },
+		NewCell: func() kernel.Kernel { return StokesVMSKernel{} },
 	})
 }
 
 // fwStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwStokesGalerkinLayout = assemble.Layout{
+var fwStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // StokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type StokesGalerkinKernel struct{}
 
-var _ assemble.Kernel = StokesGalerkinKernel{}
+var _ kernel.Kernel = StokesGalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (StokesGalerkinKernel) Layout() assemble.Layout { return fwStokesGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (StokesGalerkinKernel) Layout() kernel.Layout { return fwStokesGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (StokesGalerkinKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (StokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -171,31 +171,31 @@ func (StokesGalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwStokesSUPGLayout = assemble.Layout{
+var fwStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // StokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type StokesSUPGKernel struct{}
 
-var _ assemble.Kernel = StokesSUPGKernel{}
+var _ kernel.Kernel = StokesSUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (StokesSUPGKernel) Layout() assemble.Layout { return fwStokesSUPGLayout }
+// Layout implements kernel.Kernel.
+func (StokesSUPGKernel) Layout() kernel.Layout { return fwStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (StokesSUPGKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (StokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -395,31 +395,31 @@ func (StokesSUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwStokesGLSLayout = assemble.Layout{
+var fwStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // StokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type StokesGLSKernel struct{}
 
-var _ assemble.Kernel = StokesGLSKernel{}
+var _ kernel.Kernel = StokesGLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (StokesGLSKernel) Layout() assemble.Layout { return fwStokesGLSLayout }
+// Layout implements kernel.Kernel.
+func (StokesGLSKernel) Layout() kernel.Layout { return fwStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (StokesGLSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -631,31 +631,31 @@ func (StokesGLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwStokesVMSLayout = assemble.Layout{
+var fwStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 2}, // vel P1
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // p P1
 	},
 }
 
 // StokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type StokesVMSKernel struct{}
 
-var _ assemble.Kernel = StokesVMSKernel{}
+var _ kernel.Kernel = StokesVMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (StokesVMSKernel) Layout() assemble.Layout { return fwStokesVMSLayout }
+// Layout implements kernel.Kernel.
+func (StokesVMSKernel) Layout() kernel.Layout { return fwStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (StokesVMSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (StokesVMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]

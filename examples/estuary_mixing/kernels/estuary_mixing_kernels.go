@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,54 +17,54 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
 	compiled.Register("788e70dd6dd842c90a81008eb8a17b00", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
 	compiled.Register("15f8dc7b13cd0e41c0b20bfa17c14103", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
 	compiled.Register("989ad8841af5b088cd2be0993410b1fc", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() assemble.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return VMSKernel{} },
 	})
 }
 
 // fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGalerkinLayout = assemble.Layout{
+var fwGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
 	},
 }
 
 // GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type GalerkinKernel struct{}
 
-var _ assemble.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = GalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (GalerkinKernel) Layout() assemble.Layout { return fwGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (GalerkinKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -167,30 +167,30 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwSUPGLayout = assemble.Layout{
+var fwSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
 	},
 }
 
 // SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type SUPGKernel struct{}
 
-var _ assemble.Kernel = SUPGKernel{}
+var _ kernel.Kernel = SUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (SUPGKernel) Layout() assemble.Layout { return fwSUPGLayout }
+// Layout implements kernel.Kernel.
+func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (SUPGKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -379,30 +379,30 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGLSLayout = assemble.Layout{
+var fwGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
 	},
 }
 
 // GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type GLSKernel struct{}
 
-var _ assemble.Kernel = GLSKernel{}
+var _ kernel.Kernel = GLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (GLSKernel) Layout() assemble.Layout { return fwGLSLayout }
+// Layout implements kernel.Kernel.
+func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (GLSKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -609,30 +609,30 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwVMSLayout = assemble.Layout{
+var fwVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
 	},
 }
 
 // VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements assemble.Kernel, keeps no state and
+// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type VMSKernel struct{}
 
-var _ assemble.Kernel = VMSKernel{}
+var _ kernel.Kernel = VMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (VMSKernel) Layout() assemble.Layout { return fwVMSLayout }
+// Layout implements kernel.Kernel.
+func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (VMSKernel) Degree() int { return 3 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]

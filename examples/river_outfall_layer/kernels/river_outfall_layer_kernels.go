@@ -6,10 +6,10 @@ package kernels
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,54 +17,54 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
 	compiled.Register("76d7258b460455a6b50c339c2cd9c95d", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
 	compiled.Register("7902c096e8e9a9203d227d82ced909c6", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
 	compiled.Register("be463f75e1f0a03625c7428028327367", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return VMSKernel{} },
 	})
 }
 
 // fwGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwGalerkinLayout = assemble.Layout{
+var fwGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
 	},
 }
 
 // GalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type GalerkinKernel struct{}
 
-var _ assemble.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = GalerkinKernel{}
 
-// Layout implements assemble.Kernel.
-func (GalerkinKernel) Layout() assemble.Layout { return fwGalerkinLayout }
+// Layout implements kernel.Kernel.
+func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (GalerkinKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -88,30 +88,30 @@ func (GalerkinKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwSUPGLayout = assemble.Layout{
+var fwSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
 	},
 }
 
 // SUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type SUPGKernel struct{}
 
-var _ assemble.Kernel = SUPGKernel{}
+var _ kernel.Kernel = SUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (SUPGKernel) Layout() assemble.Layout { return fwSUPGLayout }
+// Layout implements kernel.Kernel.
+func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (SUPGKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -148,30 +148,30 @@ func (SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwGLSLayout = assemble.Layout{
+var fwGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
 	},
 }
 
 // GLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type GLSKernel struct{}
 
-var _ assemble.Kernel = GLSKernel{}
+var _ kernel.Kernel = GLSKernel{}
 
-// Layout implements assemble.Kernel.
-func (GLSKernel) Layout() assemble.Layout { return fwGLSLayout }
+// Layout implements kernel.Kernel.
+func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (GLSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -210,30 +210,30 @@ func (GLSKernel) Cell(in *assemble.CellInput, A, b []float64) {
 
 // fwVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwVMSLayout = assemble.Layout{
+var fwVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
 	},
 }
 
 // VMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type VMSKernel struct{}
 
-var _ assemble.Kernel = VMSKernel{}
+var _ kernel.Kernel = VMSKernel{}
 
-// Layout implements assemble.Kernel.
-func (VMSKernel) Layout() assemble.Layout { return fwVMSLayout }
+// Layout implements kernel.Kernel.
+func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (VMSKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]

@@ -6,19 +6,19 @@ import (
 	"testing"
 	"time"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/interp"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 // randomCells returns n seeded random non-degenerate cells: the reference
 // cell with each vertex moved by up to 1/8 of its size, scaled and
 // shifted.
-func randomCells(c cell.Type, n int) []assemble.CellInput {
+func randomCells(c cell.Type, n int) []kernel.CellInput {
 	rng := rand.New(rand.NewPCG(7, 11))
 	ref := c.Vertices()
 	d := c.Dim()
-	out := make([]assemble.CellInput, n)
+	out := make([]kernel.CellInput, n)
 	for k := range out {
 		s := 0.01 + 0.1*rng.Float64()
 		sx, sy := rng.Float64(), rng.Float64()
@@ -30,12 +30,12 @@ func randomCells(c cell.Type, n int) []assemble.CellInput {
 			}
 			x[i] = s*(v+0.25*(rng.Float64()-0.5)) + shift
 		}
-		out[k] = assemble.CellInput{Index: k, Coords: x}
+		out[k] = kernel.CellInput{Index: k, Coords: x}
 	}
 	return out
 }
 
-func kernels(t testing.TB, model string, c cell.Type) (gen, hand assemble.Kernel, in *interp.Kernel) {
+func kernels(t testing.TB, model string, c cell.Type) (gen, hand kernel.Kernel, in *interp.Kernel) {
 	_, lf := lowerSUPG(t, model)
 	ik, err := interp.NewKernel(lf, c, interp.Options{})
 	if err != nil {
@@ -66,7 +66,7 @@ func TestKernelsAgree(t *testing.T) {
 		for _, in := range randomCells(tc.c, 8) {
 			Ar, br := make([]float64, n*n), make([]float64, n)
 			ik.Cell(&in, Ar, br)
-			for name, k := range map[string]assemble.Kernel{"generated": gen, "hand-written": hand} {
+			for name, k := range map[string]kernel.Kernel{"generated": gen, "hand-written": hand} {
 				A, b := make([]float64, n*n), make([]float64, n)
 				k.Cell(&in, A, b)
 				for _, p := range [][2][]float64{{A, Ar}, {b, br}} {
@@ -94,7 +94,7 @@ var sink float64
 
 // benchKernel times one element matrix and vector per iteration, cycling
 // through 256 seeded random cells, and reports ns/element.
-func benchKernel(b *testing.B, k assemble.Kernel, c cell.Type) {
+func benchKernel(b *testing.B, k kernel.Kernel, c cell.Type) {
 	cells := randomCells(c, 256)
 	n := k.Layout().N()
 	A, rhs := make([]float64, n*n), make([]float64, n)
@@ -168,9 +168,9 @@ func newFloorQ2() floorQ2 {
 	return f
 }
 
-func (floorQ2) Layout() assemble.Layout { return handQ2Layout }
+func (floorQ2) Layout() kernel.Layout { return handQ2Layout }
 
-func (f floorQ2) Cell(in *assemble.CellInput, A, b []float64) {
+func (f floorQ2) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[: q2n*q2n : q2n*q2n]
 	b = b[:q2n:q2n]
 	var acc [q2n * q2n]float64
@@ -196,12 +196,12 @@ func (f floorQ2) Cell(in *assemble.CellInput, A, b []float64) {
 // and interpreted/generated. With a floor kernel it also reports that
 // kernel's time and interpreted/floor, the largest interpreted/generated
 // ratio any point-wise kernel could reach.
-func benchRatios(b *testing.B, model string, c cell.Type, calls int, floor assemble.Kernel) {
+func benchRatios(b *testing.B, model string, c cell.Type, calls int, floor kernel.Kernel) {
 	gen, hand, ik := kernels(b, model, c)
 	cells := randomCells(c, 256)
 	n := gen.Layout().N()
 	A, rhs := make([]float64, n*n), make([]float64, n)
-	ks := []assemble.Kernel{gen, hand, ik}
+	ks := []kernel.Kernel{gen, hand, ik}
 	if floor != nil {
 		ks = append(ks, floor)
 	}

@@ -3,9 +3,9 @@ package bench
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/quadrature"
 )
 
@@ -46,14 +46,14 @@ func fillNaN(A, b []float64) {
 // ∫ φ_i = |T|/3 (exact, as is the one-point rule the form needs).
 type handP1 struct{}
 
-var handP1Layout = assemble.Layout{
+var handP1Layout = kernel.Layout{
 	Cell: cell.Triangle, Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}},
+	Fields: []kernel.FieldLayout{{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}},
 }
 
-func (handP1) Layout() assemble.Layout { return handP1Layout }
+func (handP1) Layout() kernel.Layout { return handP1Layout }
 
-func (handP1) Cell(in *assemble.CellInput, A, b []float64) {
+func (handP1) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -104,9 +104,9 @@ type handQ2 struct{}
 const q2n, q2q = 9, 9
 
 var (
-	handQ2Layout = assemble.Layout{
+	handQ2Layout = kernel.Layout{
 		Cell: cell.Quadrilateral, Geometry: element.MustLagrange(cell.Quadrilateral, 1),
-		Fields: []assemble.FieldLayout{{Element: element.MustLagrange(cell.Quadrilateral, 2), Components: 1}},
+		Fields: []kernel.FieldLayout{{Element: element.MustLagrange(cell.Quadrilateral, 2), Components: 1}},
 	}
 	q2W                 [q2q]float64
 	q2Phi               [q2q][q2n]float64
@@ -149,13 +149,13 @@ func init() {
 	}
 }
 
-func (handQ2) Layout() assemble.Layout { return handQ2Layout }
+func (handQ2) Layout() kernel.Layout { return handQ2Layout }
 
-func (handQ2) Cell(in *assemble.CellInput, A, b []float64) {
+func (handQ2) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[: q2n*q2n : q2n*q2n]
 	b = b[:q2n:q2n]
 	x := in.Coords[:8:8]
-	h := assemble.CellDiameter(cell.Quadrilateral, x)
+	h := kernel.CellDiameter(cell.Quadrilateral, x)
 	tau := codinaTau(h)
 	// Mixed second derivative of the map (constant for Q1); ∂²x/∂ξ² = 0.
 	cx := x[0]*q1Dxy[0] + x[2]*q1Dxy[1] + x[4]*q1Dxy[2] + x[6]*q1Dxy[3]

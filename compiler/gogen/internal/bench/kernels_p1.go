@@ -6,10 +6,10 @@ package bench
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,36 +17,36 @@ func init() {
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() assemble.Kernel { return P1SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return P1SUPGKernel{} },
 	})
 }
 
 // fwP1SUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwP1SUPGLayout = assemble.Layout{
+var fwP1SUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // c P1
 	},
 }
 
 // P1SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements assemble.Kernel, keeps no state and
+// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type P1SUPGKernel struct{}
 
-var _ assemble.Kernel = P1SUPGKernel{}
+var _ kernel.Kernel = P1SUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (P1SUPGKernel) Layout() assemble.Layout { return fwP1SUPGLayout }
+// Layout implements kernel.Kernel.
+func (P1SUPGKernel) Layout() kernel.Layout { return fwP1SUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (P1SUPGKernel) Degree() int { return 1 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (P1SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]

@@ -6,10 +6,10 @@ package bench
 import (
 	"math"
 
-	"github.com/formwright/formwright/runtime/assemble"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/element"
+	"github.com/formwright/formwright/runtime/kernel"
 )
 
 func init() {
@@ -17,36 +17,36 @@ func init() {
 		Method:  "supg",
 		Cell:    cell.Quadrilateral,
 		Degree:  5,
-		NewCell: func() assemble.Kernel { return Q2SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return Q2SUPGKernel{} },
 	})
 }
 
 // fwQ2SUPGLayout is the element layout of the supg kernels: quadrilateral cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwQ2SUPGLayout = assemble.Layout{
+var fwQ2SUPGLayout = kernel.Layout{
 	Cell:     cell.Quadrilateral,
 	Geometry: element.MustLagrange(cell.Quadrilateral, 1),
-	Fields: []assemble.FieldLayout{
+	Fields: []kernel.FieldLayout{
 		{Element: element.MustLagrange(cell.Quadrilateral, 2), Components: 1}, // c Q2
 	},
 }
 
 // Q2SUPGKernel is the generated cell kernel of the supg form on quadrilateral cells, quadrature
-// degree 5 (9 points). It implements assemble.Kernel, keeps no state and
+// degree 5 (9 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type Q2SUPGKernel struct{}
 
-var _ assemble.Kernel = Q2SUPGKernel{}
+var _ kernel.Kernel = Q2SUPGKernel{}
 
-// Layout implements assemble.Kernel.
-func (Q2SUPGKernel) Layout() assemble.Layout { return fwQ2SUPGLayout }
+// Layout implements kernel.Kernel.
+func (Q2SUPGKernel) Layout() kernel.Layout { return fwQ2SUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
 func (Q2SUPGKernel) Degree() int { return 5 }
 
-// Cell implements assemble.Kernel. On a cell with a non-positive Jacobian
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (Q2SUPGKernel) Cell(in *assemble.CellInput, A, b []float64) {
+func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:8:8]

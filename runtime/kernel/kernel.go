@@ -1,4 +1,4 @@
-package assemble
+package kernel
 
 import (
 	"math"
@@ -84,14 +84,14 @@ type Forker interface {
 // CellDiameter is the diameter of a cell of straight edges, the largest
 // distance between two of its vertices (vertexCoords: NumVertices*Dim).
 // On simplices it is the longest edge; on quadrilaterals and hexahedra a
-// diagonal. It is the value of the cell quantity cell_diameter for both
-// the interpreted and the generated kernels. No allocation.
+// diagonal. It is the value of the quantity ir.Diameter for both the
+// interpreted and the generated kernels. No allocation.
 func CellDiameter(c cell.Type, vertexCoords []float64) float64 {
 	return element.Diameter(c, vertexCoords)
 }
 
 // CellVolume is the length, area or volume of a cell under its P1/Q1 map
-// (element.Measure), the cell quantity cell_volume.
+// (element.Measure), the quantity ir.Volume.
 func CellVolume(c cell.Type, vertexCoords []float64) float64 {
 	return math.Abs(element.Measure(c, vertexCoords))
 }
