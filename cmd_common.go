@@ -9,14 +9,14 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/compiler/render"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/plot"
 	"github.com/formwright/formwright/runtime/problem"
 )
 
-func syntaxOf(e ir.Expr) string { return render.Expr(e, render.Syntax, render.Names{}) }
+func syntaxOf(e ir.Expr) string { return notation.Expr(e, notation.Syntax, notation.Names{}) }
 
 // kernelPath looks the form up among the kernels compiled into the command
 // (by content hash, cell type and quadrature degree) and sets opts to use

@@ -4,7 +4,7 @@ import (
 	"fmt"
 
 	"github.com/formwright/formwright/compiler"
-	"github.com/formwright/formwright/compiler/render"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/lang"
 )
 
@@ -32,9 +32,9 @@ tau for u = 1
 		fmt.Println(err)
 		return
 	}
-	names := render.Names{Test: map[int]string{0: "v"}}
-	fmt.Println("L* v =", render.Expr(d.Adjoint[0], render.Text, names))
-	fmt.Println("with a substituted:", render.Expr(compiler.Simplify(compiler.LowerExpr(m, d.Adjoint[0])[0], 2), render.Syntax, names))
+	names := notation.Names{Test: map[int]string{0: "v"}}
+	fmt.Println("L* v =", notation.Expr(d.Adjoint[0], notation.Text, names))
+	fmt.Println("with a substituted:", notation.Expr(compiler.Simplify(compiler.LowerExpr(m, d.Adjoint[0])[0], 2), notation.Syntax, names))
 	// Output:
 	// L* v = −k Δv − (∇·a) v − a·∇v
 	// with a substituted: -x*partial(test(u), x) - test(u) - (1/10)*partial(test(u), x, x) - (1/10)*partial(test(u), y, y)

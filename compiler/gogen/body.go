@@ -7,7 +7,7 @@ import (
 	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/compiler/render"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
 )
@@ -839,11 +839,11 @@ func symmetric(gs []*group) bool {
 func termComment(gr *group) []string {
 	var out []string
 	for _, t := range gr.terms {
-		s := render.Expr(t.Coef, render.Text, render.Names{})
+		s := notation.Expr(t.Coef, notation.Text, notation.Names{})
 		if t.Trial != nil {
-			s = "(" + s + ") · " + render.Expr(t.Trial, render.Text, render.Names{})
+			s = "(" + s + ") · " + notation.Expr(t.Trial, notation.Text, notation.Names{})
 		}
-		s += " · " + render.Expr(t.Test, render.Text, render.Names{})
+		s += " · " + notation.Expr(t.Test, notation.Text, notation.Names{})
 		if p := t.Coef.Pos(); p.IsValid() {
 			s += fmt.Sprintf("   [%s:%d]", baseName(p.File), p.Line)
 		}

@@ -23,7 +23,7 @@ func debug(b *strings.Builder, e Expr) {
 		b.WriteString(e.Name)
 		return
 	case *Coord:
-		b.WriteString([]string{"x", "y", "z"}[e.Axis])
+		b.WriteString(AxisName(e.Axis))
 		return
 	case *Time:
 		b.WriteString("t")
@@ -45,7 +45,7 @@ func debug(b *strings.Builder, e Expr) {
 	case *Comp:
 		head = fmt.Sprintf("comp%d", e.I)
 	case *Partial:
-		head = "d" + []string{"x", "y", "z"}[e.Axis]
+		head = "d" + AxisName(e.Axis)
 	default:
 		head = strings.ToLower(fmt.Sprintf("%T", e)[4:])
 	}

@@ -41,6 +41,9 @@ type Coord struct {
 	Axis int
 }
 
+// AxisName is the model-language name of coordinate axis k: x, y or z.
+func AxisName(k int) string { return [...]string{"x", "y", "z"}[k] }
+
 // Time is the time variable t.
 type Time struct{ At }
 

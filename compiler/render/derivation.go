@@ -8,12 +8,13 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/compiler/notation"
 )
 
 // namesFor picks test-function names: v for a single unknown, v_<name>
 // otherwise.
-func namesFor(m *compiler.Model) Names {
-	n := Names{Test: map[int]string{}}
+func namesFor(m *compiler.Model) notation.Names {
+	n := notation.Names{Test: map[int]string{}}
 	if len(m.Unknowns) == 1 {
 		n.Test[0] = "v"
 	}
@@ -22,8 +23,8 @@ func namesFor(m *compiler.Model) Names {
 
 type textWriter struct {
 	w     io.Writer
-	s     Style
-	names Names
+	s     notation.Style
+	names notation.Names
 	m     *compiler.Model
 	err   error
 }
@@ -34,13 +35,13 @@ func (t *textWriter) printf(format string, a ...any) {
 	}
 }
 
-func (t *textWriter) e(x ir.Expr) string { return Expr(x, t.s, t.names) }
+func (t *textWriter) e(x ir.Expr) string { return notation.Expr(x, t.s, t.names) }
 
 func (t *textWriter) test(i int) string {
-	return Expr(t.m.Test(i), t.s, t.names)
+	return notation.Expr(t.m.Test(i), t.s, t.names)
 }
 
-func (t *textWriter) trial(i int) string { return Expr(t.m.Trial(i), t.s, t.names) }
+func (t *textWriter) trial(i int) string { return notation.Expr(t.m.Trial(i), t.s, t.names) }
 
 func (t *textWriter) unknownList() string {
 	var s []string
@@ -71,7 +72,7 @@ func (t *textWriter) notes(ns []compiler.Note) {
 // WriteText prints the derivation as Unicode text, stage by stage.
 func WriteText(w io.Writer, d *compiler.Derivation) error {
 	m := d.Model
-	t := &textWriter{w: w, s: Text, names: namesFor(m), m: m}
+	t := &textWriter{w: w, s: notation.Text, names: namesFor(m), m: m}
 	t.printf("derivation of model %s (%s), dimension %d\n", m.Name, m.File, m.Dim)
 	for _, u := range m.Unknowns {
 		rank := "scalar"
@@ -169,7 +170,7 @@ func methodTitle(m compiler.Method) string {
 // WriteLaTeX prints the derivation as a complete amsmath document.
 func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 	m := d.Model
-	t := &textWriter{w: w, s: LaTeX, names: namesFor(m), m: m}
+	t := &textWriter{w: w, s: notation.LaTeX, names: namesFor(m), m: m}
 	t.printf("%% Derivation of model %s, written by formwright.\n", m.Name)
 	t.printf("\\documentclass{article}\n\\usepackage{amsmath,amssymb}\n\\usepackage[margin=2cm]{geometry}\n\\begin{document}\n")
 	t.printf("\\section*{Model \\texttt{%s}, dimension %d}\n", latexText(m.Name), m.Dim)
@@ -283,11 +284,11 @@ func Tree(e ir.Expr) *Node {
 	}
 	switch e := e.(type) {
 	case *ir.Num:
-		n.Op, n.Value = "num", ratString(e.Val)
+		n.Op, n.Value = "num", e.Val.RatString()
 	case *ir.Const:
 		n.Op, n.Name = "const", e.Name
 	case *ir.Coord:
-		n.Op, n.Name = "coord", axisNames[e.Axis]
+		n.Op, n.Name = "coord", ir.AxisName(e.Axis)
 	case *ir.Time:
 		n.Op = "time"
 	case *ir.Sym:
@@ -320,22 +321,22 @@ func Tree(e ir.Expr) *Node {
 	case *ir.Lap:
 		n.Op = "lap"
 	case *ir.Partial:
-		n.Op, n.Name = "partial", axisNames[e.Axis]
+		n.Op, n.Name = "partial", ir.AxisName(e.Axis)
 	case *ir.TimeDeriv:
 		n.Op = "dt"
 	case *ir.FieldD:
-		n.Op, n.Name, n.Kind = "field_derivative", Expr(e, Syntax, Names{}), e.Field.Role.String()
+		n.Op, n.Name, n.Kind = "field_derivative", notation.Expr(e, notation.Syntax, notation.Names{}), e.Field.Role.String()
 	case *ir.CellQ:
-		n.Op, n.Name = "cell_quantity", Expr(e, Syntax, Names{})
+		n.Op, n.Name = "cell_quantity", notation.Expr(e, notation.Syntax, notation.Names{})
 	}
 	return n
 }
 
-func jexpr(e ir.Expr, names Names) *Expression {
+func jexpr(e ir.Expr, names notation.Names) *Expression {
 	if e == nil {
 		return nil
 	}
-	return &Expression{Syntax: Expr(e, Syntax, Names{}), Text: Expr(e, Text, names), Tree: Tree(e)}
+	return &Expression{Syntax: notation.Expr(e, notation.Syntax, notation.Names{}), Text: notation.Expr(e, notation.Text, names), Tree: Tree(e)}
 }
 
 // JSON schema types; field names are stable (documented in the README).
@@ -448,7 +449,7 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 	names := namesFor(m)
 	out := jsonDerivation{Schema: SchemaVersion, Model: m.Name, File: m.File, Dimension: m.Dim, Notes: jnotes(d.Notes)}
 	for _, u := range m.Unknowns {
-		out.Unknowns = append(out.Unknowns, jsonUnknown{u.Name, u.Rank, u.Element.String(), Expr(m.Test(u.Index), Text, names)})
+		out.Unknowns = append(out.Unknowns, jsonUnknown{u.Name, u.Rank, u.Element.String(), notation.Expr(m.Test(u.Index), notation.Text, names)})
 	}
 	for k, eq := range m.Equations {
 		name := m.Unknowns[eq.For].Name

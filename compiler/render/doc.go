@@ -1,9 +1,7 @@
-// Package render prints compiler IR and derivations for people and tools:
-// expressions in the model language's own syntax (which Model.ParseExpr
-// reads back to the same IR), in Unicode mathematics and in LaTeX; and a
-// whole Derivation as text, as an amsmath document and as JSON (schema
-// SchemaVersion, documented in the README).
+// Package render prints a whole Derivation for people and tools: as text,
+// as an amsmath document and as JSON (schema SchemaVersion, documented in
+// the README). Expressions inside it are written by compiler/notation.
 //
-// In the flow lang → compiler → runtime it is the compiler's output side,
-// used by the derive command.
+// In the flow lang → compiler → printers → back ends it is the compiler's
+// output side, used by the derive command.
 package render

@@ -7,6 +7,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/stdlib"
@@ -131,7 +132,7 @@ func TestSyntaxRoundTrip(t *testing.T) {
 			e = g.scalar(1 + i%4)
 		}
 		c := compiler.Simplify(e, 2)
-		src := Expr(c, Syntax, Names{})
+		src := notation.Expr(c, notation.Syntax, notation.Names{})
 		back, errs := m.ParseExpr("roundtrip", src)
 		if len(errs) > 0 {
 			t.Fatalf("printed form does not parse:\n  %s\n  %v\n  tree %s", src, errs, ir.Debug(c))
@@ -167,7 +168,7 @@ func TestDerivedFormsReadBack(t *testing.T) {
 		}
 		for _, e := range exprs {
 			c := compiler.Simplify(e, m.Dim)
-			s := Expr(c, Syntax, Names{})
+			s := notation.Expr(c, notation.Syntax, notation.Names{})
 			back, errs := m.ParseExpr(name, s)
 			if len(errs) > 0 {
 				t.Fatalf("%s: %q does not read back: %v", name, s, errs)

@@ -1,4 +1,4 @@
-package render
+package notation
 
 import (
 	"fmt"
@@ -113,13 +113,6 @@ func (p printer) testName(f *ir.Field) string {
 	return p.name("v_" + f.Name)
 }
 
-func ratString(r *big.Rat) string {
-	if r.IsInt() {
-		return r.Num().String()
-	}
-	return r.Num().String() + "/" + r.Denom().String()
-}
-
 var superscripts = map[rune]rune{'0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹', '-': '⁻'}
 
 func superscript(s string) (string, bool) {
@@ -134,7 +127,6 @@ func superscript(s string) (string, bool) {
 	return b.String(), true
 }
 
-var axisNames = [...]string{"x", "y", "z"}
 
 // expr returns the printed expression and its precedence.
 func (p printer) expr(e ir.Expr) (string, int) {
@@ -150,7 +142,7 @@ func (p printer) expr(e ir.Expr) (string, int) {
 		}
 		return e.Name, precAtom
 	case *ir.Coord:
-		return axisNames[e.Axis], precAtom
+		return ir.AxisName(e.Axis), precAtom
 	case *ir.Time:
 		return "t", precAtom
 	case *ir.Sym:
@@ -216,7 +208,7 @@ func (p printer) expr(e ir.Expr) (string, int) {
 	case *ir.Lap:
 		return p.diffOp("lap", "Δ", `\Delta `, e.X), precUnary
 	case *ir.Partial:
-		ax := axisNames[e.Axis]
+		ax := ir.AxisName(e.Axis)
 		switch p.style {
 		case Syntax:
 			return "partial(" + p.sub(e.X, 0) + ", " + ax + ")", precAtom
@@ -270,7 +262,7 @@ func (p printer) fieldD(f *ir.FieldD) string {
 	var axes []string
 	for k := 0; k < 3; k++ {
 		for i := 0; i < int(f.D[k]); i++ {
-			axes = append(axes, axisNames[k])
+			axes = append(axes, ir.AxisName(k))
 		}
 	}
 	for i := 0; i < int(f.DT); i++ {
@@ -341,7 +333,7 @@ func (p printer) num(r *big.Rat) (string, int) {
 	if p.style == LaTeX {
 		return `\frac{` + r.Num().String() + `}{` + r.Denom().String() + `}`, precAtom
 	}
-	return ratString(r), precMul
+	return r.RatString(), precMul
 }
 
 func (p printer) binop(a, b ir.Expr, syn, txt, tex string) string {
