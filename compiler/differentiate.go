@@ -212,6 +212,8 @@ func (s simplifier) partial(p source.Pos, x ir.Expr, axis int, orig ir.Expr) ir.
 		d := *x
 		d.D[axis]++
 		return &d
+	case *ir.Named:
+		return d(x.X)
 	case *ir.Partial:
 		if axis < x.Axis {
 			// Mixed derivatives commute; keep the smaller axis inside.
@@ -331,6 +333,8 @@ func (s simplifier) timeDeriv(e *ir.TimeDeriv) ir.Expr {
 		n := *x
 		n.DT++
 		return &n
+	case *ir.Named:
+		return d(x.X)
 	case *ir.Add, *ir.Mul, *ir.Pow, *ir.Call, *ir.Vec, *ir.Dot, *ir.DDot, *ir.Outer:
 		if r := leibniz(p, x, d); r != nil {
 			return r

@@ -4,6 +4,7 @@ import (
 	"fmt"
 
 	"github.com/formwright/formwright/compiler"
+	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/lang"
 )
@@ -34,7 +35,7 @@ tau for u = 1
 	}
 	names := notation.Names{Test: map[int]string{0: "v"}}
 	fmt.Println("L* v =", notation.Expr(d.Adjoint[0], notation.Text, names))
-	fmt.Println("with a substituted:", notation.Expr(compiler.Simplify(compiler.LowerExpr(m, d.Adjoint[0])[0], 2), notation.Syntax, names))
+	fmt.Println("with a substituted:", notation.Expr(compiler.Simplify(ir.Expand(compiler.LowerExpr(m, d.Adjoint[0])[0]), 2), notation.Syntax, names))
 	// Output:
 	// L* v = −k Δv − (∇·a) v − a·∇v
 	// with a substituted: -x*partial(test(u), x) - test(u) - (1/10)*partial(test(u), x, x) - (1/10)*partial(test(u), y, y)

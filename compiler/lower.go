@@ -211,7 +211,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		if cf == nil {
 			panic("compiler: lower: unknown coefficient " + s.Name)
 		}
-		c := l.Lower(cf.Def)
+		c := l.named(cf.Sym, l.Lower(cf.Def))
 		l.memo[key] = c
 		return c
 	case ir.FineScale:
@@ -223,7 +223,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		if !ok {
 			panic("compiler: lower: unknown fine-scale velocity " + s.Name)
 		}
-		c := l.Lower(def)
+		c := l.named(s, l.Lower(def))
 		l.memo[key] = c
 		return c
 	case ir.Tau:
@@ -233,7 +233,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		}
 		for i, ts := range l.m.TauSym {
 			if ts != nil && ts.Name == s.Name {
-				c := l.Lower(l.m.Tau[i])
+				c := l.named(ts, l.Lower(l.m.Tau[i]))
 				l.memo[key] = c
 				return c
 			}
@@ -268,6 +268,34 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		return out
 	}
 	panic("compiler: lower: unexpected symbol " + s.Name)
+}
+
+// named wraps each lowered component of symbol s in an ir.Named, so the
+// symbol keeps its name through lowering. Numbers stay bare (they fold
+// into the expressions that use them), and so do components that contain
+// the unknown or the test function (the form's terms are read off them).
+func (l *lowerer) named(s *ir.Sym, comps []ir.Expr) []ir.Expr {
+	out := make([]ir.Expr, len(comps))
+	for k, c := range comps {
+		switch c.(type) {
+		case *ir.Num, *ir.Const, *ir.Named:
+			out[k] = c
+			continue
+		}
+		if hasTT(c) {
+			out[k] = c
+			continue
+		}
+		n := &ir.Named{At: ir.At{P: s.P}, Sym: s, X: c}
+		switch s.R {
+		case 1:
+			n.I = k
+		case 2:
+			n.I, n.J = k/l.dim, k%l.dim
+		}
+		out[k] = n
+	}
+	return out
 }
 
 // NonlinearError reports a term of a form that is not bilinear.

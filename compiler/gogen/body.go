@@ -606,6 +606,8 @@ func (g *bodyGen) coef(e ir.Expr) int {
 	}
 	d := g.d
 	switch e := e.(type) {
+	case *ir.Named:
+		return g.coef(e.X)
 	case *ir.Num:
 		f, _ := e.Val.Float64()
 		return d.konst(f)

@@ -40,6 +40,8 @@ func debug(b *strings.Builder, e Expr) {
 	case *CellQ:
 		fmt.Fprintf(b, "%s[%d,%d]", e.Q, e.I, e.J)
 		return
+	case *Named:
+		head = "named " + e.Name()
 	case *Call:
 		head = e.Fn.String()
 	case *Comp:

@@ -53,6 +53,8 @@ func Eval(e Expr, env Env) float64 {
 		return math.Pow(b, x)
 	case *Call:
 		return callFloat(e.Fn, Eval(e.Args[0], env), e.Args, env)
+	case *Named:
+		return Eval(e.X, env)
 	}
 	panic(fmt.Sprintf("ir: Eval of %T (only lowered scalar expressions evaluate)", e))
 }

@@ -1,6 +1,7 @@
 package ir
 
 import (
+	"fmt"
 	"math/big"
 
 	"github.com/formwright/formwright/lang/source"
@@ -232,6 +233,34 @@ type FieldD struct {
 	DT    uint8
 }
 
+// Named is one scalar component of a coefficient, τ or fine-scale quantity
+// in a lowered expression, kept under its model name: X is the component's
+// lowered definition and Sym the symbol it came from (with I, J the
+// component, 0 for scalars). Lowering makes one Named per component and
+// shares it wherever the symbol occurs. Evaluators and derivatives see
+// through it; the simplifier treats it as one factor of the enclosing
+// expression (its definition is simplified on its own), so derived forms
+// and generated kernels read τ_c rather than τ's expanded formula, and a
+// back end computes it once under that name.
+type Named struct {
+	At
+	Sym  *Sym
+	I, J int
+	X    Expr
+}
+
+// Name is the model name of the component: the symbol's name, with
+// 1-based component indices for vectors and matrices ("a[2]").
+func (n *Named) Name() string {
+	switch n.Sym.R {
+	case 1:
+		return fmt.Sprintf("%s[%d]", n.Sym.Name, n.I+1)
+	case 2:
+		return fmt.Sprintf("%s[%d][%d]", n.Sym.Name, n.I+1, n.J+1)
+	}
+	return n.Sym.Name
+}
+
 // CellQ is a scalar leaf of lowered expressions: component (I, J) of a
 // quantity (I = J = 0 for scalar ones).
 type CellQ struct {
@@ -262,6 +291,7 @@ func (*Partial) exprNode()   {}
 func (*TimeDeriv) exprNode() {}
 func (*FieldD) exprNode()    {}
 func (*CellQ) exprNode()     {}
+func (*Named) exprNode()     {}
 
 // Rank implementations.
 
@@ -311,3 +341,4 @@ func (p *Partial) Rank() int   { return p.X.Rank() }
 func (d *TimeDeriv) Rank() int { return d.X.Rank() }
 func (*FieldD) Rank() int      { return 0 }
 func (*CellQ) Rank() int       { return 0 }
+func (n *Named) Rank() int     { return n.X.Rank() }

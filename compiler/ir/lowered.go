@@ -171,7 +171,7 @@ func (lf *LoweredForm) Validate() error {
 				return false
 			}
 			switch x := x.(type) {
-			case *Num, *Add, *Mul, *Pow, *Time:
+			case *Num, *Add, *Mul, *Pow, *Time, *Named:
 			case *Const:
 				if x.Name != "pi" {
 					leafErr = bad("unknown constant %s", x.Name)

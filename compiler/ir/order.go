@@ -16,40 +16,42 @@ func kindOrder(e Expr) int {
 		return 3
 	case *Sym:
 		return 4
-	case *CellQ:
+	case *Named:
 		return 5
-	case *Call:
+	case *CellQ:
 		return 6
-	case *Pow:
+	case *Call:
 		return 7
-	case *Mul:
+	case *Pow:
 		return 8
-	case *Add:
+	case *Mul:
 		return 9
-	case *Comp:
+	case *Add:
 		return 10
-	case *Vec:
+	case *Comp:
 		return 11
-	case *Dot:
+	case *Vec:
 		return 12
-	case *DDot:
+	case *Dot:
 		return 13
-	case *Outer:
-		return 21
-	case *Partial:
+	case *DDot:
 		return 14
-	case *Grad:
+	case *Outer:
+		return 22
+	case *Partial:
 		return 15
-	case *Div:
+	case *Grad:
 		return 16
-	case *Lap:
+	case *Div:
 		return 17
-	case *TimeDeriv:
+	case *Lap:
 		return 18
-	case *Field:
+	case *TimeDeriv:
 		return 19
-	case *FieldD:
+	case *Field:
 		return 20
+	case *FieldD:
+		return 21
 	}
 	panic("ir: unknown node")
 }
@@ -85,6 +87,18 @@ func Compare(a, b Expr) int {
 			return c
 		}
 		return strings.Compare(a.Name, bs.Name)
+	case *Named:
+		bn := b.(*Named)
+		if c := Compare(a.Sym, bn.Sym); c != 0 {
+			return c
+		}
+		if c := cmpInt(a.I, bn.I); c != 0 {
+			return c
+		}
+		if c := cmpInt(a.J, bn.J); c != 0 {
+			return c
+		}
+		return Compare(a.X, bn.X)
 	case *CellQ:
 		bq := b.(*CellQ)
 		if c := strings.Compare(a.Q.String(), bq.Q.String()); c != 0 {

@@ -38,6 +38,8 @@ func Children(e Expr) []Expr {
 		return []Expr{e.X}
 	case *TimeDeriv:
 		return []Expr{e.X}
+	case *Named:
+		return []Expr{e.X}
 	}
 	return nil
 }
@@ -74,6 +76,8 @@ func WithChildren(e Expr, kids []Expr) Expr {
 		return &Partial{e.At, kids[0], e.Axis}
 	case *TimeDeriv:
 		return &TimeDeriv{e.At, kids[0]}
+	case *Named:
+		return &Named{e.At, e.Sym, e.I, e.J, kids[0]}
 	}
 	if len(kids) != 0 {
 		panic(fmt.Sprintf("ir: WithChildren on leaf %T", e))
@@ -109,6 +113,16 @@ func MapUp(e Expr, f func(Expr) Expr) Expr {
 		}
 	}
 	return f(e)
+}
+
+// Expand returns e with every Named node replaced by its definition.
+func Expand(e Expr) Expr {
+	return MapUp(e, func(x Expr) Expr {
+		if n, ok := x.(*Named); ok {
+			return n.X
+		}
+		return x
+	})
 }
 
 // Contains reports whether any node of e satisfies pred.

@@ -147,6 +147,15 @@ func (p printer) expr(e ir.Expr) (string, int) {
 		return "t", precAtom
 	case *ir.Sym:
 		return p.sym(e), precAtom
+	case *ir.Named:
+		s := p.sym(e.Sym)
+		switch e.Sym.R {
+		case 1:
+			return p.component(s, e.I), precAtom
+		case 2:
+			return p.component(p.component(s, e.I), e.J), precAtom
+		}
+		return s, precAtom
 	case *ir.Field:
 		switch e.Role {
 		case ir.Test:
@@ -182,13 +191,7 @@ func (p printer) expr(e ir.Expr) (string, int) {
 		}
 		return "[" + strings.Join(el, ", ") + "]", precAtom
 	case *ir.Comp:
-		switch p.style {
-		case Syntax:
-			return fmt.Sprintf("%s[%d]", p.sub(e.X, precAtom), e.I+1), precAtom
-		case LaTeX:
-			return fmt.Sprintf("{%s}_{%d}", p.sub(e.X, precAtom), e.I+1), precAtom
-		}
-		return fmt.Sprintf("%s[%d]", p.sub(e.X, precAtom), e.I+1), precAtom
+		return p.component(p.sub(e.X, precAtom), e.I), precAtom
 	case *ir.Dot:
 		return p.binop(e.A, e.B, " . ", "·", ` \cdot `), precMul
 	case *ir.DDot:
@@ -496,6 +499,14 @@ func (p printer) pow(e *ir.Pow) (string, int) {
 		return p.sub(e.Base, precAtom) + "^{" + p.sub(e.Exp, 0) + "}", precPow
 	}
 	return p.sub(e.Base, precAtom) + "^" + p.sub(e.Exp, precAtom), precPow
+}
+
+// component writes component i (0-based) of the printed operand x.
+func (p printer) component(x string, i int) string {
+	if p.style == LaTeX {
+		return fmt.Sprintf("{%s}_{%d}", x, i+1)
+	}
+	return fmt.Sprintf("%s[%d]", x, i+1)
 }
 
 func (p printer) call(e *ir.Call) (string, int) {

@@ -217,6 +217,8 @@ func ExprKey(e ir.Expr) string {
 	var walk func(e ir.Expr)
 	walk = func(e ir.Expr) {
 		switch e := e.(type) {
+		case *ir.Named:
+			walk(e.X) // a name changes nothing the tape computes
 		case *ir.Num:
 			b = append(b, 'n')
 			b = append(b, e.Val.RatString()...)
@@ -283,6 +285,8 @@ func (c *compiler) pushConst(v float64) {
 // constValue returns the value of e if it contains no input.
 func constValue(e ir.Expr) (float64, bool) {
 	switch e := e.(type) {
+	case *ir.Named:
+		return constValue(e.X)
 	case *ir.Num:
 		f, _ := e.Val.Float64()
 		return f, true
@@ -387,6 +391,9 @@ func (c *compiler) expr(e ir.Expr) (Deps, error) {
 	}
 	if e.Rank() != 0 {
 		return 0, &UnsupportedError{fmt.Sprintf("%T of rank %d", e, e.Rank())}
+	}
+	if n, ok := e.(*ir.Named); ok {
+		return c.expr(n.X)
 	}
 	if v, ok := constValue(e); ok {
 		c.pushConst(v)

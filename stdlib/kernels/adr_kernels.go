@@ -19,19 +19,19 @@ func init() {
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrGalerkinKernel{} },
 	})
-	compiled.Register("f6df99148ba11ce0a486c0d6d6fbba59", compiled.Kernels{
+	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrSUPGKernel{} },
 	})
-	compiled.Register("8c67589596b37222f2ae634fdbabf299", compiled.Kernels{
+	compiled.Register("35e2ce77c37d48c9161462a5bc1a03da", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrGLSKernel{} },
 	})
-	compiled.Register("59a11e010b87bd32e8891c238b9b8506", compiled.Kernels{
+	compiled.Register("eb8b41a3da402c8a00d51bc9adca8858", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -242,14 +242,14 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
 	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
@@ -261,8 +261,8 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
-	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
+	//   - τ_c · partial(test(c), x)   [adr.fw:15]
 	b[0] = 0.1666666666666667*detJ + coef12*c71
 	b[1] = 0.16666666666666666*detJ + coef12*c72
 	b[2] = 0.16666666666666666*detJ + coef12*c73
@@ -386,22 +386,22 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
 	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (τ_c/10000) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (τ_c/10000) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (τ_c/10000) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (τ_c/10000) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
@@ -413,10 +413,10 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
-	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//   - −1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	//   - −1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
+	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
+	//   - −τ_c/100 · partial(test(c), y, y)   [adr.fw:12]
+	//   - τ_c · partial(test(c), x)   [adr.fw:15]
+	//   - −τ_c/100 · partial(test(c), x, x)   [adr.fw:12]
 	b[0] = 0.1666666666666667*detJ + coef21*c71
 	b[1] = 0.16666666666666666*detJ + coef21*c72
 	b[2] = 0.16666666666666666*detJ + coef21*c73
@@ -540,22 +540,22 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
 	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/200) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (−τ_c/10000) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (τ_c/100) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (−τ_c/10000) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c/200) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (−τ_c/10000) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (τ_c/100) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
+	//   - (−τ_c/10000) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
@@ -567,10 +567,10 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
-	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//   - 1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
-	//   - 1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), x, x)   [adr.fw:12]
+	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
+	//   - τ_c/100 · partial(test(c), y, y)   [adr.fw:12]
+	//   - τ_c · partial(test(c), x)   [adr.fw:15]
+	//   - τ_c/100 · partial(test(c), x, x)   [adr.fw:12]
 	b[0] = 0.1666666666666667*detJ + coef21*c71
 	b[1] = 0.16666666666666666*detJ + coef21*c72
 	b[2] = 0.16666666666666666*detJ + coef21*c73

@@ -19,19 +19,19 @@ func init() {
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatGalerkinKernel{} },
 	})
-	compiled.Register("c27b378f3603fd622988da8a1c7a1a84", compiled.Kernels{
+	compiled.Register("be8e8e336c82671c4e681754551c7a6b", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatSUPGKernel{} },
 	})
-	compiled.Register("a9f1aad30a25da63d14cec439d85bb5d", compiled.Kernels{
+	compiled.Register("4ad23dac15eef3ff4c1a243bbc262aaf", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatGLSKernel{} },
 	})
-	compiled.Register("591c9b66d2198de4f9875c1bc5cbd05b", compiled.Kernels{
+	compiled.Register("aa3815e6b6026a35efc28ab527fc9ecf", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
@@ -271,10 +271,10 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
 	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
 	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · temp · partial(test(temp), x)   [tau.fw:41]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (1/(√(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)) + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
+	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
+	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
 	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef3*c58
 	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef3*c58
 	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef3*c58
@@ -297,7 +297,7 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef8 * w
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) previous(temp) · partial(test(temp), x)   [tau.fw:41]
+		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
 		rhs[0] += fwHeatSUPGCellBasis1Val[q][0]*p5 + c69*p6
 		rhs[1] += fwHeatSUPGCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatSUPGCellBasis1Val[q][2]*p5 + k10*p6
@@ -432,18 +432,18 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
 	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
 	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - ((−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · temp · partial(test(temp), x)   [tau.fw:41]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (1/(√(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)) + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - ((−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - ((−τ_temp/50)/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (τ_temp/2500) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (−τ_temp/50) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (τ_temp/2500) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
+	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
+	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - ((−τ_temp/50)/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (τ_temp/2500) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (−τ_temp/50) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (τ_temp/2500) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
 	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef7*c58
 	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c58
 	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c58
@@ -466,9 +466,9 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef17 * w
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - ((−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
-		//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) previous(temp) · partial(test(temp), x)   [tau.fw:41]
-		//   - ((−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
+		//   - ((−τ_temp/50)/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
+		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
+		//   - ((−τ_temp/50)/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
 		rhs[0] += fwHeatGLSCellBasis1Val[q][0]*p5 + c69*p6
 		rhs[1] += fwHeatGLSCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatGLSCellBasis1Val[q][2]*p5 + k10*p6
@@ -603,18 +603,18 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
 	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
 	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - ((1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · temp · partial(test(temp), x)   [tau.fw:41]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (1/(√(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)) + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - ((1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−1/(2500 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - ((τ_temp/50)/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (−τ_temp/2500) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (τ_temp/50) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (−τ_temp/2500) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
+	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
+	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
+	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
+	//   - ((τ_temp/50)/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (−τ_temp/2500) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (τ_temp/50) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
+	//   - (−τ_temp/2500) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
 	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef7*c58
 	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c58
 	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c58
@@ -637,9 +637,9 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef17 * w
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - ((1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
-		//   - (1/(time_step √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²))) previous(temp) · partial(test(temp), x)   [tau.fw:41]
-		//   - ((1/(50 √(36/(625 cell_diameter⁴) + 4/cell_diameter² + 4/time_step²)))/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
+		//   - ((τ_temp/50)/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
+		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
+		//   - ((τ_temp/50)/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
 		rhs[0] += fwHeatVMSCellBasis1Val[q][0]*p5 + c69*p6
 		rhs[1] += fwHeatVMSCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatVMSCellBasis1Val[q][2]*p5 + k10*p6

@@ -19,19 +19,19 @@ func init() {
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesGalerkinKernel{} },
 	})
-	compiled.Register("3159450448ba077b8769a0dcba56460b", compiled.Kernels{
+	compiled.Register("cba2a9f518a5eaee8ade1fa80894961d", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesSUPGKernel{} },
 	})
-	compiled.Register("d6599324c541b14e7595da6467be7f66", compiled.Kernels{
+	compiled.Register("3665b58ca8326aa0e63c1822025d8a43", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesGLSKernel{} },
 	})
-	compiled.Register("d0ad3f0e9f71c25928ebf56a9a35ba92", compiled.Kernels{
+	compiled.Register("fc225ee0e9b00cf0e83592e942ad041f", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  2,
@@ -478,14 +478,14 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 0..2, columns 0..2:
 		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
 		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
@@ -496,8 +496,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		acc[6] += c26*p51 + c28*p56
 		acc[7] += c26*p52 + c28*p57
 		acc[8] += c26*p54 + c28*p59
@@ -508,7 +508,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
 		acc[5] += c28 * p64
@@ -521,14 +521,14 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 3..5, columns 3..5:
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
 		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
@@ -539,8 +539,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		acc[33] += c26*p79 + c28*p83
 		acc[34] += c26*p81 + c28*p85
 		acc[35] += c26*p82 + c28*p86
@@ -551,7 +551,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
 		acc[29] += c26 * p90
@@ -562,10 +562,10 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
 		acc[54] += c28 * p91
 		acc[55] += c28 * p92
 		acc[56] += c28 * p93
@@ -576,10 +576,10 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
 		acc[57] += c26 * p91
 		acc[58] += c26 * p92
 		acc[59] += c26 * p93
@@ -590,8 +590,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
+		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
 		acc[60] += c26*p95 + c28*p99
 		acc[61] += c26*p97 + c28*p100
 		acc[62] += c26*p98 + c28*p102
@@ -850,22 +850,22 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 0..2, columns 0..2:
 		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
 		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
@@ -876,10 +876,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		acc[6] += c26*p51 + c28*p56
 		acc[7] += c26*p52 + c28*p57
 		acc[8] += c26*p54 + c28*p59
@@ -890,7 +890,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
 		acc[5] += c28 * p64
@@ -903,22 +903,22 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 3..5, columns 3..5:
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
 		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
@@ -929,10 +929,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		acc[33] += c26*p79 + c28*p83
 		acc[34] += c26*p81 + c28*p85
 		acc[35] += c26*p82 + c28*p86
@@ -943,7 +943,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
 		acc[29] += c26 * p90
@@ -954,10 +954,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
 		acc[54] += c28 * p91
 		acc[55] += c28 * p92
 		acc[56] += c28 * p93
@@ -968,10 +968,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
 		acc[57] += c26 * p91
 		acc[58] += c26 * p92
 		acc[59] += c26 * p93
@@ -982,8 +982,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
+		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
 		acc[60] += c26*p95 + c28*p99
 		acc[61] += c26*p97 + c28*p100
 		acc[62] += c26*p98 + c28*p102
@@ -1162,281 +1162,280 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef2 := p4 - p27 + p28
 		coef4 := 1.0 + p23
 		p29 := p10 * coef58
-		p30 := coef58 * coef58
-		p31 := p9 * p20 * p30
-		coef5 := p29 - p31 + 0.01
-		p32 := p20 * p30
+		p30 := p9 * coef58 * p21
+		coef5 := p29 - p30 + 0.01
+		p31 := coef58 * p21
 		coef54 := p9 * coef58
-		p33 := p4 * p20 * p30
-		p34 := p4 * p9 * coef58
-		coef7 := p34 - p33
-		coef9 := coef54 - p32
+		p32 := p4 * coef58 * p21
+		p33 := p4 * p9 * coef58
+		coef7 := p33 - p32
+		coef9 := coef54 - p31
 		coef56 := p4 * coef58
-		p35 := p9 * p26 * p30
-		coef15 := p34 - p35
-		p36 := p26 * p30
+		p34 := p9 * coef58 * p27
+		coef15 := p33 - p34
+		p35 := coef58 * p27
 		coef19 := c17 * p14 * 0.25
-		p37 := p5 * coef58
-		p38 := p4 * p26 * p30
-		coef17 := 0.01 + coef19 + p37 - p38
-		coef20 := coef56 - p36
-		coef32 := p29 - p31 + 0.01 + coef19
-		coef44 := 0.01 + p37 - p38
-		p39 := coef0 * w
-		p40 := c32 * p39
-		p41 := c31 * p39
-		p42 := k11 * p39
-		p43 := coef2 * w
-		p44 := c25 * p43
-		p45 := p40 + p44
-		p46 := k00 * p43
-		p47 := p46 - p41
-		p48 := c24 * p43
-		p49 := p42 - p48
-		p50 := coef5 * w
-		p51 := c32 * p50
-		p52 := c31 * p50
-		p53 := k11 * p50
-		p54 := coef7 * w
-		p55 := c25 * p54
-		p56 := p51 + p55
-		p57 := k00 * p54
-		p58 := p57 - p52
-		p59 := c24 * p54
-		p60 := p53 - p59
-		p61 := coef15 * w
-		p62 := c32 * p61
-		p63 := c31 * p61
-		p64 := k11 * p61
-		p65 := coef17 * w
-		p66 := c25 * p65
-		p67 := p62 + p66
-		p68 := k00 * p65
-		p69 := p68 - p63
-		p70 := c24 * p65
-		p71 := p64 - p70
-		p72 := coef4 * w
-		p73 := c25 * p72
-		p74 := k00 * p72
-		p75 := c24 * p72
-		p76 := -p75
-		p77 := coef9 * w
-		p78 := c25 * p77
-		p79 := k00 * p77
-		p80 := c24 * p77
-		p81 := -p80
-		p82 := coef20 * w
-		p83 := c25 * p82
-		p84 := k00 * p82
-		p85 := c24 * p82
-		p86 := -p85
-		p87 := coef19 * w
-		p88 := c32 * p87
-		p89 := c31 * p87
-		p90 := -p89
-		p91 := k11 * p87
-		p92 := coef32 * w
-		p93 := c32 * p92
-		p94 := c31 * p92
-		p95 := k11 * p92
-		p96 := p55 + p93
-		p97 := p57 - p94
-		p98 := p95 - p59
-		p99 := coef44 * w
-		p100 := c25 * p99
-		p101 := p62 + p100
-		p102 := k00 * p99
-		p103 := p102 - p63
-		p104 := c24 * p99
-		p105 := p64 - p104
-		p106 := c32 * p72
-		p107 := c31 * p72
-		p108 := -p107
-		p109 := k11 * p72
-		p110 := c32 * p77
-		p111 := c31 * p77
-		p112 := -p111
-		p113 := k11 * p77
-		p114 := c32 * p82
-		p115 := c31 * p82
-		p116 := -p115
-		p117 := k11 * p82
-		p118 := c25 * p87
-		p119 := k00 * p87
-		p120 := c24 * p87
-		p121 := -p120
-		p122 := coef54 * w
-		p123 := c32 * p122
-		p124 := c31 * p122
-		p125 := k11 * p122
-		p126 := coef56 * w
-		p127 := c25 * p126
-		p128 := p123 + p127
-		p129 := k00 * p126
-		p130 := p129 - p124
-		p131 := c24 * p126
-		p132 := p125 - p131
-		p133 := coef58 * w
-		p134 := c32 * p133
-		p135 := c31 * p133
-		p136 := -p135
-		p137 := k11 * p133
-		p138 := c25 * p133
-		p139 := k00 * p133
-		p140 := c24 * p133
-		p141 := -p140
+		p36 := p5 * coef58
+		p37 := p4 * coef58 * p27
+		coef17 := 0.01 + coef19 + p36 - p37
+		coef20 := coef56 - p35
+		coef32 := p29 - p30 + 0.01 + coef19
+		coef44 := 0.01 + p36 - p37
+		p38 := coef0 * w
+		p39 := c32 * p38
+		p40 := c31 * p38
+		p41 := k11 * p38
+		p42 := coef2 * w
+		p43 := c25 * p42
+		p44 := p39 + p43
+		p45 := k00 * p42
+		p46 := p45 - p40
+		p47 := c24 * p42
+		p48 := p41 - p47
+		p49 := coef5 * w
+		p50 := c32 * p49
+		p51 := c31 * p49
+		p52 := k11 * p49
+		p53 := coef7 * w
+		p54 := c25 * p53
+		p55 := p50 + p54
+		p56 := k00 * p53
+		p57 := p56 - p51
+		p58 := c24 * p53
+		p59 := p52 - p58
+		p60 := coef15 * w
+		p61 := c32 * p60
+		p62 := c31 * p60
+		p63 := k11 * p60
+		p64 := coef17 * w
+		p65 := c25 * p64
+		p66 := p61 + p65
+		p67 := k00 * p64
+		p68 := p67 - p62
+		p69 := c24 * p64
+		p70 := p63 - p69
+		p71 := coef4 * w
+		p72 := c25 * p71
+		p73 := k00 * p71
+		p74 := c24 * p71
+		p75 := -p74
+		p76 := coef9 * w
+		p77 := c25 * p76
+		p78 := k00 * p76
+		p79 := c24 * p76
+		p80 := -p79
+		p81 := coef20 * w
+		p82 := c25 * p81
+		p83 := k00 * p81
+		p84 := c24 * p81
+		p85 := -p84
+		p86 := coef19 * w
+		p87 := c32 * p86
+		p88 := c31 * p86
+		p89 := -p88
+		p90 := k11 * p86
+		p91 := coef32 * w
+		p92 := c32 * p91
+		p93 := c31 * p91
+		p94 := k11 * p91
+		p95 := p54 + p92
+		p96 := p56 - p93
+		p97 := p94 - p58
+		p98 := coef44 * w
+		p99 := c25 * p98
+		p100 := p61 + p99
+		p101 := k00 * p98
+		p102 := p101 - p62
+		p103 := c24 * p98
+		p104 := p63 - p103
+		p105 := c32 * p71
+		p106 := c31 * p71
+		p107 := -p106
+		p108 := k11 * p71
+		p109 := c32 * p76
+		p110 := c31 * p76
+		p111 := -p110
+		p112 := k11 * p76
+		p113 := c32 * p81
+		p114 := c31 * p81
+		p115 := -p114
+		p116 := k11 * p81
+		p117 := c25 * p86
+		p118 := k00 * p86
+		p119 := c24 * p86
+		p120 := -p119
+		p121 := coef54 * w
+		p122 := c32 * p121
+		p123 := c31 * p121
+		p124 := k11 * p121
+		p125 := coef56 * w
+		p126 := c25 * p125
+		p127 := p122 + p126
+		p128 := k00 * p125
+		p129 := p128 - p123
+		p130 := c24 * p125
+		p131 := p124 - p130
+		p132 := coef58 * w
+		p133 := c32 * p132
+		p134 := c31 * p132
+		p135 := -p134
+		p136 := k11 * p132
+		p137 := c25 * p132
+		p138 := k00 * p132
+		p139 := c24 * p132
+		p140 := -p139
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p45 + c32*p56 + c25*p67
-		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c32*p58 + c25*p69
-		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c32*p60 + c25*p71
-		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p45 + k01*p56 + k00*p67
-		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p58 + k00*p69
-		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p60 + k00*p71
-		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p45 + k11*p56 + k10*p67
-		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p58 + k10*p69
-		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p60 + k10*p71
+		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p55 + c25*p66
+		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p57 + c25*p68
+		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p59 + c25*p70
+		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p44 + k01*p55 + k00*p66
+		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p46 + k01*p57 + k00*p68
+		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p48 + k01*p59 + k00*p70
+		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p55 + k10*p66
+		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p57 + k10*p68
+		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
 		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
-		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p74 + c32*p79 + c25*p84
-		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p76 + c32*p81 + c25*p86
-		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p73 + k01*p78 + k00*p83
-		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p74 + k01*p79 + k00*p84
-		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p76 + k01*p81 + k00*p86
-		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
-		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p74 + k11*p79 + k10*p84
-		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p76 + k11*p81 + k10*p86
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
+		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
+		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p75 + c32*p80 + c25*p85
+		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p72 + k01*p77 + k00*p82
+		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p73 + k01*p78 + k00*p83
+		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p75 + k01*p80 + k00*p85
+		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p77 + k10*p82
+		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
+		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p85
 		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		acc[3] += c25 * p88
-		acc[4] += c25 * p90
-		acc[5] += c25 * p91
-		acc[12] += k00 * p88
-		acc[13] += k00 * p90
-		acc[14] += k00 * p91
-		acc[21] += k10 * p88
-		acc[22] += k10 * p90
-		acc[23] += k10 * p91
+		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
+		acc[3] += c25 * p87
+		acc[4] += c25 * p89
+		acc[5] += c25 * p90
+		acc[12] += k00 * p87
+		acc[13] += k00 * p89
+		acc[14] += k00 * p90
+		acc[21] += k10 * p87
+		acc[22] += k10 * p89
+		acc[23] += k10 * p90
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−(partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4 + previous(vel)[2]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1] previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]²/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) − (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - ((previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))²) − previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[2]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−1/(10000 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p45 + c32*p96 + c25*p101
-		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p47 + c32*p97 + c25*p103
-		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p49 + c32*p98 + c25*p105
-		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p45 + k01*p96 + k00*p101
-		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p47 + k01*p97 + k00*p103
-		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p49 + k01*p98 + k00*p105
-		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p45 + k11*p96 + k10*p101
-		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p47 + k11*p97 + k10*p103
-		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p49 + k11*p98 + k10*p105
+		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p95 + c25*p100
+		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p96 + c25*p102
+		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p97 + c25*p104
+		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p44 + k01*p95 + k00*p100
+		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p46 + k01*p96 + k00*p102
+		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p48 + k01*p97 + k00*p104
+		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p95 + k10*p100
+		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p96 + k10*p102
+		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
 		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - ((partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−(previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x))/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))² + previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p106 + c32*p110 + c25*p114
-		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p108 + c32*p112 + c25*p116
-		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p109 + c32*p113 + c25*p117
-		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p106 + k01*p110 + k00*p114
-		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p108 + k01*p112 + k00*p116
-		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p109 + k01*p113 + k00*p117
-		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p106 + k11*p110 + k10*p114
-		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
-		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p109 + k11*p113 + k10*p117
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
+		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115
+		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p108 + c32*p112 + c25*p116
+		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p105 + k01*p109 + k00*p113
+		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p107 + k01*p111 + k00*p115
+		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p108 + k01*p112 + k00*p116
+		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p105 + k11*p109 + k10*p113
+		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p107 + k11*p111 + k10*p115
+		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
 		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (cell_diameter² (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		acc[27] += c32 * p118
-		acc[28] += c32 * p119
-		acc[29] += c32 * p121
-		acc[36] += k01 * p118
-		acc[37] += k01 * p119
-		acc[38] += k01 * p121
-		acc[45] += k11 * p118
-		acc[46] += k11 * p119
-		acc[47] += k11 * p121
+		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
+		acc[27] += c32 * p117
+		acc[28] += c32 * p118
+		acc[29] += c32 * p120
+		acc[36] += k01 * p117
+		acc[37] += k01 * p118
+		acc[38] += k01 * p120
+		acc[45] += k11 * p117
+		acc[46] += k11 * p118
+		acc[47] += k11 * p120
 		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
-		acc[54] += c25 * p128
-		acc[55] += c25 * p130
-		acc[56] += c25 * p132
-		acc[63] += k00 * p128
-		acc[64] += k00 * p130
-		acc[65] += k00 * p132
-		acc[72] += k10 * p128
-		acc[73] += k10 * p130
-		acc[74] += k10 * p132
+		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		acc[54] += c25 * p127
+		acc[55] += c25 * p129
+		acc[56] += c25 * p131
+		acc[63] += k00 * p127
+		acc[64] += k00 * p129
+		acc[65] += k00 * p131
+		acc[72] += k10 * p127
+		acc[73] += k10 * p129
+		acc[74] += k10 * p131
 		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (previous(vel)[2]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]/(2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−1/(100 (2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²)))) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
-		acc[57] += c32 * p128
-		acc[58] += c32 * p130
-		acc[59] += c32 * p132
-		acc[66] += k01 * p128
-		acc[67] += k01 * p130
-		acc[68] += k01 * p132
-		acc[75] += k11 * p128
-		acc[76] += k11 * p130
-		acc[77] += k11 * p132
+		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
+		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		acc[57] += c32 * p127
+		acc[58] += c32 * p129
+		acc[59] += c32 * p131
+		acc[66] += k01 * p127
+		acc[67] += k01 * p129
+		acc[68] += k01 * p131
+		acc[75] += k11 * p127
+		acc[76] += k11 * p129
+		acc[77] += k11 * p131
 		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-		//   - ((2 √(previous(vel)[1]² + previous(vel)[2]²)/cell_diameter + 1/(25 cell_diameter²))⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
-		acc[60] += c32*p134 + c25*p138
-		acc[61] += c32*p136 + c25*p139
-		acc[62] += c32*p137 + c25*p141
-		acc[69] += k01*p134 + k00*p138
-		acc[70] += k01*p136 + k00*p139
-		acc[71] += k01*p137 + k00*p141
-		acc[78] += k11*p134 + k10*p138
-		acc[79] += k11*p136 + k10*p139
-		acc[80] += k11*p137 + k10*p141
+		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
+		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
+		acc[60] += c32*p133 + c25*p137
+		acc[61] += c32*p135 + c25*p138
+		acc[62] += c32*p136 + c25*p140
+		acc[69] += k01*p133 + k00*p137
+		acc[70] += k01*p135 + k00*p138
+		acc[71] += k01*p136 + k00*p140
+		acc[78] += k11*p133 + k10*p137
+		acc[79] += k11*p135 + k10*p138
+		acc[80] += k11*p136 + k10*p140
 	}
 	copy(A, acc[:])
 	clear(b)

@@ -19,19 +19,19 @@ func init() {
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenGalerkinKernel{} },
 	})
-	compiled.Register("052ae498408ec4ec374622f6390408a1", compiled.Kernels{
+	compiled.Register("7d516e76f99c6ac21f19a184f1919582", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenSUPGKernel{} },
 	})
-	compiled.Register("be4ad70ebc9560ae0bdd32657cf697cb", compiled.Kernels{
+	compiled.Register("194e8ef43dd490b1c0d499caf057267a", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenGLSKernel{} },
 	})
-	compiled.Register("68618f8e2046600edb3c3a6f782c8b4c", compiled.Kernels{
+	compiled.Register("35c729c70de00fc4120ed02363656198", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -369,9 +369,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c72
 	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c76
@@ -383,7 +383,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c65
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
+	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
 	A[6] = 0.1666666666666667*(-j11-c29) + coef7*c62
 	A[7] = 0.1666666666666667*j11 + coef7*c69
 	A[8] = 0.1666666666666667*c29 + coef7*c74
@@ -394,7 +394,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666*j11 + coef7*c60
 	A[26] = 0.16666666666666666*c29 + coef7*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -406,10 +406,10 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c112
 	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c114
@@ -421,7 +421,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c108
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
+	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
 	A[33] = 0.1666666666666667*(-c30-j00) + coef7*c123
 	A[34] = 0.1666666666666667*c30 + coef7*c126
 	A[35] = 0.1666666666666667*j00 + coef7*c129
@@ -432,7 +432,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666*c30 + coef7*c121
 	A[53] = 0.16666666666666666*j00 + coef7*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -444,9 +444,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef7*c62
 	A[55] = 0.1666666666666667*j11 + coef7*c69
 	A[56] = 0.1666666666666667*c29 + coef7*c74
@@ -458,9 +458,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef7*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef7*c123
 	A[58] = 0.1666666666666667*c30 + coef7*c130
 	A[59] = 0.1666666666666667*j00 + coef7*c131
@@ -471,8 +471,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666*c30 + coef7*c120
 	A[77] = 0.16666666666666666*j00 + coef7*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
 	A[60] = coef7 * c141
 	A[61] = coef7 * c144
 	A[62] = coef7 * c146
@@ -677,15 +677,15 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
 	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
@@ -697,9 +697,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[7] = 0.1666666666666667*j11 + coef11*c69
 	A[8] = 0.1666666666666667*c29 + coef11*c74
@@ -710,7 +710,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666*j11 + coef11*c60
 	A[26] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -722,16 +722,16 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
 	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
@@ -743,9 +743,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[34] = 0.1666666666666667*c30 + coef11*c126
 	A[35] = 0.1666666666666667*j00 + coef11*c129
@@ -756,7 +756,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666*c30 + coef11*c121
 	A[53] = 0.16666666666666666*j00 + coef11*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -768,9 +768,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[55] = 0.1666666666666667*j11 + coef11*c69
 	A[56] = 0.1666666666666667*c29 + coef11*c74
@@ -782,9 +782,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[58] = 0.1666666666666667*c30 + coef11*c130
 	A[59] = 0.1666666666666667*j00 + coef11*c131
@@ -795,8 +795,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666*c30 + coef11*c120
 	A[77] = 0.16666666666666666*j00 + coef11*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
 	A[60] = coef11 * c141
 	A[61] = coef11 * c144
 	A[62] = coef11 * c146
@@ -1001,15 +1001,15 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
 	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
 	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
 	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
@@ -1021,9 +1021,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(vel)[1], x)   [tau.fw:22]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
+	//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
 	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[7] = 0.1666666666666667*j11 + coef11*c69
 	A[8] = 0.1666666666666667*c29 + coef11*c74
@@ -1034,7 +1034,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[25] = 0.16666666666666666*j11 + coef11*c60
 	A[26] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -1046,16 +1046,16 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4 + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹ + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (−1/(10000 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
 	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
 	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
@@ -1067,9 +1067,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(vel)[2], x)   [tau.fw:22]
-	//   - (1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
+	//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
+	//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
 	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[34] = 0.1666666666666667*c30 + coef11*c126
 	A[35] = 0.1666666666666667*j00 + coef11*c129
@@ -1080,7 +1080,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[52] = 0.16666666666666666*c30 + coef11*c121
 	A[53] = 0.16666666666666666*j00 + coef11*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (cell_diameter² (1/(25 cell_diameter²) + 2/cell_diameter)/4) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:12]
+	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -1092,9 +1092,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = c26 * c90
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[1], x) · partial(test(p), x)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
 	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
 	A[55] = 0.1666666666666667*j11 + coef11*c69
 	A[56] = 0.1666666666666667*c29 + coef11*c74
@@ -1106,9 +1106,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666*c29 + coef11*c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(vel[2], x) · partial(test(p), y)   [tau.fw:22]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2/cell_diameter))) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
+	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
+	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
+	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
 	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
 	A[58] = 0.1666666666666667*c30 + coef11*c130
 	A[59] = 0.1666666666666667*j00 + coef11*c131
@@ -1119,8 +1119,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666*c30 + coef11*c120
 	A[77] = 0.16666666666666666*j00 + coef11*c122
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, y) · partial(test(p), y)   [tau.fw:22]
-	//   - ((1/(25 cell_diameter²) + 2/cell_diameter)⁻¹) · partial(p, x) · partial(test(p), x)   [tau.fw:22]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
 	A[60] = coef11 * c141
 	A[61] = coef11 * c144
 	A[62] = coef11 * c146

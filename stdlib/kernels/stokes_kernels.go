@@ -19,19 +19,19 @@ func init() {
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesGalerkinKernel{} },
 	})
-	compiled.Register("aed522f0c233f728da480f401899ea69", compiled.Kernels{
+	compiled.Register("209a0b6f88c1f6b6505a4be8c8eb9350", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesSUPGKernel{} },
 	})
-	compiled.Register("fe9cf6e75a81fba500c5fdad6d660984", compiled.Kernels{
+	compiled.Register("3af5823225cb349ec29c845f34061d70", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesGLSKernel{} },
 	})
-	compiled.Register("d012f3ab11e203fd15c7dff4e06215c7", compiled.Kernels{
+	compiled.Register("d193dcd5c5c38a2d0367945919567539", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -260,10 +260,10 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c52 := c29 + c47
 	c53 := rdetJ * c52
 	c54 := 0.25 * c22
-	c55 := (-0.25) * c23
+	c55 := c23 * (-0.25)
 	c56 := 0.25 * c24
 	c57 := 0.25 * c25
-	c58 := (-0.25) * c27
+	c58 := c27 * (-0.25)
 	c59 := 0.25 * c29
 	c60 := c54 + c57
 	c61 := rdetJ * c60
@@ -355,8 +355,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -368,8 +368,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -380,8 +380,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74
@@ -484,7 +484,7 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c52 := c27 + c47
 	c53 := rdetJ * c52
 	c54 := 0.25 * c22
-	c55 := (-0.25) * c23
+	c55 := c23 * (-0.25)
 	c56 := 0.25 * c24
 	c57 := 0.25 * c25
 	c58 := (-0.25) * c26
@@ -511,8 +511,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -524,11 +524,11 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:16]
 	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:16]
+	//   - (τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:16]
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -551,8 +551,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -575,11 +575,11 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:16]
 	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:16]
+	//   - (τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:16]
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -591,8 +591,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -604,8 +604,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -616,8 +616,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74
@@ -720,7 +720,7 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c52 := c27 + c47
 	c53 := rdetJ * c52
 	c54 := 0.25 * c22
-	c55 := (-0.25) * c23
+	c55 := c23 * (-0.25)
 	c56 := 0.25 * c24
 	c57 := 0.25 * c25
 	c58 := (-0.25) * c26
@@ -747,8 +747,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:16]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -760,11 +760,11 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
 	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -787,8 +787,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:16]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -811,11 +811,11 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = 0.5 * c44
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
 	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -827,8 +827,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c53
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -840,8 +840,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
+	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -852,8 +852,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(p), x)   [stokes.fw:11]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("d90aa3548ed9baa3365fbcbb0519c104", compiled.Kernels{
+	compiled.Register("6da21f1d3cee6fc8f450a956334ad9e1", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
-	compiled.Register("692d8a72168d3d65cbddf8842d8aa863", compiled.Kernels{
+	compiled.Register("11c49f847816dafd505858664f2492ec", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
-	compiled.Register("49aed5f52a647170ddd95763a5b4306b", compiled.Kernels{
+	compiled.Register("8a343232af74e5a7b5e216447b3fd27c", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
-	compiled.Register("5b44c12b5d965ca3cb991305c5316195", compiled.Kernels{
+	compiled.Register("8d8f0b8d654a3dd10eb89bba50033ba1", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -107,8 +107,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
 	//   - (1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
 	//   - (1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
 	A[0] = 0.1666666666666667*(-c19-c20) + 0.5*(c22+c26) + c24
@@ -172,7 +172,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := diameter * c19
+	c20 := 0.5 * diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -185,29 +185,29 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := 0.8660254037844387 * j11
 	c26 := j10 * (-0.8660254037844387)
 	c27 := j01 * j01
-	c28 := 0.12499999999999997 * c27
+	c28 := 0.24999999999999994 * c27
 	c29 := 1e-06 * c27
 	c30 := j00 * j01
-	c31 := c30 * (-0.12499999999999997)
-	c32 := c30 * (-1e-06)
+	c31 := c30 * (-0.24999999999999994)
+	c32 := (-1e-06) * c30
 	c33 := j00 * j00
-	c34 := 0.12499999999999997 * c33
+	c34 := 0.24999999999999994 * c33
 	c35 := 1e-06 * c33
 	c36 := j11 * j01
-	c37 := c36 * (-0.21650635094610965)
-	c38 := 0.21650635094610965 * c22
-	c39 := 0.21650635094610965 * c21
+	c37 := c36 * (-0.4330127018922193)
+	c38 := 0.4330127018922193 * c22
+	c39 := 0.4330127018922193 * c21
 	c40 := j00 * j10
-	c41 := (-0.21650635094610965) * c40
+	c41 := (-0.4330127018922193) * c40
 	c42 := j11 * j11
 	c43 := j11 * j10
 	c44 := j10 * j10
 	c45 := 1e-06 * c42
-	c46 := 0.37500000000000006 * c42
+	c46 := 0.7500000000000001 * c42
 	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.37500000000000006)
+	c48 := c43 * (-0.7500000000000001)
 	c49 := 1e-06 * c44
-	c50 := 0.37500000000000006 * c44
+	c50 := 0.7500000000000001 * c44
 	c51 := c23 + c25
 	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
@@ -238,16 +238,16 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
 	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
 	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
 	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
@@ -309,7 +309,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := diameter * c19
+	c20 := 0.5 * diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -322,29 +322,29 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := 0.8660254037844387 * j11
 	c26 := j10 * (-0.8660254037844387)
 	c27 := j01 * j01
-	c28 := 0.12499999999999997 * c27
+	c28 := 0.24999999999999994 * c27
 	c29 := 1e-06 * c27
 	c30 := j00 * j01
-	c31 := c30 * (-0.12499999999999997)
-	c32 := c30 * (-1e-06)
+	c31 := c30 * (-0.24999999999999994)
+	c32 := (-1e-06) * c30
 	c33 := j00 * j00
-	c34 := 0.12499999999999997 * c33
+	c34 := 0.24999999999999994 * c33
 	c35 := 1e-06 * c33
 	c36 := j11 * j01
-	c37 := c36 * (-0.21650635094610965)
-	c38 := 0.21650635094610965 * c22
-	c39 := 0.21650635094610965 * c21
+	c37 := c36 * (-0.4330127018922193)
+	c38 := 0.4330127018922193 * c22
+	c39 := 0.4330127018922193 * c21
 	c40 := j00 * j10
-	c41 := (-0.21650635094610965) * c40
+	c41 := (-0.4330127018922193) * c40
 	c42 := j11 * j11
 	c43 := j11 * j10
 	c44 := j10 * j10
 	c45 := 1e-06 * c42
-	c46 := 0.37500000000000006 * c42
+	c46 := 0.7500000000000001 * c42
 	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.37500000000000006)
+	c48 := c43 * (-0.7500000000000001)
 	c49 := 1e-06 * c44
-	c50 := 0.37500000000000006 * c44
+	c50 := 0.7500000000000001 * c44
 	c51 := c23 + c25
 	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
@@ -375,24 +375,24 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
 	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
 	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
 	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
@@ -454,7 +454,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	diameter := math.Sqrt(c17)
 	c18 := diameter * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := diameter * c19
+	c20 := 0.5 * diameter * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -467,29 +467,29 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := 0.8660254037844387 * j11
 	c26 := j10 * (-0.8660254037844387)
 	c27 := j01 * j01
-	c28 := 0.12499999999999997 * c27
+	c28 := 0.24999999999999994 * c27
 	c29 := 1e-06 * c27
 	c30 := j00 * j01
-	c31 := c30 * (-0.12499999999999997)
-	c32 := c30 * (-1e-06)
+	c31 := c30 * (-0.24999999999999994)
+	c32 := (-1e-06) * c30
 	c33 := j00 * j00
-	c34 := 0.12499999999999997 * c33
+	c34 := 0.24999999999999994 * c33
 	c35 := 1e-06 * c33
 	c36 := j11 * j01
-	c37 := c36 * (-0.21650635094610965)
-	c38 := 0.21650635094610965 * c22
-	c39 := 0.21650635094610965 * c21
+	c37 := c36 * (-0.4330127018922193)
+	c38 := 0.4330127018922193 * c22
+	c39 := 0.4330127018922193 * c21
 	c40 := j00 * j10
-	c41 := (-0.21650635094610965) * c40
+	c41 := (-0.4330127018922193) * c40
 	c42 := j11 * j11
 	c43 := j11 * j10
 	c44 := j10 * j10
 	c45 := 1e-06 * c42
-	c46 := 0.37500000000000006 * c42
+	c46 := 0.7500000000000001 * c42
 	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.37500000000000006)
+	c48 := c43 * (-0.7500000000000001)
 	c49 := 1e-06 * c44
-	c50 := 0.37500000000000006 * c44
+	c50 := 0.7500000000000001 * c44
 	c51 := c23 + c25
 	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
@@ -520,24 +520,24 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (sin(π/6)) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (cos(π/6)) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (cell_diameter sin(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (cell_diameter cos(π/6)² min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2 √(sin(π/6)² + cos(π/6)²)) + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (cell_diameter sin(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (cell_diameter cos(π/6) min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−cell_diameter min(500000 cell_diameter √(sin(π/6)² + cos(π/6)²)/3, 1)/(2000000000000 √(sin(π/6)² + cos(π/6)²))) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
+	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
+	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
+	//   - (a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (−τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (−τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
+	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
+	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
+	//   - (a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (−τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
+	//   - (−τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
 	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
 	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
 	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("c90e162eb165129dd34fc8a43ae9d77b", compiled.Kernels{
+	compiled.Register("b5fa0c9aea1fb6aa6a5b3f3d1335a99f", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
-	compiled.Register("788e70dd6dd842c90a81008eb8a17b00", compiled.Kernels{
+	compiled.Register("edb196b603870fed514c43e6771a3a72", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
-	compiled.Register("15f8dc7b13cd0e41c0b20bfa17c14103", compiled.Kernels{
+	compiled.Register("16a1ac000464af80cee2318a577ce6a6", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
-	compiled.Register("989ad8841af5b088cd2be0993410b1fc", compiled.Kernels{
+	compiled.Register("f72fde26ab696ad12505ffd1449219f8", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
@@ -147,10 +147,10 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p29 := c6 * p22
 		p30 := -p29
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (−x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (y (−y + 1)/20 + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
-		//   - (y (−y + 1)/20 + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
+		//   - (a[2]) · partial(salt, y) · test(salt)   [model.fw:12]
+		//   - (a[1]) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (κ) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
+		//   - (κ) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
 		acc[0] += fwGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
 		acc[1] += fwGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
 		acc[2] += fwGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
@@ -270,108 +270,107 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p9 := 1.0 - x1
 		p10 := x1 * 0.05 * p9
 		p11 := 0.05 + p10
-		p12 := x1 * x1
-		p13 := 0.01 * p12
-		p14 := coef2 * coef2
-		p15 := p13 + p14
-		p16 := math.Sqrt(p15)
-		p17 := 4.0 * p11
-		p18 := diameter * 2.0 * p16
-		p19 := c18 + p17 + p18
-		p20 := 1.0 / p19
-		p21 := c17 * p20
-		coef3 := x1 * 0.01 * p21
-		p22 := 0.01 * p12 * p21
-		p23 := x1 * (-0.1)
-		p24 := 0.05 + p23
-		p25 := x1 * p21 * (-0.1) * p24
-		coef4 := 0.05 + p10 + p22 + p25
-		coef6 := 0.1 * x1 * coef2 * p21
-		coef15 := coef2 * p21
-		coef8 := 0.1 * coef2 * p21
-		p26 := coef2 * p21 * p24
-		coef9 := coef6 - p26
-		p27 := p14 * p21
-		coef11 := 0.05 + p10 + p27
-		coef14 := 0.1 * x1 * p21
+		p12 := coef2 * coef2
+		p13 := coef1 * coef1
+		p14 := p12 + p13
+		p15 := math.Sqrt(p14)
+		p16 := 4.0 * p11
+		p17 := diameter * 2.0 * p15
+		p18 := c18 + p16 + p17
+		p19 := 1.0 / p18
+		p20 := c17 * p19
+		coef14 := coef1 * p20
+		coef3 := 0.1 * coef1 * p20
+		p21 := p13 * p20
+		p22 := x1 * (-0.1)
+		p23 := 0.05 + p22
+		p24 := coef1 * p20 * p23
+		coef4 := p11 + p21 - p24
+		coef6 := coef1 * coef2 * p20
+		coef15 := coef2 * p20
+		coef8 := 0.1 * coef2 * p20
+		p25 := coef2 * p20 * p23
+		coef9 := coef6 - p25
+		p26 := p12 * p20
+		coef11 := p11 + p26
 		w := detJ * fwSUPGCellWeights[q]
-		p28 := coef1 * w
-		p29 := p28 * c23
-		p30 := p28 * c22
-		p31 := p28 * k11
-		p32 := coef2 * w
-		p33 := p32 * c25
-		p34 := p29 + p33
-		p35 := p32 * k00
-		p36 := p35 - p30
-		p37 := p32 * c24
-		p38 := p31 - p37
-		p39 := coef3 * w
-		p40 := p39 * fwSUPGCellBasis1Val[q][0]
-		p41 := p39 * fwSUPGCellBasis1Val[q][1]
-		p42 := p39 * fwSUPGCellBasis1Val[q][2]
-		p43 := coef4 * w
-		p44 := c23 * p43
-		p45 := p40 + p44
-		p46 := c22 * p43
-		p47 := p41 - p46
-		p48 := k11 * p43
-		p49 := p42 + p48
-		p50 := coef6 * w
-		p51 := c25 * p50
-		p52 := p45 + p51
-		p53 := k00 * p50
-		p54 := p47 + p53
-		p55 := c24 * p50
-		p56 := p49 - p55
-		p57 := coef8 * w
-		p58 := fwSUPGCellBasis1Val[q][0] * p57
-		p59 := fwSUPGCellBasis1Val[q][1] * p57
-		p60 := fwSUPGCellBasis1Val[q][2] * p57
-		p61 := coef9 * w
-		p62 := c23 * p61
-		p63 := p58 + p62
-		p64 := c22 * p61
-		p65 := p59 - p64
-		p66 := k11 * p61
-		p67 := p60 + p66
-		p68 := coef11 * w
-		p69 := c25 * p68
-		p70 := p63 + p69
-		p71 := k00 * p68
-		p72 := p65 + p71
-		p73 := c24 * p68
-		p74 := p67 - p73
-		p75 := coef14 * w
-		p76 := coef15 * w
+		p27 := coef1 * w
+		p28 := p27 * c23
+		p29 := p27 * c22
+		p30 := p27 * k11
+		p31 := coef2 * w
+		p32 := p31 * c25
+		p33 := p28 + p32
+		p34 := p31 * k00
+		p35 := p34 - p29
+		p36 := p31 * c24
+		p37 := p30 - p36
+		p38 := coef3 * w
+		p39 := p38 * fwSUPGCellBasis1Val[q][0]
+		p40 := p38 * fwSUPGCellBasis1Val[q][1]
+		p41 := p38 * fwSUPGCellBasis1Val[q][2]
+		p42 := coef4 * w
+		p43 := c23 * p42
+		p44 := p39 + p43
+		p45 := c22 * p42
+		p46 := p40 - p45
+		p47 := k11 * p42
+		p48 := p41 + p47
+		p49 := coef6 * w
+		p50 := c25 * p49
+		p51 := p44 + p50
+		p52 := k00 * p49
+		p53 := p46 + p52
+		p54 := c24 * p49
+		p55 := p48 - p54
+		p56 := coef8 * w
+		p57 := fwSUPGCellBasis1Val[q][0] * p56
+		p58 := fwSUPGCellBasis1Val[q][1] * p56
+		p59 := fwSUPGCellBasis1Val[q][2] * p56
+		p60 := coef9 * w
+		p61 := c23 * p60
+		p62 := p57 + p61
+		p63 := c22 * p60
+		p64 := p58 - p63
+		p65 := k11 * p60
+		p66 := p59 + p65
+		p67 := coef11 * w
+		p68 := c25 * p67
+		p69 := p62 + p68
+		p70 := k00 * p67
+		p71 := p64 + p70
+		p72 := c24 * p67
+		p73 := p66 - p72
+		p74 := coef14 * w
+		p75 := coef15 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (y/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (−x²/4 + 1) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − y (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		acc[0] += fwSUPGCellBasis1Val[q][0]*p34 + c23*p52 + c25*p70
-		acc[1] += fwSUPGCellBasis1Val[q][0]*p36 + c23*p54 + c25*p72
-		acc[2] += fwSUPGCellBasis1Val[q][0]*p38 + c23*p56 + c25*p74
-		acc[3] += fwSUPGCellBasis1Val[q][1]*p34 + k01*p52 + k00*p70
-		acc[4] += fwSUPGCellBasis1Val[q][1]*p36 + k01*p54 + k00*p72
-		acc[5] += fwSUPGCellBasis1Val[q][1]*p38 + k01*p56 + k00*p74
-		acc[6] += fwSUPGCellBasis1Val[q][2]*p34 + k11*p52 + k10*p70
-		acc[7] += fwSUPGCellBasis1Val[q][2]*p36 + k11*p54 + k10*p72
-		acc[8] += fwSUPGCellBasis1Val[q][2]*p38 + k11*p56 + k10*p74
+		//   - (a[2]) · partial(salt, y) · test(salt)   [model.fw:12]
+		//   - (a[1]) · partial(salt, x) · test(salt)   [model.fw:12]
+		//   - (a[2] τ_salt/10) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (κ + a[2]² τ_salt − a[2] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		acc[0] += fwSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
+		acc[1] += fwSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
+		acc[2] += fwSUPGCellBasis1Val[q][0]*p37 + c23*p55 + c25*p73
+		acc[3] += fwSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
+		acc[4] += fwSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
+		acc[5] += fwSUPGCellBasis1Val[q][1]*p37 + k01*p55 + k00*p73
+		acc[6] += fwSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
+		acc[7] += fwSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
+		acc[8] += fwSUPGCellBasis1Val[q][2]*p37 + k11*p55 + k10*p73
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(test(salt), y)   [model.fw:17]
-		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		rhs[0] += c23*p75 + c25*p76
-		rhs[1] += k01*p75 + k00*p76
-		rhs[2] += k11*p75 + k10*p76
+		//   - a[2] τ_salt · partial(test(salt), y)   [model.fw:17]
+		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
+		rhs[0] += c23*p74 + c25*p75
+		rhs[1] += k01*p74 + k00*p75
+		rhs[2] += k11*p74 + k10*p75
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -457,151 +456,150 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p4 := 1.0 - x1
 		p5 := 0.05 * x1 * p4
 		p6 := 0.05 + p5
-		p7 := x1 * x1
-		p8 := 0.01 * p7
-		p9 := x[0] * fwGLSCellGeomVal[q][0]
-		p10 := x[2] * fwGLSCellGeomVal[q][1]
-		p11 := x[4] * fwGLSCellGeomVal[q][2]
-		x0 := p9 + p10 + p11
-		p12 := x0 * x0
-		p13 := (-0.25) * p12
-		p14 := 1.0 + p13
+		p7 := x[0] * fwGLSCellGeomVal[q][0]
+		p8 := x[2] * fwGLSCellGeomVal[q][1]
+		p9 := x[4] * fwGLSCellGeomVal[q][2]
+		x0 := p7 + p8 + p9
+		p10 := x0 * x0
+		p11 := (-0.25) * p10
+		p12 := 1.0 + p11
+		p13 := p12 * p12
+		p14 := x1 * 0.1
 		p15 := p14 * p14
-		p16 := p8 + p15
+		p16 := p13 + p15
 		p17 := math.Sqrt(p16)
 		p18 := 4.0 * p6
 		p19 := diameter * 2.0 * p17
-		p20 := p18 + p19 + c18
+		p20 := p18 + c18 + p19
 		p21 := 1.0 / p20
 		p22 := c17 * p21
 		p23 := 0.01 * p22
 		coef0 := 0.1 + p23
-		p24 := x1 * 0.1
-		p25 := 0.01 * x1 * p22
+		p24 := p14 * p22
+		p25 := 0.1 * p14 * p22
 		p26 := x1 * (-0.1)
 		p27 := 0.05 + p26
 		p28 := p22 * p27
 		p29 := p22 * (-0.1) * p27
-		coef1 := p24 + p25 + p29
-		coef28 := p14 * p22
-		coef15 := p14 * 0.1 * p22
-		coef3 := 1.0 + p13 + coef15
+		coef1 := p14 + p25 + p29
+		coef28 := p12 * p22
+		coef15 := p12 * 0.1 * p22
+		coef3 := p12 + coef15
 		coef5 := p25 + p29
-		p30 := 0.01 * p7 * p22
-		p31 := p27 * p27
-		p32 := p22 * p31
-		p33 := x1 * p22 * p27 * (-0.2)
-		coef6 := 0.05 + p5 + p30 + p32 + p33
-		p34 := x1 * p14 * 0.1 * p22
-		p35 := p14 * p22 * p27
+		p30 := p27 * p27
+		p31 := p22 * p30
+		p32 := p15 * p22
+		p33 := p14 * p22 * p27 * (-2.0)
+		coef6 := p6 + p31 + p32 + p33
+		p34 := p12 * p14 * p22
+		p35 := p12 * p22 * p27
 		coef8 := p34 - p35
-		p36 := p15 * p22
-		coef18 := 0.05 + p5 + p36
+		p36 := p13 * p22
+		coef18 := p6 + p36
 		p37 := 0.1 * p22
 		coef25 := 1.0 + p37
-		p38 := x1 * 0.1 * p22
-		coef26 := p38 - p28
+		coef26 := p24 - p28
 		w := detJ * fwGLSCellWeights[q]
-		p39 := coef0 * w
-		p40 := p39 * fwGLSCellBasis1Val[q][0]
-		p41 := p39 * fwGLSCellBasis1Val[q][1]
-		p42 := p39 * fwGLSCellBasis1Val[q][2]
-		p43 := coef1 * w
-		p44 := p43 * c22
-		p45 := p40 + p44
-		p46 := p43 * c21
-		p47 := p41 - p46
-		p48 := p43 * k11
-		p49 := p42 + p48
-		p50 := coef3 * w
-		p51 := c24 * p50
-		p52 := p45 + p51
-		p53 := k00 * p50
-		p54 := p47 + p53
-		p55 := c23 * p50
-		p56 := p49 - p55
-		p57 := coef5 * w
-		p58 := fwGLSCellBasis1Val[q][0] * p57
-		p59 := fwGLSCellBasis1Val[q][1] * p57
-		p60 := fwGLSCellBasis1Val[q][2] * p57
-		p61 := coef6 * w
-		p62 := c22 * p61
-		p63 := p58 + p62
-		p64 := c21 * p61
-		p65 := p59 - p64
-		p66 := k11 * p61
-		p67 := p60 + p66
-		p68 := coef8 * w
-		p69 := c24 * p68
-		p70 := p63 + p69
-		p71 := k00 * p68
-		p72 := p65 + p71
-		p73 := c23 * p68
-		p74 := p67 - p73
-		p75 := coef15 * w
-		p76 := fwGLSCellBasis1Val[q][0] * p75
-		p77 := fwGLSCellBasis1Val[q][1] * p75
-		p78 := fwGLSCellBasis1Val[q][2] * p75
-		p79 := c22 * p68
-		p80 := p76 + p79
-		p81 := c21 * p68
-		p82 := p77 - p81
-		p83 := k11 * p68
-		p84 := p78 + p83
-		p85 := coef18 * w
-		p86 := c24 * p85
-		p87 := p80 + p86
-		p88 := k00 * p85
-		p89 := p82 + p88
-		p90 := c23 * p85
-		p91 := p84 - p90
-		p92 := coef25 * w
-		p93 := coef26 * w
-		p94 := coef28 * w
+		p38 := coef0 * w
+		p39 := p38 * fwGLSCellBasis1Val[q][0]
+		p40 := p38 * fwGLSCellBasis1Val[q][1]
+		p41 := p38 * fwGLSCellBasis1Val[q][2]
+		p42 := coef1 * w
+		p43 := p42 * c22
+		p44 := p39 + p43
+		p45 := p42 * c21
+		p46 := p40 - p45
+		p47 := p42 * k11
+		p48 := p41 + p47
+		p49 := coef3 * w
+		p50 := c24 * p49
+		p51 := p44 + p50
+		p52 := k00 * p49
+		p53 := p46 + p52
+		p54 := c23 * p49
+		p55 := p48 - p54
+		p56 := coef5 * w
+		p57 := fwGLSCellBasis1Val[q][0] * p56
+		p58 := fwGLSCellBasis1Val[q][1] * p56
+		p59 := fwGLSCellBasis1Val[q][2] * p56
+		p60 := coef6 * w
+		p61 := c22 * p60
+		p62 := p57 + p61
+		p63 := c21 * p60
+		p64 := p58 - p63
+		p65 := k11 * p60
+		p66 := p59 + p65
+		p67 := coef8 * w
+		p68 := c24 * p67
+		p69 := p62 + p68
+		p70 := k00 * p67
+		p71 := p64 + p70
+		p72 := c23 * p67
+		p73 := p66 - p72
+		p74 := coef15 * w
+		p75 := fwGLSCellBasis1Val[q][0] * p74
+		p76 := fwGLSCellBasis1Val[q][1] * p74
+		p77 := fwGLSCellBasis1Val[q][2] * p74
+		p78 := c22 * p67
+		p79 := p75 + p78
+		p80 := c21 * p67
+		p81 := p76 - p80
+		p82 := k11 * p67
+		p83 := p77 + p82
+		p84 := coef18 * w
+		p85 := c24 * p84
+		p86 := p79 + p85
+		p87 := k00 * p84
+		p88 := p81 + p87
+		p89 := c23 * p84
+		p90 := p83 - p89
+		p91 := coef25 * w
+		p92 := coef26 * w
+		p93 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (1/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (y/10 + y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (−x²/4 + (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) − y (−y/10 + 1/20)/(5 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwGLSCellBasis1Val[q][0]*p52 + c22*p70 + c24*p87
-		acc[1] += fwGLSCellBasis1Val[q][0]*p54 + c22*p72 + c24*p89
-		acc[2] += fwGLSCellBasis1Val[q][0]*p56 + c22*p74 + c24*p91
-		acc[3] += fwGLSCellBasis1Val[q][1]*p52 + k01*p70 + k00*p87
-		acc[4] += fwGLSCellBasis1Val[q][1]*p54 + k01*p72 + k00*p89
-		acc[5] += fwGLSCellBasis1Val[q][1]*p56 + k01*p74 + k00*p91
-		acc[6] += fwGLSCellBasis1Val[q][2]*p52 + k11*p70 + k10*p87
-		acc[7] += fwGLSCellBasis1Val[q][2]*p54 + k11*p72 + k10*p89
-		acc[8] += fwGLSCellBasis1Val[q][2]*p56 + k11*p74 + k10*p91
+		//   - (τ_salt/100 + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (a[2] + a[2] τ_salt/10 − τ_salt (−y/10 + 1/20)/10) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (−κ τ_salt/10) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (a[1] + a[1] τ_salt/10) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - (−κ τ_salt/10) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (a[2] τ_salt/10 − τ_salt (−y/10 + 1/20)/10) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (κ + τ_salt (−y/10 + 1/20)² + a[2]² τ_salt − 2 a[2] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−κ τ_salt/10) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (κ² τ_salt) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (κ² τ_salt) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−κ τ_salt/10) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		acc[0] += fwGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
+		acc[1] += fwGLSCellBasis1Val[q][0]*p53 + c22*p71 + c24*p88
+		acc[2] += fwGLSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p90
+		acc[3] += fwGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
+		acc[4] += fwGLSCellBasis1Val[q][1]*p53 + k01*p71 + k00*p88
+		acc[5] += fwGLSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p90
+		acc[6] += fwGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
+		acc[7] += fwGLSCellBasis1Val[q][2]*p53 + k11*p71 + k10*p88
+		acc[8] += fwGLSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p90
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - 1/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1 · test(salt)   [model.fw:17]
-		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//   - −(y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//   - −(y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwGLSCellBasis1Val[q][0]*p92 + c22*p93 + c24*p94
-		rhs[1] += fwGLSCellBasis1Val[q][1]*p92 + k01*p93 + k00*p94
-		rhs[2] += fwGLSCellBasis1Val[q][2]*p92 + k11*p93 + k10*p94
+		//   - τ_salt/10 + 1 · test(salt)   [model.fw:17]
+		//   - a[2] τ_salt − τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
+		//   - −κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
+		//   - −κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
+		rhs[0] += fwGLSCellBasis1Val[q][0]*p91 + c22*p92 + c24*p93
+		rhs[1] += fwGLSCellBasis1Val[q][1]*p91 + k01*p92 + k00*p93
+		rhs[2] += fwGLSCellBasis1Val[q][2]*p91 + k11*p92 + k10*p93
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -687,21 +685,21 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p4 := 1.0 - x1
 		p5 := 0.05 * x1 * p4
 		p6 := 0.05 + p5
-		p7 := x1 * x1
-		p8 := 0.01 * p7
-		p9 := x[0] * fwVMSCellGeomVal[q][0]
-		p10 := x[2] * fwVMSCellGeomVal[q][1]
-		p11 := x[4] * fwVMSCellGeomVal[q][2]
-		x0 := p9 + p10 + p11
-		p12 := x0 * x0
-		p13 := (-0.25) * p12
-		p14 := 1.0 + p13
+		p7 := x[0] * fwVMSCellGeomVal[q][0]
+		p8 := x[2] * fwVMSCellGeomVal[q][1]
+		p9 := x[4] * fwVMSCellGeomVal[q][2]
+		x0 := p7 + p8 + p9
+		p10 := x0 * x0
+		p11 := (-0.25) * p10
+		p12 := 1.0 + p11
+		p13 := p12 * p12
+		p14 := x1 * 0.1
 		p15 := p14 * p14
-		p16 := p8 + p15
+		p16 := p13 + p15
 		p17 := math.Sqrt(p16)
 		p18 := 4.0 * p6
 		p19 := diameter * 2.0 * p17
-		p20 := p18 + p19 + c18
+		p20 := p18 + c18 + p19
 		p21 := 1.0 / p20
 		p22 := c17 * p21
 		p23 := (-0.01) * p22
@@ -710,138 +708,137 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p26 := p22 * p25
 		p27 := 0.1 * p22 * p25
 		coef0 := 0.1 + p23 + p27
-		p28 := x1 * 0.1
-		p29 := (-0.01) * x1 * p22
+		p28 := p14 * p22
+		p29 := p14 * p22 * (-0.1)
 		p30 := x1 * (-0.1)
 		p31 := 0.05 + p30
 		p32 := p22 * p31
 		p33 := 0.1 * p22 * p31
-		p34 := x1 * 0.1 * p22 * p25
+		p34 := p14 * p22 * p25
 		p35 := p22 * p25 * p31
-		coef1 := p28 + p29 + p33 + p34 - p35
-		coef28 := p14 * p22
-		p36 := p14 * p22 * (-0.1)
-		p37 := p14 * p22 * p25
-		coef3 := 1.0 + p13 + p36 + p37
-		p38 := x1 * 0.01 * p22
+		coef1 := p14 + p29 + p33 + p34 - p35
+		coef28 := p12 * p22
+		p36 := p12 * p22 * (-0.1)
+		p37 := p12 * p22 * p25
+		coef3 := p12 + p36 + p37
+		p38 := 0.1 * p14 * p22
 		coef5 := p33 + p38
-		p39 := 0.01 * p7 * p22
-		p40 := p31 * p31
-		p41 := p22 * p40
-		coef6 := 0.05 + p5 + p39 - p41
-		p42 := x1 * p14 * 0.1 * p22
-		p43 := p14 * p22 * p31
+		p39 := p31 * p31
+		p40 := p22 * p39
+		p41 := p15 * p22
+		coef6 := p6 - p40 + p41
+		p42 := p12 * p14 * p22
+		p43 := p12 * p22 * p31
 		coef8 := p42 + p43
-		coef15 := p14 * 0.1 * p22
+		coef15 := p12 * 0.1 * p22
 		coef16 := p42 - p43
-		p44 := p15 * p22
-		coef18 := 0.05 + p5 + p44
+		p44 := p13 * p22
+		coef18 := p6 + p44
 		p45 := p22 * (-0.1)
 		coef25 := 1.0 + p26 + p45
-		p46 := x1 * 0.1 * p22
-		coef26 := p32 + p46
+		coef26 := p28 + p32
 		w := detJ * fwVMSCellWeights[q]
-		p47 := coef0 * w
-		p48 := p47 * fwVMSCellBasis1Val[q][0]
-		p49 := p47 * fwVMSCellBasis1Val[q][1]
-		p50 := p47 * fwVMSCellBasis1Val[q][2]
-		p51 := coef1 * w
-		p52 := p51 * c22
-		p53 := p48 + p52
-		p54 := p51 * c21
-		p55 := p49 - p54
-		p56 := p51 * k11
-		p57 := p50 + p56
-		p58 := coef3 * w
-		p59 := c24 * p58
-		p60 := p53 + p59
-		p61 := k00 * p58
-		p62 := p55 + p61
-		p63 := c23 * p58
-		p64 := p57 - p63
-		p65 := coef5 * w
-		p66 := fwVMSCellBasis1Val[q][0] * p65
-		p67 := fwVMSCellBasis1Val[q][1] * p65
-		p68 := fwVMSCellBasis1Val[q][2] * p65
-		p69 := coef6 * w
-		p70 := c22 * p69
-		p71 := p66 + p70
-		p72 := c21 * p69
-		p73 := p67 - p72
-		p74 := k11 * p69
-		p75 := p68 + p74
-		p76 := coef8 * w
-		p77 := c24 * p76
-		p78 := p71 + p77
-		p79 := k00 * p76
-		p80 := p73 + p79
-		p81 := c23 * p76
-		p82 := p75 - p81
-		p83 := coef15 * w
-		p84 := fwVMSCellBasis1Val[q][0] * p83
-		p85 := fwVMSCellBasis1Val[q][1] * p83
-		p86 := fwVMSCellBasis1Val[q][2] * p83
-		p87 := coef16 * w
-		p88 := c22 * p87
-		p89 := p84 + p88
-		p90 := c21 * p87
-		p91 := p85 - p90
-		p92 := k11 * p87
-		p93 := p86 + p92
-		p94 := coef18 * w
-		p95 := c24 * p94
-		p96 := p89 + p95
-		p97 := k00 * p94
-		p98 := p91 + p97
-		p99 := c23 * p94
-		p100 := p93 - p99
-		p101 := coef25 * w
-		p102 := coef26 * w
-		p103 := coef28 * w
+		p46 := coef0 * w
+		p47 := p46 * fwVMSCellBasis1Val[q][0]
+		p48 := p46 * fwVMSCellBasis1Val[q][1]
+		p49 := p46 * fwVMSCellBasis1Val[q][2]
+		p50 := coef1 * w
+		p51 := p50 * c22
+		p52 := p47 + p51
+		p53 := p50 * c21
+		p54 := p48 - p53
+		p55 := p50 * k11
+		p56 := p49 + p55
+		p57 := coef3 * w
+		p58 := c24 * p57
+		p59 := p52 + p58
+		p60 := k00 * p57
+		p61 := p54 + p60
+		p62 := c23 * p57
+		p63 := p56 - p62
+		p64 := coef5 * w
+		p65 := fwVMSCellBasis1Val[q][0] * p64
+		p66 := fwVMSCellBasis1Val[q][1] * p64
+		p67 := fwVMSCellBasis1Val[q][2] * p64
+		p68 := coef6 * w
+		p69 := c22 * p68
+		p70 := p65 + p69
+		p71 := c21 * p68
+		p72 := p66 - p71
+		p73 := k11 * p68
+		p74 := p67 + p73
+		p75 := coef8 * w
+		p76 := c24 * p75
+		p77 := p70 + p76
+		p78 := k00 * p75
+		p79 := p72 + p78
+		p80 := c23 * p75
+		p81 := p74 - p80
+		p82 := coef15 * w
+		p83 := fwVMSCellBasis1Val[q][0] * p82
+		p84 := fwVMSCellBasis1Val[q][1] * p82
+		p85 := fwVMSCellBasis1Val[q][2] * p82
+		p86 := coef16 * w
+		p87 := c22 * p86
+		p88 := p83 + p87
+		p89 := c21 * p86
+		p90 := p84 - p89
+		p91 := k11 * p86
+		p92 := p85 + p91
+		p93 := coef18 * w
+		p94 := c24 * p93
+		p95 := p88 + p94
+		p96 := k00 * p93
+		p97 := p90 + p96
+		p98 := c23 * p93
+		p99 := p92 - p98
+		p100 := coef25 * w
+		p101 := coef26 * w
+		p102 := coef28 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (−1/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (y/10 − y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + y (−x/2 + 1/10)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (−x²/4 − (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10) (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x/2 + 1/10) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (y/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−y + 1)/20 + y²/(100 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - ((−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−x²/4 + 1)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−x²/4 + 1) (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−y + 1)/20 + (−x²/4 + 1)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1/20) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−(−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - ((y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10))) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (y (y (−y + 1)/20 + 1/20)/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) − (−y/10 + 1/20) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - ((−x²/4 + 1) (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−(y (−y + 1)/20 + 1/20)²/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwVMSCellBasis1Val[q][0]*p60 + c22*p78 + c24*p96
-		acc[1] += fwVMSCellBasis1Val[q][0]*p62 + c22*p80 + c24*p98
-		acc[2] += fwVMSCellBasis1Val[q][0]*p64 + c22*p82 + c24*p100
-		acc[3] += fwVMSCellBasis1Val[q][1]*p60 + k01*p78 + k00*p96
-		acc[4] += fwVMSCellBasis1Val[q][1]*p62 + k01*p80 + k00*p98
-		acc[5] += fwVMSCellBasis1Val[q][1]*p64 + k01*p82 + k00*p100
-		acc[6] += fwVMSCellBasis1Val[q][2]*p60 + k11*p78 + k10*p96
-		acc[7] += fwVMSCellBasis1Val[q][2]*p62 + k11*p80 + k10*p98
-		acc[8] += fwVMSCellBasis1Val[q][2]*p64 + k11*p82 + k10*p100
+		//   - (−τ_salt/100 + τ_salt (−x/2 + 1/10)/10 + 1/10) · salt · test(salt)   [model.fw:17]
+		//   - (a[2] − a[2] τ_salt/10 + τ_salt (−y/10 + 1/20)/10 + a[2] τ_salt (−x/2 + 1/10) − τ_salt (−x/2 + 1/10) (−y/10 + 1/20)) · partial(salt, y) · test(salt)   [model.fw:17]
+		//   - (κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
+		//   - (a[1] − a[1] τ_salt/10 + a[1] τ_salt (−x/2 + 1/10)) · partial(salt, x) · test(salt)   [model.fw:17]
+		//   - (κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
+		//   - (a[2] τ_salt/10 + τ_salt (−y/10 + 1/20)/10) · salt · partial(test(salt), y)   [model.fw:17]
+		//   - (κ − τ_salt (−y/10 + 1/20)² + a[2]² τ_salt) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt + a[1] τ_salt (−y/10 + 1/20)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
+		//   - (κ τ_salt/10) · salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - (a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−κ² τ_salt) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (−κ² τ_salt) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
+		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
+		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
+		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
+		//   - (κ τ_salt/10) · salt · partial(test(salt), x, x)   [model.fw:17]
+		//   - (a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
+		//   - (−κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
+		acc[0] += fwVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
+		acc[1] += fwVMSCellBasis1Val[q][0]*p61 + c22*p79 + c24*p97
+		acc[2] += fwVMSCellBasis1Val[q][0]*p63 + c22*p81 + c24*p99
+		acc[3] += fwVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
+		acc[4] += fwVMSCellBasis1Val[q][1]*p61 + k01*p79 + k00*p97
+		acc[5] += fwVMSCellBasis1Val[q][1]*p63 + k01*p81 + k00*p99
+		acc[6] += fwVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
+		acc[7] += fwVMSCellBasis1Val[q][2]*p61 + k11*p79 + k10*p97
+		acc[8] += fwVMSCellBasis1Val[q][2]*p63 + k11*p81 + k10*p99
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −1/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−x/2 + 1/10)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) + 1 · test(salt)   [model.fw:17]
-		//   - y/(10 (4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10)) + (−y/10 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y)   [model.fw:17]
-		//   - (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−x²/4 + 1)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x)   [model.fw:17]
-		//   - (y (−y + 1)/20 + 1/20)/(4 (y (−y + 1)/20 + 1/20)/cell_diameter² + 2 √(y²/100 + (−x²/4 + 1)²)/cell_diameter + 1/10) · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwVMSCellBasis1Val[q][0]*p101 + c22*p102 + c24*p103
-		rhs[1] += fwVMSCellBasis1Val[q][1]*p101 + k01*p102 + k00*p103
-		rhs[2] += fwVMSCellBasis1Val[q][2]*p101 + k11*p102 + k10*p103
+		//   - −τ_salt/10 + τ_salt (−x/2 + 1/10) + 1 · test(salt)   [model.fw:17]
+		//   - a[2] τ_salt + τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
+		//   - κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
+		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
+		//   - κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
+		rhs[0] += fwVMSCellBasis1Val[q][0]*p100 + c22*p101 + c24*p102
+		rhs[1] += fwVMSCellBasis1Val[q][1]*p100 + k01*p101 + k00*p102
+		rhs[2] += fwVMSCellBasis1Val[q][2]*p100 + k11*p101 + k10*p102
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

@@ -19,19 +19,19 @@ func init() {
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
-	compiled.Register("76d7258b460455a6b50c339c2cd9c95d", compiled.Kernels{
+	compiled.Register("636eb83badee58e95ade0b63804b5065", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Interval,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
-	compiled.Register("7902c096e8e9a9203d227d82ced909c6", compiled.Kernels{
+	compiled.Register("8f99086b90efb109f50254405be6b8b8", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Interval,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
-	compiled.Register("be463f75e1f0a03625c7428028327367", compiled.Kernels{
+	compiled.Register("b09bc5943f0e88a55ebc92cd229e628f", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Interval,
 		Degree:  1,
@@ -138,8 +138,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
@@ -198,10 +198,10 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
@@ -260,10 +260,10 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
 	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/2 + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/1000) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (−cell_diameter (coth(250 cell_diameter) − 1/(250 cell_diameter))/500000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	//   - (τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
+	//   - (−τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12

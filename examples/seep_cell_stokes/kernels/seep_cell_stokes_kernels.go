@@ -19,19 +19,19 @@ func init() {
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
 	})
-	compiled.Register("bcbb3285c5a3d1b4888c0d41bf9b7bd7", compiled.Kernels{
+	compiled.Register("36434c0818ef73d963d384ec0bd0de27", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SUPGKernel{} },
 	})
-	compiled.Register("ec8fb60014d1d65065a1f51adfcbf0a0", compiled.Kernels{
+	compiled.Register("70de165bc77775bc5857b2fe0ae5af9c", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return GLSKernel{} },
 	})
-	compiled.Register("0f5e07fc8b9f341d2147b8d3294f257e", compiled.Kernels{
+	compiled.Register("f1476d6d4824db2a72a2ff0b9fb4da8d", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -233,6 +233,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
+	coef12 := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -245,7 +246,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c22 := j01 * j01
 	c23 := 20.0 * c22
 	c24 := j00 * j01
-	c25 := c24 * (-20.0)
+	c25 := (-20.0) * c24
 	c26 := j00 * j00
 	c27 := 20.0 * c26
 	c28 := j11 * j11
@@ -305,8 +306,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c81 := c73 * (-0.5)
 	c82 := c79 + c81
 	c83 := (-9.81) * detJ
-	c84 := j01 * 0.122625
-	c85 := (-0.122625) * j00
+	c84 := j01 * 9.81
+	c85 := (-9.81) * j00
 	c86 := (-0.5) * c84
 	c87 := (-0.5) * c85
 	c88 := c86 + c87
@@ -389,8 +390,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -402,8 +403,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -414,8 +415,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -431,10 +432,10 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
-	b[6] = c17 * c88
-	b[7] = c17 * c89
-	b[8] = c17 * c90
+	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
+	b[6] = coef12 * c88
+	b[7] = coef12 * c89
+	b[8] = coef12 * c90
 }
 
 // fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
@@ -485,6 +486,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
+	coef24 := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -502,7 +504,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
 	c28 := 20.0 * c22
-	c29 := c23 * (-20.0)
+	c29 := (-20.0) * c23
 	c30 := 20.0 * c24
 	c31 := 40.0 * c25
 	c32 := c26 * (-40.0)
@@ -527,7 +529,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c51 := c23 * (-40.0)
 	c52 := 40.0 * c24
 	c53 := 20.0 * c25
-	c54 := c26 * (-20.0)
+	c54 := (-20.0) * c26
 	c55 := 20.0 * c27
 	c56 := c50 + c53
 	c57 := rdetJ * c56
@@ -557,8 +559,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c81 := c73 * (-0.5)
 	c82 := c79 + c81
 	c83 := (-9.81) * detJ
-	c84 := j01 * 0.122625
-	c85 := (-0.122625) * j00
+	c84 := j01 * 9.81
+	c85 := (-9.81) * j00
 	c86 := (-0.5) * c84
 	c87 := (-0.5) * c85
 	c88 := c86 + c87
@@ -573,8 +575,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -586,11 +588,11 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
 	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -613,8 +615,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -637,11 +639,11 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
 	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -653,8 +655,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -666,8 +668,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -678,8 +680,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -691,16 +693,16 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
 	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - 981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - 981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - 981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - 981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
-	b[6] = c17 * c88
-	b[7] = c17 * c89
-	b[8] = c17 * c90
+	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
+	b[6] = coef24 * c88
+	b[7] = coef24 * c89
+	b[8] = coef24 * c90
 }
 
 // fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
@@ -751,6 +753,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
+	coef24 := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -768,7 +771,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
 	c28 := 20.0 * c22
-	c29 := c23 * (-20.0)
+	c29 := (-20.0) * c23
 	c30 := 20.0 * c24
 	c31 := 40.0 * c25
 	c32 := c26 * (-40.0)
@@ -793,7 +796,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c51 := c23 * (-40.0)
 	c52 := 40.0 * c24
 	c53 := 20.0 * c25
-	c54 := c26 * (-20.0)
+	c54 := (-20.0) * c26
 	c55 := 20.0 * c27
 	c56 := c50 + c53
 	c57 := rdetJ * c56
@@ -823,8 +826,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c81 := c73 * (-0.5)
 	c82 := c79 + c81
 	c83 := (-9.81) * detJ
-	c84 := j01 * 0.122625
-	c85 := (-0.122625) * j00
+	c84 := j01 * 9.81
+	c85 := (-9.81) * j00
 	c86 := (-0.5) * c84
 	c87 := (-0.5) * c85
 	c88 := c86 + c87
@@ -839,8 +842,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[2] = 0
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
 	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (cell_diameter²/4) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[6] = 0.1666666666666667 * (-j11 - c20)
 	A[7] = 0.1666666666666667 * j11
 	A[8] = 0.1666666666666667 * c20
@@ -852,11 +855,11 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[26] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
 	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (−5 cell_diameter²) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -879,8 +882,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[23] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
 	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (cell_diameter²/4) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[33] = 0.1666666666666667 * (-c21 - j00)
 	A[34] = 0.1666666666666667 * c21
 	A[35] = 0.1666666666666667 * j00
@@ -903,11 +906,11 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[47] = 0.5 * c49
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
 	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
 	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (−5 cell_diameter²) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -919,8 +922,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[50] = 0.5 * c61
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
 	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
 	A[54] = 0.1666666666666667 * (-j11 - c20)
 	A[55] = 0.1666666666666667 * j11
 	A[56] = 0.1666666666666667 * c20
@@ -932,8 +935,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[74] = 0.16666666666666666 * c20
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
 	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−cell_diameter²/4) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
+	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
 	A[57] = 0.1666666666666667 * (-c21 - j00)
 	A[58] = 0.1666666666666667 * c21
 	A[59] = 0.1666666666666667 * j00
@@ -944,8 +947,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[76] = 0.16666666666666666 * c21
 	A[77] = 0.16666666666666666 * j00
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (cell_diameter²/80) · partial(p, y) · partial(test(p), y)   [model.fw:15]
-	//   - (cell_diameter²/80) · partial(p, x) · partial(test(p), x)   [model.fw:15]
+	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
+	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -957,16 +960,16 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[80] = c17 * c76
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
 	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - −981 cell_diameter²/400 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - −981 cell_diameter²/400 · partial(test(vel)[2], x, x)   [model.fw:15]
+	//   - −981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
+	//   - −981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
 	b[3] = 0.1666666666666667 * c83
 	b[4] = 0.16666666666666666 * c83
 	b[5] = 0.16666666666666666 * c83
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 cell_diameter²/8000 · partial(test(p), y)   [model.fw:15]
-	b[6] = c17 * c88
-	b[7] = c17 * c89
-	b[8] = c17 * c90
+	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
+	b[6] = coef24 * c88
+	b[7] = coef24 * c89
+	b[8] = coef24 * c90
 }
 
 // fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

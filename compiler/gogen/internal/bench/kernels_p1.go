@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("f6df99148ba11ce0a486c0d6d6fbba59", compiled.Kernels{
+	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
@@ -139,14 +139,14 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
 	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
 	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
+	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
+	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
+	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
 	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
 	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
 	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
@@ -158,8 +158,8 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
 	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
 	//   - 1 · test(c)   [adr.fw:12]
-	//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
+	//   - τ_c · partial(test(c), x)   [adr.fw:15]
 	b[0] = 0.1666666666666667*detJ + coef12*c71
 	b[1] = 0.16666666666666666*detJ + coef12*c72
 	b[2] = 0.16666666666666666*detJ + coef12*c73

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("d3488e3c454ef1863bb0360d9117d11c", compiled.Kernels{
+	compiled.Register("60b865e61fabe0ac05fb96b780e9937d", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Quadrilateral,
 		Degree:  5,
@@ -205,14 +205,14 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point, all basis-function pairs: rows 0..8, columns 0..8:
 		//   - (1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
 		//   - (1) · partial(c, x) · test(c)   [adr_q2.fw:12]
-		//   - (1/(4 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (−1/(200 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - ((1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (−1/(100 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter))) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
+		//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
+		//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
 		for i := 0; i < 9; i++ {
 			rowf0 := fwQ2SUPGCellBasis2Val[q][i]
 			rowf1 := basis0[i]
@@ -223,8 +223,8 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 			}
 			// At each quadrature point, all basis functions: rows 0..8 of the right-hand side:
 			//   - 1 · test(c)   [adr_q2.fw:12]
-			//   - 1/(2 (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)) · partial(test(c), y)   [adr_q2.fw:12]
-			//   - (1/(25 cell_diameter²) + 2 √(5/4)/cell_diameter)⁻¹ · partial(test(c), x)   [tau.fw:22]
+			//   - τ_c/2 · partial(test(c), y)   [adr_q2.fw:12]
+			//   - τ_c · partial(test(c), x)   [adr_q2.fw:15]
 			rhs[0+i] += rowf0*w + rowf1*p37 + rowf2*p40
 		}
 	}
