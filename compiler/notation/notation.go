@@ -127,7 +127,6 @@ func superscript(s string) (string, bool) {
 	return b.String(), true
 }
 
-
 // expr returns the printed expression and its precedence.
 func (p printer) expr(e ir.Expr) (string, int) {
 	switch e := e.(type) {
