@@ -10,15 +10,10 @@
 //
 // # Coefficient tapes
 //
-// Each lowered coefficient is compiled once (Compile) into a small
-// stack-machine tape over float64: exact rationals become float64 at
-// compile time, constant subexpressions are folded, integer powers become
-// repeated multiplication, and the inputs are slots of an environment
-// (x, y, z, t, cell_diameter, cell_volume, G_IJ, the outward normal n_I,
-// and one slot per previous-iterate value or derivative). Eval runs a tape
-// with no allocation; EvalGrad runs it in forward-mode automatic
-// differentiation along x, y, z (Griewank & Walther 2008), used for exact
-// solutions given as expressions.
+// Each lowered coefficient is compiled once into a tape (runtime/tape):
+// exact rationals become float64 at compile time, constant subexpressions
+// are folded and the inputs are slots of an environment that the kernel
+// fills per cell and per quadrature point.
 //
 // # Kernels
 //

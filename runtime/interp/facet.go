@@ -8,6 +8,7 @@ import (
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/kernel"
+	"github.com/formwright/formwright/runtime/tape"
 )
 
 // facetData is the quadrature on one local facet: a rule whose points are
@@ -101,7 +102,7 @@ func (k *FacetKernel) Facet(in *kernel.FacetInput, A, b []float64) {
 		}
 		nn = math.Sqrt(nn)
 		for kk := 0; kk < 3; kk++ {
-			s.env[SlotNormal+kk] = nv[kk] / nn
+			s.env[tape.SlotNormal+kk] = nv[kk] / nn
 		}
 		// Surface measure.
 		meas := 1.0

@@ -9,6 +9,7 @@ import (
 	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/quadrature"
+	"github.com/formwright/formwright/runtime/tape"
 )
 
 // Options tune the interpreted kernels.
@@ -16,30 +17,6 @@ type Options struct {
 	// Degree is the quadrature degree; 0 selects the form's own
 	// (ir.LoweredForm.QuadratureDegree).
 	Degree int
-}
-
-// ExprDeps returns the dependency bits of a lowered coefficient.
-func ExprDeps(e ir.Expr) Deps {
-	var d Deps
-	ir.Inspect(e, func(x ir.Expr) bool {
-		switch x := x.(type) {
-		case *ir.Coord, *ir.FieldD:
-			d |= DepPoint
-		case *ir.Time:
-			d |= DepTime
-		case *ir.CellQ:
-			switch x.Q.Variation() {
-			case ir.PerCell:
-				d |= DepCell
-			case ir.PerStep:
-				d |= DepTime
-			case ir.PerPoint:
-				d |= DepPoint
-			}
-		}
-		return true
-	})
-	return d
 }
 
 // layoutAndDegree checks the lowered-form contract and returns the
@@ -99,9 +76,9 @@ type integrand struct {
 	elems     []*element.Element
 	fieldElem []int
 	fieldOff  []int // local offset of field
-	slots     *Slots
-	cellProg  *Program
-	pointProg *Program
+	slots     *tape.Slots
+	cellProg  *tape.Program
+	pointProg *tape.Program
 	nCell     int // coefficients constant in a cell come first,
 	nHoist    int // then the hoisted subexpressions, then the varying ones
 	auxSlots  []int
@@ -126,7 +103,7 @@ type scratch struct {
 }
 
 func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (*integrand, error) {
-	it := &integrand{lay: lay, n: lay.N(), slots: &Slots{}}
+	it := &integrand{lay: lay, n: lay.N(), slots: &tape.Slots{}}
 	it.affine = lay.Cell.IsSimplex() && lay.Geometry.Degree == 1
 	off := 0
 	for _, f := range lay.Fields {
@@ -225,10 +202,10 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 		if len(cs) == 1 {
 			e = cs[0]
 		}
-		d := ExprDeps(e)
+		d := tape.ExprDeps(e)
 		it.needDiam = it.needDiam || usesQuantity(e, ir.Diameter)
 		it.needVol = it.needVol || usesQuantity(e, ir.Volume)
-		if d&DepPoint == 0 {
+		if d&tape.DepPoint == 0 {
 			cellE = append(cellE, e)
 			cellK = append(cellK, i)
 		} else {
@@ -243,13 +220,13 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 	var hoisted []ir.Expr
 	for _, e := range pointE {
 		ir.Inspect(e, func(x ir.Expr) bool {
-			if !composite(x) || ExprDeps(x)&DepPoint != 0 {
+			if !tape.Composite(x) || tape.ExprDeps(x)&tape.DepPoint != 0 {
 				return true
 			}
-			if _, ok := constValue(x); ok {
+			if _, ok := tape.ConstValue(x); ok {
 				return false
 			}
-			k := ExprKey(x)
+			k := tape.ExprKey(x)
 			if _, ok := subst[k]; !ok {
 				subst[k] = it.slots.Aux()
 				hoisted = append(hoisted, x)
@@ -269,10 +246,10 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 	}
 	it.nCoef = len(keys) + it.nHoist
 	var err error
-	if it.cellProg, err = Compile(append(cellE, hoisted...), it.slots); err != nil {
+	if it.cellProg, err = tape.Compile(append(cellE, hoisted...), it.slots); err != nil {
 		return nil, err
 	}
-	if it.pointProg, err = compileWith(pointE, it.slots, subst); err != nil {
+	if it.pointProg, err = tape.CompileWith(pointE, it.slots, subst); err != nil {
 		return nil, err
 	}
 	// Plans.
@@ -363,13 +340,13 @@ func (it *integrand) newScratch(tabs []*element.Table) *scratch {
 func (it *integrand) beginCell(s *scratch, in *kernel.CellInput) {
 	c := it.lay.Cell
 	if it.needDiam {
-		s.env[SlotCellDiameter] = kernel.CellDiameter(c, in.Coords)
+		s.env[tape.SlotCellDiameter] = kernel.CellDiameter(c, in.Coords)
 	}
 	if it.needVol {
-		s.env[SlotCellVolume] = kernel.CellVolume(c, in.Coords)
+		s.env[tape.SlotCellVolume] = kernel.CellVolume(c, in.Coords)
 	}
-	s.env[SlotT] = in.Time
-	s.env[SlotStep] = in.Step
+	s.env[tape.SlotT] = in.Time
+	s.env[tape.SlotStep] = in.Step
 	it.cellProg.Eval(s.env, s.coef[:it.nCell+it.nHoist], s.stack)
 	for j, slot := range it.auxSlots {
 		s.env[slot] = s.coef[it.nCell+j]
@@ -405,7 +382,7 @@ func (it *integrand) affineCell(s *scratch, coords []float64) bool {
 			for k := 0; k < d; k++ {
 				g += Ji[k*d+i] * Ji[k*d+j]
 			}
-			s.env[SlotG+3*i+j] = g
+			s.env[tape.SlotG+3*i+j] = g
 		}
 	}
 	return true
@@ -435,7 +412,7 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *kernel.
 			for j := 0; j < d; j++ {
 				x += J[i*d+j] * xi[j]
 			}
-			s.env[SlotX+i] = x
+			s.env[tape.SlotX+i] = x
 		}
 		w = tabs[0].Rule.Weights[q] * s.det
 	} else {
@@ -445,10 +422,10 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *kernel.
 			}
 		}
 		pg := s.pg[0]
-		copy(s.env[SlotX:SlotX+d], pg.X)
+		copy(s.env[tape.SlotX:tape.SlotX+d], pg.X)
 		for i := 0; i < d; i++ {
 			for j := 0; j < d; j++ {
-				s.env[SlotG+3*i+j] = pg.G[i*d+j]
+				s.env[tape.SlotG+3*i+j] = pg.G[i*d+j]
 			}
 		}
 		copy(s.J, pg.J)

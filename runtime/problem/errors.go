@@ -6,8 +6,8 @@ import (
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/element"
-	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/quadrature"
+	"github.com/formwright/formwright/runtime/tape"
 )
 
 // Exact is an exact solution of one field: Eval writes, at point x (length
@@ -17,17 +17,17 @@ type Exact func(x []float64, t float64, u, grad []float64)
 
 // ExactFromExprs makes an Exact from lowered scalar expressions of x and t,
 // one per component. Gradients come from the same tape by forward-mode
-// differentiation (interp.Program.EvalGrad), so no derivative has to be
+// differentiation (tape.Program.EvalGrad), so no derivative has to be
 // written by hand. The returned function is not safe for concurrent use.
 func ExactFromExprs(dim int, comps []ir.Expr) (Exact, error) {
-	slots := &interp.Slots{}
-	p, err := interp.Compile(comps, slots)
+	slots := &tape.Slots{}
+	p, err := tape.Compile(comps, slots)
 	if err != nil {
 		return nil, err
 	}
 	if len(slots.Previous()) > 0 || func() bool {
 		for _, e := range comps {
-			if interp.ExprDeps(e)&interp.DepCell != 0 {
+			if tape.ExprDeps(e)&tape.DepCell != 0 {
 				return true
 			}
 		}
@@ -39,8 +39,8 @@ func ExactFromExprs(dim int, comps []ir.Expr) (Exact, error) {
 	stack := make([]float64, p.DualStackSize())
 	g3 := make([]float64, 3*len(comps))
 	return func(x []float64, t float64, u, grad []float64) {
-		copy(env[interp.SlotX:interp.SlotX+dim], x[:dim])
-		env[interp.SlotT] = t
+		copy(env[tape.SlotX:tape.SlotX+dim], x[:dim])
+		env[tape.SlotT] = t
 		p.EvalGrad(env, u, g3, stack)
 		for c := range comps {
 			copy(grad[c*dim:(c+1)*dim], g3[3*c:3*c+dim])

@@ -16,6 +16,7 @@ import (
 	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
+	"github.com/formwright/formwright/runtime/tape"
 )
 
 // KernelSet is a set of compiled element kernels for one form on one cell
@@ -509,11 +510,11 @@ func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bo
 		if !ok {
 			return nil, nil, fmt.Errorf("problem: value condition on %q: %w (sides: %v)", dc.Side, ErrNoSide, m.BoundaryNames())
 		}
-		if interp.ExprDeps(dc.Value)&(interp.DepCell) != 0 {
+		if tape.ExprDeps(dc.Value)&(tape.DepCell) != 0 {
 			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q uses a cell quantity", f.Name, dc.Side)
 		}
-		slots := &interp.Slots{}
-		p, err := interp.Compile([]ir.Expr{dc.Value}, slots)
+		slots := &tape.Slots{}
+		p, err := tape.Compile([]ir.Expr{dc.Value}, slots)
 		if err != nil {
 			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q: %w", f.Name, dc.Side, err)
 		}
@@ -521,7 +522,7 @@ func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bo
 			return nil, nil, fmt.Errorf("problem: boundary value of %q on %q depends on an unknown", f.Name, dc.Side)
 		}
 		env := make([]float64, slots.Len())
-		env[interp.SlotT] = t
+		env[tape.SlotT] = t
 		out := make([]float64, 1)
 		stack := make([]float64, p.StackSize())
 		facets := make([]dof.Facet, len(refs))
@@ -531,7 +532,7 @@ func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bo
 		xs := dm.NodeCoords(dc.Unknown)
 		d := dm.Dim
 		for _, n := range dm.BoundaryNodes(dc.Unknown, facets) {
-			copy(env[interp.SlotX:interp.SlotX+d], xs[int(n)*d:int(n+1)*d])
+			copy(env[tape.SlotX:tape.SlotX+d], xs[int(n)*d:int(n+1)*d])
 			p.Eval(env, out, stack)
 			g := dm.Global(dc.Unknown, dc.Comp, int(n))
 			fixed[g] = true

@@ -1,4 +1,4 @@
-package interp
+package tape
 
 import (
 	"fmt"
@@ -32,6 +32,30 @@ const (
 	// DepCell: depends on the per-cell quantities cell_diameter, cell_volume.
 	DepCell
 )
+
+// ExprDeps returns the dependency bits of a lowered coefficient.
+func ExprDeps(e ir.Expr) Deps {
+	var d Deps
+	ir.Inspect(e, func(x ir.Expr) bool {
+		switch x := x.(type) {
+		case *ir.Coord, *ir.FieldD:
+			d |= DepPoint
+		case *ir.Time:
+			d |= DepTime
+		case *ir.CellQ:
+			switch x.Q.Variation() {
+			case ir.PerCell:
+				d |= DepCell
+			case ir.PerStep:
+				d |= DepTime
+			case ir.PerPoint:
+				d |= DepPoint
+			}
+		}
+		return true
+	})
+	return d
+}
 
 // PrevInput is one previous-iterate quantity read by compiled code: the
 // derivative D of component Comp of unknown Field, stored in env[Slot].
@@ -137,12 +161,14 @@ func (e *UnsupportedError) Error() string {
 // in a temporary. Previous-iterate fields get slots in s (which may be
 // shared with other programs).
 func Compile(exprs []ir.Expr, s *Slots) (*Program, error) {
-	return compileWith(exprs, s, nil)
+	return CompileWith(exprs, s, nil)
 }
 
-// compileWith is Compile where every subexpression whose structural key
-// is in subst is read from the environment slot subst[key] instead.
-func compileWith(exprs []ir.Expr, s *Slots, subst map[string]int) (*Program, error) {
+// CompileWith is Compile where every subexpression whose structural key
+// (ExprKey) is in subst is read from the environment slot subst[key]
+// instead: a kernel hoists subexpressions that are constant in a cell out
+// of its per-point tapes this way.
+func CompileWith(exprs []ir.Expr, s *Slots, subst map[string]int) (*Program, error) {
 	c := &compiler{slots: s, p: &Program{nOut: len(exprs)}, subst: subst,
 		count: map[string]int{}, temp: map[string]int32{}, keys: map[ir.Expr]string{}}
 	for _, e := range exprs {
@@ -188,7 +214,9 @@ func (c *compiler) key(e ir.Expr) string {
 	return k
 }
 
-func composite(e ir.Expr) bool {
+// Composite reports whether e is an operation (sum, product, power,
+// call) rather than a leaf: the subexpressions worth sharing or hoisting.
+func Composite(e ir.Expr) bool {
 	switch e.(type) {
 	case *ir.Add, *ir.Mul, *ir.Pow, *ir.Call:
 		return true
@@ -198,8 +226,8 @@ func composite(e ir.Expr) bool {
 
 func (c *compiler) countSubtrees(e ir.Expr) {
 	ir.Inspect(e, func(x ir.Expr) bool {
-		if composite(x) {
-			if _, ok := constValue(x); !ok {
+		if Composite(x) {
+			if _, ok := ConstValue(x); !ok {
 				k := c.key(x)
 				c.count[k]++
 				// Count the children of a repeated subtree once only.
@@ -282,11 +310,11 @@ func (c *compiler) pushConst(v float64) {
 	c.emit(opConst, int32(len(c.p.consts)-1), 1)
 }
 
-// constValue returns the value of e if it contains no input.
-func constValue(e ir.Expr) (float64, bool) {
+// ConstValue returns the value of e if it contains no input.
+func ConstValue(e ir.Expr) (float64, bool) {
 	switch e := e.(type) {
 	case *ir.Named:
-		return constValue(e.X)
+		return ConstValue(e.X)
 	case *ir.Num:
 		f, _ := e.Val.Float64()
 		return f, true
@@ -298,7 +326,7 @@ func constValue(e ir.Expr) (float64, bool) {
 	case *ir.Add:
 		s := 0.0
 		for _, t := range e.Terms {
-			v, ok := constValue(t)
+			v, ok := ConstValue(t)
 			if !ok {
 				return 0, false
 			}
@@ -308,7 +336,7 @@ func constValue(e ir.Expr) (float64, bool) {
 	case *ir.Mul:
 		s := 1.0
 		for _, t := range e.Factors {
-			v, ok := constValue(t)
+			v, ok := ConstValue(t)
 			if !ok {
 				return 0, false
 			}
@@ -316,8 +344,8 @@ func constValue(e ir.Expr) (float64, bool) {
 		}
 		return s, true
 	case *ir.Pow:
-		b, ok1 := constValue(e.Base)
-		x, ok2 := constValue(e.Exp)
+		b, ok1 := ConstValue(e.Base)
+		x, ok2 := ConstValue(e.Exp)
 		if !ok1 || !ok2 {
 			return 0, false
 		}
@@ -328,7 +356,7 @@ func constValue(e ir.Expr) (float64, bool) {
 			return 0, false
 		}
 		for i, t := range e.Args {
-			v, ok := constValue(t)
+			v, ok := ConstValue(t)
 			if !ok {
 				return 0, false
 			}
@@ -395,7 +423,7 @@ func (c *compiler) expr(e ir.Expr) (Deps, error) {
 	if n, ok := e.(*ir.Named); ok {
 		return c.expr(n.X)
 	}
-	if v, ok := constValue(e); ok {
+	if v, ok := ConstValue(e); ok {
 		c.pushConst(v)
 		return 0, nil
 	}
@@ -405,7 +433,7 @@ func (c *compiler) expr(e ir.Expr) (Deps, error) {
 			return ExprDeps(e), nil
 		}
 	}
-	if composite(e) && c.count[c.key(e)] > 1 {
+	if Composite(e) && c.count[c.key(e)] > 1 {
 		k := c.key(e)
 		if t, ok := c.temp[k]; ok {
 			c.emit(opTmpGet, t, 1)
@@ -487,7 +515,7 @@ func (c *compiler) node(e ir.Expr) (Deps, error) {
 			c.emit(opPowInt, int32(n), 0)
 			return d, nil
 		}
-		if x, ok := constValue(e.Exp); ok && x == 0.5 {
+		if x, ok := ConstValue(e.Exp); ok && x == 0.5 {
 			c.emit(opFn, int32(ir.Sqrt), 0)
 			return d, nil
 		}
