@@ -47,9 +47,7 @@ func skewSolve(n int) (int, error) {
 		return 0, err
 	}
 	so := &linsolve.Options{Method: linsolve.MethodGMRES, Precond: linsolve.PrecondILU0, ILUShift: problem.AutoILUShift, RelTol: 1e-8, Restart: 100, MaxIter: 2000}
-	opts := problem.Options{Solver: so}
-	kernelPath(lf, msh, &opts)
-	sol, err := problem.Solve(lf, msh, opts)
+	sol, err := problem.Solve(lf, msh, problem.Options{Solver: so})
 	if err != nil {
 		return 0, err
 	}
@@ -99,20 +97,18 @@ func BenchmarkTransientHeatRatios(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	stepped, err := problem.BackwardEuler(lf)
+	sf, err := compiler.BackwardEuler(lf)
 	if err != nil {
 		b.Fatal(err)
 	}
+	stepped := sf.Step
 	const dt, steps = 0.01, 20
-	var compiledOpts problem.Options
-	if kernelPath(stepped, msh, &compiledOpts) != "compiled" {
-		b.Fatal("no compiled heat kernels")
-	}
+	interpreted := problem.Options{Interpreted: true}
 	paths := []func() error{
 		func() error {
 			var x []float64
 			for n := 1; n <= steps; n++ {
-				sol, err := problem.Solve(stepped, msh, problem.Options{Time: float64(n) * dt, Step: dt, Initial: x, PreviousFixed: true})
+				sol, err := problem.Solve(stepped, msh, problem.Options{Time: float64(n) * dt, Step: dt, Initial: x, PreviousFixed: true, Interpreted: true})
 				if err != nil {
 					return err
 				}
@@ -121,11 +117,14 @@ func BenchmarkTransientHeatRatios(b *testing.B) {
 			return nil
 		},
 		func() error {
-			_, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: dt, Steps: steps})
+			_, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: interpreted, Step: dt, Steps: steps})
 			return err
 		},
 		func() error {
-			_, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Options: compiledOpts, Step: dt, Steps: steps})
+			sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Step: dt, Steps: steps})
+			if err == nil && sol.Summary.KernelPath != "compiled" {
+				return fmt.Errorf("no compiled heat kernels")
+			}
 			return err
 		},
 	}
@@ -169,7 +168,6 @@ func BenchmarkStokesDirectScaling(b *testing.B) {
 	for b.Loop() {
 		for i, unscaled := range []bool{false, true} {
 			opts := problem.Options{Solver: &linsolve.Options{Method: linsolve.MethodDirect, Unscaled: unscaled}}
-			kernelPath(lf, msh, &opts)
 			start := time.Now()
 			if _, err := problem.Solve(lf, msh, opts); err != nil {
 				b.Fatal(err)

@@ -1,138 +1,152 @@
 package main
 
 import (
+	"errors"
+	"flag"
 	"fmt"
-	"math"
-	"path/filepath"
+	"io"
+	"os"
 	"sort"
 	"strings"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/compiler/notation"
-	"github.com/formwright/formwright/runtime/compiled"
-	"github.com/formwright/formwright/runtime/mesh"
-	"github.com/formwright/formwright/runtime/plot"
-	"github.com/formwright/formwright/runtime/problem"
+	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/stdlib"
 )
 
-func syntaxOf(e ir.Expr) string { return notation.Expr(e, notation.Syntax, notation.Names{}) }
+// errHelp is returned by parseArgs after printing a command's help: exit
+// status 0.
+var errHelp = errors.New("help requested")
 
-// kernelPath looks the form up among the kernels compiled into the command
-// (by content hash, cell type and quadrature degree) and sets opts to use
-// them; otherwise the interpreted path is used. It returns which.
-func kernelPath(lf *ir.LoweredForm, m *mesh.Mesh, opts *problem.Options) string {
-	k, ok := compiled.Lookup(ir.FormHash(lf))
-	if !ok || k.Cell != m.Cell {
-		return "interpreted"
-	}
-	opts.Kernels = &problem.KernelSet{Cell: k.NewCell()}
-	if k.NewFacets != nil {
-		opts.Kernels.Facets = k.NewFacets()
-	}
-	return "compiled"
+// cmdFlags is the flag set of a command with its help text: synopsis is
+// what follows "formwright NAME" in the usage line, about what the command
+// does.
+type cmdFlags struct {
+	*flag.FlagSet
+	synopsis, about string
 }
 
-// exactOf returns the model's stated exact solution of unknown i, the
-// coefficient named exact_<unknown>, as a function of x (nil if none).
-func exactOf(m *compiler.Model, i int) func(x []float64) float64 {
-	cf := m.Coef("exact_" + m.Unknowns[i].Name)
-	if cf == nil || cf.Def.Rank() != 0 {
-		return nil
-	}
-	low := compiler.LowerExpr(m, cf.Sym)[0]
-	return func(x []float64) float64 { return ir.Eval(low, pointEnv(x)) }
+func newFlags(name, synopsis, about string) *cmdFlags {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	fs.Usage = func() {}
+	return &cmdFlags{fs, synopsis, about}
 }
 
-type pointEnv []float64
-
-func (p pointEnv) Coord(axis int) float64  { return p[axis] }
-func (p pointEnv) Time() float64           { return 0 }
-func (p pointEnv) CellQ(*ir.CellQ) float64 { return math.NaN() }
-func (p pointEnv) FieldD(*ir.FieldD) float64 {
-	return math.NaN()
+// printHelp writes a command's usage line, what it does, and every flag
+// with its meaning and default.
+func printHelp(w io.Writer, fs *cmdFlags) {
+	fmt.Fprintf(w, "usage: formwright %s %s\n\n%s\n", fs.Name(), fs.synopsis, fs.about)
+	n := 0
+	fs.VisitAll(func(*flag.Flag) { n++ })
+	if n == 0 {
+		return
+	}
+	fmt.Fprintln(w, "\nflags:")
+	fs.VisitAll(func(f *flag.Flag) {
+		name, usage := flag.UnquoteUsage(f)
+		fmt.Fprintf(w, "  --%s", f.Name)
+		if name != "" {
+			fmt.Fprintf(w, " %s", name)
+		}
+		fmt.Fprintf(w, "\n      %s", usage)
+		if f.DefValue != "" && f.DefValue != "0" && f.DefValue != "false" {
+			fmt.Fprintf(w, " (default %s)", f.DefValue)
+		}
+		fmt.Fprintln(w)
+	})
 }
 
-// exactError reports the largest nodal error against the model's stated
-// exact solution, if it states one.
-func exactError(m *compiler.Model, sol *problem.Solution) string {
-	ex := exactOf(m, 0)
-	if ex == nil {
-		return ""
-	}
-	coords := sol.Dofs.NodeCoords(0)
-	d := m.Dim
-	worst := 0.0
-	for n := 0; n < len(coords)/d; n++ {
-		worst = math.Max(worst, math.Abs(sol.Fields[0].Values[0][n]-ex(coords[n*d:(n+1)*d])))
-	}
-	return fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", m.Unknowns[0].Name, worst)
-}
-
-// plotSolutions draws the first field: in 1D one line per method (and the
-// model's exact solution, if it states one); in 2D a colour map with
-// contours per method (FILE.png, or FILE_<method>.png for several).
-func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, methods []compiler.Method) error {
-	msh := sols[0].Mesh
-	name := sols[0].Fields[0].Name
-	switch msh.Dim {
-	case 1:
-		var series []plot.Series
-		for k, sol := range sols {
-			coords := sol.Dofs.NodeCoords(0)
-			idx := make([]int, len(coords))
-			for i := range idx {
-				idx[i] = i
+// parseArgs parses flags that may come before or after the positional
+// arguments. --help prints the command's help to stdout and returns
+// errHelp; an unknown flag is a usage error that lists the valid ones.
+func parseArgs(fs *cmdFlags, args []string, stdout io.Writer) ([]string, error) {
+	var pos []string
+	for len(args) > 0 {
+		if err := fs.Parse(args); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				printHelp(stdout, fs)
+				return nil, errHelp
 			}
-			sort.Slice(idx, func(a, b int) bool { return coords[idx[a]] < coords[idx[b]] })
-			s := plot.Series{Name: methods[k].String()}
-			for _, i := range idx {
-				s.X = append(s.X, coords[i])
-				s.Y = append(s.Y, sol.Fields[0].Values[0][i])
+			var names []string
+			fs.VisitAll(func(f *flag.Flag) { names = append(names, "--"+f.Name) })
+			sort.Strings(names)
+			msg := strings.TrimPrefix(err.Error(), "flag provided but not defined: ")
+			if msg != err.Error() {
+				if len(names) == 0 {
+					return nil, usagef("%s takes no flags (got %s)", fs.Name(), msg)
+				}
+				return nil, usagef("%s has no flag %s; its flags are %s", fs.Name(), msg, strings.Join(names, ", "))
 			}
-			series = append(series, s)
+			return nil, usagef("%s: %v", fs.Name(), err)
 		}
-		opts := plot.LineOptions{Title: fmt.Sprintf("%s: %s", m.Name, name), YLabel: name, Legend: plot.TopLeft}
-		if ex := exactOf(m, 0); ex != nil {
-			opts.Exact = func(x float64) float64 { return ex([]float64{x}) }
+		args = fs.Args()
+		if len(args) > 0 {
+			pos = append(pos, args[0])
+			args = args[1:]
 		}
-		return plot.Line(path, series, opts)
-	case 2:
-		for k, sol := range sols {
-			p := path
-			if len(sols) > 1 {
-				ext := filepath.Ext(path)
-				p = strings.TrimSuffix(path, ext) + "_" + methods[k].String() + ext
-			}
-			if err := colourMap(p, sol, fmt.Sprintf("%s: %s, %s", m.Name, name, methods[k])); err != nil {
-				return err
-			}
-		}
-		return nil
 	}
-	return &usageError{"--plot draws 1D and 2D solutions only"}
+	return pos, nil
 }
 
-func colourMap(path string, sol *problem.Solution, title string) error {
-	msh := sol.Mesh
-	nv := msh.NumVertices()
-	tri := plot.Triangulation{X: make([]float64, nv), Y: make([]float64, nv)}
-	for v := 0; v < nv; v++ {
-		tri.X[v], tri.Y[v] = msh.Coords[2*v], msh.Coords[2*v+1]
+// loadModel reads and checks a model file or a standard model by name.
+func loadModel(arg string) (*compiler.Model, error) {
+	file, src, err := readModel(arg)
+	if err != nil {
+		return nil, err
 	}
-	if msh.Cell.NumVertices() == 3 {
-		for c := 0; c < msh.NumCells(); c++ {
-			cv := msh.Cells[3*c : 3*c+3]
-			tri.Triangles = append(tri.Triangles, [3]int{int(cv[0]), int(cv[1]), int(cv[2])})
-		}
-	} else {
-		var quads [][4]int
-		for c := 0; c < msh.NumCells(); c++ {
-			cv := msh.Cells[4*c : 4*c+4]
-			quads = append(quads, [4]int{int(cv[0]), int(cv[1]), int(cv[2]), int(cv[3])})
-		}
-		tri.Triangles = plot.SplitQuads(quads)
+	f, errs := lang.Parse(file, src)
+	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module, Partial: len(errs) > 0})
+	errs = append(errs, cerrs...)
+	if len(errs) > 0 {
+		errs.Sort()
+		return nil, &inputError{errs, m.Sources}
 	}
-	vals := append([]float64(nil), sol.Fields[0].Values[0][:nv]...)
-	return plot.ColourMap(path, tri, vals, plot.MapOptions{Title: title, ValueLabel: sol.Fields[0].Name})
+	return m, nil
+}
+
+func readModel(arg string) (string, []byte, error) {
+	if !strings.ContainsAny(arg, "/\\") && !strings.HasSuffix(arg, ".fw") {
+		if file, src, err := stdlib.Model(arg); err == nil {
+			return file, src, nil
+		}
+	}
+	src, err := os.ReadFile(arg)
+	if err != nil {
+		return "", nil, usagef("cannot read model: %v (standard models: %s)", err, strings.Join(stdlib.Models(), ", "))
+	}
+	return arg, src, nil
+}
+
+// methodsOf resolves a --method value against a model: "" gives the
+// model's own methods, and each method must be derivable (a stabilised
+// one needs a τ for every unknown).
+func methodsOf(m *compiler.Model, s string) ([]compiler.Method, error) {
+	methods, err := compiler.ParseMethods(s)
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	if methods == nil {
+		methods = m.DefaultMethods()
+	}
+	for _, meth := range methods {
+		if err := m.CheckMethod(meth); err != nil {
+			return nil, &usageError{err.Error()}
+		}
+	}
+	return methods, nil
+}
+
+// lowerModel derives and lowers one method of a model.
+func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
+	d, err := compiler.Derive(m, []compiler.Method{meth})
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	lf, err := d.Lower(meth)
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	return lf, nil
 }

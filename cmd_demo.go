@@ -10,8 +10,13 @@ import (
 // then solves it with each method on the built-in mesh with the pure-Go
 // solver. Nothing is written to disk.
 func cmdDemo(args []string, stdout, stderr io.Writer) error {
-	if len(args) > 0 {
-		return &usageError{"demo takes no arguments"}
+	fs := newFlags("demo", "", "Derive the standard advection–diffusion–reaction model adr with all methods,\nthen solve it with each on the built-in mesh. Writes no files.")
+	pos, err := parseArgs(fs, args, stdout)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("demo takes no arguments")
 	}
 	fmt.Fprintln(stdout, "formwright demo: the standard model adr (steady advection–diffusion–reaction)")
 	fmt.Fprintln(stdout, "\n== derive adr ==")

@@ -2,11 +2,7 @@ package main
 
 import (
 	"bytes"
-	"flag"
-	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/render"
@@ -15,20 +11,16 @@ import (
 
 // cmdDerive prints the derivation of a model's forms.
 func cmdDerive(args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("derive", flag.ContinueOnError)
+	fs := newFlags("derive", "MODEL [flags]", "Derive the adjoint, the split, the Galerkin form and the stabilised forms of\nMODEL and print each stage with the assumptions it used.")
 	method := fs.String("method", "", "methods to derive: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	format := fs.String("format", "text", "text, latex or json")
 	out := fs.String("o", "", "write to this file instead of standard output")
-	pos, err := parseArgs(fs, args)
+	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return err
 	}
 	if len(pos) != 1 {
-		return &usageError{"derive takes one model"}
-	}
-	methods, err := parseMethods(*method)
-	if err != nil {
-		return err
+		return usagef("derive takes one model")
 	}
 	var write func(io.Writer, *compiler.Derivation) error
 	switch *format {
@@ -39,19 +31,26 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 	case "json":
 		write = render.WriteJSON
 	default:
-		return &usageError{fmt.Sprintf("unknown format %q (use text, latex or json)", *format)}
+		return usagef("unknown format %q (use text, latex or json)", *format)
+	}
+	if _, err := compiler.ParseMethods(*method); err != nil {
+		return &usageError{err.Error()}
+	}
+	if *out != "" {
+		if err := output.CheckNotInput(*out, pos[0]); err != nil {
+			return usagef("refusing to overwrite the model file with its derivation: %v", err)
+		}
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
 		return err
 	}
-	if methods == nil && len(m.Methods) > 0 {
-		methods = m.Methods
+	methods, err := methodsOf(m, *method)
+	if err != nil {
+		return err
 	}
-	for _, meth := range methods {
-		if _, err := pickMethod(m, meth.String()); err != nil {
-			return err
-		}
+	if *method == "" && len(m.Methods) == 0 {
+		methods = nil
 	}
 	d, err := compiler.Derive(m, methods)
 	if err != nil {
@@ -65,22 +64,8 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 		_, err := stdout.Write(buf.Bytes())
 		return err
 	}
-	if abs, _ := filepath.Abs(*out); abs == mustAbs(pos[0]) {
-		return &usageError{"refusing to overwrite the model file with its derivation"}
-	}
 	return output.WriteFileAtomic(*out, func(w io.Writer) error {
 		_, err := w.Write(buf.Bytes())
 		return err
 	})
-}
-
-func mustAbs(p string) string {
-	a, err := filepath.Abs(p)
-	if err != nil {
-		return p
-	}
-	if _, err := os.Stat(a); err != nil {
-		return ""
-	}
-	return a
 }

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -14,7 +13,6 @@ import (
 	"github.com/formwright/formwright/compiler/gogen"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/output"
-	"github.com/formwright/formwright/runtime/problem"
 )
 
 // generatedHeader starts every file gen writes; gen overwrites only files
@@ -29,32 +27,32 @@ type genFile struct {
 
 // generate derives, lowers and generates the kernels of a model; args are
 // recorded in the file header.
-func generate(modelArg, dir, pkg, prefix string, methods []compiler.Method, cmdline string) (*genFile, error) {
+func generate(modelArg, dir, pkg, prefix, method, cmdline string) (*genFile, error) {
 	m, err := loadModel(modelArg)
 	if err != nil {
 		return nil, err
 	}
-	if len(methods) == 0 {
-		methods = m.Methods
-	}
-	if len(methods) == 0 {
-		methods = []compiler.Method{compiler.Galerkin}
+	methods, err := methodsOf(m, method)
+	if err != nil {
+		return nil, err
 	}
 	var forms []*ir.LoweredForm
 	for _, meth := range methods {
-		if _, err := pickMethod(m, meth.String()); err != nil {
-			return nil, err
-		}
 		lf, err := lowerModel(m, meth)
 		if err != nil {
 			return nil, err
 		}
-		if problem.IsTransient(lf) {
+		if lf.IsTransient() {
 			// The kernels of one backward Euler step, with Δt read from
 			// the kernel input: the form solve and verify step with.
-			if lf, err = problem.BackwardEuler(lf); err != nil {
-				return nil, &usageError{fmt.Sprintf("model %s is transient and Picard-iterated (previous(...)): solve steps it on the interpreted kernels, and gen generates no kernels for it", m.Name)}
+			sf, err := compiler.BackwardEuler(lf)
+			if err != nil {
+				return nil, &usageError{err.Error()}
 			}
+			if sf.Mass != nil {
+				return nil, usagef("model %s is transient and Picard-iterated (previous(...)): solve steps it on the interpreted kernels, and gen generates no kernels for it", m.Name)
+			}
+			lf = sf.Step
 		}
 		forms = append(forms, lf)
 	}
@@ -79,13 +77,13 @@ func generate(modelArg, dir, pkg, prefix string, methods []compiler.Method, cmdl
 // genFromArgs parses gen's arguments (args[0] == "gen") and generates,
 // without writing.
 func genFromArgs(args []string) (*genFile, error) {
-	f, _, err := genParse(args[1:])
+	f, _, err := genParse(args[1:], io.Discard)
 	return f, err
 }
 
 // cmdGen writes a Go package file with the model's element kernels.
 func cmdGen(args []string, stdout, stderr io.Writer) error {
-	f, modelArg, err := genParse(args)
+	f, modelArg, err := genParse(args, stdout)
 	if err != nil {
 		return err
 	}
@@ -105,24 +103,20 @@ func cmdGen(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-func genParse(args []string) (*genFile, string, error) {
-	fs := flag.NewFlagSet("gen", flag.ContinueOnError)
+func genParse(args []string, stdout io.Writer) (*genFile, string, error) {
+	fs := newFlags("gen", "MODEL [flags]", "Generate a Go package file with the element kernels of MODEL's methods. The\nkernels register themselves under the content hash of their form; a program\nthat imports the package solves with them.")
 	dir := fs.String("o", ".", "directory to write MODEL_kernels.go into")
 	pkg := fs.String("package", "", "package name (default: the directory's name)")
 	method := fs.String("method", "", "methods to generate: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	prefix := fs.String("prefix", "", "prefix for the exported names, so several models can share a package")
-	pos, err := parseArgs(fs, args)
+	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return nil, "", err
 	}
 	if len(pos) != 1 {
-		return nil, "", &usageError{"gen takes one model"}
-	}
-	methods, err := parseMethods(*method)
-	if err != nil {
-		return nil, "", err
+		return nil, "", usagef("gen takes one model")
 	}
 	cmdline := "gen " + strings.Join(args, " ")
-	f, err := generate(pos[0], *dir, *pkg, *prefix, methods, cmdline)
+	f, err := generate(pos[0], *dir, *pkg, *prefix, *method, cmdline)
 	return f, pos[0], err
 }

@@ -3,27 +3,25 @@ package main
 import (
 	"encoding/json"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"math"
 	"path/filepath"
-	"slices"
 	"strings"
 	"time"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/output"
+	"github.com/formwright/formwright/runtime/plot"
 	"github.com/formwright/formwright/runtime/problem"
 )
 
 // solveFlags are the options of solve (and of verify, which solves too).
 type solveFlags struct {
-	method  *string
 	mesh    *string
 	solver  *string
 	tol     *float64
@@ -33,78 +31,57 @@ type solveFlags struct {
 	workers *int
 	time    *float64
 	quiet   *bool
-	dt      *float64
-	steps   *int
-	until   *float64
 	relax   *float64
 }
 
-func addSolveFlags(fs *flag.FlagSet) *solveFlags {
+func addSolveFlags(fs *cmdFlags) *solveFlags {
 	return &solveFlags{
-		method:  fs.String("method", "", "galerkin, supg, gls or vms (default: the model's first stabilised method, else galerkin)"),
-		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a mesh file (default: by dimension and element)"),
+		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
 		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi or +ilu0 (e.g. gmres+ilu0)"),
-		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers (default 1e-10)"),
+		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
 		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
 		restart: fs.Int("restart", 0, "GMRES restart length (default 50)"),
 		shift:   fs.Float64("ilu-shift", 0, "factorise A + s·diag(A) in ILU(0) (shifted ILU; 0.1 stabilises it on advection-dominated problems)"),
 		workers: fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
-		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data"),
+		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data (the start time of a transient model)"),
 		quiet:   fs.Bool("quiet", false, "no progress on standard error"),
-		dt:      fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)"),
-		steps:   fs.Int("steps", 0, "number of time steps of a transient model"),
-		until:   fs.Float64("until", 0, "end time of a transient model (instead of --steps)"),
-		relax:   fs.Float64("relax", 0, "Picard under-relaxation ω in (0, 1): the next iterate is u_prev + ω(u − u_prev) (default: none)"),
+		relax:   fs.Float64("relax", 0, "Picard under-relaxation ω in (0, 1]: the next iterate is u_prev + ω(u − u_prev) (default: none)"),
 	}
 }
 
-// defaultMesh picks the built-in mesh for a model: the unit interval,
-// square or cube, cut into cells of the family the unknowns use.
-func defaultMesh(m *compiler.Model) string {
-	quad := m.Unknowns[0].Element.Family == ir.TensorProduct
-	switch m.Dim {
-	case 1:
-		return "interval:0,1:64"
-	case 2:
-		if quad {
-			return "rect:0,1,0,1:48x48:quad"
+// options turns the solve flags into problem options, checking each.
+func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
+	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, PicardRelax: *sf.relax}
+	if r := *sf.relax; !(r >= 0 && r <= 1) {
+		return opts, usagef("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)
+	}
+	if math.IsNaN(*sf.time) || math.IsInf(*sf.time, 0) {
+		return opts, usagef("--time %g: give a finite time", *sf.time)
+	}
+	if *sf.workers < 0 {
+		return opts, usagef("--workers %d: give a positive number (0: GOMAXPROCS)", *sf.workers)
+	}
+	so, err := parseSolver(sf, func(it int, r float64) {
+		if !*sf.quiet && it%25 == 0 {
+			fmt.Fprintf(stderr, "  iteration %d, relative residual %.3e\n", it, r)
 		}
-		return "rect:0,1,0,1:64x64:tri"
-	}
-	if quad {
-		return "box:0,1,0,1,0,1:10x10x10:hex"
-	}
-	return "box:0,1,0,1,0,1:10x10x10:tet"
+	})
+	opts.Solver = so
+	return opts, err
 }
 
-// pickMethod resolves --method against the model.
-func pickMethod(m *compiler.Model, s string) (compiler.Method, error) {
-	if s == "" {
-		for _, meth := range m.Methods {
-			if meth != compiler.Galerkin {
-				return meth, nil
-			}
-		}
-		return compiler.Galerkin, nil
-	}
-	meth, ok := compiler.MethodByName(s)
-	if !ok {
-		return 0, &usageError{fmt.Sprintf("unknown method %q (use galerkin, supg, gls or vms)", s)}
-	}
-	if meth != compiler.Galerkin {
-		for _, u := range m.Unknowns {
-			if m.Tau[u.Index] == nil {
-				return 0, &usageError{fmt.Sprintf("%s needs a tau for %s: add \"tau for %s = ...\" to the model", meth, u.Name, u.Name)}
-			}
-		}
-	}
-	return meth, nil
-}
-
-// parseSolver reads --solver.
+// parseSolver reads --solver and its tuning flags; nil means the automatic
+// choice of runtime/problem.
 func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options, error) {
-	if *sf.shift < 0 {
-		return nil, &usageError{"--ilu-shift must not be negative"}
+	switch s := *sf.shift; {
+	case !(s >= 0) || math.IsInf(s, 0):
+		return nil, usagef("--ilu-shift %g: give a finite shift ≥ 0", s)
+	case *sf.tol != 0 && !(*sf.tol > 0 && *sf.tol < 1):
+		return nil, usagef("--tol %g: the relative tolerance must be in (0, 1)", *sf.tol)
+	case *sf.maxIter < 0:
+		return nil, usagef("--max-iter %d: give a positive number", *sf.maxIter)
+	case *sf.restart < 0:
+		return nil, usagef("--restart %d: give a positive number", *sf.restart)
 	}
 	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 && *sf.restart == 0 && *sf.shift == 0 {
 		return nil, nil
@@ -123,11 +100,11 @@ func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options
 	meth, pre, _ := strings.Cut(name, "+")
 	var err error
 	if so.Method, err = linsolve.ParseMethod(meth); err != nil {
-		return nil, &usageError{fmt.Sprintf("--solver: %v", err)}
+		return nil, usagef("--solver: %v", err)
 	}
 	if pre != "" {
 		if so.Precond, err = linsolve.ParsePrecond(pre); err != nil {
-			return nil, &usageError{fmt.Sprintf("--solver: %v", err)}
+			return nil, usagef("--solver: %v", err)
 		}
 	} else if so.Method != linsolve.MethodDirect {
 		so.Precond = linsolve.PrecondILU0
@@ -135,147 +112,56 @@ func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options
 	return so, nil
 }
 
-// lowerModel derives and lowers one method of a model.
-func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
-	d, err := compiler.Derive(m, []compiler.Method{meth})
-	if err != nil {
-		return nil, &usageError{err.Error()}
-	}
-	lf, err := d.Lower(meth)
-	if err != nil {
-		return nil, &usageError{err.Error()}
-	}
-	return lf, nil
-}
-
-// solveTransient steps a transient model by backward Euler from t = --time
-// with the initial values of the coefficients initial_<unknown> (zero where
-// a model has none).
-func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, sf *solveFlags, opts problem.Options, stderr io.Writer) (*problem.Solution, error) {
-	dt := *sf.dt
-	if dt == 0 {
-		if c := m.Coef("step"); c != nil && c.Def.Rank() == 0 && !ir.HasField(c.Def) {
-			if v, ok := constValue(m, c); ok {
-				dt = v
-			}
-		}
-	}
-	if !(dt > 0) {
-		return nil, &usageError{fmt.Sprintf("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)}
-	}
-	steps := *sf.steps
-	if steps == 0 && *sf.until > *sf.time {
-		steps = int(math.Round((*sf.until - *sf.time) / dt))
-	}
-	if steps < 1 {
-		return nil, &usageError{fmt.Sprintf("model %s is transient: give --steps N or --until T", m.Name)}
-	}
-	var init []problem.Exact
-	for _, u := range m.Unknowns {
-		c := m.Coef("initial_" + u.Name)
-		if c == nil {
-			init = append(init, nil)
-			continue
-		}
-		if c.Def.Rank() != u.Rank {
-			return nil, &usageError{fmt.Sprintf("initial_%s must have the rank of %s", u.Name, u.Name)}
-		}
-		fn, err := problem.ExactFromExprs(m.Dim, compiler.LowerExpr(m, c.Sym))
-		if err != nil {
-			return nil, &usageError{fmt.Sprintf("initial_%s: %v", u.Name, err)}
-		}
-		init = append(init, fn)
-	}
-	observe := func(n int, t float64, _ *problem.Solution) {
-		if !*sf.quiet && (n%10 == 0 || n == steps) {
-			fmt.Fprintf(stderr, "  step %d of %d, t = %g\n", n, steps, t)
-		}
-	}
-	sol, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: *sf.time, Initial: init, Observe: observe})
-	if err != nil {
-		return nil, solveError(err)
-	}
-	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", steps, dt, *sf.time+float64(steps)*dt)
-	return sol, nil
-}
-
-// constValue evaluates a coefficient that depends on nothing.
-func constValue(m *compiler.Model, c *compiler.Coef) (float64, bool) {
-	low := compiler.LowerExpr(m, c.Sym)[0]
-	if ir.Contains(low, func(e ir.Expr) bool {
-		switch e.(type) {
-		case *ir.Coord, *ir.Time, *ir.CellQ, *ir.FieldD:
-			return true
-		}
-		return false
-	}) {
-		return 0, false
-	}
-	return ir.Eval(low, pointEnv{0, 0, 0}), true
-}
-
-// buildMesh reads --mesh (or the default) and checks it against the model.
+// buildMesh reads --mesh (or the default mesh of the model's dimension and
+// element family).
 func buildMesh(m *compiler.Model, spec string) (*mesh.Mesh, string, error) {
 	if spec == "" {
-		spec = defaultMesh(m)
+		spec = mesh.DefaultSpec(m.Dim, m.Unknowns[0].Element.Family == ir.TensorProduct)
 	}
 	msh, err := mesh.Load(spec)
 	if err != nil {
 		var se *mesh.SpecError
 		if errors.As(err, &se) {
-			return nil, spec, &usageError{"--mesh: " + se.Detail()}
+			return nil, spec, usagef("--mesh: %s", se.Detail())
 		}
-		return nil, spec, &usageError{"--mesh: " + err.Error()}
-	}
-	if msh.Dim != m.Dim {
-		return nil, spec, &usageError{fmt.Sprintf("--mesh: a %d-dimensional mesh for a %d-dimensional model", msh.Dim, m.Dim)}
-	}
-	for _, u := range m.Unknowns {
-		if m.Dim > 1 && (u.Element.Family == ir.Simplicial) != msh.Cell.IsSimplex() {
-			return nil, spec, &usageError{fmt.Sprintf("--mesh: unknown %s uses %v elements, which need %s cells, but the mesh has %v cells",
-				u.Name, u.Element, u.Element.CellNoun(m.Dim), msh.Cell)}
-		}
-	}
-	for _, side := range m.Sides {
-		if _, ok := msh.Boundaries[side]; !ok {
-			for _, bc := range m.BCs {
-				if slices.Contains(bc.Sides, side) {
-					return nil, spec, &usageError{fmt.Sprintf("--mesh: the model sets a condition on side %q, which the mesh does not have (it has %s)", side, strings.Join(msh.BoundaryNames(), ", "))}
-				}
-			}
-		}
+		return nil, spec, usagef("--mesh: %v", err)
 	}
 	return msh, spec, nil
 }
 
 // cmdSolve assembles and solves a model's discrete problem.
 func cmdSolve(args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("solve", flag.ContinueOnError)
+	fs := newFlags("solve", "MODEL [flags]", "Derive and lower MODEL with one method, assemble it on a mesh and solve it.\nThe summary says which kernels, solver and mesh were used.")
+	method := fs.String("method", "", "galerkin, supg, gls, vms, or all (default: the model's first stabilised method, else galerkin)")
 	sf := addSolveFlags(fs)
+	dt := fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)")
+	steps := fs.Int("steps", 0, "number of time steps of a transient model")
+	until := fs.Float64("until", 0, "end time of a transient model (instead of --steps)")
 	out := fs.String("out", "", "write the solution: FILE.vtu (VTK XML, binary appended), FILE.csv")
 	ascii := fs.Bool("vtu-ascii", false, "write .vtu in ASCII instead of binary appended")
 	asJSON := fs.Bool("json", false, "print the summary and nodal values as JSON")
 	plotPath := fs.String("plot", "", "draw the solution as a PNG (1D line plot, 2D colour map with contours)")
-	pos, err := parseArgs(fs, args)
+	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return err
 	}
 	if len(pos) != 1 {
-		return &usageError{"solve takes one model"}
+		return usagef("solve takes one model")
 	}
-	if r := *sf.relax; !(r >= 0 && r <= 1) {
-		return &usageError{fmt.Sprintf("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)}
+	opts, err := sf.options(stderr)
+	if err != nil {
+		return err
 	}
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
-			return &usageError{fmt.Sprintf("--out: unknown file type %q (use .vtu or .csv)", ext)}
+			return usagef("--out: unknown file type %q (use .vtu or .csv)", ext)
 		}
-		if err := output.CheckNotInput(*out, pos[0]); err != nil {
+		if err := output.CheckNotInput(*out, pos[0], *sf.mesh); err != nil {
 			return &usageError{err.Error()}
 		}
 	}
 	if *plotPath != "" {
-		if err := output.CheckNotInput(*plotPath, pos[0]); err != nil {
+		if err := output.CheckNotInput(*plotPath, pos[0], *sf.mesh); err != nil {
 			return &usageError{err.Error()}
 		}
 	}
@@ -284,34 +170,24 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	var methods []compiler.Method
-	if *sf.method == "all" {
-		methods = m.Methods
-		if len(methods) == 0 {
-			methods = []compiler.Method{compiler.Galerkin}
-		}
+	if *method == "all" {
+		methods = m.DefaultMethods()
 		if *out != "" || *asJSON {
-			return &usageError{"--method all cannot be combined with --out or --json: choose one method"}
+			return usagef("--method all cannot be combined with --out or --json: choose one method")
 		}
 	} else {
-		meth, err := pickMethod(m, *sf.method)
-		if err != nil {
-			return err
+		meth := m.DefaultMethod()
+		if *method != "" {
+			ms, err := compiler.ParseMethods(*method)
+			if err != nil || len(ms) != 1 {
+				return usagef("unknown method %q (use galerkin, supg, gls, vms or all)", *method)
+			}
+			meth = ms[0]
+		}
+		if err := m.CheckMethod(meth); err != nil {
+			return &usageError{err.Error()}
 		}
 		methods = []compiler.Method{meth}
-	}
-	for _, meth := range methods {
-		if _, err := pickMethod(m, meth.String()); err != nil {
-			return err
-		}
-	}
-	progress := func(it int, r float64) {
-		if !*sf.quiet && it%25 == 0 {
-			fmt.Fprintf(stderr, "  iteration %d, relative residual %.3e\n", it, r)
-		}
-	}
-	so, err := parseSolver(sf, progress)
-	if err != nil {
-		return err
 	}
 	msh, spec, err := buildMesh(m, *sf.mesh)
 	if err != nil {
@@ -323,24 +199,18 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
+		if err := problem.CheckMesh(lf, msh); err != nil {
+			return usagef("--mesh: %v", err)
+		}
 		start := time.Now()
-		opts := problem.Options{Time: *sf.time, Workers: *sf.workers, Solver: so, PicardRelax: *sf.relax}
 		var sol *problem.Solution
-		path := "interpreted"
-		if problem.IsTransient(lf) {
-			// Compiled kernels implement the stepped form.
-			if stepped, serr := problem.BackwardEuler(lf); serr == nil {
-				path = kernelPath(stepped, msh, &opts)
-			}
-			sol, err = solveTransient(m, lf, msh, sf, opts, stderr)
+		if lf.IsTransient() {
+			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time, *sf.quiet}, opts, stderr)
 		} else {
-			path = kernelPath(lf, msh, &opts)
-			if sol, err = problem.Solve(lf, msh, opts); err != nil {
-				err = solveError(err)
-			}
+			sol, err = problem.Solve(lf, msh, opts)
 		}
 		if err != nil {
-			return err
+			return solveError(err)
 		}
 		wall := time.Since(start)
 		if err := checkFinite(sol); err != nil {
@@ -353,12 +223,12 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 					return err
 				}
 			}
-			return writeSummaryJSON(stdout, m, meth, spec, path, sol, wall)
+			return writeSummaryJSON(stdout, m, meth, spec, sol, wall)
 		}
 		if k > 0 {
 			fmt.Fprintln(stdout)
 		}
-		writeSummaryText(stdout, m, meth, spec, path, sol, wall)
+		writeSummaryText(stdout, m, meth, spec, sol, wall)
 		if e := exactError(m, sol); e != "" {
 			fmt.Fprintln(stdout, e)
 		}
@@ -376,6 +246,66 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
+// transientRun is how solve steps a transient model: Δt, and the number
+// of steps or the end time, from the start time.
+type transientRun struct {
+	dt           float64
+	steps        int
+	until, start float64
+	quiet        bool
+}
+
+// solveTransient steps a transient model by backward Euler from the start
+// time, with the model's initial values (coefficients initial_<unknown>;
+// zero where a model has none).
+func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, stderr io.Writer) (*problem.Solution, error) {
+	dt := tr.dt
+	if dt == 0 {
+		dt, _ = m.StepValue()
+	}
+	if !(dt > 0) || math.IsInf(dt, 0) {
+		return nil, usagef("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)
+	}
+	steps := tr.steps
+	if steps == 0 && tr.until > tr.start {
+		steps = int(math.Round((tr.until - tr.start) / dt))
+	}
+	if steps < 1 {
+		return nil, usagef("model %s is transient: give --steps N or --until T", m.Name)
+	}
+	var init []problem.Exact
+	for i := range m.Unknowns {
+		comps, err := m.Initial(i)
+		if err != nil {
+			return nil, &usageError{err.Error()}
+		}
+		if comps == nil {
+			init = append(init, nil)
+			continue
+		}
+		fn, err := problem.ExactFromExprs(m.Dim, comps)
+		if err != nil {
+			return nil, usagef("initial_%s: %v", m.Unknowns[i].Name, err)
+		}
+		init = append(init, fn)
+	}
+	sf, err := compiler.BackwardEuler(lf)
+	if err != nil {
+		return nil, &usageError{err.Error()}
+	}
+	observe := func(n int, t float64, _ *problem.Solution) {
+		if !tr.quiet && (n%10 == 0 || n == steps) {
+			fmt.Fprintf(stderr, "  step %d of %d, t = %g\n", n, steps, t)
+		}
+	}
+	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: tr.start, Initial: init, Observe: observe})
+	if err != nil {
+		return nil, err
+	}
+	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", steps, dt, tr.start+float64(steps)*dt)
+	return sol, nil
+}
+
 // solveError sorts a runtime error into input errors (status 2) and
 // numerical failures (status 1).
 func solveError(err error) error {
@@ -385,14 +315,18 @@ func solveError(err error) error {
 	var sg *linsolve.SingularError
 	var pe *problem.PicardError
 	var tl *linsolve.TooLargeError
+	var me *problem.MeshError
+	var ue *usageError
 	switch {
+	case errors.As(err, &ue):
+		return err
 	case errors.As(err, &sg):
 		return fmt.Errorf("numerical failure, no result written: %w: the discrete problem has more than one solution. "+
 			"A field that the equations fix only up to a constant needs a mean condition (mean p = 0); "+
 			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
 	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
-	case errors.Is(err, problem.ErrNoSide):
+	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide):
 		return &usageError{err.Error()}
 	}
 	return fmt.Errorf("solve failed, no result written: %w", err)
@@ -407,7 +341,31 @@ func checkFinite(sol *problem.Solution) error {
 	return nil
 }
 
-func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) {
+func syntaxOf(e ir.Expr) string { return notation.Expr(e, notation.Syntax, notation.Names{}) }
+
+// exactError reports the largest nodal error against the model's stated
+// exact solution of its first unknown, if it states one.
+func exactError(m *compiler.Model, sol *problem.Solution) string {
+	comps := m.StatedExact(0)
+	if comps == nil || len(comps) != 1 {
+		return ""
+	}
+	ex, err := problem.ExactFromExprs(m.Dim, comps)
+	if err != nil {
+		return ""
+	}
+	coords := sol.Dofs.NodeCoords(0)
+	d := m.Dim
+	worst := 0.0
+	u, g := make([]float64, 1), make([]float64, d)
+	for n := 0; n < len(coords)/d; n++ {
+		ex(coords[n*d:(n+1)*d], 0, u, g)
+		worst = math.Max(worst, math.Abs(sol.Fields[0].Values[0][n]-u[0]))
+	}
+	return fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", m.Unknowns[0].Name, worst)
+}
+
+func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) {
 	s := sol.Summary
 	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
 	fmt.Fprintf(w, "method     %s\n", s.Method)
@@ -422,7 +380,7 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 			fmt.Fprintf(w, "tau        tau_%s = %s\n", u.Name, syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim)))
 		}
 	}
-	fmt.Fprintf(w, "kernels    %s\n", path)
+	fmt.Fprintf(w, "kernels    %s\n", s.KernelPath)
 	setups := ""
 	if s.Prepared > 1 {
 		setups = fmt.Sprintf(", %d set-ups", s.Prepared)
@@ -451,7 +409,7 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	fmt.Fprintf(w, ") on %d workers\n", s.Workers)
 	for _, r := range s.Ranges {
 		name := r.Field
-		if len(sol.Fields) > 0 && fieldComponents(sol, r.Field) > 1 {
+		if fieldComponents(sol, r.Field) > 1 {
 			name = fmt.Sprintf("%s[%d]", r.Field, r.Comp+1)
 		}
 		fmt.Fprintf(w, "range      %s in [%.6g, %.6g]\n", name, r.Min, r.Max)
@@ -500,10 +458,11 @@ type jsonField struct {
 	Values     [][]float64 `json:"values"` // values[comp][node]
 }
 
-func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec, path string, sol *problem.Solution, wall time.Duration) error {
+func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: path, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared, MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))
@@ -529,76 +488,8 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	return enc.Encode(out)
 }
 
-// gridOf builds the output grid on the nodes of the highest-degree field:
-// linear VTK cells for P1/Q1, quadratic ones (VTK_QUADRATIC_TRIANGLE,
-// VTK_BIQUADRATIC_QUAD, ...) for P2/Q2, so edge and interior nodes are
-// written too. Fields of lower degree are evaluated at those nodes with
-// their own basis (exact, since their space is contained in the higher
-// one's).
-func gridOf(sol *problem.Solution) *output.Grid {
-	dm := sol.Dofs
-	msh := sol.Mesh
-	d := msh.Dim
-	top := 0
-	for k, f := range dm.Fields {
-		if f.Element.Degree > dm.Fields[top].Element.Degree {
-			top = k
-		}
-	}
-	hi := dm.Fields[top].Element
-	coords := dm.NodeCoords(top)
-	np := len(coords) / d
-	g := &output.Grid{Points: make([]float64, 3*np)}
-	for n := 0; n < np; n++ {
-		copy(g.Points[3*n:3*n+d], coords[n*d:(n+1)*d])
-	}
-	order := cell.VTKOrder(msh.Cell, hi.Degree)
-	code := uint8(cell.VTKType(msh.Cell, hi.Degree))
-	for c := 0; c < msh.NumCells(); c++ {
-		nodes := dm.CellNodes(top, c)
-		for _, i := range order {
-			g.Connectivity = append(g.Connectivity, int64(nodes[i]))
-		}
-		g.Offsets = append(g.Offsets, int64(len(g.Connectivity)))
-		g.Types = append(g.Types, code)
-	}
-	ref := hi.RefNodes()
-	for k, f := range sol.Fields {
-		arr := output.Array{Name: f.Name, Components: f.Components}
-		if f.Components > 1 {
-			arr.Components = 3 // VTK vectors have three components
-		}
-		arr.Values = make([]float64, np*arr.Components)
-		lo := dm.Fields[k].Element
-		if lo == hi {
-			for n := 0; n < np; n++ {
-				for c := 0; c < f.Components; c++ {
-					arr.Values[n*arr.Components+c] = f.Values[c][n]
-				}
-			}
-		} else {
-			phi := make([]float64, lo.NumNodes())
-			for c := 0; c < msh.NumCells(); c++ {
-				hn, ln := dm.CellNodes(top, c), dm.CellNodes(k, c)
-				for a := 0; a < hi.NumNodes(); a++ {
-					lo.Eval(ref[a*d:(a+1)*d], phi)
-					for comp := 0; comp < f.Components; comp++ {
-						v := 0.0
-						for b, nb := range ln {
-							v += phi[b] * f.Values[comp][nb]
-						}
-						arr.Values[int(hn[a])*arr.Components+comp] = v
-					}
-				}
-			}
-		}
-		g.PointData = append(g.PointData, arr)
-	}
-	return g
-}
-
 func writeSolution(path string, sol *problem.Solution, ascii bool) error {
-	g := gridOf(sol)
+	g := sol.Grid()
 	if filepath.Ext(path) == ".csv" {
 		return output.WriteCSVFile(path, g, sol.Mesh.Dim)
 	}
@@ -607,4 +498,41 @@ func writeSolution(path string, sol *problem.Solution, ascii bool) error {
 		opts.Encoding = output.ASCII
 	}
 	return output.WriteVTUFile(path, g, opts)
+}
+
+// plotSolutions draws the first field: in 1D one line per method (and the
+// model's exact solution, if it states one); in 2D a colour map with
+// contours per method (FILE.png, or FILE_<method>.png for several).
+func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, methods []compiler.Method) error {
+	name := sols[0].Fields[0].Name
+	switch sols[0].Mesh.Dim {
+	case 1:
+		var series []plot.Series
+		for k, sol := range sols {
+			series = append(series, plot.NodeSeries(methods[k].String(), sol.Dofs.NodeCoords(0), sol.Fields[0].Values[0]))
+		}
+		opts := plot.LineOptions{Title: fmt.Sprintf("%s: %s", m.Name, name), YLabel: name, Legend: plot.TopLeft}
+		if comps := m.StatedExact(0); len(comps) == 1 {
+			if ex, err := problem.ExactFromExprs(1, comps); err == nil {
+				u, g := make([]float64, 1), make([]float64, 1)
+				opts.Exact = func(x float64) float64 { ex([]float64{x}, 0, u, g); return u[0] }
+			}
+		}
+		return plot.Line(path, series, opts)
+	case 2:
+		for k, sol := range sols {
+			p := path
+			if len(sols) > 1 {
+				ext := filepath.Ext(path)
+				p = strings.TrimSuffix(path, ext) + "_" + methods[k].String() + ext
+			}
+			nv := sol.Mesh.NumVertices()
+			title := fmt.Sprintf("%s: %s, %s", m.Name, name, methods[k])
+			if err := plot.ColourMap(p, plot.MeshTriangulation(sol.Mesh), sol.Fields[0].Values[0][:nv], plot.MapOptions{Title: title, ValueLabel: name}); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	return usagef("--plot draws 1D and 2D solutions only")
 }

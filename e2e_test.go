@@ -14,6 +14,7 @@ import (
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/problem"
+	"github.com/formwright/formwright/runtime/study"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -259,7 +260,7 @@ func TestVerifyPecletSweep(t *testing.T) {
 	if st != exitOK {
 		t.Fatalf("status %d: %s", st, errb.String())
 	}
-	var rep verifyReport
+	var rep study.Report
 	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -431,7 +432,7 @@ func TestVerifyStokesEqualOrder(t *testing.T) {
 	if st := run([]string{"verify", path, "--method", "supg,gls,vms", "--exact", exact, "--json", "--quiet"}, &out, &errb); st != exitOK {
 		t.Fatalf("stabilised: status %d\n%s%s", st, out.String(), errb.String())
 	}
-	var rep verifyReport
+	var rep study.Report
 	json.Unmarshal(out.Bytes(), &rep)
 	if len(rep.Methods) != 6 {
 		t.Fatalf("%d method×field tables, want 6", len(rep.Methods))
@@ -464,7 +465,7 @@ func TestVerifyStokesEqualOrder(t *testing.T) {
 func TestOutputGridQuadratic(t *testing.T) {
 	src := strings.Replace(strings.Replace(stokesCheck, "unknown vel: vector P1", "unknown vel: vector P2", 1), "stabilise galerkin, supg, gls, vms", "stabilise galerkin", 1)
 	sol := solveModel(t, src, compiler.Galerkin, "rect:0,1,0,1:4x4:tri")
-	g := gridOf(sol)
+	g := sol.Grid()
 	nv := sol.Mesh.NumVertices()
 	np := len(g.Points) / 3
 	if np != sol.Dofs.Fields[0].NumNodes || np <= nv {
@@ -525,7 +526,7 @@ at all: u = 0
 	if st != exitOK {
 		t.Fatalf("status %d\n%s%s", st, out.String(), errb.String())
 	}
-	var rep verifyReport
+	var rep study.Report
 	json.Unmarshal(out.Bytes(), &rep)
 	last := rep.Methods[0].Levels[len(rep.Methods[0].Levels)-1]
 	if math.Abs(last.OrderL2-2) > 0.1 || math.Abs(last.OrderH1-1) > 0.1 {
@@ -611,13 +612,13 @@ func TestVerifyTaylorHood(t *testing.T) {
 
 // verifyJSON runs verify with --json --quiet and the given arguments,
 // requires exit status 0 and returns the parsed report.
-func verifyJSON(t *testing.T, args ...string) verifyReport {
+func verifyJSON(t *testing.T, args ...string) study.Report {
 	t.Helper()
 	var out, errb bytes.Buffer
 	if st := run(append(append([]string{"verify"}, args...), "--json", "--quiet"), &out, &errb); st != exitOK {
 		t.Fatalf("verify %v: status %d\n%s%s", args, st, out.String(), errb.String())
 	}
-	var rep verifyReport
+	var rep study.Report
 	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
 		t.Fatalf("verify %v: %v", args, err)
 	}

@@ -10,6 +10,7 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/problem"
+	"github.com/formwright/formwright/runtime/study"
 )
 
 // exampleSolve runs one example model through solve's own steps and
@@ -28,15 +29,12 @@ func exampleSolve(t *testing.T, path string, meth compiler.Method, spec string, 
 	if err != nil {
 		t.Fatal(err)
 	}
-	opts := problem.Options{}
-	if compiled {
-		if kernelPath(lf, msh, &opts) != "compiled" {
-			t.Fatalf("%s %s: no compiled kernel (regenerate the example's kernels)", path, meth)
-		}
-	}
-	sol, err := problem.Solve(lf, msh, opts)
+	sol, err := problem.Solve(lf, msh, problem.Options{Interpreted: !compiled})
 	if err != nil {
 		t.Fatal(err)
+	}
+	if compiled && sol.Summary.KernelPath != "compiled" {
+		t.Fatalf("%s %s: no compiled kernel (regenerate the example's kernels)", path, meth)
 	}
 	return sol
 }
@@ -47,7 +45,7 @@ func exampleSolve(t *testing.T, path string, meth compiler.Method, spec string, 
 func TestExampleRiverOutfallLayer(t *testing.T) {
 	const path = "examples/river_outfall_layer/model.fw"
 	m, _ := loadModel(path)
-	exact := exactOf(m, 0)
+	exact := statedExact(t, m)
 	for _, meth := range compiler.AllMethods {
 		sol := exampleSolve(t, path, meth, "", false)
 		coords := sol.Dofs.NodeCoords(0)
@@ -139,7 +137,7 @@ func TestExampleEstuaryMixing(t *testing.T) {
 	if st := run([]string{"verify", path, "--method", "all", "--levels", "6", "--json", "--quiet"}, &out, &errb); st != exitOK {
 		t.Fatalf("verify: status %d\n%s", st, errb.String())
 	}
-	var rep verifyReport
+	var rep study.Report
 	json.Unmarshal(out.Bytes(), &rep)
 	for _, vm := range rep.Methods {
 		last := vm.Levels[len(vm.Levels)-1]
@@ -231,20 +229,19 @@ func TestCompiledTransientMatchesInterpreted(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		stepped, err := problem.BackwardEuler(lf)
+		sf, err := compiler.BackwardEuler(lf)
 		if err != nil {
 			t.Fatal(err)
 		}
 		for _, dt := range []float64{0.01, 0.037} {
-			var opts problem.Options
-			if kernelPath(stepped, msh, &opts) != "compiled" {
-				t.Fatalf("heat %s: no compiled kernel for the stepped form (go generate ./stdlib/kernels)", meth)
-			}
-			a, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: 10})
+			a, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Step: dt, Steps: 10})
 			if err != nil {
 				t.Fatal(err)
 			}
-			b, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: dt, Steps: 10})
+			if a.Summary.KernelPath != "compiled" {
+				t.Fatalf("heat %s: no compiled kernel for the stepped form (go generate ./stdlib/kernels)", meth)
+			}
+			b, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: problem.Options{Interpreted: true}, Step: dt, Steps: 10})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -290,3 +287,23 @@ func TestExampleSeepCellHydrostatic(t *testing.T) {
 		t.Errorf("Galerkin P1/P1: status %d, %q; want exit 1 naming the inf–sup condition", st, errb.String())
 	}
 }
+
+// statedExact is the model's exact solution of its first unknown (the
+// coefficient exact_<unknown>) as a function of x.
+func statedExact(t *testing.T, m *compiler.Model) func(x []float64) float64 {
+	t.Helper()
+	ex, err := problem.ExactFromExprs(m.Dim, m.StatedExact(0))
+	if err != nil {
+		t.Fatal(err)
+	}
+	u, g := make([]float64, 1), make([]float64, m.Dim)
+	return func(x []float64) float64 { ex(x, 0, u, g); return u[0] }
+}
+
+// pointEnv evaluates lowered expressions of the coordinates only.
+type pointEnv []float64
+
+func (p pointEnv) Coord(axis int) float64    { return p[axis] }
+func (p pointEnv) Time() float64             { return 0 }
+func (p pointEnv) CellQ(*ir.CellQ) float64   { return math.NaN() }
+func (p pointEnv) FieldD(*ir.FieldD) float64 { return math.NaN() }

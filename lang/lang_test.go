@@ -2,13 +2,13 @@ package lang
 
 import (
 	"github.com/formwright/formwright/lang/source"
+	"github.com/formwright/formwright/lang/source/expect"
 
 	"bytes"
 	"flag"
 	"fmt"
 	"os"
 	"path/filepath"
-	"regexp"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -410,33 +410,9 @@ func TestTankPositions(t *testing.T) {
 	}
 }
 
-// expectation is one `# ERROR "regexp"` comment of a bad file.
-type expectation struct {
-	line int
-	re   *regexp.Regexp
-}
-
-var errorComment = regexp.MustCompile(`#\s*ERROR\s+"(.*)"\s*$`)
-
-func readExpectations(t *testing.T, src []byte) []expectation {
-	var out []expectation
-	for i, line := range strings.Split(string(src), "\n") {
-		m := errorComment.FindStringSubmatch(line)
-		if m == nil {
-			continue
-		}
-		re, err := regexp.Compile(m[1])
-		if err != nil {
-			t.Fatalf("line %d: bad expectation: %v", i+1, err)
-		}
-		out = append(out, expectation{i + 1, re})
-	}
-	return out
-}
-
-// The bad files carry their expected errors inline, as Go's own test
-// directory does: every expected error must be reported on its line, and
-// no other error may appear.
+// The bad files carry their expected errors inline (package
+// lang/source/expect): every expected error must be reported at its line
+// and column, and no other error may appear.
 func TestBadFiles(t *testing.T) {
 	files, _ := filepath.Glob("testdata/bad/*.fw")
 	if len(files) == 0 {
@@ -448,34 +424,15 @@ func TestBadFiles(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			exps := readExpectations(t, src)
-			if len(exps) == 0 {
-				t.Fatal("no expectations")
+			want, err := expect.Parse(src)
+			if err != nil || len(want) == 0 {
+				t.Fatalf("expectations: %v (%d found)", err, len(want))
 			}
 			_, errs := Parse(path, src)
-			used := make([]bool, len(errs))
-			for _, x := range exps {
-				found := false
-				for i, e := range errs {
-					if e.Pos.Line == x.line && x.re.MatchString(e.Msg) {
-						found, used[i] = true, true
-						break
-					}
-				}
-				if !found {
-					var got []string
-					for _, e := range errs {
-						if e.Pos.Line == x.line {
-							got = append(got, e.Msg)
-						}
-					}
-					t.Errorf("%s:%d: missing error matching %q; got %q", path, x.line, x.re, got)
-				}
+			for _, d := range expect.Match(want, errs) {
+				t.Error(d)
 			}
-			for i, e := range errs {
-				if !used[i] {
-					t.Errorf("unexpected error %v", e)
-				}
+			for _, e := range errs {
 				if err := validPos(src, e.Pos); err != nil {
 					t.Errorf("error %v: %v", e, err)
 				}

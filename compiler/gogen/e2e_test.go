@@ -43,7 +43,6 @@ import (
 	"github.com/formwright/formwright/runtime/cell"
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/interp"
-	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/stdlib"
 %s)
 
@@ -124,8 +123,11 @@ func main() {
 		}
 		for _, fm := range d.Forms {
 			lf, err := d.Lower(fm.Method)
-			if err == nil && problem.IsTransient(lf) {
-				lf, err = problem.BackwardEuler(lf)
+			if err == nil && lf.IsTransient() {
+				var sf *ir.SteppedForm
+				if sf, err = compiler.BackwardEuler(lf); err == nil {
+					lf = sf.Step
+				}
 			}
 			if err != nil {
 				fmt.Println("FAIL", cs.file, err)

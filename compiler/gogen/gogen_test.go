@@ -230,7 +230,7 @@ func TestStructure(t *testing.T) {
 
 // A form the kernels cannot evaluate is an error, as for the interpreted
 // kernels: the time derivative of the trial function in stdlib heat before
-// time stepping lowers it away (problem.BackwardEuler, which gen and
+// time stepping lowers it away (compiler.BackwardEuler, which gen and
 // lowerAll apply) — runtime/interp refuses it too.
 func TestUnsupported(t *testing.T) {
 	f, src := stdModel(t, "heat")

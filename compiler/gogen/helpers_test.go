@@ -9,7 +9,6 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang"
-	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -32,9 +31,12 @@ func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 	var out []*ir.LoweredForm
 	for _, fm := range d.Forms {
 		lf, err := d.Lower(fm.Method)
-		if err == nil && problem.IsTransient(lf) {
+		if err == nil && lf.IsTransient() {
 			// The kernels of one backward Euler step, as gen writes them.
-			lf, err = problem.BackwardEuler(lf)
+			var sf *ir.SteppedForm
+			if sf, err = compiler.BackwardEuler(lf); err == nil {
+				lf = sf.Step
+			}
 		}
 		if err != nil {
 			t.Fatalf("%s: lower %v: %v", file, fm.Method, err)

@@ -302,3 +302,43 @@ func (lf *LoweredForm) QuadratureDegree() int {
 	}
 	return max(q, 1)
 }
+
+// IsTransient reports whether the form has time derivatives of the
+// unknown (it must be stepped in time before kernels can be built).
+func (lf *LoweredForm) IsTransient() bool {
+	for _, in := range lf.Integrals {
+		for _, t := range in.Bilinear {
+			if t.Trial != nil && t.Trial.DT > 0 {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// ReadsPrevious reports whether a coefficient of the form reads the
+// previous iterate of an unknown (a Picard-iterated form).
+func (lf *LoweredForm) ReadsPrevious() bool {
+	for _, in := range lf.Integrals {
+		for _, ts := range [][]Term{in.Bilinear, in.Linear} {
+			for _, t := range ts {
+				if HasRole(t.Coef, Previous) {
+					return true
+				}
+			}
+		}
+	}
+	return false
+}
+
+// SteppedForm is a transient form rewritten into the steady problem of
+// one implicit time step, with Δt the quantity TimeStep.
+//
+// When Mass is nil, Step is the whole step: its previous field is the old
+// time level uⁿ, fixed during the step. When Mass is not nil, the form is
+// also Picard-iterated, so previous(·) keeps meaning the iterate within
+// the step; the old level enters as the right-hand side Mass(u_prev) uⁿ,
+// assembled again at every iteration where Mass reads the iterate.
+type SteppedForm struct {
+	Step, Mass *LoweredForm
+}

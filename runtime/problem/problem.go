@@ -10,6 +10,8 @@ import (
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/assemble"
+	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/dof"
 	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/kernel"
@@ -27,9 +29,10 @@ type KernelSet struct {
 	Facets []kernel.FacetKernel
 }
 
-// Options control Solve. The zero value asks for the interpreted kernels,
-// their default quadrature, GOMAXPROCS workers, the automatic solver
-// choice and t = 0.
+// Options control Solve. The zero value asks for the compiled kernels of
+// the form where some are registered (runtime/compiled) and the
+// interpreted ones otherwise, the form's quadrature, GOMAXPROCS workers,
+// the automatic solver choice and t = 0.
 type Options struct {
 	// Time is the value of t in coefficients and boundary data.
 	Time float64
@@ -39,11 +42,17 @@ type Options struct {
 	// Workers for the element loop (<= 0: GOMAXPROCS) and the solver's
 	// matrix–vector products.
 	Workers int
-	// Degree is the quadrature degree of the interpreted kernels (0: the
-	// default of interp.DefaultDegree).
+	// Degree is the quadrature degree (0: the form's own,
+	// ir.LoweredForm.QuadratureDegree). Compiled kernels are used only
+	// when they integrate with this degree.
 	Degree int
-	// Kernels, if not nil, replaces the interpreted kernels.
+	// Kernels, if not nil, are the kernels to use; otherwise Solve looks
+	// the form up among the compiled kernels by its content hash
+	// (ir.FormHash) and falls back to the interpreted kernels.
 	Kernels *KernelSet
+	// Interpreted makes Solve use the interpreted kernels even where
+	// compiled ones are registered.
+	Interpreted bool
 	// Solver, if not nil, overrides the automatic choice (see Solve).
 	Solver *linsolve.Options
 	// Picard iteration for forms whose coefficients read a previous
@@ -163,21 +172,6 @@ func dofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Map, error) {
 	return dof.New(m.Cell, m.Coords, m.Cells, specs)
 }
 
-// formReadsPrevious reports whether any coefficient of the form reads the
-// previous iterate of an unknown.
-func formReadsPrevious(form *ir.LoweredForm) bool {
-	for _, in := range form.Integrals {
-		for _, ts := range [][]ir.Term{in.Bilinear, in.Linear} {
-			for _, t := range ts {
-				if ir.HasRole(t.Coef, ir.Previous) {
-					return true
-				}
-			}
-		}
-	}
-	return false
-}
-
 // previousUser is the optional capability of a kernel that says whether
 // it reads the previous iterate (interp.Kernel has it).
 type previousUser interface{ NeedsPrevious() bool }
@@ -202,6 +196,21 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 		return nil, err
 	}
 	return s.solve(opts)
+}
+
+// compiledKernels returns the generated kernels registered for the form
+// (runtime/compiled, by content hash) on cells c, or nil when there are
+// none for this cell type and quadrature degree (0: any).
+func compiledKernels(form *ir.LoweredForm, c cell.Type, degree int) *KernelSet {
+	k, ok := compiled.Lookup(ir.FormHash(form))
+	if !ok || k.Cell != c || (degree > 0 && k.Degree != degree) {
+		return nil
+	}
+	ks := &KernelSet{Cell: k.NewCell()}
+	if k.NewFacets != nil {
+		ks.Facets = k.NewFacets()
+	}
+	return ks
 }
 
 // system is the set-up of one form on one mesh that does not change
@@ -255,9 +264,13 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	phase("dofs")
 
 	s := &system{form: form, m: m, dm: dm}
-	if opts.Kernels != nil {
+	ks := opts.Kernels
+	if ks == nil && !opts.Interpreted {
+		ks = compiledKernels(form, m.Cell, opts.Degree)
+	}
+	if ks != nil {
 		sum.KernelPath = "compiled"
-		s.cellK, s.facetK = opts.Kernels.Cell, opts.Kernels.Facets
+		s.cellK, s.facetK = ks.Cell, ks.Facets
 	} else {
 		sum.KernelPath = "interpreted"
 		ik, err := interp.NewKernel(form, m.Cell, interp.Options{Degree: opts.Degree})
@@ -291,7 +304,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 
 	// Whether the form reads the previous iterate is a property of the
 	// form, whichever kernels implement it; a kernel may also say so.
-	s.needPrev = formReadsPrevious(form)
+	s.needPrev = form.ReadsPrevious()
 	if p, ok := s.cellK.(previousUser); ok && p.NeedsPrevious() {
 		s.needPrev = true
 	}
@@ -379,17 +392,8 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
 		in := assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}
-		if err := s.asm.Assemble(s.cellK, s.facetK, A, b, in); err != nil {
+		if err := s.assemble(in); err != nil {
 			return nil, err
-		}
-		if l := s.mass; l != nil {
-			if err := s.asm.Assemble(l.k, nil, l.M, l.b, in); err != nil {
-				return nil, err
-			}
-			l.M.MulVec(l.b, l.old)
-			for i, v := range l.b {
-				b[i] += v
-			}
 		}
 		Asys = A.Clone()
 		bsys = append(bsys[:0], b...)
@@ -460,6 +464,74 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	sum.Phases = append(sum.Phases, Phase{"output", time.Since(clock)})
 	sol.Summary = sum
 	return sol, nil
+}
+
+// assemble assembles the form into s.A and s.b, with the old time level
+// M uⁿ of a Picard-iterated time step added to the right-hand side.
+func (s *system) assemble(in assemble.Input) error {
+	if err := s.asm.Assemble(s.cellK, s.facetK, s.A, s.b, in); err != nil {
+		return err
+	}
+	if l := s.mass; l != nil {
+		if err := s.asm.Assemble(l.k, nil, l.M, l.b, in); err != nil {
+			return err
+		}
+		l.M.MulVec(l.b, l.old)
+		for i, v := range l.b {
+			s.b[i] += v
+		}
+	}
+	return nil
+}
+
+// Assembled is one assembly of a form on a mesh: the global matrix and
+// right-hand side as the kernels produce them, the value conditions
+// (Fixed, Values), and the system with those conditions imposed by row
+// elimination (assemble.Constrain), which is what Solve hands to the
+// linear solver. Rows and columns are dofs numbered by Dofs.
+type Assembled struct {
+	Dofs           *dof.Map
+	Matrix         *sparse.CSR
+	RHS            []float64
+	Fixed          []bool
+	Values         []float64
+	Constrained    *sparse.CSR
+	ConstrainedRHS []float64
+	// Kernels says which kernels assembled it: "compiled" or
+	// "interpreted".
+	Kernels string
+}
+
+// Assemble assembles the form on the mesh once, at opts.Time, with
+// opts.Initial as the previous iterate of a form that reads one (zero
+// otherwise), and imposes the value conditions. It is the first half of
+// Solve, for library users who want the discrete system itself.
+func Assemble(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Assembled, error) {
+	s, err := newSystem(form, m, opts)
+	if err != nil {
+		return nil, err
+	}
+	fixed, values, err := dirichlet(form, m, s.dm, opts.Time)
+	if err != nil {
+		return nil, err
+	}
+	in := assemble.Input{Time: opts.Time, Step: opts.Step}
+	if s.needPrev {
+		in.Previous = make([]float64, s.dm.NumDofs)
+		if opts.Initial != nil {
+			if len(opts.Initial) != s.dm.NumDofs {
+				return nil, fmt.Errorf("problem: initial iterate has %d values for %d dofs", len(opts.Initial), s.dm.NumDofs)
+			}
+			copy(in.Previous, opts.Initial)
+		}
+	}
+	if err := s.assemble(in); err != nil {
+		return nil, err
+	}
+	a := &Assembled{Dofs: s.dm, Matrix: s.A, RHS: s.b, Fixed: fixed, Values: values,
+		Constrained: s.A.Clone(), ConstrainedRHS: append([]float64(nil), s.b...), Kernels: s.setup.KernelPath}
+	assemble.Constrain(a.Constrained, a.ConstrainedRHS, fixed, values)
+	return a, nil
 }
 
 func chooseSolver(opts Options, symmetric bool, n int) linsolve.Options {

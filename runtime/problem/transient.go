@@ -3,7 +3,6 @@ package problem
 import (
 	"fmt"
 	"math"
-	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/dof"
@@ -12,58 +11,6 @@ import (
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/sparse"
 )
-
-// IsTransient reports whether a form has time derivatives of the unknown.
-func IsTransient(form *ir.LoweredForm) bool {
-	for _, in := range form.Integrals {
-		for _, t := range in.Bilinear {
-			if t.Trial.DT > 0 {
-				return true
-			}
-		}
-	}
-	return false
-}
-
-// BackwardEuler rewrites a form with first time derivatives of the unknown
-// into the steady form of one implicit (backward) Euler step: every term
-// c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv in the bilinear form and
-// c D^αuⁿ/Δt · D^βv in the linear form, where uⁿ, the solution of the
-// previous time level, is the form's previous field. Δt stays symbolic,
-// the cell quantity time_step that kernels read from their input
-// (assemble.Input.Step), so one stepped form, and one set of generated
-// kernels, serves every step size. The method is first order in time and
-// unconditionally stable for the heat equation (e.g. Hughes, The Finite
-// Element Method, 1987, §8.2). Forms that already read a previous iterate
-// (Picard) are stepped by SolveTransient with splitBackwardEuler instead.
-func BackwardEuler(form *ir.LoweredForm) (*ir.LoweredForm, error) {
-	if formReadsPrevious(form) {
-		return nil, fmt.Errorf("problem: the form is also Picard-iterated (previous(...)), so its time step has no single stepped form: SolveTransient steps it with a separate mass form on the interpreted kernels, and no kernels are generated for it")
-	}
-	out := *form
-	out.Integrals = nil
-	for _, in := range form.Integrals {
-		n := ir.Integral{Domain: in.Domain, Linear: append([]ir.Term(nil), in.Linear...)}
-		for _, t := range in.Bilinear {
-			if t.Trial.DT == 0 {
-				n.Bilinear = append(n.Bilinear, t)
-				continue
-			}
-			st, err := steppedTerm(t)
-			if err != nil {
-				return nil, err
-			}
-			n.Bilinear = append(n.Bilinear, st)
-			prevField := *t.Trial.Field
-			prevField.Role = ir.Previous
-			prev := *st.Trial
-			prev.Field = &prevField
-			n.Linear = append(n.Linear, ir.Term{Coef: ir.Prod(st.Coef.Pos(), st.Coef, &prev), Test: t.Test})
-		}
-		out.Integrals = append(out.Integrals, n)
-	}
-	return &out, nil
-}
 
 // TransientOptions control SolveTransient.
 type TransientOptions struct {
@@ -80,103 +27,39 @@ type TransientOptions struct {
 	Observe func(step int, t float64, s *Solution)
 }
 
-// SolveTransient integrates a form with time derivatives by backward Euler
-// steps (BackwardEuler): each step is one steady solve with the previous
-// time level held fixed and t the new time. The dof map, kernels and
-// matrix pattern are set up once; while the constrained matrix does not
-// change (no coefficient depends on t), its factorisation or
+// SolveTransient integrates a form stepped in time by backward Euler
+// (compiler.BackwardEuler): each step is one steady solve of sf.Step with
+// the previous time level held fixed and t the new time. The dof map,
+// kernels and matrix pattern are set up once; while the constrained matrix
+// does not change (no coefficient depends on t), its factorisation or
 // preconditioner is built once and reused, so a step costs an assembly
-// and a back-substitution. It returns the solution at the last step.
-func SolveTransient(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
+// and a back-substitution. A Picard-iterated form (sf.Mass not nil) is
+// iterated in every step from the old level uⁿ, with the right-hand side
+// F + M uⁿ/Δt. It returns the solution at the last step.
+func SolveTransient(sf *ir.SteppedForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
 	if opts.Steps < 1 {
 		return nil, fmt.Errorf("problem: %d time steps", opts.Steps)
 	}
 	if !(opts.Step > 0) || math.IsInf(opts.Step, 0) {
 		return nil, fmt.Errorf("problem: time step %g must be positive and finite", opts.Step)
 	}
-	if formReadsPrevious(form) {
-		return solveTransientPicard(form, m, opts)
-	}
-	step, err := BackwardEuler(form)
-	if err != nil {
-		return nil, err
-	}
-	dm, err := dofMap(form, m)
-	if err != nil {
-		return nil, err
-	}
-	x := initialValues(dm, opts)
 	so := opts.Options
-	so.PreviousFixed = true
 	so.Step = opts.Step
+	so.PreviousFixed = sf.Mass == nil
 	// One set-up for all steps; the linear solver is prepared again only
 	// when the constrained matrix changes (coefficients that depend on t).
-	sys, err := newSystem(step, m, so)
-	if err != nil {
-		return nil, err
-	}
-	return sys.march(so, x, opts)
-}
-
-// splitBackwardEuler rewrites a form whose coefficients read the previous
-// Picard iterate into one backward Euler step without touching that role:
-// the step form, where every c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv and
-// the linear form is unchanged, and the mass form M of the same
-// time-derivative terms, c D^αu/Δt · D^βv alone. The old time level enters
-// as the right-hand side M uⁿ, so previous(·) keeps meaning the Picard
-// iterate within the step; where c reads the iterate (τ and the SUPG test
-// function of a stabilised flow), M is assembled again at every iteration.
-// Time-derivative terms must be in cell integrals.
-func splitBackwardEuler(form *ir.LoweredForm) (step, mass *ir.LoweredForm, err error) {
-	s, mf := *form, *form
-	s.Integrals, mf.Integrals, mf.Dirichlet, mf.Means = nil, nil, nil, nil
-	var massTerms []ir.Term
-	for _, in := range form.Integrals {
-		n := ir.Integral{Domain: in.Domain, Linear: in.Linear}
-		for _, t := range in.Bilinear {
-			if t.Trial.DT == 0 {
-				n.Bilinear = append(n.Bilinear, t)
-				continue
-			}
-			if in.Domain.Side != "" {
-				return nil, nil, fmt.Errorf("problem: a time derivative in a boundary integral (side %q) cannot be stepped", in.Domain.Side)
-			}
-			st, err := steppedTerm(t)
-			if err != nil {
-				return nil, nil, err
-			}
-			n.Bilinear = append(n.Bilinear, st)
-			massTerms = append(massTerms, st)
-		}
-		s.Integrals = append(s.Integrals, n)
-	}
-	mf.Integrals = []ir.Integral{{Bilinear: massTerms}}
-	return &s, &mf, nil
-}
-
-// solveTransientPicard is SolveTransient for a form that is also
-// Picard-iterated (a convecting velocity lagged by previous(·), as in
-// transient Navier–Stokes): each backward Euler step is a Picard
-// iteration that starts from the old time level uⁿ, with the right-hand
-// side F + M uⁿ/Δt (splitBackwardEuler).
-func solveTransientPicard(form *ir.LoweredForm, m *mesh.Mesh, opts TransientOptions) (*Solution, error) {
-	step, mass, err := splitBackwardEuler(form)
-	if err != nil {
-		return nil, err
-	}
-	so := opts.Options
-	so.Step = opts.Step
-	so.PreviousFixed = false
-	sys, err := newSystem(step, m, so)
-	if err != nil {
-		return nil, err
-	}
-	mk, err := interp.NewKernel(mass, m.Cell, interp.Options{Degree: opts.Degree})
+	sys, err := newSystem(sf.Step, m, so)
 	if err != nil {
 		return nil, err
 	}
 	x := initialValues(sys.dm, opts)
-	sys.mass = &oldLevel{k: mk, M: sys.asm.NewMatrix(), b: make([]float64, sys.dm.NumDofs)}
+	if sf.Mass != nil {
+		mk, err := interp.NewKernel(sf.Mass, m.Cell, interp.Options{Degree: opts.Degree})
+		if err != nil {
+			return nil, err
+		}
+		sys.mass = &oldLevel{k: mk, M: sys.asm.NewMatrix(), b: make([]float64, sys.dm.NumDofs)}
+	}
 	return sys.march(so, x, opts)
 }
 
@@ -232,18 +115,4 @@ type oldLevel struct {
 	M   *sparse.CSR
 	b   []float64
 	old []float64
-}
-
-// steppedTerm is the backward Euler image of a first time-derivative term:
-// c ∂ₜD^αu · D^βv becomes c D^αu/Δt · D^βv, Δt the cell quantity
-// time_step.
-func steppedTerm(t ir.Term) (ir.Term, error) {
-	if t.Trial.DT > 1 {
-		return ir.Term{}, fmt.Errorf("problem: backward Euler handles first time derivatives, not ∂ₜ^%d", t.Trial.DT)
-	}
-	p := t.Coef.Pos()
-	invStep := &ir.Pow{At: ir.At{P: p}, Base: &ir.CellQ{At: ir.At{P: p}, Q: ir.TimeStep}, Exp: ir.NewNum(p, big.NewRat(-1, 1))}
-	trial := *t.Trial
-	trial.DT = 0
-	return ir.Term{Coef: ir.Prod(p, invStep, t.Coef), Trial: &trial, Test: t.Test}, nil
 }

@@ -53,8 +53,12 @@ func TestBackwardEulerHeatMode(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !problem.IsTransient(lf) {
+	if !lf.IsTransient() {
 		t.Fatal("the heat form is not recognised as transient")
+	}
+	sf, err := compiler.BackwardEuler(lf)
+	if err != nil {
+		t.Fatal(err)
 	}
 	init, err := problem.ExactFromExprs(2, compiler.LowerExpr(m, m.Coef("initial_u").Sym))
 	if err != nil {
@@ -69,7 +73,7 @@ func TestBackwardEulerHeatMode(t *testing.T) {
 	var errs []float64
 	for _, steps := range []int{5, 10, 20} {
 		dt := tEnd / float64(steps)
-		sol, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: dt, Steps: steps, Initial: []problem.Exact{init}})
+		sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Step: dt, Steps: steps, Initial: []problem.Exact{init}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -94,9 +98,11 @@ func TestBackwardEulerHeatMode(t *testing.T) {
 	}
 }
 
-// TestBackwardEulerRejectsPicard: a form that reads previous(...) cannot
-// also be time-stepped with the previous field as the old time level.
-func TestBackwardEulerRejectsPicard(t *testing.T) {
+// TestBackwardEulerSplitsPicard: a form that reads previous(...) cannot
+// also be time-stepped with the previous field as the old time level, so
+// its step comes with a mass form for the old level; a negative step is
+// refused.
+func TestBackwardEulerSplitsPicard(t *testing.T) {
 	src := `model mixed
 dimension 1
 unknown u: scalar P1
@@ -112,14 +118,18 @@ equation for u: dt(u) + previous(u)*partial(u, x) = 0
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := problem.BackwardEuler(lf); err == nil {
-		t.Error("no error for a Picard-iterated transient form")
+	sf, err := compiler.BackwardEuler(lf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sf.Mass == nil || sf.Step.IsTransient() {
+		t.Errorf("Picard-iterated transient form: mass form %v, step still transient %v", sf.Mass != nil, sf.Step.IsTransient())
 	}
 	msh, err := mesh.Load("interval:0,1:8")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: -1, Steps: 1}); err == nil {
+	if _, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Step: -1, Steps: 1}); err == nil {
 		t.Error("no error for a negative step")
 	}
 }
@@ -150,18 +160,19 @@ func TestTransientReusesFactorisation(t *testing.T) {
 			t.Fatal(err)
 		}
 		const dt, steps = 0.01, 4
+		sf, err := compiler.BackwardEuler(lf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		stepped := sf.Step
 		var got [][]float64
-		sol, err := problem.SolveTransient(lf, msh, problem.TransientOptions{Step: dt, Steps: steps, Initial: []problem.Exact{init},
+		sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Step: dt, Steps: steps, Initial: []problem.Exact{init},
 			Observe: func(n int, _ float64, s *problem.Solution) { got = append(got, append([]float64(nil), s.X...)) }})
 		if err != nil {
 			t.Fatal(err)
 		}
 		if sol.Summary.Prepared != tc.prepared {
 			t.Errorf("k = %s, f = %s: %d factorisations in %d steps, want %d", tc.k, tc.f, sol.Summary.Prepared, steps, tc.prepared)
-		}
-		stepped, err := problem.BackwardEuler(lf)
-		if err != nil {
-			t.Fatal(err)
 		}
 		x := make([]float64, len(sol.X))
 		coords := sol.Dofs.NodeCoords(0)

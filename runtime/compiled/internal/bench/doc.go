@@ -5,7 +5,7 @@
 // kernels of the same forms as the bar. TestRegenerate checks that the
 // generator still produces these files byte for byte; run
 //
-//	go test ./compiler/gogen/internal/bench -run TestRegenerate -update
+//	go test ./runtime/compiled/internal/bench -run TestRegenerate -update
 //
 // to rewrite them after a change of the generator.
 package bench

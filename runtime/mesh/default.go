@@ -1,0 +1,19 @@
+package mesh
+
+// DefaultSpec is the built-in mesh a model runs on when none is given: the
+// unit interval, square or cube, with 64 intervals, 64×64 triangles (48×48
+// quadrilaterals), or a 10×10×10 box of tetrahedra (hexahedra), the cells
+// of the family the model's elements need (tensorProduct for Q elements).
+func DefaultSpec(dim int, tensorProduct bool) string {
+	switch {
+	case dim == 1:
+		return "interval:0,1:64"
+	case dim == 2 && tensorProduct:
+		return "rect:0,1,0,1:48x48:quad"
+	case dim == 2:
+		return "rect:0,1,0,1:64x64:tri"
+	case tensorProduct:
+		return "box:0,1,0,1,0,1:10x10x10:hex"
+	}
+	return "box:0,1,0,1,0,1:10x10x10:tet"
+}
