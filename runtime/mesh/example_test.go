@@ -2,7 +2,6 @@ package mesh_test
 
 import (
 	"fmt"
-	"os"
 
 	"github.com/formwright/formwright/runtime/mesh"
 )
@@ -23,28 +22,6 @@ func ExampleLoad() {
 	// left [{1 1} {5 1}]
 	// right [{2 0} {6 0}]
 	// top [{5 0} {7 0}]
-}
-
-func ExampleWrite() {
-	if err := mesh.Write(os.Stdout, mesh.Interval(0, 1, 2, 1)); err != nil {
-		panic(err)
-	}
-	// Output:
-	// formwright-mesh 1
-	// dimension 1
-	// cell interval
-	// vertices 3
-	// 0
-	// 0.5
-	// 1
-	// cells 2
-	// 0 1
-	// 1 2
-	// boundary left 1
-	// 0
-	// boundary right 1
-	// 2
-	// end
 }
 
 func ExampleParseSpec() {

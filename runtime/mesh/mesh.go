@@ -39,6 +39,10 @@ type Mesh struct {
 	// Boundaries maps a name to its facets, sorted by (Cell, Facet) without
 	// repeats. "all" is the whole boundary.
 	Boundaries map[string][]FacetRef
+	// Regions holds a region number (>= 0) per cell, as read from a mesh
+	// file (see the package doc); nil when every cell is in region 0, as
+	// for generated meshes. Refine gives children their parent's number.
+	Regions []int32
 }
 
 // NumVertices is the number of vertices.
