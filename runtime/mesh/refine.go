@@ -17,8 +17,9 @@ import (
 // children of a boundary facet inherit its boundary parts, so every part,
 // "all" included, covers the same set as before. Children are positively
 // oriented when their parent is.
-func Refine(m *Mesh) *Mesh {
-	rule := &refineRules[m.Cell]
+func Refine(m *Mesh) *Mesh { return refine(m, &refineRules[m.Cell]) }
+
+func refine(m *Mesh, rule *refineRule) *Mesh {
 	nvc := m.Cell.NumVertices()
 	nc := m.NumCells()
 	d := m.Dim
@@ -154,14 +155,7 @@ func init() {
 		nodes:    edgeSupports(cell.Triangle),
 		children: [][]int{{0, 5, 4}, {5, 1, 3}, {4, 3, 2}, {3, 4, 5}},
 	}
-	// Tetrahedron edges: 4=01 5=02 6=03 7=12 8=13 9=23.
-	refineRules[cell.Tetrahedron] = refineRule{
-		nodes: edgeSupports(cell.Tetrahedron),
-		children: [][]int{
-			{0, 4, 5, 6}, {4, 1, 7, 8}, {5, 7, 2, 9}, {6, 8, 9, 3},
-			{4, 5, 6, 8}, {4, 5, 7, 8}, {5, 6, 8, 9}, {5, 7, 8, 9},
-		},
-	}
+	refineRules[cell.Tetrahedron] = beyRule(tetFlip)
 	for _, c := range []cell.Type{cell.Quadrilateral, cell.Hexahedron} {
 		nodes := edgeSupports(c)
 		if c == cell.Hexahedron {
@@ -174,22 +168,46 @@ func init() {
 		refineRules[c] = refineRule{nodes: append(nodes, all), children: tensorChildren(c, append(nodes, all))}
 	}
 	for _, c := range cell.All {
-		r := &refineRules[c]
-		pos := nodePositions(c, r.nodes)
-		for k, ch := range r.children {
-			if det := childDet(c, pos, ch); det < 0 && c == cell.Tetrahedron {
-				var fl [4]int
-				for i, j := range tetFlip {
-					fl[i] = ch[j]
-				}
-				r.children[k] = fl[:]
-			}
-			if det := childDet(c, pos, r.children[k]); !(det > 0) {
-				panic(fmt.Sprintf("mesh: internal error: child %d of the %v refinement has det %v", k, c, det))
-			}
+		if c != cell.Tetrahedron {
+			finishRule(c, &refineRules[c])
 		}
-		r.facetChildren = deriveFacetChildren(c, r)
 	}
+}
+
+// beyRule is Bey's regular refinement with mirrored children reordered by
+// flip. Tetrahedron edges: 4=01 5=02 6=03 7=12 8=13 9=23.
+func beyRule(flip [4]int) refineRule {
+	r := refineRule{
+		nodes: edgeSupports(cell.Tetrahedron),
+		children: [][]int{
+			{0, 4, 5, 6}, {4, 1, 7, 8}, {5, 7, 2, 9}, {6, 8, 9, 3},
+			{4, 5, 6, 8}, {4, 5, 7, 8}, {5, 6, 8, 9}, {5, 7, 8, 9},
+		},
+	}
+	pos := nodePositions(cell.Tetrahedron, r.nodes)
+	for k, ch := range r.children {
+		if childDet(cell.Tetrahedron, pos, ch) < 0 {
+			fl := make([]int, 4)
+			for i, j := range flip {
+				fl[i] = ch[j]
+			}
+			r.children[k] = fl
+		}
+	}
+	finishRule(cell.Tetrahedron, &r)
+	return r
+}
+
+// finishRule checks that every child is positively oriented and derives
+// the facet children.
+func finishRule(c cell.Type, r *refineRule) {
+	pos := nodePositions(c, r.nodes)
+	for k, ch := range r.children {
+		if det := childDet(c, pos, ch); !(det > 0) {
+			panic(fmt.Sprintf("mesh: internal error: child %d of the %v refinement has det %v", k, c, det))
+		}
+	}
+	r.facetChildren = deriveFacetChildren(c, r)
 }
 
 // edgeSupports lists the edges of c as supports.
