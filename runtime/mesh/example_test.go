@@ -2,6 +2,7 @@ package mesh_test
 
 import (
 	"fmt"
+	"os"
 
 	"github.com/formwright/formwright/runtime/mesh"
 )
@@ -31,4 +32,66 @@ func ExampleParseSpec() {
 	// col 6: want 4 comma-separated bounds, got 3
 	// 	rect:0,1,0:4x4
 	// 	     ^
+}
+
+func ExampleWriteVTU() {
+	m := mesh.Interval(0, 1, 2, 1)
+	if err := mesh.WriteVTU(os.Stdout, m, mesh.ASCII); err != nil {
+		panic(err)
+	}
+	// Output:
+	// <?xml version="1.0"?>
+	// <VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="UInt64">
+	//   <UnstructuredGrid>
+	//     <FieldData>
+	//       <DataArray type="Int32" Name="formwright_part_ids" NumberOfTuples="2" format="ascii">
+	//         1 2
+	//       </DataArray>
+	//       <Array type="String" Name="formwright_part_names" NumberOfTuples="2" format="ascii">
+	//         108 101 102 116 0 114 105 103 104 116
+	//         0
+	//       </Array>
+	//     </FieldData>
+	//     <Piece NumberOfPoints="3" NumberOfCells="4">
+	//       <CellData>
+	//         <DataArray type="Int32" Name="formwright_part" format="ascii">
+	//           0 0 1 2
+	//         </DataArray>
+	//       </CellData>
+	//       <Points>
+	//         <DataArray type="Float64" NumberOfComponents="3" format="ascii">
+	//           0 0 0
+	//           0.5 0 0
+	//           1 0 0
+	//         </DataArray>
+	//       </Points>
+	//       <Cells>
+	//         <DataArray type="Int64" Name="connectivity" format="ascii">
+	//           0 1
+	//           1 2
+	//           0
+	//           2
+	//         </DataArray>
+	//         <DataArray type="Int64" Name="offsets" format="ascii">
+	//           2 4 5 6
+	//         </DataArray>
+	//         <DataArray type="UInt8" Name="types" format="ascii">
+	//           3 3 1 1
+	//         </DataArray>
+	//       </Cells>
+	//     </Piece>
+	//   </UnstructuredGrid>
+	// </VTKFile>
+}
+
+func ExampleRefine() {
+	m := mesh.Rectangle(0, 1, 0, 1, 1, 1, mesh.DiagonalUp)
+	for range 2 {
+		m = mesh.Refine(m)
+	}
+	fmt.Println(m.NumCells(), "cells", m.NumVertices(), "vertices", len(m.Boundaries[mesh.Bottom]), "facets at the bottom")
+	fmt.Printf("area %.15g\n", m.Measure())
+	// Output:
+	// 32 cells 25 vertices 4 facets at the bottom
+	// area 1
 }

@@ -48,6 +48,8 @@ func sampleMeshes() map[string]*Mesh {
 		"tetrahedron":    Box(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Kuhn),
 		"hexahedron":     Box(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Hexes),
 		"refined-square": Refine(Rectangle(0, 1, 0, 1, 1, 1, DiagonalUp)),
+		"lshape":         lShape(DiagonalUp),
+		"hole":           squareWithHole(Quads),
 	}
 	q := ms["quadrilateral"]
 	q.Boundaries["inlet-2"] = slices.Clone(q.Boundaries[Left][:1])
@@ -360,5 +362,34 @@ func TestReadErrors(t *testing.T) {
 	}
 	if _, err := Load(filepath.Join(t.TempDir(), "missing.vtu")); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("missing file: %v", err)
+	}
+}
+
+// The example file in the package doc reads to the mesh it describes.
+func TestDocExample(t *testing.T) {
+	src, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var xml []string
+	in := false
+	for _, l := range strings.Split(string(src), "\n") {
+		l, ok := strings.CutPrefix(l, "//\t")
+		in = in || ok && strings.HasPrefix(l, "<?xml")
+		if in {
+			xml = append(xml, l)
+		}
+		if in && l == "</VTKFile>" {
+			break
+		}
+	}
+	m, err := readString(strings.Join(xml, "\n"))
+	if err != nil {
+		t.Fatalf("%v\n%s", err, strings.Join(xml, "\n"))
+	}
+	want := &Mesh{Dim: 2, Cell: cell.Triangle, Coords: []float64{0, 0, 1, 0, 1, 1, 0, 1}, Cells: []int32{0, 1, 2, 0, 2, 3},
+		Boundaries: map[string][]FacetRef{"bottom": {{0, 2}}, All: {{0, 0}, {0, 2}, {1, 0}, {1, 1}}}}
+	if d := meshDiff(want, m); d != "" {
+		t.Error(d)
 	}
 }

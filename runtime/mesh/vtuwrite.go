@@ -123,7 +123,13 @@ func WriteVTU(w io.Writer, m *Mesh, enc Encoding) error {
 				}
 				return 0
 			}},
-		&outArray{section: "Cells", elem: "DataArray", typ: "Int64", name: "connectivity", n: nc*nvc + len(facets)*nfv, perLine: nvc,
+		&outArray{section: "Cells", elem: "DataArray", typ: "Int64", name: "connectivity", n: nc*nvc + len(facets)*nfv,
+			lineEnd: func(i int) bool { // one cell per line
+				if i < nc*nvc {
+					return i%nvc == nvc-1
+				}
+				return (i-nc*nvc)%nfv == nfv-1
+			},
 			ival: func(i int) int64 {
 				if i < nc*nvc {
 					return int64(m.Cells[i])
@@ -219,7 +225,8 @@ func cellVTKType(c cell.Type) int { return cell.VTKType(c, 1) }
 type outArray struct {
 	section, elem, typ, name string
 	comps, tuples, n         int
-	perLine                  int // values per text line (default 10)
+	perLine                  int              // values per text line (default 10)
+	lineEnd                  func(i int) bool // if set, replaces perLine: a line ends after value i
 	ival                     func(i int) int64
 	fval                     func(i int) float64
 }
@@ -240,8 +247,13 @@ func (a *outArray) writeText(bw *bufio.Writer, indent string) {
 		per = 10
 	}
 	buf := make([]byte, 0, 256)
+	lineEnd := a.lineEnd
+	if lineEnd == nil {
+		lineEnd = func(i int) bool { return i%per == per-1 }
+	}
+	start := true
 	for i := 0; i < a.n; i++ {
-		if i%per == 0 {
+		if start {
 			buf = append(buf, indent...)
 		} else {
 			buf = append(buf, ' ')
@@ -251,7 +263,7 @@ func (a *outArray) writeText(bw *bufio.Writer, indent string) {
 		} else {
 			buf = strconv.AppendInt(buf, a.ival(i), 10)
 		}
-		if i%per == per-1 || i == a.n-1 {
+		if start = lineEnd(i) || i == a.n-1; start {
 			buf = append(buf, '\n')
 			bw.Write(buf)
 			buf = buf[:0]
