@@ -34,6 +34,8 @@ func ExampleParseSpec() {
 	// 	     ^
 }
 
+// The interval [0,1] in two cells, its end points written as facet cells
+// (VTK_VERTEX, type 1) of the parts left (1) and right (2).
 func ExampleWriteVTU() {
 	m := mesh.Interval(0, 1, 2, 1)
 	if err := mesh.WriteVTU(os.Stdout, m, mesh.ASCII); err != nil {
@@ -84,6 +86,7 @@ func ExampleWriteVTU() {
 	// </VTKFile>
 }
 
+// Two uniform refinements of the unit square in two triangles.
 func ExampleRefine() {
 	m := mesh.Rectangle(0, 1, 0, 1, 1, 1, mesh.DiagonalUp)
 	for range 2 {

@@ -163,13 +163,37 @@ func (in *input) textByte() (b byte, ok bool, err error) {
 	return b, true, nil
 }
 
+// textChunk returns the buffered element text up to the next '<' (or
+// the end of the buffer), without consuming it: the caller processes it,
+// counting newlines, and calls in.br.Discard(len). It returns an empty
+// chunk at '<' or at the end of input.
+func (in *input) textChunk() ([]byte, error) {
+	if in.br.Buffered() == 0 {
+		if _, err := in.br.Peek(1); err == io.EOF {
+			return nil, nil
+		} else if err != nil {
+			return nil, err
+		}
+	}
+	b, _ := in.br.Peek(in.br.Buffered())
+	if i := bytes.IndexByte(b, '<'); i >= 0 {
+		b = b[:i]
+	}
+	if bytes.IndexByte(b, '&') >= 0 {
+		return nil, dataErrorf("entity or character reference in array data")
+	}
+	return b, nil
+}
+
 // skipText discards element text up to the next '<'.
 func (in *input) skipText() error {
 	for {
-		_, ok, err := in.textByte()
-		if err != nil || !ok {
+		b, err := in.textChunk()
+		if err != nil || len(b) == 0 {
 			return err
 		}
+		in.lines += bytes.Count(b, []byte{'\n'})
+		in.br.Discard(len(b))
 	}
 }
 
@@ -189,18 +213,21 @@ type rawSource struct {
 func (s *rawSource) readFull(p []byte) error {
 	n, err := io.ReadFull(s.br, p)
 	s.pos += int64(n)
-	if err != nil {
+	if err == io.EOF || err == io.ErrUnexpectedEOF {
 		return dataErrorf("appended data ends early (%d bytes after '_')", s.pos)
 	}
-	return nil
+	return err
 }
 
 // skip discards n bytes.
 func (s *rawSource) skip(n int64) error {
 	m, err := s.br.Discard(int(min(n, math.MaxInt32)))
 	s.pos += int64(m)
-	if err != nil {
+	if err == io.EOF {
 		return dataErrorf("appended data ends early (%d bytes after '_')", s.pos)
+	}
+	if err != nil {
+		return err
 	}
 	if int64(m) < n {
 		return s.skip(n - int64(m))
@@ -589,26 +616,32 @@ func asciiValues(in *input, t vtkType, limit int64, ints *[]int64, floats *[]flo
 		return nil
 	}
 	for {
-		b, ok, err := in.textByte()
+		chunk, err := in.textChunk()
 		if err != nil {
 			return err
 		}
-		if !ok {
+		if len(chunk) == 0 {
 			return flush()
 		}
-		if isSpace(b) {
-			if err := flush(); err != nil {
-				return err
+		for _, b := range chunk {
+			if isSpace(b) {
+				if err := flush(); err != nil {
+					return err
+				}
+				if b == '\n' {
+					in.lines++
+				}
+				continue
 			}
-			continue
+			if n == maxToken {
+				return fail("value %d: number longer than %d characters", count, maxToken)
+			}
+			if n == 0 {
+				tokLines = in.lines
+			}
+			tok[n] = b
+			n++
 		}
-		if n == maxToken {
-			return fail("value %d: number longer than %d characters", count, maxToken)
-		}
-		if n == 0 {
-			tokLines = in.lines
-		}
-		tok[n] = b
-		n++
+		in.br.Discard(len(chunk))
 	}
 }

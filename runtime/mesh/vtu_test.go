@@ -393,3 +393,49 @@ func TestDocExample(t *testing.T) {
 		t.Error(d)
 	}
 }
+
+var vtuSink []byte
+
+func benchmarkWriteVTU(b *testing.B, m *Mesh, enc Encoding) {
+	var buf bytes.Buffer
+	for b.Loop() {
+		buf.Reset()
+		if err := WriteVTU(&buf, m, enc); err != nil {
+			b.Fatal(err)
+		}
+	}
+	vtuSink = buf.Bytes()
+	b.SetBytes(int64(buf.Len()))
+}
+
+func benchmarkReadVTU(b *testing.B, m *Mesh, enc Encoding) {
+	var buf bytes.Buffer
+	if err := WriteVTU(&buf, m, enc); err != nil {
+		b.Fatal(err)
+	}
+	b.SetBytes(int64(buf.Len()))
+	for b.Loop() {
+		r, err := ReadVTU(bytes.NewReader(buf.Bytes()), ReadOptions{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		meshSink = r
+	}
+}
+
+// 2·256² = 131072 triangles; 6·32³ = 196608 tetrahedra.
+func BenchmarkWriteVTUTriangles256Binary(b *testing.B) {
+	benchmarkWriteVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
+}
+func BenchmarkWriteVTUTriangles256ASCII(b *testing.B) {
+	benchmarkWriteVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
+}
+func BenchmarkReadVTUTriangles256Binary(b *testing.B) {
+	benchmarkReadVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
+}
+func BenchmarkReadVTUTriangles256ASCII(b *testing.B) {
+	benchmarkReadVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
+}
+func BenchmarkReadVTUTetrahedra32Binary(b *testing.B) {
+	benchmarkReadVTU(b, Box(0, 1, 0, 1, 0, 1, 32, 32, 32, Kuhn), Binary)
+}

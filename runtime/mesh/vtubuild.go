@@ -171,7 +171,7 @@ func (r *vtuReader) build() (*Mesh, error) {
 	}
 
 	// Facet cells.
-	idx := m.facetIndex()
+	table := m.facetTable()
 	type tagged struct {
 		ref  FacetRef
 		file int
@@ -194,13 +194,13 @@ func (r *vtuReader) build() (*Mesh, error) {
 			}
 		}
 		slices.Sort(k[:n])
-		refs := idx[k]
+		refs := facetsWithKey(table, k)
 		switch len(refs) {
 		case 0:
 			return nil, r.cellErr(c, "facet cell not on the boundary: it is no facet of a %v", shape)
 		case 1:
 		default:
-			return nil, r.cellErr(c, "facet cell not on the boundary: it is the facet between cells %d and %d", topFile[refs[0].Cell], topFile[refs[1].Cell])
+			return nil, r.cellErr(c, "facet cell not on the boundary: it is the facet between cells %d and %d", topFile[refs[0].ref.Cell], topFile[refs[1].ref.Cell])
 		}
 		id := int64(0)
 		if part != nil {
@@ -210,7 +210,7 @@ func (r *vtuReader) build() (*Mesh, error) {
 			return nil, r.cellErr(c, "boundary part number %d in %s: want 0 (none) or more", id, PartArray)
 		}
 		if id > 0 {
-			byPart[id] = append(byPart[id], tagged{refs[0], c})
+			byPart[id] = append(byPart[id], tagged{refs[0].ref, c})
 		}
 	}
 
@@ -272,7 +272,7 @@ func (r *vtuReader) build() (*Mesh, error) {
 		}
 		m.Boundaries[name] = refs
 	}
-	m.Boundaries[All] = m.TopologicalBoundary()
+	m.Boundaries[All] = boundaryOf(table)
 	return m, nil
 }
 
