@@ -150,7 +150,6 @@ type array struct {
 	ints   []int64
 	floats []float64
 	strs   []string
-	done   bool
 }
 
 type vtuReader struct {
@@ -299,7 +298,8 @@ func (r *vtuReader) parse() error {
 	if r.pieces == 0 {
 		return r.errf("no <UnstructuredGrid> with a <Piece>")
 	}
-	for _, a := range r.pending {
+	if len(r.pending) > 0 {
+		a := r.pending[0]
 		return r.errAt(a.line, "array %s is appended, but the file has no <AppendedData>", roleNames[a.role])
 	}
 	return nil
@@ -486,10 +486,9 @@ func (r *vtuReader) array(t xml.StartElement, parent string, stack []string) err
 			b[i] = byte(v)
 		}
 		a.strs, err = splitStrings(b, a.tuples)
-		a.done = err == nil
 		return r.wrap(err, "array "+roleNames[ro]+": ")
 	}
-	a.ints, a.floats, a.done = ints, floats, true
+	a.ints, a.floats = ints, floats
 	return nil
 }
 
@@ -533,7 +532,6 @@ func (a *array) setBytes(b []byte, order binary.ByteOrder) error {
 	default:
 		a.ints, err = decodeInts(b, a.typ, order)
 	}
-	a.done = err == nil
 	return err
 }
 
