@@ -79,7 +79,7 @@ func TestVTKWrittenFiles(t *testing.T) {
 }
 
 // findVTKPython returns a python3 found on PATH that can import vtk, or "".
-func findVTKPython(t *testing.T) string {
+func findVTKPython() string {
 	for _, dir := range filepath.SplitList(os.Getenv("PATH")) {
 		if dir == "" {
 			continue
@@ -110,7 +110,7 @@ type vtkView struct {
 // the vtk module is installed) to the points, cells, part numbers and
 // part names the package doc specifies.
 func TestVTKReadsWrittenFiles(t *testing.T) {
-	py := findVTKPython(t)
+	py := findVTKPython()
 	if py == "" {
 		t.Skip("no python3 on PATH can import vtk; install Debian's python3-vtk9 to run this test")
 	}
