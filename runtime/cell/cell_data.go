@@ -52,17 +52,25 @@ var (
 	}
 )
 
-// VTK cell type codes (open VTK file-format standard).
+// VTK cell type codes (open VTK file-format standard). VTKVertex, VTKPixel,
+// VTKVoxel and VTKQuadraticHexahedron are never written for formwright
+// fields; runtime/mesh reads them (a pixel or voxel is a quadrilateral or
+// hexahedron with its vertices in lexicographic rather than cyclic order;
+// the quadratic hexahedron is the 20-node serendipity cell).
 const (
+	VTKVertex                 = 1
 	VTKLine                   = 3
 	VTKTriangle               = 5
+	VTKPixel                  = 8
 	VTKQuad                   = 9
 	VTKTetra                  = 10
+	VTKVoxel                  = 11
 	VTKHexahedron             = 12
 	VTKQuadraticEdge          = 21
 	VTKQuadraticTriangle      = 22
 	VTKQuadraticQuad          = 23 // 8-node serendipity quad; not produced by formwright's Q2
 	VTKQuadraticTetra         = 24
+	VTKQuadraticHexahedron    = 25 // 20-node serendipity hexahedron
 	VTKBiquadraticQuad        = 28
 	VTKTriquadraticHexahedron = 29
 )

@@ -145,6 +145,21 @@ func TestVTKCodes(t *testing.T) {
 	}
 }
 
+// Codes of the VTK cell types runtime/mesh reads besides the ones above:
+// the VTK file-format cell-type table ([memory]), confirmed against the
+// constants of VTK 9.1's Python module (vtk.VTK_VERTEX == 1,
+// vtk.VTK_PIXEL == 8, vtk.VTK_VOXEL == 11, vtk.VTK_QUADRATIC_QUAD == 23,
+// vtk.VTK_QUADRATIC_HEXAHEDRON == 25).
+func TestVTKReadCodes(t *testing.T) {
+	got := []int{VTKVertex, VTKPixel, VTKVoxel, VTKQuadraticQuad, VTKQuadraticHexahedron}
+	want := []int{1, 8, 11, 23, 25}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Errorf("code %d is %d, want %d", i, got[i], want[i])
+		}
+	}
+}
+
 func TestMeasure(t *testing.T) {
 	// Unit simplex measure 1/d!; [-1,1]^d measure 2^d.
 	want := map[Type]float64{Interval: 1, Triangle: 0.5, Tetrahedron: 1.0 / 6, Quadrilateral: 4, Hexahedron: 8}

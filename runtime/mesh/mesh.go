@@ -39,6 +39,10 @@ type Mesh struct {
 	// Boundaries maps a name to its facets, sorted by (Cell, Facet) without
 	// repeats. "all" is the whole boundary.
 	Boundaries map[string][]FacetRef
+	// Regions holds a region number (>= 0) per cell, as read from a mesh
+	// file (see the package doc); nil when every cell is in region 0, as
+	// for generated meshes. Refine gives children their parent's number.
+	Regions []int32
 }
 
 // NumVertices is the number of vertices.
@@ -118,32 +122,92 @@ func (m *Mesh) facetKey(c, f int) facetKey {
 	return k
 }
 
-// facetIndex maps every facet's vertex set to the facets carrying it.
-func (m *Mesh) facetIndex() map[facetKey][]FacetRef {
+// facetEntry is one local facet of a cell with its sorted vertex set.
+type facetEntry struct {
+	key facetKey
+	ref FacetRef
+}
+
+func compareFacetEntry(a, b facetEntry) int {
+	if c := slices.Compare(a.key[:], b.key[:]); c != 0 {
+		return c
+	}
+	return compareFacetRef(a.ref, b.ref)
+}
+
+// facetTable lists every local facet of every cell, sorted by vertex set
+// (then by cell and facet): the facets with one vertex set are adjacent.
+// A counting sort on the smallest vertex, then a sort of each (usually
+// small) bucket: about linear in the number of facets.
+func (m *Mesh) facetTable() []facetEntry {
 	nf := m.Cell.NumFacets()
-	idx := make(map[facetKey][]FacetRef, m.NumCells()*nf/2+1)
+	n := m.NumCells() * nf
+	start := make([]int32, m.NumVertices()+1)
+	for c := 0; c < m.NumCells(); c++ {
+		for f := 0; f < nf; f++ {
+			start[m.facetKey(c, f)[0]+1]++
+		}
+	}
+	for v := 1; v < len(start); v++ {
+		start[v] += start[v-1]
+	}
+	t := make([]facetEntry, n)
+	next := slices.Clone(start[:len(start)-1])
 	for c := 0; c < m.NumCells(); c++ {
 		for f := 0; f < nf; f++ {
 			k := m.facetKey(c, f)
-			idx[k] = append(idx[k], FacetRef{int32(c), int32(f)})
+			t[next[k[0]]] = facetEntry{k, FacetRef{int32(c), int32(f)}}
+			next[k[0]]++
 		}
 	}
-	return idx
+	for v := 0; v+1 < len(start); v++ {
+		b := t[start[v]:start[v+1]]
+		if len(b) > 32 { // a vertex in many cells
+			slices.SortFunc(b, compareFacetEntry)
+			continue
+		}
+		for i := 1; i < len(b); i++ {
+			for j := i; j > 0 && compareFacetEntry(b[j-1], b[j]) > 0; j-- {
+				b[j-1], b[j] = b[j], b[j-1]
+			}
+		}
+	}
+	return t
 }
 
-// TopologicalBoundary returns the facets that belong to exactly one cell,
-// sorted. It builds a hash of all facets: use it for checks and file input,
-// not in hot paths.
-func (m *Mesh) TopologicalBoundary() []FacetRef {
+// facetsWithKey returns the entries of a sorted facet table with vertex
+// set k.
+func facetsWithKey(t []facetEntry, k facetKey) []facetEntry {
+	i, _ := slices.BinarySearchFunc(t, k, func(e facetEntry, k facetKey) int { return slices.Compare(e.key[:], k[:]) })
+	j := i
+	for j < len(t) && t[j].key == k {
+		j++
+	}
+	return t[i:j]
+}
+
+// boundaryOf returns the facets of a sorted facet table that belong to
+// exactly one cell, sorted by (cell, facet).
+func boundaryOf(t []facetEntry) []FacetRef {
 	var out []FacetRef
-	for _, fs := range m.facetIndex() {
-		if len(fs) == 1 {
-			out = append(out, fs[0])
+	for i := 0; i < len(t); {
+		j := i + 1
+		for j < len(t) && t[j].key == t[i].key {
+			j++
 		}
+		if j == i+1 {
+			out = append(out, t[i].ref)
+		}
+		i = j
 	}
 	slices.SortFunc(out, compareFacetRef)
 	return out
 }
+
+// TopologicalBoundary returns the facets that belong to exactly one cell,
+// sorted. It sorts all facets: use it for checks and file input, not in
+// hot paths.
+func (m *Mesh) TopologicalBoundary() []FacetRef { return boundaryOf(m.facetTable()) }
 
 // OrientationError reports an inverted or degenerate cell.
 type OrientationError struct {

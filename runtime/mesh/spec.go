@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io/fs"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 )
@@ -17,7 +18,7 @@ type Spec struct {
 	N       []int     // cells per direction
 	Pattern Pattern   // rect and box
 	Grading float64   // interval; 1 = uniform
-	// Path is the mesh file to read when the string is not a spec.
+	// Path is the mesh file (.vtu) to read when the string is not a spec.
 	Path string
 }
 
@@ -54,10 +55,11 @@ var specKinds = map[string]struct {
 //	rect:X0,X1,Y0,Y1:NXxNY[:tri|tri-flip|crossed|quad]     (default tri)
 //	box:X0,X1,Y0,Y1,Z0,Z1:NXxNYxNZ[:tet|hex]               (default tet)
 //
-// Any other string is taken as the path of a mesh file (Spec.Path), unless
-// it starts with a word followed by ':' that names no kind and no file
-// exists under that name, which is reported as an unknown kind. Errors are
-// *SpecError with the column of the offending field.
+// Any other string ending in ".vtu" (any case) is taken as the path of a
+// mesh file (Spec.Path; see ReadVTU), unless it starts with a word
+// followed by ':' that names no kind and no file exists under that name,
+// which is reported as an unknown kind. Errors are *SpecError with the
+// column of the offending field.
 func ParseSpec(s string) (Spec, error) {
 	fields := strings.Split(s, ":")
 	col := make([]int, len(fields)) // 1-based start column of each field
@@ -75,6 +77,9 @@ func ParseSpec(s string) (Spec, error) {
 		}
 		if s == "" {
 			return Spec{}, &SpecError{s, 1, "empty mesh spec"}
+		}
+		if !strings.EqualFold(filepath.Ext(s), ".vtu") {
+			return Spec{}, &SpecError{s, 1, "not a mesh spec, and not a mesh file name: mesh files are VTK XML unstructured grids ending in .vtu"}
 		}
 		return Spec{Path: s}, nil
 	}
@@ -175,12 +180,13 @@ func isWord(s string) bool {
 	return s != ""
 }
 
-// Build generates the mesh a spec describes, or reads Spec.Path.
+// Build generates the mesh a spec describes, or reads Spec.Path with
+// ReadVTUFile.
 func (sp Spec) Build() (*Mesh, error) {
 	b, n := sp.Bounds, sp.N
 	switch sp.Kind {
 	case "":
-		return ReadFile(sp.Path)
+		return ReadVTUFile(sp.Path)
 	case "interval":
 		return Interval(b[0], b[1], n[0], sp.Grading), nil
 	case "rect":
