@@ -328,65 +328,6 @@ func indexOfEq(m *Model, unknown int) int {
 	return 0
 }
 
-// Lower produces the component-level discrete problem for one method, the
-// input of the runtime and the kernel generator.
-func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
-	m := d.Model
-	var form *MethodForm
-	for i := range d.Forms {
-		if d.Forms[i].Method == meth {
-			form = &d.Forms[i]
-		}
-	}
-	if form == nil {
-		return nil, fmt.Errorf("method %s was not derived", meth)
-	}
-	l := newLowerer(m)
-	for _, fs := range form.Fine {
-		l.fine[fs.Sym.Name] = fs.Def
-	}
-	p := m.Equations[0].Pos
-	cell := []ir.Expr{d.Galerkin.Bilinear, ir.Neg(p, d.Galerkin.Source)}
-	for _, s := range form.Stab {
-		cell = append(cell, s.Integrand(m.Dim))
-	}
-	if form.Cross != nil {
-		cell = append(cell, form.Cross)
-	}
-	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
-	for _, u := range m.Unknowns {
-		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element})
-	}
-	in, err := l.collect(Simplify(ir.Sum(p, cell...), m.Dim), ir.Domain{})
-	if err != nil {
-		return nil, err
-	}
-	lf.Integrals = append(lf.Integrals, in)
-	for _, b := range d.Galerkin.Boundary {
-		in, err := l.collect(b.Integrand, ir.Domain{Side: b.Side})
-		if err != nil {
-			return nil, err
-		}
-		lf.Integrals = append(lf.Integrals, in)
-	}
-	for _, bc := range m.BCs {
-		if bc.Kind != ValueBC {
-			continue
-		}
-		vals := l.Lower(bc.Value)
-		for _, side := range bc.Sides {
-			for c, v := range vals {
-				lf.Dirichlet = append(lf.Dirichlet, ir.DirichletCondition{Side: side, Unknown: bc.Unknown, Comp: c, Value: v})
-			}
-		}
-	}
-	for _, mc := range m.Means {
-		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})
-	}
-	lf.MaxDerivative = maxDeriv(lf.Integrals)
-	return lf, nil
-}
-
 // usesInverseEstimate reports whether some τ of the model refers to the
 // cell quantity inverse_estimate, directly or through coefficients.
 func (m *Model) usesInverseEstimate() bool {

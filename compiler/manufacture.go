@@ -7,11 +7,6 @@ import (
 	"github.com/formwright/formwright/compiler/ir"
 )
 
-// LowerExpr writes an expression of the model as its scalar components
-// (row-major), with coefficients and τ substituted: the form the runtime
-// evaluates.
-func LowerExpr(m *Model, e ir.Expr) []ir.Expr { return newLowerer(m).Lower(e) }
-
 // Manufactured is a model rewritten so that a chosen function is its exact
 // solution (the method of manufactured solutions: Roache 2002, J. Fluids
 // Eng. 124; Salari & Knupp 2000, Sandia report SAND2000-1444).
