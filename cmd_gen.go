@@ -1,13 +1,13 @@
 package main
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
 	"strings"
+	"unicode"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/gogen"
@@ -62,7 +62,17 @@ func generate(modelArg, dir, pkg, prefix, method, cmdline string) (*genFile, err
 			pkg = filepath.Base(abs)
 		}
 	}
-	path := filepath.Join(dir, m.Name+"_kernels.go")
+	// A file name that starts with _ or . is ignored by the Go tool.
+	base := strings.TrimLeft(m.Name, "_.")
+	if base == "" {
+		base = "model"
+	}
+	path := filepath.Join(dir, base+"_kernels.go")
+	if prefix == "" {
+		// Exported names start with the model's name, so several models
+		// can share a package.
+		prefix = exportedName(m.Name)
+	}
 	src, err := gogen.Generate(forms, gogen.Options{Package: pkg, ModelFile: filepath.ToSlash(m.File), CommandLine: cmdline, Prefix: prefix, Output: path})
 	if err != nil {
 		var be *gogen.BrokenError
@@ -87,17 +97,17 @@ func cmdGen(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if old, err := os.ReadFile(f.Path); err == nil && !bytes.HasPrefix(old, []byte(generatedHeader)) {
-		return &usageError{fmt.Sprintf("%s exists and was not written by formwright gen: refusing to overwrite it", f.Path)}
-	}
-	if err := output.CheckNotInput(f.Path, modelArg); err != nil {
-		return &usageError{err.Error()}
-	}
-	if err := os.MkdirAll(filepath.Dir(f.Path), 0o755); err != nil {
-		return err
+	// gen creates the output directory when it does not exist yet; an
+	// existing one is checked like every output.
+	if _, err := os.Stat(filepath.Dir(f.Path)); err == nil {
+		if err := checkOutputs([]string{modelArg}, outputTarget{"-o", f.Path}); err != nil {
+			return err
+		}
+	} else if err := os.MkdirAll(filepath.Dir(f.Path), 0o755); err != nil {
+		return ioError(err)
 	}
 	if err := output.WriteFileAtomic(f.Path, func(w io.Writer) error { _, err := w.Write(f.Src); return err }); err != nil {
-		return err
+		return ioError(err)
 	}
 	fmt.Fprintf(stdout, "wrote %s\n", f.Path)
 	return nil
@@ -119,4 +129,32 @@ func genParse(args []string, stdout io.Writer) (*genFile, string, error) {
 	cmdline := "gen " + strings.Join(args, " ")
 	f, err := generate(pos[0], *dir, *pkg, *prefix, *method, cmdline)
 	return f, pos[0], err
+}
+
+// exportedName turns a model name into the start of an exported Go
+// identifier: its letters and digits, with the first letter of each
+// '_'-separated word in upper case ("river_outfall" becomes
+// "RiverOutfall"); a name without letters gives "Model".
+func exportedName(name string) string {
+	var b strings.Builder
+	up := true
+	for _, r := range name {
+		switch {
+		case r == '_':
+			up = true
+		case r < unicode.MaxASCII && (unicode.IsLetter(r) || unicode.IsDigit(r)):
+			if b.Len() == 0 && unicode.IsDigit(r) {
+				b.WriteString("Model")
+			}
+			if up {
+				r = unicode.ToUpper(r)
+			}
+			b.WriteRune(r)
+			up = false
+		}
+	}
+	if b.Len() == 0 {
+		return "Model"
+	}
+	return b.String()
 }

@@ -156,14 +156,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
 			return usagef("--out: unknown file type %q (use .vtu or .csv)", ext)
 		}
-		if err := output.CheckNotInput(*out, pos[0], *sf.mesh); err != nil {
-			return &usageError{err.Error()}
-		}
 	}
-	if *plotPath != "" {
-		if err := output.CheckNotInput(*plotPath, pos[0], *sf.mesh); err != nil {
-			return &usageError{err.Error()}
-		}
+	if *plotPath != "" && filepath.Ext(*plotPath) != ".png" {
+		return usagef("--plot: plots are PNG files: name it FILE.png")
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
@@ -188,6 +183,16 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return &usageError{err.Error()}
 		}
 		methods = []compiler.Method{meth}
+	}
+	if *plotPath != "" && m.Dim == 3 {
+		return usagef("--plot draws 1D and 2D solutions only; write a 3D solution with --out FILE.vtu")
+	}
+	targets := []outputTarget{{"--out", *out}}
+	for _, p := range plotPaths(*plotPath, m.Dim, methods) {
+		targets = append(targets, outputTarget{"--plot", p})
+	}
+	if err := checkOutputs([]string{pos[0], *sf.mesh}, targets...); err != nil {
+		return err
 	}
 	msh, spec, err := buildMesh(m, *sf.mesh)
 	if err != nil {
@@ -491,13 +496,30 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 func writeSolution(path string, sol *problem.Solution, ascii bool) error {
 	g := sol.Grid()
 	if filepath.Ext(path) == ".csv" {
-		return output.WriteCSVFile(path, g, sol.Mesh.Dim)
+		return ioError(output.WriteCSVFile(path, g, sol.Mesh.Dim))
 	}
 	opts := output.VTUOptions{Encoding: output.Binary}
 	if ascii {
 		opts.Encoding = output.ASCII
 	}
-	return output.WriteVTUFile(path, g, opts)
+	return ioError(output.WriteVTUFile(path, g, opts))
+}
+
+// plotPaths are the files --plot writes: FILE.png, or FILE_<method>.png
+// for each of several methods in 2D.
+func plotPaths(path string, dim int, methods []compiler.Method) []string {
+	if path == "" {
+		return nil
+	}
+	if len(methods) == 1 || dim == 1 {
+		return []string{path}
+	}
+	var out []string
+	ext := filepath.Ext(path)
+	for _, meth := range methods {
+		out = append(out, strings.TrimSuffix(path, ext)+"_"+meth.String()+ext)
+	}
+	return out
 }
 
 // plotSolutions draws the first field: in 1D one line per method (and the
@@ -507,6 +529,7 @@ func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, met
 	name := sols[0].Fields[0].Name
 	switch sols[0].Mesh.Dim {
 	case 1:
+		// One plot with a line per method.
 		var series []plot.Series
 		for k, sol := range sols {
 			series = append(series, plot.NodeSeries(methods[k].String(), sol.Dofs.NodeCoords(0), sol.Fields[0].Values[0]))
@@ -520,12 +543,9 @@ func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, met
 		}
 		return plot.Line(path, series, opts)
 	case 2:
+		paths := plotPaths(path, 2, methods)
 		for k, sol := range sols {
-			p := path
-			if len(sols) > 1 {
-				ext := filepath.Ext(path)
-				p = strings.TrimSuffix(path, ext) + "_" + methods[k].String() + ext
-			}
+			p := paths[k]
 			nv := sol.Mesh.NumVertices()
 			title := fmt.Sprintf("%s: %s, %s", m.Name, name, methods[k])
 			if err := plot.ColourMap(p, plot.MeshTriangulation(sol.Mesh), sol.Fields[0].Values[0][:nv], plot.MapOptions{Title: title, ValueLabel: name}); err != nil {

@@ -6,13 +6,13 @@ import (
 	"fmt"
 	"io"
 	"math/big"
+	"path/filepath"
 	"strings"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/runtime/mesh"
-	"github.com/formwright/formwright/runtime/output"
 	"github.com/formwright/formwright/runtime/plot"
 	"github.com/formwright/formwright/runtime/study"
 )
@@ -52,10 +52,11 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if *levels < 2 || *levels > 8 {
 		return usagef("--levels must be between 2 and 8")
 	}
-	if *plotPath != "" {
-		if err := output.CheckNotInput(*plotPath, pos[0]); err != nil {
-			return &usageError{err.Error()}
-		}
+	if *plotPath != "" && filepath.Ext(*plotPath) != ".png" {
+		return usagef("--plot: plots are PNG files: name it FILE.png")
+	}
+	if err := checkOutputs([]string{pos[0]}, outputTarget{"--plot", *plotPath}); err != nil {
+		return err
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
@@ -177,12 +178,6 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			study.WriteSweep(stdout, rep.Sweep, *sweep)
 		}
 	}
-	if *plotPath != "" {
-		k := float64(m.Unknowns[0].Element.Degree)
-		if err := plot.Convergence(*plotPath, rep.Curves(), plot.ConvOptions{Title: "convergence: " + m.Name, Orders: []float64{k, k + 1}, Rates: true}); err != nil {
-			return fmt.Errorf("plot: %w", err)
-		}
-	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -191,7 +186,14 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if len(rep.Failed) > 0 && *check {
+		// A failed study writes no plot: nothing is half-done.
 		return &convergenceError{rep.Failed}
+	}
+	if *plotPath != "" {
+		k := float64(m.Unknowns[0].Element.Degree)
+		if err := plot.Convergence(*plotPath, rep.Curves(), plot.ConvOptions{Title: "convergence: " + m.Name, Orders: []float64{k, k + 1}, Rates: true}); err != nil {
+			return ioError(fmt.Errorf("plot: %w", err))
+		}
 	}
 	if !*asJSON {
 		if len(rep.Failed) > 0 {

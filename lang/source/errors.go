@@ -5,7 +5,9 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -24,12 +26,36 @@ type Error struct {
 	Hint     string
 }
 
-// Error formats e as "file:line:col: msg".
+// Error formats e as "file:line:col: msg", with control characters in
+// the message escaped (Escape).
 func (e *Error) Error() string {
 	if !e.Pos.IsValid() && e.Pos.File == "" {
-		return e.Msg
+		return Escape(e.Msg)
 	}
-	return e.Pos.String() + ": " + e.Msg
+	return Escape(e.Pos.String() + ": " + e.Msg)
+}
+
+// Escape writes control characters (other than tab) and invalid UTF-8 as
+// Go escapes (\x1b, \u2028), so that text from a model file cannot move
+// the cursor, clear the screen or recolour a terminal when it is printed
+// in an error message.
+func Escape(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		b.WriteString(escapeRune(r))
+	}
+	return b.String()
+}
+
+func escapeRune(r rune) string {
+	switch {
+	case r == '\t':
+		return "\t"
+	case r == utf8.RuneError, unicode.IsControl(r), r == '\u2028', r == '\u2029':
+		q := strconv.QuoteRune(r)
+		return q[1 : len(q)-1]
+	}
+	return string(r)
 }
 
 // tooMany is the message of the entry that closes a full list.
@@ -153,12 +179,12 @@ func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 		src, ok := sources[e.Pos.File]
 		if ok && e.Pos.IsValid() && e.Msg != tooMany {
 			if line, ok := sourceLine(src, e.Pos); ok {
-				fmt.Fprintf(w, "    %s\n", strings.TrimRight(line, " \t\r"))
+				fmt.Fprintf(w, "    %s\n", Escape(strings.TrimRight(line, " \t\r")))
 				fmt.Fprintf(w, "    %s\n", caretLine(line, e.Pos, e.End))
 			}
 		}
 		if e.Hint != "" {
-			fmt.Fprintf(w, "    hint: %s\n", e.Hint)
+			fmt.Fprintf(w, "    hint: %s\n", Escape(e.Hint))
 		}
 	}
 }
@@ -197,7 +223,8 @@ func caretLine(line string, pos, end Pos) string {
 		if r == '\t' {
 			b.WriteByte('\t')
 		} else {
-			b.WriteByte(' ')
+			// An escaped control character takes the width of its escape.
+			b.WriteString(strings.Repeat(" ", utf8.RuneCountInString(escapeRune(r))))
 		}
 		col++
 	}

@@ -114,3 +114,24 @@ func TestPosString(t *testing.T) {
 		t.Error("zero Pos")
 	}
 }
+
+// TestEscapeControl: control characters from a model file reach the
+// terminal escaped, and the caret still stands under the error (ANSI
+// escape sequences, ECMA-48, start with ESC, U+001B).
+func TestEscapeControl(t *testing.T) {
+	line := "given a = \x1b[2J + b"
+	var l ErrorList
+	l.Add(Pos{"c.fw", 0, 1, 18}, Pos{}, "unknown identifier \"\x1b[2J\"", "")
+	var b bytes.Buffer
+	l.Format(&b, map[string][]byte{"c.fw": []byte(line + "\n")})
+	got := b.String()
+	if strings.ContainsRune(got, '\x1b') {
+		t.Fatalf("raw ESC in %q", got)
+	}
+	want := "c.fw:1:18: unknown identifier \"\\x1b[2J\"\n" +
+		"    given a = \\x1b[2J + b\n" +
+		"    " + strings.Repeat(" ", 20) + "^\n"
+	if got != want {
+		t.Errorf("got\n%q\nwant\n%q", got, want)
+	}
+}

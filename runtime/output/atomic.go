@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"sync"
 )
 
 // WriteFileAtomic writes a file by calling write on a buffered writer to a
@@ -34,6 +35,8 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 		return fmt.Errorf("output: %w", err)
 	}
 	tmp := f.Name()
+	pending.add(tmp)
+	defer pending.remove(tmp)
 	defer func() {
 		if err != nil {
 			f.Close()
@@ -64,6 +67,31 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 		d.Close()
 	}
 	return nil
+}
+
+// pending holds the temporary files being written, so that an interrupt
+// can remove them (RemovePending).
+var pending = tempFiles{set: map[string]bool{}}
+
+type tempFiles struct {
+	mu  sync.Mutex
+	set map[string]bool
+}
+
+func (t *tempFiles) add(p string)    { t.mu.Lock(); t.set[p] = true; t.mu.Unlock() }
+func (t *tempFiles) remove(p string) { t.mu.Lock(); delete(t.set, p); t.mu.Unlock() }
+
+// RemovePending removes the temporary files of writes in progress. A
+// command calls it when it is interrupted (SIGINT, SIGTERM), so an
+// interrupted write leaves nothing behind; the target keeps its old
+// contents. (A SIGKILL cannot be caught: it may leave one hidden
+// ".NAME.tmp-*" file next to the target.)
+func RemovePending() {
+	pending.mu.Lock()
+	defer pending.mu.Unlock()
+	for p := range pending.set {
+		os.Remove(p)
+	}
 }
 
 // SameFile reports whether paths a and b name the same file: the same

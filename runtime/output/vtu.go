@@ -80,7 +80,7 @@ func WriteVTU(w io.Writer, g *Grid, opts VTUOptions) error {
 	if hdr != HeaderUInt32 && hdr != HeaderUInt64 {
 		panic(fmt.Sprintf("output: unknown HeaderType %d", int(hdr)))
 	}
-	ew.str(`<?xml version="1.0"?>` + "\n")
+	ew.str(`<?xml version="1.0"?>` + "\n<!-- " + Signature + " -->\n")
 	ew.str(`<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="` + hdr.String() + `">` + "\n")
 	ew.str("  <UnstructuredGrid>\n")
 	ew.str(fmt.Sprintf(`    <Piece NumberOfPoints="%d" NumberOfCells="%d">`+"\n", g.NumPoints(), g.NumCells()))

@@ -17,31 +17,31 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return CrosswindPlumeGalerkinKernel{} },
 	})
 	compiled.Register("11c49f847816dafd505858664f2492ec", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return CrosswindPlumeSUPGKernel{} },
 	})
 	compiled.Register("8a343232af74e5a7b5e216447b3fd27c", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return CrosswindPlumeGLSKernel{} },
 	})
 	compiled.Register("8d8f0b8d654a3dd10eb89bba50033ba1", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return CrosswindPlumeVMSKernel{} },
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
+// fwCrosswindPlumeGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+var fwCrosswindPlumeGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +49,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
+// CrosswindPlumeGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GalerkinKernel struct{}
+type CrosswindPlumeGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = CrosswindPlumeGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (CrosswindPlumeGalerkinKernel) Layout() kernel.Layout { return fwCrosswindPlumeGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (CrosswindPlumeGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -102,7 +102,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := c12 + c18
 	c26 := rdetJ * c25
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -122,9 +122,9 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c20 + 0.5*c26
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
+// fwCrosswindPlumeSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwSUPGLayout = kernel.Layout{
+var fwCrosswindPlumeSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -132,22 +132,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
+// CrosswindPlumeSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type SUPGKernel struct{}
+type CrosswindPlumeSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = CrosswindPlumeSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (CrosswindPlumeSUPGKernel) Layout() kernel.Layout { return fwCrosswindPlumeSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (CrosswindPlumeSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -233,7 +233,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c72 := (-0.5) * c64
 	c73 := c70 + c72
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -259,9 +259,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
+// fwCrosswindPlumeGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGLSLayout = kernel.Layout{
+var fwCrosswindPlumeGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -269,22 +269,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
+// CrosswindPlumeGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GLSKernel struct{}
+type CrosswindPlumeGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = CrosswindPlumeGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (CrosswindPlumeGLSKernel) Layout() kernel.Layout { return fwCrosswindPlumeGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (CrosswindPlumeGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -370,7 +370,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c72 := (-0.5) * c64
 	c73 := c70 + c72
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -404,9 +404,9 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
+// fwCrosswindPlumeVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwVMSLayout = kernel.Layout{
+var fwCrosswindPlumeVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -414,22 +414,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
+// CrosswindPlumeVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type VMSKernel struct{}
+type CrosswindPlumeVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = CrosswindPlumeVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (CrosswindPlumeVMSKernel) Layout() kernel.Layout { return fwCrosswindPlumeVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (CrosswindPlumeVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -515,7 +515,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c72 := (-0.5) * c64
 	c73 := c70 + c72
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -549,9 +549,9 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
+// fwCrosswindPlumeFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
 // determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+func fwCrosswindPlumeFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}

@@ -17,31 +17,31 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return EstuaryMixingGalerkinKernel{} },
 	})
 	compiled.Register("edb196b603870fed514c43e6771a3a72", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return EstuaryMixingSUPGKernel{} },
 	})
 	compiled.Register("16a1ac000464af80cee2318a577ce6a6", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return EstuaryMixingGLSKernel{} },
 	})
 	compiled.Register("f72fde26ab696ad12505ffd1449219f8", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return EstuaryMixingVMSKernel{} },
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
+// fwEstuaryMixingGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+var fwEstuaryMixingGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +49,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
+// EstuaryMixingGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
 // degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GalerkinKernel struct{}
+type EstuaryMixingGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = EstuaryMixingGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (EstuaryMixingGalerkinKernel) Layout() kernel.Layout { return fwEstuaryMixingGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 3 }
+func (EstuaryMixingGalerkinKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -87,7 +87,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c6
 	c7 := c6 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
@@ -110,14 +110,14 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rhs[2] += 0.16666666666666669 * detJ
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwGalerkinCellGeomVal[q][0]
-		p2 := x[3] * fwGalerkinCellGeomVal[q][1]
-		p3 := x[5] * fwGalerkinCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingGalerkinCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingGalerkinCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingGalerkinCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
 		coef1 := 0.1 * x1
-		p4 := fwGalerkinCellGeomVal[q][0] * x[0]
-		p5 := fwGalerkinCellGeomVal[q][1] * x[2]
-		p6 := fwGalerkinCellGeomVal[q][2] * x[4]
+		p4 := fwEstuaryMixingGalerkinCellGeomVal[q][0] * x[0]
+		p5 := fwEstuaryMixingGalerkinCellGeomVal[q][1] * x[2]
+		p6 := fwEstuaryMixingGalerkinCellGeomVal[q][2] * x[4]
 		x0 := p4 + p5 + p6
 		p7 := x0 * x0
 		p8 := (-0.25) * p7
@@ -125,7 +125,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p9 := 1.0 - x1
 		p10 := x1 * 0.05 * p9
 		coef3 := 0.05 + p10
-		w := detJ * fwGalerkinCellWeights[q]
+		w := detJ * fwEstuaryMixingGalerkinCellWeights[q]
 		p11 := coef1 * w
 		p12 := p11 * c5
 		p13 := p11 * c4
@@ -151,23 +151,23 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (a[1]) · partial(salt, x) · test(salt)   [model.fw:12]
 		//   - (κ) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
 		//   - (κ) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
-		acc[0] += fwGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
-		acc[1] += fwGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
-		acc[2] += fwGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
-		acc[3] += fwGalerkinCellBasis1Val[q][1]*p17 + k01*p23 + k00*p27
-		acc[4] += fwGalerkinCellBasis1Val[q][1]*p19 + k01*p25 + k00*p28
-		acc[5] += fwGalerkinCellBasis1Val[q][1]*p21 + k01*p26 + k00*p30
-		acc[6] += fwGalerkinCellBasis1Val[q][2]*p17 + k11*p23 + k10*p27
-		acc[7] += fwGalerkinCellBasis1Val[q][2]*p19 + k11*p25 + k10*p28
-		acc[8] += fwGalerkinCellBasis1Val[q][2]*p21 + k11*p26 + k10*p30
+		acc[0] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
+		acc[1] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
+		acc[2] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
+		acc[3] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p17 + k01*p23 + k00*p27
+		acc[4] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p19 + k01*p25 + k00*p28
+		acc[5] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p21 + k01*p26 + k00*p30
+		acc[6] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p17 + k11*p23 + k10*p27
+		acc[7] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p19 + k11*p25 + k10*p28
+		acc[8] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p21 + k11*p26 + k10*p30
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
+// fwEstuaryMixingSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwSUPGLayout = kernel.Layout{
+var fwEstuaryMixingSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -175,22 +175,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
+// EstuaryMixingSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
 // degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type SUPGKernel struct{}
+type EstuaryMixingSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = EstuaryMixingSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (EstuaryMixingSUPGKernel) Layout() kernel.Layout { return fwEstuaryMixingSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 3 }
+func (EstuaryMixingSUPGKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -232,7 +232,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c24
 	c25 := c24 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
@@ -255,14 +255,14 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rhs[2] += 0.16666666666666669 * detJ
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwSUPGCellGeomVal[q][0]
-		p2 := x[3] * fwSUPGCellGeomVal[q][1]
-		p3 := x[5] * fwSUPGCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingSUPGCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingSUPGCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingSUPGCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
 		coef1 := 0.1 * x1
-		p4 := fwSUPGCellGeomVal[q][0] * x[0]
-		p5 := fwSUPGCellGeomVal[q][1] * x[2]
-		p6 := fwSUPGCellGeomVal[q][2] * x[4]
+		p4 := fwEstuaryMixingSUPGCellGeomVal[q][0] * x[0]
+		p5 := fwEstuaryMixingSUPGCellGeomVal[q][1] * x[2]
+		p6 := fwEstuaryMixingSUPGCellGeomVal[q][2] * x[4]
 		x0 := p4 + p5 + p6
 		p7 := x0 * x0
 		p8 := (-0.25) * p7
@@ -293,7 +293,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef9 := coef6 - p25
 		p26 := p12 * p20
 		coef11 := p11 + p26
-		w := detJ * fwSUPGCellWeights[q]
+		w := detJ * fwEstuaryMixingSUPGCellWeights[q]
 		p27 := coef1 * w
 		p28 := p27 * c23
 		p29 := p27 * c22
@@ -306,9 +306,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p36 := p31 * c24
 		p37 := p30 - p36
 		p38 := coef3 * w
-		p39 := p38 * fwSUPGCellBasis1Val[q][0]
-		p40 := p38 * fwSUPGCellBasis1Val[q][1]
-		p41 := p38 * fwSUPGCellBasis1Val[q][2]
+		p39 := p38 * fwEstuaryMixingSUPGCellBasis1Val[q][0]
+		p40 := p38 * fwEstuaryMixingSUPGCellBasis1Val[q][1]
+		p41 := p38 * fwEstuaryMixingSUPGCellBasis1Val[q][2]
 		p42 := coef4 * w
 		p43 := c23 * p42
 		p44 := p39 + p43
@@ -324,9 +324,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p54 := c24 * p49
 		p55 := p48 - p54
 		p56 := coef8 * w
-		p57 := fwSUPGCellBasis1Val[q][0] * p56
-		p58 := fwSUPGCellBasis1Val[q][1] * p56
-		p59 := fwSUPGCellBasis1Val[q][2] * p56
+		p57 := fwEstuaryMixingSUPGCellBasis1Val[q][0] * p56
+		p58 := fwEstuaryMixingSUPGCellBasis1Val[q][1] * p56
+		p59 := fwEstuaryMixingSUPGCellBasis1Val[q][2] * p56
 		p60 := coef9 * w
 		p61 := c23 * p60
 		p62 := p57 + p61
@@ -356,15 +356,15 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
 		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
 		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		acc[0] += fwSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
-		acc[1] += fwSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
-		acc[2] += fwSUPGCellBasis1Val[q][0]*p37 + c23*p55 + c25*p73
-		acc[3] += fwSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
-		acc[4] += fwSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
-		acc[5] += fwSUPGCellBasis1Val[q][1]*p37 + k01*p55 + k00*p73
-		acc[6] += fwSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
-		acc[7] += fwSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
-		acc[8] += fwSUPGCellBasis1Val[q][2]*p37 + k11*p55 + k10*p73
+		acc[0] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
+		acc[1] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
+		acc[2] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p37 + c23*p55 + c25*p73
+		acc[3] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
+		acc[4] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
+		acc[5] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p37 + k01*p55 + k00*p73
+		acc[6] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
+		acc[7] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
+		acc[8] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p37 + k11*p55 + k10*p73
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - a[2] τ_salt · partial(test(salt), y)   [model.fw:17]
 		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
@@ -376,9 +376,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
+// fwEstuaryMixingGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwGLSLayout = kernel.Layout{
+var fwEstuaryMixingGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -386,22 +386,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
+// EstuaryMixingGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
 // degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GLSKernel struct{}
+type EstuaryMixingGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = EstuaryMixingGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (EstuaryMixingGLSKernel) Layout() kernel.Layout { return fwEstuaryMixingGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 3 }
+func (EstuaryMixingGLSKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -442,23 +442,23 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c23
 	c24 := c23 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwGLSCellGeomVal[q][0]
-		p2 := x[3] * fwGLSCellGeomVal[q][1]
-		p3 := x[5] * fwGLSCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingGLSCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingGLSCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingGLSCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
 		p4 := 1.0 - x1
 		p5 := 0.05 * x1 * p4
 		p6 := 0.05 + p5
-		p7 := x[0] * fwGLSCellGeomVal[q][0]
-		p8 := x[2] * fwGLSCellGeomVal[q][1]
-		p9 := x[4] * fwGLSCellGeomVal[q][2]
+		p7 := x[0] * fwEstuaryMixingGLSCellGeomVal[q][0]
+		p8 := x[2] * fwEstuaryMixingGLSCellGeomVal[q][1]
+		p9 := x[4] * fwEstuaryMixingGLSCellGeomVal[q][2]
 		x0 := p7 + p8 + p9
 		p10 := x0 * x0
 		p11 := (-0.25) * p10
@@ -499,11 +499,11 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p37 := 0.1 * p22
 		coef25 := 1.0 + p37
 		coef26 := p24 - p28
-		w := detJ * fwGLSCellWeights[q]
+		w := detJ * fwEstuaryMixingGLSCellWeights[q]
 		p38 := coef0 * w
-		p39 := p38 * fwGLSCellBasis1Val[q][0]
-		p40 := p38 * fwGLSCellBasis1Val[q][1]
-		p41 := p38 * fwGLSCellBasis1Val[q][2]
+		p39 := p38 * fwEstuaryMixingGLSCellBasis1Val[q][0]
+		p40 := p38 * fwEstuaryMixingGLSCellBasis1Val[q][1]
+		p41 := p38 * fwEstuaryMixingGLSCellBasis1Val[q][2]
 		p42 := coef1 * w
 		p43 := p42 * c22
 		p44 := p39 + p43
@@ -519,9 +519,9 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p54 := c23 * p49
 		p55 := p48 - p54
 		p56 := coef5 * w
-		p57 := fwGLSCellBasis1Val[q][0] * p56
-		p58 := fwGLSCellBasis1Val[q][1] * p56
-		p59 := fwGLSCellBasis1Val[q][2] * p56
+		p57 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p56
+		p58 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p56
+		p59 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p56
 		p60 := coef6 * w
 		p61 := c22 * p60
 		p62 := p57 + p61
@@ -537,9 +537,9 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p72 := c23 * p67
 		p73 := p66 - p72
 		p74 := coef15 * w
-		p75 := fwGLSCellBasis1Val[q][0] * p74
-		p76 := fwGLSCellBasis1Val[q][1] * p74
-		p77 := fwGLSCellBasis1Val[q][2] * p74
+		p75 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p74
+		p76 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p74
+		p77 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p74
 		p78 := c22 * p67
 		p79 := p75 + p78
 		p80 := c21 * p67
@@ -582,32 +582,32 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
 		//   - (−a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
 		//   - (κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
-		acc[1] += fwGLSCellBasis1Val[q][0]*p53 + c22*p71 + c24*p88
-		acc[2] += fwGLSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p90
-		acc[3] += fwGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
-		acc[4] += fwGLSCellBasis1Val[q][1]*p53 + k01*p71 + k00*p88
-		acc[5] += fwGLSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p90
-		acc[6] += fwGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
-		acc[7] += fwGLSCellBasis1Val[q][2]*p53 + k11*p71 + k10*p88
-		acc[8] += fwGLSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p90
+		acc[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
+		acc[1] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p53 + c22*p71 + c24*p88
+		acc[2] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p90
+		acc[3] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
+		acc[4] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p53 + k01*p71 + k00*p88
+		acc[5] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p90
+		acc[6] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
+		acc[7] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p53 + k11*p71 + k10*p88
+		acc[8] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p90
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - τ_salt/10 + 1 · test(salt)   [model.fw:17]
 		//   - a[2] τ_salt − τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
 		//   - −κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
 		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
 		//   - −κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwGLSCellBasis1Val[q][0]*p91 + c22*p92 + c24*p93
-		rhs[1] += fwGLSCellBasis1Val[q][1]*p91 + k01*p92 + k00*p93
-		rhs[2] += fwGLSCellBasis1Val[q][2]*p91 + k11*p92 + k10*p93
+		rhs[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p91 + c22*p92 + c24*p93
+		rhs[1] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p91 + k01*p92 + k00*p93
+		rhs[2] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p91 + k11*p92 + k10*p93
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
+// fwEstuaryMixingVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 3 local dofs.
-var fwVMSLayout = kernel.Layout{
+var fwEstuaryMixingVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -615,22 +615,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
+// EstuaryMixingVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
 // degree 3 (4 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type VMSKernel struct{}
+type EstuaryMixingVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = EstuaryMixingVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (EstuaryMixingVMSKernel) Layout() kernel.Layout { return fwEstuaryMixingVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 3 }
+func (EstuaryMixingVMSKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -671,23 +671,23 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c23
 	c24 := c23 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwVMSCellGeomVal[q][0]
-		p2 := x[3] * fwVMSCellGeomVal[q][1]
-		p3 := x[5] * fwVMSCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingVMSCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingVMSCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingVMSCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
 		p4 := 1.0 - x1
 		p5 := 0.05 * x1 * p4
 		p6 := 0.05 + p5
-		p7 := x[0] * fwVMSCellGeomVal[q][0]
-		p8 := x[2] * fwVMSCellGeomVal[q][1]
-		p9 := x[4] * fwVMSCellGeomVal[q][2]
+		p7 := x[0] * fwEstuaryMixingVMSCellGeomVal[q][0]
+		p8 := x[2] * fwEstuaryMixingVMSCellGeomVal[q][1]
+		p9 := x[4] * fwEstuaryMixingVMSCellGeomVal[q][2]
 		x0 := p7 + p8 + p9
 		p10 := x0 * x0
 		p11 := (-0.25) * p10
@@ -737,11 +737,11 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p45 := p22 * (-0.1)
 		coef25 := 1.0 + p26 + p45
 		coef26 := p28 + p32
-		w := detJ * fwVMSCellWeights[q]
+		w := detJ * fwEstuaryMixingVMSCellWeights[q]
 		p46 := coef0 * w
-		p47 := p46 * fwVMSCellBasis1Val[q][0]
-		p48 := p46 * fwVMSCellBasis1Val[q][1]
-		p49 := p46 * fwVMSCellBasis1Val[q][2]
+		p47 := p46 * fwEstuaryMixingVMSCellBasis1Val[q][0]
+		p48 := p46 * fwEstuaryMixingVMSCellBasis1Val[q][1]
+		p49 := p46 * fwEstuaryMixingVMSCellBasis1Val[q][2]
 		p50 := coef1 * w
 		p51 := p50 * c22
 		p52 := p47 + p51
@@ -757,9 +757,9 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p62 := c23 * p57
 		p63 := p56 - p62
 		p64 := coef5 * w
-		p65 := fwVMSCellBasis1Val[q][0] * p64
-		p66 := fwVMSCellBasis1Val[q][1] * p64
-		p67 := fwVMSCellBasis1Val[q][2] * p64
+		p65 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p64
+		p66 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p64
+		p67 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p64
 		p68 := coef6 * w
 		p69 := c22 * p68
 		p70 := p65 + p69
@@ -775,9 +775,9 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p80 := c23 * p75
 		p81 := p74 - p80
 		p82 := coef15 * w
-		p83 := fwVMSCellBasis1Val[q][0] * p82
-		p84 := fwVMSCellBasis1Val[q][1] * p82
-		p85 := fwVMSCellBasis1Val[q][2] * p82
+		p83 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p82
+		p84 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p82
+		p85 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p82
 		p86 := coef16 * w
 		p87 := c22 * p86
 		p88 := p83 + p87
@@ -821,32 +821,32 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (−κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
 		//   - (a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
 		//   - (−κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
-		acc[1] += fwVMSCellBasis1Val[q][0]*p61 + c22*p79 + c24*p97
-		acc[2] += fwVMSCellBasis1Val[q][0]*p63 + c22*p81 + c24*p99
-		acc[3] += fwVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
-		acc[4] += fwVMSCellBasis1Val[q][1]*p61 + k01*p79 + k00*p97
-		acc[5] += fwVMSCellBasis1Val[q][1]*p63 + k01*p81 + k00*p99
-		acc[6] += fwVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
-		acc[7] += fwVMSCellBasis1Val[q][2]*p61 + k11*p79 + k10*p97
-		acc[8] += fwVMSCellBasis1Val[q][2]*p63 + k11*p81 + k10*p99
+		acc[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
+		acc[1] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p61 + c22*p79 + c24*p97
+		acc[2] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p63 + c22*p81 + c24*p99
+		acc[3] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
+		acc[4] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p61 + k01*p79 + k00*p97
+		acc[5] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p63 + k01*p81 + k00*p99
+		acc[6] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
+		acc[7] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p61 + k11*p79 + k10*p97
+		acc[8] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p63 + k11*p81 + k10*p99
 		// At each quadrature point: rows 0..2 of the right-hand side:
 		//   - −τ_salt/10 + τ_salt (−x/2 + 1/10) + 1 · test(salt)   [model.fw:17]
 		//   - a[2] τ_salt + τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
 		//   - κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
 		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
 		//   - κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwVMSCellBasis1Val[q][0]*p100 + c22*p101 + c24*p102
-		rhs[1] += fwVMSCellBasis1Val[q][1]*p100 + k01*p101 + k00*p102
-		rhs[2] += fwVMSCellBasis1Val[q][2]*p100 + k11*p101 + k10*p102
+		rhs[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p100 + c22*p101 + c24*p102
+		rhs[1] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p100 + k01*p101 + k00*p102
+		rhs[2] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p100 + k11*p101 + k10*p102
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
+// fwEstuaryMixingFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
 // determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+func fwEstuaryMixingFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}
@@ -858,53 +858,53 @@ func fwFillNaN(A, b []float64) {
 // Tabulated reference data: basis values, gradients and second
 // derivatives at the quadrature points, and quadrature weights.
 var (
-	fwGalerkinCellGeomVal = [4][3]float64{
+	fwEstuaryMixingGalerkinCellGeomVal = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGalerkinCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwGalerkinCellBasis1Val = [4][3]float64{
+	fwEstuaryMixingGalerkinCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwEstuaryMixingGalerkinCellBasis1Val = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwSUPGCellGeomVal = [4][3]float64{
+	fwEstuaryMixingSUPGCellGeomVal = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwSUPGCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwSUPGCellBasis1Val = [4][3]float64{
+	fwEstuaryMixingSUPGCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwEstuaryMixingSUPGCellBasis1Val = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGLSCellGeomVal = [4][3]float64{
+	fwEstuaryMixingGLSCellGeomVal = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwGLSCellBasis1Val = [4][3]float64{
+	fwEstuaryMixingGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwEstuaryMixingGLSCellBasis1Val = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwVMSCellGeomVal = [4][3]float64{
+	fwEstuaryMixingVMSCellGeomVal = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwVMSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwVMSCellBasis1Val = [4][3]float64{
+	fwEstuaryMixingVMSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwEstuaryMixingVMSCellBasis1Val = [4][3]float64{
 		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},

@@ -17,31 +17,31 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return RiverOutfallLayerGalerkinKernel{} },
 	})
 	compiled.Register("636eb83badee58e95ade0b63804b5065", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return RiverOutfallLayerSUPGKernel{} },
 	})
 	compiled.Register("8f99086b90efb109f50254405be6b8b8", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return RiverOutfallLayerGLSKernel{} },
 	})
 	compiled.Register("b09bc5943f0e88a55ebc92cd229e628f", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Interval,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return RiverOutfallLayerVMSKernel{} },
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
+// fwRiverOutfallLayerGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +49,24 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
+// RiverOutfallLayerGalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GalerkinKernel struct{}
+type RiverOutfallLayerGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = RiverOutfallLayerGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (RiverOutfallLayerGalerkinKernel) Layout() kernel.Layout {
+	return fwRiverOutfallLayerGalerkinLayout
+}
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (RiverOutfallLayerGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -73,7 +75,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c1 := 0.002 * rdetJ
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -86,9 +88,9 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[3] = 0.5 + c1
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
+// fwRiverOutfallLayerSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwSUPGLayout = kernel.Layout{
+var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -96,22 +98,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
+// RiverOutfallLayerSUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type SUPGKernel struct{}
+type RiverOutfallLayerSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = RiverOutfallLayerSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (RiverOutfallLayerSUPGKernel) Layout() kernel.Layout { return fwRiverOutfallLayerSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (RiverOutfallLayerSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -132,7 +134,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -146,9 +148,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
+// fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwGLSLayout = kernel.Layout{
+var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -156,22 +158,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
+// RiverOutfallLayerGLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GLSKernel struct{}
+type RiverOutfallLayerGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = RiverOutfallLayerGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (RiverOutfallLayerGLSKernel) Layout() kernel.Layout { return fwRiverOutfallLayerGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (RiverOutfallLayerGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -192,7 +194,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -208,9 +210,9 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
+// fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
 // order (field-major, then component, then element node); 2 local dofs.
-var fwVMSLayout = kernel.Layout{
+var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -218,22 +220,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
+// RiverOutfallLayerVMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type VMSKernel struct{}
+type RiverOutfallLayerVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = RiverOutfallLayerVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (RiverOutfallLayerVMSKernel) Layout() kernel.Layout { return fwRiverOutfallLayerVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (RiverOutfallLayerVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -254,7 +256,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
@@ -270,9 +272,9 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
+// fwRiverOutfallLayerFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
 // determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+func fwRiverOutfallLayerFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}

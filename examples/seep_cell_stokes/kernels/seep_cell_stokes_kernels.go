@@ -17,31 +17,31 @@ func init() {
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+		NewCell: func() kernel.Kernel { return SeepCellStokesGalerkinKernel{} },
 	})
 	compiled.Register("36434c0818ef73d963d384ec0bd0de27", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+		NewCell: func() kernel.Kernel { return SeepCellStokesSUPGKernel{} },
 	})
 	compiled.Register("70de165bc77775bc5857b2fe0ae5af9c", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+		NewCell: func() kernel.Kernel { return SeepCellStokesGLSKernel{} },
 	})
 	compiled.Register("f1476d6d4824db2a72a2ff0b9fb4da8d", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+		NewCell: func() kernel.Kernel { return SeepCellStokesVMSKernel{} },
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
+// fwSeepCellStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+var fwSeepCellStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -50,22 +50,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
+// SeepCellStokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GalerkinKernel struct{}
+type SeepCellStokesGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = SeepCellStokesGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (SeepCellStokesGalerkinKernel) Layout() kernel.Layout { return fwSeepCellStokesGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (SeepCellStokesGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -100,7 +100,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c22 := rdetJ * c21
 	c23 := (-9.81) * detJ
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	clear(A)
@@ -185,9 +185,9 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[5] = 0.16666666666666666 * c23
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
+// fwSeepCellStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwSUPGLayout = kernel.Layout{
+var fwSeepCellStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -196,22 +196,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
+// SeepCellStokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type SUPGKernel struct{}
+type SeepCellStokesSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = SeepCellStokesSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (SeepCellStokesSUPGKernel) Layout() kernel.Layout { return fwSeepCellStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (SeepCellStokesSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -314,7 +314,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
@@ -438,9 +438,9 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[8] = coef12 * c90
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
+// fwSeepCellStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwGLSLayout = kernel.Layout{
+var fwSeepCellStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -449,22 +449,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
+// SeepCellStokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type GLSKernel struct{}
+type SeepCellStokesGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = SeepCellStokesGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (SeepCellStokesGLSKernel) Layout() kernel.Layout { return fwSeepCellStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (SeepCellStokesGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -567,7 +567,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
@@ -705,9 +705,9 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[8] = coef24 * c90
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
+// fwSeepCellStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
 // order (field-major, then component, then element node); 9 local dofs.
-var fwVMSLayout = kernel.Layout{
+var fwSeepCellStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -716,22 +716,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
+// SeepCellStokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
 // degree 1 (1 point). It implements kernel.Kernel, keeps no state and
 // does not allocate.
-type VMSKernel struct{}
+type SeepCellStokesVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = SeepCellStokesVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (SeepCellStokesVMSKernel) Layout() kernel.Layout { return fwSeepCellStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (SeepCellStokesVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -834,7 +834,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
@@ -972,9 +972,9 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[8] = coef24 * c90
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
+// fwSeepCellStokesFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
 // determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+func fwSeepCellStokesFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}
