@@ -148,7 +148,7 @@ func galerkinNotes(m *Model) []Note {
 // space.
 func coefVaries(t ir.Expr) bool {
 	varies := false
-	ir.Inspect(t, func(e ir.Expr) bool {
+	ir.InspectOnce(t, func(e ir.Expr) bool {
 		if s, ok := e.(*ir.Sym); ok && s.Kind == ir.Coefficient && s.Deps.Spatial() {
 			varies = true
 		}
@@ -170,7 +170,7 @@ func advectionDivergences(m *Model, split []Split) []ir.Expr {
 			continue
 		}
 		for _, t := range additiveTerms(adv) {
-			ir.Inspect(t, func(e ir.Expr) bool {
+			ir.InspectOnce(t, func(e ir.Expr) bool {
 				d, ok := e.(*ir.Dot)
 				if !ok {
 					return true
@@ -335,7 +335,7 @@ func (m *Model) usesInverseEstimate() bool {
 	var uses func(e ir.Expr) bool
 	uses = func(e ir.Expr) bool {
 		found := false
-		ir.Inspect(e, func(x ir.Expr) bool {
+		ir.InspectOnce(e, func(x ir.Expr) bool {
 			s, ok := x.(*ir.Sym)
 			if !ok || found {
 				return !found

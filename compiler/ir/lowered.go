@@ -166,7 +166,7 @@ func (lf *LoweredForm) Validate() error {
 	var leafErr error
 	coef := func(e Expr) error {
 		leafErr = nil
-		Inspect(e, func(x Expr) bool {
+		InspectOnce(e, func(x Expr) bool {
 			if leafErr != nil {
 				return false
 			}

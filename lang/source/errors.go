@@ -179,14 +179,44 @@ func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 		src, ok := sources[e.Pos.File]
 		if ok && e.Pos.IsValid() && e.Msg != tooMany {
 			if line, ok := sourceLine(src, e.Pos); ok {
-				fmt.Fprintf(w, "    %s\n", Escape(strings.TrimRight(line, " \t\r")))
-				fmt.Fprintf(w, "    %s\n", caretLine(line, e.Pos, e.End))
+				line, pos, end := window(strings.TrimRight(line, " \t\r"), e.Pos, e.End)
+				fmt.Fprintf(w, "    %s\n", Escape(line))
+				fmt.Fprintf(w, "    %s\n", caretLine(line, pos, end))
 			}
 		}
 		if e.Hint != "" {
 			fmt.Fprintf(w, "    hint: %s\n", Escape(e.Hint))
 		}
 	}
+}
+
+// maxShown is the most runes of a source line Format shows; a longer line
+// is cut to a window around the error, with "…" where text was left out.
+const maxShown = 120
+
+// window cuts line to at most maxShown runes around column pos.Col and
+// shifts the columns of pos and end to match.
+func window(line string, pos, end Pos) (string, Pos, Pos) {
+	r := []rune(line)
+	if len(r) <= maxShown {
+		return line, pos, end
+	}
+	from := max(0, min(pos.Col-1-maxShown/2, len(r)-maxShown))
+	to := min(len(r), from+maxShown)
+	out := string(r[from:to])
+	shift := from
+	if from > 0 {
+		out = "…" + out
+		shift--
+	}
+	if to < len(r) {
+		out += "…"
+	}
+	pos.Col -= shift
+	if end.IsValid() {
+		end.Col -= shift
+	}
+	return out, pos, end
 }
 
 // sourceLine returns the text of line p.Line of src (without its

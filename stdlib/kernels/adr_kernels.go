@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("c8eb7b41972e238c9ffb1d0a6e531fb4", compiled.Kernels{
+	compiled.Register("83724b415bf465061a88efb35e804b01", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrGalerkinKernel{} },
 	})
-	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
+	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrSUPGKernel{} },
 	})
-	compiled.Register("35e2ce77c37d48c9161462a5bc1a03da", compiled.Kernels{
+	compiled.Register("9db8d7d6e62fae7ae464c562971e63b5", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return AdrGLSKernel{} },
 	})
-	compiled.Register("eb8b41a3da402c8a00d51bc9adca8858", compiled.Kernels{
+	compiled.Register("c83c1fc6ad747adaf2d9b0bb6d08992b", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("c86ed9a71ec8fe2d4f140cb485a2bc55", compiled.Kernels{
+	compiled.Register("52b72db38b980a57e0d18de0ed10146f", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatGalerkinKernel{} },
 	})
-	compiled.Register("be8e8e336c82671c4e681754551c7a6b", compiled.Kernels{
+	compiled.Register("933b47bf910e1589648c5bb51e587dae", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatSUPGKernel{} },
 	})
-	compiled.Register("4ad23dac15eef3ff4c1a243bbc262aaf", compiled.Kernels{
+	compiled.Register("3508bcfeb891554ece5278c98d891490", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return HeatGLSKernel{} },
 	})
-	compiled.Register("aa3815e6b6026a35efc28ab527fc9ecf", compiled.Kernels{
+	compiled.Register("64b5f572ae81b1b4adfc367707c2f03b", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,

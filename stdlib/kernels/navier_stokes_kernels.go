@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("f77894581e6982e374018d70b3542901", compiled.Kernels{
+	compiled.Register("5f1ef80d6df0e4fffcc638287d98c8c3", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesGalerkinKernel{} },
 	})
-	compiled.Register("cba2a9f518a5eaee8ade1fa80894961d", compiled.Kernels{
+	compiled.Register("497a3dbeff9a39dfef2cbee50db014c9", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesSUPGKernel{} },
 	})
-	compiled.Register("3665b58ca8326aa0e63c1822025d8a43", compiled.Kernels{
+	compiled.Register("f49a0b0a516d3d6998733bda53270c80", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesGLSKernel{} },
 	})
-	compiled.Register("fc225ee0e9b00cf0e83592e942ad041f", compiled.Kernels{
+	compiled.Register("614bbbca490977e50bc52f2ea2aa0843", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  2,
@@ -385,9 +385,9 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef7 := coef0 * coef34
 		coef5 := coef0 * coef1 * coef34
 		coef13 := coef1 * coef34
-		coef12 := c17 * p12 * 0.25
 		p17 := p7 * coef34
-		coef10 := 0.01 + coef12 + p17
+		coef12 := c17 * p12 * 0.25
+		coef10 := 0.01 + p17 + coef12
 		coef18 := p16 + 0.01 + coef12
 		coef25 := 0.01 + p17
 		p18 := coef0 * w
@@ -484,7 +484,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + τ_p + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
@@ -521,7 +521,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 3..5, columns 3..5:
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
@@ -757,9 +757,9 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef7 := coef0 * coef54
 		coef5 := coef0 * coef1 * coef54
 		coef18 := coef1 * coef54
-		coef17 := c17 * p12 * 0.25
 		p17 := p7 * coef54
-		coef15 := 0.01 + coef17 + p17
+		coef17 := c17 * p12 * 0.25
+		coef15 := 0.01 + p17 + coef17
 		coef28 := p16 + 0.01 + coef17
 		coef40 := 0.01 + p17
 		p18 := coef0 * w
@@ -860,7 +860,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + τ_p + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
@@ -903,7 +903,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		// At each quadrature point: rows 3..5, columns 3..5:
 		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
@@ -1069,9 +1069,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c24 := j10 * rdetJ
 	k10 := -c24
 	c25 := c24 - k00
-	c26 := pv[3] * c25
-	c27 := pv[4] * k00
-	c28 := pv[5] * c24
+	c26 := pv[0] * c25
+	c27 := pv[1] * k00
+	c28 := pv[2] * c24
 	c29 := c26 + c27 - c28
 	c30 := -j01
 	c31 := j01 * rdetJ
@@ -1082,15 +1082,15 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c34 := pv[4] * c31
 	c35 := pv[5] * k11
 	c36 := c33 - c34 + c35
-	c37 := c32 * pv[6]
-	c38 := c31 * pv[7]
-	c39 := k11 * pv[8]
-	c40 := c37 - c38 + c39
-	c41 := pv[0] * c25
-	c42 := pv[1] * k00
-	c43 := pv[2] * c24
-	c44 := c41 + c42 - c43
-	c45 := c36 + c44
+	c37 := c29 + c36
+	c38 := pv[3] * c25
+	c39 := pv[4] * k00
+	c40 := pv[5] * c24
+	c41 := c38 + c39 - c40
+	c42 := c32 * pv[6]
+	c43 := c31 * pv[7]
+	c44 := k11 * pv[8]
+	c45 := c42 - c43 + c44
 	c46 := pv[0] * c32
 	c47 := pv[1] * c31
 	c48 := pv[2] * k11
@@ -1147,37 +1147,37 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
 		coef58 := c17 * p17
-		p18 := p4 * c29
-		p19 := p9 * c36
-		p20 := p18 + p19 + c40
-		p21 := coef58 * p20
-		p22 := p9 * coef58 * c45
-		coef0 := p9 - p21 + p22
-		p23 := coef58 * c45
-		p24 := p4 * c44
-		p25 := p9 * c49
-		p26 := p24 + p25 + c53
-		p27 := coef58 * p26
-		p28 := p4 * coef58 * c45
-		coef2 := p4 - p27 + p28
+		p18 := p9 * coef58 * c37
+		p19 := p4 * c41
+		p20 := p9 * c36
+		p21 := p19 + p20 + c45
+		p22 := coef58 * p21
+		coef0 := p9 + p18 - p22
+		p23 := coef58 * c37
+		p24 := p4 * coef58 * c37
+		p25 := p4 * c29
+		p26 := p9 * c49
+		p27 := p25 + p26 + c53
+		p28 := coef58 * p27
+		coef2 := p4 + p24 - p28
 		coef4 := 1.0 + p23
 		p29 := p10 * coef58
-		p30 := p9 * coef58 * p21
+		p30 := p9 * coef58 * p22
 		coef5 := p29 - p30 + 0.01
-		p31 := coef58 * p21
 		coef54 := p9 * coef58
-		p32 := p4 * coef58 * p21
+		p31 := coef58 * p22
+		p32 := p4 * coef58 * p22
 		p33 := p4 * p9 * coef58
 		coef7 := p33 - p32
 		coef9 := coef54 - p31
 		coef56 := p4 * coef58
-		p34 := p9 * coef58 * p27
+		p34 := p9 * coef58 * p28
 		coef15 := p33 - p34
-		p35 := coef58 * p27
-		coef19 := c17 * p14 * 0.25
+		p35 := coef58 * p28
 		p36 := p5 * coef58
-		p37 := p4 * coef58 * p27
-		coef17 := 0.01 + coef19 + p36 - p37
+		p37 := p4 * coef58 * p28
+		coef19 := c17 * p14 * 0.25
+		coef17 := 0.01 + p36 - p37 + coef19
 		coef20 := coef56 - p35
 		coef32 := p29 - p30 + 0.01 + coef19
 		coef44 := 0.01 + p36 - p37
@@ -1285,22 +1285,22 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p139 := c24 * p132
 		p140 := -p139
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2] + vel′[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1] + vel′[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100 − τ_vel vel′[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100 − τ_vel vel′[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100 − τ_vel vel′[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + τ_p + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100 − τ_vel vel′[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
@@ -1316,9 +1316,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
 		// At each quadrature point: rows 0..2, columns 6..8:
 		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2] + τ_vel vel′[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] + τ_vel vel′[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
 		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
@@ -1341,22 +1341,22 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[22] += k10 * p89
 		acc[23] += k10 * p90
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2] + vel′[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1] + vel′[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100 − τ_vel vel′[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[2]/100 − τ_vel vel′[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100 − τ_vel vel′[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel previous(vel)[1]/100 − τ_vel vel′[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
@@ -1372,9 +1372,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
 		// At each quadrature point: rows 3..5, columns 6..8:
 		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2] + τ_vel vel′[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1] + τ_vel vel′[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
 		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115

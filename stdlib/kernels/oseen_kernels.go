@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("3fa45f1018cdb389e7243863e53e847b", compiled.Kernels{
+	compiled.Register("011b7f5f57bc54e67e31e71a65ad79b6", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenGalerkinKernel{} },
 	})
-	compiled.Register("7d516e76f99c6ac21f19a184f1919582", compiled.Kernels{
+	compiled.Register("6d7450aca99a3258ae388b5d620a2918", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenSUPGKernel{} },
 	})
-	compiled.Register("194e8ef43dd490b1c0d499caf057267a", compiled.Kernels{
+	compiled.Register("82f130526d3340879be4adef06ae3968", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return OseenGLSKernel{} },
 	})
-	compiled.Register("35c729c70de00fc4120ed02363656198", compiled.Kernels{
+	compiled.Register("a16b8d1881035b34874e61214c9c3803", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("e775ef33abea62d0eebe4d7018e09950", compiled.Kernels{
+	compiled.Register("5fc253a5c506996b2df4bc3793c7a296", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesGalerkinKernel{} },
 	})
-	compiled.Register("209a0b6f88c1f6b6505a4be8c8eb9350", compiled.Kernels{
+	compiled.Register("cb07d335abbf9fddaf2af9057de744b1", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesSUPGKernel{} },
 	})
-	compiled.Register("3af5823225cb349ec29c845f34061d70", compiled.Kernels{
+	compiled.Register("6431129f20b2a182e0486268df5f0236", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return StokesGLSKernel{} },
 	})
-	compiled.Register("d193dcd5c5c38a2d0367945919567539", compiled.Kernels{
+	compiled.Register("3860e23c078c2800b6a4cba9ec4758b2", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("6da21f1d3cee6fc8f450a956334ad9e1", compiled.Kernels{
+	compiled.Register("20b9eff814068ed61bd7074c2c6e8ee8", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return CrosswindPlumeGalerkinKernel{} },
 	})
-	compiled.Register("11c49f847816dafd505858664f2492ec", compiled.Kernels{
+	compiled.Register("ee753c6cb4032edb5a59b9f57da6a19b", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return CrosswindPlumeSUPGKernel{} },
 	})
-	compiled.Register("8a343232af74e5a7b5e216447b3fd27c", compiled.Kernels{
+	compiled.Register("a8280a33d6922fe0183dd677fd27c4d1", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return CrosswindPlumeGLSKernel{} },
 	})
-	compiled.Register("8d8f0b8d654a3dd10eb89bba50033ba1", compiled.Kernels{
+	compiled.Register("ff13a03eb93e63f3b2bf64c8406375f6", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("b5fa0c9aea1fb6aa6a5b3f3d1335a99f", compiled.Kernels{
+	compiled.Register("f7df27e5d6f8ab92aa14480a756af0f4", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return EstuaryMixingGalerkinKernel{} },
 	})
-	compiled.Register("edb196b603870fed514c43e6771a3a72", compiled.Kernels{
+	compiled.Register("9e184e837e41ae430b3afb54b0630fa8", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return EstuaryMixingSUPGKernel{} },
 	})
-	compiled.Register("16a1ac000464af80cee2318a577ce6a6", compiled.Kernels{
+	compiled.Register("26d3f71c9f16436a99208928020b51d1", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return EstuaryMixingGLSKernel{} },
 	})
-	compiled.Register("f72fde26ab696ad12505ffd1449219f8", compiled.Kernels{
+	compiled.Register("1df49e9172a387bf079836aabbfb0a8c", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  3,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("ed7abae3af71fa673f5c1fc7756bbc68", compiled.Kernels{
+	compiled.Register("ec0fbc09ef2e9b00bcb8358cbaecd27c", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Interval,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return RiverOutfallLayerGalerkinKernel{} },
 	})
-	compiled.Register("636eb83badee58e95ade0b63804b5065", compiled.Kernels{
+	compiled.Register("6181b75f4d7a4d6c3a7d22007f0cefbd", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Interval,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return RiverOutfallLayerSUPGKernel{} },
 	})
-	compiled.Register("8f99086b90efb109f50254405be6b8b8", compiled.Kernels{
+	compiled.Register("a305dc9bb73625536dd0d50d3bcc119d", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Interval,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return RiverOutfallLayerGLSKernel{} },
 	})
-	compiled.Register("b09bc5943f0e88a55ebc92cd229e628f", compiled.Kernels{
+	compiled.Register("b57b4bc2d8eddccf24442e823202fb41", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Interval,
 		Degree:  1,

@@ -13,25 +13,25 @@ import (
 )
 
 func init() {
-	compiled.Register("a3560d3703a6f08efeb6e43f4cf5557c", compiled.Kernels{
+	compiled.Register("76a7f6e410f52ef4c92fc948a44e831b", compiled.Kernels{
 		Method:  "galerkin",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SeepCellStokesGalerkinKernel{} },
 	})
-	compiled.Register("36434c0818ef73d963d384ec0bd0de27", compiled.Kernels{
+	compiled.Register("f0549d14058e57a9510bcb87f5783dec", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SeepCellStokesSUPGKernel{} },
 	})
-	compiled.Register("70de165bc77775bc5857b2fe0ae5af9c", compiled.Kernels{
+	compiled.Register("a43f420ad060295bef18f82b65b1ac31", compiled.Kernels{
 		Method:  "gls",
 		Cell:    cell.Triangle,
 		Degree:  1,
 		NewCell: func() kernel.Kernel { return SeepCellStokesGLSKernel{} },
 	})
-	compiled.Register("f1476d6d4824db2a72a2ff0b9fb4da8d", compiled.Kernels{
+	compiled.Register("9f4b687c4ecf7762c7f5b6e17c313867", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  1,

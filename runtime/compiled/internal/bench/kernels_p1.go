@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
+	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Triangle,
 		Degree:  1,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("60b865e61fabe0ac05fb96b780e9937d", compiled.Kernels{
+	compiled.Register("b5e8817a9e251ca007039d734ab17ad1", compiled.Kernels{
 		Method:  "supg",
 		Cell:    cell.Quadrilateral,
 		Degree:  5,
