@@ -237,7 +237,7 @@ func (s simplifier) add(e *ir.Add) ir.Expr {
 		}
 	}
 	type term struct {
-		c    *big.Rat
+		c     *big.Rat
 		rest  ir.Expr
 		p     source.Pos
 		field bool // rest holds a field
