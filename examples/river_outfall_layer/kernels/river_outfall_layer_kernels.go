@@ -14,33 +14,42 @@ import (
 
 func init() {
 	compiled.Register("ed7abae3af71fa673f5c1fc7756bbc68", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+		Method: "galerkin",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return GalerkinKernel{}
+		},
 	})
 	compiled.Register("636eb83badee58e95ade0b63804b5065", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+		Method: "supg",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SUPGKernel{}
+		},
 	})
 	compiled.Register("8f99086b90efb109f50254405be6b8b8", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+		Method: "gls",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return GLSKernel{}
+		},
 	})
 	compiled.Register("b09bc5943f0e88a55ebc92cd229e628f", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+		Method: "vms",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return VMSKernel{}
+		},
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwGalerkinLayout is the element layout of the galerkin kernels: interval
+// cells, fields in local dof order (field-major, then component, then element
+// node); 2 local dofs.
 var fwGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -49,9 +58,9 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// GalerkinKernel is the generated cell kernel of the galerkin form on interval
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type GalerkinKernel struct{}
 
 var _ kernel.Kernel = GalerkinKernel{}
@@ -77,17 +86,21 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows
+	// 0..1, columns 0..1.
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v              model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c1
 	A[1] = 0.5 - c1
 	A[2] = (-0.5) - c1
 	A[3] = 0.5 + c1
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwSUPGLayout is the element layout of the supg kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -96,9 +109,9 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// SUPGKernel is the generated cell kernel of the supg form on interval cells,
+// quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no state
+// and does not allocate.
 type SUPGKernel struct{}
 
 var _ kernel.Kernel = SUPGKernel{}
@@ -118,14 +131,14 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -136,18 +149,24 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows
+	// 0..1, columns 0..1.
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                   model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x       model.fw:18
+	//	SUPG: + Σ_K (τ_c R, L_A v)_K  model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x         model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwGLSLayout is the element layout of the gls kernels: interval cells, fields
+// in local dof order (field-major, then component, then element node); 2 local
+// dofs.
 var fwGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -156,9 +175,9 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// GLSKernel is the generated cell kernel of the gls form on interval cells,
+// quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no state
+// and does not allocate.
 type GLSKernel struct{}
 
 var _ kernel.Kernel = GLSKernel{}
@@ -178,14 +197,14 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -196,20 +215,26 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows
+	// 0..1, columns 0..1.
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                       model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x           model.fw:18
+	//	GLS: + Σ_K (τ_c R, L v)_K         model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x             model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x      model.fw:18
+	//	  −τ_c/500 · ∂c/∂x · ∂²v/∂x²      model.fw:18
+	//	  τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwVMSLayout is the element layout of the vms kernels: interval cells, fields
+// in local dof order (field-major, then component, then element node); 2 local
+// dofs.
 var fwVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -218,9 +243,9 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// VMSKernel is the generated cell kernel of the vms form on interval cells,
+// quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no state
+// and does not allocate.
 type VMSKernel struct{}
 
 var _ kernel.Kernel = VMSKernel{}
@@ -240,14 +265,14 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -258,12 +283,17 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (−τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows
+	// 0..1, columns 0..1.
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                        model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x            model.fw:18
+	//	VMS: − Σ_K (τ_c R, L* v)_K         model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x              model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x       model.fw:18
+	//	  τ_c/500 · ∂c/∂x · ∂²v/∂x²        model.fw:18
+	//	  −τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
