@@ -74,10 +74,11 @@ type node struct {
 	idx         int
 	tab         *table
 	stride, off int
-	// hint is the preferred variable name, of rank rank.
-	hint string
-	rank hintRank
-	elem int // lvBasis: 1 + the element whose basis loop computes the node
+	// hint is the preferred variable name, of rank rank; alt the name to
+	// take when hint is taken (model names only).
+	hint, alt string
+	rank      hintRank
+	elem      int // lvBasis: 1 + the element whose basis loop computes the node
 }
 
 type dag struct {
@@ -118,7 +119,7 @@ func (d *dag) intern(n node) int {
 	k := b.String()
 	if id, ok := d.index[k]; ok {
 		if n.rank > d.nodes[id].rank {
-			d.nodes[id].hint, d.nodes[id].rank = n.hint, n.rank
+			d.nodes[id].hint, d.nodes[id].alt, d.nodes[id].rank = n.hint, n.alt, n.rank
 		}
 		return id
 	}
@@ -172,6 +173,16 @@ func (d *dag) name(id int, hint string, rank hintRank) int {
 	n := &d.nodes[id]
 	if rank > n.rank && n.op != opConst && n.op != opLeaf {
 		n.hint, n.rank = hint, rank
+	}
+	return id
+}
+
+// nameModel names id after a model quantity: plain, or alt when plain is
+// taken (localName).
+func (d *dag) nameModel(id int, plain, alt string) int {
+	n := &d.nodes[id]
+	if hintModel > n.rank && n.op != opConst && n.op != opLeaf {
+		n.hint, n.alt, n.rank = plain, alt, hintModel
 	}
 	return id
 }

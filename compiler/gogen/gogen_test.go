@@ -24,7 +24,8 @@ var update = flag.Bool("update", false, "rewrite golden files")
 
 func generate(t *testing.T, file, src, pkg string) []byte {
 	t.Helper()
-	out, err := Generate(lowerAll(t, file, []byte(src)), Options{Package: pkg, ModelFile: file, CommandLine: "gen " + file + " --package " + pkg})
+	forms, derived := lowerDerived(t, file, []byte(src))
+	out, err := Generate(forms, Options{Package: pkg, ModelFile: file, CommandLine: "gen " + file + " --package " + pkg, Derived: derived})
 	if err != nil {
 		t.Fatalf("%s: %v", file, err)
 	}

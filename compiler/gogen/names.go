@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"go/token"
 	"regexp"
+	"slices"
 	"strings"
 	"unicode"
 )
@@ -53,8 +54,11 @@ var plainName = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9]*(_[A-Za-z0-9]+)*$`)
 var generatorName = regexp.MustCompile(`^((c|p|e|a|j|k|x|coef|basis|rowf|normal|metric)[0-9]+|detJ|rdetJ|w|surface|diameter|volume)$`)
 
 // localName is the variable name of component (i, j) of a model quantity
-// of the given rank.
-func localName(name string, rank, i, j int) string {
+// of the given rank: its plain name when that is safe (see above), and
+// its mangled name, which is always safe and differs from every other
+// quantity's. The scheduler takes mangled when plain is taken (a scalar
+// a_1 and component 1 of a vector a).
+func localName(name string, rank, i, j int) (plain, mangled string) {
 	suffix := ""
 	switch rank {
 	case 1:
@@ -62,19 +66,20 @@ func localName(name string, rank, i, j int) string {
 	case 2:
 		suffix = fmt.Sprintf("_%d_%d", i+1, j+1)
 	}
+	mangled = "m_" + Mangle(name) + suffix
 	s := name + suffix
 	if plainName.MatchString(s) && strings.ContainsFunc(s, unicode.IsLower) && !strings.HasPrefix(s, "fw") &&
 		!strings.HasPrefix(s, "m_") && !generatorName.MatchString(s) && !reservedWord(s) {
-		return s
+		return s, mangled
 	}
-	return "m_" + Mangle(name) + suffix
+	return mangled, mangled
 }
 
 // reservedWord reports whether s is a keyword or predeclared identifier of
 // Go, a keyword or alternative operator spelling of C99, C11 or C++11, or
 // a name of the C library the C kernels use.
 func reservedWord(s string) bool {
-	return token.IsKeyword(s) || reserved[s]
+	return token.IsKeyword(s) || reserved[s] || slices.Contains(reservedLocals, s)
 }
 
 var reserved = func() map[string]bool {

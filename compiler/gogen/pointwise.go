@@ -122,7 +122,7 @@ func (g *bodyGen) pointwise(bil, lin []*block, sym bool, cm *commenter, side str
 			if sym && b.ro > b.co {
 				continue
 			}
-			la := loopAccum{comment: cm.blockComment("At each quadrature point, all basis-function pairs: "+b.span()+".", gs, side),
+			la := loopAccum{comment: cm.blockComment(upper(b.span())+", at each quadrature point, in a loop over all basis-function pairs.", gs, side),
 				ro: b.ro, co: b.co, nr: b.nr, nc: b.nc, upper: sym && b.ro == b.co}
 			for _, be := range betas {
 				v := g.basisSum(b.tei, symA, be.tDs)
@@ -147,7 +147,7 @@ func (g *bodyGen) pointwise(bil, lin []*block, sym bool, cm *commenter, side str
 					continue
 				}
 				if first {
-					e.comment = cm.blockComment("At each quadrature point: "+b.span()+".", gs, side)
+					e.comment = cm.blockComment(upper(b.span())+", at each quadrature point.", gs, side)
 					first = false
 				}
 				out = append(out, e)
@@ -161,7 +161,7 @@ func (g *bodyGen) pointwise(bil, lin []*block, sym bool, cm *commenter, side str
 		}
 		weight()
 		if g.loop {
-			la := loopAccum{comment: cm.blockComment("At each quadrature point, all basis functions: "+b.span()+".", gs, side), ro: b.ro, nr: b.nr}
+			la := loopAccum{comment: cm.blockComment(upper(b.span())+", at each quadrature point, in a loop over all basis functions.", gs, side), ro: b.ro, nr: b.nr}
 			for _, gr := range gs {
 				v, wc := g.basis(b.tei, symA, gr.key.tD), g.d.mul(w, gr.coef)
 				la.pairs = append(la.pairs, [2]int{v, wc})
@@ -181,7 +181,7 @@ func (g *bodyGen) pointwise(bil, lin []*block, sym bool, cm *commenter, side str
 				continue
 			}
 			if first {
-				e.comment = cm.blockComment("At each quadrature point: "+b.span()+".", gs, side)
+				e.comment = cm.blockComment(upper(b.span())+", at each quadrature point.", gs, side)
 				first = false
 			}
 			out = append(out, e)

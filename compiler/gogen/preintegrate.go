@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 )
 
 // Pre-integration on affine cells (the tensor-contraction representation
@@ -179,6 +180,9 @@ func (b *block) pick(cellA bool) []*group {
 	return out
 }
 
+// upper capitalises the first letter of s.
+func upper(s string) string { return strings.ToUpper(s[:1]) + s[1:] }
+
 // span names the entries of a block for its comment.
 func (b *block) span() string {
 	if b.nc == 0 {
@@ -290,7 +294,7 @@ func (g *bodyGen) preIntegrate(blocks []*block, sym bool, cm *commenter, side st
 					continue
 				}
 				if first {
-					e.comment = cm.blockComment("Integrated in advance (affine cell, coefficients constant in the cell): "+b.span()+".", gs, side)
+					e.comment = cm.blockComment(upper(b.span())+", integrated in advance (affine cell, coefficients constant in the cell).", gs, side)
 					first = false
 				}
 				out = append(out, e)

@@ -163,10 +163,12 @@ func (s *scheduler) define(need map[int]bool, lv level, elem int) []stmt {
 }
 
 func (s *scheduler) newName(id int, lv level) string {
-	if h := s.d.nodes[id].hint; h != "" && !s.used[h] {
-		s.used[h] = true
-		s.names[id] = h
-		return h
+	for _, h := range []string{s.d.nodes[id].hint, s.d.nodes[id].alt} {
+		if h != "" && !s.used[h] {
+			s.used[h] = true
+			s.names[id] = h
+			return h
+		}
 	}
 	prefix := "c"
 	switch lv {

@@ -614,7 +614,8 @@ func (g *bodyGen) coef(e ir.Expr) int {
 		if id, ok := g.named[e]; ok {
 			return id
 		}
-		id := g.d.name(g.coef(e.X), localName(e.Sym.Name, e.Sym.R, e.I, e.J), hintModel)
+		plain, mangled := localName(e.Sym.Name, e.Sym.R, e.I, e.J)
+		id := g.d.nameModel(g.coef(e.X), plain, mangled)
 		g.named[e] = id
 		return id
 	case *ir.Num:

@@ -112,8 +112,8 @@ func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/2 · ∂c/∂y · v        adr.fw:12
@@ -129,8 +129,8 @@ func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[6] = (1.0/6)*(-c17-c18) + 0.5*(-c22-c24)
 	A[7] = (1.0/6)*c17 + 0.5*c22
 	A[8] = (1.0/6)*c18 + 0.5*c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v  adr.fw:12
@@ -255,8 +255,8 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/2 · ∂c/∂y · v             adr.fw:12
@@ -281,8 +281,8 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
 	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
 	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v              adr.fw:12
@@ -410,8 +410,8 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/2 · ∂c/∂y · v                adr.fw:12
@@ -444,8 +444,8 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
 	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
 	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v                   adr.fw:12
@@ -575,8 +575,8 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/2 · ∂c/∂y · v                 adr.fw:12
@@ -609,8 +609,8 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
 	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
 	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v                  adr.fw:12

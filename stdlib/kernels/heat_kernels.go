@@ -120,8 +120,8 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/time_step · temp · v   heat.fw:15
@@ -146,7 +146,7 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef4 := coef0 * p4
 		w := detJ * fwHeatGalerkinCellWeights[q]
 		p5 := coef4 * w
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v  heat.fw:15
@@ -280,8 +280,8 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/time_step · temp · v           heat.fw:15
@@ -313,7 +313,7 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatSUPGCellWeights[q]
 		p5 := coef7 * w
 		p6 := coef8 * w
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v           heat.fw:15
@@ -449,8 +449,8 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/time_step · temp · v                   heat.fw:15
@@ -490,7 +490,7 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatGLSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                   heat.fw:15
@@ -628,8 +628,8 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/time_step · temp · v                  heat.fw:15
@@ -669,7 +669,7 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatVMSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                  heat.fw:15

@@ -125,8 +125,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
@@ -140,8 +140,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[18] += 0.5 * (-c20 - c22)
 	acc[19] += 0.5 * c20
 	acc[20] += 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
@@ -154,8 +154,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[24] += (1.0 / 6) * (-j11 - c10)
 	acc[25] += (1.0 / 6) * j11
 	acc[26] += (1.0 / 6) * c10
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
@@ -169,8 +169,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[48] += 0.5 * (-c20 - c22)
 	acc[49] += 0.5 * c20
 	acc[50] += 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
@@ -183,8 +183,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[51] += (1.0 / 6) * (-c3 - j00)
 	acc[52] += (1.0 / 6) * c3
 	acc[53] += (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
@@ -197,8 +197,8 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[72] += (1.0 / 6) * (-j11 - c10)
 	acc[73] += (1.0 / 6) * j11
 	acc[74] += (1.0 / 6) * c10
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
@@ -232,7 +232,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p15 := p14 - p9
 		p16 := p11 * c25
 		p17 := p10 - p16
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
@@ -246,7 +246,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p13
 		acc[19] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p15
 		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
-		// At each quadrature point: rows 3..5, columns 3..5.
+		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
@@ -348,8 +348,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
@@ -362,8 +362,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[24] += (1.0 / 6) * (-j11 - c23)
 	acc[25] += (1.0 / 6) * j11
 	acc[26] += (1.0 / 6) * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
@@ -376,8 +376,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[51] += (1.0 / 6) * (-c24 - j00)
 	acc[52] += (1.0 / 6) * c24
 	acc[53] += (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
@@ -390,8 +390,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[72] += (1.0 / 6) * (-j11 - c23)
 	acc[73] += (1.0 / 6) * j11
 	acc[74] += (1.0 / 6) * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
@@ -519,7 +519,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p100 := k00 * p94
 		p101 := c27 * p94
 		p102 := -p101
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
@@ -546,7 +546,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
 		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		// At each quadrature point: rows 0..2, columns 6..8.
+		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
@@ -560,7 +560,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += k11*p51 + k10*p56
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
-		// At each quadrature point: rows 0..2, columns 3..5.
+		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_p R, L_A v)_K       navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
@@ -573,7 +573,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p61
 		acc[22] += k10 * p63
 		acc[23] += k10 * p64
-		// At each quadrature point: rows 3..5, columns 3..5.
+		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
@@ -600,7 +600,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
 		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
-		// At each quadrature point: rows 3..5, columns 6..8.
+		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
@@ -614,7 +614,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += k11*p79 + k10*p83
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
-		// At each quadrature point: rows 3..5, columns 0..2.
+		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_p R, L_A v)_K       navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
@@ -627,7 +627,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p87
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
-		// At each quadrature point: rows 6..8, columns 0..2.
+		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
@@ -643,7 +643,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p91
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
-		// At each quadrature point: rows 6..8, columns 3..5.
+		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
@@ -659,7 +659,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p91
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
-		// At each quadrature point: rows 6..8, columns 6..8.
+		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R, L_A v)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
@@ -761,8 +761,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
@@ -775,8 +775,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[24] += (1.0 / 6) * (-j11 - c23)
 	acc[25] += (1.0 / 6) * j11
 	acc[26] += (1.0 / 6) * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
@@ -789,8 +789,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[51] += (1.0 / 6) * (-c24 - j00)
 	acc[52] += (1.0 / 6) * c24
 	acc[53] += (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
@@ -803,8 +803,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[72] += (1.0 / 6) * (-j11 - c23)
 	acc[73] += (1.0 / 6) * j11
 	acc[74] += (1.0 / 6) * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
@@ -932,7 +932,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p100 := k00 * p94
 		p101 := c27 * p94
 		p102 := -p101
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
@@ -967,7 +967,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
 		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		// At each quadrature point: rows 0..2, columns 6..8.
+		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
@@ -983,7 +983,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += k11*p51 + k10*p56
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
-		// At each quadrature point: rows 0..2, columns 3..5.
+		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_p R, L v)_K          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
@@ -996,7 +996,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p61
 		acc[22] += k10 * p63
 		acc[23] += k10 * p64
-		// At each quadrature point: rows 3..5, columns 3..5.
+		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
@@ -1031,7 +1031,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
 		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
-		// At each quadrature point: rows 3..5, columns 6..8.
+		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
@@ -1047,7 +1047,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += k11*p79 + k10*p83
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
-		// At each quadrature point: rows 3..5, columns 0..2.
+		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_p R, L v)_K          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
@@ -1060,7 +1060,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p87
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
-		// At each quadrature point: rows 6..8, columns 0..2.
+		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
@@ -1076,7 +1076,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p91
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
-		// At each quadrature point: rows 6..8, columns 3..5.
+		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
@@ -1092,7 +1092,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p91
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
-		// At each quadrature point: rows 6..8, columns 6..8.
+		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R, L v)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
@@ -1219,8 +1219,8 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
@@ -1233,8 +1233,8 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[72] += (1.0 / 6) * (-j11 - c23)
 	acc[73] += (1.0 / 6) * j11
 	acc[74] += (1.0 / 6) * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
@@ -1404,7 +1404,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p138 := k00 * p132
 		p139 := c24 * p132
 		p140 := -p139
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
@@ -1454,7 +1454,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p55 + k10*p66
 		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p57 + k10*p68
 		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
-		// At each quadrature point: rows 0..2, columns 6..8.
+		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  ∂p/∂x · v_vel[1]                                        navier_stokes.fw:16
@@ -1475,7 +1475,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p77 + k10*p82
 		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
 		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p85
-		// At each quadrature point: rows 0..2, columns 3..5.
+		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_p R, L* v)_K         navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
@@ -1488,7 +1488,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p87
 		acc[22] += k10 * p89
 		acc[23] += k10 * p90
-		// At each quadrature point: rows 3..5, columns 3..5.
+		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
@@ -1538,7 +1538,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p95 + k10*p100
 		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p96 + k10*p102
 		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
-		// At each quadrature point: rows 3..5, columns 6..8.
+		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  ∂p/∂y · v_vel[2]                                        navier_stokes.fw:16
@@ -1559,7 +1559,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p105 + k11*p109 + k10*p113
 		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p107 + k11*p111 + k10*p115
 		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
-		// At each quadrature point: rows 3..5, columns 0..2.
+		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_p R, L* v)_K         navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
@@ -1572,7 +1572,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p117
 		acc[46] += k11 * p118
 		acc[47] += k11 * p120
-		// At each quadrature point: rows 6..8, columns 0..2.
+		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R, L* v)_K                 navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
@@ -1588,7 +1588,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p127
 		acc[73] += k10 * p129
 		acc[74] += k10 * p131
-		// At each quadrature point: rows 6..8, columns 3..5.
+		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R, L* v)_K                 navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
@@ -1604,7 +1604,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p127
 		acc[76] += k11 * p129
 		acc[77] += k11 * p131
-		// At each quadrature point: rows 6..8, columns 6..8.
+		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R, L* v)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22

@@ -113,8 +113,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(A)
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_vel[1]              oseen.fw:12
@@ -129,8 +129,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = (1.0/6)*(-j11-c3) + 0.5*(-c20-c22)
 	A[19] = (1.0/6)*j11 + 0.5*c20
 	A[20] = (1.0/6)*c3 + 0.5*c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  oseen.fw:12
@@ -143,8 +143,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c3)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂x · v_vel[2]              oseen.fw:12
@@ -159,8 +159,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = (1.0/6)*(-j11-c3) + 0.5*(-c20-c22)
 	A[49] = (1.0/6)*j11 + 0.5*c20
 	A[50] = (1.0/6)*c3 + 0.5*c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  oseen.fw:12
@@ -173,8 +173,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c4 - j00)
 	A[52] = (1.0 / 6) * c4
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  oseen.fw:12
@@ -187,8 +187,8 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c3)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  oseen.fw:12
@@ -394,8 +394,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_vel[1]                     oseen.fw:12
@@ -416,8 +416,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
 	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
 	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]              oseen.fw:12
@@ -432,8 +432,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[25] = (1.0/6)*j11 + tau_vel*c60
 	A[26] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_p R, L_A v)_K       oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
@@ -446,8 +446,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂x · v_vel[2]                     oseen.fw:12
@@ -468,8 +468,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
 	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
 	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]              oseen.fw:12
@@ -484,8 +484,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
 	A[52] = (1.0/6)*c30 + tau_vel*c121
 	A[53] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_p R, L_A v)_K       oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
@@ -498,8 +498,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
@@ -516,8 +516,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[73] = (1.0/6)*j11 + tau_vel*c60
 	A[74] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
@@ -534,8 +534,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
 	A[76] = (1.0/6)*c30 + tau_vel*c120
 	A[77] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
@@ -742,8 +742,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_vel[1]                        oseen.fw:12
@@ -770,8 +770,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
 	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
 	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                     oseen.fw:12
@@ -788,8 +788,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[25] = (1.0/6)*j11 + tau_vel*c60
 	A[26] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_p R, L v)_K          oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
@@ -802,8 +802,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂x · v_vel[2]                        oseen.fw:12
@@ -830,8 +830,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
 	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
 	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                     oseen.fw:12
@@ -848,8 +848,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
 	A[52] = (1.0/6)*c30 + tau_vel*c121
 	A[53] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_p R, L v)_K          oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
@@ -862,8 +862,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
@@ -880,8 +880,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[73] = (1.0/6)*j11 + tau_vel*c60
 	A[74] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
@@ -898,8 +898,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
 	A[76] = (1.0/6)*c30 + tau_vel*c120
 	A[77] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R, L v)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
@@ -1106,8 +1106,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_vel[1]                         oseen.fw:12
@@ -1134,8 +1134,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
 	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
 	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                    oseen.fw:12
@@ -1152,8 +1152,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[25] = (1.0/6)*j11 + tau_vel*c60
 	A[26] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_p R, L* v)_K         oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
@@ -1166,8 +1166,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂x · v_vel[2]                         oseen.fw:12
@@ -1194,8 +1194,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
 	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
 	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                    oseen.fw:12
@@ -1212,8 +1212,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
 	A[52] = (1.0/6)*c30 + tau_vel*c121
 	A[53] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_p R, L* v)_K         oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
@@ -1226,8 +1226,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
@@ -1244,8 +1244,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
 	A[73] = (1.0/6)*j11 + tau_vel*c60
 	A[74] = (1.0/6)*c29 + tau_vel*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
@@ -1262,8 +1262,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
 	A[76] = (1.0/6)*c30 + tau_vel*c120
 	A[77] = (1.0/6)*j00 + tau_vel*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R, L* v)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16

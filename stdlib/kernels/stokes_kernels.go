@@ -108,8 +108,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(A)
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
@@ -122,8 +122,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c3)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y  stokes.fw:11
@@ -137,8 +137,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c15 - c17)
 	A[19] = 0.5 * c15
 	A[20] = 0.5 * c17
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
@@ -151,8 +151,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c4 - j00)
 	A[52] = (1.0 / 6) * c4
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
@@ -166,8 +166,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c15 - c17)
 	A[49] = 0.5 * c15
 	A[50] = 0.5 * c17
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
@@ -180,8 +180,8 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c3)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
@@ -313,8 +313,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
@@ -327,8 +327,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y      stokes.fw:11
@@ -342,8 +342,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
@@ -356,8 +356,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
@@ -370,8 +370,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
@@ -384,8 +384,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
@@ -399,8 +399,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
@@ -416,8 +416,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
@@ -433,8 +433,8 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
@@ -567,8 +567,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                 stokes.fw:11
@@ -584,8 +584,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y              stokes.fw:11
@@ -604,8 +604,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
@@ -618,8 +618,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                 stokes.fw:11
@@ -635,8 +635,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
@@ -649,8 +649,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y          stokes.fw:11
@@ -669,8 +669,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
@@ -686,8 +686,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
@@ -703,8 +703,8 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R, L v)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
@@ -837,8 +837,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                stokes.fw:11
@@ -854,8 +854,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y               stokes.fw:11
@@ -874,8 +874,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
@@ -888,8 +888,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                stokes.fw:11
@@ -905,8 +905,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
@@ -919,8 +919,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y           stokes.fw:11
@@ -939,8 +939,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
@@ -956,8 +956,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
@@ -973,8 +973,8 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R, L* v)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16

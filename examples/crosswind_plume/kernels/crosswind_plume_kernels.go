@@ -115,8 +115,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  a[2] · ∂temp/∂y · v           model.fw:13
@@ -250,8 +250,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  a[2] · ∂temp/∂y · v                        model.fw:13
@@ -394,8 +394,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  a[2] · ∂temp/∂y · v                          model.fw:13
@@ -546,8 +546,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  a[2] · ∂temp/∂y · v                           model.fw:13

@@ -101,8 +101,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/10 · salt · v  model.fw:17
@@ -115,8 +115,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0 / 24) * c3
 	acc[7] += (1.0 / 24) * c3
 	acc[8] += (1.0 / 12) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v  model.fw:17
@@ -161,7 +161,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p28 := k00 * p22
 		p29 := c6 * p22
 		p30 := -p29
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  a[2] · ∂salt/∂y · v   model.fw:12
@@ -255,8 +255,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/10 · salt · v  model.fw:17
@@ -269,8 +269,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0 / 24) * c21
 	acc[7] += (1.0 / 24) * c21
 	acc[8] += (1.0 / 12) * c21
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v  model.fw:17
@@ -367,7 +367,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p71 := p64 - p70
 		p72 := coef14 * w
 		p73 := coef15 * w
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  a[2] · ∂salt/∂y · v                             model.fw:12
@@ -396,7 +396,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[6] += fwSUPGCellBasis1Val[q][2]*p31 + k11*p49 + k10*p67
 		acc[7] += fwSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
 		acc[8] += fwSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_salt R, L_A v)_K  model.fw:20
 		//	  a[2] τ_salt · ∂v/∂y  model.fw:17
@@ -590,7 +590,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p87 := coef25 * w
 		p88 := coef26 * w
 		p89 := coef28 * w
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  1/10 · salt · v                                   model.fw:17
@@ -643,7 +643,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[6] += fwGLSCellBasis1Val[q][2]*p47 + k11*p65 + k10*p82
 		acc[7] += fwGLSCellBasis1Val[q][2]*p49 + k11*p67 + k10*p84
 		acc[8] += fwGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  v                               model.fw:17
@@ -853,7 +853,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p96 := coef25 * w
 		p97 := coef26 * w
 		p98 := coef28 * w
-		// At each quadrature point: rows 0..2, columns 0..2.
+		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  1/10 · salt · v                                      model.fw:17
@@ -911,7 +911,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[6] += fwVMSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p91
 		acc[7] += fwVMSCellBasis1Val[q][2]*p57 + k11*p75 + k10*p93
 		acc[8] += fwVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
-		// At each quadrature point: rows 0..2 of the right-hand side.
+		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  v                              model.fw:17

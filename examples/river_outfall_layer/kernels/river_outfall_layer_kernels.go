@@ -86,8 +86,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..1, columns 0..1.
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂c/∂x · v              model.fw:18
@@ -149,8 +149,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..1, columns 0..1.
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂c/∂x · v                   model.fw:18
@@ -215,8 +215,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..1, columns 0..1.
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂c/∂x · v                       model.fw:18
@@ -283,8 +283,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..1, columns 0..1.
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂c/∂x · v                        model.fw:18

@@ -119,8 +119,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[6] = 0
 	b[7] = 0
 	b[8] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  model.fw:15
@@ -133,8 +133,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c3)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
@@ -148,8 +148,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c20 - c22)
 	A[19] = 0.5 * c20
 	A[20] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  model.fw:15
@@ -162,8 +162,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c4 - j00)
 	A[52] = (1.0 / 6) * c4
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:15
@@ -177,8 +177,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c20 - c22)
 	A[49] = 0.5 * c20
 	A[50] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p  model.fw:15
@@ -191,8 +191,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c3)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p  model.fw:15
@@ -205,8 +205,8 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c4 - j00)
 	A[76] = (1.0 / 6) * c4
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5 of the right-hand side.
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  −981/100 · v_vel[2]  model.fw:15
@@ -351,8 +351,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]  model.fw:15
@@ -365,8 +365,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
@@ -380,8 +380,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
@@ -394,8 +394,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]  model.fw:15
@@ -408,8 +408,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
@@ -422,8 +422,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:16
@@ -437,8 +437,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
@@ -454,8 +454,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
@@ -471,8 +471,8 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
@@ -486,16 +486,16 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5 of the right-hand side.
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  −981/100 · v_vel[2]  model.fw:15
 	b[3] = (1.0 / 6) * c83
 	b[4] = (1.0 / 6) * c83
 	b[5] = (1.0 / 6) * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8 of the right-hand side.
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
@@ -640,8 +640,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                    model.fw:15
@@ -657,8 +657,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             model.fw:15
@@ -677,8 +677,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
@@ -691,8 +691,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                    model.fw:15
@@ -708,8 +708,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
@@ -722,8 +722,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             model.fw:16
@@ -742,8 +742,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
@@ -759,8 +759,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
@@ -776,8 +776,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
@@ -791,8 +791,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5 of the right-hand side.
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  −981/100 · v_vel[2]           model.fw:15
@@ -802,8 +802,8 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[3] = (1.0 / 6) * c83
 	b[4] = (1.0 / 6) * c83
 	b[5] = (1.0 / 6) * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8 of the right-hand side.
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
@@ -948,8 +948,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 6..8.
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂x · v_vel[1]                   model.fw:15
@@ -965,8 +965,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[24] = (1.0 / 6) * (-j11 - c20)
 	A[25] = (1.0 / 6) * j11
 	A[26] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y              model.fw:15
@@ -985,8 +985,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 3..5.
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
@@ -999,8 +999,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 6..8.
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂p/∂y · v_vel[2]                   model.fw:15
@@ -1016,8 +1016,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[51] = (1.0 / 6) * (-c21 - j00)
 	A[52] = (1.0 / 6) * c21
 	A[53] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 0..2.
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
@@ -1030,8 +1030,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5, columns 3..5.
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y              model.fw:16
@@ -1050,8 +1050,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 0..2.
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
@@ -1067,8 +1067,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[72] = (1.0 / 6) * (-j11 - c20)
 	A[73] = (1.0 / 6) * j11
 	A[74] = (1.0 / 6) * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 3..5.
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
@@ -1084,8 +1084,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[75] = (1.0 / 6) * (-c21 - j00)
 	A[76] = (1.0 / 6) * c21
 	A[77] = (1.0 / 6) * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8, columns 6..8.
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
@@ -1099,8 +1099,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 3..5 of the right-hand side.
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  −981/100 · v_vel[2]            model.fw:15
@@ -1110,8 +1110,8 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[3] = (1.0 / 6) * c83
 	b[4] = (1.0 / 6) * c83
 	b[5] = (1.0 / 6) * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 6..8 of the right-hand side.
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15

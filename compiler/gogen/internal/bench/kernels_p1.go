@@ -139,8 +139,8 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwP1FillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2, columns 0..2.
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  1/2 · ∂c/∂y · v             adr.fw:12
@@ -165,8 +165,8 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
 	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
 	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows
-	// 0..2 of the right-hand side.
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
 	//
 	//	Galerkin: the Galerkin form B(u; v) = F(v)
 	//	  v              adr.fw:12

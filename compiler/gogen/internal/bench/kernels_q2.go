@@ -205,7 +205,8 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 			basis3[a0] = e21
 			basis4[a0] = e26
 		}
-		// At each quadrature point, all basis-function pairs: rows 0..8, columns 0..8.
+		// Rows 0..8, columns 0..8, at each quadrature point, in a loop over all
+		// basis-function pairs.
 		//
 		//	Galerkin: the Galerkin form B(u; v) = F(v)
 		//	  1/2 · ∂c/∂y · v             adr_q2.fw:12
@@ -229,8 +230,8 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 			for j := 0; j < len(row); j++ {
 				row[j] += rowf0*basis2[j] + rowf1*basis3[j] + rowf2*basis4[j]
 			}
-			// At each quadrature point, all basis functions: rows 0..8 of the right-hand
-			// side.
+			// Rows 0..8 of the right-hand side, at each quadrature point, in a loop over
+			// all basis functions.
 			//
 			//	Galerkin: the Galerkin form B(u; v) = F(v)
 			//	  v              adr_q2.fw:12
