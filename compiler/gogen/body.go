@@ -52,7 +52,7 @@ func (g *bodyGen) body(gs []*group, sym bool, cm *commenter, side string) (*body
 		out = append(out, w.accumulated(pre, point, loops, roots, perPoint)...)
 	}
 	return &bodyPlan{facet: -1, points: g.nq, sym: sym, stmts: out, tables: g.order, prev: g.usesPrev,
-		usesSign: sc.usesSign, usesMinMax: sc.usesMinMax}, nil
+		usesSign: sc.usesSign, usesMin: sc.usesMin, usesMax: sc.usesMax}, nil
 }
 
 // previous makes the previous iterate available (zeros when the input has

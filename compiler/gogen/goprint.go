@@ -136,7 +136,7 @@ func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
 	}
 	tf.SetLines(lines)
 	var buf bytes.Buffer
-	cfg := printer.Config{Mode: printer.UseSpaces | printer.TabIndent, Tabwidth: 8}
+	cfg := printer.Config{Mode: printer.RawFormat | printer.UseSpaces | printer.TabIndent, Tabwidth: 8}
 	if err := cfg.Fprint(&buf, fset, file); err != nil {
 		return nil, &BrokenError{Err: err}
 	}

@@ -19,6 +19,13 @@ import (
 // declares.
 func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 	t.Helper()
+	forms, _ := lowerDerivation(t, file, src)
+	return forms
+}
+
+// lowerDerivation is lowerAll that also returns the derivation.
+func lowerDerivation(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, *compiler.Derivation) {
+	t.Helper()
 	f, errs := lang.Parse(file, src)
 	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
 	errs = append(errs, cerrs...)
@@ -43,7 +50,7 @@ func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 		}
 		out = append(out, lf)
 	}
-	return out
+	return out, d
 }
 
 func stdModel(t testing.TB, name string) (string, []byte) {
@@ -309,14 +316,6 @@ func derivedOf(d *compiler.Derivation) map[string]Derived {
 // lowerDerived is lowerAll with the derived forms for the comments.
 func lowerDerived(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, map[string]Derived) {
 	t.Helper()
-	f, errs := lang.Parse(file, src)
-	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
-	if len(errs)+len(cerrs) > 0 {
-		t.Fatalf("%s does not check", file)
-	}
-	d, err := compiler.Derive(m, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return lowerAll(t, file, src), derivedOf(d)
+	forms, d := lowerDerivation(t, file, src)
+	return forms, derivedOf(d)
 }

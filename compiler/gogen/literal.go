@@ -2,7 +2,6 @@ package gogen
 
 import (
 	"math"
-	"math/big"
 	"strconv"
 	"strings"
 )
@@ -21,8 +20,8 @@ import (
 //     (strconv.FormatFloat with precision −1), e.g. 0.01 or
 //     2.23606797749979.
 //
-// The rational is found from the continued fraction of the exact binary
-// value of v: if v is the double nearest to p/q with q ≤ 10⁶, then
+// The rational is found from the continued fraction of v: if v is the
+// double nearest to p/q with q ≤ 10⁶, then
 // |v − p/q| ≤ 2⁻⁵³|v| < 1/(2q²) for |v| < 4·10³, so p/q is a convergent
 // (Legendre's theorem; Hardy & Wright, An Introduction to the Theory of
 // Numbers, Thm. 184 [memory]); the first convergent that reads back as v
@@ -92,29 +91,31 @@ func terminating(q int64) bool {
 }
 
 // ratio returns p/q, q ≤ maxDenominator, with float64(p)/float64(q) == v
-// for a positive finite v that is not an integer, if there is one.
+// for a positive finite v that is not an integer, if it finds one. The
+// convergents come from the continued fraction of v computed in floating
+// point, whose few steps up to q = 10⁶ lose far less than the precision
+// the partial quotients need; the exact test decides.
 func ratio(v float64) (p, q int64, ok bool) {
 	if !(v > 0) || v >= 4e3 || v < 1e-6 {
 		return 0, 0, false
 	}
-	x := new(big.Rat).SetFloat64(v) // exact
-	num, den := new(big.Int).Set(x.Num()), new(big.Int).Set(x.Denom())
-	// Convergents h/k of the continued fraction of num/den.
-	h0, h1 := big.NewInt(0), big.NewInt(1)
-	k0, k1 := big.NewInt(1), big.NewInt(0)
-	a, r := new(big.Int), new(big.Int)
-	for den.Sign() != 0 {
-		a.QuoRem(num, den, r)
-		h2 := new(big.Int).Add(new(big.Int).Mul(a, h1), h0)
-		k2 := new(big.Int).Add(new(big.Int).Mul(a, k1), k0)
-		if !k2.IsInt64() || k2.Int64() > maxDenominator {
-			return 0, 0, false
+	h0, h1 := 0.0, 1.0
+	k0, k1 := 1.0, 0.0
+	x := v
+	for i := 0; i < 64; i++ {
+		t := math.Floor(x)
+		h0, h1 = h1, t*h1+h0
+		k0, k1 = k1, t*k1+k0
+		if k1 > maxDenominator {
+			break
 		}
-		h0, h1, k0, k1 = h1, h2, k1, k2
-		if float64(h1.Int64())/float64(k1.Int64()) == v {
-			return h1.Int64(), k1.Int64(), true
+		if h1/k1 == v {
+			return int64(h1), int64(k1), true
 		}
-		num, den = den, new(big.Int).Set(r)
+		if x == t {
+			break
+		}
+		x = 1 / (x - t)
 	}
 	return 0, 0, false
 }

@@ -37,7 +37,8 @@ func planFile(forms []*ir.LoweredForm, p plan) (*kernelFile, error) {
 		}
 		for _, b := range fp.bodies() {
 			kf.usesSign = kf.usesSign || b.usesSign
-			kf.usesMinMax = kf.usesMinMax || b.usesMinMax
+			kf.usesMin = kf.usesMin || b.usesMin
+			kf.usesMax = kf.usesMax || b.usesMax
 		}
 		kf.forms = append(kf.forms, fp)
 	}

@@ -16,8 +16,8 @@ type scheduler struct {
 	names   map[int]string
 	used    map[string]bool
 	counter map[level]int
-	// usesSign and usesMinMax record the helpers the definitions call.
-	usesSign, usesMinMax bool
+	// usesSign, usesMin and usesMax record the helpers the definitions call.
+	usesSign, usesMin, usesMax bool
 }
 
 // reservedLocals are the identifiers the printers use inside a body (the
@@ -224,9 +224,8 @@ func (s *scheduler) expr(id int) expr {
 		}
 		return call{op: opFn, fn: n.fn, args: []expr{s.ref(n.args[0])}}
 	case opMin, opMax, opPow:
-		if n.op != opPow {
-			s.usesMinMax = true
-		}
+		s.usesMin = s.usesMin || n.op == opMin
+		s.usesMax = s.usesMax || n.op == opMax
 		return call{op: n.op, args: []expr{s.ref(n.args[0]), s.ref(n.args[1])}}
 	}
 	panic(fmt.Sprintf("gogen: no expression for node kind %d", n.op))

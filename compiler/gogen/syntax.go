@@ -14,9 +14,10 @@ import (
 
 // kernelFile is the kernels of one model: one formPlan per lowered form.
 type kernelFile struct {
-	forms      []*formPlan
-	usesSign   bool // some body calls the sign helper
-	usesMinMax bool // some body calls min or max
+	forms []*formPlan
+	// usesSign, usesMin and usesMax say whether some body calls the
+	// sign, min or max helper.
+	usesSign, usesMin, usesMax bool
 }
 
 // formPlan is the cell kernel and the facet kernels of one lowered form.
@@ -53,8 +54,8 @@ type bodyPlan struct {
 	stmts  []stmt
 	tables []*table
 	prev   bool // reads the previous iterate
-	// usesSign and usesMinMax record the helpers the body calls.
-	usesSign, usesMinMax bool
+	// usesSign, usesMin and usesMax record the helpers the body calls.
+	usesSign, usesMin, usesMax bool
 }
 
 // table is tabulated reference data: rows[q] at quadrature point q, or a
