@@ -5,8 +5,11 @@ import (
 	"go/doc/comment"
 	"go/parser"
 	"go/token"
+	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/formwright/formwright/compiler/ir"
 )
 
 // Every comment the generator writes is already in the form gofmt gives
@@ -124,6 +127,62 @@ func TestLocalNameInjective(t *testing.T) {
 		}
 		if plain != m && strings.HasPrefix(plain, "m_") {
 			t.Errorf("%v: plain name %q in the mangled namespace", x, plain)
+		}
+	}
+}
+
+// Side names with quotes, backslashes, comment delimiters, line breaks
+// and non-ASCII letters (possible in a lowered form built by a program,
+// not in a model file) give Go that parses, whose Side methods return the
+// names byte for byte, and whose comments hold no line of the names.
+func TestGoHostileSides(t *testing.T) {
+	var forms []*ir.LoweredForm
+	for _, mc := range modelCases(t) {
+		if mc.name == "robin" {
+			forms = lowerAll(t, mc.file, []byte(mc.src))
+		}
+	}
+	names := map[string]string{"right": "right\"); panic(\"x\\", "top": "top */ func init() { /* \n// é ☃ \u2028"}
+	for i, lf := range forms {
+		c := *lf
+		c.Integrals = nil
+		for _, in := range lf.Integrals {
+			if s, ok := names[in.Domain.Side]; ok {
+				in.Domain.Side = s
+			}
+			c.Integrals = append(c.Integrals, in)
+		}
+		forms[i] = &c
+	}
+	out, err := Generate(forms, Options{Package: "k", ModelFile: "m.fw"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := parser.ParseFile(token.NewFileSet(), "k.go", out, parser.ParseComments)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string]bool{}
+	for _, d := range f.Decls {
+		fd, ok := d.(*ast.FuncDecl)
+		if !ok || fd.Name.Name != "Side" {
+			continue
+		}
+		lit := fd.Body.List[0].(*ast.ReturnStmt).Results[0].(*ast.BasicLit)
+		s, err := strconv.Unquote(lit.Value)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got[s] = true
+	}
+	for _, s := range names {
+		if !got[s] {
+			t.Errorf("no Side method returns %q", s)
+		}
+	}
+	for _, g := range f.Comments {
+		if strings.Contains(g.Text(), "func init") && !strings.Contains(g.Text(), "top * / func init() { / *") {
+			t.Errorf("a side name reached a comment unsanitised: %q", g.Text())
 		}
 	}
 }

@@ -622,12 +622,12 @@ func (w *cWriter) stmt(s stmt) {
 		w.line("\treturn FW_KERNEL_DEGENERATE;")
 		w.line("}")
 	case zeroStmt:
-		w.line("for (int k = 0; k < %d; ++k) {", s.n)
-		w.line("\t%s[k] = 0.0;", s.array)
+		w.line("for (int i = 0; i < %d; ++i) {", s.n)
+		w.line("\t%s[i] = 0.0;", s.array)
 		w.line("}")
 	case copyStmt:
-		w.line("for (int k = 0; k < %d; ++k) {", s.n)
-		w.line("\t%s[k] = %s[k];", s.dst, s.src)
+		w.line("for (int i = 0; i < %d; ++i) {", s.n)
+		w.line("\t%s[i] = %s[i];", s.dst, s.src)
 		w.line("}")
 	case previousStmt:
 		w.line("static const double zero[%d] = {0.0};", s.n)

@@ -136,4 +136,49 @@
 // <output>_broken.go and reported as a *BrokenError. Model text in
 // comments is sanitised; side names in string literals are quoted.
 // Output is deterministic.
+//
+// # C kernels
+//
+// GenerateC writes the same kernels, from the same description, as
+// <name>.h and <name>.c for codes in C or C++: C99 that also compiles as
+// C++11 (no designated initialisers, variable-length arrays or compound
+// literals), warning-free with -Wall -Wextra -pedantic -Werror; only
+// <math.h> (and <stddef.h> for NULL); no allocation, no global state (the
+// tables are static const), so the kernels are re-entrant. The comments
+// above each block are those of the Go kernels. The header's leading
+// comment documents the ABI for its model; in short, per form (method m,
+// identifier prefix p):
+//
+//	int p_m_cell(const struct fw_kernel_input *in, double *A, double *b);
+//	int p_m_facet(const struct fw_kernel_input *in, int side, int facet, double *A, double *b);
+//	const struct fw_kernel_layout *p_m_layout(void);
+//
+// A kernel reads in->coords (the cell's vertex coordinates, coords[k*dim
+// + i] coordinate i of vertex k, the vertices in the order of
+// runtime/cell, which the header lists with the local facets and the node
+// order of degree-2 elements), in->previous (the previous iterate's local
+// dofs, NULL for zeros, read only by forms that need it), in->time and
+// in->step (the time step of the kernels of one backward Euler step); it
+// writes every entry of A (N×N, row-major, rows the test dofs) and b (N),
+// and returns FW_KERNEL_OK, or FW_KERNEL_DEGENERATE with A and b NaN when
+// det J ≤ 0. The facet kernel adds a side index (into the layout's sides)
+// and a local facet index and returns FW_KERNEL_BAD_INDEX, writing
+// nothing, for either out of range. Local dofs are field-major, then
+// component, then element node, as in runtime/kernel. struct
+// fw_kernel_layout reports N, the cell, the fields (name, element,
+// components, nodes, first dof), the sides, the quadrature degree and
+// points, whether the previous iterate is read and whether A is symmetric.
+// The shared types are guarded by FW_KERNEL_ABI_1, so the headers of
+// several models can be included together. Identifiers start with the
+// prefix (default: the model file's name); model names reach C only as
+// escaped string literals (octal escapes for every byte that is not
+// printable ASCII, and for '?', so no trigraph) and sanitised comments (no
+// backslash, "??", "*/" or line break).
+//
+// min and max are static helpers with Go's NaN and signed-zero rules (C's
+// fmin and fmax return the other argument for a NaN); the elementary
+// functions are libm's, which may differ from Go's math package in the
+// last bit, so the C kernels agree with the Go and interpreted ones to
+// round-off, as those agree with each other. examples/c_kernels_assembly
+// assembles and solves a model with them.
 package gogen

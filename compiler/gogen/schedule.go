@@ -23,7 +23,7 @@ type scheduler struct {
 // reservedLocals are the identifiers the printers use inside a body (the
 // inputs, outputs, loop variables and local arrays), and the names of the
 // helpers and packages a Go body refers to.
-var reservedLocals = []string{"x", "pv", "q", "acc", "rhs", "in", "A", "b", "k", "i", "j", "row", "zero",
+var reservedLocals = []string{"x", "pv", "q", "acc", "rhs", "in", "A", "b", "i", "j", "row", "zero",
 	"min", "max", "math", "clear", "copy", "len", "kernel", "cell", "element", "compiled", "facet", "side"}
 
 func newScheduler(d *dag) *scheduler {
