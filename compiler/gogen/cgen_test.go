@@ -609,9 +609,9 @@ func TestCOptionErrors(t *testing.T) {
 			t.Errorf("GenerateC with %+v: no error", o)
 		}
 	}
-	for file, want := range map[string]string{"stdlib/models/adr.fw": "adr", "My Model-2.fw": "my_model_2", "2d.fw": "model_2d", "int.fw": "model_int", "é.fw": "model"} {
-		if got := defaultCPrefix(file); got != want {
-			t.Errorf("defaultCPrefix(%q) = %q, want %q", file, got, want)
+	for file, want := range map[string]string{"stdlib/models/adr.fw": "adr", "My Model-2.fw": "my_model_2", "2d.fw": "model_2d", "int.fw": "model_int", "é.fw": "model", "navier_stokes": "navier_stokes", "_x": "model_x"} {
+		if got := CPrefix(file); got != want {
+			t.Errorf("CPrefix(%q) = %q, want %q", file, got, want)
 		}
 	}
 }
