@@ -1,13 +1,16 @@
 package gogen
 
 import (
+	"bytes"
 	"fmt"
 	"go/format"
-	"go/parser"
+	"go/printer"
 	"go/token"
 	"os"
 	"path/filepath"
 	"strings"
+
+	"github.com/formwright/formwright/compiler/ir"
 )
 
 // Options control Generate.
@@ -44,6 +47,41 @@ type Options struct {
 	loopAbove int
 }
 
+// Generate writes one Go source file with the element kernels of forms:
+// for each form a cell-kernel type and one facet-kernel type per boundary
+// side, and an init function that registers them with runtime/compiled
+// under ir.FormHash of the form. The output is gofmt'ed and deterministic.
+func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
+	if !token.IsIdentifier(opts.Package) || opts.Package == "_" {
+		return nil, fmt.Errorf("gogen: package name %q is not a Go identifier", opts.Package)
+	}
+	if opts.Prefix != "" && !token.IsIdentifier(opts.Prefix) {
+		return nil, fmt.Errorf("gogen: prefix %q is not a Go identifier", opts.Prefix)
+	}
+	kf, err := planFile(forms, plan{methods: opts.Methods, derived: opts.Derived, loopAbove: opts.loopAbove})
+	if err != nil {
+		return nil, err
+	}
+	w := &goWriter{names: goNames{prefix: opts.Prefix, internal: "fw" + opts.Prefix}}
+	file, err := w.file(kf, opts)
+	if err != nil {
+		return nil, err
+	}
+	fset := token.NewFileSet()
+	tf := fset.AddFile("kernels.go", -1, (w.line+2)*goLineWidth)
+	lines := make([]int, w.line+2)
+	for i := range lines {
+		lines[i] = i * goLineWidth
+	}
+	tf.SetLines(lines)
+	var buf bytes.Buffer
+	cfg := printer.Config{Mode: printer.RawFormat | printer.UseSpaces | printer.TabIndent, Tabwidth: 8}
+	if err := cfg.Fprint(&buf, fset, file); err != nil {
+		return nil, &BrokenError{Err: err}
+	}
+	return formatSource(buf.Bytes(), opts.Output)
+}
+
 // BrokenError reports generated source that does not parse or format; it
 // is a bug of the generator. Path is where the source was written ("" if
 // it was not).
@@ -61,20 +99,12 @@ func (e *BrokenError) Error() string {
 
 func (e *BrokenError) Unwrap() error { return e.Err }
 
+// formatSource parses and formats generated source with go/format; source
+// that fails is written to <output>_broken.go and reported.
 func formatSource(src []byte, output string) ([]byte, error) {
-	fset := token.NewFileSet()
-	_, perr := parser.ParseFile(fset, "generated.go", src, parser.ParseComments)
-	var res []byte
-	var ferr error
-	if perr == nil {
-		res, ferr = format.Source(src)
-	}
-	if perr == nil && ferr == nil {
-		return res, nil
-	}
-	err := perr
+	res, err := format.Source(src)
 	if err == nil {
-		err = ferr
+		return res, nil
 	}
 	be := &BrokenError{Err: err}
 	if output != "" {

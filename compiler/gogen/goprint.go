@@ -1,10 +1,8 @@
 package gogen
 
 import (
-	"bytes"
 	"fmt"
 	"go/ast"
-	"go/printer"
 	"go/token"
 	"strconv"
 	"strings"
@@ -107,41 +105,6 @@ func sel(x, name string) *ast.SelectorExpr        { return &ast.SelectorExpr{X: 
 func str(s string) *ast.BasicLit                  { return &ast.BasicLit{Kind: token.STRING, Value: strconv.Quote(s)} }
 func intLitGo(n int) *ast.BasicLit                { return &ast.BasicLit{Kind: token.INT, Value: strconv.Itoa(n)} }
 func index(x ast.Expr, i ast.Expr) *ast.IndexExpr { return &ast.IndexExpr{X: x, Index: i} }
-
-// Generate writes one Go source file with the element kernels of forms:
-// for each form a cell-kernel type and one facet-kernel type per boundary
-// side, and an init function that registers them with runtime/compiled
-// under ir.FormHash of the form. The output is gofmt'ed and deterministic.
-func Generate(forms []*ir.LoweredForm, opts Options) ([]byte, error) {
-	if !token.IsIdentifier(opts.Package) || opts.Package == "_" {
-		return nil, fmt.Errorf("gogen: package name %q is not a Go identifier", opts.Package)
-	}
-	if opts.Prefix != "" && !token.IsIdentifier(opts.Prefix) {
-		return nil, fmt.Errorf("gogen: prefix %q is not a Go identifier", opts.Prefix)
-	}
-	kf, err := planFile(forms, plan{methods: opts.Methods, derived: opts.Derived, loopAbove: opts.loopAbove})
-	if err != nil {
-		return nil, err
-	}
-	w := &goWriter{names: goNames{prefix: opts.Prefix, internal: "fw" + opts.Prefix}}
-	file, err := w.file(kf, opts)
-	if err != nil {
-		return nil, err
-	}
-	fset := token.NewFileSet()
-	tf := fset.AddFile("kernels.go", -1, (w.line+2)*goLineWidth)
-	lines := make([]int, w.line+2)
-	for i := range lines {
-		lines[i] = i * goLineWidth
-	}
-	tf.SetLines(lines)
-	var buf bytes.Buffer
-	cfg := printer.Config{Mode: printer.RawFormat | printer.UseSpaces | printer.TabIndent, Tabwidth: 8}
-	if err := cfg.Fprint(&buf, fset, file); err != nil {
-		return nil, &BrokenError{Err: err}
-	}
-	return formatSource(buf.Bytes(), opts.Output)
-}
 
 // file is the whole kernel file.
 func (w *goWriter) file(kf *kernelFile, opts Options) (*ast.File, error) {

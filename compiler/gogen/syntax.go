@@ -22,20 +22,19 @@ type kernelFile struct {
 
 // formPlan is the cell kernel and the facet kernels of one lowered form.
 type formPlan struct {
-	lf      *ir.LoweredForm
-	method  string // the form's method: galerkin, supg, gls, vms
-	ident   string // the method as an identifier part: Galerkin, SUPG ...
-	suffix  string // distinguishes a second form of one method in a file
-	cell    cell.Type
-	degree  int // quadrature degree
-	fields  []fieldInfo
-	n       int // local dofs
-	geom    *element.Element
-	hash    string // ir.FormHash
-	cellK   *bodyPlan
-	sides   []*sidePlan
-	prev    bool // some body reads the previous iterate
-	unknown []string
+	lf     *ir.LoweredForm
+	method string // the form's method: galerkin, supg, gls, vms
+	ident  string // the method as an identifier part: Galerkin, SUPG ...
+	suffix string // distinguishes a second form of one method in a file
+	cell   cell.Type
+	degree int // quadrature degree
+	fields []fieldInfo
+	n      int // local dofs
+	geom   *element.Element
+	hash   string // ir.FormHash
+	cellK  *bodyPlan
+	sides  []*sidePlan
+	prev   bool // some body reads the previous iterate
 }
 
 // sidePlan is the facet kernel of one boundary side: one body per local

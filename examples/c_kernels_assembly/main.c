@@ -121,7 +121,8 @@ static double dot(int n, const double *x, const double *y)
 }
 
 /* cg solves a x = b by conjugate gradients with the diagonal of a as the
- * preconditioner (Hestenes & Stiefel 1952), to a relative residual of
+ * preconditioner (Hestenes & Stiefel 1952, J. Res. Natl. Bur. Stand. 49
+ * [memory]), to a relative residual of
  * 1e-12; it returns the number of iterations, or -1. */
 static int cg(const struct csr *a, const double *b, double *x)
 {
