@@ -14,33 +14,42 @@ import (
 
 func init() {
 	compiled.Register("ec0fbc09ef2e9b00bcb8358cbaecd27c", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return RiverOutfallLayerGalerkinKernel{} },
+		Method: "galerkin",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerGalerkinKernel{}
+		},
 	})
 	compiled.Register("6181b75f4d7a4d6c3a7d22007f0cefbd", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return RiverOutfallLayerSUPGKernel{} },
+		Method: "supg",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerSUPGKernel{}
+		},
 	})
 	compiled.Register("a305dc9bb73625536dd0d50d3bcc119d", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return RiverOutfallLayerGLSKernel{} },
+		Method: "gls",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerGLSKernel{}
+		},
 	})
 	compiled.Register("b57b4bc2d8eddccf24442e823202fb41", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return RiverOutfallLayerVMSKernel{} },
+		Method: "vms",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerVMSKernel{}
+		},
 	})
 }
 
-// fwRiverOutfallLayerGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwRiverOutfallLayerGalerkinLayout is the element layout of the galerkin
+// kernels: interval cells, fields in local dof order (field-major, then
+// component, then element node); 2 local dofs.
 var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -49,9 +58,9 @@ var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 	},
 }
 
-// RiverOutfallLayerGalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// RiverOutfallLayerGalerkinKernel is the generated cell kernel of the galerkin
+// form on interval cells, quadrature degree 1 (1 point). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type RiverOutfallLayerGalerkinKernel struct{}
 
 var _ kernel.Kernel = RiverOutfallLayerGalerkinKernel{}
@@ -79,17 +88,21 @@ func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v              model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c1
 	A[1] = 0.5 - c1
 	A[2] = (-0.5) - c1
 	A[3] = 0.5 + c1
 }
 
-// fwRiverOutfallLayerSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwRiverOutfallLayerSUPGLayout is the element layout of the supg kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
 var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -98,9 +111,9 @@ var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 	},
 }
 
-// RiverOutfallLayerSUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// RiverOutfallLayerSUPGKernel is the generated cell kernel of the supg form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type RiverOutfallLayerSUPGKernel struct{}
 
 var _ kernel.Kernel = RiverOutfallLayerSUPGKernel{}
@@ -120,14 +133,14 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -138,18 +151,24 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                   model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x       model.fw:18
+	//	SUPG: + Σ_K (τ_c R, L_A v)_K  model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x         model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
 var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -158,9 +177,9 @@ var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 	},
 }
 
-// RiverOutfallLayerGLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// RiverOutfallLayerGLSKernel is the generated cell kernel of the gls form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type RiverOutfallLayerGLSKernel struct{}
 
 var _ kernel.Kernel = RiverOutfallLayerGLSKernel{}
@@ -180,14 +199,14 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -198,20 +217,26 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                       model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x           model.fw:18
+	//	GLS: + Σ_K (τ_c R, L v)_K         model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x             model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x      model.fw:18
+	//	  −τ_c/500 · ∂c/∂x · ∂²v/∂x²      model.fw:18
+	//	  τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
 var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -220,9 +245,9 @@ var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 	},
 }
 
-// RiverOutfallLayerVMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// RiverOutfallLayerVMSKernel is the generated cell kernel of the vms form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type RiverOutfallLayerVMSKernel struct{}
 
 var _ kernel.Kernel = RiverOutfallLayerVMSKernel{}
@@ -242,14 +267,14 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
@@ -260,20 +285,25 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (−τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂c/∂x · v                        model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x            model.fw:18
+	//	VMS: − Σ_K (τ_c R, L* v)_K         model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x              model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x       model.fw:18
+	//	  τ_c/500 · ∂c/∂x · ∂²v/∂x²        model.fw:18
+	//	  −τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwRiverOutfallLayerFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwRiverOutfallLayerFillNaN fills A and b with NaN: the cell has a
+// non-positive Jacobian determinant (as the interpreted kernels report it).
 func fwRiverOutfallLayerFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()

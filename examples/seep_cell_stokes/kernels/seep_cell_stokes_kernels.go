@@ -14,33 +14,42 @@ import (
 
 func init() {
 	compiled.Register("76a7f6e410f52ef4c92fc948a44e831b", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SeepCellStokesGalerkinKernel{} },
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesGalerkinKernel{}
+		},
 	})
 	compiled.Register("f0549d14058e57a9510bcb87f5783dec", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SeepCellStokesSUPGKernel{} },
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesSUPGKernel{}
+		},
 	})
 	compiled.Register("a43f420ad060295bef18f82b65b1ac31", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SeepCellStokesGLSKernel{} },
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesGLSKernel{}
+		},
 	})
 	compiled.Register("9f4b687c4ecf7762c7f5b6e17c313867", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SeepCellStokesVMSKernel{} },
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesVMSKernel{}
+		},
 	})
 }
 
-// fwSeepCellStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwSeepCellStokesGalerkinLayout is the element layout of the galerkin
+// kernels: triangle cells, fields in local dof order (field-major, then
+// component, then element node); 9 local dofs.
 var fwSeepCellStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -50,9 +59,9 @@ var fwSeepCellStokesGalerkinLayout = kernel.Layout{
 	},
 }
 
-// SeepCellStokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// SeepCellStokesGalerkinKernel is the generated cell kernel of the galerkin
+// form on triangle cells, quadrature degree 1 (1 point). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type SeepCellStokesGalerkinKernel struct{}
 
 var _ kernel.Kernel = SeepCellStokesGalerkinKernel{}
@@ -110,20 +119,26 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[6] = 0
 	b[7] = 0
 	b[8] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c3)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c3
-	A[15] = 0.16666666666666666 * (-j11 - c3)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c3
-	A[24] = 0.16666666666666666 * (-j11 - c3)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂x · v_vel[1]  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c3)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c3
+	A[15] = (1.0 / 6) * (-j11 - c3)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c3
+	A[24] = (1.0 / 6) * (-j11 - c3)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c3
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:15
 	A[0] = 0.5*(c18+c22) + c20
 	A[1] = 0.5 * (-c18 - c20)
 	A[2] = 0.5 * (-c20 - c22)
@@ -133,20 +148,26 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c20 - c22)
 	A[19] = 0.5 * c20
 	A[20] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c4 - j00)
-	A[34] = 0.1666666666666667 * c4
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c4 - j00)
-	A[43] = 0.16666666666666666 * c4
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c4 - j00)
-	A[52] = 0.16666666666666666 * c4
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂y · v_vel[2]  model.fw:15
+	A[33] = (1.0 / 6) * (-c4 - j00)
+	A[34] = (1.0 / 6) * c4
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c4 - j00)
+	A[43] = (1.0 / 6) * c4
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c4 - j00)
+	A[52] = (1.0 / 6) * c4
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:15
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c18+c22) + c20
 	A[31] = 0.5 * (-c18 - c20)
 	A[32] = 0.5 * (-c20 - c22)
@@ -156,37 +177,47 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c20 - c22)
 	A[49] = 0.5 * c20
 	A[50] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c3)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c3
-	A[63] = 0.16666666666666666 * (-j11 - c3)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c3
-	A[72] = 0.16666666666666666 * (-j11 - c3)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c4 - j00)
-	A[58] = 0.1666666666666667 * c4
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c4 - j00)
-	A[67] = 0.16666666666666666 * c4
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c4 - j00)
-	A[76] = 0.16666666666666666 * c4
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	b[3] = 0.1666666666666667 * c23
-	b[4] = 0.16666666666666666 * c23
-	b[5] = 0.16666666666666666 * c23
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[1]/∂x · v_p  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c3)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c3
+	A[63] = (1.0 / 6) * (-j11 - c3)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c3
+	A[72] = (1.0 / 6) * (-j11 - c3)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[2]/∂y · v_p  model.fw:15
+	A[57] = (1.0 / 6) * (-c4 - j00)
+	A[58] = (1.0 / 6) * c4
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c4 - j00)
+	A[67] = (1.0 / 6) * c4
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c4 - j00)
+	A[76] = (1.0 / 6) * c4
+	A[77] = (1.0 / 6) * j00
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  −981/100 · v_vel[2]  model.fw:15
+	b[3] = (1.0 / 6) * c23
+	b[4] = (1.0 / 6) * c23
+	b[5] = (1.0 / 6) * c23
 }
 
-// fwSeepCellStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwSeepCellStokesSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwSeepCellStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -196,9 +227,9 @@ var fwSeepCellStokesSUPGLayout = kernel.Layout{
 	},
 }
 
-// SeepCellStokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// SeepCellStokesSUPGKernel is the generated cell kernel of the supg form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type SeepCellStokesSUPGKernel struct{}
 
 var _ kernel.Kernel = SeepCellStokesSUPGKernel{}
@@ -233,7 +264,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef12 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -320,20 +351,26 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂x · v_vel[1]  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:16
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -343,8 +380,11 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -354,19 +394,25 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂y · v_vel[2]  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -376,9 +422,12 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -388,35 +437,46 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	SUPG: + Σ_K (τ_vel R, L_A v)_K        model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	SUPG: + Σ_K (τ_vel R, L_A v)_K        model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -426,20 +486,27 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef12 * c88
-	b[7] = coef12 * c89
-	b[8] = coef12 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  −981/100 · v_vel[2]  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwSeepCellStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwSeepCellStokesGLSLayout is the element layout of the gls kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwSeepCellStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -449,9 +516,9 @@ var fwSeepCellStokesGLSLayout = kernel.Layout{
 	},
 }
 
-// SeepCellStokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// SeepCellStokesGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type SeepCellStokesGLSKernel struct{}
 
 var _ kernel.Kernel = SeepCellStokesGLSKernel{}
@@ -486,7 +553,7 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef24 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -573,26 +640,34 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂x · v_vel[1]                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             model.fw:16
+	//	GLS: + Σ_K (τ_vel R, L v)_K                  model.fw:20
+	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -602,8 +677,11 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -613,21 +691,28 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂y · v_vel[2]                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -637,13 +722,17 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K                  model.fw:20
+	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -653,35 +742,46 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -691,22 +791,30 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - 981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - 981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef24 * c88
-	b[7] = coef24 * c89
-	b[8] = coef24 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  −981/100 · v_vel[2]           model.fw:15
+	//	GLS: + Σ_K (τ_vel R, L v)_K     model.fw:20
+	//	  981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwSeepCellStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwSeepCellStokesVMSLayout is the element layout of the vms kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwSeepCellStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -716,9 +824,9 @@ var fwSeepCellStokesVMSLayout = kernel.Layout{
 	},
 }
 
-// SeepCellStokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// SeepCellStokesVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type SeepCellStokesVMSKernel struct{}
 
 var _ kernel.Kernel = SeepCellStokesVMSKernel{}
@@ -753,7 +861,7 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef24 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -840,26 +948,34 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂x · v_vel[1]                   model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K         model.fw:20
+	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y              model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x              model.fw:16
+	//	VMS: − Σ_K (τ_vel R, L* v)_K                  model.fw:20
+	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -869,8 +985,11 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -880,21 +999,28 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂p/∂y · v_vel[2]                   model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K         model.fw:20
+	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -904,13 +1030,17 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y              model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x              model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K                  model.fw:20
+	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -920,35 +1050,46 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K          model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K          model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -958,22 +1099,29 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - −981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - −981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef24 * c88
-	b[7] = coef24 * c89
-	b[8] = coef24 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  −981/100 · v_vel[2]            model.fw:15
+	//	VMS: − Σ_K (τ_vel R, L* v)_K     model.fw:20
+	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwSeepCellStokesFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwSeepCellStokesFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
 func fwSeepCellStokesFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
