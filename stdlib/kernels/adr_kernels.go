@@ -115,7 +115,7 @@ func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  1/2 · ∂c/∂y · v        adr.fw:12
 	//	  ∂c/∂x · v              adr.fw:12
 	//	  1/100 · ∂c/∂y · ∂v/∂y  adr.fw:12
@@ -132,7 +132,7 @@ func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  v  adr.fw:12
 	b[0] = (1.0 / 6) * detJ
 	b[1] = (1.0 / 6) * detJ
@@ -258,12 +258,12 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  1/2 · ∂c/∂y · v             adr.fw:12
 	//	  ∂c/∂x · v                   adr.fw:12
 	//	  1/100 · ∂c/∂y · ∂v/∂y       adr.fw:12
 	//	  1/100 · ∂c/∂x · ∂v/∂x       adr.fw:12
-	//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr.fw:15
+	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
 	//	  τ_c/4 · ∂c/∂y · ∂v/∂y       adr.fw:12
 	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y  adr.fw:12
 	//	  τ_c/2 · ∂c/∂x · ∂v/∂y       adr.fw:12
@@ -284,9 +284,9 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  v              adr.fw:12
-	//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr.fw:15
+	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
 	//	  τ_c/2 · ∂v/∂y  adr.fw:12
 	//	  τ_c · ∂v/∂x    adr.fw:15
 	b[0] = (1.0/6)*detJ + tau_c*c71
@@ -413,12 +413,12 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  1/2 · ∂c/∂y · v                adr.fw:12
 	//	  ∂c/∂x · v                      adr.fw:12
 	//	  1/100 · ∂c/∂y · ∂v/∂y          adr.fw:12
 	//	  1/100 · ∂c/∂x · ∂v/∂x          adr.fw:12
-	//	GLS: + Σ_K (τ_c R, L v)_K        adr.fw:15
+	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
 	//	  τ_c/4 · ∂c/∂y · ∂v/∂y          adr.fw:12
 	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y     adr.fw:12
 	//	  τ_c/2 · ∂c/∂x · ∂v/∂y          adr.fw:12
@@ -447,9 +447,9 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  v                   adr.fw:12
-	//	GLS: + Σ_K (τ_c R, L v)_K  adr.fw:15
+	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
 	//	  τ_c/2 · ∂v/∂y       adr.fw:12
 	//	  −τ_c/100 · ∂²v/∂y²  adr.fw:12
 	//	  τ_c · ∂v/∂x         adr.fw:15
@@ -578,12 +578,12 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  1/2 · ∂c/∂y · v                 adr.fw:12
 	//	  ∂c/∂x · v                       adr.fw:12
 	//	  1/100 · ∂c/∂y · ∂v/∂y           adr.fw:12
 	//	  1/100 · ∂c/∂x · ∂v/∂x           adr.fw:12
-	//	VMS: − Σ_K (τ_c R, L* v)_K        adr.fw:15
+	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
 	//	  τ_c/4 · ∂c/∂y · ∂v/∂y           adr.fw:12
 	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y      adr.fw:12
 	//	  τ_c/2 · ∂c/∂x · ∂v/∂y           adr.fw:12
@@ -612,9 +612,9 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
 	//	  v                  adr.fw:12
-	//	VMS: − Σ_K (τ_c R, L* v)_K  adr.fw:15
+	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
 	//	  τ_c/2 · ∂v/∂y      adr.fw:12
 	//	  τ_c/100 · ∂²v/∂y²  adr.fw:12
 	//	  τ_c · ∂v/∂x        adr.fw:15

@@ -123,7 +123,7 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 	//	  1/time_step · temp · v   heat.fw:15
 	//	  ∂temp/∂x · v             heat.fw:15
 	//	  1/50 · ∂temp/∂y · ∂v/∂y  heat.fw:15
@@ -148,7 +148,7 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p5 := coef4 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v  heat.fw:15
 		rhs[0] += fwHeatGalerkinCellBasis1Val[q][0] * p5
 		rhs[1] += fwHeatGalerkinCellBasis1Val[q][1] * p5
@@ -283,12 +283,12 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 	//	  1/time_step · temp · v           heat.fw:15
 	//	  ∂temp/∂x · v                     heat.fw:15
 	//	  1/50 · ∂temp/∂y · ∂v/∂y          heat.fw:15
 	//	  1/50 · ∂temp/∂x · ∂v/∂x          heat.fw:15
-	//	SUPG: + Σ_K (τ_temp R, L_A v)_K    heat.fw:19
+	//	SUPG: + Σ_K (τ_temp R_temp, rhoc (a·∇v))_K  heat.fw:19
 	//	  τ_temp/time_step · temp · ∂v/∂x  heat.fw:19
 	//	  −τ_temp/50 · ∂²temp/∂y² · ∂v/∂x  heat.fw:15
 	//	  τ_temp · ∂temp/∂x · ∂v/∂x        heat.fw:19
@@ -315,9 +315,9 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef8 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v           heat.fw:15
-		//	SUPG: + Σ_K (τ_temp R, L_A v)_K          heat.fw:19
+		//	SUPG: + Σ_K (τ_temp R_temp, rhoc (a·∇v))_K  heat.fw:19
 		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  heat.fw:19
 		rhs[0] += fwHeatSUPGCellBasis1Val[q][0]*p5 + c67*p6
 		rhs[1] += fwHeatSUPGCellBasis1Val[q][1]*p5 + k00*p6
@@ -452,12 +452,12 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 	//	  1/time_step · temp · v                   heat.fw:15
 	//	  ∂temp/∂x · v                             heat.fw:15
 	//	  1/50 · ∂temp/∂y · ∂v/∂y                  heat.fw:15
 	//	  1/50 · ∂temp/∂x · ∂v/∂x                  heat.fw:15
-	//	GLS: + Σ_K (τ_temp R, L v)_K               heat.fw:19
+	//	GLS: + Σ_K (τ_temp R_temp, −k Δv + rhoc (a·∇v))_K  heat.fw:19
 	//	  (−τ_temp/50)/time_step · temp · ∂²v/∂y²  heat.fw:15
 	//	  τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂y²       heat.fw:15
 	//	  −τ_temp/50 · ∂temp/∂x · ∂²v/∂y²          heat.fw:15
@@ -492,9 +492,9 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef17 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                   heat.fw:15
-		//	GLS: + Σ_K (τ_temp R, L v)_K                     heat.fw:19
+		//	GLS: + Σ_K (τ_temp R_temp, −k Δv + rhoc (a·∇v))_K  heat.fw:19
 		//	  ((−τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²  heat.fw:15
 		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x          heat.fw:19
 		//	  ((−τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂x²  heat.fw:15
@@ -631,12 +631,12 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 	//	  1/time_step · temp · v                  heat.fw:15
 	//	  ∂temp/∂x · v                            heat.fw:15
 	//	  1/50 · ∂temp/∂y · ∂v/∂y                 heat.fw:15
 	//	  1/50 · ∂temp/∂x · ∂v/∂x                 heat.fw:15
-	//	VMS: − Σ_K (τ_temp R, L* v)_K             heat.fw:19
+	//	VMS: − Σ_K (τ_temp R_temp, −k Δv − rhoc (a·∇v))_K  heat.fw:19
 	//	  (τ_temp/50)/time_step · temp · ∂²v/∂y²  heat.fw:15
 	//	  −τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂y²     heat.fw:15
 	//	  τ_temp/50 · ∂temp/∂x · ∂²v/∂y²          heat.fw:15
@@ -671,9 +671,9 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := coef17 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
 		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                  heat.fw:15
-		//	VMS: − Σ_K (τ_temp R, L* v)_K                   heat.fw:19
+		//	VMS: − Σ_K (τ_temp R_temp, −k Δv − rhoc (a·∇v))_K  heat.fw:19
 		//	  ((τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²  heat.fw:15
 		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x         heat.fw:19
 		//	  ((τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂x²  heat.fw:15

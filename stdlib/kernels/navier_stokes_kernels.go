@@ -128,7 +128,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 	acc[0] += 0.5*(c18+c22) + c20
@@ -143,7 +143,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
 	acc[6] += (1.0 / 6) * (-j11 - c10)
 	acc[7] += (1.0 / 6) * j11
@@ -157,7 +157,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
 	acc[30] += 0.5*(c18+c22) + c20
@@ -172,7 +172,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
 	acc[33] += (1.0 / 6) * (-c3 - j00)
 	acc[34] += (1.0 / 6) * c3
@@ -186,7 +186,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
 	acc[54] += (1.0 / 6) * (-j11 - c10)
 	acc[55] += (1.0 / 6) * j11
@@ -200,7 +200,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
 	acc[57] += (1.0 / 6) * (-c3 - j00)
 	acc[58] += (1.0 / 6) * c3
@@ -234,7 +234,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p17 := p10 - p16
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
 		acc[0] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
@@ -248,7 +248,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
 		acc[30] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
@@ -351,7 +351,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
 	acc[6] += (1.0 / 6) * (-j11 - c23)
 	acc[7] += (1.0 / 6) * j11
@@ -365,7 +365,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
 	acc[33] += (1.0 / 6) * (-c24 - j00)
 	acc[34] += (1.0 / 6) * c24
@@ -379,7 +379,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
 	acc[54] += (1.0 / 6) * (-j11 - c23)
 	acc[55] += (1.0 / 6) * j11
@@ -393,7 +393,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
 	acc[57] += (1.0 / 6) * (-c24 - j00)
 	acc[58] += (1.0 / 6) * c24
@@ -521,12 +521,12 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p102 := -p101
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K                            navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
@@ -535,7 +535,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
-		//	SUPG: + Σ_K (τ_p R, L_A v)_K                              navier_stokes.fw:23
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
 		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
@@ -548,7 +548,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		acc[6] += c26*p51 + c28*p56
@@ -562,7 +562,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[26] += k11*p54 + k10*p59
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_p R, L_A v)_K       navier_stokes.fw:23
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
@@ -575,12 +575,12 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[23] += k10 * p64
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K                            navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
@@ -589,7 +589,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
-		//	SUPG: + Σ_K (τ_p R, L_A v)_K                              navier_stokes.fw:23
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
 		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
@@ -602,7 +602,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		acc[33] += c26*p79 + c28*p83
@@ -616,7 +616,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[53] += k11*p82 + k10*p86
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_p R, L_A v)_K       navier_stokes.fw:23
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
@@ -629,7 +629,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[47] += k11 * p90
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
@@ -645,7 +645,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[74] += k10 * p93
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K               navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
@@ -661,7 +661,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[77] += k11 * p93
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_vel R, L_A v)_K  navier_stokes.fw:22
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c26*p95 + c28*p99
@@ -764,7 +764,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
 	acc[6] += (1.0 / 6) * (-j11 - c23)
 	acc[7] += (1.0 / 6) * j11
@@ -778,7 +778,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
 	acc[33] += (1.0 / 6) * (-c24 - j00)
 	acc[34] += (1.0 / 6) * c24
@@ -792,7 +792,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
 	acc[54] += (1.0 / 6) * (-j11 - c23)
 	acc[55] += (1.0 / 6) * j11
@@ -806,7 +806,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
 	acc[57] += (1.0 / 6) * (-c24 - j00)
 	acc[58] += (1.0 / 6) * c24
@@ -934,12 +934,12 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p102 := -p101
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
-		//	GLS: + Σ_K (τ_vel R, L v)_K                               navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
@@ -956,7 +956,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
-		//	GLS: + Σ_K (τ_p R, L v)_K                                 navier_stokes.fw:23
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
 		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
@@ -969,7 +969,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
@@ -985,7 +985,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[26] += k11*p54 + k10*p59
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_p R, L v)_K          navier_stokes.fw:23
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
@@ -998,12 +998,12 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[23] += k10 * p64
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
-		//	GLS: + Σ_K (τ_vel R, L v)_K                               navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
@@ -1020,7 +1020,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
-		//	GLS: + Σ_K (τ_p R, L v)_K                                 navier_stokes.fw:23
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
 		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
@@ -1033,7 +1033,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
@@ -1049,7 +1049,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[53] += k11*p82 + k10*p86
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_p R, L v)_K          navier_stokes.fw:23
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
@@ -1062,7 +1062,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[47] += k11 * p90
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
@@ -1078,7 +1078,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[74] += k10 * p93
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_vel R, L v)_K                  navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
@@ -1094,7 +1094,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[77] += k11 * p93
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
-		//	GLS: + Σ_K (τ_vel R, L v)_K  navier_stokes.fw:22
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c26*p95 + c28*p99
@@ -1222,7 +1222,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
 	acc[54] += (1.0 / 6) * (-j11 - c23)
 	acc[55] += (1.0 / 6) * j11
@@ -1236,7 +1236,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
 	acc[57] += (1.0 / 6) * (-c30 - j00)
 	acc[58] += (1.0 / 6) * c30
@@ -1406,12 +1406,12 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p140 := -p139
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                              navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
@@ -1440,9 +1440,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_p R, L* v)_K                                navier_stokes.fw:23
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
-		//	VMS cross-stress: + Σ_K (cross-stress terms of the fine-scale velocity)_K
+		//	VMS cross-stress: + Σ_K ((∇vel·vel′)·v_vel)_K
 		//	  vel′[2] · ∂vel[1]/∂y · v_vel[1]                         navier_stokes.fw:16
 		//	  vel′[1] · ∂vel[1]/∂x · v_vel[1]                         navier_stokes.fw:16
 		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p55 + c25*p66
@@ -1456,9 +1456,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  ∂p/∂x · v_vel[1]                                        navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                              navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂x · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y               navier_stokes.fw:16
 		//	  τ_vel vel′[2] · ∂p/∂x · ∂v_vel[1]/∂y                    navier_stokes.fw:16
@@ -1477,7 +1477,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p85
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_p R, L* v)_K         navier_stokes.fw:23
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c25 * p87
 		acc[4] += c25 * p89
@@ -1490,12 +1490,12 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[23] += k10 * p90
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                              navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
@@ -1524,9 +1524,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_p R, L* v)_K                                navier_stokes.fw:23
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
-		//	VMS cross-stress: + Σ_K (cross-stress terms of the fine-scale velocity)_K
+		//	VMS cross-stress: + Σ_K ((∇vel·vel′)·v_vel)_K
 		//	  vel′[2] · ∂vel[2]/∂y · v_vel[2]                         navier_stokes.fw:16
 		//	  vel′[1] · ∂vel[2]/∂x · v_vel[2]                         navier_stokes.fw:16
 		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p95 + c25*p100
@@ -1540,9 +1540,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  ∂p/∂y · v_vel[2]                                        navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                              navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂y · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y               navier_stokes.fw:16
 		//	  τ_vel vel′[2] · ∂p/∂y · ∂v_vel[2]/∂y                    navier_stokes.fw:16
@@ -1561,7 +1561,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_p R, L* v)_K         navier_stokes.fw:23
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c32 * p117
 		acc[28] += c32 * p118
@@ -1574,7 +1574,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[47] += k11 * p120
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                 navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
@@ -1590,7 +1590,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[74] += k10 * p131
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R, L* v)_K                 navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
@@ -1606,7 +1606,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[77] += k11 * p131
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R, L* v)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c32*p133 + c25*p137

@@ -116,7 +116,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_vel[1]              oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  oseen.fw:12
@@ -132,7 +132,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  oseen.fw:12
 	A[6] = (1.0 / 6) * (-j11 - c3)
 	A[7] = (1.0 / 6) * j11
@@ -146,7 +146,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂x · v_vel[2]              oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  oseen.fw:12
@@ -162,7 +162,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  oseen.fw:12
 	A[33] = (1.0 / 6) * (-c4 - j00)
 	A[34] = (1.0 / 6) * c4
@@ -176,7 +176,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  oseen.fw:12
 	A[54] = (1.0 / 6) * (-j11 - c3)
 	A[55] = (1.0 / 6) * j11
@@ -190,7 +190,7 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  oseen.fw:12
 	A[57] = (1.0 / 6) * (-c4 - j00)
 	A[58] = (1.0 / 6) * c4
@@ -397,15 +397,15 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_vel[1]                     oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y         oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K              oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R, L_A v)_K                oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x           oseen.fw:17
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
@@ -419,9 +419,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]              oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x  oseen.fw:16
 	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[7] = (1.0/6)*j11 + tau_vel*c69
@@ -435,7 +435,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_p R, L_A v)_K       oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
 	A[3] = c26 * c91
 	A[4] = c26 * c94
@@ -449,13 +449,13 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂x · v_vel[2]                     oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y         oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R, L_A v)_K                oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y           oseen.fw:17
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K              oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  oseen.fw:12
@@ -471,9 +471,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]              oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x  oseen.fw:16
 	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[34] = (1.0/6)*c30 + tau_vel*c126
@@ -487,7 +487,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_p R, L_A v)_K       oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
 	A[27] = c26 * c91
 	A[28] = c26 * c98
@@ -501,9 +501,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K         oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
@@ -519,9 +519,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K         oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
@@ -537,7 +537,7 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
 	A[60] = tau_vel * c141
@@ -745,11 +745,11 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_vel[1]                        oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y            oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R, L v)_K                    oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
@@ -759,7 +759,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
-	//	GLS: + Σ_K (τ_p R, L v)_K                      oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x              oseen.fw:17
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
@@ -773,9 +773,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R, L v)_K            oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
@@ -791,7 +791,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_p R, L v)_K          oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
 	A[3] = c26 * c91
 	A[4] = c26 * c94
@@ -805,13 +805,13 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂x · v_vel[2]                        oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y            oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:12
-	//	GLS: + Σ_K (τ_p R, L v)_K                      oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y              oseen.fw:17
-	//	GLS: + Σ_K (τ_vel R, L v)_K                    oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
@@ -833,9 +833,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R, L v)_K            oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
@@ -851,7 +851,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_p R, L v)_K          oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
 	A[27] = c26 * c91
 	A[28] = c26 * c98
@@ -865,9 +865,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R, L v)_K            oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
@@ -883,9 +883,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R, L v)_K            oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
@@ -901,7 +901,7 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_vel R, L v)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
 	A[60] = tau_vel * c141
@@ -1109,11 +1109,11 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_vel[1]                         oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R, L* v)_K                    oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
@@ -1123,7 +1123,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
-	//	VMS: − Σ_K (τ_p R, L* v)_K                      oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x               oseen.fw:17
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
@@ -1137,9 +1137,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                    oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R, L* v)_K          oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x        oseen.fw:16
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
@@ -1155,7 +1155,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_p R, L* v)_K         oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
 	A[3] = c26 * c91
 	A[4] = c26 * c94
@@ -1169,13 +1169,13 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂x · v_vel[2]                         oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:12
-	//	VMS: − Σ_K (τ_p R, L* v)_K                      oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:17
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y               oseen.fw:17
-	//	VMS: − Σ_K (τ_vel R, L* v)_K                    oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
@@ -1197,9 +1197,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                    oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R, L* v)_K          oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x        oseen.fw:16
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
@@ -1215,7 +1215,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_p R, L* v)_K         oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:17
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
 	A[27] = c26 * c91
 	A[28] = c26 * c98
@@ -1229,9 +1229,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R, L* v)_K           oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
@@ -1247,9 +1247,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R, L* v)_K           oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
@@ -1265,7 +1265,7 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_vel R, L* v)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
 	A[60] = tau_vel * c141

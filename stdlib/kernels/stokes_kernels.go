@@ -111,7 +111,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
 	A[6] = (1.0 / 6) * (-j11 - c3)
 	A[7] = (1.0 / 6) * j11
@@ -125,7 +125,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y  stokes.fw:11
 	//	  ∂vel[1]/∂x · ∂v_vel[1]/∂x  stokes.fw:11
 	A[0] = 0.5*(c13+c17) + c15
@@ -140,7 +140,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
 	A[33] = (1.0 / 6) * (-c4 - j00)
 	A[34] = (1.0 / 6) * c4
@@ -154,7 +154,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
 	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x  stokes.fw:11
 	A[30] = 0.5*(c13+c17) + c15
@@ -169,7 +169,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c3)
 	A[55] = (1.0 / 6) * j11
@@ -183,7 +183,7 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
 	A[57] = (1.0 / 6) * (-c4 - j00)
 	A[58] = (1.0 / 6) * c4
@@ -316,7 +316,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
 	A[6] = (1.0 / 6) * (-j11 - c20)
 	A[7] = (1.0 / 6) * j11
@@ -330,7 +330,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y      stokes.fw:11
 	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  stokes.fw:11
 	A[0] = 0.5*(c32+c36) + c34
@@ -345,7 +345,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
@@ -359,7 +359,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
 	A[33] = (1.0 / 6) * (-c21 - j00)
 	A[34] = (1.0 / 6) * c21
@@ -373,7 +373,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
@@ -387,7 +387,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
 	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x      stokes.fw:11
 	A[30] = 0.5*(c49+c53) + c51
@@ -402,9 +402,9 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K     stokes.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -419,9 +419,9 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K     stokes.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -436,7 +436,7 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  stokes.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69
@@ -570,9 +570,9 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K        stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  stokes.fw:11
 	A[6] = (1.0 / 6) * (-j11 - c20)
@@ -587,10 +587,10 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y              stokes.fw:11
 	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x          stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K              stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:16
@@ -607,7 +607,7 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
@@ -621,9 +621,9 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K        stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:11
 	A[33] = (1.0 / 6) * (-c21 - j00)
@@ -638,7 +638,7 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
@@ -652,10 +652,10 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y          stokes.fw:11
 	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x              stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K              stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:16
@@ -672,9 +672,9 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K        stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -689,9 +689,9 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R, L v)_K        stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -706,7 +706,7 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_vel R, L v)_K  stokes.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69
@@ -840,9 +840,9 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K      stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  stokes.fw:16
 	A[6] = (1.0 / 6) * (-j11 - c20)
@@ -857,10 +857,10 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y               stokes.fw:11
 	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x           stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K              stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:11
@@ -877,7 +877,7 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
@@ -891,9 +891,9 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K      stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:16
 	A[33] = (1.0 / 6) * (-c21 - j00)
@@ -908,7 +908,7 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
@@ -922,10 +922,10 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y           stokes.fw:11
 	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x               stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K              stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:11
@@ -942,9 +942,9 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K       stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -959,9 +959,9 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R, L* v)_K       stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -976,7 +976,7 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_vel R, L* v)_K  stokes.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69

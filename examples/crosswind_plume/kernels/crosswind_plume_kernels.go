@@ -118,7 +118,7 @@ func (CrosswindPlumeGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
 	//	  a[2] · ∂temp/∂y · v           model.fw:13
 	//	  a[1] · ∂temp/∂x · v           model.fw:13
 	//	  1/1000000 · ∂temp/∂y · ∂v/∂y  model.fw:17
@@ -253,12 +253,12 @@ func (CrosswindPlumeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
 	//	  a[2] · ∂temp/∂y · v                        model.fw:13
 	//	  a[1] · ∂temp/∂x · v                        model.fw:13
 	//	  1/1000000 · ∂temp/∂y · ∂v/∂y               model.fw:17
 	//	  1/1000000 · ∂temp/∂x · ∂v/∂x               model.fw:17
-	//	SUPG: + Σ_K (τ_temp R, L_A v)_K              model.fw:21
+	//	SUPG: + Σ_K (τ_temp R_temp, a·∇v)_K          model.fw:21
 	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y            model.fw:17
 	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y  model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y        model.fw:17
@@ -397,12 +397,12 @@ func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
 	//	  a[2] · ∂temp/∂y · v                          model.fw:13
 	//	  a[1] · ∂temp/∂x · v                          model.fw:13
 	//	  1/1000000 · ∂temp/∂y · ∂v/∂y                 model.fw:17
 	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                 model.fw:17
-	//	GLS: + Σ_K (τ_temp R, L v)_K                   model.fw:21
+	//	GLS: + Σ_K (τ_temp R_temp, −κ Δv + a·∇v)_K     model.fw:21
 	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y              model.fw:17
 	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y    model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y          model.fw:17
@@ -549,12 +549,12 @@ func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
 	//	  a[2] · ∂temp/∂y · v                           model.fw:13
 	//	  a[1] · ∂temp/∂x · v                           model.fw:13
 	//	  1/1000000 · ∂temp/∂y · ∂v/∂y                  model.fw:17
 	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                  model.fw:17
-	//	VMS: − Σ_K (τ_temp R, L* v)_K                   model.fw:21
+	//	VMS: − Σ_K (τ_temp R_temp, −κ Δv − a·∇v)_K      model.fw:21
 	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y               model.fw:17
 	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y     model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y           model.fw:17

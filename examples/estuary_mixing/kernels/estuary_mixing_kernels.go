@@ -104,7 +104,7 @@ func (EstuaryMixingGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 	//	  1/10 · salt · v  model.fw:17
 	acc[0] += (1.0 / 12) * c3
 	acc[1] += (1.0 / 24) * c3
@@ -118,7 +118,7 @@ func (EstuaryMixingGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 	//	  v  model.fw:17
 	rhs[0] += (1.0 / 6) * detJ
 	rhs[1] += (1.0 / 6) * detJ
@@ -163,7 +163,7 @@ func (EstuaryMixingGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p30 := -p29
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  a[2] · ∂salt/∂y · v   model.fw:12
 		//	  a[1] · ∂salt/∂x · v   model.fw:12
 		//	  κ · ∂salt/∂y · ∂v/∂y  model.fw:13
@@ -258,7 +258,7 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 	//	  1/10 · salt · v  model.fw:17
 	acc[0] += (1.0 / 12) * c21
 	acc[1] += (1.0 / 24) * c21
@@ -272,7 +272,7 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 	//	  v  model.fw:17
 	rhs[0] += (1.0 / 6) * detJ
 	rhs[1] += (1.0 / 6) * detJ
@@ -369,12 +369,12 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p73 := coef15 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  a[2] · ∂salt/∂y · v                             model.fw:12
 		//	  a[1] · ∂salt/∂x · v                             model.fw:12
 		//	  κ · ∂salt/∂y · ∂v/∂y                            model.fw:13
 		//	  κ · ∂salt/∂x · ∂v/∂x                            model.fw:13
-		//	SUPG: + Σ_K (τ_salt R, L_A v)_K                   model.fw:20
+		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K               model.fw:20
 		//	  a[2] τ_salt/10 · salt · ∂v/∂y                   model.fw:17
 		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                 model.fw:17
 		//	  −a[2] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂y  model.fw:17
@@ -398,7 +398,7 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[8] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_salt R, L_A v)_K  model.fw:20
+		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K  model.fw:20
 		//	  a[2] τ_salt · ∂v/∂y  model.fw:17
 		//	  a[1] τ_salt · ∂v/∂x  model.fw:17
 		rhs[0] += c23*p72 + c25*p73
@@ -592,13 +592,13 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p89 := coef28 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  1/10 · salt · v                                   model.fw:17
 		//	  a[2] · ∂salt/∂y · v                               model.fw:12
 		//	  a[1] · ∂salt/∂x · v                               model.fw:12
 		//	  κ · ∂salt/∂y · ∂v/∂y                              model.fw:13
 		//	  κ · ∂salt/∂x · ∂v/∂x                              model.fw:13
-		//	GLS: + Σ_K (τ_salt R, L v)_K                        model.fw:20
+		//	GLS: + Σ_K (τ_salt R_salt, −κ Δv + σ v + a·∇v − ∇κ·∇v)_K  model.fw:20
 		//	  τ_salt/100 · salt · v                             model.fw:17
 		//	  a[2] τ_salt/10 · ∂salt/∂y · v                     model.fw:17
 		//	  −τ_salt (−y/10 + 1/20)/10 · ∂salt/∂y · v          model.fw:17
@@ -645,9 +645,9 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[8] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  v                               model.fw:17
-		//	GLS: + Σ_K (τ_salt R, L v)_K      model.fw:20
+		//	GLS: + Σ_K (τ_salt R_salt, −κ Δv + σ v + a·∇v − ∇κ·∇v)_K  model.fw:20
 		//	  τ_salt/10 · v                   model.fw:17
 		//	  a[2] τ_salt · ∂v/∂y             model.fw:17
 		//	  −τ_salt (−y/10 + 1/20) · ∂v/∂y  model.fw:17
@@ -855,13 +855,13 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p98 := coef28 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  1/10 · salt · v                                      model.fw:17
 		//	  a[2] · ∂salt/∂y · v                                  model.fw:12
 		//	  a[1] · ∂salt/∂x · v                                  model.fw:12
 		//	  κ · ∂salt/∂y · ∂v/∂y                                 model.fw:13
 		//	  κ · ∂salt/∂x · ∂v/∂x                                 model.fw:13
-		//	VMS: − Σ_K (τ_salt R, L* v)_K                          model.fw:20
+		//	VMS: − Σ_K (τ_salt R_salt, −κ Δv + σ v − (∇·a) v − a·∇v − ∇κ·∇v)_K  model.fw:20
 		//	  −τ_salt/100 · salt · v                               model.fw:17
 		//	  τ_salt (−x/2 + 1/10)/10 · salt · v                   model.fw:17
 		//	  −a[2] τ_salt/10 · ∂salt/∂y · v                       model.fw:17
@@ -913,9 +913,9 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[8] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 		//	  v                              model.fw:17
-		//	VMS: − Σ_K (τ_salt R, L* v)_K    model.fw:20
+		//	VMS: − Σ_K (τ_salt R_salt, −κ Δv + σ v − (∇·a) v − a·∇v − ∇κ·∇v)_K  model.fw:20
 		//	  −τ_salt/10 · v                 model.fw:17
 		//	  τ_salt (−x/2 + 1/10) · v       model.fw:17
 		//	  a[2] τ_salt · ∂v/∂y            model.fw:17

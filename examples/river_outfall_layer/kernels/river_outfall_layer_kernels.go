@@ -91,7 +91,7 @@ func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
 	//	  ∂c/∂x · v              model.fw:18
 	//	  1/500 · ∂c/∂x · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c1
@@ -154,10 +154,10 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
 	//	  ∂c/∂x · v                   model.fw:18
 	//	  1/500 · ∂c/∂x · ∂v/∂x       model.fw:18
-	//	SUPG: + Σ_K (τ_c R, L_A v)_K  model.fw:22
+	//	SUPG: + Σ_K (τ_c R_c, a ∂ₓv)_K  model.fw:22
 	//	  τ_c · ∂c/∂x · ∂v/∂x         model.fw:22
 	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
@@ -220,10 +220,10 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
 	//	  ∂c/∂x · v                       model.fw:18
 	//	  1/500 · ∂c/∂x · ∂v/∂x           model.fw:18
-	//	GLS: + Σ_K (τ_c R, L v)_K         model.fw:22
+	//	GLS: + Σ_K (τ_c R_c, a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
 	//	  τ_c · ∂c/∂x · ∂v/∂x             model.fw:22
 	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x      model.fw:18
 	//	  −τ_c/500 · ∂c/∂x · ∂²v/∂x²      model.fw:18
@@ -288,10 +288,10 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
 	//	  ∂c/∂x · v                        model.fw:18
 	//	  1/500 · ∂c/∂x · ∂v/∂x            model.fw:18
-	//	VMS: − Σ_K (τ_c R, L* v)_K         model.fw:22
+	//	VMS: − Σ_K (τ_c R_c, −a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
 	//	  τ_c · ∂c/∂x · ∂v/∂x              model.fw:22
 	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x       model.fw:18
 	//	  τ_c/500 · ∂c/∂x · ∂²v/∂x²        model.fw:18

@@ -122,7 +122,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  model.fw:15
 	A[6] = (1.0 / 6) * (-j11 - c3)
 	A[7] = (1.0 / 6) * j11
@@ -136,7 +136,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:15
 	A[0] = 0.5*(c18+c22) + c20
@@ -151,7 +151,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  model.fw:15
 	A[33] = (1.0 / 6) * (-c4 - j00)
 	A[34] = (1.0 / 6) * c4
@@ -165,7 +165,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:15
 	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c18+c22) + c20
@@ -180,7 +180,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c3)
 	A[55] = (1.0 / 6) * j11
@@ -194,7 +194,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  model.fw:15
 	A[57] = (1.0 / 6) * (-c4 - j00)
 	A[58] = (1.0 / 6) * c4
@@ -208,7 +208,7 @@ func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  −981/100 · v_vel[2]  model.fw:15
 	b[3] = (1.0 / 6) * c23
 	b[4] = (1.0 / 6) * c23
@@ -354,7 +354,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]  model.fw:15
 	A[6] = (1.0 / 6) * (-j11 - c20)
 	A[7] = (1.0 / 6) * j11
@@ -368,7 +368,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
 	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:16
 	A[0] = 0.5*(c35+c39) + c37
@@ -383,7 +383,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
@@ -397,7 +397,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  model.fw:15
 	A[33] = (1.0 / 6) * (-c21 - j00)
 	A[34] = (1.0 / 6) * c21
@@ -411,7 +411,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
@@ -425,7 +425,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:16
 	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
@@ -440,9 +440,9 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K        model.fw:20
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
 	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
 	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -457,9 +457,9 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K        model.fw:20
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
 	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
 	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -474,7 +474,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
@@ -489,7 +489,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  −981/100 · v_vel[2]  model.fw:15
 	b[3] = (1.0 / 6) * c83
 	b[4] = (1.0 / 6) * c83
@@ -497,7 +497,7 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R, L_A v)_K  model.fw:20
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
 	b[6] = tau_vel * c88
 	b[7] = tau_vel * c89
@@ -643,9 +643,9 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
 	A[6] = (1.0 / 6) * (-j11 - c20)
@@ -660,10 +660,10 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             model.fw:15
 	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             model.fw:16
-	//	GLS: + Σ_K (τ_vel R, L v)_K                  model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
@@ -680,7 +680,7 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
@@ -694,9 +694,9 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
 	A[33] = (1.0 / 6) * (-c21 - j00)
@@ -711,7 +711,7 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
@@ -725,10 +725,10 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             model.fw:16
 	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K                  model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
@@ -745,9 +745,9 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
 	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -762,9 +762,9 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K           model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
 	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -779,7 +779,7 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
@@ -794,9 +794,9 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  −981/100 · v_vel[2]           model.fw:15
-	//	GLS: + Σ_K (τ_vel R, L v)_K     model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
 	b[3] = (1.0 / 6) * c83
@@ -805,7 +805,7 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_vel R, L v)_K  model.fw:20
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
 	b[6] = tau_vel * c88
 	b[7] = tau_vel * c89
@@ -951,9 +951,9 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                   model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K         model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
 	A[6] = (1.0 / 6) * (-j11 - c20)
@@ -968,10 +968,10 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y              model.fw:15
 	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x              model.fw:16
-	//	VMS: − Σ_K (τ_vel R, L* v)_K                  model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
@@ -988,7 +988,7 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
@@ -1002,9 +1002,9 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                   model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K         model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
 	A[33] = (1.0 / 6) * (-c21 - j00)
@@ -1019,7 +1019,7 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
@@ -1033,10 +1033,10 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y              model.fw:16
 	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x              model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K                  model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
@@ -1053,9 +1053,9 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K          model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
 	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
@@ -1070,9 +1070,9 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K          model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
 	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
 	A[57] = (1.0 / 6) * (-c21 - j00)
@@ -1087,7 +1087,7 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
@@ -1102,9 +1102,9 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  −981/100 · v_vel[2]            model.fw:15
-	//	VMS: − Σ_K (τ_vel R, L* v)_K     model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
 	b[3] = (1.0 / 6) * c83
@@ -1113,7 +1113,7 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_vel R, L* v)_K  model.fw:20
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
 	b[6] = tau_vel * c88
 	b[7] = tau_vel * c89
