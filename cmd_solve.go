@@ -198,6 +198,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	for _, name := range m.FreeConstants() {
+		fmt.Fprintf(stderr, "formwright: warning: %s is fixed only up to a constant (no value, Robin or mean condition holds it): the discrete problem is singular\n", name)
+	}
 	var sols []*problem.Solution
 	for k, meth := range methods {
 		lf, err := lowerModel(m, meth)
@@ -321,6 +324,7 @@ func solveError(err error) error {
 	var pe *problem.PicardError
 	var tl *linsolve.TooLargeError
 	var me *problem.MeshError
+	var re *problem.ResidualError
 	var ue *usageError
 	switch {
 	case errors.As(err, &ue):
@@ -329,7 +333,7 @@ func solveError(err error) error {
 		return fmt.Errorf("numerical failure, no result written: %w: the discrete problem has more than one solution. "+
 			"A field that the equations fix only up to a constant needs a mean condition (mean p = 0); "+
 			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
-	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl):
+	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl), errors.As(err, &re):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
 	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide):
 		return &usageError{err.Error()}

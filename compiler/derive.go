@@ -69,6 +69,9 @@ func Derive(m *Model, methods []Method) (*Derivation, error) {
 		return nil, err
 	}
 	d.Notes = galerkinNotes(m)
+	for _, name := range m.FreeConstants() {
+		d.Notes = append(d.Notes, Note{Warning, fmt.Sprintf("%s is fixed only up to a constant: adding a constant to it changes no equation, and no value, Robin or mean condition holds it, so the discrete problem is singular; add a value condition on part of the boundary or \"mean %s = 0\"", name, baseName(name))})
+	}
 	if len(methods) == 0 {
 		methods = m.Methods
 	}
@@ -359,4 +362,14 @@ func (m *Model) usesInverseEstimate() bool {
 		}
 	}
 	return false
+}
+
+// baseName is an unknown's name without a component index.
+func baseName(s string) string {
+	for i, r := range s {
+		if r == '[' {
+			return s[:i]
+		}
+	}
+	return s
 }

@@ -334,6 +334,44 @@ func (s *system) linearSolve(A *sparse.CSR, b, x []float64, so linsolve.Options)
 	return s.prepared.Solve(b, x)
 }
 
+// DirectResidualTol is the largest relative residual ‖b − Ax‖/‖b‖ a
+// direct solve may leave: far above the round-off of a well-conditioned
+// factorisation (1e-14 or so), far below what a singular or nearly
+// singular matrix gives. Common practice, no source.
+const DirectResidualTol = 1e-8
+
+// ResidualError is a linear solve whose own final residual, recomputed
+// from A, b and x, is above the tolerance: the result is not a solution.
+type ResidualError struct {
+	Solver   string
+	Residual float64
+	Tol      float64
+}
+
+func (e *ResidualError) Error() string {
+	return fmt.Sprintf("problem: the %s solve left a relative residual %.3g, above the tolerance %.3g: the matrix is singular or nearly so "+
+		"(an unknown fixed only up to a constant needs a value condition or a mean condition)", e.Solver, e.Residual, e.Tol)
+}
+
+// checkResidual checks a linear solve's explicit residual against its
+// tolerance: the relative tolerance of an iterative method (with a factor
+// 10 for the difference between the recurrence it stopped on and the
+// explicit residual), DirectResidualTol for the direct solver.
+func checkResidual(res linsolve.Result, so linsolve.Options) error {
+	tol := DirectResidualTol
+	if so.Method != linsolve.MethodDirect {
+		tol = so.RelTol
+		if tol == 0 {
+			tol = linsolve.DefaultRelTol
+		}
+		tol *= 10
+	}
+	if !(res.Residual <= tol) {
+		return &ResidualError{Solver: res.Solver, Residual: res.Residual, Tol: tol}
+	}
+	return nil
+}
+
 // sameOptions compares the options that shape a prepared solver.
 func sameOptions(a, b linsolve.Options) bool {
 	return a.Method == b.Method && a.Precond == b.Precond && a.ILUShift == b.ILUShift && a.Workers == b.Workers &&
@@ -411,6 +449,9 @@ func (s *system) solve(opts Options) (*Solution, error) {
 		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
 		if err != nil {
+			return nil, err
+		}
+		if err := checkResidual(res, so); err != nil {
 			return nil, err
 		}
 		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it

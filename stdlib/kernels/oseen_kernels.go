@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("011b7f5f57bc54e67e31e71a65ad79b6", compiled.Kernels{
+	compiled.Register("6a5e5f672a8496cf27b0aabddfe6b06c", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -21,7 +21,7 @@ func init() {
 			return OseenGalerkinKernel{}
 		},
 	})
-	compiled.Register("6d7450aca99a3258ae388b5d620a2918", compiled.Kernels{
+	compiled.Register("1288bc16e103cff4b8aa80dfe0b9a10b", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return OseenSUPGKernel{}
 		},
 	})
-	compiled.Register("82f130526d3340879be4adef06ae3968", compiled.Kernels{
+	compiled.Register("36300f99173ecf8f5194700e569998da", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return OseenGLSKernel{}
 		},
 	})
-	compiled.Register("a16b8d1881035b34874e61214c9c3803", compiled.Kernels{
+	compiled.Register("30bd61e4d1ed7bbbb22a04baa406b415", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -401,12 +401,12 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[1]/∂x · v_vel[1]                     oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y         oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x           oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x           oseen.fw:18
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
 	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
@@ -421,8 +421,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]              oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
-	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x  oseen.fw:17
 	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[7] = (1.0/6)*j11 + tau_vel*c69
 	A[8] = (1.0/6)*c29 + tau_vel*c74
@@ -435,8 +435,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -453,11 +453,11 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[2]/∂x · v_vel[2]                     oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y         oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y           oseen.fw:17
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y           oseen.fw:18
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  oseen.fw:12
 	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
 	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
@@ -473,8 +473,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]              oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
-	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x  oseen.fw:17
 	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[34] = (1.0/6)*c30 + tau_vel*c126
 	A[35] = (1.0/6)*j00 + tau_vel*c129
@@ -487,8 +487,8 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -503,9 +503,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
 	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[55] = (1.0/6)*j11 + tau_vel*c69
@@ -521,9 +521,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
 	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[58] = (1.0/6)*c30 + tau_vel*c130
@@ -537,9 +537,9 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:16
-	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
-	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
 	A[60] = tau_vel * c141
 	A[61] = tau_vel * c144
 	A[62] = tau_vel * c146
@@ -749,18 +749,18 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[1]/∂x · v_vel[1]                        oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y            oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x     oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
-	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x              oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x              oseen.fw:18
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
 	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
@@ -775,9 +775,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
-	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x         oseen.fw:16
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
 	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[7] = (1.0/6)*j11 + tau_vel*c69
@@ -791,8 +791,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -809,14 +809,14 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[2]/∂x · v_vel[2]                        oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y            oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:12
-	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y              oseen.fw:17
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y              oseen.fw:18
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x     oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²     oseen.fw:12
@@ -835,9 +835,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
-	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x         oseen.fw:16
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
 	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[34] = (1.0/6)*c30 + tau_vel*c126
@@ -851,8 +851,8 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -867,9 +867,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
 	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[55] = (1.0/6)*j11 + tau_vel*c69
@@ -885,9 +885,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
 	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[58] = (1.0/6)*c30 + tau_vel*c130
@@ -901,9 +901,9 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:16
-	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
-	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
 	A[60] = tau_vel * c141
 	A[61] = tau_vel * c144
 	A[62] = tau_vel * c146
@@ -1113,18 +1113,18 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[1]/∂x · v_vel[1]                         oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             oseen.fw:12
 	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x      oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x      oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
-	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x               oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x               oseen.fw:18
 	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
 	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
 	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
@@ -1139,9 +1139,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂x · v_vel[1]                    oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
-	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x        oseen.fw:16
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x        oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
 	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[7] = (1.0/6)*j11 + tau_vel*c69
@@ -1155,8 +1155,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -1173,14 +1173,14 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂vel[2]/∂x · v_vel[2]                         oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             oseen.fw:12
 	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:12
-	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:17
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y               oseen.fw:17
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y               oseen.fw:18
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x      oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x      oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²       oseen.fw:12
@@ -1199,9 +1199,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]                    oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
-	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x        oseen.fw:16
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x        oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
 	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[34] = (1.0/6)*c30 + tau_vel*c126
@@ -1215,8 +1215,8 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:17
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:17
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -1231,9 +1231,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:16
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
 	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
 	A[55] = (1.0/6)*j11 + tau_vel*c69
@@ -1249,9 +1249,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:16
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
 	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
 	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
 	A[58] = (1.0/6)*c30 + tau_vel*c130
@@ -1265,9 +1265,9 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:16
-	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:16
-	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
 	A[60] = tau_vel * c141
 	A[61] = tau_vel * c144
 	A[62] = tau_vel * c146
