@@ -121,6 +121,11 @@ type Summary struct {
 	Workers      int
 	Phases       []Phase
 	Ranges       []FieldRange
+	// Engine names the engine that assembled and solved when it is not
+	// this package (e.g. "PETSc 3.18.5, Open MPI" for runtime/distributed;
+	// empty here), and Ranks its number of processes.
+	Engine string
+	Ranks  int
 }
 
 // FieldValues are the nodal values of one field: Values[comp][node] at
