@@ -2,6 +2,7 @@ package distributed
 
 import (
 	"math"
+	"os"
 	"testing"
 
 	"github.com/formwright/formwright/compiler"
@@ -11,6 +12,21 @@ import (
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/stdlib"
 )
+
+// testCache keeps the drivers built by this package's tests (one build
+// per form for all of them), removed at the end.
+var testCache string
+
+func TestMain(m *testing.M) {
+	dir, err := os.MkdirTemp("", "formwright-driver-cache-")
+	if err != nil {
+		panic(err)
+	}
+	testCache = dir
+	code := m.Run()
+	os.RemoveAll(dir)
+	os.Exit(code)
+}
 
 // needEngine skips a test where MPI or PETSc is missing, saying what to
 // install.
@@ -75,4 +91,28 @@ func relDiff(x, y []float64) float64 {
 		n = math.Max(n, math.Abs(y[i]))
 	}
 	return d / n
+}
+
+// manufactured is m with the source and boundary data of its default
+// manufactured solution (compiler.Manufacture, as verify does), and that
+// solution lowered.
+func manufactured(t testing.TB, m *compiler.Model) (*compiler.Model, [][]ir.Expr) {
+	t.Helper()
+	var exact []ir.Expr
+	for _, s := range compiler.DefaultExact(m) {
+		e, errs := m.ParseExpr("exact", s)
+		if len(errs) > 0 {
+			t.Fatal(errs)
+		}
+		exact = append(exact, e)
+	}
+	mf, err := compiler.Manufacture(m, exact, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var lowered [][]ir.Expr
+	for _, e := range exact {
+		lowered = append(lowered, compiler.LowerExpr(m, e))
+	}
+	return mf.Model, lowered
 }

@@ -35,8 +35,11 @@ func (m Method) String() string {
 type Precond int
 
 const (
-	// PrecondAMG is the default: algebraic multigrid, the
-	// smoothed-aggregation kind (PrecondSAAMG).
+	// PrecondAMG is the default: algebraic multigrid, the classical kind
+	// (PrecondClassicalAMG) where PETSc was built with hypre, else
+	// smoothed aggregation (PrecondSAAMG). On the Poisson problem of
+	// TestAMGIterations classical AMG needs a third of the iterations of
+	// smoothed aggregation and less time.
 	PrecondAMG Precond = iota
 	PrecondNone
 	PrecondJacobi
@@ -118,7 +121,7 @@ func (s Solver) String() string {
 // codes are the method and preconditioner codes of the part header.
 func (s Solver) codes() (method, precond int64) {
 	method = map[Method]int64{MethodAuto: codeAuto, MethodDirect: codeDirect, MethodCG: codeCG, MethodGMRES: codeGMRES, MethodBiCGStab: codeBiCGStab}[s.Method]
-	precond = map[Precond]int64{PrecondAMG: codePrecondGAMG, PrecondNone: codePrecondNone, PrecondJacobi: codePrecondJacobi,
+	precond = map[Precond]int64{PrecondAMG: codePrecondDefault, PrecondNone: codePrecondNone, PrecondJacobi: codePrecondJacobi,
 		PrecondILU0: codePrecondILU0, PrecondSAAMG: codePrecondGAMG, PrecondClassicalAMG: codePrecondHypre}[s.Precond]
 	return method, precond
 }

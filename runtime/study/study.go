@@ -26,6 +26,9 @@ type Field struct {
 	UpToConstant bool
 }
 
+// SolveFunc solves a steady form on a mesh as problem.Solve does.
+type SolveFunc func(form *ir.LoweredForm, m *mesh.Mesh, opts problem.Options) (*problem.Solution, error)
+
 // Method is one method of a study: its name and its lowered form, steady
 // (Form) or stepped in time (Stepped).
 type Method struct {
@@ -61,6 +64,10 @@ type Config struct {
 	Steps func(level int) int
 	// Solve holds the options of every solve.
 	Solve problem.Options
+	// SolveFunc, if not nil, solves the steady levels in place of
+	// problem.Solve: another engine (runtime/distributed). Transient
+	// methods then fail with an error, since it has no time stepping.
+	SolveFunc SolveFunc
 	// Progress, if not nil, is told about each level as it starts.
 	Progress func(method string, level int, cells int)
 }
@@ -184,12 +191,19 @@ func Run(cfg Config) (*Report, error) {
 
 func solveLevel(cfg Config, meth Method, l int, m *mesh.Mesh, exact []problem.Exact) (*problem.Solution, float64, error) {
 	if meth.Stepped != nil {
+		if cfg.SolveFunc != nil {
+			return nil, 0, fmt.Errorf("study: %s is transient, and the solve function of this study solves steady forms only", meth.Name)
+		}
 		steps := cfg.Steps(l)
 		sol, err := problem.SolveTransient(meth.Stepped, m, problem.TransientOptions{Options: cfg.Solve,
 			Step: cfg.Until / float64(steps), Steps: steps, Initial: exact})
 		return sol, cfg.Until, err
 	}
-	sol, err := problem.Solve(meth.Form, m, cfg.Solve)
+	solve := cfg.SolveFunc
+	if solve == nil {
+		solve = problem.Solve
+	}
+	sol, err := solve(meth.Form, m, cfg.Solve)
 	return sol, 0, err
 }
 

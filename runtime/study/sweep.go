@@ -35,6 +35,9 @@ type SweepConfig struct {
 	// at that value (it may involve the coefficient).
 	FormAt func(method string, kappa float64) (*ir.LoweredForm, []ir.Expr, error)
 	Solve  problem.Options
+	// SolveFunc, if not nil, solves in place of problem.Solve (see
+	// Config.SolveFunc).
+	SolveFunc SolveFunc
 }
 
 // PecletNumbers are the element Péclet numbers of a sweep: 10^e for
@@ -60,7 +63,11 @@ func Sweep(cfg SweepConfig) ([]SweepMethod, error) {
 			if err != nil {
 				return nil, err
 			}
-			sol, err := problem.Solve(form, cfg.Level.Mesh, cfg.Solve)
+			solve := cfg.SolveFunc
+			if solve == nil {
+				solve = problem.Solve
+			}
+			sol, err := solve(form, cfg.Level.Mesh, cfg.Solve)
 			if err != nil {
 				return nil, fmt.Errorf("%s at element Péclet number %g: %w", meth, pe, err)
 			}
