@@ -134,6 +134,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("solve", "MODEL [flags]", "Derive and lower MODEL with one method, assemble it on a mesh and solve it.\nThe summary says which kernels, solver and mesh were used.")
 	method := fs.String("method", "", "galerkin, supg, gls, vms, or all (default: the model's first stabilised method, else galerkin)")
 	sf := addSolveFlags(fs)
+	ef := addEngineFlags(fs)
 	dt := fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)")
 	steps := fs.Int("steps", 0, "number of time steps of a transient model")
 	until := fs.Float64("until", 0, "end time of a transient model (instead of --steps)")
@@ -149,6 +150,10 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		return usagef("solve takes one model")
 	}
 	opts, err := sf.options(stderr)
+	if err != nil {
+		return err
+	}
+	engineSolve, err := ef.solveFunc(sf, stderr)
 	if err != nil {
 		return err
 	}
@@ -212,9 +217,14 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		}
 		start := time.Now()
 		var sol *problem.Solution
-		if lf.IsTransient() {
+		switch {
+		case lf.IsTransient() && engineSolve != nil:
+			return usagef("--engine petsc solves steady models; %s is transient", m.Name)
+		case lf.IsTransient():
 			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time, *sf.quiet}, opts, stderr)
-		} else {
+		case engineSolve != nil:
+			sol, err = engineSolve(lf, msh, opts)
+		default:
 			sol, err = problem.Solve(lf, msh, opts)
 		}
 		if err != nil {
@@ -317,6 +327,9 @@ func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr tr
 // solveError sorts a runtime error into input errors (status 2) and
 // numerical failures (status 1).
 func solveError(err error) error {
+	if e := engineError(err); e != nil {
+		return e
+	}
 	var nc *linsolve.NotConvergedError
 	var bd *linsolve.BreakdownError
 	var nf *linsolve.NonFiniteError
@@ -390,15 +403,22 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 	}
 	fmt.Fprintf(w, "kernels    %s\n", s.KernelPath)
+	if s.Engine != "" {
+		fmt.Fprintf(w, "engine     %s, %d ranks\n", s.Engine, s.Ranks)
+	}
 	setups := ""
 	if s.Prepared > 1 {
 		setups = fmt.Sprintf(", %d set-ups", s.Prepared)
 	}
-	if s.Solver == "direct" {
+	if s.Solver == "direct" || strings.HasPrefix(s.Solver, "direct ") {
 		if s.Prepared > 1 {
 			setups = fmt.Sprintf(", %d factorisations", s.Prepared)
 		}
-		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e\n", setups, s.Residual)
+		name := "direct sparse LU"
+		if s.Solver != "direct" {
+			name = s.Solver
+		}
+		fmt.Fprintf(w, "solver     %s%s, relative residual %.2e\n", name, setups, s.Residual)
 	} else {
 		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e\n", s.Solver, setups, s.Iterations, s.Residual)
 	}
@@ -415,7 +435,11 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 		fmt.Fprintf(w, "%s %.3f", p.Name, p.Wall.Seconds())
 	}
-	fmt.Fprintf(w, ") on %d workers\n", s.Workers)
+	if s.Ranks > 0 {
+		fmt.Fprintf(w, ") on %d MPI ranks\n", s.Ranks)
+	} else {
+		fmt.Fprintf(w, ") on %d workers\n", s.Workers)
+	}
 	for _, r := range s.Ranges {
 		name := r.Field
 		if fieldComponents(sol, r.Field) > 1 {
@@ -450,6 +474,9 @@ type jsonSolve struct {
 	Residual   float64 `json:"residual"`
 	Picard     int     `json:"picard_iterations"`
 	Setups     int     `json:"solver_setups"` // factorisations or preconditioner builds
+	// Engine and Ranks: --engine petsc only.
+	Engine string `json:"engine,omitempty"`
+	Ranks  int    `json:"ranks,omitempty"`
 	// MeanResidual: models with mean conditions; see problem.Summary.
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
@@ -471,7 +498,7 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
-		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, Engine: s.Engine, Ranks: s.Ranks}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))

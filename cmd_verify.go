@@ -39,6 +39,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	sweep := fs.String("sweep-pe", "", "also sweep the element Péclet number 0.01…1000 by setting this constant diffusivity coefficient")
 	speed := fs.Float64("speed", 1, "advection speed |a| used to turn Péclet numbers into diffusivities in --sweep-pe")
 	quiet := fs.Bool("quiet", false, "no progress on standard error")
+	engine := addEngineFlags(fs)
 	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
 	until := fs.Float64("until", 0, "transient models: compare with the exact solution at this time")
 	steps0 := fs.Int("steps", 4, "transient models: backward Euler steps on the coarsest mesh; each refinement multiplies them by 2^(k+1), so that Δt ∝ h^(k+1)")
@@ -56,6 +57,10 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		return usagef("--plot: plots are PNG files: name it FILE.png")
 	}
 	if err := checkOutputs([]string{pos[0]}, outputTarget{"--plot", *plotPath}); err != nil {
+		return err
+	}
+	engineSolve, err := engine.verifySolveFunc(*quiet, stderr)
+	if err != nil {
 		return err
 	}
 	m, err := loadModel(pos[0])
@@ -93,7 +98,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if n0 == 0 {
 		n0 = map[int]int{1: 8, 2: 4, 3: 2}[m.Dim]
 	}
-	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol,
+	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol, SolveFunc: engineSolve,
 		Mesh: func(l int) (study.Level, error) { return studyMesh(m.Dim, *pattern, n0<<l) }}
 	if !*quiet {
 		cfg.Progress = func(meth string, level, cells int) {
@@ -114,6 +119,9 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 		sm := study.Method{Name: meth.String(), Form: lf}
 		if lf.IsTransient() {
+			if engineSolve != nil {
+				return usagef("--engine petsc solves steady models; %s is transient", m.Name)
+			}
 			if !(*until > 0) {
 				return usagef("model %s is transient: give the comparison time with --until T", m.Name)
 			}
@@ -167,7 +175,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if !*asJSON {
 			fmt.Fprintf(stdout, "\nelement Péclet sweep on the %d-per-unit mesh (h = %.4g), %s = |a| h/(2 Pe) with |a| = %g\n", lv.N, lv.H, *sweep, *speed)
 		}
-		rep.Sweep, err = study.Sweep(study.SweepConfig{Dim: m.Dim, Methods: names, Level: lv, Speed: *speed,
+		rep.Sweep, err = study.Sweep(study.SweepConfig{Dim: m.Dim, Methods: names, Level: lv, Speed: *speed, SolveFunc: engineSolve,
 			FormAt: func(meth string, kappa float64) (*ir.LoweredForm, []ir.Expr, error) {
 				return sweepForm(m, mf, *sweep, meth, kappa)
 			}})

@@ -13,6 +13,7 @@ import (
 	"syscall"
 
 	"github.com/formwright/formwright/lang/source"
+	"github.com/formwright/formwright/runtime/distributed"
 	"github.com/formwright/formwright/runtime/output"
 	"github.com/formwright/formwright/stdlib"
 )
@@ -76,6 +77,7 @@ func main() {
 	go func() {
 		s := <-sig
 		output.RemovePending()
+		distributed.RemovePending()
 		fmt.Fprintf(os.Stderr, "formwright: %v: stopped, nothing written\n", s)
 		os.Exit(exitInterrupted)
 	}()

@@ -43,7 +43,14 @@ type RunError struct {
 }
 
 func (e *RunError) Error() string {
-	return fmt.Sprintf("the PETSc driver on %d ranks failed (%v, exit status %d):\n%s", e.Ranks, e.Err, e.ExitCode, indent(e.Stderr))
+	return fmt.Sprintf("the PETSc driver on %s failed (%v):\n%s", ranksText(e.Ranks), e.Err, indent(e.Stderr))
+}
+
+func ranksText(n int) string {
+	if n == 1 {
+		return "1 rank"
+	}
+	return fmt.Sprintf("%d ranks", n)
 }
 
 func (e *RunError) Unwrap() error { return e.Err }
@@ -105,6 +112,9 @@ func (t *tail) Write(p []byte) (int, error) {
 	return len(p), nil
 }
 
+// String returns the kept output, whole lines only, without PETSc's
+// line of configure options (a few kilobytes that say nothing about the
+// failure) and with lines cut at 300 bytes.
 func (t *tail) String() string {
 	b := t.buf
 	if len(b) > t.max {
@@ -113,5 +123,15 @@ func (t *tail) String() string {
 			b = b[i+1:]
 		}
 	}
-	return string(b)
+	var out []string
+	for _, line := range strings.SplitAfter(string(b), "\n") {
+		if strings.Contains(line, "PETSC ERROR: Configure options") {
+			continue
+		}
+		if len(line) > 300 {
+			line = line[:300] + " …\n"
+		}
+		out = append(out, line)
+	}
+	return strings.Join(out, "")
 }

@@ -40,8 +40,9 @@ func (tc *toolchain) launchArgs(ranks int, exe, dir string, petscOpts []string) 
 }
 
 // launch runs the driver on ranks processes in dir: its standard output
-// goes to log (PETSc's own reports: -ksp_monitor, -log_view), its
-// standard error to log too and to the tail that errors carry.
+// goes to log (PETSc's own reports: -ksp_monitor, -log_view); the tail of
+// its standard error goes into the error of a failed run, or to log after
+// a run that worked.
 func (tc *toolchain) launch(exe, dir string, ranks int, petscOpts []string, log io.Writer) (stderr string, err error) {
 	args, env := tc.launchArgs(ranks, exe, dir, petscOpts)
 	cmd := exec.Command(tc.mpiexec, args...)
@@ -51,7 +52,7 @@ func (tc *toolchain) launch(exe, dir string, ranks int, petscOpts []string, log 
 		log = io.Discard
 	}
 	cmd.Stdout = log
-	cmd.Stderr = io.MultiWriter(errTail, log)
+	cmd.Stderr = errTail
 	if err := cmd.Start(); err != nil {
 		return "", &RunError{Ranks: ranks, ExitCode: -1, Err: err}
 	}
@@ -59,6 +60,8 @@ func (tc *toolchain) launch(exe, dir string, ranks int, petscOpts []string, log 
 	err = cmd.Wait()
 	pending.removeProc(cmd.Process)
 	if err == nil {
+		// Warnings of a run that worked (PETSc's about unused options, say).
+		io.WriteString(log, errTail.String())
 		return errTail.String(), nil
 	}
 	code := -1

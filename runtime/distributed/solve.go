@@ -161,7 +161,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	if err != nil {
 		return nil, nil, err
 	}
-	phase("run")
+	phase("mpiexec")
 	res, err := readResult(filepath.Join(dir, "result"))
 	if err != nil {
 		return nil, nil, &RunError{Ranks: ranks, Stderr: stderr, Err: err}
@@ -218,7 +218,10 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		Ranks:        ranks,
 	}
 	if res.Direct {
-		sum.Solver = "direct " + solverName
+		sum.Solver = "direct LU"
+		if res.Factor != "" {
+			sum.Solver += " (" + res.Factor + ")"
+		}
 	}
 	for _, f := range dm.Fields {
 		sum.Nodes = append(sum.Nodes, f.NumNodes)
