@@ -48,6 +48,14 @@ func (ef *engineFlags) solveFunc(sf *solveFlags, stderr io.Writer) (study.SolveF
 	if *ef.ranks < 1 {
 		return nil, usagef("--ranks %d: give at least 1", *ef.ranks)
 	}
+	switch {
+	case *sf.tol != 0 && !(*sf.tol > 0 && *sf.tol < 1):
+		return nil, usagef("--tol %g: the relative tolerance must be in (0, 1)", *sf.tol)
+	case *sf.maxIter < 0:
+		return nil, usagef("--max-iter %d: give a positive number", *sf.maxIter)
+	case *sf.restart < 0:
+		return nil, usagef("--restart %d: give a positive number", *sf.restart)
+	}
 	if *sf.shift != 0 {
 		return nil, usagef("--ilu-shift is a setting of the go engine's ILU(0); pass PETSc's own options with --petsc-options")
 	}

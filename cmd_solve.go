@@ -49,8 +49,10 @@ func addSolveFlags(fs *cmdFlags) *solveFlags {
 	}
 }
 
-// options turns the solve flags into problem options, checking each.
-func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
+// options turns the solve flags into problem options, checking each; the
+// solver flags only when they are the go engine's (ownSolver; the PETSc
+// engine reads them itself, cmd_engine.go).
+func (sf *solveFlags) options(stderr io.Writer, ownSolver bool) (problem.Options, error) {
 	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, PicardRelax: *sf.relax}
 	if r := *sf.relax; !(r >= 0 && r <= 1) {
 		return opts, usagef("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)
@@ -60,6 +62,9 @@ func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
 	}
 	if *sf.workers < 0 {
 		return opts, usagef("--workers %d: give a positive number (0: GOMAXPROCS)", *sf.workers)
+	}
+	if !ownSolver {
+		return opts, nil
 	}
 	so, err := parseSolver(sf, func(it int, r float64) {
 		if !*sf.quiet && it%25 == 0 {
@@ -149,11 +154,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return usagef("solve takes one model")
 	}
-	opts, err := sf.options(stderr)
+	engineSolve, err := ef.solveFunc(sf, stderr)
 	if err != nil {
 		return err
 	}
-	engineSolve, err := ef.solveFunc(sf, stderr)
+	opts, err := sf.options(stderr, engineSolve == nil)
 	if err != nil {
 		return err
 	}
