@@ -35,7 +35,7 @@ func generateLines(t *testing.T, dir string) [][]string {
 // from its //go:generate line and requires byte-identical output (run
 // with -update, or "go generate ./...", to rewrite them).
 func TestGeneratedKernelsUpToDate(t *testing.T) {
-	dirs := []string{"stdlib/kernels"}
+	dirs := []string{"stdlib/kernels", "runtime/distributed/internal/benchkernels"}
 	ex, _ := filepath.Glob("examples/*/kernels")
 	dirs = append(dirs, ex...)
 	root, _ := os.Getwd()

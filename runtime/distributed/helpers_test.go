@@ -1,6 +1,7 @@
 package distributed
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"testing"
@@ -23,6 +24,12 @@ func TestMain(m *testing.M) {
 		panic(err)
 	}
 	testCache = dir
+	if spec := os.Getenv(benchChildEnv); spec != "" {
+		// A benchmark's child process (bench_test.go).
+		code := benchChild(spec)
+		os.RemoveAll(dir)
+		os.Exit(code)
+	}
 	code := m.Run()
 	os.RemoveAll(dir)
 	os.Exit(code)
@@ -40,6 +47,14 @@ func needEngine(t testing.TB) {
 // model checks a model given by its standard name or its source text.
 func model(t testing.TB, nameOrSrc string) *compiler.Model {
 	t.Helper()
+	m, err := checkModel(nameOrSrc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
+func checkModel(nameOrSrc string) (*compiler.Model, error) {
 	file, src := "test.fw", []byte(nameOrSrc)
 	if f, s, err := stdlib.Model(nameOrSrc); err == nil {
 		file, src = f, s
@@ -47,31 +62,39 @@ func model(t testing.TB, nameOrSrc string) *compiler.Model {
 	f, errs := lang.Parse(file, src)
 	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module, Partial: len(errs) > 0})
 	if errs = append(errs, cerrs...); len(errs) > 0 {
-		t.Fatal(errs)
+		return nil, errs
 	}
-	return m
+	return m, nil
 }
 
 // lower derives and lowers one method of m and generates its C kernels.
 func lower(t testing.TB, m *compiler.Model, method string) (*ir.LoweredForm, Kernels) {
 	t.Helper()
+	lf, k, err := lowerC(m, method)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return lf, k
+}
+
+func lowerC(m *compiler.Model, method string) (*ir.LoweredForm, Kernels, error) {
 	meth, ok := compiler.MethodByName(method)
 	if !ok {
-		t.Fatalf("no method %s", method)
+		return nil, Kernels{}, fmt.Errorf("no method %s", method)
 	}
 	d, err := compiler.Derive(m, []compiler.Method{meth})
 	if err != nil {
-		t.Fatal(err)
+		return nil, Kernels{}, err
 	}
 	lf, err := d.Lower(meth)
 	if err != nil {
-		t.Fatal(err)
+		return nil, Kernels{}, err
 	}
 	h, c, err := gogen.GenerateC([]*ir.LoweredForm{lf}, gogen.COptions{Name: "kernels", Prefix: "fwk", ModelFile: m.File})
 	if err != nil {
-		t.Fatal(err)
+		return nil, Kernels{}, err
 	}
-	return lf, Kernels{Name: "kernels", Header: h, Source: c}
+	return lf, Kernels{Name: "kernels", Header: h, Source: c}, nil
 }
 
 func mustMesh(t testing.TB, spec string) *mesh.Mesh {
