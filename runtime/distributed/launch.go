@@ -23,7 +23,8 @@ const (
 // twice that it may (OMPI_ALLOW_RUN_AS_ROOT and its confirmation), and
 // refuses more processes than cores unless oversubscribed; MPICH needs
 // neither. An oversubscribed run is not bound to cores, so the ranks can
-// share them.
+// share them. Each rank runs one thread unless OMP_NUM_THREADS says
+// otherwise.
 func (tc *toolchain) launchArgs(ranks int, exe, dir string, petscOpts []string) (args, env []string) {
 	args = []string{"-n", strconv.Itoa(ranks)}
 	if tc.openMPI {
@@ -33,6 +34,12 @@ func (tc *toolchain) launchArgs(ranks int, exe, dir string, petscOpts []string) 
 		if os.Geteuid() == 0 {
 			env = append(env, "OMPI_ALLOW_RUN_AS_ROOT=1", "OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1")
 		}
+	}
+	if _, set := os.LookupEnv("OMP_NUM_THREADS"); !set {
+		// One thread per rank: the libraries PETSc links (hypre, BLAS)
+		// may start OpenMP threads of their own, which would
+		// oversubscribe the cores the ranks already use.
+		env = append(env, "OMP_NUM_THREADS=1")
 	}
 	args = append(args, exe, dir)
 	args = append(args, petscOpts...)
