@@ -218,7 +218,7 @@ func (tc *toolchain) build(k Kernels, cacheDir, scratch string) (path string, ca
 		if dir != scratch {
 			os.RemoveAll(dir)
 		}
-		t := &tail{max: 4096}
+		t := &tail{max: 8192}
 		t.Write(out.Bytes())
 		return "", false, &BuildError{Command: tc.mpicc + " " + strings.Join(args, " "), Stderr: t.String(), Err: err}
 	}

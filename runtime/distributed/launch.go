@@ -54,7 +54,7 @@ func (tc *toolchain) launch(exe, dir string, ranks int, petscOpts []string, log 
 	args, env := tc.launchArgs(ranks, exe, dir, petscOpts)
 	cmd := exec.Command(tc.mpiexec, args...)
 	cmd.Env = append(os.Environ(), env...)
-	errTail := &tail{max: 4096}
+	errTail := &tail{max: 8192}
 	if log == nil {
 		log = io.Discard
 	}

@@ -731,9 +731,18 @@ static PetscErrorCode run(const char *dir)
 		t0 = now();
 		PetscCall(KSPSetOperators(ksp, A, A));
 		if (picard == 1) {
+			PC pc;
+			PetscBool hypre;
 			PetscCall(configure(ksp, h, sym, &direct));
-			PetscCall(classical_amg_defaults(h->dim));
 			PetscCall(KSPSetFromOptions(ksp));
+			PetscCall(KSPGetPC(ksp, &pc));
+			PetscCall(PetscObjectTypeCompare((PetscObject)pc, PCHYPRE, &hypre));
+			if (hypre) {
+				/* Set only now, so no option is left unused when the
+				 * preconditioner is another. */
+				PetscCall(classical_amg_defaults(h->dim));
+				PetscCall(PCSetFromOptions(pc));
+			}
 		}
 		PetscBool preonly;
 		PetscCall(PetscObjectTypeCompare((PetscObject)ksp, KSPPREONLY, &preonly));
