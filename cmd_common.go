@@ -112,7 +112,7 @@ func readModel(arg string) (string, []byte, error) {
 			return file, src, nil
 		}
 	}
-	src, err := os.ReadFile(arg)
+	src, err := readLimited(arg, lang.MaxSize)
 	if err != nil {
 		return "", nil, usagef("cannot read model: %v (standard models: %s)", err, strings.Join(stdlib.Models(), ", "))
 	}
@@ -149,4 +149,25 @@ func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error
 		return nil, &usageError{err.Error()}
 	}
 	return lf, nil
+}
+
+// readLimited reads a file of at most limit bytes; a longer file (or an
+// endless one, such as a device) is an error after limit+1 bytes.
+func readLimited(path string, limit int) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if fi, err := f.Stat(); err == nil && fi.IsDir() {
+		return nil, fmt.Errorf("%s is a directory", path)
+	}
+	src, err := io.ReadAll(io.LimitReader(f, int64(limit)+1))
+	if err != nil {
+		return nil, err
+	}
+	if len(src) > limit {
+		return nil, fmt.Errorf("%s is longer than %d bytes, the limit for a model file", path, limit)
+	}
+	return src, nil
 }

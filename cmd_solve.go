@@ -58,8 +58,8 @@ func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
 	if math.IsNaN(*sf.time) || math.IsInf(*sf.time, 0) {
 		return opts, usagef("--time %g: give a finite time", *sf.time)
 	}
-	if *sf.workers < 0 {
-		return opts, usagef("--workers %d: give a positive number (0: GOMAXPROCS)", *sf.workers)
+	if *sf.workers < 0 || *sf.workers > 1024 {
+		return opts, usagef("--workers %d: give a number from 1 to 1024 (0: GOMAXPROCS)", *sf.workers)
 	}
 	so, err := parseSolver(sf, func(it int, r float64) {
 		if !*sf.quiet && it%25 == 0 {
@@ -69,6 +69,12 @@ func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
 	opts.Solver = so
 	return opts, err
 }
+
+// Limits on what a command line may ask for (README, "Limits").
+const (
+	maxRestart = 1000      // GMRES restart length: restart+1 vectors of the system's size
+	maxSteps   = 1_000_000 // time steps of one run
+)
 
 // parseSolver reads --solver and its tuning flags; nil means the automatic
 // choice of runtime/problem.
@@ -80,8 +86,8 @@ func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options
 		return nil, usagef("--tol %g: the relative tolerance must be in (0, 1)", *sf.tol)
 	case *sf.maxIter < 0:
 		return nil, usagef("--max-iter %d: give a positive number", *sf.maxIter)
-	case *sf.restart < 0:
-		return nil, usagef("--restart %d: give a positive number", *sf.restart)
+	case *sf.restart < 0 || *sf.restart > maxRestart:
+		return nil, usagef("--restart %d: give a number from 1 to %d (GMRES keeps restart+1 vectors)", *sf.restart, maxRestart)
 	}
 	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 && *sf.restart == 0 && *sf.shift == 0 {
 		return nil, nil
@@ -151,6 +157,18 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	opts, err := sf.options(stderr)
 	if err != nil {
 		return err
+	}
+	switch {
+	case math.IsNaN(*dt) || math.IsInf(*dt, 0) || *dt < 0:
+		return usagef("--dt %g: give a positive, finite time step", *dt)
+	case *steps < 0 || *steps > maxSteps:
+		return usagef("--steps %d: give a number from 1 to %d", *steps, maxSteps)
+	case math.IsNaN(*until) || math.IsInf(*until, 0):
+		return usagef("--until %g: give a finite end time", *until)
+	case *until != 0 && *steps != 0:
+		return usagef("give --steps or --until, not both")
+	case *until != 0 && !(*until > *sf.time):
+		return usagef("--until %g is not after the start time %g", *until, *sf.time)
 	}
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
@@ -237,8 +255,8 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			fmt.Fprintln(stdout)
 		}
 		writeSummaryText(stdout, m, meth, spec, sol, wall)
-		if e := exactError(m, sol); e != "" {
-			fmt.Fprintln(stdout, e)
+		for _, line := range exactErrors(m, sol, sol.Time) {
+			fmt.Fprintln(stdout, line)
 		}
 	}
 	if *out != "" {
@@ -276,7 +294,11 @@ func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr tr
 	}
 	steps := tr.steps
 	if steps == 0 && tr.until > tr.start {
-		steps = int(math.Round((tr.until - tr.start) / dt))
+		n := math.Round((tr.until - tr.start) / dt)
+		if !(n <= maxSteps) {
+			return nil, usagef("--until %g with --dt %g would take %g steps; at most %d are allowed", tr.until, dt, n, maxSteps)
+		}
+		steps = int(n)
 	}
 	if steps < 1 {
 		return nil, usagef("model %s is transient: give --steps N or --until T", m.Name)
@@ -325,6 +347,7 @@ func solveError(err error) error {
 	var tl *linsolve.TooLargeError
 	var me *problem.MeshError
 	var re *problem.ResidualError
+	var pn *problem.NonFiniteError
 	var ue *usageError
 	switch {
 	case errors.As(err, &ue):
@@ -333,7 +356,7 @@ func solveError(err error) error {
 		return fmt.Errorf("numerical failure, no result written: %w: the discrete problem has more than one solution. "+
 			"A field that the equations fix only up to a constant needs a mean condition (mean p = 0); "+
 			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
-	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl), errors.As(err, &re):
+	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl), errors.As(err, &re), errors.As(err, &pn):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
 	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide):
 		return &usageError{err.Error()}
@@ -352,26 +375,35 @@ func checkFinite(sol *problem.Solution) error {
 
 func syntaxOf(e ir.Expr) string { return notation.Expr(e, notation.Syntax, notation.Names{}) }
 
-// exactError reports the largest nodal error against the model's stated
-// exact solution of its first unknown, if it states one.
-func exactError(m *compiler.Model, sol *problem.Solution) string {
-	comps := m.StatedExact(0)
-	if comps == nil || len(comps) != 1 {
-		return ""
+// exactErrors reports, for every unknown whose exact solution the model
+// states (coefficient exact_<unknown>, scalar or vector), the largest
+// nodal error over its components.
+func exactErrors(m *compiler.Model, sol *problem.Solution, t float64) []string {
+	var out []string
+	for i, u := range m.Unknowns {
+		comps := m.StatedExact(i)
+		if comps == nil {
+			continue
+		}
+		ex, err := problem.ExactFromExprs(m.Dim, comps)
+		if err != nil {
+			out = append(out, fmt.Sprintf("exact      exact_%s cannot be evaluated: %v", u.Name, err))
+			continue
+		}
+		coords := sol.Dofs.NodeCoords(i)
+		d := m.Dim
+		f := sol.Fields[i]
+		worst := 0.0
+		uv, g := make([]float64, f.Components), make([]float64, f.Components*d)
+		for n := 0; n < len(coords)/d; n++ {
+			ex(coords[n*d:(n+1)*d], t, uv, g)
+			for c := range uv {
+				worst = math.Max(worst, math.Abs(f.Values[c][n]-uv[c]))
+			}
+		}
+		out = append(out, fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", u.Name, worst))
 	}
-	ex, err := problem.ExactFromExprs(m.Dim, comps)
-	if err != nil {
-		return ""
-	}
-	coords := sol.Dofs.NodeCoords(0)
-	d := m.Dim
-	worst := 0.0
-	u, g := make([]float64, 1), make([]float64, d)
-	for n := 0; n < len(coords)/d; n++ {
-		ex(coords[n*d:(n+1)*d], 0, u, g)
-		worst = math.Max(worst, math.Abs(sol.Fields[0].Values[0][n]-u[0]))
-	}
-	return fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", m.Unknowns[0].Name, worst)
+	return out
 }
 
 func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) {

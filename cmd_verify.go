@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"math/big"
 	"path/filepath"
 	"strings"
@@ -49,8 +50,19 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return usagef("verify takes one model")
 	}
-	if *levels < 2 || *levels > 8 {
+	switch {
+	case *levels < 2 || *levels > 8:
 		return usagef("--levels must be between 2 and 8")
+	case *base < 0 || *base > 1024:
+		return usagef("--base %d: give a number of cells per unit length from 1 to 1024 (0: the default)", *base)
+	case !(*tol >= 0) || math.IsInf(*tol, 0):
+		return usagef("--tol %g: the allowed shortfall of an order is a number ≥ 0", *tol)
+	case !(*speed > 0) || math.IsInf(*speed, 0):
+		return usagef("--speed %g: give a positive, finite advection speed", *speed)
+	case math.IsNaN(*until) || math.IsInf(*until, 0) || *until < 0:
+		return usagef("--until %g: give a positive, finite time", *until)
+	case *steps0 < 1 || *steps0 > maxSteps:
+		return usagef("--steps %d: give a number from 1 to %d", *steps0, maxSteps)
 	}
 	if *plotPath != "" && filepath.Ext(*plotPath) != ".png" {
 		return usagef("--plot: plots are PNG files: name it FILE.png")
@@ -116,9 +128,6 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if lf.IsTransient() {
 			if !(*until > 0) {
 				return usagef("model %s is transient: give the comparison time with --until T", m.Name)
-			}
-			if *steps0 < 1 {
-				return usagef("--steps must be at least 1")
 			}
 			// Δt ∝ h^(k+1) keeps the first-order time error below the
 			// spatial L² error O(h^(k+1)).

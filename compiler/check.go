@@ -106,6 +106,9 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	c.checkMeans(f)
 	c.checkStabilisation(f)
 	c.checkTimeStep()
+	if len(c.errs) == 0 {
+		c.checkFinite()
+	}
 	c.errs.Sort()
 	return c.m, c.errs
 }

@@ -133,10 +133,12 @@ type FieldValues struct {
 
 // Solution is the result of Solve.
 type Solution struct {
-	Form   *ir.LoweredForm
-	Mesh   *mesh.Mesh
-	Dofs   *dof.Map
-	X      []float64 // global dof vector (runtime/dof order)
+	Form *ir.LoweredForm
+	Mesh *mesh.Mesh
+	Dofs *dof.Map
+	X    []float64 // global dof vector (runtime/dof order)
+	// Time is the t the solution belongs to (the new level of a time step).
+	Time   float64
 	Fields []FieldValues
 	// Matrix and RHS are the assembled system before Dirichlet
 	// elimination (of the last Picard step). The solutions SolveTransient
@@ -433,6 +435,9 @@ func (s *system) solve(opts Options) (*Solution, error) {
 		if err := s.assemble(in); err != nil {
 			return nil, err
 		}
+		if !systemFinite(A, b) {
+			return nil, s.nonFinite(opts)
+		}
 		Asys = A.Clone()
 		bsys = append(bsys[:0], b...)
 		sum.Symmetric = assemble.Constrain(Asys, bsys, fixed, values)
@@ -487,7 +492,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	clock = time.Now()
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
 
-	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Matrix: A, RHS: b}
+	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Time: opts.Time, Matrix: A, RHS: b}
 	for k, f := range dm.Fields {
 		fv := FieldValues{Name: f.Name, Components: f.Components}
 		for c := 0; c < f.Components; c++ {
@@ -568,6 +573,9 @@ func Assemble(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Assembled, err
 	}
 	if err := s.assemble(in); err != nil {
 		return nil, err
+	}
+	if !systemFinite(s.A, s.b) {
+		return nil, s.nonFinite(opts)
 	}
 	a := &Assembled{Dofs: s.dm, Matrix: s.A, RHS: s.b, Fixed: fixed, Values: values,
 		Constrained: s.A.Clone(), ConstrainedRHS: append([]float64(nil), s.b...), Kernels: s.setup.KernelPath}
