@@ -41,7 +41,7 @@ func exampleSolve(t *testing.T, path string, meth compiler.Method, spec string, 
 
 // TestExampleRiverOutfallLayer: Galerkin oscillates at element Péclet 3.9,
 // while SUPG, GLS and VMS with the optimal τ are nodally exact (Brooks &
-// Hughes 1982; the exact solution is in REFERENCES.md).
+// Hughes 1982; the exact solution is in testdata/REFERENCES.md).
 func TestExampleRiverOutfallLayer(t *testing.T) {
 	const path = "examples/river_outfall_layer/model.fw"
 	m, _ := loadModel(path)

@@ -37,7 +37,7 @@ func poisson(elem string, f ir.Expr) *ir.LoweredForm {
 
 // Manufactured solution u = sin(πx) sin(πy), f = 2π² u on the unit square:
 // Lagrange elements of degree k converge in L² as h^{k+1} and in the H¹
-// seminorm as h^k (Ciarlet 1978, Thm 3.2.2 and §3.2; REFERENCES.md). The
+// seminorm as h^k (Ciarlet 1978, Thm 3.2.2 and §3.2; testdata/REFERENCES.md). The
 // observed orders between successive meshes of four (h halved each time)
 // must be within 0.1 of those (the brief's tolerance).
 func TestManufacturedConvergenceRates(t *testing.T) {
