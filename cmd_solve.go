@@ -49,8 +49,9 @@ func addSolveFlags(fs *cmdFlags) *solveFlags {
 	}
 }
 
-// options turns the solve flags into problem options, checking each.
-func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
+// options turns the solve flags into problem options, checking each;
+// progress goes to prog.
+func (sf *solveFlags) options(prog *progress) (problem.Options, error) {
 	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, PicardRelax: *sf.relax}
 	if r := *sf.relax; !(r >= 0 && r <= 1) {
 		return opts, usagef("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)
@@ -61,11 +62,8 @@ func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
 	if *sf.workers < 0 || *sf.workers > 1024 {
 		return opts, usagef("--workers %d: give a number from 1 to 1024 (0: GOMAXPROCS)", *sf.workers)
 	}
-	so, err := parseSolver(sf, func(it int, r float64) {
-		if !*sf.quiet && it%25 == 0 {
-			fmt.Fprintf(stderr, "  iteration %d, relative residual %.3e\n", it, r)
-		}
-	})
+	opts.Progress, opts.Iterations = prog.solveEvents(""), prog.iterations
+	so, err := parseSolver(sf, prog.iterations)
 	opts.Solver = so
 	return opts, err
 }
@@ -154,7 +152,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return usagef("solve takes one model")
 	}
-	opts, err := sf.options(stderr)
+	prog := newProgress(stderr, *sf.quiet)
+	defer prog.done()
+	opts, err := sf.options(prog)
 	if err != nil {
 		return err
 	}
@@ -212,6 +212,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err := checkOutputs([]string{pos[0], *sf.mesh}, targets...); err != nil {
 		return err
 	}
+	prog.say("mesh", "building the mesh")
 	msh, spec, err := buildMesh(m, *sf.mesh)
 	if err != nil {
 		return err
@@ -231,7 +232,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		start := time.Now()
 		var sol *problem.Solution
 		if lf.IsTransient() {
-			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time, *sf.quiet}, opts, stderr)
+			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time}, opts, prog)
 		} else {
 			sol, err = problem.Solve(lf, msh, opts)
 		}
@@ -239,6 +240,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return solveError(err)
 		}
 		wall := time.Since(start)
+		prog.done()
 		if err := checkFinite(sol); err != nil {
 			return err
 		}
@@ -278,13 +280,12 @@ type transientRun struct {
 	dt           float64
 	steps        int
 	until, start float64
-	quiet        bool
 }
 
 // solveTransient steps a transient model by backward Euler from the start
 // time, with the model's initial values (coefficients initial_<unknown>;
 // zero where a model has none).
-func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, stderr io.Writer) (*problem.Solution, error) {
+func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, prog *progress) (*problem.Solution, error) {
 	dt := tr.dt
 	if dt == 0 {
 		dt, _ = m.StepValue()
@@ -324,10 +325,9 @@ func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr tr
 		return nil, &usageError{err.Error()}
 	}
 	observe := func(n int, t float64, _ *problem.Solution) {
-		if !tr.quiet && (n%10 == 0 || n == steps) {
-			fmt.Fprintf(stderr, "  step %d of %d, t = %g\n", n, steps, t)
-		}
+		prog.say("step", "time step %d of %d, t = %g", n, steps, t)
 	}
+	opts.Progress = nil // the steps are the progress
 	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: tr.start, Initial: init, Observe: observe})
 	if err != nil {
 		return nil, err

@@ -107,11 +107,12 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	}
 	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol,
 		Mesh: func(l int) (study.Level, error) { return studyMesh(m.Dim, *pattern, n0<<l) }}
-	if !*quiet {
-		cfg.Progress = func(meth string, level, cells int) {
-			fmt.Fprintf(stderr, "  %s: level %d, %d cells\n", meth, level, cells)
-		}
+	prog := newProgress(stderr, *quiet)
+	defer prog.done()
+	cfg.Progress = func(meth string, level, cells int) {
+		prog.say("level", "%s: level %d of %d, %d cells", meth, level, *levels, cells)
 	}
+	cfg.Solve.Iterations = prog.iterations
 	kmax := 1
 	for i, u := range m.Unknowns {
 		l2, h1, checkH1 := m.ExpectedOrders(i)

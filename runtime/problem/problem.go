@@ -67,10 +67,30 @@ type Options struct {
 	// diffusivity lagged by one iterate.
 	PicardRelax float64
 	Initial     []float64
+	// Progress, if not nil, is told when each phase of a solve starts
+	// (Event), so a command can show that long work is under way; and
+	// Iterations after each iteration of an iterative linear solver the
+	// automatic choice picks (linsolve.Options.Progress).
+	Progress   func(Event)
+	Iterations func(iter int, relres float64)
 	// PreviousFixed holds the previous field at Initial for a single solve
 	// instead of iterating: the previous time level of a time step (see
 	// SolveTransient).
 	PreviousFixed bool
+}
+
+// Event is a phase of a solve as it starts: "dofs", "kernels", "pattern",
+// "assembly", "solve" or "picard"; Step counts the nonlinear iteration
+// (from 1) and Of the dofs.
+type Event struct {
+	Phase    string
+	Step, Of int
+}
+
+func (o Options) report(phase string, step, of int) {
+	if o.Progress != nil {
+		o.Progress(Event{phase, step, of})
+	}
 }
 
 // DirectLimit: below this many unknowns the automatic choice is the direct
@@ -255,6 +275,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 		sum.Phases = append(sum.Phases, Phase{name, now.Sub(clock)})
 		clock = now
 	}
+	opts.report("dofs", 0, 0)
 	dm, err := dofMap(form, m)
 	if err != nil {
 		return nil, err
@@ -264,6 +285,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	}
 	sum.Dofs = dm.NumDofs
 	phase("dofs")
+	opts.report("kernels", 0, dm.NumDofs)
 
 	s := &system{form: form, m: m, dm: dm}
 	ks := opts.Kernels
@@ -294,6 +316,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 		}
 	}
 	phase("kernels")
+	opts.report("pattern", 0, dm.NumDofs)
 
 	if s.means, err = newMeanFixes(form, m, dm); err != nil {
 		return nil, err
@@ -431,6 +454,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	var tAsm, tSolve time.Duration
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
+		opts.report("assembly", it, dm.NumDofs)
 		in := assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}
 		if err := s.assemble(in); err != nil {
 			return nil, err
@@ -451,6 +475,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 				sum.Solver += fmt.Sprintf(" (shift %g)", so.ILUShift)
 			}
 		}
+		opts.report("solve", it, dm.NumDofs)
 		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
 		if err != nil {
@@ -591,7 +616,7 @@ func chooseSolver(opts Options, symmetric bool, n int) linsolve.Options {
 		}
 		return so
 	}
-	so := linsolve.Options{Workers: opts.Workers}
+	so := linsolve.Options{Workers: opts.Workers, Progress: opts.Iterations}
 	switch {
 	case n < DirectLimit:
 		so.Method = linsolve.MethodDirect
