@@ -110,7 +110,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	prog := newProgress(stderr, *quiet)
 	defer prog.done()
 	cfg.Progress = func(meth string, level, cells int) {
-		prog.say("level", "%s: level %d of %d, %d cells", meth, level, *levels, cells)
+		prog.say(fmt.Sprint("level", meth, level), "%s: level %d of %d, %d cells", meth, level, *levels, cells)
 	}
 	cfg.Solve.Iterations = prog.iterations
 	kmax := 1
