@@ -140,15 +140,22 @@ func methodsOf(m *compiler.Model, s string) ([]compiler.Method, error) {
 
 // lowerModel derives and lowers one method of a model.
 func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
+	lf, _, err := deriveAndLower(m, meth)
+	return lf, err
+}
+
+// deriveAndLower derives one method of a model and lowers it, returning
+// the derivation too.
+func deriveAndLower(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, *compiler.Derivation, error) {
 	d, err := compiler.Derive(m, []compiler.Method{meth})
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
 	lf, err := d.Lower(meth)
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
-	return lf, nil
+	return lf, d, nil
 }
 
 // readLimited reads a file of at most limit bytes; a longer file (or an

@@ -221,8 +221,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stderr, "formwright: warning: %s is fixed only up to a constant (no value, Robin or mean condition holds it): the discrete problem is singular\n", name)
 	}
 	var sols []*problem.Solution
+	var cellData [][]output.Array
 	for k, meth := range methods {
-		lf, err := lowerModel(m, meth)
+		lf, deriv, err := deriveAndLower(m, meth)
 		if err != nil {
 			return err
 		}
@@ -244,25 +245,30 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if err := checkFinite(sol); err != nil {
 			return err
 		}
+		cells, err := indicators(deriv, meth, sol, opts)
+		if err != nil {
+			return err
+		}
 		sols = append(sols, sol)
+		cellData = append(cellData, cells)
 		if *asJSON {
 			if *out != "" {
-				if err := writeSolution(*out, sol, *ascii); err != nil {
+				if err := writeSolution(*out, sol, cells, *ascii); err != nil {
 					return err
 				}
 			}
-			return writeSummaryJSON(stdout, m, meth, spec, sol, wall)
+			return writeSummaryJSON(stdout, m, meth, spec, sol, cells, wall)
 		}
 		if k > 0 {
 			fmt.Fprintln(stdout)
 		}
-		writeSummaryText(stdout, m, meth, spec, sol, wall)
+		writeSummaryText(stdout, m, meth, spec, sol, cells, wall)
 		for _, line := range exactErrors(m, sol, sol.Time) {
 			fmt.Fprintln(stdout, line)
 		}
 	}
 	if *out != "" {
-		if err := writeSolution(*out, sols[0], *ascii); err != nil {
+		if err := writeSolution(*out, sols[0], cellData[0], *ascii); err != nil {
 			return err
 		}
 	}
@@ -406,7 +412,7 @@ func exactErrors(m *compiler.Model, sol *problem.Solution, t float64) []string {
 	return out
 }
 
-func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) {
+func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) {
 	s := sol.Summary
 	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
 	fmt.Fprintf(w, "method     %s\n", s.Method)
@@ -455,6 +461,45 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 		fmt.Fprintf(w, "range      %s in [%.6g, %.6g]\n", name, r.Min, r.Max)
 	}
+	for _, a := range cells {
+		lo, hi := valueRange(a.Values)
+		fmt.Fprintf(w, "per cell   %s in [%.4g, %.4g]\n", a.Name, lo, hi)
+	}
+}
+
+// indicators evaluates τ (for a stabilised method) and the element Péclet
+// number of each advective–diffusive equation on every cell of the
+// solution's mesh, as cell arrays for the VTU file and the summary.
+func indicators(d *compiler.Derivation, meth compiler.Method, sol *problem.Solution, opts problem.Options) ([]output.Array, error) {
+	var names []string
+	var exprs []ir.Expr
+	for _, in := range d.Indicators() {
+		if meth == compiler.Galerkin && strings.HasPrefix(in.Name, "tau_") {
+			continue
+		}
+		names = append(names, in.Name)
+		exprs = append(exprs, in.Expr)
+	}
+	if len(exprs) == 0 {
+		return nil, nil
+	}
+	vals, err := sol.CellValues(exprs, opts.Step)
+	if err != nil {
+		return nil, nil // an indicator the evaluator cannot read is left out
+	}
+	out := make([]output.Array, len(names))
+	for k := range names {
+		out[k] = output.Array{Name: names[k], Components: 1, Values: vals[k]}
+	}
+	return out, nil
+}
+
+func valueRange(v []float64) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+	}
+	return lo, hi
 }
 
 func fieldComponents(sol *problem.Solution, name string) int {
@@ -486,7 +531,10 @@ type jsonSolve struct {
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
 	Tau          map[string]string `json:"tau"`
-	Fields       []jsonField       `json:"fields"`
+	// PerCell gives the range over the cells of τ and of the element
+	// Péclet number (see indicators): name → [min, max].
+	PerCell map[string][2]float64 `json:"per_cell"`
+	Fields  []jsonField           `json:"fields"`
 }
 
 type jsonField struct {
@@ -499,11 +547,15 @@ type jsonField struct {
 	Values     [][]float64 `json:"values"` // values[comp][node]
 }
 
-func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) error {
+func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
-		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{}}
+	for _, a := range cells {
+		lo, hi := valueRange(a.Values)
+		out.PerCell[a.Name] = [2]float64{lo, hi}
+	}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))
@@ -529,8 +581,9 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	return enc.Encode(out)
 }
 
-func writeSolution(path string, sol *problem.Solution, ascii bool) error {
+func writeSolution(path string, sol *problem.Solution, cells []output.Array, ascii bool) error {
 	g := sol.Grid()
+	g.CellData = append(g.CellData, cells...)
 	if filepath.Ext(path) == ".csv" {
 		return ioError(output.WriteCSVFile(path, g, sol.Mesh.Dim))
 	}
