@@ -1,12 +1,14 @@
 package main
 
 import (
+	"encoding/csv"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"time"
 
@@ -145,6 +147,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	ascii := fs.Bool("vtu-ascii", false, "write .vtu in ASCII instead of binary appended")
 	asJSON := fs.Bool("json", false, "print the summary and nodal values as JSON")
 	plotPath := fs.String("plot", "", "draw the solution as a PNG (1D line plot, 2D colour map with contours)")
+	every := fs.Int("every", 1, "transient models with --out: write a frame after every N-th time step (and after the last)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return err
@@ -169,6 +172,8 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		return usagef("give --steps or --until, not both")
 	case *until != 0 && !(*until > *sf.time):
 		return usagef("--until %g is not after the start time %g", *until, *sf.time)
+	case *every < 1:
+		return usagef("--every %d: give a positive number of steps", *every)
 	}
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
@@ -205,7 +210,23 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if *plotPath != "" && m.Dim == 3 {
 		return usagef("--plot draws 1D and 2D solutions only; write a 3D solution with --out FILE.vtu")
 	}
+	var tr transientRun
+	if m.IsTransient() {
+		if tr, err = planTransient(m, *dt, *steps, *until, *sf.time); err != nil {
+			return err
+		}
+		tr.every = *every
+	}
 	targets := []outputTarget{{"--out", *out}}
+	if *out != "" && tr.steps > 0 {
+		// A transient run writes a time series instead of one file.
+		ext := filepath.Ext(*out)
+		tr.frames = &series{base: strings.TrimSuffix(*out, ext), ext: ext, ascii: *ascii}
+		targets = targets[:0]
+		for _, p := range tr.frames.paths(tr) {
+			targets = append(targets, outputTarget{"--out", p})
+		}
+	}
 	for _, p := range plotPaths(*plotPath, m.Dim, methods) {
 		targets = append(targets, outputTarget{"--plot", p})
 	}
@@ -233,7 +254,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		start := time.Now()
 		var sol *problem.Solution
 		if lf.IsTransient() {
-			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time}, opts, prog)
+			sol, err = solveTransient(m, lf, msh, tr, opts, prog)
 		} else {
 			sol, err = problem.Solve(lf, msh, opts)
 		}
@@ -252,10 +273,8 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		sols = append(sols, sol)
 		cellData = append(cellData, cells)
 		if *asJSON {
-			if *out != "" {
-				if err := writeSolution(*out, sol, cells, *ascii); err != nil {
-					return err
-				}
+			if err := writeOutputs(*out, tr, sol, cells, *ascii); err != nil {
+				return err
 			}
 			return writeSummaryJSON(stdout, m, meth, spec, sol, cells, wall)
 		}
@@ -267,10 +286,8 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			fmt.Fprintln(stdout, line)
 		}
 	}
-	if *out != "" {
-		if err := writeSolution(*out, sols[0], cellData[0], *ascii); err != nil {
-			return err
-		}
+	if err := writeOutputs(*out, tr, sols[0], cellData[0], *ascii); err != nil {
+		return err
 	}
 	if *plotPath != "" {
 		if err := plotSolutions(*plotPath, sols, m, methods); err != nil {
@@ -280,36 +297,100 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-// transientRun is how solve steps a transient model: Δt, and the number
-// of steps or the end time, from the start time.
+// transientRun is how solve steps a transient model: the time step, the
+// number of steps from the start time, and the time series to write.
 type transientRun struct {
-	dt           float64
-	steps        int
-	until, start float64
+	dt    float64
+	steps int
+	start float64
+	// frames, when not nil, writes a frame after every every-th step
+	// and after the last.
+	frames *series
+	every  int
 }
 
-// solveTransient steps a transient model by backward Euler from the start
-// time, with the model's initial values (coefficients initial_<unknown>;
-// zero where a model has none).
-func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, prog *progress) (*problem.Solution, error) {
-	dt := tr.dt
+// planTransient resolves the time step (--dt, or the model's constant
+// coefficient step) and the number of steps (--steps, or from --until).
+func planTransient(m *compiler.Model, dt float64, steps int, until, start float64) (transientRun, error) {
 	if dt == 0 {
 		dt, _ = m.StepValue()
 	}
 	if !(dt > 0) || math.IsInf(dt, 0) {
-		return nil, usagef("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)
+		return transientRun{}, usagef("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)
 	}
-	steps := tr.steps
-	if steps == 0 && tr.until > tr.start {
-		n := math.Round((tr.until - tr.start) / dt)
+	if steps == 0 && until > start {
+		n := math.Round((until - start) / dt)
 		if !(n <= maxSteps) {
-			return nil, usagef("--until %g with --dt %g would take %g steps; at most %d are allowed", tr.until, dt, n, maxSteps)
+			return transientRun{}, usagef("--until %g with --dt %g would take %g steps; at most %d are allowed", until, dt, n, maxSteps)
 		}
 		steps = int(n)
 	}
 	if steps < 1 {
-		return nil, usagef("model %s is transient: give --steps N or --until T", m.Name)
+		return transientRun{}, usagef("model %s is transient: give --steps N or --until T", m.Name)
 	}
+	return transientRun{dt: dt, steps: steps, start: start}, nil
+}
+
+// series is the time series of a transient run: one file per frame,
+// FILE_NNNN.vtu (or .csv) with the frame's time, and an index
+// FILE_times.csv of frame, step, time and file. It is staged and appears
+// only when the run succeeds.
+type series struct {
+	base, ext string
+	ascii     bool
+	staged    output.Staged
+	index     [][]string
+}
+
+func (s *series) frame(step int) string { return fmt.Sprintf("%s_%04d%s", s.base, step, s.ext) }
+func (s *series) indexPath() string     { return s.base + "_times.csv" }
+
+// paths lists every file of the series, for the checks before the run.
+func (s *series) paths(tr transientRun) []string {
+	var out []string
+	for n := 1; n <= tr.steps; n++ {
+		if n%tr.every == 0 || n == tr.steps {
+			out = append(out, s.frame(n))
+		}
+	}
+	return append(out, s.indexPath())
+}
+
+func (s *series) write(step int, t float64, sol *problem.Solution) error {
+	g := sol.Grid()
+	g.Time, g.Timed = t, true
+	path := s.frame(step)
+	s.index = append(s.index, []string{strconv.Itoa(len(s.index)), strconv.Itoa(step), strconv.FormatFloat(t, 'g', -1, 64), filepath.Base(path)})
+	if s.ext == ".csv" {
+		return s.staged.Write(path, func(w io.Writer) error { return output.WriteCSV(w, g, sol.Mesh.Dim) })
+	}
+	opts := output.VTUOptions{Encoding: output.Binary}
+	if s.ascii {
+		opts.Encoding = output.ASCII
+	}
+	return s.staged.Write(path, func(w io.Writer) error { return output.WriteVTU(w, g, opts) })
+}
+
+// commit writes the index and puts every file of the series in place.
+func (s *series) commit() error {
+	err := s.staged.Write(s.indexPath(), func(w io.Writer) error {
+		fmt.Fprintf(w, "# %s: a time series\n", output.Signature)
+		cw := csv.NewWriter(w)
+		cw.Write([]string{"frame", "step", "time", "file"})
+		cw.WriteAll(s.index)
+		return cw.Error()
+	})
+	if err != nil {
+		s.staged.Abort()
+		return ioError(err)
+	}
+	return ioError(s.staged.Commit())
+}
+
+// solveTransient steps a transient model by backward Euler from the start
+// time, with the model's initial values (coefficients initial_<unknown>;
+// zero where a model has none), writing the frames of tr.frames.
+func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, prog *progress) (*problem.Solution, error) {
 	var init []problem.Exact
 	for i := range m.Unknowns {
 		comps, err := m.Initial(i)
@@ -330,15 +411,25 @@ func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr tr
 	if err != nil {
 		return nil, &usageError{err.Error()}
 	}
-	observe := func(n int, t float64, _ *problem.Solution) {
-		prog.say("step", "time step %d of %d, t = %g", n, steps, t)
+	var frameErr error
+	observe := func(n int, t float64, sol *problem.Solution) {
+		prog.say("step", "time step %d of %d, t = %g", n, tr.steps, t)
+		if tr.frames != nil && frameErr == nil && (n%tr.every == 0 || n == tr.steps) {
+			frameErr = tr.frames.write(n, t, sol)
+		}
 	}
 	opts.Progress = nil // the steps are the progress
-	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: tr.start, Initial: init, Observe: observe})
+	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: tr.dt, Steps: tr.steps, Start: tr.start, Initial: init, Observe: observe})
+	if err == nil && frameErr != nil {
+		err = ioError(frameErr)
+	}
 	if err != nil {
+		if tr.frames != nil {
+			tr.frames.staged.Abort()
+		}
 		return nil, err
 	}
-	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", steps, dt, tr.start+float64(steps)*dt)
+	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", tr.steps, tr.dt, tr.start+float64(tr.steps)*tr.dt)
 	return sol, nil
 }
 
@@ -592,6 +683,18 @@ func writeSolution(path string, sol *problem.Solution, cells []output.Array, asc
 		opts.Encoding = output.ASCII
 	}
 	return ioError(output.WriteVTUFile(path, g, opts))
+}
+
+// writeOutputs writes --out: the time series of a transient run, or the
+// solution with its cell data.
+func writeOutputs(out string, tr transientRun, sol *problem.Solution, cells []output.Array, ascii bool) error {
+	switch {
+	case out == "":
+		return nil
+	case tr.frames != nil:
+		return tr.frames.commit()
+	}
+	return writeSolution(out, sol, cells, ascii)
 }
 
 // plotPaths are the files --plot writes: FILE.png, or FILE_<method>.png

@@ -142,3 +142,14 @@ func (m *Model) HasMean(i int) bool {
 	}
 	return false
 }
+
+// IsTransient reports whether an equation holds a time derivative of an
+// unknown (the model is stepped in time).
+func (m *Model) IsTransient() bool {
+	for _, eq := range m.Equations {
+		if _, td := derivOrder(eq.Written); td {
+			return true
+		}
+	}
+	return false
+}
