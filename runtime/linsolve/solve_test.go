@@ -744,7 +744,7 @@ func TestPreparedReuse(t *testing.T) {
 // either way.
 func TestDirectScaling(t *testing.T) {
 	lap := laplace2D(6) // diagonal 4 everywhere
-	f, err := factorScaled(lap, true)
+	f, err := factorScaled(lap, true, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -773,7 +773,7 @@ func TestDirectScaling(t *testing.T) {
 		D.Set(int(e[0]), int(e[1]), D.At(int(e[0]), int(e[1]))+e[2])
 	}
 	A := sparse.FromDense(D, 0)
-	f, err = factorScaled(A, true)
+	f, err = factorScaled(A, true, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
