@@ -694,4 +694,3 @@ func hasCol(S *sparse.CSR, i int, j int32) bool {
 	}
 	return lo < S.RowPtr[i+1] && S.Col[lo] == j
 }
-

@@ -284,4 +284,3 @@ func addScaled(A, B *sparse.CSR, s float64) *sparse.CSR {
 	}
 	return C
 }
-
