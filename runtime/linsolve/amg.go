@@ -70,6 +70,9 @@ type AMGOptions struct {
 	PreSweeps int
 	// PostSweeps 0 means PreSweeps.
 	PostSweeps int
+	// ILUShift > 0 makes SmoothILU0 use the shifted factors of
+	// A + ILUShift·diag(A) (see Options.ILUShift).
+	ILUShift float64
 	// Unsmoothed uses the tentative prolongator itself (plain
 	// aggregation) instead of the smoothed one.
 	Unsmoothed bool
@@ -229,7 +232,7 @@ func NewAMG(A *sparse.CSR, layout *Layout, opts AMGOptions) (*AMG, error) {
 	}
 	for _, L := range h.levels[:len(h.levels)-1] {
 		var err error
-		if L.sm, err = newSmoother(opts.Smoother, L.A, W); err != nil {
+		if L.sm, err = newSmoother(opts.Smoother, L.A, W, opts.ILUShift); err != nil {
 			return nil, err
 		}
 	}

@@ -298,3 +298,51 @@ func stokesP1(m int, nu float64) (*sparse.CSR, *Layout) {
 		{Name: "p", Offset: nu2, Nodes: nn, Components: 1, Constraint: true},
 	}}
 }
+
+// elasticityP1 is the plane-strain linear elasticity matrix (E = 1,
+// Poisson ratio 0.3) on m×m squares of the unit square with P1 triangles,
+// K_e = |T| BᵀCB (Zienkiewicz, Taylor & Zhu 2005, §6.2), displacement
+// dofs interleaved (2v, 2v+1), the left side clamped (eliminated
+// symmetrically). The layout carries the node coordinates.
+func elasticityP1(m int) (*sparse.CSR, *Layout) {
+	tris, xy := triMesh(m)
+	const E, nu = 1.0, 0.3
+	f := E / ((1 + nu) * (1 - 2*nu))
+	C := [3][3]float64{{f * (1 - nu), f * nu, 0}, {f * nu, f * (1 - nu), 0}, {0, 0, f * (1 - 2*nu) / 2}}
+	A := feMatrix(2*len(xy), len(tris), func(e int) []int32 {
+		t := tris[e]
+		return []int32{2 * t[0], 2*t[0] + 1, 2 * t[1], 2*t[1] + 1, 2 * t[2], 2*t[2] + 1}
+	}, func(e int, K []float64) {
+		t := tris[e]
+		area, g := p1Grad([3][2]float64{xy[t[0]], xy[t[1]], xy[t[2]]})
+		var B [3][6]float64 // strains (xx, yy, 2xy) of the six dofs
+		for a := 0; a < 3; a++ {
+			B[0][2*a] = g[a][0]
+			B[1][2*a+1] = g[a][1]
+			B[2][2*a], B[2][2*a+1] = g[a][1], g[a][0]
+		}
+		for r := 0; r < 6; r++ {
+			for c := 0; c < 6; c++ {
+				s := 0.0
+				for i := 0; i < 3; i++ {
+					for j := 0; j < 3; j++ {
+						s += B[i][r] * C[i][j] * B[j][c]
+					}
+				}
+				K[r*6+c] = area * s
+			}
+		}
+	})
+	fixed := make([]bool, A.N)
+	for v, p := range xy {
+		if p[0] == 0 {
+			fixed[2*v], fixed[2*v+1] = true, true
+		}
+	}
+	A.EliminateRows(fixed, make([]float64, A.N), make([]float64, A.N), true)
+	coords := make([]float64, 0, 2*len(xy))
+	for _, p := range xy {
+		coords = append(coords, p[0], p[1])
+	}
+	return A, &Layout{Fields: []FieldBlock{{Name: "disp", Nodes: len(xy), Components: 2, Coords: coords, Dim: 2}}}
+}

@@ -15,7 +15,7 @@ type smoother interface {
 	bytes() int64
 }
 
-func newSmoother(kind Smoother, A *sparse.CSR, workers int) (smoother, error) {
+func newSmoother(kind Smoother, A *sparse.CSR, workers int, shift float64) (smoother, error) {
 	inv := make([]float64, A.N)
 	for i := range inv {
 		inv[i] = 1 / A.At(i, i)
@@ -36,7 +36,7 @@ func newSmoother(kind Smoother, A *sparse.CSR, workers int) (smoother, error) {
 	case SmoothGS:
 		return &gsSmoother{A: A, inv: inv}, nil
 	case SmoothILU0:
-		f, err := NewILU0(A)
+		f, err := NewILU0Shifted(A, shift)
 		if err != nil {
 			return nil, err
 		}
