@@ -87,6 +87,9 @@ type AMGOptions struct {
 	Workers int
 	// OnPhase, if not nil, is called after each level of the setup.
 	OnPhase func(PhaseReport)
+	// Symmetric declares A symmetric (Prepare sets it for CG), which
+	// spares the setup the symmetrisation of the strength graph.
+	Symmetric bool
 }
 
 // PhaseReport describes the progress of a long phase of Prepare: the AMG
@@ -210,7 +213,7 @@ func NewAMG(A *sparse.CSR, layout *Layout, opts AMGOptions) (*AMG, error) {
 		if cur.N <= maxCoarse || lev == maxLevels-1 {
 			break
 		}
-		S := strengthGraph(cur, node, theta)
+		S := strengthGraph(cur, node, theta, opts.Symmetric, W)
 		agg, nAgg := aggregate(S, node, cur.N)
 		if nAgg == 0 {
 			break
@@ -401,34 +404,45 @@ func aggregate(S *sparse.CSR, node []int32, ndof int) ([]int32, int) {
 
 // strengthGraph returns the symmetric graph of strong couplings between
 // the nodes of A (no diagonal; Val holds the strength
-// ‖A_ij‖/√(‖A_ii‖‖A_jj‖) of the node blocks, Frobenius norms).
-func strengthGraph(A *sparse.CSR, node []int32, theta float64) *sparse.CSR {
+// ‖A_ij‖/√(‖A_ii‖‖A_jj‖) of the node blocks, Frobenius norms). symmetric
+// says A is symmetric, so the directed graph is already symmetric.
+func strengthGraph(A *sparse.CSR, node []int32, theta float64, symmetric bool, workers int) *sparse.CSR {
 	N := nodeMatrix(A, node)
 	nn := N.N
-	d := make([]float64, nn)
+	sq := make([]float64, nn)
 	for i := 0; i < nn; i++ {
-		d[i] = N.At(i, i)
+		sq[i] = math.Sqrt(N.At(i, i))
 	}
-	// Directed strong couplings, then the union with the transpose.
-	D := &sparse.CSR{N: nn, M: nn, RowPtr: make([]int, nn+1)}
-	for i := 0; i < nn; i++ {
+	scalar := N == A // |a_ij| read from A itself
+	// Directed strong couplings, row-parallel.
+	D := buildRows(nn, nn, N.NNZ(), workers, func(i int, col []int32, val []float64) int {
+		c := 0
 		for q := N.RowPtr[i]; q < N.RowPtr[i+1]; q++ {
 			j := N.Col[q]
-			if int(j) == i || N.Val[q] == 0 {
+			v := N.Val[q]
+			if scalar {
+				v = math.Abs(v)
+			}
+			if int(j) == i || v == 0 {
 				continue
 			}
-			s := N.Val[q] / math.Sqrt(d[i]*d[j])
-			if s >= theta {
-				D.Col = append(D.Col, j)
-				D.Val = append(D.Val, s)
+			if s := v / (sq[i] * sq[j]); s >= theta {
+				if col != nil {
+					col[c], val[c] = j, s
+				}
+				c++
 			}
 		}
-		D.RowPtr[i+1] = len(D.Col)
+		return c
+	})
+	if symmetric {
+		return D
 	}
 	return unionSym(D)
 }
 
-// nodeMatrix returns the matrix of Frobenius norms of the node blocks of A.
+// nodeMatrix returns the matrix of Frobenius norms of the node blocks of A,
+// or A itself when every node holds one dof (the caller takes |a_ij|).
 func nodeMatrix(A *sparse.CSR, node []int32) *sparse.CSR {
 	nn := 0
 	for _, v := range node {
@@ -442,11 +456,7 @@ func nodeMatrix(A *sparse.CSR, node []int32) *sparse.CSR {
 		}
 	}
 	if scalar {
-		N := &sparse.CSR{N: A.N, M: A.N, RowPtr: A.RowPtr, Col: A.Col, Val: make([]float64, len(A.Val))}
-		for q, v := range A.Val {
-			N.Val[q] = math.Abs(v)
-		}
-		return N
+		return A // strengthGraph takes |a_ij|
 	}
 	// Dofs of a node are contiguous in this package's layouts and in the
 	// coarse levels; gather the rows of each node and accumulate squares.
@@ -493,7 +503,14 @@ func nodeMatrix(A *sparse.CSR, node []int32) *sparse.CSR {
 func unionSym(D *sparse.CSR) *sparse.CSR {
 	T := D.Transpose()
 	n := D.N
-	S := &sparse.CSR{N: n, M: n, RowPtr: make([]int, n+1)}
+	if slices.Equal(D.RowPtr, T.RowPtr) && slices.Equal(D.Col, T.Col) {
+		// Symmetric pattern (the usual case): the larger value of each pair.
+		for q, v := range T.Val {
+			T.Val[q] = math.Max(v, D.Val[q])
+		}
+		return T
+	}
+	S := &sparse.CSR{N: n, M: n, RowPtr: make([]int, n+1), Col: make([]int32, 0, 2*D.NNZ()), Val: make([]float64, 0, 2*D.NNZ())}
 	for i := 0; i < n; i++ {
 		p, q := D.RowPtr[i], T.RowPtr[i]
 		pe, qe := D.RowPtr[i+1], T.RowPtr[i+1]
@@ -555,6 +572,11 @@ func tentative(n int, agg []int32, nAgg int, B []float64, k int) (*sparse.CSR, [
 	var Bc []float64
 	var nodeC []int32
 	const dropTol = 1e-10
+	if k == 1 {
+		// One vector: Q_a = B_a/‖B_a‖, R_a = ‖B_a‖, without allocation per
+		// aggregate.
+		return tentative1(n, agg, nAgg, B)
+	}
 	for a := 0; a < nAgg; a++ {
 		ds := dofs[start[a]:start[a+1]]
 		m := len(ds)
@@ -624,6 +646,38 @@ func tentative(n int, agg []int32, nAgg int, B []float64, k int) (*sparse.CSR, [
 	return P, Bc, nodeC, k
 }
 
+// tentative1 is tentative for a single near-null-space vector.
+func tentative1(n int, agg []int32, nAgg int, B []float64) (*sparse.CSR, []float64, []int32, int) {
+	norm := make([]float64, nAgg)
+	for i, a := range agg {
+		if a >= 0 {
+			norm[a] += B[i] * B[i]
+		}
+	}
+	// Aggregates whose vector vanishes get no coarse dof.
+	id := make([]int32, nAgg)
+	var Bc []float64
+	var nodeC []int32
+	for a, s := range norm {
+		id[a] = -1
+		if s > 0 {
+			norm[a] = math.Sqrt(s)
+			id[a] = int32(len(Bc))
+			Bc = append(Bc, norm[a])
+			nodeC = append(nodeC, int32(a))
+		}
+	}
+	P := &sparse.CSR{N: n, M: len(Bc), RowPtr: make([]int, n+1), Col: make([]int32, 0, n), Val: make([]float64, 0, n)}
+	for i, a := range agg {
+		if a >= 0 && id[a] >= 0 && B[i] != 0 {
+			P.Col = append(P.Col, id[a])
+			P.Val = append(P.Val, B[i]/norm[a])
+		}
+		P.RowPtr[i+1] = len(P.Col)
+	}
+	return P, Bc, nodeC, 1
+}
+
 func dot(x, y []float64) float64 {
 	s := 0.0
 	for i, v := range x {
@@ -637,40 +691,67 @@ func dot(x, y []float64) float64 {
 // added to the diagonal; Vaněk, Mandel & Brezina 1996, §3), ω =
 // 4/(3ρ(D_F⁻¹A_F)) with ρ bounded by Gershgorin's theorem.
 func smoothProlongator(A, Pt, S *sparse.CSR, node []int32, workers int) *sparse.CSR {
-	AF := &sparse.CSR{N: A.N, M: A.M, RowPtr: make([]int, A.N+1), Col: make([]int32, 0, A.NNZ()), Val: make([]float64, 0, A.NNZ())}
-	rho := 0.0
-	for i := 0; i < A.N; i++ {
-		ni := node[i]
+	dF := make([]float64, A.N)
+	rhoRow := make([]float64, A.N)
+	scalar := S.N == A.N
+	// strongAt reports whether entry q of row i of A is kept in A_F.
+	strongAt := func(i, q int, sp *int) bool {
+		ni, nj := node[i], node[A.Col[q]]
+		if nj == ni {
+			return true
+		}
+		if !scalar {
+			return hasCol(S, int(ni), nj)
+		}
+		for *sp < S.RowPtr[ni+1] && S.Col[*sp] < nj {
+			*sp++
+		}
+		return *sp < S.RowPtr[ni+1] && S.Col[*sp] == nj
+	}
+	AF := buildRows(A.N, A.M, A.NNZ(), workers, func(i int, col []int32, val []float64) int {
+		sp := S.RowPtr[node[i]]
+		c := 0
+		if col == nil {
+			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+				if strongAt(i, q, &sp) {
+					c++
+				}
+			}
+			return c
+		}
 		lumped := 0.0
 		diagPos := -1
 		for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
-			j := A.Col[q]
-			nj := node[j]
-			if nj != ni && !hasCol(S, int(ni), nj) {
+			if !strongAt(i, q, &sp) {
 				lumped += A.Val[q]
 				continue
 			}
-			if int(j) == i {
-				diagPos = len(AF.Col)
+			if int(A.Col[q]) == i {
+				diagPos = c
 			}
-			AF.Col = append(AF.Col, j)
-			AF.Val = append(AF.Val, A.Val[q])
+			col[c], val[c] = A.Col[q], A.Val[q]
+			c++
 		}
-		AF.Val[diagPos] += lumped
-		AF.RowPtr[i+1] = len(AF.Col)
-		d := AF.Val[diagPos]
-		s := 0.0
-		for q := AF.RowPtr[i]; q < AF.RowPtr[i+1]; q++ {
-			s += math.Abs(AF.Val[q])
+		val[diagPos] += lumped
+		d := val[diagPos]
+		dF[i] = d
+		sum := 0.0
+		for _, v := range val {
+			sum += math.Abs(v)
 		}
-		rho = math.Max(rho, s/math.Abs(d))
+		rhoRow[i] = sum / math.Abs(d)
+		return c
+	})
+	rho := 0.0
+	for _, r := range rhoRow {
+		rho = math.Max(rho, r)
 	}
 	omega := 4 / (3 * rho)
 	AP := spgemm(AF, Pt, workers)
 	// P = Pt − ω D⁻¹ (A_F Pt), row by row (the pattern of Pt is contained
 	// in that of A_F Pt, since A_F has its diagonal).
 	for i := 0; i < AP.N; i++ {
-		d := AF.At(i, i)
+		d := dF[i]
 		p := Pt.RowPtr[i]
 		for q := AP.RowPtr[i]; q < AP.RowPtr[i+1]; q++ {
 			v := -omega / d * AP.Val[q]

@@ -94,7 +94,7 @@ func TestAMGElasticityRigidBodyModes(t *testing.T) {
 func TestTentativeProlongator(t *testing.T) {
 	A, lay := elasticityP1(12)
 	node, B, k := lay.nodesAndNullSpace(A.N)
-	S := strengthGraph(A, node, DefaultStrength)
+	S := strengthGraph(A, node, DefaultStrength, false, 1)
 	agg, nAgg := aggregate(S, node, A.N)
 	P, Bc, _, kc := tentative(A.N, agg, nAgg, B, k)
 	if kc != 3 {
@@ -152,7 +152,7 @@ func TestAggregationPath(t *testing.T) {
 	for i := range node {
 		node[i] = int32(i)
 	}
-	agg, nAgg := aggregate(strengthGraph(b.A, node, DefaultStrength), node, n)
+	agg, nAgg := aggregate(strengthGraph(b.A, node, DefaultStrength, false, 1), node, n)
 	want := []int32{0, 0, 1, 1, 1, 2, 2, 2, 3, 3}
 	if nAgg != 4 || !slices.Equal(agg, want) {
 		t.Errorf("aggregates %v (%d), want %v", agg, nAgg, want)

@@ -75,50 +75,55 @@ func mulAddVec(A *sparse.CSR, dst, x []float64, workers int) {
 
 // spgemm returns C = A B by Gustavson's row-by-row algorithm (Gustavson
 // 1978, ACM TOMS 4): row i of C accumulates a_ik·(row k of B) in a dense
-// work row with a marker array, then its columns are sorted. Rows are
-// computed in blocks, in parallel; each entry of C sums its products in
-// the order of the columns of row i of A, then of row k of B, whatever the
-// number of workers.
+// work row with a marker array, then its columns are sorted. A symbolic
+// pass counts the entries of every row, then the numeric pass writes each
+// row in place; both split the rows among the workers. Each entry of C
+// sums its products in the order of the columns of row i of A, then of
+// row k of B, whatever the number of workers.
 func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 	if A.M != B.N {
 		panic("linsolve: spgemm: inner dimensions differ")
 	}
 	n, p := A.N, B.M
-	// Estimate the work to decide on parallelism: Σ_i Σ_k nnz(B row k).
 	work := 0
 	for _, k := range A.Col {
 		work += B.RowPtr[k+1] - B.RowPtr[k]
 	}
-	nb := 1
-	if workers > 1 && work >= parallelMinWork && n >= 4*workers {
-		nb = 4 * workers
+	C := &sparse.CSR{N: n, M: p, RowPtr: make([]int, n+1)}
+	cnt := C.RowPtr[1:]
+	forRows(workers, n, work, func(lo, hi int) {
+		mark := make([]int32, p)
+		for j := range mark {
+			mark[j] = -1
+		}
+		for i := lo; i < hi; i++ {
+			c := 0
+			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+				k := A.Col[q]
+				for r := B.RowPtr[k]; r < B.RowPtr[k+1]; r++ {
+					if j := B.Col[r]; mark[j] != int32(i) {
+						mark[j] = int32(i)
+						c++
+					}
+				}
+			}
+			cnt[i] = c
+		}
+	})
+	for i := 0; i < n; i++ {
+		C.RowPtr[i+1] += C.RowPtr[i]
 	}
-	type block struct {
-		cnt []int
-		col []int32
-		val []float64
-	}
-	blocks := make([]block, nb)
-	run := func(b int) {
-		lo, hi := n*b/nb, n*(b+1)/nb
+	C.Col = make([]int32, C.RowPtr[n])
+	C.Val = make([]float64, C.RowPtr[n])
+	forRows(workers, n, work, func(lo, hi int) {
 		acc := make([]float64, p)
 		mark := make([]int32, p)
 		for j := range mark {
 			mark[j] = -1
 		}
-		blk := &blocks[b]
-		blk.cnt = make([]int, hi-lo)
-		est := 0
 		for i := lo; i < hi; i++ {
-			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
-				k := A.Col[q]
-				est += B.RowPtr[k+1] - B.RowPtr[k]
-			}
-		}
-		blk.col = make([]int32, 0, est)
-		blk.val = make([]float64, 0, est)
-		for i := lo; i < hi; i++ {
-			start := len(blk.col)
+			cols := C.Col[C.RowPtr[i]:C.RowPtr[i+1]]
+			c := 0
 			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
 				a := A.Val[q]
 				k := A.Col[q]
@@ -127,59 +132,45 @@ func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 					if mark[j] != int32(i) {
 						mark[j] = int32(i)
 						acc[j] = a * B.Val[r]
-						blk.col = append(blk.col, j)
+						cols[c] = j
+						c++
 					} else {
 						acc[j] += a * B.Val[r]
 					}
 				}
 			}
-			cols := blk.col[start:]
-			slices.Sort(cols)
-			for _, j := range cols {
-				blk.val = append(blk.val, acc[j])
+			sortShort(cols)
+			vals := C.Val[C.RowPtr[i]:C.RowPtr[i+1]]
+			for q, j := range cols {
+				vals[q] = acc[j]
 			}
-			blk.cnt[i-lo] = len(cols)
 		}
-	}
-	if nb == 1 {
-		run(0)
-	} else {
-		var mu sync.Mutex
-		next := 0
-		var wg sync.WaitGroup
-		for w := 0; w < workers; w++ {
-			wg.Go(func() {
-				for {
-					mu.Lock()
-					b := next
-					next++
-					mu.Unlock()
-					if b >= nb {
-						return
-					}
-					run(b)
-				}
-			})
+	})
+	return C
+}
+
+// buildRows builds an n×m CSR matrix whose rows come from row(i, col, val):
+// called first with nil slices to count row i's entries (its return
+// value), then with slices of that length to fill them. Both passes split
+// the rows among the workers; the result does not depend on their number.
+func buildRows(n, m, work, workers int, row func(i int, col []int32, val []float64) int) *sparse.CSR {
+	C := &sparse.CSR{N: n, M: m, RowPtr: make([]int, n+1)}
+	forRows(workers, n, work, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			C.RowPtr[i+1] = row(i, nil, nil)
 		}
-		wg.Wait()
+	})
+	for i := 0; i < n; i++ {
+		C.RowPtr[i+1] += C.RowPtr[i]
 	}
-	C := &sparse.CSR{N: n, M: p, RowPtr: make([]int, n+1)}
-	total := 0
-	for b := range blocks {
-		total += len(blocks[b].col)
-	}
-	C.Col = make([]int32, 0, total)
-	C.Val = make([]float64, 0, total)
-	i := 0
-	for b := range blocks {
-		for _, c := range blocks[b].cnt {
-			C.RowPtr[i+1] = C.RowPtr[i] + c
-			i++
+	C.Col = make([]int32, C.RowPtr[n])
+	C.Val = make([]float64, C.RowPtr[n])
+	forRows(workers, n, work, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			a, b := C.RowPtr[i], C.RowPtr[i+1]
+			row(i, C.Col[a:b], C.Val[a:b])
 		}
-		C.Col = append(C.Col, blocks[b].col...)
-		C.Val = append(C.Val, blocks[b].val...)
-		blocks[b] = block{}
-	}
+	})
 	return C
 }
 
@@ -191,3 +182,23 @@ func csrBytes(A *sparse.CSR) int64 {
 	}
 	return int64(8*len(A.RowPtr) + 4*len(A.Col) + 8*len(A.Val))
 }
+
+// sortShort sorts a slice of columns: by insertion when short (the rows of
+// finite-element products hold a few dozen entries, where a library sort's
+// overheads dominate), else by slices.Sort.
+func sortShort(c []int32) {
+	if len(c) > 48 {
+		slices.Sort(c)
+		return
+	}
+	for i := 1; i < len(c); i++ {
+		v := c[i]
+		j := i
+		for j > 0 && c[j-1] > v {
+			c[j] = c[j-1]
+			j--
+		}
+		c[j] = v
+	}
+}
+

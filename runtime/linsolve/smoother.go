@@ -94,34 +94,19 @@ type colourGS struct {
 
 func newColourGS(A *sparse.CSR, inv []float64, workers int) *colourGS {
 	n := A.N
-	T := A.Transpose()
-	colour := make([]int32, n)
-	for i := range colour {
-		colour[i] = -1
-	}
-	var used []int32 // used[c] == i: colour c taken by a neighbour of i
-	nc := 0
+	// Colour with the pattern of A; finite-element matrices and their
+	// Galerkin products have symmetric patterns, so that suffices unless
+	// the check below finds two coupled rows of one colour, in which case
+	// the colouring is redone with the pattern of A + Aᵀ.
+	colour, nc := greedyColour(A, nil)
 	for i := 0; i < n; i++ {
-		mark := func(j int32) {
-			if c := colour[j]; c >= 0 {
-				used[c] = int32(i)
+		for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+			if j := int(A.Col[q]); j != i && colour[j] == colour[i] {
+				colour, nc = greedyColour(A, A.Transpose())
+				i = n
+				break
 			}
 		}
-		for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
-			mark(A.Col[q])
-		}
-		for q := T.RowPtr[i]; q < T.RowPtr[i+1]; q++ {
-			mark(T.Col[q])
-		}
-		c := 0
-		for c < nc && used[c] == int32(i) {
-			c++
-		}
-		if c == nc {
-			nc++
-			used = append(used, -1)
-		}
-		colour[i] = int32(c)
 	}
 	g := &colourGS{A: A, inv: inv, start: make([]int, nc+1), rows: make([]int32, n), workers: workers}
 	for _, c := range colour {
@@ -136,6 +121,42 @@ func newColourGS(A *sparse.CSR, inv []float64, workers int) *colourGS {
 		next[c]++
 	}
 	return g
+}
+
+// greedyColour gives each row in turn the smallest colour not taken by a
+// row it is coupled to in the pattern of A (and of T, if not nil).
+func greedyColour(A, T *sparse.CSR) ([]int32, int) {
+	n := A.N
+	colour := make([]int32, n)
+	for i := range colour {
+		colour[i] = -1
+	}
+	var used []int32 // used[c] == i: colour c taken by a neighbour of i
+	nc := 0
+	for i := 0; i < n; i++ {
+		for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+			if c := colour[A.Col[q]]; c >= 0 {
+				used[c] = int32(i)
+			}
+		}
+		if T != nil {
+			for q := T.RowPtr[i]; q < T.RowPtr[i+1]; q++ {
+				if c := colour[T.Col[q]]; c >= 0 {
+					used[c] = int32(i)
+				}
+			}
+		}
+		c := 0
+		for c < nc && used[c] == int32(i) {
+			c++
+		}
+		if c == nc {
+			nc++
+			used = append(used, -1)
+		}
+		colour[i] = int32(c)
+	}
+	return colour, nc
 }
 
 func (g *colourGS) sweep(x, b []float64, c int) {

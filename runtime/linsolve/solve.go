@@ -177,6 +177,9 @@ func Prepare(A *sparse.CSR, opts Options) (*Prepared, error) {
 	if amgOpts.OnPhase == nil {
 		amgOpts.OnPhase = opts.OnPhase
 	}
+	if opts.Method == MethodCG {
+		amgOpts.Symmetric = true // CG needs a symmetric A anyway
+	}
 	switch {
 	case opts.Method == MethodDirect:
 		p.lu, err = factorScaled(A, !opts.Unscaled, progress)
