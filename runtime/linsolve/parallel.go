@@ -201,4 +201,3 @@ func sortShort(c []int32) {
 		c[j] = v
 	}
 }
-
