@@ -75,11 +75,10 @@ func mulAddVec(A *sparse.CSR, dst, x []float64, workers int) {
 
 // spgemm returns C = A B by Gustavson's row-by-row algorithm (Gustavson
 // 1978, ACM TOMS 4): row i of C accumulates a_ik·(row k of B) in a dense
-// work row with a marker array, then its columns are sorted. A symbolic
-// pass counts the entries of every row, then the numeric pass writes each
-// row in place; both split the rows among the workers. Each entry of C
-// sums its products in the order of the columns of row i of A, then of
-// row k of B, whatever the number of workers.
+// work row with a marker array, then its columns are sorted. Rows are
+// split among the workers (buildRanges). Each entry of C sums its products
+// in the order of the columns of row i of A, then of row k of B, whatever
+// the number of workers.
 func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 	if A.M != B.N {
 		panic("linsolve: spgemm: inner dimensions differ")
@@ -89,41 +88,21 @@ func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 	for _, k := range A.Col {
 		work += B.RowPtr[k+1] - B.RowPtr[k]
 	}
-	C := &sparse.CSR{N: n, M: p, RowPtr: make([]int, n+1)}
-	cnt := C.RowPtr[1:]
-	forRows(workers, n, work, func(lo, hi int) {
-		mark := make([]int32, p)
-		for j := range mark {
-			mark[j] = -1
+	return buildRanges(n, p, work, workers, func(lo, hi int, cnt []int) ([]int32, []float64) {
+		// Capacity: the rows' share of the products, an upper bound.
+		est := 0
+		for _, k := range A.Col[A.RowPtr[lo]:A.RowPtr[hi]] {
+			est += B.RowPtr[k+1] - B.RowPtr[k]
 		}
-		for i := lo; i < hi; i++ {
-			c := 0
-			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
-				k := A.Col[q]
-				for r := B.RowPtr[k]; r < B.RowPtr[k+1]; r++ {
-					if j := B.Col[r]; mark[j] != int32(i) {
-						mark[j] = int32(i)
-						c++
-					}
-				}
-			}
-			cnt[i] = c
-		}
-	})
-	for i := 0; i < n; i++ {
-		C.RowPtr[i+1] += C.RowPtr[i]
-	}
-	C.Col = make([]int32, C.RowPtr[n])
-	C.Val = make([]float64, C.RowPtr[n])
-	forRows(workers, n, work, func(lo, hi int) {
+		col := make([]int32, 0, est/2+16)
+		val := make([]float64, 0, est/2+16)
 		acc := make([]float64, p)
 		mark := make([]int32, p)
 		for j := range mark {
 			mark[j] = -1
 		}
 		for i := lo; i < hi; i++ {
-			cols := C.Col[C.RowPtr[i]:C.RowPtr[i+1]]
-			c := 0
+			start := len(col)
 			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
 				a := A.Val[q]
 				k := A.Col[q]
@@ -132,46 +111,62 @@ func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 					if mark[j] != int32(i) {
 						mark[j] = int32(i)
 						acc[j] = a * B.Val[r]
-						cols[c] = j
-						c++
+						col = append(col, j)
 					} else {
 						acc[j] += a * B.Val[r]
 					}
 				}
 			}
+			cols := col[start:]
 			sortShort(cols)
-			vals := C.Val[C.RowPtr[i]:C.RowPtr[i+1]]
-			for q, j := range cols {
-				vals[q] = acc[j]
+			for _, j := range cols {
+				val = append(val, acc[j])
 			}
+			cnt[i-lo] = len(cols)
 		}
+		return col, val
 	})
-	return C
 }
 
-// buildRows builds an n×m CSR matrix whose rows come from row(i, col, val):
-// called first with nil slices to count row i's entries (its return
-// value), then with slices of that length to fill them. Both passes split
-// the rows among the workers; the result does not depend on their number.
-func buildRows(n, m, work, workers int, row func(i int, col []int32, val []float64) int) *sparse.CSR {
+// buildRanges builds an n×m CSR matrix in parallel: the rows are split
+// into one contiguous range per worker, fill(lo, hi, cnt) returns the
+// entries of rows lo..hi−1 in order and their counts per row, and the
+// ranges are then copied into place, in parallel too. The result does not
+// depend on the number of workers.
+func buildRanges(n, m, work, workers int, fill func(lo, hi int, cnt []int) ([]int32, []float64)) *sparse.CSR {
+	W := workers
+	if W <= 1 || n < 2*W || work < parallelMinWork {
+		W = 1
+	}
+	cols := make([][]int32, W)
+	vals := make([][]float64, W)
 	C := &sparse.CSR{N: n, M: m, RowPtr: make([]int, n+1)}
-	forRows(workers, n, work, func(lo, hi int) {
-		for i := lo; i < hi; i++ {
-			C.RowPtr[i+1] = row(i, nil, nil)
-		}
+	cnt := C.RowPtr[1:]
+	each(W, func(w int) {
+		r0, r1 := n*w/W, n*(w+1)/W
+		cols[w], vals[w] = fill(r0, r1, cnt[r0:r1])
 	})
 	for i := 0; i < n; i++ {
 		C.RowPtr[i+1] += C.RowPtr[i]
 	}
 	C.Col = make([]int32, C.RowPtr[n])
 	C.Val = make([]float64, C.RowPtr[n])
-	forRows(workers, n, work, func(lo, hi int) {
-		for i := lo; i < hi; i++ {
-			a, b := C.RowPtr[i], C.RowPtr[i+1]
-			row(i, C.Col[a:b], C.Val[a:b])
-		}
+	each(W, func(w int) {
+		at := C.RowPtr[n*w/W]
+		copy(C.Col[at:], cols[w])
+		copy(C.Val[at:], vals[w])
 	})
 	return C
+}
+
+// each runs fn(0), …, fn(W−1) on W goroutines (the caller's included).
+func each(W int, fn func(w int)) {
+	var wg sync.WaitGroup
+	for w := 0; w < W-1; w++ {
+		wg.Go(func() { fn(w) })
+	}
+	fn(W - 1)
+	wg.Wait()
 }
 
 // csrBytes is the memory of a CSR matrix: 8 bytes per row pointer and 12

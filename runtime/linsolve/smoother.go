@@ -1,8 +1,6 @@
 package linsolve
 
 import (
-	"math"
-
 	"github.com/formwright/formwright/runtime/sparse"
 )
 
@@ -15,7 +13,7 @@ type smoother interface {
 	bytes() int64
 }
 
-func newSmoother(kind Smoother, A *sparse.CSR, workers int, shift float64, symmetric bool) (smoother, error) {
+func newSmoother(kind Smoother, A *sparse.CSR, workers int, shift, rho float64) (smoother, error) {
 	inv := make([]float64, A.N)
 	for i := range inv {
 		inv[i] = 1 / A.At(i, i)
@@ -24,17 +22,6 @@ func newSmoother(kind Smoother, A *sparse.CSR, workers int, shift float64, symme
 	case SmoothSymGS:
 		return newColourGS(A, inv, workers), nil
 	case SmoothJacobi:
-		gersh := 0.0
-		d := make([]float64, A.N)
-		for i := 0; i < A.N; i++ {
-			s := 0.0
-			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
-				s += math.Abs(A.Val[q])
-			}
-			gersh = math.Max(gersh, s*math.Abs(inv[i]))
-			d[i] = 1 / inv[i]
-		}
-		rho := spectralRadius(A, d, gersh, symmetric, workers)
 		return &jacobiSmoother{A: A, inv: inv, omega: 4 / (3 * rho), r: make([]float64, A.N), workers: workers}, nil
 	case SmoothGS:
 		return &gsSmoother{A: A, inv: inv}, nil
@@ -49,7 +36,7 @@ func newSmoother(kind Smoother, A *sparse.CSR, workers int, shift float64, symme
 }
 
 // jacobiSmoother is damped Jacobi with ω = 4/(3ρ(D⁻¹A)), ρ estimated by
-// spectralRadius; 4/3 of the reciprocal spectral radius is the
+// levelRho; 4/3 of the reciprocal spectral radius is the
 // damping usual in smoothed aggregation (Vaněk, Mandel & Brezina 1996),
 // which damps the upper two thirds of the spectrum of D⁻¹A by at least
 // a factor 3 [memory].
