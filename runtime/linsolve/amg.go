@@ -46,6 +46,11 @@ func (s Smoother) String() string {
 
 // Defaults of AMGOptions.
 const (
+	// SymmetryTol is the relative tolerance of the symmetry test of
+	// NewAMG: assembled symmetric forms differ from exact symmetry only by
+	// the rounding of the kernels' products (common practice, no source;
+	// the value of runtime/assemble's test).
+	SymmetryTol = 1e-12
 	// DefaultStrength is θ of the strength of connection on the finest
 	// level; it is halved on each coarser level (Vaněk, Mandel & Brezina
 	// 1996, Computing 56, §4: ε = 0.08·(1/2)^(l−1) [memory]).
@@ -91,7 +96,9 @@ type AMGOptions struct {
 	// OnPhase, if not nil, is called after each level of the setup.
 	OnPhase func(PhaseReport)
 	// Symmetric declares A symmetric (Prepare sets it for CG), which
-	// spares the setup the symmetrisation of the strength graph.
+	// spares the setup its symmetry test (sparse.CSR.IsSymmetric with
+	// SymmetryTol). A symmetric A gets the Lanczos estimate of ρ(D⁻¹A)
+	// and needs no symmetrisation of its strength graph.
 	Symmetric bool
 }
 
@@ -200,6 +207,9 @@ func NewAMG(A *sparse.CSR, layout *Layout, opts AMGOptions) (*AMG, error) {
 		h.post = opts.PostSweeps
 	}
 	W := max(1, opts.Workers)
+	// Galerkin products PᵀAP of a symmetric A are symmetric too (up to
+	// rounding), so one test serves every level.
+	sym := opts.Symmetric || A.IsSymmetric(SymmetryTol)
 	start := time.Now()
 	report := func(step int, detail string) {
 		if opts.OnPhase != nil {
@@ -218,8 +228,8 @@ func NewAMG(A *sparse.CSR, layout *Layout, opts AMGOptions) (*AMG, error) {
 		if cur.N <= maxCoarse || lev == maxLevels-1 {
 			break
 		}
-		L.rho = levelRho(cur, opts.Symmetric, W)
-		S := strengthGraph(cur, node, theta, opts.Symmetric, W)
+		L.rho = levelRho(cur, sym, W)
+		S := strengthGraph(cur, node, theta, sym, W)
 		agg, nAgg := aggregate(S, node, cur.N)
 		if nAgg == 0 {
 			break
@@ -242,7 +252,7 @@ func NewAMG(A *sparse.CSR, layout *Layout, opts AMGOptions) (*AMG, error) {
 	for _, L := range h.levels[:len(h.levels)-1] {
 		var err error
 		if L.rho == 0 {
-			L.rho = levelRho(L.A, opts.Symmetric, W) // a level whose coarsening stalled
+			L.rho = levelRho(L.A, sym, W) // a level whose coarsening stalled
 		}
 		if L.sm, err = newSmoother(opts.Smoother, L.A, W, opts.ILUShift, L.rho); err != nil {
 			return nil, err

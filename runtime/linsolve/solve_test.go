@@ -464,7 +464,7 @@ func TestParse(t *testing.T) {
 			t.Errorf("ParseMethod(%q) = %v, %v", m.String(), got, err)
 		}
 	}
-	for _, p := range []PrecondKind{PrecondNone, PrecondJacobi, PrecondILU0} {
+	for _, p := range []PrecondKind{PrecondNone, PrecondJacobi, PrecondILU0, PrecondAMG, PrecondAMGBlock} {
 		got, err := ParsePrecond(p.String())
 		if err != nil || got != p {
 			t.Errorf("ParsePrecond(%q) = %v, %v", p.String(), got, err)
@@ -475,6 +475,9 @@ func TestParse(t *testing.T) {
 	}
 	if _, err := ParsePrecond("ilu1"); err == nil {
 		t.Error("ParsePrecond accepted ilu1")
+	}
+	if p, err := ParsePrecond("AMG-Block"); err != nil || p != PrecondAMGBlock {
+		t.Errorf("ParsePrecond(AMG-Block) = %v, %v", p, err)
 	}
 }
 
