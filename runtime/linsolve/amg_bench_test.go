@@ -38,12 +38,15 @@ func timeSolve(A *sparse.CSR, b []float64, o Options) (time.Duration, Result, er
 }
 
 // benchAMGIters reports the CG+AMG iteration count (relative tolerance
-// 1e-8), the setup and the solve time for the matrix of size m.
+// 1e-8), the setup and the solve time for the matrix of size m, and the
+// memory per unknown (Prepared.Memory: matrix, hierarchy and CG vectors;
+// and the hierarchy alone).
 func benchAMGIters(b *testing.B, build func(int) *sparse.CSR, m int) {
 	A := build(m)
 	rhs := randVec(rand.New(rand.NewPCG(1, 2)), A.N)
 	var setup, solve time.Duration
 	var res Result
+	var mem MemoryUse
 	b.ResetTimer()
 	for b.Loop() {
 		x := make([]float64, A.N)
@@ -52,6 +55,7 @@ func benchAMGIters(b *testing.B, build func(int) *sparse.CSR, m int) {
 		if err != nil {
 			b.Fatal(err)
 		}
+		mem = p.Memory()
 		t1 := time.Now()
 		if res, err = p.Solve(rhs, x); err != nil {
 			b.Fatal(err)
@@ -60,6 +64,8 @@ func benchAMGIters(b *testing.B, build func(int) *sparse.CSR, m int) {
 	}
 	b.ReportMetric(float64(res.Iterations), "iters")
 	b.ReportMetric(float64(A.N), "unknowns")
+	b.ReportMetric(mem.PerUnknown(), "B/unknown")
+	b.ReportMetric(float64(mem.Preconditioner)/float64(A.N), "amg-B/unknown")
 	b.ReportMetric(float64(setup.Milliseconds())/float64(b.N), "setup-ms")
 	b.ReportMetric(float64(solve.Milliseconds())/float64(b.N), "solve-ms")
 }

@@ -50,19 +50,31 @@ type jacobiSmoother struct {
 
 func (s *jacobiSmoother) pre(x, b []float64, zero bool) {
 	if zero {
-		for i, v := range b {
-			x[i] = s.omega * s.inv[i] * v
-		}
+		forRows(s.workers, len(x), len(x), func(lo, hi int) {
+			for i := lo; i < hi; i++ {
+				x[i] = s.omega * s.inv[i] * b[i]
+			}
+		})
 		return
 	}
 	s.post(x, b)
 }
 
+// post computes the new iterate into s.r in one pass over A, then copies
+// it back; both passes are row-parallel.
 func (s *jacobiSmoother) post(x, b []float64) {
-	residualTo(s.A, s.r, b, x, s.workers)
-	for i, v := range s.r {
-		x[i] += s.omega * s.inv[i] * v
-	}
+	A, r := s.A, s.r
+	rp, col, val := A.RowPtr, A.Col, A.Val
+	forRows(s.workers, A.N, A.NNZ(), func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			t := b[i]
+			for q := rp[i]; q < rp[i+1]; q++ {
+				t -= val[q] * x[col[q]]
+			}
+			r[i] = x[i] + s.omega*s.inv[i]*t
+		}
+	})
+	forRows(s.workers, A.N, A.N, func(lo, hi int) { copy(x[lo:hi], r[lo:hi]) })
 }
 
 func (s *jacobiSmoother) bytes() int64 { return int64(16 * s.A.N) }
