@@ -49,6 +49,8 @@
 //
 // Section and algorithm numbers cited from Saad (2003) and Golub & Van
 // Loan (2013) are recalled from memory, not re-checked against the books.
+// The literature of the multigrid and block preconditioners is listed in
+// testdata/REFERENCES.md.
 //
 // Matrices are only read: no function changes RowPtr or Col, so several
 // matrices may share one pattern.
