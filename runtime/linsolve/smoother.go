@@ -81,16 +81,18 @@ func (s *jacobiSmoother) bytes() int64 { return int64(16 * s.A.N) }
 
 // colourGS is multicolour Gauss–Seidel: a greedy colouring in row order
 // (each row takes the smallest colour none of its neighbours in the
-// pattern of A + Aᵀ has), forward sweeps over the colours in pre-smoothing
-// and backward in post-smoothing, so the pair is symmetric (Saad 2003,
-// §12.4 on multicolour orderings [memory]). The rows of one colour are
-// mutually uncoupled, so they are updated in parallel with a result that
-// does not depend on the number of workers.
+// pattern of A has), forward sweeps over the colours in pre-smoothing and
+// backward in post-smoothing, so the pair is symmetric (Saad 2003, §12.4
+// on multicolour orderings [memory]). The rows of one colour are mutually
+// uncoupled, so they are updated in parallel with a result that does not
+// depend on the number of workers. The off-diagonal entries are copied
+// into a matrix whose rows are grouped by colour (C), so a sweep streams
+// through it; memory: 12 bytes per off-diagonal entry and 12 per row.
 type colourGS struct {
-	A       *sparse.CSR
-	inv     []float64
-	rows    []int32 // rows grouped by colour
-	start   []int   // colour c: rows[start[c]:start[c+1]]
+	C       *sparse.CSR // off-diagonal part of A, row p = row rows[p] of A
+	inv     []float64   // 1/a_ii in the order of C's rows
+	rows    []int32     // rows grouped by colour
+	start   []int       // colour c: positions start[c]..start[c+1]−1
 	workers int
 }
 
@@ -110,7 +112,7 @@ func newColourGS(A *sparse.CSR, inv []float64, workers int) *colourGS {
 			}
 		}
 	}
-	g := &colourGS{A: A, inv: inv, start: make([]int, nc+1), rows: make([]int32, n), workers: workers}
+	g := &colourGS{start: make([]int, nc+1), rows: make([]int32, n), workers: workers}
 	for _, c := range colour {
 		g.start[c+1]++
 	}
@@ -122,6 +124,20 @@ func newColourGS(A *sparse.CSR, inv []float64, workers int) *colourGS {
 		g.rows[next[c]] = int32(i)
 		next[c]++
 	}
+	g.inv = make([]float64, n)
+	C := &sparse.CSR{N: n, M: n, RowPtr: make([]int, n+1), Col: make([]int32, 0, A.NNZ()-n), Val: make([]float64, 0, A.NNZ()-n)}
+	for p, r := range g.rows {
+		i := int(r)
+		g.inv[p] = inv[i]
+		for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+			if int(A.Col[q]) != i {
+				C.Col = append(C.Col, A.Col[q])
+				C.Val = append(C.Val, A.Val[q])
+			}
+		}
+		C.RowPtr[p+1] = len(C.Col)
+	}
+	g.C = C
 	return g
 }
 
@@ -162,19 +178,16 @@ func greedyColour(A, T *sparse.CSR) ([]int32, int) {
 }
 
 func (g *colourGS) sweep(x, b []float64, c int) {
-	rows := g.rows[g.start[c]:g.start[c+1]]
-	rp, col, val := g.A.RowPtr, g.A.Col, g.A.Val
-	work := len(rows) * (g.A.NNZ()/max(1, g.A.N) + 1)
-	forRows(g.workers, len(rows), work, func(lo, hi int) {
-		for _, r := range rows[lo:hi] {
-			i := int(r)
+	lo0, hi0 := g.start[c], g.start[c+1]
+	rp, col, val := g.C.RowPtr, g.C.Col, g.C.Val
+	forRows(g.workers, hi0-lo0, rp[hi0]-rp[lo0]+hi0-lo0, func(lo, hi int) {
+		for p := lo0 + lo; p < lo0+hi; p++ {
+			i := g.rows[p]
 			s := b[i]
-			for q := rp[i]; q < rp[i+1]; q++ {
-				if j := int(col[q]); j != i {
-					s -= val[q] * x[j]
-				}
+			for q := rp[p]; q < rp[p+1]; q++ {
+				s -= val[q] * x[col[q]]
 			}
-			x[i] = s * g.inv[i]
+			x[i] = s * g.inv[p]
 		}
 	})
 }
@@ -191,7 +204,7 @@ func (g *colourGS) post(x, b []float64) {
 	}
 }
 
-func (g *colourGS) bytes() int64 { return int64(12*g.A.N + 8*len(g.start)) }
+func (g *colourGS) bytes() int64 { return csrBytes(g.C) + int64(12*len(g.rows)+8*len(g.start)) }
 
 // gsSmoother is forward lexicographic Gauss–Seidel in pre- and
 // post-smoothing.
