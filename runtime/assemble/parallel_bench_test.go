@@ -174,6 +174,8 @@ func triad(x, y, z []float64, workers int) {
 // and 2 workers (benchTriad), and reports each in ns/cell and the ratios
 // the issue asks for: 2 workers / 1 worker (target ≤ 0.6) and 2 workers /
 // the faster triad (target ≤ 3).
+//
+//	go test -run XXX -bench AssembleScaling -benchtime 10x -count 3 ./runtime/assemble/
 func benchScaling(b *testing.B, nodes int) {
 	m := mesh.Rectangle(0, 1, 0, 1, nodes-1, nodes-1, mesh.DiagonalUp)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "c", Element: handLayout.Fields[0].Element, Components: 1}})
@@ -206,6 +208,9 @@ func benchScaling(b *testing.B, nodes int) {
 	b.ReportMetric(per(t[2]), "triad-ns/cell-1w")
 	b.ReportMetric(per(t[3]), "triad-ns/cell-2w")
 	b.ReportMetric(per(t[1])/per(t[0]), "2w/1w")
+	// The triad's own ratio shows whether a second core was free during
+	// the run (≈ 0.5–0.6 on an idle machine, ≈ 1 when other jobs hold it).
+	b.ReportMetric(per(t[3])/per(t[2]), "triad-2w/1w")
 	b.ReportMetric(per(t[1])/min(per(t[2]), per(t[3])), "2w/triad")
 	sinkVal = A.Val[0] + rhs[0] + x[n/2]
 }
