@@ -106,8 +106,9 @@ type Options struct {
 	// Unscaled makes MethodDirect factor A itself instead of the
 	// diagonally scaled S A S (see Prepare); for comparison only.
 	Unscaled bool
-	// Workers > 1 makes Solve use sparse.CSR.MulVecParallel with that many
-	// goroutines (bitwise the same products as serial).
+	// Workers > 1 makes Solve's matrix–vector products, and the AMG setup
+	// and cycle, run on that many goroutines (rows in chunks; bitwise the
+	// same results as serial).
 	Workers int
 	// Progress, if not nil, is called after every iteration with the
 	// iteration count and the current (recurrence) relative residual.

@@ -3,6 +3,7 @@ package linsolve
 import (
 	"slices"
 	"sync"
+	"sync/atomic"
 
 	"github.com/formwright/formwright/runtime/sparse"
 )
@@ -13,21 +14,27 @@ import (
 const parallelMinWork = 1 << 15
 
 // forRows runs fn over the rows [0, n) of a loop touching about work
-// nonzeros, split into contiguous blocks of rows, one per worker. Each row
-// is computed by the same code whatever the split, so a loop whose rows
-// are independent gives bitwise the same result for every worker count.
+// nonzeros, split into contiguous chunks that the workers take from a
+// shared counter (4 chunks per worker: a worker slowed by another job on
+// the machine takes fewer). Each row is computed by the same code
+// whatever the split, so a loop whose rows are independent gives bitwise
+// the same result for every worker count.
 func forRows(workers, n, work int, fn func(lo, hi int)) {
 	if workers <= 1 || n < 2*workers || work < parallelMinWork {
 		fn(0, n)
 		return
 	}
-	var wg sync.WaitGroup
-	for w := 0; w < workers-1; w++ {
-		lo, hi := n*w/workers, n*(w+1)/workers
-		wg.Go(func() { fn(lo, hi) })
-	}
-	fn(n*(workers-1)/workers, n)
-	wg.Wait()
+	chunks := min(n, 4*workers)
+	var next atomic.Int64
+	each(workers, func(int) {
+		for {
+			c := int(next.Add(1) - 1)
+			if c >= chunks {
+				return
+			}
+			fn(n*c/chunks, n*(c+1)/chunks)
+		}
+	})
 }
 
 // mulVec sets dst = A x with workers goroutines (rows in blocks; bitwise
@@ -129,32 +136,36 @@ func spgemm(A, B *sparse.CSR, workers int) *sparse.CSR {
 }
 
 // buildRanges builds an n×m CSR matrix in parallel: the rows are split
-// into one contiguous range per worker, fill(lo, hi, cnt) returns the
+// into contiguous ranges (4 per worker), fill(lo, hi, cnt) returns the
 // entries of rows lo..hi−1 in order and their counts per row, and the
 // ranges are then copied into place, in parallel too. The result does not
 // depend on the number of workers.
 func buildRanges(n, m, work, workers int, fill func(lo, hi int, cnt []int) ([]int32, []float64)) *sparse.CSR {
-	W := workers
-	if W <= 1 || n < 2*W || work < parallelMinWork {
-		W = 1
+	R := 1
+	if workers > 1 && n >= 8*workers && work >= parallelMinWork {
+		R = 4 * workers
 	}
-	cols := make([][]int32, W)
-	vals := make([][]float64, W)
+	cols := make([][]int32, R)
+	vals := make([][]float64, R)
 	C := &sparse.CSR{N: n, M: m, RowPtr: make([]int, n+1)}
 	cnt := C.RowPtr[1:]
-	each(W, func(w int) {
-		r0, r1 := n*w/W, n*(w+1)/W
-		cols[w], vals[w] = fill(r0, r1, cnt[r0:r1])
+	forRows(min(workers, R), R, parallelMinWork, func(lo, hi int) {
+		for r := lo; r < hi; r++ {
+			r0, r1 := n*r/R, n*(r+1)/R
+			cols[r], vals[r] = fill(r0, r1, cnt[r0:r1])
+		}
 	})
 	for i := 0; i < n; i++ {
 		C.RowPtr[i+1] += C.RowPtr[i]
 	}
 	C.Col = make([]int32, C.RowPtr[n])
 	C.Val = make([]float64, C.RowPtr[n])
-	each(W, func(w int) {
-		at := C.RowPtr[n*w/W]
-		copy(C.Col[at:], cols[w])
-		copy(C.Val[at:], vals[w])
+	forRows(min(workers, R), R, parallelMinWork, func(lo, hi int) {
+		for r := lo; r < hi; r++ {
+			at := C.RowPtr[n*r/R]
+			copy(C.Col[at:], cols[r])
+			copy(C.Val[at:], vals[r])
+		}
 	})
 	return C
 }

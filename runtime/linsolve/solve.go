@@ -9,14 +9,15 @@ import (
 	"gonum.org/v1/gonum/floats"
 )
 
-// parallelCSR applies a CSR matrix with MulVecParallel.
+// parallelCSR applies a CSR matrix with mulVec (row chunks taken by the
+// workers from a shared counter; bitwise the same as A.MulVec).
 type parallelCSR struct {
 	A       *sparse.CSR
 	workers int
 }
 
 func (p parallelCSR) Dim() int               { return p.A.N }
-func (p parallelCSR) Apply(dst, x []float64) { p.A.MulVecParallel(dst, x, p.workers) }
+func (p parallelCSR) Apply(dst, x []float64) { mulVec(p.A, dst, x, p.workers) }
 
 // NewPreconditioner builds the preconditioner of the given kind for A.
 func NewPreconditioner(kind PrecondKind, A *sparse.CSR) (Preconditioner, error) {
