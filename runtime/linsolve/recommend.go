@@ -7,13 +7,14 @@ import (
 	"github.com/formwright/formwright/runtime/sparse"
 )
 
-// Thresholds of Recommend. They come from the benchmarks of this package on
-// the development machine (BenchmarkSolveP1Ratios: at 256² P1 cells CG
-// with AMG solves in a small fraction of the sparse LU's time, which grows
-// like n^1.5 in 2D and n² in 3D, and below about 5·10⁴ unknowns in 2D the
-// LU takes under a second and needs no tuning); the rule that AMG pays on
-// large elliptic blocks and Krylov with ILU on strongly advective ones is
-// common practice, no source.
+// Thresholds of Recommend. DirectBelow2D comes from the benchmarks of this
+// package on the development machine (BenchmarkSolveP1Ratios: at 256² P1
+// cells, 66 049 unknowns, the sparse LU took 11–25 times as long as CG
+// with AMG, and its time grows like n^1.5 in 2D); DirectBelow3D is not
+// measured: it is the 2D bound scaled down for a factorisation whose work
+// grows like n² in 3D. That AMG pays on large elliptic blocks and Krylov
+// with ILU on strongly advective ones is common practice, no source; the
+// advective case was measured in BenchmarkSUPGRatios.
 const (
 	// DirectBelow2D: fewer unknowns than this, with at most
 	// Dense3DRowLength nonzeros per row on average, go to the direct
