@@ -168,6 +168,25 @@ func triad(x, y, z []float64, workers int) {
 	wg.Wait()
 }
 
+// spin is a CPU-bound control: a dependent multiply–add chain of steps
+// iterations split among workers goroutines. Its 2-worker/1-worker ratio
+// is ≈ 0.5 when two cores are free and ≈ 1 when other jobs hold one.
+func spin(steps, workers int) float64 {
+	out := make([]float64, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Go(func() {
+			s := 1.0
+			for i := 0; i < steps/workers; i++ {
+				s = s*1.0000001 + 1e-9
+			}
+			out[w] = s
+		})
+	}
+	wg.Wait()
+	return out[0]
+}
+
 // benchScaling measures, interleaved within each benchmark iteration so
 // that the machine's load drifts alike for all of them, one assembly of
 // handSUPG with 1 worker, one with 2 workers, and the triad bound with 1
@@ -188,11 +207,15 @@ func benchScaling(b *testing.B, nodes int) {
 	n := bytes / 24
 	x, y, z := make([]float64, n), make([]float64, n), make([]float64, n)
 	var t [4]time.Duration
+	var cpu [2]time.Duration
 	b.ResetTimer()
 	for b.Loop() {
 		for i, w := range []int{1, 2} {
-			a.Workers = w
 			t0 := time.Now()
+			sinkVal += spin(20_000_000, w)
+			cpu[i] += time.Since(t0)
+			a.Workers = w
+			t0 = time.Now()
 			if err := a.Assemble(handSUPG{}, nil, A, rhs, assemble.Input{}); err != nil {
 				b.Fatal(err)
 			}
@@ -208,9 +231,11 @@ func benchScaling(b *testing.B, nodes int) {
 	b.ReportMetric(per(t[2]), "triad-ns/cell-1w")
 	b.ReportMetric(per(t[3]), "triad-ns/cell-2w")
 	b.ReportMetric(per(t[1])/per(t[0]), "2w/1w")
-	// The triad's own ratio shows whether a second core was free during
-	// the run (≈ 0.5–0.6 on an idle machine, ≈ 1 when other jobs hold it).
+	// The triad's and the CPU-bound spin's own ratios show whether a second
+	// core was free during the run (≈ 0.5 on an idle machine, ≈ 1 when
+	// other jobs hold it).
 	b.ReportMetric(per(t[3])/per(t[2]), "triad-2w/1w")
+	b.ReportMetric(float64(cpu[1])/float64(cpu[0]), "cpu-2w/1w")
 	b.ReportMetric(per(t[1])/min(per(t[2]), per(t[3])), "2w/triad")
 	sinkVal = A.Val[0] + rhs[0] + x[n/2]
 }
