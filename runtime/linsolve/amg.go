@@ -718,6 +718,15 @@ func dot(x, y []float64) float64 {
 // Gershgorin bound of D_F⁻¹A_F. (A_F equals A when no nonzero coupling is
 // weak, as for the P1 and Q1 Laplacians.)
 func smoothProlongator(A, Pt, S *sparse.CSR, node []int32, rho float64, workers int) *sparse.CSR {
+	if S.N == A.N && Pt.NNZ() <= A.N {
+		return smoothProlongator1(A, Pt, S, rho, workers)
+	}
+	return smoothProlongatorGeneral(A, Pt, S, node, rho, workers)
+}
+
+// smoothProlongatorGeneral is smoothProlongator through the filtered
+// matrix A_F and the general sparse product.
+func smoothProlongatorGeneral(A, Pt, S *sparse.CSR, node []int32, rho float64, workers int) *sparse.CSR {
 	dF := make([]float64, A.N)
 	rhoRow := make([]float64, A.N)
 	scalar := S.N == A.N
@@ -787,6 +796,117 @@ func smoothProlongator(A, Pt, S *sparse.CSR, node []int32, rho float64, workers 
 		}
 	})
 	return AP
+}
+
+// smoothProlongator1 is smoothProlongator for one dof per node and at most
+// one entry per row of P_tent (a single near-null-space vector): it forms
+// each row of P directly from the rows of A, without the filtered matrix
+// and the general product, with the same operations in the same order
+// (so the same bits): row i of A_F P_tent sums a^F_ij·(P_tent)_j over the
+// kept columns j in order, the diagonal being a_ii plus the weak entries
+// of the row.
+func smoothProlongator1(A, Pt, S *sparse.CSR, rho float64, workers int) *sparse.CSR {
+	n := A.N
+	dF := make([]float64, n)
+	rhoRow := make([]float64, n)
+	// kept reports whether entry q of row i stays in A_F; sp walks S's row.
+	kept := func(i, q int, sp *int) bool {
+		j := A.Col[q]
+		if int(j) == i {
+			return true
+		}
+		for *sp < S.RowPtr[i+1] && S.Col[*sp] < j {
+			*sp++
+		}
+		return *sp < S.RowPtr[i+1] && S.Col[*sp] == j
+	}
+	// Pass 1: the diagonal of A_F and the Gershgorin sums of D_F⁻¹A_F.
+	forRows(workers, n, A.NNZ(), func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			sp := S.RowPtr[i]
+			lumped, d := 0.0, 0.0
+			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+				switch {
+				case !kept(i, q, &sp):
+					lumped += A.Val[q]
+				case int(A.Col[q]) == i:
+					d = A.Val[q]
+				}
+			}
+			d += lumped
+			dF[i] = d
+			// The row sum in column order, as smoothProlongatorGeneral has it.
+			sum := 0.0
+			sp = S.RowPtr[i]
+			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+				switch {
+				case !kept(i, q, &sp):
+				case int(A.Col[q]) == i:
+					sum += math.Abs(d)
+				default:
+					sum += math.Abs(A.Val[q])
+				}
+			}
+			rhoRow[i] = sum / math.Abs(d)
+		}
+	})
+	gersh := 0.0
+	for _, r := range rhoRow {
+		gersh = math.Max(gersh, r)
+	}
+	omega := 4 / (3 * math.Min(rho, gersh))
+	// Pass 2: the rows of P.
+	return buildRanges(n, Pt.M, A.NNZ(), workers, func(lo, hi int, cnt []int) ([]int32, []float64) {
+		col := make([]int32, 0, 2*(A.RowPtr[hi]-A.RowPtr[lo])/3+16)
+		val := make([]float64, 0, cap(col))
+		var rc []int32 // the row's columns in order of first appearance
+		var rv []float64
+		for i := lo; i < hi; i++ {
+			rc, rv = rc[:0], rv[:0]
+			sp := S.RowPtr[i]
+			for q := A.RowPtr[i]; q < A.RowPtr[i+1]; q++ {
+				if !kept(i, q, &sp) {
+					continue
+				}
+				j := A.Col[q]
+				if Pt.RowPtr[j] == Pt.RowPtr[j+1] {
+					continue
+				}
+				a := A.Val[q]
+				if int(j) == i {
+					a = dF[i]
+				}
+				c, t := Pt.Col[Pt.RowPtr[j]], Pt.Val[Pt.RowPtr[j]]
+				k := 0
+				for k < len(rc) && rc[k] != c {
+					k++
+				}
+				if k == len(rc) {
+					rc, rv = append(rc, c), append(rv, a*t)
+				} else {
+					rv[k] += a * t
+				}
+			}
+			// Sort the columns (insertion sort, carrying the values).
+			for x := 1; x < len(rc); x++ {
+				for y := x; y > 0 && rc[y-1] > rc[y]; y-- {
+					rc[y-1], rc[y] = rc[y], rc[y-1]
+					rv[y-1], rv[y] = rv[y], rv[y-1]
+				}
+			}
+			f := -omega / dF[i]
+			hasT := Pt.RowPtr[i] < Pt.RowPtr[i+1]
+			for k, c := range rc {
+				v := f * rv[k]
+				if hasT && c == Pt.Col[Pt.RowPtr[i]] {
+					v += Pt.Val[Pt.RowPtr[i]]
+				}
+				col, val = append(col, c), append(val, v)
+			}
+			cnt[i-lo] = len(rc)
+		}
+		return col, val
+	})
 }
 
 // LanczosSteps is the number of Lanczos steps of the estimate of

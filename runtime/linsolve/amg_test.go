@@ -488,3 +488,26 @@ func TestQ1StencilRowSums(t *testing.T) {
 		t.Errorf("interior row has %d entries, want 9", A.RowPtr[i+1]-A.RowPtr[i])
 	}
 }
+
+// The one-vector prolongator smoothing (smoothProlongator1) forms the rows
+// of P directly; the general path goes through the filtered matrix and
+// the sparse product. Both must give the same bits on scalar matrices of
+// each kind (two independent implementations of P = (I − ωD_F⁻¹A_F)P_tent).
+func TestSmoothProlongatorPathsAgree(t *testing.T) {
+	for name, A := range map[string]*sparse.CSR{"P1": poissonP1(64), "Q1": poissonQ1(40), "tetrahedra": poissonTet(10), "SUPG": supgP1(50, 0.5, 1e-3)} {
+		node := make([]int32, A.N)
+		B := make([]float64, A.N)
+		for i := range node {
+			node[i], B[i] = int32(i), 1
+		}
+		S := strengthGraph(A, node, DefaultStrength, false, 2)
+		agg, nAgg := aggregate(S, node, A.N)
+		Pt, _, _, _ := tentative(A.N, agg, nAgg, B, 1)
+		rho := levelRho(A, A.IsSymmetric(SymmetryTol), 1)
+		fast := smoothProlongator1(A, Pt, S, rho, 2)
+		general := smoothProlongatorGeneral(A, Pt, S, node, rho, 2)
+		if !slices.Equal(fast.RowPtr, general.RowPtr) || !slices.Equal(fast.Col, general.Col) || !bytes.Equal(bitsOf(fast.Val), bitsOf(general.Val)) {
+			t.Errorf("%s: the two smoothing paths differ", name)
+		}
+	}
+}
