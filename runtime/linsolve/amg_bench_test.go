@@ -44,7 +44,7 @@ import (
 //     AMG Schur variant 36, 59, 90, 184; GMRES+ILU(0) 166 at 32², no
 //     convergence in 600 from 64² on.
 //   - One assembly against the CG+AMG solve of the same P1 problem at
-//     1024² (1.05·10⁶ unknowns): 18.6× and 23.6× in two runs.
+//     1024² (1.05·10⁶ unknowns): 19–24× in two runs.
 
 var sinkFloat float64
 
