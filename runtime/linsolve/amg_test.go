@@ -88,47 +88,80 @@ func TestAMGElasticityRigidBodyModes(t *testing.T) {
 // The tentative prolongator has orthonormal columns and interpolates the
 // near-null space exactly, P_tent B_c = B (Vaněk, Mandel & Brezina 1996,
 // §3: the construction by a QR factorisation per aggregate). Checked on
-// the elasticity rigid-body modes, where aggregates of one node drop the
-// rotation, and on constants. Tolerance 1e-12: Gram–Schmidt twice keeps
+// the 2D rigid-body modes of elasticity, where aggregates of one node drop
+// the rotation, and on the six 3D modes. Tolerance 1e-12: Gram–Schmidt twice keeps
 // orthogonality to a small multiple of the unit round-off.
 func TestTentativeProlongator(t *testing.T) {
-	A, lay := elasticityP1(12)
-	node, B, k := lay.nodesAndNullSpace(A.N)
-	S := strengthGraph(A, node, DefaultStrength, false, 1)
-	agg, nAgg := aggregate(S, node, A.N)
-	P, Bc, _, kc := tentative(A.N, agg, nAgg, B, k)
-	if kc != 3 {
-		t.Fatalf("k = %d, want 3 rigid-body modes", kc)
-	}
-	PtP := spgemm(P.Transpose(), P, 1)
-	for i := 0; i < PtP.N; i++ {
-		for q := PtP.RowPtr[i]; q < PtP.RowPtr[i+1]; q++ {
-			want := 0.0
-			if int(PtP.Col[q]) == i {
-				want = 1
+	A2, lay2 := elasticityP1(12)
+	A3, lay3 := vectorTet(5)
+	for _, c := range []struct {
+		name  string
+		A     *sparse.CSR
+		lay   *Layout
+		modes int
+	}{{"2D elasticity", A2, lay2, 3}, {"3D vector", A3, lay3, 6}} {
+		A := c.A
+		node, B, k := c.lay.nodesAndNullSpace(A.N)
+		S := strengthGraph(A, node, DefaultStrength, false, 1)
+		agg, nAgg := aggregate(S, node, A.N)
+		P, Bc, _, kc := tentative(A.N, agg, nAgg, B, k)
+		if kc != c.modes {
+			t.Fatalf("%s: k = %d, want %d rigid-body modes", c.name, kc, c.modes)
+		}
+		PtP := spgemm(P.Transpose(), P, 1)
+		for i := 0; i < PtP.N; i++ {
+			for q := PtP.RowPtr[i]; q < PtP.RowPtr[i+1]; q++ {
+				want := 0.0
+				if int(PtP.Col[q]) == i {
+					want = 1
+				}
+				if math.Abs(PtP.Val[q]-want) > 1e-12 {
+					t.Fatalf("%s: (PᵀP)[%d,%d] = %v, want %v", c.name, i, PtP.Col[q], PtP.Val[q], want)
+				}
 			}
-			if math.Abs(PtP.Val[q]-want) > 1e-12 {
-				t.Fatalf("(PᵀP)[%d,%d] = %v, want %v", i, PtP.Col[q], PtP.Val[q], want)
+		}
+		for m := 0; m < k; m++ {
+			bc := make([]float64, P.M)
+			for i := range bc {
+				bc[i] = Bc[i*k+m]
+			}
+			pb := make([]float64, P.N)
+			P.MulVec(pb, bc)
+			for i := range pb {
+				want := 0.0
+				if agg[i] >= 0 {
+					want = B[i*k+m]
+				}
+				if math.Abs(pb[i]-want) > 1e-12 {
+					t.Fatalf("%s: mode %d, dof %d: P_tent B_c = %v, B = %v", c.name, m, i, pb[i], want)
+				}
 			}
 		}
 	}
-	for c := 0; c < k; c++ {
-		bc := make([]float64, P.M)
-		for i := range bc {
-			bc[i] = Bc[i*k+c]
-		}
-		pb := make([]float64, P.N)
-		P.MulVec(pb, bc)
-		for i := range pb {
-			want := 0.0
-			if agg[i] >= 0 {
-				want = B[i*k+c]
+}
+
+// vectorTet is the 3-component vector Laplacian on the tetrahedral cube
+// mesh of poissonTet (the scalar matrix on each component, dofs
+// interleaved), with the node coordinates, for the 3D rigid-body modes.
+func vectorTet(m int) (*sparse.CSR, *Layout) {
+	S := poissonTet(m)
+	n := S.N
+	A := &sparse.CSR{N: 3 * n, M: 3 * n, RowPtr: make([]int, 3*n+1)}
+	for v := 0; v < n; v++ {
+		for c := 0; c < 3; c++ {
+			for q := S.RowPtr[v]; q < S.RowPtr[v+1]; q++ {
+				A.Col = append(A.Col, 3*S.Col[q]+int32(c))
+				A.Val = append(A.Val, S.Val[q])
 			}
-			if math.Abs(pb[i]-want) > 1e-12 {
-				t.Fatalf("mode %d, dof %d: P_tent B_c = %v, B = %v", c, i, pb[i], want)
-			}
+			A.RowPtr[3*v+c+1] = len(A.Col)
 		}
 	}
+	nn := m + 1
+	coords := make([]float64, 0, 3*n)
+	for v := 0; v < n; v++ {
+		coords = append(coords, float64(v%nn)/float64(m), float64(v/nn%nn)/float64(m), float64(v/(nn*nn))/float64(m))
+	}
+	return A, &Layout{Fields: []FieldBlock{{Name: "u", Nodes: n, Components: 3, Coords: coords, Dim: 3}}}
 }
 
 // Phase 1 of the aggregation on a path graph (the 1D Laplacian) takes a
