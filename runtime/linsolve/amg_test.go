@@ -489,6 +489,7 @@ func TestRecommend(t *testing.T) {
 		{"poisson 256²", poissonP1(256), nil, MethodCG, PrecondAMG},
 		{"tetrahedra 24³", poissonTet(24), nil, MethodCG, PrecondAMG},
 		{"SUPG 256²", supgP1(256, math.Pi/6, 1e-6), nil, MethodGMRES, PrecondILU0},
+		{"SUPG 600²", supgP1(600, math.Pi/6, 1e-6), nil, MethodGMRES, PrecondAMG},
 		{"diffusion-dominated 256²", supgP1(256, math.Pi/6, 1), nil, MethodGMRES, PrecondAMG},
 		{"stokes 140²", stokes, lay, MethodGMRES, PrecondAMGBlock},
 	}

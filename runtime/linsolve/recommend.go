@@ -30,6 +30,14 @@ const (
 	// the diagonally scaled matrix; see symmetryParts) is treated as
 	// advection dominated.
 	AdvectiveSkew = 0.3
+	// AdvectiveAMGAbove: advection-dominated systems with more unknowns
+	// than this go to GMRES with plain-aggregation AMG smoothed by shifted
+	// ILU(0), fewer to GMRES with shifted ILU(0) alone. On the
+	// skew-advection SUPG matrix the two took the same time at 512² (263
+	// 169 unknowns; 42 and 71 iterations) and the AMG 0.33–0.39 of the
+	// time at 1024² (68 and 180 iterations) (measured,
+	// BenchmarkSUPGRatios512 and 1024).
+	AdvectiveAMGAbove = 300000
 )
 
 // Recommendation is the solver Recommend chooses and why.
@@ -49,10 +57,11 @@ type Recommendation struct {
 //     CG with PrecondAMG (elliptic-like: mesh-independent iteration
 //     counts);
 //  4. nonsymmetric with a skew part above AdvectiveSkew of the symmetric
-//     part (advection dominated) → GMRES(100) with ILU(0) shifted by 0.1:
-//     on the skew-advection SUPG matrix AMG cycles with advection-aware
-//     smoothers cut the iterations but cost more time than they save (see
-//     BenchmarkSUPGRatios);
+//     part (advection dominated) → GMRES(100) with ILU(0) shifted by 0.1,
+//     or, above AdvectiveAMGAbove unknowns, with plain-aggregation AMG
+//     smoothed by that shifted ILU(0): its iteration count grows more
+//     slowly under refinement, and it overtakes the ILU(0) alone near
+//     512² (BenchmarkSUPGRatios);
 //  5. otherwise (mildly nonsymmetric, positive diagonal) → GMRES with
 //     PrecondAMG; a row with a non-positive diagonal → GMRES with ILU(0).
 //
@@ -91,6 +100,10 @@ func Recommend(A *sparse.CSR, layout *Layout) Recommendation {
 	case skew <= 1e-12*sym && posDiag:
 		o.Method, o.Precond = MethodCG, PrecondAMG
 		return Recommendation{o, "symmetric with a positive diagonal: CG with AMG"}
+	case skew > AdvectiveSkew*sym && posDiag && n > AdvectiveAMGAbove:
+		o.Method, o.Precond, o.Restart = MethodGMRES, PrecondAMG, 100
+		o.AMG = AMGOptions{Smoother: SmoothILU0, ILUShift: 0.1, Unsmoothed: true}
+		return Recommendation{o, fmt.Sprintf("skew part %.2g of the symmetric part (advection dominated), %d unknowns: GMRES with plain-aggregation AMG smoothed by shifted ILU(0)", skew/sym, n)}
 	case skew > AdvectiveSkew*sym || !posDiag:
 		o.Method, o.Precond, o.ILUShift, o.Restart = MethodGMRES, PrecondILU0, 0.1, 100
 		return Recommendation{o, fmt.Sprintf("skew part %.2g of the symmetric part (advection dominated) or a non-positive diagonal: GMRES with shifted ILU(0)", skew/sym)}
