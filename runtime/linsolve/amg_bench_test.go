@@ -40,8 +40,8 @@ import (
 //     180 iterations, AMG 62 (0.44–0.48× the time), plain aggregation 68
 //     (0.33–0.39×). AMG with the symmetric Gauss–Seidel: 62 iterations at
 //     128², no convergence in 400 at 256²; with forward Gauss–Seidel 23 at
-//     128², stagnation at 256² (its triangular solves amplify like
-//     unshifted ILU(0)'s).
+//     128², stagnation at 256² (presumably the growth of its triangular
+//     solves that stalls unshifted ILU(0); not measured).
 //   - Stokes (GMRES(100), block preconditioner with the diagonal Schur
 //     complement): 54, 61, 75, 84 iterations at 32², 64², 128², 256²; the
 //     AMG Schur variant 36, 59, 90, 184; GMRES+ILU(0) 166 at 32², no
