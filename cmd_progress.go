@@ -78,9 +78,14 @@ func (p *progress) solveEvents(label string) func(problem.Event) {
 				return
 			}
 		}
-		if e.Of > 0 {
+		switch {
+		case e.Detail != "":
+			p.say(e.Phase, "%s%s %d of %d: %s", label, e.Phase, e.Step, e.Of, e.Detail)
+		case e.Phase == "factor" || e.Phase == "amg-setup":
+			p.say(e.Phase, "%s%s %d of %d", label, e.Phase, e.Step, e.Of)
+		case e.Of > 0:
 			p.say(e.Phase, "%s%s (%d dofs)", label, e.Phase, e.Of)
-		} else {
+		default:
 			p.say(e.Phase, "%s%s", label, e.Phase)
 		}
 	}

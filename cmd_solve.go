@@ -39,7 +39,7 @@ type solveFlags struct {
 func addSolveFlags(fs *cmdFlags) *solveFlags {
 	return &solveFlags{
 		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
-		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi or +ilu0 (e.g. gmres+ilu0)"),
+		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi, +ilu0, +amg or +amg-block (e.g. cg+amg; amg-block for saddle-point systems)"),
 		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
 		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
 		restart: fs.Int("restart", 0, "GMRES restart length (default 50)"),
@@ -67,6 +67,9 @@ func (sf *solveFlags) options(prog *progress) (problem.Options, error) {
 	opts.Progress, opts.Iterations = prog.solveEvents(""), prog.iterations
 	so, err := parseSolver(sf, prog.iterations)
 	opts.Solver = so
+	if so == nil {
+		opts.AutoTol, opts.AutoMaxIter, opts.AutoRestart = *sf.tol, *sf.maxIter, *sf.restart
+	}
 	return opts, err
 }
 
@@ -89,20 +92,14 @@ func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options
 	case *sf.restart < 0 || *sf.restart > maxRestart:
 		return nil, usagef("--restart %d: give a number from 1 to %d (GMRES keeps restart+1 vectors)", *sf.restart, maxRestart)
 	}
-	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 && *sf.restart == 0 && *sf.shift == 0 {
-		return nil, nil
+	if *sf.solver == "auto" {
+		if *sf.shift != 0 {
+			return nil, usagef("--ilu-shift applies to an explicit ilu0 preconditioner: give --solver gmres+ilu0")
+		}
+		return nil, nil // the automatic choice, tuned by --tol, --max-iter and --restart
 	}
 	so := &linsolve.Options{RelTol: *sf.tol, MaxIter: *sf.maxIter, Restart: *sf.restart, ILUShift: *sf.shift, Progress: progress, Workers: *sf.workers}
 	name := *sf.solver
-	if name == "auto" {
-		name = "gmres+ilu0"
-		if so.ILUShift == 0 {
-			so.ILUShift = problem.AutoILUShift
-		}
-		if so.Restart == 0 {
-			so.Restart = 100
-		}
-	}
 	meth, pre, _ := strings.Cut(name, "+")
 	var err error
 	if so.Method, err = linsolve.ParseMethod(meth); err != nil {
@@ -527,9 +524,12 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		if s.Prepared > 1 {
 			setups = fmt.Sprintf(", %d factorisations", s.Prepared)
 		}
-		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e\n", setups, s.Residual)
+		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e, %.0f bytes per unknown\n", setups, s.Residual, s.BytesPerUnknown)
 	} else {
-		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e\n", s.Solver, setups, s.Iterations, s.Residual)
+		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e, %.0f bytes per unknown\n", s.Solver, setups, s.Iterations, s.Residual, s.BytesPerUnknown)
+	}
+	if s.SolverReason != "" && s.SolverReason != "as asked" {
+		fmt.Fprintf(w, "           (%s)\n", s.SolverReason)
 	}
 	if s.Picard > 1 {
 		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
@@ -604,20 +604,25 @@ func fieldComponents(sol *problem.Solution, name string) int {
 
 // jsonSolve is the --json output of solve (documented in the README).
 type jsonSolve struct {
-	Schema     string  `json:"schema"`
-	Model      string  `json:"model"`
-	File       string  `json:"file"`
-	Method     string  `json:"method"`
-	Mesh       string  `json:"mesh"`
-	Cells      int     `json:"cells"`
-	Vertices   int     `json:"vertices"`
-	Dofs       int     `json:"dofs"`
-	Kernels    string  `json:"kernels"`
-	Solver     string  `json:"solver"`
-	Iterations int     `json:"iterations"`
-	Residual   float64 `json:"residual"`
-	Picard     int     `json:"picard_iterations"`
-	Setups     int     `json:"solver_setups"` // factorisations or preconditioner builds
+	Schema   string `json:"schema"`
+	Model    string `json:"model"`
+	File     string `json:"file"`
+	Method   string `json:"method"`
+	Mesh     string `json:"mesh"`
+	Cells    int    `json:"cells"`
+	Vertices int    `json:"vertices"`
+	Dofs     int    `json:"dofs"`
+	Kernels  string `json:"kernels"`
+	Solver   string `json:"solver"`
+	// SolverReason says why the automatic choice picked the solver;
+	// BytesPerUnknown is the memory of matrix, preconditioner and Krylov
+	// vectors per unknown.
+	SolverReason    string  `json:"solver_reason"`
+	BytesPerUnknown float64 `json:"bytes_per_unknown"`
+	Iterations      int     `json:"iterations"`
+	Residual        float64 `json:"residual"`
+	Picard          int     `json:"picard_iterations"`
+	Setups          int     `json:"solver_setups"` // factorisations or preconditioner builds
 	// MeanResidual: models with mean conditions; see problem.Summary.
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
@@ -641,7 +646,7 @@ type jsonField struct {
 func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
+		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
 		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{}}
 	for _, a := range cells {
 		lo, hi := valueRange(a.Values)

@@ -153,3 +153,20 @@ func (m *Model) IsTransient() bool {
 	}
 	return false
 }
+
+// IsConstraint reports whether unknown i is absent from its own equation
+// (the pressure in div(vel) = 0): it then acts as a constraint on the
+// other unknowns, and its block of the assembled matrix is zero or a small
+// stabilisation term.
+func (m *Model) IsConstraint(i int) bool {
+	for _, eq := range m.Equations {
+		if eq.For != i {
+			continue
+		}
+		return !ir.Contains(eq.Written, func(e ir.Expr) bool {
+			f, ok := e.(*ir.Field)
+			return ok && f.Role == ir.Trial && f.Index == i
+		})
+	}
+	return false
+}
