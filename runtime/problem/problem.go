@@ -137,9 +137,9 @@ type Summary struct {
 	// BytesPerUnknown is the memory of the matrix, the preconditioner or
 	// factors and the Krylov vectors, per unknown (linsolve.MemoryUse).
 	BytesPerUnknown float64
-	Iterations int    // of the last linear solve
-	Residual   float64
-	Picard     int // nonlinear iterations (1 for a linear problem)
+	Iterations      int // of the last linear solve
+	Residual        float64
+	Picard          int // nonlinear iterations (1 for a linear problem)
 	// Prepared counts the factorisations (or preconditioner set-ups) of
 	// the linear solver so far; a transient solve with a constant matrix
 	// has 1 for all its steps.
