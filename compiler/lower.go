@@ -64,6 +64,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	for _, mc := range m.Means {
 		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})
 	}
+	if m.Quadrature > 0 {
+		lf.Degree = m.Quadrature
+	}
 	lf.MaxDerivative = maxDeriv(lf.Integrals)
 	return lf, nil
 }
