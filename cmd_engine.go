@@ -76,6 +76,12 @@ func (ef *engineFlags) solveFunc(sf *solveFlags, stderr io.Writer) (study.SolveF
 	}
 	ranks, petscOpts := *ef.ranks, strings.Fields(*ef.petscOptions)
 	return func(lf *ir.LoweredForm, m *mesh.Mesh, opts problem.Options) (*problem.Solution, error) {
+		if opts.Degree > 0 && opts.Degree != lf.QuadratureDegree() {
+			// --quadrature: the kernels are generated with that rule.
+			c := *lf
+			c.Degree = opts.Degree
+			lf = &c
+		}
 		h, c, err := gogen.GenerateC([]*ir.LoweredForm{lf}, gogen.COptions{Name: "kernels", Prefix: "fwk"})
 		if err != nil {
 			return nil, fmt.Errorf("generating the C kernels: %w", err)

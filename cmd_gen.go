@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"unicode"
@@ -151,6 +152,9 @@ func cmdGen(args []string, stdout, stderr io.Writer) error {
 		}
 		fmt.Fprintf(stdout, "wrote %s\n", f.Path)
 	}
+	if filepath.Base(filepath.Dir(files[0].Path)) == "local" && strings.Contains(strings.Join(args, " "), "--builtin") {
+		fmt.Fprintln(stdout, "the command uses these kernels once it is rebuilt: go run . (or go install) does that")
+	}
 	return nil
 }
 
@@ -162,6 +166,7 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 	fs.StringVar(&r.method, "method", "", "methods to generate: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	fs.StringVar(&r.prefix, "prefix", "", "prefix of the exported names, so several models can share a package (default: from the model's name)")
 	fs.StringVar(&r.lang, "lang", "go", "go or c")
+	builtin := fs.Bool("builtin", false, "write the Go kernels into this formwright's own source (stdlib/kernels/local), so that solve and verify use them once the command is rebuilt (go run . rebuilds it)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return nil, "", err
@@ -171,6 +176,16 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 	}
 	r.model = pos[0]
 	r.cmdline = "gen " + strings.Join(args, " ")
+	if *builtin {
+		if r.lang != "go" {
+			return nil, "", usagef("--builtin compiles Go kernels into the command; it cannot be combined with --lang %s", r.lang)
+		}
+		dir, err := builtinDir()
+		if err != nil {
+			return nil, "", err
+		}
+		r.dir, r.pkg = dir, "local"
+	}
 	files, err := generate(r)
 	return files, pos[0], err
 }
@@ -201,4 +216,19 @@ func exportedName(name string) string {
 		return "Model"
 	}
 	return b.String()
+}
+
+// builtinPackage is the package of the command that holds the user's own
+// kernels (gen --builtin).
+const builtinPackage = "github.com/formwright/formwright/stdlib/kernels/local"
+
+// builtinDir finds the directory of builtinPackage in the formwright
+// source this command is run from (go list, from the current directory).
+func builtinDir() (string, error) {
+	out, err := exec.Command("go", "list", "-f", "{{.Dir}}", builtinPackage).Output()
+	dir := strings.TrimSpace(string(out))
+	if err != nil || dir == "" {
+		return "", usagef("--builtin writes into formwright's own source: run it from a formwright source checkout (go run . gen MODEL --builtin)")
+	}
+	return dir, nil
 }

@@ -50,7 +50,7 @@ func solveModel(t *testing.T, src string, meth compiler.Method, spec string) *pr
 }
 
 // exact1D is the solution of a u' − k u” = s on (0,1), u(0) = 0, u(1) = 1
-// (REFERENCES.md, checked): u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1),
+// (testdata/REFERENCES.md, checked): u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1),
 // Pe = a/k, written in the overflow-free form for large Pe.
 func exact1D(a, k, s, x float64) float64 {
 	pe := a / k
@@ -76,7 +76,7 @@ tau for u = tau_optimal(abs(a), k, h)
 // TestSUPGNodallyExact1D: with the optimal τ, SUPG on a uniform P1 mesh is
 // nodally exact for constant a, k and zero or constant source (Christie,
 // Griffiths, Mitchell & Zienkiewicz 1976; Brooks & Hughes 1982, CMAME 32;
-// Donea & Huerta 2003, ch. 2; REFERENCES.md). This runs the model text
+// Donea & Huerta 2003, ch. 2; testdata/REFERENCES.md). This runs the model text
 // through the compiler, so it checks the derived SUPG form and the
 // library's τ, not a hand-built one. 10 cells, element Péclet α = a h/(2k).
 func TestSUPGNodallyExact1D(t *testing.T) {
@@ -99,7 +99,7 @@ func TestSUPGNodallyExact1D(t *testing.T) {
 }
 
 // TestGalerkinOscillates1D: Galerkin at α = 2.5 > 1 gives a non-monotone,
-// oscillating solution; REFERENCES.md gives the maximum nodal error 0.436
+// oscillating solution; testdata/REFERENCES.md gives the maximum nodal error 0.436
 // (checked by independent computation).
 func TestGalerkinOscillates1D(t *testing.T) {
 	const n, alpha = 10, 2.5
@@ -132,7 +132,7 @@ func TestGalerkinOscillates1D(t *testing.T) {
 		t.Errorf("Galerkin at α = 2.5: %d sign changes of successive differences, want oscillation", changes)
 	}
 	if math.Abs(worst-0.436) > 1e-3 {
-		t.Errorf("Galerkin at α = 2.5: maximum nodal error %.4f, REFERENCES.md gives 0.436", worst)
+		t.Errorf("Galerkin at α = 2.5: maximum nodal error %.4f, testdata/REFERENCES.md gives 0.436", worst)
 	}
 }
 
@@ -314,7 +314,7 @@ tau for u = tau_codina(norm(a), k, 1, h)
 // SUPG with its pressure-stabilising and grad–div terms, P1/P1) on a 64²
 // mesh reproduces the centreline velocities of Ghia, Ghia & Shin (1982,
 // J. Comput. Phys. 48, Tables I and II, Re = 100) to 2.5 % of the lid
-// speed (REFERENCES.md: 1–2 % is what good solvers achieve on fine
+// speed (testdata/REFERENCES.md: 1–2 % is what good solvers achieve on fine
 // meshes; measured here 1.7 % and 1.3 %). Skipped under -short.
 func TestLidDrivenCavityRe100(t *testing.T) {
 	if testing.Short() {
@@ -421,7 +421,7 @@ tau for p = tau_stokes_continuity(tau_stokes_momentum(nu, h), h)
 // TestVerifyStokesEqualOrder: with the pressure-stabilising terms the
 // derivation produces from the block operator, equal-order P1/P1 Stokes
 // converges with velocity L² order 2 and H¹ order 1 and pressure L² order
-// ≥ 1 (Hughes, Franca & Balestra 1986, CMAME 59; REFERENCES.md, from
+// ≥ 1 (Hughes, Franca & Balestra 1986, CMAME 59; testdata/REFERENCES.md, from
 // memory). Galerkin P1/P1 violates the inf–sup condition: with the
 // pressure mean fixed its matrix is still singular (spurious pressure
 // modes besides the constant), and verify exits 1 saying so.
@@ -623,4 +623,50 @@ func verifyJSON(t *testing.T, args ...string) study.Report {
 		t.Fatalf("verify %v: %v", args, err)
 	}
 	return rep
+}
+
+// peakedSource is the SUPG problem of Donea & Huerta (2003, ch. 2): a = 1,
+// ν = 0.01, ten P1 cells on (0, 1) (element Péclet 5), a source of two
+// narrow Gaussians; testdata/REFERENCES.md ("SUPG with a peaked source").
+const peakedSource = `model peaked_source
+dimension 1
+use tau
+unknown u: scalar P1
+given a = 1
+given nu = 1/100
+given s = 5*exp(-100*(x - 1/8)^2) - 5*exp(-100*(x - 1/4)^2)
+given h = cell_diameter
+equation for u: a*partial(u, x) - nu*partial(u, x, x) = s
+at left, right: u = 0
+stabilise supg
+tau for u = tau_optimal(abs(a), nu, h)
+%s`
+
+// TestQuadratureFollowsTheData: the automatic quadrature degree counts the
+// source as not polynomial and integrates it well enough that SUPG gives
+// the published nodal values (testdata/REFERENCES.md: recomputed to 4
+// decimals with the source integrated to machine precision; tolerance 2e-4
+// for the rounding of the table); a two-point Gauss rule (degree 3), set
+// by the model's quadrature statement or by --quadrature, misses them by
+// more than 2e-3 (the table says up to 0.004).
+func TestQuadratureFollowsTheData(t *testing.T) {
+	want := []float64{0, 0.3432, 0.5012, 0.1274, -0.0228, -0.0324, -0.0325, -0.0325, -0.0325, -0.0325, 0}
+	worst := func(sol *problem.Solution) float64 {
+		w := 0.0
+		for n, x := range sol.Dofs.NodeCoords(0) {
+			w = math.Max(w, math.Abs(sol.Fields[0].Values[0][n]-want[int(math.Round(10*x))]))
+		}
+		return w
+	}
+	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, ""), compiler.SUPG, "interval:0,1:10")); w > 2e-4 {
+		t.Errorf("automatic quadrature: nodal values off by %.2g, want ≤ 2e-4", w)
+	}
+	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, "quadrature 3\n"), compiler.SUPG, "interval:0,1:10")); w < 2e-3 {
+		t.Errorf("two-point rule: nodal values off by only %.2g; the published effect is up to 0.004", w)
+	}
+	path := writeModel(t, fmt.Sprintf(peakedSource, ""))
+	var out, errb bytes.Buffer
+	if st := run([]string{"solve", path, "--mesh", "interval:0,1:10", "--quadrature", "3", "--quiet"}, &out, &errb); st != exitOK || !strings.Contains(out.String(), "quadrature degree 3, 2 points per cell") {
+		t.Errorf("--quadrature 3: status %d, %q %q", st, out.String(), errb.String())
+	}
 }

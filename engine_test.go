@@ -105,7 +105,7 @@ func TestEngineSolve(t *testing.T) {
 	if !(worst <= 1e-8*scale) {
 		t.Errorf("PETSc and go engines differ by %.2e (relative to %.2e)", worst, scale)
 	}
-	_, text := values("--engine", "petsc", "--ranks", "2", "--solver", "cg+amg")
+	_, text := values("--engine", "petsc", "--ranks", "2", "--solver", "gmres+amg")
 	for _, want := range []string{"engine     PETSc", "2 ranks", "relative residual", "on 2 MPI ranks"} {
 		if !strings.Contains(text, want) {
 			t.Errorf("summary lacks %q:\n%s", want, text)

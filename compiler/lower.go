@@ -36,7 +36,7 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	}
 	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
 	for _, u := range m.Unknowns {
-		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element})
+		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element, Constraint: m.IsConstraint(u.Index)})
 	}
 	in, err := l.collect(Simplify(ir.Sum(p, cell...), m.Dim), ir.Domain{})
 	if err != nil {
@@ -63,6 +63,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	}
 	for _, mc := range m.Means {
 		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})
+	}
+	if m.Quadrature > 0 {
+		lf.Degree = m.Quadrature
 	}
 	lf.MaxDerivative = maxDeriv(lf.Integrals)
 	return lf, nil

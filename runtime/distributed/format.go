@@ -230,8 +230,13 @@ type Result struct {
 	// Times are the driver's phases (read, setup, assembly, constrain,
 	// pc_setup, solve), each the longest over the ranks, in seconds.
 	Times map[string]float64
-	// MaxRSS is getrusage's peak resident set of each rank, in bytes.
-	MaxRSS []int64
+	// MaxRSS is getrusage's peak resident set of each rank, in bytes,
+	// and BaseRSS the same when MPI and PETSc had started, before the
+	// rank read its part: MaxRSS − BaseRSS is what the solve took.
+	MaxRSS, BaseRSS []int64
+	// Choice says why the automatic choice picked the solver ("as
+	// asked" otherwise).
+	Choice string
 }
 
 // readResult parses the result file.
@@ -301,14 +306,20 @@ func parseResult(rd io.Reader) (*Result, error) {
 			r.Unneeded = int64(atof())
 		case strings.HasPrefix(key, "time_"):
 			r.Times[strings.TrimPrefix(key, "time_")] = atof()
-		case key == "maxrss_kb":
+		case key == "maxrss_kb", key == "baseline_kb":
+			dst := &r.MaxRSS
+			if key == "baseline_kb" {
+				dst = &r.BaseRSS
+			}
 			for _, s := range strings.Fields(val) {
 				kb, e := strconv.ParseInt(s, 10, 64)
 				if e != nil {
 					err = e
 				}
-				r.MaxRSS = append(r.MaxRSS, kb*1024)
+				*dst = append(*dst, kb*1024)
 			}
+		case key == "choice":
+			r.Choice = val
 		}
 		if err != nil {
 			return nil, fmt.Errorf("result: %s: %v", key, err)

@@ -216,7 +216,17 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		Workers:      ranks,
 		Engine:       "PETSc " + res.PETSc + ", " + tc.mpi,
 		Ranks:        ranks,
+		SolverReason: res.Choice,
 	}
+	// Memory: what the ranks' resident sets grew by from the start of
+	// the driver (MPI and PETSc loaded) to their peak, per unknown.
+	grown := int64(0)
+	for r := range res.MaxRSS {
+		if r < len(res.BaseRSS) {
+			grown += res.MaxRSS[r] - res.BaseRSS[r]
+		}
+	}
+	sum.BytesPerUnknown = float64(grown) / float64(dm.NumDofs)
 	if res.Direct {
 		sum.Solver = "direct LU"
 		if res.Factor != "" {
@@ -242,9 +252,12 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 	h := &header{
 		dim: int64(m.Dim), verts: int64(m.Cell.NumVertices()), dofs: int64(dm.NumLocal), global: int64(dm.NumDofs),
 		ranks: int64(ranks), method: method, precond: precond,
-		maxIter: int64(s.MaxIter), restart: int64(s.Restart), direct: problem.DirectLimit,
+		maxIter: int64(s.MaxIter), restart: int64(s.Restart), direct: linsolve.DirectBelow2D,
 		maxPicard: int64(opts.MaxPicard), rtol: s.RelTol, time: opts.Time, symTol: symmetryTol,
 		picardTol: opts.PicardTol, relax: opts.PicardRelax, sides: form.Sides(),
+	}
+	if m.Dim == 3 {
+		h.direct = linsolve.DirectBelow3D
 	}
 	if h.rtol == 0 {
 		h.rtol = linsolve.DefaultRelTol

@@ -9,9 +9,9 @@ import (
 type Method int
 
 const (
-	// MethodAuto chooses as runtime/problem does: the direct solver below
-	// problem.DirectLimit unknowns, else CG for a symmetric matrix and
-	// GMRES otherwise.
+	// MethodAuto chooses the direct solver below linsolve.DirectBelow2D
+	// unknowns (DirectBelow3D in 3D), as runtime/linsolve's automatic
+	// choice does, else CG for a symmetric matrix and GMRES otherwise.
 	MethodAuto Method = iota
 	// MethodDirect is a parallel sparse LU factorisation (MUMPS, Amestoy
 	// et al. 2001, SIAM J. Matrix Anal. Appl. 23(1) [memory], where PETSc

@@ -154,3 +154,63 @@ func (e *errWriter) str(s string) {
 }
 
 var errNilGrid = errors.New("output: nil Grid")
+
+// Staged writes a group of files that must appear together or not at
+// all: Write puts each into a hidden temporary file beside its target,
+// Commit renames them all into place, and Abort (or an interrupt, see
+// RemovePending) removes them. A time series written step by step uses
+// it, so a run that fails halfway leaves none of its frames behind.
+type Staged struct {
+	tmp, dst []string
+}
+
+// Write stages one file.
+func (s *Staged) Write(path string, write func(w io.Writer) error) error {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("output: %w", err)
+	}
+	pending.add(f.Name())
+	s.tmp, s.dst = append(s.tmp, f.Name()), append(s.dst, path)
+	bw := bufio.NewWriterSize(f, 1<<16)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if err == nil {
+		err = f.Chmod(0o644)
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("output: writing %s: %w", path, err)
+	}
+	return nil
+}
+
+// Commit renames every staged file to its target.
+func (s *Staged) Commit() error {
+	for i, t := range s.tmp {
+		if err := os.Rename(t, s.dst[i]); err != nil {
+			s.Abort()
+			return fmt.Errorf("output: %w", err)
+		}
+		pending.remove(t)
+	}
+	s.tmp, s.dst = nil, nil
+	return nil
+}
+
+// Abort removes every staged file that was not committed.
+func (s *Staged) Abort() {
+	for _, t := range s.tmp {
+		os.Remove(t)
+		pending.remove(t)
+	}
+	s.tmp, s.dst = nil, nil
+}

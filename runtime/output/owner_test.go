@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"image"
 	"image/png"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -59,5 +60,35 @@ func TestCheckTarget(t *testing.T) {
 	}
 	if err := CheckTarget(theirs); err == nil || !strings.Contains(err.Error(), "not written by formwright") {
 		t.Errorf("user file: %v", err)
+	}
+}
+
+// TestStaged: staged files appear only on Commit; Abort leaves nothing,
+// not even temporary files.
+func TestStaged(t *testing.T) {
+	dir := t.TempDir()
+	var s Staged
+	for _, n := range []string{"a.csv", "b.csv"} {
+		if err := s.Write(filepath.Join(dir, n), func(w io.Writer) error { return WriteCSV(w, testGrid(), 2) }); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "a.csv")); err == nil {
+		t.Error("a staged file is visible before Commit")
+	}
+	if err := s.Commit(); err != nil {
+		t.Fatal(err)
+	}
+	for _, n := range []string{"a.csv", "b.csv"} {
+		if ok, err := Written(filepath.Join(dir, n)); !ok || err != nil {
+			t.Errorf("%s after Commit: %v %v", n, ok, err)
+		}
+	}
+	var s2 Staged
+	s2.Write(filepath.Join(dir, "c.csv"), func(w io.Writer) error { return WriteCSV(w, testGrid(), 2) })
+	s2.Abort()
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 2 {
+		t.Errorf("after Abort the directory holds %d entries, want the 2 committed files", len(entries))
 	}
 }

@@ -52,13 +52,17 @@ func MeanConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]MeanCond
 
 // NewSolution makes the Solution of a form on m from a global dof vector x
 // (the numbering of dm, from DofMap) that another engine computed, with
-// that engine's summary; it fills the fields and their ranges. The
-// solution has no Matrix or RHS.
+// that engine's summary; it fills the fields, their ranges and, when the
+// summary has none, the quadrature (the form's own rule). The solution
+// has no Matrix or RHS.
 func NewSolution(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, x []float64, sum Summary) (*Solution, error) {
 	if len(x) != dm.NumDofs {
 		return nil, fmt.Errorf("problem: a solution of %d values for %d dofs", len(x), dm.NumDofs)
 	}
 	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x}
+	if sum.Quadrature == "" {
+		sum.Quadrature = quadratureText(form, m.Cell, 0)
+	}
 	sum.Ranges = nil
 	for k, f := range dm.Fields {
 		fv := FieldValues{Name: f.Name, Components: f.Components}

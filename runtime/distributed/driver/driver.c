@@ -474,14 +474,20 @@ static PetscErrorCode shift(const struct mean *m, Vec x)
 
 /* configure sets formwright's choice of solver (runtime/distributed,
  * Solver), which the user's PETSc options then override. */
-static PetscErrorCode configure(KSP ksp, const struct header *h, PetscBool sym, int *direct)
+static PetscErrorCode configure(KSP ksp, const struct header *h, PetscBool sym, int *direct, char *why, size_t nwhy)
 {
 	PetscFunctionBeginUser;
 	PC pc;
 	int64_t method = h->method;
 	PetscCall(KSPGetPC(ksp, &pc));
+	snprintf(why, nwhy, "as asked");
 	if (method == METHOD_AUTO) {
 		method = h->global < h->direct_limit ? METHOD_DIRECT : (sym ? METHOD_CG : METHOD_GMRES);
+		if (method == METHOD_DIRECT) {
+			snprintf(why, nwhy, "%lld unknowns < %lld: sparse LU", (long long)h->global, (long long)h->direct_limit);
+		} else {
+			snprintf(why, nwhy, "%s, %lld unknowns: %s with algebraic multigrid", sym ? "symmetric" : "not symmetric", (long long)h->global, sym ? "CG" : "GMRES");
+		}
 	}
 	*direct = method == METHOD_DIRECT;
 	if (method == METHOD_DIRECT) {
@@ -622,6 +628,10 @@ static PetscErrorCode run(const char *dir)
 {
 	PetscFunctionBeginUser;
 	double t[T_COUNT] = {0}, t0 = now();
+	char why[256] = "";
+	struct rusage ru0;
+	getrusage(RUSAGE_SELF, &ru0);
+	long rss0 = ru0.ru_maxrss; /* after MPI and PETSc started: the baseline */
 	struct part p;
 	memset(&p, 0, sizeof p);
 	read_part(dir, &p);
@@ -733,7 +743,7 @@ static PetscErrorCode run(const char *dir)
 		if (picard == 1) {
 			PC pc;
 			PetscBool hypre;
-			PetscCall(configure(ksp, h, sym, &direct));
+			PetscCall(configure(ksp, h, sym, &direct, why, sizeof why));
 			PetscCall(KSPSetFromOptions(ksp));
 			PetscCall(KSPGetPC(ksp, &pc));
 			PetscCall(PetscObjectTypeCompare((PetscObject)pc, PCHYPRE, &hypre));
@@ -812,8 +822,9 @@ static PetscErrorCode run(const char *dir)
 	struct rusage ru;
 	getrusage(RUSAGE_SELF, &ru);
 	long rss = ru.ru_maxrss; /* kilobytes on Linux */
-	long *rss_all = alloc((size_t)size, sizeof(long));
+	long *rss_all = alloc((size_t)size, sizeof(long)), *rss0_all = alloc((size_t)size, sizeof(long));
 	PetscCallMPI(MPI_Gather(&rss, 1, MPI_LONG, rss_all, 1, MPI_LONG, 0, PETSC_COMM_WORLD));
+	PetscCallMPI(MPI_Gather(&rss0, 1, MPI_LONG, rss0_all, 1, MPI_LONG, 0, PETSC_COMM_WORLD));
 	if (rank == 0) {
 		char path[4096];
 		snprintf(path, sizeof path, "%s/result", dir);
@@ -860,12 +871,17 @@ static PetscErrorCode run(const char *dir)
 		for (int k = 0; k < size; ++k) {
 			fprintf(f, " %ld", rss_all[k]);
 		}
-		fprintf(f, "\n");
+		fprintf(f, "\nbaseline_kb");
+		for (int k = 0; k < size; ++k) {
+			fprintf(f, " %ld", rss0_all[k]);
+		}
+		fprintf(f, "\nchoice %s\n", why);
 		if (fclose(f) != 0) {
 			die(EXIT_INPUT, "cannot write %s", path);
 		}
 	}
 	free(rss_all);
+	free(rss0_all);
 	free(pins);
 	PetscCall(KSPDestroy(&ksp));
 	PetscCall(MatDestroy(&A));

@@ -16,7 +16,7 @@ func init() {
 	compiled.Register("6464793a3c77a8be98c90607d946a097", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Tetrahedron,
-		Degree: 2,
+		Degree: 1,
 		NewCell: func() kernel.Kernel {
 			return KilnBlockGalerkinKernel{}
 		},
@@ -35,7 +35,7 @@ var fwKilnBlockGalerkinLayout = kernel.Layout{
 }
 
 // KilnBlockGalerkinKernel is the generated cell kernel of the galerkin form on
-// tetrahedron cells, quadrature degree 2 (4 points). It implements
+// tetrahedron cells, quadrature degree 1 (1 point). It implements
 // kernel.Kernel, keeps no state and does not allocate. The form is symmetric;
 // only the upper triangle is computed.
 type KilnBlockGalerkinKernel struct{}
@@ -46,7 +46,7 @@ var _ kernel.Kernel = KilnBlockGalerkinKernel{}
 func (KilnBlockGalerkinKernel) Layout() kernel.Layout { return fwKilnBlockGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (KilnBlockGalerkinKernel) Degree() int { return 2 }
+func (KilnBlockGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -77,113 +77,138 @@ func (KilnBlockGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c11 := c9 - c10
 	c12 := j02 * c11
 	detJ := c4 + c8 + c12
-	w := detJ * (1.0 / 24)
 	c13 := j12 * j01
 	c14 := j11 * j02
 	c15 := c13 - c14
+	c16 := j10 * j02
+	c17 := j00 * j12
+	c18 := c16 - c17
+	c19 := j00 * j11
+	c20 := j01 * j10
+	c21 := c19 - c20
+	c22 := c15 * c15
+	c23 := 0.25 * c22
+	c24 := c15 * c18
+	c25 := 0.25 * c24
+	c26 := c15 * c21
+	c27 := 0.25 * c26
+	c28 := c18 * c18
+	c29 := 0.25 * c28
+	c30 := c18 * c21
+	c31 := 0.25 * c30
+	c32 := c21 * c21
+	c33 := 0.25 * c32
+	c34 := j21 * j02
+	c35 := j22 * j01
+	c36 := c34 - c35
+	c37 := j00 * j22
+	c38 := j20 * j02
+	c39 := c37 - c38
+	c40 := j01 * j20
+	c41 := j00 * j21
+	c42 := c40 - c41
+	c43 := c36 * c36
+	c44 := 0.25 * c43
+	c45 := c36 * c39
+	c46 := 0.25 * c45
+	c47 := c36 * c42
+	c48 := 0.25 * c47
+	c49 := c39 * c39
+	c50 := 0.25 * c49
+	c51 := c39 * c42
+	c52 := 0.25 * c51
+	c53 := c42 * c42
+	c54 := 0.25 * c53
+	c55 := c3 * c3
+	c56 := 0.25 * c55
+	c57 := c3 * c7
+	c58 := 0.25 * c57
+	c59 := c3 * c11
+	c60 := 0.25 * c59
+	c61 := c7 * c7
+	c62 := 0.25 * c61
+	c63 := c7 * c11
+	c64 := 0.25 * c63
+	c65 := c11 * c11
+	c66 := 0.25 * c65
 	rdetJ := 1.0 / detJ
-	k02 := c15 * rdetJ
-	c16 := -k02
-	c17 := j10 * j02
-	c18 := j00 * j12
-	c19 := c17 - c18
-	k12 := rdetJ * c19
-	c20 := j00 * j11
-	c21 := j01 * j10
-	c22 := c20 - c21
-	k22 := rdetJ * c22
-	c23 := c16 - k12 - k22
-	c24 := j21 * j02
-	c25 := j22 * j01
-	c26 := c24 - c25
-	k01 := rdetJ * c26
-	c27 := -k01
-	c28 := j00 * j22
-	c29 := j20 * j02
-	c30 := c28 - c29
-	k11 := rdetJ * c30
-	c31 := j01 * j20
-	c32 := j00 * j21
-	c33 := c31 - c32
-	k21 := rdetJ * c33
-	c34 := c27 - k11 - k21
-	k00 := c3 * rdetJ
-	c35 := -k00
-	k10 := c7 * rdetJ
-	k20 := c11 * rdetJ
-	c36 := c35 - k10 - k20
+	c67 := c22 + c43 + c55
+	c68 := rdetJ * c67
+	c69 := c23 + c44 + c56
+	c70 := rdetJ * c69
+	c71 := c24 + c45 + c57
+	c72 := rdetJ * c71
+	c73 := c25 + c46 + c58
+	c74 := rdetJ * c73
+	c75 := c26 + c47 + c59
+	c76 := rdetJ * c75
+	c77 := c27 + c48 + c60
+	c78 := rdetJ * c77
+	c79 := c28 + c49 + c61
+	c80 := rdetJ * c79
+	c81 := c29 + c50 + c62
+	c82 := rdetJ * c81
+	c83 := c30 + c51 + c63
+	c84 := rdetJ * c83
+	c85 := c31 + c52 + c64
+	c86 := rdetJ * c85
+	c87 := c32 + c53 + c65
+	c88 := rdetJ * c87
+	c89 := c33 + c54 + c66
+	c90 := rdetJ * c89
+	c91 := c70 * (1.0 / 6)
+	c92 := c74 * (1.0 / 6)
+	c93 := c78 * (1.0 / 6)
+	c94 := c82 * (1.0 / 6)
+	c95 := c86 * (1.0 / 6)
+	c96 := c90 * (1.0 / 6)
+	c97 := c91 + c92 + c92 + c93 + c93 + c94 + c95 + c95 + c96
+	c98 := c70 * (-(1.0 / 6))
+	c99 := c74 * (-(1.0 / 6))
+	c100 := c78 * (-(1.0 / 6))
+	c101 := c98 + c99 + c100
+	c102 := c82 * (-(1.0 / 6))
+	c103 := c86 * (-(1.0 / 6))
+	c104 := c99 + c102 + c103
+	c105 := c90 * (-(1.0 / 6))
+	c106 := c100 + c103 + c105
 	if !(detJ > 0) {
 		fwKilnBlockFillNaN(A, b)
 		return
 	}
-	var acc [16]float64
-	var rhs [4]float64
+	// Rows 0..3, columns 0..3, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω k (∇u·∇v) dx, F = ∫_Ω f v dx
+	//	  k · ∂u/∂z · ∂v/∂z  kiln_block.fw:9
+	//	  k · ∂u/∂y · ∂v/∂y  kiln_block.fw:9
+	//	  k · ∂u/∂x · ∂v/∂x  kiln_block.fw:9
+	A[0] = (1.0/6)*(c68+c80+c88) + (1.0/3)*(c72+c76+c84) + x[0]*c97 + x[3]*c97 + x[6]*c97 + x[9]*c97 + x[1]*c97 + x[4]*c97 + x[7]*c97 + x[10]*c97 + x[2]*c97 + x[5]*c97 + x[8]*c97 + x[11]*c97
+	A[1] = (1.0/6)*(-c68-c72-c76) + x[0]*c101 + x[3]*c101 + x[6]*c101 + x[9]*c101 + x[1]*c101 + x[4]*c101 + x[7]*c101 + x[10]*c101 + x[2]*c101 + x[5]*c101 + x[8]*c101 + x[11]*c101
+	A[2] = (1.0/6)*(-c72-c80-c84) + x[0]*c104 + x[3]*c104 + x[6]*c104 + x[9]*c104 + x[1]*c104 + x[4]*c104 + x[7]*c104 + x[10]*c104 + x[2]*c104 + x[5]*c104 + x[8]*c104 + x[11]*c104
+	A[3] = (1.0/6)*(-c76-c84-c88) + x[0]*c106 + x[3]*c106 + x[6]*c106 + x[9]*c106 + x[1]*c106 + x[4]*c106 + x[7]*c106 + x[10]*c106 + x[2]*c106 + x[5]*c106 + x[8]*c106 + x[11]*c106
+	A[5] = (1.0/6)*c68 + x[0]*c91 + x[3]*c91 + x[6]*c91 + x[9]*c91 + x[1]*c91 + x[4]*c91 + x[7]*c91 + x[10]*c91 + x[2]*c91 + x[5]*c91 + x[8]*c91 + x[11]*c91
+	A[6] = (1.0/6)*c72 + x[0]*c92 + x[3]*c92 + x[6]*c92 + x[9]*c92 + x[1]*c92 + x[4]*c92 + x[7]*c92 + x[10]*c92 + x[2]*c92 + x[5]*c92 + x[8]*c92 + x[11]*c92
+	A[7] = (1.0/6)*c76 + x[0]*c93 + x[3]*c93 + x[6]*c93 + x[9]*c93 + x[1]*c93 + x[4]*c93 + x[7]*c93 + x[10]*c93 + x[2]*c93 + x[5]*c93 + x[8]*c93 + x[11]*c93
+	A[10] = (1.0/6)*c80 + x[0]*c94 + x[3]*c94 + x[6]*c94 + x[9]*c94 + x[1]*c94 + x[4]*c94 + x[7]*c94 + x[10]*c94 + x[2]*c94 + x[5]*c94 + x[8]*c94 + x[11]*c94
+	A[11] = (1.0/6)*c84 + x[0]*c95 + x[3]*c95 + x[6]*c95 + x[9]*c95 + x[1]*c95 + x[4]*c95 + x[7]*c95 + x[10]*c95 + x[2]*c95 + x[5]*c95 + x[8]*c95 + x[11]*c95
+	A[15] = (1.0/6)*c88 + x[0]*c96 + x[3]*c96 + x[6]*c96 + x[9]*c96 + x[1]*c96 + x[4]*c96 + x[7]*c96 + x[10]*c96 + x[2]*c96 + x[5]*c96 + x[8]*c96 + x[11]*c96
 	// Rows 0..3 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω k (∇u·∇v) dx, F = ∫_Ω f v dx
 	//	  v  kiln_block.fw:11
-	rhs[0] += (1.0 / 24) * detJ
-	rhs[1] += (1.0 / 24) * detJ
-	rhs[2] += (1.0 / 24) * detJ
-	rhs[3] += (1.0 / 24) * detJ
-	for q := 0; q < 4; q++ {
-		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[0] * fwKilnBlockGalerkinCellGeomVal[q][0]
-		p2 := x[3] * fwKilnBlockGalerkinCellGeomVal[q][1]
-		p3 := x[6] * fwKilnBlockGalerkinCellGeomVal[q][2]
-		p4 := x[9] * fwKilnBlockGalerkinCellGeomVal[q][3]
-		x0 := p1 + p2 + p3 + p4
-		p5 := fwKilnBlockGalerkinCellGeomVal[q][0] * x[1]
-		p6 := fwKilnBlockGalerkinCellGeomVal[q][1] * x[4]
-		p7 := fwKilnBlockGalerkinCellGeomVal[q][2] * x[7]
-		p8 := fwKilnBlockGalerkinCellGeomVal[q][3] * x[10]
-		x1 := p5 + p6 + p7 + p8
-		p9 := fwKilnBlockGalerkinCellGeomVal[q][0] * x[2]
-		p10 := fwKilnBlockGalerkinCellGeomVal[q][1] * x[5]
-		p11 := fwKilnBlockGalerkinCellGeomVal[q][2] * x[8]
-		p12 := fwKilnBlockGalerkinCellGeomVal[q][3] * x[11]
-		x2 := p9 + p10 + p11 + p12
-		k := x0 + x1 + x2 + 1.0
-		p13 := k * w
-		p14 := p13 * c23
-		p15 := p13 * k02
-		p16 := p13 * k12
-		p17 := p13 * k22
-		p18 := p13 * c34
-		p19 := p13 * k01
-		p20 := p13 * k11
-		p21 := p13 * k21
-		p22 := p13 * c36
-		p23 := p13 * k00
-		p24 := p13 * k10
-		p25 := p13 * k20
-		// Rows 0..3, columns 0..3, at each quadrature point.
-		//
-		//	Galerkin: B = ∫_Ω k (∇u·∇v) dx, F = ∫_Ω f v dx
-		//	  k · ∂u/∂z · ∂v/∂z  kiln_block.fw:9
-		//	  k · ∂u/∂y · ∂v/∂y  kiln_block.fw:9
-		//	  k · ∂u/∂x · ∂v/∂x  kiln_block.fw:9
-		acc[0] += c23*p14 + c34*p18 + c36*p22
-		acc[1] += c23*p15 + c34*p19 + c36*p23
-		acc[2] += c23*p16 + c34*p20 + c36*p24
-		acc[3] += c23*p17 + c34*p21 + c36*p25
-		acc[5] += k02*p15 + k01*p19 + k00*p23
-		acc[6] += k02*p16 + k01*p20 + k00*p24
-		acc[7] += k02*p17 + k01*p21 + k00*p25
-		acc[10] += k12*p16 + k11*p20 + k10*p24
-		acc[11] += k12*p17 + k11*p21 + k10*p25
-		acc[15] += k22*p17 + k21*p21 + k20*p25
-	}
+	b[0] = (1.0 / 24) * detJ
+	b[1] = (1.0 / 24) * detJ
+	b[2] = (1.0 / 24) * detJ
+	b[3] = (1.0 / 24) * detJ
 	// The form is symmetric: mirror the upper triangle.
-	acc[4] = acc[1]
-	acc[8] = acc[2]
-	acc[12] = acc[3]
-	acc[9] = acc[6]
-	acc[13] = acc[7]
-	acc[14] = acc[11]
-	copy(A, acc[:])
-	copy(b, rhs[:])
+	A[4] = A[1]
+	A[8] = A[2]
+	A[12] = A[3]
+	A[9] = A[6]
+	A[13] = A[7]
+	A[14] = A[11]
 }
 
 // fwKilnBlockFillNaN fills A and b with NaN: the cell has a non-positive
@@ -196,14 +221,3 @@ func fwKilnBlockFillNaN(A, b []float64) {
 		b[i] = math.NaN()
 	}
 }
-
-// Tabulated reference data: basis values, gradients and second derivatives at
-// the quadrature points, and quadrature weights.
-var (
-	fwKilnBlockGalerkinCellGeomVal = [4][4]float64{
-		{0.13819660112501042, 0.1381966011250105, 0.1381966011250105, 0.5854101966249685},
-		{0.13819660112501045, 0.1381966011250105, 0.5854101966249685, 0.1381966011250105},
-		{0.13819660112501045, 0.5854101966249685, 0.1381966011250105, 0.1381966011250105},
-		{0.5854101966249684, 0.1381966011250105, 0.1381966011250105, 0.1381966011250105},
-	}
-)
