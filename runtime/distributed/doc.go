@@ -37,8 +37,8 @@
 // runtime/assemble.Constrain does), and solves with PETSc's Krylov methods
 // and preconditioners: by default the direct solver (MUMPS) below the
 // bounds of runtime/linsolve's automatic choice (linsolve.DirectBelow2D,
-// DirectBelow3D in 3D), above them CG or GMRES with algebraic multigrid
-// (Solver). The tolerance is on the unpreconditioned relative
+// DirectBelow3D in 3D) and for saddle-point systems of any size, above
+// them CG or GMRES with algebraic multigrid (Solver). The tolerance is on the unpreconditioned relative
 // residual ‖b − Ax‖/‖b‖, as in runtime/linsolve, and the explicit residual
 // is recomputed after the solve and checked; a result above the
 // tolerance is an error, never a solution. Mean conditions pin one dof

@@ -24,10 +24,13 @@ import (
 //	       direct limit, Picard limit, mean conditions M
 //	double relative tolerance, time, time step, symmetry tolerance,
 //	       Picard tolerance, Picard relaxation
+//	int64  fields K; K × int64 1 for a constraint field, else 0
 //	S ×    int64 length, bytes: the name of each side with a boundary
 //	       integral, in the kernels' side order
 //	int64  lo, hi (the rank owns the dofs lo … hi−1 of the new
 //	       numbering), vertices V, cells C, facets F, fixed dofs X
+//	K ×    int64 the rank's dofs of each field (consecutive from lo,
+//	       field by field)
 //	double coordinates [V·dim]   the rank's vertices
 //	int32  cells [C·vertices]    local vertex numbers
 //	int32  dofs [C·N]            each cell's dofs (new numbering), in
@@ -66,6 +69,7 @@ const (
 	codePrecondILU0
 	codePrecondGAMG
 	codePrecondHypre
+	codePrecondBlock
 )
 
 // header is the common head of every part file.
@@ -75,11 +79,13 @@ type header struct {
 	maxPicard                                  int64
 	rtol, time, step, symTol, picardTol, relax float64
 	sides                                      []string
+	constraint                                 []bool // per field
 }
 
 // part is what one rank reads.
 type part struct {
 	lo, hi  int64
+	owned   []int64 // per field
 	coords  []float64
 	cells   []int32
 	dofs    []int32
@@ -150,12 +156,23 @@ func writePart(path string, h *header, p *part) error {
 	for _, v := range []float64{h.rtol, h.time, h.step, h.symTol, h.picardTol, h.relax} {
 		b.f64(v)
 	}
+	b.i64(int64(len(h.constraint)))
+	for _, c := range h.constraint {
+		if c {
+			b.i64(1)
+		} else {
+			b.i64(0)
+		}
+	}
 	for _, s := range h.sides {
 		b.i64(int64(len(s)))
 		b.bytes([]byte(s))
 	}
 	nv := int64(len(p.coords)) / h.dim
 	for _, v := range []int64{p.lo, p.hi, nv, int64(len(p.cells)) / h.verts, int64(len(p.facets)) / 3, int64(len(p.fixed))} {
+		b.i64(v)
+	}
+	for _, v := range p.owned {
 		b.i64(v)
 	}
 	b.f64s(p.coords)

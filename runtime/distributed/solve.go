@@ -256,6 +256,12 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 		maxPicard: int64(opts.MaxPicard), rtol: s.RelTol, time: opts.Time, symTol: symmetryTol,
 		picardTol: opts.PicardTol, relax: opts.PicardRelax, sides: form.Sides(),
 	}
+	for _, u := range form.Unknowns {
+		h.constraint = append(h.constraint, u.Constraint)
+	}
+	if len(h.constraint) > 16 {
+		return nil, fmt.Errorf("distributed: %d unknowns (the driver takes at most 16)", len(h.constraint))
+	}
 	if m.Dim == 3 {
 		h.direct = linsolve.DirectBelow3D
 	}
@@ -353,6 +359,17 @@ func buildPart(r int, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map
 		}
 	}
 	pt.dnnz, pt.onnz = p.Diag[lo:hi], p.Off[lo:hi]
+	// The rank's dofs are in runtime/dof order, field by field.
+	pt.owned = make([]int64, len(dm.Fields))
+	for j := lo; j < hi; j++ {
+		i := int(p.Old[j])
+		for k := len(dm.Fields) - 1; k >= 0; k-- {
+			if i >= dm.Fields[k].Offset {
+				pt.owned[k]++
+				break
+			}
+		}
+	}
 	pt.initial = make([]float64, hi-lo)
 	for j := lo; j < hi; j++ {
 		i := p.Old[j]
