@@ -47,6 +47,22 @@
 // driver around the parallel linear solve, the previous iterate gathered
 // to every rank's cells by a scatter.
 //
+// # Nonlinear forms
+//
+// Picard iteration runs in the driver: each step gathers the previous
+// iterate to the dofs of every rank's cells (a scatter built once),
+// reassembles into the same matrix (its pattern is kept through the
+// value conditions), re-sets-up the preconditioner and solves; the change
+// ‖x_k − x_{k−1}‖/‖x_k‖, the under-relaxation and the mean shifts are as
+// in runtime/problem. A Newton iteration with a residual form (linear
+// terms only) and a Jacobian form (its bilinear terms), both reading the
+// iterate through the kernels' previous input, would use the same loop:
+// names.h would map a second pair of kernels, each step would assemble
+// J(u_k) from the Jacobian's matrix and F(u_k) from the residual's
+// vector, impose homogeneous value conditions on the update, solve
+// J δ = −F and set u_{k+1} = u_k + δ until ‖F‖ is small. That is not
+// done yet.
+//
 // # Set-up
 //
 // The engine needs mpicc, mpiexec and PETSc (with pkg-config's PETSc.pc);
