@@ -426,7 +426,7 @@ func (c *checker) coef(name string) *Coef {
 		return nil
 	}
 	if ir.HasRole(def, ir.Trial) {
-		c.errorf(d.stmt.Value.Pos(), d.stmt.Value.End(), "write the dependence in the equation, or use previous(u) for a lagged value", "coefficient %q depends on an unknown", name)
+		c.errorf(d.stmt.Value.Pos(), d.stmt.Value.End(), "write the dependence in the equation, or define a formula (formula k(s) = 1 + s^2, then k(u) in the equation), or use previous(u) for a lagged value", "coefficient %q depends on an unknown", name)
 		return nil
 	}
 	sym := &ir.Sym{At: ir.At{P: d.stmt.Name.Pos}, Name: name, Kind: ir.Coefficient, R: def.Rank(), Deps: depsOf(def)}
@@ -470,18 +470,13 @@ func (c *checker) checkEquations(f *lang.File) {
 		whole := ir.Sub(p, lhs, rhs)
 		var op, src []ir.Expr
 		ok = true
+		// Terms with an unknown form the operator, which may be nonlinear
+		// in it (compiler.Linearise derives its linearisation); the rest is
+		// the source.
 		for _, t := range additiveTerms(whole) {
-			deg, bad := trialDegree(t)
-			switch {
-			case bad != nil:
-				c.errorf(bad.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears inside a nonlinear function")
-				ok = false
-			case deg > 1:
-				c.errorf(t.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears %d times in one product", deg)
-				ok = false
-			case deg == 1:
+			if ir.HasRole(t, ir.Trial) {
 				op = append(op, t)
-			default:
+			} else {
 				src = append(src, ir.Neg(t.Pos(), t))
 			}
 		}
@@ -659,10 +654,6 @@ func (c *checker) checkStabilisation(f *lang.File) {
 			}
 			if v.Rank() != 0 {
 				c.errorf(s.Value.Pos(), s.Value.End(), "τ is a scalar for each equation (block-diagonal)", "tau must be a scalar, not a %s", rankName(v.Rank()))
-				continue
-			}
-			if ir.HasField(v) && ir.HasRole(v, ir.Trial) {
-				c.errorf(s.Value.Pos(), s.Value.End(), "use previous(u) for a velocity in τ", "tau cannot depend on the unknown")
 				continue
 			}
 			m.Tau[u.Index] = v

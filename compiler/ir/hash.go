@@ -14,6 +14,9 @@ import (
 func FormHash(lf *LoweredForm) string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "formwright-form/1 %s dim=%d\n", lf.Method, lf.Dim)
+	if lf.Newton {
+		b.WriteString("newton step\n")
+	}
 	for _, u := range lf.Unknowns {
 		fmt.Fprintf(&b, "unknown %s %d %s\n", u.Name, u.Rank, u.Element)
 	}

@@ -58,6 +58,11 @@ type LoweredForm struct {
 	// MaxDerivative is the highest spatial derivative order on trial or
 	// test functions (2 for GLS/VMS with second-order operators).
 	MaxDerivative int
+	// Newton says the form is the Newton step of a nonlinear problem
+	// (NonlinearForm.Step): its trial functions are the increment δu of
+	// the iterate u_k, which the coefficients read as the previous field;
+	// the value conditions hold for u, and δu vanishes where they apply.
+	Newton bool
 }
 
 // LoweredUnknown describes one unknown field.

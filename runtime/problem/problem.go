@@ -71,6 +71,10 @@ type Options struct {
 	// instead of iterating: the previous time level of a time step (see
 	// SolveTransient).
 	PreviousFixed bool
+	// Newton controls Newton's method for a Newton step form
+	// (ir.LoweredForm.Newton), which starts from Initial (nil: zero with
+	// the Dirichlet values).
+	Newton NewtonOptions
 }
 
 // DirectLimit: below this many unknowns the automatic choice is the direct
@@ -110,6 +114,11 @@ type Summary struct {
 	Iterations int    // of the last linear solve
 	Residual   float64
 	Picard     int // nonlinear iterations (1 for a linear problem)
+	// Nonlinear names the nonlinear iteration: "newton", "picard", or ""
+	// for a linear problem.
+	Nonlinear string
+	// History is the iteration history of Newton's method.
+	History []NewtonStep
 	// Prepared counts the factorisations (or preconditioner set-ups) of
 	// the linear solver so far; a transient solve with a constant matrix
 	// has 1 for all its steps.
@@ -343,6 +352,9 @@ func sameOptions(a, b linsolve.Options) bool {
 // solve assembles and solves at opts.Time, iterating Picard when the form
 // reads its previous iterate (unless opts.PreviousFixed).
 func (s *system) solve(opts Options) (*Solution, error) {
+	if s.form.Newton {
+		return s.newton(opts)
+	}
 	form, m, dm := s.form, s.m, s.dm
 	sum := s.setup
 	sum.Phases = slices.Clone(s.setup.Phases)
@@ -401,13 +413,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 		t1 := time.Now()
 		tAsm += t1.Sub(t0)
 		so := chooseSolver(opts, sum.Symmetric, dm.NumDofs)
-		sum.Solver = so.Method.String()
-		if so.Method != linsolve.MethodDirect {
-			sum.Solver += "+" + so.Precond.String()
-			if so.Precond == linsolve.PrecondILU0 && so.ILUShift != 0 {
-				sum.Solver += fmt.Sprintf(" (shift %g)", so.ILUShift)
-			}
-		}
+		sum.Solver = solverName(so)
 		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
 		if err != nil {
@@ -442,10 +448,31 @@ func (s *system) solve(opts Options) (*Solution, error) {
 			return nil, &PicardError{Iter: it, Change: change, Tol: tol}
 		}
 	}
+	if s.needPrev && !opts.PreviousFixed {
+		sum.Nonlinear = "picard"
+	}
 	sum.Prepared = s.prepares
-	clock = time.Now()
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
+	return s.solution(x, sum), nil
+}
 
+// solverName describes the linear solver for the summary.
+func solverName(so linsolve.Options) string {
+	name := so.Method.String()
+	if so.Method != linsolve.MethodDirect {
+		name += "+" + so.Precond.String()
+		if so.Precond == linsolve.PrecondILU0 && so.ILUShift != 0 {
+			name += fmt.Sprintf(" (shift %g)", so.ILUShift)
+		}
+	}
+	return name
+}
+
+// solution packs the dof vector x into a Solution with the field values
+// and their ranges.
+func (s *system) solution(x []float64, sum Summary) *Solution {
+	form, m, dm, A, b := s.form, s.m, s.dm, s.A, s.b
+	clock := time.Now()
 	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Matrix: A, RHS: b}
 	for k, f := range dm.Fields {
 		fv := FieldValues{Name: f.Name, Components: f.Components}
@@ -463,7 +490,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	}
 	sum.Phases = append(sum.Phases, Phase{"output", time.Since(clock)})
 	sol.Summary = sum
-	return sol, nil
+	return sol
 }
 
 // assemble assembles the form into s.A and s.b, with the old time level
