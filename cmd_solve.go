@@ -134,6 +134,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("solve", "MODEL [flags]", "Derive and lower MODEL with one method, assemble it on a mesh and solve it.\nThe summary says which kernels, solver and mesh were used.")
 	method := fs.String("method", "", "galerkin, supg, gls, vms, or all (default: the model's first stabilised method, else galerkin)")
 	sf := addSolveFlags(fs)
+	nl := addNonlinearFlags(fs, true) // nonlinear models (cmd_nonlinear.go)
 	dt := fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)")
 	steps := fs.Int("steps", 0, "number of time steps of a transient model")
 	until := fs.Float64("until", 0, "end time of a transient model (instead of --steps)")
@@ -152,6 +153,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	// Nonlinear models: the iteration's options (cmd_nonlinear.go).
+	if err := nl.check(fs); err != nil {
+		return err
+	}
+	nl.apply(&opts, stderr, *sf.quiet)
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
 			return usagef("--out: unknown file type %q (use .vtu or .csv)", ext)
@@ -195,7 +201,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	}
 	var sols []*problem.Solution
 	for k, meth := range methods {
-		lf, err := lowerModel(m, meth)
+		lf, err := nl.lower(m, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}
@@ -207,10 +213,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if lf.IsTransient() {
 			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time, *sf.quiet}, opts, stderr)
 		} else {
-			sol, err = problem.Solve(lf, msh, opts)
+			// Picard start and continuation for nonlinear models (cmd_nonlinear.go).
+			sol, err = nl.solve(m, meth, lf, msh, opts, stderr, *sf.quiet)
 		}
 		if err != nil {
-			return solveError(err)
+			return nonlinearFailure(err) // cmd_nonlinear.go
 		}
 		wall := time.Since(start)
 		if err := checkFinite(sol); err != nil {
@@ -393,8 +400,8 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	} else {
 		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e\n", s.Solver, setups, s.Iterations, s.Residual)
 	}
-	if s.Picard > 1 {
-		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
+	if s.Nonlinear != "" { // newton or picard
+		fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
 	}
 	for _, mc := range m.Means {
 		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)
@@ -440,7 +447,11 @@ type jsonSolve struct {
 	Iterations int     `json:"iterations"`
 	Residual   float64 `json:"residual"`
 	Picard     int     `json:"picard_iterations"`
-	Setups     int     `json:"solver_setups"` // factorisations or preconditioner builds
+	// Nonlinear is the iteration of a nonlinear solve, newton or picard,
+	// and Newton its history (cmd_nonlinear.go).
+	Nonlinear string               `json:"nonlinear,omitempty"`
+	Newton    []problem.NewtonStep `json:"newton,omitempty"`
+	Setups    int                  `json:"solver_setups"` // factorisations or preconditioner builds
 	// MeanResidual: models with mean conditions; see problem.Summary.
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
@@ -462,7 +473,7 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
-		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}}
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, Nonlinear: s.Nonlinear, Newton: s.History}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))

@@ -41,6 +41,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	quiet := fs.Bool("quiet", false, "no progress on standard error")
 	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
 	until := fs.Float64("until", 0, "transient models: compare with the exact solution at this time")
+	nl := addNonlinearFlags(fs, false) // nonlinear models (cmd_nonlinear.go)
 	steps0 := fs.Int("steps", 4, "transient models: backward Euler steps on the coarsest mesh; each refinement multiplies them by 2^(k+1), so that Δt ∝ h^(k+1)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
@@ -51,6 +52,9 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	}
 	if *levels < 2 || *levels > 8 {
 		return usagef("--levels must be between 2 and 8")
+	}
+	if err := nl.check(fs); err != nil { // cmd_nonlinear.go
+		return err
 	}
 	if *plotPath != "" {
 		if err := output.CheckNotInput(*plotPath, pos[0]); err != nil {
@@ -94,6 +98,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	}
 	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol,
 		Mesh: func(l int) (study.Level, error) { return studyMesh(m.Dim, *pattern, n0<<l) }}
+	nl.apply(&cfg.Solve, stderr, true) // nonlinear iteration limits and tolerances (cmd_nonlinear.go)
 	if !*quiet {
 		cfg.Progress = func(meth string, level, cells int) {
 			fmt.Fprintf(stderr, "  %s: level %d, %d cells\n", meth, level, cells)
@@ -107,7 +112,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		kmax = max(kmax, u.Element.Degree)
 	}
 	for _, meth := range methods {
-		lf, err := lowerModel(mf.Model, meth)
+		lf, err := nl.lower(mf.Model, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}

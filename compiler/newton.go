@@ -2,10 +2,8 @@ package compiler
 
 import (
 	"fmt"
-	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/lang/source"
 )
 
 // Nonlinear reports whether the model's discrete problem is nonlinear in
@@ -218,14 +216,24 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 			j.Boundary = append(j.Boundary, BoundaryPart{Side: b.Side, Integrand: in})
 		}
 	}
-	frozenTest := false
+	frozenTest, frozenStep := false, false
 	for _, s := range f.Stab {
 		sj := StabJacobian{For: s.For, Sign: s.Sign, Tau: s.Tau, Residual: s.Residual, TestOp: s.TestOp,
 			ResidualVar: Simplify(gateaux(s.Residual, plain), m.Dim), TauVar: tauVar[s.Tau.Name]}
+		// In a transient model R holds ∂ₜu, which one backward Euler step
+		// turns into (u − uⁿ)/Δt: the terms where R multiplies δτ or δ(P v)
+		// would need uⁿ inside the Jacobian's coefficients.
+		stepped := ir.Contains(s.Residual, func(e ir.Expr) bool { _, ok := e.(*ir.TimeDeriv); return ok })
+		if stepped && sj.TauVar != nil {
+			sj.TauVar, frozenStep = nil, true
+		}
 		if tv := Simplify(gateaux(s.TestOp, plain), m.Dim); !ir.IsZero(tv) {
-			if opts.FreezeTest {
+			switch {
+			case opts.FreezeTest:
 				frozenTest = true
-			} else {
+			case stepped:
+				frozenStep = true
+			default:
 				sj.TestVar = tv
 			}
 		}
@@ -236,8 +244,35 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 			j.Fine = fv
 		}
 	}
+	// Keep the definitions the terms use, directly or through another one.
+	used := map[string]bool{}
+	var mark func(e ir.Expr)
+	mark = func(e ir.Expr) {
+		if e == nil {
+			return
+		}
+		ir.Inspect(e, func(x ir.Expr) bool {
+			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.Gateaux && !used[s.Name] {
+				used[s.Name] = true
+				mark(defs[s.Name].Def)
+			}
+			return true
+		})
+	}
+	mark(j.Galerkin)
+	mark(j.Fine)
+	for _, b := range j.Boundary {
+		mark(b.Integrand)
+	}
+	for _, s := range j.Stab {
+		if s.TauVar != nil {
+			mark(s.TauVar)
+		}
+	}
 	for _, name := range order {
-		j.Defs = append(j.Defs, defs[name])
+		if used[name] {
+			j.Defs = append(j.Defs, defs[name])
+		}
 	}
 	// What the Jacobian leaves out, and why that is acceptable.
 	if frozenTau {
@@ -245,6 +280,9 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 	}
 	if frozenTest {
 		j.Approximations = append(j.Approximations, "the test operator P of the stabilisation terms is frozen at the iterate: the terms ±Σ_K (τ R, δ(P v))_K are left out of J (they vanish with the residual, so the solution is the same, but Newton converges linearly)")
+	}
+	if frozenStep {
+		j.Approximations = append(j.Approximations, "the model is transient: R holds ∂ₜu, which a backward Euler step replaces by (u − uⁿ)/Δt, and the kernels of one step read the iterate but not the old level uⁿ; so the terms ±Σ_K (δτ R, P v)_K and ±Σ_K (τ R, δ(P v))_K are left out of J (τ and the test operator frozen at the iterate; they vanish with the residual, so the solution is the same, but Newton converges linearly)")
 	}
 	for _, eq := range m.Equations {
 		if ir.HasRole(eq.Written, ir.Previous) {
@@ -364,12 +402,6 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 	}
 	res.MaxDerivative, jac.MaxDerivative = maxDeriv(res.Integrals), maxDeriv(jac.Integrals)
 	nf.Residual, nf.Jacobian = &res, &jac
-	if err := nf.Residual.Validate(); err != nil {
-		return nil, err
-	}
-	if err := nf.Jacobian.Validate(); err != nil {
-		return nil, err
-	}
 	return nf, nil
 }
 
@@ -382,8 +414,3 @@ func (d *Derivation) form(meth Method) *MethodForm {
 	}
 	return nil
 }
-
-// approximationList joins approximations for an error message.
-func approximationList(a []string) string { return strings.Join(a, "; ") }
-
-var _ = source.Pos{}

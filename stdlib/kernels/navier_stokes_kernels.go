@@ -31,7 +31,7 @@ func init() {
 		Degree:  2,
 		NewCell: func() kernel.Kernel { return NavierStokesGLSKernel{} },
 	})
-	compiled.Register("fc225ee0e9b00cf0e83592e942ad041f", compiled.Kernels{
+	compiled.Register("2e64354626f39bb2bd1d1cd3984a4e92", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
 		Degree:  2,
@@ -1285,22 +1285,22 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p139 := c24 * p132
 		p140 := -p139
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		//   - (vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[2]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[1]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
@@ -1316,9 +1316,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
 		// At each quadrature point: rows 0..2, columns 6..8:
 		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
 		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
 		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
@@ -1341,22 +1341,22 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[22] += k10 * p89
 		acc[23] += k10 * p90
 		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (vel′[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (vel′[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		//   - (vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
 		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_p + τ_vel previous(vel)[2]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel previous(vel)[1]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
@@ -1372,9 +1372,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
 		// At each quadrature point: rows 3..5, columns 6..8:
 		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
 		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
 		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
 		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115
