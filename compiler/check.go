@@ -29,7 +29,7 @@ type CheckOptions struct {
 
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
-	"norm", "pow", "test", "previous", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
+	"norm", "pow", "test", "previous", "increment", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
 	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate", "time_step"}
 
 // defaultSides are the side names of the built-in meshes, by dimension.
@@ -880,7 +880,7 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 		return c.expandFormula(e, fm)
 	}
 	switch e.Func {
-	case "test", "previous":
+	case "test", "previous", "increment":
 		if !nargs(1) {
 			return nil
 		}
@@ -894,12 +894,20 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 			return nil
 		}
 		role := ir.Previous
-		if e.Func == "test" {
+		switch e.Func {
+		case "test":
 			if !c.allowTest {
 				c.errorf(e.FuncPos, e.End(), "test functions appear in derived forms, not in a model's statements", "test(...) is not allowed here")
 				return nil
 			}
 			role = ir.Test
+		case "increment":
+			// The Newton increment δu of a derived Jacobian.
+			if !c.allowTest {
+				c.errorf(e.FuncPos, e.End(), "the increment δu appears in derived Jacobians, not in a model's statements", "increment(...) is not allowed here")
+				return nil
+			}
+			role = ir.Increment
 		}
 		return &ir.Field{At: at, Name: u.Name, Index: u.Index, Role: role, R: u.Rank}
 	case "partial":

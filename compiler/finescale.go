@@ -122,7 +122,7 @@ func fineScaleExpansion(m *Model) (*fineExpansion, error) {
 				eqCross = true
 			}
 			deg, poly := degreeIn(t, moved)
-			if deg < 2 {
+			if poly && deg < 2 {
 				continue
 			}
 			if !poly || deg > maxExpansionOrder {
@@ -200,7 +200,7 @@ func fineScaleExpansion(m *Model) (*fineExpansion, error) {
 		}
 		x.notes = append(x.notes, Note{Assumption, "VMS by substitution: " + what + " are put into the operator, which is expanded in the fine scales (Hughes 1995; Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197). The first-order term in u′ is −Σ_K (τR, L′*v)_K above; the terms added to the form are the rest: first-order terms in the lagged fine scale (the cross stress) and terms of order two and up (the Reynolds stress)"})
 		if polynomial && !firstOrder {
-			x.notes = append(x.notes, Note{Assumption, fmt.Sprintf("the operator is a polynomial of degree %d in the unknowns, so the expansion ends at order %d and is exact", highest, highest)})
+			x.notes = append(x.notes, Note{Assumption, fmt.Sprintf("the operator is a polynomial of degree %d in the unknowns (and their previous iterates), so the expansion ends at order %d and is exact", highest, highest)})
 		}
 		x.notes = append(x.notes, Note{Assumption, "the fine scales vanish on cell boundaries and are known at points only (u′ = −τR), so every derivative acting on a fine scale is moved onto the other factors by parts, cell by cell"})
 		if firstOrder {

@@ -37,7 +37,7 @@ func Linearise(m *Model) (*Linearisation, error) {
 	lm := *m
 	lm.Equations = nil
 	for _, eq := range m.Equations {
-		op := Simplify(gateaux(eq.Written, dir), m.Dim)
+		op := expanded(gateaux(eq.Written, dir), m.Dim)
 		lin.Operator = append(lin.Operator, op)
 		e := *eq
 		e.Written = swapRoles(op, ir.Trial, ir.Increment)
@@ -49,7 +49,7 @@ func Linearise(m *Model) (*Linearisation, error) {
 		return nil, err
 	}
 	for _, a := range adj {
-		lin.Adjoint = append(lin.Adjoint, swapRoles(a, ir.Trial, ir.Increment))
+		lin.Adjoint = append(lin.Adjoint, expanded(swapRoles(a, ir.Trial, ir.Increment), m.Dim))
 	}
 	for k, s := range SplitOperator(&lm) {
 		for p, part := range s.Parts {
@@ -61,6 +61,18 @@ func Linearise(m *Model) (*Linearisation, error) {
 		lin.Advection = append(lin.Advection, advectionOf(m, m.Equations[k], s.Parts[Advective]))
 	}
 	return lin, nil
+}
+
+// expanded simplifies e after distributing its products over the sums
+// that hold fields (additiveTerms), so that like terms from different
+// product-rule expansions cancel: −(2u Δu + 2∇u·∇u) v + 2 (∇u·∇u) v + …
+// becomes −2u Δu v + ….
+func expanded(e ir.Expr, dim int) ir.Expr {
+	s := Simplify(e, dim)
+	if ir.IsZero(s) {
+		return s
+	}
+	return Simplify(ir.Sum(s.Pos(), additiveTerms(s)...), dim)
 }
 
 // advectionOf reads the advective velocity a off the first-order part of
@@ -135,7 +147,58 @@ func advectionOf(m *Model, eq *Equation, adv ir.Expr) ir.Expr {
 			}
 		}
 	}
-	return collapseComponents(&ir.Vec{At: ir.At{P: p}, Elems: comps})
+	return collapseGradient(collapseComponents(&ir.Vec{At: ir.At{P: p}, Elems: comps}), m.Dim)
+}
+
+// collapseGradient writes [c ∂₁X, …, c ∂_d X] as c ∇X, for a scalar X
+// and a product c; other expressions come back unchanged.
+func collapseGradient(e ir.Expr, dim int) ir.Expr {
+	v, ok := e.(*ir.Vec)
+	if !ok || len(v.Elems) != dim {
+		return e
+	}
+	hole := &ir.Sym{Name: "gradient component", Kind: ir.Param}
+	var x, rest ir.Expr
+	for j, c := range v.Elems {
+		var got ir.Expr
+		r := mapFirst(c, func(n ir.Expr) (ir.Expr, bool) {
+			if pd, ok := n.(*ir.Partial); ok && pd.Axis == j && pd.X.Rank() == 0 {
+				got = pd.X
+				return hole, true
+			}
+			return nil, false
+		})
+		if got == nil || (x != nil && !ir.Equal(got, x)) || (rest != nil && !ir.Equal(r, rest)) {
+			return e
+		}
+		x, rest = got, r
+	}
+	// The hole must be a factor of a product (or the whole).
+	at := ir.At{P: v.Pos()}
+	grad := &ir.Grad{At: at, X: x}
+	if rest == hole {
+		return grad
+	}
+	m, ok := rest.(*ir.Mul)
+	if !ok {
+		return e
+	}
+	var f []ir.Expr
+	found := false
+	for _, y := range m.Factors {
+		if y == hole {
+			found = true
+			continue
+		}
+		if ir.Contains(y, func(n ir.Expr) bool { return n == hole }) {
+			return e
+		}
+		f = append(f, y)
+	}
+	if !found {
+		return e
+	}
+	return Simplify(&ir.Mul{At: m.At, Factors: append(f, grad)}, dim)
 }
 
 // collapseComponents writes [X[1], ..., X[d]] as X.
