@@ -31,10 +31,10 @@ func init() {
 		Degree:  3,
 		NewCell: func() kernel.Kernel { return NonlinearDiffusionGLSKernel{} },
 	})
-	compiled.Register("aef0d6c903aa48bb39080f93295756d6", compiled.Kernels{
+	compiled.Register("335a8c057fe5009c2da3da83f7ccfe2b", compiled.Kernels{
 		Method:  "vms",
 		Cell:    cell.Triangle,
-		Degree:  3,
+		Degree:  2,
 		NewCell: func() kernel.Kernel { return NonlinearDiffusionVMSKernel{} },
 	})
 }
@@ -620,7 +620,7 @@ var fwNonlinearDiffusionVMSLayout = kernel.Layout{
 }
 
 // NonlinearDiffusionVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
+// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
 // does not allocate.
 type NonlinearDiffusionVMSKernel struct{}
 
@@ -630,7 +630,7 @@ var _ kernel.Kernel = NonlinearDiffusionVMSKernel{}
 func (NonlinearDiffusionVMSKernel) Layout() kernel.Layout { return fwNonlinearDiffusionVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NonlinearDiffusionVMSKernel) Degree() int { return 3 }
+func (NonlinearDiffusionVMSKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -645,144 +645,83 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		pv = in.Previous[:3:3]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := x[0] - x[2]
-	c2 := c1 * c1
-	c3 := x[1] - x[3]
-	c4 := c3 * c3
-	c5 := c2 + c4
-	c6 := x[0] - x[4]
-	c7 := c6 * c6
-	c8 := x[1] - x[5]
-	c9 := c8 * c8
-	c10 := c7 + c9
-	c11 := max(c5, c10)
-	c12 := x[2] - x[4]
-	c13 := c12 * c12
-	c14 := x[3] - x[5]
-	c15 := c14 * c14
-	c16 := c13 + c15
-	c17 := max(c11, c16)
-	j11 := x[5] - x[1]
-	j00 := x[2] - x[0]
-	c18 := j11 * j00
 	j01 := x[4] - x[0]
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c1 := j00 * j11
 	j10 := x[3] - x[1]
-	c19 := j01 * j10
-	detJ := c18 - c19
+	c2 := j01 * j10
+	detJ := c1 - c2
 	rdetJ := 1.0 / detJ
-	k00 := j11 * rdetJ
-	c20 := j10 * rdetJ
-	k10 := -c20
-	c21 := c20 - k00
-	c22 := pv[0] * c21
-	c23 := pv[1] * k00
-	c24 := pv[2] * c20
-	c25 := c22 + c23 - c24
-	c26 := c25 * c25
-	c27 := j01 * rdetJ
-	k01 := -c27
+	c3 := j01 * rdetJ
+	k01 := -c3
 	k11 := j00 * rdetJ
-	c28 := c27 - k11
-	c29 := pv[0] * c28
-	c30 := pv[1] * c27
-	c31 := pv[2] * k11
-	c32 := c29 - c30 + c31
-	c33 := c32 * c32
-	c34 := c26 + c33
-	c35 := c34 * c34
-	c36 := c26 * 2.0
-	c37 := c33 * 2.0
-	c38 := c36 + c37
+	c4 := c3 - k11
+	c5 := pv[0] * c4
+	c6 := pv[1] * c3
+	c7 := pv[2] * k11
+	c8 := c5 - c6 + c7
+	k00 := j11 * rdetJ
+	c9 := j10 * rdetJ
+	k10 := -c9
+	c10 := c9 - k00
+	c11 := pv[0] * c10
+	c12 := pv[1] * k00
+	c13 := pv[2] * c9
+	c14 := c11 + c12 - c13
+	c15 := detJ * 10.0
+	w := detJ * 0.16666666666666666
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	for q := 0; q < 4; q++ {
+	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
+	//   - 10 · test(u)   [nonlinear_diffusion.fw:13]
+	rhs[0] += 0.16666666666666669 * c15
+	rhs[1] += 0.16666666666666669 * c15
+	rhs[2] += 0.16666666666666666 * c15
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNonlinearDiffusionVMSCellBasis1Val[q][1]
 		p3 := pv[2] * fwNonlinearDiffusionVMSCellBasis1Val[q][2]
 		p4 := p1 + p2 + p3
+		coef0 := 2.0 * p4 * c8
 		p5 := p4 * p4
-		coef6 := 1.0 + p5
-		p6 := 1.0 / coef6
-		p7 := 0.25 * c17 * p6
-		p8 := 4.0 * p7 * c35
-		p9 := p7 * c34 * (-2.0) * c38
-		p10 := p6 * p6
-		p11 := p4 * c34 * (-2.0)
-		p12 := p11 - 10.0
-		p13 := c17 * p4 * c34 * p10 * p12
-		p14 := c17 * p4 * c38 * p10 * p12 * (-0.5)
-		coef0 := p8 + p9 + p13 + p14
-		p15 := p4 * p7 * c32 * c34 * 8.0
-		p16 := p4 * p7 * c32 * c38 * (-4.0)
-		coef1 := p15 + p16
-		p17 := p4 * p7 * c25 * c34 * 8.0
-		p18 := p4 * p7 * c25 * c38 * (-4.0)
-		coef3 := p17 + p18
-		coef5 := p4 * c32 * 2.0
-		coef12 := p4 * c25 * 2.0
-		p19 := p7 * c34 * 2.0 * p12
-		p20 := p7 * c38 * p12
-		coef19 := p19 - p20 + 10.0
-		p21 := p5 * c32
-		p22 := -p21
-		coef20 := p22 - c32
-		p23 := p5 * c25
-		p24 := -p23
-		coef22 := p24 - c25
-		w := detJ * fwNonlinearDiffusionVMSCellWeights[q]
-		p25 := coef0 * w
-		p26 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p25
-		p27 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p25
-		p28 := fwNonlinearDiffusionVMSCellBasis1Val[q][2] * p25
-		p29 := coef1 * w
-		p30 := c28 * p29
-		p31 := p26 + p30
-		p32 := c27 * p29
-		p33 := p27 - p32
-		p34 := k11 * p29
-		p35 := p28 + p34
-		p36 := coef3 * w
-		p37 := c21 * p36
-		p38 := p31 + p37
-		p39 := k00 * p36
-		p40 := p33 + p39
-		p41 := c20 * p36
-		p42 := p35 - p41
-		p43 := coef5 * w
-		p44 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p43
-		p45 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p43
-		p46 := fwNonlinearDiffusionVMSCellBasis1Val[q][2] * p43
-		p47 := coef6 * w
-		p48 := c28 * p47
-		p49 := p44 + p48
-		p50 := c27 * p47
-		p51 := p45 - p50
-		p52 := k11 * p47
-		p53 := p46 + p52
-		p54 := coef12 * w
-		p55 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p54
-		p56 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p54
-		p57 := fwNonlinearDiffusionVMSCellBasis1Val[q][2] * p54
-		p58 := c21 * p47
-		p59 := p55 + p58
-		p60 := k00 * p47
-		p61 := p56 + p60
-		p62 := c20 * p47
-		p63 := p57 - p62
-		p64 := coef19 * w
-		p65 := coef20 * w
-		p66 := coef22 * w
+		coef1 := 1.0 + p5
+		coef7 := 2.0 * p4 * c14
+		p6 := c8 * p5
+		p7 := -p6
+		coef15 := p7 - c8
+		p8 := p5 * c14
+		p9 := -p8
+		coef17 := p9 - c14
+		p10 := coef0 * w
+		p11 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p10
+		p12 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p10
+		p13 := fwNonlinearDiffusionVMSCellBasis1Val[q][2] * p10
+		p14 := coef1 * w
+		p15 := c4 * p14
+		p16 := p11 + p15
+		p17 := c3 * p14
+		p18 := p12 - p17
+		p19 := k11 * p14
+		p20 := p13 + p19
+		p21 := coef7 * w
+		p22 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p21
+		p23 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p21
+		p24 := fwNonlinearDiffusionVMSCellBasis1Val[q][2] * p21
+		p25 := c10 * p14
+		p26 := p22 + p25
+		p27 := k00 * p14
+		p28 := p23 + p27
+		p29 := c9 * p14
+		p30 := p24 - p29
+		p31 := coef15 * w
+		p32 := coef17 * w
 		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (4 τ_u (partial(previous(u), x)² + partial(previous(u), y)²)² + 4 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y))² previous(u)² − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) previous(u) + h² (partial(previous(u), x)² + partial(previous(u), y)²) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(previous(u)² + 1)² + h² (partial(previous(u), x, x) + partial(previous(u), y, y)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)²/(previous(u)² + 1)² − h² (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), y) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), y) − 4 τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) previous(u) partial(previous(u), y)) · partial(u, y) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) − τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) previous(u)²) · partial(u, y, y) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), x) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), x) − 4 τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) previous(u) partial(previous(u), x)) · partial(u, x) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) − τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) previous(u)²) · partial(u, x, x) · test(u)   [nonlinear_diffusion.fw:13]
 		//   - (2 previous(u) partial(previous(u), y)) · u · partial(test(u), y)   [nonlinear_diffusion.fw:13]
 		//   - (previous(u)² + 1) · partial(u, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
 		//   - (−u′² − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u u′² (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) + 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) − 4 τ_u u′ (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − 4 τ_u u′ (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − 2 τ_u u′² (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)³/(2 (previous(u)² + 1)²) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²) − h² u′ (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)²/(previous(u)² + 1)² − h² u′² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
@@ -797,24 +736,23 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, y, y) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
 		//   - (−4 τ_u previous(u)³ partial(previous(u), x) − 4 τ_u previous(u) partial(previous(u), x) − 8 τ_u u′ previous(u)² partial(previous(u), x) − 4 τ_u u′² previous(u) partial(previous(u), x)) · partial(u, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
 		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, x, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		acc[0] += fwNonlinearDiffusionVMSCellBasis1Val[q][0]*p38 + c28*p49 + c21*p59
-		acc[1] += fwNonlinearDiffusionVMSCellBasis1Val[q][0]*p40 + c28*p51 + c21*p61
-		acc[2] += fwNonlinearDiffusionVMSCellBasis1Val[q][0]*p42 + c28*p53 + c21*p63
-		acc[3] += fwNonlinearDiffusionVMSCellBasis1Val[q][1]*p38 + k01*p49 + k00*p59
-		acc[4] += fwNonlinearDiffusionVMSCellBasis1Val[q][1]*p40 + k01*p51 + k00*p61
-		acc[5] += fwNonlinearDiffusionVMSCellBasis1Val[q][1]*p42 + k01*p53 + k00*p63
-		acc[6] += fwNonlinearDiffusionVMSCellBasis1Val[q][2]*p38 + k11*p49 + k10*p59
-		acc[7] += fwNonlinearDiffusionVMSCellBasis1Val[q][2]*p40 + k11*p51 + k10*p61
-		acc[8] += fwNonlinearDiffusionVMSCellBasis1Val[q][2]*p42 + k11*p53 + k10*p63
+		acc[0] += c4*p16 + c10*p26
+		acc[1] += c4*p18 + c10*p28
+		acc[2] += c4*p20 + c10*p30
+		acc[3] += k01*p16 + k00*p26
+		acc[4] += k01*p18 + k00*p28
+		acc[5] += k01*p20 + k00*p30
+		acc[6] += k11*p16 + k10*p26
+		acc[7] += k11*p18 + k10*p28
+		acc[8] += k11*p20 + k10*p30
 		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) − τ_u (2 partial(previous(u), x)² + 2 partial(previous(u), y)² + 2 (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 10 · test(u)   [nonlinear_diffusion.fw:13]
 		//   - −previous(u)² partial(previous(u), y) − partial(previous(u), y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
 		//   - u′³/3 − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + u′² previous(u) − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
 		//   - −previous(u)² partial(previous(u), x) − partial(previous(u), x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
 		//   - u′³/3 − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + u′² previous(u) − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		rhs[0] += fwNonlinearDiffusionVMSCellBasis1Val[q][0]*p64 + c28*p65 + c21*p66
-		rhs[1] += fwNonlinearDiffusionVMSCellBasis1Val[q][1]*p64 + k01*p65 + k00*p66
-		rhs[2] += fwNonlinearDiffusionVMSCellBasis1Val[q][2]*p64 + k11*p65 + k10*p66
+		rhs[0] += c4*p31 + c10*p32
+		rhs[1] += k01*p31 + k00*p32
+		rhs[2] += k11*p31 + k10*p32
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -851,11 +789,9 @@ var (
 		{0.20000000000000007, 0.2, 0.6},
 	}
 	fwNonlinearDiffusionGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwNonlinearDiffusionVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNonlinearDiffusionVMSCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
+		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
+		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
 	}
-	fwNonlinearDiffusionVMSCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
 )
