@@ -177,7 +177,10 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 			continue
 		}
 		if opts.FreezeTau {
-			frozenTau = true
+			// An approximation only where the form has the τ.
+			for _, s := range f.Stab {
+				frozenTau = frozenTau || s.Tau == ts
+			}
 			continue
 		}
 		def := Simplify(gateaux(m.Tau[i], plain), m.Dim)

@@ -90,20 +90,23 @@ func TestNewtonBratu(t *testing.T) {
 	if worst > 2e-5 {
 		t.Errorf("largest nodal error %.3g, want ≤ 2e-5", worst)
 	}
-	if r := quadraticRatio(hist); r < 1.8 {
+	if r := quadraticRatio(hist); !(r >= 1.8) {
 		t.Errorf("convergence order of the last iterations %.2f, want ≥ 1.8; history %v", r, hist)
 	}
 }
 
 // quadraticRatio is the smallest log r_{k+1}/log r_k over the iterations
-// where 1e-1 > r_k and r_{k+1} is above the round-off floor (1e-13): the
-// observed order of convergence of the relative residuals.
+// where 1e-1 > r_k and r_{k+1} is above the round-off floor (1e-12): the
+// observed order of convergence of the relative residuals; NaN when no
+// iteration qualifies.
 func quadraticRatio(h []NewtonStep) float64 {
-	best := math.Inf(1)
+	best := math.NaN()
 	for k := 1; k+1 < len(h); k++ {
 		rk, rk1 := h[k].Relative, h[k+1].Relative
-		if rk < 1e-1 && rk1 > 1e-13 {
-			best = math.Min(best, math.Log(rk1)/math.Log(rk))
+		if rk < 1e-1 && rk1 > 1e-12 {
+			if r := math.Log(rk1) / math.Log(rk); math.IsNaN(best) || r < best {
+				best = r
+			}
 		}
 	}
 	return best
