@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
@@ -671,3 +672,77 @@ func TestNewtonTaylorGreen(t *testing.T) {
 		}
 	}
 }
+
+// benchCavity solves the lid-driven cavity (navier_stokes_nonlinear, SUPG,
+// P1/P1 on an n×n triangle mesh) at Reynolds number re twice in one run:
+// by Newton's method with the derived Jacobian, and by the derived Picard
+// linearisation, both from the Stokes solution (one Picard step from
+// zero) and both on the interpreted kernels (the generated ones are for
+// Re 100 only), to their default tolerances (Newton: relative residual
+// 1e-10; Picard: relative change 1e-8). It reports the nonlinear
+// iterations and wall times (the Stokes start included) and the ratio of
+// the times.
+func benchCavity(b *testing.B, re float64, n int) {
+	m, err := loadModel("navier_stokes_nonlinear")
+	if err != nil {
+		b.Fatal(err)
+	}
+	mr, err := compiler.OverrideCoef(m, "Re", ir.NewNum(source.Pos{}, new(big.Rat).SetFloat64(re)))
+	if err != nil {
+		b.Fatal(err)
+	}
+	msh, err := mesh.Load(fmt.Sprintf("rect:0,1,0,1:%dx%d:tri", n, n))
+	if err != nil {
+		b.Fatal(err)
+	}
+	pm, err := compiler.PicardModel(mr)
+	if err != nil {
+		b.Fatal(err)
+	}
+	lf, err := lowerModel(mr, compiler.SUPG)
+	if err != nil {
+		b.Fatal(err)
+	}
+	pf, err := lowerModel(pm, compiler.SUPG)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var newtonIt, picardIt int
+	var newtonS, picardS float64
+	for b.Loop() {
+		start := time.Now()
+		stokes, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true})
+		if err != nil {
+			b.Fatal(err)
+		}
+		sol, err := problem.Solve(lf, msh, problem.Options{Initial: stokes.X})
+		if err != nil {
+			b.Fatal(err)
+		}
+		newtonS, newtonIt = time.Since(start).Seconds(), sol.Summary.Picard
+		start = time.Now()
+		stokes, err = problem.Solve(pf, msh, problem.Options{PreviousFixed: true})
+		if err != nil {
+			b.Fatal(err)
+		}
+		psol, err := problem.Solve(pf, msh, problem.Options{Initial: stokes.X, MaxPicard: 500})
+		if err != nil {
+			b.Fatal(err)
+		}
+		picardS, picardIt = time.Since(start).Seconds(), psol.Summary.Picard
+		benchSink += sol.X[0] + psol.X[0]
+	}
+	b.ReportMetric(float64(newtonIt), "newton-iterations")
+	b.ReportMetric(float64(picardIt), "picard-iterations")
+	b.ReportMetric(newtonS, "newton-s")
+	b.ReportMetric(picardS, "picard-s")
+	b.ReportMetric(picardS/newtonS, "picard/newton-time")
+}
+
+// benchSink keeps the benchmarked solutions alive.
+var benchSink float64
+
+func BenchmarkCavityNewtonVsPicard_Re400_64(b *testing.B)   { benchCavity(b, 400, 64) }
+func BenchmarkCavityNewtonVsPicard_Re400_128(b *testing.B)  { benchCavity(b, 400, 128) }
+func BenchmarkCavityNewtonVsPicard_Re1000_64(b *testing.B)  { benchCavity(b, 1000, 64) }
+func BenchmarkCavityNewtonVsPicard_Re1000_128(b *testing.B) { benchCavity(b, 1000, 128) }
