@@ -155,7 +155,7 @@ func TestBratu(t *testing.T) {
 	}
 }
 
-// TestBratuFold: below the fold λ_c = 3.51383071912516 (REFERENCES.md)
+// TestBratuFold: below the fold λ_c = 3.51383071912516 (testdata/REFERENCES.md)
 // solve finds the lower branch, directly and with a ramp in λ; above it
 // there is no solution, and solve exits 1 saying the iteration did not
 // converge, with the history, and writes nothing.
@@ -190,7 +190,7 @@ func TestBratuFold(t *testing.T) {
 }
 
 // TestBurgers: steady viscous Burgers u u′ = ν u″ with the exact solution
-// u = −tanh(x/(2ν)) (REFERENCES.md), on (0, 1), the right half of the odd
+// u = −tanh(x/(2ν)) (testdata/REFERENCES.md), on (0, 1), the right half of the odd
 // problem on (−1, 1) (stdlib/models/burgers.fw says why the half: on the
 // whole interval the shock position has an eigenvalue O(e^(−1/ν))).
 // The exact solution is checked by differentiation first, independently
@@ -274,7 +274,7 @@ func TestNonlinearDiffusionOrders(t *testing.T) {
 	}
 }
 
-// TestKovasznay: the Kovasznay flow (Kovasznay 1948; REFERENCES.md) at
+// TestKovasznay: the Kovasznay flow (Kovasznay 1948; testdata/REFERENCES.md) at
 // Re = 40 is an exact solution of the steady Navier–Stokes equations, so
 // the source that verify derives from it, by applying the operator
 // symbolically, vanishes (checked at sample points to 1e-10; the terms
@@ -296,7 +296,7 @@ func TestKovasznay(t *testing.T) {
 	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
 	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n", "at all: vel = [0, 0]\n", 1)
 	lambda := 20 - math.Sqrt(400+4*math.Pi*math.Pi)
-	// REFERENCES.md: λ = −0.9637405441957689 at Re 40.
+	// testdata/REFERENCES.md: λ = −0.9637405441957689 at Re 40.
 	if math.Abs(lambda+0.9637405441957689) > 1e-15 {
 		t.Fatalf("λ = %.16g", lambda)
 	}
@@ -366,7 +366,7 @@ func TestKovasznay(t *testing.T) {
 }
 
 // ghia100 holds Ghia, Ghia & Shin (1982, J. Comput. Phys. 48), Tables I
-// and II at Re = 100: u(0.5, y) and v(x, 0.5) (REFERENCES.md).
+// and II at Re = 100: u(0.5, y) and v(x, 0.5) (testdata/REFERENCES.md).
 var ghia100 = struct{ u, v [][2]float64 }{
 	u: [][2]float64{{0.9766, 0.84123}, {0.9688, 0.78871}, {0.9609, 0.73722}, {0.9531, 0.68717}, {0.8516, 0.23151},
 		{0.7344, 0.00332}, {0.6172, -0.13641}, {0.5, -0.20581}, {0.4531, -0.21090}, {0.2813, -0.15662}, {0.1719, -0.10150},

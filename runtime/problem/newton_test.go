@@ -35,7 +35,7 @@ func bratuStep(lambda float64, exact bool) *ir.LoweredForm {
 }
 
 // bratuTheta is θ, the smaller root of θ = √(2λ) cosh(θ/4), to machine
-// precision by Newton's method from θ = 0 (testdata/REFERENCES.md, Bratu
+// precision by Newton's method from θ = 0 (../../testdata/REFERENCES.md, Bratu
 // 1914); bratuExact is the exact solution −2 ln[cosh((x − ½)θ/2)/cosh(θ/4)].
 func bratuTheta(lambda float64) float64 {
 	th := 0.0
@@ -56,7 +56,7 @@ func bratuExact(lambda, x float64) float64 {
 	return -2 * math.Log(math.Cosh((x-0.5)*th/2)/math.Cosh(th/4))
 }
 
-// TestBratuTheta: θ agrees with the recomputed values of REFERENCES.md
+// TestBratuTheta: θ agrees with the recomputed values of ../../testdata/REFERENCES.md
 // (λ = 1: 1.51716459905075; λ = 2: 2.3575510538774), to their 15 digits.
 func TestBratuTheta(t *testing.T) {
 	for _, c := range [][2]float64{{1, 1.51716459905075}, {2, 2.3575510538774}} {
@@ -113,7 +113,7 @@ func quadraticRatio(h []NewtonStep) float64 {
 }
 
 // TestNewtonFailsBeyondFold: above the fold λ_c = 3.5138 there is no
-// solution (REFERENCES.md), and Newton's method returns a *NewtonError
+// solution (../../testdata/REFERENCES.md), and Newton's method returns a *NewtonError
 // with the history, starting with the initial residual.
 func TestNewtonFailsBeyondFold(t *testing.T) {
 	_, err := Solve(bratuStep(3.6, true), mustMesh(t, "interval:0,1:32"), Options{})
