@@ -53,7 +53,7 @@ func addNonlinearFlags(fs *cmdFlags, solve bool) *nonlinearFlags {
 	return nl
 }
 
-// check reads the flags; set reports whether --nonlinear was given.
+// check validates the flags and records whether --nonlinear was given.
 func (nl *nonlinearFlags) check(fs *cmdFlags) error {
 	fs.Visit(func(f *flag.Flag) {
 		if f.Name == "nonlinear" {

@@ -375,9 +375,9 @@ func movePiece(dim int, term ir.Expr, depth int) (kept, dropped []ir.Expr, err e
 	return kept, dropped, nil
 }
 
-// fineMarker stands for the operand being integrated by parts in moveOnce:
-// the one trial field of the term, so that adjointTerm moves every
-// operation off it.
+// fineMarkerIndex is the unknown index of the marker field that stands,
+// in moveOnce, for the operand being integrated by parts: the one trial
+// field of the term, so that adjointTerm moves every operation off it.
 const fineMarkerIndex = -1
 
 // moveOnce performs one integration by parts of moveOffFine on term: it

@@ -53,17 +53,3 @@ func (nf *NonlinearForm) Step() *LoweredForm {
 	step.MaxDerivative = max(r.MaxDerivative, nf.Jacobian.MaxDerivative)
 	return &step
 }
-
-// ResidualPart returns the form of a Newton step with its Bilinear terms
-// removed: the residual alone (a form with Linear terms only).
-func (lf *LoweredForm) ResidualPart() *LoweredForm {
-	out := *lf
-	out.Newton = false
-	out.Integrals = nil
-	for _, in := range lf.Integrals {
-		if len(in.Linear) > 0 {
-			out.Integrals = append(out.Integrals, Integral{Domain: in.Domain, Linear: in.Linear})
-		}
-	}
-	return &out
-}
