@@ -719,52 +719,62 @@ func benchCavity(b *testing.B, re float64, n int) {
 		}
 		return sol.X
 	}
-	var newtonIt, picardIt, hybridPicard, hybridNewton int
-	var newtonS, picardS, hybridS, failed float64
+	var r cavityRun
 	for b.Loop() {
-		start := time.Now()
-		sol, err := problem.Solve(lf, msh, problem.Options{Initial: stokes()})
-		var ne *problem.NewtonError
-		switch {
-		case errors.As(err, &ne):
-			failed, newtonIt = 1, len(ne.History)-1
-		case err != nil:
-			b.Fatal(err)
-		default:
-			newtonIt = sol.Summary.Picard
-			benchSink += sol.X[0]
-		}
-		newtonS = time.Since(start).Seconds()
-
-		start = time.Now()
-		psol, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), MaxPicard: 500})
-		if err != nil {
-			b.Fatal(err)
-		}
-		picardS, picardIt = time.Since(start).Seconds(), psol.Summary.Picard
-
-		start = time.Now()
-		rough, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), PicardTol: 1e-2, MaxPicard: 500})
-		if err != nil {
-			b.Fatal(err)
-		}
-		hsol, err := problem.Solve(lf, msh, problem.Options{Initial: rough.X})
-		if err != nil {
-			b.Fatal(err)
-		}
-		hybridS, hybridPicard, hybridNewton = time.Since(start).Seconds(), rough.Summary.Picard, hsol.Summary.Picard
-		benchSink += psol.X[0] + hsol.X[0]
+		r = runCavity(b, lf, pf, msh, stokes)
 	}
-	b.ReportMetric(float64(newtonIt), "newton-iterations")
-	b.ReportMetric(failed, "newton-failed")
-	b.ReportMetric(newtonS, "newton-s")
-	b.ReportMetric(float64(picardIt), "picard-iterations")
-	b.ReportMetric(picardS, "picard-s")
-	b.ReportMetric(float64(hybridPicard), "hybrid-picard-iterations")
-	b.ReportMetric(float64(hybridNewton), "hybrid-newton-iterations")
-	b.ReportMetric(hybridS, "hybrid-s")
-	b.ReportMetric(picardS/newtonS, "picard/newton-time")
-	b.ReportMetric(picardS/hybridS, "picard/hybrid-time")
+	b.ReportMetric(float64(r.newtonIt), "newton-iterations")
+	b.ReportMetric(r.failed, "newton-failed")
+	b.ReportMetric(r.newtonS, "newton-s")
+	b.ReportMetric(float64(r.picardIt), "picard-iterations")
+	b.ReportMetric(r.picardS, "picard-s")
+	b.ReportMetric(float64(r.hybridPicard), "hybrid-picard-iterations")
+	b.ReportMetric(float64(r.hybridNewton), "hybrid-newton-iterations")
+	b.ReportMetric(r.hybridS, "hybrid-s")
+	b.ReportMetric(r.picardS/r.newtonS, "picard/newton-time")
+	b.ReportMetric(r.picardS/r.hybridS, "picard/hybrid-time")
+}
+
+// cavityRun is one run of benchCavity's three solves.
+type cavityRun struct {
+	newtonIt, picardIt, hybridPicard, hybridNewton int
+	newtonS, picardS, hybridS, failed              float64
+}
+
+func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func() []float64) (r cavityRun) {
+	start := time.Now()
+	sol, err := problem.Solve(lf, msh, problem.Options{Initial: stokes()})
+	var ne *problem.NewtonError
+	switch {
+	case errors.As(err, &ne):
+		r.failed, r.newtonIt = 1, len(ne.History)-1
+	case err != nil:
+		b.Fatal(err)
+	default:
+		r.newtonIt = sol.Summary.Picard
+		benchSink += sol.X[0]
+	}
+	r.newtonS = time.Since(start).Seconds()
+
+	start = time.Now()
+	psol, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), MaxPicard: 500})
+	if err != nil {
+		b.Fatal(err)
+	}
+	r.picardS, r.picardIt = time.Since(start).Seconds(), psol.Summary.Picard
+
+	start = time.Now()
+	rough, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), PicardTol: 1e-2, MaxPicard: 500})
+	if err != nil {
+		b.Fatal(err)
+	}
+	hsol, err := problem.Solve(lf, msh, problem.Options{Initial: rough.X})
+	if err != nil {
+		b.Fatal(err)
+	}
+	r.hybridS, r.hybridPicard, r.hybridNewton = time.Since(start).Seconds(), rough.Summary.Picard, hsol.Summary.Picard
+	benchSink += psol.X[0] + hsol.X[0]
+	return r
 }
 
 // benchSink keeps the benchmarked solutions alive.
