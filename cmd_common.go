@@ -112,7 +112,7 @@ func readModel(arg string) (string, []byte, error) {
 			return file, src, nil
 		}
 	}
-	src, err := os.ReadFile(arg)
+	src, err := readLimited(arg, lang.MaxSize)
 	if err != nil {
 		return "", nil, usagef("cannot read model: %v (standard models: %s)", err, strings.Join(stdlib.Models(), ", "))
 	}
@@ -140,13 +140,41 @@ func methodsOf(m *compiler.Model, s string) ([]compiler.Method, error) {
 
 // lowerModel derives and lowers one method of a model.
 func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
+	lf, _, err := deriveAndLower(m, meth)
+	return lf, err
+}
+
+// deriveAndLower derives one method of a model and lowers it, returning
+// the derivation too.
+func deriveAndLower(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, *compiler.Derivation, error) {
 	d, err := compiler.Derive(m, []compiler.Method{meth})
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
 	lf, err := d.Lower(meth)
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
-	return lf, nil
+	return lf, d, nil
+}
+
+// readLimited reads a file of at most limit bytes; a longer file (or an
+// endless one, such as a device) is an error after limit+1 bytes.
+func readLimited(path string, limit int) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if fi, err := f.Stat(); err == nil && fi.IsDir() {
+		return nil, fmt.Errorf("%s is a directory", path)
+	}
+	src, err := io.ReadAll(io.LimitReader(f, int64(limit)+1))
+	if err != nil {
+		return nil, err
+	}
+	if len(src) > limit {
+		return nil, fmt.Errorf("%s is longer than %d bytes, the limit for a model file", path, limit)
+	}
+	return src, nil
 }

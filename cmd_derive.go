@@ -38,10 +38,8 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 	if _, err := compiler.ParseMethods(*method); err != nil {
 		return &usageError{err.Error()}
 	}
-	if *out != "" {
-		if err := output.CheckNotInput(*out, pos[0]); err != nil {
-			return usagef("refusing to overwrite the model file with its derivation: %v", err)
-		}
+	if err := checkOutputs([]string{pos[0]}, outputTarget{"-o", *out}); err != nil {
+		return err
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
@@ -70,8 +68,8 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 		_, err := stdout.Write(buf.Bytes())
 		return err
 	}
-	return output.WriteFileAtomic(*out, func(w io.Writer) error {
+	return ioError(output.WriteFileAtomic(*out, func(w io.Writer) error {
 		_, err := w.Write(buf.Bytes())
 		return err
-	})
+	}))
 }

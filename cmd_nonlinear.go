@@ -92,7 +92,7 @@ func (nl *nonlinearFlags) check(fs *cmdFlags) error {
 
 // apply sets the iteration options: limits, tolerances, the line search
 // and a progress line per Newton iteration on stderr.
-func (nl *nonlinearFlags) apply(opts *problem.Options, stderr io.Writer, quiet bool) {
+func (nl *nonlinearFlags) apply(opts *problem.Options, stderr io.Writer, quiet bool, clearLine func()) {
 	if *nl.method == "picard" {
 		opts.MaxPicard, opts.PicardTol = *nl.maxIter, *nl.tol
 	} else {
@@ -101,37 +101,41 @@ func (nl *nonlinearFlags) apply(opts *problem.Options, stderr io.Writer, quiet b
 	opts.Newton.NoLineSearch = *nl.noSearch
 	opts.Newton.Damping = opts.PicardRelax
 	if !quiet {
-		opts.Newton.Progress = func(s problem.NewtonStep) { fmt.Fprintf(stderr, "  %v\n", s) }
+		opts.Newton.Progress = func(s problem.NewtonStep) {
+			clearLine()
+			fmt.Fprintf(stderr, "  %v\n", s)
+		}
 	}
 }
 
 // lower derives and lowers one method of a model for the chosen
-// iteration: a nonlinear model gives the Newton step (compiler.Derivation.
-// Lower, with the Jacobian options) or, with --nonlinear picard, the form
-// of its derived Picard linearisation; a linear model its own form.
-func (nl *nonlinearFlags) lower(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error) {
+// iteration, with the derivation it came from: a nonlinear model gives
+// the Newton step (compiler.Derivation.Lower, with the Jacobian options)
+// or, with --nonlinear picard, the form of its derived Picard
+// linearisation; a linear model its own form.
+func (nl *nonlinearFlags) lower(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, *compiler.Derivation, error) {
 	if !m.Nonlinear() {
 		if nl.methodSet && *nl.method == "newton" {
-			return nil, usagef("model %s is linear in its unknowns (a lag written with previous(...) is the model's own choice): it is solved by Picard iteration where it reads previous(...); write the operator without previous(...) for Newton's method", m.Name)
+			return nil, nil, usagef("model %s is linear in its unknowns (a lag written with previous(...) is the model's own choice): it is solved by Picard iteration where it reads previous(...); write the operator without previous(...) for Newton's method", m.Name)
 		}
-		return lowerModel(m, meth)
+		return deriveAndLower(m, meth)
 	}
 	if *nl.method == "picard" {
 		pm, err := compiler.PicardModel(m)
 		if err != nil {
-			return nil, &usageError{err.Error()}
+			return nil, nil, &usageError{err.Error()}
 		}
-		return lowerModel(pm, meth)
+		return deriveAndLower(pm, meth)
 	}
 	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: nl.jacobian})
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
 	lf, err := d.Lower(meth)
 	if err != nil {
-		return nil, &usageError{err.Error()}
+		return nil, nil, &usageError{err.Error()}
 	}
-	return lf, nil
+	return lf, d, nil
 }
 
 // solve solves a steady form of model m: with --picard-steps first some
@@ -198,7 +202,8 @@ func (nl *nonlinearFlags) solve(m *compiler.Model, meth compiler.Method, lf *ir.
 		if err != nil {
 			return nil, usagef("--ramp: %v", err)
 		}
-		return nl.lower(mm, meth)
+		lf, _, err := nl.lower(mm, meth)
+		return lf, err
 	}
 	// The first step may start from Picard steps at the first value.
 	first, err := formAt(values[0])
@@ -318,7 +323,7 @@ func cmdJacobian(args []string, stdout, stderr io.Writer) error {
 	}
 	failed := false
 	for k, meth := range methods {
-		lf, err := nl.lower(m, meth)
+		lf, _, err := nl.lower(m, meth)
 		if err != nil {
 			return err
 		}

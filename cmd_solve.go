@@ -1,12 +1,14 @@
 package main
 
 import (
+	"encoding/csv"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"time"
 
@@ -37,7 +39,7 @@ type solveFlags struct {
 func addSolveFlags(fs *cmdFlags) *solveFlags {
 	return &solveFlags{
 		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
-		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi or +ilu0 (e.g. gmres+ilu0)"),
+		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi, +ilu0, +amg or +amg-block (e.g. cg+amg; amg-block for saddle-point systems)"),
 		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
 		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
 		restart: fs.Int("restart", 0, "GMRES restart length (default 50)"),
@@ -49,8 +51,9 @@ func addSolveFlags(fs *cmdFlags) *solveFlags {
 	}
 }
 
-// options turns the solve flags into problem options, checking each.
-func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
+// options turns the solve flags into problem options, checking each;
+// progress goes to prog.
+func (sf *solveFlags) options(prog *progress) (problem.Options, error) {
 	opts := problem.Options{Time: *sf.time, Workers: *sf.workers, PicardRelax: *sf.relax}
 	if r := *sf.relax; !(r >= 0 && r <= 1) {
 		return opts, usagef("--relax %g: the under-relaxation factor must be in (0, 1] (0: none)", r)
@@ -58,17 +61,23 @@ func (sf *solveFlags) options(stderr io.Writer) (problem.Options, error) {
 	if math.IsNaN(*sf.time) || math.IsInf(*sf.time, 0) {
 		return opts, usagef("--time %g: give a finite time", *sf.time)
 	}
-	if *sf.workers < 0 {
-		return opts, usagef("--workers %d: give a positive number (0: GOMAXPROCS)", *sf.workers)
+	if *sf.workers < 0 || *sf.workers > 1024 {
+		return opts, usagef("--workers %d: give a number from 1 to 1024 (0: GOMAXPROCS)", *sf.workers)
 	}
-	so, err := parseSolver(sf, func(it int, r float64) {
-		if !*sf.quiet && it%25 == 0 {
-			fmt.Fprintf(stderr, "  iteration %d, relative residual %.3e\n", it, r)
-		}
-	})
+	opts.Progress, opts.Iterations = prog.solveEvents(""), prog.iterations
+	so, err := parseSolver(sf, prog.iterations)
 	opts.Solver = so
+	if so == nil {
+		opts.AutoTol, opts.AutoMaxIter, opts.AutoRestart = *sf.tol, *sf.maxIter, *sf.restart
+	}
 	return opts, err
 }
+
+// Limits on what a command line may ask for (README, "Limits").
+const (
+	maxRestart = 1000      // GMRES restart length: restart+1 vectors of the system's size
+	maxSteps   = 1_000_000 // time steps of one run
+)
 
 // parseSolver reads --solver and its tuning flags; nil means the automatic
 // choice of runtime/problem.
@@ -80,23 +89,17 @@ func parseSolver(sf *solveFlags, progress func(int, float64)) (*linsolve.Options
 		return nil, usagef("--tol %g: the relative tolerance must be in (0, 1)", *sf.tol)
 	case *sf.maxIter < 0:
 		return nil, usagef("--max-iter %d: give a positive number", *sf.maxIter)
-	case *sf.restart < 0:
-		return nil, usagef("--restart %d: give a positive number", *sf.restart)
+	case *sf.restart < 0 || *sf.restart > maxRestart:
+		return nil, usagef("--restart %d: give a number from 1 to %d (GMRES keeps restart+1 vectors)", *sf.restart, maxRestart)
 	}
-	if *sf.solver == "auto" && *sf.tol == 0 && *sf.maxIter == 0 && *sf.restart == 0 && *sf.shift == 0 {
-		return nil, nil
+	if *sf.solver == "auto" {
+		if *sf.shift != 0 {
+			return nil, usagef("--ilu-shift applies to an explicit ilu0 preconditioner: give --solver gmres+ilu0")
+		}
+		return nil, nil // the automatic choice, tuned by --tol, --max-iter and --restart
 	}
 	so := &linsolve.Options{RelTol: *sf.tol, MaxIter: *sf.maxIter, Restart: *sf.restart, ILUShift: *sf.shift, Progress: progress, Workers: *sf.workers}
 	name := *sf.solver
-	if name == "auto" {
-		name = "gmres+ilu0"
-		if so.ILUShift == 0 {
-			so.ILUShift = problem.AutoILUShift
-		}
-		if so.Restart == 0 {
-			so.Restart = 100
-		}
-	}
 	meth, pre, _ := strings.Cut(name, "+")
 	var err error
 	if so.Method, err = linsolve.ParseMethod(meth); err != nil {
@@ -142,6 +145,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	ascii := fs.Bool("vtu-ascii", false, "write .vtu in ASCII instead of binary appended")
 	asJSON := fs.Bool("json", false, "print the summary and nodal values as JSON")
 	plotPath := fs.String("plot", "", "draw the solution as a PNG (1D line plot, 2D colour map with contours)")
+	every := fs.Int("every", 1, "transient models with --out: write a frame after every N-th time step (and after the last)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return err
@@ -149,7 +153,9 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return usagef("solve takes one model")
 	}
-	opts, err := sf.options(stderr)
+	prog := newProgress(stderr, *sf.quiet)
+	defer prog.done()
+	opts, err := sf.options(prog)
 	if err != nil {
 		return err
 	}
@@ -157,19 +163,28 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err := nl.check(fs); err != nil {
 		return err
 	}
-	nl.apply(&opts, stderr, *sf.quiet)
+	nl.apply(&opts, stderr, *sf.quiet, prog.done)
+	switch {
+	case math.IsNaN(*dt) || math.IsInf(*dt, 0) || *dt < 0:
+		return usagef("--dt %g: give a positive, finite time step", *dt)
+	case *steps < 0 || *steps > maxSteps:
+		return usagef("--steps %d: give a number from 1 to %d", *steps, maxSteps)
+	case math.IsNaN(*until) || math.IsInf(*until, 0):
+		return usagef("--until %g: give a finite end time", *until)
+	case *until != 0 && *steps != 0:
+		return usagef("give --steps or --until, not both")
+	case *until != 0 && !(*until > *sf.time):
+		return usagef("--until %g is not after the start time %g", *until, *sf.time)
+	case *every < 1:
+		return usagef("--every %d: give a positive number of steps", *every)
+	}
 	if *out != "" {
 		if ext := filepath.Ext(*out); ext != ".vtu" && ext != ".csv" {
 			return usagef("--out: unknown file type %q (use .vtu or .csv)", ext)
 		}
-		if err := output.CheckNotInput(*out, pos[0], *sf.mesh); err != nil {
-			return &usageError{err.Error()}
-		}
 	}
-	if *plotPath != "" {
-		if err := output.CheckNotInput(*plotPath, pos[0], *sf.mesh); err != nil {
-			return &usageError{err.Error()}
-		}
+	if *plotPath != "" && filepath.Ext(*plotPath) != ".png" {
+		return usagef("--plot: plots are PNG files: name it FILE.png")
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
@@ -195,13 +210,44 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		}
 		methods = []compiler.Method{meth}
 	}
+	if *plotPath != "" && m.Dim == 3 {
+		return usagef("--plot draws 1D and 2D solutions only; write a 3D solution with --out FILE.vtu")
+	}
+	var tr transientRun
+	if m.IsTransient() {
+		if tr, err = planTransient(m, *dt, *steps, *until, *sf.time); err != nil {
+			return err
+		}
+		tr.every = *every
+	}
+	targets := []outputTarget{{"--out", *out}}
+	if *out != "" && tr.steps > 0 {
+		// A transient run writes a time series instead of one file.
+		ext := filepath.Ext(*out)
+		tr.frames = &series{base: strings.TrimSuffix(*out, ext), ext: ext, ascii: *ascii}
+		targets = targets[:0]
+		for _, p := range tr.frames.paths(tr) {
+			targets = append(targets, outputTarget{"--out", p})
+		}
+	}
+	for _, p := range plotPaths(*plotPath, m.Dim, methods) {
+		targets = append(targets, outputTarget{"--plot", p})
+	}
+	if err := checkOutputs([]string{pos[0], *sf.mesh}, targets...); err != nil {
+		return err
+	}
+	prog.say("mesh", "building the mesh")
 	msh, spec, err := buildMesh(m, *sf.mesh)
 	if err != nil {
 		return err
 	}
+	for _, name := range m.FreeConstants() {
+		fmt.Fprintf(stderr, "formwright: warning: %s is fixed only up to a constant (no value, Robin or mean condition holds it): the discrete problem is singular\n", name)
+	}
 	var sols []*problem.Solution
+	var cellData [][]output.Array
 	for k, meth := range methods {
-		lf, err := nl.lower(m, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
+		lf, deriv, err := nl.lower(m, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}
@@ -211,7 +257,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		start := time.Now()
 		var sol *problem.Solution
 		if lf.IsTransient() {
-			sol, err = solveTransient(m, lf, msh, transientRun{*dt, *steps, *until, *sf.time, *sf.quiet}, opts, stderr)
+			sol, err = solveTransient(m, lf, msh, tr, opts, prog)
 		} else {
 			// Picard start and continuation for nonlinear models (cmd_nonlinear.go).
 			sol, err = nl.solve(m, meth, lf, msh, opts, stderr, *sf.quiet)
@@ -220,30 +266,32 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return nonlinearFailure(err) // cmd_nonlinear.go
 		}
 		wall := time.Since(start)
+		prog.done()
 		if err := checkFinite(sol); err != nil {
 			return err
 		}
+		cells, err := indicators(deriv, meth, sol, opts)
+		if err != nil {
+			return err
+		}
 		sols = append(sols, sol)
+		cellData = append(cellData, cells)
 		if *asJSON {
-			if *out != "" {
-				if err := writeSolution(*out, sol, *ascii); err != nil {
-					return err
-				}
+			if err := writeOutputs(*out, tr, sol, cells, *ascii); err != nil {
+				return err
 			}
-			return writeSummaryJSON(stdout, m, meth, spec, sol, wall)
+			return writeSummaryJSON(stdout, m, meth, spec, sol, cells, wall)
 		}
 		if k > 0 {
 			fmt.Fprintln(stdout)
 		}
-		writeSummaryText(stdout, m, meth, spec, sol, wall)
-		if e := exactError(m, sol); e != "" {
-			fmt.Fprintln(stdout, e)
+		writeSummaryText(stdout, m, meth, spec, sol, cells, wall)
+		for _, line := range exactErrors(m, sol, sol.Time) {
+			fmt.Fprintln(stdout, line)
 		}
 	}
-	if *out != "" {
-		if err := writeSolution(*out, sols[0], *ascii); err != nil {
-			return err
-		}
+	if err := writeOutputs(*out, tr, sols[0], cellData[0], *ascii); err != nil {
+		return err
 	}
 	if *plotPath != "" {
 		if err := plotSolutions(*plotPath, sols, m, methods); err != nil {
@@ -253,33 +301,100 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-// transientRun is how solve steps a transient model: Δt, and the number
-// of steps or the end time, from the start time.
+// transientRun is how solve steps a transient model: the time step, the
+// number of steps from the start time, and the time series to write.
 type transientRun struct {
-	dt           float64
-	steps        int
-	until, start float64
-	quiet        bool
+	dt    float64
+	steps int
+	start float64
+	// frames, when not nil, writes a frame after every every-th step
+	// and after the last.
+	frames *series
+	every  int
 }
 
-// solveTransient steps a transient model by backward Euler from the start
-// time, with the model's initial values (coefficients initial_<unknown>;
-// zero where a model has none).
-func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, stderr io.Writer) (*problem.Solution, error) {
-	dt := tr.dt
+// planTransient resolves the time step (--dt, or the model's constant
+// coefficient step) and the number of steps (--steps, or from --until).
+func planTransient(m *compiler.Model, dt float64, steps int, until, start float64) (transientRun, error) {
 	if dt == 0 {
 		dt, _ = m.StepValue()
 	}
 	if !(dt > 0) || math.IsInf(dt, 0) {
-		return nil, usagef("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)
+		return transientRun{}, usagef("model %s is transient: give the time step with --dt (or a constant coefficient step)", m.Name)
 	}
-	steps := tr.steps
-	if steps == 0 && tr.until > tr.start {
-		steps = int(math.Round((tr.until - tr.start) / dt))
+	if steps == 0 && until > start {
+		n := math.Round((until - start) / dt)
+		if !(n <= maxSteps) {
+			return transientRun{}, usagef("--until %g with --dt %g would take %g steps; at most %d are allowed", until, dt, n, maxSteps)
+		}
+		steps = int(n)
 	}
 	if steps < 1 {
-		return nil, usagef("model %s is transient: give --steps N or --until T", m.Name)
+		return transientRun{}, usagef("model %s is transient: give --steps N or --until T", m.Name)
 	}
+	return transientRun{dt: dt, steps: steps, start: start}, nil
+}
+
+// series is the time series of a transient run: one file per frame,
+// FILE_NNNN.vtu (or .csv) with the frame's time, and an index
+// FILE_times.csv of frame, step, time and file. It is staged and appears
+// only when the run succeeds.
+type series struct {
+	base, ext string
+	ascii     bool
+	staged    output.Staged
+	index     [][]string
+}
+
+func (s *series) frame(step int) string { return fmt.Sprintf("%s_%04d%s", s.base, step, s.ext) }
+func (s *series) indexPath() string     { return s.base + "_times.csv" }
+
+// paths lists every file of the series, for the checks before the run.
+func (s *series) paths(tr transientRun) []string {
+	var out []string
+	for n := 1; n <= tr.steps; n++ {
+		if n%tr.every == 0 || n == tr.steps {
+			out = append(out, s.frame(n))
+		}
+	}
+	return append(out, s.indexPath())
+}
+
+func (s *series) write(step int, t float64, sol *problem.Solution) error {
+	g := sol.Grid()
+	g.Time, g.Timed = t, true
+	path := s.frame(step)
+	s.index = append(s.index, []string{strconv.Itoa(len(s.index)), strconv.Itoa(step), strconv.FormatFloat(t, 'g', -1, 64), filepath.Base(path)})
+	if s.ext == ".csv" {
+		return s.staged.Write(path, func(w io.Writer) error { return output.WriteCSV(w, g, sol.Mesh.Dim) })
+	}
+	opts := output.VTUOptions{Encoding: output.Binary}
+	if s.ascii {
+		opts.Encoding = output.ASCII
+	}
+	return s.staged.Write(path, func(w io.Writer) error { return output.WriteVTU(w, g, opts) })
+}
+
+// commit writes the index and puts every file of the series in place.
+func (s *series) commit() error {
+	err := s.staged.Write(s.indexPath(), func(w io.Writer) error {
+		fmt.Fprintf(w, "# %s: a time series\n", output.Signature)
+		cw := csv.NewWriter(w)
+		cw.Write([]string{"frame", "step", "time", "file"})
+		cw.WriteAll(s.index)
+		return cw.Error()
+	})
+	if err != nil {
+		s.staged.Abort()
+		return ioError(err)
+	}
+	return ioError(s.staged.Commit())
+}
+
+// solveTransient steps a transient model by backward Euler from the start
+// time, with the model's initial values (coefficients initial_<unknown>;
+// zero where a model has none), writing the frames of tr.frames.
+func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr transientRun, opts problem.Options, prog *progress) (*problem.Solution, error) {
 	var init []problem.Exact
 	for i := range m.Unknowns {
 		comps, err := m.Initial(i)
@@ -300,16 +415,25 @@ func solveTransient(m *compiler.Model, lf *ir.LoweredForm, msh *mesh.Mesh, tr tr
 	if err != nil {
 		return nil, &usageError{err.Error()}
 	}
-	observe := func(n int, t float64, _ *problem.Solution) {
-		if !tr.quiet && (n%10 == 0 || n == steps) {
-			fmt.Fprintf(stderr, "  step %d of %d, t = %g\n", n, steps, t)
+	var frameErr error
+	observe := func(n int, t float64, sol *problem.Solution) {
+		prog.say("step", "time step %d of %d, t = %g", n, tr.steps, t)
+		if tr.frames != nil && frameErr == nil && (n%tr.every == 0 || n == tr.steps) {
+			frameErr = tr.frames.write(n, t, sol)
 		}
 	}
-	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: dt, Steps: steps, Start: tr.start, Initial: init, Observe: observe})
+	opts.Progress = nil // the steps are the progress
+	sol, err := problem.SolveTransient(sf, msh, problem.TransientOptions{Options: opts, Step: tr.dt, Steps: tr.steps, Start: tr.start, Initial: init, Observe: observe})
+	if err == nil && frameErr != nil {
+		err = ioError(frameErr)
+	}
 	if err != nil {
+		if tr.frames != nil {
+			tr.frames.staged.Abort()
+		}
 		return nil, err
 	}
-	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", steps, dt, tr.start+float64(steps)*dt)
+	sol.Summary.Method += fmt.Sprintf(", backward Euler, %d steps of %g to t = %g", tr.steps, tr.dt, tr.start+float64(tr.steps)*tr.dt)
 	return sol, nil
 }
 
@@ -323,6 +447,8 @@ func solveError(err error) error {
 	var pe *problem.PicardError
 	var tl *linsolve.TooLargeError
 	var me *problem.MeshError
+	var re *problem.ResidualError
+	var pn *problem.NonFiniteError
 	var ue *usageError
 	switch {
 	case errors.As(err, &ue):
@@ -331,7 +457,7 @@ func solveError(err error) error {
 		return fmt.Errorf("numerical failure, no result written: %w: the discrete problem has more than one solution. "+
 			"A field that the equations fix only up to a constant needs a mean condition (mean p = 0); "+
 			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
-	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl):
+	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl), errors.As(err, &re), errors.As(err, &pn):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
 	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide):
 		return &usageError{err.Error()}
@@ -350,29 +476,38 @@ func checkFinite(sol *problem.Solution) error {
 
 func syntaxOf(e ir.Expr) string { return notation.Expr(e, notation.Syntax, notation.Names{}) }
 
-// exactError reports the largest nodal error against the model's stated
-// exact solution of its first unknown, if it states one.
-func exactError(m *compiler.Model, sol *problem.Solution) string {
-	comps := m.StatedExact(0)
-	if comps == nil || len(comps) != 1 {
-		return ""
+// exactErrors reports, for every unknown whose exact solution the model
+// states (coefficient exact_<unknown>, scalar or vector), the largest
+// nodal error over its components.
+func exactErrors(m *compiler.Model, sol *problem.Solution, t float64) []string {
+	var out []string
+	for i, u := range m.Unknowns {
+		comps := m.StatedExact(i)
+		if comps == nil {
+			continue
+		}
+		ex, err := problem.ExactFromExprs(m.Dim, comps)
+		if err != nil {
+			out = append(out, fmt.Sprintf("exact      exact_%s cannot be evaluated: %v", u.Name, err))
+			continue
+		}
+		coords := sol.Dofs.NodeCoords(i)
+		d := m.Dim
+		f := sol.Fields[i]
+		worst := 0.0
+		uv, g := make([]float64, f.Components), make([]float64, f.Components*d)
+		for n := 0; n < len(coords)/d; n++ {
+			ex(coords[n*d:(n+1)*d], t, uv, g)
+			for c := range uv {
+				worst = math.Max(worst, math.Abs(f.Values[c][n]-uv[c]))
+			}
+		}
+		out = append(out, fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", u.Name, worst))
 	}
-	ex, err := problem.ExactFromExprs(m.Dim, comps)
-	if err != nil {
-		return ""
-	}
-	coords := sol.Dofs.NodeCoords(0)
-	d := m.Dim
-	worst := 0.0
-	u, g := make([]float64, 1), make([]float64, d)
-	for n := 0; n < len(coords)/d; n++ {
-		ex(coords[n*d:(n+1)*d], 0, u, g)
-		worst = math.Max(worst, math.Abs(sol.Fields[0].Values[0][n]-u[0]))
-	}
-	return fmt.Sprintf("exact      largest nodal error against exact_%s: %.3e", m.Unknowns[0].Name, worst)
+	return out
 }
 
-func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) {
+func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) {
 	s := sol.Summary
 	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
 	fmt.Fprintf(w, "method     %s\n", s.Method)
@@ -396,9 +531,12 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		if s.Prepared > 1 {
 			setups = fmt.Sprintf(", %d factorisations", s.Prepared)
 		}
-		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e\n", setups, s.Residual)
+		fmt.Fprintf(w, "solver     direct sparse LU%s, relative residual %.2e, %.0f bytes per unknown\n", setups, s.Residual, s.BytesPerUnknown)
 	} else {
-		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e\n", s.Solver, setups, s.Iterations, s.Residual)
+		fmt.Fprintf(w, "solver     %s%s, %d iterations, relative residual %.2e, %.0f bytes per unknown\n", s.Solver, setups, s.Iterations, s.Residual, s.BytesPerUnknown)
+	}
+	if s.SolverReason != "" && s.SolverReason != "as asked" {
+		fmt.Fprintf(w, "           (%s)\n", s.SolverReason)
 	}
 	if s.Nonlinear != "" { // newton or picard
 		fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
@@ -421,6 +559,45 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		}
 		fmt.Fprintf(w, "range      %s in [%.6g, %.6g]\n", name, r.Min, r.Max)
 	}
+	for _, a := range cells {
+		lo, hi := valueRange(a.Values)
+		fmt.Fprintf(w, "per cell   %s in [%.4g, %.4g]\n", a.Name, lo, hi)
+	}
+}
+
+// indicators evaluates τ (for a stabilised method) and the element Péclet
+// number of each advective–diffusive equation on every cell of the
+// solution's mesh, as cell arrays for the VTU file and the summary.
+func indicators(d *compiler.Derivation, meth compiler.Method, sol *problem.Solution, opts problem.Options) ([]output.Array, error) {
+	var names []string
+	var exprs []ir.Expr
+	for _, in := range d.Indicators() {
+		if meth == compiler.Galerkin && strings.HasPrefix(in.Name, "tau_") {
+			continue
+		}
+		names = append(names, in.Name)
+		exprs = append(exprs, in.Expr)
+	}
+	if len(exprs) == 0 {
+		return nil, nil
+	}
+	vals, err := sol.CellValues(exprs, opts.Step)
+	if err != nil {
+		return nil, nil // an indicator the evaluator cannot read is left out
+	}
+	out := make([]output.Array, len(names))
+	for k := range names {
+		out[k] = output.Array{Name: names[k], Components: 1, Values: vals[k]}
+	}
+	return out, nil
+}
+
+func valueRange(v []float64) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+	}
+	return lo, hi
 }
 
 func fieldComponents(sol *problem.Solution, name string) int {
@@ -434,29 +611,37 @@ func fieldComponents(sol *problem.Solution, name string) int {
 
 // jsonSolve is the --json output of solve (documented in the README).
 type jsonSolve struct {
-	Schema     string  `json:"schema"`
-	Model      string  `json:"model"`
-	File       string  `json:"file"`
-	Method     string  `json:"method"`
-	Mesh       string  `json:"mesh"`
-	Cells      int     `json:"cells"`
-	Vertices   int     `json:"vertices"`
-	Dofs       int     `json:"dofs"`
-	Kernels    string  `json:"kernels"`
-	Solver     string  `json:"solver"`
-	Iterations int     `json:"iterations"`
-	Residual   float64 `json:"residual"`
-	Picard     int     `json:"picard_iterations"`
+	Schema   string `json:"schema"`
+	Model    string `json:"model"`
+	File     string `json:"file"`
+	Method   string `json:"method"`
+	Mesh     string `json:"mesh"`
+	Cells    int    `json:"cells"`
+	Vertices int    `json:"vertices"`
+	Dofs     int    `json:"dofs"`
+	Kernels  string `json:"kernels"`
+	Solver   string `json:"solver"`
+	// SolverReason says why the automatic choice picked the solver;
+	// BytesPerUnknown is the memory of matrix, preconditioner and Krylov
+	// vectors per unknown.
+	SolverReason    string  `json:"solver_reason"`
+	BytesPerUnknown float64 `json:"bytes_per_unknown"`
+	Iterations      int     `json:"iterations"`
+	Residual        float64 `json:"residual"`
+	Picard          int     `json:"picard_iterations"`
 	// Nonlinear is the iteration of a nonlinear solve, newton or picard,
 	// and Newton its history (cmd_nonlinear.go).
 	Nonlinear string               `json:"nonlinear,omitempty"`
 	Newton    []problem.NewtonStep `json:"newton,omitempty"`
-	Setups    int                  `json:"solver_setups"` // factorisations or preconditioner builds
+	Setups          int     `json:"solver_setups"` // factorisations or preconditioner builds
 	// MeanResidual: models with mean conditions; see problem.Summary.
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
 	Tau          map[string]string `json:"tau"`
-	Fields       []jsonField       `json:"fields"`
+	// PerCell gives the range over the cells of τ and of the element
+	// Péclet number (see indicators): name → [min, max].
+	PerCell map[string][2]float64 `json:"per_cell"`
+	Fields  []jsonField           `json:"fields"`
 }
 
 type jsonField struct {
@@ -469,11 +654,16 @@ type jsonField struct {
 	Values     [][]float64 `json:"values"` // values[comp][node]
 }
 
-func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, wall time.Duration) error {
+func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
-		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, Nonlinear: s.Nonlinear, Newton: s.History}
+		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
+		Nonlinear: s.Nonlinear, Newton: s.History}
+	for _, a := range cells {
+		lo, hi := valueRange(a.Values)
+		out.PerCell[a.Name] = [2]float64{lo, hi}
+	}
 	for _, u := range m.Unknowns {
 		if meth != compiler.Galerkin && m.Tau[u.Index] != nil {
 			out.Tau[u.Name] = syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim))
@@ -499,16 +689,46 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	return enc.Encode(out)
 }
 
-func writeSolution(path string, sol *problem.Solution, ascii bool) error {
+func writeSolution(path string, sol *problem.Solution, cells []output.Array, ascii bool) error {
 	g := sol.Grid()
+	g.CellData = append(g.CellData, cells...)
 	if filepath.Ext(path) == ".csv" {
-		return output.WriteCSVFile(path, g, sol.Mesh.Dim)
+		return ioError(output.WriteCSVFile(path, g, sol.Mesh.Dim))
 	}
 	opts := output.VTUOptions{Encoding: output.Binary}
 	if ascii {
 		opts.Encoding = output.ASCII
 	}
-	return output.WriteVTUFile(path, g, opts)
+	return ioError(output.WriteVTUFile(path, g, opts))
+}
+
+// writeOutputs writes --out: the time series of a transient run, or the
+// solution with its cell data.
+func writeOutputs(out string, tr transientRun, sol *problem.Solution, cells []output.Array, ascii bool) error {
+	switch {
+	case out == "":
+		return nil
+	case tr.frames != nil:
+		return tr.frames.commit()
+	}
+	return writeSolution(out, sol, cells, ascii)
+}
+
+// plotPaths are the files --plot writes: FILE.png, or FILE_<method>.png
+// for each of several methods in 2D.
+func plotPaths(path string, dim int, methods []compiler.Method) []string {
+	if path == "" {
+		return nil
+	}
+	if len(methods) == 1 || dim == 1 {
+		return []string{path}
+	}
+	var out []string
+	ext := filepath.Ext(path)
+	for _, meth := range methods {
+		out = append(out, strings.TrimSuffix(path, ext)+"_"+meth.String()+ext)
+	}
+	return out
 }
 
 // plotSolutions draws the first field: in 1D one line per method (and the
@@ -518,6 +738,7 @@ func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, met
 	name := sols[0].Fields[0].Name
 	switch sols[0].Mesh.Dim {
 	case 1:
+		// One plot with a line per method.
 		var series []plot.Series
 		for k, sol := range sols {
 			series = append(series, plot.NodeSeries(methods[k].String(), sol.Dofs.NodeCoords(0), sol.Fields[0].Values[0]))
@@ -531,12 +752,9 @@ func plotSolutions(path string, sols []*problem.Solution, m *compiler.Model, met
 		}
 		return plot.Line(path, series, opts)
 	case 2:
+		paths := plotPaths(path, 2, methods)
 		for k, sol := range sols {
-			p := path
-			if len(sols) > 1 {
-				ext := filepath.Ext(path)
-				p = strings.TrimSuffix(path, ext) + "_" + methods[k].String() + ext
-			}
+			p := paths[k]
 			nv := sol.Mesh.NumVertices()
 			title := fmt.Sprintf("%s: %s, %s", m.Name, name, methods[k])
 			if err := plot.ColourMap(p, plot.MeshTriangulation(sol.Mesh), sol.Fields[0].Values[0][:nv], plot.MapOptions{Title: title, ValueLabel: name}); err != nil {

@@ -5,14 +5,16 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"math/big"
+	"path/filepath"
 	"strings"
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/lang/source"
+	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/mesh"
-	"github.com/formwright/formwright/runtime/output"
 	"github.com/formwright/formwright/runtime/plot"
 	"github.com/formwright/formwright/runtime/study"
 )
@@ -33,6 +35,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	base := fs.Int("base", 0, "cells per unit length on the coarsest mesh (default 8 in 1D, 4 in 2D, 2 in 3D)")
 	method := fs.String("method", "", "methods to verify: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	pattern := fs.String("pattern", "", "cell pattern: tri, tri-flip, crossed, quad (2D), tet, hex (3D) (default: by element)")
+	meshFlag := fs.String("mesh", "", "coarsest mesh: a mesh spec of any extent or a .vtu file; each level refines the last uniformly (default: the unit interval, square or cube with --base cells per unit length)")
 	tol := fs.Float64("tol", 0.2, "allowed shortfall of the observed order on the finest pair")
 	asJSON := fs.Bool("json", false, "print the report as JSON")
 	plotPath := fs.String("plot", "", "write a log-log convergence plot (PNG)")
@@ -50,16 +53,25 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return usagef("verify takes one model")
 	}
-	if *levels < 2 || *levels > 8 {
+	switch {
+	case *levels < 2 || *levels > 8:
 		return usagef("--levels must be between 2 and 8")
+	case *base < 0 || *base > 1024:
+		return usagef("--base %d: give a number of cells per unit length from 1 to 1024 (0: the default)", *base)
+	case !(*tol >= 0) || math.IsInf(*tol, 0):
+		return usagef("--tol %g: the allowed shortfall of an order is a number ≥ 0", *tol)
+	case !(*speed > 0) || math.IsInf(*speed, 0):
+		return usagef("--speed %g: give a positive, finite advection speed", *speed)
+	case math.IsNaN(*until) || math.IsInf(*until, 0) || *until < 0:
+		return usagef("--until %g: give a positive, finite time", *until)
+	case *steps0 < 1 || *steps0 > maxSteps:
+		return usagef("--steps %d: give a number from 1 to %d", *steps0, maxSteps)
 	}
-	if err := nl.check(fs); err != nil { // cmd_nonlinear.go
+	if *plotPath != "" && filepath.Ext(*plotPath) != ".png" {
+		return usagef("--plot: plots are PNG files: name it FILE.png")
+	}
+	if err := checkOutputs([]string{pos[0]}, outputTarget{"--plot", *plotPath}); err != nil {
 		return err
-	}
-	if *plotPath != "" {
-		if err := output.CheckNotInput(*plotPath, pos[0]); err != nil {
-			return &usageError{err.Error()}
-		}
 	}
 	m, err := loadModel(pos[0])
 	if err != nil {
@@ -96,14 +108,26 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if n0 == 0 {
 		n0 = map[int]int{1: 8, 2: 4, 3: 2}[m.Dim]
 	}
-	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol,
-		Mesh: func(l int) (study.Level, error) { return studyMesh(m.Dim, *pattern, n0<<l) }}
-	nl.apply(&cfg.Solve, stderr, true) // nonlinear iteration limits and tolerances (cmd_nonlinear.go)
-	if !*quiet {
-		cfg.Progress = func(meth string, level, cells int) {
-			fmt.Fprintf(stderr, "  %s: level %d, %d cells\n", meth, level, cells)
+	meshOf := func(l int) (study.Level, error) { return studyMesh(m.Dim, *pattern, n0<<l) }
+	if *meshFlag != "" {
+		if *pattern != "" && *pattern != map[bool]map[int]string{false: {2: "tri", 3: "tet"}, true: {2: "quad", 3: "hex"}}[tensor][m.Dim] {
+			return usagef("--pattern applies to the built-in unit meshes; --mesh gives the cells itself")
+		}
+		if meshOf, err = refinedLevels(m, *meshFlag, *levels); err != nil {
+			return err
 		}
 	}
+	cfg := study.Config{Model: m.Name, Dim: m.Dim, Levels: *levels, Tol: *tol, Mesh: meshOf}
+	prog := newProgress(stderr, *quiet)
+	defer prog.done()
+	cfg.Progress = func(meth string, level, cells int) {
+		prog.say(fmt.Sprint("level", meth, level), "%s: level %d of %d, %d cells", meth, level, *levels, cells)
+	}
+	cfg.Solve.Iterations = prog.iterations
+	if err := nl.check(fs); err != nil { // cmd_nonlinear.go
+		return err
+	}
+	nl.apply(&cfg.Solve, stderr, true, prog.done) // nonlinear iteration limits and tolerances
 	kmax := 1
 	for i, u := range m.Unknowns {
 		l2, h1, checkH1 := m.ExpectedOrders(i)
@@ -112,7 +136,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		kmax = max(kmax, u.Element.Degree)
 	}
 	for _, meth := range methods {
-		lf, err := nl.lower(mf.Model, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
+		lf, _, err := nl.lower(mf.Model, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}
@@ -120,9 +144,6 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		if lf.IsTransient() {
 			if !(*until > 0) {
 				return usagef("model %s is transient: give the comparison time with --until T", m.Name)
-			}
-			if *steps0 < 1 {
-				return usagef("--steps must be at least 1")
 			}
 			// Δt ∝ h^(k+1) keeps the first-order time error below the
 			// spatial L² error O(h^(k+1)).
@@ -160,7 +181,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		rep.WriteTables(stdout)
 	}
 	if *sweep != "" {
-		lv, err := studyMesh(m.Dim, *pattern, n0<<(*levels-1))
+		lv, err := meshOf(*levels - 1)
 		if err != nil {
 			return err
 		}
@@ -182,12 +203,6 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			study.WriteSweep(stdout, rep.Sweep, *sweep)
 		}
 	}
-	if *plotPath != "" {
-		k := float64(m.Unknowns[0].Element.Degree)
-		if err := plot.Convergence(*plotPath, rep.Curves(), plot.ConvOptions{Title: "convergence: " + m.Name, Orders: []float64{k, k + 1}, Rates: true}); err != nil {
-			return fmt.Errorf("plot: %w", err)
-		}
-	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -196,7 +211,14 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if len(rep.Failed) > 0 && *check {
+		// A failed study writes no plot: nothing is half-done.
 		return &convergenceError{rep.Failed}
+	}
+	if *plotPath != "" {
+		k := float64(m.Unknowns[0].Element.Degree)
+		if err := plot.Convergence(*plotPath, rep.Curves(), plot.ConvOptions{Title: "convergence: " + m.Name, Orders: []float64{k, k + 1}, Rates: true}); err != nil {
+			return ioError(fmt.Errorf("plot: %w", err))
+		}
 	}
 	if !*asJSON {
 		if len(rep.Failed) > 0 {
@@ -250,6 +272,35 @@ func studyMesh(dim int, pattern string, n int) (study.Level, error) {
 		return study.Level{}, &usageError{err.Error()}
 	}
 	return study.Level{Mesh: msh, N: n, H: 1 / float64(n)}, nil
+}
+
+// refinedLevels returns the meshes of a study on any mesh: the mesh of
+// spec (a spec of any extent, or a .vtu file), refined uniformly once per
+// level (mesh.Refine keeps the boundary parts). Each level's h is its
+// largest cell diameter and N the number of cells (there is no "per unit
+// length" on a general domain).
+func refinedLevels(m *compiler.Model, spec string, levels int) (func(int) (study.Level, error), error) {
+	base, _, err := buildMesh(m, spec)
+	if err != nil {
+		return nil, err
+	}
+	if cells := float64(base.NumCells()) * math.Pow(float64(int(1)<<base.Dim), float64(levels-1)); cells > float64(mesh.CellLimit()) {
+		return nil, usagef("--mesh with --levels %d would reach %g cells, more than this machine can solve (%d)", levels, cells, mesh.CellLimit())
+	}
+	meshes := []*mesh.Mesh{base}
+	return func(l int) (study.Level, error) {
+		for len(meshes) <= l {
+			meshes = append(meshes, mesh.Refine(meshes[len(meshes)-1]))
+		}
+		msh := meshes[l]
+		h := 0.0
+		var buf []float64
+		for c := 0; c < msh.NumCells(); c++ {
+			buf = msh.CellCoords(c, buf)
+			h = math.Max(h, element.Diameter(msh.Cell, buf))
+		}
+		return study.Level{Mesh: msh, N: msh.NumCells(), H: h}, nil
+	}, nil
 }
 
 // sweepForm is the manufactured problem of method meth with the swept

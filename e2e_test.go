@@ -50,7 +50,7 @@ func solveModel(t *testing.T, src string, meth compiler.Method, spec string) *pr
 }
 
 // exact1D is the solution of a u' − k u” = s on (0,1), u(0) = 0, u(1) = 1
-// (REFERENCES.md, checked): u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1),
+// (testdata/REFERENCES.md, checked): u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1),
 // Pe = a/k, written in the overflow-free form for large Pe.
 func exact1D(a, k, s, x float64) float64 {
 	pe := a / k
@@ -76,7 +76,7 @@ tau for u = tau_optimal(abs(a), k, h)
 // TestSUPGNodallyExact1D: with the optimal τ, SUPG on a uniform P1 mesh is
 // nodally exact for constant a, k and zero or constant source (Christie,
 // Griffiths, Mitchell & Zienkiewicz 1976; Brooks & Hughes 1982, CMAME 32;
-// Donea & Huerta 2003, ch. 2; REFERENCES.md). This runs the model text
+// Donea & Huerta 2003, ch. 2; testdata/REFERENCES.md). This runs the model text
 // through the compiler, so it checks the derived SUPG form and the
 // library's τ, not a hand-built one. 10 cells, element Péclet α = a h/(2k).
 func TestSUPGNodallyExact1D(t *testing.T) {
@@ -99,7 +99,7 @@ func TestSUPGNodallyExact1D(t *testing.T) {
 }
 
 // TestGalerkinOscillates1D: Galerkin at α = 2.5 > 1 gives a non-monotone,
-// oscillating solution; REFERENCES.md gives the maximum nodal error 0.436
+// oscillating solution; testdata/REFERENCES.md gives the maximum nodal error 0.436
 // (checked by independent computation).
 func TestGalerkinOscillates1D(t *testing.T) {
 	const n, alpha = 10, 2.5
@@ -132,7 +132,7 @@ func TestGalerkinOscillates1D(t *testing.T) {
 		t.Errorf("Galerkin at α = 2.5: %d sign changes of successive differences, want oscillation", changes)
 	}
 	if math.Abs(worst-0.436) > 1e-3 {
-		t.Errorf("Galerkin at α = 2.5: maximum nodal error %.4f, REFERENCES.md gives 0.436", worst)
+		t.Errorf("Galerkin at α = 2.5: maximum nodal error %.4f, testdata/REFERENCES.md gives 0.436", worst)
 	}
 }
 
@@ -314,7 +314,7 @@ tau for u = tau_codina(norm(a), k, 1, h)
 // SUPG with its pressure-stabilising and grad–div terms, P1/P1) on a 64²
 // mesh reproduces the centreline velocities of Ghia, Ghia & Shin (1982,
 // J. Comput. Phys. 48, Tables I and II, Re = 100) to 2.5 % of the lid
-// speed (REFERENCES.md: 1–2 % is what good solvers achieve on fine
+// speed (testdata/REFERENCES.md: 1–2 % is what good solvers achieve on fine
 // meshes; measured here 1.7 % and 1.3 %). Skipped under -short.
 func TestLidDrivenCavityRe100(t *testing.T) {
 	if testing.Short() {
@@ -421,7 +421,7 @@ tau for p = tau_stokes_continuity(tau_stokes_momentum(nu, h), h)
 // TestVerifyStokesEqualOrder: with the pressure-stabilising terms the
 // derivation produces from the block operator, equal-order P1/P1 Stokes
 // converges with velocity L² order 2 and H¹ order 1 and pressure L² order
-// ≥ 1 (Hughes, Franca & Balestra 1986, CMAME 59; REFERENCES.md, from
+// ≥ 1 (Hughes, Franca & Balestra 1986, CMAME 59; testdata/REFERENCES.md, from
 // memory). Galerkin P1/P1 violates the inf–sup condition: with the
 // pressure mean fixed its matrix is still singular (spurious pressure
 // modes besides the constant), and verify exits 1 saying so.

@@ -21,7 +21,7 @@ var layering = []struct {
 	{"lang", []string{"lang/source"}},
 	{"compiler/ir", []string{"lang/source"}},
 	{"compiler/notation", []string{"compiler/ir", "lang/source"}},
-	{"compiler", []string{"compiler/ir", "lang", "lang/source", "runtime/cell", "runtime/quadrature", "runtime/element"}},
+	{"compiler", []string{"compiler/ir", "compiler/notation", "lang", "lang/source", "runtime/cell", "runtime/quadrature", "runtime/element"}},
 	{"compiler/render", []string{"compiler", "compiler/ir", "compiler/notation", "lang/source"}},
 	{"compiler/gogen", []string{"compiler/ir", "compiler/notation", "lang/source", "runtime/cell", "runtime/quadrature", "runtime/element"}},
 	{"compiler/", []string{"compiler/", "lang/", "runtime/cell", "runtime/quadrature", "runtime/element"}},

@@ -8,9 +8,12 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/signal"
 	"strings"
+	"syscall"
 
 	"github.com/formwright/formwright/lang/source"
+	"github.com/formwright/formwright/runtime/output"
 	"github.com/formwright/formwright/stdlib"
 )
 
@@ -20,6 +23,9 @@ const (
 	exitNumeric  = 1 // a numerical failure: no convergence, breakdown, non-finite values, a failed check
 	exitBadInput = 2 // bad input or usage
 	exitInternal = 3 // a bug: an internal error reached the top level
+	// exitInterrupted is the shell's status for a process ended by
+	// SIGINT (128 + 2).
+	exitInterrupted = 130
 )
 
 // usageError is bad usage or bad input: exit status 2.
@@ -64,6 +70,16 @@ func usage(w io.Writer) {
 }
 
 func main() {
+	// An interrupted command removes the temporary file of a write in
+	// progress, so it leaves nothing half-written (README, "Commands").
+	sig := make(chan os.Signal, 1)
+	signal.Notify(sig, os.Interrupt, syscall.SIGTERM)
+	go func() {
+		s := <-sig
+		output.RemovePending()
+		fmt.Fprintf(os.Stderr, "formwright: %v: stopped, nothing written\n", s)
+		os.Exit(exitInterrupted)
+	}()
 	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 }
 

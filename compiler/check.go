@@ -72,6 +72,18 @@ type checker struct {
 	// Expression context.
 	allowTest bool
 	params    map[string]ir.Expr
+	// expansions shares the expansion of a formula among calls with the
+	// same arguments, so a chain of formulas that each call the previous
+	// one twice stays linear in size (a DAG, not a tree).
+	expansions map[expansionKey]ir.Expr
+}
+
+// expansionKey identifies a formula call by the formula, the context and
+// the identity of its checked arguments.
+type expansionKey struct {
+	fm        *formula
+	allowTest bool
+	args      string
 }
 
 // Check resolves and types a parsed model file, returning the model and
@@ -94,6 +106,9 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	c.checkMeans(f)
 	c.checkStabilisation(f)
 	c.checkTimeStep()
+	if len(c.errs) == 0 {
+		c.checkFinite()
+	}
 	c.errs.Sort()
 	return c.m, c.errs
 }
@@ -162,7 +177,7 @@ func (c *checker) checkTimeStep() {
 			if e == nil {
 				continue
 			}
-			ir.Inspect(e, func(x ir.Expr) bool {
+			ir.InspectOnce(e, func(x ir.Expr) bool {
 				if _, ok := x.(*ir.TimeDeriv); ok {
 					transient = true
 				}
@@ -176,7 +191,7 @@ func (c *checker) checkTimeStep() {
 		if e == nil {
 			return nil
 		}
-		ir.Inspect(e, func(x ir.Expr) bool {
+		ir.InspectOnce(e, func(x ir.Expr) bool {
 			if s, ok := x.(*ir.Sym); ok && s.Kind == ir.CellQuantity && s.Q == ir.TimeStep && at == nil {
 				at = s
 			}
@@ -370,7 +385,7 @@ func libraryHint(opts CheckOptions) string {
 // depsOf collects the variables an expression depends on.
 func depsOf(e ir.Expr) ir.Deps {
 	var d ir.Deps
-	ir.Inspect(e, func(n ir.Expr) bool {
+	ir.InspectOnce(e, func(n ir.Expr) bool {
 		switch n := n.(type) {
 		case *ir.Coord:
 			d |= ir.DepAxis(n.Axis)
@@ -796,6 +811,9 @@ func (c *checker) ident(e *lang.Ident) ir.Expr {
 }
 
 func (c *checker) suggest(name string) string {
+	if c.errs.Full() {
+		return "" // the error will be dropped: spare the search
+	}
 	var cand []string
 	cand = append(cand, builtinNames...)
 	for k := range c.unknowns {
@@ -1041,12 +1059,17 @@ func (c *checker) expandFormula(e *lang.Call, fm *formula) ir.Expr {
 		return nil
 	}
 	bind := map[string]ir.Expr{}
+	key := expansionKey{fm: fm, allowTest: c.allowTest}
 	for i, a := range e.Args {
 		v := c.expr(a)
 		if v == nil {
 			return nil
 		}
 		bind[fm.params[i].Text] = v
+		key.args += fmt.Sprintf("%p,", v)
+	}
+	if v, ok := c.expansions[key]; ok {
+		return v
 	}
 	save := c.params
 	c.params = bind
@@ -1054,6 +1077,12 @@ func (c *checker) expandFormula(e *lang.Call, fm *formula) ir.Expr {
 	v := c.expr(fm.body)
 	fm.active = false
 	c.params = save
+	if v != nil {
+		if c.expansions == nil {
+			c.expansions = map[expansionKey]ir.Expr{}
+		}
+		c.expansions[key] = v
+	}
 	return v
 }
 

@@ -142,3 +142,31 @@ func (m *Model) HasMean(i int) bool {
 	}
 	return false
 }
+
+// IsTransient reports whether an equation holds a time derivative of an
+// unknown (the model is stepped in time).
+func (m *Model) IsTransient() bool {
+	for _, eq := range m.Equations {
+		if _, td := derivOrder(eq.Written); td {
+			return true
+		}
+	}
+	return false
+}
+
+// IsConstraint reports whether unknown i is absent from its own equation
+// (the pressure in div(vel) = 0): it then acts as a constraint on the
+// other unknowns, and its block of the assembled matrix is zero or a small
+// stabilisation term.
+func (m *Model) IsConstraint(i int) bool {
+	for _, eq := range m.Equations {
+		if eq.For != i {
+			continue
+		}
+		return !ir.Contains(eq.Written, func(e ir.Expr) bool {
+			f, ok := e.(*ir.Field)
+			return ok && f.Role == ir.Trial && f.Index == i
+		})
+	}
+	return false
+}

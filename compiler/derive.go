@@ -98,6 +98,9 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 		return nil, err
 	}
 	d.Notes = galerkinNotes(m)
+	for _, name := range m.FreeConstants() {
+		d.Notes = append(d.Notes, Note{Warning, fmt.Sprintf("%s is fixed only up to a constant: adding a constant to it changes no equation, and no value, Robin or mean condition holds it, so the discrete problem is singular; add a value condition on part of the boundary or \"mean %s = 0\"", name, baseName(name))})
+	}
 	if len(methods) == 0 {
 		methods = m.Methods
 	}
@@ -203,7 +206,7 @@ func galerkinNotes(m *Model) []Note {
 // space.
 func coefVaries(t ir.Expr) bool {
 	varies := false
-	ir.Inspect(t, func(e ir.Expr) bool {
+	ir.InspectOnce(t, func(e ir.Expr) bool {
 		if s, ok := e.(*ir.Sym); ok && s.Kind == ir.Coefficient && s.Deps.Spatial() {
 			varies = true
 		}
@@ -225,7 +228,7 @@ func advectionDivergences(m *Model, split []Split) []ir.Expr {
 			continue
 		}
 		for _, t := range additiveTerms(adv) {
-			ir.Inspect(t, func(e ir.Expr) bool {
+			ir.InspectOnce(t, func(e ir.Expr) bool {
 				d, ok := e.(*ir.Dot)
 				if !ok {
 					return true
@@ -352,7 +355,7 @@ func (m *Model) usesInverseEstimate() bool {
 	var uses func(e ir.Expr) bool
 	uses = func(e ir.Expr) bool {
 		found := false
-		ir.Inspect(e, func(x ir.Expr) bool {
+		ir.InspectOnce(e, func(x ir.Expr) bool {
 			s, ok := x.(*ir.Sym)
 			if !ok || found {
 				return !found
@@ -376,4 +379,14 @@ func (m *Model) usesInverseEstimate() bool {
 		}
 	}
 	return false
+}
+
+// baseName is an unknown's name without a component index.
+func baseName(s string) string {
+	for i, r := range s {
+		if r == '[' {
+			return s[:i]
+		}
+	}
+	return s
 }

@@ -42,7 +42,7 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	}
 	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
 	for _, u := range m.Unknowns {
-		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element})
+		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element, Constraint: m.IsConstraint(u.Index)})
 	}
 	in, err := l.collect(Simplify(ir.Sum(p, cell...), m.Dim), ir.Domain{})
 	if err != nil {
@@ -93,6 +93,12 @@ type lowerer struct {
 	m    *Model
 	dim  int
 	memo map[string][]ir.Expr
+	// done holds the components of every node lowered so far, so a
+	// subexpression shared by several parents is lowered once and its
+	// components shared.
+	done map[ir.Expr][]ir.Expr
+	// tt memoises whether a lowered node holds a trial or test field.
+	tt map[ir.Expr]bool
 	// fine holds the definitions of the fine-scale and Gateaux symbols of
 	// the form being lowered, by symbol name.
 	fine map[string]ir.Expr
@@ -103,7 +109,8 @@ type lowerer struct {
 }
 
 func newLowerer(m *Model) *lowerer {
-	return &lowerer{m: m, dim: m.Dim, memo: map[string][]ir.Expr{}, fine: map[string]ir.Expr{}}
+	return &lowerer{m: m, dim: m.Dim, memo: map[string][]ir.Expr{}, fine: map[string]ir.Expr{},
+		done: map[ir.Expr][]ir.Expr{}, tt: map[ir.Expr]bool{}}
 }
 
 func (l *lowerer) pow(r int) int {
@@ -124,6 +131,15 @@ func (l *lowerer) Lower(e ir.Expr) []ir.Expr {
 }
 
 func (l *lowerer) lower(e ir.Expr) []ir.Expr {
+	if c, ok := l.done[e]; ok {
+		return c
+	}
+	c := l.lowerNode(e)
+	l.done[e] = c
+	return c
+}
+
+func (l *lowerer) lowerNode(e ir.Expr) []ir.Expr {
 	p := e.Pos()
 	at := ir.At{P: p}
 	switch e := e.(type) {
@@ -408,7 +424,7 @@ type mono struct {
 // coefficient, at most one trial derivative and at most one test
 // derivative, distributing only over sums that hold fields (so coefficient
 // expressions stay compact).
-func monomials(e ir.Expr) ([]mono, error) {
+func (l *lowerer) monomials(e ir.Expr) ([]mono, error) {
 	switch e := e.(type) {
 	case *ir.FieldD:
 		switch e.Field.Role {
@@ -418,10 +434,10 @@ func monomials(e ir.Expr) ([]mono, error) {
 			return []mono{{test: e}}, nil
 		}
 	case *ir.Add:
-		if hasTT(e) {
+		if l.hasTT(e) {
 			var out []mono
 			for _, t := range e.Terms {
-				ms, err := monomials(t)
+				ms, err := l.monomials(t)
 				if err != nil {
 					return nil, err
 				}
@@ -430,10 +446,10 @@ func monomials(e ir.Expr) ([]mono, error) {
 			return out, nil
 		}
 	case *ir.Mul:
-		if hasTT(e) {
+		if l.hasTT(e) {
 			acc := []mono{{}}
 			for _, f := range e.Factors {
-				ms, err := monomials(f)
+				ms, err := l.monomials(f)
 				if err != nil {
 					return nil, err
 				}
@@ -458,20 +474,43 @@ func monomials(e ir.Expr) ([]mono, error) {
 			return acc, nil
 		}
 	case *ir.Pow:
-		if hasTT(e) {
+		if l.hasTT(e) {
 			if n, ok := e.Exp.(*ir.Num); ok && n.Val.Cmp(big.NewRat(1, 1)) == 0 {
-				return monomials(e.Base)
+				return l.monomials(e.Base)
 			}
 			return nil, &NonlinearError{e.P, "the unknown or the test function appears inside a power"}
 		}
 	}
-	if hasTT(e) {
+	if l.hasTT(e) {
 		return nil, &NonlinearError{e.Pos(), "the unknown or the test function appears inside a function"}
 	}
 	return []mono{{coef: []ir.Expr{e}}}, nil
 }
 
 func hasTT(e ir.Expr) bool { return ir.HasRole(e, ir.Trial) || ir.HasRole(e, ir.Test) }
+
+// hasTT is hasTT memoised per node.
+func (l *lowerer) hasTT(e ir.Expr) bool {
+	if v, ok := l.tt[e]; ok {
+		return v
+	}
+	v := false
+	switch e := e.(type) {
+	case *ir.FieldD:
+		v = e.Field.Role == ir.Trial || e.Field.Role == ir.Test
+	case *ir.Field:
+		v = e.Role == ir.Trial || e.Role == ir.Test
+	default:
+		for _, k := range ir.Children(e) {
+			if l.hasTT(k) {
+				v = true
+				break
+			}
+		}
+	}
+	l.tt[e] = v
+	return v
+}
 
 func fdKey(f *ir.FieldD) [7]int {
 	if f == nil {
@@ -494,7 +533,7 @@ func lessKey(a, b [7]int) bool {
 func (l *lowerer) collect(integrand ir.Expr, dom ir.Domain) (ir.Integral, error) {
 	out := ir.Integral{Domain: dom}
 	low := l.Lower(integrand)[0]
-	ms, err := monomials(low)
+	ms, err := l.monomials(low)
 	if err != nil {
 		return out, err
 	}

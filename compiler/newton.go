@@ -362,7 +362,7 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 	j := form.Jacobian
 	step := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
 	for _, u := range m.Unknowns {
-		step.Unknowns = append(step.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element})
+		step.Unknowns = append(step.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element, Constraint: m.IsConstraint(u.Index)})
 	}
 	in, err := l.collect(Simplify(ir.Sum(p, j.CellIntegrand(m.Dim), ir.Sum(p, residual...)), m.Dim), ir.Domain{})
 	if err != nil {

@@ -21,7 +21,7 @@ const maxSimplifyRounds = 100
 //
 // Simplify is a pure function: it never modifies e.
 func Simplify(e ir.Expr, dim int) ir.Expr {
-	s := simplifier{dim: dim}
+	s := simplifier{dim: dim, derivs: map[derivKey]ir.Expr{}, fields: map[ir.Expr]bool{}}
 	e = s.fixedPoint(e)
 	// At the root, a number times a sum is written as a sum: −(a + b)
 	// becomes −a − b, so a simplified operator reads as a list of terms.
@@ -46,9 +46,75 @@ func (s simplifier) fixedPoint(e ir.Expr) ir.Expr {
 	return e
 }
 
-type simplifier struct{ dim int }
+type simplifier struct {
+	dim int
+	// derivs remembers each derivative rule applied to a node, so that
+	// two derivatives of one shared subexpression (the chain rule on
+	// sin(f) + cos(f)) are taken once and their results shared: a graph
+	// of shared subexpressions stays a graph instead of unfolding into a
+	// tree exponentially larger.
+	derivs map[derivKey]ir.Expr
+	// fields memoises hasField per node.
+	fields map[ir.Expr]bool
+}
+
+// hasField reports whether e holds a field, memoised per node so that
+// asking it of every node of a graph costs linear time.
+func (s simplifier) hasField(e ir.Expr) bool {
+	if v, ok := s.fields[e]; ok {
+		return v
+	}
+	v := false
+	switch e := e.(type) {
+	case *ir.Field, *ir.FieldD:
+		v = true
+	case *ir.Named:
+		v = false // lowering names only field-free quantities
+	default:
+		for _, k := range ir.Children(e) {
+			if s.hasField(k) {
+				v = true
+				break
+			}
+		}
+	}
+	s.fields[e] = v
+	return v
+}
+
+// derivKey is a derivative node by what it differentiates: the operand
+// node, the operator and its axis.
+type derivKey struct {
+	x    ir.Expr
+	op   byte // 'g' grad, 'd' div, 'l' lap, 'p' partial, 't' time
+	axis int
+}
 
 func (s simplifier) node(e ir.Expr) ir.Expr {
+	var k derivKey
+	switch e := e.(type) {
+	case *ir.Grad:
+		k = derivKey{e.X, 'g', 0}
+	case *ir.Div:
+		k = derivKey{e.X, 'd', 0}
+	case *ir.Lap:
+		k = derivKey{e.X, 'l', 0}
+	case *ir.Partial:
+		k = derivKey{e.X, 'p', e.Axis}
+	case *ir.TimeDeriv:
+		k = derivKey{e.X, 't', 0}
+	default:
+		return s.rewrite(e)
+	}
+	if r, ok := s.derivs[k]; ok {
+		return r
+	}
+	r := s.rewrite(e)
+	s.derivs[k] = r
+	return r
+}
+
+func (s simplifier) rewrite(e ir.Expr) ir.Expr {
 	switch e := e.(type) {
 	case *ir.Add:
 		return s.add(e)
@@ -171,14 +237,15 @@ func (s simplifier) add(e *ir.Add) ir.Expr {
 		}
 	}
 	type term struct {
-		c    *big.Rat
-		rest ir.Expr
-		p    source.Pos
+		c     *big.Rat
+		rest  ir.Expr
+		p     source.Pos
+		field bool // rest holds a field
 	}
 	var terms []term
 	for _, t := range others {
 		c, rest := splitCoef(t)
-		terms = append(terms, term{new(big.Rat).Set(c), rest, t.Pos()})
+		terms = append(terms, term{new(big.Rat).Set(c), rest, t.Pos(), rest != nil && s.hasField(rest)})
 	}
 	// Terms holding fields come first (so an operator reads before its
 	// source), then the rest; a pure number last.
@@ -190,8 +257,7 @@ func (s simplifier) add(e *ir.Add) ir.Expr {
 		case b == nil:
 			return true
 		}
-		fa, fb := ir.HasField(a), ir.HasField(b)
-		if fa != fb {
+		if fa, fb := terms[i].field, terms[j].field; fa != fb {
 			return fa
 		}
 		return ir.Compare(a, b) < 0

@@ -127,8 +127,27 @@ func mulPair(at *ir.Mul, a, b ir.Expr) ir.Expr {
 }
 
 // trialDegree is the polynomial degree of t in the trial fields; bad is the
-// node where a trial field sits inside a nonlinear function.
+// node where a trial field sits inside a nonlinear function. Each node of
+// t is examined once, so shared subexpressions cost linear time.
 func trialDegree(t ir.Expr) (deg int, bad ir.Expr) {
+	type result struct {
+		deg int
+		bad ir.Expr
+	}
+	memo := map[ir.Expr]result{}
+	var walk func(t ir.Expr) (int, ir.Expr)
+	walk = func(t ir.Expr) (int, ir.Expr) {
+		if r, ok := memo[t]; ok {
+			return r.deg, r.bad
+		}
+		d, b := trialDegreeNode(t, walk)
+		memo[t] = result{d, b}
+		return d, b
+	}
+	return walk(t)
+}
+
+func trialDegreeNode(t ir.Expr, trialDegree func(ir.Expr) (int, ir.Expr)) (deg int, bad ir.Expr) {
 	switch t := t.(type) {
 	case *ir.Field:
 		if t.Role == ir.Trial {
@@ -195,33 +214,42 @@ func trialDegree(t ir.Expr) (deg int, bad ir.Expr) {
 // derivOrder is the order of the highest spatial derivative applied to a
 // trial field in t, and whether a time derivative is.
 func derivOrder(t ir.Expr) (order int, timeDeriv bool) {
-	var walk func(e ir.Expr, depth int)
-	walk = func(e ir.Expr, depth int) {
+	// below(e) is the highest number of derivatives between e and a
+	// trial field under it (−1: none), computed once per node.
+	memo := map[ir.Expr]int{}
+	var below func(e ir.Expr) int
+	below = func(e ir.Expr) int {
+		if v, ok := memo[e]; ok {
+			return v
+		}
+		v := -1
 		switch e := e.(type) {
 		case *ir.Field:
-			if e.Role == ir.Trial && depth > order {
-				order = depth
+			if e.Role == ir.Trial {
+				v = 0
 			}
-			return
 		case *ir.Grad, *ir.Div, *ir.Partial:
-			walk(ir.Children(e)[0], depth+1)
-			return
+			if d := below(ir.Children(e)[0]); d >= 0 {
+				v = d + 1
+			}
 		case *ir.Lap:
-			walk(e.X, depth+2)
-			return
+			if d := below(e.X); d >= 0 {
+				v = d + 2
+			}
 		case *ir.TimeDeriv:
-			if ir.HasRole(e.X, ir.Trial) {
+			v = below(e.X)
+			if v >= 0 {
 				timeDeriv = true
 			}
-			walk(e.X, depth)
-			return
+		default:
+			for _, k := range ir.Children(e) {
+				v = max(v, below(k))
+			}
 		}
-		for _, k := range ir.Children(e) {
-			walk(k, depth)
-		}
+		memo[e] = v
+		return v
 	}
-	walk(t, 0)
-	return order, timeDeriv
+	return max(0, below(t)), timeDeriv
 }
 
 // trialFactor splits a product that is linear in the unknown into the one

@@ -180,7 +180,7 @@ func splitTimeDerivatives(c ir.Expr, dim int) (ir.Expr, []timePart, error) {
 		}
 		return x
 	})
-	ms, err := monomials(marked)
+	ms, err := newLowerer(&Model{Dim: dim}).monomials(marked)
 	if err != nil {
 		return nil, nil, fmt.Errorf("a coefficient is not linear in the time derivative of the iterate: %v", err)
 	}

@@ -31,13 +31,15 @@ func Parse(filename string, src []byte) (*File, source.ErrorList) {
 	// the first ones in the file.
 	var raw source.ErrorList
 	p := &parser{filename: filename, src: src, errs: &raw}
-	if p.lex() {
+	if len(src) > MaxSize {
+		raw.Append(source.Pos{File: filename, Line: 1, Col: 1}, source.Pos{}, fmt.Sprintf("the file has %d bytes; models are limited to %d", len(src), MaxSize), "")
+	} else if p.lex() {
 		lw := &lowerer{errs: &raw}
 		for _, c := range p.chunks() {
 			if p.errorLinesBefore(p.toks[c.from].Pos.Offset) > source.MaxErrors {
 				break // the errors of this and later statements would be dropped anyway
 			}
-			if c.bad || c.empty {
+			if c.bad || c.empty || p.tooDeep(c) {
 				continue
 			}
 			peek, err := lexer.Upgrade(&replay{toks: p.toks[c.from:c.to], eof: p.eofAt(c.to)}, tokWhite, tokComment)
@@ -60,6 +62,38 @@ func Parse(filename string, src []byte) (*File, source.ErrorList) {
 		errs.Add(e.Pos, e.End, e.Msg, e.Hint)
 	}
 	return f, errs
+}
+
+// MaxNesting bounds how deeply an expression may nest: brackets inside
+// brackets, and the powers and signs of one statement (a^b^c and - -x nest
+// to the right). Every stage that follows walks expressions recursively, so
+// the bound keeps a hostile or generated model from exhausting the stack.
+// Real models nest a few levels.
+const MaxNesting = 100
+
+// MaxSize is the largest model file, in bytes, that Parse accepts (a model
+// is a page of text; a generated one may be longer).
+const MaxSize = 4 << 20
+
+// tooDeep reports, and marks as an error, a statement whose expressions
+// nest deeper than MaxNesting.
+func (p *parser) tooDeep(c chunk) bool {
+	depth, chain := 0, 0
+	for _, t := range p.toks[c.from:c.to] {
+		switch t.Value {
+		case "(", "[":
+			depth++
+		case ")", "]":
+			depth--
+		case "^", "-", "+":
+			chain++
+		}
+		if depth > MaxNesting || chain > 10*MaxNesting {
+			p.errs.Append(posOf(t.Pos), tokEnd(t), fmt.Sprintf("the expression nests too deeply (more than %d brackets, or more than %d powers and signs in one statement)", MaxNesting, 10*MaxNesting), "split it into several given statements")
+			return true
+		}
+	}
+	return false
 }
 
 // errorLinesBefore counts the distinct lines holding errors that start

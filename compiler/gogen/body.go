@@ -1,869 +1,488 @@
 package gogen
 
 import (
-	"fmt"
 	"math"
 	"sort"
-	"strings"
-
-	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/compiler/notation"
-	"github.com/formwright/formwright/runtime/cell"
-	"github.com/formwright/formwright/runtime/element"
+	"strconv"
 )
 
 // A body is the code of one Cell method, or of one local facet of a Facet
-// method: the element computation for one quadrature rule.
+// method: the element computation for one quadrature rule. It is built in
+// phases, each a method below with one job:
+//
+//	previous        the previous iterate, zeros when there is none
+//	cellQuantities  geometry, cell quantities and coefficients constant in the cell
+//	guard           NaN output on a non-positive Jacobian determinant
+//	direct          everything integrated in advance: one assignment per entry
+//	accumulated     otherwise: local accumulators, the pre-integrated entries,
+//	                the quadrature loop (pointQuantities, basisLoops,
+//	                entries, loopEntries), mirror and scatter
 
-type fieldInfo struct {
-	elem  *element.Element
-	ei    int // index into bodyGen.elems
-	comps int
-	off   int
+// bodyWriter holds what the phases share: the scheduler that names the
+// DAG nodes and the set of nodes the body needs.
+type bodyWriter struct {
+	g    *bodyGen
+	sc   *scheduler
+	need map[int]bool
+	sym  bool
+	n    int
 }
 
-// facetGeom is the quadrature data of one local facet that the
-// interpreted facet kernel uses (runtime/interp): constant reference
-// tangents of the facet parametrisation and the reference outward normal.
-type facetGeom struct {
-	tang [2][3]float64
-	nref [3]float64
-}
-
-type tabs struct {
-	val, grad, hess [][]float64 // [q][...]
-}
-
-type bodyGen struct {
-	c        cell.Type
-	dim      int
-	n        int
-	fields   []fieldInfo
-	elems    []*element.Element // distinct field elements
-	geom     *element.Element
-	pts, wts []float64
-	nq       int
-	facet    *facetGeom
-	affine   bool
-	loop     bool   // loop mode: basis functions in generated loops, not unrolled
-	prefix   string // table name prefix
-	names    *fileNames
-
-	d     *dag
-	etab  []tabs // per distinct element
-	gtab  tabs
-	used  map[string]string // table name -> declaration
-	order []string
-
-	memo map[string]int
-	err  error
-
-	usesPrev bool
-}
-
-func (g *bodyGen) fail(format string, a ...any) int {
-	if g.err == nil {
-		g.err = fmt.Errorf(format, a...)
+// body builds the statements of one element computation from its groups.
+func (g *bodyGen) body(gs []*group, sym bool, cm *commenter, side string) (*bodyPlan, error) {
+	bil, lin := g.blocks(gs)
+	roots := []int{g.det()}
+	pre := g.preIntegrate(append(append([]*block{}, bil...), lin...), sym, cm, side, &roots)
+	point, loops := g.pointwise(bil, lin, sym, cm, side, &roots)
+	if g.err != nil {
+		return nil, g.err
 	}
-	return g.d.konst(0)
-}
-
-func tabulate(e *element.Element, pts []float64, nq, d int) tabs {
-	n := e.NumNodes()
-	var t tabs
-	for q := 0; q < nq; q++ {
-		xi := pts[q*d : (q+1)*d]
-		v, gr, h := make([]float64, n), make([]float64, n*d), make([]float64, n*d*d)
-		e.Eval(xi, v)
-		e.EvalGrad(xi, gr)
-		e.EvalHess(xi, h)
-		t.val, t.grad, t.hess = append(t.val, v), append(t.grad, gr), append(t.hess, h)
+	sc := newScheduler(g.d)
+	w := &bodyWriter{g: g, sc: sc, need: sc.needed(roots), sym: sym, n: g.n}
+	var out []stmt
+	out = append(out, w.previous()...)
+	out = append(out, w.cellQuantities()...)
+	perPoint := g.d.nodes[g.det()].lv == lvPoint
+	if !perPoint {
+		out = append(out, w.guard())
 	}
-	return t
-}
-
-func (g *bodyGen) init() {
-	g.d = newDAG()
-	g.memo = map[string]int{}
-	g.used = map[string]string{}
-	g.nq = len(g.wts)
-	for _, e := range g.elems {
-		g.etab = append(g.etab, tabulate(e, g.pts, g.nq, g.dim))
+	if len(point) == 0 && len(loops) == 0 && !perPoint {
+		out = append(out, w.direct(pre)...)
+	} else {
+		out = append(out, w.accumulated(pre, point, loops, roots, perPoint)...)
 	}
-	g.gtab = tabulate(g.geom, g.pts, g.nq, g.dim)
+	return &bodyPlan{facet: -1, points: g.nq, sym: sym, stmts: out, tables: g.order, prev: g.usesPrev,
+		usesSign: sc.usesSign, usesMin: sc.usesMin, usesMax: sc.usesMax}, nil
 }
 
-// entry returns the node for table data[q][idx]: a constant when the value
-// is the same at every point, else a load from a package-level table.
-// symA is the basis index of loop mode: the node is built once for a
-// basis function index that the generated basis loop supplies.
-const symA = -1
-
-// entryAt is entry for basis function a (symA: the loop variable) whose
-// data start at a*stride+off.
-func (g *bodyGen) entryAt(name string, data [][]float64, ei, a, stride, off int) int {
-	if a != symA {
-		return g.entry(name, data, a*stride+off)
+// previous makes the previous iterate available (zeros when the input has
+// none), if the body reads it.
+func (w *bodyWriter) previous() []stmt {
+	if !w.g.usesPrev {
+		return nil
 	}
-	g.declare(name, data)
-	return g.d.basisLeaf(name, stride, off, ei)
+	return []stmt{commentStmt{[]string{" The previous iterate is zero when there is none."}}, previousStmt{w.n}}
 }
 
-func (g *bodyGen) entry(name string, data [][]float64, idx int) int {
-	v0 := data[0][idx]
-	same := true
-	for q := 1; q < len(data); q++ {
-		if data[q][idx] != v0 {
-			same = false
-			break
-		}
-	}
-	if same {
-		return g.d.konst(v0)
-	}
-	g.declare(name, data)
-	return g.d.leaf(fmt.Sprintf("%s[q][%d]", name, idx), lvPoint)
+// cellQuantities defines the values constant in the cell.
+func (w *bodyWriter) cellQuantities() []stmt {
+	out := []stmt{commentStmt{[]string{" Per cell: geometry, cell quantities and coefficients constant in the cell."}}}
+	return append(out, w.sc.define(w.need, lvCell, 0)...)
 }
 
-func (g *bodyGen) declare(name string, data [][]float64) {
-	if _, ok := g.used[name]; !ok {
-		var b strings.Builder
-		fmt.Fprintf(&b, "%s = [%d][%d]float64{\n", name, len(data), len(data[0]))
-		for _, row := range data {
-			b.WriteString("{")
-			for i, v := range row {
-				if i > 0 {
-					b.WriteString(", ")
-				}
-				b.WriteString(literalBare(v))
-			}
-			b.WriteString("},\n")
-		}
-		b.WriteString("}")
-		g.used[name] = b.String()
-		g.order = append(g.order, name)
-	}
-}
+// guard is the test of the Jacobian determinant.
+func (w *bodyWriter) guard() stmt { return guardStmt{w.sc.ref(w.g.det())} }
 
-func literalBare(v float64) string {
-	s := literal(v)
-	return strings.TrimSuffix(strings.TrimPrefix(s, "("), ")")
-}
-
-func (g *bodyGen) memoize(key string, f func() int) int {
-	if id, ok := g.memo[key]; ok {
-		return id
-	}
-	id := f()
-	g.memo[key] = id
-	return id
-}
-
-// Reference data.
-
-// tabName names the table of kind (Val, Grad, Hess) of distinct element
-// ei, or of the geometry element for ei < 0.
-func (g *bodyGen) tabName(ei int, kind string) string {
-	if ei < 0 {
-		return fmt.Sprintf("%sGeom%s", g.prefix, kind)
-	}
-	return fmt.Sprintf("%sBasis%d%s", g.prefix, g.elems[ei].Degree, kind)
-}
-
-func (g *bodyGen) refVal(ei, a int) int {
-	if ei < 0 {
-		return g.entry(g.tabName(ei, "Val"), g.gtab.val, a)
-	}
-	return g.entryAt(g.tabName(ei, "Val"), g.etab[ei].val, ei, a, 1, 0)
-}
-
-func (g *bodyGen) refGrad(ei, a, m int) int {
-	if ei < 0 {
-		return g.entry(g.tabName(ei, "Grad"), g.gtab.grad, a*g.dim+m)
-	}
-	return g.entryAt(g.tabName(ei, "Grad"), g.etab[ei].grad, ei, a, g.dim, m)
-}
-
-func (g *bodyGen) refHess(ei, a, m, n int) int {
-	d := g.dim
-	if m > n {
-		m, n = n, m // symmetric
-	}
-	if ei < 0 {
-		return g.entry(g.tabName(ei, "Hess"), g.gtab.hess, (a*d+m)*d+n)
-	}
-	return g.entryAt(g.tabName(ei, "Hess"), g.etab[ei].hess, ei, a, d*d, m*d+n)
-}
-
-// Geometry (the formulas of element.Table.Map, so the results agree with
-// the interpreted kernels to round-off).
-
-func (g *bodyGen) coord(n, i int) int {
-	return g.d.leaf(fmt.Sprintf("x[%d]", n*g.dim+i), lvCell)
-}
-
-func (g *bodyGen) jac(i, j int) int {
-	return g.memoize(fmt.Sprintf("J%d%d", i, j), func() int {
-		var ts []int
-		for n := 0; n < g.geom.NumNodes(); n++ {
-			ts = append(ts, g.d.mul(g.coord(n, i), g.refGrad(-1, n, j)))
-		}
-		return g.d.name(g.d.add(ts...), fmt.Sprintf("j%d%d", i, j))
-	})
-}
-
-func (g *bodyGen) det() int {
-	return g.memoize("det", func() int {
-		J := func(i, j int) int { return g.jac(i, j) }
-		m, s := g.d.mul, g.d.sub
-		var det int
-		switch g.dim {
-		case 1:
-			det = J(0, 0)
-		case 2:
-			det = s(m(J(0, 0), J(1, 1)), m(J(0, 1), J(1, 0)))
-		case 3:
-			det = g.d.add(m(J(0, 0), g.cof(0)), m(J(0, 1), g.cof(1)), m(J(0, 2), g.cof(2)))
-		}
-		return g.d.name(det, "detJ")
-	})
-}
-
-// cof returns the cofactors c00, c01, c02 of a 3×3 Jacobian.
-func (g *bodyGen) cof(k int) int {
-	J := func(i, j int) int { return g.jac(i, j) }
-	m, s := g.d.mul, g.d.sub
-	switch k {
-	case 0:
-		return s(m(J(1, 1), J(2, 2)), m(J(1, 2), J(2, 1)))
-	case 1:
-		return s(m(J(1, 2), J(2, 0)), m(J(1, 0), J(2, 2)))
-	}
-	return s(m(J(1, 0), J(2, 1)), m(J(1, 1), J(2, 0)))
-}
-
-// adj is entry (i, j) of the adjugate of J, so that ∂ξ_i/∂x_j =
-// adj(i, j)/det J.
-func (g *bodyGen) adj(i, j int) int {
-	return g.memoize(fmt.Sprintf("adj%d%d", i, j), func() int {
-		J := func(i, j int) int { return g.jac(i, j) }
-		m, s := g.d.mul, g.d.sub
-		switch g.dim {
-		case 1:
-			return g.d.konst(1)
-		case 2:
-			switch 2*i + j {
-			case 0:
-				return J(1, 1)
-			case 1:
-				return g.d.neg(J(0, 1))
-			case 2:
-				return g.d.neg(J(1, 0))
-			}
-			return J(0, 0)
-		}
-		switch 3*i + j {
-		case 0:
-			return g.cof(0)
-		case 1:
-			return s(m(J(0, 2), J(2, 1)), m(J(0, 1), J(2, 2)))
-		case 2:
-			return s(m(J(0, 1), J(1, 2)), m(J(0, 2), J(1, 1)))
-		case 3:
-			return g.cof(1)
-		case 4:
-			return s(m(J(0, 0), J(2, 2)), m(J(0, 2), J(2, 0)))
-		case 5:
-			return s(m(J(0, 2), J(1, 0)), m(J(0, 0), J(1, 2)))
-		case 6:
-			return g.cof(2)
-		case 7:
-			return s(m(J(0, 1), J(2, 0)), m(J(0, 0), J(2, 1)))
-		}
-		return s(m(J(0, 0), J(1, 1)), m(J(0, 1), J(1, 0)))
-	})
-}
-
-// rdet is 1/det J.
-func (g *bodyGen) rdet() int {
-	return g.memoize("rdet", func() int { return g.d.name(g.d.recip(g.det()), "rdetJ") })
-}
-
-// jinv is ∂ξ_i/∂x_j.
-func (g *bodyGen) jinv(i, j int) int {
-	return g.memoize(fmt.Sprintf("K%d%d", i, j), func() int {
-		if g.dim == 1 {
-			return g.d.name(g.rdet(), "k00")
-		}
-		return g.d.name(g.d.mul(g.adj(i, j), g.rdet()), fmt.Sprintf("k%d%d", i, j))
-	})
-}
-
-// scaledR is scale·(1/det J)^p: the integration factor of a pre-integrated
-// pair whose two basis derivatives carry p adjugate factors in all. In a
-// cell the scale is det J itself, so the powers cancel exactly.
-func (g *bodyGen) scaledR(p int) int {
-	return g.memoize(fmt.Sprintf("sR%d", p), func() int {
-		if g.facet != nil {
-			return g.d.mul(g.measure(), g.d.powInt(g.rdet(), p))
-		}
-		switch p {
-		case 0:
-			return g.det()
-		case 1:
-			return g.d.konst(1)
-		}
-		return g.d.powInt(g.rdet(), p-1)
-	})
-}
-
-func (g *bodyGen) point(k int) int {
-	return g.memoize(fmt.Sprintf("X%d", k), func() int {
-		var ts []int
-		for n := 0; n < g.geom.NumNodes(); n++ {
-			ts = append(ts, g.d.mul(g.coord(n, k), g.refVal(-1, n)))
-		}
-		return g.d.name(g.d.add(ts...), fmt.Sprintf("x%d", k))
-	})
-}
-
-func (g *bodyGen) d2x(k, a, b int) int {
-	if a > b {
-		a, b = b, a
-	}
-	return g.memoize(fmt.Sprintf("D2X%d%d%d", k, a, b), func() int {
-		var ts []int
-		for n := 0; n < g.geom.NumNodes(); n++ {
-			ts = append(ts, g.d.mul(g.coord(n, k), g.refHess(-1, n, a, b)))
-		}
-		return g.d.add(ts...)
-	})
-}
-
-func (g *bodyGen) metric(i, j int) int {
-	if i > j {
-		i, j = j, i
-	}
-	return g.memoize(fmt.Sprintf("G%d%d", i, j), func() int {
-		var ts []int
-		for k := 0; k < g.dim; k++ {
-			ts = append(ts, g.d.mul(g.jinv(k, i), g.jinv(k, j)))
-		}
-		return g.d.name(g.d.add(ts...), fmt.Sprintf("metric%d%d", i, j))
-	})
-}
-
-func (g *bodyGen) normal(k int) int {
-	return g.memoize(fmt.Sprintf("N%d", k), func() int {
-		if g.facet == nil {
-			return g.fail("gogen: the outward normal n appears in a cell integral")
-		}
-		nv := func(k int) int {
-			var ts []int
-			for i := 0; i < g.dim; i++ {
-				ts = append(ts, g.d.mul(g.jinv(i, k), g.d.konst(g.facet.nref[i])))
-			}
-			return g.d.add(ts...)
-		}
-		nn := g.memoize("NN", func() int {
-			var sq []int
-			for kk := 0; kk < g.dim; kk++ {
-				sq = append(sq, g.d.mul(nv(kk), nv(kk)))
-			}
-			return g.d.fn(ir.Sqrt, g.d.add(sq...))
-		})
-		return g.d.name(g.d.div(nv(k), nn), fmt.Sprintf("normal%d", k))
-	})
-}
-
-// measure is the surface measure factor of a facet point, |J t_1| (2D) or
-// |J t_1 × J t_2| (3D), 1 in 1D.
-func (g *bodyGen) measure() int {
-	return g.memoize("meas", func() int {
-		d := g.dim
-		if d == 1 {
-			return g.d.konst(1)
-		}
-		var t [2][3]int
-		for m := 0; m < d-1; m++ {
-			for i := 0; i < d; i++ {
-				var ts []int
-				for j := 0; j < d; j++ {
-					ts = append(ts, g.d.mul(g.jac(i, j), g.d.konst(g.facet.tang[m][j])))
-				}
-				t[m][i] = g.d.add(ts...)
-			}
-		}
-		var sq []int
-		if d == 2 {
-			sq = []int{g.d.mul(t[0][0], t[0][0]), g.d.mul(t[0][1], t[0][1])}
+// direct writes a body whose entries were all integrated in advance: each
+// entry is one assignment into A or b, the others are zeroed.
+func (w *bodyWriter) direct(pre []accum) []stmt {
+	n := w.n
+	setA, setB := map[int]bool{}, map[int]bool{}
+	for i := range pre {
+		e := &pre[i]
+		if e.array == "acc" {
+			e.array = "A"
+			setA[e.index] = true
 		} else {
-			c := [3]int{
-				g.d.sub(g.d.mul(t[0][1], t[1][2]), g.d.mul(t[0][2], t[1][1])),
-				g.d.sub(g.d.mul(t[0][2], t[1][0]), g.d.mul(t[0][0], t[1][2])),
-				g.d.sub(g.d.mul(t[0][0], t[1][1]), g.d.mul(t[0][1], t[1][0])),
-			}
-			for _, x := range c {
-				sq = append(sq, g.d.mul(x, x))
-			}
+			e.array = "b"
+			setB[e.index] = true
 		}
-		return g.d.name(g.d.fn(ir.Sqrt, g.d.add(sq...)), "surface")
-	})
-}
-
-// scale is the factor of the quadrature weight: det J in a cell, the
-// surface measure on a facet.
-func (g *bodyGen) scale() int {
-	if g.facet != nil {
-		return g.measure()
+		e.assign = true
 	}
-	return g.det()
-}
-
-func (g *bodyGen) weight() int {
-	return g.memoize("w", func() int {
-		var w int
-		if g.nq == 1 {
-			w = g.d.konst(g.wts[0])
-		} else {
-			same := true
-			for _, x := range g.wts {
-				same = same && x == g.wts[0]
-			}
-			if same {
-				w = g.d.konst(g.wts[0])
-			} else {
-				name := g.prefix + "Weights"
-				if _, ok := g.used[name]; !ok {
-					parts := make([]string, len(g.wts))
-					for i, x := range g.wts {
-						parts[i] = literalBare(x)
-					}
-					g.used[name] = fmt.Sprintf("%s = [%d]float64{%s}", name, len(g.wts), strings.Join(parts, ", "))
-					g.order = append(g.order, name)
-				}
-				w = g.d.leaf(name+"[q]", lvPoint)
-			}
-		}
-		return g.d.name(g.d.mul(w, g.scale()), "w")
-	})
-}
-
-func (g *bodyGen) cellDiameter() int {
-	return g.memoize("diam", func() int {
-		nv, d := g.c.NumVertices(), g.dim
-		h2 := -1
-		for a := 0; a < nv; a++ {
-			for b := a + 1; b < nv; b++ {
-				var sq []int
-				for k := 0; k < d; k++ {
-					t := g.d.sub(g.coord(a, k), g.coord(b, k))
-					sq = append(sq, g.d.mul(t, t))
-				}
-				s := g.d.add(sq...)
-				if h2 < 0 {
-					h2 = s
-				} else {
-					h2 = g.d.minmax(opMax, h2, s)
+	var mirrored [][2]int
+	if w.sym {
+		for r := 0; r < n; r++ {
+			for c := r + 1; c < n; c++ {
+				if setA[r*n+c] {
+					setA[c*n+r] = true
+					mirrored = append(mirrored, [2]int{r, c})
 				}
 			}
 		}
-		return g.d.name(g.d.fn(ir.Sqrt, h2), "diameter")
-	})
-}
-
-func (g *bodyGen) cellVolume() int {
-	return g.memoize("vol", func() int {
-		if g.c.IsSimplex() {
-			return g.d.name(g.d.fn(ir.Abs, g.d.mul(g.det(), g.d.konst(g.c.Measure()))), "volume")
-		}
-		return g.d.ext(fmt.Sprintf("kernel.CellVolume(cell.%s, x)", cellIdent(g.c)), lvCell, "volume")
-	})
-}
-
-// Basis derivatives in physical coordinates.
-
-func order(D [3]uint8) int { return int(D[0]) + int(D[1]) + int(D[2]) }
-
-// axes returns the axes of a multi-index of order 1 or 2, lowest first.
-func axes(D [3]uint8) []int {
-	var out []int
-	for k := 0; k < 3; k++ {
-		for r := uint8(0); r < D[k]; r++ {
-			out = append(out, k)
+	}
+	var out []stmt
+	out = append(out, zeroRest("A", n*n, setA)...)
+	out = append(out, zeroRest("b", n, setB)...)
+	out = append(out, w.entries(pre)...)
+	if len(mirrored) > 0 {
+		out = append(out, commentStmt{[]string{" The form is symmetric: mirror the upper triangle."}})
+		for _, rc := range mirrored {
+			out = append(out, mirror("A", n, rc[0], rc[1]))
 		}
 	}
 	return out
 }
 
-func (g *bodyGen) physGrad(ei, a, k int) int {
-	return g.memoize(fmt.Sprintf("g%d.%d.%d", ei, a, k), func() int {
-		var ts []int
-		for m := 0; m < g.dim; m++ {
-			ts = append(ts, g.d.mul(g.jinv(m, k), g.refGrad(ei, a, m)))
+// zeroRest zeroes the entries of an output that no statement sets.
+func zeroRest(array string, n int, set map[int]bool) []stmt {
+	if len(set) == 0 || n-len(set) > 16 {
+		return []stmt{zeroStmt{array, n}}
+	}
+	var out []stmt
+	for k := 0; k < n; k++ {
+		if !set[k] {
+			out = append(out, setStmt{lhs: arrayRef{array, intLit{k}}, x: intLit{0}})
 		}
-		return g.d.add(ts...)
-	})
+	}
+	return out
 }
 
-func (g *bodyGen) physHess(ei, a, k, l int) int {
-	if k > l {
-		k, l = l, k
-	}
-	return g.memoize(fmt.Sprintf("h%d.%d.%d.%d", ei, a, k, l), func() int {
-		// H_kl = Σ_{p≤r} (K_pk K_rl + [p≠r] K_rk K_pl) m_pr: the factors
-		// depend on the point only and are shared by all basis functions.
-		var ts []int
-		for p := 0; p < g.dim; p++ {
-			for r := p; r < g.dim; r++ {
-				ts = append(ts, g.d.mul(g.hessFactor(p, r, k, l), g.refHessMapped(ei, a, p, r)))
-			}
-		}
-		return g.d.add(ts...)
-	})
+// mirror is array[c·n+r] = array[r·n+c].
+func mirror(array string, n, r, c int) stmt {
+	return setStmt{lhs: arrayRef{array, intLit{c*n + r}}, x: arrayRef{array, intLit{r*n + c}}}
 }
 
-// refHessMapped is m_pr = ∂²φ_a/∂ξ_p∂ξ_r − Σ_k ∂φ_a/∂x_k ∂²x_k/∂ξ_p∂ξ_r,
-// the reference Hessian corrected for the curvature of the map, so that
-// the physical Hessian is K^T m K (K = J⁻¹).
-func (g *bodyGen) refHessMapped(ei, a, p, r int) int {
-	if p > r {
-		p, r = r, p // Ĥ and ∂²x/∂ξ² are symmetric
+// accumulated writes a body with a quadrature loop: the entries are
+// summed in local arrays and copied out at the end.
+func (w *bodyWriter) accumulated(pre, point []accum, loops []loopAccum, roots []int, perPoint bool) []stmt {
+	n := w.n
+	hasA, hasB := false, false
+	for _, e := range append(append([]accum{}, pre...), point...) {
+		hasA = hasA || e.array == "acc"
+		hasB = hasB || e.array == "rhs"
 	}
-	return g.memoize(fmt.Sprintf("mm%d.%d.%d.%d", ei, a, p, r), func() int {
-		ts := []int{g.refHess(ei, a, p, r)}
-		for k := 0; k < g.dim; k++ {
-			ts = append(ts, g.d.neg(g.d.mul(g.physGrad(ei, a, k), g.d2x(k, p, r))))
-		}
-		return g.d.add(ts...)
-	})
-}
-
-// basisSum is Σ_D D^D φ_a over the multi-indices Ds (distinct). Two or more
-// second derivatives are summed through the mapped reference Hessian,
-// Σ_(k,l) H_kl = Σ_{p≤r} (Σ_(k,l) hf_prkl) m_pr: the weights are shared by
-// all basis functions at the point, so a Laplacian costs one product per
-// reference entry and basis function instead of one per physical entry.
-func (g *bodyGen) basisSum(ei, a int, Ds [][3]uint8) int {
-	var ts []int
-	var second [][2]int
-	for _, D := range Ds {
-		if order(D) == 2 {
-			ax := axes(D)
-			second = append(second, [2]int{ax[0], ax[1]})
-			continue
-		}
-		ts = append(ts, g.basis(ei, a, D))
+	for _, l := range loops {
+		hasA = hasA || l.nc > 0
+		hasB = hasB || l.nc == 0
 	}
-	if len(second) == 1 {
-		ts = append(ts, g.physHess(ei, a, second[0][0], second[0][1]))
+	var out []stmt
+	if hasA {
+		out = append(out, arrayStmt{"acc", n * n})
 	}
-	if len(second) > 1 {
-		for p := 0; p < g.dim; p++ {
-			for r := p; r < g.dim; r++ {
-				var ws []int
-				for _, kl := range second {
-					ws = append(ws, g.hessFactor(p, r, kl[0], kl[1]))
+	if hasB {
+		out = append(out, arrayStmt{"rhs", n})
+	}
+	arrays, decls := w.basisArrays(roots)
+	out = append(out, decls...)
+	out = append(out, w.entries(pre)...)
+	loop := []stmt{commentStmt{[]string{" Per quadrature point: geometry, coefficients, basis derivatives."}}}
+	loop = append(loop, w.sc.define(w.need, lvPoint, 0)...)
+	if perPoint {
+		loop = append(loop, w.guard())
+	}
+	loop = append(loop, w.basisLoops(arrays)...)
+	loop = append(loop, w.entries(point)...)
+	loop = append(loop, w.loopEntries(loops, arrays)...)
+	out = append(out, forStmt{"q", intLit{0}, w.g.nq, loop})
+	if hasA {
+		if w.sym {
+			out = append(out, commentStmt{[]string{" The form is symmetric: mirror the upper triangle."}})
+			if n <= 12 {
+				for r := 0; r < n; r++ {
+					for c := r + 1; c < n; c++ {
+						out = append(out, mirror("acc", n, r, c))
+					}
 				}
-				ts = append(ts, g.d.mul(g.d.add(ws...), g.refHessMapped(ei, a, p, r)))
+			} else {
+				i, j := varRef{"i"}, varRef{"j"}
+				set := setStmt{lhs: arrayRef{"acc", idxAdd(idxMul(j, n), i)}, x: arrayRef{"acc", idxAdd(idxMul(i, n), j)}}
+				out = append(out, forStmt{"i", intLit{0}, n, []stmt{forStmt{"j", idxAdd(i, intLit{1}), n, []stmt{set}}}})
 			}
 		}
+		out = append(out, copyStmt{"A", "acc", n * n})
+	} else {
+		out = append(out, zeroStmt{"A", n * n})
 	}
-	return g.d.add(ts...)
+	if hasB {
+		out = append(out, copyStmt{"b", "rhs", n})
+	} else {
+		out = append(out, zeroStmt{"b", n})
+	}
+	return out
 }
 
-// hessFactor is K_pk K_rl + [p≠r] K_rk K_pl (K = J⁻¹), p ≤ r, k ≤ l.
-func (g *bodyGen) hessFactor(p, r, k, l int) int {
-	return g.memoize(fmt.Sprintf("hf%d%d%d%d", p, r, k, l), func() int {
-		f := g.d.mul(g.jinv(p, k), g.jinv(r, l))
-		if p != r {
-			f = g.d.add(f, g.d.mul(g.jinv(r, k), g.jinv(p, l)))
+// entries writes accumulations as statements; the comment of an entry
+// whose terms cancel moves to the next one.
+func (w *bodyWriter) entries(list []accum) []stmt {
+	var out []stmt
+	var pending []string
+	for _, e := range list {
+		terms := merge(e.terms)
+		if pending == nil {
+			pending = e.comment
 		}
-		return f
-	})
-}
-
-// basis returns D^D φ_a of distinct element ei at the current point.
-func (g *bodyGen) basis(ei, a int, D [3]uint8) int {
-	switch order(D) {
-	case 0:
-		return g.refVal(ei, a)
-	case 1:
-		return g.physGrad(ei, a, axes(D)[0])
-	}
-	ax := axes(D)
-	return g.physHess(ei, a, ax[0], ax[1])
-}
-
-// Coefficients.
-
-func (g *bodyGen) coef(e ir.Expr) int {
-	if e == nil {
-		return g.fail("gogen: nil coefficient")
-	}
-	if e.Rank() != 0 {
-		return g.fail("gogen: coefficient of rank %d", e.Rank())
-	}
-	d := g.d
-	switch e := e.(type) {
-	case *ir.Named:
-		return g.coef(e.X)
-	case *ir.Num:
-		f, _ := e.Val.Float64()
-		return d.konst(f)
-	case *ir.Const:
-		if e.Name == "pi" {
-			return d.konst(math.Pi)
-		}
-		return g.fail("gogen: unknown constant %q", e.Name)
-	case *ir.Coord:
-		if e.Axis < 0 || e.Axis >= g.dim {
-			return g.fail("gogen: coordinate axis %d in %d dimensions", e.Axis, g.dim)
-		}
-		return g.point(e.Axis)
-	case *ir.Time:
-		return d.leaf("in.Time", lvCell)
-	case *ir.CellQ:
-		switch e.Q {
-		case ir.Diameter:
-			return g.cellDiameter()
-		case ir.Volume:
-			return g.cellVolume()
-		case ir.TimeStep:
-			return d.leaf("in.Step", lvCell)
-		case ir.Metric:
-			if e.I < 0 || e.I >= g.dim || e.J < 0 || e.J >= g.dim {
-				return g.fail("gogen: G[%d][%d] in %d dimensions", e.I, e.J, g.dim)
+		if len(terms) == 0 {
+			if e.assign {
+				out = append(out, setStmt{lhs: arrayRef{e.array, intLit{e.index}}, x: intLit{0}})
 			}
-			return g.metric(e.I, e.J)
-		case ir.Normal:
-			if e.I < 0 || e.I >= g.dim {
-				return g.fail("gogen: n[%d] in %d dimensions", e.I, g.dim)
-			}
-			return g.normal(e.I)
-		}
-		return g.fail("gogen: unknown quantity %v", e.Q)
-	case *ir.FieldD:
-		if e.Field == nil || e.Field.Role != ir.Previous {
-			return g.fail("gogen: a trial or test function inside a coefficient")
-		}
-		if e.DT != 0 || order(e.D) > 2 {
-			return g.fail("gogen: unsupported derivative of a previous iterate")
-		}
-		f := e.Field.Index
-		if f < 0 || f >= len(g.fields) || e.Comp < 0 || e.Comp >= g.fields[f].comps {
-			return g.fail("gogen: previous iterate of field %d component %d out of range", f, e.Comp)
-		}
-		for k := g.dim; k < 3; k++ {
-			if e.D[k] != 0 {
-				return g.fail("gogen: derivative along axis %d in %d dimensions", k, g.dim)
-			}
-		}
-		g.usesPrev = true
-		fi := g.fields[f]
-		nn := fi.elem.NumNodes()
-		var ts []int
-		for a := 0; a < nn; a++ {
-			pv := d.leaf(fmt.Sprintf("pv[%d]", fi.off+e.Comp*nn+a), lvCell)
-			ts = append(ts, d.mul(pv, g.basis(fi.ei, a, e.D)))
-		}
-		return d.add(ts...)
-	case *ir.Add:
-		if len(e.Terms) == 0 {
-			return g.fail("gogen: empty sum")
-		}
-		var ts []int
-		for _, t := range e.Terms {
-			ts = append(ts, g.coef(t))
-		}
-		return d.add(ts...)
-	case *ir.Mul:
-		if len(e.Factors) == 0 {
-			return g.fail("gogen: empty product")
-		}
-		var fs []int
-		for _, f := range e.Factors {
-			fs = append(fs, g.coef(f))
-		}
-		return d.mul(fs...)
-	case *ir.Pow:
-		b := g.coef(e.Base)
-		if n, ok := integerExp(e.Exp); ok {
-			return d.powInt(b, n)
-		}
-		return d.pow(b, g.coef(e.Exp))
-	case *ir.Call:
-		if len(e.Args) != e.Fn.Arity() {
-			return g.fail("gogen: %s with %d arguments", e.Fn, len(e.Args))
-		}
-		switch e.Fn {
-		case ir.Min:
-			return d.minmax(opMin, g.coef(e.Args[0]), g.coef(e.Args[1]))
-		case ir.Max:
-			return d.minmax(opMax, g.coef(e.Args[0]), g.coef(e.Args[1]))
-		case ir.Norm:
-			return g.fail("gogen: norm of a vector in a lowered coefficient")
-		}
-		if e.Fn.GoName() == "" && e.Fn != ir.Coth && e.Fn != ir.Sign {
-			return g.fail("gogen: function %s", e.Fn)
-		}
-		return d.fn(e.Fn, g.coef(e.Args[0]))
-	}
-	return g.fail("gogen: unsupported node %T in a lowered coefficient", e)
-}
-
-// integerExp returns n if the exponent is an exact small integer (as the
-// interpreted tape decides).
-func integerExp(e ir.Expr) (int, bool) {
-	n, ok := e.(*ir.Num)
-	if !ok || !n.Val.IsInt() || !n.Val.Num().IsInt64() {
-		return 0, false
-	}
-	v := n.Val.Num().Int64()
-	if v < -64 || v > 64 {
-		return 0, false
-	}
-	return int(v), true
-}
-
-// Terms grouped per (test, trial) pair, as the interpreted kernel groups
-// them.
-
-type termKey struct {
-	tf, tc, uf, uc int
-	tD, uD         [3]uint8
-	linear         bool
-}
-
-type group struct {
-	key   termKey
-	terms []ir.Term
-	coef  int // node of the summed coefficient
-	cellA bool
-}
-
-func (g *bodyGen) checkFD(f *ir.FieldD, role ir.Role, what string) error {
-	if f == nil || f.Field == nil {
-		return fmt.Errorf("gogen: %s function missing in a term", what)
-	}
-	if f.Field.Role != role {
-		return fmt.Errorf("gogen: %s slot holds a %v field", what, f.Field.Role)
-	}
-	if f.Field.Index < 0 || f.Field.Index >= len(g.fields) {
-		return fmt.Errorf("gogen: %s field index %d out of range", what, f.Field.Index)
-	}
-	if f.Comp < 0 || f.Comp >= g.fields[f.Field.Index].comps {
-		return fmt.Errorf("gogen: %s component %d of field %q out of range", what, f.Comp, f.Field.Name)
-	}
-	if f.DT != 0 {
-		return fmt.Errorf("gogen: time derivative of the %s function", what)
-	}
-	if order(f.D) > 2 {
-		return fmt.Errorf("gogen: derivative of order > 2 of the %s function", what)
-	}
-	for k := g.dim; k < 3; k++ {
-		if f.D[k] != 0 {
-			return fmt.Errorf("gogen: derivative along axis %d in %d dimensions", k, g.dim)
-		}
-	}
-	return nil
-}
-
-func (g *bodyGen) groups(bil, lin []ir.Term) ([]*group, error) {
-	var out []*group
-	find := func(k termKey) *group {
-		for _, gr := range out {
-			if gr.key == k {
-				return gr
-			}
-		}
-		gr := &group{key: k}
-		out = append(out, gr)
-		return gr
-	}
-	for _, t := range bil {
-		if err := g.checkFD(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
-		if err := g.checkFD(t.Trial, ir.Trial, "trial"); err != nil {
-			return nil, err
-		}
-		k := termKey{t.Test.Field.Index, t.Test.Comp, t.Trial.Field.Index, t.Trial.Comp, t.Test.D, t.Trial.D, false}
-		gr := find(k)
-		gr.terms = append(gr.terms, t)
-	}
-	for _, t := range lin {
-		if t.Trial != nil {
-			return nil, fmt.Errorf("gogen: linear-form term with a trial function")
-		}
-		if err := g.checkFD(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
-		gr := find(termKey{tf: t.Test.Field.Index, tc: t.Test.Comp, tD: t.Test.D, linear: true})
-		gr.terms = append(gr.terms, t)
-	}
-	for i, gr := range out {
-		var cs []int
-		for _, t := range gr.terms {
-			cs = append(cs, g.coef(t.Coef))
-		}
-		gr.coef = g.d.name(g.d.add(cs...), fmt.Sprintf("coef%d", i))
-		gr.cellA = g.affine && !g.loop && g.d.nodes[gr.coef].lv <= lvCell
-	}
-	return out, g.err
-}
-
-// symmetric reports whether the bilinear groups are invariant under
-// swapping test and trial (same coefficient node after hash-consing).
-func symmetric(gs []*group) bool {
-	any := false
-	for _, a := range gs {
-		if a.key.linear {
 			continue
 		}
-		any = true
-		sw := termKey{a.key.uf, a.key.uc, a.key.tf, a.key.tc, a.key.uD, a.key.tD, false}
-		ok := false
-		for _, b := range gs {
-			if !b.key.linear && b.key == sw && b.coef == a.coef {
-				ok = true
+		if pending != nil {
+			out = append(out, commentStmt{pending})
+			pending = nil
+		}
+		out = append(out, setStmt{lhs: arrayRef{e.array, intLit{e.index}}, add: !e.assign, x: w.sum(terms)})
+	}
+	return out
+}
+
+// merge adds up terms with the same factors and drops zero ones.
+func merge(ts []prod) []prod {
+	var out []prod
+	for _, t := range ts {
+		found := false
+		for i := range out {
+			if slicesEqual(out[i].ids, t.ids) {
+				out[i].c += t.c
+				found = true
+				break
 			}
 		}
-		if !ok {
+		if !found {
+			out = append(out, t)
+		}
+	}
+	kept := out[:0]
+	for _, t := range out {
+		if t.c != 0 {
+			kept = append(kept, t)
+		}
+	}
+	return kept
+}
+
+func slicesEqual(a, b []int) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
 			return false
 		}
 	}
-	return any
+	return true
 }
 
-// termComment renders the terms of a group for the comment above the code
-// that implements them.
-func termComment(gr *group) []string {
-	var out []string
-	for _, t := range gr.terms {
-		s := notation.Expr(t.Coef, notation.Text, notation.Names{})
-		if t.Trial != nil {
-			s = "(" + s + ") · " + notation.Expr(t.Trial, notation.Text, notation.Names{})
+// product is c·Π refs (c omitted when it is 1 and there are factors).
+func (w *bodyWriter) product(c float64, ids []int) expr {
+	var x expr
+	if c != 1 || len(ids) == 0 {
+		x = numLit{c}
+	}
+	for _, id := range ids {
+		r := w.sc.ref(id)
+		if x == nil {
+			x = r
+		} else {
+			x = binary{'*', x, r}
 		}
-		s += " · " + notation.Expr(t.Test, notation.Text, notation.Names{})
-		if p := t.Coef.Pos(); p.IsValid() {
-			s += fmt.Sprintf("   [%s:%d]", baseName(p.File), p.Line)
+	}
+	return x
+}
+
+// sum writes Σ terms, a term with a negative constant after the first as
+// a subtraction. Single-factor terms whose constants have the same
+// magnitude are written c·(x ± y ± ...) (the reference integrals of a
+// pre-integrated entry often are), saving a multiplication per term.
+func (w *bodyWriter) sum(ts []prod) expr {
+	type grp struct {
+		c     float64
+		terms []prod
+	}
+	var gs []*grp
+	grouped := false
+	for _, t := range ts {
+		m := math.Abs(t.c)
+		if len(t.ids) == 1 && m != 1 {
+			found := false
+			for _, g := range gs {
+				if g.c == m && len(g.terms[0].ids) == 1 {
+					g.terms = append(g.terms, t)
+					found, grouped = true, true
+					break
+				}
+			}
+			if found {
+				continue
+			}
 		}
-		out = append(out, sanitize(s))
+		gs = append(gs, &grp{c: m, terms: []prod{t}})
+	}
+	if !grouped {
+		var x expr
+		for i, t := range ts {
+			switch {
+			case i == 0:
+				x = w.product(t.c, t.ids)
+			case t.c < 0:
+				x = binary{'-', x, w.product(-t.c, t.ids)}
+			default:
+				x = binary{'+', x, w.product(t.c, t.ids)}
+			}
+		}
+		return x
+	}
+	var x expr
+	for _, g := range gs {
+		var part expr
+		if len(g.terms) == 1 {
+			part = w.product(g.terms[0].c, g.terms[0].ids)
+		} else {
+			var in expr
+			for k, t := range g.terms {
+				r := w.sc.ref(t.ids[0])
+				switch {
+				case k == 0 && t.c < 0:
+					in = negate{r}
+				case k == 0:
+					in = r
+				case t.c < 0:
+					in = binary{'-', in, r}
+				default:
+					in = binary{'+', in, r}
+				}
+			}
+			part = binary{'*', numLit{g.c}, in}
+		}
+		if x == nil {
+			x = part
+		} else {
+			x = binary{'+', x, part}
+		}
+	}
+	return x
+}
+
+// basisArrays declares one local array per basis-loop root (a value the
+// accumulation loops read for every basis function) and names it.
+func (w *bodyWriter) basisArrays(roots []int) (map[int]string, []stmt) {
+	g := w.g
+	arrays := map[int]string{}
+	var ids []int
+	for _, r := range roots {
+		// Table loads are read from the table where they are used.
+		if n := &g.d.nodes[r]; n.lv == lvBasis && n.tab == nil {
+			if _, ok := arrays[r]; !ok {
+				arrays[r] = ""
+				ids = append(ids, r)
+			}
+		}
+	}
+	sort.Ints(ids)
+	var out []stmt
+	for k, id := range ids {
+		name := "basis" + strconv.Itoa(k)
+		w.sc.reserve(name)
+		arrays[id] = name
+		out = append(out, arrayStmt{name, g.elems[g.d.nodes[id].elem-1].NumNodes()})
+	}
+	return arrays, out
+}
+
+// basisLoops writes, per element, the loop over its basis functions that
+// fills the arrays.
+func (w *bodyWriter) basisLoops(arrays map[int]string) []stmt {
+	g := w.g
+	var out []stmt
+	for ei, e := range g.elems {
+		var ids []int
+		for id, name := range arrays {
+			if name != "" && g.d.nodes[id].elem == ei+1 {
+				ids = append(ids, id)
+			}
+		}
+		if len(ids) == 0 {
+			continue
+		}
+		sort.Ints(ids)
+		v := basisVar(ei)
+		body := w.sc.define(w.need, lvBasis, ei+1)
+		for _, id := range ids {
+			body = append(body, setStmt{lhs: arrayRef{arrays[id], varRef{v}}, x: w.sc.ref(id)})
+		}
+		out = append(out, forStmt{v, intLit{0}, e.NumNodes(), body})
 	}
 	return out
 }
 
-func sortedKeys(m map[[2]int]int) [][2]int {
-	var ks [][2]int
-	for k := range m {
-		ks = append(ks, k)
-	}
-	sort.Slice(ks, func(i, j int) bool {
-		if ks[i][0] != ks[j][0] {
-			return ks[i][0] < ks[j][0]
+// loopEntries writes the accumulation loops of loop mode. The row (test
+// function) factors of a block are read once per row into locals, so that
+// the inner loop over columns only loads column factors; a right-hand-side
+// loop over the same rows is fused into the matrix loop, after its column
+// loop, and shares those locals.
+func (w *bodyWriter) loopEntries(loops []loopAccum, arrays map[int]string) []stmt {
+	sc, n := w.sc, w.n
+	at := func(id int, idx string) expr {
+		if name := arrays[id]; name != "" {
+			return arrayRef{name, varRef{idx}}
 		}
-		return ks[i][1] < ks[j][1]
-	})
-	return ks
+		if nd := &sc.d.nodes[id]; nd.tab != nil {
+			return tableRef{nd.tab, varRef{"q"}, basisIndex(idx, nd.stride, nd.off)}
+		}
+		return sc.ref(id)
+	}
+	perBasis := func(id int) bool { return arrays[id] != "" || sc.d.nodes[id].tab != nil }
+	fusedInto := map[int]int{} // rhs loop → matrix loop
+	hasRHS := map[int]int{}    // matrix loop → rhs loop
+	for k, l := range loops {
+		if l.nc != 0 {
+			continue
+		}
+		for m, lm := range loops {
+			if _, taken := hasRHS[m]; !taken && lm.nc != 0 && lm.ro == l.ro && lm.nr == l.nr {
+				fusedInto[k], hasRHS[m] = m, k
+				break
+			}
+		}
+	}
+	var out []stmt
+	for k, l := range loops {
+		if _, ok := fusedInto[k]; ok {
+			continue
+		}
+		rowf := map[int]string{}
+		var hoist []stmt
+		rowFactor := func(id int) expr {
+			if !perBasis(id) {
+				return sc.ref(id)
+			}
+			if _, ok := rowf[id]; !ok {
+				rowf[id] = sc.fresh("rowf")
+				hoist = append(hoist, defStmt{rowf[id], at(id, "i")})
+			}
+			return varRef{rowf[id]}
+		}
+		products := func(l loopAccum, col string) expr {
+			var x expr
+			for _, p := range l.pairs {
+				t := binary{'*', rowFactor(p[0]), at(p[1], col)}
+				if x == nil {
+					x = t
+				} else {
+					x = binary{'+', x, t}
+				}
+			}
+			return x
+		}
+		i := varRef{"i"}
+		out = append(out, commentStmt{l.comment})
+		if l.nc == 0 {
+			sum := products(l, "i")
+			body := append(hoist, setStmt{lhs: arrayRef{"rhs", idxAdd(intLit{l.ro}, i)}, add: true, x: sum})
+			out = append(out, forStmt{"i", intLit{0}, l.nr, body})
+			continue
+		}
+		sum := products(l, "j")
+		var from expr = intLit{0}
+		if l.upper {
+			from = i
+		}
+		row := rowStmt{array: "acc", base: idxAdd(idxMul(idxAdd(intLit{l.ro}, i), n), intLit{l.co}), from: from, n: l.nc, j: "j", x: sum}
+		var tail []stmt
+		if r, ok := hasRHS[k]; ok {
+			tail = []stmt{commentStmt{loops[r].comment},
+				setStmt{lhs: arrayRef{"rhs", idxAdd(intLit{loops[r].ro}, i)}, add: true, x: products(loops[r], "i")}}
+		}
+		body := append(append(hoist, row), tail...)
+		out = append(out, forStmt{"i", intLit{0}, l.nr, body})
+	}
+	return out
+}
+
+// points says "1 point" or "n points".
+func points(n int) string {
+	if n == 1 {
+		return "1 point"
+	}
+	return strconv.Itoa(n) + " points"
 }

@@ -30,31 +30,55 @@ type opKind uint8
 
 const (
 	opConst opKind = iota
-	opLeaf         // a Go operand (x[3], in.Time, tab[q][2]) used in place
-	opExt          // a Go expression evaluated once into a temporary
+	opLeaf         // an input or table entry used in place (see leafKind)
 	opAdd
 	opMul
 	opDiv
 	opNeg
 	opFn  // unary elementary function
-	opMin // min(a, b): the builtin has math.Min's NaN and ±0 rules, inline
+	opMin // min(a, b), with math.Min's NaN and ±0 rules
 	opMax // max(a, b)
-	opPow // math.Pow(a, b)
+	opPow // a^b (math.Pow)
+)
+
+// leafKind says what a leaf reads.
+type leafKind uint8
+
+const (
+	leafCoord leafKind = iota + 1 // coordinate idx of the geometry nodes (node-major)
+	leafPrev                      // local dof idx of the previous iterate
+	leafTime                      // the time t
+	leafStep                      // the time step Δt
+	leafTable                     // table entry [q][idx] at the current point (idx < 0: [q])
+	leafBasis                     // table entry [q][a·stride+off] in the basis loop of element elem−1
+)
+
+// hintRank orders the sources of variable names: a model name beats the
+// generator's own, which beats a generic one.
+type hintRank uint8
+
+const (
+	hintGeneric   hintRank = iota + 1 // coef3
+	hintGenerator                     // detJ, diameter, w
+	hintModel                         // tau_c, kappa
 )
 
 type node struct {
 	op   opKind
 	lv   level
 	val  float64 // opConst
-	code string  // opLeaf, opExt
 	fn   ir.Func // opFn
 	args []int
-	hint string // preferred variable name (generator-chosen identifiers only)
-	elem int    // lvBasis: 1 + the element whose basis loop computes the node
-	// A basis-loop table load tab[q][v*stride+off] (v the loop variable):
-	// tab is empty for other nodes.
-	tab         string
+	// Leaves.
+	leaf        leafKind
+	idx         int
+	tab         *table
 	stride, off int
+	// hint is the preferred variable name, of rank rank; alt the name to
+	// take when hint is taken (model names only).
+	hint, alt string
+	rank      hintRank
+	elem      int // lvBasis: 1 + the element whose basis loop computes the node
 }
 
 type dag struct {
@@ -80,7 +104,11 @@ func (d *dag) intern(n node) int {
 		}
 	}
 	var b strings.Builder
-	fmt.Fprintf(&b, "%d|%d|%d|%s|%d|", n.op, n.lv, n.elem, n.code, n.fn)
+	fmt.Fprintf(&b, "%d|%d|%d|%d|%d|%d|%d|%d|", n.op, n.lv, n.elem, n.fn, n.leaf, n.idx, n.stride, n.off)
+	if n.tab != nil {
+		b.WriteString(n.tab.name)
+	}
+	b.WriteByte('|')
 	if n.op == opConst {
 		b.WriteString(strconv.FormatUint(math.Float64bits(n.val), 16))
 	}
@@ -90,8 +118,8 @@ func (d *dag) intern(n node) int {
 	}
 	k := b.String()
 	if id, ok := d.index[k]; ok {
-		if d.nodes[id].hint == "" {
-			d.nodes[id].hint = n.hint
+		if n.rank > d.nodes[id].rank {
+			d.nodes[id].hint, d.nodes[id].alt, d.nodes[id].rank = n.hint, n.alt, n.rank
 		}
 		return id
 	}
@@ -112,32 +140,21 @@ func (d *dag) isConst(id int) (float64, bool) {
 	return n.val, n.op == opConst
 }
 
-func (d *dag) leaf(code string, lv level) int {
-	return d.intern(node{op: opLeaf, code: code, lv: lv})
+// input is a leaf that reads the kernel input (coordinates, previous
+// iterate, time, time step): constant in a cell.
+func (d *dag) input(k leafKind, idx int) int {
+	return d.intern(node{op: opLeaf, leaf: k, idx: idx, lv: lvCell})
 }
 
-// basisLeaf is a load in the basis loop of element elem.
-// basisLeaf is the load tab[q][v*stride+off] in the basis loop of element
-// elem, v its loop variable.
-func (d *dag) basisLeaf(tab string, stride, off, elem int) int {
-	v := fmt.Sprintf("a%d", elem)
-	return d.intern(node{op: opLeaf, code: tableLoad(tab, v, stride, off), lv: lvBasis, elem: elem + 1, tab: tab, stride: stride, off: off})
+// tableAt is the entry idx of tab at the current quadrature point.
+func (d *dag) tableAt(tab *table, idx int) int {
+	return d.intern(node{op: opLeaf, leaf: leafTable, tab: tab, idx: idx, lv: lvPoint})
 }
 
-// tableLoad is the Go expression tab[q][v*stride+off].
-func tableLoad(tab, v string, stride, off int) string {
-	idx := v
-	if stride != 1 {
-		idx = fmt.Sprintf("%s*%d", v, stride)
-	}
-	if off != 0 {
-		idx = fmt.Sprintf("%s+%d", idx, off)
-	}
-	return fmt.Sprintf("%s[q][%s]", tab, idx)
-}
-
-func (d *dag) ext(code string, lv level, hint string) int {
-	return d.intern(node{op: opExt, code: code, lv: lv, hint: hint})
+// basisLeaf is the load tab[q][a·stride+off] in the basis loop of element
+// elem, a its loop variable.
+func (d *dag) basisLeaf(tab *table, stride, off, elem int) int {
+	return d.intern(node{op: opLeaf, leaf: leafBasis, lv: lvBasis, elem: elem + 1, tab: tab, stride: stride, off: off})
 }
 
 func (d *dag) maxLevel(args []int) level {
@@ -150,10 +167,22 @@ func (d *dag) maxLevel(args []int) level {
 	return lv
 }
 
-// name sets the preferred variable name of id (first hint wins).
-func (d *dag) name(id int, hint string) int {
-	if d.nodes[id].hint == "" && d.nodes[id].op != opConst && d.nodes[id].op != opLeaf {
-		d.nodes[id].hint = hint
+// name sets the preferred variable name of id: the first hint of the
+// highest rank wins.
+func (d *dag) name(id int, hint string, rank hintRank) int {
+	n := &d.nodes[id]
+	if rank > n.rank && n.op != opConst && n.op != opLeaf {
+		n.hint, n.rank = hint, rank
+	}
+	return id
+}
+
+// nameModel names id after a model quantity: plain, or alt when plain is
+// taken (localName).
+func (d *dag) nameModel(id int, plain, alt string) int {
+	n := &d.nodes[id]
+	if hintModel > n.rank && n.op != opConst && n.op != opLeaf {
+		n.hint, n.alt, n.rank = plain, alt, hintModel
 	}
 	return id
 }
@@ -430,217 +459,4 @@ func (d *dag) pow(a, b int) int {
 		return d.fn(ir.Sqrt, a)
 	}
 	return d.intern(node{op: opPow, args: []int{a, b}, lv: d.maxLevel([]int{a, b})})
-}
-
-// literal formats a float64 as a Go constant that reads back exactly.
-func literal(v float64) string {
-	switch {
-	case math.IsNaN(v):
-		return "math.NaN()"
-	case math.IsInf(v, 1):
-		return "math.Inf(1)"
-	case math.IsInf(v, -1):
-		return "math.Inf(-1)"
-	}
-	s := strconv.FormatFloat(v, 'g', -1, 64)
-	if !strings.ContainsAny(s, ".eE") {
-		s += ".0"
-	}
-	if v < 0 {
-		s = "(" + s + ")"
-	}
-	return s
-}
-
-// scheduler assigns variable names and writes the assignments of the nodes
-// needed by a set of roots, level by level.
-type scheduler struct {
-	d       *dag
-	names   map[int]string
-	used    map[string]bool
-	counter map[level]int
-	usesFn  map[string]bool // helper functions referenced (fwSign)
-	// signName is the file's sign helper function.
-	signName string
-}
-
-func newScheduler(d *dag) *scheduler {
-	return &scheduler{d: d, names: map[int]string{}, used: map[string]bool{}, counter: map[level]int{}, usesFn: map[string]bool{}}
-}
-
-// reserve marks identifiers the body declares itself.
-func (s *scheduler) reserve(names ...string) {
-	for _, n := range names {
-		s.used[n] = true
-	}
-}
-
-// fresh returns an unused identifier prefix+N (N from 0) and marks it
-// used; the body declares it itself.
-func (s *scheduler) fresh(prefix string) string {
-	for k := 0; ; k++ {
-		n := fmt.Sprintf("%s%d", prefix, k)
-		if !s.used[n] {
-			s.used[n] = true
-			return n
-		}
-	}
-}
-
-// ref is the Go operand for node id (its variable, leaf code or literal).
-func (s *scheduler) ref(id int) string {
-	n := &s.d.nodes[id]
-	switch n.op {
-	case opConst:
-		return literal(n.val)
-	case opLeaf:
-		return n.code
-	}
-	name, ok := s.names[id]
-	if !ok {
-		panic(fmt.Sprintf("gogen: node %d used before it is scheduled", id))
-	}
-	return name
-}
-
-// addOrder is the order the terms of a sum are written in: the first
-// term that is not a negation leads, so "a - b" rather than "-b + a".
-func (s *scheduler) addOrder(n *node) []int {
-	for i, a := range n.args {
-		an := &s.d.nodes[a]
-		if an.op != opNeg && !(an.op == opConst && an.val < 0) {
-			if i == 0 {
-				return n.args
-			}
-			out := append([]int{a}, n.args[:i]...)
-			return append(out, n.args[i+1:]...)
-		}
-	}
-	return n.args
-}
-
-// needed returns the set of non-trivial nodes reachable from roots.
-func (s *scheduler) needed(roots []int) map[int]bool {
-	need := map[int]bool{}
-	var visit func(id int)
-	visit = func(id int) {
-		if need[id] {
-			return
-		}
-		n := &s.d.nodes[id]
-		if n.op == opConst || n.op == opLeaf {
-			return
-		}
-		need[id] = true
-		args := n.args
-		if n.op == opAdd {
-			args = s.addOrder(n)
-		}
-		for i, a := range args {
-			an := &s.d.nodes[a]
-			if n.op == opAdd && i > 0 && an.op == opNeg {
-				// written as "- operand" (see expr)
-				visit(an.args[0])
-				continue
-			}
-			visit(a)
-		}
-	}
-	for _, r := range roots {
-		visit(r)
-	}
-	return need
-}
-
-// emit writes, in creation order (which is topological), the assignments
-// of the needed nodes of level lv that are not yet scheduled.
-func (s *scheduler) emit(w *strings.Builder, need map[int]bool, lv level) {
-	s.emitElem(w, need, lv, 0)
-}
-
-// emitElem is emit restricted to the basis loop of one element (elem = 1 +
-// element index) when lv is lvBasis.
-func (s *scheduler) emitElem(w *strings.Builder, need map[int]bool, lv level, elem int) {
-	for id := range s.d.nodes {
-		if !need[id] || s.d.nodes[id].lv != lv || s.d.nodes[id].elem != elem {
-			continue
-		}
-		if _, done := s.names[id]; done {
-			continue
-		}
-		expr := s.expr(id)
-		name := s.newName(id, lv)
-		fmt.Fprintf(w, "%s := %s\n", name, expr)
-	}
-}
-
-func (s *scheduler) newName(id int, lv level) string {
-	h := s.d.nodes[id].hint
-	if h != "" && !s.used[h] {
-		s.used[h] = true
-		s.names[id] = h
-		return h
-	}
-	prefix := "c"
-	switch lv {
-	case lvPoint:
-		prefix = "p"
-	case lvBasis:
-		prefix = "e"
-	}
-	for {
-		s.counter[lv]++
-		n := fmt.Sprintf("%s%d", prefix, s.counter[lv])
-		if !s.used[n] {
-			s.used[n] = true
-			s.names[id] = n
-			return n
-		}
-	}
-}
-
-func (s *scheduler) expr(id int) string {
-	n := &s.d.nodes[id]
-	switch n.op {
-	case opExt:
-		return n.code
-	case opAdd:
-		var b strings.Builder
-		for i, a := range s.addOrder(n) {
-			an := &s.d.nodes[a]
-			switch {
-			case an.op == opNeg && i > 0:
-				b.WriteString(" - " + s.ref(an.args[0]))
-			case an.op == opConst && an.val < 0 && i > 0:
-				b.WriteString(" - " + literal(-an.val))
-			default:
-				if i > 0 {
-					b.WriteString(" + ")
-				}
-				b.WriteString(s.ref(a))
-			}
-		}
-		return b.String()
-	case opMul:
-		parts := make([]string, len(n.args))
-		for i, a := range n.args {
-			parts[i] = s.ref(a)
-		}
-		return strings.Join(parts, " * ")
-	case opDiv:
-		return s.ref(n.args[0]) + " / " + s.ref(n.args[1])
-	case opNeg:
-		return "-" + s.ref(n.args[0])
-	case opFn:
-		f := n.fn.GoName()
-		if n.fn == ir.Sign {
-			s.usesFn["fwSign"] = true
-			f = s.signName
-		}
-		return f + "(" + s.ref(n.args[0]) + ")"
-	case opMin, opMax, opPow:
-		f := map[opKind]string{opMin: "min", opMax: "max", opPow: "math.Pow"}[n.op]
-		return f + "(" + s.ref(n.args[0]) + ", " + s.ref(n.args[1]) + ")"
-	}
-	panic(fmt.Sprintf("gogen: no expression for node kind %d", n.op))
 }

@@ -1,15 +1,19 @@
-// Package gogen is formwright's Go back end: it turns the lowered forms of
-// a model (compiler/ir.LoweredForm, one per method) into one Go source
-// file of element kernels that implement runtime/kernel.Kernel and
-// kernel.FacetKernel, and register themselves with runtime/compiled
-// under the content hash of their form (ir.FormHash).
+// Package gogen is formwright's kernel generator: it turns the lowered
+// forms of a model (compiler/ir.LoweredForm, one per method) into element
+// kernels. Generate writes one Go source file whose kernels implement
+// runtime/kernel.Kernel and kernel.FacetKernel and register themselves
+// with runtime/compiled under the content hash of their form
+// (ir.FormHash); GenerateC writes the same kernels as a C99 header and
+// source file for production codes (see "C kernels" below).
 //
 // Place in the flow lang -> compiler -> runtime: the model is parsed
 // (lang), checked, derived and lowered (compiler); gogen writes the
 // kernels; a program that imports the generated package gets them from
 // runtime/compiled, and the runtime falls back to the interpreted kernels
 // (runtime/interp) for any form whose hash is not registered, so a stale
-// generated file is never used for a changed model.
+// generated file is never used for a changed model. The package imports
+// only compiler/ir, compiler/notation and the reference-element packages
+// runtime/cell, runtime/quadrature and runtime/element.
 //
 // # Use
 //
@@ -26,33 +30,43 @@
 // Exactly what the interpreted kernels compute, to round-off: the same
 // cell type per element (P on intervals, triangles and tetrahedra; Q on
 // quadrilaterals and hexahedra), the same quadrature rule
-// (interp.DefaultDegree, quadrature.For; on facets the facet rule mapped
-// into the cell as runtime/interp does), the same geometry
+// (ir.LoweredForm.QuadratureDegree, quadrature.For; on facets the facet
+// rule mapped into the cell, element.NewReferenceFacet), the same geometry
 // (element.Table.Map: Jacobian, inverse, physical gradients and Hessians
 // with the curvature term of non-affine maps), the same cell quantities
-// (kernel.CellDiameter, kernel.CellVolume, G = J⁻ᵀJ⁻¹, the outward
-// unit normal J⁻ᵀN/|J⁻ᵀN|), and NaN-filled output on a cell with a
-// non-positive Jacobian determinant.
+// (the diameter and volume of kernel.CellDiameter and kernel.CellVolume,
+// G = J⁻ᵀJ⁻¹, the outward unit normal J⁻ᵀN/|J⁻ᵀN|), and NaN-filled output
+// on a cell with a non-positive Jacobian determinant.
 //
-// # How
+// # One generator, two printers
+//
+// The generator decides everything once, in a form that does not depend on
+// the target language (syntax.go: a kernel description of typed
+// statements and expressions, tables and per-form layout). The Go printer
+// (goprint.go) spells it as a go/ast tree, printed by go/printer and
+// formatted by go/format; the C printer (cprint.go) spells it as C99. Each
+// phase of a body is a function with one job (body.go): the previous
+// iterate, the per-cell quantities, the Jacobian guard, the pre-integrated
+// entries, the quadrature loop (per-point quantities, basis loops,
+// point-wise entries, accumulation loops), the symmetric mirror and the
+// scatter into A and b.
 //
 // Every value of the element computation is a node of a hash-consed scalar
-// DAG (common-subexpression elimination and constant folding over
+// DAG (dag.go: common-subexpression elimination and constant folding over
 // geometry, coefficients, τ and residual together), tagged with the level
 // it varies at: constants are folded at generation time, cell-constant
 // values (cell_diameter, cell_volume, the Jacobian and G of affine cells,
 // coefficients without x or previous iterates) are computed once per cell
 // before the quadrature loop, and the rest once per point. Basis
 // functions are unrolled and their tabulated reference values are
-// emitted as package-level constant tables; a table entry that is equal
-// at every point (P1 gradients) becomes a literal, so identically zero
-// terms (second derivatives of P1, curvature terms of affine maps) fold
-// away.
+// emitted as constant tables; a table entry that is equal at every point
+// (P1 gradients) becomes a literal, so identically zero terms (second
+// derivatives of P1, curvature terms of affine maps) fold away.
 //
 // On affine cells the terms whose coefficients are constant in the cell
-// are integrated in advance, the tensor-contraction representation of
-// Kirby & Logg (2006, "A compiler for variational forms", ACM TOMS 32;
-// reference recalled from memory):
+// are integrated in advance (preintegrate.go), the tensor-contraction
+// representation of Kirby & Logg (2006, "A compiler for variational
+// forms", ACM Trans. Math. Softw. 32(3) [memory]):
 // A_ij = Σ_(b,a) M^{ba}_ij G_ba, with the reference integrals M^{ba} of
 // pairs of reference derivatives constants of the generated code and the
 // geometry factors G_ba (adjugate entries of J over powers of det J)
@@ -60,11 +74,11 @@
 // The geometric sums of each entry are formed per coefficient atom (a
 // coefficient 1/4·τ + 1/100 has atoms τ and 1) so that τ, the end of the
 // longest dependency chain of a cell, costs one multiply-add per entry.
-// Other terms are accumulated per point as A_ij += Σ_β D^βφ_i t_β[j] with
-// t_β[j] = Σ_α w·coef_αβ·D^αφ_j, terms of equal coefficient (the two
-// halves of a Laplacian) sharing one product. When the bilinear form is
-// symmetric (equal coefficient nodes for every swapped pair), only the
-// upper triangle is computed and mirrored.
+// Other terms are accumulated per point (pointwise.go) as
+// A_ij += Σ_β D^βφ_i t_β[j] with t_β[j] = Σ_α w·coef_αβ·D^αφ_j, terms of
+// equal coefficient (the two halves of a Laplacian) sharing one product.
+// When the bilinear form is symmetric (equal coefficient nodes for every
+// swapped pair), only the upper triangle is computed and mirrored.
 //
 // Elements with more than 8 nodes (Q2, P3 and larger) are not unrolled:
 // the basis derivatives are computed once per point in generated loops
@@ -84,13 +98,87 @@
 // Arithmetic rewrites beyond folding, each exact up to round-off: a/b
 // becomes a·(1/b) with the reciprocal shared; 1/(Σ c_i r^k_i) with
 // r = 1/h becomes h^m/(Σ c_i h^(m−k_i)) (one division for Codina-type
-// τ); √y·√y = y; min and max use the builtins, which have math.Min's and
-// math.Max's NaN and signed-zero rules. The results agree with the
-// interpreted kernels to about 1e-14 of the largest entry.
+// τ); √y·√y = y; min and max keep math.Min's and math.Max's NaN and
+// signed-zero rules. The results agree with the interpreted kernels to
+// about 1e-14 of the largest entry.
 //
-// Generated code is built as text from checked parts, re-parsed with
-// go/parser and formatted with go/format; output that fails is written
-// to <output>_broken.go and reported as a *BrokenError. Identifiers that
-// come from the model (side names) are mangled (Mangle) behind a fixed
-// prefix; model text in comments is sanitised. Output is deterministic.
+// # Reading the generated code
+//
+// A coefficient, τ or fine-scale quantity of the model (an ir.Named node)
+// is computed once, in a variable named after it: tau_c, kappa, a_1 for
+// component 1 of a vector a (names.go). A name that is not a plain
+// identifier in Go, C and C++, or that the generator uses itself, is
+// mangled behind the prefix m_ (a coefficient called len or NAN becomes
+// m_len, m_NAN); Mangle is injective and the prefix keeps mangled names
+// apart from every other name, so hostile model names can neither break
+// nor collide. Other values are c1, c2 ... (per cell), p1 ... (per point)
+// and e1 ... (per basis function); coefficient sums of a term group are
+// coef0, coef1 ...
+//
+// Above each block of statements a comment says which entries it computes
+// and how (integrated in advance, at each quadrature point, in a loop over
+// basis-function pairs), then, per method term, the term as the
+// derivation writes it (Options.Derived; e.g. "SUPG: + Σ_K (τ_c R_c,
+// a·∇v)_K  adr.fw:15") and the lowered terms of the block that it
+// contributes, each with its model line (comments.go). The lists are code
+// blocks of a Go doc comment, which gofmt keeps verbatim.
+//
+// Constants read back as exactly the value they stand for: integers as
+// 2.0, rationals with a non-terminating decimal expansion and a
+// denominator up to 10⁶ as 1.0 / 6 (an exact constant expression in Go
+// and C), anything else as the shortest round-trip decimal (literal.go).
+// Reference integrals are rational; the quadrature sum that computes
+// them is accumulated in double-double arithmetic and rounded to the
+// rational it is within 16 ulps of, so they print as such.
+//
+// Generated Go is built as a go/ast tree, printed, re-parsed and
+// formatted with go/format; output that fails is written to
+// <output>_broken.go and reported as a *BrokenError. Model text in
+// comments is sanitised; side names in string literals are quoted.
+// Output is deterministic.
+//
+// # C kernels
+//
+// GenerateC writes the same kernels, from the same description, as
+// <name>.h and <name>.c for codes in C or C++: C99 that also compiles as
+// C++11 (no designated initialisers, variable-length arrays or compound
+// literals), warning-free with -Wall -Wextra -pedantic -Werror; only
+// <math.h> (and <stddef.h> for NULL); no allocation, no global state (the
+// tables are static const), so the kernels are re-entrant. The comments
+// above each block are those of the Go kernels. The header's leading
+// comment documents the ABI for its model; in short, per form (method m,
+// identifier prefix p):
+//
+//	int p_m_cell(const struct fw_kernel_input *in, double *A, double *b);
+//	int p_m_facet(const struct fw_kernel_input *in, int side, int facet, double *A, double *b);
+//	const struct fw_kernel_layout *p_m_layout(void);
+//
+// A kernel reads in->coords (the cell's vertex coordinates, coords[k*dim
+// + i] coordinate i of vertex k, the vertices in the order of
+// runtime/cell, which the header lists with the local facets and the node
+// order of degree-2 elements), in->previous (the previous iterate's local
+// dofs, NULL for zeros, read only by forms that need it), in->time and
+// in->step (the time step of the kernels of one backward Euler step); it
+// writes every entry of A (N×N, row-major, rows the test dofs) and b (N),
+// and returns FW_KERNEL_OK, or FW_KERNEL_DEGENERATE with A and b NaN when
+// det J ≤ 0. The facet kernel adds a side index (into the layout's sides)
+// and a local facet index and returns FW_KERNEL_BAD_INDEX, writing
+// nothing, for either out of range. Local dofs are field-major, then
+// component, then element node, as in runtime/kernel. struct
+// fw_kernel_layout reports N, the cell, the fields (name, element,
+// components, nodes, first dof), the sides, the quadrature degree and
+// points, whether the previous iterate is read and whether A is symmetric.
+// The shared types are guarded by FW_KERNEL_ABI_1, so the headers of
+// several models can be included together. Identifiers start with the
+// prefix (default: the model file's name); model names reach C only as
+// escaped string literals (octal escapes for every byte that is not
+// printable ASCII, and for '?', so no trigraph) and sanitised comments (no
+// backslash, "??", "*/" or line break).
+//
+// min and max are static helpers with Go's NaN and signed-zero rules (C's
+// fmin and fmax return the other argument for a NaN); the elementary
+// functions are libm's, which may differ from Go's math package in the
+// last bit, so the C kernels agree with the Go and interpreted ones to
+// round-off, as those agree with each other. examples/c_kernels_assembly
+// assembles and solves a model with them.
 package gogen

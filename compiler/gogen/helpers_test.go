@@ -1,6 +1,7 @@
 package gogen
 
 import (
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -8,6 +9,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/stdlib"
 )
@@ -15,6 +17,13 @@ import (
 // lowerAll parses, checks, derives and lowers a model for every method it
 // declares.
 func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
+	t.Helper()
+	forms, _ := lowerDerivation(t, file, src)
+	return forms
+}
+
+// lowerDerivation is lowerAll that also returns the derivation.
+func lowerDerivation(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, *compiler.Derivation) {
 	t.Helper()
 	f, errs := lang.Parse(file, src)
 	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
@@ -43,7 +52,7 @@ func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 		}
 		out = append(out, lf)
 	}
-	return out
+	return out, d
 }
 
 func stdModel(t testing.TB, name string) (string, []byte) {
@@ -142,6 +151,7 @@ stabilise supg, vms
 tau for c = tau_metric_steady(a, kappa, 36)
 `, 0},
 		modelCase{"hostile", "hostile*/\u2028.fw", hostileModel, 0},
+		modelCase{"hostilelocals", "hostile_locals.fw", hostileLocals, 0},
 		// Transient on Q2 in loops, time_step in τ and a time-dependent
 		// source: the kernels of one backward Euler step.
 		modelCase{"heatq2", "heat_q2.fw", `model heat_q2
@@ -195,6 +205,32 @@ stabilise galerkin, supg
 tau for func = 1/(2/cell_diameter + 4*x_/cell_diameter^2)
 `
 
+// hostileLocals has coefficients, varying in the cell so that they become
+// variables, whose names are keywords, builtins or macros of Go, C or C++,
+// or the generator's own names and prefixes, and a scalar a_1 beside
+// component 1 of a vector a.
+const hostileLocals = `# Coefficient names that are keywords, builtins, macros or the generator's own names.
+model hostile_locals
+dimension 2
+use tau
+unknown u: scalar P1
+given len = 1 + x
+given int = [1 + y, 1/2 + x]
+given class = 1/50 * (1 + x*y)
+given NAN = 1/10 + x^2
+given detJ = 2 + y
+given fwFillNaN = 1 + x*x*y
+given m_len = 3 + y
+given A = 1 + x + y
+given q = 2 + x*x
+given a_1 = 1 + x*y*y
+given a = [3 + x, 4 + y]
+equation for u: int . grad(u) - div(class*grad(u)) + NAN*u = len + detJ + fwFillNaN + m_len + A + q + a_1 + a . a
+at all: u = 0
+stabilise galerkin, supg
+tau for u = tau_codina(norm(int), class, NAN, cell_diameter)
+`
+
 const robinQ = `model robin_q
 dimension 2
 use tau, sizes
@@ -241,4 +277,47 @@ at top: flux(c) = sign(x - 1/2) + min(x, 1/2)*c
 stabilise galerkin, supg, gls
 tau for c = tau_doubly_asymptotic(norm(a), kappa, h) + 0*tau_optimal(norm(a), kappa, h)
 `
+}
+
+// derivedOf renders the derived forms of a derivation for the generated
+// comments (Options.Derived), in the words of the derivation printer
+// (compiler/render.WriteText): the Galerkin form, one
+// "± Σ_K (τ R, P v)_K" per stabilisation term, the cross-stress term and
+// the boundary integrals.
+func derivedOf(d *compiler.Derivation) map[string]Derived {
+	m := d.Model
+	names := notation.Names{Test: map[int]string{}}
+	if len(m.Unknowns) == 1 {
+		names.Test[0] = "v"
+	}
+	e := func(x ir.Expr) string { return notation.Expr(x, notation.Text, names) }
+	g := d.Galerkin
+	gal := fmt.Sprintf("B = ∫_Ω %s dx, F = ∫_Ω %s dx", e(g.Bilinear), e(g.Source))
+	bnd := map[string]string{}
+	for _, b := range g.Boundary {
+		bnd[b.Side] = fmt.Sprintf("∫_%s [%s] ds", b.Side, e(b.Integrand))
+	}
+	out := map[string]Derived{}
+	for _, f := range d.Forms {
+		dv := Derived{Galerkin: gal, Boundary: bnd, Stab: map[string]string{}}
+		for _, s := range f.Stab {
+			sign := "+"
+			if s.Sign < 0 {
+				sign = "−"
+			}
+			dv.Stab[s.Tau.Name] = fmt.Sprintf("%s Σ_K (%s R_%s, %s)_K", sign, e(s.Tau), m.Unknowns[s.For].Name, e(s.TestOp))
+		}
+		if f.Cross != nil {
+			dv.Cross = fmt.Sprintf("+ Σ_K (%s)_K", e(f.Cross))
+		}
+		out[f.Method.String()] = dv
+	}
+	return out
+}
+
+// lowerDerived is lowerAll with the derived forms for the comments.
+func lowerDerived(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, map[string]Derived) {
+	t.Helper()
+	forms, d := lowerDerivation(t, file, src)
+	return forms, derivedOf(d)
 }

@@ -14,42 +14,10 @@ func Debug(e Expr) string {
 }
 
 func debug(b *strings.Builder, e Expr) {
-	head := ""
-	switch e := e.(type) {
-	case *Num:
-		b.WriteString(e.Val.RatString())
+	head, leaf := nodeHead(e)
+	if leaf {
+		b.WriteString(head)
 		return
-	case *Const:
-		b.WriteString(e.Name)
-		return
-	case *Coord:
-		b.WriteString(AxisName(e.Axis))
-		return
-	case *Time:
-		b.WriteString("t")
-		return
-	case *Sym:
-		b.WriteString(e.Name)
-		return
-	case *Field:
-		fmt.Fprintf(b, "%s:%s", e.Role, e.Name)
-		return
-	case *FieldD:
-		fmt.Fprintf(b, "%s:%s[%d]d%v", e.Field.Role, e.Field.Name, e.Comp, e.D)
-		return
-	case *CellQ:
-		fmt.Fprintf(b, "%s[%d,%d]", e.Q, e.I, e.J)
-		return
-	case *Named:
-		head = "named " + e.Name()
-	case *Call:
-		head = e.Fn.String()
-	case *Comp:
-		head = fmt.Sprintf("comp%d", e.I)
-	case *Partial:
-		head = "d" + AxisName(e.Axis)
-	default:
-		head = strings.ToLower(fmt.Sprintf("%T", e)[4:])
 	}
 	b.WriteString("(" + head)
 	for _, k := range Children(e) {
@@ -57,4 +25,36 @@ func debug(b *strings.Builder, e Expr) {
 		debug(b, k)
 	}
 	b.WriteString(")")
+}
+
+// nodeHead is the text of a node without its children: the whole text of
+// a leaf, the operator of an inner node.
+func nodeHead(e Expr) (head string, leaf bool) {
+	switch e := e.(type) {
+	case *Num:
+		return e.Val.RatString(), true
+	case *Const:
+		return e.Name, true
+	case *Coord:
+		return AxisName(e.Axis), true
+	case *Time:
+		return "t", true
+	case *Sym:
+		return e.Name, true
+	case *Field:
+		return fmt.Sprintf("%s:%s", e.Role, e.Name), true
+	case *FieldD:
+		return fmt.Sprintf("%s:%s[%d]d%v", e.Field.Role, e.Field.Name, e.Comp, e.D), true
+	case *CellQ:
+		return fmt.Sprintf("%s[%d,%d]", e.Q, e.I, e.J), true
+	case *Named:
+		return "named " + e.Name(), false
+	case *Call:
+		return e.Fn.String(), false
+	case *Comp:
+		return fmt.Sprintf("comp%d", e.I), false
+	case *Partial:
+		return "d" + AxisName(e.Axis), false
+	}
+	return strings.ToLower(fmt.Sprintf("%T", e)[4:]), false
 }

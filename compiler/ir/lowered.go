@@ -70,6 +70,11 @@ type LoweredUnknown struct {
 	Name    string
 	Rank    int // 0 scalar, 1 vector
 	Element Element
+	// Constraint marks an unknown that its own equation does not contain:
+	// it acts as a constraint on the others, like the pressure of an
+	// incompressible flow (div(vel) = 0). Solvers treat its block as a
+	// Schur complement. It is not part of FormHash: kernels do not read it.
+	Constraint bool
 }
 
 // Components is the number of scalar components of the unknown in
@@ -171,7 +176,7 @@ func (lf *LoweredForm) Validate() error {
 	var leafErr error
 	coef := func(e Expr) error {
 		leafErr = nil
-		Inspect(e, func(x Expr) bool {
+		InspectOnce(e, func(x Expr) bool {
 			if leafErr != nil {
 				return false
 			}

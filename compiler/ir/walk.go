@@ -96,14 +96,48 @@ func Inspect(e Expr, f func(Expr) bool) {
 	}
 }
 
+// InspectOnce is Inspect that calls f once per distinct node: a
+// subexpression shared by several parents is visited at its first
+// occurrence only, so the cost is linear in the number of distinct nodes.
+// Use it for questions about which nodes occur, not how often.
+func InspectOnce(e Expr, f func(Expr) bool) {
+	seen := map[Expr]bool{}
+	var walk func(Expr)
+	walk = func(n Expr) {
+		if seen[n] {
+			return
+		}
+		seen[n] = true
+		if !f(n) {
+			return
+		}
+		for _, k := range Children(n) {
+			walk(k)
+		}
+	}
+	walk(e)
+}
+
 // MapUp rebuilds e bottom-up: children first, then f on the rebuilt node.
+// f must be a pure function of its argument's structure: a subexpression
+// shared by several parents (a DAG) is rebuilt once and the result shared,
+// so the cost is linear in the number of distinct nodes, not in the size of
+// the tree they unfold to.
 func MapUp(e Expr, f func(Expr) Expr) Expr {
+	return mapUp(e, f, map[Expr]Expr{})
+}
+
+func mapUp(e Expr, f func(Expr) Expr, done map[Expr]Expr) Expr {
+	if r, ok := done[e]; ok {
+		return r
+	}
+	orig := e
 	kids := Children(e)
 	if len(kids) > 0 {
 		nk := make([]Expr, len(kids))
 		changed := false
 		for i, k := range kids {
-			nk[i] = MapUp(k, f)
+			nk[i] = mapUp(k, f, done)
 			if nk[i] != k {
 				changed = true
 			}
@@ -112,7 +146,9 @@ func MapUp(e Expr, f func(Expr) Expr) Expr {
 			e = WithChildren(e, nk)
 		}
 	}
-	return f(e)
+	r := f(e)
+	done[orig] = r
+	return r
 }
 
 // Expand returns e with every Named node replaced by its definition.
@@ -125,20 +161,27 @@ func Expand(e Expr) Expr {
 	})
 }
 
-// Contains reports whether any node of e satisfies pred.
+// Contains reports whether any node of e satisfies pred. A shared
+// subexpression is looked at once.
 func Contains(e Expr, pred func(Expr) bool) bool {
-	found := false
-	Inspect(e, func(n Expr) bool {
-		if found {
+	seen := map[Expr]bool{}
+	var walk func(Expr) bool
+	walk = func(n Expr) bool {
+		if seen[n] {
 			return false
 		}
+		seen[n] = true
 		if pred(n) {
-			found = true
-			return false
+			return true
 		}
-		return true
-	})
-	return found
+		for _, k := range Children(n) {
+			if walk(k) {
+				return true
+			}
+		}
+		return false
+	}
+	return walk(e)
 }
 
 // HasRole reports whether e contains a field in the given role.

@@ -41,11 +41,22 @@ const (
 type printer struct {
 	style Style
 	names Names
+	// left is how many more nodes the printer may write (MaxNodes).
+	left *int
 }
+
+// MaxNodes bounds the nodes one Expr call writes. An expression whose
+// subexpressions are shared (a chain of formulas that each use the
+// previous one twice) is small as a graph but can be exponentially long
+// as text: past the bound, subexpressions are written as "…", so a
+// derivation of such a model stays readable and finite. Such text does
+// not read back.
+const MaxNodes = 20000
 
 // Expr prints e in the given style.
 func Expr(e ir.Expr, s Style, n Names) string {
-	p := printer{s, n}
+	left := MaxNodes
+	p := printer{s, n, &left}
 	str, _ := p.expr(e)
 	return str
 }
@@ -129,6 +140,10 @@ func superscript(s string) (string, bool) {
 
 // expr returns the printed expression and its precedence.
 func (p printer) expr(e ir.Expr) (string, int) {
+	if *p.left <= 0 {
+		return "…", precAtom
+	}
+	*p.left--
 	switch e := e.(type) {
 	case *ir.Num:
 		return p.num(e.Val)

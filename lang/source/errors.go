@@ -5,7 +5,9 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -24,12 +26,36 @@ type Error struct {
 	Hint     string
 }
 
-// Error formats e as "file:line:col: msg".
+// Error formats e as "file:line:col: msg", with control characters in
+// the message escaped (Escape).
 func (e *Error) Error() string {
 	if !e.Pos.IsValid() && e.Pos.File == "" {
-		return e.Msg
+		return Escape(e.Msg)
 	}
-	return e.Pos.String() + ": " + e.Msg
+	return Escape(e.Pos.String() + ": " + e.Msg)
+}
+
+// Escape writes control characters (other than tab) and invalid UTF-8 as
+// Go escapes (\x1b, \u2028), so that text from a model file cannot move
+// the cursor, clear the screen or recolour a terminal when it is printed
+// in an error message.
+func Escape(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		b.WriteString(escapeRune(r))
+	}
+	return b.String()
+}
+
+func escapeRune(r rune) string {
+	switch {
+	case r == '\t':
+		return "\t"
+	case r == utf8.RuneError, unicode.IsControl(r), r == '\u2028', r == '\u2029':
+		q := strconv.QuoteRune(r)
+		return q[1 : len(q)-1]
+	}
+	return string(r)
 }
 
 // tooMany is the message of the entry that closes a full list.
@@ -153,14 +179,44 @@ func (l ErrorList) Format(w io.Writer, sources map[string][]byte) {
 		src, ok := sources[e.Pos.File]
 		if ok && e.Pos.IsValid() && e.Msg != tooMany {
 			if line, ok := sourceLine(src, e.Pos); ok {
-				fmt.Fprintf(w, "    %s\n", strings.TrimRight(line, " \t\r"))
-				fmt.Fprintf(w, "    %s\n", caretLine(line, e.Pos, e.End))
+				line, pos, end := window(strings.TrimRight(line, " \t\r"), e.Pos, e.End)
+				fmt.Fprintf(w, "    %s\n", Escape(line))
+				fmt.Fprintf(w, "    %s\n", caretLine(line, pos, end))
 			}
 		}
 		if e.Hint != "" {
-			fmt.Fprintf(w, "    hint: %s\n", e.Hint)
+			fmt.Fprintf(w, "    hint: %s\n", Escape(e.Hint))
 		}
 	}
+}
+
+// maxShown is the most runes of a source line Format shows; a longer line
+// is cut to a window around the error, with "…" where text was left out.
+const maxShown = 120
+
+// window cuts line to at most maxShown runes around column pos.Col and
+// shifts the columns of pos and end to match.
+func window(line string, pos, end Pos) (string, Pos, Pos) {
+	r := []rune(line)
+	if len(r) <= maxShown {
+		return line, pos, end
+	}
+	from := max(0, min(pos.Col-1-maxShown/2, len(r)-maxShown))
+	to := min(len(r), from+maxShown)
+	out := string(r[from:to])
+	shift := from
+	if from > 0 {
+		out = "…" + out
+		shift--
+	}
+	if to < len(r) {
+		out += "…"
+	}
+	pos.Col -= shift
+	if end.IsValid() {
+		end.Col -= shift
+	}
+	return out, pos, end
 }
 
 // sourceLine returns the text of line p.Line of src (without its
@@ -197,7 +253,8 @@ func caretLine(line string, pos, end Pos) string {
 		if r == '\t' {
 			b.WriteByte('\t')
 		} else {
-			b.WriteByte(' ')
+			// An escaped control character takes the width of its escape.
+			b.WriteString(strings.Repeat(" ", utf8.RuneCountInString(escapeRune(r))))
 		}
 		col++
 	}

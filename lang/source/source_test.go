@@ -114,3 +114,43 @@ func TestPosString(t *testing.T) {
 		t.Error("zero Pos")
 	}
 }
+
+// TestEscapeControl: control characters from a model file reach the
+// terminal escaped, and the caret still stands under the error (ANSI
+// escape sequences, ECMA-48, start with ESC, U+001B).
+func TestEscapeControl(t *testing.T) {
+	line := "given a = \x1b[2J + b"
+	var l ErrorList
+	l.Add(Pos{"c.fw", 0, 1, 18}, Pos{}, "unknown identifier \"\x1b[2J\"", "")
+	var b bytes.Buffer
+	l.Format(&b, map[string][]byte{"c.fw": []byte(line + "\n")})
+	got := b.String()
+	if strings.ContainsRune(got, '\x1b') {
+		t.Fatalf("raw ESC in %q", got)
+	}
+	want := "c.fw:1:18: unknown identifier \"\\x1b[2J\"\n" +
+		"    given a = \\x1b[2J + b\n" +
+		"    " + strings.Repeat(" ", 20) + "^\n"
+	if got != want {
+		t.Errorf("got\n%q\nwant\n%q", got, want)
+	}
+}
+
+// TestLongLineWindow: a very long source line is shown as a window around
+// the error, and the caret still points at it.
+func TestLongLineWindow(t *testing.T) {
+	line := strings.Repeat("(", 500) + "zeta" + strings.Repeat(")", 500)
+	var l ErrorList
+	l.Add(Pos{"w.fw", 500, 1, 501}, Pos{"w.fw", 504, 1, 505}, `unknown identifier "zeta"`, "")
+	var b bytes.Buffer
+	l.Format(&b, map[string][]byte{"w.fw": []byte(line)})
+	lines := strings.Split(b.String(), "\n")
+	shown, caret := lines[1], lines[2]
+	if n := len([]rune(shown)); n > maxShown+10 {
+		t.Errorf("shown line has %d runes", n)
+	}
+	k := strings.IndexRune(caret, '^')
+	if got := string([]rune(shown)[len([]rune(caret[:k])):][:4]); got != "zeta" {
+		t.Errorf("caret under %q, want zeta\n%s\n%s", got, shown, caret)
+	}
+}

@@ -14,17 +14,17 @@ import (
 // unit square, nodes×nodes vertices, 2(nodes−1)² cells, interpreted kernel.
 // The bar is a plain serial loop with the same kernel and positions
 // precomputed the same way (benchPlain), and one that searches the CSR
-// row per cell (benchPlain with search).
+// row per cell (benchPlain with search). The assembler's own cost with a
+// cheap compiled-style kernel, the scaling from 1 to 2 workers and the
+// bandwidth bound are in parallel_bench_test.go.
 //
-// Measured 2026-12-01 on the shared 2-vCPU VM (AMD EPYC), 1000×1000 nodes,
-// 1 996 002 cells, 6.99·10^6 nonzeros, best of the quieter runs (other
-// helpers' jobs kept the load average at 1.5–6, so single runs vary by
-// ±40%): plain loop 780 ns/cell; Assemble 1 worker 824 ns/cell (1.06× the
-// plain loop); 2 workers 495 ns/cell (0.60× of 1 worker); greedy-coloured
-// alternative 863 ns/cell on 1 worker and 1021–1342 ns/cell on 2 workers
-// (7 colours). Retained memory after setup (mesh, dof map, pattern,
-// scatter positions, matrix, vector) 39.4 B/nnz; peak RSS of a 1-assembly
-// run 296 MB (42 B/nnz).
+// An earlier design computed the element matrices of a batch of cells in
+// parallel into a buffer and then scattered it by row ownership, every
+// worker walking all cells of the batch and testing each row's owner with
+// an integer division; with a kernel as cheap as a compiled one that
+// scatter, the per-worker coordinate buffers sharing a cache line, and the
+// 2 MiB batch buffer written and read back left no gain from a second
+// worker. The chunked loop (chunkPlan) replaced it.
 
 var sinkVal float64
 

@@ -17,9 +17,17 @@
 // increasing cell order (see Assembler.Assemble for how), then its facet
 // contributions in facet order.
 //
+// # Parallel loop
+//
+// Cells are split into contiguous chunks that workers take in turn; a
+// chunk adds straight into the rows only it and later chunks touch and
+// logs its contributions to rows shared with earlier chunks, which are
+// replayed in chunk order at the end (see chunkPlan). The per-worker
+// buffers are padded so that no two workers write one cache line.
+//
 // # Allocation
 //
-// Per-worker buffers are made once per Assemble call; the per-cell path
-// (gather coordinates and previous values, kernel, scatter) does not
-// allocate.
+// Per-worker buffers are made once per Assemble call and the chunk logs
+// once per Assembler; the per-cell path (gather coordinates and previous
+// values, kernel, scatter) does not allocate.
 package assemble

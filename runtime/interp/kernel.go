@@ -216,17 +216,18 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 	// Hoist the maximal cell-constant composite subexpressions of the
 	// varying coefficients (e.g. τ in τ·f(x)) into the per-cell program;
 	// the per-point program reads them from environment slots.
-	subst := map[string]int{}
+	subst := map[int]int{}
+	exprKeys := tape.NewKeys()
 	var hoisted []ir.Expr
 	for _, e := range pointE {
-		ir.Inspect(e, func(x ir.Expr) bool {
+		ir.InspectOnce(e, func(x ir.Expr) bool {
 			if !tape.Composite(x) || tape.ExprDeps(x)&tape.DepPoint != 0 {
 				return true
 			}
 			if _, ok := tape.ConstValue(x); ok {
 				return false
 			}
-			k := tape.ExprKey(x)
+			k := exprKeys.Of(x)
 			if _, ok := subst[k]; !ok {
 				subst[k] = it.slots.Aux()
 				hoisted = append(hoisted, x)
@@ -249,7 +250,7 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 	if it.cellProg, err = tape.Compile(append(cellE, hoisted...), it.slots); err != nil {
 		return nil, err
 	}
-	if it.pointProg, err = tape.CompileWith(pointE, it.slots, subst); err != nil {
+	if it.pointProg, err = tape.CompileWith(pointE, it.slots, subst, exprKeys); err != nil {
 		return nil, err
 	}
 	// Plans.
@@ -301,7 +302,7 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 
 func usesQuantity(e ir.Expr, want ir.Quantity) bool {
 	found := false
-	ir.Inspect(e, func(x ir.Expr) bool {
+	ir.InspectOnce(e, func(x ir.Expr) bool {
 		if q, ok := x.(*ir.CellQ); ok && q.Q == want {
 			found = true
 		}

@@ -29,3 +29,49 @@ func ExampleSolve() {
 	// bicgstab [0.200000 0.400000 0.600000 0.800000] true <nil>
 	// direct   [0.200000 0.400000 0.600000 0.800000] true <nil>
 }
+
+// Solve a 5-point Laplacian on a 100×100 grid by CG with the AMG
+// preconditioner and print what Recommend would choose for it (a system
+// this small goes to the direct solver).
+func ExampleNewAMG() {
+	const m = 100
+	A := &sparse.CSR{N: m * m, M: m * m, RowPtr: []int{0}}
+	for j := 0; j < m; j++ {
+		for i := 0; i < m; i++ {
+			r := j*m + i
+			add := func(c int, v float64) { A.Col = append(A.Col, int32(c)); A.Val = append(A.Val, v) }
+			if j > 0 {
+				add(r-m, -1)
+			}
+			if i > 0 {
+				add(r-1, -1)
+			}
+			add(r, 4)
+			if i < m-1 {
+				add(r+1, -1)
+			}
+			if j < m-1 {
+				add(r+m, -1)
+			}
+			A.RowPtr = append(A.RowPtr, len(A.Col))
+		}
+	}
+	b := make([]float64, A.N)
+	for i := range b {
+		b[i] = 1
+	}
+	h, err := linsolve.NewAMG(A, nil, linsolve.AMGOptions{MaxCoarse: 100})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	rows, _ := h.Levels()
+	x := make([]float64, A.N)
+	res, err := linsolve.CG(A, b, x, h, linsolve.Options{RelTol: 1e-8})
+	fmt.Println(len(rows), "levels, converged:", err == nil && res.Residual <= 1e-8, "in at most 15 iterations:", res.Iterations <= 15)
+	r := linsolve.Recommend(A, nil)
+	fmt.Println(r.Options.Method, r.Options.Precond)
+	// Output:
+	// 4 levels, converged: true in at most 15 iterations: true
+	// direct none
+}

@@ -44,9 +44,17 @@ const (
 	PrecondNone   PrecondKind = iota // identity
 	PrecondJacobi                    // inverse of the diagonal
 	PrecondILU0                      // incomplete LU with zero fill
+	// PrecondAMG is one V-cycle of smoothed-aggregation AMG on the whole
+	// matrix (NewAMG), with Options.AMG and Options.Layout.
+	PrecondAMG
+	// PrecondAMGBlock is the block upper-triangular preconditioner of a
+	// saddle-point system (NewBlockPreconditioner): AMG on the primary
+	// fields, a Schur-complement approximation on the constraint fields
+	// of Options.Layout. Use it with GMRES.
+	PrecondAMGBlock
 )
 
-var precondNames = [...]string{PrecondNone: "none", PrecondJacobi: "jacobi", PrecondILU0: "ilu0"}
+var precondNames = [...]string{PrecondNone: "none", PrecondJacobi: "jacobi", PrecondILU0: "ilu0", PrecondAMG: "amg", PrecondAMGBlock: "amg-block"}
 
 func (p PrecondKind) String() string {
 	if p >= 0 && int(p) < len(precondNames) {
@@ -55,14 +63,15 @@ func (p PrecondKind) String() string {
 	return fmt.Sprintf("PrecondKind(%d)", int(p))
 }
 
-// ParsePrecond parses "none", "jacobi" or "ilu0" (case insensitive).
+// ParsePrecond parses "none", "jacobi", "ilu0", "amg" or "amg-block"
+// (case insensitive).
 func ParsePrecond(s string) (PrecondKind, error) {
 	for p, name := range precondNames {
 		if strings.EqualFold(s, name) {
 			return PrecondKind(p), nil
 		}
 	}
-	return 0, fmt.Errorf("linsolve: unknown preconditioner %q (want one of none, jacobi, ilu0)", s)
+	return 0, fmt.Errorf("linsolve: unknown preconditioner %q (want one of none, jacobi, ilu0, amg, amg-block)", s)
 }
 
 // Default values used when the corresponding Options field is zero. They
@@ -97,12 +106,30 @@ type Options struct {
 	// Unscaled makes MethodDirect factor A itself instead of the
 	// diagonally scaled S A S (see Prepare); for comparison only.
 	Unscaled bool
-	// Workers > 1 makes Solve use sparse.CSR.MulVecParallel with that many
-	// goroutines (bitwise the same products as serial).
+	// Workers > 1 makes Solve's matrix–vector products, and the AMG setup
+	// and cycle, run on that many goroutines (rows in chunks; bitwise the
+	// same results as serial).
 	Workers int
 	// Progress, if not nil, is called after every iteration with the
 	// iteration count and the current (recurrence) relative residual.
 	Progress func(iter int, relres float64)
+	// OnPhase, if not nil, is called during the long phases of Prepare:
+	// each level of an AMG setup, every tenth of a sparse LU
+	// factorisation, the block preconditioner's setup.
+	OnPhase func(PhaseReport)
+
+	// Layout gives the fields, components and node coordinates of the
+	// dofs, for PrecondAMG (near-null-space vectors, node blocks) and
+	// PrecondAMGBlock (which dofs form the constraint block). nil means
+	// one scalar field.
+	Layout *Layout
+	// AMG tunes PrecondAMG and the AMG of PrecondAMGBlock; its zero value
+	// is the default V(1,1) cycle. Its Workers and OnPhase default to the
+	// fields above.
+	AMG AMGOptions
+	// Schur selects the Schur-complement approximation of
+	// PrecondAMGBlock.
+	Schur SchurKind
 }
 
 func (o Options) relTol() float64 {

@@ -32,6 +32,9 @@ func (p *Jacobi) Solve(dst, r []float64) {
 	}
 }
 
+// Bytes is the memory of the preconditioner (8 bytes per row).
+func (p *Jacobi) Bytes() int64 { return int64(8 * len(p.inv)) }
+
 // ILU0 is the incomplete LU factorisation with zero fill-in: L (unit lower)
 // and U (upper) share the pattern of A, and (LU)_ij = a_ij for every (i, j)
 // in the pattern (Saad 2003, §10.3.2, Algorithm 10.4, IKJ variant). For a
@@ -108,6 +111,10 @@ func NewILU0Shifted(A *sparse.CSR, shift float64) (*ILU0, error) {
 // Factors returns the factor storage: entries left of the diagonal are L
 // (unit diagonal implied), the rest is U. The caller must not modify it.
 func (p *ILU0) Factors() *sparse.CSR { return p.lu }
+
+// Bytes is the memory of the factors: a copy of A's values and pattern
+// and the diagonal positions.
+func (p *ILU0) Bytes() int64 { return csrBytes(p.lu) + int64(8*len(p.diag)) }
 
 // Solve sets dst = (LU)⁻¹ r by a forward and a backward sweep.
 func (p *ILU0) Solve(dst, r []float64) {

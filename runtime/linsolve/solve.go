@@ -3,19 +3,21 @@ package linsolve
 import (
 	"fmt"
 	"math"
+	"time"
 
 	"github.com/formwright/formwright/runtime/sparse"
 	"gonum.org/v1/gonum/floats"
 )
 
-// parallelCSR applies a CSR matrix with MulVecParallel.
+// parallelCSR applies a CSR matrix with mulVec (row chunks taken by the
+// workers from a shared counter; bitwise the same as A.MulVec).
 type parallelCSR struct {
 	A       *sparse.CSR
 	workers int
 }
 
 func (p parallelCSR) Dim() int               { return p.A.N }
-func (p parallelCSR) Apply(dst, x []float64) { p.A.MulVecParallel(dst, x, p.workers) }
+func (p parallelCSR) Apply(dst, x []float64) { mulVec(p.A, dst, x, p.workers) }
 
 // NewPreconditioner builds the preconditioner of the given kind for A.
 func NewPreconditioner(kind PrecondKind, A *sparse.CSR) (Preconditioner, error) {
@@ -26,6 +28,10 @@ func NewPreconditioner(kind PrecondKind, A *sparse.CSR) (Preconditioner, error) 
 		return NewJacobi(A)
 	case PrecondILU0:
 		return NewILU0(A)
+	case PrecondAMG:
+		return NewAMG(A, nil, AMGOptions{})
+	case PrecondAMGBlock:
+		panic("linsolve: PrecondAMGBlock needs a Layout: use Prepare with Options.Layout or NewBlockPreconditioner")
 	}
 	panic(fmt.Sprintf("linsolve: unknown PrecondKind %d", int(kind)))
 }
@@ -88,7 +94,7 @@ type scaledLU struct {
 // ill-conditioned solves (common practice, no source for the value).
 const ScaleSpread = 1e4
 
-func factorScaled(A *sparse.CSR, scale bool) (*scaledLU, error) {
+func factorScaled(A *sparse.CSR, scale bool, progress func(done, total int)) (*scaledLU, error) {
 	s := make([]float64, A.N)
 	lo, hi := math.Inf(1), 0.0
 	for i := 0; i < A.N; i++ {
@@ -118,12 +124,14 @@ func factorScaled(A *sparse.CSR, scale bool) (*scaledLU, error) {
 			As.Val[k] *= s[i] * s[As.Col[k]]
 		}
 	}
-	f, err := FactorSparseLU(As, NestedDissection(As), DefaultPivotTol)
+	f, err := factorSparseLU(As, NestedDissection(As), DefaultPivotTol, progress)
 	if err != nil {
 		return nil, err
 	}
 	return &scaledLU{f: f, s: s, tmp: make([]float64, A.N)}, nil
 }
+
+func (l *scaledLU) bytes() int64 { return l.f.Bytes() + int64(16*len(l.s)) }
 
 // Solve sets dst = A⁻¹ b.
 func (l *scaledLU) Solve(dst, b []float64) {
@@ -156,9 +164,30 @@ func Prepare(A *sparse.CSR, opts Options) (*Prepared, error) {
 		p.op = parallelCSR{A, opts.Workers}
 	}
 	var err error
+	var progress func(done, total int)
+	if opts.OnPhase != nil {
+		start := time.Now()
+		progress = func(done, total int) {
+			opts.OnPhase(PhaseReport{Phase: "factor", Step: done, Steps: total, Detail: fmt.Sprintf("%d of %d columns", done, total), Elapsed: time.Since(start)})
+		}
+	}
+	amgOpts := opts.AMG
+	if amgOpts.Workers == 0 {
+		amgOpts.Workers = opts.Workers
+	}
+	if amgOpts.OnPhase == nil {
+		amgOpts.OnPhase = opts.OnPhase
+	}
+	if opts.Method == MethodCG {
+		amgOpts.Symmetric = true // CG needs a symmetric A anyway
+	}
 	switch {
 	case opts.Method == MethodDirect:
-		p.lu, err = factorScaled(A, !opts.Unscaled)
+		p.lu, err = factorScaled(A, !opts.Unscaled, progress)
+	case opts.Precond == PrecondAMG:
+		p.M, err = NewAMG(A, opts.Layout, amgOpts)
+	case opts.Precond == PrecondAMGBlock:
+		p.M, err = NewBlockPreconditioner(A, opts.Layout, BlockOptions{AMG: amgOpts, Schur: opts.Schur, OnPhase: opts.OnPhase})
 	case opts.Precond == PrecondILU0 && opts.ILUShift != 0:
 		p.M, err = NewILU0Shifted(A, opts.ILUShift)
 	default:

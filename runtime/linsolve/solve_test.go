@@ -464,7 +464,7 @@ func TestParse(t *testing.T) {
 			t.Errorf("ParseMethod(%q) = %v, %v", m.String(), got, err)
 		}
 	}
-	for _, p := range []PrecondKind{PrecondNone, PrecondJacobi, PrecondILU0} {
+	for _, p := range []PrecondKind{PrecondNone, PrecondJacobi, PrecondILU0, PrecondAMG, PrecondAMGBlock} {
 		got, err := ParsePrecond(p.String())
 		if err != nil || got != p {
 			t.Errorf("ParsePrecond(%q) = %v, %v", p.String(), got, err)
@@ -475,6 +475,9 @@ func TestParse(t *testing.T) {
 	}
 	if _, err := ParsePrecond("ilu1"); err == nil {
 		t.Error("ParsePrecond accepted ilu1")
+	}
+	if p, err := ParsePrecond("AMG-Block"); err != nil || p != PrecondAMGBlock {
+		t.Errorf("ParsePrecond(AMG-Block) = %v, %v", p, err)
 	}
 }
 
@@ -744,7 +747,7 @@ func TestPreparedReuse(t *testing.T) {
 // either way.
 func TestDirectScaling(t *testing.T) {
 	lap := laplace2D(6) // diagonal 4 everywhere
-	f, err := factorScaled(lap, true)
+	f, err := factorScaled(lap, true, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -773,7 +776,7 @@ func TestDirectScaling(t *testing.T) {
 		D.Set(int(e[0]), int(e[1]), D.At(int(e[0]), int(e[1]))+e[2])
 	}
 	A := sparse.FromDense(D, 0)
-	f, err = factorScaled(A, true)
+	f, err = factorScaled(A, true, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

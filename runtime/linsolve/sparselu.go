@@ -54,6 +54,12 @@ type SparseLU struct {
 // Errors: *SingularError when no nonzero pivot exists in a column,
 // *NonFiniteError for NaN/Inf.
 func FactorSparseLU(A *sparse.CSR, colPerm []int, pivotTol float64) (*SparseLU, error) {
+	return factorSparseLU(A, colPerm, pivotTol, nil)
+}
+
+// factorSparseLU is FactorSparseLU calling progress(k, n) after every
+// tenth of the n columns (progress may be nil).
+func factorSparseLU(A *sparse.CSR, colPerm []int, pivotTol float64, progress func(done, total int)) (*SparseLU, error) {
 	const name = "direct"
 	checkSquare(name, A)
 	n := A.N
@@ -89,7 +95,11 @@ func FactorSparseLU(A *sparse.CSR, colPerm []int, pivotTol float64) (*SparseLU, 
 	stack := make([]int32, n) // DFS stack of rows
 	pstack := make([]int, n)  // DFS resume positions
 
+	tick := max(1, n/10)
 	for k := 0; k < n; k++ {
+		if progress != nil && k > 0 && k%tick == 0 {
+			progress(k, n)
+		}
 		c := colPerm[k]
 		stamp := int32(k + 1)
 		top := n
@@ -200,6 +210,12 @@ func FactorSparseLU(A *sparse.CSR, colPerm []int, pivotTol float64) (*SparseLU, 
 		f.prow[k] = i
 	}
 	return f, nil
+}
+
+// Bytes is the memory of the factors: 12 bytes per stored entry of L and
+// U plus the permutations, pointers and work vector.
+func (f *SparseLU) Bytes() int64 {
+	return int64(12*(len(f.li)+len(f.ui)) + 8*(len(f.lp)+len(f.up)) + 8*(len(f.q)+len(f.prow)+len(f.work)))
 }
 
 // NNZ returns the number of stored entries of L (strictly lower) and U

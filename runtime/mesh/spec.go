@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -112,6 +113,9 @@ func ParseSpec(s string) (Spec, error) {
 		if k%2 == 1 && !(v > sp.Bounds[k-1]) {
 			return Spec{}, &SpecError{s, off, fmt.Sprintf("upper bound %v is not greater than lower bound %v", v, sp.Bounds[k-1])}
 		}
+		if k%2 == 1 && math.IsInf(v-sp.Bounds[k-1], 0) {
+			return Spec{}, &SpecError{s, off, fmt.Sprintf("the extent %v − %v overflows: choose bounds whose difference is a finite number", v, sp.Bounds[k-1])}
+		}
 		off += len(b) + 1
 	}
 	// Counts.
@@ -133,6 +137,18 @@ func ParseSpec(s string) (Spec, error) {
 	if total*6 > float64(1<<31-1)/4 {
 		return fail(2, "too many cells (%g) for 32-bit cell and vertex indices", total)
 	}
+	if limit := CellLimit(); total*cellsPerBox[kind.dim] > float64(limit) {
+		return fail(2, "%g cells is more than this machine's memory can assemble and solve (at most %d; see mesh.CellLimit)", total*cellsPerBox[kind.dim], limit)
+	}
+	for k, n := range sp.N {
+		lo, hi := sp.Bounds[2*k], sp.Bounds[2*k+1]
+		h := (hi - lo) / float64(n)
+		// Cells narrower than a few units in the last place of their
+		// coordinates would be degenerate in floating point.
+		if !(h > 64*ulp(math.Max(math.Abs(lo), math.Abs(hi)))) || !(h >= 0x1p-1000) {
+			return fail(2, "%d cells over [%v, %v] are too small to represent in floating point", n, lo, hi)
+		}
+	}
 	// Options.
 	for i := 3; i < len(fields); i++ {
 		f := fields[i]
@@ -146,6 +162,17 @@ func ParseSpec(s string) (Spec, error) {
 				return Spec{}, &SpecError{s, col[i] + len("graded="), fmt.Sprintf("bad grading %q: want a positive number", v)}
 			}
 			sp.Grading = r
+			// The smallest cell of a graded interval is h₀ = L(r−1)/(rⁿ−1)
+			// (or L/n when r = 1); it must be representable too.
+			L, n := sp.Bounds[1]-sp.Bounds[0], float64(sp.N[0])
+			q := math.Max(r, 1/r)
+			h0 := L / n
+			if q != 1 {
+				h0 = L * (q - 1) / (math.Pow(q, n) - 1)
+			}
+			if !(h0 > 64*ulp(math.Max(math.Abs(sp.Bounds[0]), math.Abs(sp.Bounds[1])))) {
+				return Spec{}, &SpecError{s, col[i] + len("graded="), fmt.Sprintf("grading %v over %d cells makes the smallest cell too small to represent in floating point", r, sp.N[0])}
+			}
 			continue
 		}
 		if i > 3 {
@@ -205,3 +232,9 @@ func Load(s string) (*Mesh, error) {
 	}
 	return sp.Build()
 }
+
+// cellsPerBox is the most cells a generator makes per box of the grid
+// (4 triangles with the crossed pattern, 6 tetrahedra), by dimension.
+var cellsPerBox = [4]float64{0, 1, 4, 6}
+
+func ulp(x float64) float64 { return math.Nextafter(x, math.Inf(1)) - x }

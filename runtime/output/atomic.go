@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"sync"
 )
 
 // WriteFileAtomic writes a file by calling write on a buffered writer to a
@@ -34,6 +35,8 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 		return fmt.Errorf("output: %w", err)
 	}
 	tmp := f.Name()
+	pending.add(tmp)
+	defer pending.remove(tmp)
 	defer func() {
 		if err != nil {
 			f.Close()
@@ -64,6 +67,31 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 		d.Close()
 	}
 	return nil
+}
+
+// pending holds the temporary files being written, so that an interrupt
+// can remove them (RemovePending).
+var pending = tempFiles{set: map[string]bool{}}
+
+type tempFiles struct {
+	mu  sync.Mutex
+	set map[string]bool
+}
+
+func (t *tempFiles) add(p string)    { t.mu.Lock(); t.set[p] = true; t.mu.Unlock() }
+func (t *tempFiles) remove(p string) { t.mu.Lock(); delete(t.set, p); t.mu.Unlock() }
+
+// RemovePending removes the temporary files of writes in progress. A
+// command calls it when it is interrupted (SIGINT, SIGTERM), so an
+// interrupted write leaves nothing behind; the target keeps its old
+// contents. (A SIGKILL cannot be caught: it may leave one hidden
+// ".NAME.tmp-*" file next to the target.)
+func RemovePending() {
+	pending.mu.Lock()
+	defer pending.mu.Unlock()
+	for p := range pending.set {
+		os.Remove(p)
+	}
 }
 
 // SameFile reports whether paths a and b name the same file: the same
@@ -126,3 +154,63 @@ func (e *errWriter) str(s string) {
 }
 
 var errNilGrid = errors.New("output: nil Grid")
+
+// Staged writes a group of files that must appear together or not at
+// all: Write puts each into a hidden temporary file beside its target,
+// Commit renames them all into place, and Abort (or an interrupt, see
+// RemovePending) removes them. A time series written step by step uses
+// it, so a run that fails halfway leaves none of its frames behind.
+type Staged struct {
+	tmp, dst []string
+}
+
+// Write stages one file.
+func (s *Staged) Write(path string, write func(w io.Writer) error) error {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("output: %w", err)
+	}
+	pending.add(f.Name())
+	s.tmp, s.dst = append(s.tmp, f.Name()), append(s.dst, path)
+	bw := bufio.NewWriterSize(f, 1<<16)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if err == nil {
+		err = f.Chmod(0o644)
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("output: writing %s: %w", path, err)
+	}
+	return nil
+}
+
+// Commit renames every staged file to its target.
+func (s *Staged) Commit() error {
+	for i, t := range s.tmp {
+		if err := os.Rename(t, s.dst[i]); err != nil {
+			s.Abort()
+			return fmt.Errorf("output: %w", err)
+		}
+		pending.remove(t)
+	}
+	s.tmp, s.dst = nil, nil
+	return nil
+}
+
+// Abort removes every staged file that was not committed.
+func (s *Staged) Abort() {
+	for _, t := range s.tmp {
+		os.Remove(t)
+		pending.remove(t)
+	}
+	s.tmp, s.dst = nil, nil
+}

@@ -8,7 +8,9 @@ import (
 )
 
 // WriteCSV writes the nodal values of g as CSV (RFC 4180, via
-// encoding/csv): a header row, then one row per point with the first dim
+// encoding/csv): a comment line "# written by formwright" (Signature; CSV
+// readers skip it with '#' as their comment character), a header row,
+// then one row per point with the first dim
 // coordinates (named x, y, z) followed by every point-data array (a
 // one-component array as its name, a k-component array as name_0 …
 // name_{k−1}). Numbers use strconv 'g' with precision -1: the shortest
@@ -18,6 +20,9 @@ func WriteCSV(w io.Writer, g *Grid, dim int) error {
 		panic(fmt.Sprintf("output: WriteCSV: dim = %d, want 1, 2 or 3", dim))
 	}
 	if err := g.Validate(); err != nil {
+		return err
+	}
+	if _, err := io.WriteString(w, "# "+Signature+"\n"); err != nil {
 		return err
 	}
 	cw := csv.NewWriter(w)

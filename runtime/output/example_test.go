@@ -16,6 +16,7 @@ func ExampleWriteCSV() {
 	}
 	output.WriteCSV(os.Stdout, g, 1)
 	// Output:
+	// # written by formwright
 	// x,u
 	// 0,0
 	// 0.5,0.3333333333333333

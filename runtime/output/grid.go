@@ -13,6 +13,10 @@ type Grid struct {
 	Types        []uint8   // VTK cell type code of each cell (see the Cell* constants)
 	PointData    []Array   // each of length nPoints*Components
 	CellData     []Array   // each of length nCells*Components
+	// Time is the time of the data, written when Timed (a frame of a
+	// time series).
+	Time  float64
+	Timed bool
 }
 
 // Array is a named field with Components values per point or cell,

@@ -278,7 +278,14 @@ func TestCSV(t *testing.T) {
 	if err := WriteCSV(&buf, g, 2); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := csv.NewReader(&buf).ReadAll()
+	// The first line is a comment that marks the file as formwright's
+	// (Signature); encoding/csv skips it with Comment set.
+	if !strings.HasPrefix(buf.String(), "# "+Signature+"\n") {
+		t.Errorf("no signature line: %q", buf.String()[:20])
+	}
+	rd := csv.NewReader(&buf)
+	rd.Comment = '#'
+	recs, err := rd.ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}

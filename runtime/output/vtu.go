@@ -80,9 +80,17 @@ func WriteVTU(w io.Writer, g *Grid, opts VTUOptions) error {
 	if hdr != HeaderUInt32 && hdr != HeaderUInt64 {
 		panic(fmt.Sprintf("output: unknown HeaderType %d", int(hdr)))
 	}
-	ew.str(`<?xml version="1.0"?>` + "\n")
+	ew.str(`<?xml version="1.0"?>` + "\n<!-- " + Signature + " -->\n")
 	ew.str(`<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="` + hdr.String() + `">` + "\n")
 	ew.str("  <UnstructuredGrid>\n")
+	if g.Timed {
+		// The time of a frame of a series, as field data named TimeValue,
+		// the name VTK's XML readers take as the time of the data set
+		// [memory: VTK's vtkXMLReader].
+		ew.str(`    <FieldData>` + "\n")
+		ew.str(`      <DataArray type="Float64" Name="TimeValue" NumberOfTuples="1" format="ascii">` + strconv.FormatFloat(g.Time, 'g', -1, 64) + "</DataArray>\n")
+		ew.str(`    </FieldData>` + "\n")
+	}
 	ew.str(fmt.Sprintf(`    <Piece NumberOfPoints="%d" NumberOfCells="%d">`+"\n", g.NumPoints(), g.NumCells()))
 
 	var appended []*vtkArray

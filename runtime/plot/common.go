@@ -1,6 +1,7 @@
 package plot
 
 import (
+	"bytes"
 	"fmt"
 	"image/color"
 	"io"
@@ -76,8 +77,12 @@ func newCanvas(w, h int) *vgimg.Canvas {
 
 // writePNG encodes c as PNG into path, atomically.
 func writePNG(path string, c *vgimg.Canvas) error {
+	var buf bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
+		return err
+	}
 	return output.WriteFileAtomic(path, func(w io.Writer) error {
-		_, err := vgimg.PngCanvas{Canvas: c}.WriteTo(w)
+		_, err := w.Write(output.TagPNG(buf.Bytes()))
 		return err
 	})
 }

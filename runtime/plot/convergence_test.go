@@ -9,7 +9,7 @@ import (
 )
 
 // gauss5 is the 5-point Gauss–Legendre rule on [−1, 1] (Abramowitz &
-// Stegun 1964, Table 25.4, as in REFERENCES.md [checked]).
+// Stegun 1964, Table 25.4, as in testdata/REFERENCES.md [checked]).
 var gauss5 = [5][2]float64{
 	{0, 0.568888888888889},
 	{-0.538469310105683, 0.478628670499366}, {0.538469310105683, 0.478628670499366},
@@ -18,7 +18,7 @@ var gauss5 = [5][2]float64{
 
 // interpErrors returns the L² and H¹-seminorm errors of the piecewise
 // linear interpolant of sin πx on n uniform cells of (0, 1). Their
-// orders are 2 and 1 (Ciarlet 1978, interpolation estimates; REFERENCES.md
+// orders are 2 and 1 (Ciarlet 1978, interpolation estimates; testdata/REFERENCES.md
 // "Convergence rates" [memory; standard]).
 func interpErrors(n int) (l2, h1 float64) {
 	h := 1 / float64(n)

@@ -64,7 +64,7 @@ func absDiff(a, b uint32) int {
 
 // advDiffExact is the exact solution of a u' − k u” = 0 on (0,1) with
 // u(0)=0, u(1)=1 and Pe = a/k, in the overflow-safe form; source
-// REFERENCES.md, "1D steady advection–diffusion" [checked].
+// testdata/REFERENCES.md, "1D steady advection–diffusion" [checked].
 func advDiffExact(pe float64) func(float64) float64 {
 	return func(x float64) float64 {
 		return (math.Exp(pe*(x-1)) - math.Exp(-pe)) / (1 - math.Exp(-pe))
@@ -76,7 +76,7 @@ func advDiffExact(pe float64) func(float64) float64 {
 // −(1+α)u_{j−1} + 2u_j − (1−α)u_{j+1} = 0 has the solution
 // u_j = (r^j − 1)/(r^n − 1), r = (1+α)/(1−α), α = Pe/(2n) (the standard
 // difference-equation solution, e.g. Brooks & Hughes 1982, CMAME 32; it
-// oscillates for α > 1 as REFERENCES.md says).
+// oscillates for α > 1 as testdata/REFERENCES.md says).
 func galerkinNodal(pe float64, n int) (x, u []float64) {
 	alpha := pe / (2 * float64(n))
 	r := (1 + alpha) / (1 - alpha)
@@ -88,15 +88,15 @@ func galerkinNodal(pe float64, n int) (x, u []float64) {
 }
 
 func TestLinePNG(t *testing.T) {
-	// Pe = 50 on 10 cells: α = 2.5, the oscillating case of REFERENCES.md.
+	// Pe = 50 on 10 cells: α = 2.5, the oscillating case of testdata/REFERENCES.md.
 	const pe, n = 50, 10
 	exact := advDiffExact(pe)
 	xg, ug := galerkinNodal(pe, n)
 	us := make([]float64, len(xg))
 	for i, x := range xg {
-		us[i] = exact(x) // SUPG with the optimal τ is nodally exact (REFERENCES.md)
+		us[i] = exact(x) // SUPG with the optimal τ is nodally exact (testdata/REFERENCES.md)
 	}
-	// The test data itself against REFERENCES.md: Galerkin at α = 2.5,
+	// The test data itself against testdata/REFERENCES.md: Galerkin at α = 2.5,
 	// s = 0 has maximum nodal error 0.436 [checked by independent
 	// computation]; 5e-4 covers the three printed digits.
 	maxErr := 0.0

@@ -48,7 +48,7 @@ func advDiff1D(a, k, s float64, supg bool) *ir.LoweredForm {
 	}
 }
 
-// exact1D is the exact solution of REFERENCES.md ([checked]):
+// exact1D is the exact solution of testdata/REFERENCES.md ([checked]):
 // u = (s/a)x + (1 − s/a)(e^{Pe x} − 1)/(e^{Pe} − 1), Pe = a/k, written
 // as (e^{Pe(x−1)} − e^{−Pe})/(1 − e^{−Pe}) to avoid overflow.
 func exact1D(a, k, s, x float64) float64 {
@@ -57,7 +57,7 @@ func exact1D(a, k, s, x float64) float64 {
 	return r*x + (1-r)*(math.Exp(pe*(x-1))-math.Exp(-pe))/(1-math.Exp(-pe))
 }
 
-// The exact-solution formula against the samples of REFERENCES.md: Pe=10,
+// The exact-solution formula against the samples of testdata/REFERENCES.md: Pe=10,
 // s=0: u(0.5)=6.692850924285e-03, u(0.9)=3.678507416395e-01; s/a = 0.5:
 // u(0.5)=2.533464254621e-01. Printed to 13 digits: tolerance 1e-12.
 func TestExact1DSamples(t *testing.T) {
@@ -72,7 +72,7 @@ func TestExact1DSamples(t *testing.T) {
 }
 
 // SUPG with the optimal τ is nodally exact on a uniform P1 mesh for
-// constant a, k and zero or constant source (REFERENCES.md, [checked];
+// constant a, k and zero or constant source (testdata/REFERENCES.md, [checked];
 // Christie et al. 1976, Brooks & Hughes 1982), at every element Péclet
 // number α = a h/(2k). Tolerance 1e-10 (the brief's): the linear system is
 // well conditioned and τ is evaluated in float64.
@@ -101,7 +101,7 @@ func TestSUPGNodallyExact1D(t *testing.T) {
 	}
 }
 
-// Galerkin at α = 2.5, s = 0 oscillates (REFERENCES.md, [checked]). The
+// Galerkin at α = 2.5, s = 0 oscillates (testdata/REFERENCES.md, [checked]). The
 // nodal values of Galerkin P1 on a uniform mesh solve the central
 // difference scheme (α−1)u_{i+1} + 2u_i − (α+1)u_{i−1} = 0, whose solution
 // is u_i = (r^i − 1)/(r^N − 1) with r = (1+α)/(1−α) (e.g. Morton,
@@ -129,10 +129,10 @@ func TestGalerkinOscillates1D(t *testing.T) {
 		}
 		maxErr = math.Max(maxErr, math.Abs(u[i]-exact1D(a, k, 0, xs[i])))
 	}
-	// REFERENCES.md: maximum nodal error 0.436 (printed to 3 digits, so
+	// testdata/REFERENCES.md: maximum nodal error 0.436 (printed to 3 digits, so
 	// tolerance 5e-4); it is reached with N = 10 cells.
 	if math.Abs(maxErr-0.436) > 5e-4 {
-		t.Errorf("max nodal error %.4f, REFERENCES.md gives 0.436", maxErr)
+		t.Errorf("max nodal error %.4f, testdata/REFERENCES.md gives 0.436", maxErr)
 	}
 	// Count sign changes of u_{i+1} − u_i in x order.
 	ord := make([]float64, n+1)

@@ -161,9 +161,13 @@ func (s *system) newton(opts Options) (*Solution, error) {
 		}
 		return math.Sqrt(r), nil
 	}
+	opts.report("assembly", 1, dm.NumDofs)
 	r0, err := residual(u)
 	if err != nil {
 		return nil, err
+	}
+	if !systemFinite(s.A, s.b) {
+		return nil, s.nonFinite(opts)
 	}
 	hist := []NewtonStep{{Iter: 0, Residual: r0, Relative: 1}}
 	if no.Progress != nil {
@@ -190,15 +194,20 @@ func (s *system) newton(opts Options) (*Solution, error) {
 		bsys = append(bsys[:0], s.b...)
 		sum.Symmetric = assemble.Constrain(Asys, bsys, fixed, zeros)
 		tAsm += time.Since(t0)
-		so := chooseSolver(opts, sum.Symmetric, dm.NumDofs)
-		sum.Solver = solverName(so)
+		so, why := chooseSolver(opts, Asys, s.layout)
+		sum.Solver, sum.SolverReason = solverName(so), why
 		clear(delta)
+		opts.report("solve", it, dm.NumDofs)
 		t1 := time.Now()
 		res, err := s.linearSolve(Asys, bsys, delta, so)
 		tSolve += time.Since(t1)
 		if err != nil {
 			return nil, err
 		}
+		if err := checkResidual(res, so); err != nil {
+			return nil, err
+		}
+		sum.BytesPerUnknown = s.prepared.Memory().PerUnknown()
 		sum.Iterations, sum.Residual = res.Iterations, res.Residual
 		un, dn := norm2(u), norm2(delta)
 		step := NewtonStep{Iter: it, LinearIters: res.Iterations}
@@ -211,6 +220,7 @@ func (s *system) newton(opts Options) (*Solution, error) {
 			for i := range s.means {
 				s.means[i].shift(trial)
 			}
+			opts.report("assembly", it+1, dm.NumDofs)
 			rt, err := residual(trial)
 			if err != nil {
 				return nil, err
@@ -255,7 +265,7 @@ func (s *system) newton(opts Options) (*Solution, error) {
 		sum.MeanResidual = math.Max(sum.MeanResidual, math.Abs(s.b[mf.pin])/math.Max(r0, math.SmallestNonzeroFloat64))
 	}
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
-	return s.solution(u, sum), nil
+	return s.solution(u, sum, opts.Time), nil
 }
 
 func norm2(x []float64) float64 {

@@ -55,6 +55,12 @@ type Options struct {
 	Interpreted bool
 	// Solver, if not nil, overrides the automatic choice (see Solve).
 	Solver *linsolve.Options
+	// AutoTol, AutoMaxIter and AutoRestart tune the solver the automatic
+	// choice picks: its relative tolerance, iteration limit and GMRES
+	// restart (0: the solver's defaults).
+	AutoTol     float64
+	AutoMaxIter int
+	AutoRestart int
 	// Picard iteration for forms whose coefficients read a previous
 	// iterate: at most MaxPicard solves (0: 50), stopping when
 	// ‖x_k − x_{k−1}‖ ≤ PicardTol·‖x_k‖ (0: 1e-8). Initial is the first
@@ -67,6 +73,12 @@ type Options struct {
 	// diffusivity lagged by one iterate.
 	PicardRelax float64
 	Initial     []float64
+	// Progress, if not nil, is told when each phase of a solve starts
+	// (Event), so a command can show that long work is under way; and
+	// Iterations after each iteration of an iterative linear solver the
+	// automatic choice picks (linsolve.Options.Progress).
+	Progress   func(Event)
+	Iterations func(iter int, relres float64)
 	// PreviousFixed holds the previous field at Initial for a single solve
 	// instead of iterating: the previous time level of a time step (see
 	// SolveTransient).
@@ -77,9 +89,22 @@ type Options struct {
 	Newton NewtonOptions
 }
 
-// DirectLimit: below this many unknowns the automatic choice is the direct
-// solver.
-const DirectLimit = 200000
+// Event is a phase of a solve as it starts or moves on: "dofs",
+// "kernels", "pattern", "assembly" and "solve" (Step counts the nonlinear
+// iteration from 1, Of the dofs), and the linear solver's own long phases
+// (linsolve.PhaseReport: "amg-setup" per level, "factor" by tenths;
+// Step of Of, with Detail).
+type Event struct {
+	Phase    string
+	Step, Of int
+	Detail   string
+}
+
+func (o Options) report(phase string, step, of int) {
+	if o.Progress != nil {
+		o.Progress(Event{Phase: phase, Step: step, Of: of})
+	}
+}
 
 // AutoILUShift is the diagonal shift of ILU(0) (linsolve.Options.ILUShift)
 // in the automatic choice for nonsymmetric matrices: measured on the
@@ -110,10 +135,15 @@ type Summary struct {
 	Method     string // the form's method: galerkin, supg, gls, vms
 	KernelPath string // "interpreted" or "compiled"
 	Symmetric  bool   // the assembled matrix is symmetric (before Dirichlet)
-	Solver     string // linsolve method and preconditioner, e.g. "cg+ilu0"
-	Iterations int    // of the last linear solve
-	Residual   float64
-	Picard     int // nonlinear iterations (1 for a linear problem)
+	Solver     string // linsolve method and preconditioner, e.g. "cg+amg"
+	// SolverReason says why the automatic choice picked the solver.
+	SolverReason string
+	// BytesPerUnknown is the memory of the matrix, the preconditioner or
+	// factors and the Krylov vectors, per unknown (linsolve.MemoryUse).
+	BytesPerUnknown float64
+	Iterations      int // of the last linear solve
+	Residual        float64
+	Picard          int // nonlinear iterations (1 for a linear problem)
 	// Nonlinear names the nonlinear iteration: "newton", "picard", or ""
 	// for a linear problem.
 	Nonlinear string
@@ -142,10 +172,12 @@ type FieldValues struct {
 
 // Solution is the result of Solve.
 type Solution struct {
-	Form   *ir.LoweredForm
-	Mesh   *mesh.Mesh
-	Dofs   *dof.Map
-	X      []float64 // global dof vector (runtime/dof order)
+	Form *ir.LoweredForm
+	Mesh *mesh.Mesh
+	Dofs *dof.Map
+	X    []float64 // global dof vector (runtime/dof order)
+	// Time is the t the solution belongs to (the new level of a time step).
+	Time   float64
 	Fields []FieldValues
 	// Matrix and RHS are the assembled system before Dirichlet
 	// elimination (of the last Picard step). The solutions SolveTransient
@@ -190,10 +222,12 @@ type previousUser interface{ NeedsPrevious() bool }
 // assembly (runtime/assemble), Dirichlet values by row elimination at the
 // boundary nodes (values from the lowered expressions evaluated there with
 // the coefficient tape; later conditions win where sides meet), and the
-// linear solve (runtime/linsolve). The automatic solver choice is the
-// direct solver below DirectLimit unknowns, else CG+ILU(0) for a symmetric
-// matrix (elimination then keeps the symmetry) and GMRES(100) with the
-// shifted ILU(0) of AutoILUShift otherwise.
+// linear solve (runtime/linsolve). The automatic solver choice is
+// linsolve.Recommend's: direct for small systems, algebraic multigrid as
+// the preconditioner of CG for symmetric elliptic ones and of GMRES for a
+// saddle-point system (block form) or a mildly nonsymmetric one, and
+// GMRES with the shifted ILU(0) of AutoILUShift (or AMG smoothed by it,
+// on large meshes) for advection-dominated ones.
 //
 // Input errors (unknown element, side missing from the mesh, malformed
 // form) are returned as errors; numerical failures of the linear solver
@@ -230,6 +264,7 @@ type system struct {
 	form     *ir.LoweredForm
 	m        *mesh.Mesh
 	dm       *dof.Map
+	layout   *linsolve.Layout
 	cellK    kernel.Kernel
 	facetK   []kernel.FacetKernel
 	asm      *assemble.Assembler
@@ -262,6 +297,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 		sum.Phases = append(sum.Phases, Phase{name, now.Sub(clock)})
 		clock = now
 	}
+	opts.report("dofs", 0, 0)
 	dm, err := dofMap(form, m)
 	if err != nil {
 		return nil, err
@@ -271,8 +307,9 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	}
 	sum.Dofs = dm.NumDofs
 	phase("dofs")
+	opts.report("kernels", 0, dm.NumDofs)
 
-	s := &system{form: form, m: m, dm: dm}
+	s := &system{form: form, m: m, dm: dm, layout: layoutOf(form, dm)}
 	ks := opts.Kernels
 	if ks == nil && !opts.Interpreted {
 		ks = compiledKernels(form, m.Cell, opts.Degree)
@@ -301,6 +338,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 		}
 	}
 	phase("kernels")
+	opts.report("pattern", 0, dm.NumDofs)
 
 	if s.means, err = newMeanFixes(form, m, dm); err != nil {
 		return nil, err
@@ -343,10 +381,57 @@ func (s *system) linearSolve(A *sparse.CSR, b, x []float64, so linsolve.Options)
 	return s.prepared.Solve(b, x)
 }
 
+// DirectResidualTol is the largest relative residual ‖b − Ax‖/‖b‖ a
+// direct solve may leave: far above the round-off of a well-conditioned
+// factorisation (1e-14 or so), far below what a singular or nearly
+// singular matrix gives. Common practice, no source.
+const DirectResidualTol = 1e-8
+
+// ResidualError is a linear solve whose own final residual, recomputed
+// from A, b and x, is above the tolerance: the result is not a solution.
+type ResidualError struct {
+	Solver   string
+	Residual float64
+	Tol      float64
+}
+
+func (e *ResidualError) Error() string {
+	return fmt.Sprintf("problem: the %s solve left a relative residual %.3g, above the tolerance %.3g: the matrix is singular or nearly so "+
+		"(an unknown fixed only up to a constant needs a value condition or a mean condition)", e.Solver, e.Residual, e.Tol)
+}
+
+// checkResidual checks a linear solve's explicit residual against its
+// tolerance: the relative tolerance of an iterative method (with a factor
+// 10 for the difference between the recurrence it stopped on and the
+// explicit residual), DirectResidualTol for the direct solver.
+func checkResidual(res linsolve.Result, so linsolve.Options) error {
+	tol := DirectResidualTol
+	if so.Method != linsolve.MethodDirect {
+		tol = so.RelTol
+		if tol == 0 {
+			tol = linsolve.DefaultRelTol
+		}
+		tol *= 10
+	}
+	if !(res.Residual <= tol) {
+		return &ResidualError{Solver: res.Solver, Residual: res.Residual, Tol: tol}
+	}
+	return nil
+}
+
 // sameOptions compares the options that shape a prepared solver.
 func sameOptions(a, b linsolve.Options) bool {
 	return a.Method == b.Method && a.Precond == b.Precond && a.ILUShift == b.ILUShift && a.Workers == b.Workers &&
-		a.RelTol == b.RelTol && a.AbsTol == b.AbsTol && a.MaxIter == b.MaxIter && a.Restart == b.Restart && a.Unscaled == b.Unscaled
+		a.RelTol == b.RelTol && a.AbsTol == b.AbsTol && a.MaxIter == b.MaxIter && a.Restart == b.Restart && a.Unscaled == b.Unscaled &&
+		a.Layout == b.Layout && a.Schur == b.Schur && sameAMG(a.AMG, b.AMG)
+}
+
+// sameAMG compares the AMG options that shape a hierarchy (the function
+// and slice fields aside).
+func sameAMG(a, b linsolve.AMGOptions) bool {
+	return a.Strength == b.Strength && a.Smoother == b.Smoother && a.PreSweeps == b.PreSweeps && a.PostSweeps == b.PostSweeps &&
+		a.ILUShift == b.ILUShift && a.Unsmoothed == b.Unsmoothed && a.MaxCoarse == b.MaxCoarse && a.MaxLevels == b.MaxLevels &&
+		a.Symmetric == b.Symmetric && len(a.NearNull) == 0 && len(b.NearNull) == 0
 }
 
 // solve assembles and solves at opts.Time, iterating Picard when the form
@@ -403,22 +488,31 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	var tAsm, tSolve time.Duration
 	for it := 1; it <= maxIt; it++ {
 		t0 := time.Now()
+		opts.report("assembly", it, dm.NumDofs)
 		in := assemble.Input{Time: opts.Time, Step: opts.Step, Previous: prev}
 		if err := s.assemble(in); err != nil {
 			return nil, err
+		}
+		if !systemFinite(A, b) {
+			return nil, s.nonFinite(opts)
 		}
 		Asys = A.Clone()
 		bsys = append(bsys[:0], b...)
 		sum.Symmetric = assemble.Constrain(Asys, bsys, fixed, values)
 		t1 := time.Now()
 		tAsm += t1.Sub(t0)
-		so := chooseSolver(opts, sum.Symmetric, dm.NumDofs)
-		sum.Solver = solverName(so)
+		so, why := chooseSolver(opts, Asys, s.layout)
+		sum.Solver, sum.SolverReason = solverName(so), why
+		opts.report("solve", it, dm.NumDofs)
 		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
 		if err != nil {
 			return nil, err
 		}
+		if err := checkResidual(res, so); err != nil {
+			return nil, err
+		}
+		sum.BytesPerUnknown = s.prepared.Memory().PerUnknown()
 		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
 		sum.MeanResidual = 0
 		for i := range s.means {
@@ -453,7 +547,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	}
 	sum.Prepared = s.prepares
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
-	return s.solution(x, sum), nil
+	return s.solution(x, sum, opts.Time), nil
 }
 
 // solverName describes the linear solver for the summary.
@@ -461,19 +555,19 @@ func solverName(so linsolve.Options) string {
 	name := so.Method.String()
 	if so.Method != linsolve.MethodDirect {
 		name += "+" + so.Precond.String()
-		if so.Precond == linsolve.PrecondILU0 && so.ILUShift != 0 {
+		if (so.Precond == linsolve.PrecondILU0 || so.AMG.Smoother == linsolve.SmoothILU0) && so.ILUShift != 0 {
 			name += fmt.Sprintf(" (shift %g)", so.ILUShift)
 		}
 	}
 	return name
 }
 
-// solution packs the dof vector x into a Solution with the field values
-// and their ranges.
-func (s *system) solution(x []float64, sum Summary) *Solution {
+// solution packs the dof vector x into a Solution at time t, with the
+// field values and their ranges.
+func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
 	form, m, dm, A, b := s.form, s.m, s.dm, s.A, s.b
 	clock := time.Now()
-	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Matrix: A, RHS: b}
+	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Time: t, Matrix: A, RHS: b}
 	for k, f := range dm.Fields {
 		fv := FieldValues{Name: f.Name, Components: f.Components}
 		for c := 0; c < f.Components; c++ {
@@ -555,35 +649,62 @@ func Assemble(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Assembled, err
 	if err := s.assemble(in); err != nil {
 		return nil, err
 	}
+	if !systemFinite(s.A, s.b) {
+		return nil, s.nonFinite(opts)
+	}
 	a := &Assembled{Dofs: s.dm, Matrix: s.A, RHS: s.b, Fixed: fixed, Values: values,
 		Constrained: s.A.Clone(), ConstrainedRHS: append([]float64(nil), s.b...), Kernels: s.setup.KernelPath}
 	assemble.Constrain(a.Constrained, a.ConstrainedRHS, fixed, values)
 	return a, nil
 }
 
-func chooseSolver(opts Options, symmetric bool, n int) linsolve.Options {
+// chooseSolver returns the linear solver of a solve: opts.Solver when
+// set, otherwise linsolve.Recommend's choice for the constrained matrix A,
+// tuned by the Auto options; and why.
+func chooseSolver(opts Options, A *sparse.CSR, layout *linsolve.Layout) (linsolve.Options, string) {
+	var so linsolve.Options
+	why := "as asked"
 	if opts.Solver != nil {
-		so := *opts.Solver
-		if so.Workers == 0 {
-			so.Workers = opts.Workers
+		so = *opts.Solver
+		if so.Layout == nil {
+			so.Layout = layout
 		}
-		return so
+	} else {
+		rec := linsolve.Recommend(A, layout)
+		so, why = rec.Options, rec.Reason
+		if opts.AutoTol > 0 {
+			so.RelTol = opts.AutoTol
+		}
+		if opts.AutoMaxIter > 0 {
+			so.MaxIter = opts.AutoMaxIter
+		}
+		if opts.AutoRestart > 0 {
+			so.Restart = opts.AutoRestart
+		}
 	}
-	so := linsolve.Options{Workers: opts.Workers}
-	switch {
-	case n < DirectLimit:
-		so.Method = linsolve.MethodDirect
-	case symmetric:
-		so.Method, so.Precond = linsolve.MethodCG, linsolve.PrecondILU0
-	default:
-		// Advection-dominated stabilised matrices make plain ILU(0)
-		// unstable on fine meshes (its factors' inverse grows
-		// exponentially; Elman 1986): use the shifted variant and a
-		// longer restart.
-		so.Method, so.Precond = linsolve.MethodGMRES, linsolve.PrecondILU0
-		so.ILUShift, so.Restart = AutoILUShift, 100
+	if so.Workers == 0 {
+		so.Workers = opts.Workers
 	}
-	return so
+	if so.Progress == nil {
+		so.Progress = opts.Iterations
+	}
+	if so.OnPhase == nil && opts.Progress != nil {
+		so.OnPhase = func(r linsolve.PhaseReport) {
+			opts.Progress(Event{Phase: r.Phase, Step: r.Step, Of: r.Steps, Detail: r.Detail})
+		}
+	}
+	return so, why
+}
+
+// layoutOf describes the fields of a dof numbering to the linear solvers:
+// offsets, nodes and components, and which fields are constraints (ir.LoweredUnknown.Constraint).
+func layoutOf(form *ir.LoweredForm, dm *dof.Map) *linsolve.Layout {
+	l := &linsolve.Layout{}
+	for k, f := range dm.Fields {
+		l.Fields = append(l.Fields, linsolve.FieldBlock{Name: f.Name, Offset: f.Offset, Nodes: f.NumNodes,
+			Components: f.Components, Dim: dm.Dim, Constraint: form.Unknowns[k].Constraint})
+	}
+	return l
 }
 
 // ErrNoSide is wrapped by the error for a condition or integral on a side

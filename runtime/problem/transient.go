@@ -3,6 +3,8 @@ package problem
 import (
 	"fmt"
 	"math"
+	"slices"
+	"time"
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/dof"
@@ -67,9 +69,15 @@ func SolveTransient(sf *ir.SteppedForm, m *mesh.Mesh, opts TransientOptions) (*S
 // opts.Start: each step is one solve of the system at the new time, with
 // the old level as the previous field (PreviousFixed) or as the mass
 // right-hand side (a Picard-iterated step, which also starts from it).
+//
+// The summary's phases are the set-up's, then each later phase summed over
+// all steps, so the time breakdown covers the whole run.
 func (s *system) march(so Options, x []float64, opts TransientOptions) (*Solution, error) {
 	var sol *Solution
 	var err error
+	nSetup := len(s.setup.Phases)
+	total := map[string]time.Duration{}
+	var order []string
 	for n := 1; n <= opts.Steps; n++ {
 		so.Time = opts.Start + float64(n)*opts.Step
 		if s.mass != nil {
@@ -80,10 +88,21 @@ func (s *system) march(so Options, x []float64, opts TransientOptions) (*Solutio
 			return nil, fmt.Errorf("time step %d (t = %g): %w", n, so.Time, err)
 		}
 		x = sol.X
+		for _, p := range sol.Summary.Phases[nSetup:] {
+			if _, ok := total[p.Name]; !ok {
+				order = append(order, p.Name)
+			}
+			total[p.Name] += p.Wall
+		}
 		if opts.Observe != nil {
 			opts.Observe(n, so.Time, sol)
 		}
 	}
+	phases := slices.Clone(sol.Summary.Phases[:nSetup])
+	for _, name := range order {
+		phases = append(phases, Phase{name, total[name]})
+	}
+	sol.Summary.Phases = phases
 	return sol, nil
 }
 

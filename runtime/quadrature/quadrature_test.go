@@ -9,7 +9,7 @@ import (
 )
 
 // Abramowitz & Stegun (1964), Table 25.4, values as in
-// /work/shared/REFERENCES.md (15 decimals). Tolerance 1e-15: the table is
+// testdata/REFERENCES.md (repository root) (15 decimals). Tolerance 1e-15: the table is
 // rounded to 15 decimals (error <= 5e-16) and gonum's nodes are accurate to
 // a few ulps.
 func TestGaussLegendreAbramowitzStegun(t *testing.T) {

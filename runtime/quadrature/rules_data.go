@@ -22,7 +22,7 @@ var sqrt15 = math.Sqrt(15)
 
 // DunavantTriangle holds the triangle rules of Dunavant (1985, IJNME 21,
 // 1129–1148), Table I, in barycentric coordinates with weights summing to
-// 1. Degrees 1–5 are the values listed in /work/shared/REFERENCES.md
+// 1. Degrees 1–5 are the values listed in testdata/REFERENCES.md (repository root)
 // (degree 5 in its closed form: a = (6±√15)/21, w = (155±√15)/1200).
 // Degrees 6 (12 points) and 8 (16 points) are recalled from memory of the
 // published table (15 digits); the exactness tests in this package prove
@@ -63,7 +63,7 @@ var DunavantTriangle = []SymmetricRule{
 var keast2a = (5 - math.Sqrt(5)) / 20
 
 // KeastTetrahedron holds the tetrahedron rules of Keast (1986, CMAME 55,
-// 339–348) of degrees 1–4 as listed in /work/shared/REFERENCES.md, in
+// 339–348) of degrees 1–4 as listed in testdata/REFERENCES.md (repository root), in
 // barycentric coordinates with weights summing to 1. The degree-3 and
 // degree-4 rules have a negative centroid weight, as published.
 var KeastTetrahedron = []SymmetricRule{

@@ -36,7 +36,7 @@ const (
 // ExprDeps returns the dependency bits of a lowered coefficient.
 func ExprDeps(e ir.Expr) Deps {
 	var d Deps
-	ir.Inspect(e, func(x ir.Expr) bool {
+	ir.InspectOnce(e, func(x ir.Expr) bool {
 		switch x := x.(type) {
 		case *ir.Coord, *ir.FieldD:
 			d |= DepPoint
@@ -161,16 +161,19 @@ func (e *UnsupportedError) Error() string {
 // in a temporary. Previous-iterate fields get slots in s (which may be
 // shared with other programs).
 func Compile(exprs []ir.Expr, s *Slots) (*Program, error) {
-	return CompileWith(exprs, s, nil)
+	return CompileWith(exprs, s, nil, nil)
 }
 
-// CompileWith is Compile where every subexpression whose structural key
-// (ExprKey) is in subst is read from the environment slot subst[key]
-// instead: a kernel hoists subexpressions that are constant in a cell out
-// of its per-point tapes this way.
-func CompileWith(exprs []ir.Expr, s *Slots, subst map[string]int) (*Program, error) {
+// CompileWith is Compile where every subexpression whose key in keys is in
+// subst is read from the environment slot subst[key] instead: a kernel
+// hoists subexpressions that are constant in a cell out of its per-point
+// tapes this way. keys may be nil when subst is.
+func CompileWith(exprs []ir.Expr, s *Slots, subst map[int]int, keys *Keys) (*Program, error) {
+	if keys == nil {
+		keys = NewKeys()
+	}
 	c := &compiler{slots: s, p: &Program{nOut: len(exprs)}, subst: subst,
-		count: map[string]int{}, temp: map[string]int32{}, keys: map[ir.Expr]string{}}
+		count: map[int]int{}, temp: map[int]int32{}, keys: keys}
 	for _, e := range exprs {
 		c.countSubtrees(e)
 	}
@@ -198,21 +201,14 @@ type compiler struct {
 	slots *Slots
 	p     *Program
 	depth int
-	subst map[string]int
-	count map[string]int   // occurrences of each composite subtree
-	temp  map[string]int32 // temporaries already computed
-	keys  map[ir.Expr]string
+	subst map[int]int
+	count map[int]int   // occurrences of each composite subtree
+	temp  map[int]int32 // temporaries already computed
+	keys  *Keys
 }
 
-// key returns the structural key of e (memoised per node).
-func (c *compiler) key(e ir.Expr) string {
-	if k, ok := c.keys[e]; ok {
-		return k
-	}
-	k := ExprKey(e)
-	c.keys[e] = k
-	return k
-}
+// key returns the structural key of e.
+func (c *compiler) key(e ir.Expr) int { return c.keys.Of(e) }
 
 // Composite reports whether e is an operation (sum, product, power,
 // call) rather than a leaf: the subexpressions worth sharing or hoisting.
@@ -238,56 +234,71 @@ func (c *compiler) countSubtrees(e ir.Expr) {
 	})
 }
 
-// ExprKey is a structural key of a lowered expression: equal keys mean
-// equal expressions (positions are ignored).
-func ExprKey(e ir.Expr) string {
+// Keys gives lowered expressions structural identities: two expressions
+// get the same key exactly when they are structurally equal (positions
+// and the names of ir.Named ignored). Keys are interned bottom-up from the
+// keys of the children (hash-consing), so a subexpression shared by
+// several parents is keyed once and the cost is linear in the number of
+// distinct nodes, however large the tree they unfold to.
+type Keys struct {
+	byNode  map[ir.Expr]int
+	byShape map[string]int
+}
+
+// NewKeys returns an empty key table.
+func NewKeys() *Keys { return &Keys{byNode: map[ir.Expr]int{}, byShape: map[string]int{}} }
+
+// Of returns the key of e.
+func (k *Keys) Of(e ir.Expr) int {
+	if id, ok := k.byNode[e]; ok {
+		return id
+	}
 	var b []byte
-	var walk func(e ir.Expr)
-	walk = func(e ir.Expr) {
+	switch e := e.(type) {
+	case *ir.Named:
+		id := k.Of(e.X) // a name changes nothing the tape computes
+		k.byNode[e] = id
+		return id
+	case *ir.Num:
+		b = append(append(b, 'n'), e.Val.RatString()...)
+	case *ir.Const:
+		b = append(append(b, 'k'), e.Name...)
+	case *ir.Coord:
+		b = append(b, 'x', byte('0'+e.Axis))
+	case *ir.Time:
+		b = append(b, 't')
+	case *ir.CellQ:
+		b = fmt.Appendf(b, "q%d.%d.%d", e.Q, e.I, e.J)
+	case *ir.FieldD:
+		idx := -1
+		if e.Field != nil {
+			idx = e.Field.Index*4 + int(e.Field.Role)
+		}
+		b = fmt.Appendf(b, "f%d.%d.%d%d%d.%d", idx, e.Comp, e.D[0], e.D[1], e.D[2], e.DT)
+	default:
 		switch e := e.(type) {
-		case *ir.Named:
-			walk(e.X) // a name changes nothing the tape computes
-		case *ir.Num:
-			b = append(b, 'n')
-			b = append(b, e.Val.RatString()...)
-		case *ir.Const:
-			b = append(b, 'k')
-			b = append(b, e.Name...)
-		case *ir.Coord:
-			b = append(b, 'x', byte('0'+e.Axis))
-		case *ir.Time:
-			b = append(b, 't')
-		case *ir.CellQ:
-			b = fmt.Appendf(b, "q%d.%d.%d", e.Q, e.I, e.J)
-		case *ir.FieldD:
-			idx := -1
-			if e.Field != nil {
-				idx = e.Field.Index*4 + int(e.Field.Role)
-			}
-			b = fmt.Appendf(b, "f%d.%d.%d%d%d.%d", idx, e.Comp, e.D[0], e.D[1], e.D[2], e.DT)
+		case *ir.Add:
+			b = append(b, '+')
+		case *ir.Mul:
+			b = append(b, '*')
+		case *ir.Pow:
+			b = append(b, '^')
+		case *ir.Call:
+			b = append(b, e.Fn.String()...)
 		default:
-			switch e := e.(type) {
-			case *ir.Add:
-				b = append(b, "(+"...)
-			case *ir.Mul:
-				b = append(b, "(*"...)
-			case *ir.Pow:
-				b = append(b, "(^"...)
-			case *ir.Call:
-				b = append(b, '(')
-				b = append(b, e.Fn.String()...)
-			default:
-				b = fmt.Appendf(b, "(%T", e)
-			}
-			for _, k := range ir.Children(e) {
-				b = append(b, ' ')
-				walk(k)
-			}
-			b = append(b, ')')
+			b = fmt.Appendf(b, "%T", e)
+		}
+		for _, c := range ir.Children(e) {
+			b = fmt.Appendf(b, " %d", k.Of(c))
 		}
 	}
-	walk(e)
-	return string(b)
+	id, ok := k.byShape[string(b)]
+	if !ok {
+		id = len(k.byShape)
+		k.byShape[string(b)] = id
+	}
+	k.byNode[e] = id
+	return id
 }
 
 func (c *compiler) emit(op opcode, arg int32, delta int) {

@@ -10,7 +10,7 @@ import (
 // ξ(α) = coth α − 1/α, the optimal upwind function (Christie, Griffiths,
 // Mitchell & Zienkiewicz 1976; Brooks & Hughes 1982): published values
 // ξ(0.1) = 0.033311132253990, ξ(1) = 0.313035285499331,
-// ξ(10) = 0.900000004122307 (REFERENCES.md, [checked]). Tolerance 1e-14:
+// ξ(10) = 0.900000004122307 (testdata/REFERENCES.md, [checked]). Tolerance 1e-14:
 // the values are printed to 15 digits; at α = 0.1 coth α − 1/α cancels
 // about two digits.
 func TestTapeOptimalUpwindFunction(t *testing.T) {

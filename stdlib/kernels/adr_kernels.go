@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("c8eb7b41972e238c9ffb1d0a6e531fb4", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return AdrGalerkinKernel{} },
+	compiled.Register("83724b415bf465061a88efb35e804b01", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return AdrGalerkinKernel{}
+		},
 	})
-	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return AdrSUPGKernel{} },
+	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return AdrSUPGKernel{}
+		},
 	})
-	compiled.Register("35e2ce77c37d48c9161462a5bc1a03da", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return AdrGLSKernel{} },
+	compiled.Register("9db8d7d6e62fae7ae464c562971e63b5", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return AdrGLSKernel{}
+		},
 	})
-	compiled.Register("eb8b41a3da402c8a00d51bc9adca8858", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return AdrVMSKernel{} },
+	compiled.Register("c83c1fc6ad747adaf2d9b0bb6d08992b", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return AdrVMSKernel{}
+		},
 	})
 }
 
-// fwAdrGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwAdrGalerkinLayout is the element layout of the galerkin kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
 var fwAdrGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -49,9 +58,9 @@ var fwAdrGalerkinLayout = kernel.Layout{
 	},
 }
 
-// AdrGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// AdrGalerkinKernel is the generated cell kernel of the galerkin form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type AdrGalerkinKernel struct{}
 
 var _ kernel.Kernel = AdrGalerkinKernel{}
@@ -103,29 +112,36 @@ func (AdrGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c17-c18) + 0.5*(c20+c24) + c22
-	A[1] = 0.1666666666666667*c17 + 0.5*(-c20-c22)
-	A[2] = 0.1666666666666667*c18 + 0.5*(-c22-c24)
-	A[3] = 0.16666666666666666*(-c17-c18) + 0.5*(-c20-c22)
-	A[4] = 0.16666666666666666*c17 + 0.5*c20
-	A[5] = 0.16666666666666666*c18 + 0.5*c22
-	A[6] = 0.16666666666666666*(-c17-c18) + 0.5*(-c22-c24)
-	A[7] = 0.16666666666666666*c17 + 0.5*c22
-	A[8] = 0.16666666666666666*c18 + 0.5*c24
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(c)   [adr.fw:12]
-	b[0] = 0.1666666666666667 * detJ
-	b[1] = 0.16666666666666666 * detJ
-	b[2] = 0.16666666666666666 * detJ
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  1/2 · ∂c/∂y · v        adr.fw:12
+	//	  ∂c/∂x · v              adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y  adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x  adr.fw:12
+	A[0] = (1.0/6)*(-c17-c18) + 0.5*(c20+c24) + c22
+	A[1] = (1.0/6)*c17 + 0.5*(-c20-c22)
+	A[2] = (1.0/6)*c18 + 0.5*(-c22-c24)
+	A[3] = (1.0/6)*(-c17-c18) + 0.5*(-c20-c22)
+	A[4] = (1.0/6)*c17 + 0.5*c20
+	A[5] = (1.0/6)*c18 + 0.5*c22
+	A[6] = (1.0/6)*(-c17-c18) + 0.5*(-c22-c24)
+	A[7] = (1.0/6)*c17 + 0.5*c22
+	A[8] = (1.0/6)*c18 + 0.5*c24
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  v  adr.fw:12
+	b[0] = (1.0 / 6) * detJ
+	b[1] = (1.0 / 6) * detJ
+	b[2] = (1.0 / 6) * detJ
 }
 
-// fwAdrSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwAdrSUPGLayout is the element layout of the supg kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwAdrSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -134,9 +150,9 @@ var fwAdrSUPGLayout = kernel.Layout{
 	},
 }
 
-// AdrSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// AdrSUPGKernel is the generated cell kernel of the supg form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type AdrSUPGKernel struct{}
 
 var _ kernel.Kernel = AdrSUPGKernel{}
@@ -171,11 +187,11 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 2.23606797749979
+	h := math.Sqrt(c17)
+	c18 := h * 2.23606797749979
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
-	coef12 := c17 * c20
+	tau_c := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -239,37 +255,48 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef12*c66
-	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef12*c60
-	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef12*c61
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef12*c68
-	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef12*c61
-	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(c)   [adr.fw:12]
-	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
-	//   - τ_c · partial(test(c), x)   [adr.fw:15]
-	b[0] = 0.1666666666666667*detJ + coef12*c71
-	b[1] = 0.16666666666666666*detJ + coef12*c72
-	b[2] = 0.16666666666666666*detJ + coef12*c73
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  1/2 · ∂c/∂y · v             adr.fw:12
+	//	  ∂c/∂x · v                   adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y       adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x       adr.fw:12
+	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
+	//	  τ_c/4 · ∂c/∂y · ∂v/∂y       adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂x · ∂v/∂y       adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂y · ∂v/∂x       adr.fw:12
+	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂c/∂x · ∂v/∂x         adr.fw:15
+	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x  adr.fw:12
+	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
+	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
+	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
+	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
+	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
+	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
+	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
+	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
+	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  v              adr.fw:12
+	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
+	//	  τ_c/2 · ∂v/∂y  adr.fw:12
+	//	  τ_c · ∂v/∂x    adr.fw:15
+	b[0] = (1.0/6)*detJ + tau_c*c71
+	b[1] = (1.0/6)*detJ + tau_c*c72
+	b[2] = (1.0/6)*detJ + tau_c*c73
 }
 
-// fwAdrGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwAdrGLSLayout is the element layout of the gls kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwAdrGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -278,9 +305,9 @@ var fwAdrGLSLayout = kernel.Layout{
 	},
 }
 
-// AdrGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// AdrGLSKernel is the generated cell kernel of the gls form on triangle cells,
+// quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no state
+// and does not allocate.
 type AdrGLSKernel struct{}
 
 var _ kernel.Kernel = AdrGLSKernel{}
@@ -315,11 +342,11 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 2.23606797749979
+	h := math.Sqrt(c17)
+	c18 := h * 2.23606797749979
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
-	coef21 := c17 * c20
+	tau_c := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -383,47 +410,58 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (τ_c/10000) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (τ_c/10000) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (τ_c/10000) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (τ_c/10000) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef21*c66
-	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef21*c60
-	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef21*c61
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef21*c68
-	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef21*c61
-	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(c)   [adr.fw:12]
-	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
-	//   - −τ_c/100 · partial(test(c), y, y)   [adr.fw:12]
-	//   - τ_c · partial(test(c), x)   [adr.fw:15]
-	//   - −τ_c/100 · partial(test(c), x, x)   [adr.fw:12]
-	b[0] = 0.1666666666666667*detJ + coef21*c71
-	b[1] = 0.16666666666666666*detJ + coef21*c72
-	b[2] = 0.16666666666666666*detJ + coef21*c73
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  1/2 · ∂c/∂y · v                adr.fw:12
+	//	  ∂c/∂x · v                      adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y          adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x          adr.fw:12
+	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
+	//	  τ_c/4 · ∂c/∂y · ∂v/∂y          adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y     adr.fw:12
+	//	  τ_c/2 · ∂c/∂x · ∂v/∂y          adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y     adr.fw:12
+	//	  −τ_c/200 · ∂c/∂y · ∂²v/∂y²     adr.fw:12
+	//	  τ_c/10000 · ∂²c/∂y² · ∂²v/∂y²  adr.fw:12
+	//	  −τ_c/100 · ∂c/∂x · ∂²v/∂y²     adr.fw:12
+	//	  τ_c/10000 · ∂²c/∂x² · ∂²v/∂y²  adr.fw:12
+	//	  τ_c/2 · ∂c/∂y · ∂v/∂x          adr.fw:12
+	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x     adr.fw:12
+	//	  τ_c · ∂c/∂x · ∂v/∂x            adr.fw:15
+	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x     adr.fw:12
+	//	  −τ_c/200 · ∂c/∂y · ∂²v/∂x²     adr.fw:12
+	//	  τ_c/10000 · ∂²c/∂y² · ∂²v/∂x²  adr.fw:12
+	//	  −τ_c/100 · ∂c/∂x · ∂²v/∂x²     adr.fw:12
+	//	  τ_c/10000 · ∂²c/∂x² · ∂²v/∂x²  adr.fw:12
+	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
+	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
+	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
+	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
+	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
+	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
+	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
+	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
+	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  v                   adr.fw:12
+	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
+	//	  τ_c/2 · ∂v/∂y       adr.fw:12
+	//	  −τ_c/100 · ∂²v/∂y²  adr.fw:12
+	//	  τ_c · ∂v/∂x         adr.fw:15
+	//	  −τ_c/100 · ∂²v/∂x²  adr.fw:12
+	b[0] = (1.0/6)*detJ + tau_c*c71
+	b[1] = (1.0/6)*detJ + tau_c*c72
+	b[2] = (1.0/6)*detJ + tau_c*c73
 }
 
-// fwAdrVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwAdrVMSLayout is the element layout of the vms kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwAdrVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -432,9 +470,9 @@ var fwAdrVMSLayout = kernel.Layout{
 	},
 }
 
-// AdrVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// AdrVMSKernel is the generated cell kernel of the vms form on triangle cells,
+// quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no state
+// and does not allocate.
 type AdrVMSKernel struct{}
 
 var _ kernel.Kernel = AdrVMSKernel{}
@@ -469,11 +507,11 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 2.23606797749979
+	h := math.Sqrt(c17)
+	c18 := h * 2.23606797749979
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
-	coef21 := c17 * c20
+	tau_c := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -537,43 +575,53 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwAdrFillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/200) · partial(c, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−τ_c/10000) · partial(c, y, y) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (τ_c/100) · partial(c, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (−τ_c/10000) · partial(c, x, x) · partial(test(c), y, y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (τ_c/200) · partial(c, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−τ_c/10000) · partial(c, y, y) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (τ_c/100) · partial(c, x) · partial(test(c), x, x)   [adr.fw:12]
-	//   - (−τ_c/10000) · partial(c, x, x) · partial(test(c), x, x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef21*c63
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef21*c66
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef21*c68
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef21*c66
-	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef21*c60
-	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef21*c61
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef21*c68
-	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef21*c61
-	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef21*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(c)   [adr.fw:12]
-	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
-	//   - τ_c/100 · partial(test(c), y, y)   [adr.fw:12]
-	//   - τ_c · partial(test(c), x)   [adr.fw:15]
-	//   - τ_c/100 · partial(test(c), x, x)   [adr.fw:12]
-	b[0] = 0.1666666666666667*detJ + coef21*c71
-	b[1] = 0.16666666666666666*detJ + coef21*c72
-	b[2] = 0.16666666666666666*detJ + coef21*c73
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  1/2 · ∂c/∂y · v                 adr.fw:12
+	//	  ∂c/∂x · v                       adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y           adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x           adr.fw:12
+	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
+	//	  τ_c/4 · ∂c/∂y · ∂v/∂y           adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y      adr.fw:12
+	//	  τ_c/2 · ∂c/∂x · ∂v/∂y           adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y      adr.fw:12
+	//	  τ_c/200 · ∂c/∂y · ∂²v/∂y²       adr.fw:12
+	//	  −τ_c/10000 · ∂²c/∂y² · ∂²v/∂y²  adr.fw:12
+	//	  τ_c/100 · ∂c/∂x · ∂²v/∂y²       adr.fw:12
+	//	  −τ_c/10000 · ∂²c/∂x² · ∂²v/∂y²  adr.fw:12
+	//	  τ_c/2 · ∂c/∂y · ∂v/∂x           adr.fw:12
+	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x      adr.fw:12
+	//	  τ_c · ∂c/∂x · ∂v/∂x             adr.fw:15
+	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x      adr.fw:12
+	//	  τ_c/200 · ∂c/∂y · ∂²v/∂x²       adr.fw:12
+	//	  −τ_c/10000 · ∂²c/∂y² · ∂²v/∂x²  adr.fw:12
+	//	  τ_c/100 · ∂c/∂x · ∂²v/∂x²       adr.fw:12
+	//	  −τ_c/10000 · ∂²c/∂x² · ∂²v/∂x²  adr.fw:12
+	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
+	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
+	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
+	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
+	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
+	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
+	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
+	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
+	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
+	//	  v                  adr.fw:12
+	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
+	//	  τ_c/2 · ∂v/∂y      adr.fw:12
+	//	  τ_c/100 · ∂²v/∂y²  adr.fw:12
+	//	  τ_c · ∂v/∂x        adr.fw:15
+	//	  τ_c/100 · ∂²v/∂x²  adr.fw:12
+	b[0] = (1.0/6)*detJ + tau_c*c71
+	b[1] = (1.0/6)*detJ + tau_c*c72
+	b[2] = (1.0/6)*detJ + tau_c*c73
 }
 
 // fwAdrFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

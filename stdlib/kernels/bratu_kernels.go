@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("d48a0fd25268c35000e4060ddebc9440", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BratuGalerkinKernel{} },
+	compiled.Register("d97faa27cc5670412dcf6f44449cadd7", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BratuGalerkinKernel{}
+		},
 	})
-	compiled.Register("9ec1d078c071acebb55162433130e69a", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BratuSUPGKernel{} },
+	compiled.Register("39c9e1b269bae44e1b969a896efbeebb", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BratuSUPGKernel{}
+		},
 	})
-	compiled.Register("af5c3785614b2f9a24493a9c1fc9d408", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BratuGLSKernel{} },
+	compiled.Register("c94b33e6306b59baf220fa6273303301", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BratuGLSKernel{}
+		},
 	})
-	compiled.Register("2274a3d6c174d6842369d4180a9e6e34", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BratuVMSKernel{} },
+	compiled.Register("33269ea1b2108660a7fa47d904f97098", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BratuVMSKernel{}
+		},
 	})
 }
 
-// fwBratuGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBratuGalerkinLayout is the element layout of the galerkin kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
 var fwBratuGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -49,9 +58,10 @@ var fwBratuGalerkinLayout = kernel.Layout{
 	},
 }
 
-// BratuGalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate. The form is symmetric; only the upper triangle is computed.
+// BratuGalerkinKernel is the generated cell kernel of the galerkin form on
+// interval cells, quadrature degree 3 (2 points). It implements kernel.Kernel,
+// keeps no state and does not allocate. The form is symmetric; only the upper
+// triangle is computed.
 type BratuGalerkinKernel struct{}
 
 var _ kernel.Kernel = BratuGalerkinKernel{}
@@ -86,13 +96,19 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(u, x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  ∂u/∂x · ∂v/∂x  bratu.fw:15
 	acc[0] += rdetJ
 	acc[1] += (-1.0) * rdetJ
 	acc[3] += rdetJ
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1 of the right-hand side:
-	//   - −partial(previous(u), x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c1 + c2
 	rhs[1] += c1 - c2
 	for q := 0; q < 2; q++ {
@@ -106,13 +122,17 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := -p5
 		p7 := fwBratuGalerkinCellBasis1Val[q][1] * p4
 		p8 := -p7
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (−exp(previous(u))) · u · test(u)   [bratu.fw:15]
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v  bratu.fw:15
 		acc[0] += fwBratuGalerkinCellBasis1Val[q][0] * p6
 		acc[1] += fwBratuGalerkinCellBasis1Val[q][0] * p8
 		acc[3] += fwBratuGalerkinCellBasis1Val[q][1] * p8
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - exp(previous(u)) · test(u)   [bratu.fw:15]
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v  bratu.fw:15
 		rhs[0] += fwBratuGalerkinCellBasis1Val[q][0] * p4
 		rhs[1] += fwBratuGalerkinCellBasis1Val[q][1] * p4
 	}
@@ -122,8 +142,9 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBratuSUPGLayout is the element layout of the supg kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwBratuSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -132,9 +153,10 @@ var fwBratuSUPGLayout = kernel.Layout{
 	},
 }
 
-// BratuSUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate. The form is symmetric; only the upper triangle is computed.
+// BratuSUPGKernel is the generated cell kernel of the supg form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate. The form is symmetric; only the upper triangle
+// is computed.
 type BratuSUPGKernel struct{}
 
 var _ kernel.Kernel = BratuSUPGKernel{}
@@ -169,13 +191,19 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(u, x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  ∂u/∂x · ∂v/∂x  bratu.fw:15
 	acc[0] += rdetJ
 	acc[1] += (-1.0) * rdetJ
 	acc[3] += rdetJ
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1 of the right-hand side:
-	//   - −partial(previous(u), x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c1 + c2
 	rhs[1] += c1 - c2
 	for q := 0; q < 2; q++ {
@@ -189,13 +217,17 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := -p5
 		p7 := fwBratuSUPGCellBasis1Val[q][1] * p4
 		p8 := -p7
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (−exp(previous(u))) · u · test(u)   [bratu.fw:15]
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v  bratu.fw:15
 		acc[0] += fwBratuSUPGCellBasis1Val[q][0] * p6
 		acc[1] += fwBratuSUPGCellBasis1Val[q][0] * p8
 		acc[3] += fwBratuSUPGCellBasis1Val[q][1] * p8
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - exp(previous(u)) · test(u)   [bratu.fw:15]
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v  bratu.fw:15
 		rhs[0] += fwBratuSUPGCellBasis1Val[q][0] * p4
 		rhs[1] += fwBratuSUPGCellBasis1Val[q][1] * p4
 	}
@@ -205,8 +237,9 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBratuGLSLayout is the element layout of the gls kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwBratuGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -215,9 +248,9 @@ var fwBratuGLSLayout = kernel.Layout{
 	},
 }
 
-// BratuGLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BratuGLSKernel is the generated cell kernel of the gls form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type BratuGLSKernel struct{}
 
 var _ kernel.Kernel = BratuGLSKernel{}
@@ -254,14 +287,20 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(u, x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  ∂u/∂x · ∂v/∂x  bratu.fw:15
 	acc[0] += rdetJ
 	acc[1] += (-1.0) * rdetJ
 	acc[2] += (-1.0) * rdetJ
 	acc[3] += rdetJ
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1 of the right-hand side:
-	//   - −partial(previous(u), x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c3 + c4
 	rhs[1] += c3 - c4
 	for q := 0; q < 2; q++ {
@@ -274,12 +313,12 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := p5 * c2
 		p7 := 4.0 + p6
 		p8 := 1.0 / p7
-		coef4 := c2 * p8
+		tau_u := c2 * p8
 		p9 := p4 * p4
-		p10 := coef4 * p9
-		p11 := p4 * p4 * coef4
+		p10 := tau_u * p9
+		p11 := p4 * p4 * tau_u
 		p12 := fwBratuSign(p4)
-		p13 := coef4 * coef4
+		p13 := tau_u * tau_u
 		p14 := p4 * p9 * p12 * p13
 		coef0 := p10 - p4 + p11 - p14
 		coef5 := p4 - p11
@@ -287,18 +326,29 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p16 := fwBratuGLSCellBasis1Val[q][0] * p15
 		p17 := fwBratuGLSCellBasis1Val[q][1] * p15
 		p18 := coef5 * w
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (−exp(previous(u)) + τ_u exp(previous(u))² − τ_u exp(previous(u)) (−exp(previous(u)) − partial(previous(u), x, x)) + exp(previous(u))² sign(exp(previous(u))) (−exp(previous(u)) − partial(previous(u), x, x))/(|exp(previous(u))| + 4/h²)²) · u · test(u)   [bratu.fw:15]
-		//   - (τ_u exp(previous(u))) · partial(u, x, x) · test(u)   [bratu.fw:15]
-		//   - (τ_u exp(previous(u)) + exp(previous(u)) sign(exp(previous(u))) (−exp(previous(u)) − partial(previous(u), x, x))/(|exp(previous(u))| + 4/h²)²) · u · partial(test(u), x, x)   [bratu.fw:15]
-		//   - (τ_u) · partial(u, x, x) · partial(test(u), x, x)   [bratu.fw:18]
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v                                   bratu.fw:15
+		//	  exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
+		//	GLS: + Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                  bratu.fw:18
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾)² · u · v                               bratu.fw:15
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · u · v  bratu.fw:15
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) · ∂²u/∂x² · v                          bratu.fw:15
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) · u · ∂²v/∂x²                          bratu.fw:15
+		//	  τ_u · ∂²u/∂x² · ∂²v/∂x²                                 bratu.fw:18
 		acc[0] += fwBratuGLSCellBasis1Val[q][0] * p16
 		acc[1] += fwBratuGLSCellBasis1Val[q][0] * p17
 		acc[2] += fwBratuGLSCellBasis1Val[q][1] * p16
 		acc[3] += fwBratuGLSCellBasis1Val[q][1] * p17
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - exp(previous(u)) + τ_u exp(previous(u)) (−exp(previous(u)) − partial(previous(u), x, x)) · test(u)   [bratu.fw:15]
-		//   - τ_u (−exp(previous(u)) − partial(previous(u), x, x)) · partial(test(u), x, x)   [bratu.fw:15]
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                      bratu.fw:15
+		//	GLS: + Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                bratu.fw:18
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · v  bratu.fw:15
+		//	  τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
 		rhs[0] += fwBratuGLSCellBasis1Val[q][0] * p18
 		rhs[1] += fwBratuGLSCellBasis1Val[q][1] * p18
 	}
@@ -306,8 +356,9 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBratuVMSLayout is the element layout of the vms kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwBratuVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -316,9 +367,9 @@ var fwBratuVMSLayout = kernel.Layout{
 	},
 }
 
-// BratuVMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BratuVMSKernel is the generated cell kernel of the vms form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type BratuVMSKernel struct{}
 
 var _ kernel.Kernel = BratuVMSKernel{}
@@ -355,14 +406,20 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(u, x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  ∂u/∂x · ∂v/∂x  bratu.fw:15
 	acc[0] += rdetJ
 	acc[1] += (-1.0) * rdetJ
 	acc[2] += (-1.0) * rdetJ
 	acc[3] += rdetJ
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1 of the right-hand side:
-	//   - −partial(previous(u), x) · partial(test(u), x)   [bratu.fw:15]
+	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c3 + c4
 	rhs[1] += c3 - c4
 	for q := 0; q < 2; q++ {
@@ -375,33 +432,44 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := p5 * c2
 		p7 := 4.0 + p6
 		p8 := 1.0 / p7
-		p9 := c2 * p8
-		p10 := p4 * p4
-		p11 := p9 * p10
-		p12 := p4 * p4 * p9
-		p13 := fwBratuSign(p4)
-		p14 := p9 * p9
-		p15 := p4 * p10 * p13 * p14
-		coef0 := p15 - p4 - p11 - p12
-		coef5 := p4 + p12
-		p16 := coef0 * w
-		p17 := fwBratuVMSCellBasis1Val[q][0] * p16
-		p18 := fwBratuVMSCellBasis1Val[q][1] * p16
-		p19 := coef5 * w
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (−exp(previous(u)) − τ_u exp(previous(u))² + τ_u exp(previous(u)) (−exp(previous(u)) − partial(previous(u), x, x)) − exp(previous(u))² sign(exp(previous(u))) (−exp(previous(u)) − partial(previous(u), x, x))/(|exp(previous(u))| + 4/h²)²) · u · test(u)   [bratu.fw:15]
-		//   - (−τ_u exp(previous(u))) · partial(u, x, x) · test(u)   [bratu.fw:15]
-		//   - (−τ_u exp(previous(u)) − exp(previous(u)) sign(exp(previous(u))) (−exp(previous(u)) − partial(previous(u), x, x))/(|exp(previous(u))| + 4/h²)²) · u · partial(test(u), x, x)   [bratu.fw:15]
-		//   - (−τ_u) · partial(u, x, x) · partial(test(u), x, x)   [bratu.fw:15]
-		acc[0] += fwBratuVMSCellBasis1Val[q][0] * p17
-		acc[1] += fwBratuVMSCellBasis1Val[q][0] * p18
-		acc[2] += fwBratuVMSCellBasis1Val[q][1] * p17
-		acc[3] += fwBratuVMSCellBasis1Val[q][1] * p18
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - exp(previous(u)) − τ_u exp(previous(u)) (−exp(previous(u)) − partial(previous(u), x, x)) · test(u)   [bratu.fw:15]
-		//   - −τ_u (−exp(previous(u)) − partial(previous(u), x, x)) · partial(test(u), x, x)   [bratu.fw:15]
-		rhs[0] += fwBratuVMSCellBasis1Val[q][0] * p19
-		rhs[1] += fwBratuVMSCellBasis1Val[q][1] * p19
+		tau_u := c2 * p8
+		p9 := p4 * p4
+		p10 := tau_u * p9
+		p11 := p4 * p4 * tau_u
+		p12 := fwBratuSign(p4)
+		p13 := tau_u * tau_u
+		p14 := p4 * p9 * p12 * p13
+		coef0 := p14 - p4 - p10 - p11
+		coef5 := p4 + p11
+		p15 := coef0 * w
+		p16 := fwBratuVMSCellBasis1Val[q][0] * p15
+		p17 := fwBratuVMSCellBasis1Val[q][1] * p15
+		p18 := coef5 * w
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v                                   bratu.fw:15
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
+		//	VMS: − Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                  bratu.fw:18
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾)² · u · v                              bratu.fw:15
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · u · v  bratu.fw:15
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) · ∂²u/∂x² · v                         bratu.fw:15
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) · u · ∂²v/∂x²                         bratu.fw:15
+		//	  −τ_u · ∂²u/∂x² · ∂²v/∂x²                                bratu.fw:15
+		acc[0] += fwBratuVMSCellBasis1Val[q][0] * p16
+		acc[1] += fwBratuVMSCellBasis1Val[q][0] * p17
+		acc[2] += fwBratuVMSCellBasis1Val[q][1] * p16
+		acc[3] += fwBratuVMSCellBasis1Val[q][1] * p17
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                       bratu.fw:15
+		//	VMS: − Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                 bratu.fw:18
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · v  bratu.fw:15
+		//	  −τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
+		rhs[0] += fwBratuVMSCellBasis1Val[q][0] * p18
+		rhs[1] += fwBratuVMSCellBasis1Val[q][1] * p18
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -418,6 +486,7 @@ func fwBratuFillNaN(A, b []float64) {
 	}
 }
 
+// fwBratuSign is the sign of x: 1, −1, or x itself for ±0 and NaN.
 func fwBratuSign(x float64) float64 {
 	switch {
 	case x > 0:
@@ -428,8 +497,8 @@ func fwBratuSign(x float64) float64 {
 	return x
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwBratuGalerkinCellBasis1Val = [2][2]float64{
 		{0.21132486540518713, 0.7886751345948129},

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("3e02bee0816fe52455fc1772007de7f1", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BurgersGalerkinKernel{} },
+	compiled.Register("cb9bb7717a2dc2b0c7d4b9cc94191ee5", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BurgersGalerkinKernel{}
+		},
 	})
-	compiled.Register("97fbded934bd982bc64353aa1bcc4801", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BurgersSUPGKernel{} },
+	compiled.Register("e1bd77fc04b12f24d8dff4d15a7e21e5", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BurgersSUPGKernel{}
+		},
 	})
-	compiled.Register("ed9c6d1479b4a132b096732be9de4804", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BurgersGLSKernel{} },
+	compiled.Register("cc5ec27df91cbb680a5a8ea11032fc59", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BurgersGLSKernel{}
+		},
 	})
-	compiled.Register("63c1538271e0cd84758c610dc845aefe", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Interval,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return BurgersVMSKernel{} },
+	compiled.Register("809e65ef336ce817c836006e92f69299", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Interval,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return BurgersVMSKernel{}
+		},
 	})
 }
 
-// fwBurgersGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBurgersGalerkinLayout is the element layout of the galerkin kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
 var fwBurgersGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -49,9 +58,9 @@ var fwBurgersGalerkinLayout = kernel.Layout{
 	},
 }
 
-// BurgersGalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BurgersGalerkinKernel is the generated cell kernel of the galerkin form on
+// interval cells, quadrature degree 3 (2 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type BurgersGalerkinKernel struct{}
 
 var _ kernel.Kernel = BurgersGalerkinKernel{}
@@ -81,10 +90,10 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c2 := rdetJ * pv[1]
 	coef0 := c2 - c1
 	c3 := rdetJ * 0.01
-	c4 := j00 * (-0.33333333333333337)
-	c5 := j00 * 0.33333333333333337
-	c6 := j00 * (-0.16666666666666669)
-	c7 := j00 * 0.16666666666666669
+	c4 := j00 * (-(1.0 / 3))
+	c5 := j00 * (1.0 / 3)
+	c6 := j00 * (-(1.0 / 6))
+	c7 := j00 * (1.0 / 6)
 	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
@@ -92,15 +101,21 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (partial(previous(u), x)) · u · test(u)   [burgers.fw:24]
-	//   - (1/100) · partial(u, x) · partial(test(u), x)   [burgers.fw:24]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+	//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v    burgers.fw:24
+	//	  1/100 · ∂u/∂x · ∂v/∂x  burgers.fw:24
 	acc[0] += c3 + c1*c4 + c2*c5
 	acc[1] += (-1.0)*c3 + c1*c6 + c2*c7
 	acc[2] += (-1.0)*c3 + c1*c6 + c2*c7
 	acc[3] += c3 + c1*c4 + c2*c5
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1 of the right-hand side:
-	//   - −partial(previous(u), x)/100 · partial(test(u), x)   [burgers.fw:24]
+	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x  burgers.fw:24
 	rhs[0] += 0.01 * coef0
 	rhs[1] += (-0.01) * coef0
 	for q := 0; q < 2; q++ {
@@ -114,14 +129,18 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := -p5
 		p7 := p3 * w
 		p8 := -p7
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (previous(u)) · partial(u, x) · test(u)   [burgers.fw:24]
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v  burgers.fw:24
 		acc[0] += fwBurgersGalerkinCellBasis1Val[q][0] * p6
 		acc[1] += fwBurgersGalerkinCellBasis1Val[q][0] * p5
 		acc[2] += fwBurgersGalerkinCellBasis1Val[q][1] * p6
 		acc[3] += fwBurgersGalerkinCellBasis1Val[q][1] * p5
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - −previous(u) partial(previous(u), x) · test(u)   [burgers.fw:24]
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v  burgers.fw:24
 		rhs[0] += fwBurgersGalerkinCellBasis1Val[q][0] * p8
 		rhs[1] += fwBurgersGalerkinCellBasis1Val[q][1] * p8
 	}
@@ -129,8 +148,9 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBurgersSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBurgersSUPGLayout is the element layout of the supg kernels: interval
+// cells, fields in local dof order (field-major, then component, then element
+// node); 2 local dofs.
 var fwBurgersSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -139,9 +159,9 @@ var fwBurgersSUPGLayout = kernel.Layout{
 	},
 }
 
-// BurgersSUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BurgersSUPGKernel is the generated cell kernel of the supg form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type BurgersSUPGKernel struct{}
 
 var _ kernel.Kernel = BurgersSUPGKernel{}
@@ -173,13 +193,13 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	coef0 := c3 - c2
 	c4 := x[0] - x[1]
 	c5 := c4 * c4
-	diameter := math.Sqrt(c5)
-	c6 := 1.0 / diameter
+	h := math.Sqrt(c5)
+	c6 := 1.0 / h
 	c7 := coef0 * (-0.01)
-	c8 := j00 * (-0.33333333333333337)
-	c9 := j00 * 0.33333333333333337
-	c10 := j00 * (-0.16666666666666669)
-	c11 := j00 * 0.16666666666666669
+	c8 := j00 * (-(1.0 / 3))
+	c9 := j00 * (1.0 / 3)
+	c10 := j00 * (-(1.0 / 6))
+	c11 := j00 * (1.0 / 6)
 	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
@@ -187,8 +207,11 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (partial(previous(u), x)) · u · test(u)   [burgers.fw:24]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+	//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v  burgers.fw:24
 	acc[0] += c2*c8 + c3*c9
 	acc[1] += c2*c10 + c3*c11
 	acc[2] += c2*c10 + c3*c11
@@ -199,56 +222,67 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p2 := pv[1] * fwBurgersSUPGCellBasis1Val[q][1]
 		coef1 := p1 + p2
 		p3 := math.Abs(coef1)
-		p4 := 2.0 * diameter * p3
+		p4 := 2.0 * h * p3
 		p5 := 0.04 + p4
 		p6 := 1.0 / p5
-		p7 := c5 * p6
-		p8 := coef0 * coef1
-		p9 := p7 * p8
-		p10 := coef0 * coef1 * p7
-		p11 := fwBurgersSign(coef1)
-		p12 := p7 * p7
-		p13 := coef1 * c6 * p8 * (-2.0) * p11 * p12
-		coef2 := p9 + p10 + p13
-		p14 := coef1 * coef1
-		p15 := p7 * p14
-		coef3 := p15 + 0.01
-		p16 := coef1 * p7 * p8
-		coef6 := c7 - p16
-		p17 := coef1 * w
-		p18 := rdetJ * p17
-		p19 := -p18
-		p20 := coef2 * w
-		p21 := fwBurgersSUPGCellBasis1Val[q][0] * p20
-		p22 := fwBurgersSUPGCellBasis1Val[q][1] * p20
-		p23 := coef3 * w
-		p24 := rdetJ * p23
-		p25 := p21 - p24
-		p26 := p22 + p24
-		p27 := p8 * w
-		p28 := -p27
-		p29 := coef6 * w
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (previous(u)) · partial(u, x) · test(u)   [burgers.fw:24]
-		//   - (τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) + τ_u previous(u) partial(previous(u), x) − 2 sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u)/(h (2 |previous(u)|/h + 1/(25 h²))²)) · u · partial(test(u), x)   [burgers.fw:24]
-		//   - (τ_u previous(u)² + 1/100) · partial(u, x) · partial(test(u), x)   [burgers.fw:24]
-		//   - (−τ_u previous(u)/100) · partial(u, x, x) · partial(test(u), x)   [burgers.fw:24]
-		acc[0] += fwBurgersSUPGCellBasis1Val[q][0]*p19 + c1*p25
-		acc[1] += fwBurgersSUPGCellBasis1Val[q][0]*p18 + c1*p26
-		acc[2] += fwBurgersSUPGCellBasis1Val[q][1]*p19 + rdetJ*p25
-		acc[3] += fwBurgersSUPGCellBasis1Val[q][1]*p18 + rdetJ*p26
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - −previous(u) partial(previous(u), x) · test(u)   [burgers.fw:24]
-		//   - −τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u) − partial(previous(u), x)/100 · partial(test(u), x)   [burgers.fw:24]
-		rhs[0] += fwBurgersSUPGCellBasis1Val[q][0]*p28 + c1*p29
-		rhs[1] += fwBurgersSUPGCellBasis1Val[q][1]*p28 + rdetJ*p29
+		tau_u := c5 * p6
+		p7 := coef0 * coef1
+		p8 := tau_u * p7
+		p9 := coef0 * coef1 * tau_u
+		p10 := fwBurgersSign(coef1)
+		p11 := tau_u * tau_u
+		p12 := coef1 * c6 * p7 * (-2.0) * p10 * p11
+		coef2 := p8 + p9 + p12
+		p13 := coef1 * coef1
+		p14 := tau_u * p13
+		coef3 := p14 + 0.01
+		p15 := coef1 * tau_u * p7
+		coef6 := c7 - p15
+		p16 := coef1 * w
+		p17 := rdetJ * p16
+		p18 := -p17
+		p19 := coef2 * w
+		p20 := fwBurgersSUPGCellBasis1Val[q][0] * p19
+		p21 := fwBurgersSUPGCellBasis1Val[q][1] * p19
+		p22 := coef3 * w
+		p23 := rdetJ * p22
+		p24 := p20 - p23
+		p25 := p21 + p23
+		p26 := p7 * w
+		p27 := -p26
+		p28 := coef6 * w
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
+		//	SUPG: + Σ_K (τ_u R_u, ∂ₓv u)_K                            burgers.fw:27
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
+		acc[0] += fwBurgersSUPGCellBasis1Val[q][0]*p18 + c1*p24
+		acc[1] += fwBurgersSUPGCellBasis1Val[q][0]*p17 + c1*p25
+		acc[2] += fwBurgersSUPGCellBasis1Val[q][1]*p18 + rdetJ*p24
+		acc[3] += fwBurgersSUPGCellBasis1Val[q][1]*p17 + rdetJ*p25
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
+		//	SUPG: + Σ_K (τ_u R_u, ∂ₓv u)_K                            burgers.fw:27
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		rhs[0] += fwBurgersSUPGCellBasis1Val[q][0]*p27 + c1*p28
+		rhs[1] += fwBurgersSUPGCellBasis1Val[q][1]*p27 + rdetJ*p28
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwBurgersGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBurgersGLSLayout is the element layout of the gls kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwBurgersGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -257,9 +291,9 @@ var fwBurgersGLSLayout = kernel.Layout{
 	},
 }
 
-// BurgersGLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BurgersGLSKernel is the generated cell kernel of the gls form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type BurgersGLSKernel struct{}
 
 var _ kernel.Kernel = BurgersGLSKernel{}
@@ -285,8 +319,8 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := 1.0 / diameter
+	h := math.Sqrt(c2)
+	c3 := 1.0 / h
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c4 := -rdetJ
@@ -308,72 +342,89 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p2 := pv[1] * fwBurgersGLSCellBasis1Val[q][1]
 		p3 := p1 + p2
 		p4 := math.Abs(p3)
-		p5 := 2.0 * diameter * p4
+		p5 := 2.0 * h * p4
 		p6 := 0.04 + p5
 		p7 := 1.0 / p6
-		p8 := c2 * p7
-		p9 := p8 * c8
-		p10 := fwBurgersSign(p3)
-		p11 := p3 * c7
-		p12 := p8 * p8
-		p13 := c3 * c7 * (-2.0) * p10 * p11 * p12
-		coef0 := c7 + p9 + p13
-		p14 := p8 * p11
-		p15 := p3 * p8 * c7
-		coef1 := p3 + p14 + p15
-		p16 := c3 * p3 * (-2.0) * p10 * p11 * p12
-		coef3 := p14 + p15 + p16
-		p17 := p3 * p3
-		p18 := p8 * p17
-		coef4 := p18 + 0.01
-		p19 := -p11
-		p20 := p8 * c7 * p11
-		coef9 := p19 - p20
-		p21 := p3 * p8 * p11
-		coef10 := c9 - p21
-		p22 := coef0 * w
-		p23 := fwBurgersGLSCellBasis1Val[q][0] * p22
-		p24 := fwBurgersGLSCellBasis1Val[q][1] * p22
-		p25 := coef1 * w
-		p26 := rdetJ * p25
-		p27 := p23 - p26
-		p28 := p24 + p26
-		p29 := coef3 * w
-		p30 := fwBurgersGLSCellBasis1Val[q][0] * p29
-		p31 := fwBurgersGLSCellBasis1Val[q][1] * p29
-		p32 := coef4 * w
-		p33 := rdetJ * p32
-		p34 := p30 - p33
-		p35 := p31 + p33
-		p36 := coef9 * w
-		p37 := coef10 * w
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (τ_u partial(previous(u), x)² − 2 sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) partial(previous(u), x)/(h (2 |previous(u)|/h + 1/(25 h²))²) + partial(previous(u), x)) · u · test(u)   [burgers.fw:24]
-		//   - (τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) + τ_u previous(u) partial(previous(u), x) + previous(u)) · partial(u, x) · test(u)   [burgers.fw:24]
-		//   - (−τ_u partial(previous(u), x)/100) · partial(u, x, x) · test(u)   [burgers.fw:24]
-		//   - (τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) + τ_u previous(u) partial(previous(u), x) − 2 sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u)/(h (2 |previous(u)|/h + 1/(25 h²))²)) · u · partial(test(u), x)   [burgers.fw:24]
-		//   - (τ_u previous(u)² + 1/100) · partial(u, x) · partial(test(u), x)   [burgers.fw:24]
-		//   - (−τ_u previous(u)/100) · partial(u, x, x) · partial(test(u), x)   [burgers.fw:24]
-		//   - (−τ_u partial(previous(u), x)/100 + sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100)/(50 h (2 |previous(u)|/h + 1/(25 h²))²)) · u · partial(test(u), x, x)   [burgers.fw:24]
-		//   - (−τ_u previous(u)/100) · partial(u, x) · partial(test(u), x, x)   [burgers.fw:24]
-		//   - (τ_u/10000) · partial(u, x, x) · partial(test(u), x, x)   [burgers.fw:24]
-		acc[0] += fwBurgersGLSCellBasis1Val[q][0]*p27 + c4*p34
-		acc[1] += fwBurgersGLSCellBasis1Val[q][0]*p28 + c4*p35
-		acc[2] += fwBurgersGLSCellBasis1Val[q][1]*p27 + rdetJ*p34
-		acc[3] += fwBurgersGLSCellBasis1Val[q][1]*p28 + rdetJ*p35
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - −previous(u) partial(previous(u), x) − τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) partial(previous(u), x) · test(u)   [burgers.fw:24]
-		//   - −τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u) − partial(previous(u), x)/100 · partial(test(u), x)   [burgers.fw:24]
-		//   - τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100)/100 · partial(test(u), x, x)   [burgers.fw:24]
-		rhs[0] += fwBurgersGLSCellBasis1Val[q][0]*p36 + c4*p37
-		rhs[1] += fwBurgersGLSCellBasis1Val[q][1]*p36 + rdetJ*p37
+		tau_u := c2 * p7
+		p8 := tau_u * c8
+		p9 := fwBurgersSign(p3)
+		p10 := p3 * c7
+		p11 := tau_u * tau_u
+		p12 := c3 * c7 * (-2.0) * p9 * p10 * p11
+		coef0 := c7 + p8 + p12
+		p13 := tau_u * p10
+		p14 := p3 * tau_u * c7
+		coef1 := p3 + p13 + p14
+		p15 := c3 * p3 * (-2.0) * p9 * p10 * p11
+		coef3 := p13 + p14 + p15
+		p16 := p3 * p3
+		p17 := tau_u * p16
+		coef4 := p17 + 0.01
+		p18 := -p10
+		p19 := tau_u * c7 * p10
+		coef9 := p18 - p19
+		p20 := p3 * tau_u * p10
+		coef10 := c9 - p20
+		p21 := coef0 * w
+		p22 := fwBurgersGLSCellBasis1Val[q][0] * p21
+		p23 := fwBurgersGLSCellBasis1Val[q][1] * p21
+		p24 := coef1 * w
+		p25 := rdetJ * p24
+		p26 := p22 - p25
+		p27 := p23 + p25
+		p28 := coef3 * w
+		p29 := fwBurgersGLSCellBasis1Val[q][0] * p28
+		p30 := fwBurgersGLSCellBasis1Val[q][1] * p28
+		p31 := coef4 * w
+		p32 := rdetJ * p31
+		p33 := p29 - p32
+		p34 := p30 + p32
+		p35 := coef9 * w
+		p36 := coef10 * w
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · v  burgers.fw:24
+		//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v                                     burgers.fw:24
+		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
+		//	  sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
+		//	GLS: + Σ_K (τ_u R_u, −ν Δv + ∂ₓu v + ∂ₓv u)_K             burgers.fw:27
+		//	  τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x² · u · v                                burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · ∂u/∂x · v  burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v                     burgers.fw:24
+		//	  −τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²u/∂x² · v                      burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
+		//	  −τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · u · ∂²v/∂x²                      burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂u/∂x · ∂²v/∂x²                      burgers.fw:24
+		//	  τ_u/10000 · ∂²u/∂x² · ∂²v/∂x²                           burgers.fw:24
+		acc[0] += fwBurgersGLSCellBasis1Val[q][0]*p26 + c4*p33
+		acc[1] += fwBurgersGLSCellBasis1Val[q][0]*p27 + c4*p34
+		acc[2] += fwBurgersGLSCellBasis1Val[q][1]*p26 + rdetJ*p33
+		acc[3] += fwBurgersGLSCellBasis1Val[q][1]*p27 + rdetJ*p34
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
+		//	GLS: + Σ_K (τ_u R_u, −ν Δv + ∂ₓu v + ∂ₓv u)_K             burgers.fw:27
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x · v  burgers.fw:24
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
+		rhs[0] += fwBurgersGLSCellBasis1Val[q][0]*p35 + c4*p36
+		rhs[1] += fwBurgersGLSCellBasis1Val[q][1]*p35 + rdetJ*p36
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwBurgersVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
+// fwBurgersVMSLayout is the element layout of the vms kernels: interval cells,
+// fields in local dof order (field-major, then component, then element node);
+// 2 local dofs.
 var fwBurgersVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
@@ -382,9 +433,9 @@ var fwBurgersVMSLayout = kernel.Layout{
 	},
 }
 
-// BurgersVMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 3 (2 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// BurgersVMSKernel is the generated cell kernel of the vms form on interval
+// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type BurgersVMSKernel struct{}
 
 var _ kernel.Kernel = BurgersVMSKernel{}
@@ -416,13 +467,13 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	coef0 := c3 - c2
 	c4 := x[0] - x[1]
 	c5 := c4 * c4
-	diameter := math.Sqrt(c5)
-	c6 := 1.0 / diameter
+	h := math.Sqrt(c5)
+	c6 := 1.0 / h
 	c7 := coef0 * (-0.01)
-	c8 := j00 * (-0.33333333333333337)
-	c9 := j00 * 0.33333333333333337
-	c10 := j00 * (-0.16666666666666669)
-	c11 := j00 * 0.16666666666666669
+	c8 := j00 * (-(1.0 / 3))
+	c9 := j00 * (1.0 / 3)
+	c10 := j00 * (-(1.0 / 6))
+	c11 := j00 * (1.0 / 6)
 	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
@@ -430,8 +481,11 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (partial(previous(u), x)) · u · test(u)   [burgers.fw:24]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+	//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v  burgers.fw:24
 	acc[0] += c2*c8 + c3*c9
 	acc[1] += c2*c10 + c3*c11
 	acc[2] += c2*c10 + c3*c11
@@ -442,65 +496,83 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p2 := pv[1] * fwBurgersVMSCellBasis1Val[q][1]
 		coef1 := p1 + p2
 		p3 := math.Abs(coef1)
-		p4 := 2.0 * diameter * p3
+		p4 := 2.0 * h * p3
 		p5 := 0.04 + p4
 		p6 := 1.0 / p5
-		p7 := c5 * p6
-		p8 := coef0 * coef1
-		p9 := p7 * p8
-		p10 := coef0 * p7 * p9
-		p11 := coef0 * coef1 * p7
-		p12 := fwBurgersSign(coef1)
-		p13 := p7 * p7
-		p14 := 2.0 * c6 * p8 * p9 * p12 * p13
-		p15 := coef1 * c6 * p8 * (-2.0) * p12 * p13
-		coef2 := p9 - p10 + p11 + p14 + p15
-		p16 := coef1 * coef1
-		p17 := p7 * p16
-		p18 := coef1 * p7 * p9
-		coef3 := p17 - p18 + 0.01
-		p19 := p9 * p9
+		tau_u := c5 * p6
+		p7 := coef0 * coef1
+		p8 := tau_u * p7
+		p9 := coef0 * tau_u * p8
+		p10 := coef0 * coef1 * tau_u
+		p11 := fwBurgersSign(coef1)
+		p12 := tau_u * tau_u
+		p13 := 2.0 * c6 * p7 * p8 * p11 * p12
+		p14 := coef1 * c6 * p7 * (-2.0) * p11 * p12
+		coef2 := p8 - p9 + p10 + p13 + p14
+		p15 := coef1 * coef1
+		p16 := tau_u * p15
+		p17 := coef1 * tau_u * p8
+		coef3 := p16 - p17 + 0.01
+		p18 := coef1 * tau_u * p7
+		p19 := p8 * p8
 		p20 := 0.5 * p19
-		p21 := coef1 * p7 * p8
-		coef9 := p20 - p21 + c7
-		p22 := coef1 * w
-		p23 := rdetJ * p22
-		p24 := -p23
-		p25 := coef2 * w
-		p26 := fwBurgersVMSCellBasis1Val[q][0] * p25
-		p27 := fwBurgersVMSCellBasis1Val[q][1] * p25
-		p28 := coef3 * w
-		p29 := rdetJ * p28
-		p30 := p26 - p29
-		p31 := p27 + p29
-		p32 := p8 * w
-		p33 := -p32
-		p34 := coef9 * w
-		// At each quadrature point: rows 0..1, columns 0..1:
-		//   - (previous(u)) · partial(u, x) · test(u)   [burgers.fw:24]
-		//   - (τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) + τ_u u′ partial(previous(u), x) + τ_u previous(u) partial(previous(u), x) − 2 u′ sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100)/(h (2 |previous(u)|/h + 1/(25 h²))²) − 2 sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u)/(h (2 |previous(u)|/h + 1/(25 h²))²)) · u · partial(test(u), x)   [burgers.fw:24]
-		//   - (τ_u previous(u)² + τ_u u′ previous(u) + 1/100) · partial(u, x) · partial(test(u), x)   [burgers.fw:24]
-		//   - (−τ_u u′/100 − τ_u previous(u)/100) · partial(u, x, x) · partial(test(u), x)   [burgers.fw:24]
-		//   - (τ_u partial(previous(u), x)/100 − sign(previous(u)) (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100)/(50 h (2 |previous(u)|/h + 1/(25 h²))²)) · u · partial(test(u), x, x)   [burgers.fw:24]
-		//   - (τ_u previous(u)/100) · partial(u, x) · partial(test(u), x, x)   [burgers.fw:24]
-		//   - (−τ_u/10000) · partial(u, x, x) · partial(test(u), x, x)   [burgers.fw:24]
-		acc[0] += fwBurgersVMSCellBasis1Val[q][0]*p24 + c1*p30
-		acc[1] += fwBurgersVMSCellBasis1Val[q][0]*p23 + c1*p31
-		acc[2] += fwBurgersVMSCellBasis1Val[q][1]*p24 + rdetJ*p30
-		acc[3] += fwBurgersVMSCellBasis1Val[q][1]*p23 + rdetJ*p31
-		// At each quadrature point: rows 0..1 of the right-hand side:
-		//   - −previous(u) partial(previous(u), x) · test(u)   [burgers.fw:24]
-		//   - u′²/2 − τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100) previous(u) − partial(previous(u), x)/100 · partial(test(u), x)   [burgers.fw:24]
-		//   - −τ_u (previous(u) partial(previous(u), x) − partial(previous(u), x, x)/100)/100 · partial(test(u), x, x)   [burgers.fw:24]
-		rhs[0] += fwBurgersVMSCellBasis1Val[q][0]*p33 + c1*p34
-		rhs[1] += fwBurgersVMSCellBasis1Val[q][1]*p33 + rdetJ*p34
+		coef9 := c7 - p18 + p20
+		p21 := coef1 * w
+		p22 := rdetJ * p21
+		p23 := -p22
+		p24 := coef2 * w
+		p25 := fwBurgersVMSCellBasis1Val[q][0] * p24
+		p26 := fwBurgersVMSCellBasis1Val[q][1] * p24
+		p27 := coef3 * w
+		p28 := rdetJ * p27
+		p29 := p25 - p28
+		p30 := p26 + p28
+		p31 := p7 * w
+		p32 := -p31
+		p33 := coef9 * w
+		// Rows 0..1, columns 0..1, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
+		//	  −sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
+		//	VMS: − Σ_K (τ_u R_u, −ν Δv − ∂ₓv u)_K                     burgers.fw:27
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  τ_u u′ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                          burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
+		//	  τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x                          burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
+		//	  −τ_u u′/100 · ∂²u/∂x² · ∂v/∂x                           burgers.fw:24
+		//	  τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · u · ∂²v/∂x²                       burgers.fw:24
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂u/∂x · ∂²v/∂x²                       burgers.fw:24
+		//	  −τ_u/10000 · ∂²u/∂x² · ∂²v/∂x²                          burgers.fw:24
+		//	VMS cross-stress: + Σ_K (−u′² ∂ₓv/2)_K
+		//	  −2 u′ sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		acc[0] += fwBurgersVMSCellBasis1Val[q][0]*p23 + c1*p29
+		acc[1] += fwBurgersVMSCellBasis1Val[q][0]*p22 + c1*p30
+		acc[2] += fwBurgersVMSCellBasis1Val[q][1]*p23 + rdetJ*p29
+		acc[3] += fwBurgersVMSCellBasis1Val[q][1]*p22 + rdetJ*p30
+		// Rows 0..1 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
+		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
+		//	VMS: − Σ_K (τ_u R_u, −ν Δv − ∂ₓv u)_K                     burgers.fw:27
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
+		//	VMS cross-stress: + Σ_K (−u′² ∂ₓv/2)_K
+		//	  u′²/2 · ∂v/∂x                                           burgers.fw:24
+		rhs[0] += fwBurgersVMSCellBasis1Val[q][0]*p32 + c1*p33
+		rhs[1] += fwBurgersVMSCellBasis1Val[q][1]*p32 + rdetJ*p33
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwBurgersFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwBurgersFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
 func fwBurgersFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
@@ -510,6 +582,7 @@ func fwBurgersFillNaN(A, b []float64) {
 	}
 }
 
+// fwBurgersSign is the sign of x: 1, −1, or x itself for ±0 and NaN.
 func fwBurgersSign(x float64) float64 {
 	switch {
 	case x > 0:
@@ -520,8 +593,8 @@ func fwBurgersSign(x float64) float64 {
 	return x
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwBurgersGalerkinCellBasis1Val = [2][2]float64{
 		{0.21132486540518713, 0.7886751345948129},

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("c86ed9a71ec8fe2d4f140cb485a2bc55", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return HeatGalerkinKernel{} },
+	compiled.Register("52b72db38b980a57e0d18de0ed10146f", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return HeatGalerkinKernel{}
+		},
 	})
-	compiled.Register("be8e8e336c82671c4e681754551c7a6b", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return HeatSUPGKernel{} },
+	compiled.Register("933b47bf910e1589648c5bb51e587dae", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return HeatSUPGKernel{}
+		},
 	})
-	compiled.Register("4ad23dac15eef3ff4c1a243bbc262aaf", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return HeatGLSKernel{} },
+	compiled.Register("3508bcfeb891554ece5278c98d891490", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return HeatGLSKernel{}
+		},
 	})
-	compiled.Register("aa3815e6b6026a35efc28ab527fc9ecf", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return HeatVMSKernel{} },
+	compiled.Register("64b5f572ae81b1b4adfc367707c2f03b", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return HeatVMSKernel{}
+		},
 	})
 }
 
-// fwHeatGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwHeatGalerkinLayout is the element layout of the galerkin kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
 var fwHeatGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -49,9 +58,9 @@ var fwHeatGalerkinLayout = kernel.Layout{
 	},
 }
 
-// HeatGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// HeatGalerkinKernel is the generated cell kernel of the galerkin form on
+// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type HeatGalerkinKernel struct{}
 
 var _ kernel.Kernel = HeatGalerkinKernel{}
@@ -103,29 +112,31 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c19 := rdetJ * c18
 	c20 := c9 + c15
 	c21 := rdetJ * c20
-	c22 := detJ * 0.08333333333333334
-	c23 := detJ * 0.04166666666666667
-	c24 := detJ * 0.041666666666666685
+	c22 := detJ * (1.0 / 12)
+	c23 := detJ * (1.0 / 24)
 	if !(detJ > 0) {
 		fwHeatFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
-	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
-	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - (1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	acc[0] += 0.16666666666666669*(-j11-c3) + 0.5*(c17+c21) + c19 + coef0*c22
-	acc[1] += 0.16666666666666669*j11 + 0.5*(-c17-c19) + coef0*c23
-	acc[2] += 0.16666666666666669*c3 + 0.5*(-c19-c21) + coef0*c24
-	acc[3] += 0.16666666666666669*(-j11-c3) + 0.5*(-c17-c19) + coef0*c23
-	acc[4] += 0.16666666666666669*j11 + 0.5*c17 + coef0*c22
-	acc[5] += 0.16666666666666669*c3 + 0.5*c19 + coef0*c23
-	acc[6] += 0.16666666666666669*(-j11-c3) + 0.5*(-c19-c21) + coef0*c24
-	acc[7] += 0.16666666666666669*j11 + 0.5*c19 + coef0*c23
-	acc[8] += 0.16666666666666669*c3 + 0.5*c21 + coef0*c22
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+	//	  1/time_step · temp · v   heat.fw:15
+	//	  ∂temp/∂x · v             heat.fw:15
+	//	  1/50 · ∂temp/∂y · ∂v/∂y  heat.fw:15
+	//	  1/50 · ∂temp/∂x · ∂v/∂x  heat.fw:15
+	acc[0] += (1.0/6)*(-j11-c3) + 0.5*(c17+c21) + c19 + coef0*c22
+	acc[1] += (1.0/6)*j11 + 0.5*(-c17-c19) + coef0*c23
+	acc[2] += (1.0/6)*c3 + 0.5*(-c19-c21) + coef0*c23
+	acc[3] += (1.0/6)*(-j11-c3) + 0.5*(-c17-c19) + coef0*c23
+	acc[4] += (1.0/6)*j11 + 0.5*c17 + coef0*c22
+	acc[5] += (1.0/6)*c3 + 0.5*c19 + coef0*c23
+	acc[6] += (1.0/6)*(-j11-c3) + 0.5*(-c19-c21) + coef0*c23
+	acc[7] += (1.0/6)*j11 + 0.5*c19 + coef0*c23
+	acc[8] += (1.0/6)*c3 + 0.5*c21 + coef0*c22
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatGalerkinCellBasis1Val[q][0]
@@ -135,8 +146,10 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef4 := coef0 * p4
 		w := detJ * fwHeatGalerkinCellWeights[q]
 		p5 := coef4 * w
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v  heat.fw:15
 		rhs[0] += fwHeatGalerkinCellBasis1Val[q][0] * p5
 		rhs[1] += fwHeatGalerkinCellBasis1Val[q][1] * p5
 		rhs[2] += fwHeatGalerkinCellBasis1Val[q][2] * p5
@@ -145,8 +158,9 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwHeatSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwHeatSUPGLayout is the element layout of the supg kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwHeatSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -155,9 +169,9 @@ var fwHeatSUPGLayout = kernel.Layout{
 	},
 }
 
-// HeatSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// HeatSUPGKernel is the generated cell kernel of the supg form on triangle
+// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type HeatSUPGKernel struct{}
 
 var _ kernel.Kernel = HeatSUPGKernel{}
@@ -199,8 +213,8 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := c19 * c19
 	c21 := 0.0576 * c20
@@ -208,82 +222,86 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c23 := coef0 * coef0
 	c24 := 4.0 * c23
 	c25 := c21 + c22 + c24
-	c26 := math.Pow(c25, (-0.5))
-	coef3 := coef0 * c26
+	tau_temp := math.Pow(c25, -0.5)
+	coef3 := coef0 * tau_temp
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	c26 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c28 := j01 * j10
-	detJ := c27 - c28
-	c29 := -j10
-	c30 := j01 * j01
-	c31 := 0.02 * c30
-	c32 := j00 * j01
-	c33 := (-0.02) * c32
-	c34 := j00 * j00
-	c35 := 0.02 * c34
-	c36 := j11 * j11
-	c37 := 0.02 * c36
-	c38 := j11 * j10
-	c39 := (-0.02) * c38
-	c40 := j10 * j10
-	c41 := 0.02 * c40
+	c27 := j01 * j10
+	detJ := c26 - c27
+	c28 := -j10
+	c29 := j01 * j01
+	c30 := 0.02 * c29
+	c31 := j00 * j01
+	c32 := (-0.02) * c31
+	c33 := j00 * j00
+	c34 := 0.02 * c33
+	c35 := j11 * j11
+	c36 := 0.02 * c35
+	c37 := j11 * j10
+	c38 := (-0.02) * c37
+	c39 := j10 * j10
+	c40 := 0.02 * c39
 	rdetJ := 1.0 / detJ
-	c42 := c31 + c37
-	c43 := rdetJ * c42
-	c44 := c36 * rdetJ
-	c45 := c33 + c39
-	c46 := rdetJ * c45
-	c47 := c38 * rdetJ
-	c48 := c35 + c41
-	c49 := rdetJ * c48
-	c50 := c40 * rdetJ
-	c51 := detJ * 0.08333333333333334
-	c52 := c44 * 0.5
-	c53 := (-0.5) * c47
-	c54 := c50 * 0.5
-	c55 := c52 + c53 + c53 + c54
-	c56 := j11 * (-0.16666666666666669)
-	c57 := j10 * 0.16666666666666669
-	c58 := c56 + c57
-	c59 := detJ * 0.04166666666666667
-	c60 := (-0.5) * c44
-	c61 := c47 * 0.5
-	c62 := c60 + c61
-	c63 := detJ * 0.041666666666666685
-	c64 := (-0.5) * c50
-	c65 := c61 + c64
-	c66 := j11 * 0.16666666666666669
-	c67 := j10 * (-0.16666666666666669)
+	c41 := c30 + c36
+	c42 := rdetJ * c41
+	c43 := c35 * rdetJ
+	c44 := c32 + c38
+	c45 := rdetJ * c44
+	c46 := c37 * rdetJ
+	c47 := c34 + c40
+	c48 := rdetJ * c47
+	c49 := c39 * rdetJ
+	c50 := detJ * (1.0 / 12)
+	c51 := c43 * 0.5
+	c52 := (-0.5) * c46
+	c53 := c49 * 0.5
+	c54 := c51 + c52 + c52 + c53
+	c55 := j11 * (-(1.0 / 6))
+	c56 := j10 * (1.0 / 6)
+	c57 := c55 + c56
+	c58 := detJ * (1.0 / 24)
+	c59 := (-0.5) * c43
+	c60 := c46 * 0.5
+	c61 := c59 + c60
+	c62 := (-0.5) * c49
+	c63 := c60 + c62
+	c64 := j11 * (1.0 / 6)
+	c65 := j10 * (-(1.0 / 6))
 	k00 := j11 * rdetJ
-	c68 := j10 * rdetJ
-	k10 := -c68
-	c69 := c68 - k00
+	c66 := j10 * rdetJ
+	k10 := -c66
+	c67 := c66 - k00
 	if !(detJ > 0) {
 		fwHeatFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
-	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
-	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
-	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
-	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef3*c58
-	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef3*c58
-	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef3*c58
-	acc[3] += 0.16666666666666669*(-j11-c29) + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef3*c66
-	acc[4] += 0.16666666666666669*j11 + 0.5*c43 + coef0*c51 + c26*c52 + coef3*c66
-	acc[5] += 0.16666666666666669*c29 + 0.5*c46 + coef0*c59 + c26*c53 + coef3*c66
-	acc[6] += 0.16666666666666669*(-j11-c29) + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef3*c67
-	acc[7] += 0.16666666666666669*j11 + 0.5*c46 + coef0*c59 + c26*c53 + coef3*c67
-	acc[8] += 0.16666666666666669*c29 + 0.5*c49 + coef0*c51 + c26*c54 + coef3*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+	//	  1/time_step · temp · v           heat.fw:15
+	//	  ∂temp/∂x · v                     heat.fw:15
+	//	  1/50 · ∂temp/∂y · ∂v/∂y          heat.fw:15
+	//	  1/50 · ∂temp/∂x · ∂v/∂x          heat.fw:15
+	//	SUPG: + Σ_K (τ_temp R_temp, rhoc (a·∇v))_K  heat.fw:19
+	//	  τ_temp/time_step · temp · ∂v/∂x  heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂y² · ∂v/∂x  heat.fw:15
+	//	  τ_temp · ∂temp/∂x · ∂v/∂x        heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂x² · ∂v/∂x  heat.fw:15
+	acc[0] += (1.0/6)*(-j11-c28) + 0.5*(c42+c48) + c45 + coef0*c50 + tau_temp*c54 + coef3*c57
+	acc[1] += (1.0/6)*j11 + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef3*c57
+	acc[2] += (1.0/6)*c28 + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef3*c57
+	acc[3] += (1.0/6)*(-j11-c28) + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef3*c64
+	acc[4] += (1.0/6)*j11 + 0.5*c42 + coef0*c50 + tau_temp*c51 + coef3*c64
+	acc[5] += (1.0/6)*c28 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef3*c64
+	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef3*c65
+	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef3*c65
+	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef3*c65
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatSUPGCellBasis1Val[q][0]
@@ -295,10 +313,13 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatSUPGCellWeights[q]
 		p5 := coef7 * w
 		p6 := coef8 * w
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
-		rhs[0] += fwHeatSUPGCellBasis1Val[q][0]*p5 + c69*p6
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v           heat.fw:15
+		//	SUPG: + Σ_K (τ_temp R_temp, rhoc (a·∇v))_K  heat.fw:19
+		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  heat.fw:19
+		rhs[0] += fwHeatSUPGCellBasis1Val[q][0]*p5 + c67*p6
 		rhs[1] += fwHeatSUPGCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatSUPGCellBasis1Val[q][2]*p5 + k10*p6
 	}
@@ -306,8 +327,9 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwHeatGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwHeatGLSLayout is the element layout of the gls kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwHeatGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -316,9 +338,9 @@ var fwHeatGLSLayout = kernel.Layout{
 	},
 }
 
-// HeatGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// HeatGLSKernel is the generated cell kernel of the gls form on triangle
+// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type HeatGLSKernel struct{}
 
 var _ kernel.Kernel = HeatGLSKernel{}
@@ -360,8 +382,8 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := c19 * c19
 	c21 := 0.0576 * c20
@@ -369,90 +391,94 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c23 := coef0 * coef0
 	c24 := 4.0 * c23
 	c25 := c21 + c22 + c24
-	c26 := math.Pow(c25, (-0.5))
-	coef7 := coef0 * c26
+	tau_temp := math.Pow(c25, -0.5)
+	coef7 := coef0 * tau_temp
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	c26 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c28 := j01 * j10
-	detJ := c27 - c28
-	c29 := -j10
-	c30 := j01 * j01
-	c31 := 0.02 * c30
-	c32 := j00 * j01
-	c33 := (-0.02) * c32
-	c34 := j00 * j00
-	c35 := 0.02 * c34
-	c36 := j11 * j11
-	c37 := j11 * j10
-	c38 := j10 * j10
-	c39 := 0.02 * c36
-	c40 := (-0.02) * c37
-	c41 := 0.02 * c38
+	c27 := j01 * j10
+	detJ := c26 - c27
+	c28 := -j10
+	c29 := j01 * j01
+	c30 := 0.02 * c29
+	c31 := j00 * j01
+	c32 := (-0.02) * c31
+	c33 := j00 * j00
+	c34 := 0.02 * c33
+	c35 := j11 * j11
+	c36 := j11 * j10
+	c37 := j10 * j10
+	c38 := 0.02 * c35
+	c39 := (-0.02) * c36
+	c40 := 0.02 * c37
 	rdetJ := 1.0 / detJ
-	c42 := c31 + c39
-	c43 := rdetJ * c42
-	c44 := c36 * rdetJ
-	c45 := c33 + c40
-	c46 := rdetJ * c45
-	c47 := c37 * rdetJ
-	c48 := c35 + c41
-	c49 := rdetJ * c48
-	c50 := c38 * rdetJ
-	c51 := detJ * 0.08333333333333334
-	c52 := c44 * 0.5
-	c53 := (-0.5) * c47
-	c54 := c50 * 0.5
-	c55 := c52 + c53 + c53 + c54
-	c56 := j11 * (-0.16666666666666669)
-	c57 := j10 * 0.16666666666666669
-	c58 := c56 + c57
-	c59 := detJ * 0.04166666666666667
-	c60 := (-0.5) * c44
-	c61 := c47 * 0.5
-	c62 := c60 + c61
-	c63 := detJ * 0.041666666666666685
-	c64 := (-0.5) * c50
-	c65 := c61 + c64
-	c66 := j11 * 0.16666666666666669
-	c67 := j10 * (-0.16666666666666669)
+	c41 := c30 + c38
+	c42 := rdetJ * c41
+	c43 := c35 * rdetJ
+	c44 := c32 + c39
+	c45 := rdetJ * c44
+	c46 := c36 * rdetJ
+	c47 := c34 + c40
+	c48 := rdetJ * c47
+	c49 := c37 * rdetJ
+	c50 := detJ * (1.0 / 12)
+	c51 := c43 * 0.5
+	c52 := (-0.5) * c46
+	c53 := c49 * 0.5
+	c54 := c51 + c52 + c52 + c53
+	c55 := j11 * (-(1.0 / 6))
+	c56 := j10 * (1.0 / 6)
+	c57 := c55 + c56
+	c58 := detJ * (1.0 / 24)
+	c59 := (-0.5) * c43
+	c60 := c46 * 0.5
+	c61 := c59 + c60
+	c62 := (-0.5) * c49
+	c63 := c60 + c62
+	c64 := j11 * (1.0 / 6)
+	c65 := j10 * (-(1.0 / 6))
 	k00 := j11 * rdetJ
-	c68 := j10 * rdetJ
-	k10 := -c68
-	c69 := c68 - k00
+	c66 := j10 * rdetJ
+	k10 := -c66
+	c67 := c66 - k00
 	if !(detJ > 0) {
 		fwHeatFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
-	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
-	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - ((−τ_temp/50)/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (τ_temp/2500) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−τ_temp/50) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (τ_temp/2500) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
-	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - ((−τ_temp/50)/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (τ_temp/2500) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−τ_temp/50) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (τ_temp/2500) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
-	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef7*c58
-	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c58
-	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c58
-	acc[3] += 0.16666666666666669*(-j11-c29) + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c66
-	acc[4] += 0.16666666666666669*j11 + 0.5*c43 + coef0*c51 + c26*c52 + coef7*c66
-	acc[5] += 0.16666666666666669*c29 + 0.5*c46 + coef0*c59 + c26*c53 + coef7*c66
-	acc[6] += 0.16666666666666669*(-j11-c29) + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c67
-	acc[7] += 0.16666666666666669*j11 + 0.5*c46 + coef0*c59 + c26*c53 + coef7*c67
-	acc[8] += 0.16666666666666669*c29 + 0.5*c49 + coef0*c51 + c26*c54 + coef7*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+	//	  1/time_step · temp · v                   heat.fw:15
+	//	  ∂temp/∂x · v                             heat.fw:15
+	//	  1/50 · ∂temp/∂y · ∂v/∂y                  heat.fw:15
+	//	  1/50 · ∂temp/∂x · ∂v/∂x                  heat.fw:15
+	//	GLS: + Σ_K (τ_temp R_temp, −k Δv + rhoc (a·∇v))_K  heat.fw:19
+	//	  (−τ_temp/50)/time_step · temp · ∂²v/∂y²  heat.fw:15
+	//	  τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂y²       heat.fw:15
+	//	  −τ_temp/50 · ∂temp/∂x · ∂²v/∂y²          heat.fw:15
+	//	  τ_temp/2500 · ∂²temp/∂x² · ∂²v/∂y²       heat.fw:15
+	//	  τ_temp/time_step · temp · ∂v/∂x          heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂y² · ∂v/∂x          heat.fw:15
+	//	  τ_temp · ∂temp/∂x · ∂v/∂x                heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂x² · ∂v/∂x          heat.fw:15
+	//	  (−τ_temp/50)/time_step · temp · ∂²v/∂x²  heat.fw:15
+	//	  τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂x²       heat.fw:15
+	//	  −τ_temp/50 · ∂temp/∂x · ∂²v/∂x²          heat.fw:15
+	//	  τ_temp/2500 · ∂²temp/∂x² · ∂²v/∂x²       heat.fw:15
+	acc[0] += (1.0/6)*(-j11-c28) + 0.5*(c42+c48) + c45 + coef0*c50 + tau_temp*c54 + coef7*c57
+	acc[1] += (1.0/6)*j11 + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef7*c57
+	acc[2] += (1.0/6)*c28 + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c57
+	acc[3] += (1.0/6)*(-j11-c28) + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef7*c64
+	acc[4] += (1.0/6)*j11 + 0.5*c42 + coef0*c50 + tau_temp*c51 + coef7*c64
+	acc[5] += (1.0/6)*c28 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c64
+	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c65
+	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c65
+	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef7*c65
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatGLSCellBasis1Val[q][0]
@@ -464,12 +490,15 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatGLSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - ((−τ_temp/50)/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
-		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
-		//   - ((−τ_temp/50)/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
-		rhs[0] += fwHeatGLSCellBasis1Val[q][0]*p5 + c69*p6
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                   heat.fw:15
+		//	GLS: + Σ_K (τ_temp R_temp, −k Δv + rhoc (a·∇v))_K  heat.fw:19
+		//	  ((−τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²  heat.fw:15
+		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x          heat.fw:19
+		//	  ((−τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂x²  heat.fw:15
+		rhs[0] += fwHeatGLSCellBasis1Val[q][0]*p5 + c67*p6
 		rhs[1] += fwHeatGLSCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatGLSCellBasis1Val[q][2]*p5 + k10*p6
 	}
@@ -477,8 +506,9 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwHeatVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwHeatVMSLayout is the element layout of the vms kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwHeatVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -487,9 +517,9 @@ var fwHeatVMSLayout = kernel.Layout{
 	},
 }
 
-// HeatVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// HeatVMSKernel is the generated cell kernel of the vms form on triangle
+// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type HeatVMSKernel struct{}
 
 var _ kernel.Kernel = HeatVMSKernel{}
@@ -531,8 +561,8 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := c19 * c19
 	c21 := 0.0576 * c20
@@ -540,90 +570,94 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c23 := coef0 * coef0
 	c24 := 4.0 * c23
 	c25 := c21 + c22 + c24
-	c26 := math.Pow(c25, (-0.5))
-	coef7 := coef0 * c26
+	tau_temp := math.Pow(c25, -0.5)
+	coef7 := coef0 * tau_temp
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	c26 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c28 := j01 * j10
-	detJ := c27 - c28
-	c29 := -j10
-	c30 := j01 * j01
-	c31 := 0.02 * c30
-	c32 := j00 * j01
-	c33 := (-0.02) * c32
-	c34 := j00 * j00
-	c35 := 0.02 * c34
-	c36 := j11 * j11
-	c37 := j11 * j10
-	c38 := j10 * j10
-	c39 := 0.02 * c36
-	c40 := (-0.02) * c37
-	c41 := 0.02 * c38
+	c27 := j01 * j10
+	detJ := c26 - c27
+	c28 := -j10
+	c29 := j01 * j01
+	c30 := 0.02 * c29
+	c31 := j00 * j01
+	c32 := (-0.02) * c31
+	c33 := j00 * j00
+	c34 := 0.02 * c33
+	c35 := j11 * j11
+	c36 := j11 * j10
+	c37 := j10 * j10
+	c38 := 0.02 * c35
+	c39 := (-0.02) * c36
+	c40 := 0.02 * c37
 	rdetJ := 1.0 / detJ
-	c42 := c31 + c39
-	c43 := rdetJ * c42
-	c44 := c36 * rdetJ
-	c45 := c33 + c40
-	c46 := rdetJ * c45
-	c47 := c37 * rdetJ
-	c48 := c35 + c41
-	c49 := rdetJ * c48
-	c50 := c38 * rdetJ
-	c51 := detJ * 0.08333333333333334
-	c52 := c44 * 0.5
-	c53 := (-0.5) * c47
-	c54 := c50 * 0.5
-	c55 := c52 + c53 + c53 + c54
-	c56 := j11 * (-0.16666666666666669)
-	c57 := j10 * 0.16666666666666669
-	c58 := c56 + c57
-	c59 := detJ * 0.04166666666666667
-	c60 := (-0.5) * c44
-	c61 := c47 * 0.5
-	c62 := c60 + c61
-	c63 := detJ * 0.041666666666666685
-	c64 := (-0.5) * c50
-	c65 := c61 + c64
-	c66 := j11 * 0.16666666666666669
-	c67 := j10 * (-0.16666666666666669)
+	c41 := c30 + c38
+	c42 := rdetJ * c41
+	c43 := c35 * rdetJ
+	c44 := c32 + c39
+	c45 := rdetJ * c44
+	c46 := c36 * rdetJ
+	c47 := c34 + c40
+	c48 := rdetJ * c47
+	c49 := c37 * rdetJ
+	c50 := detJ * (1.0 / 12)
+	c51 := c43 * 0.5
+	c52 := (-0.5) * c46
+	c53 := c49 * 0.5
+	c54 := c51 + c52 + c52 + c53
+	c55 := j11 * (-(1.0 / 6))
+	c56 := j10 * (1.0 / 6)
+	c57 := c55 + c56
+	c58 := detJ * (1.0 / 24)
+	c59 := (-0.5) * c43
+	c60 := c46 * 0.5
+	c61 := c59 + c60
+	c62 := (-0.5) * c49
+	c63 := c60 + c62
+	c64 := j11 * (1.0 / 6)
+	c65 := j10 * (-(1.0 / 6))
 	k00 := j11 * rdetJ
-	c68 := j10 * rdetJ
-	k10 := -c68
-	c69 := c68 - k00
+	c66 := j10 * rdetJ
+	k10 := -c66
+	c67 := c66 - k00
 	if !(detJ > 0) {
 		fwHeatFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/time_step) · temp · test(temp)   [heat.fw:15]
-	//   - (1) · partial(temp, x) · test(temp)   [heat.fw:15]
-	//   - (1/50) · partial(temp, y) · partial(test(temp), y)   [heat.fw:15]
-	//   - ((τ_temp/50)/time_step) · temp · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−τ_temp/2500) · partial(temp, y, y) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (τ_temp/50) · partial(temp, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (−τ_temp/2500) · partial(temp, x, x) · partial(test(temp), y, y)   [heat.fw:15]
-	//   - (τ_temp/time_step) · temp · partial(test(temp), x)   [heat.fw:19]
-	//   - (−τ_temp/50) · partial(temp, y, y) · partial(test(temp), x)   [heat.fw:15]
-	//   - (τ_temp + 1/50) · partial(temp, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - (−τ_temp/50) · partial(temp, x, x) · partial(test(temp), x)   [heat.fw:15]
-	//   - ((τ_temp/50)/time_step) · temp · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−τ_temp/2500) · partial(temp, y, y) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (τ_temp/50) · partial(temp, x) · partial(test(temp), x, x)   [heat.fw:15]
-	//   - (−τ_temp/2500) · partial(temp, x, x) · partial(test(temp), x, x)   [heat.fw:15]
-	acc[0] += 0.16666666666666669*(-j11-c29) + 0.5*(c43+c49) + c46 + coef0*c51 + c26*c55 + coef7*c58
-	acc[1] += 0.16666666666666669*j11 + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c58
-	acc[2] += 0.16666666666666669*c29 + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c58
-	acc[3] += 0.16666666666666669*(-j11-c29) + 0.5*(-c43-c46) + coef0*c59 + c26*c62 + coef7*c66
-	acc[4] += 0.16666666666666669*j11 + 0.5*c43 + coef0*c51 + c26*c52 + coef7*c66
-	acc[5] += 0.16666666666666669*c29 + 0.5*c46 + coef0*c59 + c26*c53 + coef7*c66
-	acc[6] += 0.16666666666666669*(-j11-c29) + 0.5*(-c46-c49) + coef0*c63 + c26*c65 + coef7*c67
-	acc[7] += 0.16666666666666669*j11 + 0.5*c46 + coef0*c59 + c26*c53 + coef7*c67
-	acc[8] += 0.16666666666666669*c29 + 0.5*c49 + coef0*c51 + c26*c54 + coef7*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+	//	  1/time_step · temp · v                  heat.fw:15
+	//	  ∂temp/∂x · v                            heat.fw:15
+	//	  1/50 · ∂temp/∂y · ∂v/∂y                 heat.fw:15
+	//	  1/50 · ∂temp/∂x · ∂v/∂x                 heat.fw:15
+	//	VMS: − Σ_K (τ_temp R_temp, −k Δv − rhoc (a·∇v))_K  heat.fw:19
+	//	  (τ_temp/50)/time_step · temp · ∂²v/∂y²  heat.fw:15
+	//	  −τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂y²     heat.fw:15
+	//	  τ_temp/50 · ∂temp/∂x · ∂²v/∂y²          heat.fw:15
+	//	  −τ_temp/2500 · ∂²temp/∂x² · ∂²v/∂y²     heat.fw:15
+	//	  τ_temp/time_step · temp · ∂v/∂x         heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂y² · ∂v/∂x         heat.fw:15
+	//	  τ_temp · ∂temp/∂x · ∂v/∂x               heat.fw:19
+	//	  −τ_temp/50 · ∂²temp/∂x² · ∂v/∂x         heat.fw:15
+	//	  (τ_temp/50)/time_step · temp · ∂²v/∂x²  heat.fw:15
+	//	  −τ_temp/2500 · ∂²temp/∂y² · ∂²v/∂x²     heat.fw:15
+	//	  τ_temp/50 · ∂temp/∂x · ∂²v/∂x²          heat.fw:15
+	//	  −τ_temp/2500 · ∂²temp/∂x² · ∂²v/∂x²     heat.fw:15
+	acc[0] += (1.0/6)*(-j11-c28) + 0.5*(c42+c48) + c45 + coef0*c50 + tau_temp*c54 + coef7*c57
+	acc[1] += (1.0/6)*j11 + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef7*c57
+	acc[2] += (1.0/6)*c28 + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c57
+	acc[3] += (1.0/6)*(-j11-c28) + 0.5*(-c42-c45) + coef0*c58 + tau_temp*c61 + coef7*c64
+	acc[4] += (1.0/6)*j11 + 0.5*c42 + coef0*c50 + tau_temp*c51 + coef7*c64
+	acc[5] += (1.0/6)*c28 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c64
+	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c65
+	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c65
+	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef7*c65
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatVMSCellBasis1Val[q][0]
@@ -635,12 +669,15 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		w := detJ * fwHeatVMSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - (1/time_step) previous(temp) · test(temp)   [heat.fw:15]
-		//   - ((τ_temp/50)/time_step) previous(temp) · partial(test(temp), y, y)   [heat.fw:15]
-		//   - (τ_temp/time_step) previous(temp) · partial(test(temp), x)   [heat.fw:19]
-		//   - ((τ_temp/50)/time_step) previous(temp) · partial(test(temp), x, x)   [heat.fw:15]
-		rhs[0] += fwHeatVMSCellBasis1Val[q][0]*p5 + c69*p6
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω k (∇temp·∇v) + rhoc (a·∇temp) v + rhoc ∂ₜtemp v dx, F = ∫_Ω q v dx
+		//	  (1/time_step) temp⁽ᵖʳᵉᵛ⁾ · v                  heat.fw:15
+		//	VMS: − Σ_K (τ_temp R_temp, −k Δv − rhoc (a·∇v))_K  heat.fw:19
+		//	  ((τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²  heat.fw:15
+		//	  (τ_temp/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂v/∂x         heat.fw:19
+		//	  ((τ_temp/50)/time_step) temp⁽ᵖʳᵉᵛ⁾ · ∂²v/∂x²  heat.fw:15
+		rhs[0] += fwHeatVMSCellBasis1Val[q][0]*p5 + c67*p6
 		rhs[1] += fwHeatVMSCellBasis1Val[q][1]*p5 + k00*p6
 		rhs[2] += fwHeatVMSCellBasis1Val[q][2]*p5 + k10*p6
 	}
@@ -659,35 +696,35 @@ func fwHeatFillNaN(A, b []float64) {
 	}
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwHeatGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwHeatGalerkinCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwHeatGalerkinCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwHeatSUPGCellBasis1Val   = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwHeatSUPGCellWeights  = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwHeatSUPGCellWeights  = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwHeatGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwHeatGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwHeatGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwHeatVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwHeatVMSCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwHeatVMSCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 )

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("f77894581e6982e374018d70b3542901", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NavierStokesGalerkinKernel{} },
+	compiled.Register("5f1ef80d6df0e4fffcc638287d98c8c3", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesGalerkinKernel{}
+		},
 	})
-	compiled.Register("cba2a9f518a5eaee8ade1fa80894961d", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NavierStokesSUPGKernel{} },
+	compiled.Register("497a3dbeff9a39dfef2cbee50db014c9", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesSUPGKernel{}
+		},
 	})
-	compiled.Register("3665b58ca8326aa0e63c1822025d8a43", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NavierStokesGLSKernel{} },
+	compiled.Register("f49a0b0a516d3d6998733bda53270c80", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesGLSKernel{}
+		},
 	})
-	compiled.Register("2e64354626f39bb2bd1d1cd3984a4e92", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NavierStokesVMSKernel{} },
+	compiled.Register("2e069ff96a812a3d793974f9e0b20dee", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesVMSKernel{}
+		},
 	})
 }
 
-// fwNavierStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesGalerkinLayout is the element layout of the galerkin kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwNavierStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -50,9 +59,9 @@ var fwNavierStokesGalerkinLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesGalerkinKernel is the generated cell kernel of the galerkin form
+// on triangle cells, quadrature degree 2 (3 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesGalerkinKernel struct{}
 
 var _ kernel.Kernel = NavierStokesGalerkinKernel{}
@@ -104,7 +113,7 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c20 := rdetJ * c19
 	c21 := c9 + c16
 	c22 := rdetJ * c21
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	c23 := j01 * rdetJ
 	k11 := j00 * rdetJ
 	c24 := c23 - k11
@@ -116,9 +125,12 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 	acc[0] += 0.5*(c18+c22) + c20
 	acc[1] += 0.5 * (-c18 - c20)
 	acc[2] += 0.5 * (-c20 - c22)
@@ -128,20 +140,26 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[18] += 0.5 * (-c20 - c22)
 	acc[19] += 0.5 * c20
 	acc[20] += 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-	acc[6] += 0.16666666666666669 * (-j11 - c10)
-	acc[7] += 0.16666666666666669 * j11
-	acc[8] += 0.16666666666666669 * c10
-	acc[15] += 0.16666666666666669 * (-j11 - c10)
-	acc[16] += 0.16666666666666669 * j11
-	acc[17] += 0.16666666666666669 * c10
-	acc[24] += 0.16666666666666666 * (-j11 - c10)
-	acc[25] += 0.16666666666666666 * j11
-	acc[26] += 0.16666666666666666 * c10
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
+	acc[6] += (1.0 / 6) * (-j11 - c10)
+	acc[7] += (1.0 / 6) * j11
+	acc[8] += (1.0 / 6) * c10
+	acc[15] += (1.0 / 6) * (-j11 - c10)
+	acc[16] += (1.0 / 6) * j11
+	acc[17] += (1.0 / 6) * c10
+	acc[24] += (1.0 / 6) * (-j11 - c10)
+	acc[25] += (1.0 / 6) * j11
+	acc[26] += (1.0 / 6) * c10
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
 	acc[30] += 0.5*(c18+c22) + c20
 	acc[31] += 0.5 * (-c18 - c20)
 	acc[32] += 0.5 * (-c20 - c22)
@@ -151,39 +169,48 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[48] += 0.5 * (-c20 - c22)
 	acc[49] += 0.5 * c20
 	acc[50] += 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-	acc[33] += 0.16666666666666669 * (-c3 - j00)
-	acc[34] += 0.16666666666666669 * c3
-	acc[35] += 0.16666666666666669 * j00
-	acc[42] += 0.16666666666666669 * (-c3 - j00)
-	acc[43] += 0.16666666666666669 * c3
-	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666666 * (-c3 - j00)
-	acc[52] += 0.16666666666666666 * c3
-	acc[53] += 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
-	acc[54] += 0.16666666666666669 * (-j11 - c10)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c10
-	acc[63] += 0.16666666666666669 * (-j11 - c10)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c10
-	acc[72] += 0.16666666666666666 * (-j11 - c10)
-	acc[73] += 0.16666666666666666 * j11
-	acc[74] += 0.16666666666666666 * c10
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
-	acc[57] += 0.16666666666666669 * (-c3 - j00)
-	acc[58] += 0.16666666666666669 * c3
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c3 - j00)
-	acc[67] += 0.16666666666666669 * c3
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666666 * (-c3 - j00)
-	acc[76] += 0.16666666666666666 * c3
-	acc[77] += 0.16666666666666666 * j00
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
+	acc[33] += (1.0 / 6) * (-c3 - j00)
+	acc[34] += (1.0 / 6) * c3
+	acc[35] += (1.0 / 6) * j00
+	acc[42] += (1.0 / 6) * (-c3 - j00)
+	acc[43] += (1.0 / 6) * c3
+	acc[44] += (1.0 / 6) * j00
+	acc[51] += (1.0 / 6) * (-c3 - j00)
+	acc[52] += (1.0 / 6) * c3
+	acc[53] += (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
+	acc[54] += (1.0 / 6) * (-j11 - c10)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c10
+	acc[63] += (1.0 / 6) * (-j11 - c10)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c10
+	acc[72] += (1.0 / 6) * (-j11 - c10)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c10
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
+	acc[57] += (1.0 / 6) * (-c3 - j00)
+	acc[58] += (1.0 / 6) * c3
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c3 - j00)
+	acc[67] += (1.0 / 6) * c3
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c3 - j00)
+	acc[76] += (1.0 / 6) * c3
+	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGalerkinCellBasis1Val[q][0]
@@ -205,9 +232,11 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p15 := p14 - p9
 		p16 := p11 * c25
 		p17 := p10 - p16
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
 		acc[0] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
 		acc[1] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
 		acc[2] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
@@ -217,9 +246,11 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p13
 		acc[19] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p15
 		acc[20] += fwNavierStokesGalerkinCellBasis1Val[q][2] * p17
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
 		acc[30] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p13
 		acc[31] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p15
 		acc[32] += fwNavierStokesGalerkinCellBasis1Val[q][0] * p17
@@ -234,8 +265,9 @@ func (NavierStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 }
 
-// fwNavierStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesSUPGLayout is the element layout of the supg kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwNavierStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -245,9 +277,9 @@ var fwNavierStokesSUPGLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesSUPGKernel is the generated cell kernel of the supg form on
+// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type NavierStokesSUPGKernel struct{}
 
 var _ kernel.Kernel = NavierStokesSUPGKernel{}
@@ -288,8 +320,8 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	j00 := x[2] - x[0]
@@ -301,7 +333,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	rdetJ := 1.0 / detJ
 	c25 := j01 * rdetJ
 	k01 := -c25
@@ -316,50 +348,62 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-	acc[6] += 0.16666666666666669 * (-j11 - c23)
-	acc[7] += 0.16666666666666669 * j11
-	acc[8] += 0.16666666666666669 * c23
-	acc[15] += 0.16666666666666669 * (-j11 - c23)
-	acc[16] += 0.16666666666666669 * j11
-	acc[17] += 0.16666666666666669 * c23
-	acc[24] += 0.16666666666666666 * (-j11 - c23)
-	acc[25] += 0.16666666666666666 * j11
-	acc[26] += 0.16666666666666666 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-	acc[33] += 0.16666666666666669 * (-c24 - j00)
-	acc[34] += 0.16666666666666669 * c24
-	acc[35] += 0.16666666666666669 * j00
-	acc[42] += 0.16666666666666669 * (-c24 - j00)
-	acc[43] += 0.16666666666666669 * c24
-	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666666 * (-c24 - j00)
-	acc[52] += 0.16666666666666666 * c24
-	acc[53] += 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
-	acc[54] += 0.16666666666666669 * (-j11 - c23)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c23
-	acc[63] += 0.16666666666666669 * (-j11 - c23)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666666 * (-j11 - c23)
-	acc[73] += 0.16666666666666666 * j11
-	acc[74] += 0.16666666666666666 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
-	acc[57] += 0.16666666666666669 * (-c24 - j00)
-	acc[58] += 0.16666666666666669 * c24
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c24 - j00)
-	acc[67] += 0.16666666666666669 * c24
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666666 * (-c24 - j00)
-	acc[76] += 0.16666666666666666 * c24
-	acc[77] += 0.16666666666666666 * j00
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
+	acc[6] += (1.0 / 6) * (-j11 - c23)
+	acc[7] += (1.0 / 6) * j11
+	acc[8] += (1.0 / 6) * c23
+	acc[15] += (1.0 / 6) * (-j11 - c23)
+	acc[16] += (1.0 / 6) * j11
+	acc[17] += (1.0 / 6) * c23
+	acc[24] += (1.0 / 6) * (-j11 - c23)
+	acc[25] += (1.0 / 6) * j11
+	acc[26] += (1.0 / 6) * c23
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
+	acc[33] += (1.0 / 6) * (-c24 - j00)
+	acc[34] += (1.0 / 6) * c24
+	acc[35] += (1.0 / 6) * j00
+	acc[42] += (1.0 / 6) * (-c24 - j00)
+	acc[43] += (1.0 / 6) * c24
+	acc[44] += (1.0 / 6) * j00
+	acc[51] += (1.0 / 6) * (-c24 - j00)
+	acc[52] += (1.0 / 6) * c24
+	acc[53] += (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
+	acc[54] += (1.0 / 6) * (-j11 - c23)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c23
+	acc[63] += (1.0 / 6) * (-j11 - c23)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c23
+	acc[72] += (1.0 / 6) * (-j11 - c23)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c23
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
+	acc[57] += (1.0 / 6) * (-c24 - j00)
+	acc[58] += (1.0 / 6) * c24
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c24 - j00)
+	acc[67] += (1.0 / 6) * c24
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c24 - j00)
+	acc[76] += (1.0 / 6) * c24
+	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesSUPGCellBasis1Val[q][0]
@@ -376,19 +420,19 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p10 := math.Sqrt(p9)
 		p11 := 2.0 * c18 * p10
 		p12 := p11 + c20
-		p13 := 2.0 * diameter * p10
+		p13 := 2.0 * h * p10
 		p14 := 0.04 + p13
 		p15 := 1.0 / p14
-		coef34 := c17 * p15
-		p16 := p8 * coef34
+		tau_vel := c17 * p15
+		p16 := p8 * tau_vel
 		coef3 := p16 + 0.01
-		coef7 := coef0 * coef34
-		coef5 := coef0 * coef1 * coef34
-		coef13 := coef1 * coef34
-		coef12 := c17 * p12 * 0.25
-		p17 := p7 * coef34
-		coef10 := 0.01 + coef12 + p17
-		coef18 := p16 + 0.01 + coef12
+		coef7 := coef0 * tau_vel
+		coef5 := coef0 * coef1 * tau_vel
+		coef13 := coef1 * tau_vel
+		p17 := p7 * tau_vel
+		tau_p := c17 * p12 * 0.25
+		coef10 := 0.01 + p17 + tau_p
+		coef18 := p16 + 0.01 + tau_p
 		coef25 := 0.01 + p17
 		p18 := coef0 * w
 		p19 := p18 * c26
@@ -432,7 +476,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p57 := k00 * p55
 		p58 := c27 * p55
 		p59 := -p58
-		p60 := coef12 * w
+		p60 := tau_p * w
 		p61 := c26 * p60
 		p62 := c25 * p60
 		p63 := -p62
@@ -466,7 +510,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p91 := p56 + p79
 		p92 := p57 - p80
 		p93 := p82 - p58
-		p94 := coef34 * w
+		p94 := tau_vel * w
 		p95 := c26 * p94
 		p96 := c25 * p94
 		p97 := -p96
@@ -475,17 +519,24 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p100 := k00 * p94
 		p101 := c27 * p94
 		p102 := -p101
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
 		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
 		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
@@ -495,9 +546,11 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
 		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		acc[6] += c26*p51 + c28*p56
 		acc[7] += c26*p52 + c28*p57
 		acc[8] += c26*p54 + c28*p59
@@ -507,8 +560,10 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += k11*p51 + k10*p56
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
 		acc[5] += c28 * p64
@@ -518,17 +573,24 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p61
 		acc[22] += k10 * p63
 		acc[23] += k10 * p64
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
 		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
 		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
@@ -538,9 +600,11 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
 		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		acc[33] += c26*p79 + c28*p83
 		acc[34] += c26*p81 + c28*p85
 		acc[35] += c26*p82 + c28*p86
@@ -550,8 +614,10 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += k11*p79 + k10*p83
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
 		acc[29] += c26 * p90
@@ -561,11 +627,13 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p87
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
 		acc[54] += c28 * p91
 		acc[55] += c28 * p92
 		acc[56] += c28 * p93
@@ -575,11 +643,13 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p91
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
 		acc[57] += c26 * p91
 		acc[58] += c26 * p92
 		acc[59] += c26 * p93
@@ -589,9 +659,11 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p91
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c26*p95 + c28*p99
 		acc[61] += c26*p97 + c28*p100
 		acc[62] += c26*p98 + c28*p102
@@ -606,8 +678,9 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 }
 
-// fwNavierStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesGLSLayout is the element layout of the gls kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwNavierStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -617,9 +690,9 @@ var fwNavierStokesGLSLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type NavierStokesGLSKernel struct{}
 
 var _ kernel.Kernel = NavierStokesGLSKernel{}
@@ -660,8 +733,8 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	j00 := x[2] - x[0]
@@ -673,7 +746,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	rdetJ := 1.0 / detJ
 	c25 := j01 * rdetJ
 	k01 := -c25
@@ -688,50 +761,62 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-	acc[6] += 0.16666666666666669 * (-j11 - c23)
-	acc[7] += 0.16666666666666669 * j11
-	acc[8] += 0.16666666666666669 * c23
-	acc[15] += 0.16666666666666669 * (-j11 - c23)
-	acc[16] += 0.16666666666666669 * j11
-	acc[17] += 0.16666666666666669 * c23
-	acc[24] += 0.16666666666666666 * (-j11 - c23)
-	acc[25] += 0.16666666666666666 * j11
-	acc[26] += 0.16666666666666666 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-	acc[33] += 0.16666666666666669 * (-c24 - j00)
-	acc[34] += 0.16666666666666669 * c24
-	acc[35] += 0.16666666666666669 * j00
-	acc[42] += 0.16666666666666669 * (-c24 - j00)
-	acc[43] += 0.16666666666666669 * c24
-	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666666 * (-c24 - j00)
-	acc[52] += 0.16666666666666666 * c24
-	acc[53] += 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
-	acc[54] += 0.16666666666666669 * (-j11 - c23)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c23
-	acc[63] += 0.16666666666666669 * (-j11 - c23)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666666 * (-j11 - c23)
-	acc[73] += 0.16666666666666666 * j11
-	acc[74] += 0.16666666666666666 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
-	acc[57] += 0.16666666666666669 * (-c24 - j00)
-	acc[58] += 0.16666666666666669 * c24
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c24 - j00)
-	acc[67] += 0.16666666666666669 * c24
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666666 * (-c24 - j00)
-	acc[76] += 0.16666666666666666 * c24
-	acc[77] += 0.16666666666666666 * j00
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  navier_stokes.fw:16
+	acc[6] += (1.0 / 6) * (-j11 - c23)
+	acc[7] += (1.0 / 6) * j11
+	acc[8] += (1.0 / 6) * c23
+	acc[15] += (1.0 / 6) * (-j11 - c23)
+	acc[16] += (1.0 / 6) * j11
+	acc[17] += (1.0 / 6) * c23
+	acc[24] += (1.0 / 6) * (-j11 - c23)
+	acc[25] += (1.0 / 6) * j11
+	acc[26] += (1.0 / 6) * c23
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
+	acc[33] += (1.0 / 6) * (-c24 - j00)
+	acc[34] += (1.0 / 6) * c24
+	acc[35] += (1.0 / 6) * j00
+	acc[42] += (1.0 / 6) * (-c24 - j00)
+	acc[43] += (1.0 / 6) * c24
+	acc[44] += (1.0 / 6) * j00
+	acc[51] += (1.0 / 6) * (-c24 - j00)
+	acc[52] += (1.0 / 6) * c24
+	acc[53] += (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
+	acc[54] += (1.0 / 6) * (-j11 - c23)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c23
+	acc[63] += (1.0 / 6) * (-j11 - c23)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c23
+	acc[72] += (1.0 / 6) * (-j11 - c23)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c23
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
+	acc[57] += (1.0 / 6) * (-c24 - j00)
+	acc[58] += (1.0 / 6) * c24
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c24 - j00)
+	acc[67] += (1.0 / 6) * c24
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c24 - j00)
+	acc[76] += (1.0 / 6) * c24
+	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGLSCellBasis1Val[q][0]
@@ -748,19 +833,19 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p10 := math.Sqrt(p9)
 		p11 := 2.0 * c18 * p10
 		p12 := p11 + c20
-		p13 := 2.0 * diameter * p10
+		p13 := 2.0 * h * p10
 		p14 := 0.04 + p13
 		p15 := 1.0 / p14
-		coef54 := c17 * p15
-		p16 := p8 * coef54
+		tau_vel := c17 * p15
+		p16 := p8 * tau_vel
 		coef3 := p16 + 0.01
-		coef7 := coef0 * coef54
-		coef5 := coef0 * coef1 * coef54
-		coef18 := coef1 * coef54
-		coef17 := c17 * p12 * 0.25
-		p17 := p7 * coef54
-		coef15 := 0.01 + coef17 + p17
-		coef28 := p16 + 0.01 + coef17
+		coef7 := coef0 * tau_vel
+		coef5 := coef0 * coef1 * tau_vel
+		coef18 := coef1 * tau_vel
+		p17 := p7 * tau_vel
+		tau_p := c17 * p12 * 0.25
+		coef15 := 0.01 + p17 + tau_p
+		coef28 := p16 + 0.01 + tau_p
 		coef40 := 0.01 + p17
 		p18 := coef0 * w
 		p19 := p18 * c26
@@ -804,7 +889,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p57 := k00 * p55
 		p58 := c27 * p55
 		p59 := -p58
-		p60 := coef17 * w
+		p60 := tau_p * w
 		p61 := c26 * p60
 		p62 := c25 * p60
 		p63 := -p62
@@ -838,7 +923,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p91 := p56 + p79
 		p92 := p57 - p80
 		p93 := p82 - p58
-		p94 := coef54 * w
+		p94 := tau_vel * w
 		p95 := c26 * p94
 		p96 := c25 * p94
 		p97 := -p96
@@ -847,25 +932,32 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p100 := k00 * p94
 		p101 := c27 * p94
 		p102 := -p101
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²             navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²             navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
 		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
 		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
 		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
@@ -875,11 +967,13 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
 		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
 		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²        navier_stokes.fw:16
 		acc[6] += c26*p51 + c28*p56
 		acc[7] += c26*p52 + c28*p57
 		acc[8] += c26*p54 + c28*p59
@@ -889,8 +983,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += k11*p51 + k10*p56
 		acc[25] += k11*p52 + k10*p57
 		acc[26] += k11*p54 + k10*p59
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c28 * p61
 		acc[4] += c28 * p63
 		acc[5] += c28 * p64
@@ -900,25 +996,32 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p61
 		acc[22] += k10 * p63
 		acc[23] += k10 * p64
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²             navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²             navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²   navier_stokes.fw:16
+		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
 		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
 		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
 		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
@@ -928,11 +1031,13 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
 		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
 		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²        navier_stokes.fw:16
 		acc[33] += c26*p79 + c28*p83
 		acc[34] += c26*p81 + c28*p85
 		acc[35] += c26*p82 + c28*p86
@@ -942,8 +1047,10 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += k11*p79 + k10*p83
 		acc[52] += k11*p81 + k10*p85
 		acc[53] += k11*p82 + k10*p86
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c26 * p87
 		acc[28] += c26 * p88
 		acc[29] += c26 * p90
@@ -953,11 +1060,13 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p87
 		acc[46] += k11 * p88
 		acc[47] += k11 * p90
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
 		acc[54] += c28 * p91
 		acc[55] += c28 * p92
 		acc[56] += c28 * p93
@@ -967,11 +1076,13 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p91
 		acc[73] += k10 * p92
 		acc[74] += k10 * p93
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
 		acc[57] += c26 * p91
 		acc[58] += c26 * p92
 		acc[59] += c26 * p93
@@ -981,9 +1092,11 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p91
 		acc[76] += k11 * p92
 		acc[77] += k11 * p93
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c26*p95 + c28*p99
 		acc[61] += c26*p97 + c28*p100
 		acc[62] += c26*p98 + c28*p102
@@ -998,8 +1111,9 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 }
 
-// fwNavierStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesVMSLayout is the element layout of the vms kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwNavierStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -1009,9 +1123,9 @@ var fwNavierStokesVMSLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type NavierStokesVMSKernel struct{}
 
 var _ kernel.Kernel = NavierStokesVMSKernel{}
@@ -1052,8 +1166,8 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	j11 := x[5] - x[1]
@@ -1069,9 +1183,9 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c24 := j10 * rdetJ
 	k10 := -c24
 	c25 := c24 - k00
-	c26 := pv[3] * c25
-	c27 := pv[4] * k00
-	c28 := pv[5] * c24
+	c26 := pv[0] * c25
+	c27 := pv[1] * k00
+	c28 := pv[2] * c24
 	c29 := c26 + c27 - c28
 	c30 := -j01
 	c31 := j01 * rdetJ
@@ -1082,15 +1196,15 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c34 := pv[4] * c31
 	c35 := pv[5] * k11
 	c36 := c33 - c34 + c35
-	c37 := c32 * pv[6]
-	c38 := c31 * pv[7]
-	c39 := k11 * pv[8]
-	c40 := c37 - c38 + c39
-	c41 := pv[0] * c25
-	c42 := pv[1] * k00
-	c43 := pv[2] * c24
-	c44 := c41 + c42 - c43
-	c45 := c36 + c44
+	c37 := c29 + c36
+	c38 := pv[3] * c25
+	c39 := pv[4] * k00
+	c40 := pv[5] * c24
+	c41 := c38 + c39 - c40
+	c42 := c32 * pv[6]
+	c43 := c31 * pv[7]
+	c44 := k11 * pv[8]
+	c45 := c42 - c43 + c44
 	c46 := pv[0] * c32
 	c47 := pv[1] * c31
 	c48 := pv[2] * k11
@@ -1099,34 +1213,40 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c51 := k00 * pv[7]
 	c52 := c24 * pv[8]
 	c53 := c50 + c51 - c52
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes.fw:16]
-	acc[54] += 0.16666666666666669 * (-j11 - c23)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c23
-	acc[63] += 0.16666666666666669 * (-j11 - c23)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666666 * (-j11 - c23)
-	acc[73] += 0.16666666666666666 * j11
-	acc[74] += 0.16666666666666666 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes.fw:16]
-	acc[57] += 0.16666666666666669 * (-c30 - j00)
-	acc[58] += 0.16666666666666669 * c30
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c30 - j00)
-	acc[67] += 0.16666666666666669 * c30
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666666 * (-c30 - j00)
-	acc[76] += 0.16666666666666666 * c30
-	acc[77] += 0.16666666666666666 * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes.fw:16
+	acc[54] += (1.0 / 6) * (-j11 - c23)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c23
+	acc[63] += (1.0 / 6) * (-j11 - c23)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c23
+	acc[72] += (1.0 / 6) * (-j11 - c23)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c23
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
+	acc[57] += (1.0 / 6) * (-c30 - j00)
+	acc[58] += (1.0 / 6) * c30
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c30 - j00)
+	acc[67] += (1.0 / 6) * c30
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c30 - j00)
+	acc[76] += (1.0 / 6) * c30
+	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesVMSCellBasis1Val[q][0]
@@ -1143,43 +1263,43 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p12 := math.Sqrt(p11)
 		p13 := 2.0 * c18 * p12
 		p14 := p13 + c20
-		p15 := 2.0 * diameter * p12
+		p15 := 2.0 * h * p12
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
-		coef58 := c17 * p17
-		p18 := p4 * c29
-		p19 := p9 * c36
-		p20 := p18 + p19 + c40
-		p21 := coef58 * p20
-		p22 := p9 * coef58 * c45
-		coef0 := p9 - p21 + p22
-		p23 := coef58 * c45
-		p24 := p4 * c44
-		p25 := p9 * c49
-		p26 := p24 + p25 + c53
-		p27 := coef58 * p26
-		p28 := p4 * coef58 * c45
-		coef2 := p4 - p27 + p28
+		tau_vel := c17 * p17
+		p18 := p9 * tau_vel * c37
+		p19 := p4 * c41
+		p20 := p9 * c36
+		p21 := p19 + p20 + c45
+		p22 := tau_vel * p21
+		coef0 := p9 + p18 - p22
+		p23 := tau_vel * c37
+		p24 := p4 * tau_vel * c37
+		p25 := p4 * c29
+		p26 := p9 * c49
+		p27 := p25 + p26 + c53
+		p28 := tau_vel * p27
+		coef2 := p4 + p24 - p28
 		coef4 := 1.0 + p23
-		p29 := p10 * coef58
-		p30 := p9 * coef58 * p21
+		p29 := p10 * tau_vel
+		p30 := p9 * tau_vel * p22
 		coef5 := p29 - p30 + 0.01
-		p31 := coef58 * p21
-		coef54 := p9 * coef58
-		p32 := p4 * coef58 * p21
-		p33 := p4 * p9 * coef58
+		coef54 := p9 * tau_vel
+		p31 := tau_vel * p22
+		p32 := p4 * tau_vel * p22
+		p33 := p4 * p9 * tau_vel
 		coef7 := p33 - p32
 		coef9 := coef54 - p31
-		coef56 := p4 * coef58
-		p34 := p9 * coef58 * p27
+		coef56 := p4 * tau_vel
+		p34 := p9 * tau_vel * p28
 		coef15 := p33 - p34
-		p35 := coef58 * p27
-		coef19 := c17 * p14 * 0.25
-		p36 := p5 * coef58
-		p37 := p4 * coef58 * p27
-		coef17 := 0.01 + coef19 + p36 - p37
+		p35 := tau_vel * p28
+		p36 := p5 * tau_vel
+		p37 := p4 * tau_vel * p28
+		tau_p := c17 * p14 * 0.25
+		coef17 := 0.01 + p36 - p37 + tau_p
 		coef20 := coef56 - p35
-		coef32 := p29 - p30 + 0.01 + coef19
+		coef32 := p29 - p30 + 0.01 + tau_p
 		coef44 := 0.01 + p36 - p37
 		p38 := coef0 * w
 		p39 := c32 * p38
@@ -1229,7 +1349,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p83 := k00 * p81
 		p84 := c24 * p81
 		p85 := -p84
-		p86 := coef19 * w
+		p86 := tau_p * w
 		p87 := c32 * p86
 		p88 := c31 * p86
 		p89 := -p88
@@ -1275,7 +1395,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p129 := p128 - p123
 		p130 := c24 * p125
 		p131 := p124 - p130
-		p132 := coef58 * w
+		p132 := tau_vel * w
 		p133 := c32 * p132
 		p134 := c31 * p132
 		p135 := -p134
@@ -1284,27 +1404,46 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p138 := k00 * p132
 		p139 := c24 * p132
 		p140 := -p139
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[1]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                   navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                   navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes.fw:16
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂x² · v_vel[1]  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
 		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p55 + c25*p66
 		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p57 + c25*p68
 		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p59 + c25*p70
@@ -1314,12 +1453,18 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p55 + k10*p66
 		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p57 + k10*p68
 		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes.fw:16]
-		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes.fw:16]
-		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes.fw:16]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂x · v_vel[1]                                        navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂x · v_vel[1]  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y               navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y              navier_stokes.fw:16
+		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²                      navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x               navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x              navier_stokes.fw:16
+		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²                      navier_stokes.fw:16
 		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
 		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
 		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p75 + c32*p80 + c25*p85
@@ -1329,8 +1474,10 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p77 + k10*p82
 		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
 		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p85
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes.fw:23]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
 		acc[3] += c25 * p87
 		acc[4] += c25 * p89
 		acc[5] += c25 * p90
@@ -1340,27 +1487,46 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[21] += k10 * p87
 		acc[22] += k10 * p89
 		acc[23] += k10 * p90
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_p + τ_vel previous(vel)[2]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]² + τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (−τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                   navier_stokes.fw:16
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                   navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes.fw:16
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂x² · v_vel[2]  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
+		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
 		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p95 + c25*p100
 		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p96 + c25*p102
 		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p97 + c25*p104
@@ -1370,12 +1536,18 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p95 + k10*p100
 		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p96 + k10*p102
 		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes.fw:16]
-		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes.fw:16]
-		//   - (τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes.fw:16]
-		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes.fw:16]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂y · v_vel[2]                                        navier_stokes.fw:16
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂y · v_vel[2]  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y               navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y              navier_stokes.fw:16
+		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²                      navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x               navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x              navier_stokes.fw:16
+		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²                      navier_stokes.fw:16
 		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
 		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115
 		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p108 + c32*p112 + c25*p116
@@ -1385,8 +1557,10 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p105 + k11*p109 + k10*p113
 		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p107 + k11*p111 + k10*p115
 		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes.fw:23]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
 		acc[27] += c32 * p117
 		acc[28] += c32 * p118
 		acc[29] += c32 * p120
@@ -1396,11 +1570,13 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[45] += k11 * p117
 		acc[46] += k11 * p118
 		acc[47] += k11 * p120
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
 		acc[54] += c25 * p127
 		acc[55] += c25 * p129
 		acc[56] += c25 * p131
@@ -1410,11 +1586,13 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[72] += k10 * p127
 		acc[73] += k10 * p129
 		acc[74] += k10 * p131
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes.fw:16]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes.fw:16]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
 		acc[57] += c32 * p127
 		acc[58] += c32 * p129
 		acc[59] += c32 * p131
@@ -1424,9 +1602,11 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[75] += k11 * p127
 		acc[76] += k11 * p129
 		acc[77] += k11 * p131
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes.fw:22]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes.fw:22]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c32*p133 + c25*p137
 		acc[61] += c32*p135 + c25*p138
 		acc[62] += c32*p136 + c25*p140
@@ -1441,8 +1621,8 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	clear(b)
 }
 
-// fwNavierStokesFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwNavierStokesFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
 func fwNavierStokesFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
@@ -1452,27 +1632,27 @@ func fwNavierStokesFillNaN(A, b []float64) {
 	}
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwNavierStokesGalerkinCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 	fwNavierStokesSUPGCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 	fwNavierStokesGLSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 	fwNavierStokesVMSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 )

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("6bc6a231ede26bc022550d65fef80b20", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return NavierStokesNonlinearGalerkinKernel{} },
+	compiled.Register("a1070d40aaf4579197470f82f3987f57", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesNonlinearGalerkinKernel{}
+		},
 	})
-	compiled.Register("3576818b8e1c2211254396a81d9bbb0e", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return NavierStokesNonlinearSUPGKernel{} },
+	compiled.Register("1c1c17fb83f8edf378c852d05a1397aa", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesNonlinearSUPGKernel{}
+		},
 	})
-	compiled.Register("7204afc49ffb0ccf41ea06bae4efc489", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return NavierStokesNonlinearGLSKernel{} },
+	compiled.Register("418c7e9dec5e51051ea00e1470efb86a", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesNonlinearGLSKernel{}
+		},
 	})
-	compiled.Register("f1e49422f7e892422323a1dbe58cb01d", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return NavierStokesNonlinearVMSKernel{} },
+	compiled.Register("9905db07e59485502348f3a5ca38f3f2", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return NavierStokesNonlinearVMSKernel{}
+		},
 	})
 }
 
-// fwNavierStokesNonlinearGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesNonlinearGalerkinLayout is the element layout of the galerkin
+// kernels: triangle cells, fields in local dof order (field-major, then
+// component, then element node); 9 local dofs.
 var fwNavierStokesNonlinearGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -50,9 +59,9 @@ var fwNavierStokesNonlinearGalerkinLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesNonlinearGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesNonlinearGalerkinKernel is the generated cell kernel of the
+// galerkin form on triangle cells, quadrature degree 3 (4 points). It
+// implements kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearGalerkinKernel struct{}
 
 var _ kernel.Kernel = NavierStokesNonlinearGalerkinKernel{}
@@ -136,143 +145,175 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 	c44 := rdetJ * c43
 	c45 := c34 + c40
 	c46 := rdetJ * c45
-	c47 := detJ * 0.08333333333333334
-	c48 := detJ * (-0.08333333333333334)
-	c49 := detJ * 0.04166666666666667
-	c50 := detJ * (-0.04166666666666667)
-	c51 := detJ * 0.041666666666666685
-	c52 := detJ * (-0.041666666666666685)
-	c53 := j01 * 0.01
-	c54 := j00 * (-0.01)
-	c55 := j11 * (-0.01)
-	c56 := j10 * 0.01
-	c57 := c55 * (-0.5)
-	c58 := c56 * (-0.5)
-	c59 := c57 + c58
-	c60 := c53 * (-0.5)
-	c61 := c54 * (-0.5)
-	c62 := c60 + c61
-	c63 := c55 * 0.5
-	c64 := c53 * 0.5
-	c65 := c56 * 0.5
-	c66 := c54 * 0.5
-	c67 := detJ * (-0.16666666666666669)
-	c68 := detJ * 0.16666666666666669
+	c47 := detJ * (1.0 / 12)
+	c48 := detJ * (-(1.0 / 12))
+	c49 := detJ * (1.0 / 24)
+	c50 := detJ * (-(1.0 / 24))
+	c51 := j01 * 0.01
+	c52 := j00 * (-0.01)
+	c53 := j11 * (-0.01)
+	c54 := j10 * 0.01
+	c55 := c53 * (-0.5)
+	c56 := c54 * (-0.5)
+	c57 := c55 + c56
+	c58 := c51 * (-0.5)
+	c59 := c52 * (-0.5)
+	c60 := c58 + c59
+	c61 := c53 * 0.5
+	c62 := c51 * 0.5
+	c63 := c54 * 0.5
+	c64 := c52 * 0.5
+	c65 := detJ * (-(1.0 / 6))
+	c66 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	var rhs [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (partial(previous(vel)[1], x)) · vel[1] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y     navier_stokes_nonlinear.fw:17
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x     navier_stokes_nonlinear.fw:17
 	acc[0] += 0.5*(c42+c46) + c44 + c6*c47 + c7*c47 + c8*c48
 	acc[1] += 0.5*(-c42-c44) + c6*c49 + c7*c49 + c8*c50
-	acc[2] += 0.5*(-c44-c46) + c6*c51 + c7*c51 + c8*c52
+	acc[2] += 0.5*(-c44-c46) + c6*c49 + c7*c49 + c8*c50
 	acc[9] += 0.5*(-c42-c44) + c6*c49 + c7*c49 + c8*c50
 	acc[10] += 0.5*c42 + c6*c47 + c7*c47 + c8*c48
 	acc[11] += 0.5*c44 + c6*c49 + c7*c49 + c8*c50
-	acc[18] += 0.5*(-c44-c46) + c6*c51 + c7*c51 + c8*c52
+	acc[18] += 0.5*(-c44-c46) + c6*c49 + c7*c49 + c8*c50
 	acc[19] += 0.5*c44 + c6*c49 + c7*c49 + c8*c50
 	acc[20] += 0.5*c46 + c6*c47 + c7*c47 + c8*c48
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (partial(previous(vel)[1], y)) · vel[2] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 	acc[3] += c12*c47 + c13*c48 + c14*c47
 	acc[4] += c12*c49 + c13*c50 + c14*c49
-	acc[5] += c12*c51 + c13*c52 + c14*c51
+	acc[5] += c12*c49 + c13*c50 + c14*c49
 	acc[12] += c12*c49 + c13*c50 + c14*c49
 	acc[13] += c12*c47 + c13*c48 + c14*c47
 	acc[14] += c12*c49 + c13*c50 + c14*c49
-	acc[21] += c12*c51 + c13*c52 + c14*c51
+	acc[21] += c12*c49 + c13*c50 + c14*c49
 	acc[22] += c12*c49 + c13*c50 + c14*c49
 	acc[23] += c12*c47 + c13*c48 + c14*c47
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-	acc[6] += 0.16666666666666669 * (-j11 - c3)
-	acc[7] += 0.16666666666666669 * j11
-	acc[8] += 0.16666666666666669 * c3
-	acc[15] += 0.16666666666666669 * (-j11 - c3)
-	acc[16] += 0.16666666666666669 * j11
-	acc[17] += 0.16666666666666669 * c3
-	acc[24] += 0.16666666666666669 * (-j11 - c3)
-	acc[25] += 0.16666666666666669 * j11
-	acc[26] += 0.16666666666666669 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (partial(previous(vel)[2], x)) · vel[1] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+	acc[6] += (1.0 / 6) * (-j11 - c3)
+	acc[7] += (1.0 / 6) * j11
+	acc[8] += (1.0 / 6) * c3
+	acc[15] += (1.0 / 6) * (-j11 - c3)
+	acc[16] += (1.0 / 6) * j11
+	acc[17] += (1.0 / 6) * c3
+	acc[24] += (1.0 / 6) * (-j11 - c3)
+	acc[25] += (1.0 / 6) * j11
+	acc[26] += (1.0 / 6) * c3
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 	acc[27] += c15*c47 + c16*c47 + c17*c48
 	acc[28] += c15*c49 + c16*c49 + c17*c50
-	acc[29] += c15*c51 + c16*c51 + c17*c52
+	acc[29] += c15*c49 + c16*c49 + c17*c50
 	acc[36] += c15*c49 + c16*c49 + c17*c50
 	acc[37] += c15*c47 + c16*c47 + c17*c48
 	acc[38] += c15*c49 + c16*c49 + c17*c50
-	acc[45] += c15*c51 + c16*c51 + c17*c52
+	acc[45] += c15*c49 + c16*c49 + c17*c50
 	acc[46] += c15*c49 + c16*c49 + c17*c50
 	acc[47] += c15*c47 + c16*c47 + c17*c48
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (partial(previous(vel)[2], y)) · vel[2] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y     navier_stokes_nonlinear.fw:17
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x     navier_stokes_nonlinear.fw:17
 	acc[30] += 0.5*(c42+c46) + c44 + c18*c47 + c19*c48 + c20*c47
 	acc[31] += 0.5*(-c42-c44) + c18*c49 + c19*c50 + c20*c49
-	acc[32] += 0.5*(-c44-c46) + c18*c51 + c19*c52 + c20*c51
+	acc[32] += 0.5*(-c44-c46) + c18*c49 + c19*c50 + c20*c49
 	acc[39] += 0.5*(-c42-c44) + c18*c49 + c19*c50 + c20*c49
 	acc[40] += 0.5*c42 + c18*c47 + c19*c48 + c20*c47
 	acc[41] += 0.5*c44 + c18*c49 + c19*c50 + c20*c49
-	acc[48] += 0.5*(-c44-c46) + c18*c51 + c19*c52 + c20*c51
+	acc[48] += 0.5*(-c44-c46) + c18*c49 + c19*c50 + c20*c49
 	acc[49] += 0.5*c44 + c18*c49 + c19*c50 + c20*c49
 	acc[50] += 0.5*c46 + c18*c47 + c19*c48 + c20*c47
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-	acc[33] += 0.16666666666666669 * (-c9 - j00)
-	acc[34] += 0.16666666666666669 * c9
-	acc[35] += 0.16666666666666669 * j00
-	acc[42] += 0.16666666666666669 * (-c9 - j00)
-	acc[43] += 0.16666666666666669 * c9
-	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666669 * (-c9 - j00)
-	acc[52] += 0.16666666666666669 * c9
-	acc[53] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[54] += 0.16666666666666669 * (-j11 - c3)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c3
-	acc[63] += 0.16666666666666669 * (-j11 - c3)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c3
-	acc[72] += 0.16666666666666669 * (-j11 - c3)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[57] += 0.16666666666666669 * (-c9 - j00)
-	acc[58] += 0.16666666666666669 * c9
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c9 - j00)
-	acc[67] += 0.16666666666666669 * c9
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c9 - j00)
-	acc[76] += 0.16666666666666669 * c9
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - −partial(previous(vel)[1], y)/100 · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-	//   - −partial(previous(vel)[1], x)/100 · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-	rhs[0] += coef0*c59 + coef3*c62
-	rhs[1] += coef0*c63 + coef3*c64
-	rhs[2] += coef0*c65 + coef3*c66
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −partial(previous(vel)[2], y)/100 · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-	//   - −partial(previous(vel)[2], x)/100 · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-	rhs[3] += coef7*c59 + coef8*c62
-	rhs[4] += coef7*c63 + coef8*c64
-	rhs[5] += coef7*c65 + coef8*c66
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −partial(previous(vel)[1], x) − partial(previous(vel)[2], y) · test(p)   [navier_stokes_nonlinear.fw:18]
-	rhs[6] += c6*c67 + c7*c67 + c8*c68 + c18*c67 + c19*c68 + c20*c67
-	rhs[7] += c6*c67 + c7*c67 + c8*c68 + c18*c67 + c19*c68 + c20*c67
-	rhs[8] += c6*c67 + c7*c67 + c8*c68 + c18*c67 + c19*c68 + c20*c67
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+	acc[33] += (1.0 / 6) * (-c9 - j00)
+	acc[34] += (1.0 / 6) * c9
+	acc[35] += (1.0 / 6) * j00
+	acc[42] += (1.0 / 6) * (-c9 - j00)
+	acc[43] += (1.0 / 6) * c9
+	acc[44] += (1.0 / 6) * j00
+	acc[51] += (1.0 / 6) * (-c9 - j00)
+	acc[52] += (1.0 / 6) * c9
+	acc[53] += (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes_nonlinear.fw:17
+	acc[54] += (1.0 / 6) * (-j11 - c3)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c3
+	acc[63] += (1.0 / 6) * (-j11 - c3)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c3
+	acc[72] += (1.0 / 6) * (-j11 - c3)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes_nonlinear.fw:17
+	acc[57] += (1.0 / 6) * (-c9 - j00)
+	acc[58] += (1.0 / 6) * c9
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c9 - j00)
+	acc[67] += (1.0 / 6) * c9
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c9 - j00)
+	acc[76] += (1.0 / 6) * c9
+	acc[77] += (1.0 / 6) * j00
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+	rhs[0] += coef0*c57 + coef3*c60
+	rhs[1] += coef0*c61 + coef3*c62
+	rhs[2] += coef0*c63 + coef3*c64
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+	rhs[3] += coef7*c57 + coef8*c60
+	rhs[4] += coef7*c61 + coef8*c62
+	rhs[5] += coef7*c63 + coef8*c64
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
+	rhs[6] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
+	rhs[7] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
+	rhs[8] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0]
@@ -305,9 +346,11 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 		p23 := p16 - p22
 		p24 := coef16 * w
 		p25 := coef19 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		acc[0] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p19
 		acc[1] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p21
 		acc[2] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p23
@@ -317,9 +360,11 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 		acc[18] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p19
 		acc[19] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p21
 		acc[20] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p23
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
 		acc[30] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p19
 		acc[31] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p21
 		acc[32] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p23
@@ -329,13 +374,21 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 		acc[48] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p19
 		acc[49] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p21
 		acc[50] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p23
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[1], x) − partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(p), x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		rhs[0] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p24
 		rhs[1] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][1] * p24
 		rhs[2] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p24
-		// At each quadrature point: rows 3..5 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[2], x) − previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(p), y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		rhs[3] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0] * p25
 		rhs[4] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][1] * p25
 		rhs[5] += fwNavierStokesNonlinearGalerkinCellBasis1Val[q][2] * p25
@@ -344,8 +397,9 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 	copy(b, rhs[:])
 }
 
-// fwNavierStokesNonlinearSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesNonlinearSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwNavierStokesNonlinearSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -355,9 +409,9 @@ var fwNavierStokesNonlinearSUPGLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesNonlinearSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesNonlinearSUPGKernel is the generated cell kernel of the supg
+// form on triangle cells, quadrature degree 3 (4 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearSUPGKernel struct{}
 
 var _ kernel.Kernel = NavierStokesNonlinearSUPGKernel{}
@@ -426,8 +480,8 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	c29 := c28 * c28
 	c30 := c27 + c29
 	c31 := max(c25, c30)
-	diameter := math.Sqrt(c31)
-	c32 := 1.0 / diameter
+	h := math.Sqrt(c31)
+	c32 := 1.0 / h
 	c33 := c32 * c32
 	c34 := 0.04 * c33
 	c35 := c5 * pv[6]
@@ -451,113 +505,139 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	c51 := coef0 * (-0.01)
 	c52 := (-0.01) * coef21
 	c53 := (-0.01) * coef20
-	c54 := detJ * 0.08333333333333334
-	c55 := detJ * (-0.08333333333333334)
-	c56 := detJ * 0.04166666666666667
-	c57 := detJ * (-0.04166666666666667)
-	c58 := detJ * 0.041666666666666685
-	c59 := detJ * (-0.041666666666666685)
-	c60 := detJ * (-0.16666666666666669)
-	c61 := detJ * 0.16666666666666669
+	c54 := detJ * (1.0 / 12)
+	c55 := detJ * (-(1.0 / 12))
+	c56 := detJ * (1.0 / 24)
+	c57 := detJ * (-(1.0 / 24))
+	c58 := detJ * (-(1.0 / 6))
+	c59 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	var rhs [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (partial(previous(vel)[1], x)) · vel[1] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 	acc[0] += c6*c54 + c7*c54 + c8*c55
 	acc[1] += c6*c56 + c7*c56 + c8*c57
-	acc[2] += c6*c58 + c7*c58 + c8*c59
+	acc[2] += c6*c56 + c7*c56 + c8*c57
 	acc[9] += c6*c56 + c7*c56 + c8*c57
 	acc[10] += c6*c54 + c7*c54 + c8*c55
 	acc[11] += c6*c56 + c7*c56 + c8*c57
-	acc[18] += c6*c58 + c7*c58 + c8*c59
+	acc[18] += c6*c56 + c7*c56 + c8*c57
 	acc[19] += c6*c56 + c7*c56 + c8*c57
 	acc[20] += c6*c54 + c7*c54 + c8*c55
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (partial(previous(vel)[1], y)) · vel[2] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 	acc[3] += c12*c54 + c13*c55 + c14*c54
 	acc[4] += c12*c56 + c13*c57 + c14*c56
-	acc[5] += c12*c58 + c13*c59 + c14*c58
+	acc[5] += c12*c56 + c13*c57 + c14*c56
 	acc[12] += c12*c56 + c13*c57 + c14*c56
 	acc[13] += c12*c54 + c13*c55 + c14*c54
 	acc[14] += c12*c56 + c13*c57 + c14*c56
-	acc[21] += c12*c58 + c13*c59 + c14*c58
+	acc[21] += c12*c56 + c13*c57 + c14*c56
 	acc[22] += c12*c56 + c13*c57 + c14*c56
 	acc[23] += c12*c54 + c13*c55 + c14*c54
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-	acc[6] += 0.16666666666666669 * (-j11 - c3)
-	acc[7] += 0.16666666666666669 * j11
-	acc[8] += 0.16666666666666669 * c3
-	acc[15] += 0.16666666666666669 * (-j11 - c3)
-	acc[16] += 0.16666666666666669 * j11
-	acc[17] += 0.16666666666666669 * c3
-	acc[24] += 0.16666666666666669 * (-j11 - c3)
-	acc[25] += 0.16666666666666669 * j11
-	acc[26] += 0.16666666666666669 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (partial(previous(vel)[2], x)) · vel[1] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+	acc[6] += (1.0 / 6) * (-j11 - c3)
+	acc[7] += (1.0 / 6) * j11
+	acc[8] += (1.0 / 6) * c3
+	acc[15] += (1.0 / 6) * (-j11 - c3)
+	acc[16] += (1.0 / 6) * j11
+	acc[17] += (1.0 / 6) * c3
+	acc[24] += (1.0 / 6) * (-j11 - c3)
+	acc[25] += (1.0 / 6) * j11
+	acc[26] += (1.0 / 6) * c3
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 	acc[27] += c43*c54 + c44*c54 + c45*c55
 	acc[28] += c43*c56 + c44*c56 + c45*c57
-	acc[29] += c43*c58 + c44*c58 + c45*c59
+	acc[29] += c43*c56 + c44*c56 + c45*c57
 	acc[36] += c43*c56 + c44*c56 + c45*c57
 	acc[37] += c43*c54 + c44*c54 + c45*c55
 	acc[38] += c43*c56 + c44*c56 + c45*c57
-	acc[45] += c43*c58 + c44*c58 + c45*c59
+	acc[45] += c43*c56 + c44*c56 + c45*c57
 	acc[46] += c43*c56 + c44*c56 + c45*c57
 	acc[47] += c43*c54 + c44*c54 + c45*c55
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (partial(previous(vel)[2], y)) · vel[2] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 	acc[30] += c39*c54 + c40*c55 + c41*c54
 	acc[31] += c39*c56 + c40*c57 + c41*c56
-	acc[32] += c39*c58 + c40*c59 + c41*c58
+	acc[32] += c39*c56 + c40*c57 + c41*c56
 	acc[39] += c39*c56 + c40*c57 + c41*c56
 	acc[40] += c39*c54 + c40*c55 + c41*c54
 	acc[41] += c39*c56 + c40*c57 + c41*c56
-	acc[48] += c39*c58 + c40*c59 + c41*c58
+	acc[48] += c39*c56 + c40*c57 + c41*c56
 	acc[49] += c39*c56 + c40*c57 + c41*c56
 	acc[50] += c39*c54 + c40*c55 + c41*c54
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-	acc[33] += 0.16666666666666669 * (-c9 - j00)
-	acc[34] += 0.16666666666666669 * c9
-	acc[35] += 0.16666666666666669 * j00
-	acc[42] += 0.16666666666666669 * (-c9 - j00)
-	acc[43] += 0.16666666666666669 * c9
-	acc[44] += 0.16666666666666669 * j00
-	acc[51] += 0.16666666666666669 * (-c9 - j00)
-	acc[52] += 0.16666666666666669 * c9
-	acc[53] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[54] += 0.16666666666666669 * (-j11 - c3)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c3
-	acc[63] += 0.16666666666666669 * (-j11 - c3)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c3
-	acc[72] += 0.16666666666666669 * (-j11 - c3)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[57] += 0.16666666666666669 * (-c9 - j00)
-	acc[58] += 0.16666666666666669 * c9
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c9 - j00)
-	acc[67] += 0.16666666666666669 * c9
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c9 - j00)
-	acc[76] += 0.16666666666666669 * c9
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −partial(previous(vel)[1], x) − partial(previous(vel)[2], y) · test(p)   [navier_stokes_nonlinear.fw:18]
-	rhs[6] += c6*c60 + c7*c60 + c8*c61 + c39*c60 + c40*c61 + c41*c60
-	rhs[7] += c6*c60 + c7*c60 + c8*c61 + c39*c60 + c40*c61 + c41*c60
-	rhs[8] += c6*c60 + c7*c60 + c8*c61 + c39*c60 + c40*c61 + c41*c60
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+	acc[33] += (1.0 / 6) * (-c9 - j00)
+	acc[34] += (1.0 / 6) * c9
+	acc[35] += (1.0 / 6) * j00
+	acc[42] += (1.0 / 6) * (-c9 - j00)
+	acc[43] += (1.0 / 6) * c9
+	acc[44] += (1.0 / 6) * j00
+	acc[51] += (1.0 / 6) * (-c9 - j00)
+	acc[52] += (1.0 / 6) * c9
+	acc[53] += (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes_nonlinear.fw:17
+	acc[54] += (1.0 / 6) * (-j11 - c3)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c3
+	acc[63] += (1.0 / 6) * (-j11 - c3)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c3
+	acc[72] += (1.0 / 6) * (-j11 - c3)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes_nonlinear.fw:17
+	acc[57] += (1.0 / 6) * (-c9 - j00)
+	acc[58] += (1.0 / 6) * c9
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c9 - j00)
+	acc[67] += (1.0 / 6) * c9
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c9 - j00)
+	acc[76] += (1.0 / 6) * c9
+	acc[77] += (1.0 / 6) * j00
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
+	rhs[6] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
+	rhs[7] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
+	rhs[8] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]
@@ -574,13 +654,13 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p10 := math.Sqrt(p9)
 		p11 := 2.0 * c32 * p10
 		p12 := p11 + c34
-		p13 := 2.0 * diameter * p10
+		p13 := 2.0 * h * p10
 		p14 := 0.04 + p13
 		p15 := 1.0 / p14
-		coef48 := c31 * p15
-		p16 := coef0 * coef1 * coef48
+		tau_vel := c31 * p15
+		p16 := coef0 * coef1 * tau_vel
 		p17 := fwNavierStokesNonlinearSign(p10)
-		p18 := coef48 * coef48
+		p18 := tau_vel * tau_vel
 		p19 := 1.0 + p10 - p17
 		p20 := 1.0 / p19
 		p21 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * c38
@@ -589,81 +669,81 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p24 := p22 + p23
 		p25 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p24
 		coef5 := p16 + p21 + p25
-		p26 := p8 * coef48
+		p26 := p8 * tau_vel
 		coef6 := p26 + 0.01
-		coef11 := coef1 * coef48
-		coef8 := coef1 * coef2 * coef48
-		p27 := coef48 * p24
-		p28 := coef48 * c38
-		p29 := coef1 * coef3 * coef48
+		coef11 := coef1 * tau_vel
+		coef8 := coef1 * coef2 * tau_vel
+		p27 := tau_vel * p24
+		p28 := tau_vel * c38
+		p29 := coef1 * coef3 * tau_vel
 		p30 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c38
 		p31 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p24
 		coef10 := p27 + p28 + p29 + p30 + p31
-		p32 := coef0 * coef2 * coef48
-		p33 := coef2 * diameter * 0.5 * p17 * p20 * c42
+		p32 := coef0 * coef2 * tau_vel
+		p33 := coef2 * h * 0.5 * p17 * p20 * c42
 		p34 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c38
 		p35 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p24
 		coef12 := p27 + p28 + p32 + p33 + p34 + p35
-		coef19 := coef2 * coef48
-		coef18 := c31 * p12 * 0.25
-		p36 := p7 * coef48
-		coef15 := 0.01 + coef18 + p36
-		p37 := coef2 * coef3 * coef48
-		p38 := coef1 * diameter * 0.5 * p17 * p20 * c42
+		coef19 := coef2 * tau_vel
+		p36 := p7 * tau_vel
+		tau_p := c31 * p12 * 0.25
+		coef15 := 0.01 + p36 + tau_p
+		p37 := coef2 * coef3 * tau_vel
+		p38 := coef1 * h * 0.5 * p17 * p20 * c42
 		coef17 := p21 + p25 + p37 + p38
-		p39 := coef1 * coef48 * coef20
+		p39 := coef1 * tau_vel * coef20
 		p40 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * c49
 		p41 := coef2 * coef20
 		p42 := coef1 * coef21
 		p43 := p41 + p42
 		p44 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p43
 		coef25 := p33 + p39 + p40 + p44
-		p45 := coef48 * p43
-		p46 := coef48 * c49
-		p47 := coef1 * coef48 * coef21
+		p45 := tau_vel * p43
+		p46 := tau_vel * c49
+		p47 := coef1 * tau_vel * coef21
 		p48 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c49
 		p49 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p43
 		coef27 := p38 + p45 + p46 + p47 + p48 + p49
-		coef28 := p26 + 0.01 + coef18
-		p50 := coef2 * coef48 * coef20
+		coef28 := p26 + 0.01 + tau_p
+		p50 := coef2 * tau_vel * coef20
 		p51 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c49
 		p52 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p43
 		coef33 := p45 + p46 + p50 + p51 + p52
-		p53 := coef2 * coef48 * coef21
+		p53 := coef2 * tau_vel * coef21
 		coef34 := p40 + p44 + p53
 		coef37 := 0.01 + p36
-		p54 := coef48 * coef20
+		p54 := tau_vel * coef20
 		p55 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c49
 		p56 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p43
 		coef42 := p54 + p55 + p56
-		p57 := coef48 * coef21
+		p57 := tau_vel * coef21
 		p58 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c49
 		p59 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p43
 		coef43 := p57 + p58 + p59
-		p60 := coef0 * coef48
+		p60 := coef0 * tau_vel
 		p61 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c38
 		p62 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p24
 		coef49 := p60 + p61 + p62
-		p63 := coef3 * coef48
+		p63 := coef3 * tau_vel
 		p64 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c38
 		p65 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p24
 		coef54 := p63 + p64 + p65
 		p66 := -p22
 		coef56 := p66 - p23 - c38
-		p67 := coef1 * coef48 * p24
-		p68 := coef1 * coef48 * c38
+		p67 := coef1 * tau_vel * p24
+		p68 := coef1 * tau_vel * c38
 		coef57 := c50 - p67 - p68
-		p69 := c42 * coef18
-		p70 := coef2 * coef48 * p24
-		p71 := coef2 * coef48 * c38
+		p69 := c42 * tau_p
+		p70 := coef2 * tau_vel * p24
+		p71 := coef2 * tau_vel * c38
 		coef58 := c51 - p69 - p70 - p71
 		p72 := -p41
 		coef59 := p72 - p42 - c49
-		p73 := coef1 * coef48 * p43
-		p74 := coef1 * coef48 * c49
+		p73 := coef1 * tau_vel * p43
+		p74 := coef1 * tau_vel * c49
 		coef60 := c52 - p69 - p73 - p74
-		p75 := coef2 * coef48 * p43
-		p76 := coef2 * coef48 * c49
+		p75 := coef2 * tau_vel * p43
+		p76 := coef2 * tau_vel * c49
 		coef61 := c53 - p75 - p76
 		p77 := -p45
 		coef63 := p77 - p46
@@ -724,7 +804,7 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p130 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p129
 		p131 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p129
 		p132 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p129
-		p133 := coef18 * w
+		p133 := tau_p * w
 		p134 := c11 * p133
 		p135 := p130 + p134
 		p136 := c10 * p133
@@ -819,7 +899,7 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p225 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p224
 		p226 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p224
 		p227 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p224
-		p228 := coef48 * w
+		p228 := tau_vel * w
 		p229 := c11 * p228
 		p230 := c10 * p228
 		p231 := -p230
@@ -836,19 +916,36 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p242 := coef61 * w
 		p243 := coef63 * w
 		p244 := coef64 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) previous(vel)[2] − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel previous(vel)[1] partial(previous(vel)[1], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		acc[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p85 + c11*p103 + c5*p120
 		acc[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p87 + c11*p105 + c5*p122
 		acc[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p89 + c11*p107 + c5*p124
@@ -858,10 +955,24 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[18] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p85 + k11*p103 + k10*p120
 		acc[19] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p87 + k11*p105 + k10*p122
 		acc[20] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p89 + k11*p107 + k10*p124
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel partial(previous(vel)[1], y) previous(vel)[2] − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[1], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:24]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		acc[3] += c11*p126 + c5*p135
 		acc[4] += c11*p127 + c5*p137
 		acc[5] += c11*p128 + c5*p139
@@ -871,9 +982,11 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[21] += k11*p126 + k10*p135
 		acc[22] += k11*p127 + k10*p137
 		acc[23] += k11*p128 + k10*p139
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		acc[6] += c11*p141 + c5*p146
 		acc[7] += c11*p142 + c5*p147
 		acc[8] += c11*p144 + c5*p149
@@ -883,10 +996,24 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[24] += k11*p141 + k10*p146
 		acc[25] += k11*p142 + k10*p147
 		acc[26] += k11*p144 + k10*p149
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_vel previous(vel)[2] partial(previous(vel)[2], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:24]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[1] partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		acc[27] += c11*p155 + c5*p161
 		acc[28] += c11*p157 + c5*p162
 		acc[29] += c11*p159 + c5*p163
@@ -896,19 +1023,36 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[45] += k11*p155 + k10*p161
 		acc[46] += k11*p157 + k10*p162
 		acc[47] += k11*p159 + k10*p163
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[2] partial(previous(vel)[2], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		acc[30] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p85 + c11*p175 + c5*p187
 		acc[31] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p87 + c11*p176 + c5*p189
 		acc[32] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p89 + c11*p177 + c5*p191
@@ -918,9 +1062,11 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[48] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p85 + k11*p175 + k10*p187
 		acc[49] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p87 + k11*p176 + k10*p189
 		acc[50] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p89 + k11*p177 + k10*p191
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		acc[33] += c11*p192 + c5*p196
 		acc[34] += c11*p194 + c5*p198
 		acc[35] += c11*p195 + c5*p199
@@ -930,13 +1076,22 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[51] += k11*p192 + k10*p196
 		acc[52] += k11*p194 + k10*p198
 		acc[53] += k11*p195 + k10*p199
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		acc[54] += c11*p201 + c5*p211
 		acc[55] += c11*p202 + c5*p212
 		acc[56] += c11*p203 + c5*p213
@@ -946,13 +1101,22 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[72] += k11*p201 + k10*p211
 		acc[73] += k11*p202 + k10*p212
 		acc[74] += k11*p203 + k10*p213
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		acc[57] += c11*p221 + c5*p225
 		acc[58] += c11*p222 + c5*p226
 		acc[59] += c11*p223 + c5*p227
@@ -962,9 +1126,11 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[75] += k11*p221 + k10*p225
 		acc[76] += k11*p222 + k10*p226
 		acc[77] += k11*p223 + k10*p227
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:23]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:23]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
 		acc[60] += c11*p229 + c5*p233
 		acc[61] += c11*p231 + c5*p234
 		acc[62] += c11*p232 + c5*p236
@@ -974,23 +1140,55 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		acc[78] += k11*p229 + k10*p233
 		acc[79] += k11*p231 + k10*p234
 		acc[80] += k11*p232 + k10*p236
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[1], x) − partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(p), x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), x) − partial(previous(vel)[1], y)/100 · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), x) − partial(previous(vel)[1], x)/100 · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x                    navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		rhs[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p237 + c11*p238 + c5*p239
 		rhs[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p237 + k01*p238 + k00*p239
 		rhs[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p237 + k11*p238 + k10*p239
-		// At each quadrature point: rows 3..5 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[2], x) − previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(p), y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), y) − partial(previous(vel)[2], y)/100 · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), y) − partial(previous(vel)[2], x)/100 · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂v_vel[2]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
 		rhs[3] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p240 + c11*p241 + c5*p242
 		rhs[4] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p240 + k01*p241 + k00*p242
 		rhs[5] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p240 + k11*p241 + k10*p242
-		// At each quadrature point: rows 6..8 of the right-hand side:
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 − τ_vel partial(previous(p), y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 − τ_vel partial(previous(p), x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
 		rhs[6] += c11*p243 + c5*p244
 		rhs[7] += k01*p243 + k00*p244
 		rhs[8] += k11*p243 + k10*p244
@@ -999,8 +1197,9 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	copy(b, rhs[:])
 }
 
-// fwNavierStokesNonlinearGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesNonlinearGLSLayout is the element layout of the gls kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwNavierStokesNonlinearGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -1010,9 +1209,9 @@ var fwNavierStokesNonlinearGLSLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesNonlinearGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesNonlinearGLSKernel is the generated cell kernel of the gls form
+// on triangle cells, quadrature degree 3 (4 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearGLSKernel struct{}
 
 var _ kernel.Kernel = NavierStokesNonlinearGLSKernel{}
@@ -1053,8 +1252,8 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	j11 := x[5] - x[1]
@@ -1108,38 +1307,48 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c59 := c29 * (-0.01)
 	c60 := c54 * (-0.01)
 	c61 := c34 * (-0.01)
-	c62 := detJ * (-0.16666666666666669)
-	c63 := detJ * 0.16666666666666669
+	c62 := detJ * (-(1.0 / 6))
+	c63 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	var rhs [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[54] += 0.16666666666666669 * (-j11 - c23)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c23
-	acc[63] += 0.16666666666666669 * (-j11 - c23)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666669 * (-j11 - c23)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[57] += 0.16666666666666669 * (-c40 - j00)
-	acc[58] += 0.16666666666666669 * c40
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c40 - j00)
-	acc[67] += 0.16666666666666669 * c40
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c40 - j00)
-	acc[76] += 0.16666666666666669 * c40
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −partial(previous(vel)[1], x) − partial(previous(vel)[2], y) · test(p)   [navier_stokes_nonlinear.fw:18]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes_nonlinear.fw:17
+	acc[54] += (1.0 / 6) * (-j11 - c23)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c23
+	acc[63] += (1.0 / 6) * (-j11 - c23)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c23
+	acc[72] += (1.0 / 6) * (-j11 - c23)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c23
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes_nonlinear.fw:17
+	acc[57] += (1.0 / 6) * (-c40 - j00)
+	acc[58] += (1.0 / 6) * c40
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c40 - j00)
+	acc[67] += (1.0 / 6) * c40
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c40 - j00)
+	acc[76] += (1.0 / 6) * c40
+	acc[77] += (1.0 / 6) * j00
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
 	rhs[6] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
 	rhs[7] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
 	rhs[8] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
@@ -1159,14 +1368,14 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p12 := math.Sqrt(p11)
 		p13 := 2.0 * c18 * p12
 		p14 := p13 + c20
-		p15 := 2.0 * diameter * p12
+		p15 := 2.0 * h * p12
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
-		coef90 := c17 * p17
-		p18 := coef90 * c30
-		p19 := coef90 * c35
+		tau_vel := c17 * p17
+		p18 := tau_vel * c30
+		p19 := tau_vel * c35
 		p20 := fwNavierStokesNonlinearSign(p12)
-		p21 := coef90 * coef90
+		p21 := tau_vel * tau_vel
 		p22 := 1.0 + p12 - p20
 		p23 := 1.0 / p22
 		p24 := c18 * p4 * c29 * (-2.0) * p20 * p21 * p23 * c39
@@ -1180,49 +1389,49 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p32 := p30 + p31
 		p33 := c18 * p4 * c34 * (-2.0) * p20 * p21 * p23 * p32
 		coef0 := c29 + p18 + p19 + p24 + p25 + p29 + p33
-		p34 := p9 * coef90 * c29
+		p34 := p9 * tau_vel * c29
 		coef1 := p9 + p34
-		p35 := coef90 * c29
-		p36 := coef90 * p28
-		p37 := coef90 * c39
-		p38 := p4 * coef90 * c29
+		p35 := tau_vel * c29
+		p36 := tau_vel * p28
+		p37 := tau_vel * c39
+		p38 := p4 * tau_vel * c29
 		coef3 := p4 + p36 + p37 + p38
-		p39 := coef90 * c29 * c50
-		p40 := coef90 * c34 * c54
+		p39 := tau_vel * c29 * c50
+		p40 := tau_vel * c34 * c54
 		p41 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * c39
 		p42 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * c46
 		p43 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * p28
 		p44 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * p32
 		coef5 := c50 + p39 + p40 + p41 + p42 + p43 + p44
-		coef6 := p9 * coef90 * c34
-		coef10 := coef90 * c34
-		p45 := coef90 * p32
-		p46 := coef90 * c46
-		p47 := p4 * coef90 * c34
+		coef6 := p9 * tau_vel * c34
+		coef10 := tau_vel * c34
+		p45 := tau_vel * p32
+		p46 := tau_vel * c46
+		p47 := p4 * tau_vel * c34
 		coef8 := p45 + p46 + p47
 		coef11 := 1.0 + p35
 		p48 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c39
 		p49 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * p28
 		coef12 := p34 + p48 + p49
-		p50 := p10 * coef90
+		p50 := p10 * tau_vel
 		coef13 := p50 + 0.01
-		coef18 := p9 * coef90
-		coef15 := p4 * p9 * coef90
-		p51 := p9 * coef90 * c50
+		coef18 := p9 * tau_vel
+		coef15 := p4 * p9 * tau_vel
+		p51 := p9 * tau_vel * c50
 		p52 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c39
 		p53 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p28
 		coef17 := p36 + p37 + p51 + p52 + p53
-		coef33 := p4 * coef90
-		coef52 := coef90 * c50
-		p54 := diameter * p4 * 0.5 * p20 * p23 * c55
+		coef33 := p4 * tau_vel
+		coef52 := tau_vel * c50
+		p54 := h * p4 * 0.5 * p20 * p23 * c55
 		p55 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c39
 		p56 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p28
 		coef26 := p36 + p37 + p38 + p54 + p55 + p56
-		coef32 := c17 * p14 * 0.25
-		p57 := p5 * coef90
-		coef29 := 0.01 + coef32 + p57
-		coef44 := p4 * coef90 * c50
-		p58 := diameter * p9 * 0.5 * p20 * p23 * c55
+		p57 := p5 * tau_vel
+		tau_p := c17 * p14 * 0.25
+		coef29 := 0.01 + p57 + tau_p
+		coef44 := p4 * tau_vel * c50
+		p58 := h * p9 * 0.5 * p20 * p23 * c55
 		coef31 := p48 + p49 + coef44 + p58
 		p59 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c39 * c50
 		p60 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c46 * c54
@@ -1230,17 +1439,17 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p62 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c54 * p32
 		coef41 := c34 + p39 + p40 + p59 + p60 + p61 + p62
 		coef42 := p36 + p37 + p51
-		p63 := coef90 * c56
-		p64 := coef90 * c57
+		p63 := tau_vel * c56
+		p64 := tau_vel * c57
 		p65 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c39 * c50
 		p66 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c46 * c54
 		p67 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c50 * p28
 		p68 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c54 * p32
 		coef46 := c54 + p63 + p64 + p65 + p66 + p67 + p68
-		p69 := p9 * coef90 * c54
+		p69 := p9 * tau_vel * c54
 		coef47 := p9 + p45 + p46 + p69
-		p70 := coef90 * c54
-		p71 := p4 * coef90 * c54
+		p70 := tau_vel * c54
+		p71 := p4 * tau_vel * c54
 		coef49 := p4 + p71
 		coef51 := 1.0 + p70
 		p72 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c46
@@ -1249,7 +1458,7 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p74 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c46
 		p75 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p32
 		coef55 := p45 + p46 + p58 + p69 + p74 + p75
-		coef56 := p50 + 0.01 + coef32
+		coef56 := p50 + 0.01 + tau_p
 		p76 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c46
 		p77 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p32
 		coef68 := p45 + p46 + p47 + p76 + p77
@@ -1268,29 +1477,29 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p85 := c18 * p9 * (-2.0) * p20 * p21 * p23 * p28
 		coef96 := coef52 + p84 + p85
 		p86 := -p26
-		p87 := coef90 * c29 * p28
-		p88 := coef90 * c34 * p32
-		p89 := coef90 * c29 * c39
-		p90 := coef90 * c34 * c46
+		p87 := tau_vel * c29 * p28
+		p88 := tau_vel * c34 * p32
+		p89 := tau_vel * c29 * c39
+		p90 := tau_vel * c34 * c46
 		coef98 := p86 - p27 - p87 - p88 - p89 - p90 - c39
-		p91 := p9 * coef90 * p28
-		p92 := p9 * coef90 * c39
+		p91 := p9 * tau_vel * p28
+		p92 := p9 * tau_vel * c39
 		coef99 := c58 - p91 - p92
-		p93 := c55 * coef32
-		p94 := p4 * coef90 * p28
-		p95 := p4 * coef90 * c39
+		p93 := c55 * tau_p
+		p94 := p4 * tau_vel * p28
+		p95 := p4 * tau_vel * c39
 		coef101 := c59 - p93 - p94 - p95
 		p96 := -p30
-		p97 := coef90 * c50 * p28
-		p98 := coef90 * c54 * p32
-		p99 := coef90 * c39 * c50
-		p100 := coef90 * c46 * c54
+		p97 := tau_vel * c50 * p28
+		p98 := tau_vel * c54 * p32
+		p99 := tau_vel * c39 * c50
+		p100 := tau_vel * c46 * c54
 		coef103 := p96 - p31 - p97 - p98 - p99 - p100 - c46
-		p101 := p9 * coef90 * p32
-		p102 := p9 * coef90 * c46
+		p101 := p9 * tau_vel * p32
+		p102 := p9 * tau_vel * c46
 		coef104 := c60 - p93 - p101 - p102
-		p103 := p4 * coef90 * p32
-		p104 := p4 * coef90 * c46
+		p103 := p4 * tau_vel * p32
+		p104 := p4 * tau_vel * c46
 		coef106 := c61 - p103 - p104
 		p105 := -p45
 		coef109 := p105 - p46
@@ -1376,7 +1585,7 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p183 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p182
 		p184 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p182
 		p185 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p182
-		p186 := coef32 * w
+		p186 := tau_p * w
 		p187 := c42 * p186
 		p188 := p183 + p187
 		p189 := c41 * p186
@@ -1529,7 +1738,7 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p336 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p335
 		p337 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p335
 		p338 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p335
-		p339 := coef90 * w
+		p339 := tau_vel * w
 		p340 := c42 * p339
 		p341 := c41 * p339
 		p342 := -p341
@@ -1546,32 +1755,68 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p353 := coef106 * w
 		p354 := coef109 * w
 		p355 := coef110 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (τ_vel partial(previous(vel)[1], x)² + τ_vel partial(previous(vel)[2], x)² − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[1], x) partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[2], x) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] partial(previous(vel)[1], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] partial(previous(vel)[2], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] partial(previous(vel)[1], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(vel)[2], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[1], x)) · vel[1] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], x)/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel previous(vel)[1] partial(previous(vel)[1], x) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], x)/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) previous(vel)[2] − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]² + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], x)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel previous(vel)[1] partial(previous(vel)[1], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], x)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x² · vel[1] · v_vel[1]             navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x² · vel[1] · v_vel[1]             navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂y² · v_vel[1]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[1]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂x² · v_vel[1]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²             navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²             navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²             navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²             navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		acc[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p120 + c42*p138 + c25*p155
 		acc[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p122 + c42*p140 + c25*p157
 		acc[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p124 + c42*p142 + c25*p159
@@ -1581,17 +1826,48 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[18] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p120 + k11*p138 + k10*p155
 		acc[19] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p122 + k11*p140 + k10*p157
 		acc[20] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p124 + k11*p142 + k10*p159
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_vel partial(previous(vel)[1], x) partial(previous(vel)[1], y) + τ_vel partial(previous(vel)[2], x) partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) partial(previous(vel)[1], x) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(vel)[2], x) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], x) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2] partial(previous(vel)[2], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], x) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] partial(previous(vel)[2], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[1], y)) · vel[2] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2] partial(previous(vel)[2], x)) · partial(vel[2], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], x)/100) · partial(vel[2], y, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[1] partial(previous(vel)[2], x)) · partial(vel[2], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], x)/100) · partial(vel[2], x, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel partial(previous(vel)[1], y) previous(vel)[2] − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], y)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[1], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:24]
-		//   - (−τ_vel partial(previous(vel)[1], y)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[2]/∂y² · v_vel[1]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[2]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[2]/∂x² · v_vel[1]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		acc[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p173 + c42*p179 + c25*p188
 		acc[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p175 + c42*p180 + c25*p190
 		acc[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p177 + c42*p181 + c25*p192
@@ -1601,13 +1877,17 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[21] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p173 + k11*p179 + k10*p188
 		acc[22] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p175 + k11*p180 + k10*p190
 		acc[23] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p177 + k11*p181 + k10*p192
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (τ_vel partial(previous(vel)[2], x)) · partial(p, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂x · v_vel[1]                           navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂p/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂p/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²        navier_stokes_nonlinear.fw:17
 		acc[6] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p199 + c42*p205 + c25*p210
 		acc[7] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p201 + c42*p206 + c25*p211
 		acc[8] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p203 + c42*p208 + c25*p213
@@ -1617,17 +1897,48 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[24] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p199 + k11*p205 + k10*p210
 		acc[25] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p201 + k11*p206 + k10*p211
 		acc[26] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p203 + k11*p208 + k10*p213
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_vel partial(previous(vel)[1], x) partial(previous(vel)[1], y) + τ_vel partial(previous(vel)[2], x) partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[1], y) partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[2], y) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] partial(previous(vel)[1], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] partial(previous(vel)[2], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] partial(previous(vel)[1], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(vel)[2], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[2], x)) · vel[1] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel partial(previous(vel)[1], y) previous(vel)[2]) · partial(vel[1], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], y)/100) · partial(vel[1], y, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[1], y)) · partial(vel[1], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[1], y)/100) · partial(vel[1], x, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2] partial(previous(vel)[2], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:24]
-		//   - (−τ_vel partial(previous(vel)[2], x)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[1] partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], x)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[1]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[1]/∂y² · v_vel[2]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[1]/∂x² · v_vel[2]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		acc[27] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p227 + c42*p237 + c25*p243
 		acc[28] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p229 + c42*p239 + c25*p244
 		acc[29] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p231 + c42*p241 + c25*p245
@@ -1637,32 +1948,68 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[45] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p227 + k11*p237 + k10*p243
 		acc[46] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p229 + k11*p239 + k10*p244
 		acc[47] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p231 + k11*p241 + k10*p245
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (τ_vel partial(previous(vel)[1], y)² + τ_vel partial(previous(vel)[2], y)² − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) partial(previous(vel)[1], y) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(vel)[2], y) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], y) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2] partial(previous(vel)[2], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], y) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] partial(previous(vel)[2], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[2], y)) · vel[2] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[2] partial(previous(vel)[2], y) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], y)/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[2], y) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], y)/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel previous(vel)[2] partial(previous(vel)[2], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], y)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]² + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], y)/100 + sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y² · vel[2] · v_vel[2]             navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y² · vel[2] · v_vel[2]             navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[2]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂y² · v_vel[2]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂x² · v_vel[2]   navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²             navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²             navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²             navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
+		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²             navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		acc[30] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p259 + c42*p275 + c25*p287
 		acc[31] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p261 + c42*p276 + c25*p289
 		acc[32] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p263 + c42*p277 + c25*p291
@@ -1672,13 +2019,17 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[48] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p259 + k11*p275 + k10*p287
 		acc[49] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p261 + k11*p276 + k10*p289
 		acc[50] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p263 + k11*p277 + k10*p291
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel partial(previous(vel)[2], y) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y)) · partial(p, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂y · v_vel[2]                           navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂p/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂p/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²        navier_stokes_nonlinear.fw:17
 		acc[33] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p298 + c42*p303 + c25*p307
 		acc[34] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p300 + c42*p305 + c25*p309
 		acc[35] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p302 + c42*p306 + c25*p310
@@ -1688,13 +2039,22 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[51] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p298 + k11*p303 + k10*p307
 		acc[52] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p300 + k11*p305 + k10*p309
 		acc[53] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p302 + k11*p306 + k10*p310
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		acc[54] += c42*p312 + c25*p322
 		acc[55] += c42*p313 + c25*p323
 		acc[56] += c42*p314 + c25*p324
@@ -1704,13 +2064,22 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[72] += k11*p312 + k10*p322
 		acc[73] += k11*p313 + k10*p323
 		acc[74] += k11*p314 + k10*p324
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		acc[57] += c42*p332 + c25*p336
 		acc[58] += c42*p333 + c25*p337
 		acc[59] += c42*p334 + c25*p338
@@ -1720,9 +2089,11 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[75] += k11*p332 + k10*p336
 		acc[76] += k11*p333 + k10*p337
 		acc[77] += k11*p334 + k10*p338
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:23]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:23]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
 		acc[60] += c42*p340 + c25*p344
 		acc[61] += c42*p342 + c25*p345
 		acc[62] += c42*p343 + c25*p347
@@ -1732,27 +2103,79 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[78] += k11*p340 + k10*p344
 		acc[79] += k11*p342 + k10*p345
 		acc[80] += k11*p343 + k10*p347
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[1], x) − partial(previous(vel)[1], y) previous(vel)[2] − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], x) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) partial(previous(vel)[2], x) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], x)/100 + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) partial(previous(vel)[2], x)/100 − τ_vel partial(previous(vel)[1], x) partial(previous(p), x) − τ_vel partial(previous(vel)[2], x) partial(previous(p), y) − partial(previous(p), x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), x) − partial(previous(vel)[1], y)/100 · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2])/100 − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/10000 + τ_vel partial(previous(p), x)/100 · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), x) − partial(previous(vel)[1], x)/100 · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2])/100 − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/10000 + τ_vel partial(previous(p), x)/100 · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x                    navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[1]          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂y²                  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂x²                  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		rhs[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p348 + c42*p349 + c25*p350
 		rhs[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p348 + k01*p349 + k00*p350
 		rhs[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p348 + k11*p349 + k10*p350
-		// At each quadrature point: rows 3..5 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[2], x) − previous(vel)[2] partial(previous(vel)[2], y) − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], y) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) partial(previous(vel)[2], y) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], y)/100 + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) partial(previous(vel)[2], y)/100 − τ_vel partial(previous(vel)[1], y) partial(previous(p), x) − τ_vel partial(previous(vel)[2], y) partial(previous(p), y) − partial(previous(p), y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), y) − partial(previous(vel)[2], y)/100 · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y))/100 − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/10000 + τ_vel partial(previous(p), y)/100 · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), y) − partial(previous(vel)[2], x)/100 · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y))/100 − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/10000 + τ_vel partial(previous(p), y)/100 · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂v_vel[2]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[2]          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂y²                  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂x²                  navier_stokes_nonlinear.fw:17
+		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		rhs[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p351 + c42*p352 + c25*p353
 		rhs[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p351 + k01*p352 + k00*p353
 		rhs[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p351 + k11*p352 + k10*p353
-		// At each quadrature point: rows 6..8 of the right-hand side:
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 − τ_vel partial(previous(p), y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 − τ_vel partial(previous(p), x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
 		rhs[6] += c42*p354 + c25*p355
 		rhs[7] += k01*p354 + k00*p355
 		rhs[8] += k11*p354 + k10*p355
@@ -1761,8 +2184,9 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	copy(b, rhs[:])
 }
 
-// fwNavierStokesNonlinearVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwNavierStokesNonlinearVMSLayout is the element layout of the vms kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwNavierStokesNonlinearVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -1772,9 +2196,9 @@ var fwNavierStokesNonlinearVMSLayout = kernel.Layout{
 	},
 }
 
-// NavierStokesNonlinearVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NavierStokesNonlinearVMSKernel is the generated cell kernel of the vms form
+// on triangle cells, quadrature degree 3 (4 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearVMSKernel struct{}
 
 var _ kernel.Kernel = NavierStokesNonlinearVMSKernel{}
@@ -1815,8 +2239,8 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	j11 := x[5] - x[1]
@@ -1868,38 +2292,48 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c57 := c29 * (-0.01)
 	c58 := c37 * (-0.01)
 	c59 := c46 * (-0.01)
-	c60 := detJ * (-0.16666666666666669)
-	c61 := detJ * 0.16666666666666669
+	c60 := detJ * (-(1.0 / 6))
+	c61 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
 	var rhs [9]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[54] += 0.16666666666666669 * (-j11 - c23)
-	acc[55] += 0.16666666666666669 * j11
-	acc[56] += 0.16666666666666669 * c23
-	acc[63] += 0.16666666666666669 * (-j11 - c23)
-	acc[64] += 0.16666666666666669 * j11
-	acc[65] += 0.16666666666666669 * c23
-	acc[72] += 0.16666666666666669 * (-j11 - c23)
-	acc[73] += 0.16666666666666669 * j11
-	acc[74] += 0.16666666666666669 * c23
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [navier_stokes_nonlinear.fw:17]
-	acc[57] += 0.16666666666666669 * (-c31 - j00)
-	acc[58] += 0.16666666666666669 * c31
-	acc[59] += 0.16666666666666669 * j00
-	acc[66] += 0.16666666666666669 * (-c31 - j00)
-	acc[67] += 0.16666666666666669 * c31
-	acc[68] += 0.16666666666666669 * j00
-	acc[75] += 0.16666666666666669 * (-c31 - j00)
-	acc[76] += 0.16666666666666669 * c31
-	acc[77] += 0.16666666666666669 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −partial(previous(vel)[1], x) − partial(previous(vel)[2], y) · test(p)   [navier_stokes_nonlinear.fw:18]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  navier_stokes_nonlinear.fw:17
+	acc[54] += (1.0 / 6) * (-j11 - c23)
+	acc[55] += (1.0 / 6) * j11
+	acc[56] += (1.0 / 6) * c23
+	acc[63] += (1.0 / 6) * (-j11 - c23)
+	acc[64] += (1.0 / 6) * j11
+	acc[65] += (1.0 / 6) * c23
+	acc[72] += (1.0 / 6) * (-j11 - c23)
+	acc[73] += (1.0 / 6) * j11
+	acc[74] += (1.0 / 6) * c23
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  navier_stokes_nonlinear.fw:17
+	acc[57] += (1.0 / 6) * (-c31 - j00)
+	acc[58] += (1.0 / 6) * c31
+	acc[59] += (1.0 / 6) * j00
+	acc[66] += (1.0 / 6) * (-c31 - j00)
+	acc[67] += (1.0 / 6) * c31
+	acc[68] += (1.0 / 6) * j00
+	acc[75] += (1.0 / 6) * (-c31 - j00)
+	acc[76] += (1.0 / 6) * c31
+	acc[77] += (1.0 / 6) * j00
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
+	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
 	rhs[6] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
 	rhs[7] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
 	rhs[8] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
@@ -1919,15 +2353,15 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p12 := math.Sqrt(p11)
 		p13 := 2.0 * c18 * p12
 		p14 := p13 + c20
-		p15 := 2.0 * diameter * p12
+		p15 := 2.0 * h * p12
 		p16 := 0.04 + p15
 		p17 := 1.0 / p16
-		coef100 := c17 * p17
-		p18 := coef100 * c30
-		p19 := coef100 * c29 * c38
-		p20 := coef100 * c42 * c46
+		tau_vel := c17 * p17
+		p18 := tau_vel * c30
+		p19 := tau_vel * c29 * c38
+		p20 := tau_vel * c42 * c46
 		p21 := fwNavierStokesNonlinearSign(p12)
-		p22 := coef100 * coef100
+		p22 := tau_vel * tau_vel
 		p23 := 1.0 + p12 - p21
 		p24 := 1.0 / p23
 		p25 := 2.0 * c18 * p4 * c29 * p21 * p22 * p24 * c50
@@ -1943,20 +2377,20 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p35 := p33 + p34
 		p36 := 2.0 * c18 * p4 * c42 * p21 * p22 * p24 * p35
 		coef0 := c29 - p18 + p19 - p20 + p25 + p26 + p27 + p31 + p32 + p36
-		p37 := coef100 * p35
+		p37 := tau_vel * p35
 		p38 := -p37
-		p39 := coef100 * c54
-		p40 := p9 * coef100 * c38
-		p41 := p9 * coef100 * c29
+		p39 := tau_vel * c54
+		p40 := p9 * tau_vel * c38
+		p41 := p9 * tau_vel * c29
 		coef1 := p9 - p37 - p39 + p40 - p41
-		p42 := coef100 * c38
-		p43 := coef100 * c29
-		p44 := p4 * coef100 * c38
-		p45 := p4 * coef100 * c29
+		p42 := tau_vel * c38
+		p43 := tau_vel * c29
+		p44 := p4 * tau_vel * c38
+		p45 := p4 * tau_vel * c29
 		coef3 := p4 + p44 - p45
-		p46 := coef100 * c38 * c42
-		p47 := coef100 * c29 * c42
-		p48 := coef100 * c37 * c42
+		p46 := tau_vel * c38 * c42
+		p47 := tau_vel * c29 * c42
+		p48 := tau_vel * c37 * c42
 		p49 := 2.0 * c18 * p9 * c29 * p21 * p22 * p24 * c50
 		p50 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * c54
 		p51 := c18 * p9 * c38 * p21 * p22 * p24 * c50 * (-2.0)
@@ -1964,65 +2398,65 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p53 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p30
 		p54 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * p35
 		coef5 := c42 + p46 - p47 - p48 + p49 + p50 + p51 + p52 + p53 + p54
-		p55 := coef100 * p30
-		p56 := coef100 * c50
-		p57 := p9 * coef100 * c42
+		p55 := tau_vel * p30
+		p56 := tau_vel * c50
+		p57 := p9 * tau_vel * c42
 		coef6 := p55 + p56 - p57
-		p58 := coef100 * c42
-		p59 := p4 * coef100 * c42
+		p58 := tau_vel * c42
+		p59 := p4 * tau_vel * c42
 		coef11 := 1.0 + p42 - p43
 		p60 := c50 + p28 + p29
-		p61 := coef100 * p60
-		p62 := coef100 * c46 * p61
+		p61 := tau_vel * p60
+		p62 := tau_vel * c46 * p61
 		p63 := c54 + p33 + p34
-		p64 := coef100 * p63
-		p65 := coef100 * c29 * p64
+		p64 := tau_vel * p63
+		p65 := tau_vel * c29 * p64
 		p66 := 2.0 * c18 * p4 * p21 * p22 * p24 * p61 * p63
 		p67 := 2.0 * c18 * p4 * p21 * p22 * p24 * p60 * p64
 		p68 := c18 * p4 * p9 * p21 * p22 * p24 * c50 * (-2.0)
 		p69 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p30
 		coef12 := p41 - p62 - p65 + p66 + p67 + p68 + p69
-		p70 := p10 * coef100
-		p71 := p9 * coef100 * p64
+		p70 := p10 * tau_vel
+		p71 := p9 * tau_vel * p64
 		coef13 := 0.01 + p70 - p71
-		p72 := coef100 * p64
-		coef96 := p9 * coef100
-		p73 := p4 * coef100 * p64
-		p74 := p4 * p9 * coef100
+		coef96 := p9 * tau_vel
+		p72 := tau_vel * p64
+		p73 := p4 * tau_vel * p64
+		p74 := p4 * p9 * tau_vel
 		coef15 := p74 - p73
-		p75 := coef100 * c37 * p61
-		p76 := coef100 * c42 * p64
+		p75 := tau_vel * c37 * p61
+		p76 := tau_vel * c42 * p64
 		p77 := c18 * p10 * p21 * p22 * p24 * c50 * (-2.0)
 		p78 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p30
 		p79 := 2.0 * c18 * p9 * p21 * p22 * p24 * p61 * p63
 		p80 := 2.0 * c18 * p9 * p21 * p22 * p24 * p60 * p64
 		coef17 := p55 + p56 + p57 - p75 - p76 + p77 + p78 + p79 + p80
-		p81 := p9 * coef100 * p61
-		p82 := coef100 * p61
-		p83 := p4 * coef100 * p61
+		p81 := p9 * tau_vel * p61
+		p82 := tau_vel * p61
+		p83 := p4 * tau_vel * p61
 		coef23 := coef96 - p72
-		coef98 := p4 * coef100
-		p84 := coef100 * c29 * (-2.0) * p61
-		p85 := diameter * p4 * 0.5 * c38 * p21 * p24
+		coef98 := p4 * tau_vel
+		p84 := tau_vel * c29 * (-2.0) * p61
+		p85 := h * p4 * 0.5 * c38 * p21 * p24
 		p86 := c18 * p5 * p21 * p22 * p24 * c50 * (-2.0)
 		p87 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p30
 		p88 := c18 * p4 * p21 * p22 * p24 * p60 * p61 * 4.0
 		coef31 := p45 + p55 + p56 + p84 + p85 + p86 + p87 + p88
-		p89 := p9 * coef100 * (-2.0) * p61
+		p89 := p9 * tau_vel * (-2.0) * p61
 		coef32 := p74 + p89
-		coef37 := c17 * p14 * 0.25
-		p90 := p5 * coef100
-		p91 := p4 * coef100 * (-2.0) * p61
-		coef34 := 0.01 + coef37 + p90 + p91
-		p92 := coef100 * c42 * (-2.0) * p61
-		p93 := diameter * p9 * 0.5 * c38 * p21 * p24
+		p90 := p5 * tau_vel
+		p91 := p4 * tau_vel * (-2.0) * p61
+		tau_p := c17 * p14 * 0.25
+		coef34 := 0.01 + p90 + p91 + tau_p
+		p92 := tau_vel * c42 * (-2.0) * p61
+		p93 := h * p9 * 0.5 * c38 * p21 * p24
 		p94 := c18 * p9 * p21 * p22 * p24 * p60 * p61 * 4.0
 		coef36 := p59 + p68 + p69 + p92 + p93 + p94
-		p95 := coef100 * (-2.0) * p61
+		p95 := tau_vel * (-2.0) * p61
 		coef38 := coef98 + p95
-		p96 := coef100 * c38 * c46
-		p97 := coef100 * c29 * c46
-		p98 := coef100 * c37 * c46
+		p96 := tau_vel * c38 * c46
+		p97 := tau_vel * c29 * c46
+		p98 := tau_vel * c37 * c46
 		p99 := 2.0 * c18 * p4 * c46 * p21 * p22 * p24 * c50
 		p100 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * c54
 		p101 := c18 * p4 * c38 * p21 * p22 * p24 * c54 * (-2.0)
@@ -2030,12 +2464,12 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p103 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * p35
 		p104 := c18 * p4 * c38 * p21 * p22 * p24 * (-2.0) * p35
 		coef46 := c46 + p96 - p97 - p98 + p99 + p100 + p101 + p102 + p103 + p104
-		p105 := p9 * coef100 * c46
-		p106 := coef100 * c46
-		p107 := p4 * coef100 * c46
+		p105 := p9 * tau_vel * c46
+		p106 := tau_vel * c46
+		p107 := p4 * tau_vel * c46
 		coef49 := p37 + p39 - p107
-		p108 := coef100 * c55
-		p109 := coef100 * c37 * c38
+		p108 := tau_vel * c55
+		p109 := tau_vel * c37 * c38
 		p110 := 2.0 * c18 * p9 * c46 * p21 * p22 * p24 * c50
 		p111 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * c54
 		p112 := c18 * p9 * c38 * p21 * p22 * p24 * c54 * (-2.0)
@@ -2043,28 +2477,28 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p114 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * p35
 		p115 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p35
 		coef51 := c37 - p20 - p108 + p109 + p110 + p111 + p112 + p113 + p114 + p115
-		p116 := p9 * coef100 * c37
+		p116 := p9 * tau_vel * c37
 		coef52 := p9 + p40 - p116
-		p117 := coef100 * c37
+		p117 := tau_vel * c37
 		p118 := -p55
-		p119 := p4 * coef100 * c37
+		p119 := p4 * tau_vel * c37
 		coef54 := p4 + p44 - p55 - p56 - p119
 		coef56 := 1.0 + p42 - p117
-		p120 := coef100 * c46 * (-2.0) * p64
+		p120 := tau_vel * c46 * (-2.0) * p64
 		p121 := c18 * p4 * p21 * p22 * p24 * p63 * p64 * 4.0
 		p122 := c18 * p4 * p9 * p21 * p22 * p24 * c54 * (-2.0)
 		p123 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p35
 		coef58 := p85 + p105 + p120 + p121 + p122 + p123
-		p124 := coef100 * c37 * (-2.0) * p64
+		p124 := tau_vel * c37 * (-2.0) * p64
 		p125 := c18 * p10 * p21 * p22 * p24 * c54 * (-2.0)
 		p126 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p35
 		p127 := c18 * p9 * p21 * p22 * p24 * p63 * p64 * 4.0
 		coef60 := p37 + p39 + p93 + p116 + p124 + p125 + p126 + p127
-		p128 := p9 * coef100 * (-2.0) * p64
-		coef61 := 0.01 + p70 + coef37 + p128
-		p129 := p4 * coef100 * (-2.0) * p64
+		p128 := p9 * tau_vel * (-2.0) * p64
+		coef61 := 0.01 + p70 + tau_p + p128
+		p129 := p4 * tau_vel * (-2.0) * p64
 		coef63 := p74 + p129
-		p130 := coef100 * (-2.0) * p64
+		p130 := tau_vel * (-2.0) * p64
 		coef65 := coef96 + p130
 		p131 := c18 * p5 * p21 * p22 * p24 * c54 * (-2.0)
 		p132 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p35
@@ -2085,36 +2519,36 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p139 := c18 * p9 * p21 * p22 * p24 * c50 * (-2.0)
 		p140 := c18 * p9 * p21 * p22 * p24 * (-2.0) * p30
 		coef106 := p58 + p139 + p140
-		p141 := coef100 * c38 * p30
-		p142 := coef100 * c29 * p30
-		p143 := coef100 * c42 * p35
-		p144 := coef100 * c38 * c50
-		p145 := coef100 * c29 * c50
-		p146 := coef100 * c42 * c54
+		p141 := tau_vel * c38 * p30
+		p142 := tau_vel * c29 * p30
+		p143 := tau_vel * c42 * p35
+		p144 := tau_vel * c38 * c50
+		p145 := tau_vel * c29 * c50
+		p146 := tau_vel * c42 * c54
 		coef108 := p142 - p28 - p29 - p141 + p143 - p144 + p145 + p146 - c50
-		p147 := p61 * p64
-		p148 := p9 * coef100 * p30
-		p149 := p9 * coef100 * c50
-		coef109 := p147 - p148 - p149 + c56
-		p150 := p61 * p61
-		p151 := c38 * coef37
-		p152 := p4 * coef100 * p30
-		p153 := p4 * coef100 * c50
-		coef111 := p150 - p151 - p152 - p153 + c57
-		p154 := coef100 * c46 * p30
-		p155 := coef100 * c38 * p35
-		p156 := coef100 * c37 * p35
-		p157 := coef100 * c38 * c54
-		p158 := coef100 * c46 * c50
-		p159 := coef100 * c37 * c54
+		p147 := p9 * tau_vel * p30
+		p148 := p9 * tau_vel * c50
+		p149 := p61 * p64
+		coef109 := c56 - p147 - p148 + p149
+		p150 := c38 * tau_p
+		p151 := p4 * tau_vel * p30
+		p152 := p4 * tau_vel * c50
+		p153 := p61 * p61
+		coef111 := c57 - p150 - p151 - p152 + p153
+		p154 := tau_vel * c46 * p30
+		p155 := tau_vel * c38 * p35
+		p156 := tau_vel * c37 * p35
+		p157 := tau_vel * c38 * c54
+		p158 := tau_vel * c46 * c50
+		p159 := tau_vel * c37 * c54
 		coef113 := p154 - p33 - p34 - p155 + p156 - p157 + p158 + p159 - c54
-		p160 := p64 * p64
-		p161 := p9 * coef100 * p35
-		p162 := p9 * coef100 * c54
-		coef114 := p160 - p151 - p161 - p162 + c58
-		p163 := p4 * coef100 * p35
-		p164 := p4 * coef100 * c54
-		coef116 := p147 - p163 - p164 + c59
+		p160 := p9 * tau_vel * p35
+		p161 := p9 * tau_vel * c54
+		p162 := p64 * p64
+		coef114 := c58 - p150 - p160 - p161 + p162
+		p163 := p4 * tau_vel * p35
+		p164 := p4 * tau_vel * c54
+		coef116 := p149 - p163 - p164 + c59
 		coef119 := p38 - p39
 		coef120 := p118 - p56
 		w := detJ * fwNavierStokesNonlinearVMSCellWeights[q]
@@ -2212,7 +2646,7 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p256 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p255
 		p257 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p255
 		p258 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p255
-		p259 := coef37 * w
+		p259 := tau_p * w
 		p260 := c33 * p259
 		p261 := p256 + p260
 		p262 := c32 * p259
@@ -2413,7 +2847,7 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p457 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p456
 		p458 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p456
 		p459 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p456
-		p460 := coef100 * w
+		p460 := tau_vel * w
 		p461 := c33 * p460
 		p462 := c32 * p460
 		p463 := -p462
@@ -2430,32 +2864,91 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p474 := coef116 * w
 		p475 := coef119 * w
 		p476 := coef120 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (−τ_vel partial(previous(vel)[1], x)² + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(vel)[1], x) − τ_vel partial(previous(vel)[1], y) partial(previous(vel)[2], x) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[1], x) partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[1], y) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] partial(previous(vel)[1], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] partial(previous(vel)[1], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] partial(previous(vel)[1], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(vel)[1], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[1], x)) · vel[1] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 − τ_vel partial(previous(p), y) + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] − τ_vel partial(previous(vel)[1], x) previous(vel)[2] + previous(vel)[2]) · partial(vel[1], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100 + τ_vel partial(previous(vel)[1], x)/100) · partial(vel[1], y, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] − τ_vel previous(vel)[1] partial(previous(vel)[1], x) + previous(vel)[1]) · partial(vel[1], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100 + τ_vel partial(previous(vel)[1], x)/100) · partial(vel[1], x, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] partial(previous(vel)[2], x) + τ_vel vel′[2] partial(previous(vel)[1], x) + τ_vel partial(previous(vel)[1], x) previous(vel)[2] − 2 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]² + τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], y, y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/100 − τ_vel previous(vel)[2]/100) · partial(vel[1], x, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + 2 τ_vel vel′[1] partial(previous(vel)[1], x) + τ_vel previous(vel)[1] partial(previous(vel)[1], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 4 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/50 − τ_vel previous(vel)[1]/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[1]² + 2 τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/50 − τ_vel previous(vel)[1]/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[1], y) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x² · vel[1] · v_vel[1]            navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[1]/∂y · v_vel[1]              navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂y² · v_vel[1]    navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂x² · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂x² · v_vel[1]    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/50 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/50 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²            navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		acc[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p178 + c33*p196 + c25*p214
 		acc[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p180 + c33*p198 + c25*p216
 		acc[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p182 + c33*p200 + c25*p218
@@ -2465,21 +2958,63 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[18] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p178 + k11*p196 + k10*p214
 		acc[19] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p180 + k11*p198 + k10*p216
 		acc[20] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p182 + k11*p200 + k10*p218
-		// At each quadrature point: rows 0..2, columns 3..5:
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(vel)[1], y) − τ_vel partial(previous(vel)[1], x) partial(previous(vel)[1], y) − τ_vel partial(previous(vel)[1], y) partial(previous(vel)[2], y) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) partial(previous(vel)[1], x) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) partial(previous(vel)[1], y) previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], x) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) partial(previous(vel)[1], y) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], x) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) partial(previous(vel)[1], y) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[1], y)) · vel[2] · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) − τ_vel partial(previous(vel)[1], y) previous(vel)[2]) · partial(vel[2], y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y)/100) · partial(vel[2], y, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[1] partial(previous(vel)[1], y)) · partial(vel[2], x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y)/100) · partial(vel[2], x, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 + τ_vel partial(previous(p), x) + τ_vel vel′[1] partial(previous(vel)[2], y) + τ_vel vel′[2] partial(previous(vel)[1], y) + τ_vel partial(previous(vel)[1], y) previous(vel)[2] − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/100) · partial(vel[2], y, y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] previous(vel)[1]) · partial(vel[2], x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/100) · partial(vel[2], x, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[1] partial(previous(vel)[1], y) + τ_vel previous(vel)[1] partial(previous(vel)[1], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 4 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:24]
-		//   - (τ_vel partial(previous(vel)[1], y)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]                    navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[2]/∂y · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[2]/∂y² · v_vel[1]    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[2]/∂x² · v_vel[1]    navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		acc[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p232 + c33*p250 + c25*p261
 		acc[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p234 + c33*p252 + c25*p263
 		acc[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p236 + c33*p254 + c25*p265
@@ -2489,14 +3024,21 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[21] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p232 + k11*p250 + k10*p261
 		acc[22] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p234 + k11*p252 + k10*p263
 		acc[23] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p236 + k11*p254 + k10*p265
-		// At each quadrature point: rows 0..2, columns 6..8:
-		//   - (−τ_vel partial(previous(vel)[1], y)) · partial(p, y) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel partial(previous(vel)[1], x) + 1) · partial(p, x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1]) · partial(p, y) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, x) · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, x) · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂x · v_vel[1]                                        navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂p/∂y · v_vel[1]              navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂p/∂x · v_vel[1]              navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] · ∂p/∂y · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] · ∂p/∂x · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²                      navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[1] · ∂p/∂x · ∂v_vel[1]/∂x                  navier_stokes_nonlinear.fw:17
+		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²                      navier_stokes_nonlinear.fw:17
 		acc[6] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p273 + c33*p285 + c25*p291
 		acc[7] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p275 + c33*p287 + c25*p292
 		acc[8] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p277 + c33*p289 + c25*p294
@@ -2506,21 +3048,63 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[24] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p273 + k11*p285 + k10*p291
 		acc[25] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p275 + k11*p287 + k10*p292
 		acc[26] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p277 + k11*p289 + k10*p294
-		// At each quadrature point: rows 3..5, columns 0..2:
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(vel)[2], x) − τ_vel partial(previous(vel)[1], x) partial(previous(vel)[2], x) − τ_vel partial(previous(vel)[2], x) partial(previous(vel)[2], y) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[2], x) partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(vel)[2], y) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1] partial(previous(vel)[2], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] partial(previous(vel)[2], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] partial(previous(vel)[2], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] partial(previous(vel)[2], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[2], x)) · vel[1] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel previous(vel)[2] partial(previous(vel)[2], x)) · partial(vel[1], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[2], x)/100) · partial(vel[1], y, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) − τ_vel previous(vel)[1] partial(previous(vel)[2], x)) · partial(vel[1], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[2], x)/100) · partial(vel[1], x, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[2] partial(previous(vel)[2], x) + τ_vel previous(vel)[2] partial(previous(vel)[2], x) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 4 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:24]
-		//   - (τ_vel partial(previous(vel)[2], x)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + τ_vel vel′[1] partial(previous(vel)[2], x) + τ_vel vel′[2] partial(previous(vel)[1], x) + τ_vel previous(vel)[1] partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[2] previous(vel)[2]) · partial(vel[1], y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/100) · partial(vel[1], y, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[2] previous(vel)[1]) · partial(vel[1], x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/100) · partial(vel[1], x, x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[2], x)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[1]/∂y² · v_vel[2]    navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[1]/∂x · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[1]/∂x² · v_vel[2]    navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		acc[27] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p308 + c33*p318 + c25*p336
 		acc[28] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p310 + c33*p320 + c25*p338
 		acc[29] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p312 + c33*p322 + c25*p340
@@ -2530,32 +3114,91 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[45] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p308 + k11*p318 + k10*p336
 		acc[46] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p310 + k11*p320 + k10*p338
 		acc[47] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p312 + k11*p322 + k10*p340
-		// At each quadrature point: rows 3..5, columns 3..5:
-		//   - (−τ_vel partial(previous(vel)[2], y)² + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(vel)[2], y) − τ_vel partial(previous(vel)[1], y) partial(previous(vel)[2], x) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(vel)[2], x) partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(vel)[2], y) partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2] partial(previous(vel)[2], x)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2] partial(previous(vel)[2], y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2] partial(previous(vel)[2], x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] partial(previous(vel)[2], y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + partial(previous(vel)[2], y)) · vel[2] · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2] − τ_vel previous(vel)[2] partial(previous(vel)[2], y) + previous(vel)[2]) · partial(vel[2], y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100 + τ_vel partial(previous(vel)[2], y)/100) · partial(vel[2], y, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 − τ_vel partial(previous(p), x) + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[1] − τ_vel previous(vel)[1] partial(previous(vel)[2], y) + previous(vel)[1]) · partial(vel[2], x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y))/100 + τ_vel partial(previous(vel)[2], y)/100) · partial(vel[2], x, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 + τ_vel partial(previous(p), y) + 2 τ_vel vel′[2] partial(previous(vel)[2], y) + τ_vel previous(vel)[2] partial(previous(vel)[2], y) + h sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) previous(vel)[2]/(2 (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2]² partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]²/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]²/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 4 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_p + τ_vel previous(vel)[2]² + 2 τ_vel vel′[2] previous(vel)[2] + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/50 − τ_vel previous(vel)[2]/100) · partial(vel[2], y, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[2] previous(vel)[1] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[2]/50 − τ_vel previous(vel)[2]/100) · partial(vel[2], x, x) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[2], y)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] partial(previous(vel)[2], y) + τ_vel vel′[2] partial(previous(vel)[1], y) + τ_vel previous(vel)[1] partial(previous(vel)[2], y) − 2 vel′[1] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y) − partial(previous(vel)[2], x, x)/100 − partial(previous(vel)[2], y, y)/100 + partial(previous(p), y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 vel′[2] sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2] − partial(previous(vel)[1], x, x)/100 − partial(previous(vel)[1], y, y)/100 + partial(previous(p), x)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1] previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] previous(vel)[2] + τ_vel previous(vel)[1] previous(vel)[2]) · partial(vel[2], y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]² + τ_vel vel′[1] previous(vel)[1] + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel vel′[1]/100 − τ_vel previous(vel)[1]/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[2], y)/100 − sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(5000 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]/100) · partial(vel[2], y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
+		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y² · vel[2] · v_vel[2]            navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂y² · v_vel[2]    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[2]/∂x · v_vel[2]              navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂x² · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂x² · v_vel[2]    navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/50 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[2]/50 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²            navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		acc[30] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p354 + c33*p372 + c25*p390
 		acc[31] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p356 + c33*p374 + c25*p392
 		acc[32] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p358 + c33*p376 + c25*p394
@@ -2565,14 +3208,21 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[48] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p354 + k11*p372 + k10*p390
 		acc[49] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p356 + k11*p374 + k10*p392
 		acc[50] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p358 + k11*p376 + k10*p394
-		// At each quadrature point: rows 3..5, columns 6..8:
-		//   - (τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel partial(previous(vel)[2], y) + 1) · partial(p, y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel partial(previous(vel)[2], x)) · partial(p, x) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - (2 τ_vel vel′[2] + τ_vel previous(vel)[2]) · partial(p, y) · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[1] + τ_vel previous(vel)[1]) · partial(p, y) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel vel′[2]) · partial(p, x) · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5, columns 6..8, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  ∂p/∂y · v_vel[2]                                        navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂p/∂y · v_vel[2]              navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂p/∂x · v_vel[2]              navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
+		//	  2 τ_vel vel′[2] · ∂p/∂y · ∂v_vel[2]/∂y                  navier_stokes_nonlinear.fw:17
+		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²                      navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] · ∂p/∂y · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] · ∂p/∂x · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
+		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²                      navier_stokes_nonlinear.fw:17
 		acc[33] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p402 + c33*p408 + c25*p419
 		acc[34] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p404 + c33*p410 + c25*p421
 		acc[35] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p406 + c33*p411 + c25*p423
@@ -2582,13 +3232,22 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[51] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p402 + k11*p408 + k10*p419
 		acc[52] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p404 + k11*p410 + k10*p421
 		acc[53] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p406 + k11*p411 + k10*p423
-		// At each quadrature point: rows 6..8, columns 0..2:
-		//   - (τ_vel partial(previous(vel)[2], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], x) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[1] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[1] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[1], y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[1], x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		acc[54] += c33*p425 + c25*p441
 		acc[55] += c33*p426 + c25*p443
 		acc[56] += c33*p427 + c25*p445
@@ -2598,13 +3257,22 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[72] += k11*p425 + k10*p441
 		acc[73] += k11*p426 + k10*p443
 		acc[74] += k11*p427 + k10*p445
-		// At each quadrature point: rows 6..8, columns 3..5:
-		//   - (τ_vel partial(previous(vel)[2], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), y)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[2]) · partial(vel[2], y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel previous(vel)[1]) · partial(vel[2], x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - (τ_vel partial(previous(vel)[1], y) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) previous(vel)[2] partial(previous(p), x)/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) + sign(√(previous(vel)[1]² + previous(vel)[2]²)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/(50 h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1)) − 2 sign(√(previous(vel)[1]² + previous(vel)[2]²)) (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2]/(h (2 √(previous(vel)[1]² + previous(vel)[2]²)/h + 1/(25 h²))² (−sign(√(previous(vel)[1]² + previous(vel)[2]²)) + √(previous(vel)[1]² + previous(vel)[2]²) + 1))) · vel[2] · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8, columns 3..5, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
+		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		acc[57] += c33*p453 + c25*p457
 		acc[58] += c33*p454 + c25*p458
 		acc[59] += c33*p455 + c25*p459
@@ -2614,9 +3282,11 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[75] += k11*p453 + k10*p457
 		acc[76] += k11*p454 + k10*p458
 		acc[77] += k11*p455 + k10*p459
-		// At each quadrature point: rows 6..8, columns 6..8:
-		//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:23]
-		//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:23]
+		// Rows 6..8, columns 6..8, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
+		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
 		acc[60] += c33*p461 + c25*p465
 		acc[61] += c33*p463 + c25*p466
 		acc[62] += c33*p464 + c25*p468
@@ -2626,27 +3296,91 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		acc[78] += k11*p461 + k10*p465
 		acc[79] += k11*p463 + k10*p466
 		acc[80] += k11*p464 + k10*p468
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[1], x) − partial(previous(vel)[1], y) previous(vel)[2] − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[1], x) + τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) partial(previous(vel)[1], y) + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 − τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(p), x) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[1], x)/100 − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) partial(previous(vel)[1], y)/100 + τ_vel partial(previous(vel)[1], x) partial(previous(p), x) + τ_vel partial(previous(vel)[1], y) partial(previous(p), y) − partial(previous(p), x) · test(vel)[1]   [navier_stokes_nonlinear.fw:17]
-		//   - vel′[1] vel′[2] − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[2] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), x) − partial(previous(vel)[1], y)/100 · partial(test(vel)[1], y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2])/100 + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/10000 − τ_vel partial(previous(p), x)/100 · partial(test(vel)[1], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - vel′[1]² − τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) previous(vel)[1] + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), x) − partial(previous(vel)[1], x)/100 · partial(test(vel)[1], x)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2])/100 + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/10000 − τ_vel partial(previous(p), x)/100 · partial(test(vel)[1], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · v_vel[1]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x                    navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]           navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[1]           navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂y²                 navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂x²                 navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  vel′[1] vel′[2] · ∂v_vel[1]/∂y                          navier_stokes_nonlinear.fw:17
+		//	  vel′[1]² · ∂v_vel[1]/∂x                                 navier_stokes_nonlinear.fw:17
 		rhs[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p469 + c33*p470 + c25*p471
 		rhs[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p469 + k01*p470 + k00*p471
 		rhs[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p469 + k11*p470 + k10*p471
-		// At each quadrature point: rows 3..5 of the right-hand side:
-		//   - −previous(vel)[1] partial(previous(vel)[2], x) − previous(vel)[2] partial(previous(vel)[2], y) + τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) partial(previous(vel)[2], x) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) + τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) partial(previous(vel)[2], y) + τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 − τ_vel (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) partial(previous(p), y) − τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y)) partial(previous(vel)[2], x)/100 − τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) partial(previous(vel)[2], y)/100 + τ_vel partial(previous(vel)[2], x) partial(previous(p), x) + τ_vel partial(previous(vel)[2], y) partial(previous(p), y) − partial(previous(p), y) · test(vel)[2]   [navier_stokes_nonlinear.fw:17]
-		//   - vel′[2]² − τ_p (partial(previous(vel)[1], x) + partial(previous(vel)[2], y)) − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[2] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[2]/100 − τ_vel previous(vel)[2] partial(previous(p), y) − partial(previous(vel)[2], y)/100 · partial(test(vel)[2], y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y))/100 + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/10000 − τ_vel partial(previous(p), y)/100 · partial(test(vel)[2], y, y)   [navier_stokes_nonlinear.fw:17]
-		//   - vel′[1] vel′[2] − τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) previous(vel)[1] + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y)) previous(vel)[1]/100 − τ_vel previous(vel)[1] partial(previous(p), y) − partial(previous(vel)[2], x)/100 · partial(test(vel)[2], x)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y))/100 + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/10000 − τ_vel partial(previous(p), y)/100 · partial(test(vel)[2], x, x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+		//	  −vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
+		//	  −∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]                                 navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂v_vel[2]/∂y                    navier_stokes_nonlinear.fw:17
+		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[2]           navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]           navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂y²                 navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂x²                 navier_stokes_nonlinear.fw:17
+		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
+		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
+		//	  vel′[2]² · ∂v_vel[2]/∂y                                 navier_stokes_nonlinear.fw:17
+		//	  vel′[1] vel′[2] · ∂v_vel[2]/∂x                          navier_stokes_nonlinear.fw:17
 		rhs[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p472 + c33*p473 + c25*p474
 		rhs[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p472 + k01*p473 + k00*p474
 		rhs[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p472 + k11*p473 + k10*p474
-		// At each quadrature point: rows 6..8 of the right-hand side:
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[2], x) + previous(vel)[2] partial(previous(vel)[2], y)) + τ_vel (partial(previous(vel)[2], x, x) + partial(previous(vel)[2], y, y))/100 − τ_vel partial(previous(p), y) · partial(test(p), y)   [navier_stokes_nonlinear.fw:17]
-		//   - −τ_vel (previous(vel)[1] partial(previous(vel)[1], x) + partial(previous(vel)[1], y) previous(vel)[2]) + τ_vel (partial(previous(vel)[1], x, x) + partial(previous(vel)[1], y, y))/100 − τ_vel partial(previous(p), x) · partial(test(p), x)   [navier_stokes_nonlinear.fw:17]
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
 		rhs[6] += c33*p475 + c25*p476
 		rhs[7] += k01*p475 + k00*p476
 		rhs[8] += k11*p475 + k10*p476
@@ -2655,8 +3389,8 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	copy(b, rhs[:])
 }
 
-// fwNavierStokesNonlinearFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwNavierStokesNonlinearFillNaN fills A and b with NaN: the cell has a
+// non-positive Jacobian determinant (as the interpreted kernels report it).
 func fwNavierStokesNonlinearFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
@@ -2666,6 +3400,8 @@ func fwNavierStokesNonlinearFillNaN(A, b []float64) {
 	}
 }
 
+// fwNavierStokesNonlinearSign is the sign of x: 1, −1, or x itself for ±0 and
+// NaN.
 func fwNavierStokesNonlinearSign(x float64) float64 {
 	switch {
 	case x > 0:
@@ -2676,35 +3412,35 @@ func fwNavierStokesNonlinearSign(x float64) float64 {
 	return x
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwNavierStokesNonlinearGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwNavierStokesNonlinearGalerkinCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwNavierStokesNonlinearGalerkinCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwNavierStokesNonlinearSUPGCellBasis1Val   = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwNavierStokesNonlinearSUPGCellWeights  = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwNavierStokesNonlinearSUPGCellWeights  = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwNavierStokesNonlinearGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwNavierStokesNonlinearGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwNavierStokesNonlinearGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwNavierStokesNonlinearVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwNavierStokesNonlinearVMSCellWeights = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwNavierStokesNonlinearVMSCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 )

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("f26ef1aebce2ea9d8bdcad6a59b62f7b", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NonlinearDiffusionGalerkinKernel{} },
+	compiled.Register("34ccdf163e2487edad32125cbd708895", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NonlinearDiffusionGalerkinKernel{}
+		},
 	})
-	compiled.Register("b2fbb5daff5ef5215a8ec764102e77fd", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NonlinearDiffusionSUPGKernel{} },
+	compiled.Register("a1ffc34e544273a744ccfcf68150c373", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NonlinearDiffusionSUPGKernel{}
+		},
 	})
-	compiled.Register("adc4b5a5afa26ff3c102f1d44e164924", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return NonlinearDiffusionGLSKernel{} },
+	compiled.Register("03d6dccc66adfc55be0c86fc34d1c483", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return NonlinearDiffusionGLSKernel{}
+		},
 	})
-	compiled.Register("335a8c057fe5009c2da3da83f7ccfe2b", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  2,
-		NewCell: func() kernel.Kernel { return NonlinearDiffusionVMSKernel{} },
+	compiled.Register("44c6cbc9761b7078131414d24c65e4fe", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 2,
+		NewCell: func() kernel.Kernel {
+			return NonlinearDiffusionVMSKernel{}
+		},
 	})
 }
 
-// fwNonlinearDiffusionGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwNonlinearDiffusionGalerkinLayout is the element layout of the galerkin
+// kernels: triangle cells, fields in local dof order (field-major, then
+// component, then element node); 3 local dofs.
 var fwNonlinearDiffusionGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -49,9 +58,9 @@ var fwNonlinearDiffusionGalerkinLayout = kernel.Layout{
 	},
 }
 
-// NonlinearDiffusionGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NonlinearDiffusionGalerkinKernel is the generated cell kernel of the
+// galerkin form on triangle cells, quadrature degree 2 (3 points). It
+// implements kernel.Kernel, keeps no state and does not allocate.
 type NonlinearDiffusionGalerkinKernel struct{}
 
 var _ kernel.Kernel = NonlinearDiffusionGalerkinKernel{}
@@ -102,18 +111,21 @@ func (NonlinearDiffusionGalerkinKernel) Cell(in *kernel.CellInput, A, b []float6
 	c13 := pv[2] * c9
 	c14 := c11 + c12 - c13
 	c15 := detJ * 10.0
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 10 · test(u)   [nonlinear_diffusion.fw:13]
-	rhs[0] += 0.16666666666666669 * c15
-	rhs[1] += 0.16666666666666669 * c15
-	rhs[2] += 0.16666666666666666 * c15
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+	//	  10 · v  nonlinear_diffusion.fw:13
+	rhs[0] += (1.0 / 6) * c15
+	rhs[1] += (1.0 / 6) * c15
+	rhs[2] += (1.0 / 6) * c15
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionGalerkinCellBasis1Val[q][0]
@@ -153,11 +165,15 @@ func (NonlinearDiffusionGalerkinKernel) Cell(in *kernel.CellInput, A, b []float6
 		p30 := p24 - p29
 		p31 := coef5 * w
 		p32 := coef6 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (2 previous(u) partial(previous(u), y)) · u · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 1) · partial(u, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (2 previous(u) partial(previous(u), x)) · u · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 1) · partial(u, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y           nonlinear_diffusion.fw:13
+		//	  ∂u/∂y · ∂v/∂y                      nonlinear_diffusion.fw:13
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x           nonlinear_diffusion.fw:13
+		//	  ∂u/∂x · ∂v/∂x                      nonlinear_diffusion.fw:13
 		acc[0] += c4*p16 + c10*p26
 		acc[1] += c4*p18 + c10*p28
 		acc[2] += c4*p20 + c10*p30
@@ -167,9 +183,13 @@ func (NonlinearDiffusionGalerkinKernel) Cell(in *kernel.CellInput, A, b []float6
 		acc[6] += k11*p16 + k10*p26
 		acc[7] += k11*p18 + k10*p28
 		acc[8] += k11*p20 + k10*p30
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(u)² partial(previous(u), y) − partial(previous(u), y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - −previous(u)² partial(previous(u), x) − partial(previous(u), x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y           nonlinear_diffusion.fw:13
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x           nonlinear_diffusion.fw:13
 		rhs[0] += c4*p31 + c10*p32
 		rhs[1] += k01*p31 + k00*p32
 		rhs[2] += k11*p31 + k10*p32
@@ -178,8 +198,9 @@ func (NonlinearDiffusionGalerkinKernel) Cell(in *kernel.CellInput, A, b []float6
 	copy(b, rhs[:])
 }
 
-// fwNonlinearDiffusionSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwNonlinearDiffusionSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
 var fwNonlinearDiffusionSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -188,9 +209,9 @@ var fwNonlinearDiffusionSUPGLayout = kernel.Layout{
 	},
 }
 
-// NonlinearDiffusionSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NonlinearDiffusionSUPGKernel is the generated cell kernel of the supg form
+// on triangle cells, quadrature degree 2 (3 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NonlinearDiffusionSUPGKernel struct{}
 
 var _ kernel.Kernel = NonlinearDiffusionSUPGKernel{}
@@ -259,18 +280,21 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c33 := c8 * c8
 	c34 := c32 + c33
 	c35 := detJ * 10.0
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 10 · test(u)   [nonlinear_diffusion.fw:13]
-	rhs[0] += 0.16666666666666669 * c35
-	rhs[1] += 0.16666666666666669 * c35
-	rhs[2] += 0.16666666666666666 * c35
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+	//	  10 · v  nonlinear_diffusion.fw:13
+	rhs[0] += (1.0 / 6) * c35
+	rhs[1] += (1.0 / 6) * c35
+	rhs[2] += (1.0 / 6) * c35
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionSUPGCellBasis1Val[q][0]
@@ -281,101 +305,130 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := p4 * p4
 		p7 := 1.0 + p6
 		p8 := 1.0 / p7
-		p9 := 0.25 * c25 * p8
-		p10 := p4 * (-2.0) * c34
-		p11 := p10 - 10.0
-		p12 := c8 * (-4.0) * p9 * p11
-		p13 := p4 * c8 * p9 * c34 * 8.0
-		p14 := p8 * p8
-		p15 := 2.0 * c8 * c25 * p6 * p11 * p14
-		coef0 := p5 + p12 + p13 + p15
-		p16 := p6 * p9 * c33 * 16.0
-		p17 := p4 * (-4.0) * p9 * p11
-		coef1 := 1.0 + p6 + p16 + p17
-		coef3 := c8 * p6 * p9 * c31 * 16.0
-		p18 := 2.0 * p4 * c31
-		p19 := (-4.0) * p9 * c31 * p11
-		p20 := p4 * p9 * c31 * c34 * 8.0
-		p21 := 2.0 * c25 * p6 * c31 * p11 * p14
-		coef5 := p18 + p19 + p20 + p21
-		p22 := p6 * p9 * c32 * 16.0
-		coef8 := 1.0 + p6 + p17 + p22
-		p23 := c8 * p6
-		p24 := p4 * c8 * p9 * p11 * 4.0
-		coef11 := p24 - p23 - c8
-		p25 := p6 * c31
-		p26 := p4 * p9 * c31 * p11 * 4.0
-		coef12 := p26 - p25 - c31
-		p27 := coef0 * w
-		p28 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p27
-		p29 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p27
-		p30 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p27
-		p31 := coef1 * w
-		p32 := c4 * p31
-		p33 := p28 + p32
-		p34 := c3 * p31
-		p35 := p29 - p34
-		p36 := k11 * p31
-		p37 := p30 + p36
-		p38 := coef3 * w
-		p39 := c27 * p38
-		p40 := p33 + p39
-		p41 := k00 * p38
-		p42 := p35 + p41
-		p43 := c26 * p38
-		p44 := p37 - p43
-		p45 := coef5 * w
-		p46 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p45
-		p47 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p45
-		p48 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p45
-		p49 := c4 * p38
-		p50 := p46 + p49
-		p51 := c3 * p38
-		p52 := p47 - p51
-		p53 := k11 * p38
-		p54 := p48 + p53
-		p55 := coef8 * w
-		p56 := c27 * p55
-		p57 := p50 + p56
-		p58 := k00 * p55
-		p59 := p52 + p58
-		p60 := c26 * p55
-		p61 := p54 - p60
-		p62 := coef11 * w
-		p63 := coef12 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (2 previous(u) partial(previous(u), y) − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), y) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), y) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), y) + 2 h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² partial(previous(u), y)/(previous(u)² + 1)²) · u · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 16 τ_u previous(u)² partial(previous(u), y)² − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 1) · partial(u, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, y, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (16 τ_u previous(u)² partial(previous(u), x) partial(previous(u), y)) · partial(u, x) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, x, x) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (2 previous(u) partial(previous(u), x) − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), x) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), x) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), x) + 2 h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² partial(previous(u), x)/(previous(u)² + 1)²) · u · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (16 τ_u previous(u)² partial(previous(u), x) partial(previous(u), y)) · partial(u, y) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, y, y) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 16 τ_u previous(u)² partial(previous(u), x)² − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 1) · partial(u, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, x, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		acc[0] += c4*p40 + c27*p57
-		acc[1] += c4*p42 + c27*p59
-		acc[2] += c4*p44 + c27*p61
-		acc[3] += k01*p40 + k00*p57
-		acc[4] += k01*p42 + k00*p59
-		acc[5] += k01*p44 + k00*p61
-		acc[6] += k11*p40 + k10*p57
-		acc[7] += k11*p42 + k10*p59
-		acc[8] += k11*p44 + k10*p61
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(u)² partial(previous(u), y) + 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) partial(previous(u), y) − partial(previous(u), y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - −previous(u)² partial(previous(u), x) + 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) partial(previous(u), x) − partial(previous(u), x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		rhs[0] += c4*p62 + c27*p63
-		rhs[1] += k01*p62 + k00*p63
-		rhs[2] += k11*p62 + k10*p63
+		tau_u := 0.25 * c25 * p8
+		p9 := p4 * (-2.0) * c34
+		p10 := p9 - 10.0
+		p11 := c8 * (-4.0) * tau_u * p10
+		p12 := p4 * c8 * tau_u * c34 * 8.0
+		p13 := p8 * p8
+		p14 := 2.0 * c8 * c25 * p6 * p10 * p13
+		coef0 := p5 + p11 + p12 + p14
+		p15 := p6 * tau_u * c33 * 16.0
+		p16 := p4 * (-4.0) * tau_u * p10
+		coef1 := 1.0 + p6 + p15 + p16
+		coef3 := c8 * p6 * tau_u * c31 * 16.0
+		p17 := 2.0 * p4 * c31
+		p18 := (-4.0) * tau_u * c31 * p10
+		p19 := p4 * tau_u * c31 * c34 * 8.0
+		p20 := 2.0 * c25 * p6 * c31 * p10 * p13
+		coef5 := p17 + p18 + p19 + p20
+		p21 := p6 * tau_u * c32 * 16.0
+		coef8 := 1.0 + p6 + p16 + p21
+		p22 := c8 * p6
+		p23 := p4 * c8 * tau_u * p10 * 4.0
+		coef11 := p23 - p22 - c8
+		p24 := p6 * c31
+		p25 := p4 * tau_u * c31 * p10 * 4.0
+		coef12 := p25 - p24 - c31
+		p26 := coef0 * w
+		p27 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p26
+		p28 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p26
+		p29 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p26
+		p30 := coef1 * w
+		p31 := c4 * p30
+		p32 := p27 + p31
+		p33 := c3 * p30
+		p34 := p28 - p33
+		p35 := k11 * p30
+		p36 := p29 + p35
+		p37 := coef3 * w
+		p38 := c27 * p37
+		p39 := p32 + p38
+		p40 := k00 * p37
+		p41 := p34 + p40
+		p42 := c26 * p37
+		p43 := p36 - p42
+		p44 := coef5 * w
+		p45 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p44
+		p46 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p44
+		p47 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p44
+		p48 := c4 * p37
+		p49 := p45 + p48
+		p50 := c3 * p37
+		p51 := p46 - p50
+		p52 := k11 * p37
+		p53 := p47 + p52
+		p54 := coef8 * w
+		p55 := c27 * p54
+		p56 := p49 + p55
+		p57 := k00 * p54
+		p58 := p51 + p57
+		p59 := c26 * p54
+		p60 := p53 - p59
+		p61 := coef11 * w
+		p62 := coef12 * w
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
+		//	SUPG: + Σ_K (τ_u R_u, −4 (∇u·∇v) u)_K                     nonlinear_diffusion.fw:16
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y² · ∂u/∂y · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂x · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x             nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x² · ∂u/∂x · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x             nonlinear_diffusion.fw:13
+		acc[0] += c4*p39 + c27*p56
+		acc[1] += c4*p41 + c27*p58
+		acc[2] += c4*p43 + c27*p60
+		acc[3] += k01*p39 + k00*p56
+		acc[4] += k01*p41 + k00*p58
+		acc[5] += k01*p43 + k00*p60
+		acc[6] += k11*p39 + k10*p56
+		acc[7] += k11*p41 + k10*p58
+		acc[8] += k11*p43 + k10*p60
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                                    nonlinear_diffusion.fw:13
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
+		//	SUPG: + Σ_K (τ_u R_u, −4 (∇u·∇v) u)_K                     nonlinear_diffusion.fw:16
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		rhs[0] += c4*p61 + c27*p62
+		rhs[1] += k01*p61 + k00*p62
+		rhs[2] += k11*p61 + k10*p62
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwNonlinearDiffusionGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwNonlinearDiffusionGLSLayout is the element layout of the gls kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
 var fwNonlinearDiffusionGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -384,9 +437,9 @@ var fwNonlinearDiffusionGLSLayout = kernel.Layout{
 	},
 }
 
-// NonlinearDiffusionGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NonlinearDiffusionGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type NonlinearDiffusionGLSKernel struct{}
 
 var _ kernel.Kernel = NonlinearDiffusionGLSKernel{}
@@ -470,147 +523,221 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p5 := p4 * p4
 		p6 := 1.0 + p5
 		p7 := 1.0 / p6
-		p8 := 0.25 * c17 * p7
-		p9 := 4.0 * p8 * c35
-		p10 := p4 * c34 * (-2.0)
-		p11 := p10 - 10.0
-		p12 := p7 * p7
-		p13 := c17 * p4 * c34 * p11 * p12
-		coef0 := p9 + p13
-		p14 := p8 * c32 * p11 * (-4.0)
-		p15 := p4 * p8 * c32 * c34 * 8.0
-		coef1 := p14 + p15
-		p16 := p8 * c25 * p11 * (-4.0)
-		p17 := p4 * p8 * c25 * c34 * 8.0
-		coef3 := p16 + p17
-		p18 := p4 * c32 * 2.0
-		p19 := c17 * p5 * c32 * p11 * p12 * 2.0
-		coef5 := p14 + p15 + p18 + p19
-		p20 := p5 * p8 * c33 * 16.0
-		p21 := p4 * p8 * p11 * (-4.0)
-		coef6 := 1.0 + p5 + p20 + p21
-		coef8 := p5 * p8 * c25 * c32 * 16.0
-		p22 := p4 * c25 * 2.0
-		p23 := c17 * p5 * c25 * p11 * p12 * 2.0
-		coef15 := p16 + p17 + p22 + p23
-		p24 := p5 * p8 * c26 * 16.0
-		coef18 := 1.0 + p5 + p21 + p24
-		p25 := p8 * c34 * p11 * 2.0
-		coef25 := p25 + 10.0
-		p26 := p5 * c32
-		p27 := 4.0 * p4 * p8 * c32 * p11
-		coef26 := p27 - p26 - c32
-		p28 := p5 * c25
-		p29 := 4.0 * p4 * p8 * c25 * p11
-		coef28 := p29 - p28 - c25
+		tau_u := 0.25 * c17 * p7
+		p8 := 4.0 * tau_u * c35
+		p9 := p4 * c34 * (-2.0)
+		p10 := p9 - 10.0
+		p11 := p7 * p7
+		p12 := c17 * p4 * c34 * p10 * p11
+		coef0 := p8 + p12
+		p13 := tau_u * c32 * p10 * (-4.0)
+		p14 := p4 * tau_u * c32 * c34 * 8.0
+		coef1 := p13 + p14
+		p15 := tau_u * c25 * p10 * (-4.0)
+		p16 := p4 * tau_u * c25 * c34 * 8.0
+		coef3 := p15 + p16
+		p17 := p4 * c32 * 2.0
+		p18 := c17 * p5 * c32 * p10 * p11 * 2.0
+		coef5 := p13 + p14 + p17 + p18
+		p19 := p5 * tau_u * c33 * 16.0
+		p20 := p4 * tau_u * p10 * (-4.0)
+		coef6 := 1.0 + p5 + p19 + p20
+		coef8 := p5 * tau_u * c25 * c32 * 16.0
+		p21 := p4 * c25 * 2.0
+		p22 := c17 * p5 * c25 * p10 * p11 * 2.0
+		coef15 := p15 + p16 + p21 + p22
+		p23 := p5 * tau_u * c26 * 16.0
+		coef18 := 1.0 + p5 + p20 + p23
+		p24 := tau_u * c34 * p10 * 2.0
+		coef25 := p24 + 10.0
+		p25 := p5 * c32
+		p26 := 4.0 * p4 * tau_u * c32 * p10
+		coef26 := p26 - p25 - c32
+		p27 := p5 * c25
+		p28 := 4.0 * p4 * tau_u * c25 * p10
+		coef28 := p28 - p27 - c25
 		w := detJ * fwNonlinearDiffusionGLSCellWeights[q]
-		p30 := coef0 * w
-		p31 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p30
-		p32 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p30
-		p33 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p30
-		p34 := coef1 * w
-		p35 := c28 * p34
-		p36 := p31 + p35
-		p37 := c27 * p34
-		p38 := p32 - p37
-		p39 := k11 * p34
-		p40 := p33 + p39
-		p41 := coef3 * w
-		p42 := c21 * p41
-		p43 := p36 + p42
-		p44 := k00 * p41
-		p45 := p38 + p44
-		p46 := c20 * p41
-		p47 := p40 - p46
-		p48 := coef5 * w
-		p49 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p48
-		p50 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p48
-		p51 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p48
-		p52 := coef6 * w
-		p53 := c28 * p52
-		p54 := p49 + p53
-		p55 := c27 * p52
-		p56 := p50 - p55
-		p57 := k11 * p52
-		p58 := p51 + p57
-		p59 := coef8 * w
-		p60 := c21 * p59
-		p61 := p54 + p60
-		p62 := k00 * p59
-		p63 := p56 + p62
-		p64 := c20 * p59
-		p65 := p58 - p64
-		p66 := coef15 * w
-		p67 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p66
-		p68 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p66
-		p69 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p66
-		p70 := c28 * p59
-		p71 := p67 + p70
-		p72 := c27 * p59
-		p73 := p68 - p72
-		p74 := k11 * p59
-		p75 := p69 + p74
-		p76 := coef18 * w
-		p77 := c21 * p76
-		p78 := p71 + p77
-		p79 := k00 * p76
-		p80 := p73 + p79
-		p81 := c20 * p76
-		p82 := p75 - p81
-		p83 := coef25 * w
-		p84 := coef26 * w
-		p85 := coef28 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (4 τ_u (partial(previous(u), x)² + partial(previous(u), y)²)² + 4 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y))² previous(u)² − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) + h² (partial(previous(u), x)² + partial(previous(u), y)²) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(previous(u)² + 1)² + h² (partial(previous(u), x, x) + partial(previous(u), y, y)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)²/(previous(u)² + 1)²) · u · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), y) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), y) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), y)) · partial(u, y) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)) · partial(u, y, y) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), x) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), x) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), x)) · partial(u, x) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)) · partial(u, x, x) · test(u)   [nonlinear_diffusion.fw:13]
-		//   - (2 previous(u) partial(previous(u), y) − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), y) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), y) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), y) + 2 h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² partial(previous(u), y)/(previous(u)² + 1)²) · u · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 16 τ_u previous(u)² partial(previous(u), y)² − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 1) · partial(u, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, y, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (16 τ_u previous(u)² partial(previous(u), x) partial(previous(u), y)) · partial(u, x) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, x, x) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)³/(2 (previous(u)² + 1)²) + h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, y) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (τ_u + 2 τ_u previous(u)² + τ_u previous(u)⁴) · partial(u, y, y) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, x) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (τ_u + 2 τ_u previous(u)² + τ_u previous(u)⁴) · partial(u, x, x) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (2 previous(u) partial(previous(u), x) − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) partial(previous(u), x) + 8 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) partial(previous(u), x) + 8 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² partial(previous(u), x) + 2 h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² partial(previous(u), x)/(previous(u)² + 1)²) · u · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (16 τ_u previous(u)² partial(previous(u), x) partial(previous(u), y)) · partial(u, y) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, y, y) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 16 τ_u previous(u)² partial(previous(u), x)² − 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 1) · partial(u, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, x, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) + 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)³/(2 (previous(u)² + 1)²) + h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), y) + 4 τ_u previous(u) partial(previous(u), y)) · partial(u, y) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (τ_u + 2 τ_u previous(u)² + τ_u previous(u)⁴) · partial(u, y, y) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (4 τ_u previous(u)³ partial(previous(u), x) + 4 τ_u previous(u) partial(previous(u), x)) · partial(u, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (τ_u + 2 τ_u previous(u)² + τ_u previous(u)⁴) · partial(u, x, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		acc[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p43 + c28*p61 + c21*p78
-		acc[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p45 + c28*p63 + c21*p80
-		acc[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p47 + c28*p65 + c21*p82
-		acc[3] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p43 + k01*p61 + k00*p78
-		acc[4] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p45 + k01*p63 + k00*p80
-		acc[5] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p47 + k01*p65 + k00*p82
-		acc[6] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p43 + k11*p61 + k10*p78
-		acc[7] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p45 + k11*p63 + k10*p80
-		acc[8] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p47 + k11*p65 + k10*p82
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) + 10 · test(u)   [nonlinear_diffusion.fw:13]
-		//   - −previous(u)² partial(previous(u), y) + 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) partial(previous(u), y) − partial(previous(u), y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - −previous(u)² partial(previous(u), x) + 4 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) partial(previous(u), x) − partial(previous(u), x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		rhs[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p83 + c28*p84 + c21*p85
-		rhs[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p83 + k01*p84 + k00*p85
-		rhs[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p83 + k11*p84 + k10*p85
+		p29 := coef0 * w
+		p30 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p29
+		p31 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p29
+		p32 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p29
+		p33 := coef1 * w
+		p34 := c28 * p33
+		p35 := p30 + p34
+		p36 := c27 * p33
+		p37 := p31 - p36
+		p38 := k11 * p33
+		p39 := p32 + p38
+		p40 := coef3 * w
+		p41 := c21 * p40
+		p42 := p35 + p41
+		p43 := k00 * p40
+		p44 := p37 + p43
+		p45 := c20 * p40
+		p46 := p39 - p45
+		p47 := coef5 * w
+		p48 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p47
+		p49 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p47
+		p50 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p47
+		p51 := coef6 * w
+		p52 := c28 * p51
+		p53 := p48 + p52
+		p54 := c27 * p51
+		p55 := p49 - p54
+		p56 := k11 * p51
+		p57 := p50 + p56
+		p58 := coef8 * w
+		p59 := c21 * p58
+		p60 := p53 + p59
+		p61 := k00 * p58
+		p62 := p55 + p61
+		p63 := c20 * p58
+		p64 := p57 - p63
+		p65 := coef15 * w
+		p66 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p65
+		p67 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p65
+		p68 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p65
+		p69 := c28 * p58
+		p70 := p66 + p69
+		p71 := c27 * p58
+		p72 := p67 - p71
+		p73 := k11 * p58
+		p74 := p68 + p73
+		p75 := coef18 * w
+		p76 := c21 * p75
+		p77 := p70 + p76
+		p78 := k00 * p75
+		p79 := p72 + p78
+		p80 := c20 * p75
+		p81 := p74 - p80
+		p82 := coef25 * w
+		p83 := coef26 * w
+		p84 := coef28 * w
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  h² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
+		//	  h² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	GLS: + Σ_K (τ_u R_u, −2 (∇u·∇u) v − 4 (∇u·∇v) u − Δv u² − 2 Δu u v − Δv)_K  nonlinear_diffusion.fw:16
+		//	  4 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²)² · u · v            nonlinear_diffusion.fw:13
+		//	  4 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²)² u⁽ᵖʳᵉᵛ⁾² · u · v  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · u · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · ∂²u/∂y² · v       nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · ∂²u/∂x² · v       nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y² · ∂u/∂y · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂x · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²       nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²             nonlinear_diffusion.fw:13
+		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂y²                      nonlinear_diffusion.fw:13
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂y² · ∂²v/∂y²                        nonlinear_diffusion.fw:13
+		//	  τ_u · ∂²u/∂y² · ∂²v/∂y²                                 nonlinear_diffusion.fw:16
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²             nonlinear_diffusion.fw:13
+		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂y²                      nonlinear_diffusion.fw:13
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂y²                        nonlinear_diffusion.fw:13
+		//	  τ_u · ∂²u/∂x² · ∂²v/∂y²                                 nonlinear_diffusion.fw:16
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x             nonlinear_diffusion.fw:13
+		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x² · ∂u/∂x · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x             nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²       nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²             nonlinear_diffusion.fw:13
+		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂x²                      nonlinear_diffusion.fw:13
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂y² · ∂²v/∂x²                        nonlinear_diffusion.fw:13
+		//	  τ_u · ∂²u/∂y² · ∂²v/∂x²                                 nonlinear_diffusion.fw:16
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²            nonlinear_diffusion.fw:13
+		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²             nonlinear_diffusion.fw:13
+		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂x²                      nonlinear_diffusion.fw:13
+		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂x²                        nonlinear_diffusion.fw:13
+		//	  τ_u · ∂²u/∂x² · ∂²v/∂x²                                 nonlinear_diffusion.fw:16
+		acc[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p42 + c28*p60 + c21*p77
+		acc[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p44 + c28*p62 + c21*p79
+		acc[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p46 + c28*p64 + c21*p81
+		acc[3] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p42 + k01*p60 + k00*p77
+		acc[4] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p44 + k01*p62 + k00*p79
+		acc[5] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p46 + k01*p64 + k00*p81
+		acc[6] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p42 + k11*p60 + k10*p77
+		acc[7] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p44 + k11*p62 + k10*p79
+		acc[8] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p46 + k11*p64 + k10*p81
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  10 · v                                                  nonlinear_diffusion.fw:13
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                                    nonlinear_diffusion.fw:13
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
+		//	GLS: + Σ_K (τ_u R_u, −2 (∇u·∇u) v − 4 (∇u·∇v) u − Δv u² − 2 Δu u v − Δv)_K  nonlinear_diffusion.fw:16
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · v  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		rhs[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p82 + c28*p83 + c21*p84
+		rhs[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p82 + k01*p83 + k00*p84
+		rhs[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p82 + k11*p83 + k10*p84
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwNonlinearDiffusionVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwNonlinearDiffusionVMSLayout is the element layout of the vms kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
 var fwNonlinearDiffusionVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -619,9 +746,9 @@ var fwNonlinearDiffusionVMSLayout = kernel.Layout{
 	},
 }
 
-// NonlinearDiffusionVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 2 (3 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// NonlinearDiffusionVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type NonlinearDiffusionVMSKernel struct{}
 
 var _ kernel.Kernel = NonlinearDiffusionVMSKernel{}
@@ -670,18 +797,21 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c13 := pv[2] * c9
 	c14 := c11 + c12 - c13
 	c15 := detJ * 10.0
-	w := detJ * 0.16666666666666666
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 10 · test(u)   [nonlinear_diffusion.fw:13]
-	rhs[0] += 0.16666666666666669 * c15
-	rhs[1] += 0.16666666666666669 * c15
-	rhs[2] += 0.16666666666666666 * c15
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+	//	  10 · v  nonlinear_diffusion.fw:13
+	rhs[0] += (1.0 / 6) * c15
+	rhs[1] += (1.0 / 6) * c15
+	rhs[2] += (1.0 / 6) * c15
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionVMSCellBasis1Val[q][0]
@@ -721,21 +851,89 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p30 := p24 - p29
 		p31 := coef15 * w
 		p32 := coef17 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (2 previous(u) partial(previous(u), y)) · u · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 1) · partial(u, y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - (−u′² − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u u′² (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) + 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) − 4 τ_u u′ (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − 4 τ_u u′ (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − 2 τ_u u′² (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)³/(2 (previous(u)² + 1)²) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²) − h² u′ (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)²/(previous(u)² + 1)² − h² u′² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u previous(u)³ partial(previous(u), y) − 4 τ_u previous(u) partial(previous(u), y) − 8 τ_u u′ previous(u)² partial(previous(u), y) − 4 τ_u u′² previous(u) partial(previous(u), y)) · partial(u, y) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, y, y) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u previous(u)³ partial(previous(u), x) − 4 τ_u previous(u) partial(previous(u), x) − 8 τ_u u′ previous(u)² partial(previous(u), x) − 4 τ_u u′² previous(u) partial(previous(u), x)) · partial(u, x) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, x, x) · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - (2 previous(u) partial(previous(u), x)) · u · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (previous(u)² + 1) · partial(u, x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - (−u′² − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u u′² (partial(previous(u), x)² + partial(previous(u), y)²) − 2 τ_u (partial(previous(u), x)² + partial(previous(u), y)²) previous(u)² − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)³ − 2 τ_u (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) + 2 τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u) − 4 τ_u u′ (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − 4 τ_u u′ (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − 2 τ_u u′² (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)³/(2 (previous(u)² + 1)²) − h² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²) − h² u′ (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)²/(previous(u)² + 1)² − h² u′² (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)/(2 (previous(u)² + 1)²)) · u · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u previous(u)³ partial(previous(u), y) − 4 τ_u previous(u) partial(previous(u), y) − 8 τ_u u′ previous(u)² partial(previous(u), y) − 4 τ_u u′² previous(u) partial(previous(u), y)) · partial(u, y) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, y, y) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (−4 τ_u previous(u)³ partial(previous(u), x) − 4 τ_u previous(u) partial(previous(u), x) − 8 τ_u u′ previous(u)² partial(previous(u), x) − 4 τ_u u′² previous(u) partial(previous(u), x)) · partial(u, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
-		//   - (−τ_u − τ_u u′² − 2 τ_u previous(u)² − τ_u previous(u)⁴ − 2 τ_u u′ previous(u)³ − 2 τ_u u′ previous(u) − τ_u u′² previous(u)²) · partial(u, x, x) · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
+		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
+		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	VMS: − Σ_K (τ_u R_u, −Δv u² − Δv)_K                       nonlinear_diffusion.fw:16
+		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²      nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²           nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²            nonlinear_diffusion.fw:13
+		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²        nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′² u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²        nonlinear_diffusion.fw:13
+		//	  −2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂y²                     nonlinear_diffusion.fw:13
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂y² · ∂²v/∂y²                       nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂y² · ∂²v/∂y²                  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · ∂²v/∂y²                   nonlinear_diffusion.fw:13
+		//	  −τ_u u′² u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂y²                   nonlinear_diffusion.fw:13
+		//	  −τ_u · ∂²u/∂y² · ∂²v/∂y²                                nonlinear_diffusion.fw:13
+		//	  −τ_u u′² · ∂²u/∂y² · ∂²v/∂y²                            nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²           nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²            nonlinear_diffusion.fw:13
+		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²        nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′² u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂y²        nonlinear_diffusion.fw:13
+		//	  −2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂y²                     nonlinear_diffusion.fw:13
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂y²                       nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂x² · ∂²v/∂y²                  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · ∂²v/∂y²                   nonlinear_diffusion.fw:13
+		//	  −τ_u u′² u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂y²                   nonlinear_diffusion.fw:13
+		//	  −τ_u · ∂²u/∂x² · ∂²v/∂y²                                nonlinear_diffusion.fw:13
+		//	  −τ_u u′² · ∂²u/∂x² · ∂²v/∂y²                            nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²      nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²           nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²            nonlinear_diffusion.fw:13
+		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²        nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′² u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²        nonlinear_diffusion.fw:13
+		//	  −2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂x²                     nonlinear_diffusion.fw:13
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂y² · ∂²v/∂x²                       nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂y² · ∂²v/∂x²                  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · ∂²v/∂x²                   nonlinear_diffusion.fw:13
+		//	  −τ_u u′² u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂x²                   nonlinear_diffusion.fw:13
+		//	  −τ_u · ∂²u/∂y² · ∂²v/∂x²                                nonlinear_diffusion.fw:13
+		//	  −τ_u u′² · ∂²u/∂y² · ∂²v/∂x²                            nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²           nonlinear_diffusion.fw:13
+		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²            nonlinear_diffusion.fw:13
+		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²        nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′² u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · ∂²v/∂x²        nonlinear_diffusion.fw:13
+		//	  −2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂x²                     nonlinear_diffusion.fw:13
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂x²                       nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂x² · ∂²v/∂x²                  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · ∂²v/∂x²                   nonlinear_diffusion.fw:13
+		//	  −τ_u u′² u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂x²                   nonlinear_diffusion.fw:13
+		//	  −τ_u · ∂²u/∂x² · ∂²v/∂x²                                nonlinear_diffusion.fw:13
+		//	  −τ_u u′² · ∂²u/∂x² · ∂²v/∂x²                            nonlinear_diffusion.fw:13
+		//	VMS cross-stress: + Σ_K (−u′³ Δv/3 − u′² Δv u)_K
+		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −u′² · u · ∂²v/∂y²                                      nonlinear_diffusion.fw:13
+		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −u′² · u · ∂²v/∂x²                                      nonlinear_diffusion.fw:13
 		acc[0] += c4*p16 + c10*p26
 		acc[1] += c4*p18 + c10*p28
 		acc[2] += c4*p20 + c10*p30
@@ -745,11 +943,23 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[6] += k11*p16 + k10*p26
 		acc[7] += k11*p18 + k10*p28
 		acc[8] += k11*p20 + k10*p30
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −previous(u)² partial(previous(u), y) − partial(previous(u), y) · partial(test(u), y)   [nonlinear_diffusion.fw:13]
-		//   - u′³/3 − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + u′² previous(u) − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), y, y)   [nonlinear_diffusion.fw:13]
-		//   - −previous(u)² partial(previous(u), x) − partial(previous(u), x) · partial(test(u), x)   [nonlinear_diffusion.fw:13]
-		//   - u′³/3 − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) + u′² previous(u) − τ_u (−2 (partial(previous(u), x)² + partial(previous(u), y)²) previous(u) − (partial(previous(u), x, x) + partial(previous(u), y, y)) previous(u)² − partial(previous(u), x, x) − partial(previous(u), y, y) − 10) previous(u)² · partial(test(u), x, x)   [nonlinear_diffusion.fw:13]
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y                                    nonlinear_diffusion.fw:13
+		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
+		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
+		//	VMS: − Σ_K (τ_u R_u, −Δv u² − Δv)_K                       nonlinear_diffusion.fw:16
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	VMS cross-stress: + Σ_K (−u′³ Δv/3 − u′² Δv u)_K
+		//	  u′² u⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²                                   nonlinear_diffusion.fw:13
+		//	  u′³/3 · ∂²v/∂y²                                         nonlinear_diffusion.fw:13
+		//	  u′² u⁽ᵖʳᵉᵛ⁾ · ∂²v/∂x²                                   nonlinear_diffusion.fw:13
+		//	  u′³/3 · ∂²v/∂x²                                         nonlinear_diffusion.fw:13
 		rhs[0] += c4*p31 + c10*p32
 		rhs[1] += k01*p31 + k00*p32
 		rhs[2] += k11*p31 + k10*p32
@@ -758,8 +968,8 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwNonlinearDiffusionFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
+// fwNonlinearDiffusionFillNaN fills A and b with NaN: the cell has a
+// non-positive Jacobian determinant (as the interpreted kernels report it).
 func fwNonlinearDiffusionFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
@@ -769,29 +979,29 @@ func fwNonlinearDiffusionFillNaN(A, b []float64) {
 	}
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwNonlinearDiffusionGalerkinCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 	fwNonlinearDiffusionSUPGCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 	fwNonlinearDiffusionGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwNonlinearDiffusionGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
+	fwNonlinearDiffusionGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 	fwNonlinearDiffusionVMSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 0.16666666666666666, 0.16666666666666666},
-		{0.1666666666666667, 0.6666666666666666, 0.16666666666666666},
-		{0.16666666666666674, 0.16666666666666666, 0.6666666666666666},
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
 )

@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("3fa45f1018cdb389e7243863e53e847b", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return OseenGalerkinKernel{} },
+	compiled.Register("6a5e5f672a8496cf27b0aabddfe6b06c", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return OseenGalerkinKernel{}
+		},
 	})
-	compiled.Register("7d516e76f99c6ac21f19a184f1919582", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return OseenSUPGKernel{} },
+	compiled.Register("1288bc16e103cff4b8aa80dfe0b9a10b", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return OseenSUPGKernel{}
+		},
 	})
-	compiled.Register("194e8ef43dd490b1c0d499caf057267a", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return OseenGLSKernel{} },
+	compiled.Register("36300f99173ecf8f5194700e569998da", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return OseenGLSKernel{}
+		},
 	})
-	compiled.Register("35c729c70de00fc4120ed02363656198", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return OseenVMSKernel{} },
+	compiled.Register("30bd61e4d1ed7bbbb22a04baa406b415", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return OseenVMSKernel{}
+		},
 	})
 }
 
-// fwOseenGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwOseenGalerkinLayout is the element layout of the galerkin kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwOseenGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -50,9 +59,9 @@ var fwOseenGalerkinLayout = kernel.Layout{
 	},
 }
 
-// OseenGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// OseenGalerkinKernel is the generated cell kernel of the galerkin form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type OseenGalerkinKernel struct{}
 
 var _ kernel.Kernel = OseenGalerkinKernel{}
@@ -104,80 +113,99 @@ func (OseenGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(A)
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	A[0] = 0.1666666666666667*(-j11-c3) + 0.5*(c18+c22) + c20
-	A[1] = 0.1666666666666667*j11 + 0.5*(-c18-c20)
-	A[2] = 0.1666666666666667*c3 + 0.5*(-c20-c22)
-	A[9] = 0.16666666666666666*(-j11-c3) + 0.5*(-c18-c20)
-	A[10] = 0.16666666666666666*j11 + 0.5*c18
-	A[11] = 0.16666666666666666*c3 + 0.5*c20
-	A[18] = 0.16666666666666666*(-j11-c3) + 0.5*(-c20-c22)
-	A[19] = 0.16666666666666666*j11 + 0.5*c20
-	A[20] = 0.16666666666666666*c3 + 0.5*c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	A[6] = 0.1666666666666667 * (-j11 - c3)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c3
-	A[15] = 0.16666666666666666 * (-j11 - c3)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c3
-	A[24] = 0.16666666666666666 * (-j11 - c3)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	A[30] = 0.1666666666666667*(-j11-c3) + 0.5*(c18+c22) + c20
-	A[31] = 0.1666666666666667*j11 + 0.5*(-c18-c20)
-	A[32] = 0.1666666666666667*c3 + 0.5*(-c20-c22)
-	A[39] = 0.16666666666666666*(-j11-c3) + 0.5*(-c18-c20)
-	A[40] = 0.16666666666666666*j11 + 0.5*c18
-	A[41] = 0.16666666666666666*c3 + 0.5*c20
-	A[48] = 0.16666666666666666*(-j11-c3) + 0.5*(-c20-c22)
-	A[49] = 0.16666666666666666*j11 + 0.5*c20
-	A[50] = 0.16666666666666666*c3 + 0.5*c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	A[33] = 0.1666666666666667 * (-c4 - j00)
-	A[34] = 0.1666666666666667 * c4
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c4 - j00)
-	A[43] = 0.16666666666666666 * c4
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c4 - j00)
-	A[52] = 0.16666666666666666 * c4
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	A[54] = 0.1666666666666667 * (-j11 - c3)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c3
-	A[63] = 0.16666666666666666 * (-j11 - c3)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c3
-	A[72] = 0.16666666666666666 * (-j11 - c3)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	A[57] = 0.1666666666666667 * (-c4 - j00)
-	A[58] = 0.1666666666666667 * c4
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c4 - j00)
-	A[67] = 0.16666666666666666 * c4
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c4 - j00)
-	A[76] = 0.16666666666666666 * c4
-	A[77] = 0.16666666666666666 * j00
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_vel[1]              oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  oseen.fw:12
+	A[0] = (1.0/6)*(-j11-c3) + 0.5*(c18+c22) + c20
+	A[1] = (1.0/6)*j11 + 0.5*(-c18-c20)
+	A[2] = (1.0/6)*c3 + 0.5*(-c20-c22)
+	A[9] = (1.0/6)*(-j11-c3) + 0.5*(-c18-c20)
+	A[10] = (1.0/6)*j11 + 0.5*c18
+	A[11] = (1.0/6)*c3 + 0.5*c20
+	A[18] = (1.0/6)*(-j11-c3) + 0.5*(-c20-c22)
+	A[19] = (1.0/6)*j11 + 0.5*c20
+	A[20] = (1.0/6)*c3 + 0.5*c22
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  oseen.fw:12
+	A[6] = (1.0 / 6) * (-j11 - c3)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c3
+	A[15] = (1.0 / 6) * (-j11 - c3)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c3
+	A[24] = (1.0 / 6) * (-j11 - c3)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c3
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂x · v_vel[2]              oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  oseen.fw:12
+	A[30] = (1.0/6)*(-j11-c3) + 0.5*(c18+c22) + c20
+	A[31] = (1.0/6)*j11 + 0.5*(-c18-c20)
+	A[32] = (1.0/6)*c3 + 0.5*(-c20-c22)
+	A[39] = (1.0/6)*(-j11-c3) + 0.5*(-c18-c20)
+	A[40] = (1.0/6)*j11 + 0.5*c18
+	A[41] = (1.0/6)*c3 + 0.5*c20
+	A[48] = (1.0/6)*(-j11-c3) + 0.5*(-c20-c22)
+	A[49] = (1.0/6)*j11 + 0.5*c20
+	A[50] = (1.0/6)*c3 + 0.5*c22
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  oseen.fw:12
+	A[33] = (1.0 / 6) * (-c4 - j00)
+	A[34] = (1.0 / 6) * c4
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c4 - j00)
+	A[43] = (1.0 / 6) * c4
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c4 - j00)
+	A[52] = (1.0 / 6) * c4
+	A[53] = (1.0 / 6) * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  oseen.fw:12
+	A[54] = (1.0 / 6) * (-j11 - c3)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c3
+	A[63] = (1.0 / 6) * (-j11 - c3)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c3
+	A[72] = (1.0 / 6) * (-j11 - c3)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  oseen.fw:12
+	A[57] = (1.0 / 6) * (-c4 - j00)
+	A[58] = (1.0 / 6) * c4
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c4 - j00)
+	A[67] = (1.0 / 6) * c4
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c4 - j00)
+	A[76] = (1.0 / 6) * c4
+	A[77] = (1.0 / 6) * j00
 }
 
-// fwOseenSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwOseenSUPGLayout is the element layout of the supg kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 9 local dofs.
 var fwOseenSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -187,9 +215,9 @@ var fwOseenSUPGLayout = kernel.Layout{
 	},
 }
 
-// OseenSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// OseenSUPGKernel is the generated cell kernel of the supg form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type OseenSUPGKernel struct{}
 
 var _ kernel.Kernel = OseenSUPGKernel{}
@@ -224,16 +252,16 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	c21 := c18 * 2.0
 	c22 := c20 + c21
-	c23 := diameter * 2.0
+	c23 := h * 2.0
 	c24 := 0.04 + c23
 	c25 := 1.0 / c24
-	coef7 := c17 * c25
+	tau_vel := c17 * c25
 	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
@@ -366,35 +394,49 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c66
-	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c72
-	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c76
-	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef7*c69 + c26*c72
-	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef7*c59 + c26*c63
-	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef7*c60 + c26*c64
-	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef7*c74 + c26*c76
-	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef7*c60 + c26*c64
-	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
-	A[6] = 0.1666666666666667*(-j11-c29) + coef7*c62
-	A[7] = 0.1666666666666667*j11 + coef7*c69
-	A[8] = 0.1666666666666667*c29 + coef7*c74
-	A[15] = 0.16666666666666666*(-j11-c29) + coef7*c69
-	A[16] = 0.16666666666666666*j11 + coef7*c59
-	A[17] = 0.16666666666666666*c29 + coef7*c60
-	A[24] = 0.16666666666666666*(-j11-c29) + coef7*c74
-	A[25] = 0.16666666666666666*j11 + coef7*c60
-	A[26] = 0.16666666666666666*c29 + coef7*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_vel[1]                     oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y         oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:12
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  oseen.fw:12
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x           oseen.fw:18
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
+	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
+	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]              oseen.fw:12
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x  oseen.fw:17
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[7] = (1.0/6)*j11 + tau_vel*c69
+	A[8] = (1.0/6)*c29 + tau_vel*c74
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[16] = (1.0/6)*j11 + tau_vel*c59
+	A[17] = (1.0/6)*c29 + tau_vel*c60
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[25] = (1.0/6)*j11 + tau_vel*c60
+	A[26] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -404,35 +446,49 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef7*c62 + c26*c109
-	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef7*c69 + c26*c112
-	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef7*c74 + c26*c114
-	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef7*c69 + c26*c112
-	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef7*c59 + c26*c106
-	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef7*c60 + c26*c107
-	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef7*c74 + c26*c114
-	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef7*c60 + c26*c107
-	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef7*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
-	A[33] = 0.1666666666666667*(-c30-j00) + coef7*c123
-	A[34] = 0.1666666666666667*c30 + coef7*c126
-	A[35] = 0.1666666666666667*j00 + coef7*c129
-	A[42] = 0.16666666666666666*(-c30-j00) + coef7*c130
-	A[43] = 0.16666666666666666*c30 + coef7*c119
-	A[44] = 0.16666666666666666*j00 + coef7*c120
-	A[51] = 0.16666666666666666*(-c30-j00) + coef7*c131
-	A[52] = 0.16666666666666666*c30 + coef7*c121
-	A[53] = 0.16666666666666666*j00 + coef7*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂x · v_vel[2]                     oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y         oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:12
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y           oseen.fw:18
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  oseen.fw:12
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
+	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
+	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]              oseen.fw:12
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x  oseen.fw:17
+	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[34] = (1.0/6)*c30 + tau_vel*c126
+	A[35] = (1.0/6)*j00 + tau_vel*c129
+	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
+	A[43] = (1.0/6)*c30 + tau_vel*c119
+	A[44] = (1.0/6)*j00 + tau_vel*c120
+	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
+	A[52] = (1.0/6)*c30 + tau_vel*c121
+	A[53] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -442,50 +498,62 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	A[54] = 0.1666666666666667*(-j11-c29) + coef7*c62
-	A[55] = 0.1666666666666667*j11 + coef7*c69
-	A[56] = 0.1666666666666667*c29 + coef7*c74
-	A[63] = 0.16666666666666666*(-j11-c29) + coef7*c69
-	A[64] = 0.16666666666666666*j11 + coef7*c59
-	A[65] = 0.16666666666666666*c29 + coef7*c60
-	A[72] = 0.16666666666666666*(-j11-c29) + coef7*c74
-	A[73] = 0.16666666666666666*j11 + coef7*c60
-	A[74] = 0.16666666666666666*c29 + coef7*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	A[57] = 0.1666666666666667*(-c30-j00) + coef7*c123
-	A[58] = 0.1666666666666667*c30 + coef7*c130
-	A[59] = 0.1666666666666667*j00 + coef7*c131
-	A[66] = 0.16666666666666666*(-c30-j00) + coef7*c126
-	A[67] = 0.16666666666666666*c30 + coef7*c119
-	A[68] = 0.16666666666666666*j00 + coef7*c121
-	A[75] = 0.16666666666666666*(-c30-j00) + coef7*c129
-	A[76] = 0.16666666666666666*c30 + coef7*c120
-	A[77] = 0.16666666666666666*j00 + coef7*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
-	A[60] = coef7 * c141
-	A[61] = coef7 * c144
-	A[62] = coef7 * c146
-	A[69] = coef7 * c144
-	A[70] = coef7 * c138
-	A[71] = coef7 * c139
-	A[78] = coef7 * c146
-	A[79] = coef7 * c139
-	A[80] = coef7 * c140
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[55] = (1.0/6)*j11 + tau_vel*c69
+	A[56] = (1.0/6)*c29 + tau_vel*c74
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[64] = (1.0/6)*j11 + tau_vel*c59
+	A[65] = (1.0/6)*c29 + tau_vel*c60
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[73] = (1.0/6)*j11 + tau_vel*c60
+	A[74] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
+	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[58] = (1.0/6)*c30 + tau_vel*c130
+	A[59] = (1.0/6)*j00 + tau_vel*c131
+	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
+	A[67] = (1.0/6)*c30 + tau_vel*c119
+	A[68] = (1.0/6)*j00 + tau_vel*c121
+	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
+	A[76] = (1.0/6)*c30 + tau_vel*c120
+	A[77] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
+	A[60] = tau_vel * c141
+	A[61] = tau_vel * c144
+	A[62] = tau_vel * c146
+	A[69] = tau_vel * c144
+	A[70] = tau_vel * c138
+	A[71] = tau_vel * c139
+	A[78] = tau_vel * c146
+	A[79] = tau_vel * c139
+	A[80] = tau_vel * c140
 }
 
-// fwOseenGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwOseenGLSLayout is the element layout of the gls kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 9 local dofs.
 var fwOseenGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -495,9 +563,9 @@ var fwOseenGLSLayout = kernel.Layout{
 	},
 }
 
-// OseenGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// OseenGLSKernel is the generated cell kernel of the gls form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type OseenGLSKernel struct{}
 
 var _ kernel.Kernel = OseenGLSKernel{}
@@ -532,16 +600,16 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	c21 := c18 * 2.0
 	c22 := c20 + c21
-	c23 := diameter * 2.0
+	c23 := h * 2.0
 	c24 := 0.04 + c23
 	c25 := 1.0 / c24
-	coef11 := c17 * c25
+	tau_vel := c17 * c25
 	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
@@ -674,43 +742,57 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
-	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
-	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
-	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c72
-	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c63
-	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c64
-	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c76
-	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c64
-	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
-	A[7] = 0.1666666666666667*j11 + coef11*c69
-	A[8] = 0.1666666666666667*c29 + coef11*c74
-	A[15] = 0.16666666666666666*(-j11-c29) + coef11*c69
-	A[16] = 0.16666666666666666*j11 + coef11*c59
-	A[17] = 0.16666666666666666*c29 + coef11*c60
-	A[24] = 0.16666666666666666*(-j11-c29) + coef11*c74
-	A[25] = 0.16666666666666666*j11 + coef11*c60
-	A[26] = 0.16666666666666666*c29 + coef11*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_vel[1]                        oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y            oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:12
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x     oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
+	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x              oseen.fw:18
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
+	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
+	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                     oseen.fw:12
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[7] = (1.0/6)*j11 + tau_vel*c69
+	A[8] = (1.0/6)*c29 + tau_vel*c74
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[16] = (1.0/6)*j11 + tau_vel*c59
+	A[17] = (1.0/6)*c29 + tau_vel*c60
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[25] = (1.0/6)*j11 + tau_vel*c60
+	A[26] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -720,43 +802,57 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
-	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
-	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
-	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c112
-	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c106
-	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c107
-	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c114
-	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c107
-	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
-	A[34] = 0.1666666666666667*c30 + coef11*c126
-	A[35] = 0.1666666666666667*j00 + coef11*c129
-	A[42] = 0.16666666666666666*(-c30-j00) + coef11*c130
-	A[43] = 0.16666666666666666*c30 + coef11*c119
-	A[44] = 0.16666666666666666*j00 + coef11*c120
-	A[51] = 0.16666666666666666*(-c30-j00) + coef11*c131
-	A[52] = 0.16666666666666666*c30 + coef11*c121
-	A[53] = 0.16666666666666666*j00 + coef11*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂x · v_vel[2]                        oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y            oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:12
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y              oseen.fw:18
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x     oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
+	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²     oseen.fw:12
+	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  oseen.fw:12
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
+	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
+	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                     oseen.fw:12
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
+	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[34] = (1.0/6)*c30 + tau_vel*c126
+	A[35] = (1.0/6)*j00 + tau_vel*c129
+	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
+	A[43] = (1.0/6)*c30 + tau_vel*c119
+	A[44] = (1.0/6)*j00 + tau_vel*c120
+	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
+	A[52] = (1.0/6)*c30 + tau_vel*c121
+	A[53] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -766,50 +862,62 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
-	A[55] = 0.1666666666666667*j11 + coef11*c69
-	A[56] = 0.1666666666666667*c29 + coef11*c74
-	A[63] = 0.16666666666666666*(-j11-c29) + coef11*c69
-	A[64] = 0.16666666666666666*j11 + coef11*c59
-	A[65] = 0.16666666666666666*c29 + coef11*c60
-	A[72] = 0.16666666666666666*(-j11-c29) + coef11*c74
-	A[73] = 0.16666666666666666*j11 + coef11*c60
-	A[74] = 0.16666666666666666*c29 + coef11*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
-	A[58] = 0.1666666666666667*c30 + coef11*c130
-	A[59] = 0.1666666666666667*j00 + coef11*c131
-	A[66] = 0.16666666666666666*(-c30-j00) + coef11*c126
-	A[67] = 0.16666666666666666*c30 + coef11*c119
-	A[68] = 0.16666666666666666*j00 + coef11*c121
-	A[75] = 0.16666666666666666*(-c30-j00) + coef11*c129
-	A[76] = 0.16666666666666666*c30 + coef11*c120
-	A[77] = 0.16666666666666666*j00 + coef11*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
-	A[60] = coef11 * c141
-	A[61] = coef11 * c144
-	A[62] = coef11 * c146
-	A[69] = coef11 * c144
-	A[70] = coef11 * c138
-	A[71] = coef11 * c139
-	A[78] = coef11 * c146
-	A[79] = coef11 * c139
-	A[80] = coef11 * c140
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[55] = (1.0/6)*j11 + tau_vel*c69
+	A[56] = (1.0/6)*c29 + tau_vel*c74
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[64] = (1.0/6)*j11 + tau_vel*c59
+	A[65] = (1.0/6)*c29 + tau_vel*c60
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[73] = (1.0/6)*j11 + tau_vel*c60
+	A[74] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
+	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[58] = (1.0/6)*c30 + tau_vel*c130
+	A[59] = (1.0/6)*j00 + tau_vel*c131
+	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
+	A[67] = (1.0/6)*c30 + tau_vel*c119
+	A[68] = (1.0/6)*j00 + tau_vel*c121
+	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
+	A[76] = (1.0/6)*c30 + tau_vel*c120
+	A[77] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
+	A[60] = tau_vel * c141
+	A[61] = tau_vel * c144
+	A[62] = tau_vel * c146
+	A[69] = tau_vel * c144
+	A[70] = tau_vel * c138
+	A[71] = tau_vel * c139
+	A[78] = tau_vel * c146
+	A[79] = tau_vel * c139
+	A[80] = tau_vel * c140
 }
 
-// fwOseenVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwOseenVMSLayout is the element layout of the vms kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 9 local dofs.
 var fwOseenVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -819,9 +927,9 @@ var fwOseenVMSLayout = kernel.Layout{
 	},
 }
 
-// OseenVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// OseenVMSKernel is the generated cell kernel of the vms form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type OseenVMSKernel struct{}
 
 var _ kernel.Kernel = OseenVMSKernel{}
@@ -856,16 +964,16 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := 1.0 / diameter
+	h := math.Sqrt(c17)
+	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
 	c21 := c18 * 2.0
 	c22 := c20 + c21
-	c23 := diameter * 2.0
+	c23 := h * 2.0
 	c24 := 0.04 + c23
 	c25 := 1.0 / c24
-	coef11 := c17 * c25
+	tau_vel := c17 * c25
 	c26 := c17 * c22
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
@@ -998,43 +1106,57 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(vel)[1]   [oseen.fw:12]
-	//   - (1/100) · partial(vel[1], y) · partial(test(vel)[1], y)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (τ_p + τ_vel + 1/100) · partial(vel[1], x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(vel)[1], x)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(vel[1], x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	A[0] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c66
-	A[1] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c72
-	A[2] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c76
-	A[9] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c72
-	A[10] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c63
-	A[11] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c64
-	A[18] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c76
-	A[19] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c64
-	A[20] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c65
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], y, y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x)   [oseen.fw:16]
-	//   - (τ_vel/100) · partial(p, x) · partial(test(vel)[1], x, x)   [oseen.fw:12]
-	A[6] = 0.1666666666666667*(-j11-c29) + coef11*c62
-	A[7] = 0.1666666666666667*j11 + coef11*c69
-	A[8] = 0.1666666666666667*c29 + coef11*c74
-	A[15] = 0.16666666666666666*(-j11-c29) + coef11*c69
-	A[16] = 0.16666666666666666*j11 + coef11*c59
-	A[17] = 0.16666666666666666*c29 + coef11*c60
-	A[24] = 0.16666666666666666*(-j11-c29) + coef11*c74
-	A[25] = 0.16666666666666666*j11 + coef11*c60
-	A[26] = 0.16666666666666666*c29 + coef11*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (τ_p) · partial(vel[2], y) · partial(test(vel)[1], x)   [oseen.fw:17]
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_vel[1]                         oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:12
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²       oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x      oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x      oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
+	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²       oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x               oseen.fw:18
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
+	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
+	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
+	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
+	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
+	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                    oseen.fw:12
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
+	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x        oseen.fw:17
+	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[7] = (1.0/6)*j11 + tau_vel*c69
+	A[8] = (1.0/6)*c29 + tau_vel*c74
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[16] = (1.0/6)*j11 + tau_vel*c59
+	A[17] = (1.0/6)*c29 + tau_vel*c60
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[25] = (1.0/6)*j11 + tau_vel*c60
+	A[26] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
 	A[3] = c26 * c91
 	A[4] = c26 * c94
 	A[5] = c26 * c97
@@ -1044,43 +1166,57 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = c26 * c99
 	A[22] = c26 * c89
 	A[23] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1) · partial(vel[2], x) · test(vel)[2]   [oseen.fw:12]
-	//   - (τ_p + 1/100) · partial(vel[2], y) · partial(test(vel)[2], y)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (τ_vel + 1/100) · partial(vel[2], x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(vel)[2], x)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(vel[2], x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	//   - (−τ_vel/10000) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	A[30] = 0.1666666666666667*(-j11-c29) + 0.5*(c48+c56) + c52 + coef11*c62 + c26*c109
-	A[31] = 0.1666666666666667*j11 + 0.5*(-c48-c52) + coef11*c69 + c26*c112
-	A[32] = 0.1666666666666667*c29 + 0.5*(-c52-c56) + coef11*c74 + c26*c114
-	A[39] = 0.16666666666666666*(-j11-c29) + 0.5*(-c48-c52) + coef11*c69 + c26*c112
-	A[40] = 0.16666666666666666*j11 + 0.5*c48 + coef11*c59 + c26*c106
-	A[41] = 0.16666666666666666*c29 + 0.5*c52 + coef11*c60 + c26*c107
-	A[48] = 0.16666666666666666*(-j11-c29) + 0.5*(-c52-c56) + coef11*c74 + c26*c114
-	A[49] = 0.16666666666666666*j11 + 0.5*c52 + coef11*c60 + c26*c107
-	A[50] = 0.16666666666666666*c29 + 0.5*c56 + coef11*c61 + c26*c108
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [oseen.fw:12]
-	//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], y, y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x)   [oseen.fw:16]
-	//   - (τ_vel/100) · partial(p, y) · partial(test(vel)[2], x, x)   [oseen.fw:12]
-	A[33] = 0.1666666666666667*(-c30-j00) + coef11*c123
-	A[34] = 0.1666666666666667*c30 + coef11*c126
-	A[35] = 0.1666666666666667*j00 + coef11*c129
-	A[42] = 0.16666666666666666*(-c30-j00) + coef11*c130
-	A[43] = 0.16666666666666666*c30 + coef11*c119
-	A[44] = 0.16666666666666666*j00 + coef11*c120
-	A[51] = 0.16666666666666666*(-c30-j00) + coef11*c131
-	A[52] = 0.16666666666666666*c30 + coef11*c121
-	A[53] = 0.16666666666666666*j00 + coef11*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (τ_p) · partial(vel[1], x) · partial(test(vel)[2], y)   [oseen.fw:17]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂x · v_vel[2]                         oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:12
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y               oseen.fw:18
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²       oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x      oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x      oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
+	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²       oseen.fw:12
+	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  oseen.fw:12
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
+	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
+	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
+	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
+	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
+	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                    oseen.fw:12
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
+	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x        oseen.fw:17
+	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
+	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[34] = (1.0/6)*c30 + tau_vel*c126
+	A[35] = (1.0/6)*j00 + tau_vel*c129
+	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
+	A[43] = (1.0/6)*c30 + tau_vel*c119
+	A[44] = (1.0/6)*j00 + tau_vel*c120
+	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
+	A[52] = (1.0/6)*c30 + tau_vel*c121
+	A[53] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
 	A[27] = c26 * c91
 	A[28] = c26 * c98
 	A[29] = c26 * c99
@@ -1090,46 +1226,57 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = c26 * c97
 	A[46] = c26 * c88
 	A[47] = c26 * c90
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[1], y, y) · partial(test(p), x)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[1], x) · partial(test(p), x)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[1], x, x) · partial(test(p), x)   [oseen.fw:12]
-	A[54] = 0.1666666666666667*(-j11-c29) + coef11*c62
-	A[55] = 0.1666666666666667*j11 + coef11*c69
-	A[56] = 0.1666666666666667*c29 + coef11*c74
-	A[63] = 0.16666666666666666*(-j11-c29) + coef11*c69
-	A[64] = 0.16666666666666666*j11 + coef11*c59
-	A[65] = 0.16666666666666666*c29 + coef11*c60
-	A[72] = 0.16666666666666666*(-j11-c29) + coef11*c74
-	A[73] = 0.16666666666666666*j11 + coef11*c60
-	A[74] = 0.16666666666666666*c29 + coef11*c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [oseen.fw:12]
-	//   - (−τ_vel/100) · partial(vel[2], y, y) · partial(test(p), y)   [oseen.fw:12]
-	//   - (τ_vel) · partial(vel[2], x) · partial(test(p), y)   [oseen.fw:16]
-	//   - (−τ_vel/100) · partial(vel[2], x, x) · partial(test(p), y)   [oseen.fw:12]
-	A[57] = 0.1666666666666667*(-c30-j00) + coef11*c123
-	A[58] = 0.1666666666666667*c30 + coef11*c130
-	A[59] = 0.1666666666666667*j00 + coef11*c131
-	A[66] = 0.16666666666666666*(-c30-j00) + coef11*c126
-	A[67] = 0.16666666666666666*c30 + coef11*c119
-	A[68] = 0.16666666666666666*j00 + coef11*c121
-	A[75] = 0.16666666666666666*(-c30-j00) + coef11*c129
-	A[76] = 0.16666666666666666*c30 + coef11*c120
-	A[77] = 0.16666666666666666*j00 + coef11*c122
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [oseen.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [oseen.fw:16]
-	A[60] = coef11 * c141
-	A[61] = coef11 * c144
-	A[62] = coef11 * c146
-	A[69] = coef11 * c144
-	A[70] = coef11 * c138
-	A[71] = coef11 * c139
-	A[78] = coef11 * c146
-	A[79] = coef11 * c139
-	A[80] = coef11 * c140
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
+	A[55] = (1.0/6)*j11 + tau_vel*c69
+	A[56] = (1.0/6)*c29 + tau_vel*c74
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
+	A[64] = (1.0/6)*j11 + tau_vel*c59
+	A[65] = (1.0/6)*c29 + tau_vel*c60
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
+	A[73] = (1.0/6)*j11 + tau_vel*c60
+	A[74] = (1.0/6)*c29 + tau_vel*c61
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
+	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
+	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
+	A[58] = (1.0/6)*c30 + tau_vel*c130
+	A[59] = (1.0/6)*j00 + tau_vel*c131
+	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
+	A[67] = (1.0/6)*c30 + tau_vel*c119
+	A[68] = (1.0/6)*j00 + tau_vel*c121
+	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
+	A[76] = (1.0/6)*c30 + tau_vel*c120
+	A[77] = (1.0/6)*j00 + tau_vel*c122
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
+	A[60] = tau_vel * c141
+	A[61] = tau_vel * c144
+	A[62] = tau_vel * c146
+	A[69] = tau_vel * c144
+	A[70] = tau_vel * c138
+	A[71] = tau_vel * c139
+	A[78] = tau_vel * c146
+	A[79] = tau_vel * c139
+	A[80] = tau_vel * c140
 }
 
 // fwOseenFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

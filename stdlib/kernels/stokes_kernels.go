@@ -13,34 +13,43 @@ import (
 )
 
 func init() {
-	compiled.Register("e775ef33abea62d0eebe4d7018e09950", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return StokesGalerkinKernel{} },
+	compiled.Register("5fc253a5c506996b2df4bc3793c7a296", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return StokesGalerkinKernel{}
+		},
 	})
-	compiled.Register("209a0b6f88c1f6b6505a4be8c8eb9350", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return StokesSUPGKernel{} },
+	compiled.Register("cb07d335abbf9fddaf2af9057de744b1", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return StokesSUPGKernel{}
+		},
 	})
-	compiled.Register("3af5823225cb349ec29c845f34061d70", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return StokesGLSKernel{} },
+	compiled.Register("6431129f20b2a182e0486268df5f0236", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return StokesGLSKernel{}
+		},
 	})
-	compiled.Register("d193dcd5c5c38a2d0367945919567539", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return StokesVMSKernel{} },
+	compiled.Register("3860e23c078c2800b6a4cba9ec4758b2", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return StokesVMSKernel{}
+		},
 	})
 }
 
-// fwStokesGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwStokesGalerkinLayout is the element layout of the galerkin kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
 var fwStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -50,9 +59,9 @@ var fwStokesGalerkinLayout = kernel.Layout{
 	},
 }
 
-// StokesGalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// StokesGalerkinKernel is the generated cell kernel of the galerkin form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
 type StokesGalerkinKernel struct{}
 
 var _ kernel.Kernel = StokesGalerkinKernel{}
@@ -99,20 +108,26 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	clear(A)
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	A[6] = 0.1666666666666667 * (-j11 - c3)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c3
-	A[15] = 0.16666666666666666 * (-j11 - c3)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c3
-	A[24] = 0.16666666666666666 * (-j11 - c3)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (1) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
+	A[6] = (1.0 / 6) * (-j11 - c3)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c3
+	A[15] = (1.0 / 6) * (-j11 - c3)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c3
+	A[24] = (1.0 / 6) * (-j11 - c3)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c3
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y  stokes.fw:11
+	//	  ∂vel[1]/∂x · ∂v_vel[1]/∂x  stokes.fw:11
 	A[0] = 0.5*(c13+c17) + c15
 	A[1] = 0.5 * (-c13 - c15)
 	A[2] = 0.5 * (-c15 - c17)
@@ -122,20 +137,26 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c15 - c17)
 	A[19] = 0.5 * c15
 	A[20] = 0.5 * c17
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	A[33] = 0.1666666666666667 * (-c4 - j00)
-	A[34] = 0.1666666666666667 * c4
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c4 - j00)
-	A[43] = 0.16666666666666666 * c4
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c4 - j00)
-	A[52] = 0.16666666666666666 * c4
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (1) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
+	A[33] = (1.0 / 6) * (-c4 - j00)
+	A[34] = (1.0 / 6) * c4
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c4 - j00)
+	A[43] = (1.0 / 6) * c4
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c4 - j00)
+	A[52] = (1.0 / 6) * c4
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
+	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x  stokes.fw:11
 	A[30] = 0.5*(c13+c17) + c15
 	A[31] = 0.5 * (-c13 - c15)
 	A[32] = 0.5 * (-c15 - c17)
@@ -145,32 +166,39 @@ func (StokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c15 - c17)
 	A[49] = 0.5 * c15
 	A[50] = 0.5 * c17
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	A[54] = 0.1666666666666667 * (-j11 - c3)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c3
-	A[63] = 0.16666666666666666 * (-j11 - c3)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c3
-	A[72] = 0.16666666666666666 * (-j11 - c3)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	A[57] = 0.1666666666666667 * (-c4 - j00)
-	A[58] = 0.1666666666666667 * c4
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c4 - j00)
-	A[67] = 0.16666666666666666 * c4
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c4 - j00)
-	A[76] = 0.16666666666666666 * c4
-	A[77] = 0.16666666666666666 * j00
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
+	A[54] = (1.0 / 6) * (-j11 - c3)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c3
+	A[63] = (1.0 / 6) * (-j11 - c3)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c3
+	A[72] = (1.0 / 6) * (-j11 - c3)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c4 - j00)
+	A[58] = (1.0 / 6) * c4
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c4 - j00)
+	A[67] = (1.0 / 6) * c4
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c4 - j00)
+	A[76] = (1.0 / 6) * c4
+	A[77] = (1.0 / 6) * j00
 }
 
-// fwStokesSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwStokesSUPGLayout is the element layout of the supg kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -180,9 +208,9 @@ var fwStokesSUPGLayout = kernel.Layout{
 	},
 }
 
-// StokesSUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// StokesSUPGKernel is the generated cell kernel of the supg form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type StokesSUPGKernel struct{}
 
 var _ kernel.Kernel = StokesSUPGKernel{}
@@ -285,20 +313,26 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  stokes.fw:11
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y      stokes.fw:11
+	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  stokes.fw:11
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -308,8 +342,11 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
 	A[5] = 0.5 * (-c41 - c44)
@@ -319,19 +356,25 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
 	A[29] = 0.5 * (-c42 - c44)
@@ -341,9 +384,12 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
+	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x      stokes.fw:11
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -353,35 +399,46 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74
@@ -393,8 +450,9 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[80] = c17 * c68
 }
 
-// fwStokesGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwStokesGLSLayout is the element layout of the gls kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 9 local dofs.
 var fwStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -404,9 +462,9 @@ var fwStokesGLSLayout = kernel.Layout{
 	},
 }
 
-// StokesGLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// StokesGLSKernel is the generated cell kernel of the gls form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type StokesGLSKernel struct{}
 
 var _ kernel.Kernel = StokesGLSKernel{}
@@ -509,26 +567,34 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//   - (−τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:16]
-	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//   - (τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:16]
-	//   - (τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:16]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                 stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  stokes.fw:11
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y              stokes.fw:11
+	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x          stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:16
+	//	  τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  stokes.fw:16
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -538,8 +604,11 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
 	A[5] = 0.5 * (-c41 - c44)
@@ -549,21 +618,28 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//   - (−τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                 stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:11
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
 	A[29] = 0.5 * (-c42 - c44)
@@ -573,13 +649,17 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:16]
-	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//   - (τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:16]
-	//   - (τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:16]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y          stokes.fw:11
+	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x              stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:16
+	//	  τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  stokes.fw:16
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -589,35 +669,46 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74
@@ -629,8 +720,9 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[80] = c17 * c68
 }
 
-// fwStokesVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwStokesVMSLayout is the element layout of the vms kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 9 local dofs.
 var fwStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -640,9 +732,9 @@ var fwStokesVMSLayout = kernel.Layout{
 	},
 }
 
-// StokesVMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// StokesVMSKernel is the generated cell kernel of the vms form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type StokesVMSKernel struct{}
 
 var _ kernel.Kernel = StokesVMSKernel{}
@@ -745,26 +837,34 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [stokes.fw:11]
-	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [stokes.fw:16]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1) · partial(vel[1], y) · partial(test(vel)[1], y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [stokes.fw:11]
-	//   - (2) · partial(vel[1], x) · partial(test(vel)[1], x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [stokes.fw:11]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  stokes.fw:16
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y               stokes.fw:11
+	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x           stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  stokes.fw:11
 	A[0] = 0.5*(c32+c36) + c34
 	A[1] = 0.5 * (-c32 - c34)
 	A[2] = 0.5 * (-c34 - c36)
@@ -774,8 +874,11 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c34 - c36)
 	A[19] = 0.5 * c34
 	A[20] = 0.5 * c36
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (1) · partial(vel[2], y) · partial(test(vel)[1], x)   [stokes.fw:11]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
 	A[3] = 0.5 * (c40 + c41 + c42 + c44)
 	A[4] = 0.5 * (-c40 - c42)
 	A[5] = 0.5 * (-c41 - c44)
@@ -785,21 +888,28 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c42 - c44)
 	A[22] = 0.5 * c42
 	A[23] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [stokes.fw:11]
-	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [stokes.fw:16]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (1) · partial(vel[1], x) · partial(test(vel)[2], y)   [stokes.fw:11]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:16
+	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:16
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
 	A[27] = 0.5 * (c40 + c42 + c41 + c44)
 	A[28] = 0.5 * (-c40 - c41)
 	A[29] = 0.5 * (-c42 - c44)
@@ -809,13 +919,17 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c41 - c44)
 	A[46] = 0.5 * c41
 	A[47] = 0.5 * c44
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (2) · partial(vel[2], y) · partial(test(vel)[2], y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [stokes.fw:11]
-	//   - (1) · partial(vel[2], x) · partial(test(vel)[2], x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [stokes.fw:11]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y           stokes.fw:11
+	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x               stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  stokes.fw:11
 	A[30] = 0.5*(c49+c53) + c51
 	A[31] = 0.5 * (-c49 - c51)
 	A[32] = 0.5 * (-c51 - c53)
@@ -825,35 +939,46 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c51 - c53)
 	A[49] = 0.5 * c51
 	A[50] = 0.5 * c53
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [stokes.fw:11]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [stokes.fw:11]
-	//   - (−τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [stokes.fw:11]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [stokes.fw:16]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [stokes.fw:16]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
 	A[60] = c17 * c69
 	A[61] = c17 * c72
 	A[62] = c17 * c74

@@ -13,35 +13,44 @@ import (
 )
 
 func init() {
-	compiled.Register("6da21f1d3cee6fc8f450a956334ad9e1", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+	compiled.Register("20b9eff814068ed61bd7074c2c6e8ee8", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return CrosswindPlumeGalerkinKernel{}
+		},
 	})
-	compiled.Register("11c49f847816dafd505858664f2492ec", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+	compiled.Register("ee753c6cb4032edb5a59b9f57da6a19b", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return CrosswindPlumeSUPGKernel{}
+		},
 	})
-	compiled.Register("8a343232af74e5a7b5e216447b3fd27c", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+	compiled.Register("a8280a33d6922fe0183dd677fd27c4d1", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return CrosswindPlumeGLSKernel{}
+		},
 	})
-	compiled.Register("8d8f0b8d654a3dd10eb89bba50033ba1", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+	compiled.Register("ff13a03eb93e63f3b2bf64c8406375f6", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return CrosswindPlumeVMSKernel{}
+		},
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+// fwCrosswindPlumeGalerkinLayout is the element layout of the galerkin
+// kernels: triangle cells, fields in local dof order (field-major, then
+// component, then element node); 3 local dofs.
+var fwCrosswindPlumeGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +58,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GalerkinKernel struct{}
+// CrosswindPlumeGalerkinKernel is the generated cell kernel of the galerkin
+// form on triangle cells, quadrature degree 1 (1 point). It implements
+// kernel.Kernel, keeps no state and does not allocate.
+type CrosswindPlumeGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = CrosswindPlumeGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (CrosswindPlumeGalerkinKernel) Layout() kernel.Layout { return fwCrosswindPlumeGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (CrosswindPlumeGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -102,29 +111,33 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := c12 + c18
 	c26 := rdetJ * c25
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	A[0] = 0.1666666666666667*(-c19-c20) + 0.5*(c22+c26) + c24
-	A[1] = 0.1666666666666667*c19 + 0.5*(-c22-c24)
-	A[2] = 0.1666666666666667*c20 + 0.5*(-c24-c26)
-	A[3] = 0.16666666666666666*(-c19-c20) + 0.5*(-c22-c24)
-	A[4] = 0.16666666666666666*c19 + 0.5*c22
-	A[5] = 0.16666666666666666*c20 + 0.5*c24
-	A[6] = 0.16666666666666666*(-c19-c20) + 0.5*(-c24-c26)
-	A[7] = 0.16666666666666666*c19 + 0.5*c24
-	A[8] = 0.16666666666666666*c20 + 0.5*c26
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
+	//	  a[2] · ∂temp/∂y · v           model.fw:13
+	//	  a[1] · ∂temp/∂x · v           model.fw:13
+	//	  1/1000000 · ∂temp/∂y · ∂v/∂y  model.fw:17
+	//	  1/1000000 · ∂temp/∂x · ∂v/∂x  model.fw:17
+	A[0] = (1.0/6)*(-c19-c20) + 0.5*(c22+c26) + c24
+	A[1] = (1.0/6)*c19 + 0.5*(-c22-c24)
+	A[2] = (1.0/6)*c20 + 0.5*(-c24-c26)
+	A[3] = (1.0/6)*(-c19-c20) + 0.5*(-c22-c24)
+	A[4] = (1.0/6)*c19 + 0.5*c22
+	A[5] = (1.0/6)*c20 + 0.5*c24
+	A[6] = (1.0/6)*(-c19-c20) + 0.5*(-c24-c26)
+	A[7] = (1.0/6)*c19 + 0.5*c24
+	A[8] = (1.0/6)*c20 + 0.5*c26
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwSUPGLayout = kernel.Layout{
+// fwCrosswindPlumeSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
+var fwCrosswindPlumeSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -132,22 +145,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type SUPGKernel struct{}
+// CrosswindPlumeSUPGKernel is the generated cell kernel of the supg form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type CrosswindPlumeSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = CrosswindPlumeSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (CrosswindPlumeSUPGKernel) Layout() kernel.Layout { return fwCrosswindPlumeSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (CrosswindPlumeSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -169,99 +182,106 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 166666.66666666666
+	h := math.Sqrt(c17)
+	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := 0.5 * diameter * c19
+	tau_temp := 0.5 * h * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c20 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
-	c23 := j01 * (-0.49999999999999994)
-	c24 := 0.49999999999999994 * j00
-	c25 := 0.8660254037844387 * j11
-	c26 := j10 * (-0.8660254037844387)
-	c27 := j01 * j01
-	c28 := 0.24999999999999994 * c27
-	c29 := 1e-06 * c27
-	c30 := j00 * j01
-	c31 := c30 * (-0.24999999999999994)
-	c32 := (-1e-06) * c30
-	c33 := j00 * j00
-	c34 := 0.24999999999999994 * c33
-	c35 := 1e-06 * c33
-	c36 := j11 * j01
-	c37 := c36 * (-0.4330127018922193)
-	c38 := 0.4330127018922193 * c22
-	c39 := 0.4330127018922193 * c21
-	c40 := j00 * j10
-	c41 := (-0.4330127018922193) * c40
-	c42 := j11 * j11
-	c43 := j11 * j10
-	c44 := j10 * j10
-	c45 := 1e-06 * c42
-	c46 := 0.7500000000000001 * c42
-	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.7500000000000001)
-	c49 := 1e-06 * c44
-	c50 := 0.7500000000000001 * c44
+	c21 := j01 * j10
+	detJ := c20 - c21
+	c22 := j01 * (-0.49999999999999994)
+	c23 := 0.49999999999999994 * j00
+	c24 := 0.8660254037844387 * j11
+	c25 := j10 * (-0.8660254037844387)
+	c26 := j01 * j01
+	c27 := 0.24999999999999994 * c26
+	c28 := 1e-06 * c26
+	c29 := j00 * j01
+	c30 := c29 * (-0.24999999999999994)
+	c31 := (-1e-06) * c29
+	c32 := j00 * j00
+	c33 := 0.24999999999999994 * c32
+	c34 := 1e-06 * c32
+	c35 := j11 * j01
+	c36 := c35 * (-0.4330127018922193)
+	c37 := 0.4330127018922193 * c21
+	c38 := 0.4330127018922193 * c20
+	c39 := j00 * j10
+	c40 := (-0.4330127018922193) * c39
+	c41 := j11 * j11
+	c42 := j11 * j10
+	c43 := j10 * j10
+	c44 := 1e-06 * c41
+	c45 := 0.7500000000000001 * c41
+	c46 := (-1e-06) * c42
+	c47 := c42 * (-0.7500000000000001)
+	c48 := 1e-06 * c43
+	c49 := 0.7500000000000001 * c43
+	c50 := c22 + c24
 	c51 := c23 + c25
-	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c53 := c29 + c45
-	c54 := rdetJ * c53
-	c55 := c28 + c37 + c37 + c46
-	c56 := rdetJ * c55
-	c57 := c32 + c47
-	c58 := rdetJ * c57
-	c59 := c31 + c38 + c39 + c48
-	c60 := rdetJ * c59
-	c61 := c35 + c49
-	c62 := rdetJ * c61
-	c63 := c34 + c41 + c41 + c50
-	c64 := rdetJ * c63
-	c65 := 0.5 * c56
-	c66 := 0.5 * c60
-	c67 := 0.5 * c64
-	c68 := c65 + c66 + c66 + c67
-	c69 := (-0.5) * c56
-	c70 := (-0.5) * c60
-	c71 := c69 + c70
-	c72 := (-0.5) * c64
-	c73 := c70 + c72
+	c52 := c28 + c44
+	c53 := rdetJ * c52
+	c54 := c27 + c36 + c36 + c45
+	c55 := rdetJ * c54
+	c56 := c31 + c46
+	c57 := rdetJ * c56
+	c58 := c30 + c37 + c38 + c47
+	c59 := rdetJ * c58
+	c60 := c34 + c48
+	c61 := rdetJ * c60
+	c62 := c33 + c40 + c40 + c49
+	c63 := rdetJ * c62
+	c64 := 0.5 * c55
+	c65 := 0.5 * c59
+	c66 := 0.5 * c63
+	c67 := c64 + c65 + c65 + c66
+	c68 := (-0.5) * c55
+	c69 := (-0.5) * c59
+	c70 := c68 + c69
+	c71 := (-0.5) * c63
+	c72 := c69 + c71
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
-	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
-	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
-	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
-	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
-	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
-	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
-	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
-	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
+	//	  a[2] · ∂temp/∂y · v                        model.fw:13
+	//	  a[1] · ∂temp/∂x · v                        model.fw:13
+	//	  1/1000000 · ∂temp/∂y · ∂v/∂y               model.fw:17
+	//	  1/1000000 · ∂temp/∂x · ∂v/∂x               model.fw:17
+	//	SUPG: + Σ_K (τ_temp R_temp, a·∇v)_K          model.fw:21
+	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y            model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y  model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y        model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y  model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x        model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x  model.fw:17
+	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x            model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x  model.fw:17
+	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
+	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
+	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
+	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
+	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
+	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
+	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
+	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
+	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwGLSLayout = kernel.Layout{
+// fwCrosswindPlumeGLSLayout is the element layout of the gls kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
+var fwCrosswindPlumeGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -269,22 +289,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GLSKernel struct{}
+// CrosswindPlumeGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type CrosswindPlumeGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = CrosswindPlumeGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (CrosswindPlumeGLSKernel) Layout() kernel.Layout { return fwCrosswindPlumeGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (CrosswindPlumeGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -306,107 +326,114 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 166666.66666666666
+	h := math.Sqrt(c17)
+	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := 0.5 * diameter * c19
+	tau_temp := 0.5 * h * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c20 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
-	c23 := j01 * (-0.49999999999999994)
-	c24 := 0.49999999999999994 * j00
-	c25 := 0.8660254037844387 * j11
-	c26 := j10 * (-0.8660254037844387)
-	c27 := j01 * j01
-	c28 := 0.24999999999999994 * c27
-	c29 := 1e-06 * c27
-	c30 := j00 * j01
-	c31 := c30 * (-0.24999999999999994)
-	c32 := (-1e-06) * c30
-	c33 := j00 * j00
-	c34 := 0.24999999999999994 * c33
-	c35 := 1e-06 * c33
-	c36 := j11 * j01
-	c37 := c36 * (-0.4330127018922193)
-	c38 := 0.4330127018922193 * c22
-	c39 := 0.4330127018922193 * c21
-	c40 := j00 * j10
-	c41 := (-0.4330127018922193) * c40
-	c42 := j11 * j11
-	c43 := j11 * j10
-	c44 := j10 * j10
-	c45 := 1e-06 * c42
-	c46 := 0.7500000000000001 * c42
-	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.7500000000000001)
-	c49 := 1e-06 * c44
-	c50 := 0.7500000000000001 * c44
+	c21 := j01 * j10
+	detJ := c20 - c21
+	c22 := j01 * (-0.49999999999999994)
+	c23 := 0.49999999999999994 * j00
+	c24 := 0.8660254037844387 * j11
+	c25 := j10 * (-0.8660254037844387)
+	c26 := j01 * j01
+	c27 := 0.24999999999999994 * c26
+	c28 := 1e-06 * c26
+	c29 := j00 * j01
+	c30 := c29 * (-0.24999999999999994)
+	c31 := (-1e-06) * c29
+	c32 := j00 * j00
+	c33 := 0.24999999999999994 * c32
+	c34 := 1e-06 * c32
+	c35 := j11 * j01
+	c36 := c35 * (-0.4330127018922193)
+	c37 := 0.4330127018922193 * c21
+	c38 := 0.4330127018922193 * c20
+	c39 := j00 * j10
+	c40 := (-0.4330127018922193) * c39
+	c41 := j11 * j11
+	c42 := j11 * j10
+	c43 := j10 * j10
+	c44 := 1e-06 * c41
+	c45 := 0.7500000000000001 * c41
+	c46 := (-1e-06) * c42
+	c47 := c42 * (-0.7500000000000001)
+	c48 := 1e-06 * c43
+	c49 := 0.7500000000000001 * c43
+	c50 := c22 + c24
 	c51 := c23 + c25
-	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c53 := c29 + c45
-	c54 := rdetJ * c53
-	c55 := c28 + c37 + c37 + c46
-	c56 := rdetJ * c55
-	c57 := c32 + c47
-	c58 := rdetJ * c57
-	c59 := c31 + c38 + c39 + c48
-	c60 := rdetJ * c59
-	c61 := c35 + c49
-	c62 := rdetJ * c61
-	c63 := c34 + c41 + c41 + c50
-	c64 := rdetJ * c63
-	c65 := 0.5 * c56
-	c66 := 0.5 * c60
-	c67 := 0.5 * c64
-	c68 := c65 + c66 + c66 + c67
-	c69 := (-0.5) * c56
-	c70 := (-0.5) * c60
-	c71 := c69 + c70
-	c72 := (-0.5) * c64
-	c73 := c70 + c72
+	c52 := c28 + c44
+	c53 := rdetJ * c52
+	c54 := c27 + c36 + c36 + c45
+	c55 := rdetJ * c54
+	c56 := c31 + c46
+	c57 := rdetJ * c56
+	c58 := c30 + c37 + c38 + c47
+	c59 := rdetJ * c58
+	c60 := c34 + c48
+	c61 := rdetJ * c60
+	c62 := c33 + c40 + c40 + c49
+	c63 := rdetJ * c62
+	c64 := 0.5 * c55
+	c65 := 0.5 * c59
+	c66 := 0.5 * c63
+	c67 := c64 + c65 + c65 + c66
+	c68 := (-0.5) * c55
+	c69 := (-0.5) * c59
+	c70 := c68 + c69
+	c71 := (-0.5) * c63
+	c72 := c69 + c71
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
-	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
-	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
-	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
-	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
-	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
-	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
-	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
-	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
-	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
+	//	  a[2] · ∂temp/∂y · v                          model.fw:13
+	//	  a[1] · ∂temp/∂x · v                          model.fw:13
+	//	  1/1000000 · ∂temp/∂y · ∂v/∂y                 model.fw:17
+	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                 model.fw:17
+	//	GLS: + Σ_K (τ_temp R_temp, −κ Δv + a·∇v)_K     model.fw:21
+	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y              model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y    model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y          model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y    model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂y²    model.fw:17
+	//	  τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂y²  model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂y²    model.fw:17
+	//	  τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂y²  model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x          model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x    model.fw:17
+	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x              model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x    model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂x²    model.fw:17
+	//	  τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂x²  model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂x²    model.fw:17
+	//	  τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂x²  model.fw:17
+	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
+	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
+	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
+	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
+	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
+	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
+	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
+	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
+	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwVMSLayout = kernel.Layout{
+// fwCrosswindPlumeVMSLayout is the element layout of the vms kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
+var fwCrosswindPlumeVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -414,22 +441,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type VMSKernel struct{}
+// CrosswindPlumeVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type CrosswindPlumeVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = CrosswindPlumeVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (CrosswindPlumeVMSKernel) Layout() kernel.Layout { return fwCrosswindPlumeVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (CrosswindPlumeVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -451,107 +478,113 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 166666.66666666666
+	h := math.Sqrt(c17)
+	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
-	c20 := 0.5 * diameter * c19
+	tau_temp := 0.5 * h * c19
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	c20 := j00 * j11
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
-	c22 := j01 * j10
-	detJ := c21 - c22
-	c23 := j01 * (-0.49999999999999994)
-	c24 := 0.49999999999999994 * j00
-	c25 := 0.8660254037844387 * j11
-	c26 := j10 * (-0.8660254037844387)
-	c27 := j01 * j01
-	c28 := 0.24999999999999994 * c27
-	c29 := 1e-06 * c27
-	c30 := j00 * j01
-	c31 := c30 * (-0.24999999999999994)
-	c32 := (-1e-06) * c30
-	c33 := j00 * j00
-	c34 := 0.24999999999999994 * c33
-	c35 := 1e-06 * c33
-	c36 := j11 * j01
-	c37 := c36 * (-0.4330127018922193)
-	c38 := 0.4330127018922193 * c22
-	c39 := 0.4330127018922193 * c21
-	c40 := j00 * j10
-	c41 := (-0.4330127018922193) * c40
-	c42 := j11 * j11
-	c43 := j11 * j10
-	c44 := j10 * j10
-	c45 := 1e-06 * c42
-	c46 := 0.7500000000000001 * c42
-	c47 := (-1e-06) * c43
-	c48 := c43 * (-0.7500000000000001)
-	c49 := 1e-06 * c44
-	c50 := 0.7500000000000001 * c44
+	c21 := j01 * j10
+	detJ := c20 - c21
+	c22 := j01 * (-0.49999999999999994)
+	c23 := 0.49999999999999994 * j00
+	c24 := 0.8660254037844387 * j11
+	c25 := j10 * (-0.8660254037844387)
+	c26 := j01 * j01
+	c27 := 0.24999999999999994 * c26
+	c28 := 1e-06 * c26
+	c29 := j00 * j01
+	c30 := c29 * (-0.24999999999999994)
+	c31 := (-1e-06) * c29
+	c32 := j00 * j00
+	c33 := 0.24999999999999994 * c32
+	c34 := 1e-06 * c32
+	c35 := j11 * j01
+	c36 := c35 * (-0.4330127018922193)
+	c37 := 0.4330127018922193 * c21
+	c38 := 0.4330127018922193 * c20
+	c39 := j00 * j10
+	c40 := (-0.4330127018922193) * c39
+	c41 := j11 * j11
+	c42 := j11 * j10
+	c43 := j10 * j10
+	c44 := 1e-06 * c41
+	c45 := 0.7500000000000001 * c41
+	c46 := (-1e-06) * c42
+	c47 := c42 * (-0.7500000000000001)
+	c48 := 1e-06 * c43
+	c49 := 0.7500000000000001 * c43
+	c50 := c22 + c24
 	c51 := c23 + c25
-	c52 := c24 + c26
 	rdetJ := 1.0 / detJ
-	c53 := c29 + c45
-	c54 := rdetJ * c53
-	c55 := c28 + c37 + c37 + c46
-	c56 := rdetJ * c55
-	c57 := c32 + c47
-	c58 := rdetJ * c57
-	c59 := c31 + c38 + c39 + c48
-	c60 := rdetJ * c59
-	c61 := c35 + c49
-	c62 := rdetJ * c61
-	c63 := c34 + c41 + c41 + c50
-	c64 := rdetJ * c63
-	c65 := 0.5 * c56
-	c66 := 0.5 * c60
-	c67 := 0.5 * c64
-	c68 := c65 + c66 + c66 + c67
-	c69 := (-0.5) * c56
-	c70 := (-0.5) * c60
-	c71 := c69 + c70
-	c72 := (-0.5) * c64
-	c73 := c70 + c72
+	c52 := c28 + c44
+	c53 := rdetJ * c52
+	c54 := c27 + c36 + c36 + c45
+	c55 := rdetJ * c54
+	c56 := c31 + c46
+	c57 := rdetJ * c56
+	c58 := c30 + c37 + c38 + c47
+	c59 := rdetJ * c58
+	c60 := c34 + c48
+	c61 := rdetJ * c60
+	c62 := c33 + c40 + c40 + c49
+	c63 := rdetJ * c62
+	c64 := 0.5 * c55
+	c65 := 0.5 * c59
+	c66 := 0.5 * c63
+	c67 := c64 + c65 + c65 + c66
+	c68 := (-0.5) * c55
+	c69 := (-0.5) * c59
+	c70 := c68 + c69
+	c71 := (-0.5) * c63
+	c72 := c69 + c71
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (a[2]) · partial(temp, y) · test(temp)   [model.fw:13]
-	//   - (a[1]) · partial(temp, x) · test(temp)   [model.fw:13]
-	//   - (a[2]² τ_temp + 1/1000000) · partial(temp, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (−a[2] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), y)   [model.fw:17]
-	//   - (a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (−τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), y, y)   [model.fw:17]
-	//   - (a[1] a[2] τ_temp) · partial(temp, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, y, y) · partial(test(temp), x)   [model.fw:17]
-	//   - (a[1]² τ_temp + 1/1000000) · partial(temp, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (−a[1] τ_temp/1000000) · partial(temp, x, x) · partial(test(temp), x)   [model.fw:17]
-	//   - (a[2] τ_temp/1000000) · partial(temp, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−τ_temp/1000000000000) · partial(temp, y, y) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (a[1] τ_temp/1000000) · partial(temp, x) · partial(test(temp), x, x)   [model.fw:17]
-	//   - (−τ_temp/1000000000000) · partial(temp, x, x) · partial(test(temp), x, x)   [model.fw:17]
-	A[0] = 0.1666666666666667*(-c51-c52) + 0.5*(c54+c62) + c58 + c20*c68
-	A[1] = 0.1666666666666667*c51 + 0.5*(-c54-c58) + c20*c71
-	A[2] = 0.1666666666666667*c52 + 0.5*(-c58-c62) + c20*c73
-	A[3] = 0.16666666666666666*(-c51-c52) + 0.5*(-c54-c58) + c20*c71
-	A[4] = 0.16666666666666666*c51 + 0.5*c54 + c20*c65
-	A[5] = 0.16666666666666666*c52 + 0.5*c58 + c20*c66
-	A[6] = 0.16666666666666666*(-c51-c52) + 0.5*(-c58-c62) + c20*c73
-	A[7] = 0.16666666666666666*c51 + 0.5*c58 + c20*c66
-	A[8] = 0.16666666666666666*c52 + 0.5*c62 + c20*c67
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
+	//	  a[2] · ∂temp/∂y · v                           model.fw:13
+	//	  a[1] · ∂temp/∂x · v                           model.fw:13
+	//	  1/1000000 · ∂temp/∂y · ∂v/∂y                  model.fw:17
+	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                  model.fw:17
+	//	VMS: − Σ_K (τ_temp R_temp, −κ Δv − a·∇v)_K      model.fw:21
+	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y               model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y     model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y           model.fw:17
+	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y     model.fw:17
+	//	  a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂y²      model.fw:17
+	//	  −τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂y²  model.fw:17
+	//	  a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂y²      model.fw:17
+	//	  −τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂y²  model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x           model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x     model.fw:17
+	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x               model.fw:17
+	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x     model.fw:17
+	//	  a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂x²      model.fw:17
+	//	  −τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂x²  model.fw:17
+	//	  a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂x²      model.fw:17
+	//	  −τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂x²  model.fw:17
+	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
+	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
+	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
+	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
+	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
+	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
+	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
+	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
+	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+// fwCrosswindPlumeFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
+func fwCrosswindPlumeFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}

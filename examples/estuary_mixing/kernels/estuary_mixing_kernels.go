@@ -13,35 +13,44 @@ import (
 )
 
 func init() {
-	compiled.Register("b5fa0c9aea1fb6aa6a5b3f3d1335a99f", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+	compiled.Register("f7df27e5d6f8ab92aa14480a756af0f4", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return EstuaryMixingGalerkinKernel{}
+		},
 	})
-	compiled.Register("edb196b603870fed514c43e6771a3a72", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+	compiled.Register("9e184e837e41ae430b3afb54b0630fa8", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return EstuaryMixingSUPGKernel{}
+		},
 	})
-	compiled.Register("16a1ac000464af80cee2318a577ce6a6", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+	compiled.Register("26d3f71c9f16436a99208928020b51d1", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return EstuaryMixingGLSKernel{}
+		},
 	})
-	compiled.Register("f72fde26ab696ad12505ffd1449219f8", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  3,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+	compiled.Register("1df49e9172a387bf079836aabbfb0a8c", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 3,
+		NewCell: func() kernel.Kernel {
+			return EstuaryMixingVMSKernel{}
+		},
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+// fwEstuaryMixingGalerkinLayout is the element layout of the galerkin kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
+var fwEstuaryMixingGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +58,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GalerkinKernel struct{}
+// EstuaryMixingGalerkinKernel is the generated cell kernel of the galerkin
+// form on triangle cells, quadrature degree 3 (4 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
+type EstuaryMixingGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = EstuaryMixingGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (EstuaryMixingGalerkinKernel) Layout() kernel.Layout { return fwEstuaryMixingGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 3 }
+func (EstuaryMixingGalerkinKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -87,57 +96,63 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c6
 	c7 := c6 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/10) · salt · test(salt)   [model.fw:17]
-	acc[0] += 0.08333333333333334 * c3
-	acc[1] += 0.04166666666666667 * c3
-	acc[2] += 0.041666666666666685 * c3
-	acc[3] += 0.04166666666666667 * c3
-	acc[4] += 0.08333333333333334 * c3
-	acc[5] += 0.04166666666666667 * c3
-	acc[6] += 0.041666666666666685 * c3
-	acc[7] += 0.04166666666666667 * c3
-	acc[8] += 0.08333333333333334 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(salt)   [model.fw:17]
-	rhs[0] += 0.16666666666666669 * detJ
-	rhs[1] += 0.16666666666666669 * detJ
-	rhs[2] += 0.16666666666666669 * detJ
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+	//	  1/10 · salt · v  model.fw:17
+	acc[0] += (1.0 / 12) * c3
+	acc[1] += (1.0 / 24) * c3
+	acc[2] += (1.0 / 24) * c3
+	acc[3] += (1.0 / 24) * c3
+	acc[4] += (1.0 / 12) * c3
+	acc[5] += (1.0 / 24) * c3
+	acc[6] += (1.0 / 24) * c3
+	acc[7] += (1.0 / 24) * c3
+	acc[8] += (1.0 / 12) * c3
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+	//	  v  model.fw:17
+	rhs[0] += (1.0 / 6) * detJ
+	rhs[1] += (1.0 / 6) * detJ
+	rhs[2] += (1.0 / 6) * detJ
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwGalerkinCellGeomVal[q][0]
-		p2 := x[3] * fwGalerkinCellGeomVal[q][1]
-		p3 := x[5] * fwGalerkinCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingGalerkinCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingGalerkinCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingGalerkinCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
-		coef1 := 0.1 * x1
-		p4 := fwGalerkinCellGeomVal[q][0] * x[0]
-		p5 := fwGalerkinCellGeomVal[q][1] * x[2]
-		p6 := fwGalerkinCellGeomVal[q][2] * x[4]
+		a_2 := 0.1 * x1
+		p4 := fwEstuaryMixingGalerkinCellGeomVal[q][0] * x[0]
+		p5 := fwEstuaryMixingGalerkinCellGeomVal[q][1] * x[2]
+		p6 := fwEstuaryMixingGalerkinCellGeomVal[q][2] * x[4]
 		x0 := p4 + p5 + p6
 		p7 := x0 * x0
 		p8 := (-0.25) * p7
-		coef2 := p8 + 1.0
+		a_1 := p8 + 1.0
 		p9 := 1.0 - x1
 		p10 := x1 * 0.05 * p9
-		coef3 := 0.05 + p10
-		w := detJ * fwGalerkinCellWeights[q]
-		p11 := coef1 * w
+		kappa := 0.05 + p10
+		w := detJ * fwEstuaryMixingGalerkinCellWeights[q]
+		p11 := a_2 * w
 		p12 := p11 * c5
 		p13 := p11 * c4
 		p14 := p11 * k11
-		p15 := coef2 * w
+		p15 := a_1 * w
 		p16 := p15 * c7
 		p17 := p12 + p16
 		p18 := p15 * k00
 		p19 := p18 - p13
 		p20 := p15 * c6
 		p21 := p14 - p20
-		p22 := coef3 * w
+		p22 := kappa * w
 		p23 := c5 * p22
 		p24 := c4 * p22
 		p25 := -p24
@@ -146,28 +161,31 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p28 := k00 * p22
 		p29 := c6 * p22
 		p30 := -p29
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (a[2]) · partial(salt, y) · test(salt)   [model.fw:12]
-		//   - (a[1]) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (κ) · partial(salt, y) · partial(test(salt), y)   [model.fw:13]
-		//   - (κ) · partial(salt, x) · partial(test(salt), x)   [model.fw:13]
-		acc[0] += fwGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
-		acc[1] += fwGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
-		acc[2] += fwGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
-		acc[3] += fwGalerkinCellBasis1Val[q][1]*p17 + k01*p23 + k00*p27
-		acc[4] += fwGalerkinCellBasis1Val[q][1]*p19 + k01*p25 + k00*p28
-		acc[5] += fwGalerkinCellBasis1Val[q][1]*p21 + k01*p26 + k00*p30
-		acc[6] += fwGalerkinCellBasis1Val[q][2]*p17 + k11*p23 + k10*p27
-		acc[7] += fwGalerkinCellBasis1Val[q][2]*p19 + k11*p25 + k10*p28
-		acc[8] += fwGalerkinCellBasis1Val[q][2]*p21 + k11*p26 + k10*p30
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  a[2] · ∂salt/∂y · v   model.fw:12
+		//	  a[1] · ∂salt/∂x · v   model.fw:12
+		//	  κ · ∂salt/∂y · ∂v/∂y  model.fw:13
+		//	  κ · ∂salt/∂x · ∂v/∂x  model.fw:13
+		acc[0] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p17 + c5*p23 + c7*p27
+		acc[1] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p19 + c5*p25 + c7*p28
+		acc[2] += fwEstuaryMixingGalerkinCellBasis1Val[q][0]*p21 + c5*p26 + c7*p30
+		acc[3] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p17 + k01*p23 + k00*p27
+		acc[4] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p19 + k01*p25 + k00*p28
+		acc[5] += fwEstuaryMixingGalerkinCellBasis1Val[q][1]*p21 + k01*p26 + k00*p30
+		acc[6] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p17 + k11*p23 + k10*p27
+		acc[7] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p19 + k11*p25 + k10*p28
+		acc[8] += fwEstuaryMixingGalerkinCellBasis1Val[q][2]*p21 + k11*p26 + k10*p30
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwSUPGLayout = kernel.Layout{
+// fwEstuaryMixingSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 3 local dofs.
+var fwEstuaryMixingSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -175,22 +193,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type SUPGKernel struct{}
+// EstuaryMixingSUPGKernel is the generated cell kernel of the supg form on
+// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type EstuaryMixingSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = EstuaryMixingSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (EstuaryMixingSUPGKernel) Layout() kernel.Layout { return fwEstuaryMixingSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 3 }
+func (EstuaryMixingSUPGKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -212,7 +230,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
+	h := math.Sqrt(c17)
 	c18 := 0.1 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
@@ -232,153 +250,422 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c24
 	c25 := c24 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/10) · salt · test(salt)   [model.fw:17]
-	acc[0] += 0.08333333333333334 * c21
-	acc[1] += 0.04166666666666667 * c21
-	acc[2] += 0.041666666666666685 * c21
-	acc[3] += 0.04166666666666667 * c21
-	acc[4] += 0.08333333333333334 * c21
-	acc[5] += 0.04166666666666667 * c21
-	acc[6] += 0.041666666666666685 * c21
-	acc[7] += 0.04166666666666667 * c21
-	acc[8] += 0.08333333333333334 * c21
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(salt)   [model.fw:17]
-	rhs[0] += 0.16666666666666669 * detJ
-	rhs[1] += 0.16666666666666669 * detJ
-	rhs[2] += 0.16666666666666669 * detJ
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+	//	  1/10 · salt · v  model.fw:17
+	acc[0] += (1.0 / 12) * c21
+	acc[1] += (1.0 / 24) * c21
+	acc[2] += (1.0 / 24) * c21
+	acc[3] += (1.0 / 24) * c21
+	acc[4] += (1.0 / 12) * c21
+	acc[5] += (1.0 / 24) * c21
+	acc[6] += (1.0 / 24) * c21
+	acc[7] += (1.0 / 24) * c21
+	acc[8] += (1.0 / 12) * c21
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+	//	  v  model.fw:17
+	rhs[0] += (1.0 / 6) * detJ
+	rhs[1] += (1.0 / 6) * detJ
+	rhs[2] += (1.0 / 6) * detJ
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwSUPGCellGeomVal[q][0]
-		p2 := x[3] * fwSUPGCellGeomVal[q][1]
-		p3 := x[5] * fwSUPGCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingSUPGCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingSUPGCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingSUPGCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
-		coef1 := 0.1 * x1
-		p4 := fwSUPGCellGeomVal[q][0] * x[0]
-		p5 := fwSUPGCellGeomVal[q][1] * x[2]
-		p6 := fwSUPGCellGeomVal[q][2] * x[4]
+		a_2 := 0.1 * x1
+		p4 := fwEstuaryMixingSUPGCellGeomVal[q][0] * x[0]
+		p5 := fwEstuaryMixingSUPGCellGeomVal[q][1] * x[2]
+		p6 := fwEstuaryMixingSUPGCellGeomVal[q][2] * x[4]
 		x0 := p4 + p5 + p6
 		p7 := x0 * x0
 		p8 := (-0.25) * p7
-		coef2 := p8 + 1.0
+		a_1 := p8 + 1.0
 		p9 := 1.0 - x1
 		p10 := x1 * 0.05 * p9
-		p11 := 0.05 + p10
-		p12 := coef2 * coef2
-		p13 := coef1 * coef1
-		p14 := p12 + p13
-		p15 := math.Sqrt(p14)
-		p16 := 4.0 * p11
-		p17 := diameter * 2.0 * p15
-		p18 := c18 + p16 + p17
-		p19 := 1.0 / p18
-		p20 := c17 * p19
-		coef14 := coef1 * p20
-		coef3 := 0.1 * coef1 * p20
-		p21 := p13 * p20
+		kappa := 0.05 + p10
+		p11 := a_1 * a_1
+		p12 := a_2 * a_2
+		p13 := p11 + p12
+		p14 := math.Sqrt(p13)
+		p15 := 4.0 * kappa
+		p16 := h * 2.0 * p14
+		p17 := c18 + p15 + p16
+		p18 := 1.0 / p17
+		tau_salt := c17 * p18
+		coef14 := a_2 * tau_salt
+		coef3 := 0.1 * a_2 * tau_salt
+		p19 := p12 * tau_salt
+		p20 := x1 * (-0.1)
+		p21 := 0.05 + p20
+		p22 := a_2 * tau_salt * p21
+		coef4 := kappa + p19 - p22
+		coef6 := a_2 * a_1 * tau_salt
+		coef15 := a_1 * tau_salt
+		coef8 := 0.1 * a_1 * tau_salt
+		p23 := a_1 * tau_salt * p21
+		coef9 := coef6 - p23
+		p24 := p11 * tau_salt
+		coef11 := kappa + p24
+		w := detJ * fwEstuaryMixingSUPGCellWeights[q]
+		p25 := a_2 * w
+		p26 := p25 * c23
+		p27 := p25 * c22
+		p28 := p25 * k11
+		p29 := a_1 * w
+		p30 := p29 * c25
+		p31 := p26 + p30
+		p32 := p29 * k00
+		p33 := p32 - p27
+		p34 := p29 * c24
+		p35 := p28 - p34
+		p36 := coef3 * w
+		p37 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][0]
+		p38 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][1]
+		p39 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][2]
+		p40 := coef4 * w
+		p41 := c23 * p40
+		p42 := p37 + p41
+		p43 := c22 * p40
+		p44 := p38 - p43
+		p45 := k11 * p40
+		p46 := p39 + p45
+		p47 := coef6 * w
+		p48 := c25 * p47
+		p49 := p42 + p48
+		p50 := k00 * p47
+		p51 := p44 + p50
+		p52 := c24 * p47
+		p53 := p46 - p52
+		p54 := coef8 * w
+		p55 := fwEstuaryMixingSUPGCellBasis1Val[q][0] * p54
+		p56 := fwEstuaryMixingSUPGCellBasis1Val[q][1] * p54
+		p57 := fwEstuaryMixingSUPGCellBasis1Val[q][2] * p54
+		p58 := coef9 * w
+		p59 := c23 * p58
+		p60 := p55 + p59
+		p61 := c22 * p58
+		p62 := p56 - p61
+		p63 := k11 * p58
+		p64 := p57 + p63
+		p65 := coef11 * w
+		p66 := c25 * p65
+		p67 := p60 + p66
+		p68 := k00 * p65
+		p69 := p62 + p68
+		p70 := c24 * p65
+		p71 := p64 - p70
+		p72 := coef14 * w
+		p73 := coef15 * w
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  a[2] · ∂salt/∂y · v                             model.fw:12
+		//	  a[1] · ∂salt/∂x · v                             model.fw:12
+		//	  κ · ∂salt/∂y · ∂v/∂y                            model.fw:13
+		//	  κ · ∂salt/∂x · ∂v/∂x                            model.fw:13
+		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K               model.fw:20
+		//	  a[2] τ_salt/10 · salt · ∂v/∂y                   model.fw:17
+		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                 model.fw:17
+		//	  −a[2] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂y  model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y             model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y             model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y             model.fw:17
+		//	  a[1] τ_salt/10 · salt · ∂v/∂x                   model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x             model.fw:17
+		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x  model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x             model.fw:17
+		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                 model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x             model.fw:17
+		acc[0] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p31 + c23*p49 + c25*p67
+		acc[1] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
+		acc[2] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
+		acc[3] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p31 + k01*p49 + k00*p67
+		acc[4] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
+		acc[5] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
+		acc[6] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p31 + k11*p49 + k10*p67
+		acc[7] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
+		acc[8] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K  model.fw:20
+		//	  a[2] τ_salt · ∂v/∂y  model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x  model.fw:17
+		rhs[0] += c23*p72 + c25*p73
+		rhs[1] += k01*p72 + k00*p73
+		rhs[2] += k11*p72 + k10*p73
+	}
+	copy(A, acc[:])
+	copy(b, rhs[:])
+}
+
+// fwEstuaryMixingGLSLayout is the element layout of the gls kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
+var fwEstuaryMixingGLSLayout = kernel.Layout{
+	Cell:     cell.Triangle,
+	Geometry: element.MustLagrange(cell.Triangle, 1),
+	Fields: []kernel.FieldLayout{
+		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
+	},
+}
+
+// EstuaryMixingGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type EstuaryMixingGLSKernel struct{}
+
+var _ kernel.Kernel = EstuaryMixingGLSKernel{}
+
+// Layout implements kernel.Kernel.
+func (EstuaryMixingGLSKernel) Layout() kernel.Layout { return fwEstuaryMixingGLSLayout }
+
+// Degree is the quadrature degree the kernel integrates with.
+func (EstuaryMixingGLSKernel) Degree() int { return 3 }
+
+// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
+// determinant it fills A and b with NaN.
+func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+	A = A[:9:9]
+	b = b[:3:3]
+	x := in.Coords[:6:6]
+	// Per cell: geometry, cell quantities and coefficients constant in the cell.
+	c1 := x[0] - x[2]
+	c2 := c1 * c1
+	c3 := x[1] - x[3]
+	c4 := c3 * c3
+	c5 := c2 + c4
+	c6 := x[0] - x[4]
+	c7 := c6 * c6
+	c8 := x[1] - x[5]
+	c9 := c8 * c8
+	c10 := c7 + c9
+	c11 := max(c5, c10)
+	c12 := x[2] - x[4]
+	c13 := c12 * c12
+	c14 := x[3] - x[5]
+	c15 := c14 * c14
+	c16 := c13 + c15
+	c17 := max(c11, c16)
+	h := math.Sqrt(c17)
+	c18 := c17 * 0.1
+	j00 := x[2] - x[0]
+	j11 := x[5] - x[1]
+	c19 := j00 * j11
+	j01 := x[4] - x[0]
+	j10 := x[3] - x[1]
+	c20 := j01 * j10
+	detJ := c19 - c20
+	rdetJ := 1.0 / detJ
+	c21 := j01 * rdetJ
+	k01 := -c21
+	k11 := j00 * rdetJ
+	c22 := c21 - k11
+	k00 := j11 * rdetJ
+	c23 := j10 * rdetJ
+	k10 := -c23
+	c24 := c23 - k00
+	if !(detJ > 0) {
+		fwEstuaryMixingFillNaN(A, b)
+		return
+	}
+	var acc [9]float64
+	var rhs [3]float64
+	for q := 0; q < 4; q++ {
+		// Per quadrature point: geometry, coefficients, basis derivatives.
+		p1 := x[1] * fwEstuaryMixingGLSCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingGLSCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingGLSCellGeomVal[q][2]
+		x1 := p1 + p2 + p3
+		p4 := 1.0 - x1
+		p5 := 0.05 * x1 * p4
+		kappa := 0.05 + p5
+		p6 := x[0] * fwEstuaryMixingGLSCellGeomVal[q][0]
+		p7 := x[2] * fwEstuaryMixingGLSCellGeomVal[q][1]
+		p8 := x[4] * fwEstuaryMixingGLSCellGeomVal[q][2]
+		x0 := p6 + p7 + p8
+		p9 := x0 * x0
+		p10 := (-0.25) * p9
+		a_1 := 1.0 + p10
+		p11 := a_1 * a_1
+		a_2 := x1 * 0.1
+		p12 := a_2 * a_2
+		p13 := p11 + p12
+		p14 := math.Sqrt(p13)
+		p15 := 4.0 * kappa
+		p16 := h * 2.0 * p14
+		p17 := p15 + c18 + p16
+		p18 := 1.0 / p17
+		tau_salt := c17 * p18
+		p19 := 0.01 * tau_salt
+		coef0 := 0.1 + p19
+		p20 := a_2 * tau_salt
+		p21 := 0.1 * a_2 * tau_salt
 		p22 := x1 * (-0.1)
 		p23 := 0.05 + p22
-		p24 := coef1 * p20 * p23
-		coef4 := p11 + p21 - p24
-		coef6 := coef1 * coef2 * p20
-		coef15 := coef2 * p20
-		coef8 := 0.1 * coef2 * p20
-		p25 := coef2 * p20 * p23
-		coef9 := coef6 - p25
-		p26 := p12 * p20
-		coef11 := p11 + p26
-		w := detJ * fwSUPGCellWeights[q]
-		p27 := coef1 * w
-		p28 := p27 * c23
-		p29 := p27 * c22
-		p30 := p27 * k11
-		p31 := coef2 * w
-		p32 := p31 * c25
-		p33 := p28 + p32
-		p34 := p31 * k00
-		p35 := p34 - p29
-		p36 := p31 * c24
-		p37 := p30 - p36
-		p38 := coef3 * w
-		p39 := p38 * fwSUPGCellBasis1Val[q][0]
-		p40 := p38 * fwSUPGCellBasis1Val[q][1]
-		p41 := p38 * fwSUPGCellBasis1Val[q][2]
-		p42 := coef4 * w
-		p43 := c23 * p42
-		p44 := p39 + p43
-		p45 := c22 * p42
-		p46 := p40 - p45
-		p47 := k11 * p42
-		p48 := p41 + p47
-		p49 := coef6 * w
-		p50 := c25 * p49
-		p51 := p44 + p50
-		p52 := k00 * p49
-		p53 := p46 + p52
-		p54 := c24 * p49
-		p55 := p48 - p54
-		p56 := coef8 * w
-		p57 := fwSUPGCellBasis1Val[q][0] * p56
-		p58 := fwSUPGCellBasis1Val[q][1] * p56
-		p59 := fwSUPGCellBasis1Val[q][2] * p56
-		p60 := coef9 * w
-		p61 := c23 * p60
-		p62 := p57 + p61
-		p63 := c22 * p60
-		p64 := p58 - p63
-		p65 := k11 * p60
-		p66 := p59 + p65
-		p67 := coef11 * w
-		p68 := c25 * p67
-		p69 := p62 + p68
-		p70 := k00 * p67
-		p71 := p64 + p70
-		p72 := c24 * p67
-		p73 := p66 - p72
-		p74 := coef14 * w
-		p75 := coef15 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (a[2]) · partial(salt, y) · test(salt)   [model.fw:12]
-		//   - (a[1]) · partial(salt, x) · test(salt)   [model.fw:12]
-		//   - (a[2] τ_salt/10) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (κ + a[2]² τ_salt − a[2] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		acc[0] += fwSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
-		acc[1] += fwSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
-		acc[2] += fwSUPGCellBasis1Val[q][0]*p37 + c23*p55 + c25*p73
-		acc[3] += fwSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
-		acc[4] += fwSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
-		acc[5] += fwSUPGCellBasis1Val[q][1]*p37 + k01*p55 + k00*p73
-		acc[6] += fwSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
-		acc[7] += fwSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
-		acc[8] += fwSUPGCellBasis1Val[q][2]*p37 + k11*p55 + k10*p73
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - a[2] τ_salt · partial(test(salt), y)   [model.fw:17]
-		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
-		rhs[0] += c23*p74 + c25*p75
-		rhs[1] += k01*p74 + k00*p75
-		rhs[2] += k11*p74 + k10*p75
+		p24 := tau_salt * p23
+		p25 := tau_salt * (-0.1) * p23
+		coef1 := a_2 + p21 + p25
+		coef28 := a_1 * tau_salt
+		coef15 := a_1 * 0.1 * tau_salt
+		coef3 := a_1 + coef15
+		coef5 := p21 + p25
+		p26 := p23 * p23
+		p27 := tau_salt * p26
+		p28 := p12 * tau_salt
+		p29 := a_2 * tau_salt * p23 * (-2.0)
+		coef6 := kappa + p27 + p28 + p29
+		p30 := a_1 * a_2 * tau_salt
+		p31 := a_1 * tau_salt * p23
+		coef8 := p30 - p31
+		p32 := p11 * tau_salt
+		coef18 := kappa + p32
+		p33 := 0.1 * tau_salt
+		coef25 := 1.0 + p33
+		coef26 := p20 - p24
+		w := detJ * fwEstuaryMixingGLSCellWeights[q]
+		p34 := coef0 * w
+		p35 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][0]
+		p36 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][1]
+		p37 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][2]
+		p38 := coef1 * w
+		p39 := p38 * c22
+		p40 := p35 + p39
+		p41 := p38 * c21
+		p42 := p36 - p41
+		p43 := p38 * k11
+		p44 := p37 + p43
+		p45 := coef3 * w
+		p46 := c24 * p45
+		p47 := p40 + p46
+		p48 := k00 * p45
+		p49 := p42 + p48
+		p50 := c23 * p45
+		p51 := p44 - p50
+		p52 := coef5 * w
+		p53 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p52
+		p54 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p52
+		p55 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p52
+		p56 := coef6 * w
+		p57 := c22 * p56
+		p58 := p53 + p57
+		p59 := c21 * p56
+		p60 := p54 - p59
+		p61 := k11 * p56
+		p62 := p55 + p61
+		p63 := coef8 * w
+		p64 := c24 * p63
+		p65 := p58 + p64
+		p66 := k00 * p63
+		p67 := p60 + p66
+		p68 := c23 * p63
+		p69 := p62 - p68
+		p70 := coef15 * w
+		p71 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p70
+		p72 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p70
+		p73 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p70
+		p74 := c22 * p63
+		p75 := p71 + p74
+		p76 := c21 * p63
+		p77 := p72 - p76
+		p78 := k11 * p63
+		p79 := p73 + p78
+		p80 := coef18 * w
+		p81 := c24 * p80
+		p82 := p75 + p81
+		p83 := k00 * p80
+		p84 := p77 + p83
+		p85 := c23 * p80
+		p86 := p79 - p85
+		p87 := coef25 * w
+		p88 := coef26 * w
+		p89 := coef28 * w
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  1/10 · salt · v                                   model.fw:17
+		//	  a[2] · ∂salt/∂y · v                               model.fw:12
+		//	  a[1] · ∂salt/∂x · v                               model.fw:12
+		//	  κ · ∂salt/∂y · ∂v/∂y                              model.fw:13
+		//	  κ · ∂salt/∂x · ∂v/∂x                              model.fw:13
+		//	GLS: + Σ_K (τ_salt R_salt, −κ Δv + σ v + a·∇v − ∇κ·∇v)_K  model.fw:20
+		//	  τ_salt/100 · salt · v                             model.fw:17
+		//	  a[2] τ_salt/10 · ∂salt/∂y · v                     model.fw:17
+		//	  −τ_salt (−y/10 + 1/20)/10 · ∂salt/∂y · v          model.fw:17
+		//	  −κ τ_salt/10 · ∂²salt/∂y² · v                     model.fw:17
+		//	  a[1] τ_salt/10 · ∂salt/∂x · v                     model.fw:17
+		//	  −κ τ_salt/10 · ∂²salt/∂x² · v                     model.fw:17
+		//	  a[2] τ_salt/10 · salt · ∂v/∂y                     model.fw:17
+		//	  −τ_salt (−y/10 + 1/20)/10 · salt · ∂v/∂y          model.fw:17
+		//	  τ_salt (−y/10 + 1/20)² · ∂salt/∂y · ∂v/∂y         model.fw:17
+		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                   model.fw:17
+		//	  −2 a[2] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂y  model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y               model.fw:17
+		//	  κ τ_salt (−y/10 + 1/20) · ∂²salt/∂y² · ∂v/∂y      model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y               model.fw:17
+		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂x · ∂v/∂y    model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y               model.fw:17
+		//	  κ τ_salt (−y/10 + 1/20) · ∂²salt/∂x² · ∂v/∂y      model.fw:17
+		//	  −κ τ_salt/10 · salt · ∂²v/∂y²                     model.fw:17
+		//	  −a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂y²               model.fw:17
+		//	  κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂y²      model.fw:17
+		//	  κ² τ_salt · ∂²salt/∂y² · ∂²v/∂y²                  model.fw:17
+		//	  −a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂y²               model.fw:17
+		//	  κ² τ_salt · ∂²salt/∂x² · ∂²v/∂y²                  model.fw:17
+		//	  a[1] τ_salt/10 · salt · ∂v/∂x                     model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x               model.fw:17
+		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x    model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x               model.fw:17
+		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                   model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x               model.fw:17
+		//	  −κ τ_salt/10 · salt · ∂²v/∂x²                     model.fw:17
+		//	  −a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂x²               model.fw:17
+		//	  κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂x²      model.fw:17
+		//	  κ² τ_salt · ∂²salt/∂y² · ∂²v/∂x²                  model.fw:17
+		//	  −a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂x²               model.fw:17
+		//	  κ² τ_salt · ∂²salt/∂x² · ∂²v/∂x²                  model.fw:17
+		acc[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p47 + c22*p65 + c24*p82
+		acc[1] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p49 + c22*p67 + c24*p84
+		acc[2] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
+		acc[3] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p47 + k01*p65 + k00*p82
+		acc[4] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p49 + k01*p67 + k00*p84
+		acc[5] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
+		acc[6] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p47 + k11*p65 + k10*p82
+		acc[7] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p49 + k11*p67 + k10*p84
+		acc[8] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  v                               model.fw:17
+		//	GLS: + Σ_K (τ_salt R_salt, −κ Δv + σ v + a·∇v − ∇κ·∇v)_K  model.fw:20
+		//	  τ_salt/10 · v                   model.fw:17
+		//	  a[2] τ_salt · ∂v/∂y             model.fw:17
+		//	  −τ_salt (−y/10 + 1/20) · ∂v/∂y  model.fw:17
+		//	  −κ τ_salt · ∂²v/∂y²             model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x             model.fw:17
+		//	  −κ τ_salt · ∂²v/∂x²             model.fw:17
+		rhs[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p87 + c22*p88 + c24*p89
+		rhs[1] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p87 + k01*p88 + k00*p89
+		rhs[2] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p87 + k11*p88 + k10*p89
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwGLSLayout = kernel.Layout{
+// fwEstuaryMixingVMSLayout is the element layout of the vms kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 3 local dofs.
+var fwEstuaryMixingVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -386,22 +673,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GLSKernel struct{}
+// EstuaryMixingVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type EstuaryMixingVMSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = EstuaryMixingVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (EstuaryMixingVMSKernel) Layout() kernel.Layout { return fwEstuaryMixingVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 3 }
+func (EstuaryMixingVMSKernel) Degree() int { return 3 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
@@ -423,7 +710,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
+	h := math.Sqrt(c17)
 	c18 := c17 * 0.1
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
@@ -442,411 +729,211 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	k10 := -c23
 	c24 := c23 - k00
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwEstuaryMixingFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
 	var rhs [3]float64
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwGLSCellGeomVal[q][0]
-		p2 := x[3] * fwGLSCellGeomVal[q][1]
-		p3 := x[5] * fwGLSCellGeomVal[q][2]
+		p1 := x[1] * fwEstuaryMixingVMSCellGeomVal[q][0]
+		p2 := x[3] * fwEstuaryMixingVMSCellGeomVal[q][1]
+		p3 := x[5] * fwEstuaryMixingVMSCellGeomVal[q][2]
 		x1 := p1 + p2 + p3
 		p4 := 1.0 - x1
 		p5 := 0.05 * x1 * p4
-		p6 := 0.05 + p5
-		p7 := x[0] * fwGLSCellGeomVal[q][0]
-		p8 := x[2] * fwGLSCellGeomVal[q][1]
-		p9 := x[4] * fwGLSCellGeomVal[q][2]
-		x0 := p7 + p8 + p9
-		p10 := x0 * x0
-		p11 := (-0.25) * p10
-		p12 := 1.0 + p11
-		p13 := p12 * p12
-		p14 := x1 * 0.1
-		p15 := p14 * p14
-		p16 := p13 + p15
-		p17 := math.Sqrt(p16)
-		p18 := 4.0 * p6
-		p19 := diameter * 2.0 * p17
-		p20 := p18 + c18 + p19
-		p21 := 1.0 / p20
-		p22 := c17 * p21
-		p23 := 0.01 * p22
-		coef0 := 0.1 + p23
-		p24 := p14 * p22
-		p25 := 0.1 * p14 * p22
+		kappa := 0.05 + p5
+		p6 := x[0] * fwEstuaryMixingVMSCellGeomVal[q][0]
+		p7 := x[2] * fwEstuaryMixingVMSCellGeomVal[q][1]
+		p8 := x[4] * fwEstuaryMixingVMSCellGeomVal[q][2]
+		x0 := p6 + p7 + p8
+		p9 := x0 * x0
+		p10 := (-0.25) * p9
+		a_1 := 1.0 + p10
+		p11 := a_1 * a_1
+		a_2 := x1 * 0.1
+		p12 := a_2 * a_2
+		p13 := p11 + p12
+		p14 := math.Sqrt(p13)
+		p15 := 4.0 * kappa
+		p16 := h * 2.0 * p14
+		p17 := p15 + c18 + p16
+		p18 := 1.0 / p17
+		tau_salt := c17 * p18
+		p19 := (-0.01) * tau_salt
+		p20 := x0 * (-0.5)
+		p21 := 0.1 + p20
+		p22 := tau_salt * p21
+		p23 := 0.1 * tau_salt * p21
+		coef0 := 0.1 + p19 + p23
+		p24 := a_2 * tau_salt
+		p25 := a_2 * tau_salt * (-0.1)
 		p26 := x1 * (-0.1)
 		p27 := 0.05 + p26
-		p28 := p22 * p27
-		p29 := p22 * (-0.1) * p27
-		coef1 := p14 + p25 + p29
-		coef28 := p12 * p22
-		coef15 := p12 * 0.1 * p22
-		coef3 := p12 + coef15
-		coef5 := p25 + p29
-		p30 := p27 * p27
-		p31 := p22 * p30
-		p32 := p15 * p22
-		p33 := p14 * p22 * p27 * (-2.0)
-		coef6 := p6 + p31 + p32 + p33
-		p34 := p12 * p14 * p22
-		p35 := p12 * p22 * p27
-		coef8 := p34 - p35
-		p36 := p13 * p22
-		coef18 := p6 + p36
-		p37 := 0.1 * p22
-		coef25 := 1.0 + p37
-		coef26 := p24 - p28
-		w := detJ * fwGLSCellWeights[q]
-		p38 := coef0 * w
-		p39 := p38 * fwGLSCellBasis1Val[q][0]
-		p40 := p38 * fwGLSCellBasis1Val[q][1]
-		p41 := p38 * fwGLSCellBasis1Val[q][2]
-		p42 := coef1 * w
-		p43 := p42 * c22
-		p44 := p39 + p43
-		p45 := p42 * c21
-		p46 := p40 - p45
-		p47 := p42 * k11
-		p48 := p41 + p47
-		p49 := coef3 * w
-		p50 := c24 * p49
-		p51 := p44 + p50
-		p52 := k00 * p49
-		p53 := p46 + p52
-		p54 := c23 * p49
-		p55 := p48 - p54
-		p56 := coef5 * w
-		p57 := fwGLSCellBasis1Val[q][0] * p56
-		p58 := fwGLSCellBasis1Val[q][1] * p56
-		p59 := fwGLSCellBasis1Val[q][2] * p56
-		p60 := coef6 * w
-		p61 := c22 * p60
-		p62 := p57 + p61
-		p63 := c21 * p60
-		p64 := p58 - p63
-		p65 := k11 * p60
-		p66 := p59 + p65
-		p67 := coef8 * w
-		p68 := c24 * p67
-		p69 := p62 + p68
-		p70 := k00 * p67
-		p71 := p64 + p70
-		p72 := c23 * p67
-		p73 := p66 - p72
-		p74 := coef15 * w
-		p75 := fwGLSCellBasis1Val[q][0] * p74
-		p76 := fwGLSCellBasis1Val[q][1] * p74
-		p77 := fwGLSCellBasis1Val[q][2] * p74
-		p78 := c22 * p67
-		p79 := p75 + p78
-		p80 := c21 * p67
-		p81 := p76 - p80
-		p82 := k11 * p67
-		p83 := p77 + p82
-		p84 := coef18 * w
-		p85 := c24 * p84
-		p86 := p79 + p85
-		p87 := k00 * p84
+		p28 := tau_salt * p27
+		p29 := 0.1 * tau_salt * p27
+		p30 := a_2 * tau_salt * p21
+		p31 := tau_salt * p21 * p27
+		coef1 := a_2 + p25 + p29 + p30 - p31
+		coef28 := a_1 * tau_salt
+		p32 := a_1 * tau_salt * (-0.1)
+		p33 := a_1 * tau_salt * p21
+		coef3 := a_1 + p32 + p33
+		p34 := 0.1 * a_2 * tau_salt
+		coef5 := p29 + p34
+		p35 := p27 * p27
+		p36 := tau_salt * p35
+		p37 := p12 * tau_salt
+		coef6 := kappa - p36 + p37
+		p38 := a_1 * a_2 * tau_salt
+		p39 := a_1 * tau_salt * p27
+		coef8 := p38 + p39
+		coef15 := a_1 * 0.1 * tau_salt
+		coef16 := p38 - p39
+		p40 := p11 * tau_salt
+		coef18 := kappa + p40
+		p41 := tau_salt * (-0.1)
+		coef25 := 1.0 + p22 + p41
+		coef26 := p24 + p28
+		w := detJ * fwEstuaryMixingVMSCellWeights[q]
+		p42 := coef0 * w
+		p43 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][0]
+		p44 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][1]
+		p45 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][2]
+		p46 := coef1 * w
+		p47 := p46 * c22
+		p48 := p43 + p47
+		p49 := p46 * c21
+		p50 := p44 - p49
+		p51 := p46 * k11
+		p52 := p45 + p51
+		p53 := coef3 * w
+		p54 := c24 * p53
+		p55 := p48 + p54
+		p56 := k00 * p53
+		p57 := p50 + p56
+		p58 := c23 * p53
+		p59 := p52 - p58
+		p60 := coef5 * w
+		p61 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p60
+		p62 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p60
+		p63 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p60
+		p64 := coef6 * w
+		p65 := c22 * p64
+		p66 := p61 + p65
+		p67 := c21 * p64
+		p68 := p62 - p67
+		p69 := k11 * p64
+		p70 := p63 + p69
+		p71 := coef8 * w
+		p72 := c24 * p71
+		p73 := p66 + p72
+		p74 := k00 * p71
+		p75 := p68 + p74
+		p76 := c23 * p71
+		p77 := p70 - p76
+		p78 := coef15 * w
+		p79 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p78
+		p80 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p78
+		p81 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p78
+		p82 := coef16 * w
+		p83 := c22 * p82
+		p84 := p79 + p83
+		p85 := c21 * p82
+		p86 := p80 - p85
+		p87 := k11 * p82
 		p88 := p81 + p87
-		p89 := c23 * p84
-		p90 := p83 - p89
-		p91 := coef25 * w
-		p92 := coef26 * w
-		p93 := coef28 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (τ_salt/100 + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (a[2] + a[2] τ_salt/10 − τ_salt (−y/10 + 1/20)/10) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (−κ τ_salt/10) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (a[1] + a[1] τ_salt/10) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - (−κ τ_salt/10) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (a[2] τ_salt/10 − τ_salt (−y/10 + 1/20)/10) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (κ + τ_salt (−y/10 + 1/20)² + a[2]² τ_salt − 2 a[2] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−κ τ_salt/10) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (κ² τ_salt) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (κ² τ_salt) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−κ τ_salt/10) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
-		acc[1] += fwGLSCellBasis1Val[q][0]*p53 + c22*p71 + c24*p88
-		acc[2] += fwGLSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p90
-		acc[3] += fwGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
-		acc[4] += fwGLSCellBasis1Val[q][1]*p53 + k01*p71 + k00*p88
-		acc[5] += fwGLSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p90
-		acc[6] += fwGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
-		acc[7] += fwGLSCellBasis1Val[q][2]*p53 + k11*p71 + k10*p88
-		acc[8] += fwGLSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p90
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - τ_salt/10 + 1 · test(salt)   [model.fw:17]
-		//   - a[2] τ_salt − τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
-		//   - −κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
-		//   - −κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwGLSCellBasis1Val[q][0]*p91 + c22*p92 + c24*p93
-		rhs[1] += fwGLSCellBasis1Val[q][1]*p91 + k01*p92 + k00*p93
-		rhs[2] += fwGLSCellBasis1Val[q][2]*p91 + k11*p92 + k10*p93
+		p89 := coef18 * w
+		p90 := c24 * p89
+		p91 := p84 + p90
+		p92 := k00 * p89
+		p93 := p86 + p92
+		p94 := c23 * p89
+		p95 := p88 - p94
+		p96 := coef25 * w
+		p97 := coef26 * w
+		p98 := coef28 * w
+		// Rows 0..2, columns 0..2, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  1/10 · salt · v                                      model.fw:17
+		//	  a[2] · ∂salt/∂y · v                                  model.fw:12
+		//	  a[1] · ∂salt/∂x · v                                  model.fw:12
+		//	  κ · ∂salt/∂y · ∂v/∂y                                 model.fw:13
+		//	  κ · ∂salt/∂x · ∂v/∂x                                 model.fw:13
+		//	VMS: − Σ_K (τ_salt R_salt, −κ Δv + σ v − (∇·a) v − a·∇v − ∇κ·∇v)_K  model.fw:20
+		//	  −τ_salt/100 · salt · v                               model.fw:17
+		//	  τ_salt (−x/2 + 1/10)/10 · salt · v                   model.fw:17
+		//	  −a[2] τ_salt/10 · ∂salt/∂y · v                       model.fw:17
+		//	  τ_salt (−y/10 + 1/20)/10 · ∂salt/∂y · v              model.fw:17
+		//	  a[2] τ_salt (−x/2 + 1/10) · ∂salt/∂y · v             model.fw:17
+		//	  −τ_salt (−x/2 + 1/10) (−y/10 + 1/20) · ∂salt/∂y · v  model.fw:17
+		//	  κ τ_salt/10 · ∂²salt/∂y² · v                         model.fw:17
+		//	  −κ τ_salt (−x/2 + 1/10) · ∂²salt/∂y² · v             model.fw:17
+		//	  −a[1] τ_salt/10 · ∂salt/∂x · v                       model.fw:17
+		//	  a[1] τ_salt (−x/2 + 1/10) · ∂salt/∂x · v             model.fw:17
+		//	  κ τ_salt/10 · ∂²salt/∂x² · v                         model.fw:17
+		//	  −κ τ_salt (−x/2 + 1/10) · ∂²salt/∂x² · v             model.fw:17
+		//	  a[2] τ_salt/10 · salt · ∂v/∂y                        model.fw:17
+		//	  τ_salt (−y/10 + 1/20)/10 · salt · ∂v/∂y              model.fw:17
+		//	  −τ_salt (−y/10 + 1/20)² · ∂salt/∂y · ∂v/∂y           model.fw:17
+		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                      model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y                  model.fw:17
+		//	  −κ τ_salt (−y/10 + 1/20) · ∂²salt/∂y² · ∂v/∂y        model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y                  model.fw:17
+		//	  a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂x · ∂v/∂y        model.fw:17
+		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y                  model.fw:17
+		//	  −κ τ_salt (−y/10 + 1/20) · ∂²salt/∂x² · ∂v/∂y        model.fw:17
+		//	  κ τ_salt/10 · salt · ∂²v/∂y²                         model.fw:17
+		//	  a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂y²                   model.fw:17
+		//	  −κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂y²        model.fw:17
+		//	  −κ² τ_salt · ∂²salt/∂y² · ∂²v/∂y²                    model.fw:17
+		//	  a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂y²                   model.fw:17
+		//	  −κ² τ_salt · ∂²salt/∂x² · ∂²v/∂y²                    model.fw:17
+		//	  a[1] τ_salt/10 · salt · ∂v/∂x                        model.fw:17
+		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x                  model.fw:17
+		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x       model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x                  model.fw:17
+		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                      model.fw:17
+		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x                  model.fw:17
+		//	  κ τ_salt/10 · salt · ∂²v/∂x²                         model.fw:17
+		//	  a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂x²                   model.fw:17
+		//	  −κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂x²        model.fw:17
+		//	  −κ² τ_salt · ∂²salt/∂y² · ∂²v/∂x²                    model.fw:17
+		//	  a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂x²                   model.fw:17
+		//	  −κ² τ_salt · ∂²salt/∂x² · ∂²v/∂x²                    model.fw:17
+		acc[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p91
+		acc[1] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p57 + c22*p75 + c24*p93
+		acc[2] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
+		acc[3] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p91
+		acc[4] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p57 + k01*p75 + k00*p93
+		acc[5] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
+		acc[6] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p91
+		acc[7] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p57 + k11*p75 + k10*p93
+		acc[8] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
+		//	  v                              model.fw:17
+		//	VMS: − Σ_K (τ_salt R_salt, −κ Δv + σ v − (∇·a) v − a·∇v − ∇κ·∇v)_K  model.fw:20
+		//	  −τ_salt/10 · v                 model.fw:17
+		//	  τ_salt (−x/2 + 1/10) · v       model.fw:17
+		//	  a[2] τ_salt · ∂v/∂y            model.fw:17
+		//	  τ_salt (−y/10 + 1/20) · ∂v/∂y  model.fw:17
+		//	  κ τ_salt · ∂²v/∂y²             model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x            model.fw:17
+		//	  κ τ_salt · ∂²v/∂x²             model.fw:17
+		rhs[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p96 + c22*p97 + c24*p98
+		rhs[1] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p96 + k01*p97 + k00*p98
+		rhs[2] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p96 + k11*p97 + k10*p98
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
-var fwVMSLayout = kernel.Layout{
-	Cell:     cell.Triangle,
-	Geometry: element.MustLagrange(cell.Triangle, 1),
-	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Triangle, 1), Components: 1}, // salt P1
-	},
-}
-
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 3 (4 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type VMSKernel struct{}
-
-var _ kernel.Kernel = VMSKernel{}
-
-// Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
-
-// Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 3 }
-
-// Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
-// determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
-	A = A[:9:9]
-	b = b[:3:3]
-	x := in.Coords[:6:6]
-	// Per cell: geometry, cell quantities and coefficients constant in the cell.
-	c1 := x[0] - x[2]
-	c2 := c1 * c1
-	c3 := x[1] - x[3]
-	c4 := c3 * c3
-	c5 := c2 + c4
-	c6 := x[0] - x[4]
-	c7 := c6 * c6
-	c8 := x[1] - x[5]
-	c9 := c8 * c8
-	c10 := c7 + c9
-	c11 := max(c5, c10)
-	c12 := x[2] - x[4]
-	c13 := c12 * c12
-	c14 := x[3] - x[5]
-	c15 := c14 * c14
-	c16 := c13 + c15
-	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := c17 * 0.1
-	j00 := x[2] - x[0]
-	j11 := x[5] - x[1]
-	c19 := j00 * j11
-	j01 := x[4] - x[0]
-	j10 := x[3] - x[1]
-	c20 := j01 * j10
-	detJ := c19 - c20
-	rdetJ := 1.0 / detJ
-	c21 := j01 * rdetJ
-	k01 := -c21
-	k11 := j00 * rdetJ
-	c22 := c21 - k11
-	k00 := j11 * rdetJ
-	c23 := j10 * rdetJ
-	k10 := -c23
-	c24 := c23 - k00
-	if !(detJ > 0) {
-		fwFillNaN(A, b)
-		return
-	}
-	var acc [9]float64
-	var rhs [3]float64
-	for q := 0; q < 4; q++ {
-		// Per quadrature point: geometry, coefficients, basis derivatives.
-		p1 := x[1] * fwVMSCellGeomVal[q][0]
-		p2 := x[3] * fwVMSCellGeomVal[q][1]
-		p3 := x[5] * fwVMSCellGeomVal[q][2]
-		x1 := p1 + p2 + p3
-		p4 := 1.0 - x1
-		p5 := 0.05 * x1 * p4
-		p6 := 0.05 + p5
-		p7 := x[0] * fwVMSCellGeomVal[q][0]
-		p8 := x[2] * fwVMSCellGeomVal[q][1]
-		p9 := x[4] * fwVMSCellGeomVal[q][2]
-		x0 := p7 + p8 + p9
-		p10 := x0 * x0
-		p11 := (-0.25) * p10
-		p12 := 1.0 + p11
-		p13 := p12 * p12
-		p14 := x1 * 0.1
-		p15 := p14 * p14
-		p16 := p13 + p15
-		p17 := math.Sqrt(p16)
-		p18 := 4.0 * p6
-		p19 := diameter * 2.0 * p17
-		p20 := p18 + c18 + p19
-		p21 := 1.0 / p20
-		p22 := c17 * p21
-		p23 := (-0.01) * p22
-		p24 := x0 * (-0.5)
-		p25 := 0.1 + p24
-		p26 := p22 * p25
-		p27 := 0.1 * p22 * p25
-		coef0 := 0.1 + p23 + p27
-		p28 := p14 * p22
-		p29 := p14 * p22 * (-0.1)
-		p30 := x1 * (-0.1)
-		p31 := 0.05 + p30
-		p32 := p22 * p31
-		p33 := 0.1 * p22 * p31
-		p34 := p14 * p22 * p25
-		p35 := p22 * p25 * p31
-		coef1 := p14 + p29 + p33 + p34 - p35
-		coef28 := p12 * p22
-		p36 := p12 * p22 * (-0.1)
-		p37 := p12 * p22 * p25
-		coef3 := p12 + p36 + p37
-		p38 := 0.1 * p14 * p22
-		coef5 := p33 + p38
-		p39 := p31 * p31
-		p40 := p22 * p39
-		p41 := p15 * p22
-		coef6 := p6 - p40 + p41
-		p42 := p12 * p14 * p22
-		p43 := p12 * p22 * p31
-		coef8 := p42 + p43
-		coef15 := p12 * 0.1 * p22
-		coef16 := p42 - p43
-		p44 := p13 * p22
-		coef18 := p6 + p44
-		p45 := p22 * (-0.1)
-		coef25 := 1.0 + p26 + p45
-		coef26 := p28 + p32
-		w := detJ * fwVMSCellWeights[q]
-		p46 := coef0 * w
-		p47 := p46 * fwVMSCellBasis1Val[q][0]
-		p48 := p46 * fwVMSCellBasis1Val[q][1]
-		p49 := p46 * fwVMSCellBasis1Val[q][2]
-		p50 := coef1 * w
-		p51 := p50 * c22
-		p52 := p47 + p51
-		p53 := p50 * c21
-		p54 := p48 - p53
-		p55 := p50 * k11
-		p56 := p49 + p55
-		p57 := coef3 * w
-		p58 := c24 * p57
-		p59 := p52 + p58
-		p60 := k00 * p57
-		p61 := p54 + p60
-		p62 := c23 * p57
-		p63 := p56 - p62
-		p64 := coef5 * w
-		p65 := fwVMSCellBasis1Val[q][0] * p64
-		p66 := fwVMSCellBasis1Val[q][1] * p64
-		p67 := fwVMSCellBasis1Val[q][2] * p64
-		p68 := coef6 * w
-		p69 := c22 * p68
-		p70 := p65 + p69
-		p71 := c21 * p68
-		p72 := p66 - p71
-		p73 := k11 * p68
-		p74 := p67 + p73
-		p75 := coef8 * w
-		p76 := c24 * p75
-		p77 := p70 + p76
-		p78 := k00 * p75
-		p79 := p72 + p78
-		p80 := c23 * p75
-		p81 := p74 - p80
-		p82 := coef15 * w
-		p83 := fwVMSCellBasis1Val[q][0] * p82
-		p84 := fwVMSCellBasis1Val[q][1] * p82
-		p85 := fwVMSCellBasis1Val[q][2] * p82
-		p86 := coef16 * w
-		p87 := c22 * p86
-		p88 := p83 + p87
-		p89 := c21 * p86
-		p90 := p84 - p89
-		p91 := k11 * p86
-		p92 := p85 + p91
-		p93 := coef18 * w
-		p94 := c24 * p93
-		p95 := p88 + p94
-		p96 := k00 * p93
-		p97 := p90 + p96
-		p98 := c23 * p93
-		p99 := p92 - p98
-		p100 := coef25 * w
-		p101 := coef26 * w
-		p102 := coef28 * w
-		// At each quadrature point: rows 0..2, columns 0..2:
-		//   - (−τ_salt/100 + τ_salt (−x/2 + 1/10)/10 + 1/10) · salt · test(salt)   [model.fw:17]
-		//   - (a[2] − a[2] τ_salt/10 + τ_salt (−y/10 + 1/20)/10 + a[2] τ_salt (−x/2 + 1/10) − τ_salt (−x/2 + 1/10) (−y/10 + 1/20)) · partial(salt, y) · test(salt)   [model.fw:17]
-		//   - (κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) · partial(salt, y, y) · test(salt)   [model.fw:17]
-		//   - (a[1] − a[1] τ_salt/10 + a[1] τ_salt (−x/2 + 1/10)) · partial(salt, x) · test(salt)   [model.fw:17]
-		//   - (κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) · partial(salt, x, x) · test(salt)   [model.fw:17]
-		//   - (a[2] τ_salt/10 + τ_salt (−y/10 + 1/20)/10) · salt · partial(test(salt), y)   [model.fw:17]
-		//   - (κ − τ_salt (−y/10 + 1/20)² + a[2]² τ_salt) · partial(salt, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y, y) · partial(test(salt), y)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt + a[1] τ_salt (−y/10 + 1/20)) · partial(salt, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, x, x) · partial(test(salt), y)   [model.fw:17]
-		//   - (κ τ_salt/10) · salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - (a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−κ² τ_salt) · partial(salt, y, y) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (−κ² τ_salt) · partial(salt, x, x) · partial(test(salt), y, y)   [model.fw:17]
-		//   - (a[1] τ_salt/10) · salt · partial(test(salt), x)   [model.fw:17]
-		//   - (a[1] a[2] τ_salt − a[1] τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, y, y) · partial(test(salt), x)   [model.fw:17]
-		//   - (κ + a[1]² τ_salt) · partial(salt, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (−a[1] κ τ_salt) · partial(salt, x, x) · partial(test(salt), x)   [model.fw:17]
-		//   - (κ τ_salt/10) · salt · partial(test(salt), x, x)   [model.fw:17]
-		//   - (a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) · partial(salt, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−κ² τ_salt) · partial(salt, y, y) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (a[1] κ τ_salt) · partial(salt, x) · partial(test(salt), x, x)   [model.fw:17]
-		//   - (−κ² τ_salt) · partial(salt, x, x) · partial(test(salt), x, x)   [model.fw:17]
-		acc[0] += fwVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
-		acc[1] += fwVMSCellBasis1Val[q][0]*p61 + c22*p79 + c24*p97
-		acc[2] += fwVMSCellBasis1Val[q][0]*p63 + c22*p81 + c24*p99
-		acc[3] += fwVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
-		acc[4] += fwVMSCellBasis1Val[q][1]*p61 + k01*p79 + k00*p97
-		acc[5] += fwVMSCellBasis1Val[q][1]*p63 + k01*p81 + k00*p99
-		acc[6] += fwVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
-		acc[7] += fwVMSCellBasis1Val[q][2]*p61 + k11*p79 + k10*p97
-		acc[8] += fwVMSCellBasis1Val[q][2]*p63 + k11*p81 + k10*p99
-		// At each quadrature point: rows 0..2 of the right-hand side:
-		//   - −τ_salt/10 + τ_salt (−x/2 + 1/10) + 1 · test(salt)   [model.fw:17]
-		//   - a[2] τ_salt + τ_salt (−y/10 + 1/20) · partial(test(salt), y)   [model.fw:17]
-		//   - κ τ_salt · partial(test(salt), y, y)   [model.fw:17]
-		//   - a[1] τ_salt · partial(test(salt), x)   [model.fw:17]
-		//   - κ τ_salt · partial(test(salt), x, x)   [model.fw:17]
-		rhs[0] += fwVMSCellBasis1Val[q][0]*p100 + c22*p101 + c24*p102
-		rhs[1] += fwVMSCellBasis1Val[q][1]*p100 + k01*p101 + k00*p102
-		rhs[2] += fwVMSCellBasis1Val[q][2]*p100 + k11*p101 + k10*p102
-	}
-	copy(A, acc[:])
-	copy(b, rhs[:])
-}
-
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+// fwEstuaryMixingFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
+func fwEstuaryMixingFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}
@@ -855,57 +942,57 @@ func fwFillNaN(A, b []float64) {
 	}
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
-	fwGalerkinCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingGalerkinCellGeomVal = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGalerkinCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingGalerkinCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
+	fwEstuaryMixingGalerkinCellBasis1Val = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwSUPGCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingSUPGCellGeomVal = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwSUPGCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwSUPGCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingSUPGCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
+	fwEstuaryMixingSUPGCellBasis1Val = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGLSCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingGLSCellGeomVal = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwGLSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
+	fwEstuaryMixingGLSCellBasis1Val = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwVMSCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingVMSCellGeomVal = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwVMSCellWeights   = [4]float64{-0.28125, 0.2604166666666667, 0.2604166666666667, 0.2604166666666667}
-	fwVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 0.3333333333333333, 0.3333333333333333},
+	fwEstuaryMixingVMSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
+	fwEstuaryMixingVMSCellBasis1Val = [4][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
 		{0.6000000000000001, 0.2, 0.2},
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},

@@ -13,35 +13,44 @@ import (
 )
 
 func init() {
-	compiled.Register("ed7abae3af71fa673f5c1fc7756bbc68", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+	compiled.Register("ec0fbc09ef2e9b00bcb8358cbaecd27c", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerGalerkinKernel{}
+		},
 	})
-	compiled.Register("636eb83badee58e95ade0b63804b5065", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+	compiled.Register("6181b75f4d7a4d6c3a7d22007f0cefbd", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerSUPGKernel{}
+		},
 	})
-	compiled.Register("8f99086b90efb109f50254405be6b8b8", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+	compiled.Register("a305dc9bb73625536dd0d50d3bcc119d", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerGLSKernel{}
+		},
 	})
-	compiled.Register("b09bc5943f0e88a55ebc92cd229e628f", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Interval,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+	compiled.Register("b57b4bc2d8eddccf24442e823202fb41", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Interval,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return RiverOutfallLayerVMSKernel{}
+		},
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+// fwRiverOutfallLayerGalerkinLayout is the element layout of the galerkin
+// kernels: interval cells, fields in local dof order (field-major, then
+// component, then element node); 2 local dofs.
+var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -49,22 +58,24 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GalerkinKernel struct{}
+// RiverOutfallLayerGalerkinKernel is the generated cell kernel of the galerkin
+// form on interval cells, quadrature degree 1 (1 point). It implements
+// kernel.Kernel, keeps no state and does not allocate.
+type RiverOutfallLayerGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = RiverOutfallLayerGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (RiverOutfallLayerGalerkinKernel) Layout() kernel.Layout {
+	return fwRiverOutfallLayerGalerkinLayout
+}
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (RiverOutfallLayerGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
@@ -73,22 +84,26 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c1 := 0.002 * rdetJ
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
+	//	  ∂c/∂x · v              model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c1
 	A[1] = 0.5 - c1
 	A[2] = (-0.5) - c1
 	A[3] = 0.5 + c1
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
-var fwSUPGLayout = kernel.Layout{
+// fwRiverOutfallLayerSUPGLayout is the element layout of the supg kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
+var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -96,59 +111,65 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type SUPGKernel struct{}
+// RiverOutfallLayerSUPGKernel is the generated cell kernel of the supg form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type RiverOutfallLayerSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = RiverOutfallLayerSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (RiverOutfallLayerSUPGKernel) Layout() kernel.Layout { return fwRiverOutfallLayerSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (RiverOutfallLayerSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
+	//	  ∂c/∂x · v                   model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x       model.fw:18
+	//	SUPG: + Σ_K (τ_c R_c, a ∂ₓv)_K  model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x         model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwGLSLayout is the element layout of the gls kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
-var fwGLSLayout = kernel.Layout{
+// fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
+var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -156,61 +177,67 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GLSKernel struct{}
+// RiverOutfallLayerGLSKernel is the generated cell kernel of the gls form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type RiverOutfallLayerGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = RiverOutfallLayerGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (RiverOutfallLayerGLSKernel) Layout() kernel.Layout { return fwRiverOutfallLayerGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (RiverOutfallLayerGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
+	//	  ∂c/∂x · v                       model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x           model.fw:18
+	//	GLS: + Σ_K (τ_c R_c, a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x             model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x      model.fw:18
+	//	  −τ_c/500 · ∂c/∂x · ∂²v/∂x²      model.fw:18
+	//	  τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwVMSLayout is the element layout of the vms kernels: interval cells, fields in local dof
-// order (field-major, then component, then element node); 2 local dofs.
-var fwVMSLayout = kernel.Layout{
+// fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels:
+// interval cells, fields in local dof order (field-major, then component, then
+// element node); 2 local dofs.
+var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 	Cell:     cell.Interval,
 	Geometry: element.MustLagrange(cell.Interval, 1),
 	Fields: []kernel.FieldLayout{
@@ -218,61 +245,66 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on interval cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type VMSKernel struct{}
+// RiverOutfallLayerVMSKernel is the generated cell kernel of the vms form on
+// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type RiverOutfallLayerVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = RiverOutfallLayerVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (RiverOutfallLayerVMSKernel) Layout() kernel.Layout { return fwRiverOutfallLayerVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (RiverOutfallLayerVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
-	diameter := math.Sqrt(c2)
-	c3 := diameter * 250.0
+	h := math.Sqrt(c2)
+	c3 := h * 250.0
 	c4 := math.Tanh(c3)
 	c5 := 1.0 / c4
-	c6 := 1.0 / diameter
+	c6 := 1.0 / h
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
-	c9 := diameter * c8
+	c9 := h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
 	c10 := 0.002 * rdetJ
 	c11 := 0.5 * rdetJ
 	c12 := -c11
 	if !(j00 > 0) {
-		fwFillNaN(A, b)
+		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
 	clear(b)
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..1, columns 0..1:
-	//   - (1) · partial(c, x) · test(c)   [model.fw:18]
-	//   - (τ_c + 1/500) · partial(c, x) · partial(test(c), x)   [model.fw:18]
-	//   - (−τ_c/500) · partial(c, x, x) · partial(test(c), x)   [model.fw:18]
-	//   - (τ_c/500) · partial(c, x) · partial(test(c), x, x)   [model.fw:18]
-	//   - (−τ_c/250000) · partial(c, x, x) · partial(test(c), x, x)   [model.fw:18]
+	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
+	//	  ∂c/∂x · v                        model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x            model.fw:18
+	//	VMS: − Σ_K (τ_c R_c, −a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
+	//	  τ_c · ∂c/∂x · ∂v/∂x              model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x       model.fw:18
+	//	  τ_c/500 · ∂c/∂x · ∂²v/∂x²        model.fw:18
+	//	  −τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
 	A[0] = (-0.5) + c10 + c9*c11
 	A[1] = 0.5 - c10 + c9*c12
 	A[2] = (-0.5) - c10 + c9*c12
 	A[3] = 0.5 + c10 + c9*c11
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+// fwRiverOutfallLayerFillNaN fills A and b with NaN: the cell has a
+// non-positive Jacobian determinant (as the interpreted kernels report it).
+func fwRiverOutfallLayerFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}

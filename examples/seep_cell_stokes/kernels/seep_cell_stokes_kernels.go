@@ -13,35 +13,44 @@ import (
 )
 
 func init() {
-	compiled.Register("a3560d3703a6f08efeb6e43f4cf5557c", compiled.Kernels{
-		Method:  "galerkin",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GalerkinKernel{} },
+	compiled.Register("76a7f6e410f52ef4c92fc948a44e831b", compiled.Kernels{
+		Method: "galerkin",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesGalerkinKernel{}
+		},
 	})
-	compiled.Register("36434c0818ef73d963d384ec0bd0de27", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return SUPGKernel{} },
+	compiled.Register("f0549d14058e57a9510bcb87f5783dec", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesSUPGKernel{}
+		},
 	})
-	compiled.Register("70de165bc77775bc5857b2fe0ae5af9c", compiled.Kernels{
-		Method:  "gls",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return GLSKernel{} },
+	compiled.Register("a43f420ad060295bef18f82b65b1ac31", compiled.Kernels{
+		Method: "gls",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesGLSKernel{}
+		},
 	})
-	compiled.Register("f1476d6d4824db2a72a2ff0b9fb4da8d", compiled.Kernels{
-		Method:  "vms",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return VMSKernel{} },
+	compiled.Register("9f4b687c4ecf7762c7f5b6e17c313867", compiled.Kernels{
+		Method: "vms",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return SeepCellStokesVMSKernel{}
+		},
 	})
 }
 
-// fwGalerkinLayout is the element layout of the galerkin kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
-var fwGalerkinLayout = kernel.Layout{
+// fwSeepCellStokesGalerkinLayout is the element layout of the galerkin
+// kernels: triangle cells, fields in local dof order (field-major, then
+// component, then element node); 9 local dofs.
+var fwSeepCellStokesGalerkinLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -50,22 +59,22 @@ var fwGalerkinLayout = kernel.Layout{
 	},
 }
 
-// GalerkinKernel is the generated cell kernel of the galerkin form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GalerkinKernel struct{}
+// SeepCellStokesGalerkinKernel is the generated cell kernel of the galerkin
+// form on triangle cells, quadrature degree 1 (1 point). It implements
+// kernel.Kernel, keeps no state and does not allocate.
+type SeepCellStokesGalerkinKernel struct{}
 
-var _ kernel.Kernel = GalerkinKernel{}
+var _ kernel.Kernel = SeepCellStokesGalerkinKernel{}
 
 // Layout implements kernel.Kernel.
-func (GalerkinKernel) Layout() kernel.Layout { return fwGalerkinLayout }
+func (SeepCellStokesGalerkinKernel) Layout() kernel.Layout { return fwSeepCellStokesGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GalerkinKernel) Degree() int { return 1 }
+func (SeepCellStokesGalerkinKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -100,7 +109,7 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c22 := rdetJ * c21
 	c23 := (-9.81) * detJ
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	clear(A)
@@ -110,20 +119,26 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	b[6] = 0
 	b[7] = 0
 	b[8] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c3)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c3
-	A[15] = 0.16666666666666666 * (-j11 - c3)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c3
-	A[24] = 0.16666666666666666 * (-j11 - c3)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c3)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c3
+	A[15] = (1.0 / 6) * (-j11 - c3)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c3
+	A[24] = (1.0 / 6) * (-j11 - c3)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c3
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:15
 	A[0] = 0.5*(c18+c22) + c20
 	A[1] = 0.5 * (-c18 - c20)
 	A[2] = 0.5 * (-c20 - c22)
@@ -133,20 +148,26 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c20 - c22)
 	A[19] = 0.5 * c20
 	A[20] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c4 - j00)
-	A[34] = 0.1666666666666667 * c4
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c4 - j00)
-	A[43] = 0.16666666666666666 * c4
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c4 - j00)
-	A[52] = 0.16666666666666666 * c4
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  model.fw:15
+	A[33] = (1.0 / 6) * (-c4 - j00)
+	A[34] = (1.0 / 6) * c4
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c4 - j00)
+	A[43] = (1.0 / 6) * c4
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c4 - j00)
+	A[52] = (1.0 / 6) * c4
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:15
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c18+c22) + c20
 	A[31] = 0.5 * (-c18 - c20)
 	A[32] = 0.5 * (-c20 - c22)
@@ -156,38 +177,48 @@ func (GalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c20 - c22)
 	A[49] = 0.5 * c20
 	A[50] = 0.5 * c22
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c3)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c3
-	A[63] = 0.16666666666666666 * (-j11 - c3)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c3
-	A[72] = 0.16666666666666666 * (-j11 - c3)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c3
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c4 - j00)
-	A[58] = 0.1666666666666667 * c4
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c4 - j00)
-	A[67] = 0.16666666666666666 * c4
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c4 - j00)
-	A[76] = 0.16666666666666666 * c4
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	b[3] = 0.1666666666666667 * c23
-	b[4] = 0.16666666666666666 * c23
-	b[5] = 0.16666666666666666 * c23
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c3)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c3
+	A[63] = (1.0 / 6) * (-j11 - c3)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c3
+	A[72] = (1.0 / 6) * (-j11 - c3)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c3
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p  model.fw:15
+	A[57] = (1.0 / 6) * (-c4 - j00)
+	A[58] = (1.0 / 6) * c4
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c4 - j00)
+	A[67] = (1.0 / 6) * c4
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c4 - j00)
+	A[76] = (1.0 / 6) * c4
+	A[77] = (1.0 / 6) * j00
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  −981/100 · v_vel[2]  model.fw:15
+	b[3] = (1.0 / 6) * c23
+	b[4] = (1.0 / 6) * c23
+	b[5] = (1.0 / 6) * c23
 }
 
-// fwSUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
-var fwSUPGLayout = kernel.Layout{
+// fwSeepCellStokesSUPGLayout is the element layout of the supg kernels:
+// triangle cells, fields in local dof order (field-major, then component, then
+// element node); 9 local dofs.
+var fwSeepCellStokesSUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -196,22 +227,22 @@ var fwSUPGLayout = kernel.Layout{
 	},
 }
 
-// SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type SUPGKernel struct{}
+// SeepCellStokesSUPGKernel is the generated cell kernel of the supg form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type SeepCellStokesSUPGKernel struct{}
 
-var _ kernel.Kernel = SUPGKernel{}
+var _ kernel.Kernel = SeepCellStokesSUPGKernel{}
 
 // Layout implements kernel.Kernel.
-func (SUPGKernel) Layout() kernel.Layout { return fwSUPGLayout }
+func (SeepCellStokesSUPGKernel) Layout() kernel.Layout { return fwSeepCellStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (SUPGKernel) Degree() int { return 1 }
+func (SeepCellStokesSUPGKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -233,7 +264,7 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef12 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -314,26 +345,32 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:16
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -343,8 +380,11 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -354,19 +394,25 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -376,9 +422,12 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -388,35 +437,46 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -426,21 +486,28 @@ func (SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef12 * c88
-	b[7] = coef12 * c89
-	b[8] = coef12 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  −981/100 · v_vel[2]  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwGLSLayout is the element layout of the gls kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
-var fwGLSLayout = kernel.Layout{
+// fwSeepCellStokesGLSLayout is the element layout of the gls kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
+var fwSeepCellStokesGLSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -449,22 +516,22 @@ var fwGLSLayout = kernel.Layout{
 	},
 }
 
-// GLSKernel is the generated cell kernel of the gls form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type GLSKernel struct{}
+// SeepCellStokesGLSKernel is the generated cell kernel of the gls form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type SeepCellStokesGLSKernel struct{}
 
-var _ kernel.Kernel = GLSKernel{}
+var _ kernel.Kernel = SeepCellStokesGLSKernel{}
 
 // Layout implements kernel.Kernel.
-func (GLSKernel) Layout() kernel.Layout { return fwGLSLayout }
+func (SeepCellStokesGLSKernel) Layout() kernel.Layout { return fwSeepCellStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (GLSKernel) Degree() int { return 1 }
+func (SeepCellStokesGLSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -486,7 +553,7 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef24 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -567,32 +634,40 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y             model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x             model.fw:16
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
+	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -602,8 +677,11 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -613,21 +691,28 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -637,13 +722,17 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y             model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x             model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
+	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -653,35 +742,46 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -691,23 +791,31 @@ func (GLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - 981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - 981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef24 * c88
-	b[7] = coef24 * c89
-	b[8] = coef24 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  −981/100 · v_vel[2]           model.fw:15
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwVMSLayout is the element layout of the vms kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
-var fwVMSLayout = kernel.Layout{
+// fwSeepCellStokesVMSLayout is the element layout of the vms kernels: triangle
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
+var fwSeepCellStokesVMSLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
 	Fields: []kernel.FieldLayout{
@@ -716,22 +824,22 @@ var fwVMSLayout = kernel.Layout{
 	},
 }
 
-// VMSKernel is the generated cell kernel of the vms form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
-type VMSKernel struct{}
+// SeepCellStokesVMSKernel is the generated cell kernel of the vms form on
+// triangle cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// keeps no state and does not allocate.
+type SeepCellStokesVMSKernel struct{}
 
-var _ kernel.Kernel = VMSKernel{}
+var _ kernel.Kernel = SeepCellStokesVMSKernel{}
 
 // Layout implements kernel.Kernel.
-func (VMSKernel) Layout() kernel.Layout { return fwVMSLayout }
+func (SeepCellStokesVMSKernel) Layout() kernel.Layout { return fwSeepCellStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (VMSKernel) Degree() int { return 1 }
+func (SeepCellStokesVMSKernel) Degree() int { return 1 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
-func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
+func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
@@ -753,7 +861,7 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	coef24 := 0.0125 * c17
+	tau_vel := 0.0125 * c17
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c18 := j00 * j11
@@ -834,32 +942,40 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c89 := 0.5 * c84
 	c90 := 0.5 * c85
 	if !(detJ > 0) {
-		fwFillNaN(A, b)
+		fwSeepCellStokesFillNaN(A, b)
 		return
 	}
 	b[0] = 0
 	b[1] = 0
 	b[2] = 0
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 6..8:
-	//   - (1) · partial(p, x) · test(vel)[1]   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, x) · partial(test(vel)[1], x, x)   [model.fw:15]
-	A[6] = 0.1666666666666667 * (-j11 - c20)
-	A[7] = 0.1666666666666667 * j11
-	A[8] = 0.1666666666666667 * c20
-	A[15] = 0.16666666666666666 * (-j11 - c20)
-	A[16] = 0.16666666666666666 * j11
-	A[17] = 0.16666666666666666 * c20
-	A[24] = 0.16666666666666666 * (-j11 - c20)
-	A[25] = 0.16666666666666666 * j11
-	A[26] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (20) · partial(vel[1], y) · partial(test(vel)[1], y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], y, y)   [model.fw:15]
-	//   - (40) · partial(vel[1], x) · partial(test(vel)[1], x)   [model.fw:16]
-	//   - (−400 τ_vel) · partial(vel[1], y, y) · partial(test(vel)[1], x, x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[1], x, x) · partial(test(vel)[1], x, x)   [model.fw:15]
+	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂x · v_vel[1]                   model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  20 τ_vel · ∂p/∂x · ∂²v_vel[1]/∂x²  model.fw:15
+	A[6] = (1.0 / 6) * (-j11 - c20)
+	A[7] = (1.0 / 6) * j11
+	A[8] = (1.0 / 6) * c20
+	A[15] = (1.0 / 6) * (-j11 - c20)
+	A[16] = (1.0 / 6) * j11
+	A[17] = (1.0 / 6) * c20
+	A[24] = (1.0 / 6) * (-j11 - c20)
+	A[25] = (1.0 / 6) * j11
+	A[26] = (1.0 / 6) * c20
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y              model.fw:15
+	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x              model.fw:16
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
 	A[0] = 0.5*(c35+c39) + c37
 	A[1] = 0.5 * (-c35 - c37)
 	A[2] = 0.5 * (-c37 - c39)
@@ -869,8 +985,11 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[18] = 0.5 * (-c37 - c39)
 	A[19] = 0.5 * c37
 	A[20] = 0.5 * c39
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 3..5:
-	//   - (20) · partial(vel[2], y) · partial(test(vel)[1], x)   [model.fw:16]
+	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
 	A[3] = 0.5 * (c46 + c47 + c48 + c49)
 	A[4] = 0.5 * (-c46 - c48)
 	A[5] = 0.5 * (-c47 - c49)
@@ -880,21 +999,28 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[21] = 0.5 * (-c48 - c49)
 	A[22] = 0.5 * c48
 	A[23] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 6..8:
-	//   - (1) · partial(p, y) · test(vel)[2]   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20 τ_vel) · partial(p, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	A[33] = 0.1666666666666667 * (-c21 - j00)
-	A[34] = 0.1666666666666667 * c21
-	A[35] = 0.1666666666666667 * j00
-	A[42] = 0.16666666666666666 * (-c21 - j00)
-	A[43] = 0.16666666666666666 * c21
-	A[44] = 0.16666666666666666 * j00
-	A[51] = 0.16666666666666666 * (-c21 - j00)
-	A[52] = 0.16666666666666666 * c21
-	A[53] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 0..2:
-	//   - (20) · partial(vel[1], x) · partial(test(vel)[2], y)   [model.fw:16]
+	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂p/∂y · v_vel[2]                   model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
+	A[33] = (1.0 / 6) * (-c21 - j00)
+	A[34] = (1.0 / 6) * c21
+	A[35] = (1.0 / 6) * j00
+	A[42] = (1.0 / 6) * (-c21 - j00)
+	A[43] = (1.0 / 6) * c21
+	A[44] = (1.0 / 6) * j00
+	A[51] = (1.0 / 6) * (-c21 - j00)
+	A[52] = (1.0 / 6) * c21
+	A[53] = (1.0 / 6) * j00
+	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
 	A[27] = 0.5 * (c46 + c48 + c47 + c49)
 	A[28] = 0.5 * (-c46 - c47)
 	A[29] = 0.5 * (-c48 - c49)
@@ -904,13 +1030,17 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[45] = 0.5 * (-c47 - c49)
 	A[46] = 0.5 * c47
 	A[47] = 0.5 * c49
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5, columns 3..5:
-	//   - (40) · partial(vel[2], y) · partial(test(vel)[2], y)   [model.fw:16]
-	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - (20) · partial(vel[2], x) · partial(test(vel)[2], x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], y, y) · partial(test(vel)[2], x, x)   [model.fw:15]
-	//   - (−400 τ_vel) · partial(vel[2], x, x) · partial(test(vel)[2], x, x)   [model.fw:15]
+	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y              model.fw:16
+	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x              model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
+	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
 	A[30] = 0.5*(c57+c61) + c59
 	A[31] = 0.5 * (-c57 - c59)
 	A[32] = 0.5 * (-c59 - c61)
@@ -920,35 +1050,46 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[48] = 0.5 * (-c59 - c61)
 	A[49] = 0.5 * c59
 	A[50] = 0.5 * c61
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 0..2:
-	//   - (1) · partial(vel[1], x) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], y, y) · partial(test(p), x)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[1], x, x) · partial(test(p), x)   [model.fw:15]
-	A[54] = 0.1666666666666667 * (-j11 - c20)
-	A[55] = 0.1666666666666667 * j11
-	A[56] = 0.1666666666666667 * c20
-	A[63] = 0.16666666666666666 * (-j11 - c20)
-	A[64] = 0.16666666666666666 * j11
-	A[65] = 0.16666666666666666 * c20
-	A[72] = 0.16666666666666666 * (-j11 - c20)
-	A[73] = 0.16666666666666666 * j11
-	A[74] = 0.16666666666666666 * c20
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 3..5:
-	//   - (1) · partial(vel[2], y) · test(p)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], y, y) · partial(test(p), y)   [model.fw:15]
-	//   - (−20 τ_vel) · partial(vel[2], x, x) · partial(test(p), y)   [model.fw:15]
-	A[57] = 0.1666666666666667 * (-c21 - j00)
-	A[58] = 0.1666666666666667 * c21
-	A[59] = 0.1666666666666667 * j00
-	A[66] = 0.16666666666666666 * (-c21 - j00)
-	A[67] = 0.16666666666666666 * c21
-	A[68] = 0.16666666666666666 * j00
-	A[75] = 0.16666666666666666 * (-c21 - j00)
-	A[76] = 0.16666666666666666 * c21
-	A[77] = 0.16666666666666666 * j00
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8, columns 6..8:
-	//   - (τ_vel) · partial(p, y) · partial(test(p), y)   [model.fw:20]
-	//   - (τ_vel) · partial(p, x) · partial(test(p), x)   [model.fw:20]
+	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[1]/∂x · v_p                    model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
+	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	A[54] = (1.0 / 6) * (-j11 - c20)
+	A[55] = (1.0 / 6) * j11
+	A[56] = (1.0 / 6) * c20
+	A[63] = (1.0 / 6) * (-j11 - c20)
+	A[64] = (1.0 / 6) * j11
+	A[65] = (1.0 / 6) * c20
+	A[72] = (1.0 / 6) * (-j11 - c20)
+	A[73] = (1.0 / 6) * j11
+	A[74] = (1.0 / 6) * c20
+	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  ∂vel[2]/∂y · v_p                    model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
+	A[57] = (1.0 / 6) * (-c21 - j00)
+	A[58] = (1.0 / 6) * c21
+	A[59] = (1.0 / 6) * j00
+	A[66] = (1.0 / 6) * (-c21 - j00)
+	A[67] = (1.0 / 6) * c21
+	A[68] = (1.0 / 6) * j00
+	A[75] = (1.0 / 6) * (-c21 - j00)
+	A[76] = (1.0 / 6) * c21
+	A[77] = (1.0 / 6) * j00
+	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
+	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
 	A[60] = c17 * c77
 	A[61] = c17 * c80
 	A[62] = c17 * c82
@@ -958,23 +1099,30 @@ func (VMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A[78] = c17 * c82
 	A[79] = c17 * c75
 	A[80] = c17 * c76
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 3..5 of the right-hand side:
-	//   - −981/100 · test(vel)[2]   [model.fw:15]
-	//   - −981 τ_vel/5 · partial(test(vel)[2], y, y)   [model.fw:15]
-	//   - −981 τ_vel/5 · partial(test(vel)[2], x, x)   [model.fw:15]
-	b[3] = 0.1666666666666667 * c83
-	b[4] = 0.16666666666666666 * c83
-	b[5] = 0.16666666666666666 * c83
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 6..8 of the right-hand side:
-	//   - −981 τ_vel/100 · partial(test(p), y)   [model.fw:15]
-	b[6] = coef24 * c88
-	b[7] = coef24 * c89
-	b[8] = coef24 * c90
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
+	//	  −981/100 · v_vel[2]            model.fw:15
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
+	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
+	b[3] = (1.0 / 6) * c83
+	b[4] = (1.0 / 6) * c83
+	b[5] = (1.0 / 6) * c83
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
+	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
+	b[6] = tau_vel * c88
+	b[7] = tau_vel * c89
+	b[8] = tau_vel * c90
 }
 
-// fwFillNaN fills A and b with NaN: the cell has a non-positive Jacobian
-// determinant (as the interpreted kernels report it).
-func fwFillNaN(A, b []float64) {
+// fwSeepCellStokesFillNaN fills A and b with NaN: the cell has a non-positive
+// Jacobian determinant (as the interpreted kernels report it).
+func fwSeepCellStokesFillNaN(A, b []float64) {
 	for i := range A {
 		A[i] = math.NaN()
 	}

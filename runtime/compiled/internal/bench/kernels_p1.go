@@ -13,16 +13,19 @@ import (
 )
 
 func init() {
-	compiled.Register("b63e37cf7afc39d0d2a7bd13f876cb3f", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Triangle,
-		Degree:  1,
-		NewCell: func() kernel.Kernel { return P1SUPGKernel{} },
+	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Triangle,
+		Degree: 1,
+		NewCell: func() kernel.Kernel {
+			return P1SUPGKernel{}
+		},
 	})
 }
 
-// fwP1SUPGLayout is the element layout of the supg kernels: triangle cells, fields in local dof
-// order (field-major, then component, then element node); 3 local dofs.
+// fwP1SUPGLayout is the element layout of the supg kernels: triangle cells,
+// fields in local dof order (field-major, then component, then element node);
+// 3 local dofs.
 var fwP1SUPGLayout = kernel.Layout{
 	Cell:     cell.Triangle,
 	Geometry: element.MustLagrange(cell.Triangle, 1),
@@ -31,9 +34,9 @@ var fwP1SUPGLayout = kernel.Layout{
 	},
 }
 
-// P1SUPGKernel is the generated cell kernel of the supg form on triangle cells, quadrature
-// degree 1 (1 point). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// P1SUPGKernel is the generated cell kernel of the supg form on triangle
+// cells, quadrature degree 1 (1 point). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type P1SUPGKernel struct{}
 
 var _ kernel.Kernel = P1SUPGKernel{}
@@ -68,11 +71,11 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	diameter := math.Sqrt(c17)
-	c18 := diameter * 2.23606797749979
+	h := math.Sqrt(c17)
+	c18 := h * 2.23606797749979
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
-	coef12 := c17 * c20
+	tau_c := c17 * c20
 	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
 	c21 := j00 * j11
@@ -136,33 +139,43 @@ func (P1SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		fwP1FillNaN(A, b)
 		return
 	}
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2, columns 0..2:
-	//   - (1/2) · partial(c, y) · test(c)   [adr.fw:12]
-	//   - (1) · partial(c, x) · test(c)   [adr.fw:12]
-	//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr.fw:12]
-	//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr.fw:12]
-	//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr.fw:12]
-	//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr.fw:12]
-	A[0] = 0.1666666666666667*(-c46-c47) + 0.5*(c49+c57) + c53 + coef12*c63
-	A[1] = 0.1666666666666667*c46 + 0.5*(-c49-c53) + coef12*c66
-	A[2] = 0.1666666666666667*c47 + 0.5*(-c53-c57) + coef12*c68
-	A[3] = 0.16666666666666666*(-c46-c47) + 0.5*(-c49-c53) + coef12*c66
-	A[4] = 0.16666666666666666*c46 + 0.5*c49 + coef12*c60
-	A[5] = 0.16666666666666666*c47 + 0.5*c53 + coef12*c61
-	A[6] = 0.16666666666666666*(-c46-c47) + 0.5*(-c53-c57) + coef12*c68
-	A[7] = 0.16666666666666666*c46 + 0.5*c53 + coef12*c61
-	A[8] = 0.16666666666666666*c47 + 0.5*c57 + coef12*c62
-	// Integrated in advance (affine cell, coefficients constant in the cell): rows 0..2 of the right-hand side:
-	//   - 1 · test(c)   [adr.fw:12]
-	//   - τ_c/2 · partial(test(c), y)   [adr.fw:12]
-	//   - τ_c · partial(test(c), x)   [adr.fw:15]
-	b[0] = 0.1666666666666667*detJ + coef12*c71
-	b[1] = 0.16666666666666666*detJ + coef12*c72
-	b[2] = 0.16666666666666666*detJ + coef12*c73
+	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
+	// constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  1/2 · ∂c/∂y · v             adr.fw:12
+	//	  ∂c/∂x · v                   adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y       adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x       adr.fw:12
+	//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr.fw:15
+	//	  τ_c/4 · ∂c/∂y · ∂v/∂y       adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂x · ∂v/∂y       adr.fw:12
+	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂y · ∂v/∂x       adr.fw:12
+	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂c/∂x · ∂v/∂x         adr.fw:15
+	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x  adr.fw:12
+	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
+	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
+	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
+	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
+	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
+	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
+	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
+	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
+	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	Galerkin: the Galerkin form B(u; v) = F(v)
+	//	  v              adr.fw:12
+	//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr.fw:15
+	//	  τ_c/2 · ∂v/∂y  adr.fw:12
+	//	  τ_c · ∂v/∂x    adr.fw:15
+	b[0] = (1.0/6)*detJ + tau_c*c71
+	b[1] = (1.0/6)*detJ + tau_c*c72
+	b[2] = (1.0/6)*detJ + tau_c*c73
 }
 
 // fwP1FillNaN fills A and b with NaN: the cell has a non-positive Jacobian

@@ -13,16 +13,19 @@ import (
 )
 
 func init() {
-	compiled.Register("60b865e61fabe0ac05fb96b780e9937d", compiled.Kernels{
-		Method:  "supg",
-		Cell:    cell.Quadrilateral,
-		Degree:  5,
-		NewCell: func() kernel.Kernel { return Q2SUPGKernel{} },
+	compiled.Register("b5e8817a9e251ca007039d734ab17ad1", compiled.Kernels{
+		Method: "supg",
+		Cell:   cell.Quadrilateral,
+		Degree: 5,
+		NewCell: func() kernel.Kernel {
+			return Q2SUPGKernel{}
+		},
 	})
 }
 
-// fwQ2SUPGLayout is the element layout of the supg kernels: quadrilateral cells, fields in local dof
-// order (field-major, then component, then element node); 9 local dofs.
+// fwQ2SUPGLayout is the element layout of the supg kernels: quadrilateral
+// cells, fields in local dof order (field-major, then component, then element
+// node); 9 local dofs.
 var fwQ2SUPGLayout = kernel.Layout{
 	Cell:     cell.Quadrilateral,
 	Geometry: element.MustLagrange(cell.Quadrilateral, 1),
@@ -31,9 +34,9 @@ var fwQ2SUPGLayout = kernel.Layout{
 	},
 }
 
-// Q2SUPGKernel is the generated cell kernel of the supg form on quadrilateral cells, quadrature
-// degree 5 (9 points). It implements kernel.Kernel, keeps no state and
-// does not allocate.
+// Q2SUPGKernel is the generated cell kernel of the supg form on quadrilateral
+// cells, quadrature degree 5 (9 points). It implements kernel.Kernel, keeps no
+// state and does not allocate.
 type Q2SUPGKernel struct{}
 
 var _ kernel.Kernel = Q2SUPGKernel{}
@@ -86,17 +89,17 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c33 := c32 * c32
 	c34 := c31 + c33
 	c35 := max(c29, c34)
-	diameter := math.Sqrt(c35)
-	c36 := diameter * 2.23606797749979
+	h := math.Sqrt(c35)
+	c36 := h * 2.23606797749979
 	c37 := 0.04 + c36
 	c38 := 1.0 / c37
-	coef12 := c35 * c38
-	c39 := 0.25 * coef12
+	tau_c := c35 * c38
+	c39 := 0.25 * tau_c
 	coef2 := c39 + 0.01
-	coef3 := coef12 * (-0.005)
-	coef4 := 0.5 * coef12
-	coef7 := coef12 * (-0.01)
-	coef8 := coef12 + 0.01
+	coef3 := tau_c * (-0.005)
+	coef4 := 0.5 * tau_c
+	coef7 := tau_c * (-0.01)
+	coef8 := tau_c + 0.01
 	c40 := 0.25 * x[0]
 	c41 := x[2] * (-0.25)
 	c42 := 0.25 * x[4]
@@ -164,7 +167,7 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p37 := coef4 * w
 		p38 := coef7 * w
 		p39 := coef8 * w
-		p40 := coef12 * w
+		p40 := tau_c * w
 		if !(detJ > 0) {
 			fwQ2FillNaN(A, b)
 			return
@@ -202,30 +205,40 @@ func (Q2SUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 			basis3[a0] = e21
 			basis4[a0] = e26
 		}
-		// At each quadrature point, all basis-function pairs: rows 0..8, columns 0..8:
-		//   - (1/2) · partial(c, y) · test(c)   [adr_q2.fw:12]
-		//   - (1) · partial(c, x) · test(c)   [adr_q2.fw:12]
-		//   - (τ_c/4 + 1/100) · partial(c, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (−τ_c/200) · partial(c, y, y) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (τ_c/2) · partial(c, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (−τ_c/200) · partial(c, x, x) · partial(test(c), y)   [adr_q2.fw:12]
-		//   - (τ_c/2) · partial(c, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (−τ_c/100) · partial(c, y, y) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (τ_c + 1/100) · partial(c, x) · partial(test(c), x)   [adr_q2.fw:12]
-		//   - (−τ_c/100) · partial(c, x, x) · partial(test(c), x)   [adr_q2.fw:12]
+		// Rows 0..8, columns 0..8, at each quadrature point, in a loop over all
+		// basis-function pairs.
+		//
+		//	Galerkin: the Galerkin form B(u; v) = F(v)
+		//	  1/2 · ∂c/∂y · v             adr_q2.fw:12
+		//	  ∂c/∂x · v                   adr_q2.fw:12
+		//	  1/100 · ∂c/∂y · ∂v/∂y       adr_q2.fw:12
+		//	  1/100 · ∂c/∂x · ∂v/∂x       adr_q2.fw:12
+		//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr_q2.fw:15
+		//	  τ_c/4 · ∂c/∂y · ∂v/∂y       adr_q2.fw:12
+		//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y  adr_q2.fw:12
+		//	  τ_c/2 · ∂c/∂x · ∂v/∂y       adr_q2.fw:12
+		//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y  adr_q2.fw:12
+		//	  τ_c/2 · ∂c/∂y · ∂v/∂x       adr_q2.fw:12
+		//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x  adr_q2.fw:12
+		//	  τ_c · ∂c/∂x · ∂v/∂x         adr_q2.fw:15
+		//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x  adr_q2.fw:12
 		for i := 0; i < 9; i++ {
 			rowf0 := fwQ2SUPGCellBasis2Val[q][i]
 			rowf1 := basis0[i]
 			rowf2 := basis1[i]
-			row := acc[(0+i)*9+0 : (0+i)*9+0+9 : (0+i)*9+0+9]
+			row := acc[i*9 : i*9+9 : i*9+9]
 			for j := 0; j < len(row); j++ {
 				row[j] += rowf0*basis2[j] + rowf1*basis3[j] + rowf2*basis4[j]
 			}
-			// At each quadrature point, all basis functions: rows 0..8 of the right-hand side:
-			//   - 1 · test(c)   [adr_q2.fw:12]
-			//   - τ_c/2 · partial(test(c), y)   [adr_q2.fw:12]
-			//   - τ_c · partial(test(c), x)   [adr_q2.fw:15]
-			rhs[0+i] += rowf0*w + rowf1*p37 + rowf2*p40
+			// Rows 0..8 of the right-hand side, at each quadrature point, in a loop over
+			// all basis functions.
+			//
+			//	Galerkin: the Galerkin form B(u; v) = F(v)
+			//	  v              adr_q2.fw:12
+			//	SUPG: + Σ_K (τ_c R, L_A v)_K  adr_q2.fw:15
+			//	  τ_c/2 · ∂v/∂y  adr_q2.fw:12
+			//	  τ_c · ∂v/∂x    adr_q2.fw:15
+			rhs[i] += rowf0*w + rowf1*p37 + rowf2*p40
 		}
 	}
 	copy(A, acc[:])
@@ -243,8 +256,8 @@ func fwQ2FillNaN(A, b []float64) {
 	}
 }
 
-// Tabulated reference data: basis values, gradients and second
-// derivatives at the quadrature points, and quadrature weights.
+// Tabulated reference data: basis values, gradients and second derivatives at
+// the quadrature points, and quadrature weights.
 var (
 	fwQ2SUPGCellGeomGrad = [9][8]float64{
 		{-0.05635083268962915, -0.05635083268962915, 0.05635083268962915, -0.44364916731037085, 0.44364916731037085, 0.44364916731037085, -0.44364916731037085, 0.05635083268962915},
@@ -257,7 +270,7 @@ var (
 		{-0.44364916731037085, -0.25, 0.44364916731037085, -0.25, 0.05635083268962915, 0.25, -0.05635083268962915, 0.25},
 		{-0.44364916731037085, -0.44364916731037085, 0.44364916731037085, -0.05635083268962915, 0.05635083268962915, 0.05635083268962915, -0.05635083268962915, 0.44364916731037085},
 	}
-	fwQ2SUPGCellWeights    = [9]float64{0.308641975308642, 0.49382716049382713, 0.308641975308642, 0.49382716049382713, 0.7901234567901234, 0.49382716049382713, 0.308641975308642, 0.49382716049382713, 0.308641975308642}
+	fwQ2SUPGCellWeights    = [9]float64{0.308641975308642, 40.0 / 81, 0.308641975308642, 40.0 / 81, 64.0 / 81, 40.0 / 81, 0.308641975308642, 40.0 / 81, 0.308641975308642}
 	fwQ2SUPGCellBasis2Grad = [9][18]float64{
 		{-0.023971831917184144, -0.023971831917184144, -0.11127016653792583, 0.1887298334620742, 0.8760281680828159, 0.8760281680828159, 0.1887298334620742, -0.11127016653792583, 0.13524199845510998, 0.10983866769659334, 0.5098386676965933, -1.06475800154489, -1.06475800154489, 0.5098386676965933, 0.10983866769659334, 0.13524199845510998, -0.6196773353931866, -0.6196773353931866},
 		{0.04364916731037084, -0.0, -0.04364916731037084, 0.0, 0.3436491673103709, 0.0, -0.3436491673103709, -0.0, 0.0, 0.2745966692414834, 0.19999999999999996, -0.0, -0.0, 1.2745966692414834, -0.19999999999999996, 0.0, -0.0, -1.5491933384829668},
