@@ -633,7 +633,7 @@ type jsonSolve struct {
 	// and Newton its history (cmd_nonlinear.go).
 	Nonlinear string               `json:"nonlinear,omitempty"`
 	Newton    []problem.NewtonStep `json:"newton,omitempty"`
-	Setups          int     `json:"solver_setups"` // factorisations or preconditioner builds
+	Setups    int                  `json:"solver_setups"` // factorisations or preconditioner builds
 	// MeanResidual: models with mean conditions; see problem.Summary.
 	MeanResidual float64           `json:"mean_residual,omitempty"`
 	WallTime     float64           `json:"wall_time_s"`
