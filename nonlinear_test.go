@@ -20,6 +20,7 @@ import (
 	"github.com/formwright/formwright/runtime/compiled"
 	"github.com/formwright/formwright/runtime/interp"
 	"github.com/formwright/formwright/runtime/kernel"
+	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/stdlib"
@@ -676,8 +677,10 @@ func TestNewtonTaylorGreen(t *testing.T) {
 
 // benchCavity solves the lid-driven cavity (navier_stokes_nonlinear, SUPG,
 // P1/P1 on an n×n triangle mesh) at Reynolds number re three ways in one
-// run, each from the Stokes solution (one Picard step from zero) and on
-// the interpreted kernels (the generated ones are for Re 100 only):
+// run, each from the Stokes solution (one Picard step from zero), on the
+// interpreted kernels (the generated ones are for Re 100 only) and with
+// the direct solver for every linear system, so that the nonlinear
+// iterations are compared on equal terms:
 //
 //   - Newton's method with the derived Jacobian and the line search, to
 //     the relative residual 1e-10 (newton-failed = 1 when it stalls);
@@ -713,7 +716,7 @@ func benchCavity(b *testing.B, re float64, n int) {
 		b.Fatal(err)
 	}
 	stokes := func() []float64 {
-		sol, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true})
+		sol, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true, Solver: &linsolve.Options{Method: linsolve.MethodDirect}})
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -742,8 +745,9 @@ type cavityRun struct {
 }
 
 func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func() []float64) (r cavityRun) {
+	direct := &linsolve.Options{Method: linsolve.MethodDirect}
 	start := time.Now()
-	sol, err := problem.Solve(lf, msh, problem.Options{Initial: stokes()})
+	sol, err := problem.Solve(lf, msh, problem.Options{Initial: stokes(), Solver: direct})
 	var ne *problem.NewtonError
 	switch {
 	case errors.As(err, &ne):
@@ -757,18 +761,18 @@ func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func
 	r.newtonS = time.Since(start).Seconds()
 
 	start = time.Now()
-	psol, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), MaxPicard: 500})
+	psol, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), MaxPicard: 500, Solver: direct})
 	if err != nil {
 		b.Fatal(err)
 	}
 	r.picardS, r.picardIt = time.Since(start).Seconds(), psol.Summary.Picard
 
 	start = time.Now()
-	rough, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), PicardTol: 1e-2, MaxPicard: 500})
+	rough, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), PicardTol: 1e-2, MaxPicard: 500, Solver: direct})
 	if err != nil {
 		b.Fatal(err)
 	}
-	hsol, err := problem.Solve(lf, msh, problem.Options{Initial: rough.X})
+	hsol, err := problem.Solve(lf, msh, problem.Options{Initial: rough.X, Solver: direct})
 	if err != nil {
 		b.Fatal(err)
 	}
