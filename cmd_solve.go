@@ -24,30 +24,32 @@ import (
 
 // solveFlags are the options of solve (and of verify, which solves too).
 type solveFlags struct {
-	mesh    *string
-	solver  *string
-	tol     *float64
-	maxIter *int
-	restart *int
-	shift   *float64
-	workers *int
-	time    *float64
-	quiet   *bool
-	relax   *float64
+	mesh       *string
+	solver     *string
+	tol        *float64
+	maxIter    *int
+	restart    *int
+	shift      *float64
+	workers    *int
+	time       *float64
+	quiet      *bool
+	relax      *float64
+	quadrature *int
 }
 
 func addSolveFlags(fs *cmdFlags) *solveFlags {
 	return &solveFlags{
-		mesh:    fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
-		solver:  fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi, +ilu0, +amg or +amg-block (e.g. cg+amg; amg-block for saddle-point systems)"),
-		tol:     fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
-		maxIter: fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
-		restart: fs.Int("restart", 0, "GMRES restart length (default 50)"),
-		shift:   fs.Float64("ilu-shift", 0, "factorise A + s·diag(A) in ILU(0) (shifted ILU; 0.1 stabilises it on advection-dominated problems)"),
-		workers: fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
-		time:    fs.Float64("time", 0, "value of t in coefficients and boundary data (the start time of a transient model)"),
-		quiet:   fs.Bool("quiet", false, "no progress on standard error"),
-		relax:   fs.Float64("relax", 0, "Picard under-relaxation ω in (0, 1]: the next iterate is u_prev + ω(u − u_prev) (default: none)"),
+		mesh:       fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
+		solver:     fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi, +ilu0, +amg or +amg-block (e.g. cg+amg; amg-block for saddle-point systems)"),
+		tol:        fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
+		maxIter:    fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),
+		restart:    fs.Int("restart", 0, "GMRES restart length (default 50)"),
+		shift:      fs.Float64("ilu-shift", 0, "factorise A + s·diag(A) in ILU(0) (shifted ILU; 0.1 stabilises it on advection-dominated problems)"),
+		workers:    fs.Int("workers", 0, "worker goroutines for assembly and mat-vec (default: GOMAXPROCS)"),
+		time:       fs.Float64("time", 0, "value of t in coefficients and boundary data (the start time of a transient model)"),
+		quiet:      fs.Bool("quiet", false, "no progress on standard error"),
+		quadrature: fs.Int("quadrature", 0, "quadrature degree of every integral (default: the model's quadrature statement, else chosen from the form's degrees)"),
+		relax:      fs.Float64("relax", 0, "Picard under-relaxation ω in (0, 1]: the next iterate is u_prev + ω(u − u_prev) (default: none)"),
 	}
 }
 
@@ -61,6 +63,10 @@ func (sf *solveFlags) options(prog *progress) (problem.Options, error) {
 	if math.IsNaN(*sf.time) || math.IsInf(*sf.time, 0) {
 		return opts, usagef("--time %g: give a finite time", *sf.time)
 	}
+	if q := *sf.quadrature; q < 0 || q > compiler.MaxQuadrature {
+		return opts, usagef("--quadrature %d: give a degree from 1 to %d (0: automatic)", q, compiler.MaxQuadrature)
+	}
+	opts.Degree = *sf.quadrature
 	if *sf.workers < 0 || *sf.workers > 1024 {
 		return opts, usagef("--workers %d: give a number from 1 to 1024 (0: GOMAXPROCS)", *sf.workers)
 	}
@@ -522,7 +528,7 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 			fmt.Fprintf(w, "tau        tau_%s = %s\n", u.Name, syntaxOf(compiler.Simplify(m.Tau[u.Index], m.Dim)))
 		}
 	}
-	fmt.Fprintf(w, "kernels    %s\n", s.KernelPath)
+	fmt.Fprintf(w, "kernels    %s; quadrature %s\n", s.KernelPath, s.Quadrature)
 	setups := ""
 	if s.Prepared > 1 {
 		setups = fmt.Sprintf(", %d set-ups", s.Prepared)
@@ -611,16 +617,17 @@ func fieldComponents(sol *problem.Solution, name string) int {
 
 // jsonSolve is the --json output of solve (documented in the README).
 type jsonSolve struct {
-	Schema   string `json:"schema"`
-	Model    string `json:"model"`
-	File     string `json:"file"`
-	Method   string `json:"method"`
-	Mesh     string `json:"mesh"`
-	Cells    int    `json:"cells"`
-	Vertices int    `json:"vertices"`
-	Dofs     int    `json:"dofs"`
-	Kernels  string `json:"kernels"`
-	Solver   string `json:"solver"`
+	Schema     string `json:"schema"`
+	Model      string `json:"model"`
+	File       string `json:"file"`
+	Method     string `json:"method"`
+	Mesh       string `json:"mesh"`
+	Cells      int    `json:"cells"`
+	Vertices   int    `json:"vertices"`
+	Dofs       int    `json:"dofs"`
+	Kernels    string `json:"kernels"`
+	Quadrature string `json:"quadrature"`
+	Solver     string `json:"solver"`
 	// SolverReason says why the automatic choice picked the solver;
 	// BytesPerUnknown is the memory of matrix, preconditioner and Krylov
 	// vectors per unknown.
@@ -657,7 +664,7 @@ type jsonField struct {
 func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) error {
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: s.KernelPath, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
+		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
 		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
 		Nonlinear: s.Nonlinear, Newton: s.History}
 	for _, a := range cells {

@@ -104,6 +104,7 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	c.checkEquations(f)
 	c.checkBoundaries(f)
 	c.checkMeans(f)
+	c.checkQuadrature(f)
 	c.checkStabilisation(f)
 	c.checkTimeStep()
 	if len(c.errs) == 0 {
@@ -111,6 +112,33 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	}
 	c.errs.Sort()
 	return c.m, c.errs
+}
+
+// MaxQuadrature is the highest quadrature degree a model may ask for
+// (Gauss rules of 16 points per direction; far beyond what a kernel
+// needs, a bound on the cost of a typo).
+const MaxQuadrature = 31
+
+// checkQuadrature reads the quadrature statement: one, with a degree from
+// 1 to MaxQuadrature.
+func (c *checker) checkQuadrature(f *lang.File) {
+	var first *lang.QuadratureStmt
+	for _, s := range f.Stmts {
+		q, ok := s.(*lang.QuadratureStmt)
+		if !ok {
+			continue
+		}
+		switch {
+		case first != nil:
+			c.errorf(q.Pos(), q.End(), "", "second quadrature statement (first at %s)", first.Pos())
+			continue
+		case q.Degree < 1 || q.Degree > MaxQuadrature:
+			c.errorf(q.DegreePos, q.DegreeEnd, fmt.Sprintf("give a degree from 1 to %d", MaxQuadrature), "quadrature degree %d out of range", q.Degree)
+			continue
+		}
+		first = q
+		c.m.Quadrature = q.Degree
+	}
 }
 
 // checkMeans checks the mean conditions: a scalar unknown, at most one

@@ -61,7 +61,8 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	return lf, nil
 }
 
-// conditions adds the model's value and mean conditions to lf.
+// conditions adds the model's value and mean conditions to lf, and the
+// quadrature degree the model asks for.
 func (l *lowerer) conditions(lf *ir.LoweredForm) {
 	m := l.m
 	for _, bc := range m.BCs {
@@ -77,6 +78,9 @@ func (l *lowerer) conditions(lf *ir.LoweredForm) {
 	}
 	for _, mc := range m.Means {
 		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})
+	}
+	if m.Quadrature > 0 {
+		lf.Degree = m.Quadrature
 	}
 }
 

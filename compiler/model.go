@@ -112,7 +112,10 @@ type Model struct {
 	Equations []*Equation
 	BCs       []*BC
 	Means     []*MeanCondition
-	Methods   []Method
+	// Quadrature is the degree of the quadrature rules the model asks for
+	// ("quadrature N"); 0 leaves it to ir.LoweredForm.QuadratureDegree.
+	Quadrature int
+	Methods    []Method
 	// Tau holds the τ definition of each equation (nil where none is
 	// given); TauSym the symbol that stands for it in derived forms.
 	Tau    []ir.Expr

@@ -117,6 +117,14 @@ type TauStmt struct {
 	Value Expr
 }
 
+// QuadratureStmt is "quadrature INT": the degree of the quadrature rules
+// of every integral of the model, instead of the automatic choice.
+type QuadratureStmt struct {
+	source.Span
+	Degree               int
+	DegreePos, DegreeEnd source.Pos
+}
+
 // MeanStmt is "mean NAME = EXPR": the mean of an unknown over the domain,
 // for an unknown the other conditions fix only up to a constant (the
 // pressure of an enclosed flow).
@@ -126,18 +134,19 @@ type MeanStmt struct {
 	Value  Expr
 }
 
-func (*MeanStmt) stmtNode()      {}
-func (*ModelStmt) stmtNode()     {}
-func (*DimensionStmt) stmtNode() {}
-func (*SidesStmt) stmtNode()     {}
-func (*UseStmt) stmtNode()       {}
-func (*UnknownStmt) stmtNode()   {}
-func (*GivenStmt) stmtNode()     {}
-func (*FormulaStmt) stmtNode()   {}
-func (*EquationStmt) stmtNode()  {}
-func (*BoundaryStmt) stmtNode()  {}
-func (*StabiliseStmt) stmtNode() {}
-func (*TauStmt) stmtNode()       {}
+func (*MeanStmt) stmtNode()       {}
+func (*QuadratureStmt) stmtNode() {}
+func (*ModelStmt) stmtNode()      {}
+func (*DimensionStmt) stmtNode()  {}
+func (*SidesStmt) stmtNode()      {}
+func (*UseStmt) stmtNode()        {}
+func (*UnknownStmt) stmtNode()    {}
+func (*GivenStmt) stmtNode()      {}
+func (*FormulaStmt) stmtNode()    {}
+func (*EquationStmt) stmtNode()   {}
+func (*BoundaryStmt) stmtNode()   {}
+func (*StabiliseStmt) stmtNode()  {}
+func (*TauStmt) stmtNode()        {}
 
 // Expr is an expression. The concrete types are *Number, *Ident, *Call,
 // *Binary, *Unary, *Index and *List.

@@ -23,18 +23,19 @@ type sourceFile struct {
 
 type statement struct {
 	Pos, EndPos lexer.Position
-	Model       *modelDecl     `parser:"  @@"`
-	Dimension   *dimensionDecl `parser:"| @@"`
-	Sides       *sidesDecl     `parser:"| @@"`
-	Use         *useDecl       `parser:"| @@"`
-	Unknown     *unknownDecl   `parser:"| @@"`
-	Given       *givenDecl     `parser:"| @@"`
-	Formula     *formulaDecl   `parser:"| @@"`
-	Equation    *equationDecl  `parser:"| @@"`
-	Boundary    *boundaryDecl  `parser:"| @@"`
-	Stabilise   *stabiliseDecl `parser:"| @@"`
-	Tau         *tauDecl       `parser:"| @@"`
-	Mean        *meanDecl      `parser:"| @@"`
+	Model       *modelDecl      `parser:"  @@"`
+	Dimension   *dimensionDecl  `parser:"| @@"`
+	Sides       *sidesDecl      `parser:"| @@"`
+	Use         *useDecl        `parser:"| @@"`
+	Unknown     *unknownDecl    `parser:"| @@"`
+	Given       *givenDecl      `parser:"| @@"`
+	Formula     *formulaDecl    `parser:"| @@"`
+	Equation    *equationDecl   `parser:"| @@"`
+	Boundary    *boundaryDecl   `parser:"| @@"`
+	Stabilise   *stabiliseDecl  `parser:"| @@"`
+	Tau         *tauDecl        `parser:"| @@"`
+	Mean        *meanDecl       `parser:"| @@"`
+	Quadrature  *quadratureDecl `parser:"| @@"`
 }
 
 type name struct {
@@ -123,6 +124,11 @@ type meanDecl struct {
 	Pos, EndPos lexer.Position
 	Target      *name `parser:"\"mean\" @@ \"=\""`
 	Value       *sum  `parser:"@@"`
+}
+
+type quadratureDecl struct {
+	Pos, EndPos lexer.Position
+	Degree      *numberLit `parser:"\"quadrature\" @@"`
 }
 
 // Expressions, lowest precedence first.

@@ -77,6 +77,9 @@ func (lw *lowerer) stmt(s *statement) Stmt {
 		out = &TauStmt{Span: sp, For: lowerName(s.Tau.For), Value: lw.sum(s.Tau.Value)}
 	case s.Mean != nil:
 		out = &MeanStmt{Span: sp, Target: lowerName(s.Mean.Target), Value: lw.sum(s.Mean.Value)}
+	case s.Quadrature != nil:
+		d := s.Quadrature.Degree
+		out = &QuadratureStmt{Span: sp, Degree: lw.wholeNumber(d, "quadrature degree"), DegreePos: posOf(d.Pos), DegreeEnd: posOf(d.EndPos)}
 	default:
 		panic("lang: statement with no alternative set")
 	}

@@ -141,6 +141,8 @@ func StmtString(s Stmt) string {
 		return fmt.Sprintf("tau for %s = %s", s.For.Text, ExprString(s.Value))
 	case *MeanStmt:
 		return fmt.Sprintf("mean %s = %s", s.Target.Text, ExprString(s.Value))
+	case *QuadratureStmt:
+		return "quadrature " + strconv.Itoa(s.Degree)
 	}
 	panic(fmt.Sprintf("lang: StmtString: unexpected statement %T", s))
 }

@@ -22,6 +22,9 @@ func FormHash(lf *LoweredForm) string {
 	if lf.Newton {
 		b.WriteString("newton step\n")
 	}
+	if lf.Degree > 0 {
+		fmt.Fprintf(&b, "quadrature %d\n", lf.Degree)
+	}
 	for _, u := range lf.Unknowns {
 		fmt.Fprintf(&b, "unknown %s %d %s\n", u.Name, u.Rank, u.Element)
 	}

@@ -18,16 +18,26 @@ static void plate_fill_nan(double *A, int na, double *b, int nb)
 	}
 }
 
-static const double plate_galerkin_cell_geom_val[3][3] = {
-	{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-	{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-	{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+static const double plate_galerkin_cell_geom_val[7][3] = {
+	{0.3333333333333334, 1.0 / 3, 1.0 / 3},
+	{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+	{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+	{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+	{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+	{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+	{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 };
 
-static const double plate_galerkin_cell_basis1_val[3][3] = {
-	{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-	{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-	{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+static const double plate_galerkin_cell_weights[7] = {0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358};
+
+static const double plate_galerkin_cell_basis1_val[7][3] = {
+	{0.3333333333333334, 1.0 / 3, 1.0 / 3},
+	{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+	{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+	{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+	{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+	{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+	{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 };
 
 static const struct fw_kernel_field plate_galerkin_fields[1] = {
@@ -35,7 +45,7 @@ static const struct fw_kernel_field plate_galerkin_fields[1] = {
 };
 
 static const struct fw_kernel_layout plate_galerkin_layout_data = {
-	"galerkin", "triangle", 2, 3, 3, 2, 3,
+	"galerkin", "triangle", 2, 3, 3, 5, 7,
 	1, plate_galerkin_fields, 0, NULL, 3, 0, 1
 };
 
@@ -56,7 +66,6 @@ int plate_galerkin_cell(const struct fw_kernel_input *in, double *A, double *b)
 	const double j10 = x[3] - x[1];
 	const double c2 = j01 * j10;
 	const double detJ = c1 - c2;
-	const double w = detJ * (1.0 / 6);
 	const double rdetJ = 1.0 / detJ;
 	const double c3 = j01 * rdetJ;
 	const double k01 = -c3;
@@ -72,7 +81,7 @@ int plate_galerkin_cell(const struct fw_kernel_input *in, double *A, double *b)
 	}
 	double acc[9] = {0.0};
 	double rhs[3] = {0.0};
-	for (int q = 0; q < 3; ++q) {
+	for (int q = 0; q < 7; ++q) {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		const double p1 = x[0] * plate_galerkin_cell_geom_val[q][0];
 		const double p2 = x[2] * plate_galerkin_cell_geom_val[q][1];
@@ -91,6 +100,7 @@ int plate_galerkin_cell(const struct fw_kernel_input *in, double *A, double *b)
 		const double p12 = sin(p9);
 		const double p13 = k * p8 * p12 * 19.739208802178716;
 		const double f = p11 + p13;
+		const double w = detJ * plate_galerkin_cell_weights[q];
 		const double p14 = k * w;
 		const double p15 = p14 * c4;
 		const double p16 = p14 * c3;

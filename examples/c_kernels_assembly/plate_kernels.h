@@ -50,7 +50,7 @@
  * of degree-1 elements are the vertices.
  *
  * The forms:
- *   plate_galerkin_*: galerkin, 3 dofs (u P1 from dof 0), quadrature degree 2
+ *   plate_galerkin_*: galerkin, 3 dofs (u P1 from dof 0), quadrature degree 5
  */
 #ifndef FW_PLATE_KERNELS_H
 #define FW_PLATE_KERNELS_H
@@ -106,7 +106,7 @@ enum fw_kernel_status {
 
 #endif /* FW_KERNEL_ABI_1 */
 
-/* The galerkin form on triangle cells: 3 local dofs, quadrature degree 2 (3 points). */
+/* The galerkin form on triangle cells: 3 local dofs, quadrature degree 5 (7 points). */
 int plate_galerkin_cell(const struct fw_kernel_input *in, double *A, double *b);
 int plate_galerkin_facet(const struct fw_kernel_input *in, int side, int facet, double *A, double *b);
 const struct fw_kernel_layout *plate_galerkin_layout(void);

@@ -70,8 +70,13 @@ func TestMeanCondition(t *testing.T) {
 	if r := math.Log2(l2[0] / l2[1]); math.Abs(r-2) > 0.1 {
 		t.Errorf("L2 order %.3f, want 2", r)
 	}
-	if r := math.Log2(res[0] / res[1]); res[0] > 1e-3 || math.Abs(r-2) > 0.2 {
-		t.Errorf("replaced equation residuals %.2e, %.2e (order %.2f): want below 1e-3 and falling at order 2", res[0], res[1], r)
+	// The replaced equation's residual is the quadrature error of ∫f
+	// (zero for exact integration of compatible data): it falls at least
+	// at order 2, the rate of a rule exact for the basis alone; the
+	// automatic degree, with its surplus for a source that is not a
+	// polynomial, gives about 4.
+	if r := math.Log2(res[0] / res[1]); res[0] > 1e-3 || r < 1.8 {
+		t.Errorf("replaced equation residuals %.2e, %.2e (order %.2f): want below 1e-3 and falling at order 2 or faster", res[0], res[1], r)
 	}
 	sol, err := Solve(neumannPoisson(num(1, 1), 0), mesh.Rectangle(0, 1, 0, 1, 8, 8, mesh.DiagonalUp), Options{})
 	if err != nil {

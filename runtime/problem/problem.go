@@ -17,6 +17,7 @@ import (
 	"github.com/formwright/formwright/runtime/kernel"
 	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/quadrature"
 	"github.com/formwright/formwright/runtime/sparse"
 	"github.com/formwright/formwright/runtime/tape"
 )
@@ -134,6 +135,9 @@ type Summary struct {
 	Dofs       int
 	Method     string // the form's method: galerkin, supg, gls, vms
 	KernelPath string // "interpreted" or "compiled"
+	// Quadrature names the rules the integrals use, e.g. "degree 5: 7
+	// points per cell, 3 per facet".
+	Quadrature string
 	Symmetric  bool   // the assembled matrix is symmetric (before Dirichlet)
 	Solver     string // linsolve method and preconditioner, e.g. "cg+amg"
 	// SolverReason says why the automatic choice picked the solver.
@@ -243,10 +247,13 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Solution, error) 
 
 // compiledKernels returns the generated kernels registered for the form
 // (runtime/compiled, by content hash) on cells c, or nil when there are
-// none for this cell type and quadrature degree (0: any).
+// none for this cell type and quadrature degree (0: the form's own).
 func compiledKernels(form *ir.LoweredForm, c cell.Type, degree int) *KernelSet {
+	if degree <= 0 {
+		degree = form.QuadratureDegree()
+	}
 	k, ok := compiled.Lookup(ir.FormHash(form))
-	if !ok || k.Cell != c || (degree > 0 && k.Degree != degree) {
+	if !ok || k.Cell != c || k.Degree != degree {
 		return nil
 	}
 	ks := &KernelSet{Cell: k.NewCell()}
@@ -310,6 +317,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	opts.report("kernels", 0, dm.NumDofs)
 
 	s := &system{form: form, m: m, dm: dm, layout: layoutOf(form, dm)}
+	sum.Quadrature = quadratureText(form, m.Cell, opts.Degree)
 	ks := opts.Kernels
 	if ks == nil && !opts.Interpreted {
 		ks = compiledKernels(form, m.Cell, opts.Degree)
@@ -760,4 +768,25 @@ func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bo
 		}
 	}
 	return fixed, values, nil
+}
+
+// quadratureText describes the quadrature rules of a form on cells c:
+// their degree (degree, or the form's own when 0) and points per cell and
+// per facet.
+func quadratureText(form *ir.LoweredForm, c cell.Type, degree int) string {
+	if degree <= 0 {
+		degree = form.QuadratureDegree()
+	}
+	out := fmt.Sprintf("degree %d, %d points per cell", degree, quadrature.For(c, degree).NumPoints())
+	if len(form.Sides()) > 0 {
+		n := 1
+		if c.Dim() > 1 {
+			n = quadrature.For(c.FacetType(), degree).NumPoints()
+		}
+		out += fmt.Sprintf(", %d per facet", n)
+	}
+	if form.Degree > 0 && degree == form.Degree {
+		out += " (set by the model)"
+	}
+	return out
 }

@@ -16,7 +16,7 @@ func init() {
 	compiled.Register("d97faa27cc5670412dcf6f44449cadd7", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuGalerkinKernel{}
 		},
@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("39c9e1b269bae44e1b969a896efbeebb", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("c94b33e6306b59baf220fa6273303301", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("33269ea1b2108660a7fa47d904f97098", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuVMSKernel{}
 		},
@@ -59,7 +59,7 @@ var fwBratuGalerkinLayout = kernel.Layout{
 }
 
 // BratuGalerkinKernel is the generated cell kernel of the galerkin form on
-// interval cells, quadrature degree 3 (2 points). It implements kernel.Kernel,
+// interval cells, quadrature degree 6 (4 points). It implements kernel.Kernel,
 // keeps no state and does not allocate. The form is symmetric; only the upper
 // triangle is computed.
 type BratuGalerkinKernel struct{}
@@ -70,7 +70,7 @@ var _ kernel.Kernel = BratuGalerkinKernel{}
 func (BratuGalerkinKernel) Layout() kernel.Layout { return fwBratuGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BratuGalerkinKernel) Degree() int { return 3 }
+func (BratuGalerkinKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -89,7 +89,6 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c1 := pv[0] * rdetJ
 	c2 := pv[1] * rdetJ
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -111,12 +110,13 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c1 + c2
 	rhs[1] += c1 - c2
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuGalerkinCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuGalerkinCellBasis1Val[q][1]
 		p3 := p1 + p2
 		coef2 := math.Exp(p3)
+		w := j00 * fwBratuGalerkinCellWeights[q]
 		p4 := coef2 * w
 		p5 := fwBratuGalerkinCellBasis1Val[q][0] * p4
 		p6 := -p5
@@ -154,7 +154,7 @@ var fwBratuSUPGLayout = kernel.Layout{
 }
 
 // BratuSUPGKernel is the generated cell kernel of the supg form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate. The form is symmetric; only the upper triangle
 // is computed.
 type BratuSUPGKernel struct{}
@@ -165,7 +165,7 @@ var _ kernel.Kernel = BratuSUPGKernel{}
 func (BratuSUPGKernel) Layout() kernel.Layout { return fwBratuSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BratuSUPGKernel) Degree() int { return 3 }
+func (BratuSUPGKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -184,7 +184,6 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c1 := pv[0] * rdetJ
 	c2 := pv[1] * rdetJ
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -206,12 +205,13 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c1 + c2
 	rhs[1] += c1 - c2
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuSUPGCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuSUPGCellBasis1Val[q][1]
 		p3 := p1 + p2
 		coef2 := math.Exp(p3)
+		w := j00 * fwBratuSUPGCellWeights[q]
 		p4 := coef2 * w
 		p5 := fwBratuSUPGCellBasis1Val[q][0] * p4
 		p6 := -p5
@@ -249,7 +249,7 @@ var fwBratuGLSLayout = kernel.Layout{
 }
 
 // BratuGLSKernel is the generated cell kernel of the gls form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BratuGLSKernel struct{}
 
@@ -259,7 +259,7 @@ var _ kernel.Kernel = BratuGLSKernel{}
 func (BratuGLSKernel) Layout() kernel.Layout { return fwBratuGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BratuGLSKernel) Degree() int { return 3 }
+func (BratuGLSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -280,7 +280,6 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c3 := pv[0] * rdetJ
 	c4 := pv[1] * rdetJ
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -303,7 +302,7 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c3 + c4
 	rhs[1] += c3 - c4
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuGLSCellBasis1Val[q][1]
@@ -322,6 +321,7 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p14 := p4 * p9 * p12 * p13
 		coef0 := p10 - p4 + p11 - p14
 		coef5 := p4 - p11
+		w := j00 * fwBratuGLSCellWeights[q]
 		p15 := coef0 * w
 		p16 := fwBratuGLSCellBasis1Val[q][0] * p15
 		p17 := fwBratuGLSCellBasis1Val[q][1] * p15
@@ -368,7 +368,7 @@ var fwBratuVMSLayout = kernel.Layout{
 }
 
 // BratuVMSKernel is the generated cell kernel of the vms form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BratuVMSKernel struct{}
 
@@ -378,7 +378,7 @@ var _ kernel.Kernel = BratuVMSKernel{}
 func (BratuVMSKernel) Layout() kernel.Layout { return fwBratuVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BratuVMSKernel) Degree() int { return 3 }
+func (BratuVMSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -399,7 +399,6 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rdetJ := 1.0 / j00
 	c3 := pv[0] * rdetJ
 	c4 := pv[1] * rdetJ
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -422,7 +421,7 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
 	rhs[0] += (-1.0)*c3 + c4
 	rhs[1] += c3 - c4
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuVMSCellBasis1Val[q][1]
@@ -441,6 +440,7 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p14 := p4 * p9 * p12 * p13
 		coef0 := p14 - p4 - p10 - p11
 		coef5 := p4 + p11
+		w := j00 * fwBratuVMSCellWeights[q]
 		p15 := coef0 * w
 		p16 := fwBratuVMSCellBasis1Val[q][0] * p15
 		p17 := fwBratuVMSCellBasis1Val[q][1] * p15
@@ -500,20 +500,32 @@ func fwBratuSign(x float64) float64 {
 // Tabulated reference data: basis values, gradients and second derivatives at
 // the quadrature points, and quadrature weights.
 var (
-	fwBratuGalerkinCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBratuGalerkinCellBasis1Val = [4][2]float64{
+		{0.06943184420297377, 0.9305681557970262},
+		{0.33000947820757187, 0.6699905217924281},
+		{0.6699905217924281, 0.33000947820757187},
+		{0.9305681557970262, 0.06943184420297377},
 	}
-	fwBratuSUPGCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBratuGalerkinCellWeights = [4]float64{0.17392742256872692, 0.32607257743127305, 0.32607257743127305, 0.17392742256872692}
+	fwBratuSUPGCellBasis1Val   = [4][2]float64{
+		{0.06943184420297377, 0.9305681557970262},
+		{0.33000947820757187, 0.6699905217924281},
+		{0.6699905217924281, 0.33000947820757187},
+		{0.9305681557970262, 0.06943184420297377},
 	}
-	fwBratuGLSCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBratuSUPGCellWeights  = [4]float64{0.17392742256872692, 0.32607257743127305, 0.32607257743127305, 0.17392742256872692}
+	fwBratuGLSCellBasis1Val = [4][2]float64{
+		{0.06943184420297377, 0.9305681557970262},
+		{0.33000947820757187, 0.6699905217924281},
+		{0.6699905217924281, 0.33000947820757187},
+		{0.9305681557970262, 0.06943184420297377},
 	}
-	fwBratuVMSCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBratuGLSCellWeights   = [4]float64{0.17392742256872692, 0.32607257743127305, 0.32607257743127305, 0.17392742256872692}
+	fwBratuVMSCellBasis1Val = [4][2]float64{
+		{0.06943184420297377, 0.9305681557970262},
+		{0.33000947820757187, 0.6699905217924281},
+		{0.6699905217924281, 0.33000947820757187},
+		{0.9305681557970262, 0.06943184420297377},
 	}
+	fwBratuVMSCellWeights = [4]float64{0.17392742256872692, 0.32607257743127305, 0.32607257743127305, 0.17392742256872692}
 )

@@ -16,7 +16,7 @@ func init() {
 	compiled.Register("cb9bb7717a2dc2b0c7d4b9cc94191ee5", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return BurgersGalerkinKernel{}
 		},
@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("e1bd77fc04b12f24d8dff4d15a7e21e5", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return BurgersSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("cc5ec27df91cbb680a5a8ea11032fc59", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BurgersGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("809e65ef336ce817c836006e92f69299", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Interval,
-		Degree: 3,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return BurgersVMSKernel{}
 		},
@@ -59,7 +59,7 @@ var fwBurgersGalerkinLayout = kernel.Layout{
 }
 
 // BurgersGalerkinKernel is the generated cell kernel of the galerkin form on
-// interval cells, quadrature degree 3 (2 points). It implements kernel.Kernel,
+// interval cells, quadrature degree 2 (2 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type BurgersGalerkinKernel struct{}
 
@@ -69,7 +69,7 @@ var _ kernel.Kernel = BurgersGalerkinKernel{}
 func (BurgersGalerkinKernel) Layout() kernel.Layout { return fwBurgersGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BurgersGalerkinKernel) Degree() int { return 3 }
+func (BurgersGalerkinKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -160,7 +160,7 @@ var fwBurgersSUPGLayout = kernel.Layout{
 }
 
 // BurgersSUPGKernel is the generated cell kernel of the supg form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 5 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersSUPGKernel struct{}
 
@@ -170,7 +170,7 @@ var _ kernel.Kernel = BurgersSUPGKernel{}
 func (BurgersSUPGKernel) Layout() kernel.Layout { return fwBurgersSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BurgersSUPGKernel) Degree() int { return 3 }
+func (BurgersSUPGKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -200,7 +200,6 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c9 := j00 * (1.0 / 3)
 	c10 := j00 * (-(1.0 / 6))
 	c11 := j00 * (1.0 / 6)
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
@@ -216,7 +215,7 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[1] += c2*c10 + c3*c11
 	acc[2] += c2*c10 + c3*c11
 	acc[3] += c2*c8 + c3*c9
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBurgersSUPGCellBasis1Val[q][0]
 		p2 := pv[1] * fwBurgersSUPGCellBasis1Val[q][1]
@@ -238,6 +237,7 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef3 := p14 + 0.01
 		p15 := coef1 * tau_u * p7
 		coef6 := c7 - p15
+		w := j00 * fwBurgersSUPGCellWeights[q]
 		p16 := coef1 * w
 		p17 := rdetJ * p16
 		p18 := -p17
@@ -292,7 +292,7 @@ var fwBurgersGLSLayout = kernel.Layout{
 }
 
 // BurgersGLSKernel is the generated cell kernel of the gls form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersGLSKernel struct{}
 
@@ -302,7 +302,7 @@ var _ kernel.Kernel = BurgersGLSKernel{}
 func (BurgersGLSKernel) Layout() kernel.Layout { return fwBurgersGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BurgersGLSKernel) Degree() int { return 3 }
+func (BurgersGLSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -329,14 +329,13 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c7 := c6 - c5
 	c8 := c7 * c7
 	c9 := c7 * (-0.01)
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
 	}
 	var acc [4]float64
 	var rhs [2]float64
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBurgersGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBurgersGLSCellBasis1Val[q][1]
@@ -365,6 +364,7 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef9 := p18 - p19
 		p20 := p3 * tau_u * p10
 		coef10 := c9 - p20
+		w := j00 * fwBurgersGLSCellWeights[q]
 		p21 := coef0 * w
 		p22 := fwBurgersGLSCellBasis1Val[q][0] * p21
 		p23 := fwBurgersGLSCellBasis1Val[q][1] * p21
@@ -434,7 +434,7 @@ var fwBurgersVMSLayout = kernel.Layout{
 }
 
 // BurgersVMSKernel is the generated cell kernel of the vms form on interval
-// cells, quadrature degree 3 (2 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 5 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersVMSKernel struct{}
 
@@ -444,7 +444,7 @@ var _ kernel.Kernel = BurgersVMSKernel{}
 func (BurgersVMSKernel) Layout() kernel.Layout { return fwBurgersVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (BurgersVMSKernel) Degree() int { return 3 }
+func (BurgersVMSKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -474,7 +474,6 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c9 := j00 * (1.0 / 3)
 	c10 := j00 * (-(1.0 / 6))
 	c11 := j00 * (1.0 / 6)
-	w := j00 * 0.5
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
@@ -490,7 +489,7 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[1] += c2*c10 + c3*c11
 	acc[2] += c2*c10 + c3*c11
 	acc[3] += c2*c8 + c3*c9
-	for q := 0; q < 2; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBurgersVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBurgersVMSCellBasis1Val[q][1]
@@ -517,6 +516,7 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p19 := p8 * p8
 		p20 := 0.5 * p19
 		coef9 := c7 - p18 + p20
+		w := j00 * fwBurgersVMSCellWeights[q]
 		p21 := coef1 * w
 		p22 := rdetJ * p21
 		p23 := -p22
@@ -600,16 +600,23 @@ var (
 		{0.21132486540518713, 0.7886751345948129},
 		{0.7886751345948129, 0.21132486540518713},
 	}
-	fwBurgersSUPGCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBurgersSUPGCellBasis1Val = [3][2]float64{
+		{0.1127016653792583, 0.8872983346207417},
+		{0.5, 0.5},
+		{0.8872983346207417, 0.1127016653792583},
 	}
-	fwBurgersGLSCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBurgersSUPGCellWeights  = [3]float64{5.0 / 18, 4.0 / 9, 5.0 / 18}
+	fwBurgersGLSCellBasis1Val = [4][2]float64{
+		{0.06943184420297377, 0.9305681557970262},
+		{0.33000947820757187, 0.6699905217924281},
+		{0.6699905217924281, 0.33000947820757187},
+		{0.9305681557970262, 0.06943184420297377},
 	}
-	fwBurgersVMSCellBasis1Val = [2][2]float64{
-		{0.21132486540518713, 0.7886751345948129},
-		{0.7886751345948129, 0.21132486540518713},
+	fwBurgersGLSCellWeights   = [4]float64{0.17392742256872692, 0.32607257743127305, 0.32607257743127305, 0.17392742256872692}
+	fwBurgersVMSCellBasis1Val = [3][2]float64{
+		{0.1127016653792583, 0.8872983346207417},
+		{0.5, 0.5},
+		{0.8872983346207417, 0.1127016653792583},
 	}
+	fwBurgersVMSCellWeights = [3]float64{5.0 / 18, 4.0 / 9, 5.0 / 18}
 )

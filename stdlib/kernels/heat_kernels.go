@@ -16,7 +16,7 @@ func init() {
 	compiled.Register("52b72db38b980a57e0d18de0ed10146f", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return HeatGalerkinKernel{}
 		},
@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("933b47bf910e1589648c5bb51e587dae", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return HeatSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("3508bcfeb891554ece5278c98d891490", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return HeatGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("64b5f572ae81b1b4adfc367707c2f03b", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return HeatVMSKernel{}
 		},
@@ -59,7 +59,7 @@ var fwHeatGalerkinLayout = kernel.Layout{
 }
 
 // HeatGalerkinKernel is the generated cell kernel of the galerkin form on
-// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type HeatGalerkinKernel struct{}
 
@@ -69,7 +69,7 @@ var _ kernel.Kernel = HeatGalerkinKernel{}
 func (HeatGalerkinKernel) Layout() kernel.Layout { return fwHeatGalerkinLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (HeatGalerkinKernel) Degree() int { return 3 }
+func (HeatGalerkinKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -114,6 +114,7 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c21 := rdetJ * c20
 	c22 := detJ * (1.0 / 12)
 	c23 := detJ * (1.0 / 24)
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwHeatFillNaN(A, b)
 		return
@@ -137,14 +138,13 @@ func (HeatGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0/6)*(-j11-c3) + 0.5*(-c19-c21) + coef0*c23
 	acc[7] += (1.0/6)*j11 + 0.5*c19 + coef0*c23
 	acc[8] += (1.0/6)*c3 + 0.5*c21 + coef0*c22
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatGalerkinCellBasis1Val[q][0]
 		p2 := pv[1] * fwHeatGalerkinCellBasis1Val[q][1]
 		p3 := pv[2] * fwHeatGalerkinCellBasis1Val[q][2]
 		p4 := p1 + p2 + p3
 		coef4 := coef0 * p4
-		w := detJ * fwHeatGalerkinCellWeights[q]
 		p5 := coef4 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
@@ -170,7 +170,7 @@ var fwHeatSUPGLayout = kernel.Layout{
 }
 
 // HeatSUPGKernel is the generated cell kernel of the supg form on triangle
-// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 2 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type HeatSUPGKernel struct{}
 
@@ -180,7 +180,7 @@ var _ kernel.Kernel = HeatSUPGKernel{}
 func (HeatSUPGKernel) Layout() kernel.Layout { return fwHeatSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (HeatSUPGKernel) Degree() int { return 3 }
+func (HeatSUPGKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -270,6 +270,7 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c63 := c60 + c62
 	c64 := j11 * (1.0 / 6)
 	c65 := j10 * (-(1.0 / 6))
+	w := detJ * (1.0 / 6)
 	k00 := j11 * rdetJ
 	c66 := j10 * rdetJ
 	k10 := -c66
@@ -302,7 +303,7 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef3*c65
 	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef3*c65
 	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef3*c65
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatSUPGCellBasis1Val[q][0]
 		p2 := pv[1] * fwHeatSUPGCellBasis1Val[q][1]
@@ -310,7 +311,6 @@ func (HeatSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p4 := p1 + p2 + p3
 		coef7 := coef0 * p4
 		coef8 := coef3 * p4
-		w := detJ * fwHeatSUPGCellWeights[q]
 		p5 := coef7 * w
 		p6 := coef8 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
@@ -339,7 +339,7 @@ var fwHeatGLSLayout = kernel.Layout{
 }
 
 // HeatGLSKernel is the generated cell kernel of the gls form on triangle
-// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 2 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type HeatGLSKernel struct{}
 
@@ -349,7 +349,7 @@ var _ kernel.Kernel = HeatGLSKernel{}
 func (HeatGLSKernel) Layout() kernel.Layout { return fwHeatGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (HeatGLSKernel) Degree() int { return 3 }
+func (HeatGLSKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -439,6 +439,7 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c63 := c60 + c62
 	c64 := j11 * (1.0 / 6)
 	c65 := j10 * (-(1.0 / 6))
+	w := detJ * (1.0 / 6)
 	k00 := j11 * rdetJ
 	c66 := j10 * rdetJ
 	k10 := -c66
@@ -479,7 +480,7 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c65
 	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c65
 	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef7*c65
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwHeatGLSCellBasis1Val[q][1]
@@ -487,7 +488,6 @@ func (HeatGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p4 := p1 + p2 + p3
 		coef15 := coef0 * p4
 		coef17 := coef7 * p4
-		w := detJ * fwHeatGLSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
@@ -518,7 +518,7 @@ var fwHeatVMSLayout = kernel.Layout{
 }
 
 // HeatVMSKernel is the generated cell kernel of the vms form on triangle
-// cells, quadrature degree 3 (4 points). It implements kernel.Kernel, keeps no
+// cells, quadrature degree 2 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type HeatVMSKernel struct{}
 
@@ -528,7 +528,7 @@ var _ kernel.Kernel = HeatVMSKernel{}
 func (HeatVMSKernel) Layout() kernel.Layout { return fwHeatVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (HeatVMSKernel) Degree() int { return 3 }
+func (HeatVMSKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -618,6 +618,7 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c63 := c60 + c62
 	c64 := j11 * (1.0 / 6)
 	c65 := j10 * (-(1.0 / 6))
+	w := detJ * (1.0 / 6)
 	k00 := j11 * rdetJ
 	c66 := j10 * rdetJ
 	k10 := -c66
@@ -658,7 +659,7 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[6] += (1.0/6)*(-j11-c28) + 0.5*(-c45-c48) + coef0*c58 + tau_temp*c63 + coef7*c65
 	acc[7] += (1.0/6)*j11 + 0.5*c45 + coef0*c58 + tau_temp*c52 + coef7*c65
 	acc[8] += (1.0/6)*c28 + 0.5*c48 + coef0*c50 + tau_temp*c53 + coef7*c65
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwHeatVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwHeatVMSCellBasis1Val[q][1]
@@ -666,7 +667,6 @@ func (HeatVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p4 := p1 + p2 + p3
 		coef15 := coef0 * p4
 		coef17 := coef7 * p4
-		w := detJ * fwHeatVMSCellWeights[q]
 		p5 := coef15 * w
 		p6 := coef17 * w
 		// Rows 0..2 of the right-hand side, at each quadrature point.
@@ -699,32 +699,24 @@ func fwHeatFillNaN(A, b []float64) {
 // Tabulated reference data: basis values, gradients and second derivatives at
 // the quadrature points, and quadrature weights.
 var (
-	fwHeatGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwHeatGalerkinCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwHeatGalerkinCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwHeatSUPGCellBasis1Val   = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwHeatSUPGCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwHeatSUPGCellWeights  = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwHeatGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwHeatGLSCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwHeatGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwHeatVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwHeatVMSCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwHeatVMSCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
 )

@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("497a3dbeff9a39dfef2cbee50db014c9", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
-		Degree: 2,
+		Degree: 4,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("f49a0b0a516d3d6998733bda53270c80", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
-		Degree: 2,
+		Degree: 4,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("2e069ff96a812a3d793974f9e0b20dee", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
-		Degree: 2,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesVMSKernel{}
 		},
@@ -278,7 +278,7 @@ var fwNavierStokesSUPGLayout = kernel.Layout{
 }
 
 // NavierStokesSUPGKernel is the generated cell kernel of the supg form on
-// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 4 (6 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type NavierStokesSUPGKernel struct{}
 
@@ -288,7 +288,7 @@ var _ kernel.Kernel = NavierStokesSUPGKernel{}
 func (NavierStokesSUPGKernel) Layout() kernel.Layout { return fwNavierStokesSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesSUPGKernel) Degree() int { return 2 }
+func (NavierStokesSUPGKernel) Degree() int { return 4 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -333,7 +333,6 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
-	w := detJ * (1.0 / 6)
 	rdetJ := 1.0 / detJ
 	c25 := j01 * rdetJ
 	k01 := -c25
@@ -404,7 +403,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[75] += (1.0 / 6) * (-c24 - j00)
 	acc[76] += (1.0 / 6) * c24
 	acc[77] += (1.0 / 6) * j00
-	for q := 0; q < 3; q++ {
+	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesSUPGCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesSUPGCellBasis1Val[q][1]
@@ -434,6 +433,7 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef10 := 0.01 + p17 + tau_p
 		coef18 := p16 + 0.01 + tau_p
 		coef25 := 0.01 + p17
+		w := detJ * fwNavierStokesSUPGCellWeights[q]
 		p18 := coef0 * w
 		p19 := p18 * c26
 		p20 := p18 * c25
@@ -691,7 +691,7 @@ var fwNavierStokesGLSLayout = kernel.Layout{
 }
 
 // NavierStokesGLSKernel is the generated cell kernel of the gls form on
-// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 4 (6 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type NavierStokesGLSKernel struct{}
 
@@ -701,7 +701,7 @@ var _ kernel.Kernel = NavierStokesGLSKernel{}
 func (NavierStokesGLSKernel) Layout() kernel.Layout { return fwNavierStokesGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesGLSKernel) Degree() int { return 2 }
+func (NavierStokesGLSKernel) Degree() int { return 4 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -746,7 +746,6 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	detJ := c21 - c22
 	c23 := -j10
 	c24 := -j01
-	w := detJ * (1.0 / 6)
 	rdetJ := 1.0 / detJ
 	c25 := j01 * rdetJ
 	k01 := -c25
@@ -817,7 +816,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[75] += (1.0 / 6) * (-c24 - j00)
 	acc[76] += (1.0 / 6) * c24
 	acc[77] += (1.0 / 6) * j00
-	for q := 0; q < 3; q++ {
+	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesGLSCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesGLSCellBasis1Val[q][1]
@@ -847,6 +846,7 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef15 := 0.01 + p17 + tau_p
 		coef28 := p16 + 0.01 + tau_p
 		coef40 := 0.01 + p17
+		w := detJ * fwNavierStokesGLSCellWeights[q]
 		p18 := coef0 * w
 		p19 := p18 * c26
 		p20 := p18 * c25
@@ -1124,7 +1124,7 @@ var fwNavierStokesVMSLayout = kernel.Layout{
 }
 
 // NavierStokesVMSKernel is the generated cell kernel of the vms form on
-// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 5 (7 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type NavierStokesVMSKernel struct{}
 
@@ -1134,7 +1134,7 @@ var _ kernel.Kernel = NavierStokesVMSKernel{}
 func (NavierStokesVMSKernel) Layout() kernel.Layout { return fwNavierStokesVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesVMSKernel) Degree() int { return 2 }
+func (NavierStokesVMSKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -1213,7 +1213,6 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c51 := k00 * pv[7]
 	c52 := c24 * pv[8]
 	c53 := c50 + c51 - c52
-	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
@@ -1247,7 +1246,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	acc[75] += (1.0 / 6) * (-c30 - j00)
 	acc[76] += (1.0 / 6) * c30
 	acc[77] += (1.0 / 6) * j00
-	for q := 0; q < 3; q++ {
+	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNavierStokesVMSCellBasis1Val[q][1]
@@ -1301,6 +1300,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		coef20 := coef56 - p35
 		coef32 := p29 - p30 + 0.01 + tau_p
 		coef44 := 0.01 + p36 - p37
+		w := detJ * fwNavierStokesVMSCellWeights[q]
 		p38 := coef0 * w
 		p39 := c32 * p38
 		p40 := c31 * p38
@@ -1640,19 +1640,32 @@ var (
 		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
 		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwNavierStokesSUPGCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+	fwNavierStokesSUPGCellBasis1Val = [6][3]float64{
+		{0.10810301816807, 0.445948490915965, 0.445948490915965},
+		{0.445948490915965, 0.10810301816807, 0.445948490915965},
+		{0.445948490915965, 0.445948490915965, 0.10810301816807},
+		{0.8168475729804581, 0.091576213509771, 0.091576213509771},
+		{0.09157621350977004, 0.816847572980459, 0.091576213509771},
+		{0.09157621350977008, 0.091576213509771, 0.816847572980459},
 	}
-	fwNavierStokesGLSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+	fwNavierStokesSUPGCellWeights  = [6]float64{0.1116907948390055, 0.1116907948390055, 0.1116907948390055, 0.054975871827661, 0.054975871827661, 0.054975871827661}
+	fwNavierStokesGLSCellBasis1Val = [6][3]float64{
+		{0.10810301816807, 0.445948490915965, 0.445948490915965},
+		{0.445948490915965, 0.10810301816807, 0.445948490915965},
+		{0.445948490915965, 0.445948490915965, 0.10810301816807},
+		{0.8168475729804581, 0.091576213509771, 0.091576213509771},
+		{0.09157621350977004, 0.816847572980459, 0.091576213509771},
+		{0.09157621350977008, 0.091576213509771, 0.816847572980459},
 	}
-	fwNavierStokesVMSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+	fwNavierStokesGLSCellWeights   = [6]float64{0.1116907948390055, 0.1116907948390055, 0.1116907948390055, 0.054975871827661, 0.054975871827661, 0.054975871827661}
+	fwNavierStokesVMSCellBasis1Val = [7][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 	}
+	fwNavierStokesVMSCellWeights = [7]float64{0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358}
 )

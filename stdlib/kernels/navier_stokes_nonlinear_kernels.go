@@ -16,7 +16,7 @@ func init() {
 	compiled.Register("a1070d40aaf4579197470f82f3987f57", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesNonlinearGalerkinKernel{}
 		},
@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("1c1c17fb83f8edf378c852d05a1397aa", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesNonlinearSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("418c7e9dec5e51051ea00e1470efb86a", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesNonlinearGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("9905db07e59485502348f3a5ca38f3f2", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return NavierStokesNonlinearVMSKernel{}
 		},
@@ -60,7 +60,7 @@ var fwNavierStokesNonlinearGalerkinLayout = kernel.Layout{
 }
 
 // NavierStokesNonlinearGalerkinKernel is the generated cell kernel of the
-// galerkin form on triangle cells, quadrature degree 3 (4 points). It
+// galerkin form on triangle cells, quadrature degree 2 (3 points). It
 // implements kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearGalerkinKernel struct{}
 
@@ -72,7 +72,7 @@ func (NavierStokesNonlinearGalerkinKernel) Layout() kernel.Layout {
 }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesNonlinearGalerkinKernel) Degree() int { return 3 }
+func (NavierStokesNonlinearGalerkinKernel) Degree() int { return 2 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -164,7 +164,7 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 	c63 := c54 * 0.5
 	c64 := c52 * 0.5
 	c65 := detJ * (-(1.0 / 6))
-	c66 := detJ * (1.0 / 6)
+	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
@@ -311,10 +311,10 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
-	rhs[6] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
-	rhs[7] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
-	rhs[8] += c6*c65 + c7*c65 + c8*c66 + c18*c65 + c19*c66 + c20*c65
-	for q := 0; q < 4; q++ {
+	rhs[6] += c6*c65 + c7*c65 + c8*w + c18*c65 + c19*w + c20*c65
+	rhs[7] += c6*c65 + c7*c65 + c8*w + c18*c65 + c19*w + c20*c65
+	rhs[8] += c6*c65 + c7*c65 + c8*w + c18*c65 + c19*w + c20*c65
+	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesNonlinearGalerkinCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesNonlinearGalerkinCellBasis1Val[q][1]
@@ -332,7 +332,6 @@ func (NavierStokesNonlinearGalerkinKernel) Cell(in *kernel.CellInput, A, b []flo
 		p11 := -p10
 		p12 := coef1 * coef8
 		coef19 := p11 - p12 - c28
-		w := detJ * fwNavierStokesNonlinearGalerkinCellWeights[q]
 		p13 := coef1 * w
 		p14 := c11 * p13
 		p15 := c10 * p13
@@ -410,7 +409,7 @@ var fwNavierStokesNonlinearSUPGLayout = kernel.Layout{
 }
 
 // NavierStokesNonlinearSUPGKernel is the generated cell kernel of the supg
-// form on triangle cells, quadrature degree 3 (4 points). It implements
+// form on triangle cells, quadrature degree 5 (7 points). It implements
 // kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearSUPGKernel struct{}
 
@@ -422,7 +421,7 @@ func (NavierStokesNonlinearSUPGKernel) Layout() kernel.Layout {
 }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesNonlinearSUPGKernel) Degree() int { return 3 }
+func (NavierStokesNonlinearSUPGKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -638,7 +637,7 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	rhs[6] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
 	rhs[7] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
 	rhs[8] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]
 		p2 := pv[4] * fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]
@@ -1210,7 +1209,7 @@ var fwNavierStokesNonlinearGLSLayout = kernel.Layout{
 }
 
 // NavierStokesNonlinearGLSKernel is the generated cell kernel of the gls form
-// on triangle cells, quadrature degree 3 (4 points). It implements
+// on triangle cells, quadrature degree 6 (12 points). It implements
 // kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearGLSKernel struct{}
 
@@ -1220,7 +1219,7 @@ var _ kernel.Kernel = NavierStokesNonlinearGLSKernel{}
 func (NavierStokesNonlinearGLSKernel) Layout() kernel.Layout { return fwNavierStokesNonlinearGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesNonlinearGLSKernel) Degree() int { return 3 }
+func (NavierStokesNonlinearGLSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -1352,7 +1351,7 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	rhs[6] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
 	rhs[7] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
 	rhs[8] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesNonlinearGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNavierStokesNonlinearGLSCellBasis1Val[q][1]
@@ -2197,7 +2196,7 @@ var fwNavierStokesNonlinearVMSLayout = kernel.Layout{
 }
 
 // NavierStokesNonlinearVMSKernel is the generated cell kernel of the vms form
-// on triangle cells, quadrature degree 3 (4 points). It implements
+// on triangle cells, quadrature degree 6 (12 points). It implements
 // kernel.Kernel, keeps no state and does not allocate.
 type NavierStokesNonlinearVMSKernel struct{}
 
@@ -2207,7 +2206,7 @@ var _ kernel.Kernel = NavierStokesNonlinearVMSKernel{}
 func (NavierStokesNonlinearVMSKernel) Layout() kernel.Layout { return fwNavierStokesNonlinearVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NavierStokesNonlinearVMSKernel) Degree() int { return 3 }
+func (NavierStokesNonlinearVMSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -2337,7 +2336,7 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	rhs[6] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
 	rhs[7] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
 	rhs[8] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesNonlinearVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNavierStokesNonlinearVMSCellBasis1Val[q][1]
@@ -3415,32 +3414,49 @@ func fwNavierStokesNonlinearSign(x float64) float64 {
 // Tabulated reference data: basis values, gradients and second derivatives at
 // the quadrature points, and quadrature weights.
 var (
-	fwNavierStokesNonlinearGalerkinCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesNonlinearGalerkinCellBasis1Val = [3][3]float64{
+		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
+		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
+		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwNavierStokesNonlinearGalerkinCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwNavierStokesNonlinearSUPGCellBasis1Val   = [4][3]float64{
+	fwNavierStokesNonlinearSUPGCellBasis1Val = [7][3]float64{
 		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 	}
-	fwNavierStokesNonlinearSUPGCellWeights  = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwNavierStokesNonlinearGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesNonlinearSUPGCellWeights  = [7]float64{0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358}
+	fwNavierStokesNonlinearGLSCellBasis1Val = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
-	fwNavierStokesNonlinearGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwNavierStokesNonlinearVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwNavierStokesNonlinearGLSCellWeights   = [12]float64{0.0583931378631895, 0.0583931378631895, 0.0583931378631895, 0.0254224531851035, 0.0254224531851035, 0.0254224531851035, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187}
+	fwNavierStokesNonlinearVMSCellBasis1Val = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
-	fwNavierStokesNonlinearVMSCellWeights = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
+	fwNavierStokesNonlinearVMSCellWeights = [12]float64{0.0583931378631895, 0.0583931378631895, 0.0583931378631895, 0.0254224531851035, 0.0254224531851035, 0.0254224531851035, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187}
 )

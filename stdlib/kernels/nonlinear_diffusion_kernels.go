@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("a1ffc34e544273a744ccfcf68150c373", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
-		Degree: 2,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return NonlinearDiffusionSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("03d6dccc66adfc55be0c86fc34d1c483", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return NonlinearDiffusionGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("44c6cbc9761b7078131414d24c65e4fe", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
-		Degree: 2,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return NonlinearDiffusionVMSKernel{}
 		},
@@ -210,7 +210,7 @@ var fwNonlinearDiffusionSUPGLayout = kernel.Layout{
 }
 
 // NonlinearDiffusionSUPGKernel is the generated cell kernel of the supg form
-// on triangle cells, quadrature degree 2 (3 points). It implements
+// on triangle cells, quadrature degree 5 (7 points). It implements
 // kernel.Kernel, keeps no state and does not allocate.
 type NonlinearDiffusionSUPGKernel struct{}
 
@@ -220,7 +220,7 @@ var _ kernel.Kernel = NonlinearDiffusionSUPGKernel{}
 func (NonlinearDiffusionSUPGKernel) Layout() kernel.Layout { return fwNonlinearDiffusionSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NonlinearDiffusionSUPGKernel) Degree() int { return 2 }
+func (NonlinearDiffusionSUPGKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -280,7 +280,6 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c33 := c8 * c8
 	c34 := c32 + c33
 	c35 := detJ * 10.0
-	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
@@ -295,7 +294,7 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rhs[0] += (1.0 / 6) * c35
 	rhs[1] += (1.0 / 6) * c35
 	rhs[2] += (1.0 / 6) * c35
-	for q := 0; q < 3; q++ {
+	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionSUPGCellBasis1Val[q][0]
 		p2 := pv[1] * fwNonlinearDiffusionSUPGCellBasis1Val[q][1]
@@ -330,6 +329,7 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p24 := p6 * c31
 		p25 := p4 * tau_u * c31 * p10 * 4.0
 		coef12 := p25 - p24 - c31
+		w := detJ * fwNonlinearDiffusionSUPGCellWeights[q]
 		p26 := coef0 * w
 		p27 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p26
 		p28 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p26
@@ -438,8 +438,8 @@ var fwNonlinearDiffusionGLSLayout = kernel.Layout{
 }
 
 // NonlinearDiffusionGLSKernel is the generated cell kernel of the gls form on
-// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
-// keeps no state and does not allocate.
+// triangle cells, quadrature degree 6 (12 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type NonlinearDiffusionGLSKernel struct{}
 
 var _ kernel.Kernel = NonlinearDiffusionGLSKernel{}
@@ -448,7 +448,7 @@ var _ kernel.Kernel = NonlinearDiffusionGLSKernel{}
 func (NonlinearDiffusionGLSKernel) Layout() kernel.Layout { return fwNonlinearDiffusionGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NonlinearDiffusionGLSKernel) Degree() int { return 3 }
+func (NonlinearDiffusionGLSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -514,7 +514,7 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNonlinearDiffusionGLSCellBasis1Val[q][1]
@@ -747,7 +747,7 @@ var fwNonlinearDiffusionVMSLayout = kernel.Layout{
 }
 
 // NonlinearDiffusionVMSKernel is the generated cell kernel of the vms form on
-// triangle cells, quadrature degree 2 (3 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 5 (7 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type NonlinearDiffusionVMSKernel struct{}
 
@@ -757,7 +757,7 @@ var _ kernel.Kernel = NonlinearDiffusionVMSKernel{}
 func (NonlinearDiffusionVMSKernel) Layout() kernel.Layout { return fwNonlinearDiffusionVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (NonlinearDiffusionVMSKernel) Degree() int { return 2 }
+func (NonlinearDiffusionVMSKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -797,7 +797,6 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c13 := pv[2] * c9
 	c14 := c11 + c12 - c13
 	c15 := detJ * 10.0
-	w := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
@@ -812,7 +811,7 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rhs[0] += (1.0 / 6) * c15
 	rhs[1] += (1.0 / 6) * c15
 	rhs[2] += (1.0 / 6) * c15
-	for q := 0; q < 3; q++ {
+	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwNonlinearDiffusionVMSCellBasis1Val[q][1]
@@ -828,6 +827,7 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p8 := p5 * c14
 		p9 := -p8
 		coef17 := p9 - c14
+		w := detJ * fwNonlinearDiffusionVMSCellWeights[q]
 		p10 := coef0 * w
 		p11 := fwNonlinearDiffusionVMSCellBasis1Val[q][0] * p10
 		p12 := fwNonlinearDiffusionVMSCellBasis1Val[q][1] * p10
@@ -987,21 +987,39 @@ var (
 		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
 		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
 	}
-	fwNonlinearDiffusionSUPGCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
-	}
-	fwNonlinearDiffusionGLSCellBasis1Val = [4][3]float64{
+	fwNonlinearDiffusionSUPGCellBasis1Val = [7][3]float64{
 		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 	}
-	fwNonlinearDiffusionGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwNonlinearDiffusionVMSCellBasis1Val = [3][3]float64{
-		{0.6666666666666667, 1.0 / 6, 1.0 / 6},
-		{0.1666666666666667, 2.0 / 3, 1.0 / 6},
-		{0.16666666666666674, 1.0 / 6, 2.0 / 3},
+	fwNonlinearDiffusionSUPGCellWeights  = [7]float64{0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358}
+	fwNonlinearDiffusionGLSCellBasis1Val = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
+	fwNonlinearDiffusionGLSCellWeights   = [12]float64{0.0583931378631895, 0.0583931378631895, 0.0583931378631895, 0.0254224531851035, 0.0254224531851035, 0.0254224531851035, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187}
+	fwNonlinearDiffusionVMSCellBasis1Val = [7][3]float64{
+		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
+	}
+	fwNonlinearDiffusionVMSCellWeights = [7]float64{0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358}
 )

@@ -24,7 +24,7 @@ func init() {
 	compiled.Register("9e184e837e41ae430b3afb54b0630fa8", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return EstuaryMixingSUPGKernel{}
 		},
@@ -32,7 +32,7 @@ func init() {
 	compiled.Register("26d3f71c9f16436a99208928020b51d1", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return EstuaryMixingGLSKernel{}
 		},
@@ -40,7 +40,7 @@ func init() {
 	compiled.Register("1df49e9172a387bf079836aabbfb0a8c", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
-		Degree: 3,
+		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return EstuaryMixingVMSKernel{}
 		},
@@ -194,7 +194,7 @@ var fwEstuaryMixingSUPGLayout = kernel.Layout{
 }
 
 // EstuaryMixingSUPGKernel is the generated cell kernel of the supg form on
-// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
+// triangle cells, quadrature degree 5 (7 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type EstuaryMixingSUPGKernel struct{}
 
@@ -204,7 +204,7 @@ var _ kernel.Kernel = EstuaryMixingSUPGKernel{}
 func (EstuaryMixingSUPGKernel) Layout() kernel.Layout { return fwEstuaryMixingSUPGLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (EstuaryMixingSUPGKernel) Degree() int { return 3 }
+func (EstuaryMixingSUPGKernel) Degree() int { return 5 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -277,7 +277,7 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	rhs[0] += (1.0 / 6) * detJ
 	rhs[1] += (1.0 / 6) * detJ
 	rhs[2] += (1.0 / 6) * detJ
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[1] * fwEstuaryMixingSUPGCellGeomVal[q][0]
 		p2 := x[3] * fwEstuaryMixingSUPGCellGeomVal[q][1]
@@ -421,8 +421,8 @@ var fwEstuaryMixingGLSLayout = kernel.Layout{
 }
 
 // EstuaryMixingGLSKernel is the generated cell kernel of the gls form on
-// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
-// keeps no state and does not allocate.
+// triangle cells, quadrature degree 6 (12 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type EstuaryMixingGLSKernel struct{}
 
 var _ kernel.Kernel = EstuaryMixingGLSKernel{}
@@ -431,7 +431,7 @@ var _ kernel.Kernel = EstuaryMixingGLSKernel{}
 func (EstuaryMixingGLSKernel) Layout() kernel.Layout { return fwEstuaryMixingGLSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (EstuaryMixingGLSKernel) Degree() int { return 3 }
+func (EstuaryMixingGLSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -481,7 +481,7 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[1] * fwEstuaryMixingGLSCellGeomVal[q][0]
 		p2 := x[3] * fwEstuaryMixingGLSCellGeomVal[q][1]
@@ -674,8 +674,8 @@ var fwEstuaryMixingVMSLayout = kernel.Layout{
 }
 
 // EstuaryMixingVMSKernel is the generated cell kernel of the vms form on
-// triangle cells, quadrature degree 3 (4 points). It implements kernel.Kernel,
-// keeps no state and does not allocate.
+// triangle cells, quadrature degree 6 (12 points). It implements
+// kernel.Kernel, keeps no state and does not allocate.
 type EstuaryMixingVMSKernel struct{}
 
 var _ kernel.Kernel = EstuaryMixingVMSKernel{}
@@ -684,7 +684,7 @@ var _ kernel.Kernel = EstuaryMixingVMSKernel{}
 func (EstuaryMixingVMSKernel) Layout() kernel.Layout { return fwEstuaryMixingVMSLayout }
 
 // Degree is the quadrature degree the kernel integrates with.
-func (EstuaryMixingVMSKernel) Degree() int { return 3 }
+func (EstuaryMixingVMSKernel) Degree() int { return 6 }
 
 // Cell implements kernel.Kernel. On a cell with a non-positive Jacobian
 // determinant it fills A and b with NaN.
@@ -734,7 +734,7 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	}
 	var acc [9]float64
 	var rhs [3]float64
-	for q := 0; q < 4; q++ {
+	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[1] * fwEstuaryMixingVMSCellGeomVal[q][0]
 		p2 := x[3] * fwEstuaryMixingVMSCellGeomVal[q][1]
@@ -958,43 +958,81 @@ var (
 		{0.2, 0.6, 0.2},
 		{0.20000000000000007, 0.2, 0.6},
 	}
-	fwEstuaryMixingSUPGCellGeomVal = [4][3]float64{
+	fwEstuaryMixingSUPGCellGeomVal = [7][3]float64{
 		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 	}
-	fwEstuaryMixingSUPGCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwEstuaryMixingSUPGCellBasis1Val = [4][3]float64{
+	fwEstuaryMixingSUPGCellWeights   = [7]float64{0.1125, 0.06619707639425308, 0.06619707639425308, 0.06619707639425308, 0.06296959027241358, 0.06296959027241358, 0.06296959027241358}
+	fwEstuaryMixingSUPGCellBasis1Val = [7][3]float64{
 		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+		{0.05971587178976989, 0.47014206410511505, 0.47014206410511505},
+		{0.47014206410511505, 0.05971587178976989, 0.47014206410511505},
+		{0.47014206410511505, 0.47014206410511505, 0.05971587178976989},
+		{0.7974269853530873, 0.10128650732345633, 0.10128650732345633},
+		{0.10128650732345636, 0.7974269853530873, 0.10128650732345633},
+		{0.10128650732345634, 0.10128650732345633, 0.7974269853530873},
 	}
-	fwEstuaryMixingGLSCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwEstuaryMixingGLSCellGeomVal = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
-	fwEstuaryMixingGLSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwEstuaryMixingGLSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwEstuaryMixingGLSCellWeights   = [12]float64{0.0583931378631895, 0.0583931378631895, 0.0583931378631895, 0.0254224531851035, 0.0254224531851035, 0.0254224531851035, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187}
+	fwEstuaryMixingGLSCellBasis1Val = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
-	fwEstuaryMixingVMSCellGeomVal = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwEstuaryMixingVMSCellGeomVal = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
-	fwEstuaryMixingVMSCellWeights   = [4]float64{-0.28125, 25.0 / 96, 25.0 / 96, 25.0 / 96}
-	fwEstuaryMixingVMSCellBasis1Val = [4][3]float64{
-		{0.3333333333333334, 1.0 / 3, 1.0 / 3},
-		{0.6000000000000001, 0.2, 0.2},
-		{0.2, 0.6, 0.2},
-		{0.20000000000000007, 0.2, 0.6},
+	fwEstuaryMixingVMSCellWeights   = [12]float64{0.0583931378631895, 0.0583931378631895, 0.0583931378631895, 0.0254224531851035, 0.0254224531851035, 0.0254224531851035, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187, 0.041425537809187}
+	fwEstuaryMixingVMSCellBasis1Val = [12][3]float64{
+		{0.50142650965818, 0.24928674517091, 0.24928674517091},
+		{0.24928674517091096, 0.501426509658179, 0.24928674517091},
+		{0.24928674517091098, 0.24928674517091, 0.501426509658179},
+		{0.8738219710169961, 0.063089014491502, 0.063089014491502},
+		{0.063089014491502, 0.873821971016996, 0.063089014491502},
+		{0.06308901449150206, 0.063089014491502, 0.873821971016996},
+		{0.05314504984481694, 0.310352451033784, 0.636502499121399},
+		{0.053145049844816994, 0.636502499121399, 0.310352451033784},
+		{0.31035245103378395, 0.053145049844817, 0.636502499121399},
+		{0.310352451033784, 0.636502499121399, 0.053145049844817},
+		{0.636502499121399, 0.053145049844817, 0.310352451033784},
+		{0.6365024991213989, 0.310352451033784, 0.053145049844817},
 	}
 )
