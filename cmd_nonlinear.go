@@ -266,6 +266,10 @@ func nonlinearFailure(err error) error {
 	var ne *problem.NewtonError
 	var ce *problem.ContinuationError
 	switch {
+	case errors.As(err, &ne) && ne.Err != nil:
+		// The linear solver stopped it: its own diagnosis (a singular
+		// matrix and why) with the iteration history.
+		return solveError(err)
 	case errors.As(err, &ce) && errors.As(err, &ne):
 		return fmt.Errorf("numerical failure, no result written: the continuation failed at its step %d (%g): %w", ce.Step, ce.Value, ne)
 	case errors.As(err, &ne):

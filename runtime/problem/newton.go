@@ -66,12 +66,19 @@ func (s NewtonStep) String() string {
 
 // NewtonError reports a Newton iteration that did not converge: it
 // diverged (a non-finite residual), stalled (no step length down to
-// MinStep reduced the residual enough), or reached the iteration limit.
-// History holds every iteration, the initial residual first.
+// MinStep reduced the residual enough), reached the iteration limit, or
+// could not solve for its step (the Jacobian singular or nearly so, as
+// near a fold; Err is then the linear solver's error). History holds
+// every iteration, the initial residual first.
 type NewtonError struct {
 	Reason  string
 	History []NewtonStep
+	Err     error
 }
+
+// Unwrap returns the linear solver's error, if that is what stopped the
+// iteration.
+func (e *NewtonError) Unwrap() error { return e.Err }
 
 func (e *NewtonError) Error() string {
 	var b strings.Builder
@@ -201,11 +208,11 @@ func (s *system) newton(opts Options) (*Solution, error) {
 		t1 := time.Now()
 		res, err := s.linearSolve(Asys, bsys, delta, so)
 		tSolve += time.Since(t1)
-		if err != nil {
-			return nil, err
+		if err == nil {
+			err = checkResidual(res, so)
 		}
-		if err := checkResidual(res, so); err != nil {
-			return nil, err
+		if err != nil {
+			return nil, &NewtonError{Reason: fmt.Sprintf("the linear system of iteration %d could not be solved (%v)", it, err), History: hist, Err: err}
 		}
 		sum.BytesPerUnknown = s.prepared.Memory().PerUnknown()
 		sum.Iterations, sum.Residual = res.Iterations, res.Residual
