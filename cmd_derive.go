@@ -15,6 +15,8 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 	method := fs.String("method", "", "methods to derive: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	format := fs.String("format", "text", "text, latex or json")
 	out := fs.String("o", "", "write to this file instead of standard output")
+	// Nonlinear models: the Jacobian's approximations (cmd_nonlinear.go).
+	freeze := fs.String("freeze", "", "nonlinear models: derive Newton's Jacobian with tau, test or tau,test frozen at the iterate (default: exact)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
 		return err
@@ -50,7 +52,11 @@ func cmdDerive(args []string, stdout, stderr io.Writer) error {
 	if *method == "" && len(m.Methods) == 0 {
 		methods = nil
 	}
-	d, err := compiler.Derive(m, methods)
+	jac, err := parseFreeze(*freeze) // cmd_nonlinear.go
+	if err != nil {
+		return err
+	}
+	d, err := compiler.DeriveWith(m, methods, compiler.DeriveOptions{Jacobian: jac})
 	if err != nil {
 		return &usageError{err.Error()}
 	}

@@ -148,6 +148,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("solve", "MODEL [flags]", "Derive and lower MODEL with one method, assemble it on a mesh and solve it.\nThe summary says which kernels, solver and mesh were used.")
 	method := fs.String("method", "", "galerkin, supg, gls, vms, or all (default: the model's first stabilised method, else galerkin)")
 	sf := addSolveFlags(fs)
+	nl := addNonlinearFlags(fs, true) // nonlinear models (cmd_nonlinear.go)
 	ef := addEngineFlags(fs)
 	dt := fs.Float64("dt", 0, "time step of a transient model (backward Euler; default: the model's coefficient step, if it has one)")
 	steps := fs.Int("steps", 0, "number of time steps of a transient model")
@@ -174,6 +175,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	// Nonlinear models: the iteration's options (cmd_nonlinear.go).
+	if err := nl.check(fs); err != nil {
+		return err
+	}
+	nl.apply(&opts, stderr, *sf.quiet, prog.done)
 	switch {
 	case math.IsNaN(*dt) || math.IsInf(*dt, 0) || *dt < 0:
 		return usagef("--dt %g: give a positive, finite time step", *dt)
@@ -257,7 +263,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	var sols []*problem.Solution
 	var cellData [][]output.Array
 	for k, meth := range methods {
-		lf, deriv, err := deriveAndLower(m, meth)
+		lf, deriv, err := nl.lower(m, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}
@@ -271,13 +277,18 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return usagef("--engine petsc solves steady models; %s is transient", m.Name)
 		case lf.IsTransient():
 			sol, err = solveTransient(m, lf, msh, tr, opts, prog)
+		case engineSolve != nil && lf.Newton:
+			return usagef("--engine petsc has no Newton iteration yet: solve %s with --nonlinear picard (the driver iterates the Picard linearisation)", m.Name)
+		case engineSolve != nil && *nl.ramp != "":
+			return usagef("--ramp runs on the go engine only")
 		case engineSolve != nil:
 			sol, err = engineSolve(lf, msh, opts)
 		default:
-			sol, err = problem.Solve(lf, msh, opts)
+			// Picard start and continuation for nonlinear models (cmd_nonlinear.go).
+			sol, err = nl.solve(m, meth, lf, msh, opts, stderr, *sf.quiet)
 		}
 		if err != nil {
-			return solveError(err)
+			return nonlinearFailure(err) // cmd_nonlinear.go
 		}
 		wall := time.Since(start)
 		prog.done()
@@ -562,8 +573,8 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	if s.SolverReason != "" && s.SolverReason != "as asked" {
 		fmt.Fprintf(w, "           (%s)\n", s.SolverReason)
 	}
-	if s.Picard > 1 {
-		fmt.Fprintf(w, "picard     %d iterations\n", s.Picard)
+	if s.Nonlinear != "" { // newton or picard
+		fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
 	}
 	for _, mc := range m.Means {
 		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)
@@ -658,7 +669,11 @@ type jsonSolve struct {
 	Iterations      int     `json:"iterations"`
 	Residual        float64 `json:"residual"`
 	Picard          int     `json:"picard_iterations"`
-	Setups          int     `json:"solver_setups"` // factorisations or preconditioner builds
+	// Nonlinear is the iteration of a nonlinear solve, newton or picard,
+	// and Newton its history (cmd_nonlinear.go).
+	Nonlinear string               `json:"nonlinear,omitempty"`
+	Newton    []problem.NewtonStep `json:"newton,omitempty"`
+	Setups    int                  `json:"solver_setups"` // factorisations or preconditioner builds
 	// Engine and Ranks: --engine petsc only.
 	Engine string `json:"engine,omitempty"`
 	Ranks  int    `json:"ranks,omitempty"`
@@ -686,7 +701,8 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	s := sol.Summary
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
-		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{}, Engine: s.Engine, Ranks: s.Ranks}
+		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
+		Nonlinear: s.Nonlinear, Newton: s.History, Engine: s.Engine, Ranks: s.Ranks}
 	for _, a := range cells {
 		lo, hi := valueRange(a.Values)
 		out.PerCell[a.Name] = [2]float64{lo, hi}

@@ -45,6 +45,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	engine := addEngineFlags(fs)
 	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
 	until := fs.Float64("until", 0, "transient models: compare with the exact solution at this time")
+	nl := addNonlinearFlags(fs, false) // nonlinear models (cmd_nonlinear.go)
 	steps0 := fs.Int("steps", 4, "transient models: backward Euler steps on the coarsest mesh; each refinement multiplies them by 2^(k+1), so that Δt ∝ h^(k+1)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
@@ -128,6 +129,10 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		prog.say(fmt.Sprint("level", meth, level), "%s: level %d of %d, %d cells", meth, level, *levels, cells)
 	}
 	cfg.Solve.Iterations = prog.iterations
+	if err := nl.check(fs); err != nil { // cmd_nonlinear.go
+		return err
+	}
+	nl.apply(&cfg.Solve, stderr, true, prog.done) // nonlinear iteration limits and tolerances
 	kmax := 1
 	for i, u := range m.Unknowns {
 		l2, h1, checkH1 := m.ExpectedOrders(i)
@@ -136,11 +141,14 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		kmax = max(kmax, u.Element.Degree)
 	}
 	for _, meth := range methods {
-		lf, err := lowerModel(mf.Model, meth)
+		lf, _, err := nl.lower(mf.Model, meth) // Newton step, Picard or linear form (cmd_nonlinear.go)
 		if err != nil {
 			return err
 		}
 		sm := study.Method{Name: meth.String(), Form: lf}
+		if engineSolve != nil && lf.Newton {
+			return usagef("--engine petsc has no Newton iteration yet: verify %s with --nonlinear picard (the driver iterates the Picard linearisation)", m.Name)
+		}
 		if lf.IsTransient() {
 			if engineSolve != nil {
 				return usagef("--engine petsc solves steady models; %s is transient", m.Name)

@@ -54,6 +54,7 @@ var commands = []struct {
 	{"solve", "assemble and solve a model on a mesh", cmdSolve},
 	{"verify", "measure convergence orders with a manufactured solution", cmdVerify},
 	{"gen", "generate Go element kernels for a model", cmdGen},
+	{"jacobian", "check a nonlinear model's Jacobian against its residual (Taylor test)", cmdJacobian}, // cmd_nonlinear.go
 	{"models", "list the standard models and library modules", cmdModels},
 }
 

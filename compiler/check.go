@@ -29,7 +29,7 @@ type CheckOptions struct {
 
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
-	"norm", "pow", "test", "previous", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
+	"norm", "pow", "test", "previous", "increment", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
 	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate", "time_step"}
 
 // defaultSides are the side names of the built-in meshes, by dimension.
@@ -469,7 +469,7 @@ func (c *checker) coef(name string) *Coef {
 		return nil
 	}
 	if ir.HasRole(def, ir.Trial) {
-		c.errorf(d.stmt.Value.Pos(), d.stmt.Value.End(), "write the dependence in the equation, or use previous(u) for a lagged value", "coefficient %q depends on an unknown", name)
+		c.errorf(d.stmt.Value.Pos(), d.stmt.Value.End(), "write the dependence in the equation, or define a formula (formula k(s) = 1 + s^2, then k(u) in the equation), or use previous(u) for a lagged value", "coefficient %q depends on an unknown", name)
 		return nil
 	}
 	sym := &ir.Sym{At: ir.At{P: d.stmt.Name.Pos}, Name: name, Kind: ir.Coefficient, R: def.Rank(), Deps: depsOf(def)}
@@ -513,18 +513,13 @@ func (c *checker) checkEquations(f *lang.File) {
 		whole := ir.Sub(p, lhs, rhs)
 		var op, src []ir.Expr
 		ok = true
+		// Terms with an unknown form the operator, which may be nonlinear
+		// in it (compiler.Linearise derives its linearisation); the rest is
+		// the source.
 		for _, t := range additiveTerms(whole) {
-			deg, bad := trialDegree(t)
-			switch {
-			case bad != nil:
-				c.errorf(bad.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears inside a nonlinear function")
-				ok = false
-			case deg > 1:
-				c.errorf(t.Pos(), source.Pos{}, "formwright derives linear operators; linearise the term (for a convecting velocity use previous(u))", "nonlinear term: the unknown appears %d times in one product", deg)
-				ok = false
-			case deg == 1:
+			if ir.HasRole(t, ir.Trial) {
 				op = append(op, t)
-			default:
+			} else {
 				src = append(src, ir.Neg(t.Pos(), t))
 			}
 		}
@@ -702,10 +697,6 @@ func (c *checker) checkStabilisation(f *lang.File) {
 			}
 			if v.Rank() != 0 {
 				c.errorf(s.Value.Pos(), s.Value.End(), "τ is a scalar for each equation (block-diagonal)", "tau must be a scalar, not a %s", rankName(v.Rank()))
-				continue
-			}
-			if ir.HasField(v) && ir.HasRole(v, ir.Trial) {
-				c.errorf(s.Value.Pos(), s.Value.End(), "use previous(u) for a velocity in τ", "tau cannot depend on the unknown")
 				continue
 			}
 			m.Tau[u.Index] = v
@@ -935,7 +926,7 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 		return c.expandFormula(e, fm)
 	}
 	switch e.Func {
-	case "test", "previous":
+	case "test", "previous", "increment":
 		if !nargs(1) {
 			return nil
 		}
@@ -949,12 +940,20 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 			return nil
 		}
 		role := ir.Previous
-		if e.Func == "test" {
+		switch e.Func {
+		case "test":
 			if !c.allowTest {
 				c.errorf(e.FuncPos, e.End(), "test functions appear in derived forms, not in a model's statements", "test(...) is not allowed here")
 				return nil
 			}
 			role = ir.Test
+		case "increment":
+			// The Newton increment δu of a derived Jacobian.
+			if !c.allowTest {
+				c.errorf(e.FuncPos, e.End(), "the increment δu appears in derived Jacobians, not in a model's statements", "increment(...) is not allowed here")
+				return nil
+			}
+			role = ir.Increment
 		}
 		return &ir.Field{At: at, Name: u.Name, Index: u.Index, Role: role, R: u.Rank}
 	case "partial":

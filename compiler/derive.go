@@ -29,14 +29,18 @@ type Note struct {
 type MethodForm struct {
 	Method Method
 	Stab   []StabTerm
-	// Fine and Cross are residual-based VMS turbulence modelling of a
-	// Picard-lagged convecting velocity (fineScaleAdvection): the
-	// fine-scale velocities, and the cell integrand of the cross-stress
-	// terms added to B (nil when there are none). The Reynolds-stress
-	// terms are in the VMS test operators of Stab.
-	Fine  []*FineScale
-	Cross ir.Expr
-	Notes []Note
+	// Fine and Cross are the terms of residual-based VMS beyond the linear
+	// fine-scale term (fineScaleExpansion): the fine-scale quantities the
+	// terms read, and the cell integrand of the terms (cross and Reynolds
+	// stress; nil when there are none). Dropped lists the integrands the
+	// expansion left out, which the notes explain.
+	Fine    []*FineScale
+	Cross   ir.Expr
+	Dropped []ir.Expr
+	// Jacobian is the derivative of the method's residual form, for a
+	// nonlinear model (nil for a linear one).
+	Jacobian *JacobianForm
+	Notes    []Note
 }
 
 // Derivation is everything derive prints, stage by stage.
@@ -44,26 +48,51 @@ type Derivation struct {
 	Model      *Model
 	Normalised []ir.Expr // L_i u, simplified (product rules applied)
 	Sources    []ir.Expr // f_i
-	Adjoint    []ir.Expr // (L* v)_i
-	Split      []Split
-	Galerkin   *GalerkinForm
-	Forms      []MethodForm
-	Notes      []Note // notes on the operator and the Galerkin form
+	// Adjoint is (L* v)_i, for a nonlinear model the adjoint of its
+	// linearisation, (L′(u)* v)_i.
+	Adjoint  []ir.Expr
+	Split    []Split
+	Galerkin *GalerkinForm
+	Forms    []MethodForm
+	Notes    []Note // notes on the operator and the Galerkin form
+	// Linear is the linearisation of a nonlinear model's operator (nil for
+	// a linear model), and Picard its Picard linearisation.
+	Linear *Linearisation
+	Picard *PicardLinearisation
+	// Options are the options the derivation was made with.
+	Options DeriveOptions
+}
+
+// DeriveOptions configure DeriveWith.
+type DeriveOptions struct {
+	// Jacobian says which approximations the Jacobian of a nonlinear model
+	// makes (none by default).
+	Jacobian JacobianOptions
 }
 
 // Derive runs every stage for the methods requested (all of the model's
-// when methods is empty).
+// when methods is empty), with the exact Jacobian for a nonlinear model.
 func Derive(m *Model, methods []Method) (*Derivation, error) {
-	d := &Derivation{Model: m}
+	return DeriveWith(m, methods, DeriveOptions{})
+}
+
+// DeriveWith is Derive with options.
+func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, error) {
+	d := &Derivation{Model: m, Options: opts}
 	for _, eq := range m.Equations {
 		d.Normalised = append(d.Normalised, Simplify(eq.Written, m.Dim))
 		d.Sources = append(d.Sources, Simplify(eq.Source, m.Dim))
 	}
-	adj, err := Adjoint(m)
-	if err != nil {
+	nonlinear := m.Nonlinear()
+	var err error
+	if nonlinear {
+		if d.Linear, err = Linearise(m); err != nil {
+			return nil, err
+		}
+		d.Adjoint = d.Linear.Adjoint
+	} else if d.Adjoint, err = Adjoint(m); err != nil {
 		return nil, err
 	}
-	d.Adjoint = adj
 	d.Split = SplitOperator(m)
 	if d.Galerkin, err = WeakGalerkin(m); err != nil {
 		return nil, err
@@ -78,17 +107,43 @@ func Derive(m *Model, methods []Method) (*Derivation, error) {
 	if len(methods) == 0 {
 		methods = []Method{Galerkin}
 	}
+	m.FineSym = m.FineSym[:0]
 	for _, meth := range methods {
 		f := MethodForm{Method: meth}
 		if meth != Galerkin {
-			f.Stab = Stabilise(m, meth, d.Split, adj)
-			var skipped []string
-			if meth == VMS {
-				skipped = addFineScale(m, &f)
+			if nonlinear {
+				f.Stab = stabiliseNonlinear(m, meth, d.Linear)
+			} else {
+				f.Stab = Stabilise(m, meth, d.Split, d.Adjoint)
 			}
-			f.Notes = stabNotes(m, meth, d, &f, skipped)
+			var expNotes []Note
+			if meth == VMS {
+				x, err := fineScaleExpansion(m)
+				if err != nil {
+					return nil, err
+				}
+				f.Fine, f.Cross, f.Dropped, expNotes = x.fine, x.terms, x.dropped, x.notes
+				for _, fs := range f.Fine {
+					m.FineSym = append(m.FineSym, fs.Sym)
+				}
+			}
+			f.Notes = append(stabNotes(m, meth, d, &f), expNotes...)
+		}
+		if nonlinear {
+			if f.Jacobian, err = deriveJacobian(m, d, &f, opts.Jacobian); err != nil {
+				return nil, err
+			}
+			for _, g := range f.Jacobian.Defs {
+				m.FineSym = append(m.FineSym, g.Sym)
+			}
 		}
 		d.Forms = append(d.Forms, f)
+	}
+	if nonlinear {
+		d.Notes = append(d.Notes, linearisationNotes(m, d.Linear)...)
+		if d.Picard, err = Picard(m); err != nil {
+			d.Notes = append(d.Notes, Note{Warning, "no Picard linearisation: " + err.Error()})
+		}
 	}
 	return d, nil
 }
@@ -208,59 +263,21 @@ func substituteDefs(m *Model, e ir.Expr) ir.Expr {
 	})
 }
 
-// addFineScale adds the fine-scale advection of residual-based VMS to a
-// VMS form (fineScaleAdvection): the cross-stress integrand Σ (δL u_h)·v
-// and, in each row's test operator, −δL with the test function in place of
-// the unknown. It returns the convection terms it could not rewrite.
-func addFineScale(m *Model, f *MethodForm) []string {
-	fs, delta, skipped := fineScaleAdvection(m)
-	if len(fs) == 0 {
-		return skipped
-	}
-	f.Fine = fs
-	m.FineSym = m.FineSym[:0]
-	for _, x := range fs {
-		m.FineSym = append(m.FineSym, x.Sym)
-	}
-	var cross []ir.Expr
-	for k, eq := range m.Equations {
-		if delta[k] == nil {
-			continue
-		}
-		cross = append(cross, contract(eq.Pos, delta[k], m.Test(eq.For)))
-		for i := range f.Stab {
-			if s := &f.Stab[i]; s.For == eq.For {
-				s.TestOp = Simplify(ir.Sub(eq.Pos, s.TestOp, toTest(delta[k])), m.Dim)
-			}
-		}
-	}
-	f.Cross = Simplify(ir.Sum(m.Equations[0].Pos, cross...), m.Dim)
-	return skipped
-}
-
-func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm, skipped []string) []Note {
+func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 	var notes []Note
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
 	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f; the stabilisation integrals are over cell interiors only")
 	if len(m.Unknowns) > 1 {
 		add(Assumption, "τ is block-diagonal: one τ per equation (for flow, τ_M on momentum and τ_C on continuity)")
 	}
-	lagged := false
-	for _, eq := range m.Equations {
-		if ir.HasRole(eq.Written, ir.Previous) {
-			lagged = true
-		}
-	}
-	if lagged && meth == VMS {
-		for _, fs := range f.Fine {
-			u := m.Unknowns[fs.Unknown].Name
-			add(Assumption, "residual-based VMS turbulence modelling (Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197): the convecting velocity previous(%[1]s) becomes previous(%[1]s) + %[1]s′, with the fine-scale velocity %[1]s′ = −τ R_%[1]s at the previous iterate (Picard). The Galerkin convection gains the cross-stress term (v, (∇%[1]s) %[1]s′) and L* the term −(∇v) %[1]s′, which with τR = −u′ is the Reynolds stress −(∇v, u′ ⊗ %[1]s′); both vanish with the residual, so the form stays consistent", u)
-		}
-		if len(f.Fine) == 0 && len(skipped) == 0 {
-			add(Warning, "the convecting velocity is the previous iterate (Picard linearisation), but no vector unknown with a τ is convected, so the fine-scale velocity does not advect: no cross- or Reynolds-stress terms (Bazilevs et al. 2007)")
-		}
-		for _, s := range skipped {
-			add(Warning, "%s", s)
+	if d.Linear != nil {
+		switch meth {
+		case SUPG:
+			add(Assumption, "the operator is nonlinear: SUPG takes the advective part of its linearisation, L′_A(u_h), on the test function (stage 3), where the linear theory takes L_A; R and τ are evaluated at u_h")
+		case GLS:
+			add(Assumption, "the operator is nonlinear: GLS takes its linearisation L′(u_h) on the test function, where the linear theory takes L; R and τ are evaluated at u_h")
+		case VMS:
+			add(Assumption, "the operator is nonlinear: VMS takes minus the adjoint of its linearisation, L′(u_h)*, on the test function (the first-order term of the fine-scale expansion L(u_h + u′) = L(u_h) + L′(u_h)u′ + …), where the linear theory takes L*")
 		}
 	}
 	hasDiff, diffVaries := false, false

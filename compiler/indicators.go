@@ -24,13 +24,20 @@ type Indicator struct {
 func (d *Derivation) Indicators() []Indicator {
 	m := d.Model
 	l := newLowerer(m)
+	split := d.Split
+	if d.Linear != nil {
+		// A nonlinear model: τ reads the solution, and a and κ come from
+		// the linearisation at it (the coefficients of δu's derivatives).
+		l.newton = true
+		split = d.Linear.Split
+	}
 	var out []Indicator
 	for i, ts := range m.TauSym {
 		if ts != nil && m.Tau[i] != nil {
 			out = append(out, Indicator{"tau_" + m.Unknowns[i].Name, l.Lower(ts)[0]})
 		}
 	}
-	for _, sp := range d.Split {
+	for _, sp := range split {
 		adv, dif := sp.Parts[Advective], sp.Parts[Diffusive]
 		if adv == nil || dif == nil {
 			continue

@@ -11,14 +11,20 @@ import (
 
 // Lower produces the component-level discrete problem for one method, the
 // input of the runtime and the kernel generator.
+//
+// For a nonlinear model (d.Linear set) it is the Newton step of
+// LowerNonlinear, ir.NonlinearForm.Step: the linear problem J(u_k; δu, v)
+// = −F(u_k; v) for the increment δu, with Newton set.
 func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	m := d.Model
-	var form *MethodForm
-	for i := range d.Forms {
-		if d.Forms[i].Method == meth {
-			form = &d.Forms[i]
+	if d.Linear != nil {
+		nf, err := d.LowerNonlinear(meth)
+		if err != nil {
+			return nil, err
 		}
+		return nf.Step(), nil
 	}
+	form := d.form(meth)
 	if form == nil {
 		return nil, fmt.Errorf("method %s was not derived", meth)
 	}
@@ -50,6 +56,15 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 		}
 		lf.Integrals = append(lf.Integrals, in)
 	}
+	l.conditions(lf)
+	lf.MaxDerivative = maxDeriv(lf.Integrals)
+	return lf, nil
+}
+
+// conditions adds the model's value and mean conditions to lf, and the
+// quadrature degree the model asks for.
+func (l *lowerer) conditions(lf *ir.LoweredForm) {
+	m := l.m
 	for _, bc := range m.BCs {
 		if bc.Kind != ValueBC {
 			continue
@@ -67,8 +82,6 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	if m.Quadrature > 0 {
 		lf.Degree = m.Quadrature
 	}
-	lf.MaxDerivative = maxDeriv(lf.Integrals)
-	return lf, nil
 }
 
 // LowerExpr writes an expression of the model as its scalar components
@@ -90,9 +103,13 @@ type lowerer struct {
 	done map[ir.Expr][]ir.Expr
 	// tt memoises whether a lowered node holds a trial or test field.
 	tt map[ir.Expr]bool
-	// fine holds the definitions of the fine-scale velocities of the form
-	// being lowered, by symbol name.
+	// fine holds the definitions of the fine-scale and Gateaux symbols of
+	// the form being lowered, by symbol name.
 	fine map[string]ir.Expr
+	// newton lowers a nonlinear model's forms: the state u (Role Trial)
+	// becomes the iterate (Role Previous) and the increment δu (Role
+	// Increment) the trial function.
+	newton bool
 }
 
 func newLowerer(m *Model) *lowerer {
@@ -135,6 +152,18 @@ func (l *lowerer) lowerNode(e ir.Expr) []ir.Expr {
 	case *ir.Sym:
 		return l.sym(e)
 	case *ir.Field:
+		if l.newton {
+			switch e.Role {
+			case ir.Trial:
+				f := *e
+				f.Role = ir.Previous
+				e = &f
+			case ir.Increment:
+				f := *e
+				f.Role = ir.Trial
+				e = &f
+			}
+		}
 		if e.R == 0 {
 			return []ir.Expr{&ir.FieldD{At: at, Field: e}}
 		}
@@ -297,7 +326,7 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 		c := l.named(cf.Sym, l.Lower(cf.Def))
 		l.memo[key] = c
 		return c
-	case ir.FineScale:
+	case ir.FineScale, ir.LaggedFineScale, ir.Gateaux:
 		key := "f:" + s.Name
 		if c, ok := l.memo[key]; ok {
 			return c

@@ -97,7 +97,10 @@ func ibp(dim int, t, w ir.Expr) (vol, bnd ir.Expr, err error) {
 	n := ir.Expr(&ir.Sym{At: at, Name: Normal.Name, Kind: Normal.Kind, R: 1, Q: Normal.Q})
 	switch t := t.(type) {
 	case *ir.Mul:
-		field, rest := trialFactor(t)
+		// The factor with the highest derivative of the unknown is
+		// integrated by parts; in a nonlinear term the others may hold the
+		// unknown too (k(u) Δu).
+		field, rest := highestOrderFactor(t)
 		if field != nil && mulOf(p, rest...).Rank() == 0 {
 			return ibp(dim, field, mulOf(p, append(rest, w)...))
 		}
@@ -212,4 +215,23 @@ func Stabilise(m *Model, meth Method, split []Split, adj []ir.Expr) []StabTerm {
 
 func residual(m *Model, eq *Equation, p source.Pos) ir.Expr {
 	return Simplify(ir.Sub(p, eq.Written, eq.Source), m.Dim)
+}
+
+// highestOrderFactor splits a product into the factor with the highest
+// derivative order on the unknown (the first of them) and the others;
+// for a product linear in the unknown it is trialFactor.
+func highestOrderFactor(m *ir.Mul) (field ir.Expr, rest []ir.Expr) {
+	best, at := -1, -1
+	for i, f := range m.Factors {
+		if !ir.HasRole(f, ir.Trial) {
+			continue
+		}
+		if o, _ := derivOrder(f); o > best {
+			best, at = o, i
+		}
+	}
+	if at < 0 {
+		return nil, m.Factors
+	}
+	return m.Factors[at], productExcept(m.P, m.Factors, at)
 }

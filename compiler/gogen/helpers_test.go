@@ -1,7 +1,6 @@
 package gogen
 
 import (
-	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -9,7 +8,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
-	"github.com/formwright/formwright/compiler/notation"
+	"github.com/formwright/formwright/compiler/render"
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/stdlib"
 )
@@ -285,32 +284,9 @@ tau for c = tau_doubly_asymptotic(norm(a), kappa, h) + 0*tau_optimal(norm(a), ka
 // "± Σ_K (τ R, P v)_K" per stabilisation term, the cross-stress term and
 // the boundary integrals.
 func derivedOf(d *compiler.Derivation) map[string]Derived {
-	m := d.Model
-	names := notation.Names{Test: map[int]string{}}
-	if len(m.Unknowns) == 1 {
-		names.Test[0] = "v"
-	}
-	e := func(x ir.Expr) string { return notation.Expr(x, notation.Text, names) }
-	g := d.Galerkin
-	gal := fmt.Sprintf("B = ∫_Ω %s dx, F = ∫_Ω %s dx", e(g.Bilinear), e(g.Source))
-	bnd := map[string]string{}
-	for _, b := range g.Boundary {
-		bnd[b.Side] = fmt.Sprintf("∫_%s [%s] ds", b.Side, e(b.Integrand))
-	}
 	out := map[string]Derived{}
-	for _, f := range d.Forms {
-		dv := Derived{Galerkin: gal, Boundary: bnd, Stab: map[string]string{}}
-		for _, s := range f.Stab {
-			sign := "+"
-			if s.Sign < 0 {
-				sign = "−"
-			}
-			dv.Stab[s.Tau.Name] = fmt.Sprintf("%s Σ_K (%s R_%s, %s)_K", sign, e(s.Tau), m.Unknowns[s.For].Name, e(s.TestOp))
-		}
-		if f.Cross != nil {
-			dv.Cross = fmt.Sprintf("+ Σ_K (%s)_K", e(f.Cross))
-		}
-		out[f.Method.String()] = dv
+	for meth, h := range render.Headings(d) {
+		out[meth] = Derived{Galerkin: h.Galerkin, Stab: h.Stab, Cross: h.Cross, Boundary: h.Boundary}
 	}
 	return out
 }

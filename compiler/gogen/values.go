@@ -698,7 +698,7 @@ func (g *bodyGen) coef(e ir.Expr) int {
 		return d.mul(fs...)
 	case *ir.Pow:
 		b := g.coef(e.Base)
-		if n, ok := integerExp(e.Exp); ok {
+		if n, ok := ir.SmallIntExponent(e.Exp); ok {
 			return d.powInt(b, n)
 		}
 		return d.pow(b, g.coef(e.Exp))
@@ -722,20 +722,6 @@ func (g *bodyGen) coef(e ir.Expr) int {
 	return g.fail("gogen: unsupported node %T in a lowered coefficient", e)
 }
 
-// integerExp returns n if the exponent is an exact small integer (as the
-// interpreted tape decides).
-func integerExp(e ir.Expr) (int, bool) {
-	n, ok := e.(*ir.Num)
-	if !ok || !n.Val.IsInt() || !n.Val.Num().IsInt64() {
-		return 0, false
-	}
-	v := n.Val.Num().Int64()
-	if v < -64 || v > 64 {
-		return 0, false
-	}
-	return int(v), true
-}
-
 // Terms grouped per (test, trial) pair, as the interpreted kernel groups
 // them.
 
@@ -752,33 +738,6 @@ type group struct {
 	cellA bool
 }
 
-func (g *bodyGen) checkFD(f *ir.FieldD, role ir.Role, what string) error {
-	if f == nil || f.Field == nil {
-		return fmt.Errorf("gogen: %s function missing in a term", what)
-	}
-	if f.Field.Role != role {
-		return fmt.Errorf("gogen: %s slot holds a %v field", what, f.Field.Role)
-	}
-	if f.Field.Index < 0 || f.Field.Index >= len(g.fields) {
-		return fmt.Errorf("gogen: %s field index %d out of range", what, f.Field.Index)
-	}
-	if f.Comp < 0 || f.Comp >= g.fields[f.Field.Index].comps {
-		return fmt.Errorf("gogen: %s component %d of field %q out of range", what, f.Comp, f.Field.Name)
-	}
-	if f.DT != 0 {
-		return fmt.Errorf("gogen: time derivative of the %s function", what)
-	}
-	if order(f.D) > 2 {
-		return fmt.Errorf("gogen: derivative of order > 2 of the %s function", what)
-	}
-	for k := g.dim; k < 3; k++ {
-		if f.D[k] != 0 {
-			return fmt.Errorf("gogen: derivative along axis %d in %d dimensions", k, g.dim)
-		}
-	}
-	return nil
-}
-
 func (g *bodyGen) groups(bil, lin []ir.Term) ([]*group, error) {
 	var out []*group
 	find := func(k termKey) *group {
@@ -791,24 +750,14 @@ func (g *bodyGen) groups(bil, lin []ir.Term) ([]*group, error) {
 		out = append(out, gr)
 		return gr
 	}
+	// The form is valid (ir.LoweredForm.Validate, called by cellFor): every
+	// term has its test and trial functions where they belong.
 	for _, t := range bil {
-		if err := g.checkFD(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
-		if err := g.checkFD(t.Trial, ir.Trial, "trial"); err != nil {
-			return nil, err
-		}
 		k := termKey{t.Test.Field.Index, t.Test.Comp, t.Trial.Field.Index, t.Trial.Comp, t.Test.D, t.Trial.D, false}
 		gr := find(k)
 		gr.terms = append(gr.terms, t)
 	}
 	for _, t := range lin {
-		if t.Trial != nil {
-			return nil, fmt.Errorf("gogen: linear-form term with a trial function")
-		}
-		if err := g.checkFD(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
 		gr := find(termKey{tf: t.Test.Field.Index, tc: t.Test.Comp, tD: t.Test.D, linear: true})
 		gr.terms = append(gr.terms, t)
 	}

@@ -19,6 +19,9 @@ func FormHash(lf *LoweredForm) string {
 	h := shapeHasher{}
 	var b strings.Builder
 	fmt.Fprintf(&b, "formwright-form/2 %s dim=%d\n", lf.Method, lf.Dim)
+	if lf.Newton {
+		b.WriteString("newton step\n")
+	}
 	if lf.Degree > 0 {
 		fmt.Fprintf(&b, "quadrature %d\n", lf.Degree)
 	}

@@ -62,13 +62,20 @@ const (
 	Tau
 	// Param is a formula parameter; it never survives formula expansion.
 	Param
-	// FineScale is the fine-scale velocity U′ = −τ R of residual-based VMS
-	// at the previous iterate (compiler.FineScale), with a definition that
-	// lowering substitutes.
+	// FineScale is the fine scale U′ = −τ R(U) of residual-based VMS
+	// (compiler.FineScale), with a definition that lowering substitutes.
 	FineScale
+	// LaggedFineScale is the fine scale at the previous iterate,
+	// −τ R(previous(U)), which convects in place of previous(U) in a model
+	// that lags its convecting velocity (Picard).
+	LaggedFineScale
+	// Gateaux is the Gateaux derivative δX = d/dε X(u + εδu)|ε=0 of the
+	// τ or fine-scale symbol Of in the direction of the Newton increment
+	// δu, with a definition that lowering substitutes.
+	Gateaux
 )
 
-var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter", "fine-scale velocity"}
+var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter", "fine-scale quantity", "lagged fine-scale quantity", "gateaux derivative"}
 
 func (k SymKind) String() string { return symKindNames[k] }
 
@@ -84,6 +91,8 @@ type Sym struct {
 	Deps Deps
 	// Q is the quantity a CellQuantity symbol stands for.
 	Q Quantity
+	// Of is the symbol whose derivative a Gateaux symbol is.
+	Of *Sym
 }
 
 // Deps is a set of variables a quantity may depend on.
@@ -113,11 +122,16 @@ const (
 	// Test is the test function v paired with an unknown's equation.
 	Test
 	// Previous is the previous iterate of an unknown (a known field, used
-	// for Picard linearisation of a convecting velocity).
+	// for Picard linearisation of a convecting velocity, and the iterate
+	// u_k that the residual and Jacobian of a Newton step read).
 	Previous
+	// Increment is the Newton increment δu of an unknown in a derived
+	// Jacobian form J(u; δu, v). It appears in derivations only: lowering
+	// makes it the trial function of the Newton step (see NonlinearForm).
+	Increment
 )
 
-var roleNames = [...]string{"trial", "test", "previous"}
+var roleNames = [...]string{"trial", "test", "previous", "increment"}
 
 func (r Role) String() string { return roleNames[r] }
 

@@ -58,6 +58,11 @@ type LoweredForm struct {
 	// MaxDerivative is the highest spatial derivative order on trial or
 	// test functions (2 for GLS/VMS with second-order operators).
 	MaxDerivative int
+	// Newton says the form is the Newton step of a nonlinear problem
+	// (NonlinearForm.Step): its trial functions are the increment δu of
+	// the iterate u_k, which the coefficients read as the previous field;
+	// the value conditions hold for u, and δu vanishes where they apply.
+	Newton bool
 	// Degree is the quadrature degree the model asks for; 0 leaves it to
 	// QuadratureDegree's automatic choice.
 	Degree int
@@ -165,6 +170,9 @@ func (lf *LoweredForm) Validate() error {
 			if f.D[k] != 0 {
 				return bad("derivative along axis %d in %d dimensions", k, lf.Dim)
 			}
+		}
+		if int(f.D[0])+int(f.D[1])+int(f.D[2]) > 2 {
+			return bad("a derivative of order %d of %s (the elements give up to second derivatives)", int(f.D[0])+int(f.D[1])+int(f.D[2]), f.Field.Name)
 		}
 		if f.DT != 0 && role != Previous {
 			return bad("a time derivative of the %v function (lowering for a time step removes them)", role)
@@ -437,4 +445,20 @@ func (lf *LoweredForm) ReadsPrevious() bool {
 // assembled again at every iteration where Mass reads the iterate.
 type SteppedForm struct {
 	Step, Mass *LoweredForm
+}
+
+// SmallIntExponent returns n when the exponent e is an exact integer with
+// |n| ≤ 64: the powers that both evaluators of lowered forms (the
+// interpreter's tape and the generated kernels) write as repeated
+// multiplication, so that they agree to the last bit.
+func SmallIntExponent(e Expr) (int, bool) {
+	n, ok := e.(*Num)
+	if !ok || !n.Val.IsInt() || !n.Val.Num().IsInt64() {
+		return 0, false
+	}
+	v := n.Val.Num().Int64()
+	if v < -64 || v > 64 {
+		return 0, false
+	}
+	return int(v), true
 }

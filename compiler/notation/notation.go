@@ -185,6 +185,14 @@ func (p printer) expr(e ir.Expr) (string, int) {
 				return p.name(e.Name) + `^{\mathrm{prev}}`, precAtom
 			}
 			return p.name(e.Name) + "⁽ᵖʳᵉᵛ⁾", precAtom
+		case ir.Increment:
+			switch p.style {
+			case Syntax:
+				return "increment(" + e.Name + ")", precAtom
+			case LaTeX:
+				return `\delta ` + p.name(e.Name), precAtom
+			}
+			return "δ" + p.name(e.Name), precAtom
 		}
 		return p.name(e.Name), precAtom
 	case *ir.Add:
@@ -270,6 +278,8 @@ func (p printer) fieldD(f *ir.FieldD) string {
 		base = "test(" + f.Field.Name + ")"
 	case ir.Previous:
 		base = "previous(" + f.Field.Name + ")"
+	case ir.Increment:
+		base = "increment(" + f.Field.Name + ")"
 	default:
 		base = f.Field.Name
 	}
@@ -292,7 +302,8 @@ func (p printer) fieldD(f *ir.FieldD) string {
 }
 
 func (p printer) sym(s *ir.Sym) string {
-	if s.Kind == ir.FineScale {
+	switch s.Kind {
+	case ir.FineScale:
 		// fine_<U> reads U′ in the printed derivation.
 		u := strings.TrimPrefix(s.Name, "fine_")
 		switch p.style {
@@ -300,6 +311,25 @@ func (p printer) sym(s *ir.Sym) string {
 			return p.name(u) + "′"
 		case LaTeX:
 			return p.name(u) + "'"
+		}
+	case ir.LaggedFineScale:
+		// fine_prev_<U> reads U′ at the previous iterate.
+		u := strings.TrimPrefix(s.Name, "fine_prev_")
+		switch p.style {
+		case Text:
+			return p.name(u) + "′⁽ᵖʳᵉᵛ⁾"
+		case LaTeX:
+			return p.name(u) + `'^{\mathrm{prev}}`
+		}
+	case ir.Gateaux:
+		// delta_<X> reads δX.
+		if s.Of != nil {
+			switch p.style {
+			case Text:
+				return "δ" + p.sym(s.Of)
+			case LaTeX:
+				return `\delta ` + p.sym(s.Of)
+			}
 		}
 	}
 	switch s.Name {

@@ -92,27 +92,34 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 	for k, eq := range m.Equations {
 		t.printf("   L_%s = %s\n", m.Unknowns[eq.For].Name, t.e(d.Normalised[k]))
 	}
-	t.printf("\n3. Formal adjoint, ∫ L(u)·v = ∫ u·L*(v) for u, v vanishing on ∂Ω\n")
-	for i, a := range d.Adjoint {
-		t.printf("   L*_%s(%s) = %s\n", m.Unknowns[i].Name, t.testList(), t.e(a))
-	}
-	t.printf("\n4. Split by derivative order\n")
-	for _, s := range d.Split {
-		for p, part := range s.Parts {
-			if part != nil {
-				t.printf("   %-9s L_%s,%s = %s\n", compiler.Part(p).String(), m.Unknowns[s.For].Name, string(compiler.Part(p).String()[0]-32), t.e(part))
-			}
+	if d.Linear != nil {
+		t.linearisation(d)
+	} else {
+		t.printf("\n3. Formal adjoint, ∫ L(u)·v = ∫ u·L*(v) for u, v vanishing on ∂Ω\n")
+		for i, a := range d.Adjoint {
+			t.printf("   L*_%s(%s) = %s\n", m.Unknowns[i].Name, t.testList(), t.e(a))
 		}
+		t.printf("\n4. Split by derivative order\n")
+		t.split(d.Split, "L")
 	}
 	g := d.Galerkin
-	t.printf("\n5. Galerkin form, B(%s; %s) = F(%s)\n", t.unknownList(), t.testList(), t.testList())
-	t.printf("   B = ∫_Ω %s dx", t.e(g.Bilinear))
-	for _, b := range g.Boundary {
-		t.printf(" + ∫_%s [%s] ds", b.Side, t.e(b.Integrand))
-	}
-	t.printf("\n   F = ∫_Ω %s dx\n", t.e(g.Source))
-	if len(g.Boundary) > 0 {
-		t.printf("   (boundary integrands are of B − F: terms without the unknown move to F with their sign changed)\n")
+	if d.Linear != nil {
+		t.printf("\n6. Residual form, Galerkin part: F(%s; %s) = 0\n", t.unknownList(), t.testList())
+		t.printf("   F = ∫_Ω %s dx", t.e(compiler.Simplify(ir.Sub(g.Bilinear.Pos(), g.Bilinear, g.Source), m.Dim)))
+		for _, b := range g.Boundary {
+			t.printf(" + ∫_%s [%s] ds", b.Side, t.e(b.Integrand))
+		}
+		t.printf("\n")
+	} else {
+		t.printf("\n5. Galerkin form, B(%s; %s) = F(%s)\n", t.unknownList(), t.testList(), t.testList())
+		t.printf("   B = ∫_Ω %s dx", t.e(g.Bilinear))
+		for _, b := range g.Boundary {
+			t.printf(" + ∫_%s [%s] ds", b.Side, t.e(b.Integrand))
+		}
+		t.printf("\n   F = ∫_Ω %s dx\n", t.e(g.Source))
+		if len(g.Boundary) > 0 {
+			t.printf("   (boundary integrands are of B − F: terms without the unknown move to F with their sign changed)\n")
+		}
 	}
 	for i, q := range g.Flux {
 		if q != nil {
@@ -120,7 +127,17 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 		}
 	}
 	t.notes(d.Notes)
+	if d.Linear != nil {
+		for _, f := range d.Forms {
+			if f.Method == compiler.Galerkin {
+				t.jacobian(&f, "F")
+			}
+		}
+	}
 	stage := 6
+	if d.Linear != nil {
+		stage = 7
+	}
 	for _, f := range d.Forms {
 		if f.Method == compiler.Galerkin {
 			continue
@@ -138,21 +155,53 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			parts = append(parts, fmt.Sprintf("+ Σ_K (%s)_K", t.e(f.Cross)))
 		}
-		t.printf("   B %s = F\n", strings.Join(parts, " "))
+		if d.Linear != nil {
+			t.printf("   F %s = 0\n", strings.Join(parts, " "))
+		} else {
+			t.printf("   B %s = F\n", strings.Join(parts, " "))
+		}
 		for _, s := range f.Stab {
 			name := m.Unknowns[s.For].Name
 			t.printf("   R_%s = %s\n", name, t.e(s.Residual))
 			t.printf("   %s = %s\n", t.e(s.Tau), t.e(compiler.Simplify(m.Tau[s.For], m.Dim)))
 		}
 		for _, fs := range f.Fine {
-			t.printf("   %s = %s   (fine-scale velocity at the previous iterate)\n", t.e(fs.Sym), t.e(fs.Def))
+			t.printf("   %s = %s   (%s)\n", t.e(fs.Sym), t.e(fs.Def), fineWhat(fs))
+		}
+		for _, x := range f.Dropped {
+			t.printf("   dropped: Σ_K (%s)_K\n", t.e(x))
 		}
 		if len(f.Stab) == 0 {
 			t.printf("   no stabilisation term: the operator has no part this method acts on\n")
 		}
 		t.notes(f.Notes)
+		if f.Jacobian != nil {
+			t.jacobian(&f, "F_"+f.Method.String())
+		}
+	}
+	if d.Picard != nil {
+		t.picard(d, stage)
 	}
 	return t.err
+}
+
+// fineWhat says what a fine-scale symbol is, for the line that defines it.
+func fineWhat(fs *compiler.FineScale) string {
+	if fs.Sym.Kind == ir.LaggedFineScale {
+		return "fine scale at the previous iterate"
+	}
+	return "fine scale"
+}
+
+func (t *textWriter) split(split []compiler.Split, op string) {
+	m := t.m
+	for _, s := range split {
+		for p, part := range s.Parts {
+			if part != nil {
+				t.printf("   %-9s %s_%s,%s = %s\n", compiler.Part(p).String(), op, m.Unknowns[s.For].Name, string(compiler.Part(p).String()[0]-32), t.e(part))
+			}
+		}
+	}
 }
 
 func methodTitle(m compiler.Method) string {
@@ -182,26 +231,43 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 	for k, eq := range m.Equations {
 		t.printf("L_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[eq.For].Name), t.e(d.Normalised[k]))
 	}
-	t.printf("\\end{align*}\n\\subsection*{Formal adjoint}\n\\begin{align*}\n")
-	for i, a := range d.Adjoint {
-		t.printf("L^*_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[i].Name), t.e(a))
-	}
-	t.printf("\\end{align*}\n\\subsection*{Split}\n\\begin{align*}\n")
-	for _, s := range d.Split {
-		for p, part := range s.Parts {
-			if part != nil {
-				t.printf("L^{\\mathrm{%s}}_{\\mathrm{%s}} &= %s \\\\\n", compiler.Part(p), latexText(m.Unknowns[s.For].Name), t.e(part))
+	g := d.Galerkin
+	if d.Linear != nil {
+		t.printf("\\end{align*}\n")
+		t.latexLinearisation(d)
+		t.printf("\\subsection*{Residual form, Galerkin part}\n\\begin{align*}\n")
+		t.printf("F &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(compiler.Simplify(ir.Sub(g.Bilinear.Pos(), g.Bilinear, g.Source), m.Dim)))
+		for _, b := range g.Boundary {
+			t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
+		}
+		t.printf("\n\\end{align*}\n")
+		t.latexNotes(d.Notes)
+		for i := range d.Forms {
+			if d.Forms[i].Method == compiler.Galerkin {
+				t.latexJacobian(&d.Forms[i])
 			}
 		}
+	} else {
+		t.printf("\\end{align*}\n\\subsection*{Formal adjoint}\n\\begin{align*}\n")
+		for i, a := range d.Adjoint {
+			t.printf("L^*_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[i].Name), t.e(a))
+		}
+		t.printf("\\end{align*}\n\\subsection*{Split}\n\\begin{align*}\n")
+		for _, s := range d.Split {
+			for p, part := range s.Parts {
+				if part != nil {
+					t.printf("L^{\\mathrm{%s}}_{\\mathrm{%s}} &= %s \\\\\n", compiler.Part(p), latexText(m.Unknowns[s.For].Name), t.e(part))
+				}
+			}
+		}
+		t.printf("\\end{align*}\n\\subsection*{Galerkin form}\n\\begin{align*}\n")
+		t.printf("B &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(g.Bilinear))
+		for _, b := range g.Boundary {
+			t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
+		}
+		t.printf(" \\\\\nF &= \\int_\\Omega %s \\,\\mathrm{d}x\n\\end{align*}\n", t.e(g.Source))
+		t.latexNotes(d.Notes)
 	}
-	g := d.Galerkin
-	t.printf("\\end{align*}\n\\subsection*{Galerkin form}\n\\begin{align*}\n")
-	t.printf("B &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(g.Bilinear))
-	for _, b := range g.Boundary {
-		t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
-	}
-	t.printf(" \\\\\nF &= \\int_\\Omega %s \\,\\mathrm{d}x\n\\end{align*}\n", t.e(g.Source))
-	t.latexNotes(d.Notes)
 	for _, f := range d.Forms {
 		if f.Method == compiler.Galerkin {
 			continue
@@ -218,7 +284,11 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			parts = append(parts, fmt.Sprintf("+ \\sum_K \\left(%s\\right)_K", t.e(f.Cross)))
 		}
-		t.printf("&B %s = F \\\\\n", strings.Join(parts, " "))
+		if d.Linear != nil {
+			t.printf("&F %s = 0 \\\\\n", strings.Join(parts, " "))
+		} else {
+			t.printf("&B %s = F \\\\\n", strings.Join(parts, " "))
+		}
 		for _, s := range f.Stab {
 			t.printf("R_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[s.For].Name), t.e(s.Residual))
 			t.printf("%s &= %s \\\\\n", t.e(s.Tau), t.e(compiler.Simplify(m.Tau[s.For], m.Dim)))
@@ -226,8 +296,17 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 		for _, fs := range f.Fine {
 			t.printf("%s &= %s \\\\\n", t.e(fs.Sym), t.e(fs.Def))
 		}
+		for _, x := range f.Dropped {
+			t.printf("\\text{dropped: } & \\sum_K \\left(%s\\right)_K \\\\\n", t.e(x))
+		}
 		t.printf("\\end{align*}\n")
 		t.latexNotes(f.Notes)
+		if f.Jacobian != nil {
+			t.latexJacobian(&f)
+		}
+	}
+	if d.Picard != nil {
+		t.latexPicard(d)
 	}
 	t.printf("\\end{document}\n")
 	return t.err
@@ -253,7 +332,7 @@ func latexText(s string) string {
 	r := strings.NewReplacer(`\`, `\textbackslash{}`, "_", `\_`, "&", `\&`, "%", `\%`, "#", `\#`, "$", `\$`, "{", `\{`, "}", `\}`, "^", `\^{}`, "~", `\~{}`,
 		"τ", `$\tau$`, "′", `$'$`, "≈", `$\approx$`, "−", `$-$`, "·", `$\cdot$`, "¹", `$^1$`, "₀", `$_0$`, "∇", `$\nabla$`, "≠", `$\neq$`,
 		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`,
-		"²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "Ω", `$\Omega$`, "∫", `$\int$`, "∑", `$\sum$`, "⁽", "", "⁾", "")
+		"δ", `$\delta$`, "λ", `$\lambda$`, "ᵖʳᵉᵛ", `prev`, "ᵖ", "p", "ʳ", "r", "ᵉ", "e", "ᵛ", "v", "…", `\ldots{}`, "±", `$\pm$`, "ₜ", `$_t$`, "ⁿ", `$^n$`, "²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "Ω", `$\Omega$`, "∫", `$\int$`, "∑", `$\sum$`, "⁽", "", "⁾", "")
 	return r.Replace(s)
 }
 
@@ -355,6 +434,9 @@ type jsonDerivation struct {
 	Notes      []jsonNote      `json:"notes"`
 	Boundaries []jsonCondition `json:"boundary_conditions"`
 	Means      []jsonRow       `json:"mean_conditions"`
+	// Nonlinear holds the stages of a nonlinear model (absent for a
+	// linear one).
+	Nonlinear *jsonNonlinear `json:"nonlinear,omitempty"`
 }
 
 type jsonUnknown struct {
@@ -400,9 +482,10 @@ type jsonMethod struct {
 	Method string     `json:"method"`
 	Terms  []jsonStab `json:"terms"`
 	// Residual-based VMS turbulence modelling of a lagged convection.
-	FineScale   []jsonFine  `json:"fine_scale,omitempty"`
-	CrossStress *Expression `json:"cross_stress,omitempty"`
-	Notes       []jsonNote  `json:"notes"`
+	FineScale   []jsonFine    `json:"fine_scale,omitempty"`
+	CrossStress *Expression   `json:"cross_stress,omitempty"`
+	Dropped     []*Expression `json:"dropped,omitempty"`
+	Notes       []jsonNote    `json:"notes"`
 }
 
 type jsonFine struct {
@@ -486,6 +569,9 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			jm.CrossStress = jexpr(f.Cross, names)
 		}
+		for _, x := range f.Dropped {
+			jm.Dropped = append(jm.Dropped, jexpr(x, names))
+		}
 		out.Stabilised = append(out.Stabilised, jm)
 	}
 	out.Tau = []jsonRow{}
@@ -501,6 +587,9 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 	out.Means = []jsonRow{}
 	for _, mc := range m.Means {
 		out.Means = append(out.Means, jsonRow{m.Unknowns[mc.Unknown].Name, jexpr(mc.Value, names)})
+	}
+	if d.Linear != nil {
+		out.Nonlinear = jsonOfNonlinear(d)
 	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")

@@ -60,20 +60,29 @@ func tail(s string, n int) string {
 }
 
 // TestLaTeXNoteSymbols: every non-ASCII character in the string literals
-// of compiler/derive.go, where the derivation notes are written, comes out
-// of latexText as plain ASCII, so pdflatex without Unicode support accepts
+// of the compiler files where derivation notes are written comes out of
+// latexText as plain ASCII, so pdflatex without Unicode support accepts
 // any note (pdflatex stops at the first unmapped character).
 func TestLaTeXNoteSymbols(t *testing.T) {
-	src, err := os.ReadFile(filepath.Join("..", "derive.go"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	fs := token.NewFileSet()
-	f, err := parser.ParseFile(fs, "derive.go", src, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
 	seen := map[rune]bool{}
+	for _, file := range []string{"derive.go", "newton.go", "finescale.go", "picard.go", "linearise.go"} {
+		src, err := os.ReadFile(filepath.Join("..", file))
+		if err != nil {
+			t.Fatal(err)
+		}
+		fs := token.NewFileSet()
+		f, err := parser.ParseFile(fs, file, src, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		inspectNotes(t, f, seen)
+	}
+	if len(seen) == 0 {
+		t.Fatal("no non-ASCII characters found in derive.go: is the path right?")
+	}
+}
+
+func inspectNotes(t *testing.T, f *ast.File, seen map[rune]bool) {
 	ast.Inspect(f, func(n ast.Node) bool {
 		if lit, ok := n.(*ast.BasicLit); ok && lit.Kind == token.STRING {
 			for _, r := range lit.Value {
@@ -87,7 +96,4 @@ func TestLaTeXNoteSymbols(t *testing.T) {
 		}
 		return true
 	})
-	if len(seen) == 0 {
-		t.Fatal("no non-ASCII characters found in derive.go: is the path right?")
-	}
 }

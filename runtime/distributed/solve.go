@@ -82,6 +82,9 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	if form.IsTransient() {
 		return nil, nil, &UnsupportedError{What: "transient forms"}
 	}
+	if form.Newton {
+		return nil, nil, &UnsupportedError{What: "Newton steps (solve with the Picard linearisation)"}
+	}
 	tc, err := findToolchain()
 	if err != nil {
 		return nil, nil, err
@@ -217,6 +220,9 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		Engine:       "PETSc " + res.PETSc + ", " + tc.mpi,
 		Ranks:        ranks,
 		SolverReason: res.Choice,
+	}
+	if form.ReadsPrevious() {
+		sum.Nonlinear = "picard"
 	}
 	// Memory: what the ranks' resident sets grew by from the start of
 	// the driver (MPI and PETSc loaded) to their peak, per unknown.

@@ -131,32 +131,6 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 		it.vecs = append(it.vecs, s)
 		return len(it.vecs) - 1
 	}
-	check := func(f *ir.FieldD, role ir.Role, what string) error {
-		if f == nil || f.Field == nil {
-			return fmt.Errorf("interp: %s function missing in a term", what)
-		}
-		if f.Field.Role != role {
-			return fmt.Errorf("interp: %s slot holds a %v field", what, f.Field.Role)
-		}
-		if f.Field.Index < 0 || f.Field.Index >= len(lay.Fields) {
-			return fmt.Errorf("interp: %s field index %d out of range", what, f.Field.Index)
-		}
-		if f.Comp < 0 || f.Comp >= lay.Fields[f.Field.Index].Components {
-			return fmt.Errorf("interp: %s component %d of field %q out of range", what, f.Comp, f.Field.Name)
-		}
-		if f.DT != 0 {
-			return fmt.Errorf("interp: time derivative of the %s function (time stepping lowers it away)", what)
-		}
-		if int(f.D[0])+int(f.D[1])+int(f.D[2]) > 2 {
-			return fmt.Errorf("interp: derivative of order > 2 of the %s function", what)
-		}
-		for k := lay.Cell.Dim(); k < 3; k++ {
-			if f.D[k] != 0 {
-				return fmt.Errorf("interp: derivative along axis %d in %d dimensions", k, lay.Cell.Dim())
-			}
-		}
-		return nil
-	}
 	// Group terms: coefficient expressions per (test, trial) pair.
 	type key struct {
 		tf, tc, uf, uc int
@@ -175,22 +149,12 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 		keys = append(keys, k)
 		coefs = append(coefs, []ir.Expr{c})
 	}
+	// The form is valid (ir.LoweredForm.Validate, called by
+	// layoutAndDegree): every term has its functions where they belong.
 	for _, t := range bil {
-		if err := check(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
-		if err := check(t.Trial, ir.Trial, "trial"); err != nil {
-			return nil, err
-		}
 		add(key{t.Test.Field.Index, t.Test.Comp, t.Trial.Field.Index, t.Trial.Comp, t.Test.D, t.Trial.D, false}, t.Coef)
 	}
 	for _, t := range lin {
-		if t.Trial != nil {
-			return nil, fmt.Errorf("interp: linear-form term with a trial function")
-		}
-		if err := check(t.Test, ir.Test, "test"); err != nil {
-			return nil, err
-		}
 		add(key{tf: t.Test.Field.Index, tc: t.Test.Comp, tD: t.Test.D, linear: true}, t.Coef)
 	}
 	// Split the summed coefficients into per-cell and per-point programs:

@@ -13,5 +13,12 @@
 //
 // Nonlinear forms whose coefficients read a previous iterate (Picard
 // linearisation of a convecting velocity) are solved by repeated
-// assembly and solution until the iterates settle.
+// assembly and solution until the iterates settle. A Newton step form
+// (ir.LoweredForm.Newton: the Jacobian and the residual of a nonlinear
+// model in one form) is solved by Newton's method with an Armijo
+// backtracking line search on ‖F‖ (Dennis & Schnabel 1983, §6.3; Kelley
+// 2003), which reports each iteration and returns a *NewtonError with the
+// history when it does not converge. Continue ramps a parameter
+// (natural-parameter continuation), and CheckJacobian compares a Newton
+// step's Jacobian with its residual by the Taylor test.
 package problem

@@ -84,6 +84,10 @@ type Options struct {
 	// instead of iterating: the previous time level of a time step (see
 	// SolveTransient).
 	PreviousFixed bool
+	// Newton controls Newton's method for a Newton step form
+	// (ir.LoweredForm.Newton), which starts from Initial (nil: zero with
+	// the Dirichlet values).
+	Newton NewtonOptions
 }
 
 // Event is a phase of a solve as it starts or moves on: "dofs",
@@ -144,6 +148,11 @@ type Summary struct {
 	Iterations      int // of the last linear solve
 	Residual        float64
 	Picard          int // nonlinear iterations (1 for a linear problem)
+	// Nonlinear names the nonlinear iteration: "newton", "picard", or ""
+	// for a linear problem.
+	Nonlinear string
+	// History is the iteration history of Newton's method.
+	History []NewtonStep
 	// Prepared counts the factorisations (or preconditioner set-ups) of
 	// the linear solver so far; a transient solve with a constant matrix
 	// has 1 for all its steps.
@@ -441,6 +450,9 @@ func sameAMG(a, b linsolve.AMGOptions) bool {
 // solve assembles and solves at opts.Time, iterating Picard when the form
 // reads its previous iterate (unless opts.PreviousFixed).
 func (s *system) solve(opts Options) (*Solution, error) {
+	if s.form.Newton {
+		return s.newton(opts)
+	}
 	form, m, dm := s.form, s.m, s.dm
 	sum := s.setup
 	sum.Phases = slices.Clone(s.setup.Phases)
@@ -503,13 +515,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 		t1 := time.Now()
 		tAsm += t1.Sub(t0)
 		so, why := chooseSolver(opts, Asys, s.layout)
-		sum.Solver, sum.SolverReason = so.Method.String(), why
-		if so.Method != linsolve.MethodDirect {
-			sum.Solver += "+" + so.Precond.String()
-			if (so.Precond == linsolve.PrecondILU0 || so.AMG.Smoother == linsolve.SmoothILU0) && so.ILUShift != 0 {
-				sum.Solver += fmt.Sprintf(" (shift %g)", so.ILUShift)
-			}
-		}
+		sum.Solver, sum.SolverReason = solverName(so), why
 		opts.report("solve", it, dm.NumDofs)
 		res, err := s.linearSolve(Asys, bsys, x, so)
 		tSolve += time.Since(t1)
@@ -549,11 +555,32 @@ func (s *system) solve(opts Options) (*Solution, error) {
 			return nil, &PicardError{Iter: it, Change: change, Tol: tol}
 		}
 	}
+	if s.needPrev && !opts.PreviousFixed {
+		sum.Nonlinear = "picard"
+	}
 	sum.Prepared = s.prepares
-	clock = time.Now()
 	sum.Phases = append(sum.Phases, Phase{"assembly+dirichlet", tAsm}, Phase{"solve", tSolve})
+	return s.solution(x, sum, opts.Time), nil
+}
 
-	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Time: opts.Time, Matrix: A, RHS: b}
+// solverName describes the linear solver for the summary.
+func solverName(so linsolve.Options) string {
+	name := so.Method.String()
+	if so.Method != linsolve.MethodDirect {
+		name += "+" + so.Precond.String()
+		if (so.Precond == linsolve.PrecondILU0 || so.AMG.Smoother == linsolve.SmoothILU0) && so.ILUShift != 0 {
+			name += fmt.Sprintf(" (shift %g)", so.ILUShift)
+		}
+	}
+	return name
+}
+
+// solution packs the dof vector x into a Solution at time t, with the
+// field values and their ranges.
+func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
+	form, m, dm, A, b := s.form, s.m, s.dm, s.A, s.b
+	clock := time.Now()
+	sol := &Solution{Form: form, Mesh: m, Dofs: dm, X: x, Time: t, Matrix: A, RHS: b}
 	for k, f := range dm.Fields {
 		fv := FieldValues{Name: f.Name, Components: f.Components}
 		for c := 0; c < f.Components; c++ {
@@ -570,7 +597,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 	}
 	sum.Phases = append(sum.Phases, Phase{"output", time.Since(clock)})
 	sol.Summary = sum
-	return sol, nil
+	return sol
 }
 
 // assemble assembles the form into s.A and s.b, with the old time level

@@ -384,21 +384,8 @@ func ConstValue(e ir.Expr) (float64, bool) {
 	return 0, false
 }
 
-// integerExp returns n if the exponent is an exact small integer.
-func integerExp(e ir.Expr) (int, bool) {
-	n, ok := e.(*ir.Num)
-	if !ok || !n.Val.IsInt() || !n.Val.Num().IsInt64() {
-		return 0, false
-	}
-	v := n.Val.Num().Int64()
-	if v < -64 || v > 64 {
-		return 0, false
-	}
-	return int(v), true
-}
-
 func powConst(b, x float64, exp ir.Expr) float64 {
-	if n, ok := integerExp(exp); ok {
+	if n, ok := ir.SmallIntExponent(exp); ok {
 		return powInt(b, n)
 	}
 	return math.Pow(b, x)
@@ -522,7 +509,7 @@ func (c *compiler) node(e ir.Expr) (Deps, error) {
 		if err != nil {
 			return 0, err
 		}
-		if n, ok := integerExp(e.Exp); ok {
+		if n, ok := ir.SmallIntExponent(e.Exp); ok {
 			c.emit(opPowInt, int32(n), 0)
 			return d, nil
 		}

@@ -15,3 +15,7 @@ package kernels
 //go:generate go run ../.. gen oseen -o . --package kernels --prefix Oseen --method all
 //go:generate go run ../.. gen navier_stokes -o . --package kernels --prefix NavierStokes --method all
 //go:generate go run ../.. gen heat -o . --package kernels --prefix Heat --method all
+//go:generate go run ../.. gen bratu -o . --package kernels --prefix Bratu --method all
+//go:generate go run ../.. gen burgers -o . --package kernels --prefix Burgers --method all
+//go:generate go run ../.. gen nonlinear_diffusion -o . --package kernels --prefix NonlinearDiffusion --method all
+//go:generate go run ../.. gen navier_stokes_nonlinear -o . --package kernels --prefix NavierStokesNonlinear --method all

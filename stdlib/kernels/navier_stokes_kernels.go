@@ -37,7 +37,7 @@ func init() {
 			return NavierStokesGLSKernel{}
 		},
 	})
-	compiled.Register("614bbbca490977e50bc52f2ea2aa0843", compiled.Kernels{
+	compiled.Register("2e069ff96a812a3d793974f9e0b20dee", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -1408,43 +1408,42 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                   navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                   navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂x² · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
-		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y        navier_stokes.fw:16
-		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
-		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
-		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
-		//	VMS cross-stress: + Σ_K ((∇vel·vel′)·v_vel)_K
-		//	  vel′[2] · ∂vel[1]/∂y · v_vel[1]                         navier_stokes.fw:16
-		//	  vel′[1] · ∂vel[1]/∂x · v_vel[1]                         navier_stokes.fw:16
 		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p55 + c25*p66
 		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p57 + c25*p68
 		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p59 + c25*p70
@@ -1458,13 +1457,13 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  ∂p/∂x · v_vel[1]                                        navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂x · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y               navier_stokes.fw:16
-		//	  τ_vel vel′[2] · ∂p/∂x · ∂v_vel[1]/∂y                    navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²                      navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x               navier_stokes.fw:16
-		//	  τ_vel vel′[1] · ∂p/∂x · ∂v_vel[1]/∂x                    navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²                      navier_stokes.fw:16
 		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
 		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
@@ -1492,43 +1491,42 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]                   navier_stokes.fw:16
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes.fw:16
+		//	  vel′⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                   navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes.fw:16
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂x² · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
-		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y        navier_stokes.fw:16
-		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
-		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
-		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x        navier_stokes.fw:16
+		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
-		//	VMS cross-stress: + Σ_K ((∇vel·vel′)·v_vel)_K
-		//	  vel′[2] · ∂vel[2]/∂y · v_vel[2]                         navier_stokes.fw:16
-		//	  vel′[1] · ∂vel[2]/∂x · v_vel[2]                         navier_stokes.fw:16
 		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p95 + c25*p100
 		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p96 + c25*p102
 		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p97 + c25*p104
@@ -1542,13 +1540,13 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  ∂p/∂y · v_vel[2]                                        navier_stokes.fw:16
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂p/∂y · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y               navier_stokes.fw:16
-		//	  τ_vel vel′[2] · ∂p/∂y · ∂v_vel[2]/∂y                    navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²                      navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x               navier_stokes.fw:16
-		//	  τ_vel vel′[1] · ∂p/∂y · ∂v_vel[2]/∂x                    navier_stokes.fw:16
+		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²                      navier_stokes.fw:16
 		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
 		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115
@@ -1574,7 +1572,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[47] += k11 * p120
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
@@ -1590,7 +1588,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[74] += k10 * p131
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
@@ -1606,7 +1604,7 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		acc[77] += k11 * p131
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
-		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel′ − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
 		acc[60] += c32*p133 + c25*p137
