@@ -88,7 +88,7 @@ func (ef *engineFlags) solveFunc(sf *solveFlags, stderr io.Writer) (study.SolveF
 		}
 		sol, _, err := distributed.Solve(lf, m, distributed.Kernels{Name: "kernels", Header: h, Source: c}, distributed.Options{
 			Ranks: ranks, Solver: solver, PETScOptions: petscOpts, Time: opts.Time,
-			MaxPicard: opts.MaxPicard, PicardTol: opts.PicardTol, PicardRelax: opts.PicardRelax, Initial: opts.Initial, Log: log})
+			MaxPicard: opts.MaxPicard, PicardTol: opts.PicardTol, PicardRelax: opts.PicardRelax, Initial: opts.Initial, Newton: opts.Newton, Log: log})
 		return sol, err
 	}, nil
 }

@@ -277,10 +277,8 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return usagef("--engine petsc solves steady models; %s is transient", m.Name)
 		case lf.IsTransient():
 			sol, err = solveTransient(m, lf, msh, tr, opts, prog)
-		case engineSolve != nil && lf.Newton:
-			return usagef("--engine petsc has no Newton iteration yet: solve %s with --nonlinear picard (the driver iterates the Picard linearisation)", m.Name)
-		case engineSolve != nil && *nl.ramp != "":
-			return usagef("--ramp runs on the go engine only")
+		case engineSolve != nil && (*nl.ramp != "" || *nl.picard > 0):
+			return usagef("--ramp and --picard-steps run on the go engine only")
 		case engineSolve != nil:
 			sol, err = engineSolve(lf, msh, opts)
 		default:

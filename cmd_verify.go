@@ -146,9 +146,6 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		sm := study.Method{Name: meth.String(), Form: lf}
-		if engineSolve != nil && lf.Newton {
-			return usagef("--engine petsc has no Newton iteration yet: verify %s with --nonlinear picard (the driver iterates the Picard linearisation)", m.Name)
-		}
 		if lf.IsTransient() {
 			if engineSolve != nil {
 				return usagef("--engine petsc solves steady models; %s is transient", m.Name)

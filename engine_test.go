@@ -58,7 +58,7 @@ func TestEngineFlags(t *testing.T) {
 			{[]string{"solve", "heat", "--engine", "petsc", "--steps", "2"}, "solves steady models"},
 			{[]string{"solve", "adr", "--engine", "petsc", "--solver", "cg+multigrid"}, "unknown preconditioner"},
 			{[]string{"solve", "adr", "--engine", "petsc", "--ilu-shift", "0.1"}, "--petsc-options"},
-			{[]string{"solve", "bratu", "--engine", "petsc"}, "--nonlinear picard"},
+			{[]string{"solve", "bratu", "--engine", "petsc", "--picard-steps", "2"}, "go engine only"},
 		}...)
 	}
 	for _, c := range cases {

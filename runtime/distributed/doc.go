@@ -49,19 +49,21 @@
 //
 // # Nonlinear forms
 //
-// Picard iteration runs in the driver: each step gathers the previous
-// iterate to the dofs of every rank's cells (a scatter built once),
-// reassembles into the same matrix (its pattern is kept through the
-// value conditions), re-sets-up the preconditioner and solves; the change
-// ‖x_k − x_{k−1}‖/‖x_k‖, the under-relaxation and the mean shifts are as
-// in runtime/problem. A Newton iteration with a residual form (linear
-// terms only) and a Jacobian form (its bilinear terms), both reading the
-// iterate through the kernels' previous input, would use the same loop:
-// names.h would map a second pair of kernels, each step would assemble
-// J(u_k) from the Jacobian's matrix and F(u_k) from the residual's
-// vector, impose homogeneous value conditions on the update, solve
-// J δ = −F and set u_{k+1} = u_k + δ until ‖F‖ is small. That is not
-// done yet.
+// Both iterations of runtime/problem run in the driver, around the
+// parallel linear solve, with the iterate gathered to the dofs of every
+// rank's cells by a scatter built once and reassembly into the same
+// matrix (its pattern is kept through the value conditions):
+//
+//   - Picard iteration of forms that read a lagged iterate: the relative
+//     change ‖x_k − x_{k−1}‖/‖x_k‖, under-relaxation and mean shifts as in
+//     runtime/problem.
+//   - Newton's method for a Newton step form (ir.LoweredForm.Newton, the
+//     residual's Jacobian as its bilinear part and −F as its linear part,
+//     both reading the iterate through the kernels' previous input):
+//     J(u_k) δu = −F(u_k) with δu = 0 where values are prescribed, a
+//     backtracking line search on ‖F‖ with Armijo's condition, the
+//     trial's assembly kept as the next system, and the same stopping
+//     tests, defaults and history (problem.NewtonStep) as runtime/problem.
 //
 // # Set-up
 //

@@ -1,6 +1,7 @@
 package distributed
 
 import (
+	"math"
 	"testing"
 
 	"github.com/formwright/formwright/runtime/problem"
@@ -144,4 +145,51 @@ func TestPicardEqualsGoRuntime(t *testing.T) {
 		t.Errorf("the equation replaced by the pressure pin holds to %.1e only", rep.MeanResidual)
 	}
 	t.Logf("%d Picard steps (Go %d), difference %.1e, mean residual %.1e (Go %.1e)", rep.Picard, ref.Summary.Picard, relDiff(sol.X, ref.X), rep.MeanResidual, ref.Summary.MeanResidual)
+}
+
+// TestNewtonEqualsGoRuntime: a Newton step form (the residual and its
+// Jacobian, reading the iterate through the kernels' previous input) is
+// solved by Newton's method in the driver as runtime/problem solves it:
+// for the stdlib Bratu model (1D) and the stdlib Navier–Stokes model
+// written without a lag (the lid-driven cavity at Re 100, with its mean
+// condition on the pressure), on 2 ranks, the same number of iterations,
+// the same residual history while it is above round-off (relative
+// 1e-6: both assemble the same residual with kernels that agree to
+// round-off and solve directly), and the same solution to relative 1e-8.
+// Reference: the Go runtime.
+func TestNewtonEqualsGoRuntime(t *testing.T) {
+	needEngine(t)
+	for _, c := range []struct{ model, method, mesh string }{
+		{"bratu", "galerkin", "interval:0,1:32"},
+		{"navier_stokes_nonlinear", "supg", "rect:0,1,0,1:12x12:tri"},
+	} {
+		t.Run(c.model, func(t *testing.T) {
+			lf, k := lower(t, model(t, c.model), c.method)
+			if !lf.Newton {
+				t.Fatalf("%s does not lower to a Newton step form", c.model)
+			}
+			msh := mustMesh(t, c.mesh)
+			ref, err := problem.Solve(lf, msh, problem.Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			sol, _, err := Solve(lf, msh, k, Options{Ranks: 2, CacheDir: testCache})
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, want := sol.Summary.History, ref.Summary.History
+			if len(got) != len(want) || sol.Summary.Nonlinear != "newton" {
+				t.Fatalf("%s: %d Newton steps (%q); the Go runtime took %d", c.model, len(got)-1, sol.Summary.Nonlinear, len(want)-1)
+			}
+			for i := range got {
+				if w := want[i]; w.Relative > 1e-10 && math.Abs(got[i].Residual-w.Residual) > 1e-6*w.Residual {
+					t.Errorf("step %d: ‖F‖ = %.10e, the Go runtime %.10e", i, got[i].Residual, w.Residual)
+				}
+			}
+			if d := relDiff(sol.X, ref.X); !(d <= 1e-8) {
+				t.Errorf("relative difference %.2e from the Go runtime (tolerance 1e-8)", d)
+			}
+			t.Logf("%s: %d Newton steps, final ‖F‖ %.1e (Go %.1e), difference %.1e", c.model, len(got)-1, got[len(got)-1].Residual, want[len(want)-1].Residual, relDiff(sol.X, ref.X))
+		})
+	}
 }

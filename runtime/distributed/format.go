@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"github.com/formwright/formwright/runtime/problem"
 )
 
 // The files formwright and the driver exchange in a run directory. All
@@ -24,6 +26,10 @@ import (
 //	       direct limit, Picard limit, mean conditions M
 //	double relative tolerance, time, time step, symmetry tolerance,
 //	       Picard tolerance, Picard relaxation
+//	int64  Newton (1 for a Newton step form), its iteration limit, 1
+//	       for no line search
+//	double Newton's relative and absolute tolerances, step tolerance,
+//	       damping and shortest step
 //	int64  fields K; K × int64 1 for a constraint field, else 0
 //	S ×    int64 length, bytes: the name of each side with a boundary
 //	       integral, in the kernels' side order
@@ -78,6 +84,8 @@ type header struct {
 	method, precond, maxIter, restart, direct  int64
 	maxPicard                                  int64
 	rtol, time, step, symTol, picardTol, relax float64
+	newton, newtonMaxIter, newtonNoSearch      int64
+	newtonOpts                                 [5]float64 // RelTol, AbsTol, StepTol, Damping, MinStep
 	sides                                      []string
 	constraint                                 []bool // per field
 }
@@ -156,6 +164,10 @@ func writePart(path string, h *header, p *part) error {
 	for _, v := range []float64{h.rtol, h.time, h.step, h.symTol, h.picardTol, h.relax} {
 		b.f64(v)
 	}
+	b.i64(h.newton)
+	b.i64(h.newtonMaxIter)
+	b.i64(h.newtonNoSearch)
+	b.f64s(h.newtonOpts[:])
 	b.i64(int64(len(h.constraint)))
 	for _, c := range h.constraint {
 		if c {
@@ -254,6 +266,12 @@ type Result struct {
 	// Choice says why the automatic choice picked the solver ("as
 	// asked" otherwise).
 	Choice string
+	// Newton's method: whether it failed and why, and its history (with
+	// the relative residual of each linear solve).
+	NewtonFailed    bool
+	NewtonReason    string
+	Newton          []problem.NewtonStep
+	NewtonLinearRes []float64
 }
 
 // readResult parses the result file.
@@ -337,6 +355,18 @@ func parseResult(rd io.Reader) (*Result, error) {
 			}
 		case key == "choice":
 			r.Choice = val
+		case key == "newton_failed":
+			r.NewtonFailed = atoi() == 1
+		case key == "newton_reason":
+			r.NewtonReason = val
+		case key == "newton_step":
+			var st problem.NewtonStep
+			var lin float64
+			if _, e := fmt.Sscan(val, &st.Iter, &st.Residual, &st.Relative, &st.Step, &st.Update, &st.Backtracks, &st.LinearIters, &lin); e != nil {
+				err = e
+			}
+			r.Newton = append(r.Newton, st)
+			r.NewtonLinearRes = append(r.NewtonLinearRes, lin)
 		}
 		if err != nil {
 			return nil, fmt.Errorf("result: %s: %v", key, err)

@@ -37,6 +37,10 @@ type Options struct {
 	PicardTol   float64
 	PicardRelax float64
 	Initial     []float64
+	// Newton controls Newton's method for a Newton step form
+	// (ir.LoweredForm.Newton), as in problem.Options; Progress is called
+	// with the history after the run.
+	Newton problem.NewtonOptions
 	// Log receives the driver's output: PETSc's own reports when asked
 	// for through PETScOptions (-ksp_monitor, -log_view) and its
 	// messages (nil: discarded).
@@ -81,9 +85,6 @@ const symmetryTol = 1e-12
 func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*problem.Solution, *Report, error) {
 	if form.IsTransient() {
 		return nil, nil, &UnsupportedError{What: "transient forms"}
-	}
-	if form.Newton {
-		return nil, nil, &UnsupportedError{What: "Newton steps (solve with the Picard linearisation)"}
 	}
 	tc, err := findToolchain()
 	if err != nil {
@@ -187,7 +188,11 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		solverName += " (" + res.Factor + ")"
 	}
 	if !res.Converged {
-		return nil, rep, &DivergedError{Solver: solverName, Reason: res.Reason, Iterations: res.Iterations, Residual: res.Residual, Stderr: stderr}
+		de := &DivergedError{Solver: solverName, Reason: res.Reason, Iterations: res.Iterations, Residual: res.Residual, Stderr: stderr}
+		if form.Newton {
+			return nil, rep, &problem.NewtonError{Reason: res.NewtonReason, History: res.Newton, Err: de}
+		}
+		return nil, rep, de
 	}
 	// Every result is checked by its explicit residual, as runtime/problem
 	// checks its own solves.
@@ -195,11 +200,35 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	if !res.Direct {
 		tol = h.rtol * 10
 	}
-	if !(res.Residual <= tol) {
+	if !form.Newton && !(res.Residual <= tol) {
 		return nil, rep, &problem.ResidualError{Solver: "PETSc " + solverName, Residual: res.Residual, Tol: tol}
 	}
 	if res.PicardFailed {
 		return nil, rep, &problem.PicardError{Iter: res.Picard, Change: res.PicardChange, Tol: h.picardTol}
+	}
+	if form.Newton {
+		if res.Direct {
+			for k := range res.Newton {
+				res.Newton[k].LinearIters = 0 // as runtime/problem reports a direct solve
+			}
+			rep.Newton = res.Newton
+		}
+		if p := opts.Newton.Progress; p != nil {
+			for _, st := range res.Newton {
+				p(st)
+			}
+		}
+		// Every linear solve of the iteration is checked by its
+		// explicit residual, as runtime/problem checks them.
+		for k, lin := range res.NewtonLinearRes {
+			if it := res.Newton[k].Iter; it > 0 && !(lin <= tol) {
+				return nil, rep, &problem.NewtonError{Reason: fmt.Sprintf("the linear system of iteration %d could not be solved", it), History: res.Newton,
+					Err: &problem.ResidualError{Solver: "PETSc " + solverName, Residual: lin, Tol: tol}}
+			}
+		}
+		if res.NewtonFailed {
+			return nil, rep, &problem.NewtonError{Reason: res.NewtonReason, History: res.Newton}
+		}
 	}
 
 	sum := problem.Summary{
@@ -221,7 +250,10 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		Ranks:        ranks,
 		SolverReason: res.Choice,
 	}
-	if form.ReadsPrevious() {
+	switch {
+	case form.Newton:
+		sum.Nonlinear, sum.History, sum.Picard = "newton", res.Newton, len(res.Newton)-1
+	case form.ReadsPrevious():
 		sum.Nonlinear = "picard"
 	}
 	// Memory: what the ranks' resident sets grew by from the start of
@@ -261,6 +293,14 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 		maxIter: int64(s.MaxIter), restart: int64(s.Restart), direct: linsolve.DirectBelow2D,
 		maxPicard: int64(opts.MaxPicard), rtol: s.RelTol, time: opts.Time, symTol: symmetryTol,
 		picardTol: opts.PicardTol, relax: opts.PicardRelax, sides: form.Sides(),
+	}
+	if form.Newton {
+		no := opts.Newton
+		h.newton, h.newtonMaxIter = 1, int64(no.MaxIter)
+		if no.NoLineSearch {
+			h.newtonNoSearch = 1
+		}
+		h.newtonOpts = [5]float64{no.RelTol, no.AbsTol, no.StepTol, no.Damping, no.MinStep}
 	}
 	for _, u := range form.Unknowns {
 		h.constraint = append(h.constraint, u.Constraint)

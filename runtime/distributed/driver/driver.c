@@ -4,8 +4,10 @@
  * MPI rank, into a parallel AIJ matrix with exact preallocation, imposes
  * the value conditions, and solves with PETSc's Krylov solvers and
  * preconditioners (Balay et al., PETSc Users Manual, ANL-21/39 [memory]).
- * Forms that read the previous iterate are solved by Picard iteration
- * around the parallel linear solve.
+ * Forms that read a lagged iterate are solved by Picard iteration, and
+ * Newton step forms (the Jacobian and the residual of a nonlinear form)
+ * by Newton's method with a line search, both around the parallel linear
+ * solve.
  *
  * It is built and run by formwright (runtime/distributed), never by hand:
  *
@@ -25,6 +27,7 @@
  */
 #include <petscksp.h>
 #include <petscversion.h>
+#include <math.h>
 #include <stdarg.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -78,6 +81,9 @@ struct header {
 	int64_t max_picard, means, fields;
 	int64_t constraint[16]; /* per field: 1 for a constraint field */
 	double rtol, time, step, sym_tol, picard_tol, relax;
+	/* Newton's method (a Newton step form: runtime/problem, newton.go) */
+	int64_t newton, newton_maxit, newton_no_search;
+	double newton_rtol, newton_atol, newton_steptol, newton_damping, newton_minstep;
 };
 
 /* One mean condition: the pinned dof, the target mean, and this rank's
@@ -186,6 +192,14 @@ static void read_part(const char *dir, struct part *p)
 	h->sym_tol = get_f64("symmetry tolerance");
 	h->picard_tol = get_f64("Picard tolerance");
 	h->relax = get_f64("relaxation");
+	h->newton = get_i64("Newton");
+	h->newton_maxit = get_i64("Newton limit");
+	h->newton_no_search = get_i64("Newton without line search");
+	h->newton_rtol = get_f64("Newton tolerance");
+	h->newton_atol = get_f64("Newton absolute tolerance");
+	h->newton_steptol = get_f64("Newton step tolerance");
+	h->newton_damping = get_f64("Newton damping");
+	h->newton_minstep = get_f64("Newton shortest step");
 	h->fields = get_i64("fields");
 	checked(h->fields, 1, 16, "fields");
 	for (int64_t k = 0; k < h->fields; ++k) {
@@ -722,6 +736,61 @@ static PetscErrorCode write_x(const char *dir, Vec x, const struct part *p)
 	PetscFunctionReturn(0);
 }
 
+/* assemble_at assembles A and b with the kernels reading the iterate u
+ * (NULL: a form that reads none), gathered to the rank's cells. */
+static PetscErrorCode assemble_at(const struct part *p, const struct ghost *g, Vec u, Mat A, Vec b)
+{
+	PetscFunctionBeginUser;
+	const PetscScalar *pl = NULL;
+	if (u) {
+		PetscCall(VecScatterBegin(g->scatter, u, g->local, INSERT_VALUES, SCATTER_FORWARD));
+		PetscCall(VecScatterEnd(g->scatter, u, g->local, INSERT_VALUES, SCATTER_FORWARD));
+		PetscCall(VecGetArrayRead(g->local, &pl));
+	}
+	PetscCall(assemble(p, g, pl, A, b));
+	if (u) {
+		PetscCall(VecRestoreArrayRead(g->local, &pl));
+	}
+	PetscFunctionReturn(0);
+}
+
+/* setup_solver configures the Krylov method and preconditioner once:
+ * formwright's choice, then the user's options, then the classical-AMG
+ * settings if the preconditioner is hypre's. */
+static PetscErrorCode setup_solver(KSP ksp, const struct part *p, PetscBool sym, int *direct, char *why, size_t nwhy)
+{
+	PetscFunctionBeginUser;
+	PC pc;
+	PetscBool hypre;
+	PetscCall(configure(ksp, p, sym, direct, why, nwhy));
+	PetscCall(KSPSetFromOptions(ksp));
+	PetscCall(KSPGetPC(ksp, &pc));
+	PetscCall(PetscObjectTypeCompare((PetscObject)pc, PCHYPRE, &hypre));
+	if (hypre) {
+		/* Set only now, so no option is left unused when the
+		 * preconditioner is another. */
+		PetscCall(classical_amg_defaults("-", p->h.dim));
+		PetscCall(PCSetFromOptions(pc));
+	}
+	PetscFunctionReturn(0);
+}
+
+/* One line of Newton's history (runtime/problem.NewtonStep). */
+struct newton_step {
+	int iter, backtracks, linear_its;
+	double residual, relative, step, update, linear_residual;
+};
+
+/* masked_norm is ||b|| over the dofs without a value condition (mask 1
+ * there, 0 elsewhere). */
+static PetscErrorCode masked_norm(Vec b, Vec mask, Vec work, double *n)
+{
+	PetscFunctionBeginUser;
+	PetscCall(VecPointwiseMult(work, b, mask));
+	PetscCall(VecNorm(work, NORM_2, n));
+	PetscFunctionReturn(0);
+}
+
 /* The phases timed, each the largest over the ranks. */
 enum { T_READ, T_SETUP, T_ASSEMBLY, T_CONSTRAIN, T_PCSETUP, T_SOLVE, T_COUNT };
 static const char *phase_names[T_COUNT] = {"read", "setup", "assembly", "constrain", "pc_setup", "solve"};
@@ -787,7 +856,178 @@ static PetscErrorCode run(const char *dir)
 	MatInfo info;
 	double mallocs = 0, unneeded = 0, nonzeros = 0;
 	int64_t max_picard = l->needs_previous ? (h->max_picard > 0 ? h->max_picard : 50) : 1;
-	for (picard = 1; picard <= max_picard; ++picard) {
+	struct newton_step *hist = NULL;
+	int nhist = 0, newton_failed = 0;
+	char newton_reason[256] = "";
+	if (h->newton) {
+		max_picard = 0; /* no Picard loop */
+		/* Newton's method with a backtracking line search, as
+		 * runtime/problem's newton: J(u_k) du = -F(u_k) with du = 0 on
+		 * the prescribed dofs (and the mean pins), u_k + lambda du for
+		 * lambda = lambda_0, lambda_0/2, ... until Armijo's condition
+		 * ||F|| <= (1 - 1e-4 lambda) ||F_k|| holds (Dennis & Schnabel
+		 * 1983, Numerical Methods for Unconstrained Optimization and
+		 * Nonlinear Equations, 6.3 [memory]). The trial's assembly is the
+		 * next iteration's system. */
+		if (!prev) {
+			die(EXIT_INPUT, "a Newton step form whose kernels do not read the iterate");
+		}
+		int64_t maxit = h->newton_maxit > 0 ? h->newton_maxit : 30;
+		double rtol = h->newton_rtol > 0 ? h->newton_rtol : 1e-10;
+		double steptol = h->newton_steptol > 0 ? h->newton_steptol : 1e-11;
+		double damping = h->newton_damping > 0 && h->newton_damping <= 1 ? h->newton_damping : 1;
+		double minstep = h->newton_minstep > 0 ? h->newton_minstep : 1.0 / 4096;
+		hist = alloc((size_t)maxit + 1, sizeof *hist);
+		Vec u = prev, du = x, trial, mask, zero, work;
+		PetscCall(VecDuplicate(x, &trial));
+		PetscCall(VecDuplicate(x, &mask));
+		PetscCall(VecDuplicate(x, &zero));
+		PetscCall(VecDuplicate(x, &work));
+		PetscCall(VecSet(zero, 0));
+		PetscCall(VecSet(mask, 1));
+		PetscInt nrows = p.nfixed;
+		PetscInt *rows = alloc((size_t)(p.nfixed + h->means), sizeof(PetscInt));
+		memcpy(rows, p.fixed, (size_t)p.nfixed * sizeof(PetscInt));
+		for (int64_t k = 0; k < h->means; ++k) {
+			PetscInt lo, hi;
+			PetscCall(VecGetOwnershipRange(x, &lo, &hi));
+			if (p.means[k].pin >= lo && p.means[k].pin < hi) {
+				rows[nrows++] = p.means[k].pin;
+			}
+		}
+		for (PetscInt i = 0; i < nrows; ++i) {
+			PetscCall(VecSetValue(mask, rows[i], 0, INSERT_VALUES));
+		}
+		PetscCall(VecAssemblyBegin(mask));
+		PetscCall(VecAssemblyEnd(mask));
+		for (int64_t k = 0; k < h->means; ++k) {
+			PetscCall(shift(&p.means[k], u));
+		}
+		t0 = now();
+		PetscCall(assemble_at(&p, &gh, u, A, b));
+		t[T_ASSEMBLY] += now() - t0;
+		PetscCall(MatGetInfo(A, MAT_GLOBAL_SUM, &info));
+		mallocs = info.mallocs;
+		unneeded = info.nz_unneeded;
+		nonzeros = info.nz_used;
+		PetscCall(is_symmetric(A, h->sym_tol, &sym));
+		double r0, r;
+		PetscCall(masked_norm(b, mask, work, &r0));
+		r = r0;
+		hist[nhist++] = (struct newton_step){.iter = 0, .residual = r0, .relative = 1};
+		int done = r0 == 0 || r0 <= h->newton_atol;
+		if (!isfinite(r0)) {
+			newton_failed = 1;
+			snprintf(newton_reason, sizeof newton_reason, "the residual at the initial iterate is not finite");
+			done = 1;
+		}
+		for (int it = 1; it <= maxit && !done; ++it) {
+			t0 = now();
+			if (sym) {
+				PetscCall(MatZeroRowsColumns(A, nrows, rows, 1.0, zero, b));
+				PetscCall(MatSetOption(A, MAT_SYMMETRIC, PETSC_TRUE));
+			} else {
+				PetscCall(MatZeroRows(A, nrows, rows, 1.0, zero, b));
+			}
+			t[T_CONSTRAIN] += now() - t0;
+			t0 = now();
+			PetscCall(KSPSetOperators(ksp, A, A));
+			if (it == 1) {
+				PetscCall(setup_solver(ksp, &p, sym, &direct, why, sizeof why));
+			}
+			PetscCall(KSPSetUp(ksp));
+			t[T_PCSETUP] += now() - t0;
+			t0 = now();
+			PetscCall(VecSet(du, 0));
+			PetscCall(KSPSolve(ksp, b, du));
+			PetscCall(KSPGetConvergedReason(ksp, &reason));
+			PetscCall(KSPGetIterationNumber(ksp, &its));
+			total_its += its;
+			double rn;
+			PetscCall(MatMult(A, du, work));
+			PetscCall(VecAYPX(work, -1.0, b));
+			PetscCall(VecNorm(work, NORM_2, &rn));
+			PetscCall(VecNorm(b, NORM_2, &bnorm));
+			residual = bnorm > 0 ? rn / bnorm : rn;
+			t[T_SOLVE] += now() - t0;
+			struct newton_step st = {.iter = it, .linear_its = its, .linear_residual = residual};
+			if (reason < 0) {
+				converged = 0;
+				newton_failed = 1;
+				snprintf(newton_reason, sizeof newton_reason, "the linear system of iteration %d could not be solved", it);
+				break;
+			}
+			double un, dn;
+			PetscCall(VecNorm(u, NORM_2, &un));
+			PetscCall(VecNorm(du, NORM_2, &dn));
+			int full = dn <= steptol * PetscMax(un, 1e-300);
+			double lambda = damping, rt = 0;
+			for (;;) {
+				PetscCall(VecWAXPY(trial, lambda, du, u));
+				for (int64_t k = 0; k < h->means; ++k) {
+					PetscCall(shift(&p.means[k], trial));
+				}
+				t0 = now();
+				PetscCall(assemble_at(&p, &gh, trial, A, b));
+				t[T_ASSEMBLY] += now() - t0;
+				PetscCall(masked_norm(b, mask, work, &rt));
+				int finite = isfinite(rt);
+				if (h->newton_no_search || full || (finite && rt <= (1 - 1e-4 * lambda) * r)) {
+					if (!finite) {
+						st.residual = rt, st.relative = r0 > 0 ? rt / r0 : 0, st.step = lambda;
+						hist[nhist++] = st;
+						newton_failed = 1;
+						snprintf(newton_reason, sizeof newton_reason, "the residual is not finite (the iteration diverged)");
+					}
+					break;
+				}
+				st.backtracks++;
+				lambda /= 2;
+				if (lambda < minstep) {
+					st.residual = rt, st.relative = r0 > 0 ? rt / r0 : 0, st.step = lambda * 2;
+					hist[nhist++] = st;
+					newton_failed = 1;
+					snprintf(newton_reason, sizeof newton_reason, "the line search stalled: no step length down to %.2g reduced ||F||", minstep);
+					break;
+				}
+			}
+			if (newton_failed) {
+				break;
+			}
+			r = rt;
+			PetscCall(VecCopy(trial, u));
+			double nu;
+			PetscCall(VecNorm(u, NORM_2, &nu));
+			st.residual = r, st.relative = r0 > 0 ? r / r0 : 0, st.step = lambda;
+			st.update = lambda * dn / PetscMax(nu, 1e-300);
+			hist[nhist++] = st;
+			done = r <= rtol * r0 || r <= h->newton_atol || full;
+		}
+		if (!done && !newton_failed) {
+			newton_failed = 1;
+			snprintf(newton_reason, sizeof newton_reason, "the iteration limit was reached");
+		}
+		/* The equations the mean pins replaced: |F_pin| / ||F_0||. */
+		mean_residual = 0;
+		for (int64_t k = 0; k < h->means; ++k) {
+			PetscInt lo, hi;
+			double v = 0, all;
+			PetscCall(VecGetOwnershipRange(b, &lo, &hi));
+			if (p.means[k].pin >= lo && p.means[k].pin < hi) {
+				PetscCall(VecGetValues(b, 1, &p.means[k].pin, &v));
+			}
+			v = PetscAbsScalar(v) / PetscMax(r0, 1e-300);
+			PetscCallMPI(MPI_Allreduce(&v, &all, 1, MPI_DOUBLE, MPI_MAX, PETSC_COMM_WORLD));
+			mean_residual = PetscMax(mean_residual, all);
+		}
+		PetscCall(VecCopy(u, x));
+		free(rows);
+		PetscCall(VecDestroy(&trial));
+		PetscCall(VecDestroy(&mask));
+		PetscCall(VecDestroy(&zero));
+		PetscCall(VecDestroy(&work));
+	}
+	for (picard = 1; !h->newton && picard <= max_picard; ++picard) {
 		t0 = now();
 		const PetscScalar *pl = NULL;
 		if (prev) {
@@ -843,18 +1083,7 @@ static PetscErrorCode run(const char *dir)
 		t0 = now();
 		PetscCall(KSPSetOperators(ksp, A, A));
 		if (picard == 1) {
-			PC pc;
-			PetscBool hypre;
-			PetscCall(configure(ksp, &p, sym, &direct, why, sizeof why));
-			PetscCall(KSPSetFromOptions(ksp));
-			PetscCall(KSPGetPC(ksp, &pc));
-			PetscCall(PetscObjectTypeCompare((PetscObject)pc, PCHYPRE, &hypre));
-			if (hypre) {
-				/* Set only now, so no option is left unused when the
-				 * preconditioner is another. */
-				PetscCall(classical_amg_defaults("-", h->dim));
-				PetscCall(PCSetFromOptions(pc));
-			}
+			PetscCall(setup_solver(ksp, &p, sym, &direct, why, sizeof why));
 		}
 		PetscBool preonly;
 		PetscCall(PetscObjectTypeCompare((PetscObject)ksp, KSPPREONLY, &preonly));
@@ -914,7 +1143,9 @@ static PetscErrorCode run(const char *dir)
 			break;
 		}
 	}
-	if (picard > max_picard) {
+	if (h->newton) {
+		picard = nhist - 1;
+	} else if (picard > max_picard) {
 		picard = (int)max_picard;
 	}
 
@@ -978,12 +1209,22 @@ static PetscErrorCode run(const char *dir)
 			fprintf(f, " %ld", rss0_all[k]);
 		}
 		fprintf(f, "\nchoice %s\n", why);
+		if (h->newton) {
+			fprintf(f, "newton_failed %d\n", newton_failed);
+			fprintf(f, "newton_reason %s\n", newton_reason);
+			for (int k = 0; k < nhist; ++k) {
+				const struct newton_step *st = &hist[k];
+				fprintf(f, "newton_step %d %.17g %.17g %.17g %.17g %d %d %.17g\n", st->iter, st->residual, st->relative, st->step, st->update,
+				        st->backtracks, st->linear_its, st->linear_residual);
+			}
+		}
 		if (fclose(f) != 0) {
 			die(EXIT_INPUT, "cannot write %s", path);
 		}
 	}
 	free(rss_all);
 	free(rss0_all);
+	free(hist);
 	free(pins);
 	PetscCall(KSPDestroy(&ksp));
 	PetscCall(MatDestroy(&A));
