@@ -101,10 +101,11 @@ func engineError(err error) error {
 	var be *distributed.BuildError
 	var re *distributed.RunError
 	var ue *distributed.UnsupportedError
+	var oe *distributed.OptionsError
 	var de *distributed.DivergedError
 	var ge *distributed.DegenerateError
 	switch {
-	case errors.As(err, &se), errors.As(err, &be), errors.As(err, &re), errors.As(err, &ue):
+	case errors.As(err, &se), errors.As(err, &be), errors.As(err, &re), errors.As(err, &ue), errors.As(err, &oe):
 		return &usageError{err.Error()}
 	case errors.As(err, &de), errors.As(err, &ge):
 		return fmt.Errorf("numerical failure, no result written: %w", err)

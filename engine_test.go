@@ -59,6 +59,7 @@ func TestEngineFlags(t *testing.T) {
 			{[]string{"solve", "adr", "--engine", "petsc", "--solver", "cg+multigrid"}, "unknown preconditioner"},
 			{[]string{"solve", "adr", "--engine", "petsc", "--ilu-shift", "0.1"}, "--petsc-options"},
 			{[]string{"solve", "bratu", "--engine", "petsc", "--picard-steps", "2"}, "go engine only"},
+			{[]string{"solve", "adr", "--engine", "petsc", "--ranks", "9", "--mesh", "rect:0,1,0,1:2x2:tri"}, "9 ranks for a mesh of 8 cells"},
 		}...)
 	}
 	for _, c := range cases {

@@ -83,6 +83,12 @@ func (e *DivergedError) Error() string {
 	return s
 }
 
+// OptionsError is a run the engine cannot make as asked: more ranks than
+// cells, a tolerance out of range, a system too large for its files.
+type OptionsError struct{ Msg string }
+
+func (e *OptionsError) Error() string { return "the PETSc engine: " + e.Msg }
+
 // UnsupportedError is a form the engine cannot solve yet.
 type UnsupportedError struct{ What string }
 

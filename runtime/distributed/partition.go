@@ -51,7 +51,7 @@ func (p *Partition) Owner(i int) int {
 func NewPartition(m *mesh.Mesh, dm *dof.Map, ranks int) (*Partition, error) {
 	nc := m.NumCells()
 	if ranks < 1 || ranks > nc {
-		return nil, fmt.Errorf("distributed: %d ranks for %d cells (give 1 to %d)", ranks, nc, nc)
+		return nil, &OptionsError{fmt.Sprintf("%d ranks for a mesh of %d cells (give 1 to %d)", ranks, nc, nc)}
 	}
 	p := &Partition{Ranks: ranks, CellRank: Bisect(m, ranks)}
 	p.number(dm)

@@ -78,7 +78,8 @@ const symmetryTol = 1e-12
 // summary like problem.Solve's.
 //
 // Errors: *SetupError (no MPI or PETSc), *BuildError, *RunError,
-// *UnsupportedError (transient forms) are set-up failures;
+// *OptionsError (more ranks than cells, ...), *UnsupportedError
+// (transient forms) are set-up failures;
 // *DivergedError, *problem.ResidualError (the explicit residual is above
 // the tolerance), *problem.PicardError and *DegenerateError are numerical
 // failures. The run directory is removed in every case.
@@ -306,7 +307,7 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 		h.constraint = append(h.constraint, u.Constraint)
 	}
 	if len(h.constraint) > 16 {
-		return nil, fmt.Errorf("distributed: %d unknowns (the driver takes at most 16)", len(h.constraint))
+		return nil, &OptionsError{fmt.Sprintf("%d unknowns (the driver takes at most 16)", len(h.constraint))}
 	}
 	if m.Dim == 3 {
 		h.direct = linsolve.DirectBelow3D
@@ -315,7 +316,7 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 		h.rtol = linsolve.DefaultRelTol
 	}
 	if !(h.rtol > 0 && h.rtol < 1) {
-		return nil, fmt.Errorf("distributed: relative tolerance %g is not in (0, 1)", h.rtol)
+		return nil, &OptionsError{fmt.Sprintf("relative tolerance %g is not in (0, 1)", h.rtol)}
 	}
 	if h.maxIter == 0 {
 		h.maxIter = linsolve.DefaultMaxIter
@@ -332,7 +333,7 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 		}
 	}
 	if dm.NumDofs > math.MaxInt32 {
-		return nil, fmt.Errorf("distributed: %d dofs: the part files number dofs with 32 bits", dm.NumDofs)
+		return nil, &OptionsError{fmt.Sprintf("%d dofs: the part files number dofs with 32 bits", dm.NumDofs)}
 	}
 	return h, nil
 }
