@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/formwright/formwright/compiler"
@@ -177,4 +178,13 @@ func readLimited(path string, limit int) ([]byte, error) {
 		return nil, fmt.Errorf("%s is longer than %d bytes, the limit for a model file", path, limit)
 	}
 	return src, nil
+}
+
+// joinInts writes the numbers separated by sep.
+func joinInts(ns []int, sep string) string {
+	parts := make([]string, len(ns))
+	for i, n := range ns {
+		parts[i] = strconv.Itoa(n)
+	}
+	return strings.Join(parts, sep)
 }

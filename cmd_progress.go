@@ -80,7 +80,7 @@ func (p *progress) solveEvents(label string) func(problem.Event) {
 		}
 		switch {
 		case e.Detail != "":
-			p.say(e.Phase, "%s%s %d of %d: %s", label, e.Phase, e.Step, e.Of, e.Detail)
+			p.say(e.Phase, "%s%s: %s", label, e.Phase, e.Detail)
 		case e.Phase == "factor" || e.Phase == "amg-setup":
 			p.say(e.Phase, "%s%s %d of %d", label, e.Phase, e.Step, e.Of)
 		case e.Of > 0:

@@ -572,7 +572,11 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		fmt.Fprintf(w, "           (%s)\n", s.SolverReason)
 	}
 	if s.Nonlinear != "" { // newton or picard
-		fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
+		if len(s.StepIterations) > 1 {
+			fmt.Fprintf(w, "%-10s %d iterations (%s over the continuation steps)\n", s.Nonlinear, s.Picard, joinInts(s.StepIterations, " + "))
+		} else {
+			fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
+		}
 	}
 	for _, mc := range m.Means {
 		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)
@@ -671,7 +675,9 @@ type jsonSolve struct {
 	// and Newton its history (cmd_nonlinear.go).
 	Nonlinear string               `json:"nonlinear,omitempty"`
 	Newton    []problem.NewtonStep `json:"newton,omitempty"`
-	Setups    int                  `json:"solver_setups"` // factorisations or preconditioner builds
+	// StepIterations: the iterations of each --ramp step.
+	StepIterations []int `json:"continuation_iterations,omitempty"`
+	Setups         int   `json:"solver_setups"` // factorisations or preconditioner builds
 	// Engine and Ranks: --engine petsc only.
 	Engine string `json:"engine,omitempty"`
 	Ranks  int    `json:"ranks,omitempty"`
@@ -700,7 +706,7 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
 		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
-		Nonlinear: s.Nonlinear, Newton: s.History, Engine: s.Engine, Ranks: s.Ranks}
+		Nonlinear: s.Nonlinear, Newton: s.History, StepIterations: s.StepIterations, Engine: s.Engine, Ranks: s.Ranks}
 	for _, a := range cells {
 		lo, hi := valueRange(a.Values)
 		out.PerCell[a.Name] = [2]float64{lo, hi}

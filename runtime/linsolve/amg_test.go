@@ -478,6 +478,7 @@ func TestBlockStokesIterations(t *testing.T) {
 // Recommend: the rule's branches on matrices of each kind.
 func TestRecommend(t *testing.T) {
 	stokes, lay := stokesP1(140, 1)
+	bigStokes, bigLay := stokesP1(300, 1)
 	cases := []struct {
 		name    string
 		A       *sparse.CSR
@@ -491,7 +492,10 @@ func TestRecommend(t *testing.T) {
 		{"SUPG 256²", supgP1(256, math.Pi/6, 1e-6), nil, MethodGMRES, PrecondILU0},
 		{"SUPG 600²", supgP1(600, math.Pi/6, 1e-6), nil, MethodGMRES, PrecondAMG},
 		{"diffusion-dominated 256²", supgP1(256, math.Pi/6, 1), nil, MethodGMRES, PrecondAMG},
-		{"stokes 140²", stokes, lay, MethodGMRES, PrecondAMGBlock},
+		// Three coupled P1 fields: about 21 nonzeros per row, 7 per
+		// component, so the 2D saddle-point bound applies.
+		{"stokes 140²", stokes, lay, MethodDirect, PrecondNone},
+		{"stokes 300²", bigStokes, bigLay, MethodGMRES, PrecondAMGBlock},
 	}
 	for _, c := range cases {
 		r := Recommend(c.A, c.layout)

@@ -56,10 +56,15 @@ func Ramp(start, target float64, steps int, geometric bool) ([]float64, error) {
 // poor start often can be reached this way, as long as the solution path
 // has no turning point between the values (Allgower & Georg 1990,
 // Numerical Continuation Methods, ch. 1). each, if not nil, is called
-// after every step. It returns the last solution; a failed step is a
-// *ContinuationError.
+// after every step. It returns the last solution, whose Summary accounts
+// for all the steps: phases, nonlinear iterations and solver set-ups are
+// summed over them, and StepIterations lists each step's iterations. A
+// failed step is a *ContinuationError.
 func Continue(values []float64, formAt func(v float64) (*ir.LoweredForm, error), m *mesh.Mesh, opts Options, each func(step int, v float64, s *Solution)) (*Solution, error) {
 	var sol *Solution
+	var phases []Phase
+	var iters []int
+	prepared := 0
 	for i, v := range values {
 		form, err := formAt(v)
 		if err != nil {
@@ -76,6 +81,37 @@ func Continue(values []float64, formAt func(v float64) (*ir.LoweredForm, error),
 		if each != nil {
 			each(i+1, v, sol)
 		}
+		phases = addPhases(phases, sol.Summary.Phases)
+		iters = append(iters, sol.Summary.Picard)
+		prepared += sol.Summary.Prepared
+	}
+	if sol != nil {
+		sol.Summary.Phases = phases
+		sol.Summary.StepIterations = iters
+		sol.Summary.Picard = 0
+		for _, n := range iters {
+			sol.Summary.Picard += n
+		}
+		sol.Summary.Prepared = prepared
 	}
 	return sol, nil
+}
+
+// addPhases adds the durations of more to total, phase by phase by name,
+// keeping the order in which the names first appear.
+func addPhases(total, more []Phase) []Phase {
+	for _, p := range more {
+		found := false
+		for i := range total {
+			if total[i].Name == p.Name {
+				total[i].Wall += p.Wall
+				found = true
+				break
+			}
+		}
+		if !found {
+			total = append(total, p)
+		}
+	}
+	return total
 }

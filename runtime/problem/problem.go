@@ -148,6 +148,9 @@ type Summary struct {
 	Iterations      int // of the last linear solve
 	Residual        float64
 	Picard          int // nonlinear iterations (1 for a linear problem)
+	// StepIterations lists the nonlinear iterations of each step of a
+	// continuation (Continue); Picard is their sum.
+	StepIterations []int
 	// Nonlinear names the nonlinear iteration: "newton", "picard", or ""
 	// for a linear problem.
 	Nonlinear string
