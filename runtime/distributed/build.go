@@ -197,6 +197,10 @@ func (tc *toolchain) build(k Kernels, cacheDir, scratch string) (path string, ca
 	if cacheDir != "" {
 		if dir, err = os.MkdirTemp(cacheDir, "build-"); err != nil {
 			dir, cacheDir = scratch, ""
+		} else {
+			// An interrupted build leaves nothing in the cache.
+			pending.addDir(dir)
+			defer pending.removeDir(dir)
 		}
 	}
 	files := map[string][]byte{"driver.c": driverSource, k.Name + ".h": k.Header, k.Name + ".c": k.Source, "names.h": names}
