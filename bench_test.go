@@ -38,7 +38,7 @@ func skewSolve(n int) (int, error) {
 	if err != nil {
 		return 0, err
 	}
-	msh, _, err := buildMesh(m, fmt.Sprintf("rect:0,1,0,1:%dx%d:tri", n, n))
+	msh, _, err := buildMesh(m, fmt.Sprintf("span:0,1,0,1:%dx%d:tri", n, n))
 	if err != nil {
 		return 0, err
 	}
@@ -89,7 +89,7 @@ func BenchmarkTransientHeatRatios(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	msh, _, err := buildMesh(m, "rect:0,1,0,1:96x96:tri")
+	msh, _, err := buildMesh(m, "span:0,1,0,1:96x96:tri")
 	if err != nil {
 		b.Fatal(err)
 	}

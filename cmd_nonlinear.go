@@ -318,8 +318,8 @@ func cmdJacobian(args []string, stdout, stderr io.Writer) error {
 	spec := *meshSpec
 	if spec == "" {
 		tensor := m.Unknowns[0].Element.Family == ir.TensorProduct
-		spec = map[int]string{1: "interval:0,1:16", 2: "rect:0,1,0,1:4x4:" + map[bool]string{false: "tri", true: "quad"}[tensor],
-			3: "box:0,1,0,1,0,1:2x2x2:" + map[bool]string{false: "tet", true: "hex"}[tensor]}[m.Dim]
+		spec = map[int]string{1: "span:0,1:16", 2: "span:0,1,0,1:4x4:" + map[bool]string{false: "tri", true: "quad"}[tensor],
+			3: "span:0,1,0,1,0,1:2x2x2:" + map[bool]string{false: "tet", true: "hex"}[tensor]}[m.Dim]
 	}
 	msh, spec, err := buildMesh(m, spec)
 	if err != nil {

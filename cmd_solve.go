@@ -39,7 +39,7 @@ type solveFlags struct {
 
 func addSolveFlags(fs *cmdFlags) *solveFlags {
 	return &solveFlags{
-		mesh:       fs.String("mesh", "", "mesh spec (interval:0,1:64, rect:0,1,0,1:64x64:tri|tri-flip|crossed|quad, box:0,1,0,1,0,1:8x8x8:tet|hex) or a .vtu mesh file (default: by dimension and element)"),
+		mesh:       fs.String("mesh", "", "mesh: span:X0,X1[,Y0,Y1[,Z0,Z1]]:N[xN[xN]][:PATTERN] (e.g. span:0,1,0,1:64x64; 2D patterns tri, tri-flip, quartered, quad; 3D tet, hex; 1D graded=R) or a .vtu mesh file (default: by dimension and element)"),
 		solver:     fs.String("solver", "auto", "auto, direct, cg, gmres or bicgstab, optionally +none, +jacobi, +ilu0, +amg or +amg-block (e.g. cg+amg; amg-block for saddle-point systems)"),
 		tol:        fs.Float64("tol", 0, "relative residual tolerance of iterative solvers, in (0, 1) (default 1e-10)"),
 		maxIter:    fs.Int("max-iter", 0, "iteration limit of iterative solvers (default 10000)"),

@@ -34,7 +34,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	levels := fs.Int("levels", 4, "number of meshes, each twice as fine as the last (2 to 8)")
 	base := fs.Int("base", 0, "cells per unit length on the coarsest mesh (default 8 in 1D, 4 in 2D, 2 in 3D)")
 	method := fs.String("method", "", "methods to verify: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
-	pattern := fs.String("pattern", "", "cell pattern: tri, tri-flip, crossed, quad (2D), tet, hex (3D) (default: by element)")
+	pattern := fs.String("pattern", "", "cell pattern: tri, tri-flip, quartered, quad (2D), tet, hex (3D) (default: by element)")
 	meshFlag := fs.String("mesh", "", "coarsest mesh: a mesh spec of any extent or a .vtu file; each level refines the last uniformly (default: the unit interval, square or cube with --base cells per unit length)")
 	tol := fs.Float64("tol", 0.2, "allowed shortfall of the observed order on the finest pair")
 	asJSON := fs.Bool("json", false, "print the report as JSON")
@@ -269,11 +269,11 @@ func studyMesh(dim int, pattern string, n int) (study.Level, error) {
 	var spec string
 	switch dim {
 	case 1:
-		spec = fmt.Sprintf("interval:0,1:%d", n)
+		spec = fmt.Sprintf("span:0,1:%d", n)
 	case 2:
-		spec = fmt.Sprintf("rect:0,1,0,1:%dx%d:%s", n, n, pattern)
+		spec = fmt.Sprintf("span:0,1,0,1:%dx%d:%s", n, n, pattern)
 	default:
-		spec = fmt.Sprintf("box:0,1,0,1,0,1:%dx%dx%d:%s", n, n, n, pattern)
+		spec = fmt.Sprintf("span:0,1,0,1,0,1:%dx%dx%d:%s", n, n, n, pattern)
 	}
 	msh, err := mesh.Load(spec)
 	if err != nil {

@@ -85,7 +85,7 @@ func TestSUPGNodallyExact1D(t *testing.T) {
 		for _, s := range []float64{0, 0.5} {
 			k := 1 / (2 * n * alpha) // a = 1, h = 1/n
 			src := fmt.Sprintf(layerModel, fmt.Sprintf("%.17g", k), fmt.Sprintf("%g", s))
-			sol := solveModel(t, src, compiler.SUPG, fmt.Sprintf("interval:0,1:%d", n))
+			sol := solveModel(t, src, compiler.SUPG, fmt.Sprintf("span:0,1:%d", n))
 			coords := sol.Dofs.NodeCoords(0)
 			worst := 0.0
 			for i, x := range coords {
@@ -104,7 +104,7 @@ func TestSUPGNodallyExact1D(t *testing.T) {
 func TestGalerkinOscillates1D(t *testing.T) {
 	const n, alpha = 10, 2.5
 	k := 1 / (2 * n * alpha)
-	sol := solveModel(t, fmt.Sprintf(layerModel, fmt.Sprintf("%.17g", k), "0"), compiler.Galerkin, "interval:0,1:10")
+	sol := solveModel(t, fmt.Sprintf(layerModel, fmt.Sprintf("%.17g", k), "0"), compiler.Galerkin, "span:0,1:10")
 	coords := sol.Dofs.NodeCoords(0)
 	type nv struct{ x, u float64 }
 	var pts []nv
@@ -325,7 +325,7 @@ func TestLidDrivenCavityRe100(t *testing.T) {
 	// resolved, both match the table.
 	var sol *problem.Solution
 	for _, meth := range []compiler.Method{compiler.VMS, compiler.SUPG} {
-		sol = exampleSolve(t, "navier_stokes", meth, "rect:0,1,0,1:64x64:tri", true)
+		sol = exampleSolve(t, "navier_stokes", meth, "span:0,1,0,1:64x64:tri", true)
 		if sol.Summary.Picard < 3 {
 			t.Fatalf("%s: Picard iterations %d: the convection was not iterated", meth, sol.Summary.Picard)
 		}
@@ -392,7 +392,7 @@ func TestLidDrivenCavityRe100(t *testing.T) {
 		}
 	}
 	// The interpreted path gives the same Picard solution.
-	b := exampleSolve(t, "navier_stokes", compiler.SUPG, "rect:0,1,0,1:64x64:tri", false)
+	b := exampleSolve(t, "navier_stokes", compiler.SUPG, "span:0,1,0,1:64x64:tri", false)
 	diff := 0.0
 	for i := range b.X {
 		diff = math.Max(diff, math.Abs(b.X[i]-sol.X[i]))
@@ -464,7 +464,7 @@ func TestVerifyStokesEqualOrder(t *testing.T) {
 // values at the edge's ends (linear interpolation, exact).
 func TestOutputGridQuadratic(t *testing.T) {
 	src := strings.Replace(strings.Replace(stokesCheck, "unknown vel: vector P1", "unknown vel: vector P2", 1), "stabilise galerkin, supg, gls, vms", "stabilise galerkin", 1)
-	sol := solveModel(t, src, compiler.Galerkin, "rect:0,1,0,1:4x4:tri")
+	sol := solveModel(t, src, compiler.Galerkin, "span:0,1,0,1:4x4:tri")
 	g := sol.Grid()
 	nv := sol.Mesh.NumVertices()
 	np := len(g.Points) / 3
@@ -658,15 +658,15 @@ func TestQuadratureFollowsTheData(t *testing.T) {
 		}
 		return w
 	}
-	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, ""), compiler.SUPG, "interval:0,1:10")); w > 2e-4 {
+	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, ""), compiler.SUPG, "span:0,1:10")); w > 2e-4 {
 		t.Errorf("automatic quadrature: nodal values off by %.2g, want ≤ 2e-4", w)
 	}
-	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, "quadrature 3\n"), compiler.SUPG, "interval:0,1:10")); w < 2e-3 {
+	if w := worst(solveModel(t, fmt.Sprintf(peakedSource, "quadrature 3\n"), compiler.SUPG, "span:0,1:10")); w < 2e-3 {
 		t.Errorf("two-point rule: nodal values off by only %.2g; the published effect is up to 0.004", w)
 	}
 	path := writeModel(t, fmt.Sprintf(peakedSource, ""))
 	var out, errb bytes.Buffer
-	if st := run([]string{"solve", path, "--mesh", "interval:0,1:10", "--quadrature", "3", "--quiet"}, &out, &errb); st != exitOK || !strings.Contains(out.String(), "quadrature degree 3, 2 points per cell") {
+	if st := run([]string{"solve", path, "--mesh", "span:0,1:10", "--quadrature", "3", "--quiet"}, &out, &errb); st != exitOK || !strings.Contains(out.String(), "quadrature degree 3, 2 points per cell") {
 		t.Errorf("--quadrature 3: status %d, %q %q", st, out.String(), errb.String())
 	}
 }

@@ -59,7 +59,7 @@ func TestEngineFlags(t *testing.T) {
 			{[]string{"solve", "adr", "--engine", "petsc", "--solver", "cg+multigrid"}, "unknown preconditioner"},
 			{[]string{"solve", "adr", "--engine", "petsc", "--ilu-shift", "0.1"}, "--petsc-options"},
 			{[]string{"solve", "bratu", "--engine", "petsc", "--picard-steps", "2"}, "go engine only"},
-			{[]string{"solve", "adr", "--engine", "petsc", "--ranks", "9", "--mesh", "rect:0,1,0,1:2x2:tri"}, "9 ranks for a mesh of 8 cells"},
+			{[]string{"solve", "adr", "--engine", "petsc", "--ranks", "9", "--mesh", "span:0,1,0,1:2x2:tri"}, "9 ranks for a mesh of 8 cells"},
 		}...)
 	}
 	for _, c := range cases {
@@ -83,7 +83,7 @@ func TestEngineSolve(t *testing.T) {
 	t.Setenv("XDG_CACHE_HOME", t.TempDir())
 	values := func(args ...string) (jsonSolve, string) {
 		var out, errb bytes.Buffer
-		if st := run(append([]string{"solve", "adr", "--mesh", "rect:0,1,0,1:20x20:tri", "--quiet"}, args...), &out, &errb); st != exitOK {
+		if st := run(append([]string{"solve", "adr", "--mesh", "span:0,1,0,1:20x20:tri", "--quiet"}, args...), &out, &errb); st != exitOK {
 			t.Fatalf("%v: status %d: %s", args, st, errb.String())
 		}
 		var js jsonSolve

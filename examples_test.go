@@ -228,7 +228,7 @@ func TestCompiledTransientMatchesInterpreted(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	msh, _, err := buildMesh(m, "rect:0,1,0,1:16x16:tri")
+	msh, _, err := buildMesh(m, "span:0,1,0,1:16x16:tri")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -88,7 +88,7 @@ func TestExitStatuses(t *testing.T) {
 		{[]string{"solve", "heat"}, exitBadInput, "give --steps N or --until T"},
 		{[]string{"solve", "heat", "--steps", "3", "--quiet"}, exitOK, ""},
 		{[]string{"verify", "heat", "--quiet"}, exitBadInput, "give the comparison time with --until T"},
-		{[]string{"solve", "adr", "--mesh", "rect:0,1,0,1:8x8:quad"}, exitBadInput, "need simplex cells"},
+		{[]string{"solve", "adr", "--mesh", "span:0,1,0,1:8x8:quad"}, exitBadInput, "need simplex cells"},
 		{[]string{"solve", "adr", "--out", "u.txt"}, exitBadInput, "unknown file type"},
 		{[]string{"derive", syn}, exitBadInput, "syntax.fw:4:34: expected an expression after \"+\""},
 		{[]string{"derive", bad}, exitBadInput, "bad.fw:4:22: unknown identifier \"kapa\"\n    equation for c: -div(kapa*grad(c)) = 1\n                         ^~~~"},

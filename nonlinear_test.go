@@ -116,7 +116,7 @@ func TestBratu(t *testing.T) {
 			exact := exactOf(t, ml, bratuExactSrc(lambda))
 			var l2s []float64
 			for _, n := range []int{8, 16, 32} {
-				msh, err := mesh.Load(fmt.Sprintf("interval:0,1:%d", n))
+				msh, err := mesh.Load(fmt.Sprintf("span:0,1:%d", n))
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -222,7 +222,7 @@ func TestBurgers(t *testing.T) {
 		for _, nu := range []float64{1.0 / 100, 1.0 / 1000} {
 			var l2s []float64
 			for _, n := range []int{32, 256} {
-				msh, err := mesh.Load(fmt.Sprintf("interval:0,1:%d", n))
+				msh, err := mesh.Load(fmt.Sprintf("span:0,1:%d", n))
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -456,7 +456,7 @@ func TestCavityNewtonRe100(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	msh, err := mesh.Load("rect:0,1,0,1:64x64:tri")
+	msh, err := mesh.Load("span:0,1,0,1:64x64:tri")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -500,7 +500,7 @@ func TestNewtonAndPicardAgree(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	msh, err := mesh.Load("rect:0,1,0,1:16x16:tri")
+	msh, err := mesh.Load("span:0,1,0,1:16x16:tri")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -552,7 +552,7 @@ func TestJacobianOfEveryModel(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		spec := map[int]string{1: "interval:0,1:12", 2: "rect:0,1,0,1:3x3:tri"}[m.Dim]
+		spec := map[int]string{1: "span:0,1:12", 2: "span:0,1,0,1:3x3:tri"}[m.Dim]
 		msh, err := mesh.Load(spec)
 		if err != nil {
 			t.Fatal(err)
@@ -603,7 +603,7 @@ func TestNonlinearCompiledMatchesInterpreted(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		msh, _, err := buildMesh(m, map[int]string{1: "interval:0,1:8", 2: "rect:0,1,0,1:4x4:tri"}[m.Dim])
+		msh, _, err := buildMesh(m, map[int]string{1: "span:0,1:8", 2: "span:0,1,0,1:4x4:tri"}[m.Dim])
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -699,7 +699,7 @@ func benchCavity(b *testing.B, re float64, n int) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	msh, err := mesh.Load(fmt.Sprintf("rect:0,1,0,1:%dx%d:tri", n, n))
+	msh, err := mesh.Load(fmt.Sprintf("span:0,1,0,1:%dx%d:tri", n, n))
 	if err != nil {
 		b.Fatal(err)
 	}

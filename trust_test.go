@@ -111,10 +111,10 @@ func TestNoPanicNoHang(t *testing.T) {
 	for _, args := range [][]string{
 		{"derive", deep},
 		{"derive", powers},
-		{"solve", "adr", "--mesh", "rect:-1e308,1e308,0,1:4x4:tri"},
-		{"solve", "adr", "--mesh", "rect:0,1e-320,0,1:4x4:tri"},
-		{"solve", "adr", "--mesh", "rect:0,1,0,1:90000x90000:tri"},
-		{"solve", "adr", "--mesh", "interval:0,1:64:graded=1e9"},
+		{"solve", "adr", "--mesh", "span:-1e308,1e308,0,1:4x4:tri"},
+		{"solve", "adr", "--mesh", "span:0,1e-320,0,1:4x4:tri"},
+		{"solve", "adr", "--mesh", "span:0,1,0,1:90000x90000:tri"},
+		{"solve", "adr", "--mesh", "span:0,1:64:graded=1e9"},
 		{"derive", os.DevNull},
 	} {
 		st, _, errs := runCmd(args...)
@@ -143,7 +143,7 @@ func TestNothingDestroyed(t *testing.T) {
 	userSUPG := filepath.Join(dir, "c_supg.png")
 	os.WriteFile(userSUPG, []byte("a user's file"), 0o644)
 	mesh := filepath.Join(dir, "square.vtu")
-	if st, _, errs := runCmd("solve", "adr", "--mesh", "rect:0,1,0,1:4x4:tri", "--out", mesh, "--quiet"); st != exitOK {
+	if st, _, errs := runCmd("solve", "adr", "--mesh", "span:0,1,0,1:4x4:tri", "--out", mesh, "--quiet"); st != exitOK {
 		t.Fatalf("writing a mesh-like file: %d %s", st, errs)
 	}
 	// A target that cannot be read: a directory in its place (a file with
@@ -187,7 +187,7 @@ func TestNothingDestroyed(t *testing.T) {
 		args  []string
 		wrote string
 	}{
-		{[]string{"solve", "stokes", "--mesh", "box:0,1,0,1,0,1:2x2x2:tet", "--out", filepath.Join(dir, "s.vtu"), "--plot", filepath.Join(dir, "s.png")}, filepath.Join(dir, "s.vtu")},
+		{[]string{"solve", "stokes", "--mesh", "span:0,1,0,1,0,1:2x2x2:tet", "--out", filepath.Join(dir, "s.vtu"), "--plot", filepath.Join(dir, "s.png")}, filepath.Join(dir, "s.vtu")},
 		{[]string{"solve", "adr", "--out", filepath.Join(dir, "missing", "c.vtu")}, filepath.Join(dir, "missing")},
 		{[]string{"verify", writeModel(t, strings.Replace(string(src), "stabilise galerkin, supg, gls, vms", "stabilise supg", 1)), "--method", "supg", "--levels", "2", "--source", "0", "--plot", filepath.Join(dir, "conv.png"), "--quiet"}, filepath.Join(dir, "conv.png")},
 	} {

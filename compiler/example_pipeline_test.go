@@ -39,7 +39,7 @@ at all: u = 0
 		fmt.Println(err)
 		return
 	}
-	a, err := problem.Assemble(form, mesh.Interval(0, 1, 4, 1), problem.Options{})
+	a, err := problem.Assemble(form, mesh.Span1(0, 1, 4, 1), problem.Options{})
 	if err != nil {
 		fmt.Println(err)
 		return

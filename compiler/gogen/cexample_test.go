@@ -36,7 +36,7 @@ func cExampleFiles(t *testing.T) (h, src []byte) {
 // with the README's stated result: the largest nodal errors against the
 // manufactured solution sin(πx) sin(πy), which `formwright solve` reports
 // for the same meshes through the interpreted kernels, the Go assembler
-// and a direct solver (an independent path; rect:0,1,0,1:NxN:tri has the
+// and a direct solver (an independent path; span:0,1,0,1:NxN:tri has the
 // same triangles), to 0.1 %, the rounding of the stated values; and the
 // error ratio between successive meshes, 4 within 5 % for the O(h²)
 // nodal error of P1 elements on these uniform meshes (common practice,

@@ -631,7 +631,7 @@ func (w *goWriter) tables(kf *kernelFile) ast.Decl {
 
 func cellIdent(c cell.Type) string {
 	switch c {
-	case cell.Interval:
+	case cell.Segment:
 		return "Interval"
 	case cell.Triangle:
 		return "Triangle"

@@ -62,7 +62,7 @@ func (e Element) String() string {
 func (e Element) CellNoun(dim int) string {
 	switch {
 	case dim == 1:
-		return "interval"
+		return "segment"
 	case e.Family == Simplicial:
 		return "simplex"
 	}

@@ -40,7 +40,7 @@ func (p1Laplace) Cell(in *kernel.CellInput, A, b []float64) {
 }
 
 func setup(t testing.TB, nx int) (*mesh.Mesh, *Assembler) {
-	m := mesh.Rectangle(0, 1, 0, 1, nx, nx, mesh.DiagonalUp)
+	m := mesh.Span2(0, 1, 0, 1, nx, nx, mesh.DiagonalUp)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "u", Element: element.MustLagrange(cell.Triangle, 1), Components: 1}})
 	if err != nil {
 		t.Fatal(err)
@@ -108,7 +108,7 @@ func TestPerCellPathDoesNotAllocate(t *testing.T) {
 }
 
 func TestLayoutMismatch(t *testing.T) {
-	m := mesh.Rectangle(0, 1, 0, 1, 2, 2, mesh.Quads)
+	m := mesh.Span2(0, 1, 0, 1, 2, 2, mesh.Quads)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "u", Element: element.MustLagrange(cell.Quadrilateral, 1), Components: 1}})
 	if err != nil {
 		t.Fatal(err)

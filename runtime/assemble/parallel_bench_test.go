@@ -95,7 +95,7 @@ func (handSUPG) Cell(in *kernel.CellInput, A, b []float64) {
 // benchHand assembles handSUPG on a P1 mesh of nodes×nodes vertices with
 // the given number of workers and reports ns/cell.
 func benchHand(b *testing.B, nodes, workers int) {
-	m := mesh.Rectangle(0, 1, 0, 1, nodes-1, nodes-1, mesh.DiagonalUp)
+	m := mesh.Span2(0, 1, 0, 1, nodes-1, nodes-1, mesh.DiagonalUp)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "c", Element: handLayout.Fields[0].Element, Components: 1}})
 	if err != nil {
 		b.Fatal(err)
@@ -213,7 +213,7 @@ func spin(steps, workers int) float64 {
 //
 //	go test -run XXX -bench AssembleScaling -benchtime 10x -count 3 ./runtime/assemble/
 func benchScaling(b *testing.B, nodes int) {
-	m := mesh.Rectangle(0, 1, 0, 1, nodes-1, nodes-1, mesh.DiagonalUp)
+	m := mesh.Span2(0, 1, 0, 1, nodes-1, nodes-1, mesh.DiagonalUp)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "c", Element: handLayout.Fields[0].Element, Components: 1}})
 	if err != nil {
 		b.Fatal(err)

@@ -76,7 +76,7 @@ type problem struct {
 }
 
 func newProblem(tb testing.TB, nodes int, pattern mesh.Pattern) *problem {
-	m := mesh.Rectangle(0, 1, 0, 1, nodes-1, nodes-1, pattern)
+	m := mesh.Span2(0, 1, 0, 1, nodes-1, nodes-1, pattern)
 	form := supgForm()
 	lay, err := kernel.LayoutFor(form, m.Cell)
 	if err != nil {
@@ -127,7 +127,7 @@ func bits(v []float64) []byte {
 // assembler adds every entry's contributions in cell order; see
 // Assembler.Assemble). Crossed pattern: vertices of degree 4 and 8.
 func TestAssembleBitIdenticalAcrossWorkers(t *testing.T) {
-	for _, pat := range []mesh.Pattern{mesh.DiagonalUp, mesh.Crossed} {
+	for _, pat := range []mesh.Pattern{mesh.DiagonalUp, mesh.Quartered} {
 		p := newProblem(t, 61, pat)
 		Aref, bref := p.a.NewMatrix(), make([]float64, p.a.Dofs.NumDofs)
 		plainLoop(p, Aref, bref)
@@ -148,7 +148,7 @@ func TestAssembleBitIdenticalAcrossWorkers(t *testing.T) {
 // ∫_top n_y v is +1 (outward normal +y): facet assembly against the
 // geometry of the unit square.
 func TestAssembleFacets(t *testing.T) {
-	m := mesh.Rectangle(0, 1, 0, 1, 5, 7, mesh.Quads)
+	m := mesh.Span2(0, 1, 0, 1, 5, 7, mesh.Quads)
 	form := &ir.LoweredForm{
 		Dim: 2, Unknowns: []ir.LoweredUnknown{{Name: "c", Element: ir.Q1}},
 		Integrals: []ir.Integral{
@@ -231,7 +231,7 @@ func TestAssembleAllocationsIndependentOfCells(t *testing.T) {
 // must still equal the plain serial loop bit for bit with 1, 2 and 3
 // workers.
 func TestAssembleShuffledCellsBitIdentical(t *testing.T) {
-	base := mesh.Rectangle(0, 1, 0, 1, 70, 70, mesh.DiagonalUp)
+	base := mesh.Span2(0, 1, 0, 1, 70, 70, mesh.DiagonalUp)
 	nc, nv := base.NumCells(), base.Cell.NumVertices()
 	perm := rand.New(rand.NewPCG(1, 2)).Perm(nc)
 	m := &mesh.Mesh{Dim: base.Dim, Cell: base.Cell, Coords: base.Coords, Cells: make([]int32, len(base.Cells))}

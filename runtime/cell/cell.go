@@ -7,7 +7,7 @@ type Type uint8
 
 // The reference cells. Their geometry is described in the package doc.
 const (
-	Interval Type = iota + 1
+	Segment Type = iota + 1
 	Triangle
 	Tetrahedron
 	Quadrilateral
@@ -15,9 +15,9 @@ const (
 )
 
 // All lists every valid cell type, in declaration order.
-var All = []Type{Interval, Triangle, Tetrahedron, Quadrilateral, Hexahedron}
+var All = []Type{Segment, Triangle, Tetrahedron, Quadrilateral, Hexahedron}
 
-func (c Type) valid() bool { return c >= Interval && c <= Hexahedron }
+func (c Type) valid() bool { return c >= Segment && c <= Hexahedron }
 
 func (c Type) must() {
 	if !c.valid() {
@@ -28,8 +28,8 @@ func (c Type) must() {
 // String returns the lower-case name of the cell ("triangle", ...).
 func (c Type) String() string {
 	switch c {
-	case Interval:
-		return "interval"
+	case Segment:
+		return "segment"
 	case Triangle:
 		return "triangle"
 	case Tetrahedron:
@@ -58,7 +58,7 @@ func Parse(name string) (Type, error) {
 func Of(dim int, tensorProduct bool) Type {
 	switch {
 	case dim == 1:
-		return Interval
+		return Segment
 	case dim == 2 && tensorProduct:
 		return Quadrilateral
 	case dim == 2:
@@ -86,7 +86,7 @@ func (c Type) NumVertices() int {
 // IsSimplex reports whether the cell is an interval, triangle or tetrahedron.
 func (c Type) IsSimplex() bool {
 	c.must()
-	return c == Interval || c == Triangle || c == Tetrahedron
+	return c == Segment || c == Triangle || c == Tetrahedron
 }
 
 // Vertices returns the reference vertex coordinates, flat
@@ -115,12 +115,12 @@ func (c Type) NumEdges() int { return len(c.Edges()) }
 // NumFacets is len(c.Facets()).
 func (c Type) NumFacets() int { return len(c.Facets()) }
 
-// FacetType is the cell type of the facets of c. It panics for Interval,
+// FacetType is the cell type of the facets of c. It panics for Segment,
 // whose facets are points.
 func (c Type) FacetType() Type {
 	switch c {
 	case Triangle, Quadrilateral:
-		return Interval
+		return Segment
 	case Tetrahedron:
 		return Triangle
 	case Hexahedron:

@@ -6,7 +6,7 @@ package cell
 
 // Reference vertex coordinates, flat (vertex-major).
 var (
-	IntervalVertices      = []float64{0, 1}
+	SegmentVertices       = []float64{0, 1}
 	TriangleVertices      = []float64{0, 0, 1, 0, 0, 1}
 	TetrahedronVertices   = []float64{0, 0, 0, 1, 0, 0, 0, 1, 0, 0, 0, 1}
 	QuadrilateralVertices = []float64{-1, -1, 1, -1, 1, 1, -1, 1}
@@ -18,7 +18,7 @@ var (
 
 // Local edges as vertex pairs.
 var (
-	IntervalEdges = [][2]int{{0, 1}}
+	SegmentEdges = [][2]int{{0, 1}}
 	// Triangle edge i is opposite vertex i and equals facet i.
 	TriangleEdges    = [][2]int{{1, 2}, {2, 0}, {0, 1}}
 	TetrahedronEdges = [][2]int{{0, 1}, {0, 2}, {0, 3}, {1, 2}, {1, 3}, {2, 3}}
@@ -36,7 +36,7 @@ var (
 var (
 	// Facet i is opposite vertex i, as on every simplex: facet 0 is the
 	// point x=1 (normal +x), facet 1 the point x=0 (normal -x).
-	IntervalFacets = [][]int{{1}, {0}}
+	SegmentFacets = [][]int{{1}, {0}}
 	// Facet i is opposite vertex i; counter-clockwise traversal.
 	TriangleFacets = [][]int{{1, 2}, {2, 0}, {0, 1}}
 	// Facet i is opposite vertex i; (b-a)x(c-b) points outwards.
@@ -76,19 +76,19 @@ const (
 )
 
 var vtkLinear = [...]int{
-	Interval: VTKLine, Triangle: VTKTriangle, Tetrahedron: VTKTetra,
+	Segment: VTKLine, Triangle: VTKTriangle, Tetrahedron: VTKTetra,
 	Quadrilateral: VTKQuad, Hexahedron: VTKHexahedron,
 }
 
 var vtkQuadratic = [...]int{
-	Interval: VTKQuadraticEdge, Triangle: VTKQuadraticTriangle, Tetrahedron: VTKQuadraticTetra,
+	Segment: VTKQuadraticEdge, Triangle: VTKQuadraticTriangle, Tetrahedron: VTKQuadraticTetra,
 	Quadrilateral: VTKBiquadraticQuad, Hexahedron: VTKTriquadraticHexahedron,
 }
 
 // Permutations from formwright node order to VTK node order:
 // VTK node i = formwright node order[i].
 var vtkOrder1 = [...][]int{
-	Interval:      {0, 1},
+	Segment:       {0, 1},
 	Triangle:      {0, 1, 2},
 	Tetrahedron:   {0, 1, 2, 3},
 	Quadrilateral: {0, 1, 2, 3},
@@ -97,7 +97,7 @@ var vtkOrder1 = [...][]int{
 
 var vtkOrder2 = [...][]int{
 	// VTK_QUADRATIC_EDGE: v0, v1, midpoint.
-	Interval: {0, 1, 2},
+	Segment: {0, 1, 2},
 	// VTK_QUADRATIC_TRIANGLE: v0 v1 v2, mid(0,1), mid(1,2), mid(2,0);
 	// formwright edge nodes are 3=mid(1,2), 4=mid(2,0), 5=mid(0,1).
 	Triangle: {0, 1, 2, 5, 3, 4},
@@ -125,7 +125,7 @@ type info struct {
 }
 
 var cellInfo = [...]info{
-	Interval:      {1, IntervalVertices, IntervalEdges, IntervalFacets, 1},
+	Segment:       {1, SegmentVertices, SegmentEdges, SegmentFacets, 1},
 	Triangle:      {2, TriangleVertices, TriangleEdges, TriangleFacets, 0.5},
 	Tetrahedron:   {3, TetrahedronVertices, TetrahedronEdges, TetrahedronFacets, 1.0 / 6},
 	Quadrilateral: {2, QuadrilateralVertices, QuadrilateralEdges, QuadrilateralFacets, 4},

@@ -68,9 +68,9 @@ func TestFacetOrientation(t *testing.T) {
 
 // Simplex facet i is opposite vertex i.
 func TestSimplexFacetOppositeVertex(t *testing.T) {
-	for _, c := range []Type{Interval, Triangle, Tetrahedron} {
+	for _, c := range []Type{Segment, Triangle, Tetrahedron} {
 		for f, fv := range c.Facets() {
-			if c == Interval {
+			if c == Segment {
 				if fv[0] == f {
 					t.Errorf("interval facet %d is vertex %d; want opposite", f, fv[0])
 				}
@@ -89,7 +89,7 @@ func TestSimplexFacetOppositeVertex(t *testing.T) {
 // the distance of a cell edge (no diagonals).
 func TestCounts(t *testing.T) {
 	want := map[Type][4]int{ // dim, vertices, edges, facets
-		Interval: {1, 2, 1, 2}, Triangle: {2, 3, 3, 3}, Tetrahedron: {3, 4, 6, 4},
+		Segment: {1, 2, 1, 2}, Triangle: {2, 3, 3, 3}, Tetrahedron: {3, 4, 6, 4},
 		Quadrilateral: {2, 4, 4, 4}, Hexahedron: {3, 8, 12, 6},
 	}
 	for c, w := range want {
@@ -126,7 +126,7 @@ func TestCounts(t *testing.T) {
 // VTK codes from the VTK file-format standard (cell-type table).
 func TestVTKCodes(t *testing.T) {
 	want := map[Type][2]int{
-		Interval: {3, 21}, Triangle: {5, 22}, Tetrahedron: {10, 24}, Quadrilateral: {9, 28}, Hexahedron: {12, 29},
+		Segment: {3, 21}, Triangle: {5, 22}, Tetrahedron: {10, 24}, Quadrilateral: {9, 28}, Hexahedron: {12, 29},
 	}
 	for c, w := range want {
 		if VTKType(c, 1) != w[0] || VTKType(c, 2) != w[1] {
@@ -162,7 +162,7 @@ func TestVTKReadCodes(t *testing.T) {
 
 func TestMeasure(t *testing.T) {
 	// Unit simplex measure 1/d!; [-1,1]^d measure 2^d.
-	want := map[Type]float64{Interval: 1, Triangle: 0.5, Tetrahedron: 1.0 / 6, Quadrilateral: 4, Hexahedron: 8}
+	want := map[Type]float64{Segment: 1, Triangle: 0.5, Tetrahedron: 1.0 / 6, Quadrilateral: 4, Hexahedron: 8}
 	for c, w := range want {
 		if c.Measure() != w {
 			t.Errorf("%v measure %v want %v", c, c.Measure(), w)

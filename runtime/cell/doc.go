@@ -13,7 +13,7 @@
 // Simplices live on the unit simplex with vertex 0 at the origin and
 // vertex k at the unit vector e_k:
 //
-//	Interval     [0,1]:                 v0=0, v1=1
+//	Segment     [0,1]:                 v0=0, v1=1
 //	Triangle     {x,y >= 0, x+y <= 1}:  v0=(0,0), v1=(1,0), v2=(0,1)
 //	Tetrahedron  {x,y,z >= 0, x+y+z <= 1}: v0=0, v1=e1, v2=e2, v3=e3
 //
@@ -24,7 +24,7 @@
 //	Quadrilateral  v0=(-1,-1) v1=(1,-1) v2=(1,1) v3=(-1,1)
 //	Hexahedron     v0..v3 as the quadrilateral at z=-1, v4..v7 at z=+1
 //
-// Reference measures: interval 1, triangle 1/2, tetrahedron 1/6,
+// Reference measures: segment 1, triangle 1/2, tetrahedron 1/6,
 // quadrilateral 4, hexahedron 8 (see Measure).
 //
 // # Local facets and their orientation

@@ -35,7 +35,7 @@ func TestFacetMaps(t *testing.T) {
 		normal []float64
 		scale  float64
 	}{
-		{Interval, 0, []float64{1}, 1}, {Interval, 1, []float64{-1}, 1},
+		{Segment, 0, []float64{1}, 1}, {Segment, 1, []float64{-1}, 1},
 		{Triangle, 0, []float64{s2, s2}, math.Sqrt2}, {Triangle, 1, []float64{-1, 0}, 1}, {Triangle, 2, []float64{0, -1}, 1},
 		{Quadrilateral, 0, []float64{0, -1}, 2}, {Quadrilateral, 1, []float64{1, 0}, 2},
 		{Tetrahedron, 0, []float64{s3, s3, s3}, math.Sqrt(3)}, {Tetrahedron, 3, []float64{0, 0, -1}, 1},

@@ -60,7 +60,7 @@ func amgIterations(t testing.TB, preconds []string) {
 		}
 		var its []int
 		for _, n := range []int{128, 256, 512} {
-			msh := mustMesh(t, fmt.Sprintf("rect:0,1,0,1:%dx%d:tri", n, n))
+			msh := mustMesh(t, fmt.Sprintf("span:0,1,0,1:%dx%d:tri", n, n))
 			_, rep, err := Solve(lf, msh, k, Options{Ranks: 2, Solver: s, CacheDir: testCache})
 			if err != nil {
 				t.Fatalf("%s, %d²: %v", pre, n, err)

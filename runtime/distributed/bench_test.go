@@ -43,10 +43,10 @@ const benchChildEnv = "FORMWRIGHT_DISTRIBUTED_BENCH_CHILD"
 // to this package), the method and the mesh spec for n cells per side.
 var benchModels = map[string]struct{ file, method, mesh string }{
 	// 3D, diffusion only: n³ cubes of 6 tetrahedra, (n+1)³ unknowns.
-	"diffusion3d": {"internal/benchkernels/kiln_block.fw", "galerkin", "box:0,1,0,1,0,1:%[1]dx%[1]dx%[1]d:tet"},
+	"diffusion3d": {"internal/benchkernels/kiln_block.fw", "galerkin", "span:0,1,0,1,0,1:%[1]dx%[1]dx%[1]d:tet"},
 	// 2D, advection-dominated (κ = 10⁻⁶, SUPG): the crosswind plume
 	// example, n² squares of 2 triangles, (n+1)² unknowns.
-	"advection2d": {"../../examples/crosswind_plume/model.fw", "supg", "rect:0,1,0,1:%[1]dx%[1]d:tri"},
+	"advection2d": {"../../examples/crosswind_plume/model.fw", "supg", "span:0,1,0,1:%[1]dx%[1]d:tri"},
 }
 
 // childResult is one run of the benchmark.

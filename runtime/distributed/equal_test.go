@@ -71,10 +71,10 @@ func TestEqualsGoRuntime(t *testing.T) {
 		mesh   string
 		krylov string
 	}{
-		{"adr P1", "adr", "supg", "rect:0,1,0,1:24x24:tri", "gmres+amg"},
-		{"Q2 Robin", gradedSheetQ2, "supg", "rect:0,1,0,1:8x8:quad", "gmres+amg"},
-		{"Stokes P1/P1", "", "gls", "rect:0,1,0,1:12x12:tri", "gmres+amg-block"},
-		{"3D P2 tet", blockP2Tet, "galerkin", "box:0,1,0,1,0,1:4x4x4:tet", "cg+amg"},
+		{"adr P1", "adr", "supg", "span:0,1,0,1:24x24:tri", "gmres+amg"},
+		{"Q2 Robin", gradedSheetQ2, "supg", "span:0,1,0,1:8x8:quad", "gmres+amg"},
+		{"Stokes P1/P1", "", "gls", "span:0,1,0,1:12x12:tri", "gmres+amg-block"},
+		{"3D P2 tet", blockP2Tet, "galerkin", "span:0,1,0,1,0,1:4x4x4:tet", "cg+amg"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -126,7 +126,7 @@ func TestEqualsGoRuntime(t *testing.T) {
 func TestPicardEqualsGoRuntime(t *testing.T) {
 	needEngine(t)
 	lf, k := lower(t, model(t, "navier_stokes"), "supg")
-	msh := mustMesh(t, "rect:0,1,0,1:12x12:tri")
+	msh := mustMesh(t, "span:0,1,0,1:12x12:tri")
 	ref, err := problem.Solve(lf, msh, problem.Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -160,8 +160,8 @@ func TestPicardEqualsGoRuntime(t *testing.T) {
 func TestNewtonEqualsGoRuntime(t *testing.T) {
 	needEngine(t)
 	for _, c := range []struct{ model, method, mesh string }{
-		{"bratu", "galerkin", "interval:0,1:32"},
-		{"navier_stokes_nonlinear", "supg", "rect:0,1,0,1:12x12:tri"},
+		{"bratu", "galerkin", "span:0,1:32"},
+		{"navier_stokes_nonlinear", "supg", "span:0,1,0,1:12x12:tri"},
 	} {
 		t.Run(c.model, func(t *testing.T) {
 			lf, k := lower(t, model(t, c.model), c.method)

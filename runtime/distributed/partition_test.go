@@ -65,7 +65,7 @@ func TestSelectNth(t *testing.T) {
 // cells (the pattern the Go runtime assembles into), split by the
 // owner's column range.
 func TestPartition(t *testing.T) {
-	m := mustMesh(t, "rect:0,2,0,1:14x9:tri")
+	m := mustMesh(t, "span:0,2,0,1:14x9:tri")
 	p2, p1 := element.MustLagrange(m.Cell, 2), element.MustLagrange(m.Cell, 1)
 	dm, err := dof.New(m.Cell, m.Coords, m.Cells, []dof.FieldSpec{{Name: "vel", Element: p2, Components: 2}, {Name: "p", Element: p1, Components: 1}})
 	if err != nil {

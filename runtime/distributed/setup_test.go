@@ -31,7 +31,7 @@ func TestMissingTools(t *testing.T) {
 		t.Errorf("message %q does not name what is missing and %q", err, InstallCommand)
 	}
 	lf, k := lower(t, model(t, "adr"), "supg")
-	if _, _, err := Solve(lf, mustMesh(t, "rect:0,1,0,1:4x4:tri"), k, Options{}); !errors.As(err, &se) {
+	if _, _, err := Solve(lf, mustMesh(t, "span:0,1,0,1:4x4:tri"), k, Options{}); !errors.As(err, &se) {
 		t.Errorf("Solve with an empty PATH: %v, want a *SetupError", err)
 	}
 }
@@ -43,7 +43,7 @@ func TestBuildError(t *testing.T) {
 	lf, k := lower(t, model(t, "adr"), "supg")
 	k.Source = append(k.Source, []byte("\nthis is not C;\n")...)
 	cache := t.TempDir()
-	_, _, err := Solve(lf, mustMesh(t, "rect:0,1,0,1:4x4:tri"), k, Options{CacheDir: cache})
+	_, _, err := Solve(lf, mustMesh(t, "span:0,1,0,1:4x4:tri"), k, Options{CacheDir: cache})
 	var be *BuildError
 	if !errors.As(err, &be) {
 		t.Fatalf("got %v, want a *BuildError", err)
@@ -65,7 +65,7 @@ func TestRunError(t *testing.T) {
 	tmp := t.TempDir()
 	t.Setenv("TMPDIR", tmp)
 	lf, k := lower(t, model(t, "adr"), "supg")
-	msh := mustMesh(t, "rect:0,1,0,1:16x16:tri")
+	msh := mustMesh(t, "span:0,1,0,1:16x16:tri")
 	_, _, err := Solve(lf, msh, k, Options{Ranks: 2, Solver: Solver{Method: MethodGMRES}, PETScOptions: []string{"-pc_type", "no_such_preconditioner"}, CacheDir: testCache})
 	var re *RunError
 	if !errors.As(err, &re) || !strings.Contains(re.Stderr, "no_such_preconditioner") {

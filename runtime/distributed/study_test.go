@@ -37,7 +37,7 @@ func TestStudyOrders(t *testing.T) {
 				Methods: []study.Method{{Name: c.method, Form: lf}},
 				Mesh: func(l int) (study.Level, error) {
 					n := c.base << l
-					msh, err := mesh.Load(fmt.Sprintf("rect:0,1,0,1:%dx%d:tri", n, n))
+					msh, err := mesh.Load(fmt.Sprintf("span:0,1,0,1:%dx%d:tri", n, n))
 					return study.Level{Mesh: msh, N: n, H: 1 / float64(n)}, err
 				}}
 			for i, u := range m.Unknowns {

@@ -93,12 +93,12 @@ func TestP2Q2NodesAreTheRefinedLattice(t *testing.T) {
 		m *mesh.Mesh
 		n []int
 	}{
-		{mesh.Interval(0, 5, 5, 1), []int{5}},
-		{mesh.Rectangle(0, 4, 0, 3, 4, 3, mesh.DiagonalUp), []int{4, 3}},
-		{mesh.Rectangle(0, 4, 0, 3, 4, 3, mesh.DiagonalDown), []int{4, 3}},
-		{mesh.Rectangle(0, 4, 0, 3, 4, 3, mesh.Quads), []int{4, 3}},
-		{mesh.Box(0, 3, 0, 2, 0, 2, 3, 2, 2, mesh.Kuhn), []int{3, 2, 2}},
-		{mesh.Box(0, 3, 0, 2, 0, 2, 3, 2, 2, mesh.Hexes), []int{3, 2, 2}},
+		{mesh.Span1(0, 5, 5, 1), []int{5}},
+		{mesh.Span2(0, 4, 0, 3, 4, 3, mesh.DiagonalUp), []int{4, 3}},
+		{mesh.Span2(0, 4, 0, 3, 4, 3, mesh.DiagonalDown), []int{4, 3}},
+		{mesh.Span2(0, 4, 0, 3, 4, 3, mesh.Quads), []int{4, 3}},
+		{mesh.Span3(0, 3, 0, 2, 0, 2, 3, 2, 2, mesh.Kuhn), []int{3, 2, 2}},
+		{mesh.Span3(0, 3, 0, 2, 0, 2, 3, 2, 2, mesh.Hexes), []int{3, 2, 2}},
 	}
 	for _, tc := range cases {
 		dm, err := New(tc.m.Cell, tc.m.Coords, tc.m.Cells, []FieldSpec{scalar("u", tc.m.Cell, 2)})
@@ -123,7 +123,7 @@ func TestP2Q2NodesAreTheRefinedLattice(t *testing.T) {
 // formula for a triangulated disc E = V + F − 1 with F = 4·nx·ny.
 func TestCrossedEdgeCountEuler(t *testing.T) {
 	nx, ny := 3, 5
-	m := mesh.Rectangle(0, 1, 0, 1, nx, ny, mesh.Crossed)
+	m := mesh.Span2(0, 1, 0, 1, nx, ny, mesh.Quartered)
 	dm, err := New(m.Cell, m.Coords, m.Cells, []FieldSpec{scalar("u", m.Cell, 2)})
 	if err != nil {
 		t.Fatal(err)
@@ -139,7 +139,7 @@ func TestCrossedEdgeCountEuler(t *testing.T) {
 
 func TestMixedOrderAndBoundaries(t *testing.T) {
 	nx, ny := 4, 3
-	m := mesh.Rectangle(0, 4, 0, 3, nx, ny, mesh.DiagonalUp)
+	m := mesh.Span2(0, 4, 0, 3, nx, ny, mesh.DiagonalUp)
 	specs := []FieldSpec{
 		{Name: "vel", Element: element.MustLagrange(cell.Triangle, 2), Components: 2},
 		scalar("p", cell.Triangle, 1),
@@ -198,7 +198,7 @@ func TestMixedOrderAndBoundaries(t *testing.T) {
 }
 
 func TestNewErrors(t *testing.T) {
-	m := mesh.Rectangle(0, 1, 0, 1, 2, 2, mesh.Quads)
+	m := mesh.Span2(0, 1, 0, 1, 2, 2, mesh.Quads)
 	if _, err := New(m.Cell, m.Coords, m.Cells, []FieldSpec{scalar("u", cell.Triangle, 1)}); err == nil {
 		t.Error("P1 triangle element on a quad mesh accepted")
 	}
@@ -210,7 +210,7 @@ func TestNewErrors(t *testing.T) {
 }
 
 func BenchmarkNewP2(b *testing.B) {
-	m := mesh.Rectangle(0, 1, 0, 1, 500, 500, mesh.DiagonalUp)
+	m := mesh.Span2(0, 1, 0, 1, 500, 500, mesh.DiagonalUp)
 	specs := []FieldSpec{scalar("u", cell.Triangle, 2)}
 	for b.Loop() {
 		if _, err := New(m.Cell, m.Coords, m.Cells, specs); err != nil {

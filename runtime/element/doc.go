@@ -1,5 +1,5 @@
 // Package element implements Lagrange finite elements on the reference
-// cells of runtime/cell — P1 and P2 on intervals, triangles and tetrahedra,
+// cells of runtime/cell — P1 and P2 on segments, triangles and tetrahedra,
 // Q1 and Q2 on quadrilaterals and hexahedra — their tabulation at
 // quadrature points, the isoparametric map to a physical cell with its
 // Jacobian, physical gradients and second derivatives and the element

@@ -49,7 +49,7 @@ func randomPoint(rng *rand.Rand, c cell.Type) []float64 {
 // Expected node counts: dim P_k = C(k+d, d), dim Q_k = (k+1)^d (Ciarlet 1978, ch. 2).
 func TestNodeCounts(t *testing.T) {
 	want := map[cell.Type][2]int{
-		cell.Interval: {2, 3}, cell.Triangle: {3, 6}, cell.Tetrahedron: {4, 10},
+		cell.Segment: {2, 3}, cell.Triangle: {3, 6}, cell.Tetrahedron: {4, 10},
 		cell.Quadrilateral: {4, 9}, cell.Hexahedron: {8, 27},
 	}
 	for _, e := range allElements(t) {
@@ -287,7 +287,7 @@ func TestDerivativesFiniteDifferences(t *testing.T) {
 // permutations.
 func TestVTKOrder(t *testing.T) {
 	vtk := map[cell.Type][]float64{
-		cell.Interval: {0, 1, 0.5},
+		cell.Segment:  {0, 1, 0.5},
 		cell.Triangle: {0, 0, 1, 0, 0, 1, .5, 0, .5, .5, 0, .5},
 		cell.Tetrahedron: {0, 0, 0, 1, 0, 0, 0, 1, 0, 0, 0, 1,
 			.5, 0, 0, .5, .5, 0, 0, .5, 0, 0, 0, .5, .5, 0, .5, 0, .5, .5},

@@ -45,7 +45,7 @@ func TestDivergenceTheorem(t *testing.T) {
 		coords []float64
 		f      fieldFn
 	}{
-		{"interval P2", MustLagrange(cell.Interval, 2), []float64{0.5, 2, 1.1}, f1},
+		{"interval P2", MustLagrange(cell.Segment, 2), []float64{0.5, 2, 1.1}, f1},
 		{"curved P2 triangle", p2, tri, f2},
 		{"curved Q2 quadrilateral", q2, quad, f2},
 		{"curved P2 tetrahedron", p2t, tet, f3},
@@ -106,7 +106,7 @@ func TestFacetAffineTriangle(t *testing.T) {
 		{0, 2.5, [2]float64{0.8, 0.6}},
 		{2, math.Sqrt(5), [2]float64{1 / math.Sqrt(5), -2 / math.Sqrt(5)}},
 	} {
-		ft := p1.TabulateFacet(p1, tc.f, quadrature.For(cell.Interval, 1))
+		ft := p1.TabulateFacet(p1, tc.f, quadrature.For(cell.Segment, 1))
 		pg := ft.NewPointGeometry()
 		l := 0.0
 		for q := 0; q < ft.NumPoints(); q++ {

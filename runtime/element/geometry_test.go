@@ -304,7 +304,7 @@ func TestIntegrateOne(t *testing.T) {
 		deg    int
 		want   float64
 	}{
-		{"interval", MustLagrange(cell.Interval, 1), MustLagrange(cell.Interval, 1), []float64{-1, 2.5}, 1, 3.5},
+		{"interval", MustLagrange(cell.Segment, 1), MustLagrange(cell.Segment, 1), []float64{-1, 2.5}, 1, 3.5},
 		{"curved P2 triangle", p2, p2, curved, 2, 0.5 + 4*delta/3},
 		{"trapezoid Q1", q1, q1, trap, 2, 6},
 		{"trapezoid Q2 field, Q1 map", MustLagrange(cell.Quadrilateral, 2), q1, trap, 2, 6},

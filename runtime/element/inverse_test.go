@@ -15,7 +15,7 @@ import (
 // Linear simplices and Q1 cells (a + bx + cy + dxy is harmonic) give 0.
 func TestInverseEstimate(t *testing.T) {
 	want := map[cell.Type][2]float64{
-		cell.Interval:      {0, 12},
+		cell.Segment:       {0, 12},
 		cell.Triangle:      {0, 96},
 		cell.Tetrahedron:   {0, 240},
 		cell.Quadrilateral: {0, 48},

@@ -57,10 +57,10 @@ func TestP1IntervalTextbook(t *testing.T) {
 	form := scalarForm(1, ir.P1, []ir.Term{
 		term(flt(k), fd(uField, 0, 1), fd(vField, 0, 1)),
 	}, nil)
-	A, _, _ := elementMatrix(t, form, cell.Interval, []float64{x0, x0 + h})
+	A, _, _ := elementMatrix(t, form, cell.Segment, []float64{x0, x0 + h})
 	checkMatrix(t, "diffusion", A, []float64{k / h, -k / h, -k / h, k / h}, 1e-14*k/h)
 	form = scalarForm(1, ir.P1, []ir.Term{term(flt(a), fd(uField, 0, 1), fd(vField, 0))}, nil)
-	A, _, _ = elementMatrix(t, form, cell.Interval, []float64{x0, x0 + h})
+	A, _, _ = elementMatrix(t, form, cell.Segment, []float64{x0, x0 + h})
 	checkMatrix(t, "advection", A, []float64{-a / 2, a / 2, -a / 2, a / 2}, 1e-14*a)
 }
 
@@ -243,11 +243,11 @@ func TestKernelErrors(t *testing.T) {
 		t.Error("unknown element accepted")
 	}
 	bad := []ir.Term{term(num(1, 1), fd(uField, 0, 3), fd(vField, 0))}
-	if _, err := NewKernel(scalarForm(1, ir.P2, bad, nil), cell.Interval, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(1, ir.P2, bad, nil), cell.Segment, Options{}); err == nil {
 		t.Error("third derivative accepted")
 	}
 	swapped := []ir.Term{term(num(1, 1), fd(vField, 0), fd(uField, 0))}
-	if _, err := NewKernel(scalarForm(1, ir.P1, swapped, nil), cell.Interval, Options{}); err == nil {
+	if _, err := NewKernel(scalarForm(1, ir.P1, swapped, nil), cell.Segment, Options{}); err == nil {
 		t.Error("test function in the trial slot accepted")
 	}
 }

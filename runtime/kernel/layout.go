@@ -8,7 +8,7 @@ import (
 	"github.com/formwright/formwright/runtime/element"
 )
 
-// CellOf is the cell type of a lowered form: the interval in 1D, the
+// CellOf is the cell type of a lowered form: the segment in 1D, the
 // triangle or tetrahedron for P elements, the quadrilateral or hexahedron
 // for Q elements.
 func CellOf(form *ir.LoweredForm) cell.Type {

@@ -7,13 +7,13 @@ package mesh
 func DefaultSpec(dim int, tensorProduct bool) string {
 	switch {
 	case dim == 1:
-		return "interval:0,1:64"
+		return "span:0,1:64"
 	case dim == 2 && tensorProduct:
-		return "rect:0,1,0,1:48x48:quad"
+		return "span:0,1,0,1:48x48:quad"
 	case dim == 2:
-		return "rect:0,1,0,1:64x64:tri"
+		return "span:0,1,0,1:64x64:tri"
 	case tensorProduct:
-		return "box:0,1,0,1,0,1:10x10x10:hex"
+		return "span:0,1,0,1,0,1:10x10x10:hex"
 	}
-	return "box:0,1,0,1,0,1:10x10x10:tet"
+	return "span:0,1,0,1,0,1:10x10x10:tet"
 }

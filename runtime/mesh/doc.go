@@ -1,6 +1,7 @@
 // Package mesh holds conforming meshes of one reference-cell type
 // (runtime/cell), their named boundaries, structured generators for
-// intervals, rectangles and boxes, a command-line mesh spec, uniform
+// segments, rectangles and boxes (Span1, Span2, Span3), a command-line
+// mesh spec, uniform
 // refinement, and the reading and writing of meshes as VTK XML
 // unstructured-grid files (.vtu), so that meshes from any mesh generator
 // that writes VTK can be used.
@@ -21,15 +22,21 @@
 //
 // # Mesh spec
 //
-//	interval:0,1:64                 64 uniform cells
-//	interval:0,1:64:graded=1.05     h_{i+1} = 1.05 h_i
-//	rect:0,1,0,1:128x128:tri        diagonal lower-left to upper-right
-//	rect:0,1,0,1:128x128:tri-flip   the other diagonal
-//	rect:0,1,0,1:128x128:crossed    4 triangles per square around its centre
-//	rect:0,1,0,1:128x128:quad       quadrilaterals
-//	box:0,1,0,1,0,1:8x8x8:tet       6 Kuhn tetrahedra per cube
-//	box:0,1,0,1,0,1:8x8x8:hex       hexahedra
-//	path/to/domain.vtu              a mesh file (ReadVTUFile)
+// One generator word, span, followed by the bounds of the box (their
+// number gives the dimension), the cell counts and an option:
+//
+//	span:0,1:64                         64 uniform cells
+//	span:0,1:64:graded=1.05             h_{i+1} = 1.05 h_i
+//	span:0,1,0,1:128x128:tri            diagonal lower-left to upper-right
+//	span:0,1,0,1:128x128:tri-flip       the other diagonal
+//	span:0,1,0,1:128x128:quartered      4 triangles per square around its centre
+//	span:0,1,0,1:128x128:quad           quadrilaterals
+//	span:0,1,0,1,0,1:8x8x8:tet          6 Kuhn tetrahedra per cube
+//	span:0,1,0,1,0,1:8x8x8:hex          hexahedra
+//	path/to/domain.vtu                  a mesh file (ReadVTUFile)
+//
+// The spellings of earlier versions (interval:, rect:, box:, the pattern
+// crossed) are refused with the new spelling in the message.
 //
 // # Mesh files
 //

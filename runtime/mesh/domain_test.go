@@ -76,7 +76,7 @@ func near(a, b float64) bool { return math.Abs(a-b) < 1e-12 }
 // (h = 1/2). Parts: left (x = -1), right (x = 1), bottom (y = -1), top
 // (y = 1), and notch, the two edges that meet at the re-entrant corner.
 func lShape(p Pattern) *Mesh {
-	return carve(Rectangle(-1, 1, -1, 1, 4, 4, p),
+	return carve(Span2(-1, 1, -1, 1, 4, 4, p),
 		func(x []float64) bool { return !(x[0] > 0 && x[1] > 0) },
 		func(x []float64) string {
 			switch {
@@ -96,7 +96,7 @@ func lShape(p Pattern) *Mesh {
 // squareWithHole is (0,1)² without the square [1/3,2/3]², from a 6×6 grid
 // (h = 1/6). Parts: outer (the four sides of the unit square) and hole.
 func squareWithHole(p Pattern) *Mesh {
-	return carve(Rectangle(0, 1, 0, 1, 6, 6, p),
+	return carve(Span2(0, 1, 0, 1, 6, 6, p),
 		func(x []float64) bool { return !(x[0] > 1.0/3 && x[0] < 2.0/3 && x[1] > 1.0/3 && x[1] < 2.0/3) },
 		func(x []float64) string {
 			if near(x[0], 0) || near(x[0], 1) || near(x[1], 0) || near(x[1], 1) {

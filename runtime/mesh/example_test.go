@@ -8,7 +8,7 @@ import (
 )
 
 func ExampleLoad() {
-	m, err := mesh.Load("rect:0,1,0,1:2x2:tri")
+	m, err := mesh.Load("span:0,1,0,1:2x2:tri")
 	if err != nil {
 		panic(err)
 	}
@@ -26,18 +26,18 @@ func ExampleLoad() {
 }
 
 func ExampleParseSpec() {
-	_, err := mesh.ParseSpec("rect:0,1,0:4x4")
+	_, err := mesh.ParseSpec("span:0,1,0:4x4")
 	fmt.Println(err.(*mesh.SpecError).Detail())
 	// Output:
-	// col 6: want 4 comma-separated bounds, got 3
-	// 	rect:0,1,0:4x4
+	// col 6: want 2, 4 or 6 comma-separated bounds (x0,x1[,y0,y1[,z0,z1]]), got 3
+	// 	span:0,1,0:4x4
 	// 	     ^
 }
 
 // The interval [0,1] in two cells, its end points written as facet cells
 // (VTK_VERTEX, type 1) of the parts left (1) and right (2).
 func ExampleWriteVTU() {
-	m := mesh.Interval(0, 1, 2, 1)
+	m := mesh.Span1(0, 1, 2, 1)
 	if err := mesh.WriteVTU(os.Stdout, m, mesh.ASCII); err != nil {
 		panic(err)
 	}
@@ -88,7 +88,7 @@ func ExampleWriteVTU() {
 
 // Two uniform refinements of the unit square in two triangles.
 func ExampleRefine() {
-	m := mesh.Rectangle(0, 1, 0, 1, 1, 1, mesh.DiagonalUp)
+	m := mesh.Span2(0, 1, 0, 1, 1, 1, mesh.DiagonalUp)
 	for range 2 {
 		m = mesh.Refine(m)
 	}

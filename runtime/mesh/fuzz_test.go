@@ -58,7 +58,7 @@ func FuzzRead(f *testing.F) {
 // The spec parser returns a Spec or a *SpecError with a column inside
 // (or just past) the spec, never panics.
 func FuzzParseSpec(f *testing.F) {
-	for _, s := range []string{"rect:0,1,0,1:4x4:tri", "interval:0,1:8:graded=1.1", "box:0,1,0,1,0,1:2x2x2:hex", "rect::", "box:0,1", "a.vtu"} {
+	for _, s := range []string{"span:0,1,0,1:4x4:tri", "span:0,1:8:graded=1.1", "span:0,1,0,1,0,1:2x2x2:hex", "rect::", "span:0,1", "a.vtu"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
@@ -70,7 +70,7 @@ func FuzzParseSpec(f *testing.F) {
 			}
 			return
 		}
-		if sp.Kind != "" && (len(sp.N) == 0 || len(sp.Bounds) != 2*len(sp.N)) {
+		if sp.Dim != 0 && (len(sp.N) == 0 || len(sp.Bounds) != 2*len(sp.N)) {
 			t.Fatalf("inconsistent spec %+v", sp)
 		}
 	})

@@ -8,7 +8,7 @@ import (
 	"github.com/formwright/formwright/runtime/cell"
 )
 
-// Pattern chooses how Rectangle and Box fill each grid square or cube.
+// Pattern chooses how Span2 and Span3 fill each grid square or cube.
 type Pattern uint8
 
 const (
@@ -18,9 +18,9 @@ const (
 	// DiagonalDown splits each square along the diagonal from its
 	// upper-left to its lower-right corner. Spec name "tri-flip".
 	DiagonalDown
-	// Crossed splits each square into 4 triangles meeting at a new vertex
-	// at the square's centre. Spec name "crossed".
-	Crossed
+	// Quartered splits each square into 4 triangles meeting at a new vertex
+	// at the square's centre. Spec name "quartered".
+	Quartered
 	// Quads keeps each square as one quadrilateral. Spec name "quad".
 	Quads
 	// Kuhn splits each cube into the 6 tetrahedra of the Kuhn (Freudenthal)
@@ -39,7 +39,7 @@ const (
 )
 
 var patternNames = [...]string{
-	DiagonalUp: "tri", DiagonalDown: "tri-flip", Crossed: "crossed", Quads: "quad", Kuhn: "tet", Hexes: "hex",
+	DiagonalUp: "tri", DiagonalDown: "tri-flip", Quartered: "quartered", Quads: "quad", Kuhn: "tet", Hexes: "hex",
 }
 
 // String returns the spec name of the pattern.
@@ -57,7 +57,7 @@ func ParsePattern(name string) (Pattern, error) {
 			return Pattern(p), nil
 		}
 	}
-	return 0, fmt.Errorf("mesh: unknown pattern %q (want tri, tri-flip, crossed, quad, tet or hex)", name)
+	return 0, fmt.Errorf("mesh: unknown pattern %q (want tri, tri-flip, quartered, quad, tet or hex)", name)
 }
 
 // Side names. In 1D: left (x = x0), right (x = x1); 2D adds bottom
@@ -85,14 +85,14 @@ func grid(a, b float64, n int) []float64 {
 	return x
 }
 
-// Interval meshes [x0,x1] with n cells. grading is the ratio of
+// Span1 meshes [x0,x1] with n cells. grading is the ratio of
 // consecutive cell lengths h_{i+1}/h_i (1 = uniform); the first cell has
 // length h_0 = (x1-x0)(r-1)/(r^n-1) and vertex i sits at
 // x0 + h_0 (r^i - 1)/(r - 1). It panics ("mesh: ...") if n < 1, x1 <= x0 or
 // grading <= 0.
-func Interval(x0, x1 float64, n int, grading float64) *Mesh {
+func Span1(x0, x1 float64, n int, grading float64) *Mesh {
 	if n < 1 || !(x1 > x0) || !(grading > 0) || math.IsInf(grading, 0) {
-		panic(fmt.Sprintf("mesh: Interval(%v, %v, %d, %v): need n >= 1, x1 > x0, grading > 0", x0, x1, n, grading))
+		panic(fmt.Sprintf("mesh: Span1(%v, %v, %d, %v): need n >= 1, x1 > x0, grading > 0", x0, x1, n, grading))
 	}
 	var x []float64
 	if grading == 1 {
@@ -109,12 +109,12 @@ func Interval(x0, x1 float64, n int, grading float64) *Mesh {
 	for i := 0; i < n; i++ {
 		cells[2*i], cells[2*i+1] = int32(i), int32(i+1)
 	}
-	// Interval facet 1 is vertex 0 (x = x0), facet 0 is vertex 1 (cell package).
+	// Segment facet 1 is vertex 0 (x = x0), facet 0 is vertex 1 (cell package).
 	left := []FacetRef{{0, 1}}
 	right := []FacetRef{{int32(n - 1), 0}}
 	all := append(slices.Clone(left), right...)
 	slices.SortFunc(all, compareFacetRef)
-	return &Mesh{Dim: 1, Cell: cell.Interval, Coords: x, Cells: cells,
+	return &Mesh{Dim: 1, Cell: cell.Segment, Coords: x, Cells: cells,
 		Boundaries: map[string][]FacetRef{Left: left, Right: right, All: all}}
 }
 
@@ -126,14 +126,14 @@ func checkBox(name string, lo, hi []float64, n []int) {
 	}
 }
 
-// Rectangle meshes [x0,x1]×[y0,y1] with nx×ny squares, each filled by
-// pattern (DiagonalUp, DiagonalDown, Crossed or Quads). Grid vertex (i,j)
-// has index j*(nx+1)+i; the Crossed centre of square (i,j) has index
+// Span2 meshes [x0,x1]×[y0,y1] with nx×ny squares, each filled by
+// pattern (DiagonalUp, DiagonalDown, Quartered or Quads). Grid vertex (i,j)
+// has index j*(nx+1)+i; the Quartered centre of square (i,j) has index
 // (nx+1)(ny+1) + j*nx + i. Cells of square (i,j) are numbered
 // consecutively, squares row by row. Triangles are counter-clockwise. It
 // panics ("mesh: ...") on an empty box, a cell count < 1 or a 3D pattern.
-func Rectangle(x0, x1, y0, y1 float64, nx, ny int, pattern Pattern) *Mesh {
-	checkBox("Rectangle", []float64{x0, y0}, []float64{x1, y1}, []int{nx, ny})
+func Span2(x0, x1, y0, y1 float64, nx, ny int, pattern Pattern) *Mesh {
+	checkBox("Span2", []float64{x0, y0}, []float64{x1, y1}, []int{nx, ny})
 	xs, ys := grid(x0, x1, nx), grid(y0, y1, ny)
 	nGrid := (nx + 1) * (ny + 1)
 	nVert := nGrid
@@ -142,13 +142,13 @@ func Rectangle(x0, x1, y0, y1 float64, nx, ny int, pattern Pattern) *Mesh {
 	switch pattern {
 	case DiagonalUp, DiagonalDown:
 		ct, per = cell.Triangle, 2
-	case Crossed:
+	case Quartered:
 		ct, per = cell.Triangle, 4
 		nVert += nx * ny
 	case Quads:
 		ct, per = cell.Quadrilateral, 1
 	default:
-		panic(fmt.Sprintf("mesh: Rectangle with pattern %v", pattern))
+		panic(fmt.Sprintf("mesh: Span2 with pattern %v", pattern))
 	}
 	coords := make([]float64, 2*nVert)
 	for j := 0; j <= ny; j++ {
@@ -173,7 +173,7 @@ func Rectangle(x0, x1, y0, y1 float64, nx, ny int, pattern Pattern) *Mesh {
 				put(a, b, c, a, c, d)
 			case DiagonalDown:
 				put(a, b, d, b, c, d)
-			case Crossed:
+			case Quartered:
 				e := int32(nGrid + j*nx + i)
 				coords[2*e], coords[2*e+1] = 0.5*(xs[i]+xs[i+1]), 0.5*(ys[j]+ys[j+1])
 				put(a, b, e, b, c, e, c, d, e, d, a, e)
@@ -198,13 +198,13 @@ func Rectangle(x0, x1, y0, y1 float64, nx, ny int, pattern Pattern) *Mesh {
 	return m
 }
 
-// Box meshes [x0,x1]×[y0,y1]×[z0,z1] with nx×ny×nz cubes, each split by
+// Span3 meshes [x0,x1]×[y0,y1]×[z0,z1] with nx×ny×nz cubes, each split by
 // pattern Kuhn (6 tetrahedra) or kept as one hexahedron (Hexes). Vertex
 // (i,j,k) has index (k*(ny+1)+j)*(nx+1)+i; the cells of a cube are
 // consecutive, cubes ordered x fastest. It panics ("mesh: ...") on an
 // empty box, a cell count < 1 or a 2D pattern.
-func Box(x0, x1, y0, y1, z0, z1 float64, nx, ny, nz int, pattern Pattern) *Mesh {
-	checkBox("Box", []float64{x0, y0, z0}, []float64{x1, y1, z1}, []int{nx, ny, nz})
+func Span3(x0, x1, y0, y1, z0, z1 float64, nx, ny, nz int, pattern Pattern) *Mesh {
+	checkBox("Span3", []float64{x0, y0, z0}, []float64{x1, y1, z1}, []int{nx, ny, nz})
 	var ct cell.Type
 	var per int
 	switch pattern {
@@ -213,7 +213,7 @@ func Box(x0, x1, y0, y1, z0, z1 float64, nx, ny, nz int, pattern Pattern) *Mesh 
 	case Hexes:
 		ct, per = cell.Hexahedron, 1
 	default:
-		panic(fmt.Sprintf("mesh: Box with pattern %v", pattern))
+		panic(fmt.Sprintf("mesh: Span3 with pattern %v", pattern))
 	}
 	xs, ys, zs := grid(x0, x1, nx), grid(y0, y1, ny), grid(z0, z1, nz)
 	nVert := (nx + 1) * (ny + 1) * (nz + 1)

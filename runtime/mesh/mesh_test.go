@@ -156,16 +156,16 @@ func checkMesh(t *testing.T, name string, m *Mesh, lo, hi []float64) {
 }
 
 func TestGenerators(t *testing.T) {
-	checkMesh(t, "interval", Interval(-1, 2, 7, 1), []float64{-1}, []float64{2})
-	checkMesh(t, "graded interval", Interval(0, 1, 9, 1.3), []float64{0}, []float64{1})
+	checkMesh(t, "interval", Span1(-1, 2, 7, 1), []float64{-1}, []float64{2})
+	checkMesh(t, "graded interval", Span1(0, 1, 9, 1.3), []float64{0}, []float64{1})
 	lo2, hi2 := []float64{0.1, -2}, []float64{0.7, 1.3}
-	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Crossed, Quads} {
+	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Quartered, Quads} {
 		for _, n := range [][2]int{{1, 1}, {2, 3}, {5, 4}} {
-			m := Rectangle(lo2[0], hi2[0], lo2[1], hi2[1], n[0], n[1], p)
+			m := Span2(lo2[0], hi2[0], lo2[1], hi2[1], n[0], n[1], p)
 			checkMesh(t, "rect "+p.String(), m, lo2, hi2)
-			cellsPer := map[Pattern]int{DiagonalUp: 2, DiagonalDown: 2, Crossed: 4, Quads: 1}[p]
+			cellsPer := map[Pattern]int{DiagonalUp: 2, DiagonalDown: 2, Quartered: 4, Quads: 1}[p]
 			nv := (n[0] + 1) * (n[1] + 1)
-			if p == Crossed {
+			if p == Quartered {
 				nv += n[0] * n[1]
 			}
 			if m.NumCells() != cellsPer*n[0]*n[1] || m.NumVertices() != nv {
@@ -176,7 +176,7 @@ func TestGenerators(t *testing.T) {
 	lo3, hi3 := []float64{0, -1, 2}, []float64{1, 0.5, 2.25}
 	for _, p := range []Pattern{Kuhn, Hexes} {
 		for _, n := range [][3]int{{1, 1, 1}, {2, 3, 2}} {
-			m := Box(lo3[0], hi3[0], lo3[1], hi3[1], lo3[2], hi3[2], n[0], n[1], n[2], p)
+			m := Span3(lo3[0], hi3[0], lo3[1], hi3[1], lo3[2], hi3[2], n[0], n[1], n[2], p)
 			checkMesh(t, "box "+p.String(), m, lo3, hi3)
 			per := map[Pattern]int{Kuhn: 6, Hexes: 1}[p]
 			if m.NumCells() != per*n[0]*n[1]*n[2] || m.NumVertices() != (n[0]+1)*(n[1]+1)*(n[2]+1) {
@@ -189,8 +189,8 @@ func TestGenerators(t *testing.T) {
 // Diagonal direction of the two triangle patterns, and the Kuhn
 // tetrahedra all containing the cube's main diagonal.
 func TestPatternShapes(t *testing.T) {
-	up := Rectangle(0, 1, 0, 1, 1, 1, DiagonalUp)
-	down := Rectangle(0, 1, 0, 1, 1, 1, DiagonalDown)
+	up := Span2(0, 1, 0, 1, 1, 1, DiagonalUp)
+	down := Span2(0, 1, 0, 1, 1, 1, DiagonalDown)
 	hasEdge := func(m *Mesh, a, b int32) bool {
 		for c := 0; c < m.NumCells(); c++ {
 			cv := m.CellVertices(c)
@@ -207,7 +207,7 @@ func TestPatternShapes(t *testing.T) {
 	if !hasEdge(down, 1, 2) || hasEdge(down, 0, 3) {
 		t.Error("tri-flip: want the diagonal (1,0)-(0,1)")
 	}
-	k := Box(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn)
+	k := Span3(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn)
 	for c := 0; c < 6; c++ {
 		cv := k.CellVertices(c)
 		if !slices.Contains(cv, 0) || !slices.Contains(cv, 7) {
@@ -216,11 +216,11 @@ func TestPatternShapes(t *testing.T) {
 	}
 }
 
-// The crossed pattern's centre vertices sit at the square centres and are
+// The quartered pattern's centre vertices sit at the square centres and are
 // shared by exactly the 4 triangles of their square.
 func TestCrossedCentres(t *testing.T) {
 	nx, ny := 3, 2
-	m := Rectangle(0, 3, 0, 1, nx, ny, Crossed)
+	m := Span2(0, 3, 0, 1, nx, ny, Quartered)
 	base := (nx + 1) * (ny + 1)
 	count := make([]int, m.NumVertices())
 	for _, v := range m.Cells {
@@ -244,7 +244,7 @@ func TestCrossedCentres(t *testing.T) {
 // documented) and sum to the length.
 func TestGradedInterval(t *testing.T) {
 	r := 1.05
-	m := Interval(0, 2, 40, r)
+	m := Span1(0, 2, 40, r)
 	x := m.Coords
 	for i := 1; i+1 < len(x); i++ {
 		ratio := (x[i+1] - x[i]) / (x[i] - x[i-1])
@@ -269,7 +269,7 @@ func TestLargeRectangle(t *testing.T) {
 	}
 	var m *Mesh
 	start := time.Now()
-	allocs := testing.AllocsPerRun(1, func() { m = Rectangle(0, 1, 0, 1, 999, 999, DiagonalUp) })
+	allocs := testing.AllocsPerRun(1, func() { m = Span2(0, 1, 0, 1, 999, 999, DiagonalUp) })
 	el := time.Since(start) / 2 // AllocsPerRun runs the function twice
 	if m.NumVertices() != 1000*1000 || m.NumCells() != 2*999*999 {
 		t.Fatalf("counts %d %d", m.NumVertices(), m.NumCells())
@@ -290,7 +290,7 @@ var meshSink *Mesh
 
 func benchmarkRectangle(b *testing.B, n int) {
 	for b.Loop() {
-		meshSink = Rectangle(0, 1, 0, 1, n, n, DiagonalUp)
+		meshSink = Span2(0, 1, 0, 1, n, n, DiagonalUp)
 	}
 }
 
@@ -298,7 +298,7 @@ func BenchmarkRectangle100(b *testing.B) { benchmarkRectangle(b, 100) }
 func BenchmarkRectangle999(b *testing.B) { benchmarkRectangle(b, 999) }
 
 func TestCellTypes(t *testing.T) {
-	if Rectangle(0, 1, 0, 1, 1, 1, Quads).Cell != cell.Quadrilateral || Box(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn).Cell != cell.Tetrahedron {
+	if Span2(0, 1, 0, 1, 1, 1, Quads).Cell != cell.Quadrilateral || Span3(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn).Cell != cell.Tetrahedron {
 		t.Error("wrong cell types")
 	}
 }
@@ -307,7 +307,7 @@ func TestCellTypes(t *testing.T) {
 // swapped and a tetrahedron with two vertices swapped have negative
 // Jacobians (orientation reverses under a reflection).
 func TestCheckOrientation(t *testing.T) {
-	h := Box(0, 1, 0, 1, 0, 1, 2, 1, 1, Hexes)
+	h := Span3(0, 1, 0, 1, 0, 1, 2, 1, 1, Hexes)
 	cv := h.CellVertices(1)
 	for i := 0; i < 4; i++ {
 		cv[i], cv[i+4] = cv[i+4], cv[i]
@@ -316,7 +316,7 @@ func TestCheckOrientation(t *testing.T) {
 	if err := h.CheckOrientation(); !errors.As(err, &oe) || oe.Cell != 1 {
 		t.Errorf("hex: got %v, want OrientationError for cell 1", err)
 	}
-	k := Box(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn)
+	k := Span3(0, 1, 0, 1, 0, 1, 1, 1, 1, Kuhn)
 	cv = k.CellVertices(4)
 	cv[1], cv[2] = cv[2], cv[1]
 	if err := k.CheckOrientation(); !errors.As(err, &oe) || oe.Cell != 4 {

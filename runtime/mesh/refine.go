@@ -150,7 +150,7 @@ var refineRules [cell.Hexahedron + 1]refineRule
 var tetFlip = [4]int{2, 1, 0, 3}
 
 func init() {
-	refineRules[cell.Interval] = refineRule{nodes: [][]int{{0, 1}}, children: [][]int{{0, 2}, {2, 1}}}
+	refineRules[cell.Segment] = refineRule{nodes: [][]int{{0, 1}}, children: [][]int{{0, 2}, {2, 1}}}
 	refineRules[cell.Triangle] = refineRule{
 		nodes:    edgeSupports(cell.Triangle),
 		children: [][]int{{0, 5, 4}, {5, 1, 3}, {4, 3, 2}, {3, 4, 5}},

@@ -35,12 +35,12 @@ func refineCounts(m *Mesh) (cells, verts int) {
 			}
 		}
 	}
-	per := map[cell.Type]int{cell.Interval: 2, cell.Triangle: 4, cell.Quadrilateral: 4, cell.Tetrahedron: 8, cell.Hexahedron: 8}[m.Cell]
+	per := map[cell.Type]int{cell.Segment: 2, cell.Triangle: 4, cell.Quadrilateral: 4, cell.Tetrahedron: 8, cell.Hexahedron: 8}[m.Cell]
 	verts = m.NumVertices() + len(edges) + len(faces)
 	if !m.Cell.IsSimplex() {
 		verts += m.NumCells()
 	}
-	if m.Cell == cell.Interval {
+	if m.Cell == cell.Segment {
 		verts = m.NumVertices() + m.NumCells() // the interval's edge is the cell
 	}
 	return per * m.NumCells(), verts
@@ -102,7 +102,7 @@ func TestRefine(t *testing.T) {
 	// Distorted cells: a random perturbation of the interior vertices,
 	// small enough to keep every cell valid.
 	rng := rand.New(rand.NewPCG(1, 2))
-	for _, m := range []*Mesh{Rectangle(0, 1, 0, 1, 3, 3, Quads), Box(0, 1, 0, 1, 0, 1, 2, 2, 2, Hexes), Box(0, 1, 0, 1, 0, 1, 2, 2, 2, Kuhn)} {
+	for _, m := range []*Mesh{Span2(0, 1, 0, 1, 3, 3, Quads), Span3(0, 1, 0, 1, 0, 1, 2, 2, 2, Hexes), Span3(0, 1, 0, 1, 0, 1, 2, 2, 2, Kuhn)} {
 		for v := 0; v < m.NumVertices(); v++ {
 			x := m.Vertex(v)
 			for k := range x {
@@ -120,13 +120,13 @@ func TestRefine(t *testing.T) {
 	// (checkMesh: measure, conformity, Euler characteristic, sides).
 	lo, hi := []float64{0, -1, 2}, []float64{1, 0.5, 2.25}
 	for _, p := range []Pattern{Kuhn, Hexes} {
-		m := Refine(Refine(Box(lo[0], hi[0], lo[1], hi[1], lo[2], hi[2], 2, 1, 1, p)))
+		m := Refine(Refine(Span3(lo[0], hi[0], lo[1], hi[1], lo[2], hi[2], 2, 1, 1, p)))
 		checkMesh(t, "refined box "+p.String(), m, lo, hi)
 	}
-	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Crossed, Quads} {
-		checkMesh(t, "refined rect "+p.String(), Refine(Rectangle(0, 2, 0, 1, 2, 3, p)), []float64{0, 0}, []float64{2, 1})
+	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Quartered, Quads} {
+		checkMesh(t, "refined rect "+p.String(), Refine(Span2(0, 2, 0, 1, 2, 3, p)), []float64{0, 0}, []float64{2, 1})
 	}
-	checkMesh(t, "refined interval", Refine(Interval(-1, 2, 3, 1.2)), []float64{-1}, []float64{2})
+	checkMesh(t, "refined interval", Refine(Span1(-1, 2, 3, 1.2)), []float64{-1}, []float64{2})
 }
 
 // cellSet maps every cell to the sorted list of its vertex coordinates,
@@ -153,17 +153,17 @@ func cellSet(m *Mesh) map[string]int {
 // tetrahedra with two vertices swapped, which makes Bey's rule cut their
 // octahedra along another diagonal).
 func TestRefineStructured(t *testing.T) {
-	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Crossed, Quads} {
-		r := Refine(Rectangle(0, 1, 0, 2, 3, 2, p))
-		g := Rectangle(0, 1, 0, 2, 6, 4, p)
-		compareStructured(t, "rect "+p.String(), r, g, p != Crossed)
+	for _, p := range []Pattern{DiagonalUp, DiagonalDown, Quartered, Quads} {
+		r := Refine(Span2(0, 1, 0, 2, 3, 2, p))
+		g := Span2(0, 1, 0, 2, 6, 4, p)
+		compareStructured(t, "rect "+p.String(), r, g, p != Quartered)
 	}
 	for _, p := range []Pattern{Kuhn, Hexes} {
-		r := Refine(Box(0, 1, 0, 2, 0, 1, 2, 1, 1, p))
-		g := Box(0, 1, 0, 2, 0, 1, 4, 2, 2, p)
+		r := Refine(Span3(0, 1, 0, 2, 0, 1, 2, 1, 1, p))
+		g := Span3(0, 1, 0, 2, 0, 1, 4, 2, 2, p)
 		compareStructured(t, "box "+p.String(), r, g, p == Hexes)
 	}
-	compareStructured(t, "interval", Refine(Interval(0, 1, 5, 1)), Interval(0, 1, 10, 1), true)
+	compareStructured(t, "interval", Refine(Span1(0, 1, 5, 1)), Span1(0, 1, 10, 1), true)
 }
 
 func compareStructured(t *testing.T, name string, r, g *Mesh, sameCells bool) {
@@ -261,8 +261,8 @@ func benchmarkRefine(b *testing.B, m *Mesh) {
 }
 
 func BenchmarkRefineTriangles64(b *testing.B) {
-	benchmarkRefine(b, Rectangle(0, 1, 0, 1, 64, 64, DiagonalUp))
+	benchmarkRefine(b, Span2(0, 1, 0, 1, 64, 64, DiagonalUp))
 }
 func BenchmarkRefineTetrahedra16(b *testing.B) {
-	benchmarkRefine(b, Box(0, 1, 0, 1, 0, 1, 16, 16, 16, Kuhn))
+	benchmarkRefine(b, Span3(0, 1, 0, 1, 0, 1, 16, 16, 16, Kuhn))
 }

@@ -7,18 +7,20 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 )
 
 // Spec is a parsed mesh description for the command line; see ParseSpec.
 type Spec struct {
-	// Kind is "interval", "rect" or "box"; empty when Path is set.
-	Kind    string
+	// Dim is the dimension of a generated mesh (the number of bound
+	// pairs); 0 when Path is set.
+	Dim     int
 	Bounds  []float64 // x0,x1[,y0,y1[,z0,z1]]
 	N       []int     // cells per direction
-	Pattern Pattern   // rect and box
-	Grading float64   // interval; 1 = uniform
+	Pattern Pattern   // 2D and 3D
+	Grading float64   // 1D; 1 = uniform
 	// Path is the mesh file (.vtu) to read when the string is not a spec.
 	Path string
 }
@@ -41,26 +43,29 @@ func (e *SpecError) Detail() string {
 	return fmt.Sprintf("col %d: %s\n\t%s\n\t%s^", e.Col, e.Msg, e.Spec, strings.Repeat(" ", max(0, e.Col-1)))
 }
 
-var specKinds = map[string]struct {
-	dim      int
-	patterns []Pattern
-}{
-	"interval": {1, nil},
-	"rect":     {2, []Pattern{DiagonalUp, DiagonalDown, Crossed, Quads}},
-	"box":      {3, []Pattern{Kuhn, Hexes}},
-}
+// SpecWord is the generator word that starts a mesh spec.
+const SpecWord = "span"
+
+// patternsByDim are the cell patterns of a generated mesh, by dimension;
+// the first is the default.
+var patternsByDim = [4][]Pattern{2: {DiagonalUp, DiagonalDown, Quartered, Quads}, 3: {Kuhn, Hexes}}
+
+// retiredSpecWords are spellings of earlier versions, each with the
+// dimension it generated, so an old command line gets the new spelling.
+var retiredSpecWords = map[string]int{"interval": 1, "rect": 2, "box": 3}
 
 // ParseSpec parses a mesh spec:
 //
-//	interval:X0,X1:N[:graded=R]
-//	rect:X0,X1,Y0,Y1:NXxNY[:tri|tri-flip|crossed|quad]     (default tri)
-//	box:X0,X1,Y0,Y1,Z0,Z1:NXxNYxNZ[:tet|hex]               (default tet)
+//	span:X0,X1:N[:graded=R]                                   1D
+//	span:X0,X1,Y0,Y1:NXxNY[:tri|tri-flip|quartered|quad]      2D (default tri)
+//	span:X0,X1,Y0,Y1,Z0,Z1:NXxNYxNZ[:tet|hex]                 3D (default tet)
 //
-// Any other string ending in ".vtu" (any case) is taken as the path of a
-// mesh file (Spec.Path; see ReadVTU), unless it starts with a word
-// followed by ':' that names no kind and no file exists under that name,
-// which is reported as an unknown kind. Errors are *SpecError with the
-// column of the offending field.
+// The number of bound pairs gives the dimension. Any other string ending
+// in ".vtu" (any case) is taken as the path of a mesh file (Spec.Path;
+// see ReadVTU), unless it starts with a word followed by ':' and no file
+// exists under that name, which is reported as an unknown generator
+// (with the new spelling for the words of earlier versions). Errors are
+// *SpecError with the column of the offending field.
 func ParseSpec(s string) (Spec, error) {
 	fields := strings.Split(s, ":")
 	col := make([]int, len(fields)) // 1-based start column of each field
@@ -69,11 +74,13 @@ func ParseSpec(s string) (Spec, error) {
 		col[i] = c
 		c += len(f) + 1
 	}
-	kind, ok := specKinds[fields[0]]
-	if !ok {
+	if fields[0] != SpecWord {
 		if len(fields) > 1 && isWord(fields[0]) && len(fields[0]) > 1 {
 			if _, err := os.Stat(s); errors.Is(err, fs.ErrNotExist) {
-				return Spec{}, &SpecError{s, 1, fmt.Sprintf("unknown mesh kind %q (want interval, rect or box) and no file of that name", fields[0])}
+				if _, old := retiredSpecWords[fields[0]]; old {
+					return Spec{}, &SpecError{s, 1, fmt.Sprintf("%q is the spelling of an earlier version: write %s", fields[0], respell(fields))}
+				}
+				return Spec{}, &SpecError{s, 1, fmt.Sprintf("unknown mesh generator %q (want %s:BOUNDS:COUNTS) and no file of that name", fields[0], SpecWord)}
 			}
 		}
 		if s == "" {
@@ -91,17 +98,18 @@ func ParseSpec(s string) (Spec, error) {
 		}
 		return Spec{}, &SpecError{s, at, fmt.Sprintf(format, args...)}
 	}
-	sp := Spec{Kind: fields[0], Grading: 1}
-	if kind.patterns != nil {
-		sp.Pattern = kind.patterns[0]
-	}
+	sp := Spec{Grading: 1}
 	if len(fields) < 3 {
-		return fail(len(fields), "want %s:BOUNDS:COUNTS", fields[0])
+		return fail(len(fields), "want %s:BOUNDS:COUNTS", SpecWord)
 	}
 	// Bounds.
 	bs := strings.Split(fields[1], ",")
-	if len(bs) != 2*kind.dim {
-		return fail(1, "want %d comma-separated bounds, got %d", 2*kind.dim, len(bs))
+	if len(bs) != 2 && len(bs) != 4 && len(bs) != 6 {
+		return fail(1, "want 2, 4 or 6 comma-separated bounds (x0,x1[,y0,y1[,z0,z1]]), got %d", len(bs))
+	}
+	sp.Dim = len(bs) / 2
+	if ps := patternsByDim[sp.Dim]; ps != nil {
+		sp.Pattern = ps[0]
 	}
 	off := col[1]
 	for k, b := range bs {
@@ -120,8 +128,8 @@ func ParseSpec(s string) (Spec, error) {
 	}
 	// Counts.
 	ns := strings.Split(fields[2], "x")
-	if len(ns) != kind.dim {
-		return fail(2, "want %d cell counts separated by 'x', got %q", kind.dim, fields[2])
+	if len(ns) != sp.Dim {
+		return fail(2, "%d bound pairs need %d cell counts separated by 'x', got %q", sp.Dim, sp.Dim, fields[2])
 	}
 	off = col[2]
 	total := 1.0
@@ -137,8 +145,8 @@ func ParseSpec(s string) (Spec, error) {
 	if total*6 > float64(1<<31-1)/4 {
 		return fail(2, "too many cells (%g) for 32-bit cell and vertex indices", total)
 	}
-	if limit := CellLimit(); total*cellsPerBox[kind.dim] > float64(limit) {
-		return fail(2, "%g cells is more than this machine's memory can assemble and solve (at most %d; see mesh.CellLimit)", total*cellsPerBox[kind.dim], limit)
+	if limit := CellLimit(); total*cellsPerBox[sp.Dim] > float64(limit) {
+		return fail(2, "%g cells is more than this machine's memory can assemble and solve (at most %d; see mesh.CellLimit)", total*cellsPerBox[sp.Dim], limit)
 	}
 	for k, n := range sp.N {
 		lo, hi := sp.Bounds[2*k], sp.Bounds[2*k+1]
@@ -152,10 +160,10 @@ func ParseSpec(s string) (Spec, error) {
 	// Options.
 	for i := 3; i < len(fields); i++ {
 		f := fields[i]
-		if kind.dim == 1 {
+		if sp.Dim == 1 {
 			v, found := strings.CutPrefix(f, "graded=")
 			if !found {
-				return fail(i, "unknown interval option %q (want graded=R)", f)
+				return fail(i, "unknown 1D option %q (want graded=R)", f)
 			}
 			r, err := strconv.ParseFloat(v, 64)
 			if err != nil || !(r > 0) || r-r != 0 {
@@ -178,20 +186,17 @@ func ParseSpec(s string) (Spec, error) {
 		if i > 3 {
 			return fail(i, "unexpected field %q after the pattern", f)
 		}
-		p, err := ParsePattern(f)
-		ok := err == nil
-		if ok {
-			ok = false
-			for _, q := range kind.patterns {
-				ok = ok || q == p
-			}
+		if f == "crossed" && sp.Dim == 2 {
+			return fail(i, "pattern %q is the spelling of an earlier version: write quartered", f)
 		}
+		p, err := ParsePattern(f)
+		ok := err == nil && slices.Contains(patternsByDim[sp.Dim], p)
 		if !ok {
-			names := make([]string, len(kind.patterns))
-			for j, q := range kind.patterns {
+			names := make([]string, len(patternsByDim[sp.Dim]))
+			for j, q := range patternsByDim[sp.Dim] {
 				names[j] = q.String()
 			}
-			return fail(i, "unknown %s pattern %q (want %s)", sp.Kind, f, strings.Join(names, ", "))
+			return fail(i, "unknown %dD pattern %q (want %s)", sp.Dim, f, strings.Join(names, ", "))
 		}
 		sp.Pattern = p
 	}
@@ -211,17 +216,29 @@ func isWord(s string) bool {
 // ReadVTUFile.
 func (sp Spec) Build() (*Mesh, error) {
 	b, n := sp.Bounds, sp.N
-	switch sp.Kind {
-	case "":
+	switch sp.Dim {
+	case 0:
 		return ReadVTUFile(sp.Path)
-	case "interval":
-		return Interval(b[0], b[1], n[0], sp.Grading), nil
-	case "rect":
-		return Rectangle(b[0], b[1], b[2], b[3], n[0], n[1], sp.Pattern), nil
-	case "box":
-		return Box(b[0], b[1], b[2], b[3], b[4], b[5], n[0], n[1], n[2], sp.Pattern), nil
+	case 1:
+		return Span1(b[0], b[1], n[0], sp.Grading), nil
+	case 2:
+		return Span2(b[0], b[1], b[2], b[3], n[0], n[1], sp.Pattern), nil
+	case 3:
+		return Span3(b[0], b[1], b[2], b[3], b[4], b[5], n[0], n[1], n[2], sp.Pattern), nil
 	}
-	return nil, fmt.Errorf("mesh: unknown spec kind %q", sp.Kind)
+	return nil, fmt.Errorf("mesh: spec of dimension %d", sp.Dim)
+}
+
+// respell writes the fields of a spec in an earlier version's spelling
+// (interval:, rect:, box:; the pattern crossed) in the current one.
+func respell(fields []string) string {
+	out := append([]string{SpecWord}, fields[1:]...)
+	for i := 3; i < len(out); i++ {
+		if out[i] == "crossed" {
+			out[i] = "quartered"
+		}
+	}
+	return strings.Join(out, ":")
 }
 
 // Load parses s with ParseSpec and builds the mesh (generated or read).
@@ -234,7 +251,7 @@ func Load(s string) (*Mesh, error) {
 }
 
 // cellsPerBox is the most cells a generator makes per box of the grid
-// (4 triangles with the crossed pattern, 6 tetrahedra), by dimension.
+// (4 triangles with the quartered pattern, 6 tetrahedra), by dimension.
 var cellsPerBox = [4]float64{0, 1, 4, 6}
 
 func ulp(x float64) float64 { return math.Nextafter(x, math.Inf(1)) - x }

@@ -37,8 +37,8 @@ func (c *vtkCell) numVertices() int {
 
 var vtkCells = map[int]*vtkCell{
 	cell.VTKVertex:                 {"VTK_VERTEX", 0, 0, 1, nil},
-	cell.VTKLine:                   {"VTK_LINE", cell.Interval, 1, 2, nil},
-	cell.VTKQuadraticEdge:          {"VTK_QUADRATIC_EDGE", cell.Interval, 1, 3, nil},
+	cell.VTKLine:                   {"VTK_LINE", cell.Segment, 1, 2, nil},
+	cell.VTKQuadraticEdge:          {"VTK_QUADRATIC_EDGE", cell.Segment, 1, 3, nil},
 	cell.VTKTriangle:               {"VTK_TRIANGLE", cell.Triangle, 2, 3, nil},
 	cell.VTKQuadraticTriangle:      {"VTK_QUADRATIC_TRIANGLE", cell.Triangle, 2, 6, nil},
 	cell.VTKQuad:                   {"VTK_QUAD", cell.Quadrilateral, 2, 4, nil},
@@ -61,7 +61,7 @@ const maxCellNodes = 27
 // mesh of cell c.
 func facetVTKType(c cell.Type) int {
 	switch c {
-	case cell.Interval:
+	case cell.Segment:
 		return cell.VTKVertex
 	case cell.Triangle, cell.Quadrilateral:
 		return cell.VTKLine
@@ -80,7 +80,7 @@ func facetVTKType(c cell.Type) int {
 // reflection of the reference cell, so it negates every Jacobian
 // determinant of the P1/Q1 map at once.
 var flipOrder = [...][]int{
-	cell.Interval:      {1, 0},
+	cell.Segment:       {1, 0},
 	cell.Triangle:      {0, 2, 1},
 	cell.Tetrahedron:   {0, 1, 3, 2},
 	cell.Quadrilateral: {0, 3, 2, 1},

@@ -48,7 +48,7 @@ func TestVTKWrittenFiles(t *testing.T) {
 			Boundaries: map[string][]FacetRef{"wall": {fr(0, 3)}, All: {fr(0, 0), fr(0, 2), fr(0, 3), fr(1, 0), fr(1, 1), fr(1, 2)}}},
 		// The second edge is listed (2,1) and repaired to (1,2); inflow is
 		// vertex 0 = facet 1 of cell 0, outflow vertex 2 = facet 0 of cell 1.
-		"quadratic-edges": {Dim: 1, Cell: cell.Interval, Coords: []float64{0, 1, 2}, Cells: []int32{0, 1, 1, 2},
+		"quadratic-edges": {Dim: 1, Cell: cell.Segment, Coords: []float64{0, 1, 2}, Cells: []int32{0, 1, 1, 2},
 			Boundaries: map[string][]FacetRef{"inflow": {fr(0, 1)}, "outflow": {fr(1, 0)}, All: {fr(0, 1), fr(1, 0)}}},
 	}
 	files, err := filepath.Glob(filepath.Join("testdata", "vtkwritten", "*.vtu"))

@@ -40,14 +40,14 @@ func meshDiff(a, b *Mesh) string {
 // (overlapping the sides, and an empty one) and regions on some.
 func sampleMeshes() map[string]*Mesh {
 	ms := map[string]*Mesh{
-		"interval":       Interval(0, 1, 5, 1.1),
-		"triangle":       Rectangle(0.1, 0.7, -1.0/3, 2, 3, 2, DiagonalUp),
-		"triangle-flip":  Rectangle(0, 1, 0, 1, 2, 3, DiagonalDown),
-		"crossed":        Rectangle(0, 1, 0, 1, 2, 2, Crossed),
-		"quadrilateral":  Rectangle(0, 1, 0, 1, 2, 3, Quads),
-		"tetrahedron":    Box(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Kuhn),
-		"hexahedron":     Box(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Hexes),
-		"refined-square": Refine(Rectangle(0, 1, 0, 1, 1, 1, DiagonalUp)),
+		"interval":       Span1(0, 1, 5, 1.1),
+		"triangle":       Span2(0.1, 0.7, -1.0/3, 2, 3, 2, DiagonalUp),
+		"triangle-flip":  Span2(0, 1, 0, 1, 2, 3, DiagonalDown),
+		"quartered":      Span2(0, 1, 0, 1, 2, 2, Quartered),
+		"quadrilateral":  Span2(0, 1, 0, 1, 2, 3, Quads),
+		"tetrahedron":    Span3(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Kuhn),
+		"hexahedron":     Span3(0, 1, 0, 2, 0, 0.3, 2, 1, 2, Hexes),
+		"refined-square": Refine(Span2(0, 1, 0, 1, 1, 1, DiagonalUp)),
 		"lshape":         lShape(DiagonalUp),
 		"hole":           squareWithHole(Quads),
 	}
@@ -82,7 +82,7 @@ func TestVTURoundTrip(t *testing.T) {
 		}
 	}
 	p := filepath.Join(t.TempDir(), "square.vtu")
-	m := Rectangle(0, 1, 0, 1, 2, 2, DiagonalDown)
+	m := Span2(0, 1, 0, 1, 2, 2, DiagonalDown)
 	if err := WriteVTUFile(p, m, Binary); err != nil {
 		t.Fatal(err)
 	}
@@ -425,17 +425,17 @@ func benchmarkReadVTU(b *testing.B, m *Mesh, enc Encoding) {
 
 // 2·256² = 131072 triangles; 6·32³ = 196608 tetrahedra.
 func BenchmarkWriteVTUTriangles256Binary(b *testing.B) {
-	benchmarkWriteVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
+	benchmarkWriteVTU(b, Span2(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
 }
 func BenchmarkWriteVTUTriangles256ASCII(b *testing.B) {
-	benchmarkWriteVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
+	benchmarkWriteVTU(b, Span2(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
 }
 func BenchmarkReadVTUTriangles256Binary(b *testing.B) {
-	benchmarkReadVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
+	benchmarkReadVTU(b, Span2(0, 1, 0, 1, 256, 256, DiagonalUp), Binary)
 }
 func BenchmarkReadVTUTriangles256ASCII(b *testing.B) {
-	benchmarkReadVTU(b, Rectangle(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
+	benchmarkReadVTU(b, Span2(0, 1, 0, 1, 256, 256, DiagonalUp), ASCII)
 }
 func BenchmarkReadVTUTetrahedra32Binary(b *testing.B) {
-	benchmarkReadVTU(b, Box(0, 1, 0, 1, 0, 1, 32, 32, 32, Kuhn), Binary)
+	benchmarkReadVTU(b, Span3(0, 1, 0, 1, 0, 1, 32, 32, 32, Kuhn), Binary)
 }

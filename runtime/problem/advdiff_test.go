@@ -78,7 +78,7 @@ func TestExact1DSamples(t *testing.T) {
 // well conditioned and τ is evaluated in float64.
 func TestSUPGNodallyExact1D(t *testing.T) {
 	const n = 10
-	m := mesh.Interval(0, 1, n, 1)
+	m := mesh.Span1(0, 1, n, 1)
 	h := 1.0 / n
 	a := 1.0
 	for _, alpha := range []float64{0.1, 1, 10, 100} {
@@ -113,7 +113,7 @@ func TestGalerkinOscillates1D(t *testing.T) {
 	alpha, a := 2.5, 1.0
 	h := 1.0 / n
 	k := a * h / (2 * alpha)
-	sol, err := Solve(advDiff1D(a, k, 0, false), mesh.Interval(0, 1, n, 1), Options{})
+	sol, err := Solve(advDiff1D(a, k, 0, false), mesh.Span1(0, 1, n, 1), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -169,7 +169,7 @@ func TestRobinBoundary1D(t *testing.T) {
 		},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.Left, Value: num(0, 1)}},
 	}
-	sol, err := Solve(form, mesh.Interval(0, 1, 7, 1.2), Options{})
+	sol, err := Solve(form, mesh.Span1(0, 1, 7, 1.2), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -184,7 +184,7 @@ func TestRobinBoundary1D(t *testing.T) {
 	}
 	// A side the mesh lacks is an input error, not a panic.
 	form.Integrals[1].Domain.Side = "outlet"
-	if _, err := Solve(form, mesh.Interval(0, 1, 4, 1), Options{}); !errors.Is(err, ErrNoSide) {
+	if _, err := Solve(form, mesh.Span1(0, 1, 4, 1), Options{}); !errors.Is(err, ErrNoSide) {
 		t.Errorf("integral on a missing side: error %v, want one wrapping ErrNoSide", err)
 	}
 }

@@ -26,7 +26,7 @@ func ExampleSolve() {
 		}},
 		Dirichlet: []ir.DirichletCondition{{Side: mesh.All, Value: &ir.Num{Val: new(big.Rat)}}},
 	}
-	sol, err := problem.Solve(form, mesh.Interval(0, 1, 4, 1), problem.Options{})
+	sol, err := problem.Solve(form, mesh.Span1(0, 1, 4, 1), problem.Options{})
 	if err != nil {
 		fmt.Println(err)
 		return

@@ -45,7 +45,7 @@ func TestMeanCondition(t *testing.T) {
 	zero, _ := ExactFromExprs(2, []ir.Expr{num(0, 1)})
 	var l2, res []float64
 	for _, n := range []int{16, 32} {
-		msh := mesh.Rectangle(0, 1, 0, 1, n, n, mesh.DiagonalUp)
+		msh := mesh.Span2(0, 1, 0, 1, n, n, mesh.DiagonalUp)
 		sol, err := Solve(neumannPoisson(f, 0), msh, Options{})
 		if err != nil {
 			t.Fatal(err)
@@ -78,7 +78,7 @@ func TestMeanCondition(t *testing.T) {
 	if r := math.Log2(res[0] / res[1]); res[0] > 1e-3 || r < 1.8 {
 		t.Errorf("replaced equation residuals %.2e, %.2e (order %.2f): want below 1e-3 and falling at order 2 or faster", res[0], res[1], r)
 	}
-	sol, err := Solve(neumannPoisson(num(1, 1), 0), mesh.Rectangle(0, 1, 0, 1, 8, 8, mesh.DiagonalUp), Options{})
+	sol, err := Solve(neumannPoisson(num(1, 1), 0), mesh.Span2(0, 1, 0, 1, 8, 8, mesh.DiagonalUp), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -51,7 +51,7 @@ func TestMixedOrderCoupledSystem(t *testing.T) {
 	ep, _ := ExactFromExprs(2, []ir.Expr{p})
 	var lu, lp []float64
 	for _, n := range []int{8, 16, 32} {
-		sol, err := Solve(form, mesh.Rectangle(0, 1, 0, 1, n, n, mesh.DiagonalUp), Options{})
+		sol, err := Solve(form, mesh.Span2(0, 1, 0, 1, n, n, mesh.DiagonalUp), Options{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -99,7 +99,7 @@ func TestVectorFieldQ2(t *testing.T) {
 	}
 	var l2 []float64
 	for _, n := range []int{8, 16} {
-		sol, err := Solve(form, mesh.Rectangle(0, 1, 0, 1, n, n, mesh.Quads), Options{})
+		sol, err := Solve(form, mesh.Span2(0, 1, 0, 1, n, n, mesh.Quads), Options{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -138,7 +138,7 @@ func TestPicardQuasilinear(t *testing.T) {
 	ex, _ := ExactFromExprs(1, []ir.Expr{s})
 	var l2 []float64
 	for _, n := range []int{16, 32} {
-		sol, err := Solve(form, mesh.Interval(0, 1, n, 1), Options{PicardTol: 1e-11})
+		sol, err := Solve(form, mesh.Span1(0, 1, n, 1), Options{PicardTol: 1e-11})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -153,7 +153,7 @@ func TestPicardQuasilinear(t *testing.T) {
 	}
 	// Under-relaxation (ω = 1/2) reaches the same fixed point, in more
 	// steps on this problem, whose plain iteration already contracts.
-	msh := mesh.Interval(0, 1, 16, 1)
+	msh := mesh.Span1(0, 1, 16, 1)
 	plain, err := Solve(form, msh, Options{PicardTol: 1e-11})
 	if err != nil {
 		t.Fatal(err)
@@ -171,7 +171,7 @@ func TestPicardQuasilinear(t *testing.T) {
 		t.Errorf("relaxed Picard took %d steps, plain %d: the relaxation was not applied", relaxed.Summary.Picard, plain.Summary.Picard)
 	}
 	// A budget of one step cannot settle: typed error.
-	_, err = Solve(form, mesh.Interval(0, 1, 8, 1), Options{MaxPicard: 1})
+	_, err = Solve(form, mesh.Span1(0, 1, 8, 1), Options{MaxPicard: 1})
 	if _, ok := err.(*PicardError); !ok {
 		t.Errorf("one Picard step: error %v, want *PicardError", err)
 	}

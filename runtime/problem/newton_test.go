@@ -73,7 +73,7 @@ func TestBratuTheta(t *testing.T) {
 // on the relative residuals; Dennis & Schnabel 1983, Th. 5.2.1), and the
 // solution has no residual left at the free nodes.
 func TestNewtonBratu(t *testing.T) {
-	m := mustMesh(t, "interval:0,1:64")
+	m := mustMesh(t, "span:0,1:64")
 	var hist []NewtonStep
 	sol, err := Solve(bratuStep(1, true), m, Options{Newton: NewtonOptions{Progress: func(s NewtonStep) { hist = append(hist, s) }}})
 	if err != nil {
@@ -116,7 +116,7 @@ func quadraticRatio(h []NewtonStep) float64 {
 // solution (../../testdata/REFERENCES.md), and Newton's method returns a *NewtonError
 // with the history, starting with the initial residual.
 func TestNewtonFailsBeyondFold(t *testing.T) {
-	_, err := Solve(bratuStep(3.6, true), mustMesh(t, "interval:0,1:32"), Options{})
+	_, err := Solve(bratuStep(3.6, true), mustMesh(t, "span:0,1:32"), Options{})
 	var ne *NewtonError
 	if !errors.As(err, &ne) {
 		t.Fatalf("error %v, want a *NewtonError", err)
@@ -142,7 +142,7 @@ func TestContinueBratu(t *testing.T) {
 	}
 	var errs []float64
 	for _, n := range []int{32, 64} {
-		m := mustMesh(t, "interval:0,1:"+map[int]string{32: "32", 64: "64"}[n])
+		m := mustMesh(t, "span:0,1:"+map[int]string{32: "32", 64: "64"}[n])
 		steps := 0
 		sol, err := Continue(values, func(l float64) (*ir.LoweredForm, error) { return bratuStep(l, true), nil }, m, Options{},
 			func(int, float64, *Solution) { steps++ })
@@ -166,7 +166,7 @@ func TestContinueBratu(t *testing.T) {
 // order 2, that of a Jacobian missing a term at order 1, so the check
 // tells them apart (the Taylor test; see CheckJacobian).
 func TestCheckJacobian(t *testing.T) {
-	m := mustMesh(t, "interval:0,1:16")
+	m := mustMesh(t, "span:0,1:16")
 	good, err := CheckJacobian(bratuStep(2, true), m, JacobianCheckOptions{})
 	if err != nil {
 		t.Fatal(err)

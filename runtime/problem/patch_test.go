@@ -43,11 +43,11 @@ func TestPatchAllCells(t *testing.T) {
 	// −Δ of the quadratics: −2; −2+4 = 2; −2+4+2 = 4.
 	lapQ := []int64{-2, 2, 4}
 	meshes := []*mesh.Mesh{
-		mesh.Interval(0, 1, 6, 1.3),
-		mesh.Rectangle(0, 2, 0, 1, 5, 4, mesh.Crossed),
-		mesh.Rectangle(0, 2, 0, 1, 5, 4, mesh.Quads),
-		mesh.Box(0, 1, 0, 1, 0, 2, 3, 3, 4, mesh.Kuhn),
-		mesh.Box(0, 1, 0, 1, 0, 2, 3, 3, 4, mesh.Hexes),
+		mesh.Span1(0, 1, 6, 1.3),
+		mesh.Span2(0, 2, 0, 1, 5, 4, mesh.Quartered),
+		mesh.Span2(0, 2, 0, 1, 5, 4, mesh.Quads),
+		mesh.Span3(0, 1, 0, 1, 0, 2, 3, 3, 4, mesh.Kuhn),
+		mesh.Span3(0, 1, 0, 1, 0, 2, 3, 3, 4, mesh.Hexes),
 	}
 	for _, m := range meshes {
 		d := m.Dim
@@ -110,7 +110,7 @@ func (handP1) Cell(in *kernel.CellInput, A, b []float64) {
 // and gives the same solution (to round-off: the two kernels sum their
 // products in different orders), with KernelPath "compiled".
 func TestKernelSetPath(t *testing.T) {
-	m := mesh.Rectangle(0, 1, 0, 1, 12, 12, mesh.DiagonalDown)
+	m := mesh.Span2(0, 1, 0, 1, 12, 12, mesh.DiagonalDown)
 	form := laplaceForm(2, "P1", num(1, 1), num(0, 1))
 	ref, err := Solve(form, m, Options{})
 	if err != nil {
@@ -130,7 +130,7 @@ func TestKernelSetPath(t *testing.T) {
 	}
 	// A kernel for the wrong cell type is a layout error.
 	q1 := laplaceForm(2, "Q1", num(1, 1), num(0, 1))
-	if _, err := Solve(q1, mesh.Rectangle(0, 1, 0, 1, 2, 2, mesh.Quads), Options{Kernels: &KernelSet{Cell: handP1{}}}); err == nil {
+	if _, err := Solve(q1, mesh.Span2(0, 1, 0, 1, 2, 2, mesh.Quads), Options{Kernels: &KernelSet{Cell: handP1{}}}); err == nil {
 		t.Error("triangle kernel on quadrilaterals accepted")
 	}
 }

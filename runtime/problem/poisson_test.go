@@ -65,7 +65,7 @@ func TestManufacturedConvergenceRates(t *testing.T) {
 	for _, c := range cases {
 		var l2s, h1s []float64
 		for _, n := range c.sizes {
-			sol, err := Solve(poisson(c.elem, f), mesh.Rectangle(0, 1, 0, 1, n, n, c.pattern), Options{})
+			sol, err := Solve(poisson(c.elem, f), mesh.Span2(0, 1, 0, 1, n, n, c.pattern), Options{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -105,7 +105,7 @@ func TestH10ProjectionOrthogonality(t *testing.T) {
 			{Coef: ux, Test: fd(testU, 0, axis(0)...)},
 			{Coef: uy, Test: fd(testU, 0, axis(1)...)},
 		}
-		m := mesh.Rectangle(0, 1, 0, 1, 7, 5, mesh.Crossed)
+		m := mesh.Span2(0, 1, 0, 1, 7, 5, mesh.Quartered)
 		sol, err := Solve(form, m, Options{Degree: 6})
 		if err != nil {
 			t.Fatal(err)
@@ -171,7 +171,7 @@ func bitsOf(v []float64) []byte {
 // right-hand side and solution are byte-identical with 1 and 2 workers.
 func TestSolveBitIdenticalWorkers(t *testing.T) {
 	f := mul(num(2, 1), pi, pi, sinSin())
-	m := mesh.Rectangle(0, 1, 0, 1, 40, 40, mesh.Crossed)
+	m := mesh.Span2(0, 1, 0, 1, 40, 40, mesh.Quartered)
 	var ref *Solution
 	for _, w := range []int{1, 2, 3} {
 		sol, err := Solve(poisson("P2", f), m, Options{Workers: w})
@@ -193,7 +193,7 @@ func TestSolveBitIdenticalWorkers(t *testing.T) {
 // 1e-10.
 func TestSolverFailureIsTyped(t *testing.T) {
 	f := mul(num(2, 1), pi, pi, sinSin())
-	_, err := Solve(poisson("P1", f), mesh.Rectangle(0, 1, 0, 1, 20, 20, mesh.DiagonalUp),
+	_, err := Solve(poisson("P1", f), mesh.Span2(0, 1, 0, 1, 20, 20, mesh.DiagonalUp),
 		Options{Solver: &linsolve.Options{Method: linsolve.MethodCG, MaxIter: 3}})
 	var nc *linsolve.NotConvergedError
 	if !errors.As(err, &nc) || nc.Iter != 3 {
@@ -201,7 +201,7 @@ func TestSolverFailureIsTyped(t *testing.T) {
 	}
 	// The automatic choice for a symmetric problem with the iterative path
 	// forced by size is CG+ILU(0); here (small) it is direct.
-	sol, err := Solve(poisson("P1", f), mesh.Rectangle(0, 1, 0, 1, 20, 20, mesh.DiagonalUp), Options{})
+	sol, err := Solve(poisson("P1", f), mesh.Span2(0, 1, 0, 1, 20, 20, mesh.DiagonalUp), Options{})
 	if err != nil || sol.Summary.Solver != "direct" || !sol.Summary.Symmetric {
 		t.Errorf("automatic choice: %v, %q, symmetric %v", err, sol.Summary.Solver, sol.Summary.Symmetric)
 	}
@@ -209,7 +209,7 @@ func TestSolverFailureIsTyped(t *testing.T) {
 	// elliptic matrix is CG with algebraic multigrid, which needs a few
 	// iterations whatever the mesh (smoothed aggregation: Vaněk, Mandel &
 	// Brezina 1996; 20 is a generous bound, common practice).
-	sol, err = Solve(poisson("P1", f), mesh.Rectangle(0, 1, 0, 1, 240, 240, mesh.DiagonalUp), Options{})
+	sol, err = Solve(poisson("P1", f), mesh.Span2(0, 1, 0, 1, 240, 240, mesh.DiagonalUp), Options{})
 	if err != nil || sol.Summary.Solver != "cg+amg" || sol.Summary.Iterations > 20 {
 		t.Errorf("large symmetric: %v, %q in %d iterations (%s)", err, sol.Summary.Solver, sol.Summary.Iterations, sol.Summary.SolverReason)
 	}

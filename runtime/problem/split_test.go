@@ -38,7 +38,7 @@ func TestSplitBackwardEulerMatchesStepped(t *testing.T) {
 	split := &ir.SteppedForm{Step: form(source), Mass: massForm}
 
 	init, _ := ExactFromExprs(2, []ir.Expr{sinSin()})
-	msh := mesh.Rectangle(0, 1, 0, 1, 12, 12, mesh.DiagonalUp)
+	msh := mesh.Span2(0, 1, 0, 1, 12, 12, mesh.DiagonalUp)
 	opts := TransientOptions{Step: 0.02, Steps: 5, Initial: []Exact{init}}
 	a, err := SolveTransient(fixed, msh, opts)
 	if err != nil {

@@ -64,7 +64,7 @@ func TestBackwardEulerHeatMode(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	msh, err := mesh.Load("rect:0,1,0,1:64x64:tri")
+	msh, err := mesh.Load("span:0,1,0,1:64x64:tri")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -125,7 +125,7 @@ equation for u: dt(u) + previous(u)*partial(u, x) = 0
 	if sf.Mass == nil || sf.Step.IsTransient() {
 		t.Errorf("Picard-iterated transient form: mass form %v, step still transient %v", sf.Mass != nil, sf.Step.IsTransient())
 	}
-	msh, err := mesh.Load("interval:0,1:8")
+	msh, err := mesh.Load("span:0,1:8")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -155,7 +155,7 @@ func TestTransientReusesFactorisation(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		msh, err := mesh.Load("rect:0,1,0,1:16x16:tri")
+		msh, err := mesh.Load("span:0,1,0,1:16x16:tri")
 		if err != nil {
 			t.Fatal(err)
 		}

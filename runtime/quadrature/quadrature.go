@@ -64,7 +64,7 @@ func For(c cell.Type, degree int) Rule {
 		panic(fmt.Sprintf("quadrature: negative degree %d requested on %v", degree, c))
 	}
 	switch c {
-	case cell.Interval:
+	case cell.Segment:
 		return intervalRule(pointsFor(degree))
 	case cell.Quadrilateral, cell.Hexahedron:
 		return TensorGauss(c, pointsFor(degree))
@@ -94,7 +94,7 @@ func intervalRule(n int) Rule {
 		x[i] = 0.5 * (x[i] + 1)
 		w[i] *= 0.5
 	}
-	return Rule{Cell: cell.Interval, Degree: 2*n - 1, Points: x, Weights: w}
+	return Rule{Cell: cell.Segment, Degree: 2*n - 1, Points: x, Weights: w}
 }
 
 // TensorGauss returns the n^d-point tensor-product Gauss–Legendre rule on
@@ -102,7 +102,7 @@ func intervalRule(n int) Rule {
 // degree 2n-1 in each variable. Points are ordered with the first
 // coordinate varying fastest.
 func TensorGauss(c cell.Type, n int) Rule {
-	if c == cell.Interval {
+	if c == cell.Segment {
 		return intervalRule(n)
 	}
 	if c != cell.Quadrilateral && c != cell.Hexahedron {

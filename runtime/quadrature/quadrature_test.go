@@ -60,7 +60,7 @@ func fact(n int) float64 {
 // ∫ (1+x)^a = 2^{a+1}/(a+1); [0,1]: ∫ x^a = 1/(a+1).
 func exact(c cell.Type, e []int) float64 {
 	switch c {
-	case cell.Interval:
+	case cell.Segment:
 		return 1 / float64(e[0]+1)
 	case cell.Quadrilateral, cell.Hexahedron:
 		v := 1.0
@@ -183,7 +183,7 @@ func TestPublishedSimplexRules(t *testing.T) {
 }
 
 func TestTensorAndIntervalRules(t *testing.T) {
-	for _, c := range []cell.Type{cell.Interval, cell.Quadrilateral, cell.Hexahedron} {
+	for _, c := range []cell.Type{cell.Segment, cell.Quadrilateral, cell.Hexahedron} {
 		for n := 1; n <= 6; n++ {
 			r := TensorGauss(c, n)
 			if r.Degree != 2*n-1 {
@@ -234,7 +234,7 @@ func TestFor(t *testing.T) {
 		d, n int
 	}{
 		{cell.Triangle, 2, 3}, {cell.Triangle, 5, 7}, {cell.Triangle, 6, 12}, {cell.Triangle, 7, 16},
-		{cell.Tetrahedron, 3, 5}, {cell.Tetrahedron, 4, 11}, {cell.Quadrilateral, 3, 4}, {cell.Interval, 0, 1},
+		{cell.Tetrahedron, 3, 5}, {cell.Tetrahedron, 4, 11}, {cell.Quadrilateral, 3, 4}, {cell.Segment, 0, 1},
 	} {
 		if got := For(tc.c, tc.d).NumPoints(); got != tc.n {
 			t.Errorf("For(%v,%d): %d points, want %d", tc.c, tc.d, got, tc.n)

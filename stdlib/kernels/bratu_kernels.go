@@ -15,7 +15,7 @@ import (
 func init() {
 	compiled.Register("d97faa27cc5670412dcf6f44449cadd7", compiled.Kernels{
 		Method: "galerkin",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuGalerkinKernel{}
@@ -23,7 +23,7 @@ func init() {
 	})
 	compiled.Register("39c9e1b269bae44e1b969a896efbeebb", compiled.Kernels{
 		Method: "supg",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuSUPGKernel{}
@@ -31,7 +31,7 @@ func init() {
 	})
 	compiled.Register("c94b33e6306b59baf220fa6273303301", compiled.Kernels{
 		Method: "gls",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuGLSKernel{}
@@ -39,7 +39,7 @@ func init() {
 	})
 	compiled.Register("33269ea1b2108660a7fa47d904f97098", compiled.Kernels{
 		Method: "vms",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BratuVMSKernel{}
@@ -51,10 +51,10 @@ func init() {
 // interval cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwBratuGalerkinLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -146,10 +146,10 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuSUPGLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -241,10 +241,10 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuGLSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -360,10 +360,10 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuVMSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 

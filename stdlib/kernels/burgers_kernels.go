@@ -15,7 +15,7 @@ import (
 func init() {
 	compiled.Register("cb9bb7717a2dc2b0c7d4b9cc94191ee5", compiled.Kernels{
 		Method: "galerkin",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 2,
 		NewCell: func() kernel.Kernel {
 			return BurgersGalerkinKernel{}
@@ -23,7 +23,7 @@ func init() {
 	})
 	compiled.Register("e1bd77fc04b12f24d8dff4d15a7e21e5", compiled.Kernels{
 		Method: "supg",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return BurgersSUPGKernel{}
@@ -31,7 +31,7 @@ func init() {
 	})
 	compiled.Register("cc5ec27df91cbb680a5a8ea11032fc59", compiled.Kernels{
 		Method: "gls",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 6,
 		NewCell: func() kernel.Kernel {
 			return BurgersGLSKernel{}
@@ -39,7 +39,7 @@ func init() {
 	})
 	compiled.Register("809e65ef336ce817c836006e92f69299", compiled.Kernels{
 		Method: "vms",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 5,
 		NewCell: func() kernel.Kernel {
 			return BurgersVMSKernel{}
@@ -51,10 +51,10 @@ func init() {
 // interval cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwBurgersGalerkinLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -152,10 +152,10 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // cells, fields in local dof order (field-major, then component, then element
 // node); 2 local dofs.
 var fwBurgersSUPGLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -284,10 +284,10 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBurgersGLSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 
@@ -426,10 +426,10 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBurgersVMSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // u P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // u P1
 	},
 }
 

@@ -15,7 +15,7 @@ import (
 func init() {
 	compiled.Register("ec0fbc09ef2e9b00bcb8358cbaecd27c", compiled.Kernels{
 		Method: "galerkin",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 1,
 		NewCell: func() kernel.Kernel {
 			return RiverOutfallLayerGalerkinKernel{}
@@ -23,7 +23,7 @@ func init() {
 	})
 	compiled.Register("6181b75f4d7a4d6c3a7d22007f0cefbd", compiled.Kernels{
 		Method: "supg",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 1,
 		NewCell: func() kernel.Kernel {
 			return RiverOutfallLayerSUPGKernel{}
@@ -31,7 +31,7 @@ func init() {
 	})
 	compiled.Register("a305dc9bb73625536dd0d50d3bcc119d", compiled.Kernels{
 		Method: "gls",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 1,
 		NewCell: func() kernel.Kernel {
 			return RiverOutfallLayerGLSKernel{}
@@ -39,7 +39,7 @@ func init() {
 	})
 	compiled.Register("b57b4bc2d8eddccf24442e823202fb41", compiled.Kernels{
 		Method: "vms",
-		Cell:   cell.Interval,
+		Cell:   cell.Segment,
 		Degree: 1,
 		NewCell: func() kernel.Kernel {
 			return RiverOutfallLayerVMSKernel{}
@@ -51,10 +51,10 @@ func init() {
 // kernels: interval cells, fields in local dof order (field-major, then
 // component, then element node); 2 local dofs.
 var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // c P1
 	},
 }
 
@@ -104,10 +104,10 @@ func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64
 // interval cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // c P1
 	},
 }
 
@@ -170,10 +170,10 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // interval cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerGLSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // c P1
 	},
 }
 
@@ -238,10 +238,10 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 // interval cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerVMSLayout = kernel.Layout{
-	Cell:     cell.Interval,
-	Geometry: element.MustLagrange(cell.Interval, 1),
+	Cell:     cell.Segment,
+	Geometry: element.MustLagrange(cell.Segment, 1),
 	Fields: []kernel.FieldLayout{
-		{Element: element.MustLagrange(cell.Interval, 1), Components: 1}, // c P1
+		{Element: element.MustLagrange(cell.Segment, 1), Components: 1}, // c P1
 	},
 }
 
