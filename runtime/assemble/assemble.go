@@ -20,7 +20,7 @@ import (
 // time steps). An Assembler is not safe for concurrent Assemble calls.
 type Assembler struct {
 	Mesh *mesh.Mesh
-	Dofs *dof.Map
+	Dofs *dof.Numbering
 	// Workers is the number of goroutines of the element loop; <= 0 means
 	// runtime.GOMAXPROCS(0). The result does not depend on it, bit for bit.
 	Workers int
@@ -39,7 +39,7 @@ type Assembler struct {
 // chunk plan of the parallel loop. Memory: 4·NumLocal² bytes per cell for
 // the positions and 4 bytes per dof for the plan, besides the pattern's
 // 12 bytes per nonzero; the chunk logs take 12 bytes per logged entry.
-func New(m *mesh.Mesh, dm *dof.Map) *Assembler {
+func New(m *mesh.Mesh, dm *dof.Numbering) *Assembler {
 	if m.NumCells() != dm.NumCells || m.Cell != dm.Cell {
 		panic(fmt.Sprintf("assemble: dof map of %d %v cells for a mesh of %d %v cells", dm.NumCells, dm.Cell, m.NumCells(), m.Cell))
 	}

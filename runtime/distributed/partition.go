@@ -48,7 +48,7 @@ func (p *Partition) Owner(i int) int {
 
 // NewPartition partitions mesh m with dof map dm over ranks ranks
 // (1 ≤ ranks ≤ cells).
-func NewPartition(m *mesh.Mesh, dm *dof.Map, ranks int) (*Partition, error) {
+func NewPartition(m *mesh.Mesh, dm *dof.Numbering, ranks int) (*Partition, error) {
 	nc := m.NumCells()
 	if ranks < 1 || ranks > nc {
 		return nil, &OptionsError{fmt.Sprintf("%d ranks for a mesh of %d cells (give 1 to %d)", ranks, nc, nc)}
@@ -164,7 +164,7 @@ func selectNth(s []int32, k int, less func(a, b int32) bool) {
 
 // number gives each dof the lowest rank among its cells and renumbers
 // the dofs rank by rank, keeping their order within a rank.
-func (p *Partition) number(dm *dof.Map) {
+func (p *Partition) number(dm *dof.Numbering) {
 	n := dm.NumDofs
 	owner := make([]int32, n)
 	for i := range owner {
@@ -196,7 +196,7 @@ func (p *Partition) number(dm *dof.Map) {
 // the dofs that share a cell with the row's dof — inside and outside the
 // owner's diagonal block. It walks the dof-to-cell adjacency with a
 // marker per worker, so the pattern itself is never stored.
-func (p *Partition) preallocate(dm *dof.Map) {
+func (p *Partition) preallocate(dm *dof.Numbering) {
 	n := dm.NumDofs
 	// cellsOf[at[i]:at[i+1]] are the cells holding dof i.
 	at := make([]int, n+1)

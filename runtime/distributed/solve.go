@@ -285,7 +285,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 }
 
 // newHeader is the part header of a run.
-func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts Options) (*header, error) {
+func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, ranks int, opts Options) (*header, error) {
 	s := opts.Solver
 	method, precond := s.codes()
 	h := &header{
@@ -339,7 +339,7 @@ func newHeader(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, ranks int, opts 
 }
 
 // writeParts writes part.<rank> for every rank, two at a time.
-func writeParts(dir string, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, p *Partition,
+func writeParts(dir string, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, p *Partition,
 	fixed []bool, values []float64, means []problem.MeanCondition, initial []float64) error {
 	// The cells of each rank, in mesh order, and each cell's place there.
 	cellsOf := make([][]int32, p.Ranks)
@@ -370,7 +370,7 @@ func writeParts(dir string, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *d
 }
 
 // buildPart gathers what rank r reads.
-func buildPart(r int, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, p *Partition, cells []int32, local []int32,
+func buildPart(r int, h *header, form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, p *Partition, cells []int32, local []int32,
 	fixed []bool, values []float64, means []problem.MeanCondition, initial []float64) *part {
 	lo, hi := p.Start[r], p.Start[r+1]
 	pt := &part{lo: int64(lo), hi: int64(hi)}

@@ -50,9 +50,9 @@ type space struct {
 	coords    []float64 // numNodes*dim
 }
 
-// Map numbers the degrees of freedom of one or several fields on a mesh.
+// Numbering numbers the degrees of freedom of one or several fields on a mesh.
 // It is immutable after New and safe for concurrent use.
-type Map struct {
+type Numbering struct {
 	Cell     cell.Type
 	Dim      int
 	NumCells int
@@ -83,7 +83,7 @@ type Map struct {
 // are numbered in the lexicographic order of their sorted vertex tuples,
 // found by a counting sort on the smallest vertex, so the numbering does
 // not depend on the cell order beyond the cell-interior nodes.
-func New(cellType cell.Type, coords []float64, cells []int32, fields []FieldSpec) (*Map, error) {
+func New(cellType cell.Type, coords []float64, cells []int32, fields []FieldSpec) (*Numbering, error) {
 	d := cellType.Dim()
 	nv := cellType.NumVertices()
 	if len(cells)%nv != 0 {
@@ -101,7 +101,7 @@ func New(cellType cell.Type, coords []float64, cells []int32, fields []FieldSpec
 	if len(fields) == 0 {
 		return nil, fmt.Errorf("dof: no fields to number")
 	}
-	m := &Map{Cell: cellType, Dim: d, NumCells: len(cells) / nv}
+	m := &Numbering{Cell: cellType, Dim: d, NumCells: len(cells) / nv}
 	needEdges, needFaces := false, false
 	for _, f := range fields {
 		if f.Element == nil || f.Element.Cell != cellType {
@@ -252,7 +252,7 @@ func numberEntities(cells []int32, nv int, local [][]int) ([]int32, int) {
 	return out, int(id + 1)
 }
 
-func (m *Map) buildSpace(s *space, coords []float64, cells []int32, nVert int, edgeOf, faceOf []int32) {
+func (m *Numbering) buildSpace(s *space, coords []float64, cells []int32, nVert int, edgeOf, faceOf []int32) {
 	e := s.elem
 	d, nv := m.Dim, m.Cell.NumVertices()
 	ne := e.NumNodes()
@@ -333,23 +333,23 @@ func (m *Map) buildSpace(s *space, coords []float64, cells []int32, nVert int, e
 
 // CellDofs returns the global dofs of cell c in local order (field-major,
 // then component, then element node). Shared slice: do not modify.
-func (m *Map) CellDofs(c int) []int32 { return m.cellDofs[c*m.NumLocal : (c+1)*m.NumLocal] }
+func (m *Numbering) CellDofs(c int) []int32 { return m.cellDofs[c*m.NumLocal : (c+1)*m.NumLocal] }
 
 // Local returns the local dof of (field, comp, element node).
-func (m *Map) Local(field, comp, node int) int {
+func (m *Numbering) Local(field, comp, node int) int {
 	f := &m.Fields[field]
 	return f.LocalOffset + comp*f.Element.NumNodes() + node
 }
 
 // Global returns the global dof of (field, comp, global node).
-func (m *Map) Global(field, comp, node int) int {
+func (m *Numbering) Global(field, comp, node int) int {
 	f := &m.Fields[field]
 	return f.Offset + node*f.Components + comp
 }
 
 // CellNodes returns the global nodes of field's element space on cell c,
 // in element node order. Shared slice: do not modify.
-func (m *Map) CellNodes(field, c int) []int32 {
+func (m *Numbering) CellNodes(field, c int) []int32 {
 	s := m.spaces[m.fieldSpace[field]]
 	ne := s.elem.NumNodes()
 	return s.cellNodes[c*ne : (c+1)*ne]
@@ -359,11 +359,11 @@ func (m *Map) CellNodes(field, c int) []int32 {
 // element space (NumNodes*Dim, node-major): vertices for vertex nodes, the
 // image of the reference node under the cell's linear (P1/Q1) map for edge,
 // face and interior nodes. Shared slice: do not modify.
-func (m *Map) NodeCoords(field int) []float64 { return m.spaces[m.fieldSpace[field]].coords }
+func (m *Numbering) NodeCoords(field int) []float64 { return m.spaces[m.fieldSpace[field]].coords }
 
 // Gather copies the entries of the global vector x at the dofs of cell c
 // into dst (length NumLocal), in local order.
-func (m *Map) Gather(c int, x, dst []float64) {
+func (m *Numbering) Gather(c int, x, dst []float64) {
 	for l, g := range m.CellDofs(c) {
 		dst[l] = x[g]
 	}
@@ -371,7 +371,7 @@ func (m *Map) Gather(c int, x, dst []float64) {
 
 // BoundaryNodes returns the sorted global nodes of field's element space
 // that lie on the given facets.
-func (m *Map) BoundaryNodes(field int, facets []Facet) []int32 {
+func (m *Numbering) BoundaryNodes(field int, facets []Facet) []int32 {
 	s := m.spaces[m.fieldSpace[field]]
 	ne := s.elem.NumNodes()
 	mark := make([]bool, s.numNodes)
@@ -394,7 +394,7 @@ func (m *Map) BoundaryNodes(field int, facets []Facet) []int32 {
 
 // BoundaryDofs returns the sorted global dofs of component comp of field
 // that lie on the given facets.
-func (m *Map) BoundaryDofs(field, comp int, facets []Facet) []int32 {
+func (m *Numbering) BoundaryDofs(field, comp int, facets []Facet) []int32 {
 	nodes := m.BoundaryNodes(field, facets)
 	out := make([]int32, len(nodes))
 	for i, g := range nodes {
@@ -405,7 +405,7 @@ func (m *Map) BoundaryDofs(field, comp int, facets []Facet) []int32 {
 
 // NumEdges and NumFaces are the numbers of mesh edges and faces that
 // carry nodes (0 when no field needs them).
-func (m *Map) NumEdges() int { return m.numEdges }
+func (m *Numbering) NumEdges() int { return m.numEdges }
 
 // NumFaces: see NumEdges.
-func (m *Map) NumFaces() int { return m.numFaces }
+func (m *Numbering) NumFaces() int { return m.numFaces }

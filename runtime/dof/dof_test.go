@@ -27,7 +27,7 @@ func scalar(name string, c cell.Type, deg int) FieldSpec {
 // the outside truth of a conforming P2/Q2 space on a structured grid: its
 // nodes are the vertices of the once-refined grid (Ciarlet 1978, §2.2; a
 // counting fact, independent of the numbering code).
-func lattice(t *testing.T, dm *Map, n []int) {
+func lattice(t *testing.T, dm *Numbering, n []int) {
 	t.Helper()
 	want := 1
 	for _, k := range n {
@@ -61,7 +61,7 @@ func lattice(t *testing.T, dm *Map, n []int) {
 // the cell's nodes equal the image of the element's reference nodes under
 // that cell's own linear map: a shared node numbered from two cells must
 // be the same point seen from both.
-func cellConsistency(t *testing.T, m *mesh.Mesh, dm *Map) {
+func cellConsistency(t *testing.T, m *mesh.Mesh, dm *Numbering) {
 	t.Helper()
 	e := dm.Fields[0].Element
 	geom := element.MustLagrange(m.Cell, 1)

@@ -1,6 +1,6 @@
 // Package element implements Lagrange finite elements on the reference
 // cells of runtime/cell — P1 and P2 on segments, triangles and tetrahedra,
-// Q1 and Q2 on quadrilaterals and hexahedra — their tabulation at
+// Q1 and Q2 on quadrilaterals and hexahedra — their values sampled at
 // quadrature points, the isoparametric map to a physical cell with its
 // Jacobian, physical gradients and second derivatives and the element
 // metric tensor, and several definitions of the element size used by
@@ -43,7 +43,7 @@
 // which keeps the curvature term of a non-affine map; the metric tensor
 // G = J^{-T}J^{-1}, G_ij = Σ_k ∂ξ_k/∂x_i ∂ξ_k/∂x_j, and g_i = Σ_j ∂ξ_j/∂x_i
 // (Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197).
-// Facet tables (TabulateFacet) carry a facet rule mapped onto one local
+// Facet tables (SampleFacet) carry a facet rule mapped onto one local
 // facet; their Map adds the outward unit normal and the surface weight,
 // for boundary integrals.
 //

@@ -11,7 +11,7 @@ import (
 // Physical gradients and the area of the triangle (0,0), (2,0), (0,1).
 func ExampleTable_Map() {
 	e := element.MustLagrange(cell.Triangle, 1)
-	tab := e.Tabulate(quadrature.For(cell.Triangle, 1))
+	tab := e.Sample(quadrature.For(cell.Triangle, 1))
 	pg := tab.NewPointGeometry()
 	coords := []float64{0, 0, 2, 0, 0, 1}
 	if err := tab.Map(coords, 0, pg); err != nil {

@@ -53,7 +53,7 @@ func TestDivergenceTheorem(t *testing.T) {
 	} {
 		c, d := tc.e.Cell, tc.e.Dim()
 		v := make([]float64, d)
-		tab := tc.e.Tabulate(quadrature.For(c, 10))
+		tab := tc.e.Sample(quadrature.For(c, 10))
 		pg := tab.NewPointGeometry()
 		vol := 0.0
 		for q := 0; q < tab.NumPoints(); q++ {
@@ -68,7 +68,7 @@ func TestDivergenceTheorem(t *testing.T) {
 			if d > 1 {
 				rule = quadrature.For(c.FacetType(), 10)
 			}
-			ft := tc.e.TabulateFacet(tc.e, f, rule)
+			ft := tc.e.SampleFacet(tc.e, f, rule)
 			fg := ft.NewPointGeometry()
 			for q := 0; q < ft.NumPoints(); q++ {
 				if err := ft.Map(tc.coords, q, fg); err != nil {
@@ -106,7 +106,7 @@ func TestFacetAffineTriangle(t *testing.T) {
 		{0, 2.5, [2]float64{0.8, 0.6}},
 		{2, math.Sqrt(5), [2]float64{1 / math.Sqrt(5), -2 / math.Sqrt(5)}},
 	} {
-		ft := p1.TabulateFacet(p1, tc.f, quadrature.For(cell.Segment, 1))
+		ft := p1.SampleFacet(p1, tc.f, quadrature.For(cell.Segment, 1))
 		pg := ft.NewPointGeometry()
 		l := 0.0
 		for q := 0; q < ft.NumPoints(); q++ {

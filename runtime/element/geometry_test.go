@@ -84,7 +84,7 @@ func checkMapFD(t *testing.T, name string, e, g *Element, coords []float64, rng 
 	d := e.Dim()
 	for range 4 {
 		xi0 := randomPoint(rng, e.Cell)
-		tab := e.TabulateWith(g, onePoint(e.Cell, xi0))
+		tab := e.SampleWith(g, onePoint(e.Cell, xi0))
 		pg := tab.NewPointGeometry()
 		if err := tab.Map(coords, 0, pg); err != nil {
 			t.Fatalf("%s: %v", name, err)
@@ -127,7 +127,7 @@ func TestMapCurvedFD(t *testing.T) {
 	// Q1 trapezoid: bilinear map with non-zero mixed second derivative.
 	q1 := MustLagrange(cell.Quadrilateral, 1)
 	checkMapFD(t, "Q1 trapezoid", q1, q1, []float64{0, 0, 4, 0, 3, 2, 0.5, 2.5}, rng)
-	// Q2 field on the Q1 trapezoid geometry (TabulateWith).
+	// Q2 field on the Q1 trapezoid geometry (SampleWith).
 	checkMapFD(t, "Q2 on Q1 trapezoid", MustLagrange(cell.Quadrilateral, 2), q1, []float64{0, 0, 4, 0, 3, 2, 0.5, 2.5}, rng)
 	// Curved P2 tetrahedron: edge (0,1) midpoint moved.
 	p2t := MustLagrange(cell.Tetrahedron, 2)
@@ -152,7 +152,7 @@ func TestMapAffineTriangle(t *testing.T) {
 	wantJ := []float64{2, 0.5, 1, 3} // [x1-x0, x2-x0; y1-y0, y2-y0]
 	rule := quadrature.For(cell.Triangle, 4)
 	p1 := MustLagrange(cell.Triangle, 1)
-	tab := p1.Tabulate(rule)
+	tab := p1.Sample(rule)
 	pg := tab.NewPointGeometry()
 	area := 0.0
 	for q := 0; q < rule.NumPoints(); q++ {
@@ -184,7 +184,7 @@ func TestMapAffineTriangle(t *testing.T) {
 	coords := nodeCoords(p2, func(x []float64) []float64 {
 		return []float64{v[0] + wantJ[0]*x[0] + wantJ[1]*x[1], v[1] + wantJ[2]*x[0] + wantJ[3]*x[1]}
 	})
-	tab2 := p2.Tabulate(rule)
+	tab2 := p2.Sample(rule)
 	pg2 := tab2.NewPointGeometry()
 	type quadFn struct {
 		f    func(x, y float64) float64
@@ -249,7 +249,7 @@ func TestMetricRotated(t *testing.T) {
 			return []float64{2 + R[0]*a + R[1]*b, -1 + R[2]*a + R[3]*b}
 		})
 		rule := quadrature.For(tc.c, 1)
-		tab := e.Tabulate(rule)
+		tab := e.Sample(rule)
 		pg := tab.NewPointGeometry()
 		if err := tab.Map(coords, 0, pg); err != nil {
 			t.Fatal(err)
@@ -277,7 +277,7 @@ func TestMetricRotated(t *testing.T) {
 // chord √2, area 1/2 + 4δ/3.
 func TestIntegrateOne(t *testing.T) {
 	integrate := func(e, g *Element, coords []float64, degree int) float64 {
-		tab := e.TabulateWith(g, quadrature.For(e.Cell, degree))
+		tab := e.SampleWith(g, quadrature.For(e.Cell, degree))
 		pg := tab.NewPointGeometry()
 		s := 0.0
 		for q := 0; q < tab.NumPoints(); q++ {
@@ -325,7 +325,7 @@ func TestIntegrateOne(t *testing.T) {
 
 func TestMapInvertedAndAllocs(t *testing.T) {
 	e := MustLagrange(cell.Triangle, 2)
-	tab := e.TabulateWith(MustLagrange(cell.Triangle, 1), quadrature.For(cell.Triangle, 4))
+	tab := e.SampleWith(MustLagrange(cell.Triangle, 1), quadrature.For(cell.Triangle, 4))
 	pg := tab.NewPointGeometry()
 	err := tab.Map([]float64{0, 0, 0, 1, 1, 0}, 0, pg) // clockwise
 	var je *JacobianError
@@ -343,7 +343,7 @@ func TestMapInvertedAndAllocs(t *testing.T) {
 		t.Errorf("Map: %v allocations per run", a)
 	}
 	h := MustLagrange(cell.Hexahedron, 2)
-	th := h.Tabulate(quadrature.For(cell.Hexahedron, 4))
+	th := h.Sample(quadrature.For(cell.Hexahedron, 4))
 	ph := th.NewPointGeometry()
 	hc := h.RefNodes()
 	if a := testing.AllocsPerRun(20, func() { _ = th.Map(hc, 3, ph) }); a != 0 {
@@ -355,8 +355,8 @@ func TestMapInvertedAndAllocs(t *testing.T) {
 func TestNoHessians(t *testing.T) {
 	e := MustLagrange(cell.Quadrilateral, 2)
 	coords := nodeCoords(e, func(x []float64) []float64 { return []float64{x[0] + 0.1*x[1]*x[1], 2 * x[1]} })
-	a := e.Tabulate(quadrature.For(cell.Quadrilateral, 3))
-	b := e.Tabulate(quadrature.For(cell.Quadrilateral, 3))
+	a := e.Sample(quadrature.For(cell.Quadrilateral, 3))
+	b := e.Sample(quadrature.For(cell.Quadrilateral, 3))
 	b.NoHessians = true
 	pa, pb := a.NewPointGeometry(), b.NewPointGeometry()
 	for i := range pb.Hess {

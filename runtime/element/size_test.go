@@ -94,7 +94,7 @@ var sizeSink float64
 
 func benchmarkMap(b *testing.B, c cell.Type, degree int) {
 	e := MustLagrange(c, degree)
-	tab := e.Tabulate(quadrature.For(c, 2*degree))
+	tab := e.Sample(quadrature.For(c, 2*degree))
 	pg := tab.NewPointGeometry()
 	coords := e.RefNodes()
 	for i := range coords {

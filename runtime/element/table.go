@@ -18,7 +18,7 @@ type Table struct {
 	// weights are scaled by cell.Type.FacetScale (they sum to the measure
 	// of the reference facet).
 	Rule quadrature.Rule
-	// Facet is the local facet of a table made by TabulateFacet, else -1.
+	// Facet is the local facet of a table made by SampleFacet, else -1.
 	Facet int
 
 	// Values[q*NumNodes+i] = φ_i(ξ_q).
@@ -36,17 +36,17 @@ type Table struct {
 	geomValues, geomGrads, geomHess []float64
 }
 
-// Tabulate tabulates e at the points of rule, using e itself as the
+// Sample evaluates e at the points of rule, using e itself as the
 // geometry element (isoparametric map).
-func (e *Element) Tabulate(rule quadrature.Rule) *Table { return e.TabulateWith(e, rule) }
+func (e *Element) Sample(rule quadrature.Rule) *Table { return e.SampleWith(e, rule) }
 
-// TabulateWith tabulates e at the points of rule, with the map to physical
+// SampleWith evaluates e at the points of rule, with the map to physical
 // cells defined by the nodes of geom (e.g. a P1 geometry for a P2 field on
 // straight-sided cells, when only vertex coordinates are at hand). It
 // panics if the cells differ.
-func (e *Element) TabulateWith(geom *Element, rule quadrature.Rule) *Table {
+func (e *Element) SampleWith(geom *Element, rule quadrature.Rule) *Table {
 	if geom.Cell != e.Cell || rule.Cell != e.Cell {
-		panic(fmt.Sprintf("element: tabulating %v with geometry on %v and rule on %v", e.Cell, geom.Cell, rule.Cell))
+		panic(fmt.Sprintf("element: sampling %v with geometry on %v and rule on %v", e.Cell, geom.Cell, rule.Cell))
 	}
 	t := &Table{Element: e, Geometry: geom, Rule: rule, Facet: -1}
 	t.Values, t.Grads, t.Hess = tab(e, rule)
@@ -70,13 +70,13 @@ func tab(e *Element, rule quadrature.Rule) (v, g, h []float64) {
 	return v, g, h
 }
 
-// TabulateFacet tabulates e, with geometry element geom, at the points of
+// SampleFacet evaluates e, with geometry element geom, at the points of
 // a rule on the facet reference cell (rule.Cell == e.Cell.FacetType())
 // mapped onto local facet f by cell.Type.FacetPoint. On the interval a
 // facet is a point: rule is ignored and the table has one point of
 // weight 1. Map on the result also fills PointGeometry.Normal, and its
 // Weight is the surface weight (see Map).
-func (e *Element) TabulateFacet(geom *Element, f int, rule quadrature.Rule) *Table {
+func (e *Element) SampleFacet(geom *Element, f int, rule quadrature.Rule) *Table {
 	c, d := e.Cell, e.dim
 	if f < 0 || f >= c.NumFacets() {
 		panic(fmt.Sprintf("element: facet %d of a %v", f, c))
@@ -98,7 +98,7 @@ func (e *Element) TabulateFacet(geom *Element, f int, rule quadrature.Rule) *Tab
 			mapped.Weights[q] = rule.Weights[q] * scale
 		}
 	}
-	t := e.TabulateWith(geom, mapped)
+	t := e.SampleWith(geom, mapped)
 	t.Facet = f
 	return t
 }
@@ -164,7 +164,7 @@ func (e *JacobianError) Error() string {
 // node-major). It allocates nothing. If det J <= 0 it returns a
 // *JacobianError; X, J and DetJ are filled, the rest is not.
 //
-// On a facet table (TabulateFacet) it also fills Normal, the outward unit
+// On a facet table (SampleFacet) it also fills Normal, the outward unit
 // normal n = J^{-T}N/|J^{-T}N| for the reference normal N, and Weight is
 // the surface weight w_q |det J| |J^{-T}N| (Nanson's formula
 // n da = det J J^{-T} N dA; e.g. G. A. Holzapfel, Nonlinear Solid Mechanics

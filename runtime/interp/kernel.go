@@ -466,7 +466,7 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *kernel.
 // the physical Hessians when no term or previous-iterate value needs a
 // second derivative of that element's basis.
 func (it *integrand) table(ei int, e, geom *element.Element, rule quadrature.Rule) *element.Table {
-	t := e.TabulateWith(geom, rule)
+	t := e.SampleWith(geom, rule)
 	t.NoHessians = true
 	for _, v := range it.vecs {
 		if v.elem == ei && int(v.D[0])+int(v.D[1])+int(v.D[2]) == 2 {

@@ -78,7 +78,7 @@ func (s *Solution) errorIntegrals(field int, exact Exact, t float64, degree int)
 	}
 	rule := quadrature.For(dm.Cell, degree)
 	geom := element.MustLagrange(dm.Cell, 1)
-	tab := e.TabulateWith(geom, rule)
+	tab := e.SampleWith(geom, rule)
 	pg := tab.NewPointGeometry()
 	d, nn, nc := dm.Dim, e.NumNodes(), f.Components
 	u, gu := make([]float64, nc), make([]float64, nc*d)

@@ -15,13 +15,13 @@ import (
 
 // DofMap numbers the form's unknowns on m as Solve does (runtime/dof, with
 // the elements of kernel.LayoutFor).
-func DofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Map, error) { return dofMap(form, m) }
+func DofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Numbering, error) { return dofMap(form, m) }
 
 // ValueConditions evaluates the form's value conditions at time t at the
 // boundary nodes, as Solve does: fixed[i] marks a prescribed dof of dm and
 // values[i] is its value (later conditions win where sides meet). Mean
 // conditions are not included (see MeanConditions).
-func ValueConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) (fixed []bool, values []float64, err error) {
+func ValueConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, t float64) (fixed []bool, values []float64, err error) {
 	return dirichlet(form, m, dm, t)
 }
 
@@ -38,7 +38,7 @@ type MeanCondition struct {
 
 // MeanConditions returns the form's mean conditions on dm, checked as
 // Solve checks them.
-func MeanConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]MeanCondition, error) {
+func MeanConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering) ([]MeanCondition, error) {
 	fixes, err := newMeanFixes(form, m, dm)
 	if err != nil {
 		return nil, err
@@ -55,7 +55,7 @@ func MeanConditions(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]MeanCond
 // that engine's summary; it fills the fields, their ranges and, when the
 // summary has none, the quadrature (the form's own rule). The solution
 // has no Matrix or RHS.
-func NewSolution(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, x []float64, sum Summary) (*Solution, error) {
+func NewSolution(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, x []float64, sum Summary) (*Solution, error) {
 	if len(x) != dm.NumDofs {
 		return nil, fmt.Errorf("problem: a solution of %d values for %d dofs", len(x), dm.NumDofs)
 	}

@@ -27,7 +27,7 @@ type meanFix struct {
 	target float64
 }
 
-func newMeanFixes(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]meanFix, error) {
+func newMeanFixes(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering) ([]meanFix, error) {
 	var out []meanFix
 	for _, mc := range form.Means {
 		if mc.Unknown < 0 || mc.Unknown >= len(dm.Fields) {
@@ -63,11 +63,11 @@ func newMeanFixes(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map) ([]meanFix, e
 // nodeIntegrals returns ∫_Ω φ_n for every node n of a scalar field, by the
 // quadrature of degree 2k+1 for elements of degree k (exact on affine
 // cells).
-func nodeIntegrals(m *mesh.Mesh, dm *dof.Map, field int) ([]float64, error) {
+func nodeIntegrals(m *mesh.Mesh, dm *dof.Numbering, field int) ([]float64, error) {
 	f := dm.Fields[field]
 	e := f.Element
 	rule := quadrature.For(dm.Cell, 2*e.Degree+1)
-	tab := e.TabulateWith(element.MustLagrange(dm.Cell, 1), rule)
+	tab := e.SampleWith(element.MustLagrange(dm.Cell, 1), rule)
 	pg := tab.NewPointGeometry()
 	w := make([]float64, f.NumNodes)
 	var coords []float64

@@ -117,7 +117,7 @@ func TestH10ProjectionOrthogonality(t *testing.T) {
 		}
 		e := element.MustLagrange(cell.Triangle, deg)
 		rule := quadrature.For(cell.Triangle, 8)
-		tab := e.TabulateWith(element.MustLagrange(cell.Triangle, 1), rule)
+		tab := e.SampleWith(element.MustLagrange(cell.Triangle, 1), rule)
 		pg := tab.NewPointGeometry()
 		r := make([]float64, dm.NumDofs)
 		var coords []float64

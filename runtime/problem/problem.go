@@ -186,7 +186,7 @@ type FieldValues struct {
 type Solution struct {
 	Form *ir.LoweredForm
 	Mesh *mesh.Mesh
-	Dofs *dof.Map
+	Dofs *dof.Numbering
 	X    []float64 // global dof vector (runtime/dof order)
 	// Time is the t the solution belongs to (the new level of a time step).
 	Time   float64
@@ -213,7 +213,7 @@ func (e *PicardError) Error() string {
 
 // dofMap numbers the form's fields on the mesh, with the elements the
 // kernels use (kernel.LayoutFor).
-func dofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Map, error) {
+func dofMap(form *ir.LoweredForm, m *mesh.Mesh) (*dof.Numbering, error) {
 	lay, err := kernel.LayoutFor(form, m.Cell)
 	if err != nil {
 		return nil, err
@@ -278,7 +278,7 @@ func compiledKernels(form *ir.LoweredForm, c cell.Type, degree int) *KernelSet {
 type system struct {
 	form     *ir.LoweredForm
 	m        *mesh.Mesh
-	dm       *dof.Map
+	dm       *dof.Numbering
 	layout   *linsolve.Layout
 	cellK    kernel.Kernel
 	facetK   []kernel.FacetKernel
@@ -627,7 +627,7 @@ func (s *system) assemble(in assemble.Input) error {
 // elimination (assemble.Constrain), which is what Solve hands to the
 // linear solver. Rows and columns are dofs numbered by Dofs.
 type Assembled struct {
-	Dofs           *dof.Map
+	Dofs           *dof.Numbering
 	Matrix         *sparse.CSR
 	RHS            []float64
 	Fixed          []bool
@@ -714,7 +714,7 @@ func chooseSolver(opts Options, A *sparse.CSR, layout *linsolve.Layout) (linsolv
 
 // layoutOf describes the fields of a dof numbering to the linear solvers:
 // offsets, nodes and components, and which fields are constraints (ir.LoweredUnknown.Constraint).
-func layoutOf(form *ir.LoweredForm, dm *dof.Map) *linsolve.Layout {
+func layoutOf(form *ir.LoweredForm, dm *dof.Numbering) *linsolve.Layout {
 	l := &linsolve.Layout{}
 	for k, f := range dm.Fields {
 		l.Fields = append(l.Fields, linsolve.FieldBlock{Name: f.Name, Offset: f.Offset, Nodes: f.NumNodes,
@@ -728,7 +728,7 @@ func layoutOf(form *ir.LoweredForm, dm *dof.Map) *linsolve.Layout {
 var ErrNoSide = errors.New("side not in the mesh")
 
 // dirichlet evaluates the value conditions at the boundary nodes.
-func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Map, t float64) ([]bool, []float64, error) {
+func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, t float64) ([]bool, []float64, error) {
 	fixed := make([]bool, dm.NumDofs)
 	values := make([]float64, dm.NumDofs)
 	if len(form.Dirichlet) == 0 {

@@ -108,7 +108,7 @@ func (s *system) march(so Options, x []float64, opts TransientOptions) (*Solutio
 
 // initialValues evaluates opts.Initial at the nodes of each field (zero
 // where there is none).
-func initialValues(dm *dof.Map, opts TransientOptions) []float64 {
+func initialValues(dm *dof.Numbering, opts TransientOptions) []float64 {
 	x := make([]float64, dm.NumDofs)
 	for k, f := range dm.Fields {
 		if k >= len(opts.Initial) || opts.Initial[k] == nil {
