@@ -65,7 +65,7 @@ unknown u: scalar P1
 given a = 1
 given k = %s
 given s = %s
-given h = cell_diameter
+given h = diam(K)
 equation for u: a*partial(u, x) - partial(k*partial(u, x), x) = s
 at left: u = 0
 at right: u = 1
@@ -296,7 +296,7 @@ use tau
 unknown u: scalar P1
 given a = [1, 1/2]
 given k = 1 + x*y
-given h = cell_diameter
+given h = diam(K)
 equation for u: a . grad(u) - div(k*grad(u)) + u = 1
 at left, bottom: u = 0
 at right: flux(u) = 0
@@ -408,7 +408,7 @@ use tau
 unknown vel: vector P1
 unknown p: scalar P1
 given nu = 1
-given h = cell_diameter
+given h = diam(K)
 equation for vel: -div(nu*grad(vel)) + grad(p) = [0, 0]
 equation for p: div(vel) = 0
 at all: vel = [0, 0]
@@ -517,7 +517,7 @@ dimension 2
 unknown u: scalar P1
 given k = 1/10
 given a = [1, 1/2]
-equation for u: dt(u) + a . grad(u) - div(k*grad(u)) = 0
+equation for u: partial(u, t) + a . grad(u) - div(k*grad(u)) = 0
 at all: u = 0
 `)
 	var out, errb bytes.Buffer
@@ -545,9 +545,9 @@ dimension 2
 unknown vel: vector P1
 unknown p: scalar P1
 given nu = 1/10
-given h = cell_diameter
+given h = diam(K)
 given initial_vel = [-cos(x)*sin(y), sin(x)*cos(y)]
-equation for vel: dt(vel) + grad(vel) . previous(vel) - div(nu*grad(vel)) + grad(p) = [0, 0]
+equation for vel: partial(vel, t) + grad(vel) . previous(vel) - div(nu*grad(vel)) + grad(p) = [0, 0]
 equation for p: div(vel) = 0
 at all: vel = [-cos(x)*sin(y)*exp(-2*nu*t), sin(x)*cos(y)*exp(-2*nu*t)]
 mean p = 0
@@ -635,7 +635,7 @@ unknown u: scalar P1
 given a = 1
 given nu = 1/100
 given s = 5*exp(-100*(x - 1/8)^2) - 5*exp(-100*(x - 1/4)^2)
-given h = cell_diameter
+given h = diam(K)
 equation for u: a*partial(u, x) - nu*partial(u, x, x) = s
 at left, right: u = 0
 stabilise supg

@@ -3,6 +3,7 @@ package compiler
 import (
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"github.com/formwright/formwright/lang/source/expect"
@@ -38,4 +39,40 @@ func TestBadInputs(t *testing.T) {
 			}
 		})
 	}
+}
+
+// The spellings of earlier versions say what to write instead (the
+// hint beside the positioned error), so that an old model can be
+// updated from the messages alone.
+func TestRetiredSpellingsHint(t *testing.T) {
+	errs := checkErrors("testdata/bad/retired.fw", mustRead(t, "testdata/bad/retired.fw"))
+	want := map[string]string{
+		"cell_diameter is": "write diam(K)",
+		"cell_volume is":   "write meas(K)",
+		"dt(...) is":       "write partial(u, t)",
+		"diam takes":       "write diam(K), K being the cell",
+	}
+	for prefix, hint := range want {
+		found := false
+		for _, e := range errs {
+			if strings.HasPrefix(e.Msg, prefix) {
+				found = true
+				if e.Hint != hint {
+					t.Errorf("%q: hint %q, want %q", e.Msg, e.Hint, hint)
+				}
+			}
+		}
+		if !found {
+			t.Errorf("no error starting %q", prefix)
+		}
+	}
+}
+
+func mustRead(t *testing.T, path string) string {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
 }

@@ -28,9 +28,17 @@ type CheckOptions struct {
 }
 
 // builtinNames lists every name the language defines, for "did you mean".
-var builtinNames = []string{"grad", "div", "lap", "laplacian", "dt", "partial", "dot", "ddot", "outer",
+var builtinNames = []string{"grad", "div", "lap", "laplacian", "partial", "dot", "ddot", "outer",
 	"norm", "pow", "test", "previous", "increment", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
-	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "cell_diameter", "cell_volume", "G", "inverse_estimate", "time_step"}
+	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "diam", "meas", "G", "inverse_estimate", "time_step"}
+
+// retiredNames are spellings of earlier versions of the language, with
+// what to write instead.
+var retiredNames = map[string]string{
+	"cell_diameter": "diam(K)",
+	"cell_volume":   "meas(K)",
+	"dt":            "partial(u, t)",
+}
 
 // defaultSides are the side names of the built-in meshes, by dimension.
 var defaultSides = map[int][]string{
@@ -243,7 +251,7 @@ func (c *checker) checkTimeStep() {
 	for _, e := range uses {
 		if at := firstUse(e); at != nil {
 			p := at.Pos()
-			c.errorf(p, p, "time_step is the Δt of a transient model (one with dt(...)); give a steady model's value as a coefficient", "time_step in a model without time derivatives")
+			c.errorf(p, p, "time_step is the Δt of a transient model (one with partial(u, t)); give a steady model's value as a coefficient", "time_step in a model without time derivatives")
 			return
 		}
 	}
@@ -818,6 +826,10 @@ func (c *checker) ident(e *lang.Ident) ir.Expr {
 	if q, ok := ir.QuantityByName(e.Name); ok {
 		return &ir.Sym{At: at, Name: e.Name, Kind: ir.CellQuantity, R: q.Rank(), Q: q}
 	}
+	if now, ok := retiredNames[e.Name]; ok && c.coefs[e.Name] == nil && c.unknowns[e.Name] == nil {
+		c.errorf(e.Pos(), e.End(), "write "+now, "%s is the spelling of an earlier version", e.Name)
+		return nil
+	}
 	if u, ok := c.unknowns[e.Name]; ok {
 		return &ir.Field{At: at, Name: u.Name, Index: u.Index, Role: ir.Trial, R: u.Rank}
 	}
@@ -956,10 +968,37 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 			role = ir.Increment
 		}
 		return &ir.Field{At: at, Name: u.Name, Index: u.Index, Role: role, R: u.Rank}
+	case "diam", "meas":
+		// diam(K) and meas(K): the diameter and the measure of the cell.
+		if id, ok := singleIdent(e.Args); !ok || id.Name != "K" {
+			at, end := e.FuncPos, e.End()
+			if len(e.Args) == 1 {
+				at, end = e.Args[0].Pos(), e.Args[0].End()
+			}
+			c.errorf(at, end, fmt.Sprintf("write %s(K), K being the cell", e.Func), "%s takes the cell K", e.Func)
+			return nil
+		}
+		q, _ := ir.QuantityByName(e.Func + "(K)")
+		return &ir.Sym{At: at, Name: q.String(), Kind: ir.CellQuantity, R: q.Rank(), Q: q}
+	case "dt":
+		c.errorf(e.FuncPos, e.End(), "write partial(u, t)", "dt(...) is the spelling of an earlier version")
+		return nil
 	case "partial":
 		if len(e.Args) < 2 {
-			c.errorf(e.FuncPos, e.End(), "write partial(u, x) or partial(u, x, y)", "partial needs an expression and at least one coordinate")
+			c.errorf(e.FuncPos, e.End(), "write partial(u, x), partial(u, x, y) or partial(u, t)", "partial needs an expression and at least one coordinate")
 			return nil
+		}
+		if id, ok := e.Args[1].(*lang.Ident); ok && id.Name == "t" {
+			// The time derivative: partial(u, t), first order, alone.
+			if len(e.Args) != 2 {
+				c.errorf(e.Args[2].Pos(), e.End(), "write partial(u, t) alone; a derivative in time and space is not part of the language", "partial in t takes one expression and t")
+				return nil
+			}
+			x := c.expr(e.Args[0])
+			if x == nil {
+				return nil
+			}
+			return &ir.TimeDeriv{At: at, X: x}
 		}
 		x := c.expr(e.Args[0])
 		if x == nil {
@@ -1011,11 +1050,6 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 			return nil
 		}
 		return &ir.Lap{At: at, X: args[0]}
-	case "dt":
-		if !nargs(1) {
-			return nil
-		}
-		return &ir.TimeDeriv{At: at, X: args[0]}
 	case "dot":
 		if !nargs(2) {
 			return nil
@@ -1066,6 +1100,15 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 		}
 	}
 	return &ir.Call{At: at, Fn: fn, Args: args}
+}
+
+// singleIdent returns the only argument if it is a name.
+func singleIdent(args []lang.Expr) (*lang.Ident, bool) {
+	if len(args) != 1 {
+		return nil, false
+	}
+	id, ok := args[0].(*lang.Ident)
+	return id, ok
 }
 
 func plural(n int) string {

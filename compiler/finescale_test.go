@@ -188,7 +188,7 @@ use tau
 unknown vel: vector P1
 unknown p: scalar P1
 given nu = 1/10
-given h = cell_diameter
+given h = diam(K)
 equation for vel: div(outer(vel, previous(vel))) - div(nu*grad(vel)) + grad(p) = [0, 0]
 equation for p: div(vel) + p/10000000 = 0
 at all: vel = [0, 0]

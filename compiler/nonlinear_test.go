@@ -244,7 +244,7 @@ func TestNonlinearLowering(t *testing.T) {
 // unknown are accepted; a coefficient that reads it is still an error,
 // whose hint names the formula alternative.
 func TestNonlinearModelsCheck(t *testing.T) {
-	m := mustModel(t, "model nl\ndimension 2\nuse tau\nunknown u: scalar P1\ngiven h = cell_diameter\nequation for u: -lap(u) + u^3 + sin(u)*partial(u, y) = 1\nstabilise supg\ntau for u = tau_codina(abs(u), 1, 0, h)\n")
+	m := mustModel(t, "model nl\ndimension 2\nuse tau\nunknown u: scalar P1\ngiven h = diam(K)\nequation for u: -lap(u) + u^3 + sin(u)*partial(u, y) = 1\nstabilise supg\ntau for u = tau_codina(abs(u), 1, 0, h)\n")
 	if !m.Nonlinear() {
 		t.Error("u³ and sin(u) ∂ᵧu: the model should be nonlinear")
 	}
@@ -263,8 +263,8 @@ dimension 2
 unknown vel: vector P1
 unknown p: scalar P1
 given nu = 1/10
-given h = cell_diameter
-equation for vel: dt(vel) + grad(vel) . vel - div(nu*grad(vel)) + grad(p) = [0, 0]
+given h = diam(K)
+equation for vel: partial(vel, t) + grad(vel) . vel - div(nu*grad(vel)) + grad(p) = [0, 0]
 equation for p: div(vel) = 0
 at all: vel = [0, 0]
 mean p = 0

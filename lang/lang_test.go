@@ -126,7 +126,7 @@ given a (list 1 0.5)
 given kappa (* 1e-3 (+ 1 (^ x 2)))
 given sigma 0
 given f (call exp (* (neg- 10) (+ (^ (- x 0.5) 2) (^ y 2))))
-given h cell_diameter
+given h (call diam K)
 formula peclet (speed,k,size) (/ (* speed size) (* 2 k))
 equation c (+ (- (. a (call grad c)) (call div (* kappa (call grad c)))) (* sigma c)) f
 at left,bottom flux=false c 0
@@ -159,7 +159,7 @@ mean p 0
 stabilise gls
 tau vel (/ (^ h 2) (* 4 nu))
 tau p (* 4 nu)
-given h cell_diameter
+given h (call diam K)
 `
 	if got := dump(f); got != want {
 		t.Errorf("tree:\n%s\nwant:\n%s", got, want)

@@ -266,7 +266,7 @@ func (d *dag) mul(xs ...int) int {
 		return d.konst(c)
 	}
 	sort.Ints(fs)
-	// √y·√y = y (cell_diameter² from the diameter's square root).
+	// √y·√y = y (diam(K)² from the diameter's square root).
 	for i := 0; i+1 < len(fs); i++ {
 		n := &d.nodes[fs[i]]
 		if fs[i] == fs[i+1] && n.op == opFn && n.fn == ir.Sqrt {

@@ -55,7 +55,7 @@
 // DAG (dag.go: common-subexpression elimination and constant folding over
 // geometry, coefficients, τ and residual together), tagged with the level
 // it varies at: constants are folded at generation time, cell-constant
-// values (cell_diameter, cell_volume, the Jacobian and G of affine cells,
+// values (diam(K), meas(K), the Jacobian and G of affine cells,
 // coefficients without x or previous iterates) are computed once per cell
 // before the quadrature loop, and the rest once per point. Basis
 // functions are unrolled and their tabulated reference values are

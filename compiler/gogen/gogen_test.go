@@ -42,7 +42,7 @@ use tau
 unknown c: scalar P1
 given a = [1]
 given kappa = 1/20
-given h = cell_diameter
+given h = diam(K)
 equation for c: a . grad(c) - div(kappa*grad(c)) = 1
 at left: c = 0
 at right: flux(c) = 1/2 - c

@@ -632,7 +632,7 @@ func (w *goWriter) tables(kf *kernelFile) ast.Decl {
 func cellIdent(c cell.Type) string {
 	switch c {
 	case cell.Segment:
-		return "Interval"
+		return "Segment"
 	case cell.Triangle:
 		return "Triangle"
 	case cell.Tetrahedron:

@@ -104,7 +104,7 @@ func modelCases(t testing.TB) []modelCase {
 	}
 	adr := func(dim int, elem, a, kappa string) string {
 		return "model adr_variant\ndimension " + string(rune('0'+dim)) + "\nuse tau\nunknown c: scalar " + elem +
-			"\ngiven a = " + a + "\ngiven kappa = " + kappa + "\ngiven sigma = 1/10\ngiven f = 1 + x\ngiven h = cell_diameter\n" +
+			"\ngiven a = " + a + "\ngiven kappa = " + kappa + "\ngiven sigma = 1/10\ngiven f = 1 + x\ngiven h = diam(K)\n" +
 			"equation for c: a . grad(c) - div(kappa*grad(c)) + sigma*c = f\nat all: c = 0\nstabilise galerkin, supg, gls, vms\n" +
 			"tau for c = tau_codina(norm(a), kappa, sigma, h)\n"
 	}
@@ -129,7 +129,7 @@ unknown c: scalar P1
 given a = [1, 0.5]
 given kappa = 1e-3 * (1 + x^2)
 given f = exp(-10*((x-0.5)^2 + y^2)) * (1 + t)
-given h = h_disc(cell_volume)
+given h = h_disc(meas(K))
 equation for c: a . grad(c) - div(kappa*grad(c)) = f
 at left, bottom: c = 0
 at right: flux(c) = x*y
@@ -159,8 +159,8 @@ use tau
 unknown u: scalar Q2
 given a = [1, 1/2]
 given k = 1/20
-given h = cell_diameter
-equation for u: dt(u) + a . grad(u) - div(k*grad(u)) = (1 + t)*x
+given h = diam(K)
+equation for u: partial(u, t) + a . grad(u) - div(k*grad(u)) = (1 + t)*x
 at all: u = 0
 stabilise galerkin, supg, gls, vms
 tau for u = tau_shakib(norm(a), k, h, time_step)
@@ -201,7 +201,7 @@ at return_: flux(func) = 1
 at _: flux(func) = 2 - func
 at go: flux(func) = return_ * x
 stabilise galerkin, supg
-tau for func = 1/(2/cell_diameter + 4*x_/cell_diameter^2)
+tau for func = 1/(2/diam(K) + 4*x_/diam(K)^2)
 `
 
 // hostileLocals has coefficients, varying in the cell so that they become
@@ -227,7 +227,7 @@ given a = [3 + x, 4 + y]
 equation for u: int . grad(u) - div(class*grad(u)) + NAN*u = len + detJ + fwFillNaN + m_len + A + q + a_1 + a . a
 at all: u = 0
 stabilise galerkin, supg
-tau for u = tau_codina(norm(int), class, NAN, cell_diameter)
+tau for u = tau_codina(norm(int), class, NAN, diam(K))
 `
 
 const robinQ = `model robin_q
@@ -236,7 +236,7 @@ use tau, sizes
 unknown c: scalar Q1
 given a = [1, 0.5]
 given kappa = 1/100
-given h = h_disc(cell_volume) + 0*cell_diameter
+given h = h_disc(meas(K)) + 0*diam(K)
 equation for c: a . grad(c) - div(kappa*grad(c)) = 1
 at left: c = 0
 at top: flux(c) = 2*(1 - c)*(1 + x)
@@ -252,7 +252,7 @@ unknown vel: vector Q1
 unknown p: scalar Q1
 given nu = 1
 given g = [0, 0]
-given h = cell_diameter
+given h = diam(K)
 equation for vel: -div(nu*grad(vel)) + grad(p) = g
 equation for p: div(vel) = 0
 at all: vel = [0, 0]
@@ -269,7 +269,7 @@ unknown c: scalar ` + elem + `
 given a = [1 + sin(x)*cos(y), tanh(x - y)/2]
 given kappa = (2 + sign(x - 1/2)*coth(2 + y) + min(x, y) + max(x, 1/3))/50
 given sigma = tan(x/4) + sinh(x)*cosh(y)/10 + log(2 + x) + (1 + x^2)^(1/3) + (2 + y)^(-2) + abs(x - y) + exp(-x) + sqrt(1 + y^2)
-given h = cell_diameter
+given h = diam(K)
 equation for c: a . grad(c) - div(kappa*grad(c)) + sigma*c = pi*x
 at left: c = 0
 at top: flux(c) = sign(x - 1/2) + min(x, 1/2)*c

@@ -2,8 +2,8 @@ package ir
 
 // Quantity is a quantity of the cell, of its facet or of the
 // discretisation that expressions may read by name: the typed table
-// behind the model names cell_diameter, cell_volume, G, n, time_step and
-// inverse_estimate. The checker resolves names through it, lowering writes
+// behind the model spellings diam(K) and meas(K) (the diameter and the
+// measure of the cell K), G, n, time_step and inverse_estimate. The checker resolves names through it, lowering writes
 // CellQ leaves of it, and the evaluators and back ends switch on it.
 type Quantity uint8
 
@@ -55,8 +55,8 @@ type quantityInfo struct {
 }
 
 var quantities = [numQuantities]quantityInfo{
-	Diameter:        {name: "cell_diameter", variation: PerCell},
-	Volume:          {name: "cell_volume", variation: PerCell},
+	Diameter:        {name: "diam(K)", variation: PerCell},
+	Volume:          {name: "meas(K)", variation: PerCell},
 	Metric:          {name: "G", rank: 2, variation: PerPoint},
 	Normal:          {name: "n", rank: 1, variation: PerPoint, derived: true},
 	TimeStep:        {name: "time_step", variation: PerStep},

@@ -244,7 +244,7 @@ func (p printer) expr(e ir.Expr) (string, int) {
 	case *ir.TimeDeriv:
 		switch p.style {
 		case Syntax:
-			return "dt(" + p.sub(e.X, 0) + ")", precAtom
+			return "partial(" + p.sub(e.X, 0) + ", t)", precAtom
 		case LaTeX:
 			return `\partial_{t} ` + p.sub(e.X, precAtom), precUnary
 		}
@@ -293,7 +293,7 @@ func (p printer) fieldD(f *ir.FieldD) string {
 		}
 	}
 	for i := 0; i < int(f.DT); i++ {
-		base = "dt(" + base + ")"
+		base = "partial(" + base + ", t)"
 	}
 	if len(axes) == 0 {
 		return base
@@ -333,14 +333,14 @@ func (p printer) sym(s *ir.Sym) string {
 		}
 	}
 	switch s.Name {
-	case "cell_diameter":
+	case "diam(K)":
 		switch p.style {
 		case Text:
 			return "h_K"
 		case LaTeX:
 			return `h_K`
 		}
-	case "cell_volume":
+	case "meas(K)":
 		switch p.style {
 		case Text:
 			return "|K|"

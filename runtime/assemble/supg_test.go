@@ -40,7 +40,7 @@ func fd(f *ir.Field, d ...uint8) *ir.FieldD {
 //
 //	∫ k ∇c·∇v + (a·∇c) v + τ (a·∇c)(a·∇v)  =  ∫ f v + τ f (a·∇v),
 //
-// τ = h/(2|a|)(coth α − 1/α), α = |a|h/(2k), h = cell_diameter (Brooks &
+// τ = h/(2|a|)(coth α − 1/α), α = |a|h/(2k), h = diam(K) (Brooks &
 // Hughes 1982, CMAME 32); the −kΔc part of the residual vanishes on P1.
 func supgForm() *ir.LoweredForm {
 	a := []ir.Expr{num(1, 1), num(1, 2)}

@@ -19,7 +19,7 @@ unknown u: scalar Q2
 given k = 1 + x*y
 given a = [1/2, 1/4]
 given f = 1 + x
-given h = cell_diameter
+given h = diam(K)
 equation for u: a . grad(u) - div(k*grad(u)) = f
 at left, bottom: u = x*y + y/2
 at right: flux(u) = 1 - u

@@ -14,7 +14,7 @@ import (
 //	h² ‖Δv‖²_K ≤ C_inv ‖∇v‖²_K  for all v in the element space,
 //
 // C_inv = sup h²‖Δv‖²/‖∇v‖², computed on the reference cell of e with h its
-// diameter (the largest distance between two vertices, as cell_diameter).
+// diameter (the largest distance between two vertices, as diam(K)).
 // Harari & Hughes (1992, CMAME 97) define and tabulate such constants;
 // Franca, Frey & Hughes (1992, CMAME 95) write C_k = 1/C_inv and bound the
 // diffusive limit of τ with it, which keeps the VMS and GLS forms coercive

@@ -21,7 +21,7 @@
 // boundary integrals. Terms are grouped by (test field, component,
 // derivative β) and (trial field, component, derivative α) and their
 // coefficients summed; coefficients constant in a cell (depending only on
-// t, cell_diameter, cell_volume) are evaluated once per cell, the others
+// t, diam(K), meas(K)) are evaluated once per cell, the others
 // at every quadrature point. At each point the kernel maps the geometry
 // (element.Table.Map: physical gradients and Hessians, including the
 // curvature term of non-affine maps), gathers the needed basis-derivative
@@ -30,7 +30,7 @@
 //
 //	A[i][j] += w · D^β φ_i · Σ_α c_βα D^α φ_j,    b[i] += w · Σ_β c_β D^β φ_i,
 //
-// so the inner loop is a plain axpy over the trial nodes. cell_diameter is
-// kernel.CellDiameter (the largest vertex distance) and cell_volume
+// so the inner loop is a plain axpy over the trial nodes. diam(K) is
+// kernel.CellDiameter (the largest vertex distance) and meas(K)
 // kernel.CellVolume.
 package interp

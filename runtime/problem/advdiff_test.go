@@ -14,7 +14,7 @@ import (
 //
 //	∫ a u′ v + k u′ v′ [+ τ a² u′ v′]  =  ∫ s v [+ τ a s v′],
 //
-// τ = h/(2a)(coth α − 1/α), α = a h/(2k), h = cell_diameter (Brooks &
+// τ = h/(2a)(coth α − 1/α), α = a h/(2k), h = diam(K) (Brooks &
 // Hughes 1982, CMAME 32; Christie, Griffiths, Mitchell & Zienkiewicz
 // 1976). The −k u″ part of the SUPG residual vanishes on P1.
 func advDiff1D(a, k, s float64, supg bool) *ir.LoweredForm {

@@ -24,7 +24,7 @@ dimension 2
 unknown u: scalar P1
 given k = ` + k + `
 given initial_u = sin(pi*x)*sin(pi*y)
-equation for u: dt(u) - k*lap(u) = ` + source + `
+equation for u: partial(u, t) - k*lap(u) = ` + source + `
 at all: u = 0
 `
 	f, errs := lang.Parse("heat.fw", []byte(src))
@@ -106,7 +106,7 @@ func TestBackwardEulerSplitsPicard(t *testing.T) {
 	src := `model mixed
 dimension 1
 unknown u: scalar P1
-equation for u: dt(u) + previous(u)*partial(u, x) = 0
+equation for u: partial(u, t) + previous(u)*partial(u, x) = 0
 `
 	f, _ := lang.Parse("m.fw", []byte(src))
 	m, errs := compiler.Check(f, compiler.CheckOptions{})

@@ -13,8 +13,8 @@ import (
 const (
 	SlotX            = 0  // x, y, z: slots 0, 1, 2
 	SlotT            = 3  // time
-	SlotCellDiameter = 4  // cell_diameter
-	SlotCellVolume   = 5  // cell_volume
+	SlotCellDiameter = 4  // diam(K)
+	SlotCellVolume   = 5  // meas(K)
 	SlotG            = 6  // G_IJ at slot 6 + 3I + J
 	SlotNormal       = 15 // outward unit normal n_I at slot 15 + I
 	SlotStep         = 18 // time_step, the Δt of a time-stepped form
@@ -29,7 +29,7 @@ const (
 	DepPoint Deps = 1 << iota
 	// DepTime: depends on t.
 	DepTime
-	// DepCell: depends on the per-cell quantities cell_diameter, cell_volume.
+	// DepCell: depends on the per-cell quantities diam(K), meas(K).
 	DepCell
 )
 

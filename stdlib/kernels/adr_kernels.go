@@ -21,7 +21,7 @@ func init() {
 			return AdrGalerkinKernel{}
 		},
 	})
-	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
+	compiled.Register("2925ff2c15d169e18afb99c89340c625", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return AdrSUPGKernel{}
 		},
 	})
-	compiled.Register("9db8d7d6e62fae7ae464c562971e63b5", compiled.Kernels{
+	compiled.Register("9709c2c1f0059c690a5b1713b4cf1c9c", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return AdrGLSKernel{}
 		},
 	})
-	compiled.Register("c83c1fc6ad747adaf2d9b0bb6d08992b", compiled.Kernels{
+	compiled.Register("a6b84cadb45f3f8ea9d1db27b8d3ff0a", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

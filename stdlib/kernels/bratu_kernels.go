@@ -29,7 +29,7 @@ func init() {
 			return BratuSUPGKernel{}
 		},
 	})
-	compiled.Register("c94b33e6306b59baf220fa6273303301", compiled.Kernels{
+	compiled.Register("307186fd89006a55c8b77a5c188ff85e", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return BratuGLSKernel{}
 		},
 	})
-	compiled.Register("33269ea1b2108660a7fa47d904f97098", compiled.Kernels{
+	compiled.Register("eeea419714875b525a9443b8a55e9b03", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -47,9 +47,9 @@ func init() {
 	})
 }
 
-// fwBratuGalerkinLayout is the element layout of the galerkin kernels:
-// interval cells, fields in local dof order (field-major, then component, then
-// element node); 2 local dofs.
+// fwBratuGalerkinLayout is the element layout of the galerkin kernels: segment
+// cells, fields in local dof order (field-major, then component, then element
+// node); 2 local dofs.
 var fwBratuGalerkinLayout = kernel.Layout{
 	Cell:     cell.Segment,
 	Geometry: element.MustLagrange(cell.Segment, 1),
@@ -59,7 +59,7 @@ var fwBratuGalerkinLayout = kernel.Layout{
 }
 
 // BratuGalerkinKernel is the generated cell kernel of the galerkin form on
-// interval cells, quadrature degree 6 (4 points). It implements kernel.Kernel,
+// segment cells, quadrature degree 6 (4 points). It implements kernel.Kernel,
 // keeps no state and does not allocate. The form is symmetric; only the upper
 // triangle is computed.
 type BratuGalerkinKernel struct{}
@@ -142,7 +142,7 @@ func (BratuGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuSUPGLayout is the element layout of the supg kernels: interval cells,
+// fwBratuSUPGLayout is the element layout of the supg kernels: segment cells,
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuSUPGLayout = kernel.Layout{
@@ -153,7 +153,7 @@ var fwBratuSUPGLayout = kernel.Layout{
 	},
 }
 
-// BratuSUPGKernel is the generated cell kernel of the supg form on interval
+// BratuSUPGKernel is the generated cell kernel of the supg form on segment
 // cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate. The form is symmetric; only the upper triangle
 // is computed.
@@ -237,7 +237,7 @@ func (BratuSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuGLSLayout is the element layout of the gls kernels: interval cells,
+// fwBratuGLSLayout is the element layout of the gls kernels: segment cells,
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuGLSLayout = kernel.Layout{
@@ -248,7 +248,7 @@ var fwBratuGLSLayout = kernel.Layout{
 	},
 }
 
-// BratuGLSKernel is the generated cell kernel of the gls form on interval
+// BratuGLSKernel is the generated cell kernel of the gls form on segment
 // cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BratuGLSKernel struct{}
@@ -356,7 +356,7 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBratuVMSLayout is the element layout of the vms kernels: interval cells,
+// fwBratuVMSLayout is the element layout of the vms kernels: segment cells,
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBratuVMSLayout = kernel.Layout{
@@ -367,7 +367,7 @@ var fwBratuVMSLayout = kernel.Layout{
 	},
 }
 
-// BratuVMSKernel is the generated cell kernel of the vms form on interval
+// BratuVMSKernel is the generated cell kernel of the vms form on segment
 // cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BratuVMSKernel struct{}

@@ -21,7 +21,7 @@ func init() {
 			return BurgersGalerkinKernel{}
 		},
 	})
-	compiled.Register("e1bd77fc04b12f24d8dff4d15a7e21e5", compiled.Kernels{
+	compiled.Register("2e7295ac070a3dbb5175471fad2fb3f5", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Segment,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return BurgersSUPGKernel{}
 		},
 	})
-	compiled.Register("cc5ec27df91cbb680a5a8ea11032fc59", compiled.Kernels{
+	compiled.Register("f7a006ab0999e366c7408cf6b1c5ff80", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return BurgersGLSKernel{}
 		},
 	})
-	compiled.Register("809e65ef336ce817c836006e92f69299", compiled.Kernels{
+	compiled.Register("5e970a5bc2b9d1d2991486b70901a8ab", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 5,
@@ -48,7 +48,7 @@ func init() {
 }
 
 // fwBurgersGalerkinLayout is the element layout of the galerkin kernels:
-// interval cells, fields in local dof order (field-major, then component, then
+// segment cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwBurgersGalerkinLayout = kernel.Layout{
 	Cell:     cell.Segment,
@@ -59,7 +59,7 @@ var fwBurgersGalerkinLayout = kernel.Layout{
 }
 
 // BurgersGalerkinKernel is the generated cell kernel of the galerkin form on
-// interval cells, quadrature degree 2 (2 points). It implements kernel.Kernel,
+// segment cells, quadrature degree 2 (2 points). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type BurgersGalerkinKernel struct{}
 
@@ -148,7 +148,7 @@ func (BurgersGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBurgersSUPGLayout is the element layout of the supg kernels: interval
+// fwBurgersSUPGLayout is the element layout of the supg kernels: segment
 // cells, fields in local dof order (field-major, then component, then element
 // node); 2 local dofs.
 var fwBurgersSUPGLayout = kernel.Layout{
@@ -159,7 +159,7 @@ var fwBurgersSUPGLayout = kernel.Layout{
 	},
 }
 
-// BurgersSUPGKernel is the generated cell kernel of the supg form on interval
+// BurgersSUPGKernel is the generated cell kernel of the supg form on segment
 // cells, quadrature degree 5 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersSUPGKernel struct{}
@@ -280,7 +280,7 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBurgersGLSLayout is the element layout of the gls kernels: interval cells,
+// fwBurgersGLSLayout is the element layout of the gls kernels: segment cells,
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBurgersGLSLayout = kernel.Layout{
@@ -291,7 +291,7 @@ var fwBurgersGLSLayout = kernel.Layout{
 	},
 }
 
-// BurgersGLSKernel is the generated cell kernel of the gls form on interval
+// BurgersGLSKernel is the generated cell kernel of the gls form on segment
 // cells, quadrature degree 6 (4 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersGLSKernel struct{}
@@ -422,7 +422,7 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	copy(b, rhs[:])
 }
 
-// fwBurgersVMSLayout is the element layout of the vms kernels: interval cells,
+// fwBurgersVMSLayout is the element layout of the vms kernels: segment cells,
 // fields in local dof order (field-major, then component, then element node);
 // 2 local dofs.
 var fwBurgersVMSLayout = kernel.Layout{
@@ -433,7 +433,7 @@ var fwBurgersVMSLayout = kernel.Layout{
 	},
 }
 
-// BurgersVMSKernel is the generated cell kernel of the vms form on interval
+// BurgersVMSKernel is the generated cell kernel of the vms form on segment
 // cells, quadrature degree 5 (3 points). It implements kernel.Kernel, keeps no
 // state and does not allocate.
 type BurgersVMSKernel struct{}

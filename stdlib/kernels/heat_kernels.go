@@ -21,7 +21,7 @@ func init() {
 			return HeatGalerkinKernel{}
 		},
 	})
-	compiled.Register("933b47bf910e1589648c5bb51e587dae", compiled.Kernels{
+	compiled.Register("033319743db0dcb8f3c2fe26739c5509", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 2,
@@ -29,7 +29,7 @@ func init() {
 			return HeatSUPGKernel{}
 		},
 	})
-	compiled.Register("3508bcfeb891554ece5278c98d891490", compiled.Kernels{
+	compiled.Register("0b5682d80e7768e261821e8fd859109c", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 2,
@@ -37,7 +37,7 @@ func init() {
 			return HeatGLSKernel{}
 		},
 	})
-	compiled.Register("64b5f572ae81b1b4adfc367707c2f03b", compiled.Kernels{
+	compiled.Register("b1c5ad6801cf34e40ac587abedf5f1f1", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 2,

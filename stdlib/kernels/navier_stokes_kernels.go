@@ -21,7 +21,7 @@ func init() {
 			return NavierStokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("497a3dbeff9a39dfef2cbee50db014c9", compiled.Kernels{
+	compiled.Register("352edff6bc9762376e25f51447d4ca26", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -29,7 +29,7 @@ func init() {
 			return NavierStokesSUPGKernel{}
 		},
 	})
-	compiled.Register("f49a0b0a516d3d6998733bda53270c80", compiled.Kernels{
+	compiled.Register("24dcb5b4c037c13ad414e04e020aa1fd", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -37,7 +37,7 @@ func init() {
 			return NavierStokesGLSKernel{}
 		},
 	})
-	compiled.Register("2e069ff96a812a3d793974f9e0b20dee", compiled.Kernels{
+	compiled.Register("375350c33e6df760fad4b8a65e398b79", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,

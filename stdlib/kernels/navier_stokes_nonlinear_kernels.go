@@ -21,7 +21,7 @@ func init() {
 			return NavierStokesNonlinearGalerkinKernel{}
 		},
 	})
-	compiled.Register("1c1c17fb83f8edf378c852d05a1397aa", compiled.Kernels{
+	compiled.Register("f07838f7d88254046e4fa4d544732d75", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return NavierStokesNonlinearSUPGKernel{}
 		},
 	})
-	compiled.Register("418c7e9dec5e51051ea00e1470efb86a", compiled.Kernels{
+	compiled.Register("483d9f39f766439d038b0e51dffdd0eb", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return NavierStokesNonlinearGLSKernel{}
 		},
 	})
-	compiled.Register("9905db07e59485502348f3a5ca38f3f2", compiled.Kernels{
+	compiled.Register("7480b9381fb86a49bcadafed1c536f41", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 6,

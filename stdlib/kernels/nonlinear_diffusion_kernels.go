@@ -21,7 +21,7 @@ func init() {
 			return NonlinearDiffusionGalerkinKernel{}
 		},
 	})
-	compiled.Register("a1ffc34e544273a744ccfcf68150c373", compiled.Kernels{
+	compiled.Register("514204532acaf4e9ad2f38fc0eaab48a", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return NonlinearDiffusionSUPGKernel{}
 		},
 	})
-	compiled.Register("03d6dccc66adfc55be0c86fc34d1c483", compiled.Kernels{
+	compiled.Register("d2f07f51dfb64d03d6922f0683b974ea", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return NonlinearDiffusionGLSKernel{}
 		},
 	})
-	compiled.Register("44c6cbc9761b7078131414d24c65e4fe", compiled.Kernels{
+	compiled.Register("94e7311fba8e6923e67f57fb58fb3e3c", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,

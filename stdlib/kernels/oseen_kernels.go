@@ -21,7 +21,7 @@ func init() {
 			return OseenGalerkinKernel{}
 		},
 	})
-	compiled.Register("1288bc16e103cff4b8aa80dfe0b9a10b", compiled.Kernels{
+	compiled.Register("f18bb714e1b28013790617be47ade939", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return OseenSUPGKernel{}
 		},
 	})
-	compiled.Register("36300f99173ecf8f5194700e569998da", compiled.Kernels{
+	compiled.Register("53a455573322227bdbc1cba4e975030e", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return OseenGLSKernel{}
 		},
 	})
-	compiled.Register("30bd61e4d1ed7bbbb22a04baa406b415", compiled.Kernels{
+	compiled.Register("88cb7cd6797a15182b24887a179d4d07", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -21,7 +21,7 @@ func init() {
 			return StokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("cb07d335abbf9fddaf2af9057de744b1", compiled.Kernels{
+	compiled.Register("8317e0cfc549f8800c1e482a09a8f4a4", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return StokesSUPGKernel{}
 		},
 	})
-	compiled.Register("6431129f20b2a182e0486268df5f0236", compiled.Kernels{
+	compiled.Register("836372888527158aef620dde70d398ae", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return StokesGLSKernel{}
 		},
 	})
-	compiled.Register("3860e23c078c2800b6a4cba9ec4758b2", compiled.Kernels{
+	compiled.Register("b93ab61f1ecf8d6ea4393da89ae1b98d", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -21,7 +21,7 @@ func init() {
 			return CrosswindPlumeGalerkinKernel{}
 		},
 	})
-	compiled.Register("ee753c6cb4032edb5a59b9f57da6a19b", compiled.Kernels{
+	compiled.Register("048096486c744c717a4bf82d77fcfed0", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return CrosswindPlumeSUPGKernel{}
 		},
 	})
-	compiled.Register("a8280a33d6922fe0183dd677fd27c4d1", compiled.Kernels{
+	compiled.Register("5315c3804513d6249e8e62710b7020f1", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return CrosswindPlumeGLSKernel{}
 		},
 	})
-	compiled.Register("ff13a03eb93e63f3b2bf64c8406375f6", compiled.Kernels{
+	compiled.Register("1ecb5dac3e9ecdc463d82ebcf44fd9ac", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

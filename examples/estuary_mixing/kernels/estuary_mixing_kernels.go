@@ -21,7 +21,7 @@ func init() {
 			return EstuaryMixingGalerkinKernel{}
 		},
 	})
-	compiled.Register("9e184e837e41ae430b3afb54b0630fa8", compiled.Kernels{
+	compiled.Register("8a2ae3b9ce0df27b7214c1f1ea0f93ec", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return EstuaryMixingSUPGKernel{}
 		},
 	})
-	compiled.Register("26d3f71c9f16436a99208928020b51d1", compiled.Kernels{
+	compiled.Register("be0a161de47547232a6dc996e366d114", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return EstuaryMixingGLSKernel{}
 		},
 	})
-	compiled.Register("1df49e9172a387bf079836aabbfb0a8c", compiled.Kernels{
+	compiled.Register("8d67f22ef1167847b4a4c274dcafa14b", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 6,

@@ -21,7 +21,7 @@ func init() {
 			return RiverOutfallLayerGalerkinKernel{}
 		},
 	})
-	compiled.Register("6181b75f4d7a4d6c3a7d22007f0cefbd", compiled.Kernels{
+	compiled.Register("198b95d7e037afab2dc8fa880f78b472", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return RiverOutfallLayerSUPGKernel{}
 		},
 	})
-	compiled.Register("a305dc9bb73625536dd0d50d3bcc119d", compiled.Kernels{
+	compiled.Register("086d13470a471c87f34084a1c3364d80", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return RiverOutfallLayerGLSKernel{}
 		},
 	})
-	compiled.Register("b57b4bc2d8eddccf24442e823202fb41", compiled.Kernels{
+	compiled.Register("0f0c10381473d5890cdaffbb22c08d56", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -48,7 +48,7 @@ func init() {
 }
 
 // fwRiverOutfallLayerGalerkinLayout is the element layout of the galerkin
-// kernels: interval cells, fields in local dof order (field-major, then
+// kernels: segment cells, fields in local dof order (field-major, then
 // component, then element node); 2 local dofs.
 var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 	Cell:     cell.Segment,
@@ -59,7 +59,7 @@ var fwRiverOutfallLayerGalerkinLayout = kernel.Layout{
 }
 
 // RiverOutfallLayerGalerkinKernel is the generated cell kernel of the galerkin
-// form on interval cells, quadrature degree 1 (1 point). It implements
+// form on segment cells, quadrature degree 1 (1 point). It implements
 // kernel.Kernel, keeps no state and does not allocate.
 type RiverOutfallLayerGalerkinKernel struct{}
 
@@ -101,7 +101,7 @@ func (RiverOutfallLayerGalerkinKernel) Cell(in *kernel.CellInput, A, b []float64
 }
 
 // fwRiverOutfallLayerSUPGLayout is the element layout of the supg kernels:
-// interval cells, fields in local dof order (field-major, then component, then
+// segment cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 	Cell:     cell.Segment,
@@ -112,7 +112,7 @@ var fwRiverOutfallLayerSUPGLayout = kernel.Layout{
 }
 
 // RiverOutfallLayerSUPGKernel is the generated cell kernel of the supg form on
-// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// segment cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type RiverOutfallLayerSUPGKernel struct{}
 
@@ -167,7 +167,7 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 }
 
 // fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels:
-// interval cells, fields in local dof order (field-major, then component, then
+// segment cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 	Cell:     cell.Segment,
@@ -178,7 +178,7 @@ var fwRiverOutfallLayerGLSLayout = kernel.Layout{
 }
 
 // RiverOutfallLayerGLSKernel is the generated cell kernel of the gls form on
-// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// segment cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type RiverOutfallLayerGLSKernel struct{}
 
@@ -235,7 +235,7 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 }
 
 // fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels:
-// interval cells, fields in local dof order (field-major, then component, then
+// segment cells, fields in local dof order (field-major, then component, then
 // element node); 2 local dofs.
 var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 	Cell:     cell.Segment,
@@ -246,7 +246,7 @@ var fwRiverOutfallLayerVMSLayout = kernel.Layout{
 }
 
 // RiverOutfallLayerVMSKernel is the generated cell kernel of the vms form on
-// interval cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
+// segment cells, quadrature degree 1 (1 point). It implements kernel.Kernel,
 // keeps no state and does not allocate.
 type RiverOutfallLayerVMSKernel struct{}
 

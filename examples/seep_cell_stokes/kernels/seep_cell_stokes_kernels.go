@@ -21,7 +21,7 @@ func init() {
 			return SeepCellStokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("f0549d14058e57a9510bcb87f5783dec", compiled.Kernels{
+	compiled.Register("22f063d19faa760f9aef84a8909c3e05", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return SeepCellStokesSUPGKernel{}
 		},
 	})
-	compiled.Register("a43f420ad060295bef18f82b65b1ac31", compiled.Kernels{
+	compiled.Register("28a12cb5bff7dc78fbcdd7474550ae2f", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return SeepCellStokesGLSKernel{}
 		},
 	})
-	compiled.Register("9f4b687c4ecf7762c7f5b6e17c313867", compiled.Kernels{
+	compiled.Register("e13d9e102e47611b919f2690db319925", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("a181dcb0f171e175cb56b7d1bc760e3c", compiled.Kernels{
+	compiled.Register("2925ff2c15d169e18afb99c89340c625", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("b5e8817a9e251ca007039d734ab17ad1", compiled.Kernels{
+	compiled.Register("ecaeca150c0887d5c0dc36b4a880ce58", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Quadrilateral,
 		Degree: 5,
