@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/compiler/notation"
 )
 
 // NoteKind says how a derivation note should be read.
@@ -19,10 +20,36 @@ const (
 
 func (k NoteKind) String() string { return [...]string{"assumption", "warning"}[k] }
 
-// Note is a short statement printed with a derivation stage.
+// Note is a short statement printed with a derivation stage, in two
+// renderings of one source: Text (Unicode, for terminals and JSON) and
+// TeX (LaTeX prose with inline math), made by newNote from the markup
+// described in compiler/notation (notation.Plain).
 type Note struct {
 	Kind NoteKind
 	Text string
+	TeX  string
+}
+
+// newNote formats markup with args (names passed through notation.TeXName
+// or TeXProse by the caller) and renders it both ways.
+func newNote(kind NoteKind, markup string, args ...any) Note {
+	tex := markup
+	if len(args) > 0 {
+		tex = fmt.Sprintf(markup, args...)
+	}
+	return Note{Kind: kind, Text: notation.Plain(tex), TeX: tex}
+}
+
+// tn is a model name for note markup math.
+func tn(name string) string { return notation.TeXName(name) }
+
+// tnList is a list of names (sides, unknowns) for note prose.
+func tnList(names []string) string {
+	out := make([]string, len(names))
+	for i, n := range names {
+		out[i] = notation.TeXProse(n)
+	}
+	return strings.Join(out, ", ")
 }
 
 // MethodForm is the derived form of one method.
@@ -99,7 +126,7 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 	}
 	d.Notes = galerkinNotes(m)
 	for _, name := range m.FreeConstants() {
-		d.Notes = append(d.Notes, Note{Warning, fmt.Sprintf("%s is fixed only up to a constant: adding a constant to it changes no equation, and no value, Robin or mean condition holds it, so the discrete problem is singular; add a value condition on part of the boundary or \"mean %s = 0\"", name, baseName(name))})
+		d.Notes = append(d.Notes, newNote(Warning, "$%s$ is fixed only up to a constant: adding a constant to it changes no equation, and no value, Robin or mean condition holds it, so the discrete problem is singular; add a value condition on part of the boundary or the statement ``mean %s = 0''", tn(name), notation.TeXProse(baseName(name))))
 	}
 	if len(methods) == 0 {
 		methods = m.Methods
@@ -142,7 +169,7 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 	if nonlinear {
 		d.Notes = append(d.Notes, linearisationNotes(m, d.Linear)...)
 		if d.Picard, err = Picard(m); err != nil {
-			d.Notes = append(d.Notes, Note{Warning, "no Picard linearisation: " + err.Error()})
+			d.Notes = append(d.Notes, newNote(Warning, "no Picard linearisation: %s", notation.TeXProse(err.Error())))
 		}
 	}
 	return d, nil
@@ -150,7 +177,7 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 
 func galerkinNotes(m *Model) []Note {
 	var notes []Note
-	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
+	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
 	add(Assumption, "second-order terms are integrated by parts once; first-order terms (including coupling terms such as a pressure gradient) are kept as written")
 	for _, u := range m.Unknowns {
 		var value, flux, robin, free []string
@@ -173,29 +200,26 @@ func galerkinNotes(m *Model) []Note {
 			}
 		}
 		if len(value) > 0 {
-			add(Assumption, "%s is prescribed on %s: the test function vanishes there, so the boundary integral is dropped", u.Name, strings.Join(value, ", "))
+			add(Assumption, "$%s$ is prescribed on %s: the test function vanishes there, so the boundary integral is dropped", tn(u.Name), tnList(value))
 		}
 		if len(flux) > 0 {
-			add(Assumption, "the flux of %s is prescribed on %s: the boundary integral is kept with the given flux in place of q", u.Name, strings.Join(flux, ", "))
+			add(Assumption, "the flux of $%s$ is prescribed on %s: the boundary integral is kept with the given flux in place of $q$", tn(u.Name), tnList(flux))
 		}
 		if len(robin) > 0 {
-			add(Assumption, "a Robin condition on %s for %s: the part of the flux proportional to %s enters B", strings.Join(robin, ", "), u.Name, u.Name)
+			add(Assumption, "a Robin condition on %s for $%s$: the part of the flux proportional to $%s$ enters $B$", tnList(robin), tn(u.Name), tn(u.Name))
 		}
 		if len(free) > 0 {
-			add(Assumption, "no condition on %s for %s: zero flux (the natural condition), so the boundary integral vanishes", strings.Join(free, ", "), u.Name)
+			add(Assumption, "no condition on %s for $%s$: zero flux (the natural condition), so the boundary integral vanishes", tnList(free), tn(u.Name))
 		}
 	}
 	for _, mc := range m.Means {
-		u := m.Unknowns[mc.Unknown].Name
-		val := "its value"
-		if n, ok := LowerExpr(m, mc.Value)[0].(*ir.Num); ok {
-			val = n.Val.RatString()
-		}
-		add(Assumption, "the mean of %[1]s over Ω is prescribed, (1/|Ω|) ∫_Ω %[1]s dx = %[2]s: %[1]s has no value condition, so the equations fix it only up to a constant. The solver fixes %[1]s at one node, solves, and shifts %[1]s by a constant to this mean", u, val)
+		u := tn(m.Unknowns[mc.Unknown].Name)
+		val := notation.Expr(mc.Value, notation.LaTeX, notation.Names{})
+		add(Assumption, "the mean of $%[1]s$ over $\\Omega$ is prescribed, $\\frac{1}{|\\Omega|} \\int_\\Omega %[1]s\\,\\mathrm{d}x = %[2]s$: $%[1]s$ has no value condition, so the equations fix it only up to a constant. The solver fixes $%[1]s$ at one node, solves, and shifts $%[1]s$ by a constant to this mean", u, val)
 	}
 	for _, eq := range m.Equations {
 		if ir.Contains(eq.Written, func(e ir.Expr) bool { _, ok := e.(*ir.TimeDeriv); return ok }) {
-			add(Assumption, "test functions do not depend on time (semi-discretisation in space), so ∂v/∂t = 0")
+			add(Assumption, "test functions do not depend on time (semi-discretisation in space), so $\\partial_t v = 0$")
 			break
 		}
 	}
@@ -265,19 +289,19 @@ func substituteDefs(m *Model, e ir.Expr) ir.Expr {
 
 func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 	var notes []Note
-	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
-	add(Assumption, "fine scales modelled as u′ ≈ −τ R(u_h), R(u_h) = L u_h − f; the stabilisation integrals are over cell interiors only")
+	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
+	add(Assumption, `fine scales modelled as $u' \approx -\tau R(u_h)$, $R(u_h) = L u_h - f$; the stabilisation integrals are over cell interiors only`)
 	if len(m.Unknowns) > 1 {
-		add(Assumption, "τ is block-diagonal: one τ per equation (for flow, τ_M on momentum and τ_C on continuity)")
+		add(Assumption, `$\tau$ is block-diagonal: one $\tau$ per equation (for flow, $\tau_M$ on momentum and $\tau_C$ on continuity)`)
 	}
 	if d.Linear != nil {
 		switch meth {
 		case SUPG:
-			add(Assumption, "the operator is nonlinear: SUPG takes the advective part of its linearisation, L′_A(u_h), on the test function (stage 3), where the linear theory takes L_A; R and τ are evaluated at u_h")
+			add(Assumption, `the operator is nonlinear: SUPG takes the first-order part of its linearisation $L'(u_h)$ (its advective and coupling terms, stage 3) on the test function, where the linear theory takes those of $L$; $R$ and $\tau$ are evaluated at $u_h$`)
 		case GLS:
-			add(Assumption, "the operator is nonlinear: GLS takes its linearisation L′(u_h) on the test function, where the linear theory takes L; R and τ are evaluated at u_h")
+			add(Assumption, `the operator is nonlinear: GLS takes its linearisation $L'(u_h)$ on the test function, where the linear theory takes $L$; $R$ and $\tau$ are evaluated at $u_h$`)
 		case VMS:
-			add(Assumption, "the operator is nonlinear: VMS takes minus the adjoint of its linearisation, L′(u_h)*, on the test function (the first-order term of the fine-scale expansion L(u_h + u′) = L(u_h) + L′(u_h)u′ + …), where the linear theory takes L*")
+			add(Assumption, `the operator is nonlinear: VMS takes minus the adjoint of its linearisation, $L'(u_h)^*$, on the test function (the first-order term of the fine-scale expansion $L(u_h + u') = L(u_h) + L'(u_h)u' + \ldots$), where the linear theory takes $L^*$`)
 		}
 	}
 	hasDiff, diffVaries := false, false
@@ -291,13 +315,37 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 			}
 		}
 	}
+	var coupling []string // the coupling terms, in markup math
+	split := d.Split
+	if d.Linear != nil {
+		split = d.Linear.Split
+	}
+	for _, s := range split {
+		if c := s.Parts[Coupling]; c != nil {
+			coupling = append(coupling, "$"+notation.Expr(withRole(c, ir.Increment, ir.Trial), notation.LaTeX, notation.Names{})+"$")
+		}
+	}
 	switch meth {
 	case SUPG:
+		what := "the advective operator acts"
+		hasAdv := false
+		for _, sp := range split {
+			hasAdv = hasAdv || sp.Parts[Advective] != nil
+		}
+		switch {
+		case len(coupling) > 0 && hasAdv:
+			what = "the first-order operator acts (advection and the coupling terms " + strings.Join(coupling, " and ") + ", which give the pressure- and continuity-stabilising terms)"
+		case len(coupling) > 0:
+			what = "the first-order operator acts (here the coupling terms " + strings.Join(coupling, " and ") + ", which give the pressure- and continuity-stabilising terms)"
+		}
 		if hasDiff && !diffVaries {
-			add(Assumption, "B_D(u′, v_h) = 0 for the H¹₀ projector because the diffusivity is constant, so only the advective operator acts on the test function")
+			add(Assumption, `$B_D(u', v_h) = 0$ for the $H^1_0$ projector because the diffusivity is constant, so only %s on the test function`, what)
 		}
 		if diffVaries {
-			add(Warning, "the diffusivity varies in space, so B_D(u′, v_h) = 0 does not hold exactly under the H¹₀ projector; SUPG drops a term the VMS form keeps")
+			add(Warning, `the diffusivity varies in space, so $B_D(u', v_h) = 0$ does not hold exactly under the $H^1_0$ projector; SUPG drops a term the VMS form keeps`)
+		}
+		if !hasDiff && len(coupling) > 0 {
+			add(Assumption, `the operator has no diffusive part; %s on the test function`, strings.TrimPrefix(what, "the first-order operator acts "))
 		}
 	case GLS:
 		divs := advectionDivergences(m, d.Split)
@@ -311,30 +359,39 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 			break
 		}
 		if allZero {
-			add(Assumption, "B_A(u′, v_h) = −B_A(v_h, u′): the advecting field is divergence-free and u′, v_h vanish on the boundary, so the advective part of L* is −L_A and GLS takes +L v_h")
+			add(Assumption, `$B_A(u', v_h) = -B_A(v_h, u')$: the advecting field is divergence-free and $u'$, $v_h$ vanish on the boundary, so the advective part of $L^*$ is $-L_A$ and GLS takes $+L v_h$`)
 		} else {
-			add(Warning, "the advecting field is not divergence-free (∇·a ≠ 0), so B_A is not antisymmetric: GLS and VMS differ in their advective terms")
+			add(Warning, `the advecting field is not divergence-free ($\nabla\cdot a \neq 0$), so $B_A$ is not antisymmetric: GLS and VMS differ in their advective terms`)
 		}
 	}
 	if meth == VMS && hasDiff {
 		if cinv, which := m.InverseEstimate(); cinv > 0 {
 			if m.usesInverseEstimate() {
-				add(Assumption, "τ is bounded with the inverse-estimate constant C_inv = %g (%s; sup h²‖Δv‖²/‖∇v‖², Harari & Hughes 1992): where τκ ≤ h²/(2 C_inv), the negative diffusive term of L* takes at most half of the Galerkin diffusion, so the VMS form stays coercive (Franca, Frey & Hughes 1992)", cinv, which)
+				add(Assumption, `$\tau$ is bounded with the inverse-estimate constant $C_{\mathrm{inv}} = %g$ (%s; $\sup h^2\lVert\Delta v\rVert^2/\lVert\nabla v\rVert^2$, Harari \& Hughes 1992): where $\tau\kappa \le h^2/(2 C_{\mathrm{inv}})$, the negative diffusive term of $L^*$ takes at most half of the Galerkin diffusion, so the VMS form stays coercive (Franca, Frey \& Hughes 1992)`, cinv, notation.TeXProse(which))
 			} else {
-				add(Warning, "the diffusive part of L* enters the VMS form with a negative sign, so stability needs τκ < h²/C_inv, and here C_inv = %g (%s; sup h²‖Δv‖²/‖∇v‖²): a τ with diffusive limit h²/(c κ) needs c > C_inv. tau_ffh bounds τ with inverse_estimate (Franca, Frey & Hughes 1992)", cinv, which)
+				add(Warning, `the diffusive part of $L^*$ enters the VMS form with a negative sign, so stability needs $\tau\kappa < h^2/C_{\mathrm{inv}}$, and here $C_{\mathrm{inv}} = %g$ (%s; $\sup h^2\lVert\Delta v\rVert^2/\lVert\nabla v\rVert^2$): a $\tau$ with diffusive limit $h^2/(c \kappa)$ needs $c > C_{\mathrm{inv}}$. The library's tau\_ffh bounds $\tau$ with inverse\_estimate (Franca, Frey \& Hughes 1992)`, cinv, notation.TeXProse(which))
 			}
 		}
 	}
-	if meth == GLS || meth == VMS {
-		for _, s := range d.Split {
-			if s.Parts[Diffusive] != nil && m.IsSimplexP1() {
-				add(Assumption, "on affine linear simplices (P1) second derivatives of v_h vanish inside each cell, so the diffusive part of the test operator drops out there")
-				break
-			}
+	if (meth == GLS || meth == VMS) && hasDiff && m.IsSimplexP1() {
+		if diffVaries {
+			add(Assumption, `on affine linear simplices (P1) second derivatives of $v_h$ vanish inside each cell; the diffusivity varies, so of the diffusive part of the test operator its first-order piece remains there (for $-\nabla\cdot(\kappa\nabla v_h)$ that is $-\nabla\kappa\cdot\nabla v_h$)`)
+		} else {
+			add(Assumption, `on affine linear simplices (P1) second derivatives of $v_h$ vanish inside each cell, and the diffusivity is constant, so the diffusive part of the test operator drops out there`)
 		}
 	}
 	if hasDiff && m.IsSimplexP1() {
-		add(Warning, "on P1 the strong residual loses the diffusive term of u_h inside each cell, so the method is only weakly consistent: near element Péclet number 1 the L² rate can fall below 2 until the mesh resolves the diffusion (Jansen, Collis, Whiting & Shakib 1999, CMAME 174)")
+		lost := "the diffusive term"
+		if diffVaries {
+			lost = `the second-derivative part of the diffusive term (a varying diffusivity's first-order piece, such as $-\nabla\kappa\cdot\nabla u_h$, remains)`
+		}
+		effect := `the stabilising terms do not vanish for the exact solution, and the error they add shrinks only as the mesh resolves the diffusion`
+		for _, sp := range split {
+			if sp.Parts[Advective] != nil {
+				effect = `near element P\'eclet number 1 the $L^2$ rate can fall below 2 until the mesh resolves the diffusion`
+			}
+		}
+		add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174)`, lost, effect)
 	}
 	return notes
 }

@@ -1,7 +1,6 @@
 package compiler
 
 import (
-	"fmt"
 	"math/big"
 
 	"github.com/formwright/formwright/compiler/ir"
@@ -149,7 +148,7 @@ func fineScaleExpansion(m *Model) (*fineExpansion, error) {
 		}
 		if transient {
 			u := m.Unknowns[eq.For].Name
-			x.notes = append(x.notes, Note{Warning, fmt.Sprintf("the equation for %[1]s is transient, so its fine scales %[1]s′ = −τ R_%[1]s would need ∂ₜ%[1]s at the iterate inside a product, which backward Euler stepping does not provide: the VMS form has no cross- or Reynolds-stress terms (Bazilevs et al. 2007), only −(τR, L′*v)", u)})
+			x.notes = append(x.notes, newNote(Warning, `the equation for $%[1]s$ is transient, so its fine scales $%[1]s' = -\tau R_{%[1]s}$ would need $\partial_t %[1]s$ at the iterate inside a product, which backward Euler stepping does not provide: the VMS form has no cross- or Reynolds-stress terms (Bazilevs et al. 2007), only $-(\tau R, L'^* v)$`, tn(u)))
 			continue
 		}
 		firstOrder, polynomial, crossTerms = firstOrder || eqFirst, polynomial || eqPoly, crossTerms || eqCross
@@ -194,20 +193,20 @@ func fineScaleExpansion(m *Model) (*fineExpansion, error) {
 		}
 	}
 	if x.terms != nil || len(x.dropped) > 0 {
-		what := "u_h + u′ for the unknowns"
+		what := "$u_h + u'$ for the unknowns"
 		if crossTerms {
-			what += " and previous(u) + u′⁽ᵖʳᵉᵛ⁾ for the lagged ones (the convecting velocity of a Picard linearisation becomes u⁽ᵖʳᵉᵛ⁾ + u′⁽ᵖʳᵉᵛ⁾, the fine scale at the previous iterate)"
+			what += " and $u^{\\mathrm{prev}} + u'^{\\mathrm{prev}}$ for the lagged ones, previous(u) (the convecting velocity of a Picard linearisation becomes $u^{\\mathrm{prev}} + u'^{\\mathrm{prev}}$, the fine scale at the previous iterate)"
 		}
-		x.notes = append(x.notes, Note{Assumption, "VMS by substitution: " + what + " are put into the operator, which is expanded in the fine scales (Hughes 1995; Bazilevs, Calo, Cottrell, Hughes, Reali & Scovazzi 2007, CMAME 197). The first-order term in u′ is −Σ_K (τR, L′*v)_K above; the terms added to the form are the rest: first-order terms in the lagged fine scale (the cross stress) and terms of order two and up (the Reynolds stress)"})
+		x.notes = append(x.notes, newNote(Assumption, `VMS by substitution: %s are put into the operator, which is expanded in the fine scales (Hughes 1995; Bazilevs, Calo, Cottrell, Hughes, Reali \& Scovazzi 2007, CMAME 197). The first-order term in $u'$ is $-\sum_K (\tau R, L'^* v)_K$ above; the terms added to the form are the rest: first-order terms in the lagged fine scale (the cross stress) and terms of order two and up (the Reynolds stress)`, what))
 		if polynomial && !firstOrder {
-			x.notes = append(x.notes, Note{Assumption, fmt.Sprintf("the operator is a polynomial of degree %d in the unknowns (and their previous iterates), so the expansion ends at order %d and is exact", highest, highest)})
+			x.notes = append(x.notes, newNote(Assumption, "the operator is a polynomial of degree %d in the unknowns (and their previous iterates), so the expansion ends at order %d and is exact", highest, highest))
 		}
-		x.notes = append(x.notes, Note{Assumption, "the fine scales vanish on cell boundaries and are known at points only (u′ = −τR), so every derivative acting on a fine scale is moved onto the other factors by parts, cell by cell"})
+		x.notes = append(x.notes, newNote(Assumption, `the fine scales vanish on cell boundaries and are known at points only ($u' = -\tau R$), so every derivative acting on a fine scale is moved onto the other factors by parts, cell by cell`))
 		if firstOrder {
-			x.notes = append(x.notes, Note{Warning, "the operator is not a polynomial of low degree in the unknowns, so the expansion is cut after the first order: the second-order terms listed as dropped are left out (with the higher ones), which is consistent, as they vanish with the residual"})
+			x.notes = append(x.notes, newNote(Warning, "the operator is not a polynomial of low degree in the unknowns, so the expansion is cut after the first order: the second-order terms listed as dropped are left out (with the higher ones), which is consistent, as they vanish with the residual"))
 		}
 		if len(x.dropped) > 0 && !firstOrder {
-			x.notes = append(x.notes, Note{Warning, "the terms listed as dropped keep a derivative of a fine scale after integration by parts, which the pointwise model u′ = −τR does not give: they are left out (they vanish with the residual, so the form stays consistent; in the conservation form of the convection used by Bazilevs et al. 2007 they do not arise)"})
+			x.notes = append(x.notes, newNote(Warning, `the terms listed as dropped keep a derivative of a fine scale after integration by parts, which the pointwise model $u' = -\tau R$ does not give: they are left out (they vanish with the residual, so the form stays consistent; in the conservation form of the convection used by Bazilevs et al. 2007 they do not arise)`))
 		}
 	}
 	return x, nil

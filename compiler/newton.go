@@ -43,7 +43,7 @@ func stabiliseNonlinear(m *Model, meth Method, lin *Linearisation) []StabTerm {
 		sign := 1
 		switch meth {
 		case SUPG:
-			part := lin.Split[k].Parts[Advective]
+			part := lin.Split[k].FirstOrder(m.Dim)
 			if part == nil {
 				continue
 			}
@@ -293,7 +293,7 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 		}
 	}
 	if readsNormOfState(m) && !opts.FreezeTau {
-		j.Notes = append(j.Notes, Note{Assumption, "τ reads the norm of an unknown, which has no derivative where the unknown vanishes: there δ|a| = a·δa/|a| is taken as 0 (a subgradient), written sign(|a|) (a·δa)/(1 + |a| − sign(|a|))"})
+		j.Notes = append(j.Notes, newNote(Assumption, `$\tau$ reads the norm of an unknown, which has no derivative where the unknown vanishes: there $\delta|a| = a\cdot\delta a/|a|$ is taken as 0 (a subgradient), written $\mathrm{sign}(|a|)\,(a\cdot\delta a)/(1 + |a| - \mathrm{sign}(|a|))$`))
 	}
 	return j, nil
 }
@@ -315,16 +315,16 @@ func readsNormOfState(m *Model) bool {
 // linearisationNotes are the notes on the linearisation stage.
 func linearisationNotes(m *Model, lin *Linearisation) []Note {
 	var notes []Note
-	add := func(k NoteKind, f string, a ...any) { notes = append(notes, Note{k, fmt.Sprintf(f, a...)}) }
-	add(Assumption, "the operator is nonlinear in the unknowns: the discrete problem is the residual form F(u; v) = 0, solved by Newton's method with the Jacobian J(u; δu, v) = d/dε F(u + εδu; v)|ε=0 (Dennis & Schnabel 1983); the linearised operator L′(u)δu = d/dε L(u + εδu)|ε=0 is the Gateaux derivative, computed symbolically")
+	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
+	add(Assumption, `the operator is nonlinear in the unknowns: the discrete problem is the residual form $F(u; v) = 0$, solved by Newton's method with the Jacobian $J(u; \delta u, v) = \mathrm{d}/\mathrm{d}\varepsilon\,F(u + \varepsilon\delta u; v)|_{\varepsilon=0}$ (Dennis \& Schnabel 1983); the linearised operator $L'(u)\delta u = \mathrm{d}/\mathrm{d}\varepsilon\,L(u + \varepsilon\delta u)|_{\varepsilon=0}$ is the Gateaux derivative, computed symbolically`)
 	for k, a := range lin.Advection {
 		if a != nil && ir.HasRole(a, ir.Trial) {
-			add(Assumption, "the advective velocity of the equation for %s is read off the first-order part of L′: it depends on the unknowns, so SUPG, GLS and VMS advect the test function with it at u_h", m.Unknowns[m.Equations[k].For].Name)
+			add(Assumption, `the advective velocity of the equation for $%s$ is read off the first-order part of $L'$: it depends on the unknowns, so SUPG, GLS and VMS advect the test function with it at $u_h$`, tn(m.Unknowns[m.Equations[k].For].Name))
 		}
 	}
 	for _, eq := range m.Equations {
 		if ir.HasRole(eq.Written, ir.Previous) {
-			add(Warning, "the equation for %s also reads previous(...): the linearisation holds it fixed (an explicit lag), so Newton converges linearly", m.Unknowns[eq.For].Name)
+			add(Warning, `the equation for $%s$ also reads previous(\ldots): the linearisation holds it fixed (an explicit lag), so Newton converges linearly`, tn(m.Unknowns[eq.For].Name))
 		}
 	}
 	return notes

@@ -5,15 +5,19 @@ import "github.com/formwright/formwright/compiler/ir"
 // Part names one part of the operator split.
 type Part uint8
 
-// The parts of L = L_t + L_A + L_D + L_R.
+// The parts of L = L_t + L_A + L_D + L_R + L_C.
 const (
 	Temporal  Part = iota // time derivatives
-	Advective             // first-order terms
+	Advective             // first-order terms in the equation's own unknown
 	Diffusive             // second-order terms
 	Reactive              // zero-order terms
+	// Coupling holds the first-order terms in the other unknowns of a
+	// system: ∇p in a momentum equation, ∇·u in a continuity equation.
+	Coupling
+	numParts
 )
 
-var partNames = [...]string{"temporal", "advective", "diffusive", "reactive"}
+var partNames = [...]string{"temporal", "advective", "diffusive", "reactive", "coupling"}
 
 func (p Part) String() string { return partNames[p] }
 
@@ -22,19 +26,33 @@ func (p Part) String() string { return partNames[p] }
 // even when κ varies and its expansion has a first-order piece).
 type Split struct {
 	For   int
-	Parts [4]ir.Expr // nil where the part is absent
+	Parts [numParts]ir.Expr // nil where the part is absent
+}
+
+// FirstOrder is the whole first-order part, advective and coupling terms
+// together (nil when there is none): what SUPG puts on the test function.
+func (s Split) FirstOrder(dim int) ir.Expr {
+	switch a, c := s.Parts[Advective], s.Parts[Coupling]; {
+	case a == nil:
+		return c
+	case c == nil:
+		return a
+	default:
+		return Simplify(ir.Sum(a.Pos(), a, c), dim)
+	}
 }
 
 // SplitOperator divides every equation's operator into its temporal,
 // advective (first-order), diffusive (second-order) and reactive
 // (zero-order) parts, by the highest derivative acting on the unknown in
-// each term. For a system this is done row by row of the block operator, so
-// coupling terms such as ∇p in a momentum equation and ∇·u in a continuity
-// equation are first-order and land in the advective part.
+// each term. For a system this is done row by row of the block operator;
+// first-order terms whose derivatives act only on other unknowns than the
+// equation's own (∇p in a momentum equation, ∇·u in a continuity
+// equation) are not advection and form the coupling part.
 func SplitOperator(m *Model) []Split {
 	out := make([]Split, len(m.Equations))
 	for k, eq := range m.Equations {
-		var parts [4][]ir.Expr
+		var parts [numParts][]ir.Expr
 		for _, t := range additiveTerms(eq.Written) {
 			order, td := derivOrder(t)
 			var p Part
@@ -43,6 +61,8 @@ func SplitOperator(m *Model) []Split {
 				p = Temporal
 			case order == 0:
 				p = Reactive
+			case order == 1 && !derivesOwn(t, eq.For):
+				p = Coupling
 			case order == 1:
 				p = Advective
 			default:
@@ -58,6 +78,32 @@ func SplitOperator(m *Model) []Split {
 		}
 	}
 	return out
+}
+
+// derivesOwn reports whether a derivative in t acts on the trial field of
+// unknown own.
+func derivesOwn(t ir.Expr, own int) bool {
+	found := false
+	var walk func(e ir.Expr, under bool)
+	seen := map[ir.Expr]bool{}
+	walk = func(e ir.Expr, under bool) {
+		if found || seen[e] && !under {
+			return
+		}
+		seen[e] = true
+		switch e := e.(type) {
+		case *ir.Field:
+			found = under && e.Role == ir.Trial && e.Index == own
+			return
+		case *ir.Grad, *ir.Div, *ir.Partial, *ir.Lap:
+			under = true
+		}
+		for _, k := range ir.Children(e) {
+			walk(k, under)
+		}
+	}
+	walk(t, false)
+	return found
 }
 
 // toTest replaces every trial field by the test function of the same

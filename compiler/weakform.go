@@ -187,10 +187,11 @@ func Stabilise(m *Model, meth Method, split []Split, adj []ir.Expr) []StabTerm {
 		sign := 1
 		switch meth {
 		case SUPG:
-			if split[k].Parts[Advective] == nil {
+			first := split[k].FirstOrder(m.Dim)
+			if first == nil {
 				continue
 			}
-			op = Simplify(toTest(split[k].Parts[Advective]), m.Dim)
+			op = Simplify(toTest(first), m.Dim)
 		case GLS:
 			op = Simplify(toTest(eq.Written), m.Dim)
 		case VMS:

@@ -124,8 +124,6 @@ func (p printer) testName(f *ir.Field) string {
 	return p.name("v_" + f.Name)
 }
 
-var superscripts = map[rune]rune{'0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹', '-': '⁻'}
-
 func superscript(s string) (string, bool) {
 	var b strings.Builder
 	for _, r := range s {

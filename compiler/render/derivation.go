@@ -464,6 +464,7 @@ type jsonSplit struct {
 	Advective *Expression `json:"advective"`
 	Diffusive *Expression `json:"diffusive"`
 	Reactive  *Expression `json:"reactive"`
+	Coupling  *Expression `json:"coupling"`
 }
 
 type jsonGalerkin struct {
@@ -542,7 +543,7 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 		out.Adjoint = append(out.Adjoint, jsonRow{m.Unknowns[i].Name, jexpr(a, names)})
 	}
 	for _, s := range d.Split {
-		out.Split = append(out.Split, jsonSplit{m.Unknowns[s.For].Name, jexpr(s.Parts[0], names), jexpr(s.Parts[1], names), jexpr(s.Parts[2], names), jexpr(s.Parts[3], names)})
+		out.Split = append(out.Split, jsonSplit{m.Unknowns[s.For].Name, jexpr(s.Parts[0], names), jexpr(s.Parts[1], names), jexpr(s.Parts[2], names), jexpr(s.Parts[3], names), jexpr(s.Parts[4], names)})
 	}
 	g := d.Galerkin
 	out.Galerkin = jsonGalerkin{Bilinear: jexpr(g.Bilinear, names), Source: jexpr(g.Source, names), Boundary: []jsonBoundary{}, Flux: []jsonRow{}}

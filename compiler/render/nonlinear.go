@@ -238,7 +238,7 @@ func jsonOfNonlinear(d *compiler.Derivation) *jsonNonlinear {
 		}
 	}
 	for _, s := range lin.Split {
-		out.Split = append(out.Split, jsonSplit{m.Unknowns[s.For].Name, jexpr(s.Parts[0], names), jexpr(s.Parts[1], names), jexpr(s.Parts[2], names), jexpr(s.Parts[3], names)})
+		out.Split = append(out.Split, jsonSplit{m.Unknowns[s.For].Name, jexpr(s.Parts[0], names), jexpr(s.Parts[1], names), jexpr(s.Parts[2], names), jexpr(s.Parts[3], names), jexpr(s.Parts[4], names)})
 	}
 	for _, f := range d.Forms {
 		j := f.Jacobian
