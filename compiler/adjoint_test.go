@@ -228,3 +228,36 @@ equation for u: a . grad(u) = 0`)
 		t.Errorf("GLS derivation lacks the antisymmetry note: %v", d.Forms[0].Notes)
 	}
 }
+
+// TestAdjointDropsVanishingDivergence: the formal adjoint of a·∇u is
+// −(∇·a)v − a·∇v (integration by parts; e.g. Donea & Huerta 2003, §2.2).
+// For the rigid rotation a = (−y, x), ∇·a = 0 by hand, so the derivation
+// leaves the first term out and says why; for a = (1 − x²/4, y/10),
+// ∇·a = −x/2 + 1/10 by hand, so the term stays.
+func TestAdjointDropsVanishingDivergence(t *testing.T) {
+	for _, c := range []struct {
+		a    string
+		kept bool
+	}{{"[-y, x]", false}, {"[1 - x^2/4, y/10]", true}} {
+		m := mustModel(t, "model m\ndimension 2\nunknown c: scalar P1\ngiven a = "+c.a+
+			"\nequation for c: a . grad(c) - lap(c) = 1\nat all: c = 0\n")
+		d, err := Derive(m, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		hasDiv := false
+		ir.InspectOnce(d.Adjoint[0], func(e ir.Expr) bool {
+			if _, ok := e.(*ir.Div); ok {
+				hasDiv = true
+			}
+			return true
+		})
+		noted := false
+		for _, n := range d.Notes {
+			noted = noted || strings.Contains(n.Text, "divergence of a vanishes")
+		}
+		if hasDiv != c.kept || noted == c.kept {
+			t.Errorf("a = %s: adjoint %s has the divergence term: %v (want %v), note: %v", c.a, show(d.Adjoint[0]), hasDiv, c.kept, noted)
+		}
+	}
+}

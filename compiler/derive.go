@@ -120,11 +120,18 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 	} else if d.Adjoint, err = Adjoint(m); err != nil {
 		return nil, err
 	}
+	var solenoidal []string
+	for i, a := range d.Adjoint {
+		d.Adjoint[i], solenoidal = dropVanishingDivergences(m, a, solenoidal)
+	}
 	d.Split = SplitOperator(m)
 	if d.Galerkin, err = WeakGalerkin(m); err != nil {
 		return nil, err
 	}
 	d.Notes = galerkinNotes(m)
+	if len(solenoidal) > 0 {
+		d.Notes = append(d.Notes, newNote(Assumption, `the divergence of %s vanishes identically (its definition differentiated and simplified), so the term $-(\nabla\cdot a)\,v$ of the formal adjoint (stage 3) is zero and left out`, strings.Join(solenoidal, " and ")))
+	}
 	for _, name := range m.FreeConstants() {
 		d.Notes = append(d.Notes, newNote(Warning, "$%s$ is fixed only up to a constant: adding a constant to it changes no equation, and no value, Robin or mean condition holds it, so the discrete problem is singular; add a value condition on part of the boundary or the statement ``mean %s = 0''", tn(name), notation.TeXProse(baseName(name))))
 	}
@@ -272,6 +279,35 @@ func advectionDivergences(m *Model, split []Split) []ir.Expr {
 		}
 	}
 	return out
+}
+
+// dropVanishingDivergences replaces by zero each divergence in e of a
+// field that holds no unknown and whose divergence, with the given
+// coefficients' definitions substituted, simplifies to zero: the formal
+// adjoint of a·∇u is −∇·(a v) = −(∇·a)v − a·∇v, and for a solenoidal a
+// given in closed form the first term is identically zero. It appends the
+// markup of each such field to fields.
+func dropVanishingDivergences(m *Model, e ir.Expr, fields []string) (ir.Expr, []string) {
+	changed := false
+	out := ir.MapUp(e, func(n ir.Expr) ir.Expr {
+		d, ok := n.(*ir.Div)
+		if !ok || ir.HasField(d.X) {
+			return n
+		}
+		if !ir.IsZero(Simplify(&ir.Div{At: d.At, X: substituteDefs(m, d.X)}, m.Dim)) {
+			return n
+		}
+		changed = true
+		f := "$" + notation.Expr(d.X, notation.LaTeX, notation.Names{}) + "$"
+		if !slices.Contains(fields, f) {
+			fields = append(fields, f)
+		}
+		return ir.Zero(d.Pos(), 0, m.Dim)
+	})
+	if !changed {
+		return e, fields
+	}
+	return Simplify(out, m.Dim), fields
 }
 
 // substituteDefs replaces coefficient symbols by their definitions, so that

@@ -131,7 +131,7 @@ type JacobianForm struct {
 	Defs []*Definition
 	// Approximations says where J differs from the exact derivative of F
 	// (empty: it is exact).
-	Approximations []string
+	Approximations []Note
 	Notes          []Note
 }
 
@@ -279,17 +279,17 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 	}
 	// What the Jacobian leaves out, and why that is acceptable.
 	if frozenTau {
-		j.Approximations = append(j.Approximations, "τ is frozen at the iterate: the terms ±Σ_K (δτ R, P v)_K are left out of J (they vanish with the residual, so the solution is the same, but Newton converges linearly)")
+		j.Approximations = append(j.Approximations, newNote(Warning, `$\tau$ is frozen at the iterate: the terms $\pm\sum_K (\delta\tau\, R, P v)_K$ are left out of $J$ (they vanish with the residual, so the solution is the same, but Newton converges linearly)`))
 	}
 	if frozenTest {
-		j.Approximations = append(j.Approximations, "the test operator P of the stabilisation terms is frozen at the iterate: the terms ±Σ_K (τ R, δ(P v))_K are left out of J (they vanish with the residual, so the solution is the same, but Newton converges linearly)")
+		j.Approximations = append(j.Approximations, newNote(Warning, `the test operator $P$ of the stabilisation terms is frozen at the iterate: the terms $\pm\sum_K (\tau R, \delta(P v))_K$ are left out of $J$ (they vanish with the residual, so the solution is the same, but Newton converges linearly)`))
 	}
 	if frozenStep {
-		j.Approximations = append(j.Approximations, "the model is transient: R holds ∂ₜu, which a backward Euler step replaces by (u − uⁿ)/Δt, and the kernels of one step read the iterate but not the old level uⁿ; so the terms ±Σ_K (δτ R, P v)_K and ±Σ_K (τ R, δ(P v))_K are left out of J (τ and the test operator frozen at the iterate; they vanish with the residual, so the solution is the same, but Newton converges linearly)")
+		j.Approximations = append(j.Approximations, newNote(Warning, `the model is transient: $R$ holds $\partial_t u$, which a backward Euler step replaces by $(u - u^n)/\Delta t$, and the kernels of one step read the iterate but not the old level $u^n$; so the terms $\pm\sum_K (\delta\tau\, R, P v)_K$ and $\pm\sum_K (\tau R, \delta(P v))_K$ are left out of $J$ ($\tau$ and the test operator frozen at the iterate; they vanish with the residual, so the solution is the same, but Newton converges linearly)`))
 	}
 	for _, eq := range m.Equations {
 		if ir.HasRole(eq.Written, ir.Previous) {
-			j.Approximations = append(j.Approximations, fmt.Sprintf("previous(...) in the equation for %s is an explicit lag in the model: J holds it at the iterate and leaves out the derivative through it, so Newton converges linearly", m.Unknowns[eq.For].Name))
+			j.Approximations = append(j.Approximations, newNote(Warning, `previous(\ldots) in the equation for %s is an explicit lag in the model: $J$ holds it at the iterate and leaves out the derivative through it, so Newton converges linearly`, tnList([]string{m.Unknowns[eq.For].Name})))
 		}
 	}
 	if readsNormOfState(m) && !opts.FreezeTau {
@@ -392,7 +392,10 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 	}
 	l.conditions(step)
 	step.MaxDerivative = maxDeriv(step.Integrals)
-	nf := &ir.NonlinearForm{Approximations: j.Approximations}
+	nf := &ir.NonlinearForm{}
+	for _, a := range j.Approximations {
+		nf.Approximations = append(nf.Approximations, a.Text)
+	}
 	res, jac := *step, *step
 	res.Integrals, jac.Integrals = nil, nil
 	for _, in := range step.Integrals {

@@ -216,10 +216,11 @@ func scripted(s string, super bool) (string, bool) {
 	return b.String(), s != ""
 }
 
-// TeXName writes a model name (an unknown, a coefficient, a side) for use
-// inside markup math: upright, with its underscores escaped.
+// TeXName writes a model name (an unknown, a coefficient) for use inside
+// markup math as the equations write it: Greek names as letters, a name of
+// several letters upright, a trailing _part as a subscript.
 func TeXName(name string) string {
-	return `\mathrm{` + strings.ReplaceAll(name, "_", `\_`) + `}`
+	return printer{style: LaTeX}.name(name)
 }
 
 // TeXProse escapes a string for the prose of markup (outside math).

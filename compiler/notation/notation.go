@@ -538,7 +538,14 @@ func (p printer) pow(e *ir.Pow) (string, int) {
 	}
 	switch p.style {
 	case LaTeX:
-		return p.sub(e.Base, precAtom) + "^{" + p.sub(e.Exp, 0) + "}", precPow
+		base := p.sub(e.Base, precAtom)
+		switch {
+		case strings.Contains(base, "^"): // u^{prev} squared: {u^{prev}}^{2}, not a double superscript
+			base = "{" + base + "}"
+		case strings.HasPrefix(base, `\delta `): // (δu)², not δ(u²)
+			base = `\left(` + base + `\right)`
+		}
+		return base + "^{" + p.sub(e.Exp, 0) + "}", precPow
 	}
 	return p.sub(e.Base, precAtom) + "^" + p.sub(e.Exp, precAtom), precPow
 }
@@ -571,4 +578,34 @@ func (p printer) call(e *ir.Call) (string, int) {
 		return e.Fn.LaTeX() + `\left(` + strings.Join(args, ", ") + `\right)`, precAtom
 	}
 	return e.Fn.String() + "(" + strings.Join(args, ", ") + ")", precAtom
+}
+
+// Terms prints the top-level additive terms of e, each with the sign that
+// joins it to the terms before it ("a", "+ b", "− c"), so that a writer
+// can break a long sum between terms. An expression that is not a sum is
+// one term.
+func Terms(e ir.Expr, s Style, n Names) []string {
+	left := MaxNodes
+	p := printer{s, n, &left}
+	add, ok := e.(*ir.Add)
+	if !ok {
+		str, _ := p.expr(e)
+		return []string{str}
+	}
+	out := make([]string, len(add.Terms))
+	for i, t := range add.Terms {
+		pos, neg := negated(t)
+		str := p.sub(pos, precMul)
+		switch {
+		case i == 0 && neg:
+			out[i] = p.minus() + str
+		case i == 0:
+			out[i] = str
+		case neg:
+			out[i] = p.minus() + " " + str
+		default:
+			out[i] = "+ " + str
+		}
+	}
+	return out
 }

@@ -216,126 +216,6 @@ func methodTitle(m compiler.Method) string {
 	return "Galerkin"
 }
 
-// WriteLaTeX prints the derivation as a complete amsmath document.
-func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
-	m := d.Model
-	t := &textWriter{w: w, s: notation.LaTeX, names: namesFor(m), m: m}
-	t.printf("%% Derivation of model %s, written by formwright.\n", m.Name)
-	t.printf("\\documentclass{article}\n\\usepackage{amsmath,amssymb}\n\\usepackage[margin=2cm]{geometry}\n\\begin{document}\n")
-	t.printf("\\section*{Model \\texttt{%s}, dimension %d}\n", latexText(m.Name), m.Dim)
-	t.printf("\\subsection*{Operator as written}\n\\begin{align*}\n")
-	for k, eq := range m.Equations {
-		t.printf("%s &= %s \\\\\n", t.e(eq.Written), t.e(d.Sources[k]))
-	}
-	t.printf("\\end{align*}\n\\subsection*{Normalised}\n\\begin{align*}\n")
-	for k, eq := range m.Equations {
-		t.printf("L_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[eq.For].Name), t.e(d.Normalised[k]))
-	}
-	g := d.Galerkin
-	if d.Linear != nil {
-		t.printf("\\end{align*}\n")
-		t.latexLinearisation(d)
-		t.printf("\\subsection*{Residual form, Galerkin part}\n\\begin{align*}\n")
-		t.printf("F &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(compiler.Simplify(ir.Sub(g.Bilinear.Pos(), g.Bilinear, g.Source), m.Dim)))
-		for _, b := range g.Boundary {
-			t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
-		}
-		t.printf("\n\\end{align*}\n")
-		t.latexNotes(d.Notes)
-		for i := range d.Forms {
-			if d.Forms[i].Method == compiler.Galerkin {
-				t.latexJacobian(&d.Forms[i])
-			}
-		}
-	} else {
-		t.printf("\\end{align*}\n\\subsection*{Formal adjoint}\n\\begin{align*}\n")
-		for i, a := range d.Adjoint {
-			t.printf("L^*_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[i].Name), t.e(a))
-		}
-		t.printf("\\end{align*}\n\\subsection*{Split}\n\\begin{align*}\n")
-		for _, s := range d.Split {
-			for p, part := range s.Parts {
-				if part != nil {
-					t.printf("L^{\\mathrm{%s}}_{\\mathrm{%s}} &= %s \\\\\n", compiler.Part(p), latexText(m.Unknowns[s.For].Name), t.e(part))
-				}
-			}
-		}
-		t.printf("\\end{align*}\n\\subsection*{Galerkin form}\n\\begin{align*}\n")
-		t.printf("B &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(g.Bilinear))
-		for _, b := range g.Boundary {
-			t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
-		}
-		t.printf(" \\\\\nF &= \\int_\\Omega %s \\,\\mathrm{d}x\n\\end{align*}\n", t.e(g.Source))
-		t.latexNotes(d.Notes)
-	}
-	for _, f := range d.Forms {
-		if f.Method == compiler.Galerkin {
-			continue
-		}
-		t.printf("\\subsection*{%s}\n\\begin{align*}\n", latexText(methodTitle(f.Method)))
-		var parts []string
-		for _, s := range f.Stab {
-			sign := "+"
-			if s.Sign < 0 {
-				sign = "-"
-			}
-			parts = append(parts, fmt.Sprintf("%s \\sum_K \\left(%s R_{\\mathrm{%s}}, %s\\right)_K", sign, t.e(s.Tau), latexText(m.Unknowns[s.For].Name), t.e(s.TestOp)))
-		}
-		if f.Cross != nil {
-			parts = append(parts, fmt.Sprintf("+ \\sum_K \\left(%s\\right)_K", t.e(f.Cross)))
-		}
-		if d.Linear != nil {
-			t.printf("&F %s = 0 \\\\\n", strings.Join(parts, " "))
-		} else {
-			t.printf("&B %s = F \\\\\n", strings.Join(parts, " "))
-		}
-		for _, s := range f.Stab {
-			t.printf("R_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[s.For].Name), t.e(s.Residual))
-			t.printf("%s &= %s \\\\\n", t.e(s.Tau), t.e(compiler.Simplify(m.Tau[s.For], m.Dim)))
-		}
-		for _, fs := range f.Fine {
-			t.printf("%s &= %s \\\\\n", t.e(fs.Sym), t.e(fs.Def))
-		}
-		for _, x := range f.Dropped {
-			t.printf("\\text{dropped: } & \\sum_K \\left(%s\\right)_K \\\\\n", t.e(x))
-		}
-		t.printf("\\end{align*}\n")
-		t.latexNotes(f.Notes)
-		if f.Jacobian != nil {
-			t.latexJacobian(&f)
-		}
-	}
-	if d.Picard != nil {
-		t.latexPicard(d)
-	}
-	t.printf("\\end{document}\n")
-	return t.err
-}
-
-func (t *textWriter) latexNotes(ns []compiler.Note) {
-	if len(ns) == 0 {
-		return
-	}
-	t.printf("\\begin{itemize}\n")
-	for _, n := range ns {
-		prefix := ""
-		if n.Kind == compiler.Warning {
-			prefix = "\\textbf{Warning:} "
-		}
-		t.printf("\\item %s%s\n", prefix, latexText(n.Text))
-	}
-	t.printf("\\end{itemize}\n")
-}
-
-// latexText escapes running text and maps the Unicode symbols the notes use.
-func latexText(s string) string {
-	r := strings.NewReplacer(`\`, `\textbackslash{}`, "_", `\_`, "&", `\&`, "%", `\%`, "#", `\#`, "$", `\$`, "{", `\{`, "}", `\}`, "^", `\^{}`, "~", `\~{}`,
-		"τ", `$\tau$`, "′", `$'$`, "≈", `$\approx$`, "−", `$-$`, "·", `$\cdot$`, "¹", `$^1$`, "₀", `$_0$`, "∇", `$\nabla$`, "≠", `$\neq$`,
-		"∂", `$\partial$`, "Σ", `$\Sigma$`, "κ", `$\kappa$`, "ε", `$\varepsilon$`, "Δ", `$\Delta$`, "–", "--", "ö", `\"o`, "é", `\'e`, "ä", `\"a`,
-		"δ", `$\delta$`, "λ", `$\lambda$`, "ᵖʳᵉᵛ", `prev`, "ᵖ", "p", "ʳ", "r", "ᵉ", "e", "ᵛ", "v", "…", `\ldots{}`, "±", `$\pm$`, "ₜ", `$_t$`, "ⁿ", `$^n$`, "²", `$^2$`, "³", `$^3$`, "⁴", `$^4$`, "‖", `$\|$`, "≤", `$\le$`, "≥", `$\ge$`, "σ", `$\sigma$`, "α", `$\alpha$`, "ν", `$\nu$`, "⊗", `$\otimes$`, "Ω", `$\Omega$`, "∫", `$\int$`, "∑", `$\sum$`, "⁽", "", "⁾", "")
-	return r.Replace(s)
-}
-
 // Expression is the JSON form of an expression: its model-language syntax
 // (readable back), its Unicode rendering, and its IR tree.
 type Expression struct {
@@ -402,7 +282,7 @@ func Tree(e ir.Expr) *Node {
 	case *ir.Partial:
 		n.Op, n.Name = "partial", ir.AxisName(e.Axis)
 	case *ir.TimeDeriv:
-		n.Op = "dt"
+		n.Op = "time_derivative"
 	case *ir.FieldD:
 		n.Op, n.Name, n.Kind = "field_derivative", notation.Expr(e, notation.Syntax, notation.Names{}), e.Field.Role.String()
 	case *ir.CellQ:
@@ -507,6 +387,7 @@ type jsonStab struct {
 type jsonNote struct {
 	Kind string `json:"kind"`
 	Text string `json:"text"`
+	TeX  string `json:"tex"`
 }
 
 type jsonCondition struct {
@@ -519,13 +400,13 @@ type jsonCondition struct {
 func jnotes(ns []compiler.Note) []jsonNote {
 	out := []jsonNote{}
 	for _, n := range ns {
-		out = append(out, jsonNote{n.Kind.String(), n.Text})
+		out = append(out, jsonNote{n.Kind.String(), n.Text, n.TeX})
 	}
 	return out
 }
 
 // SchemaVersion names the JSON layout WriteJSON produces.
-const SchemaVersion = "formwright.derivation/1"
+const SchemaVersion = "formwright.derivation/2"
 
 // WriteJSON prints the derivation as JSON (schema SchemaVersion).
 func WriteJSON(w io.Writer, d *compiler.Derivation) error {

@@ -77,7 +77,7 @@ func (t *textWriter) jacobian(f *compiler.MethodForm, name string) {
 		t.printf("     J is the exact derivative of %s: no approximation\n", name)
 	}
 	for _, a := range j.Approximations {
-		t.printf("     approximation: %s\n", a)
+		t.printf("     approximation: %s\n", a.Text)
 	}
 	t.notes(j.Notes)
 }
@@ -96,92 +96,6 @@ func (t *textWriter) picard(d *compiler.Derivation, stage int) {
 		}
 	}
 	t.notes(pl.Notes)
-}
-
-// LaTeX.
-
-func (t *textWriter) latexLinearisation(d *compiler.Derivation) {
-	m := d.Model
-	lin := d.Linear
-	t.printf("\\subsection*{Linearised operator (Gateaux derivative)}\n\\begin{align*}\n")
-	for k, eq := range m.Equations {
-		t.printf("L'_{\\mathrm{%s}}(u)[\\delta u] &= %s \\\\\n", latexText(m.Unknowns[eq.For].Name), t.e(lin.Operator[k]))
-	}
-	for k, a := range lin.Advection {
-		if a != nil {
-			t.printf("a_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[m.Equations[k].For].Name), t.e(a))
-		}
-	}
-	t.printf("\\end{align*}\n\\subsection*{Formal adjoint of the linearisation}\n\\begin{align*}\n")
-	for i, a := range d.Adjoint {
-		t.printf("L'^*_{\\mathrm{%s}} &= %s \\\\\n", latexText(m.Unknowns[i].Name), t.e(a))
-	}
-	t.printf("\\end{align*}\n\\subsection*{Split of the linearisation}\n\\begin{align*}\n")
-	for _, s := range lin.Split {
-		for p, part := range s.Parts {
-			if part != nil {
-				t.printf("L'^{\\mathrm{%s}}_{\\mathrm{%s}} &= %s \\\\\n", compiler.Part(p), latexText(m.Unknowns[s.For].Name), t.e(part))
-			}
-		}
-	}
-	t.printf("\\end{align*}\n")
-}
-
-func (t *textWriter) latexJacobian(f *compiler.MethodForm) {
-	m := t.m
-	j := f.Jacobian
-	t.printf("\\paragraph{Jacobian} $J(u; \\delta u, v) = \\frac{d}{d\\varepsilon} F(u + \\varepsilon\\,\\delta u; v)|_{\\varepsilon=0}$:\n\\begin{align*}\n")
-	t.printf("J &= \\int_\\Omega %s \\,\\mathrm{d}x", t.e(j.Galerkin))
-	for _, b := range j.Boundary {
-		t.printf(" + \\int_{\\Gamma_{\\mathrm{%s}}} %s \\,\\mathrm{d}s", latexText(b.Side), t.e(b.Integrand))
-	}
-	for _, s := range j.Stab {
-		sign := "+"
-		if s.Sign < 0 {
-			sign = "-"
-		}
-		u := latexText(m.Unknowns[s.For].Name)
-		first := fmt.Sprintf("%s L'_{\\mathrm{%s}}(u)[\\delta u]", t.e(s.Tau), u)
-		if s.TauVar != nil {
-			first = fmt.Sprintf("%s R_{\\mathrm{%s}} + %s", t.e(s.TauVar), u, first)
-		}
-		t.printf(" \\\\\n&\\quad %s \\sum_K \\left(%s, %s\\right)_K", sign, first, t.e(s.TestOp))
-		if s.TestVar != nil {
-			t.printf(" %s \\sum_K \\left(%s R_{\\mathrm{%s}}, %s\\right)_K", sign, t.e(s.Tau), u, t.e(s.TestVar))
-		}
-	}
-	if j.Fine != nil {
-		t.printf(" \\\\\n&\\quad + \\sum_K \\left(%s\\right)_K", t.e(j.Fine))
-	}
-	t.printf(" \\\\\n")
-	for _, g := range j.Defs {
-		t.printf("%s &= %s \\\\\n", t.e(g.Sym), t.e(g.Def))
-	}
-	t.printf("\\end{align*}\n")
-	var notes []compiler.Note
-	if len(j.Approximations) == 0 {
-		notes = append(notes, compiler.Note{Kind: compiler.Assumption, Text: "J is the exact derivative of the residual form: no approximation"})
-	}
-	for _, a := range j.Approximations {
-		notes = append(notes, compiler.Note{Kind: compiler.Warning, Text: "approximation: " + a})
-	}
-	t.latexNotes(append(notes, j.Notes...))
-}
-
-func (t *textWriter) latexPicard(d *compiler.Derivation) {
-	m := d.Model
-	pl := d.Picard
-	t.printf("\\subsection*{Picard linearisation (second choice)}\n\\begin{align*}\n")
-	for k := range m.Equations {
-		t.printf("%s &= %s \\\\\n", t.e(pl.Operators[k]), t.e(pl.Sources[k]))
-	}
-	for i, tau := range pl.Tau {
-		if tau != nil {
-			t.printf("%s &= %s \\\\\n", t.e(m.TauSym[i]), t.e(tau))
-		}
-	}
-	t.printf("\\end{align*}\n")
-	t.latexNotes(pl.Notes)
 }
 
 // JSON.
@@ -206,11 +120,11 @@ type jsonJacobian struct {
 }
 
 type jsonStabJac struct {
-	For          string      `json:"for"`
-	Sign         int         `json:"sign"`
-	TauVariation *Expression `json:"tau_variation,omitempty"`
-	Linearised   *Expression `json:"residual_variation"`
-	TestVariaton *Expression `json:"test_variation,omitempty"`
+	For           string      `json:"for"`
+	Sign          int         `json:"sign"`
+	TauVariation  *Expression `json:"tau_variation,omitempty"`
+	Linearised    *Expression `json:"residual_variation"`
+	TestVariation *Expression `json:"test_variation,omitempty"`
 }
 
 type jsonDef struct {
@@ -246,12 +160,12 @@ func jsonOfNonlinear(d *compiler.Derivation) *jsonNonlinear {
 			continue
 		}
 		jj := jsonJacobian{Method: f.Method.String(), Cell: jexpr(j.CellIntegrand(m.Dim), names), Boundary: []jsonBoundary{}, Terms: []jsonStabJac{},
-			Fine: jexpr(j.Fine, names), Definitions: []jsonDef{}, Approximations: append([]string{}, j.Approximations...), Notes: jnotes(j.Notes)}
+			Fine: jexpr(j.Fine, names), Definitions: []jsonDef{}, Approximations: noteTexts(j.Approximations), Notes: jnotes(j.Notes)}
 		for _, b := range j.Boundary {
 			jj.Boundary = append(jj.Boundary, jsonBoundary{b.Side, jexpr(b.Integrand, names)})
 		}
 		for _, s := range j.Stab {
-			js := jsonStabJac{For: m.Unknowns[s.For].Name, Sign: s.Sign, Linearised: jexpr(s.ResidualVar, names), TestVariaton: jexpr(s.TestVar, names)}
+			js := jsonStabJac{For: m.Unknowns[s.For].Name, Sign: s.Sign, Linearised: jexpr(s.ResidualVar, names), TestVariation: jexpr(s.TestVar, names)}
 			if s.TauVar != nil {
 				js.TauVariation = jexpr(s.TauVar, names)
 			}
@@ -273,6 +187,15 @@ func jsonOfNonlinear(d *compiler.Derivation) *jsonNonlinear {
 		if tau != nil {
 			out.Picard.Tau = append(out.Picard.Tau, jsonRow{m.Unknowns[i].Name, jexpr(tau, names)})
 		}
+	}
+	return out
+}
+
+// noteTexts are the texts of notes.
+func noteTexts(ns []compiler.Note) []string {
+	out := []string{}
+	for _, n := range ns {
+		out = append(out, n.Text)
 	}
 	return out
 }
