@@ -42,6 +42,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	sweep := fs.String("sweep-pe", "", "also sweep the element Péclet number 0.01…1000 by setting this constant diffusivity coefficient")
 	speed := fs.Float64("speed", 1, "advection speed |a| used to turn Péclet numbers into diffusivities in --sweep-pe")
 	quiet := fs.Bool("quiet", false, "no progress on standard error")
+	quadrature := fs.Int("quadrature", 0, "quadrature degree of every integral (default: the model's quadrature statement, else chosen from the form's degrees)")
 	engine := addEngineFlags(fs)
 	check := fs.Bool("check", true, "fail (exit 1) when an order falls short; --check=false only reports")
 	until := fs.Float64("until", 0, "transient models: compare with the exact solution at this time")
@@ -57,6 +58,8 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	switch {
 	case *levels < 2 || *levels > 8:
 		return usagef("--levels must be between 2 and 8")
+	case *quadrature < 0 || *quadrature > compiler.MaxQuadrature:
+		return usagef("--quadrature %d: give a degree from 1 to %d (0: automatic)", *quadrature, compiler.MaxQuadrature)
 	case *base < 0 || *base > 1024:
 		return usagef("--base %d: give a number of cells per unit length from 1 to 1024 (0: the default)", *base)
 	case !(*tol >= 0) || math.IsInf(*tol, 0):
@@ -129,6 +132,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		prog.say(fmt.Sprint("level", meth, level), "%s: level %d of %d, %d cells", meth, level, *levels, cells)
 	}
 	cfg.Solve.Iterations = prog.iterations
+	cfg.Solve.Degree = *quadrature
 	if err := nl.check(fs); err != nil { // cmd_nonlinear.go
 		return err
 	}

@@ -670,3 +670,39 @@ func TestQuadratureFollowsTheData(t *testing.T) {
 		t.Errorf("--quadrature 3: status %d, %q %q", st, out.String(), errb.String())
 	}
 }
+
+// TestVerifyQuadratureFlag: verify's --quadrature reaches the assembly of
+// every level. A one-point rule (degree 1) integrates the smooth
+// manufactured source of adr inexactly, so its error on the finest mesh
+// differs from that of the automatic rule (the quadrature term of
+// Strang's first lemma; Strang & Fix 1973, §4.3); an out-of-range degree
+// is bad input.
+func TestVerifyQuadratureFlag(t *testing.T) {
+	finest := func(extra ...string) float64 {
+		var out, errb bytes.Buffer
+		args := append([]string{"verify", "adr", "--levels", "2", "--method", "supg", "--json", "--check=false", "--quiet"}, extra...)
+		if st := run(args, &out, &errb); st != exitOK {
+			t.Fatalf("%v: status %d: %s", args, st, errb.String())
+		}
+		var rep struct {
+			Methods []struct {
+				Levels []struct {
+					L2 float64 `json:"l2_error"`
+				} `json:"levels"`
+			} `json:"methods"`
+		}
+		if err := json.Unmarshal(out.Bytes(), &rep); err != nil || len(rep.Methods) != 1 {
+			t.Fatalf("%v: %v %s", args, err, out.String())
+		}
+		ls := rep.Methods[0].Levels
+		return ls[len(ls)-1].L2
+	}
+	auto, one := finest(), finest("--quadrature", "1")
+	if math.Abs(one-auto) < 0.01*auto {
+		t.Errorf("--quadrature 1 gives L2 error %.6g, the automatic rule %.6g: the flag did not reach the assembly", one, auto)
+	}
+	var out, errb bytes.Buffer
+	if st := run([]string{"verify", "adr", "--quadrature", "99"}, &out, &errb); st != exitBadInput {
+		t.Errorf("--quadrature 99: status %d, want %d", st, exitBadInput)
+	}
+}

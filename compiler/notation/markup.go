@@ -58,6 +58,9 @@ func Plain(markup string) string {
 		wasPrefix := afterPrefix
 		afterPrefix = false
 		switch {
+		case !inMath && (strings.HasPrefix(markup[i:], "``") || strings.HasPrefix(markup[i:], "''")):
+			b.WriteString(map[byte]string{'`': "“", '\'': "”"}[c]) // TeX's quotation marks
+			i += 2
 		case c == '$':
 			inMath = !inMath
 			i++
