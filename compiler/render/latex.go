@@ -64,7 +64,16 @@ func (l *latexWriter) section(n int, title string) {
 	l.printf("\\subsection*{%d.\\ %s}\n", n, title)
 }
 
-// equations sets rows, each `lhs rel pieces...`, as one numbered align.
+// row is one equation: lhs, the alignment point before rel, and the right
+// side in pieces.
+func row(lhs, rel string, rhs ...piece) []piece {
+	return append([]piece{fixed(lhs, utf8.RuneCountInString(lhs)/3), fixed("&"+rel, 2)}, rhs...)
+}
+
+// equations sets rows as one numbered align. A row's pieces are written
+// in order and broken where a line would pass lineWidth, never before the
+// alignment point (the piece that starts with &); continuation lines are
+// indented and unnumbered.
 func (l *latexWriter) equations(rows ...[]piece) {
 	if len(rows) == 0 {
 		return
@@ -72,7 +81,23 @@ func (l *latexWriter) equations(rows ...[]piece) {
 	l.printf("\\begin{align}\n")
 	for i, r := range rows {
 		l.row++
-		l.line(r)
+		used, aligned := 0, false
+		for j, p := range r {
+			if j > 0 && used+p.width > lineWidth && !strings.HasPrefix(p.tex, "&") && !strings.HasPrefix(r[j-1].tex, "&") {
+				if aligned {
+					l.printf(" \\nonumber \\\\\n&\\qquad")
+				} else {
+					l.printf(" \\nonumber \\\\\n\\qquad")
+				}
+				used = 8
+			}
+			aligned = aligned || strings.HasPrefix(p.tex, "&")
+			if j > 0 {
+				l.printf(" ")
+			}
+			l.printf("%s", p.tex)
+			used += p.width
+		}
 		l.printf(" \\label{eq:%d.%d}", l.stage, l.row)
 		if i < len(rows)-1 {
 			l.printf(" \\\\")
@@ -80,29 +105,6 @@ func (l *latexWriter) equations(rows ...[]piece) {
 		l.printf("\n")
 	}
 	l.printf("\\end{align}\n")
-}
-
-// row is one equation: lhs, the alignment point before rel, and the right
-// side in pieces.
-func row(lhs, rel string, rhs ...piece) []piece {
-	return append([]piece{fixed(lhs, utf8.RuneCountInString(lhs)/3), fixed("&"+rel, 2)}, rhs...)
-}
-
-// line writes one equation, breaking it between pieces where the line
-// would pass lineWidth; the continuation lines are unnumbered.
-func (l *latexWriter) line(r []piece) {
-	used := 0
-	for i, p := range r {
-		if i > 2 && used > 0 && used+p.width > lineWidth {
-			l.printf(" \\nonumber \\\\\n&\\qquad")
-			used = 8
-		}
-		if i > 0 {
-			l.printf(" ")
-		}
-		l.printf("%s", p.tex)
-		used += p.width
-	}
 }
 
 // notes sets notes as a list.
@@ -162,6 +164,23 @@ func (l *latexWriter) stabTerm(sign int, first string, firstWidth int, test ir.E
 	return append(out, fixed("\\bigr)_K", 3))
 }
 
+// sumK is + Σ_K (e)_K as pieces, e broken between its terms.
+func (l *latexWriter) sumK(e ir.Expr) []piece {
+	out := []piece{fixed("+ \\sum_K \\bigl(", 5)}
+	out = append(out, l.terms(e)...)
+	return append(out, fixed("\\bigr)_K", 3))
+}
+
+// adjoint sets the rows L^*_u(v) = … of the adjoint, op naming the
+// operator (L or L').
+func (l *latexWriter) adjoint(d *compiler.Derivation, op string) {
+	var rows [][]piece
+	for i, a := range d.Adjoint {
+		rows = append(rows, row(fmt.Sprintf("%s^*_{%s}(%s)", op, l.name(l.t.m.Unknowns[i].Name), l.t.testList()), "=", l.terms(a)...))
+	}
+	l.equations(rows...)
+}
+
 // WriteLaTeX prints the derivation as a complete LaTeX document (amsmath,
 // amssymb): the stages of WriteText under the same numbers, with numbered
 // equations.
@@ -192,7 +211,7 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 	for k, eq := range m.Equations {
 		rows = append(rows, append(l.terms(eq.Written), fixed("&= "+t.e(d.Sources[k]), 4)))
 	}
-	l.equationsNoLHS(rows)
+	l.equations(rows...)
 
 	l.section(2, "Normalised (product rules applied, like terms collected)")
 	rows = nil
@@ -209,11 +228,7 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 		l.equations(append(r, l.boundary(g.Boundary)...))
 	} else {
 		l.section(3, "Formal adjoint, $\\int L(u)\\cdot v = \\int u\\cdot L^*(v)$ for $u$, $v$ vanishing on $\\partial\\Omega$")
-		rows = nil
-		for i, a := range d.Adjoint {
-			rows = append(rows, row(fmt.Sprintf("L^*_{%s}(%s)", l.name(m.Unknowns[i].Name), t.testList()), "=", l.terms(a)...))
-		}
-		l.equations(rows...)
+		l.adjoint(d, "L")
 		l.section(4, "Split by derivative order")
 		l.split(d.Split, "L")
 		l.section(5, fmt.Sprintf("Galerkin form, $B(%s; %s) = F(%s)$", t.unknownList(), t.testList(), t.testList()))
@@ -262,9 +277,7 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 			form = append(form, l.stabTerm(s.Sign, first, 6, s.TestOp)...)
 		}
 		if f.Cross != nil {
-			form = append(form, fixed("+ \\sum_K \\bigl(", 5))
-			form = append(form, l.terms(f.Cross)...)
-			form = append(form, fixed("\\bigr)_K", 3))
+			form = append(form, l.sumK(f.Cross)...)
 		}
 		form = append(form, fixed("= "+rhs, 3))
 		rows := [][]piece{form}
@@ -280,7 +293,7 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 			dropped = append(dropped, l.terms(x)...)
 			rows = append(rows, append(dropped, fixed("\\bigr)_K", 3)))
 		}
-		l.equationsNoLHS(rows[:1])
+		l.equations(rows[:1]...)
 		l.equations(rows[1:]...)
 		if len(f.Stab) == 0 {
 			l.para("No stabilisation term: the operator has no part this method acts on.")
@@ -295,41 +308,6 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 	}
 	l.printf("\\end{document}\n")
 	return t.err
-}
-
-// equationsNoLHS sets rows whose alignment point is inside them (an
-// equation written as a whole), breaking before the alignment point too.
-func (l *latexWriter) equationsNoLHS(rows [][]piece) {
-	if len(rows) == 0 {
-		return
-	}
-	l.printf("\\begin{align}\n")
-	for i, r := range rows {
-		l.row++
-		used, aligned := 0, false
-		for j, p := range r {
-			if j > 0 && used+p.width > lineWidth && !strings.HasPrefix(p.tex, "&") {
-				if aligned {
-					l.printf(" \\nonumber \\\\\n&\\qquad")
-				} else {
-					l.printf(" \\nonumber \\\\\n\\qquad")
-				}
-				used = 8
-			}
-			aligned = aligned || strings.HasPrefix(p.tex, "&")
-			if j > 0 {
-				l.printf(" ")
-			}
-			l.printf("%s", p.tex)
-			used += p.width
-		}
-		l.printf(" \\label{eq:%d.%d}", l.stage, l.row)
-		if i < len(rows)-1 {
-			l.printf(" \\\\")
-		}
-		l.printf("\n")
-	}
-	l.printf("\\end{align}\n")
 }
 
 func (l *latexWriter) split(split []compiler.Split, op string) {
@@ -364,11 +342,7 @@ func (l *latexWriter) linearisation(d *compiler.Derivation) {
 		}
 	}
 	l.section(4, "Formal adjoint of the linearisation, $\\int L'(u)\\delta u\\cdot v = \\int \\delta u\\cdot L'(u)^*(v)$ for $\\delta u$, $v$ vanishing on $\\partial\\Omega$")
-	rows = nil
-	for i, a := range d.Adjoint {
-		rows = append(rows, row(fmt.Sprintf("L'^*_{%s}(%s)", l.name(m.Unknowns[i].Name), t.testList()), "=", l.terms(a)...))
-	}
-	l.equations(rows...)
+	l.adjoint(d, "L'")
 	l.section(5, "Split of the linearisation by the derivative order on $\\delta u$")
 	l.split(lin.Split, "L'")
 }
@@ -393,9 +367,7 @@ func (l *latexWriter) jacobian(f *compiler.MethodForm, name string) {
 		}
 	}
 	if j.Fine != nil {
-		r = append(r, fixed("+ \\sum_K \\bigl(", 5))
-		r = append(r, l.terms(j.Fine)...)
-		r = append(r, fixed("\\bigr)_K", 3))
+		r = append(r, l.sumK(j.Fine)...)
 	}
 	rows := [][]piece{r}
 	for _, g := range j.Defs {
@@ -420,7 +392,7 @@ func (l *latexWriter) picard(d *compiler.Derivation, stage int) {
 	for k := range m.Equations {
 		rows = append(rows, append(l.terms(pl.Operators[k]), fixed("&= "+t.e(pl.Sources[k]), 4)))
 	}
-	l.equationsNoLHS(rows)
+	l.equations(rows...)
 	rows = nil
 	for i, tau := range pl.Tau {
 		if tau != nil {
