@@ -47,7 +47,11 @@ func printHelp(w io.Writer, fs *cmdFlags) {
 	fmt.Fprintln(w, "\nflags:")
 	fs.VisitAll(func(f *flag.Flag) {
 		name, usage := flag.UnquoteUsage(f)
-		fmt.Fprintf(w, "  --%s", f.Name)
+		dashes := "--"
+		if len(f.Name) == 1 {
+			dashes = "-" // -o: a one-letter flag reads as the usual short option
+		}
+		fmt.Fprintf(w, "  %s%s", dashes, f.Name)
 		if name != "" {
 			fmt.Fprintf(w, " %s", name)
 		}

@@ -28,6 +28,6 @@ func cmdDemo(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	fmt.Fprintln(stdout, "\nnext: go run . verify examples/estuary_mixing/model.fw --method all --levels 6   (convergence by manufactured solutions)")
-	fmt.Fprintln(stdout, "      go run . gen adr -o ./mykernels --package mykernels      (Go element kernels)")
+	fmt.Fprintln(stdout, "      go run . gen adr -o DIR --package NAME   (Go element kernels, into a directory of your own outside this repository)")
 	return nil
 }

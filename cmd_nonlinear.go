@@ -216,7 +216,7 @@ func (nl *nonlinearFlags) solve(m *compiler.Model, meth compiler.Method, lf *ir.
 	}
 	each := func(step int, v float64, s *problem.Solution) {
 		if !quiet {
-			fmt.Fprintf(stderr, "  ramp step %d of %d: %s = %g, %d %s iterations\n", step, len(values), name, v, s.Summary.Picard, s.Summary.Nonlinear)
+			fmt.Fprintf(stderr, "  ramp step %d of %d: %s = %g, %d %s iterations\n", step, len(values), name, v, s.Summary.NonlinearIters, s.Summary.Nonlinear)
 		}
 	}
 	sol, err := problem.Continue(values, formAt, msh, opts, each)

@@ -293,7 +293,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 		if err := checkFinite(sol); err != nil {
 			return err
 		}
-		cells, err := indicators(deriv, meth, sol, opts)
+		step := opts.Step
+		if tr.steps > 0 {
+			step = tr.dt // τ of a transient model reads the time step of the run
+		}
+		cells, err := indicators(deriv, meth, sol, step)
 		if err != nil {
 			return err
 		}
@@ -573,9 +577,9 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	}
 	if s.Nonlinear != "" { // newton or picard
 		if len(s.StepIterations) > 1 {
-			fmt.Fprintf(w, "%-10s %d iterations (%s over the continuation steps)\n", s.Nonlinear, s.Picard, joinInts(s.StepIterations, " + "))
+			fmt.Fprintf(w, "%-10s %d iterations (%s over the continuation steps)\n", s.Nonlinear, s.NonlinearIters, joinInts(s.StepIterations, " + "))
 		} else {
-			fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
+			fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.NonlinearIters)
 		}
 	}
 	for _, mc := range m.Means {
@@ -608,8 +612,9 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 
 // indicators evaluates τ (for a stabilised method) and the element Péclet
 // number of each advective–diffusive equation on every cell of the
-// solution's mesh, as cell arrays for the VTU file and the summary.
-func indicators(d *compiler.Derivation, meth compiler.Method, sol *problem.Solution, opts problem.Options) ([]output.Array, error) {
+// solution's mesh, as cell arrays for the VTU file and the summary; step
+// is the value of the time step Δt a τ may read.
+func indicators(d *compiler.Derivation, meth compiler.Method, sol *problem.Solution, step float64) ([]output.Array, error) {
 	var names []string
 	var exprs []ir.Expr
 	for _, in := range d.Indicators() {
@@ -622,7 +627,7 @@ func indicators(d *compiler.Derivation, meth compiler.Method, sol *problem.Solut
 	if len(exprs) == 0 {
 		return nil, nil
 	}
-	vals, err := sol.CellValues(exprs, opts.Step)
+	vals, err := sol.CellValues(exprs, step)
 	if err != nil {
 		return nil, nil // an indicator the evaluator cannot read is left out
 	}
@@ -670,7 +675,7 @@ type jsonSolve struct {
 	BytesPerUnknown float64 `json:"bytes_per_unknown"`
 	Iterations      int     `json:"iterations"`
 	Residual        float64 `json:"residual"`
-	Picard          int     `json:"picard_iterations"`
+	NonlinearIters  int     `json:"nonlinear_iterations"` // Picard or Newton iterations (1 for a linear model)
 	// Nonlinear is the iteration of a nonlinear solve, newton or picard,
 	// and Newton its history (cmd_nonlinear.go).
 	Nonlinear string               `json:"nonlinear,omitempty"`
@@ -703,8 +708,8 @@ type jsonField struct {
 
 func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec string, sol *problem.Solution, cells []output.Array, wall time.Duration) error {
 	s := sol.Summary
-	out := jsonSolve{Schema: "formwright.solve/1", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
-		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, Picard: s.Picard, Setups: s.Prepared,
+	out := jsonSolve{Schema: "formwright.solve/2", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
+		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, NonlinearIters: s.NonlinearIters, Setups: s.Prepared,
 		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
 		Nonlinear: s.Nonlinear, Newton: s.History, StepIterations: s.StepIterations, Engine: s.Engine, Ranks: s.Ranks}
 	for _, a := range cells {

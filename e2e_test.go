@@ -326,8 +326,8 @@ func TestLidDrivenCavityRe100(t *testing.T) {
 	var sol *problem.Solution
 	for _, meth := range []compiler.Method{compiler.VMS, compiler.SUPG} {
 		sol = exampleSolve(t, "navier_stokes", meth, "span:0,1,0,1:64x64:tri", true)
-		if sol.Summary.Picard < 3 {
-			t.Fatalf("%s: Picard iterations %d: the convection was not iterated", meth, sol.Summary.Picard)
+		if sol.Summary.NonlinearIters < 3 {
+			t.Fatalf("%s: Picard iterations %d: the convection was not iterated", meth, sol.Summary.NonlinearIters)
 		}
 		coords := sol.Dofs.NodeCoords(0)
 		u, v := sol.Fields[0].Values[0], sol.Fields[0].Values[1]
@@ -704,5 +704,33 @@ func TestVerifyQuadratureFlag(t *testing.T) {
 	var out, errb bytes.Buffer
 	if st := run([]string{"verify", "adr", "--quadrature", "99"}, &out, &errb); st != exitBadInput {
 		t.Errorf("--quadrature 99: status %d, want %d", st, exitBadInput)
+	}
+}
+
+// TestTransientTauPerCell: the τ the summary reports for a transient model
+// reads the run's time step. For heat on the default 64² triangles
+// (h = diam(K) = √2/64, |a| = 1, k = 1/50, ρc = 1) and Δt = 0.01, the
+// τ of Shakib, Hughes & Johan (1991, CMAME 89), ((2/Δt)² + (2|a|/h)² +
+// 9(4k/h²)²)^(−1/2), is computed here by hand from the model's data.
+func TestTransientTauPerCell(t *testing.T) {
+	var out, errb bytes.Buffer
+	if st := run([]string{"solve", "heat", "--method", "supg", "--dt", "0.01", "--steps", "2", "--json", "--quiet"}, &out, &errb); st != exitOK {
+		t.Fatalf("status %d: %s", st, errb.String())
+	}
+	var rep struct {
+		PerCell map[string][2]float64 `json:"per_cell"`
+	}
+	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
+		t.Fatal(err)
+	}
+	h, k, dt := math.Sqrt2/64, 1.0/50, 0.01
+	want := 1 / math.Sqrt(math.Pow(2/dt, 2)+math.Pow(2/h, 2)+9*math.Pow(4*k/(h*h), 2))
+	for _, v := range rep.PerCell["tau_temp"] {
+		if math.Abs(v-want) > 1e-9*want {
+			t.Errorf("per-cell τ %.10g, want %.10g (the time step must enter)", v, want)
+		}
+	}
+	if _, ok := rep.PerCell["tau_temp"]; !ok {
+		t.Errorf("no per-cell τ in %s", out.String())
 	}
 }

@@ -142,7 +142,7 @@ func TestBratu(t *testing.T) {
 						t.Errorf("%s λ = %g: convergence order %.2f of the last Newton iterations, want ≥ 1.8", elem, lambda, r)
 					}
 					t.Logf("%s λ = %g: L² errors %.3e %.3e %.3e, largest nodal error on 32 %.3e, %d Newton iterations",
-						elem, lambda, l2s[0], l2s[1], l2s[2], nodal, sol.Summary.Picard)
+						elem, lambda, l2s[0], l2s[1], l2s[2], nodal, sol.Summary.NonlinearIters)
 					if elem == "P1" && nodal > 1.5e-4 {
 						t.Errorf("P1 λ = %g: largest nodal error %.3g, want ≤ 1.5e-4", lambda, nodal)
 					}
@@ -472,7 +472,7 @@ func TestCavityNewtonRe100(t *testing.T) {
 		du, dv := ghiaDeviation(sol, ghia100.u, ghia100.v)
 		r := quadraticRatio(sol.Summary.History)
 		t.Logf("%s: %d Newton iterations from the Stokes solution (kernels %s); deviation from Ghia et al.: u %.4f, v %.4f; order of the last iterations %.2f",
-			meth, sol.Summary.Picard, sol.Summary.KernelPath, du, dv, r)
+			meth, sol.Summary.NonlinearIters, sol.Summary.KernelPath, du, dv, r)
 		for _, h := range sol.Summary.History {
 			t.Logf("  %v", h)
 		}
@@ -531,7 +531,7 @@ func TestNewtonAndPicardAgree(t *testing.T) {
 			diff = math.Max(diff, math.Abs(newton.X[i]-picard.X[i]))
 			size = math.Max(size, math.Abs(newton.X[i]))
 		}
-		t.Logf("%s: Newton %d, Picard %d iterations; largest difference %.2e", meth, newton.Summary.Picard, picard.Summary.Picard, diff)
+		t.Logf("%s: Newton %d, Picard %d iterations; largest difference %.2e", meth, newton.Summary.NonlinearIters, picard.Summary.NonlinearIters, diff)
 		if diff > 1e-7*size {
 			t.Errorf("%s: Newton and Picard solutions differ by %.3g", meth, diff)
 		}
@@ -755,7 +755,7 @@ func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func
 	case err != nil:
 		b.Fatal(err)
 	default:
-		r.newtonIt = sol.Summary.Picard
+		r.newtonIt = sol.Summary.NonlinearIters
 		benchSink += sol.X[0]
 	}
 	r.newtonS = time.Since(start).Seconds()
@@ -765,7 +765,7 @@ func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func
 	if err != nil {
 		b.Fatal(err)
 	}
-	r.picardS, r.picardIt = time.Since(start).Seconds(), psol.Summary.Picard
+	r.picardS, r.picardIt = time.Since(start).Seconds(), psol.Summary.NonlinearIters
 
 	start = time.Now()
 	rough, err := problem.Solve(pf, msh, problem.Options{Initial: stokes(), PicardTol: 1e-2, MaxPicard: 500, Solver: direct})
@@ -776,7 +776,7 @@ func runCavity(b *testing.B, lf, pf *ir.LoweredForm, msh *mesh.Mesh, stokes func
 	if err != nil {
 		b.Fatal(err)
 	}
-	r.hybridS, r.hybridPicard, r.hybridNewton = time.Since(start).Seconds(), rough.Summary.Picard, hsol.Summary.Picard
+	r.hybridS, r.hybridPicard, r.hybridNewton = time.Since(start).Seconds(), rough.Summary.NonlinearIters, hsol.Summary.NonlinearIters
 	benchSink += psol.X[0] + hsol.X[0]
 	return r
 }

@@ -233,27 +233,27 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	}
 
 	sum := problem.Summary{
-		Mesh:         fmt.Sprintf("%v mesh, %d dimensions, sides %v", m.Cell, m.Dim, m.BoundaryNames()),
-		Cells:        m.NumCells(),
-		Vertices:     m.NumVertices(),
-		Dofs:         dm.NumDofs,
-		Method:       form.Method,
-		KernelPath:   "generated C",
-		Symmetric:    res.Symmetric,
-		Solver:       solverName,
-		Iterations:   res.Iterations,
-		Residual:     res.Residual,
-		Picard:       res.Picard,
-		Prepared:     res.Picard,
-		MeanResidual: res.MeanResidual,
-		Workers:      ranks,
-		Engine:       "PETSc " + res.PETSc + ", " + tc.mpi,
-		Ranks:        ranks,
-		SolverReason: res.Choice,
+		Mesh:           fmt.Sprintf("%v mesh, %d dimensions, sides %v", m.Cell, m.Dim, m.BoundaryNames()),
+		Cells:          m.NumCells(),
+		Vertices:       m.NumVertices(),
+		Dofs:           dm.NumDofs,
+		Method:         form.Method,
+		KernelPath:     "generated C",
+		Symmetric:      res.Symmetric,
+		Solver:         solverName,
+		Iterations:     res.Iterations,
+		Residual:       res.Residual,
+		NonlinearIters: res.Picard,
+		Prepared:       res.Picard,
+		MeanResidual:   res.MeanResidual,
+		Workers:        ranks,
+		Engine:         "PETSc " + res.PETSc + ", " + tc.mpi,
+		Ranks:          ranks,
+		SolverReason:   res.Choice,
 	}
 	switch {
 	case form.Newton:
-		sum.Nonlinear, sum.History, sum.Picard = "newton", res.Newton, len(res.Newton)-1
+		sum.Nonlinear, sum.History, sum.NonlinearIters = "newton", res.Newton, len(res.Newton)-1
 	case form.ReadsPrevious():
 		sum.Nonlinear = "picard"
 	}

@@ -82,15 +82,15 @@ func Continue(values []float64, formAt func(v float64) (*ir.LoweredForm, error),
 			each(i+1, v, sol)
 		}
 		phases = addPhases(phases, sol.Summary.Phases)
-		iters = append(iters, sol.Summary.Picard)
+		iters = append(iters, sol.Summary.NonlinearIters)
 		prepared += sol.Summary.Prepared
 	}
 	if sol != nil {
 		sol.Summary.Phases = phases
 		sol.Summary.StepIterations = iters
-		sol.Summary.Picard = 0
+		sol.Summary.NonlinearIters = 0
 		for _, n := range iters {
-			sol.Summary.Picard += n
+			sol.Summary.NonlinearIters += n
 		}
 		sol.Summary.Prepared = prepared
 	}

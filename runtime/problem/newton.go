@@ -40,16 +40,18 @@ type NewtonOptions struct {
 
 // NewtonStep is one line of the iteration history.
 type NewtonStep struct {
-	Iter int
+	Iter int `json:"iteration"`
 	// Residual is ‖F(u_k)‖₂ over the dofs without a value condition, and
 	// Relative the same divided by ‖F(u_0)‖.
-	Residual, Relative float64
+	Residual float64 `json:"residual"`
+	Relative float64 `json:"relative_residual"`
 	// Step is the accepted step length λ and Update ‖λ δu‖/‖u_k‖.
-	Step, Update float64
+	Step   float64 `json:"step_length"`
+	Update float64 `json:"relative_update"`
 	// LinearIters are the iterations of the linear solve (0: direct).
-	LinearIters int
+	LinearIters int `json:"linear_iterations"`
 	// Backtracks counts the step lengths the line search rejected.
-	Backtracks int
+	Backtracks int `json:"backtracks"`
 }
 
 // String is the progress line of one iteration.
@@ -262,7 +264,7 @@ func (s *system) newton(opts Options) (*Solution, error) {
 	if !converged {
 		return nil, &NewtonError{Reason: "the iteration limit was reached", History: hist}
 	}
-	sum.Picard = len(hist) - 1
+	sum.NonlinearIters = len(hist) - 1
 	sum.History = hist
 	sum.Prepared = s.prepares
 	// The equation a mean condition replaced: its residual relative to

@@ -79,8 +79,8 @@ func TestNewtonBratu(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if sol.Summary.Nonlinear != "newton" || sol.Summary.Picard != len(hist)-1 || len(sol.Summary.History) != len(hist) {
-		t.Errorf("summary %q, %d iterations, history %d lines; progress saw %d", sol.Summary.Nonlinear, sol.Summary.Picard, len(sol.Summary.History), len(hist))
+	if sol.Summary.Nonlinear != "newton" || sol.Summary.NonlinearIters != len(hist)-1 || len(sol.Summary.History) != len(hist) {
+		t.Errorf("summary %q, %d iterations, history %d lines; progress saw %d", sol.Summary.Nonlinear, sol.Summary.NonlinearIters, len(sol.Summary.History), len(hist))
 	}
 	worst := 0.0
 	coords := sol.Dofs.NodeCoords(0)

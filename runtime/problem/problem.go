@@ -147,9 +147,9 @@ type Summary struct {
 	BytesPerUnknown float64
 	Iterations      int // of the last linear solve
 	Residual        float64
-	Picard          int // nonlinear iterations (1 for a linear problem)
+	NonlinearIters  int // nonlinear iterations, Picard or Newton (1 for a linear problem)
 	// StepIterations lists the nonlinear iterations of each step of a
-	// continuation (Continue); Picard is their sum.
+	// continuation (Continue); NonlinearIters is their sum.
 	StepIterations []int
 	// Nonlinear names the nonlinear iteration: "newton", "picard", or ""
 	// for a linear problem.
@@ -529,7 +529,7 @@ func (s *system) solve(opts Options) (*Solution, error) {
 			return nil, err
 		}
 		sum.BytesPerUnknown = s.prepared.Memory().PerUnknown()
-		sum.Iterations, sum.Residual, sum.Picard = res.Iterations, res.Residual, it
+		sum.Iterations, sum.Residual, sum.NonlinearIters = res.Iterations, res.Residual, it
 		sum.MeanResidual = 0
 		for i := range s.means {
 			sum.MeanResidual = math.Max(sum.MeanResidual, s.means[i].replacedResidual(A, b, x))
@@ -785,7 +785,11 @@ func quadratureText(form *ir.LoweredForm, c cell.Type, degree int) string {
 	if degree <= 0 {
 		degree = form.QuadratureDegree()
 	}
-	out := fmt.Sprintf("degree %d, %d points per cell", degree, quadrature.For(c, degree).NumPoints())
+	points := "points"
+	if n := quadrature.For(c, degree).NumPoints(); n == 1 {
+		points = "point"
+	}
+	out := fmt.Sprintf("degree %d, %d %s per cell", degree, quadrature.For(c, degree).NumPoints(), points)
 	if len(form.Sides()) > 0 {
 		n := 1
 		if c.Dim() > 1 {
