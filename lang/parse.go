@@ -599,6 +599,8 @@ func (d *diagnosis) missingHint(what string) {
 		d.hint = "write unknown NAME: scalar ELEMENT or unknown NAME: vector ELEMENT"
 	case stmt == "equation" && what == `"="`:
 		d.hint = "an equation has the form LHS = RHS"
+	case stmt == "part":
+		d.hint = "write part NAME = SET; a set is a side or part name, a condition on the facet midpoint such as {x <= 0} or {-1 <= x < 0}, or sets joined by cup, cap and minus"
 	}
 }
 
@@ -675,7 +677,7 @@ func orList(items []string) string {
 }
 
 func stmtKeywordList() []string {
-	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "stabilise", "tau"}
+	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "part", "stabilise", "tau"}
 }
 
 // cleanMessage rewrites a participle message we have no better wording for:
