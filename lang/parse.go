@@ -571,7 +571,12 @@ func (d *diagnosis) unexpected() {
 	if d.prev == nil {
 		return
 	}
+	stmt := d.p.toks[d.c.from].Value
 	switch {
+	case stmt == "part" && d.tok.Value == "}":
+		d.hint = "a condition compares two or more expressions: {x <= 0}, {-1 <= x < 0}"
+	case stmt == "part" && d.tok.Type == tokIdent && d.tok.Pos.Line == d.prev.Pos.Line:
+		d.hint = "join sets with cup (union), cap (intersection) or minus (difference)"
 	case d.tok.Pos.Line > d.prev.Pos.Line && d.tok.Type == tokIdent:
 		d.hint = "a new statement must begin with a keyword such as given or equation"
 		if s := source.Suggest(d.tok.Value, stmtKeywordList()); s != "" {
