@@ -19,6 +19,19 @@ import (
 // symbolic link, the link itself is replaced by the new regular file.
 // Callers should check the path against their inputs first (CheckNotInput).
 func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
+	return writeAtomic(path, write, false)
+}
+
+// WriteFileNew is WriteFileAtomic for a file that must not exist yet: the
+// finished temporary file is hard-linked to path, which fails when path
+// exists, even when it appeared after the caller's checks, and the
+// temporary name is then removed. An existing file is never replaced; the
+// error then wraps fs.ErrExist.
+func WriteFileNew(path string, write func(w io.Writer) error) error {
+	return writeAtomic(path, write, true)
+}
+
+func writeAtomic(path string, write func(w io.Writer) error, fresh bool) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."
@@ -59,7 +72,12 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	if err = f.Close(); err != nil {
 		return fmt.Errorf("output: closing %s: %w", path, err)
 	}
-	if err = os.Rename(tmp, path); err != nil {
+	if fresh {
+		if err = os.Link(tmp, path); err != nil {
+			return fmt.Errorf("output: %w", err)
+		}
+		os.Remove(tmp)
+	} else if err = os.Rename(tmp, path); err != nil {
 		return fmt.Errorf("output: %w", err)
 	}
 	if d, derr := os.Open(dir); derr == nil {
