@@ -76,7 +76,7 @@ func ResolveParts(form *ir.LoweredForm, m *mesh.Mesh) (*mesh.Mesh, []NaturalFace
 	have := func() string { return strings.Join(m.BoundaryNames(), ", ") }
 	missing := func(name string, pos source.Pos, what string) error {
 		hint := "the mesh has " + have()
-		if s := source.Suggest(name, m.BoundaryNames()); s != "" {
+		if s := source.Suggest(name, slices.DeleteFunc(m.BoundaryNames(), func(n string) bool { return n == mesh.All })); s != "" {
 			hint = fmt.Sprintf("did you mean %q? The mesh has %s", s, have())
 		}
 		return &PartError{Pos: pos, Msg: fmt.Sprintf("%s %q, which the mesh does not have", what, name), Hint: hint, Err: ErrNoSide}
