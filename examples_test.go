@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
+	"os"
 	"strings"
 	"testing"
 
@@ -378,6 +379,38 @@ func TestExampleHairpinDye(t *testing.T) {
 		}
 		if worst > 1e-12 {
 			t.Errorf("compiled and interpreted kernels differ by %.2e", worst)
+		}
+	}
+}
+
+// TestExampleHairpinDyeHighRatio keeps the README's report at ρ/Γ = 500 on
+// 20 × 10 squares honest: the over- and undershoot it states for Galerkin
+// and for the stabilised methods (to 1e-3), and that SUPG, GLS and VMS
+// coincide on P1 with a divergence-free velocity and no reaction (their
+// test operators reduce to a·∇v there).
+func TestExampleHairpinDyeHighRatio(t *testing.T) {
+	src, err := os.ReadFile("examples/hairpin_dye/model.fw")
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := writeFile(t, t.TempDir(), "ratio500.fw", strings.Replace(string(src), "given kappa = 1/10", "given kappa = 1/500", 1))
+	stated := map[compiler.Method][2]float64{compiler.Galerkin: {0.020, 0.016}, compiler.SUPG: {0.072, 0.047}}
+	var supg []float64
+	for _, meth := range compiler.AllMethods {
+		sol := exampleSolve(t, path, meth, "span:-1,1,0,1:20x10:tri", false)
+		if meth == compiler.SUPG {
+			supg = sol.X
+		}
+		if meth == compiler.GLS || meth == compiler.VMS {
+			if d := maxAbsDiff(sol.X, supg); d > 1e-12 {
+				t.Errorf("%s differs from SUPG by %.2e", meth, d)
+			}
+			continue
+		}
+		r := sol.Summary.Ranges[0]
+		over, under := r.Max-2, (1-math.Tanh(10))-r.Min
+		if math.Abs(over-stated[meth][0]) > 1e-3 || math.Abs(under-stated[meth][1]) > 1e-3 {
+			t.Errorf("%s: overshoot %.4f, undershoot %.4f; README states %.3f and %.3f", meth, over, under, stated[meth][0], stated[meth][1])
 		}
 	}
 }
