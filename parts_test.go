@@ -13,6 +13,7 @@ import (
 
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/runtime/cell"
+	"github.com/formwright/formwright/runtime/distributed"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/problem"
 )
@@ -381,6 +382,57 @@ func TestVTKReadsMeshCommandFile(t *testing.T) {
 				}
 				k++
 			}
+		}
+	}
+}
+
+// The PETSc engine (where MPI and PETSc are installed) computes the
+// model's parts as the Go engine does and gives its solution, with flux
+// and Robin conditions on parts defined by conditions (facet integrals in
+// the C kernels) and facets left free, on 1 and 2 ranks. On 32 × 32
+// squares: left 32 facets, west_floor 16, cooled 24 (the right side below
+// y = 3/4), so 56 of 128 are free (counted by hand).
+func TestEnginePartsAgree(t *testing.T) {
+	if err := distributed.Available(); err != nil {
+		t.Skip(err)
+	}
+	p := writeFile(t, t.TempDir(), "fluxparts.fw", `model fluxparts
+dimension 2
+unknown u: scalar P1
+given kappa = 1
+equation for u: -div(kappa*grad(u)) = 1
+part west_floor = bottom cap {x <= 1/2}
+part cooled = right cup top minus {y > 3/4}
+at west_floor: flux(u) = 1 + x
+at cooled: flux(u) = -2*u
+at left: u = 0
+`)
+	const spec = "span:0,1,0,1:32x32:tri"
+	values := func(args ...string) ([]float64, string) {
+		st, out, errs := runCmd(append([]string{"solve", p, "--mesh", spec, "--json", "--quiet"}, args...)...)
+		if st != exitOK {
+			t.Fatalf("%v: %d %s", args, st, errs)
+		}
+		var s struct {
+			Natural string `json:"natural_condition"`
+			Fields  []struct{ Values [][]float64 }
+		}
+		if err := json.Unmarshal([]byte(out), &s); err != nil {
+			t.Fatal(err)
+		}
+		return s.Fields[0].Values[0], s.Natural
+	}
+	goX, natural := values()
+	if natural != "zero flux (no condition) for u on 56 of 128 boundary facets" {
+		t.Errorf("natural condition %q", natural)
+	}
+	for _, ranks := range []string{"1", "2"} {
+		x, nat := values("--engine", "petsc", "--ranks", ranks, "--solver", "direct")
+		if d := maxAbsDiff(x, goX); d > 1e-10 {
+			t.Errorf("%s ranks: the engines differ by %.2e", ranks, d)
+		}
+		if nat != natural {
+			t.Errorf("%s ranks: natural condition %q, Go engine %q", ranks, nat, natural)
 		}
 	}
 }
