@@ -88,7 +88,7 @@ func ResolveParts(form *ir.LoweredForm, m *mesh.Mesh) (*mesh.Mesh, []NaturalFace
 				continue
 			}
 			if _, ok := m.Boundaries[name]; !ok {
-				return nil, nil, missing(name, c.PartPos[i], "the model sets a condition on")
+				return nil, nil, missing(name, claimPos(c, i), "the model sets a condition on")
 			}
 		}
 	}
@@ -166,7 +166,7 @@ func checkClaims(form *ir.LoweredForm, m *mesh.Mesh) ([]NaturalFacets, error) {
 						why = "a facet takes one kind of condition"
 					}
 					x := facetMidpoint(m, f)
-					return nil, &PartError{Pos: c.PartPos[pi],
+					return nil, &PartError{Pos: claimPos(c, pi),
 						Msg: fmt.Sprintf("the facet at %s is claimed for %s by this %s condition on %s and by the %s condition at %d:%d",
 							formatPoint(x), lu.Name, c.Kind, name, p.Kind, p.Pos.Line, p.Pos.Col),
 						Hint: why + "; make the parts disjoint (part B = A minus C)"}
@@ -352,4 +352,13 @@ func partsMissing(form *ir.LoweredForm, m *mesh.Mesh) bool {
 		}
 	}
 	return false
+}
+
+// claimPos is where part i of a claim is written (the claim's position
+// when the form does not say).
+func claimPos(c ir.Claim, i int) source.Pos {
+	if i < len(c.PartPos) && c.PartPos[i].IsValid() {
+		return c.PartPos[i]
+	}
+	return c.Pos
 }
