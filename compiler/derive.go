@@ -219,6 +219,13 @@ func galerkinNotes(m *Model) []Note {
 			add(Assumption, "wherever the boundary has no condition for $%s$ (outside %s): zero flux (the natural condition), so the boundary integral vanishes there; solve reports how many facets of the mesh that is", tn(u.Name), tnList(claimed))
 		}
 	}
+	if len(m.Parts) > 0 {
+		var defs []string
+		for _, p := range m.Parts {
+			defs = append(defs, fmt.Sprintf("%s $= %s$", notation.TeXProse(p.Name), partTeX(p.Set)))
+		}
+		add(Assumption, "boundary parts of the model: %s; a condition in braces holds on the facets whose midpoint satisfies it (a midpoint on a threshold belongs to $\\le$, $\\ge$ and $=$, not to $<$ or $>$)", strings.Join(defs, "; "))
+	}
 	for _, mc := range m.Means {
 		u := tn(m.Unknowns[mc.Unknown].Name)
 		val := notation.Expr(mc.Value, notation.LaTeX, notation.Names{})

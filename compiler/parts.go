@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/compiler/notation"
 	"github.com/formwright/formwright/lang"
 	"github.com/formwright/formwright/lang/source"
 )
@@ -212,4 +213,33 @@ func relationOf(s string) ir.Relation {
 		return ir.RelEQ
 	}
 	return ir.RelLE
+}
+
+// partTeX writes a part set in the LaTeX subset of notes: Γ names in
+// roman, conditions in braces, ∪ ∩ ∖ applied from left to right.
+func partTeX(s *ir.PartSet) string {
+	switch s.Op {
+	case ir.PartNamed:
+		if s.Name == ir.AllParts {
+			return `\partial\Omega`
+		}
+		return `\mathrm{` + notation.TeXProse(s.Name) + `}`
+	case ir.PartWhere:
+		var b strings.Builder
+		b.WriteString(`\{`)
+		for i, t := range s.Terms {
+			if i > 0 {
+				b.WriteString(" " + map[ir.Relation]string{ir.RelLE: `\le`, ir.RelLT: "<", ir.RelGE: `\ge`, ir.RelGT: ">", ir.RelEQ: "="}[s.Rels[i-1]] + " ")
+			}
+			b.WriteString(notation.Expr(t, notation.LaTeX, notation.Names{}))
+		}
+		b.WriteString(`\}`)
+		return b.String()
+	}
+	y := partTeX(s.Args[1])
+	if s.Args[1].Op >= ir.PartUnion {
+		y = `(` + y + `)`
+	}
+	op := map[ir.PartOp]string{ir.PartUnion: `\cup`, ir.PartMeet: `\cap`, ir.PartMinus: `\setminus`}[s.Op]
+	return partTeX(s.Args[0]) + " " + op + " " + y
 }
