@@ -436,3 +436,37 @@ at left: u = 0
 		}
 	}
 }
+
+// verify on a refined file mesh of a domain with a hole (runtime/mesh
+// testdata: the unit square without [1/3, 2/3]²), with a value condition
+// on a part of the outer boundary and a Robin condition on a part of the
+// hole chosen by midpoint conditions, and the natural condition elsewhere:
+// the manufactured solution converges at the orders of Q1 and P1 (L² 2,
+// H¹ 1, the orders verify expects of degree-1 elements; README).
+// Manufacture gives the free facets the exact flux as a part of their own
+// (all minus the claimed parts).
+func TestVerifyPartsOnFileMesh(t *testing.T) {
+	src := `model hole_parts
+dimension 2
+sides outer, hole
+unknown u: scalar Q1
+given kappa = 1 + x*y
+equation for u: [1, 1/2] . grad(u) - div(kappa*grad(u)) + u = 1
+part east = outer cap {x >= 1/2}
+part south_rim = hole cap {y <= 1/2}
+at east: u = 0
+at south_rim: flux(u) = 1 - 2*u
+`
+	dir := t.TempDir()
+	for _, c := range []struct{ element, mesh string }{{"Q1", "hole-quad.vtu"}, {"P1", "hole-tri.vtu"}} {
+		p := writeFile(t, dir, c.element+".fw", strings.Replace(src, "Q1", c.element, 1))
+		rep := verifyJSON(t, p, "--mesh", filepath.Join("runtime", "mesh", "testdata", c.mesh), "--levels", "4")
+		if len(rep.Failed) > 0 || len(rep.Methods) != 1 {
+			t.Fatalf("%s: %v", c.mesh, rep.Failed)
+		}
+		lv := rep.Methods[0].Levels
+		if last := lv[len(lv)-1]; last.OrderL2 < 1.8 || last.OrderH1 < 0.9 {
+			t.Errorf("%s: orders %.2f, %.2f on the finest pair", c.mesh, last.OrderL2, last.OrderH1)
+		}
+	}
+}
