@@ -255,8 +255,16 @@ func (lf *LoweredForm) Validate() error {
 		}
 	}
 	for _, p := range lf.Parts {
+		if p.Name == "" || p.Name == AllParts {
+			return bad("a part named %q", p.Name)
+		}
 		if err := p.Set.validate(); err != nil {
 			return bad("part %s: %v", p.Name, err)
+		}
+	}
+	for _, c := range lf.Claims {
+		if c.Unknown < 0 || c.Unknown >= len(lf.Unknowns) || !slices.Contains(bcKinds, c.Kind) || len(c.Parts) == 0 {
+			return bad("a condition of kind %q on unknown %d of %d, on %d parts", c.Kind, c.Unknown, len(lf.Unknowns), len(c.Parts))
 		}
 	}
 	for _, m := range lf.Means {

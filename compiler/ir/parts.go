@@ -171,6 +171,9 @@ func (s *PartSet) validate() error {
 	return nil
 }
 
+// bcKinds are the kinds of a Claim.
+var bcKinds = []string{"value", "flux", "robin"}
+
 // Claim says where one boundary condition of the model applies: the
 // conditions of unknown Unknown of kind Kind ("value", "flux" or "robin")
 // hold on the parts Parts, written at PartPos in the model (Pos is the

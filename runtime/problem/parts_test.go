@@ -160,3 +160,38 @@ func TestPartMissing(t *testing.T) {
 		t.Errorf("clash: %v", err)
 	}
 }
+
+// Midpoints of facets in 1D (a vertex) and 3D (the mean of a face's
+// vertices): on 2 × 2 × 2 hexahedra of the unit cube the face z = 0 has 4
+// facets with midpoints at x, y ∈ {1/4, 3/4} (by hand), so {z <= 0} is the
+// side front, and {z <= 0} ∩ {x + y <= 1/2} is one facet (a midpoint on
+// x + y = 1/2 exactly belongs to the non-strict inequality). On the
+// interval [0, 1] the facets are the two end points.
+func TestPartMidpoints1D3D(t *testing.T) {
+	cube := mesh.Span3(0, 1, 0, 1, 0, 1, 2, 2, 2, mesh.Hexes)
+	x, y, z := coord(0), coord(1), coord(2)
+	zero := num(0, 1)
+	check := func(m *mesh.Mesh, dim int, set *ir.PartSet, want int) {
+		t.Helper()
+		form := partForm([]ir.PartDef{{Name: "p", Set: set}})
+		form.Dim = dim
+		rm, _, err := ResolveParts(form, m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := len(rm.Boundaries["p"]); got != want {
+			t.Errorf("%d facets, want %d", got, want)
+		}
+	}
+	front := where([]ir.Expr{z, zero}, ir.RelLE)
+	check(cube, 3, front, 4)
+	check(cube, 3, setOp(ir.PartMinus, front, named("front")), 0)
+	check(cube, 3, setOp(ir.PartMeet, front, where([]ir.Expr{add(x, y), num(1, 2)}, ir.RelLE)), 1)
+	check(cube, 3, setOp(ir.PartMeet, front, where([]ir.Expr{add(x, y), num(1, 2)}, ir.RelLT)), 0)
+	line, err := mesh.Load("span:0,1:5")
+	if err != nil {
+		t.Fatal(err)
+	}
+	check(line, 1, where([]ir.Expr{x, num(1, 2)}, ir.RelGT), 1)
+	check(line, 1, where([]ir.Expr{x, x}, ir.RelEQ), 2)
+}
