@@ -28,9 +28,9 @@ const maxRefine = 8
 // existing file is never replaced unless --replace says so.
 func cmdMesh(args []string, stdout, stderr io.Writer) error {
 	fl := newFlags("mesh", "SPEC|FILE.vtu -o FILE.vtu [flags]", "Build a mesh from a spec (span:X0,X1[,Y0,Y1[,Z0,Z1]]:COUNTS[:PATTERN]) or read a .vtu file,\nrefine it if asked, and write it as a VTK XML unstructured grid with its boundary parts.")
-	out := fl.String("o", "", "the file to write (FILE.vtu)")
-	refine := fl.Int("refine", 0, "refine the mesh uniformly this many times (each cell into 2^d children)")
-	model := fl.String("model", "", "also write the boundary parts that this model defines (part statements), computed on the mesh")
+	out := fl.String("o", "", "the file to write, `FILE.vtu`")
+	refine := fl.Int("refine", 0, "refine the mesh uniformly `N` times (each cell into 2^d children)")
+	model := fl.String("model", "", "also write the boundary parts that `MODEL` defines (its part statements), computed on the mesh")
 	ascii := fl.Bool("ascii", false, "write the arrays as text instead of binary appended data")
 	replace := fl.Bool("replace", false, "replace FILE.vtu if it exists (by default an existing file is never overwritten)")
 	pos, err := parseArgs(fl, args, stdout)

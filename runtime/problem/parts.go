@@ -58,6 +58,10 @@ type NaturalFacets struct {
 	Unknown string
 	Facets  int
 	Total   int // boundary facets of the mesh
+	// Constraint marks an unknown that its own equation does not contain
+	// (the pressure of an incompressible flow): it has no flux, and
+	// NaturalText leaves it out.
+	Constraint bool
 }
 
 // ResolveParts returns m with the facets of the form's parts added to its
@@ -173,7 +177,7 @@ func checkClaims(form *ir.LoweredForm, m *mesh.Mesh) ([]NaturalFacets, error) {
 				}
 			}
 		}
-		out = append(out, NaturalFacets{Unknown: lu.Name, Facets: len(all) - len(owner), Total: len(all)})
+		out = append(out, NaturalFacets{Unknown: lu.Name, Facets: len(all) - len(owner), Total: len(all), Constraint: lu.Constraint})
 	}
 	return out, nil
 }
@@ -183,7 +187,7 @@ func checkClaims(form *ir.LoweredForm, m *mesh.Mesh) ([]NaturalFacets, error) {
 func NaturalText(n []NaturalFacets) string {
 	var parts []string
 	for _, f := range n {
-		if f.Facets > 0 {
+		if f.Facets > 0 && !f.Constraint {
 			parts = append(parts, fmt.Sprintf("%s on %d of %d boundary facets", f.Unknown, f.Facets, f.Total))
 		}
 	}

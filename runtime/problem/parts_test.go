@@ -195,3 +195,17 @@ func TestPartMidpoints1D3D(t *testing.T) {
 	check(line, 1, where([]ir.Expr{x, num(1, 2)}, ir.RelGT), 1)
 	check(line, 1, where([]ir.Expr{x, x}, ir.RelEQ), 2)
 }
+
+// A constraint unknown (one its own equation does not contain, like the
+// pressure of an incompressible flow) has no flux, so the summary does not
+// report its free facets.
+func TestNaturalTextSkipsConstraints(t *testing.T) {
+	n := []NaturalFacets{{Unknown: "vel", Facets: 0, Total: 8}, {Unknown: "p", Facets: 8, Total: 8, Constraint: true}}
+	if s := NaturalText(n); s != "" {
+		t.Errorf("NaturalText = %q, want none", s)
+	}
+	n[0].Facets = 2
+	if s := NaturalText(n); s != "zero flux (no condition) for vel on 2 of 8 boundary facets" {
+		t.Errorf("NaturalText = %q", s)
+	}
+}
