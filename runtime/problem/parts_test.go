@@ -2,6 +2,7 @@ package problem
 
 import (
 	"errors"
+	"slices"
 	"strings"
 	"testing"
 
@@ -207,5 +208,67 @@ func TestNaturalTextSkipsConstraints(t *testing.T) {
 	n[0].Facets = 2
 	if s := NaturalText(n); s != "zero flux (no condition) for vel on 2 of 8 boundary facets" {
 		t.Errorf("NaturalText = %q", s)
+	}
+}
+
+// Set algebra on random parts: for random sets A, B built from sides and
+// midpoint conditions, |A ∪ B| + |A ∩ B| = |A| + |B|, A ∖ B and B are
+// disjoint, (A ∖ B) ∪ (A ∩ B) = A, and every result is sorted, without
+// repeats and inside the boundary (inclusion–exclusion; identities of set
+// algebra).
+func TestPartSetAlgebra(t *testing.T) {
+	m := mesh.Span2(-1, 1, 0, 1, 9, 5, mesh.Quartered)
+	x, y := coord(0), coord(1)
+	leaves := []*ir.PartSet{
+		named("bottom"), named("top"), named("left"), named("right"), named("all"),
+		where([]ir.Expr{x, num(0, 1)}, ir.RelLE), where([]ir.Expr{x, num(1, 3)}, ir.RelGT),
+		where([]ir.Expr{num(1, 4), y, num(3, 4)}, ir.RelLT, ir.RelLE),
+		where([]ir.Expr{add(mul(x, x), mul(y, y)), num(1, 2)}, ir.RelGE),
+	}
+	rng := uint64(12345)
+	next := func(n int) int { rng = rng*6364136223846793005 + 1442695040888963407; return int(rng>>33) % n }
+	var random func(depth int) *ir.PartSet
+	random = func(depth int) *ir.PartSet {
+		if depth == 0 || next(3) == 0 {
+			return leaves[next(len(leaves))]
+		}
+		return setOp([]ir.PartOp{ir.PartUnion, ir.PartMeet, ir.PartMinus}[next(3)], random(depth-1), random(depth-1))
+	}
+	size := func(s *ir.PartSet) []mesh.FacetRef {
+		t.Helper()
+		rm, _, err := ResolveParts(partForm([]ir.PartDef{{Name: "p", Set: s}}), m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		f := rm.Boundaries["p"]
+		for i := 1; i < len(f); i++ {
+			if compareFacets(f[i-1], f[i]) >= 0 {
+				t.Fatalf("facets not sorted or repeated: %v", f)
+			}
+		}
+		return f
+	}
+	all := map[mesh.FacetRef]bool{}
+	for _, f := range m.Boundaries["all"] {
+		all[f] = true
+	}
+	for trial := 0; trial < 200; trial++ {
+		a, b := random(3), random(3)
+		fa, fb := size(a), size(b)
+		cup, meet := size(setOp(ir.PartUnion, a, b)), size(setOp(ir.PartMeet, a, b))
+		if len(cup)+len(meet) != len(fa)+len(fb) {
+			t.Fatalf("|A∪B| + |A∩B| = %d + %d, |A| + |B| = %d + %d", len(cup), len(meet), len(fa), len(fb))
+		}
+		if n := len(size(setOp(ir.PartMeet, setOp(ir.PartMinus, a, b), b))); n != 0 {
+			t.Fatalf("(A∖B) ∩ B has %d facets", n)
+		}
+		if back := size(setOp(ir.PartUnion, setOp(ir.PartMinus, a, b), setOp(ir.PartMeet, a, b))); !slices.Equal(back, fa) {
+			t.Fatalf("(A∖B) ∪ (A∩B) ≠ A")
+		}
+		for _, f := range cup {
+			if !all[f] {
+				t.Fatalf("facet %v is not on the boundary", f)
+			}
+		}
 	}
 }
