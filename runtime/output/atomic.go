@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"sync"
@@ -73,7 +74,7 @@ func writeAtomic(path string, write func(w io.Writer) error, fresh bool) (err er
 		return fmt.Errorf("output: closing %s: %w", path, err)
 	}
 	if fresh {
-		if err = os.Link(tmp, path); err != nil {
+		if err = linkNew(tmp, path); err != nil {
 			return fmt.Errorf("output: %w", err)
 		}
 		os.Remove(tmp)
@@ -83,6 +84,27 @@ func writeAtomic(path string, write func(w io.Writer) error, fresh bool) (err er
 	if d, derr := os.Open(dir); derr == nil {
 		d.Sync() // best effort: makes the rename durable on most file systems
 		d.Close()
+	}
+	return nil
+}
+
+// linkNew puts the finished file tmp at path, which must not exist. It
+// hard-links tmp to path, which fails when path exists; where the file
+// system has no hard links it reserves path with an exclusive create and
+// renames tmp over the reservation (removing it again on failure).
+func linkNew(tmp, path string) error {
+	err := os.Link(tmp, path)
+	if err == nil || errors.Is(err, fs.ErrExist) {
+		return err
+	}
+	f, xerr := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if xerr != nil {
+		return xerr
+	}
+	f.Close()
+	if rerr := os.Rename(tmp, path); rerr != nil {
+		os.Remove(path)
+		return rerr
 	}
 	return nil
 }
