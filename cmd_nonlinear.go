@@ -332,7 +332,7 @@ func cmdJacobian(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		if err := problem.CheckMesh(lf, msh); err != nil {
-			return usagef("--mesh: %v", err)
+			return meshFitError(m, err)
 		}
 		jc, err := problem.CheckJacobian(lf, msh, problem.JacobianCheckOptions{Seed: *seed, Scale: *scale})
 		if err != nil {

@@ -15,6 +15,7 @@ import (
 	"github.com/formwright/formwright/compiler"
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/compiler/notation"
+	"github.com/formwright/formwright/lang/source"
 	"github.com/formwright/formwright/runtime/linsolve"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/output"
@@ -268,7 +269,7 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		if err := problem.CheckMesh(lf, msh); err != nil {
-			return usagef("--mesh: %v", err)
+			return meshFitError(m, err)
 		}
 		start := time.Now()
 		var sol *problem.Solution
@@ -489,10 +490,23 @@ func solveError(err error) error {
 			"an equal-order Galerkin discretisation of a saddle-point problem has spurious pressure modes (it violates the inf–sup condition), which the stabilised methods remove", err)
 	case errors.As(err, &nc), errors.As(err, &bd), errors.As(err, &nf), errors.As(err, &pe), errors.As(err, &tl), errors.As(err, &re), errors.As(err, &pn):
 		return fmt.Errorf("numerical failure, no result written: %w", err)
-	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide):
+	case errors.As(err, &me), errors.Is(err, problem.ErrNoSide), errors.As(err, new(*problem.PartError)):
 		return &usageError{err.Error()}
 	}
 	return fmt.Errorf("solve failed, no result written: %w", err)
+}
+
+// meshFitError reports a mesh that does not carry the model: a boundary
+// part the mesh lacks or a facet two conditions claim is an input error at
+// its place in the model; anything else is about --mesh.
+func meshFitError(m *compiler.Model, err error) error {
+	var pe *problem.PartError
+	if errors.As(err, &pe) && pe.Pos.IsValid() {
+		var errs source.ErrorList
+		errs.Append(pe.Pos, source.Pos{}, pe.Msg, pe.Hint)
+		return &inputError{errs, m.Sources}
+	}
+	return usagef("--mesh: %v", err)
 }
 
 func checkFinite(sol *problem.Solution) error {
@@ -542,6 +556,9 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	fmt.Fprintf(w, "model      %s (%s)\n", m.Name, m.File)
 	fmt.Fprintf(w, "method     %s\n", s.Method)
 	fmt.Fprintf(w, "mesh       %s: %d cells, %d vertices\n", spec, s.Cells, s.Vertices)
+	if s.Natural != "" {
+		fmt.Fprintf(w, "boundary   %s\n", s.Natural)
+	}
 	var us []string
 	for i, u := range m.Unknowns {
 		us = append(us, fmt.Sprintf("%s (%s, %d nodes)", u.Name, u.Element, s.Nodes[i]))
@@ -664,6 +681,7 @@ type jsonSolve struct {
 	Mesh       string `json:"mesh"`
 	Cells      int    `json:"cells"`
 	Vertices   int    `json:"vertices"`
+	Natural    string `json:"natural_condition,omitempty"`
 	Dofs       int    `json:"dofs"`
 	Kernels    string `json:"kernels"`
 	Quadrature string `json:"quadrature"`
@@ -711,7 +729,7 @@ func writeSummaryJSON(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 	out := jsonSolve{Schema: "formwright.solve/2", Model: m.Name, File: m.File, Method: meth.String(), Mesh: spec, Cells: s.Cells, Vertices: s.Vertices,
 		Dofs: s.Dofs, Kernels: s.KernelPath, Quadrature: s.Quadrature, Solver: s.Solver, SolverReason: s.SolverReason, BytesPerUnknown: s.BytesPerUnknown, Iterations: s.Iterations, Residual: s.Residual, NonlinearIters: s.NonlinearIters, Setups: s.Prepared,
 		MeanResidual: s.MeanResidual, WallTime: wall.Seconds(), Tau: map[string]string{}, PerCell: map[string][2]float64{},
-		Nonlinear: s.Nonlinear, Newton: s.History, StepIterations: s.StepIterations, Engine: s.Engine, Ranks: s.Ranks}
+		Nonlinear: s.Nonlinear, Newton: s.History, StepIterations: s.StepIterations, Engine: s.Engine, Ranks: s.Ranks, Natural: s.Natural}
 	for _, a := range cells {
 		lo, hi := valueRange(a.Values)
 		out.PerCell[a.Name] = [2]float64{lo, hi}

@@ -16,6 +16,7 @@ import (
 	"github.com/formwright/formwright/runtime/element"
 	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/plot"
+	"github.com/formwright/formwright/runtime/problem"
 	"github.com/formwright/formwright/runtime/study"
 )
 
@@ -170,6 +171,22 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 			cfg.Steps = func(l int) int { return *steps0 << (uint(kmax+1) * uint(l)) }
 		}
 		cfg.Methods = append(cfg.Methods, sm)
+	}
+	// The coarsest mesh carries every form (cells, sides and parts),
+	// or the error points into the model (cmd_solve.go: meshFitError).
+	if lv, err := meshOf(0); err == nil && lv.Mesh != nil {
+		for _, sm := range cfg.Methods {
+			form := sm.Form
+			if form == nil && sm.Stepped != nil {
+				form = sm.Stepped.Step
+			}
+			if form == nil {
+				continue
+			}
+			if err := problem.CheckMesh(form, lv.Mesh); err != nil {
+				return meshFitError(m, err)
+			}
+		}
 	}
 	if !*asJSON {
 		fmt.Fprintf(stdout, "verify %s with the manufactured solution\n", m.Name)

@@ -6,6 +6,7 @@ package main
 import (
 	_ "github.com/formwright/formwright/examples/crosswind_plume/kernels"
 	_ "github.com/formwright/formwright/examples/estuary_mixing/kernels"
+	_ "github.com/formwright/formwright/examples/hairpin_dye/kernels"
 	_ "github.com/formwright/formwright/examples/river_outfall_layer/kernels"
 	_ "github.com/formwright/formwright/examples/seep_cell_stokes/kernels"
 	_ "github.com/formwright/formwright/stdlib/kernels"

@@ -54,7 +54,8 @@ var commands = []struct {
 	{"solve", "assemble and solve a model on a mesh", cmdSolve},
 	{"verify", "measure convergence orders with a manufactured solution", cmdVerify},
 	{"gen", "generate Go element kernels for a model", cmdGen},
-	{"jacobian", "check a nonlinear model's Jacobian against its residual (Taylor test)", cmdJacobian}, // cmd_nonlinear.go
+	{"jacobian", "check a nonlinear model's Jacobian against its residual (Taylor test)", cmdJacobian},   // cmd_nonlinear.go
+	{"mesh", "write a mesh (built-in or read, refined) as a .vtu file with its boundary parts", cmdMesh}, // cmd_mesh.go
 	{"models", "list the standard models and library modules", cmdModels},
 }
 

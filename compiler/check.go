@@ -77,6 +77,8 @@ type checker struct {
 	unknowns map[string]*Unknown
 	coefs    map[string]*coefDecl
 	formulas map[string]*formula
+	// partNames are the names of the parts the model defines (parts.go).
+	partNames []string
 	// Expression context.
 	allowTest bool
 	params    map[string]ir.Expr
@@ -110,6 +112,7 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	}
 	c.checkCoefs()
 	c.checkEquations(f)
+	c.checkParts(f) // parts.go
 	c.checkBoundaries(f)
 	c.checkMeans(f)
 	c.checkQuadrature(f)
@@ -610,27 +613,35 @@ func (c *checker) checkBoundaries(f *lang.File) {
 		}
 		bc := &BC{Unknown: u.Index, Pos: s.Pos()}
 		for _, n := range s.Sides {
-			if n.Text != "all" && !slices.Contains(m.Sides, n.Text) {
-				hint := "the sides are " + strings.Join(m.Sides, ", ") + " and all"
-				if sug := source.Suggest(n.Text, m.Sides); sug != "" {
-					hint = fmt.Sprintf("did you mean %q?", sug)
+			// A side of the mesh, the whole boundary, or a part the
+			// model defines (parts.go); the mesh's names are checked
+			// against the mesh when the model runs on it.
+			if n.Text != ir.AllParts && !slices.Contains(m.Sides, n.Text) && m.Part(n.Text) == nil {
+				if !slices.Contains(c.partNames, n.Text) { // a part with errors is reported already
+					c.errorf(n.Pos, n.End, c.partHint(n.Text, c.partNames), "%q is neither a side nor a part of this model", n.Text)
 				}
-				c.errorf(n.Pos, n.End, hint, "side %q is not defined by this model", n.Text)
 				continue
 			}
-			names := []string{n.Text}
-			if n.Text == "all" {
-				names = m.Sides
+			k := key{n.Text, u.Index}
+			if prev, dup := seen[k]; dup {
+				c.errorf(n.Pos, n.End, "one condition per unknown and side", "second condition for %q on %q (first at %s)", u.Name, n.Text, prev)
+				continue
 			}
-			for _, side := range names {
-				k := key{side, u.Index}
-				if prev, dup := seen[k]; dup {
-					c.errorf(n.Pos, n.End, "one condition per unknown and side", "second condition for %q on side %q (first at %s)", u.Name, side, prev)
-					continue
+			prev, dup := seen[key{ir.AllParts, u.Index}]
+			if n.Text == ir.AllParts {
+				for k, p := range seen {
+					if k.u == u.Index && (!dup || p.Offset < prev.Offset) {
+						prev, dup = p, true
+					}
 				}
-				seen[k] = n.Pos
-				bc.Sides = append(bc.Sides, side)
 			}
+			if dup {
+				c.errorf(n.Pos, n.End, "a condition on all covers the whole boundary: name the other parts instead (part rest = all minus ...)", "second condition for %q on part of the boundary (first at %s)", u.Name, prev)
+				continue
+			}
+			seen[k] = n.Pos
+			bc.Sides = append(bc.Sides, n.Text)
+			bc.SidePos = append(bc.SidePos, n.Pos)
 		}
 		v := c.exprWith(s.Value, false)
 		if v == nil {

@@ -48,6 +48,9 @@ func tnList(names []string) string {
 	out := make([]string, len(names))
 	for i, n := range names {
 		out[i] = notation.TeXProse(n)
+		if n == ir.AllParts {
+			out[i] = "the whole boundary"
+		}
 	}
 	return strings.Join(out, ", ")
 }
@@ -187,8 +190,8 @@ func galerkinNotes(m *Model) []Note {
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
 	add(Assumption, "second-order terms are integrated by parts once; first-order terms (including coupling terms such as a pressure gradient) are kept as written")
 	for _, u := range m.Unknowns {
-		var value, flux, robin, free []string
-		for _, side := range m.Sides {
+		var value, flux, robin, claimed []string
+		for _, side := range m.ConditionParts() {
 			kind := -1
 			for _, bc := range m.BCs {
 				if bc.Unknown == u.Index && slices.Contains(bc.Sides, side) {
@@ -202,8 +205,9 @@ func galerkinNotes(m *Model) []Note {
 				flux = append(flux, side)
 			case int(RobinBC):
 				robin = append(robin, side)
-			default:
-				free = append(free, side)
+			}
+			if kind >= 0 {
+				claimed = append(claimed, side)
 			}
 		}
 		if len(value) > 0 {
@@ -215,9 +219,19 @@ func galerkinNotes(m *Model) []Note {
 		if len(robin) > 0 {
 			add(Assumption, "a Robin condition on %s for $%s$: the part of the flux proportional to $%s$ enters $B$", tnList(robin), tn(u.Name), tn(u.Name))
 		}
-		if len(free) > 0 {
-			add(Assumption, "no condition on %s for $%s$: zero flux (the natural condition), so the boundary integral vanishes", tnList(free), tn(u.Name))
+		switch {
+		case len(claimed) == 0:
+			add(Assumption, "no condition for $%s$ anywhere on the boundary: zero flux (the natural condition), so the boundary integral vanishes", tn(u.Name))
+		case !slices.Contains(claimed, "all"):
+			add(Assumption, "wherever the boundary has no condition for $%s$ (outside %s): zero flux (the natural condition), so the boundary integral vanishes there; solve reports how many facets of the mesh that is", tn(u.Name), tnList(claimed))
 		}
+	}
+	if len(m.Parts) > 0 {
+		var defs []string
+		for _, p := range m.Parts {
+			defs = append(defs, fmt.Sprintf("%s $= %s$", notation.TeXProse(p.Name), partTeX(p.Set)))
+		}
+		add(Assumption, "boundary parts of the model: %s; a condition in braces holds on the facets whose midpoint satisfies it (a midpoint on a threshold belongs to $\\le$, $\\ge$ and $=$, not to $<$ or $>$)", strings.Join(defs, "; "))
 	}
 	for _, mc := range m.Means {
 		u := tn(m.Unknowns[mc.Unknown].Name)

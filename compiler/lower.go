@@ -61,8 +61,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	return lf, nil
 }
 
-// conditions adds the model's value and mean conditions to lf, and the
-// quadrature degree the model asks for.
+// conditions adds the model's value and mean conditions to lf, its
+// boundary parts and where each condition applies, and the quadrature
+// degree the model asks for.
 func (l *lowerer) conditions(lf *ir.LoweredForm) {
 	m := l.m
 	for _, bc := range m.BCs {
@@ -75,6 +76,20 @@ func (l *lowerer) conditions(lf *ir.LoweredForm) {
 				lf.Dirichlet = append(lf.Dirichlet, ir.DirichletCondition{Side: side, Unknown: bc.Unknown, Comp: c, Value: v})
 			}
 		}
+	}
+	for _, bc := range m.BCs {
+		cl := ir.Claim{Unknown: bc.Unknown, Kind: bc.Kind.String(), Parts: bc.Sides, PartPos: bc.SidePos, Pos: bc.Pos}
+		if len(cl.PartPos) != len(cl.Parts) {
+			cl.PartPos = make([]source.Pos, len(cl.Parts))
+			for i := range cl.PartPos {
+				cl.PartPos[i] = bc.Pos
+			}
+		}
+		lf.Claims = append(lf.Claims, cl)
+	}
+	for _, p := range m.Parts {
+		set, _ := p.Set.Map(func(e ir.Expr) (ir.Expr, error) { return l.Lower(e)[0], nil })
+		lf.Parts = append(lf.Parts, ir.PartDef{Name: p.Name, Set: set, Pos: p.Pos})
 	}
 	for _, mc := range m.Means {
 		lf.Means = append(lf.Means, ir.MeanCondition{Unknown: mc.Unknown, Value: l.Lower(mc.Value)[0]})

@@ -5,6 +5,7 @@ import (
 	"slices"
 
 	"github.com/formwright/formwright/compiler/ir"
+	"github.com/formwright/formwright/lang/source"
 )
 
 // Manufactured is a model rewritten so that a chosen function is its exact
@@ -23,7 +24,7 @@ type Manufactured struct {
 // model whose sources are f = L(u*) and whose boundary data make u* exact:
 // value conditions take u* itself, flux and Robin conditions keep their
 // form with the flux of u* added as data (flux(u) = G(u) + q(u*) − G(u*)),
-// and sides without a condition get the flux of u*. sources, where not nil
+// and the rest of the boundary (a part of its own) gets the flux of u*. sources, where not nil
 // for an equation, replaces the derived source (to check a source worked
 // out by hand).
 func Manufacture(m *Model, exact []ir.Expr, sources []ir.Expr) (*Manufactured, error) {
@@ -64,34 +65,52 @@ func Manufacture(m *Model, exact []ir.Expr, sources []ir.Expr) (*Manufactured, e
 		out.Sources = append(out.Sources, src)
 	}
 	mm.BCs = nil
+	mm.Parts = slices.Clone(m.Parts)
 	for _, u := range m.Unknowns {
-		for _, side := range m.Sides {
-			var bc *BC
-			for _, b := range m.BCs {
-				if b.Unknown == u.Index && slices.Contains(b.Sides, side) {
-					bc = b
-				}
-			}
-			p := u.Pos
-			if bc != nil {
-				p = bc.Pos
-			}
-			if bc != nil && bc.Kind == ValueBC {
-				mm.BCs = append(mm.BCs, &BC{Sides: []string{side}, Unknown: u.Index, Kind: ValueBC, Value: exact[u.Index], Pos: p})
-				continue
-			}
-			q := g.Flux[u.Index]
+		q := g.Flux[u.Index]
+		// flux(u) = G(u) + q(u*) − G(u*) where a flux or Robin condition
+		// G holds, and q(u*) where none does.
+		fluxData := func(p source.Pos, given ir.Expr, kind BCKind, sides []string) {
 			if q == nil {
-				continue // no second-order term: no flux to prescribe
-			}
-			var given ir.Expr = ir.Zero(p, u.Rank, m.Dim)
-			kind := FluxBC
-			if bc != nil {
-				given = bc.Value
-				kind = bc.Kind
+				return // no second-order term: no flux to prescribe
 			}
 			data := Simplify(ir.Sub(p, substituteDefs(m, sub(q)), substituteDefs(m, sub(given))), m.Dim)
-			mm.BCs = append(mm.BCs, &BC{Sides: []string{side}, Unknown: u.Index, Kind: kind, Value: ir.Sum(p, given, data), Pos: p})
+			mm.BCs = append(mm.BCs, &BC{Sides: sides, Unknown: u.Index, Kind: kind, Value: ir.Sum(p, given, data), Pos: p})
+		}
+		var claimed *ir.PartSet
+		whole := false
+		for _, b := range m.BCs {
+			if b.Unknown != u.Index {
+				continue
+			}
+			if b.Kind == ValueBC {
+				mm.BCs = append(mm.BCs, &BC{Sides: b.Sides, Unknown: u.Index, Kind: ValueBC, Value: exact[u.Index], Pos: b.Pos})
+			} else {
+				fluxData(b.Pos, b.Value, b.Kind, b.Sides)
+			}
+			for _, side := range b.Sides {
+				whole = whole || side == ir.AllParts
+				set := &ir.PartSet{Op: ir.PartNamed, Name: side, Pos: b.Pos}
+				if d := m.Part(side); d != nil {
+					set = d.Set
+				}
+				if claimed == nil {
+					claimed = set
+				} else {
+					claimed = &ir.PartSet{Op: ir.PartUnion, Args: [2]*ir.PartSet{claimed, set}, Pos: b.Pos}
+				}
+			}
+		}
+		// The rest of the boundary gets the flux of u*.
+		switch {
+		case whole || q == nil:
+		case claimed == nil:
+			fluxData(u.Pos, ir.Zero(u.Pos, u.Rank, m.Dim), FluxBC, []string{ir.AllParts})
+		default:
+			rest := &PartDef{Name: "rest(" + u.Name + ")", Pos: u.Pos,
+				Set: &ir.PartSet{Op: ir.PartMinus, Args: [2]*ir.PartSet{{Op: ir.PartNamed, Name: ir.AllParts, Pos: u.Pos}, claimed}, Pos: u.Pos}}
+			mm.Parts = append(mm.Parts, rest)
+			fluxData(u.Pos, ir.Zero(u.Pos, u.Rank, m.Dim), FluxBC, []string{rest.Name})
 		}
 	}
 	return out, nil

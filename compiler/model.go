@@ -92,9 +92,13 @@ var bcNames = [...]string{"value", "flux", "robin"}
 
 func (k BCKind) String() string { return bcNames[k] }
 
-// BC is a boundary condition on some sides for one unknown.
+// BC is a boundary condition for one unknown on some sides or parts
+// (parts.go): names of the mesh, "all", or parts the model defines.
 type BC struct {
-	Sides   []string
+	Sides []string
+	// SidePos holds where each of Sides is written (nil for conditions
+	// the compiler makes, which use Pos).
+	SidePos []source.Pos
 	Unknown int
 	Kind    BCKind
 	Value   ir.Expr
@@ -111,7 +115,9 @@ type Model struct {
 	Coefs     []*Coef // in declaration order
 	Equations []*Equation
 	BCs       []*BC
-	Means     []*MeanCondition
+	// Parts are the boundary parts the model defines (parts.go).
+	Parts []*PartDef
+	Means []*MeanCondition
 	// Quadrature is the degree of the quadrature rules the model asks for
 	// ("quadrature N"); 0 leaves it to ir.LoweredForm.QuadratureDegree.
 	Quadrature int

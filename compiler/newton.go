@@ -369,7 +369,7 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 		return nil, err
 	}
 	step.Integrals = append(step.Integrals, in)
-	for _, side := range m.Sides {
+	for _, side := range m.ConditionParts() {
 		var parts []ir.Expr
 		for _, b := range d.Galerkin.Boundary {
 			if b.Side == side {

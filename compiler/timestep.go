@@ -62,7 +62,7 @@ func BackwardEuler(form *ir.LoweredForm) (*ir.SteppedForm, error) {
 	out := &ir.SteppedForm{Step: &step}
 	if picard {
 		mass := *form
-		mass.Integrals, mass.Dirichlet, mass.Means = []ir.Integral{{Bilinear: massTerms}}, nil, nil
+		mass.Integrals, mass.Dirichlet, mass.Means, mass.Claims = []ir.Integral{{Bilinear: massTerms}}, nil, nil, nil
 		out.Mass = &mass
 	}
 	return out, nil
@@ -145,7 +145,7 @@ func backwardEulerNewton(form *ir.LoweredForm) (*ir.SteppedForm, error) {
 	if len(massTerms) > 0 {
 		mass := *form
 		mass.Newton = false
-		mass.Integrals, mass.Dirichlet, mass.Means = []ir.Integral{{Bilinear: massTerms}}, nil, nil
+		mass.Integrals, mass.Dirichlet, mass.Means, mass.Claims = []ir.Integral{{Bilinear: massTerms}}, nil, nil, nil
 		out.Mass = &mass
 	}
 	return out, nil

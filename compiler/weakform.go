@@ -71,7 +71,7 @@ func WeakGalerkin(m *Model) (*GalerkinForm, error) {
 	p := m.Equations[0].Pos
 	g.Bilinear = Simplify(ir.Sum(p, vol...), m.Dim)
 	g.Source = Simplify(ir.Sum(p, src...), m.Dim)
-	for _, side := range m.Sides {
+	for _, side := range m.ConditionParts() {
 		var parts []ir.Expr
 		for _, bc := range m.BCs {
 			if bc.Kind == ValueBC || !slices.Contains(bc.Sides, side) {

@@ -31,7 +31,8 @@ type File struct {
 
 // Stmt is one statement. The concrete types are *ModelStmt, *DimensionStmt,
 // *SidesStmt, *UseStmt, *UnknownStmt, *GivenStmt, *FormulaStmt,
-// *EquationStmt, *BoundaryStmt, *StabiliseStmt, *TauStmt and *MeanStmt.
+// *EquationStmt, *BoundaryStmt, *StabiliseStmt, *TauStmt, *MeanStmt,
+// *QuadratureStmt and *PartStmt.
 type Stmt interface {
 	Node
 	stmtNode()
@@ -134,6 +135,52 @@ type MeanStmt struct {
 	Value  Expr
 }
 
+// PartStmt is "part NAME = SET": a boundary part the model defines, to be
+// named in conditions like a side.
+type PartStmt struct {
+	source.Span
+	Name Name
+	Set  PartSet
+}
+
+// PartSet is a set of boundary facets. The concrete types are *PartName,
+// *PartWhere and *PartBinary.
+type PartSet interface {
+	Node
+	partNode()
+}
+
+// PartName is a part named in a set: a side or part of the mesh, "all", or
+// a part the model defines.
+type PartName struct {
+	source.Span
+	Name string
+}
+
+// PartWhere is a midpoint condition "{T0 R0 T1 R1 T2 ...}": the boundary
+// facets whose midpoint satisfies every comparison Terms[i] Rels[i]
+// Terms[i+1]. Rels are "<=", "<", ">=", ">" or "="; RelPos their positions.
+type PartWhere struct {
+	source.Span
+	Terms  []Expr
+	Rels   []string
+	RelPos []source.Pos
+}
+
+// PartBinary is "X Op Y" with Op "cup" (union), "cap" (intersection) or
+// "minus" (difference).
+type PartBinary struct {
+	source.Span
+	Op    string
+	OpPos source.Pos
+	X, Y  PartSet
+}
+
+func (*PartName) partNode()   {}
+func (*PartWhere) partNode()  {}
+func (*PartBinary) partNode() {}
+
+func (*PartStmt) stmtNode()       {}
 func (*MeanStmt) stmtNode()       {}
 func (*QuadratureStmt) stmtNode() {}
 func (*ModelStmt) stmtNode()      {}
@@ -248,6 +295,15 @@ func Inspect(n any, f func(Node) bool) {
 		Inspect(n.Value, f)
 	case *MeanStmt:
 		Inspect(n.Value, f)
+	case *PartStmt:
+		Inspect(n.Set, f)
+	case *PartWhere:
+		for _, t := range n.Terms {
+			Inspect(t, f)
+		}
+	case *PartBinary:
+		Inspect(n.X, f)
+		Inspect(n.Y, f)
 	case *Call:
 		for _, a := range n.Args {
 			Inspect(a, f)

@@ -32,9 +32,10 @@
 //	tau for NAME = EXPR
 //	mean NAME = EXPR                           the mean of an unknown over the domain
 //	quadrature INT                             the degree of every quadrature rule
+//	part NAME = SET                            a boundary part, named in conditions like a side
 //
 // The reserved words are model dimension sides use unknown scalar vector
-// given formula equation for at flux stabilise tau mean quadrature. They cannot be used as
+// given formula equation for at flux stabilise tau mean quadrature part. They cannot be used as
 // names, except that a module name after "use" may be "tau" (the standard
 // library module of stabilisation parameters). Every other word, including
 // grad, div, lap, partial, dot, diam, sin and exp, is an ordinary identifier; the
@@ -53,6 +54,32 @@
 //	level 6   primaries         numbers, names, calls f(a, b) and f(),
 //	                            (EXPR), vector and matrix literals
 //	                            [a, b] and [[1, 0], [0, 1]]
+//
+// # Boundary parts
+//
+// A part statement names a set of boundary facets, read like set-builder
+// notation: "part inlet = bottom cap {x <= 0}" is Γ_in = Γ_bottom ∩
+// {x ≤ 0}. In EBNF:
+//
+//	PartDecl    = "part" NAME "=" PartSet .
+//	PartSet     = PartOperand { ("cup" | "cap" | "minus") PartOperand } .
+//	PartOperand = "{" EXPR Relation EXPR { Relation EXPR } "}"
+//	            | "(" PartSet ")"
+//	            | NAME .
+//	Relation    = "<=" | "<" | ">=" | ">" | "=" .
+//
+// cup is the union, cap the intersection and minus the difference; they
+// have one precedence and apply from left to right, so "a cup b cap c" is
+// (a ∪ b) ∩ c, and parentheses group. A NAME is a side of the mesh
+// (declared by "sides", or the default sides of the built-in meshes), all
+// (the whole boundary), or another part. A condition in braces is the set
+// of boundary facets whose midpoint satisfies every comparison of the
+// chain: {-1 <= x < 0} holds where −1 ≤ x and x < 0. Its expressions are
+// scalars of x, y, z, numbers and constant coefficients. The words cup,
+// cap and minus are not reserved: they are read as operators only between
+// sets. The checker resolves names; the runtime decides ties
+// (runtime/problem: a midpoint on the threshold belongs to a non-strict
+// comparison, not to a strict one).
 //
 // A number starts with a digit and may have a fraction and an exponent:
 // 12, 1.5, 1e-6, 2.5E+3. Its exact text is kept so the compiler can turn it

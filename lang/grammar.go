@@ -36,6 +36,7 @@ type statement struct {
 	Tau         *tauDecl        `parser:"| @@"`
 	Mean        *meanDecl       `parser:"| @@"`
 	Quadrature  *quadratureDecl `parser:"| @@"`
+	Part        *partDecl       `parser:"| @@"`
 }
 
 type name struct {
@@ -129,6 +130,47 @@ type meanDecl struct {
 type quadratureDecl struct {
 	Pos, EndPos lexer.Position
 	Degree      *numberLit `parser:"\"quadrature\" @@"`
+}
+
+// partDecl is "part NAME = SET": a boundary part the model defines. A set
+// is a chain of operands joined by cup (∪), cap (∩) and minus (∖), applied
+// from left to right; an operand is a part name, a midpoint condition
+// "{EXPR REL EXPR [REL EXPR ...]}" or a parenthesised set.
+type partDecl struct {
+	Pos, EndPos lexer.Position
+	Name        *name    `parser:"\"part\" @@ \"=\""`
+	Set         *partSet `parser:"@@"`
+}
+
+type partSet struct {
+	Pos, EndPos lexer.Position
+	Head        *partOperand `parser:"@@"`
+	Tail        []*partTail  `parser:"@@*"`
+}
+
+type partTail struct {
+	Pos, EndPos lexer.Position
+	Op          string       `parser:"@(\"cup\" | \"cap\" | \"minus\")"`
+	Operand     *partOperand `parser:"@@"`
+}
+
+type partOperand struct {
+	Pos, EndPos lexer.Position
+	Where       *partWhere `parser:"  @@"`
+	Group       *partSet   `parser:"| \"(\" @@ \")\""`
+	Name        *name      `parser:"| @@"`
+}
+
+type partWhere struct {
+	Pos, EndPos lexer.Position
+	Head        *sum       `parser:"\"{\" @@"`
+	Tail        []*relTail `parser:"@@+ \"}\""`
+}
+
+type relTail struct {
+	Pos, EndPos lexer.Position
+	Rel         string `parser:"@(\"<=\" | \">=\" | \"<\" | \">\" | \"=\")"`
+	Operand     *sum   `parser:"@@"`
 }
 
 // Expressions, lowest precedence first.

@@ -80,6 +80,8 @@ func (lw *lowerer) stmt(s *statement) Stmt {
 	case s.Quadrature != nil:
 		d := s.Quadrature.Degree
 		out = &QuadratureStmt{Span: sp, Degree: lw.wholeNumber(d, "quadrature degree"), DegreePos: posOf(d.Pos), DegreeEnd: posOf(d.EndPos)}
+	case s.Part != nil:
+		out = &PartStmt{Span: sp, Name: lowerName(s.Part.Name), Set: lw.partSet(s.Part.Set)}
 	default:
 		panic("lang: statement with no alternative set")
 	}
@@ -173,4 +175,32 @@ func (lw *lowerer) primary(p *primary) Expr {
 		return &List{Span: sp, Elems: elems}
 	}
 	panic("lang: primary with no alternative set")
+}
+
+// partSet folds a chain of set operations to the left.
+func (lw *lowerer) partSet(p *partSet) PartSet {
+	x := lw.partOperand(p.Head)
+	for _, t := range p.Tail {
+		y := lw.partOperand(t.Operand)
+		x = &PartBinary{Span: spanOf(p.Pos, t.EndPos), Op: t.Op, OpPos: posOf(t.Pos), X: x, Y: y}
+	}
+	return x
+}
+
+func (lw *lowerer) partOperand(p *partOperand) PartSet {
+	switch {
+	case p.Name != nil:
+		return &PartName{Span: spanOf(p.Pos, p.EndPos), Name: p.Name.Text}
+	case p.Group != nil:
+		return lw.partSet(p.Group)
+	case p.Where != nil:
+		w := &PartWhere{Span: spanOf(p.Pos, p.EndPos), Terms: []Expr{lw.sum(p.Where.Head)}}
+		for _, t := range p.Where.Tail {
+			w.Rels = append(w.Rels, t.Rel)
+			w.RelPos = append(w.RelPos, posOf(t.Pos))
+			w.Terms = append(w.Terms, lw.sum(t.Operand))
+		}
+		return w
+	}
+	panic("lang: part operand with no alternative set")
 }

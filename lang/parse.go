@@ -571,7 +571,12 @@ func (d *diagnosis) unexpected() {
 	if d.prev == nil {
 		return
 	}
+	stmt := d.p.toks[d.c.from].Value
 	switch {
+	case stmt == "part" && d.tok.Value == "}":
+		d.hint = "a condition compares two or more expressions: {x <= 0}, {-1 <= x < 0}"
+	case stmt == "part" && d.tok.Type == tokIdent && d.tok.Pos.Line == d.prev.Pos.Line:
+		d.hint = "join sets with cup (union), cap (intersection) or minus (difference)"
 	case d.tok.Pos.Line > d.prev.Pos.Line && d.tok.Type == tokIdent:
 		d.hint = "a new statement must begin with a keyword such as given or equation"
 		if s := source.Suggest(d.tok.Value, stmtKeywordList()); s != "" {
@@ -599,6 +604,8 @@ func (d *diagnosis) missingHint(what string) {
 		d.hint = "write unknown NAME: scalar ELEMENT or unknown NAME: vector ELEMENT"
 	case stmt == "equation" && what == `"="`:
 		d.hint = "an equation has the form LHS = RHS"
+	case stmt == "part":
+		d.hint = "write part NAME = SET; a set is a side or part name, a condition on the facet midpoint such as {x <= 0} or {-1 <= x < 0}, or sets joined by cup, cap and minus"
 	}
 }
 
@@ -675,7 +682,7 @@ func orList(items []string) string {
 }
 
 func stmtKeywordList() []string {
-	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "stabilise", "tau"}
+	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "part", "stabilise", "tau"}
 }
 
 // cleanMessage rewrites a participle message we have no better wording for:

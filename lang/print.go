@@ -143,6 +143,8 @@ func StmtString(s Stmt) string {
 		return fmt.Sprintf("mean %s = %s", s.Target.Text, ExprString(s.Value))
 	case *QuadratureStmt:
 		return "quadrature " + strconv.Itoa(s.Degree)
+	case *PartStmt:
+		return fmt.Sprintf("part %s = %s", s.Name.Text, PartString(s.Set))
 	}
 	panic(fmt.Sprintf("lang: StmtString: unexpected statement %T", s))
 }
@@ -164,4 +166,34 @@ func Fprint(w io.Writer, f *File) error {
 		}
 	}
 	return nil
+}
+
+// PartString formats a part set in the model language. Set operations
+// apply from left to right, so only a right operand that is itself an
+// operation needs parentheses.
+func PartString(p PartSet) string {
+	switch p := p.(type) {
+	case *PartName:
+		return p.Name
+	case *PartWhere:
+		var b strings.Builder
+		b.WriteByte('{')
+		for i, t := range p.Terms {
+			if i > 0 {
+				b.WriteString(" " + p.Rels[i-1] + " ")
+			}
+			writeExpr(&b, t)
+		}
+		b.WriteByte('}')
+		return b.String()
+	case *PartBinary:
+		y := PartString(p.Y)
+		if _, ok := p.Y.(*PartBinary); ok {
+			y = "(" + y + ")"
+		}
+		return PartString(p.X) + " " + p.Op + " " + y
+	case nil:
+		return "<nil>"
+	}
+	panic(fmt.Sprintf("lang: PartString: unexpected node %T", p))
 }

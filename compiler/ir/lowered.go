@@ -66,6 +66,13 @@ type LoweredForm struct {
 	// Degree is the quadrature degree the model asks for; 0 leaves it to
 	// QuadratureDegree's automatic choice.
 	Degree int
+	// Parts are the boundary parts the model defines (parts.go); value
+	// conditions and boundary integrals may name them as sides. The
+	// runtime computes their facets on the mesh. Kernels do not read them.
+	Parts []PartDef
+	// Claims say where each boundary condition applies, with positions in
+	// the model, for the checks that need the mesh (parts.go).
+	Claims []Claim
 }
 
 // LoweredUnknown describes one unknown field.
@@ -245,6 +252,19 @@ func (lf *LoweredForm) Validate() error {
 		}
 		if err := coef(d.Value); err != nil {
 			return err
+		}
+	}
+	for _, p := range lf.Parts {
+		if p.Name == "" || p.Name == AllParts {
+			return bad("a part named %q", p.Name)
+		}
+		if err := p.Set.validate(); err != nil {
+			return bad("part %s: %v", p.Name, err)
+		}
+	}
+	for _, c := range lf.Claims {
+		if c.Unknown < 0 || c.Unknown >= len(lf.Unknowns) || !slices.Contains(bcKinds, c.Kind) || len(c.Parts) == 0 {
+			return bad("a condition of kind %q on unknown %d of %d, on %d parts", c.Kind, c.Unknown, len(lf.Unknowns), len(c.Parts))
 		}
 	}
 	for _, m := range lf.Means {

@@ -21,7 +21,7 @@ var mathText = map[string]string{
 	`\int`: "∫", `\sum`: "Σ", `\ldots`: "…", `\lVert`: "‖", `\rVert`: "‖", `\|`: "‖", `\to`: "→",
 	`\infty`: "∞", `\times`: "×", `\in`: "∈", `\quad`: " ", `\,`: " ", `\;`: " ", `\!`: "",
 	`\lvert`: "|", `\rvert`: "|", `\{`: "{", `\}`: "}", `\_`: "_", `\left`: "", `\right`: "",
-	`\bigl`: "", `\bigr`: "",
+	`\bigl`: "", `\bigr`: "", `\cup`: "∪", `\cap`: "∩", `\setminus`: "∖",
 }
 
 // prefixOperators are the math commands whose following spaces the text

@@ -102,6 +102,12 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 		rep.Phases = append(rep.Phases, problem.Phase{Name: name, Wall: now.Sub(clock)})
 		clock = now
 	}
+	// The boundary parts the model defines, computed on the mesh as the
+	// Go engine computes them; the partition reads their facets.
+	m, natural, err := problem.ResolveParts(form, m)
+	if err != nil {
+		return nil, nil, err
+	}
 	dm, err := problem.DofMap(form, m)
 	if err != nil {
 		return nil, nil, err
@@ -233,6 +239,7 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	}
 
 	sum := problem.Summary{
+		Natural:        problem.NaturalText(natural),
 		Mesh:           fmt.Sprintf("%v mesh, %d dimensions, sides %v", m.Cell, m.Dim, m.BoundaryNames()),
 		Cells:          m.NumCells(),
 		Vertices:       m.NumVertices(),

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"sync"
@@ -19,6 +20,19 @@ import (
 // symbolic link, the link itself is replaced by the new regular file.
 // Callers should check the path against their inputs first (CheckNotInput).
 func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
+	return writeAtomic(path, write, false)
+}
+
+// WriteFileNew is WriteFileAtomic for a file that must not exist yet: the
+// finished temporary file is hard-linked to path, which fails when path
+// exists, even when it appeared after the caller's checks, and the
+// temporary name is then removed. An existing file is never replaced; the
+// error then wraps fs.ErrExist.
+func WriteFileNew(path string, write func(w io.Writer) error) error {
+	return writeAtomic(path, write, true)
+}
+
+func writeAtomic(path string, write func(w io.Writer) error, fresh bool) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."
@@ -59,12 +73,38 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	if err = f.Close(); err != nil {
 		return fmt.Errorf("output: closing %s: %w", path, err)
 	}
-	if err = os.Rename(tmp, path); err != nil {
+	if fresh {
+		if err = linkNew(tmp, path); err != nil {
+			return fmt.Errorf("output: %w", err)
+		}
+		os.Remove(tmp)
+	} else if err = os.Rename(tmp, path); err != nil {
 		return fmt.Errorf("output: %w", err)
 	}
 	if d, derr := os.Open(dir); derr == nil {
 		d.Sync() // best effort: makes the rename durable on most file systems
 		d.Close()
+	}
+	return nil
+}
+
+// linkNew puts the finished file tmp at path, which must not exist. It
+// hard-links tmp to path, which fails when path exists; where the file
+// system has no hard links it reserves path with an exclusive create and
+// renames tmp over the reservation (removing it again on failure).
+func linkNew(tmp, path string) error {
+	err := os.Link(tmp, path)
+	if err == nil || errors.Is(err, fs.ErrExist) {
+		return err
+	}
+	f, xerr := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if xerr != nil {
+		return xerr
+	}
+	f.Close()
+	if rerr := os.Rename(tmp, path); rerr != nil {
+		os.Remove(path)
+		return rerr
 	}
 	return nil
 }

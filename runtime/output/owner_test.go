@@ -2,9 +2,11 @@ package output
 
 import (
 	"bytes"
+	"errors"
 	"image"
 	"image/png"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"strings"
@@ -90,5 +92,28 @@ func TestStaged(t *testing.T) {
 	entries, _ := os.ReadDir(dir)
 	if len(entries) != 2 {
 		t.Errorf("after Abort the directory holds %d entries, want the 2 committed files", len(entries))
+	}
+}
+
+// WriteFileNew writes a new file and never replaces an existing one, even
+// one formwright wrote; no temporary file is left behind either way.
+func TestWriteFileNew(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "m.vtu")
+	write := func(s string) func(w io.Writer) error {
+		return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
+	}
+	if err := WriteFileNew(p, write("first "+Signature)); err != nil {
+		t.Fatal(err)
+	}
+	err := WriteFileNew(p, write("second"))
+	if !errors.Is(err, fs.ErrExist) {
+		t.Fatalf("second write: %v, want an error wrapping fs.ErrExist", err)
+	}
+	if b, _ := os.ReadFile(p); string(b) != "first "+Signature {
+		t.Errorf("the file holds %q", b)
+	}
+	if ents, _ := os.ReadDir(dir); len(ents) != 1 {
+		t.Errorf("%d entries in the directory, want the file alone", len(ents))
 	}
 }

@@ -2,8 +2,6 @@ package problem
 
 import (
 	"fmt"
-	"slices"
-	"strings"
 
 	"github.com/formwright/formwright/compiler/ir"
 	"github.com/formwright/formwright/runtime/mesh"
@@ -18,7 +16,8 @@ func (e *MeshError) Error() string { return e.Msg }
 
 // CheckMesh reports whether the mesh can carry the form: the same
 // dimension, cells of the kind the form's elements need, and every side
-// the form uses (value conditions and boundary integrals).
+// the form uses (value conditions and boundary integrals), with the
+// checks of ResolveParts.
 func CheckMesh(form *ir.LoweredForm, m *mesh.Mesh) error {
 	if m.Dim != form.Dim {
 		return &MeshError{fmt.Sprintf("a %d-dimensional mesh for a %d-dimensional model", m.Dim, form.Dim)}
@@ -29,15 +28,10 @@ func CheckMesh(form *ir.LoweredForm, m *mesh.Mesh) error {
 				u.Name, u.Element, u.Element.CellNoun(form.Dim), m.Cell)}
 		}
 	}
-	var used []string
-	for _, d := range form.Dirichlet {
-		used = append(used, d.Side)
-	}
-	used = append(used, form.Sides()...)
-	for _, side := range used {
-		if _, ok := m.Boundaries[side]; !ok {
-			return &MeshError{fmt.Sprintf("the model sets a condition on side %q, which the mesh does not have (it has %s)", side, strings.Join(slices.DeleteFunc(m.BoundaryNames(), func(s string) bool { return s == mesh.All }), ", "))}
-		}
+	// Every side and part the form uses, and where its conditions apply
+	// (parts.go): a *PartError.
+	if _, _, err := ResolveParts(form, m); err != nil {
+		return err
 	}
 	return nil
 }

@@ -11,6 +11,13 @@
 // verify command and the convergence tests use ErrorNorms against exact
 // solutions.
 //
+// Before anything is numbered, ResolveParts computes the boundary parts
+// the model defines (ir.PartDef: sets of mesh names and conditions on the
+// facet midpoint, with the tie rule of parts.go) on the mesh, checks that
+// every name the form uses exists there and that no facet is claimed by
+// two conditions of one unknown, and counts the facets that take the
+// natural condition (Summary.Natural).
+//
 // Nonlinear forms whose coefficients read a previous iterate (Picard
 // linearisation of a convecting velocity) are solved by repeated
 // assembly and solution until the iterates settle. A Newton step form

@@ -172,6 +172,10 @@ type Summary struct {
 	// empty here), and Ranks its number of processes.
 	Engine string
 	Ranks  int
+	// Natural says which unknowns have boundary facets without a
+	// condition (zero flux holds there), and how many (NaturalText); ""
+	// when every facet has one.
+	Natural string
 }
 
 // FieldValues are the nodal values of one field: Values[comp][node] at
@@ -301,7 +305,11 @@ type system struct {
 }
 
 func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error) {
-	sum := Summary{Method: form.Method, Cells: m.NumCells(), Vertices: m.NumVertices(), Workers: opts.Workers}
+	m, natural, err := ResolveParts(form, m) // parts.go
+	if err != nil {
+		return nil, err
+	}
+	sum := Summary{Natural: NaturalText(natural), Method: form.Method, Cells: m.NumCells(), Vertices: m.NumVertices(), Workers: opts.Workers}
 	if sum.Workers <= 0 {
 		sum.Workers = runtime.GOMAXPROCS(0)
 	}
@@ -648,7 +656,7 @@ func Assemble(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*Assembled, err
 	if err != nil {
 		return nil, err
 	}
-	fixed, values, err := dirichlet(form, m, s.dm, opts.Time)
+	fixed, values, err := dirichlet(form, s.m, s.dm, opts.Time)
 	if err != nil {
 		return nil, err
 	}
@@ -733,6 +741,12 @@ func dirichlet(form *ir.LoweredForm, m *mesh.Mesh, dm *dof.Numbering, t float64)
 	values := make([]float64, dm.NumDofs)
 	if len(form.Dirichlet) == 0 {
 		return fixed, values, nil
+	}
+	if partsMissing(form, m) {
+		var err error
+		if m, _, err = ResolveParts(form, m); err != nil {
+			return nil, nil, err
+		}
 	}
 	for _, dc := range form.Dirichlet {
 		if dc.Unknown < 0 || dc.Unknown >= len(dm.Fields) {

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("83724b415bf465061a88efb35e804b01", compiled.Kernels{
+	compiled.Register("72633716b9e4e8af83600867fb75b7c8", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -21,7 +21,7 @@ func init() {
 			return AdrGalerkinKernel{}
 		},
 	})
-	compiled.Register("2925ff2c15d169e18afb99c89340c625", compiled.Kernels{
+	compiled.Register("9b18b17bb0ccba53dd5d9bc2f7838c2c", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return AdrSUPGKernel{}
 		},
 	})
-	compiled.Register("9709c2c1f0059c690a5b1713b4cf1c9c", compiled.Kernels{
+	compiled.Register("af4a43a1c344abaae1bb5949f2a358fa", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return AdrGLSKernel{}
 		},
 	})
-	compiled.Register("a6b84cadb45f3f8ea9d1db27b8d3ff0a", compiled.Kernels{
+	compiled.Register("3386bd6a8a4fc311b23ce5bb6f1fa43e", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

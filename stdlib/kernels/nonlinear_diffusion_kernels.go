@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("34ccdf163e2487edad32125cbd708895", compiled.Kernels{
+	compiled.Register("7f9aaca28f9fba6497e3bea4898e7b7e", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 2,
@@ -21,7 +21,7 @@ func init() {
 			return NonlinearDiffusionGalerkinKernel{}
 		},
 	})
-	compiled.Register("514204532acaf4e9ad2f38fc0eaab48a", compiled.Kernels{
+	compiled.Register("56de35a6f2d87bf8ce15936a18260ac7", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return NonlinearDiffusionSUPGKernel{}
 		},
 	})
-	compiled.Register("d2f07f51dfb64d03d6922f0683b974ea", compiled.Kernels{
+	compiled.Register("a881c484abf145b34df6808cbc5f1a3a", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return NonlinearDiffusionGLSKernel{}
 		},
 	})
-	compiled.Register("94e7311fba8e6923e67f57fb58fb3e3c", compiled.Kernels{
+	compiled.Register("a99761f4ad7b3d69f478a019e05106c1", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,

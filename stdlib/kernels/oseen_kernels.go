@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("6a5e5f672a8496cf27b0aabddfe6b06c", compiled.Kernels{
+	compiled.Register("8995241a1156f7ddb3422e02daf9f7f3", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -21,7 +21,7 @@ func init() {
 			return OseenGalerkinKernel{}
 		},
 	})
-	compiled.Register("f18bb714e1b28013790617be47ade939", compiled.Kernels{
+	compiled.Register("871dbb3e5d9df1bd55e9d18443fc539f", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return OseenSUPGKernel{}
 		},
 	})
-	compiled.Register("53a455573322227bdbc1cba4e975030e", compiled.Kernels{
+	compiled.Register("8f9cd17dfdf73b13288b639378684493", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return OseenGLSKernel{}
 		},
 	})
-	compiled.Register("88cb7cd6797a15182b24887a179d4d07", compiled.Kernels{
+	compiled.Register("d93ebf53e274a757f13e57cc11ed9a61", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("5fc253a5c506996b2df4bc3793c7a296", compiled.Kernels{
+	compiled.Register("c56d70a6a8fae3dd42f5e7f15965274f", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -21,7 +21,7 @@ func init() {
 			return StokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("8317e0cfc549f8800c1e482a09a8f4a4", compiled.Kernels{
+	compiled.Register("b17ca2ddc01e8be0592d2e4748a8143c", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return StokesSUPGKernel{}
 		},
 	})
-	compiled.Register("836372888527158aef620dde70d398ae", compiled.Kernels{
+	compiled.Register("e1036fd323386bfe65b95e3d87e99e2f", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return StokesGLSKernel{}
 		},
 	})
-	compiled.Register("b93ab61f1ecf8d6ea4393da89ae1b98d", compiled.Kernels{
+	compiled.Register("6cf13d93635d3f5155c0b7916164abe6", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

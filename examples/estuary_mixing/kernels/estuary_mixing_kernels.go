@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("f7df27e5d6f8ab92aa14480a756af0f4", compiled.Kernels{
+	compiled.Register("5e5c1e6dfcf10b6f90ae21ffb13bb70b", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 3,
@@ -21,7 +21,7 @@ func init() {
 			return EstuaryMixingGalerkinKernel{}
 		},
 	})
-	compiled.Register("8a2ae3b9ce0df27b7214c1f1ea0f93ec", compiled.Kernels{
+	compiled.Register("9e5fe3a2eb833b889e07030788112b7c", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return EstuaryMixingSUPGKernel{}
 		},
 	})
-	compiled.Register("be0a161de47547232a6dc996e366d114", compiled.Kernels{
+	compiled.Register("de791f63d5cb8f9e876fc3c42de9e360", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return EstuaryMixingGLSKernel{}
 		},
 	})
-	compiled.Register("8d67f22ef1167847b4a4c274dcafa14b", compiled.Kernels{
+	compiled.Register("98ab58e5a8e9d65be3e055cf25154ed2", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 6,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("76a7f6e410f52ef4c92fc948a44e831b", compiled.Kernels{
+	compiled.Register("a927ac12d8f42e0c7fa68bc0702bad90", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -21,7 +21,7 @@ func init() {
 			return SeepCellStokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("22f063d19faa760f9aef84a8909c3e05", compiled.Kernels{
+	compiled.Register("447888dc8976b802a371e96e0217e6f8", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return SeepCellStokesSUPGKernel{}
 		},
 	})
-	compiled.Register("28a12cb5bff7dc78fbcdd7474550ae2f", compiled.Kernels{
+	compiled.Register("560ae7ad44bfce136e89543a3e0970bb", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return SeepCellStokesGLSKernel{}
 		},
 	})
-	compiled.Register("e13d9e102e47611b919f2690db319925", compiled.Kernels{
+	compiled.Register("8aff0c55af94ffb56dc7268d8a280268", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,

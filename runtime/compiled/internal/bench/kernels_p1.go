@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("2925ff2c15d169e18afb99c89340c625", compiled.Kernels{
+	compiled.Register("9b18b17bb0ccba53dd5d9bc2f7838c2c", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("ecaeca150c0887d5c0dc36b4a880ce58", compiled.Kernels{
+	compiled.Register("2542ff47402c960c5bfbe41180861545", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Quadrilateral,
 		Degree: 5,

@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	compiled.Register("6464793a3c77a8be98c90607d946a097", compiled.Kernels{
+	compiled.Register("dcd126a3700549270703c4cc00d5e266", compiled.Kernels{
 		Method: "galerkin",
 		Cell:   cell.Tetrahedron,
 		Degree: 1,
