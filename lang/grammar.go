@@ -36,6 +36,7 @@ type statement struct {
 	Tau         *tauDecl        `parser:"| @@"`
 	Mean        *meanDecl       `parser:"| @@"`
 	Quadrature  *quadratureDecl `parser:"| @@"`
+	Capture     *captureDecl    `parser:"| @@"`
 }
 
 type name struct {
@@ -117,6 +118,14 @@ type stabiliseDecl struct {
 type tauDecl struct {
 	Pos, EndPos lexer.Position
 	For         *name `parser:"\"tau\" \"for\" @@ \"=\""`
+	Value       *sum  `parser:"@@"`
+}
+
+// captureDecl is "capture for NAME = EXPR": the discontinuity-capturing
+// diffusivity added to the stabilised forms of NAME's equation.
+type captureDecl struct {
+	Pos, EndPos lexer.Position
+	For         *name `parser:"\"capture\" \"for\" @@ \"=\""`
 	Value       *sum  `parser:"@@"`
 }
 

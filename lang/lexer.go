@@ -10,7 +10,7 @@ import (
 var Keywords = []string{
 	"model", "dimension", "sides", "use", "unknown", "scalar", "vector",
 	"given", "formula", "equation", "for", "at", "flux", "stabilise", "tau",
-	"mean", "quadrature",
+	"mean", "quadrature", "capture",
 }
 
 // stmtKeywords are the keywords that begin a statement. "tau" begins a
@@ -19,6 +19,7 @@ var stmtKeywords = map[string]bool{
 	"model": true, "dimension": true, "sides": true, "use": true,
 	"unknown": true, "given": true, "formula": true, "equation": true,
 	"at": true, "stabilise": true, "tau": true, "mean": true, "quadrature": true,
+	"capture": true,
 }
 
 // IsKeyword reports whether s is a reserved word.
@@ -41,7 +42,7 @@ func IsKeyword(s string) bool {
 var modelLexer = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "Whitespace", Pattern: `[ \t\r\n]+`},
 	{Name: "Comment", Pattern: `#[^\n]*`},
-	{Name: "Keyword", Pattern: `(?:model|dimension|sides|use|unknown|scalar|vector|given|formula|equation|for|at|flux|stabilise|tau|mean|quadrature)\b`},
+	{Name: "Keyword", Pattern: `(?:model|dimension|sides|use|unknown|scalar|vector|given|formula|equation|for|at|flux|stabilise|tau|mean|quadrature|capture)\b`},
 	{Name: "Ident", Pattern: `[A-Za-z_][A-Za-z0-9_]*`},
 	{Name: "Number", Pattern: `\.?[0-9](?:[eE][+-]|[0-9A-Za-z_.])*`},
 	{Name: "Punct", Pattern: `[-+*/^.,:=()\[\]]`},
