@@ -25,6 +25,13 @@ func (m *Model) Nonlinear() bool {
 			return true
 		}
 	}
+	// A discontinuity-capturing diffusivity that reads the solution (its
+	// residual or gradient) makes the problem nonlinear.
+	for _, c := range m.Capture {
+		if c != nil && ir.HasRole(c, ir.Trial) {
+			return true
+		}
+	}
 	return false
 }
 
@@ -127,6 +134,9 @@ type JacobianForm struct {
 	Boundary []BoundaryPart
 	Stab     []StabJacobian
 	Fine     ir.Expr // derivative of MethodForm.Cross (nil when none)
+	// Capture is the derivative of the discontinuity-capturing terms,
+	// Σ_K (κ_dc ∇δu + δκ_dc ∇u, ∇v)_K (nil when none).
+	Capture ir.Expr
 	// Defs are the Gateaux symbols the terms use: δτ and δu′.
 	Defs []*Definition
 	// Approximations says where J differs from the exact derivative of F
@@ -144,6 +154,9 @@ func (j *JacobianForm) CellIntegrand(dim int) ir.Expr {
 	}
 	if j.Fine != nil {
 		parts = append(parts, j.Fine)
+	}
+	if j.Capture != nil {
+		parts = append(parts, j.Capture)
 	}
 	return Simplify(ir.Sum(p, parts...), dim)
 }
@@ -209,6 +222,16 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 				return nil
 			}
 			return define(s, dd)
+		case ir.Capture:
+			def := m.captureDefinition(s)
+			if def == nil {
+				return nil
+			}
+			dd := Simplify(gateaux(def, full), m.Dim)
+			if ir.IsZero(dd) {
+				return nil
+			}
+			return define(s, dd)
 		}
 		return nil
 	}}
@@ -247,6 +270,7 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 			j.Fine = fv
 		}
 	}
+	j.Capture = captureJacobian(m, f.Capture, full)
 	// Keep the definitions the terms use, directly or through another one.
 	used := map[string]bool{}
 	var mark func(e ir.Expr)
@@ -264,6 +288,7 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 	}
 	mark(j.Galerkin)
 	mark(j.Fine)
+	mark(j.Capture)
 	for _, b := range j.Boundary {
 		mark(b.Integrand)
 	}
@@ -358,6 +383,9 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 	}
 	if form.Cross != nil {
 		residual = append(residual, form.Cross)
+	}
+	if c := captureIntegrand(m, form.Capture); c != nil {
+		residual = append(residual, c)
 	}
 	j := form.Jacobian
 	step := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
