@@ -1,0 +1,325 @@
+package main
+
+import (
+	"math"
+	"os"
+	"sort"
+	"strings"
+	"testing"
+
+	"github.com/formwright/formwright/compiler"
+	"github.com/formwright/formwright/lang"
+	"github.com/formwright/formwright/runtime/mesh"
+	"github.com/formwright/formwright/runtime/problem"
+	"github.com/formwright/formwright/stdlib"
+)
+
+// Discontinuity capturing (compiler/capture.go): the examples' stated
+// results, the Taylor test of the derived Jacobian, the agreement of the
+// generated and interpreted kernels, and an independent check of the term
+// itself.
+
+// layerStats are the measures of a solution with one interior layer from
+// 0 to 1: the overshoot max − 1, the undershoot −min, and the smearing,
+// the distance between the points where u = 0.1 and u = 0.9 on a mesh
+// line across the layer, in cells (the measure of John & Knobloch 2007,
+// CMAME 196, for the Hughes–Mallet–Mizukami problem [memory]).
+type layerStats struct {
+	over, under, width float64
+	newton             int
+	// farOver and farUnder are over- and undershoot more than four cells
+	// from the corner where the inflow data jump (the layer's origin).
+	farOver, farUnder float64
+}
+
+// measureLayer computes layerStats on the line where coordinate axis
+// `fixed` equals at, walking along the other axis; the first crossing of
+// each level after start counts. cells is the number of cells per unit
+// length.
+func measureLayer(t *testing.T, sol *problem.Solution, fixed int, at, start float64, cells int, corner [2]float64) layerStats {
+	t.Helper()
+	coords := sol.Dofs.NodeCoords(0)
+	vals := sol.Fields[0].Values[0]
+	type pt struct{ s, u float64 }
+	var line []pt
+	st := layerStats{over: math.Inf(-1), under: math.Inf(-1), farOver: math.Inf(-1), farUnder: math.Inf(-1), newton: sol.Summary.Picard}
+	for i := range vals {
+		x := coords[2*i : 2*i+2] // 2D node coordinates, stored flat
+		st.over = math.Max(st.over, vals[i]-1)
+		st.under = math.Max(st.under, -vals[i])
+		if math.Hypot(x[0]-corner[0], x[1]-corner[1]) > 4/float64(cells) {
+			st.farOver = math.Max(st.farOver, vals[i]-1)
+			st.farUnder = math.Max(st.farUnder, -vals[i])
+		}
+		if math.Abs(x[fixed]-at) < 1e-9 {
+			line = append(line, pt{x[1-fixed], vals[i]})
+		}
+	}
+	sort.Slice(line, func(i, j int) bool { return line[i].s < line[j].s })
+	cross := func(level float64) float64 {
+		for i := 0; i+1 < len(line); i++ {
+			a, b := line[i], line[i+1]
+			if a.s < start || a.u == b.u || (a.u-level)*(b.u-level) > 0 {
+				continue
+			}
+			return a.s + (level-a.u)*(b.s-a.s)/(b.u-a.u)
+		}
+		t.Fatalf("no crossing of %g on the line", level)
+		return 0
+	}
+	st.width = math.Abs(cross(0.9)-cross(0.1)) * float64(cells)
+	return st
+}
+
+// solveCapture solves a model's SUPG form on a 64×64 mesh of the given
+// pattern, with its capture term or (plain) without it.
+func solveCapture(t *testing.T, path, pattern string, plain, compiled bool) *problem.Solution {
+	t.Helper()
+	m, err := loadModel(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if plain {
+		for i := range m.Capture {
+			m.Capture[i], m.CaptureSym[i] = nil, nil
+		}
+	}
+	msh, _, err := buildMesh(m, "span:0,1,0,1:64x64:"+pattern)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lf, err := lowerModel(m, compiler.SUPG)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sol, err := problem.Solve(lf, msh, problem.Options{Interpreted: !compiled})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if compiled && sol.Summary.KernelPath != "compiled" {
+		t.Fatalf("%s: no compiled kernel (regenerate the example's kernels)", path)
+	}
+	return sol
+}
+
+// captureCase is one row of an example's README table.
+type captureCase struct {
+	pattern string
+	plain   bool
+	want    layerStats
+}
+
+// checkCaptureTable solves every row and compares it with the README's
+// table: over- and undershoot to 1e-3, smearing to 0.01 cells, Newton
+// iterations exactly (regression values of this code, not published
+// ones; a linear solve counts as one iteration). It returns the measured
+// rows.
+func checkCaptureTable(t *testing.T, path string, rows []captureCase, measure func(*problem.Solution) layerStats) map[string]layerStats {
+	got := map[string]layerStats{}
+	for _, r := range rows {
+		sol := solveCapture(t, path, r.pattern, r.plain, !r.plain)
+		s := measure(sol)
+		key := r.pattern + map[bool]string{true: " plain", false: " capture"}[r.plain]
+		got[key] = s
+		w := r.want
+		t.Logf("%s %s: over %.4f under %.4f (far from the corner %.4f, %.4f), smearing %.2f cells, %d iterations", path, key, s.over, s.under, s.farOver, s.farUnder, s.width, s.newton)
+		if math.Abs(s.over-w.over) > 1e-3 || math.Abs(s.under-w.under) > 1e-3 || math.Abs(s.width-w.width) > 0.01 || s.newton != w.newton ||
+			math.Abs(s.farOver-w.farOver) > 1e-3 || math.Abs(s.farUnder-w.farUnder) > 1e-3 {
+			t.Errorf("%s %s: overshoot %.4f, undershoot %.4f (%.4f, %.4f away from the corner), smearing %.2f cells, %d Newton iterations; README states %.3f, %.3f (%.3f, %.3f), %.2f, %d",
+				path, key, s.over, s.under, s.farOver, s.farUnder, s.width, s.newton, w.over, w.under, w.farOver, w.farUnder, w.width, w.newton)
+		}
+	}
+	return got
+}
+
+// TestExampleSkewFront: the Hughes–Mallet–Mizukami problem (HMM 1986,
+// CMAME 54; data in testdata/REFERENCES.md). SUPG over- and undershoots at
+// the interior layer and the outflow layers; Codina's discontinuity
+// capturing removes the oscillations of the layers. Newton's method
+// converges in a handful of iterations. The smearing is measured on
+// y = 0.25.
+func TestExampleSkewFront(t *testing.T) {
+	const path = "examples/skew_front/model.fw"
+	measure := func(sol *problem.Solution) layerStats { return measureLayer(t, sol, 1, 0.25, 0, 64, [2]float64{0, 0.7}) }
+	got := checkCaptureTable(t, path, []captureCase{
+		{"tri", true, layerStats{0.175, 0.048, 4.55, 1, 0.175, 0.048}},
+		{"tri", false, layerStats{0.061, 0.001, 6.52, 8, 0.030, 0.001}},
+		{"tri-flip", true, layerStats{0.173, 0.047, 2.48, 1, 0.173, 0.047}},
+		{"tri-flip", false, layerStats{0.000, 0.000, 4.45, 15, 0.000, 0.000}},
+	}, measure)
+	checkCaptureClaims(t, got)
+}
+
+// TestExampleCrosswindPlumeCapture: the crosswind plume with Codina's
+// discontinuity capturing (examples/crosswind_plume/capture.fw), the
+// smearing measured on x = 0.5 above the inflow corner.
+func TestExampleCrosswindPlumeCapture(t *testing.T) {
+	const path = "examples/crosswind_plume/capture.fw"
+	measure := func(sol *problem.Solution) layerStats { return measureLayer(t, sol, 0, 0.5, 0.05, 64, [2]float64{0, 0.2}) }
+	got := checkCaptureTable(t, path, []captureCase{
+		{"tri", true, layerStats{0.066, 0.068, 2.58, 1, 0.060, 0.056}},
+		{"tri", false, layerStats{0.000, 0.000, 4.69, 16, 0.000, 0.000}},
+		{"tri-flip", true, layerStats{0.048, 0.136, 4.71, 1, 0.048, 0.103}},
+		{"tri-flip", false, layerStats{0.002, 0.038, 6.88, 10, 0.002, 0.031}},
+	}, measure)
+	checkCaptureClaims(t, got)
+}
+
+// checkCaptureClaims checks what the READMEs claim beyond the numbers:
+// capturing at least halves the largest over/undershoot of SUPG,
+// Newton converges within 20 iterations, and the layer widens by at most
+// 2.5 cells (the issue asked for one cell; the examples' READMEs say that
+// this is not met).
+func checkCaptureClaims(t *testing.T, got map[string]layerStats) {
+	for _, pat := range []string{"tri", "tri-flip"} {
+		p, c := got[pat+" plain"], got[pat+" capture"]
+		if worst(c) > worst(p)/2 {
+			t.Errorf("%s: capturing leaves %.4f of SUPG's %.4f", pat, worst(c), worst(p))
+		}
+		if c.newton < 1 || c.newton > 20 {
+			t.Errorf("%s: %d Newton iterations", pat, c.newton)
+		}
+		if c.width-p.width > 2.5 {
+			t.Errorf("%s: the layer widens by %.2f cells", pat, c.width-p.width)
+		}
+	}
+}
+
+func worst(s layerStats) float64 { return math.Max(s.over, s.under) }
+
+// TestCaptureJacobianTaylor: the derived Jacobian of SUPG with capturing,
+// δκ_dc included, is the derivative of the residual form: the Taylor
+// remainder falls at order 2 (Farrell, Ham, Funke & Rognes 2013) on a
+// small mesh at a random state, for the isotropic and the crosswind
+// (tensor) diffusivity and for YZβ.
+func TestCaptureJacobianTaylor(t *testing.T) {
+	raw, err := os.ReadFile("examples/skew_front/model.fw")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := string(raw)
+	variants := map[string]string{
+		"isotropic": "",
+		"crosswind": "capture for u = capture_codina(7/10, norm(b), epsilon, h, residual(u), grad(u), 1/100, 1/10000)*crosswind_2d(b)",
+		"yzb":       "capture for u = (capture_yzb1(h, residual(u), grad(u), 1/100, 1/10000) + capture_yzb2(1, h, residual(u), 1/10000))/2",
+	}
+	for name, line := range variants {
+		text := src
+		if line != "" {
+			text = replaceCapture(t, src, line)
+		}
+		m := checkText(t, "skew_"+name+".fw", text)
+		msh, err := mesh.Load("span:0,1,0,1:4x4:tri")
+		if err != nil {
+			t.Fatal(err)
+		}
+		lf, err := lowerModel(m, compiler.SUPG)
+		if err != nil {
+			t.Fatal(err)
+		}
+		jc, err := problem.CheckJacobian(lf, msh, problem.JacobianCheckOptions{Seed: 1, Scale: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if jc.Order < 1.9 || jc.CentralDiff > 1e-5 {
+			t.Errorf("%s: Taylor remainder order %.2f, central difference %.2e: want 2 and O(ε²)", name, jc.Order, jc.CentralDiff)
+		}
+	}
+}
+
+// TestCaptureConstantIsDiffusion checks the capture term against an
+// independent formulation: with a constant capture diffusivity c (a
+// scalar, or a tensor C), SUPG with capturing is SUPG of the same problem
+// with the diffusivity κ + c (κI + C) in the Galerkin part, when τ is the
+// same and the elements are P1 (where the diffusive part of the SUPG
+// residual vanishes inside each cell). Both go through the whole pipeline
+// and must agree to 1e-12; the constant diffusivity keeps the model
+// linear, which exercises the linear lowering of the term.
+func TestCaptureConstantIsDiffusion(t *testing.T) {
+	head := `model capture_const
+dimension 2
+use tau
+unknown u: scalar P1
+given a = [1, 1/3]
+given h = diam(K)
+at left, bottom: u = (1 + tanh(20*(y - x)))/2
+stabilise supg
+tau for u = tau_doubly_asymptotic(norm(a), 1/1000, h)
+`
+	for _, c := range []struct{ capture, diffusion string }{
+		{"1/50", "-div((1/1000 + 1/50)*grad(u))"},
+		{"[[1/50, 1/100], [1/100, 1/30]]", "-div(([[1/1000, 0], [0, 1/1000]] + [[1/50, 1/100], [1/100, 1/30]]) . grad(u))"},
+	} {
+		a := checkText(t, "a.fw", head+"equation for u: a . grad(u) - div(1/1000*grad(u)) = 0\ncapture for u = "+c.capture+"\n")
+		b := checkText(t, "b.fw", head+"equation for u: a . grad(u) "+c.diffusion+" = 0\n")
+		if a.Nonlinear() {
+			t.Fatal("a constant capture diffusivity made the model nonlinear")
+		}
+		msh, err := mesh.Load("span:0,1,0,1:16x16:tri")
+		if err != nil {
+			t.Fatal(err)
+		}
+		var sols [2]*problem.Solution
+		for i, m := range []*compiler.Model{a, b} {
+			lf, err := lowerModel(m, compiler.SUPG)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if sols[i], err = problem.Solve(lf, msh, problem.Options{Interpreted: true}); err != nil {
+				t.Fatal(err)
+			}
+		}
+		diff := 0.0
+		for i := range sols[0].X {
+			diff = math.Max(diff, math.Abs(sols[0].X[i]-sols[1].X[i]))
+		}
+		if diff > 1e-12 {
+			t.Errorf("capture %s: differs from the diffusive model by %.3g", c.capture, diff)
+		}
+	}
+}
+
+// TestCaptureCompiledMatchesInterpreted: the generated kernels of the
+// Newton step with capturing (value, gradient and Jacobian of κ_dc) give
+// the solution of the interpreted kernels to 1e-10 after the whole
+// Newton iteration (each step agrees to round-off; the iteration
+// amplifies it at most by the conditioning of J).
+func TestCaptureCompiledMatchesInterpreted(t *testing.T) {
+	for _, path := range []string{"examples/skew_front/model.fw", "examples/crosswind_plume/capture.fw"} {
+		a := solveCapture(t, path, "tri", false, true)
+		b := solveCapture(t, path, "tri", false, false)
+		diff := 0.0
+		for i := range a.X {
+			diff = math.Max(diff, math.Abs(a.X[i]-b.X[i]))
+		}
+		if diff > 1e-10 || a.Summary.Picard != b.Summary.Picard {
+			t.Errorf("%s: compiled and interpreted differ by %.3g (%d and %d Newton iterations)", path, diff, a.Summary.Picard, b.Summary.Picard)
+		}
+	}
+}
+
+func replaceCapture(t *testing.T, src, line string) string {
+	t.Helper()
+	var out []string
+	found := false
+	for _, l := range strings.Split(src, "\n") {
+		if strings.HasPrefix(l, "capture for") {
+			l, found = line, true
+		}
+		out = append(out, l)
+	}
+	if !found {
+		t.Fatal("no capture statement to replace")
+	}
+	return strings.Join(out, "\n")
+}
+
+func checkText(t *testing.T, name, src string) *compiler.Model {
+	t.Helper()
+	f, errs := lang.Parse(name, []byte(src))
+	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
+	if errs = append(errs, cerrs...); len(errs) > 0 {
+		t.Fatalf("%s: %v", name, errs)
+	}
+	return m
+}
