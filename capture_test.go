@@ -140,7 +140,9 @@ func checkCaptureTable(t *testing.T, path string, rows []captureCase, measure fu
 // y = 0.25.
 func TestExampleSkewFront(t *testing.T) {
 	const path = "examples/skew_front/model.fw"
-	measure := func(sol *problem.Solution) layerStats { return measureLayer(t, sol, 1, 0.25, 0, 64, [2]float64{0, 0.7}) }
+	measure := func(sol *problem.Solution) layerStats {
+		return measureLayer(t, sol, 1, 0.25, 0, 64, [2]float64{0, 0.7})
+	}
 	got := checkCaptureTable(t, path, []captureCase{
 		{"tri", true, layerStats{0.175, 0.048, 4.55, 1, 0.175, 0.048}},
 		{"tri", false, layerStats{0.061, 0.001, 6.52, 8, 0.030, 0.001}},
@@ -155,7 +157,9 @@ func TestExampleSkewFront(t *testing.T) {
 // smearing measured on x = 0.5 above the inflow corner.
 func TestExampleCrosswindPlumeCapture(t *testing.T) {
 	const path = "examples/crosswind_plume/capture.fw"
-	measure := func(sol *problem.Solution) layerStats { return measureLayer(t, sol, 0, 0.5, 0.05, 64, [2]float64{0, 0.2}) }
+	measure := func(sol *problem.Solution) layerStats {
+		return measureLayer(t, sol, 0, 0.5, 0.05, 64, [2]float64{0, 0.2})
+	}
 	got := checkCaptureTable(t, path, []captureCase{
 		{"tri", true, layerStats{0.066, 0.068, 2.58, 1, 0.060, 0.056}},
 		{"tri", false, layerStats{0.000, 0.000, 4.69, 16, 0.000, 0.000}},
