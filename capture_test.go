@@ -232,7 +232,7 @@ func TestCaptureJacobianTaylor(t *testing.T) {
 	src := string(raw)
 	variants := map[string]string{
 		"isotropic": "",
-		"crosswind": "capture for u = capture_codina(7/10, norm(b), epsilon, h, residual(u), grad(u), 1/100, 1/10000)*crosswind_2d(b)",
+		"crosswind": "capture for u = capture_codina(7/10, norm(b), kappa, h, residual(u), grad(u), 1/100, 1/10000)*crosswind_2d(b)",
 		"yzb":       "capture for u = (capture_yzb1(h, residual(u), grad(u), 1/100, 1/10000) + capture_yzb2(1, h, residual(u), 1/10000))/2",
 	}
 	for name, line := range variants {
@@ -380,7 +380,7 @@ func TestSkewFrontCaptureSweep(t *testing.T) {
 		{"7/10", "1/10", "1/1000", "tri", layerStats{over: 0.062, under: 0.001, width: 6.52, newton: 7}},
 		{"7/10", "1/1000", "1/100000", "tri", layerStats{over: 0.061, under: 0.001, width: 6.52, newton: 8}},
 	} {
-		line := "capture for u = capture_codina(" + c.c + ", norm(b), epsilon, h, residual(u), grad(u), " + c.eps + ", " + c.epsR + ")"
+		line := "capture for u = capture_codina(" + c.c + ", norm(b), kappa, h, residual(u), grad(u), " + c.eps + ", " + c.epsR + ")"
 		m := checkText(t, "sweep.fw", replaceCapture(t, string(raw), line))
 		msh, err := mesh.Load("span:0,1,0,1:64x64:" + c.pattern)
 		if err != nil {

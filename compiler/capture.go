@@ -278,3 +278,16 @@ func lagCapture(pm *Model, pl *PicardLinearisation) {
 	pm.Capture = lagged
 	pl.Notes = append(pl.Notes, newNote(Assumption, `the discontinuity-capturing diffusivity is evaluated at the previous iterate, $\kappa_{\mathrm{dc}}(u^{n-1})$, so the capture term is linear in $u$`))
 }
+
+// onlyCaptureNonlinear reports whether a nonlinear model is nonlinear only
+// through its capture diffusivities: its operator and τ are linear in the
+// unknowns.
+func onlyCaptureNonlinear(m *Model) bool {
+	if !m.HasCapture() {
+		return false
+	}
+	saved := m.Capture
+	m.Capture = nil
+	defer func() { m.Capture = saved }()
+	return !m.Nonlinear()
+}

@@ -341,7 +341,11 @@ func readsNormOfState(m *Model) bool {
 func linearisationNotes(m *Model, lin *Linearisation) []Note {
 	var notes []Note
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
-	add(Assumption, `the operator is nonlinear in the unknowns: the discrete problem is the residual form $F(u; v) = 0$, solved by Newton's method with the Jacobian $J(u; \delta u, v) = \mathrm{d}/\mathrm{d}\varepsilon\,F(u + \varepsilon\delta u; v)|_{\varepsilon=0}$ (Dennis \& Schnabel 1983); the linearised operator $L'(u)\delta u = \mathrm{d}/\mathrm{d}\varepsilon\,L(u + \varepsilon\delta u)|_{\varepsilon=0}$ is the Gateaux derivative, computed symbolically`)
+	what := `the operator is nonlinear in the unknowns`
+	if onlyCaptureNonlinear(m) {
+		what = `the operator is linear, but the discontinuity-capturing diffusivity reads the unknowns`
+	}
+	add(Assumption, `%s: the discrete problem is the residual form $F(u; v) = 0$, solved by Newton's method with the Jacobian $J(u; \delta u, v) = \mathrm{d}/\mathrm{d}\varepsilon\,F(u + \varepsilon\delta u; v)|_{\varepsilon=0}$ (Dennis \& Schnabel 1983); the linearised operator $L'(u)\delta u = \mathrm{d}/\mathrm{d}\varepsilon\,L(u + \varepsilon\delta u)|_{\varepsilon=0}$ is the Gateaux derivative, computed symbolically`, what)
 	for k, a := range lin.Advection {
 		if a != nil && ir.HasRole(a, ir.Trial) {
 			add(Assumption, `the advective velocity of the equation for $%s$ is read off the first-order part of $L'$: it depends on the unknowns, so SUPG, GLS and VMS advect the test function with it at $u_h$`, tn(m.Unknowns[m.Equations[k].For].Name))
