@@ -279,15 +279,20 @@ func lagCapture(pm *Model, pl *PicardLinearisation) {
 	pl.Notes = append(pl.Notes, newNote(Assumption, `the discontinuity-capturing diffusivity is evaluated at the previous iterate, $\kappa_{\mathrm{dc}}(u^{n-1})$, so the capture term is linear in $u$`))
 }
 
-// onlyCaptureNonlinear reports whether a nonlinear model is nonlinear only
-// through its capture diffusivities: its operator and τ are linear in the
+// captureReadsState reports whether a capture diffusivity reads the
+// unknowns (its residual or gradient), which makes the problem nonlinear.
+func (m *Model) captureReadsState() bool {
+	for _, c := range m.Capture {
+		if c != nil && ir.HasRole(c, ir.Trial) {
+			return true
+		}
+	}
+	return false
+}
+
+// onlyCaptureNonlinear reports whether a model is nonlinear only through
+// its capture diffusivities: its operator and τ are linear in the
 // unknowns.
 func onlyCaptureNonlinear(m *Model) bool {
-	if !m.HasCapture() {
-		return false
-	}
-	saved := m.Capture
-	m.Capture = nil
-	defer func() { m.Capture = saved }()
-	return !m.Nonlinear()
+	return m.captureReadsState() && !m.operatorNonlinear()
 }

@@ -251,6 +251,7 @@ func (c *checker) checkTimeStep() {
 		uses = append(uses, cf.Def)
 	}
 	uses = append(uses, m.Tau...)
+	uses = append(uses, m.Capture...)
 	for _, e := range uses {
 		if at := firstUse(e); at != nil {
 			p := at.Pos()

@@ -13,6 +13,12 @@ import (
 // previous(u) is a known field, so a model that lags its nonlinearity
 // with it is linear.
 func (m *Model) Nonlinear() bool {
+	return m.operatorNonlinear() || m.captureReadsState()
+}
+
+// operatorNonlinear reports whether an operator term or a τ is nonlinear
+// in the unknowns (Nonlinear without the capture diffusivities).
+func (m *Model) operatorNonlinear() bool {
 	for _, eq := range m.Equations {
 		for _, t := range additiveTerms(eq.Written) {
 			if deg, bad := trialDegree(t); bad != nil || deg > 1 {
@@ -22,13 +28,6 @@ func (m *Model) Nonlinear() bool {
 	}
 	for _, tau := range m.Tau {
 		if tau != nil && ir.HasRole(tau, ir.Trial) {
-			return true
-		}
-	}
-	// A discontinuity-capturing diffusivity that reads the solution (its
-	// residual or gradient) makes the problem nonlinear.
-	for _, c := range m.Capture {
-		if c != nil && ir.HasRole(c, ir.Trial) {
 			return true
 		}
 	}
