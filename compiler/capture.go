@@ -14,8 +14,10 @@ import (
 // oscillations of the Galerkin method but still over- and undershoots near
 // sharp interior and boundary layers. A discontinuity-capturing (DC) term
 // adds, inside each cell, a diffusivity that is proportional to the local
-// residual and so vanishes with it: it is consistent, but nonlinear, since
-// it reads the discrete solution. The model states the diffusivity,
+// residual and so vanishes with it: it is consistent (up to the
+// regularisation floor, and on P1 up to the second-order part the residual
+// loses inside each cell), but nonlinear, since it reads the discrete
+// solution. The model states the diffusivity,
 //
 //	capture for U = EXPR
 //
@@ -29,10 +31,13 @@ import (
 // model, derives it, and linearises it for Newton's method exactly: the
 // Jacobian holds Σ_K (κ_dc ∇δu + δκ_dc ∇u, ∇v)_K with δκ_dc the Gateaux
 // derivative of the definition, residual included. The library module
-// capture (stdlib/modules/capture.fw) has the published diffusivities,
-// with the smooth regularisation that lets Newton's method converge.
+// capturing (stdlib/modules/capturing.fw) has the published
+// diffusivities, with the smooth regularisation that lets Newton's method
+// converge. A Picard model (PicardModel) lags κ_dc at the previous
+// iterate; solve takes one such step before Newton's method.
 //
-// References (formulas recalled from memory, as written in the module):
+// References (formulas, and the titles below, recalled from memory, as
+// written in the module):
 // R. Codina, A discontinuity-capturing crosswind-dissipation for the
 // finite element solution of the convection-diffusion equation, Comput.
 // Methods Appl. Mech. Engrg. 110 (1993) 325–342; T.E. Tezduyar & Y.J. Park,
