@@ -9,6 +9,7 @@ import (
 	_ "github.com/formwright/formwright/examples/hairpin_dye/kernels"
 	_ "github.com/formwright/formwright/examples/river_outfall_layer/kernels"
 	_ "github.com/formwright/formwright/examples/seep_cell_stokes/kernels"
+	_ "github.com/formwright/formwright/examples/skew_front/kernels"
 	_ "github.com/formwright/formwright/stdlib/kernels"
 	_ "github.com/formwright/formwright/stdlib/kernels/local"
 )

@@ -30,7 +30,7 @@ type CheckOptions struct {
 // builtinNames lists every name the language defines, for "did you mean".
 var builtinNames = []string{"grad", "div", "lap", "laplacian", "partial", "dot", "ddot", "outer",
 	"norm", "pow", "test", "previous", "increment", "sin", "cos", "tan", "exp", "log", "sqrt", "abs", "tanh", "sinh",
-	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "diam", "meas", "G", "inverse_estimate", "time_step"}
+	"cosh", "coth", "min", "max", "sign", "pi", "x", "y", "z", "t", "diam", "meas", "G", "inverse_estimate", "time_step", "residual"}
 
 // retiredNames are spellings of earlier versions of the language, with
 // what to write instead.
@@ -81,7 +81,9 @@ type checker struct {
 	partNames []string
 	// Expression context.
 	allowTest bool
-	params    map[string]ir.Expr
+	// residualFor allows residual(U) (in a capture statement).
+	residualFor bool
+	params      map[string]ir.Expr
 	// expansions shares the expansion of a formula among calls with the
 	// same arguments, so a chain of formulas that each call the previous
 	// one twice stays linear in size (a DAG, not a tree).
@@ -117,6 +119,7 @@ func Check(f *lang.File, opts CheckOptions) (*Model, source.ErrorList) {
 	c.checkMeans(f)
 	c.checkQuadrature(f)
 	c.checkStabilisation(f)
+	c.checkCapture(f)
 	c.checkTimeStep()
 	if len(c.errs) == 0 {
 		c.checkFinite()
@@ -251,6 +254,7 @@ func (c *checker) checkTimeStep() {
 		uses = append(uses, cf.Def)
 	}
 	uses = append(uses, m.Tau...)
+	uses = append(uses, m.Capture...)
 	for _, e := range uses {
 		if at := firstUse(e); at != nil {
 			p := at.Pos()
@@ -949,6 +953,8 @@ func (c *checker) call(e *lang.Call) ir.Expr {
 		return c.expandFormula(e, fm)
 	}
 	switch e.Func {
+	case "residual":
+		return c.residualCall(e)
 	case "test", "previous", "increment":
 		if !nargs(1) {
 			return nil
@@ -1224,6 +1230,11 @@ func (m *Model) ParseExpr(name, src string) (ir.Expr, source.ErrorList) {
 	}
 	for _, fs := range m.FineSym {
 		c.params[fs.Name] = fs
+	}
+	for _, cs := range m.CaptureSym {
+		if cs != nil {
+			c.params[cs.Name] = cs
+		}
 	}
 	e := c.expr(g.Value)
 	for _, er := range c.errs {

@@ -67,6 +67,8 @@ type MethodForm struct {
 	Fine    []*FineScale
 	Cross   ir.Expr
 	Dropped []ir.Expr
+	// Capture holds the discontinuity-capturing terms (capture.go).
+	Capture []CaptureTerm
 	// Jacobian is the derivative of the method's residual form, for a
 	// nonlinear model (nil for a linear one).
 	Jacobian *JacobianForm
@@ -165,6 +167,8 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 				}
 			}
 			f.Notes = append(stabNotes(m, meth, d, &f), expNotes...)
+			f.Capture = captureTerms(m, meth)
+			f.Notes = append(f.Notes, captureNotes(m, &f)...)
 		}
 		if nonlinear {
 			if f.Jacobian, err = deriveJacobian(m, d, &f, opts.Jacobian); err != nil {

@@ -62,6 +62,9 @@ func (c *checker) checkFinite() {
 	for _, t := range c.m.Tau {
 		check(t)
 	}
+	for _, t := range c.m.Capture {
+		check(t)
+	}
 	for _, mc := range c.m.Means {
 		check(mc.Value)
 	}

@@ -40,6 +40,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 	if form.Cross != nil {
 		cell = append(cell, form.Cross)
 	}
+	if c := captureIntegrand(m, form.Capture); c != nil {
+		cell = append(cell, c)
+	}
 	lf := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}
 	for _, u := range m.Unknowns {
 		lf.Unknowns = append(lf.Unknowns, ir.LoweredUnknown{Name: u.Name, Rank: u.Rank, Element: u.Element, Constraint: m.IsConstraint(u.Index)})
@@ -366,6 +369,18 @@ func (l *lowerer) sym(s *ir.Sym) []ir.Expr {
 			}
 		}
 		panic("compiler: lower: unknown tau " + s.Name)
+	case ir.Capture:
+		key := "c:" + s.Name
+		if c, ok := l.memo[key]; ok {
+			return c
+		}
+		def := l.m.captureDefinition(s)
+		if def == nil {
+			panic("compiler: lower: unknown capture diffusivity " + s.Name)
+		}
+		c := l.named(s, l.Lower(def))
+		l.memo[key] = c
+		return c
 	case ir.CellQuantity:
 		if s.Q == ir.InverseEstimate {
 			// A constant of the elements, not of the cell: lowered to its

@@ -126,6 +126,12 @@ type Model struct {
 	// given); TauSym the symbol that stands for it in derived forms.
 	Tau    []ir.Expr
 	TauSym []*ir.Sym
+	// Capture holds the discontinuity-capturing diffusivity of each
+	// equation (nil where none is given; "capture for U = ..."), with the
+	// residual of the equation substituted; CaptureSym the symbol that
+	// stands for it in derived forms (see capture.go).
+	Capture    []ir.Expr
+	CaptureSym []*ir.Sym
 	// FineSym holds the fine-scale velocity symbols of the last VMS
 	// derivation (FineScale), so that ParseExpr reads derived forms back.
 	FineSym []*ir.Sym

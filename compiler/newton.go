@@ -13,6 +13,12 @@ import (
 // previous(u) is a known field, so a model that lags its nonlinearity
 // with it is linear.
 func (m *Model) Nonlinear() bool {
+	return m.operatorNonlinear() || m.captureReadsState()
+}
+
+// operatorNonlinear reports whether an operator term or a τ is nonlinear
+// in the unknowns (Nonlinear without the capture diffusivities).
+func (m *Model) operatorNonlinear() bool {
 	for _, eq := range m.Equations {
 		for _, t := range additiveTerms(eq.Written) {
 			if deg, bad := trialDegree(t); bad != nil || deg > 1 {
@@ -127,6 +133,9 @@ type JacobianForm struct {
 	Boundary []BoundaryPart
 	Stab     []StabJacobian
 	Fine     ir.Expr // derivative of MethodForm.Cross (nil when none)
+	// Capture is the derivative of the discontinuity-capturing terms,
+	// Σ_K (κ_dc ∇δu + δκ_dc ∇u, ∇v)_K (nil when none).
+	Capture ir.Expr
 	// Defs are the Gateaux symbols the terms use: δτ and δu′.
 	Defs []*Definition
 	// Approximations says where J differs from the exact derivative of F
@@ -144,6 +153,9 @@ func (j *JacobianForm) CellIntegrand(dim int) ir.Expr {
 	}
 	if j.Fine != nil {
 		parts = append(parts, j.Fine)
+	}
+	if j.Capture != nil {
+		parts = append(parts, j.Capture)
 	}
 	return Simplify(ir.Sum(p, parts...), dim)
 }
@@ -209,6 +221,16 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 				return nil
 			}
 			return define(s, dd)
+		case ir.Capture:
+			def := m.captureDefinition(s)
+			if def == nil {
+				return nil
+			}
+			dd := Simplify(gateaux(def, full), m.Dim)
+			if ir.IsZero(dd) {
+				return nil
+			}
+			return define(s, dd)
 		}
 		return nil
 	}}
@@ -247,6 +269,7 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 			j.Fine = fv
 		}
 	}
+	j.Capture = captureJacobian(m, f.Capture, full)
 	// Keep the definitions the terms use, directly or through another one.
 	used := map[string]bool{}
 	var mark func(e ir.Expr)
@@ -264,6 +287,7 @@ func deriveJacobian(m *Model, d *Derivation, f *MethodForm, opts JacobianOptions
 	}
 	mark(j.Galerkin)
 	mark(j.Fine)
+	mark(j.Capture)
 	for _, b := range j.Boundary {
 		mark(b.Integrand)
 	}
@@ -316,7 +340,11 @@ func readsNormOfState(m *Model) bool {
 func linearisationNotes(m *Model, lin *Linearisation) []Note {
 	var notes []Note
 	add := func(k NoteKind, f string, a ...any) { notes = append(notes, newNote(k, f, a...)) }
-	add(Assumption, `the operator is nonlinear in the unknowns: the discrete problem is the residual form $F(u; v) = 0$, solved by Newton's method with the Jacobian $J(u; \delta u, v) = \mathrm{d}/\mathrm{d}\varepsilon\,F(u + \varepsilon\delta u; v)|_{\varepsilon=0}$ (Dennis \& Schnabel 1983); the linearised operator $L'(u)\delta u = \mathrm{d}/\mathrm{d}\varepsilon\,L(u + \varepsilon\delta u)|_{\varepsilon=0}$ is the Gateaux derivative, computed symbolically`)
+	what := `the operator is nonlinear in the unknowns`
+	if onlyCaptureNonlinear(m) {
+		what = `the operator is linear, but the discontinuity-capturing diffusivity reads the unknowns`
+	}
+	add(Assumption, `%s: the discrete problem is the residual form $F(u; v) = 0$, solved by Newton's method with the Jacobian $J(u; \delta u, v) = \mathrm{d}/\mathrm{d}\varepsilon\,F(u + \varepsilon\delta u; v)|_{\varepsilon=0}$ (Dennis \& Schnabel 1983); the linearised operator $L'(u)\delta u = \mathrm{d}/\mathrm{d}\varepsilon\,L(u + \varepsilon\delta u)|_{\varepsilon=0}$ is the Gateaux derivative, computed symbolically`, what)
 	for k, a := range lin.Advection {
 		if a != nil && ir.HasRole(a, ir.Trial) {
 			add(Assumption, `the advective velocity of the equation for $%s$ is read off the first-order part of $L'$: it depends on the unknowns, so SUPG, GLS and VMS advect the test function with it at $u_h$`, tn(m.Unknowns[m.Equations[k].For].Name))
@@ -358,6 +386,9 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 	}
 	if form.Cross != nil {
 		residual = append(residual, form.Cross)
+	}
+	if c := captureIntegrand(m, form.Capture); c != nil {
+		residual = append(residual, c)
 	}
 	j := form.Jacobian
 	step := &ir.LoweredForm{Method: meth.String(), Dim: m.Dim}

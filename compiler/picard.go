@@ -71,6 +71,7 @@ func Picard(m *Model) (*PicardLinearisation, error) {
 		}
 	}
 	pm.FineSym = nil
+	lagCapture(&pm, pl)
 	pl.Model = &pm
 	pl.Notes = []Note{newNote(Assumption, `Picard linearisation (a second choice): in each term where the unknowns appear more than once, the occurrence under the most derivatives stays implicit and the others take the previous iterate ($u^n$ counts as $u^{n-1} u$); a term with the unknown only inside a function is lagged whole and moves to the source; $\tau$ is evaluated at the previous iterate. The iteration converges linearly at best, Newton's method quadratically`)}
 	return pl, nil

@@ -31,7 +31,7 @@ type File struct {
 
 // Stmt is one statement. The concrete types are *ModelStmt, *DimensionStmt,
 // *SidesStmt, *UseStmt, *UnknownStmt, *GivenStmt, *FormulaStmt,
-// *EquationStmt, *BoundaryStmt, *StabiliseStmt, *TauStmt, *MeanStmt,
+// *EquationStmt, *BoundaryStmt, *StabiliseStmt, *TauStmt, *CaptureStmt, *MeanStmt,
 // *QuadratureStmt and *PartStmt.
 type Stmt interface {
 	Node
@@ -118,6 +118,16 @@ type TauStmt struct {
 	Value Expr
 }
 
+// CaptureStmt is "capture for NAME = EXPR": a discontinuity-capturing
+// diffusivity for the equation of unknown NAME, which the compiler adds to
+// every stabilised form of that equation as Σ_K (κ_dc ∇u, ∇v)_K. EXPR may
+// read residual(NAME), the residual of the equation.
+type CaptureStmt struct {
+	source.Span
+	For   Name
+	Value Expr
+}
+
 // QuadratureStmt is "quadrature INT": the degree of the quadrature rules
 // of every integral of the model, instead of the automatic choice.
 type QuadratureStmt struct {
@@ -194,6 +204,7 @@ func (*EquationStmt) stmtNode()   {}
 func (*BoundaryStmt) stmtNode()   {}
 func (*StabiliseStmt) stmtNode()  {}
 func (*TauStmt) stmtNode()        {}
+func (*CaptureStmt) stmtNode()    {}
 
 // Expr is an expression. The concrete types are *Number, *Ident, *Call,
 // *Binary, *Unary, *Index and *List.
@@ -292,6 +303,8 @@ func Inspect(n any, f func(Node) bool) {
 	case *BoundaryStmt:
 		Inspect(n.Value, f)
 	case *TauStmt:
+		Inspect(n.Value, f)
+	case *CaptureStmt:
 		Inspect(n.Value, f)
 	case *MeanStmt:
 		Inspect(n.Value, f)

@@ -33,9 +33,10 @@
 //	mean NAME = EXPR                           the mean of an unknown over the domain
 //	quadrature INT                             the degree of every quadrature rule
 //	part NAME = SET                            a boundary part, named in conditions like a side
+//	capture for NAME = EXPR                    discontinuity-capturing diffusivity
 //
 // The reserved words are model dimension sides use unknown scalar vector
-// given formula equation for at flux stabilise tau mean quadrature part. They cannot be used as
+// given formula equation for at flux stabilise tau mean quadrature part capture. They cannot be used as
 // names, except that a module name after "use" may be "tau" (the standard
 // library module of stabilisation parameters). Every other word, including
 // grad, div, lap, partial, dot, diam, sin and exp, is an ordinary identifier; the

@@ -37,6 +37,7 @@ type statement struct {
 	Mean        *meanDecl       `parser:"| @@"`
 	Quadrature  *quadratureDecl `parser:"| @@"`
 	Part        *partDecl       `parser:"| @@"`
+	Capture     *captureDecl    `parser:"| @@"`
 }
 
 type name struct {
@@ -118,6 +119,14 @@ type stabiliseDecl struct {
 type tauDecl struct {
 	Pos, EndPos lexer.Position
 	For         *name `parser:"\"tau\" \"for\" @@ \"=\""`
+	Value       *sum  `parser:"@@"`
+}
+
+// captureDecl is "capture for NAME = EXPR": the discontinuity-capturing
+// diffusivity added to the stabilised forms of NAME's equation.
+type captureDecl struct {
+	Pos, EndPos lexer.Position
+	For         *name `parser:"\"capture\" \"for\" @@ \"=\""`
 	Value       *sum  `parser:"@@"`
 }
 

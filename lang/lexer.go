@@ -10,7 +10,7 @@ import (
 var Keywords = []string{
 	"model", "dimension", "sides", "use", "unknown", "scalar", "vector",
 	"given", "formula", "equation", "for", "at", "flux", "stabilise", "tau",
-	"mean", "quadrature", "part",
+	"mean", "quadrature", "part", "capture",
 }
 
 // stmtKeywords are the keywords that begin a statement. "tau" begins a
@@ -20,6 +20,7 @@ var stmtKeywords = map[string]bool{
 	"unknown": true, "given": true, "formula": true, "equation": true,
 	"at": true, "stabilise": true, "tau": true, "mean": true, "quadrature": true,
 	"part": true,
+	"capture": true,
 }
 
 // IsKeyword reports whether s is a reserved word.
@@ -42,7 +43,7 @@ func IsKeyword(s string) bool {
 var modelLexer = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "Whitespace", Pattern: `[ \t\r\n]+`},
 	{Name: "Comment", Pattern: `#[^\n]*`},
-	{Name: "Keyword", Pattern: `(?:model|dimension|sides|use|unknown|scalar|vector|given|formula|equation|for|at|flux|stabilise|tau|mean|quadrature|part)\b`},
+	{Name: "Keyword", Pattern: `(?:model|dimension|sides|use|unknown|scalar|vector|given|formula|equation|for|at|flux|stabilise|tau|mean|quadrature|part|capture)\b`},
 	{Name: "Ident", Pattern: `[A-Za-z_][A-Za-z0-9_]*`},
 	{Name: "Number", Pattern: `\.?[0-9](?:[eE][+-]|[0-9A-Za-z_.])*`},
 	{Name: "Punct", Pattern: `<=|>=|[-+*/^.,:=()\[\]{}<>]`},

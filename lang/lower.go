@@ -75,6 +75,8 @@ func (lw *lowerer) stmt(s *statement) Stmt {
 		out = &StabiliseStmt{Span: sp, Methods: lowerNames(s.Stabilise.Methods)}
 	case s.Tau != nil:
 		out = &TauStmt{Span: sp, For: lowerName(s.Tau.For), Value: lw.sum(s.Tau.Value)}
+	case s.Capture != nil:
+		out = &CaptureStmt{Span: sp, For: lowerName(s.Capture.For), Value: lw.sum(s.Capture.Value)}
 	case s.Mean != nil:
 		out = &MeanStmt{Span: sp, Target: lowerName(s.Mean.Target), Value: lw.sum(s.Mean.Value)}
 	case s.Quadrature != nil:

@@ -682,7 +682,7 @@ func orList(items []string) string {
 }
 
 func stmtKeywordList() []string {
-	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "part", "stabilise", "tau", "mean", "quadrature"}
+	return []string{"model", "dimension", "sides", "use", "unknown", "given", "formula", "equation", "at", "part", "stabilise", "tau", "mean", "quadrature", "capture"}
 }
 
 // cleanMessage rewrites a participle message we have no better wording for:

@@ -139,6 +139,8 @@ func StmtString(s Stmt) string {
 		return "stabilise " + joinNames(s.Methods)
 	case *TauStmt:
 		return fmt.Sprintf("tau for %s = %s", s.For.Text, ExprString(s.Value))
+	case *CaptureStmt:
+		return fmt.Sprintf("capture for %s = %s", s.For.Text, ExprString(s.Value))
 	case *MeanStmt:
 		return fmt.Sprintf("mean %s = %s", s.Target.Text, ExprString(s.Value))
 	case *QuadratureStmt:

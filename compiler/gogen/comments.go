@@ -32,7 +32,9 @@ import (
 // Galerkin form and of the stabilisation; its additive parts are
 // attributed by the quantities they contain: a part with a τ belongs to
 // the stabilisation term of that τ, one with a fine-scale velocity but no
-// τ to the VMS cross-stress terms, the rest to the Galerkin form.
+// τ to the VMS cross-stress terms, one with a discontinuity-capturing
+// diffusivity (or its Gateaux derivative) to the capture terms, the rest
+// to the Galerkin form.
 
 // Derived is the derived form of one method as the derivation prints it
 // (formwright derive). Its texts head the term lists of the generated
@@ -89,19 +91,27 @@ func (c *commenter) title() string {
 
 // category is the method term a lowered term part belongs to.
 type category struct {
-	kind int    // 0 Galerkin, 1 a stabilisation term, 2 cross-stress
+	kind int    // 0 Galerkin, 1 a stabilisation term, 2 cross-stress, 3 discontinuity capturing
 	tau  string // the τ's model name (kind 1)
 }
 
 // classify attributes a part of a lowered coefficient (see above).
 func classify(e ir.Expr) (category, *ir.Named) {
-	var tau, fine *ir.Named
+	var tau, fine, capture *ir.Named
 	ir.Inspect(e, func(x ir.Expr) bool {
 		n, ok := x.(*ir.Named)
 		if !ok {
 			return true
 		}
 		switch n.Sym.Kind {
+		case ir.Capture:
+			if capture == nil {
+				capture = n
+			}
+		case ir.Gateaux:
+			if n.Sym.Of != nil && n.Sym.Of.Kind == ir.Capture && capture == nil {
+				capture = n
+			}
 		case ir.Tau:
 			if tau == nil {
 				tau = n
@@ -118,6 +128,8 @@ func classify(e ir.Expr) (category, *ir.Named) {
 		return category{1, tau.Sym.Name}, tau
 	case fine != nil:
 		return category{kind: 2}, fine
+	case capture != nil:
+		return category{kind: 3}, capture
 	}
 	return category{}, nil
 }
@@ -171,7 +183,7 @@ func (c *commenter) blockComment(head string, groups []*group, side string) []st
 	}
 	// Galerkin first, then the stabilisation terms in order of appearance.
 	var ordered []*section
-	for _, k := range []int{0, 1, 2} {
+	for _, k := range []int{0, 1, 2, 3} {
 		for _, s := range secs {
 			if s.cat.kind == k {
 				ordered = append(ordered, s)
@@ -210,6 +222,9 @@ func (c *commenter) heading(cat category, named *ir.Named, side string) entry {
 			text = d.Cross
 		}
 		return entry{text: "VMS cross-stress: " + sanitize(text)}
+	case 3:
+		// The capture terms of capture.go in the compiler.
+		return entry{text: "discontinuity capturing: + Σ_K (κ_dc ∇u, ∇v)_K and its derivative"}
 	}
 	if side != "" {
 		text := "boundary integral on side " + quoteText(side)

@@ -178,6 +178,10 @@ tau for u = tau_shakib(norm(a), k, h, time_step)
 		// Mixed elements (Taylor–Hood P2/P1 and Q2/Q1), unrolled and in loops.
 		modelCase{"stokesth", "stokes_p2p1.fw", strings.NewReplacer("vector Q1", "vector P2", "scalar Q1", "scalar P1").Replace(stokesQ1), 0},
 		modelCase{"stokesq2q1", "stokes_q2q1_loops.fw", strings.NewReplacer("vector Q1", "vector Q2").Replace(stokesQ1), 1},
+		// Discontinuity capturing (the Newton step: κ_dc and δκ_dc read
+		// the iterate), isotropic on P1 and crosswind (a tensor) on Q1.
+		modelCase{"capture", "capture.fw", captureModel("P1", ""), 0},
+		modelCase{"captureq", "capture_q.fw", captureModel("Q1", "*crosswind_2d(a)"), 0},
 	)
 	return cs
 }
@@ -296,4 +300,23 @@ func lowerDerived(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, map
 	t.Helper()
 	forms, d := lowerDerivation(t, file, src)
 	return forms, derivedOf(d)
+}
+
+// captureModel is an advection-dominated model with Codina's
+// discontinuity-capturing diffusivity (stdlib module capturing), times
+// tensor (e.g. the crosswind projection) when it is not empty.
+func captureModel(elem, tensor string) string {
+	return `model capture_case
+dimension 2
+use tau, capturing
+unknown c: scalar ` + elem + `
+given a = [1, 1/3]
+given kappa = 1/1000
+given h = diam(K)
+equation for c: a . grad(c) - div(kappa*grad(c)) = x
+at all: c = 0
+stabilise supg, gls, vms
+tau for c = tau_doubly_asymptotic(norm(a), kappa, h)
+capture for c = capture_codina(7/10, norm(a), kappa, h, residual(c), grad(c), 1/100, 1/10000)` + tensor + `
+`
 }

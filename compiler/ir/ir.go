@@ -73,9 +73,13 @@ const (
 	// τ or fine-scale symbol Of in the direction of the Newton increment
 	// δu, with a definition that lowering substitutes.
 	Gateaux
+	// Capture is the discontinuity-capturing diffusivity of one equation
+	// ("capture for U = ..."), with a definition that lowering
+	// substitutes; it may depend on the unknowns and their residual.
+	Capture
 )
 
-var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter", "fine-scale quantity", "lagged fine-scale quantity", "gateaux derivative"}
+var symKindNames = [...]string{"coefficient", "cell quantity", "tau", "parameter", "fine-scale quantity", "lagged fine-scale quantity", "gateaux derivative", "discontinuity-capturing diffusivity"}
 
 func (k SymKind) String() string { return symKindNames[k] }
 

@@ -155,6 +155,7 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			parts = append(parts, fmt.Sprintf("+ Σ_K (%s)_K", t.e(f.Cross)))
 		}
+		parts = append(parts, t.captureParts(&f)...)
 		if d.Linear != nil {
 			t.printf("   F %s = 0\n", strings.Join(parts, " "))
 		} else {
@@ -168,6 +169,7 @@ func WriteText(w io.Writer, d *compiler.Derivation) error {
 		for _, fs := range f.Fine {
 			t.printf("   %s = %s   (%s)\n", t.e(fs.Sym), t.e(fs.Def), fineWhat(fs))
 		}
+		t.captureDefinitions(&f)
 		for _, x := range f.Dropped {
 			t.printf("   dropped: Σ_K (%s)_K\n", t.e(x))
 		}
@@ -365,6 +367,7 @@ type jsonMethod struct {
 	// Residual-based VMS turbulence modelling of a lagged convection.
 	FineScale   []jsonFine    `json:"fine_scale,omitempty"`
 	CrossStress *Expression   `json:"cross_stress,omitempty"`
+	Capture     []jsonCapt    `json:"capture,omitempty"`
 	Dropped     []*Expression `json:"dropped,omitempty"`
 	Notes       []jsonNote    `json:"notes"`
 }
@@ -451,6 +454,7 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			jm.CrossStress = jexpr(f.Cross, names)
 		}
+		jm.Capture = jsonCapture(m, &f, names)
 		for _, x := range f.Dropped {
 			jm.Dropped = append(jm.Dropped, jexpr(x, names))
 		}

@@ -279,6 +279,9 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 		if f.Cross != nil {
 			form = append(form, l.sumK(f.Cross)...)
 		}
+		for _, c := range f.Capture {
+			form = append(form, l.sumK(c.Integrand(m))...)
+		}
 		form = append(form, fixed("= "+rhs, 3))
 		rows := [][]piece{form}
 		for _, s := range f.Stab {
@@ -287,6 +290,9 @@ func WriteLaTeX(w io.Writer, d *compiler.Derivation) error {
 		}
 		for _, fs := range f.Fine {
 			rows = append(rows, row(t.e(fs.Sym), "=", l.terms(fs.Def)...))
+		}
+		for _, c := range f.Capture {
+			rows = append(rows, row(t.e(c.Kappa), "=", l.terms(compiler.Simplify(m.Capture[c.For], m.Dim))...))
 		}
 		for _, x := range f.Dropped {
 			dropped := []piece{fixed("\\text{dropped:}", 3), fixed("& \\sum_K \\bigl(", 4)}
@@ -368,6 +374,9 @@ func (l *latexWriter) jacobian(f *compiler.MethodForm, name string) {
 	}
 	if j.Fine != nil {
 		r = append(r, l.sumK(j.Fine)...)
+	}
+	if j.Capture != nil {
+		r = append(r, l.sumK(j.Capture)...)
 	}
 	rows := [][]piece{r}
 	for _, g := range j.Defs {

@@ -69,6 +69,9 @@ func (t *textWriter) jacobian(f *compiler.MethodForm, name string) {
 	if j.Fine != nil {
 		t.printf("\n         + Σ_K (%s)_K", t.e(j.Fine))
 	}
+	if j.Capture != nil {
+		t.printf("\n         + Σ_K (%s)_K", t.e(j.Capture))
+	}
 	t.printf("\n")
 	for _, g := range j.Defs {
 		t.printf("     %s = %s\n", t.e(g.Sym), t.e(g.Def))
@@ -114,6 +117,7 @@ type jsonJacobian struct {
 	Boundary       []jsonBoundary `json:"boundary"`
 	Terms          []jsonStabJac  `json:"terms"`
 	Fine           *Expression    `json:"fine_scale_terms,omitempty"`
+	Capture        *Expression    `json:"capture_terms,omitempty"`
 	Definitions    []jsonDef      `json:"definitions"`
 	Approximations []string       `json:"approximations"`
 	Notes          []jsonNote     `json:"notes"`
@@ -160,7 +164,7 @@ func jsonOfNonlinear(d *compiler.Derivation) *jsonNonlinear {
 			continue
 		}
 		jj := jsonJacobian{Method: f.Method.String(), Cell: jexpr(j.CellIntegrand(m.Dim), names), Boundary: []jsonBoundary{}, Terms: []jsonStabJac{},
-			Fine: jexpr(j.Fine, names), Definitions: []jsonDef{}, Approximations: noteTexts(j.Approximations), Notes: jnotes(j.Notes)}
+			Fine: jexpr(j.Fine, names), Capture: jexpr(j.Capture, names), Definitions: []jsonDef{}, Approximations: noteTexts(j.Approximations), Notes: jnotes(j.Notes)}
 		for _, b := range j.Boundary {
 			jj.Boundary = append(jj.Boundary, jsonBoundary{b.Side, jexpr(b.Integrand, names)})
 		}

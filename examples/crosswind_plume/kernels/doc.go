@@ -4,3 +4,4 @@
 package kernels
 
 //go:generate go run ../../.. gen ../model.fw -o . --package kernels --method all
+//go:generate go run ../../.. gen ../capture.fw -o . --package kernels --method supg
