@@ -29,6 +29,10 @@ type PartDef struct {
 	Pos source.Pos
 }
 
+// SetTeX writes the part's set in the markup of notes (a LaTeX subset;
+// notation.Plain reads it as Unicode text).
+func (p *PartDef) SetTeX() string { return partTeX(p.Set) }
+
 // Part returns the part the model defines under name, or nil.
 func (m *Model) Part(name string) *PartDef {
 	for _, p := range m.Parts {

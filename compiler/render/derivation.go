@@ -316,6 +316,7 @@ type jsonDerivation struct {
 	Notes      []jsonNote      `json:"notes"`
 	Boundaries []jsonCondition `json:"boundary_conditions"`
 	Means      []jsonRow       `json:"mean_conditions"`
+	Parts      []jsonPart      `json:"parts"`
 	// Nonlinear holds the stages of a nonlinear model (absent for a
 	// linear one).
 	Nonlinear *jsonNonlinear `json:"nonlinear,omitempty"`
@@ -385,6 +386,14 @@ type jsonStab struct {
 	Residual     *Expression `json:"residual"`
 	TestOperator *Expression `json:"test_operator"`
 	Integrand    *Expression `json:"integrand"`
+}
+
+// jsonPart is a boundary part the model defines: its set of facets in
+// Unicode and in LaTeX.
+type jsonPart struct {
+	Name string `json:"name"`
+	Text string `json:"text"`
+	TeX  string `json:"tex"`
 }
 
 type jsonNote struct {
@@ -471,6 +480,11 @@ func WriteJSON(w io.Writer, d *compiler.Derivation) error {
 		out.Boundaries = append(out.Boundaries, jsonCondition{m.Unknowns[bc.Unknown].Name, bc.Kind.String(), bc.Sides, jexpr(bc.Value, names)})
 	}
 	out.Means = []jsonRow{}
+	out.Parts = []jsonPart{}
+	for _, p := range m.Parts {
+		tex := p.SetTeX()
+		out.Parts = append(out.Parts, jsonPart{p.Name, notation.Plain("$" + tex + "$"), tex})
+	}
 	for _, mc := range m.Means {
 		out.Means = append(out.Means, jsonRow{m.Unknowns[mc.Unknown].Name, jexpr(mc.Value, names)})
 	}
