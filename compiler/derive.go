@@ -95,6 +95,9 @@ type DeriveOptions struct {
 	// Jacobian says which approximations the Jacobian of a nonlinear model
 	// makes (none by default).
 	Jacobian JacobianOptions
+	// Recovery says whether lowering reconstructs the second derivatives
+	// the residual loses on linear elements (RecoverAuto by default).
+	Recovery Recovery
 }
 
 // Derive runs every stage for the methods requested (all of the model's
@@ -166,6 +169,9 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 		if nonlinear {
 			if f.Jacobian, err = deriveJacobian(m, d, &f, opts.Jacobian); err != nil {
 				return nil, err
+			}
+			if d.recovers(meth) {
+				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $G_h$ of the iterate, and $J$ holds $G_h$ fixed there: it leaves out $\partial G_h/\partial u$, the derivative through the projection (it is not local to a cell), so near the solution Newton converges linearly, at a rate set by the size of the recovered terms`))
 			}
 			for _, g := range f.Jacobian.Defs {
 				m.FineSym = append(m.FineSym, g.Sym)
@@ -427,7 +433,14 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 				effect = `near element P\'eclet number 1 the $L^2$ rate can fall below 2 until the mesh resolves the diffusion`
 			}
 		}
-		add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174)`, lost, effect)
+		switch {
+		case d.recovers(meth):
+			add(Assumption, `on P1 the second derivatives of $u_h$ vanish inside each cell, so the strong residual would lose %s; they are reconstructed: $\partial_i\partial_j u_h \approx \frac{1}{2}(\partial_j G_{h,i} + \partial_i G_{h,j})$, with $g_h = M_L^{-1}\int_\Omega \phi\,\nabla u_h\,\mathrm{d}x$ the lumped-mass $L^2$ projection of $\nabla u_h$ onto the continuous P1 space, per component, computed from the current iterate before each assembly, so the residual is consistent to the order of the recovery (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174). A linear problem iterates until $g_h$ matches $u_h$; switch the recovery off to solve it in one step`, lost)
+		case d.Options.Recovery == RecoverAuto && m.transient():
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); the recovery of the second derivatives is not applied to time-stepped models`, lost, effect)
+		default:
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174)`, lost, effect)
+		}
 	}
 	return notes
 }

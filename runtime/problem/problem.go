@@ -286,7 +286,12 @@ type system struct {
 	A        *sparse.CSR
 	b        []float64
 	needPrev bool
-	means    []meanFix
+	// needRec says the form reads recovered second derivatives
+	// (ir.LoweredForm.ReadsRecovered): each assembly first recovers the
+	// gradient of the previous iterate into rec (RecoverGradient).
+	needRec   bool
+	rec, recW []float64
+	means     []meanFix
 	// mass, if not nil, is the old time level of a Picard-iterated time
 	// step (splitBackwardEuler): each iteration assembles the mass form
 	// with the current iterate and adds M(u_prev) uⁿ to the right-hand
@@ -368,6 +373,10 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	// Whether the form reads the previous iterate is a property of the
 	// form, whichever kernels implement it; a kernel may also say so.
 	s.needPrev = form.ReadsPrevious()
+	if form.ReadsRecovered() {
+		s.needRec = true
+		s.rec, s.recW = make([]float64, dm.NumDofs*dm.Dim), make([]float64, dm.NumDofs)
+	}
 	if p, ok := s.cellK.(previousUser); ok && p.NeedsPrevious() {
 		s.needPrev = true
 	}
@@ -603,9 +612,16 @@ func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
 	return sol
 }
 
-// assemble assembles the form into s.A and s.b, with the old time level
-// M uⁿ of a Picard-iterated time step added to the right-hand side.
+// assemble assembles the form into s.A and s.b (recovering the gradient of
+// the previous iterate first when the form reads recovered derivatives),
+// with the old time level M uⁿ of a Picard-iterated time step added to the right-hand side.
 func (s *system) assemble(in assemble.Input) error {
+	if s.needRec && in.Previous != nil {
+		if err := recoverGradientInto(s.m, s.dm, in.Previous, s.rec, s.recW); err != nil {
+			return err
+		}
+		in.Recovered = s.rec
+	}
 	if err := s.asm.Assemble(s.cellK, s.facetK, s.A, s.b, in); err != nil {
 		return err
 	}
