@@ -30,6 +30,7 @@ type nonlinearFlags struct {
 	ramp       *string
 	rampSteps  *int
 	rampScale  *string
+	recover    *bool
 	jacobian   compiler.JacobianOptions
 	methodSet  bool
 	forSolving bool
@@ -42,6 +43,7 @@ func addNonlinearFlags(fs *cmdFlags, solve bool) *nonlinearFlags {
 		maxIter:    fs.Int("max-nonlinear", 0, "nonlinear iteration limit (default 30 for newton, 50 for picard)"),
 		tol:        fs.Float64("nonlinear-tol", 0, "newton: relative residual ‖F‖/‖F₀‖ to reach (default 1e-10); picard: relative change between iterates (default 1e-8)"),
 		noSearch:   fs.Bool("no-line-search", false, "newton: take the (damped, --relax) step without the backtracking line search"),
+		recover:    fs.Bool("recover", true, "stabilised methods on P1: rebuild the second derivatives the strong residual loses from the recovered gradient of the solution (a steady linear model then iterates until the recovery settles); --recover=false keeps the plain P1 residual"),
 		forSolving: solve,
 	}
 	if solve {
@@ -51,6 +53,17 @@ func addNonlinearFlags(fs *cmdFlags, solve bool) *nonlinearFlags {
 		nl.rampScale = fs.String("ramp-scale", "linear", "spacing of the --ramp values: linear or log")
 	}
 	return nl
+}
+
+// options are the derivation options the flags ask for: the Jacobian's
+// approximations and whether the P1 residual's second derivatives are
+// recovered.
+func (nl *nonlinearFlags) options() compiler.DeriveOptions {
+	o := compiler.DeriveOptions{Jacobian: nl.jacobian}
+	if !*nl.recover {
+		o.Recovery = compiler.RecoverOff
+	}
+	return o
 }
 
 // check validates the flags and records whether --nonlinear was given.
@@ -118,16 +131,16 @@ func (nl *nonlinearFlags) lower(m *compiler.Model, meth compiler.Method) (*ir.Lo
 		if nl.methodSet && *nl.method == "newton" {
 			return nil, nil, usagef("model %s is linear in its unknowns (a lag written with previous(...) is the model's own choice): it is solved by Picard iteration where it reads previous(...); write the operator without previous(...) for Newton's method", m.Name)
 		}
-		return deriveAndLower(m, meth)
+		return deriveAndLowerWith(m, meth, nl.options())
 	}
 	if *nl.method == "picard" {
 		pm, err := compiler.PicardModel(m)
 		if err != nil {
 			return nil, nil, &usageError{err.Error()}
 		}
-		return deriveAndLower(pm, meth)
+		return deriveAndLowerWith(pm, meth, nl.options())
 	}
-	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: nl.jacobian})
+	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, nl.options())
 	if err != nil {
 		return nil, nil, &usageError{err.Error()}
 	}
@@ -150,7 +163,7 @@ func (nl *nonlinearFlags) solve(m *compiler.Model, meth compiler.Method, lf *ir.
 		if err != nil {
 			return o, &usageError{err.Error()}
 		}
-		pf, err := lowerModel(pm, meth)
+		pf, _, err := deriveAndLowerWith(pm, meth, nl.options())
 		if err != nil {
 			return o, err
 		}
