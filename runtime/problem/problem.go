@@ -289,9 +289,10 @@ type system struct {
 	// needRec says the form reads recovered second derivatives
 	// (ir.LoweredForm.ReadsRecovered): each assembly first recovers the
 	// gradient of the previous iterate into rec (RecoverGradient).
-	needRec   bool
-	rec, recW []float64
-	means     []meanFix
+	needRec bool
+	recov   *recovery
+	rec     []float64
+	means   []meanFix
 	// mass, if not nil, is the old time level of a Picard-iterated time
 	// step (splitBackwardEuler): each iteration assembles the mass form
 	// with the current iterate and adds M(u_prev) uⁿ to the right-hand
@@ -375,7 +376,10 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	s.needPrev = form.ReadsPrevious()
 	if form.ReadsRecovered() {
 		s.needRec = true
-		s.rec, s.recW = make([]float64, dm.NumDofs*dm.Dim), make([]float64, dm.NumDofs)
+		if s.recov, err = newRecovery(m, dm); err != nil {
+			return nil, err
+		}
+		s.rec = make([]float64, dm.NumDofs*dm.Dim)
 	}
 	if p, ok := s.cellK.(previousUser); ok && p.NeedsPrevious() {
 		s.needPrev = true
@@ -617,7 +621,7 @@ func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
 // with the old time level M uⁿ of a Picard-iterated time step added to the right-hand side.
 func (s *system) assemble(in assemble.Input) error {
 	if s.needRec && in.Previous != nil {
-		if err := recoverGradientInto(s.m, s.dm, in.Previous, s.rec, s.recW); err != nil {
+		if err := s.recov.recover(in.Previous, s.rec); err != nil {
 			return err
 		}
 		in.Recovered = s.rec
