@@ -171,7 +171,7 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 				return nil, err
 			}
 			if d.recovers(meth) {
-				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $G_h$ of the iterate, and $J$ holds $G_h$ fixed there: it leaves out $\partial G_h/\partial u$, the derivative through the projection (it is not local to a cell), so near the solution Newton converges linearly, at a rate set by the size of the recovered terms`))
+				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $g_h$ of the iterate, and $J$ holds $g_h$ fixed there: it leaves out $\partial g_h/\partial u$, the derivative through the projection (it is not local to a cell), so near the solution Newton converges linearly, at a rate set by the size of the recovered terms`))
 			}
 			for _, g := range f.Jacobian.Defs {
 				m.FineSym = append(m.FineSym, g.Sym)
@@ -435,7 +435,7 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 		}
 		switch {
 		case d.recovers(meth):
-			add(Assumption, `on P1 the second derivatives of $u_h$ vanish inside each cell, so the strong residual would lose %s; they are reconstructed: $\partial_i\partial_j u_h \approx \frac{1}{2}(\partial_j G_{h,i} + \partial_i G_{h,j})$, with $g_h = M_L^{-1}\int_\Omega \phi\,\nabla u_h\,\mathrm{d}x$ the lumped-mass $L^2$ projection of $\nabla u_h$ onto the continuous P1 space, per component, computed from the current iterate before each assembly, so the residual is consistent to the order of the recovery (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174). A linear problem iterates until $g_h$ matches $u_h$; switch the recovery off to solve it in one step`, lost)
+			add(Assumption, `on P1 the second derivatives of $u_h$ vanish inside each cell, so the strong residual would lose %s; they are reconstructed instead: $\partial_i\partial_j u_h \approx \frac{1}{2}(\partial_j g_{h,i} + \partial_i g_{h,j})$ cell by cell, where $g_h$, continuous and P1, is the recovered gradient of $u_h$ (per component): at each interior node $a$ the lumped-mass $L^2$ projection $g_h(x_a) = \int_\Omega \varphi_a \nabla u_h\,\mathrm{d}x / \int_\Omega \varphi_a\,\mathrm{d}x$, at a boundary node the least-squares linear fit to the interior values nearby. It is computed from the current iterate before each assembly, so the residual is consistent to the order of the recovery (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174). A linear problem iterates until $g_h$ matches $u_h$; switch the recovery off to solve it in one step`, lost)
 		case d.Options.Recovery == RecoverAuto && m.transient():
 			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); the recovery of the second derivatives is not applied to time-stepped models`, lost, effect)
 		default:
