@@ -196,15 +196,15 @@ type previousStmt struct{ n int }
 // local dofs (kernel.CellInput.Recovered), zeros when the input has none.
 type recoveredStmt struct{ n int }
 
-func (commentStmt) stmtNode()  {}
-func (defStmt) stmtNode()      {}
-func (setStmt) stmtNode()      {}
-func (arrayStmt) stmtNode()    {}
-func (forStmt) stmtNode()      {}
-func (rowStmt) stmtNode()      {}
-func (guardStmt) stmtNode()    {}
-func (zeroStmt) stmtNode()     {}
-func (copyStmt) stmtNode()     {}
+func (commentStmt) stmtNode()   {}
+func (defStmt) stmtNode()       {}
+func (setStmt) stmtNode()       {}
+func (arrayStmt) stmtNode()     {}
+func (forStmt) stmtNode()       {}
+func (rowStmt) stmtNode()       {}
+func (guardStmt) stmtNode()     {}
+func (zeroStmt) stmtNode()      {}
+func (copyStmt) stmtNode()      {}
 func (previousStmt) stmtNode()  {}
 func (recoveredStmt) stmtNode() {}
 
