@@ -169,6 +169,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if engineSolve != nil {
+		// The PETSc engine's kernels are the C ones, which cannot read
+		// recovered second derivatives (gen --lang c).
+		*nl.recover = false
+	}
 	prog := newProgress(stderr, *sf.quiet)
 	defer prog.done()
 	opts, err := sf.options(prog, engineSolve == nil)

@@ -81,6 +81,11 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if engineSolve != nil {
+		// The PETSc engine's kernels are the C ones, which cannot read
+		// recovered second derivatives (gen --lang c).
+		*nl.recover = false
+	}
 	m, err := loadModel(pos[0])
 	if err != nil {
 		return err
