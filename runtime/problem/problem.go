@@ -290,7 +290,7 @@ type system struct {
 	// (ir.LoweredForm.ReadsRecovered): each assembly first recovers the
 	// gradient of the previous iterate into rec (RecoverGradient).
 	needRec bool
-	recov   *recovery
+	recov   *GradientRecovery
 	rec     []float64
 	means   []meanFix
 	// mass, if not nil, is the old time level of a Picard-iterated time
@@ -376,7 +376,7 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	s.needPrev = form.ReadsPrevious()
 	if form.ReadsRecovered() {
 		s.needRec = true
-		if s.recov, err = newRecovery(m, dm); err != nil {
+		if s.recov, err = NewGradientRecovery(m, dm); err != nil {
 			return nil, err
 		}
 		s.rec = make([]float64, dm.NumDofs*dm.Dim)
@@ -621,7 +621,7 @@ func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
 // with the old time level M uⁿ of a Picard-iterated time step added to the right-hand side.
 func (s *system) assemble(in assemble.Input) error {
 	if s.needRec && in.Previous != nil {
-		if err := s.recov.recover(in.Previous, s.rec); err != nil {
+		if err := s.recov.Recover(in.Previous, s.rec); err != nil {
 			return err
 		}
 		in.Recovered = s.rec

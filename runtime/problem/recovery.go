@@ -44,20 +44,22 @@ import (
 // meshes. Where that fit is not determined (too few interior nodes, on
 // coarse meshes) the patch average stays.
 func RecoverGradient(m *mesh.Mesh, dm *dof.Numbering, x []float64) ([]float64, error) {
-	r, err := newRecovery(m, dm)
+	r, err := NewGradientRecovery(m, dm)
 	if err != nil {
 		return nil, err
 	}
 	out := make([]float64, dm.NumDofs*dm.Dim)
-	if err := r.recover(x, out); err != nil {
+	if err := r.Recover(x, out); err != nil {
 		return nil, err
 	}
 	return out, nil
 }
 
-// recovery is the set-up of RecoverGradient on one mesh and numbering:
-// the boundary nodes' fitting weights, and scratch.
-type recovery struct {
+// GradientRecovery is the set-up of RecoverGradient on one mesh and
+// numbering (the boundary nodes' fitting weights, and scratch), for
+// recovering the gradients of many dof vectors; Solve keeps one per
+// system. Not safe for concurrent use.
+type GradientRecovery struct {
 	m      *mesh.Mesh
 	dm     *dof.Numbering
 	weight []float64 // per dof
@@ -72,7 +74,8 @@ type boundaryFit struct {
 	W    []float64
 }
 
-func newRecovery(m *mesh.Mesh, dm *dof.Numbering) (*recovery, error) {
+// NewGradientRecovery prepares RecoverGradient on m and dm.
+func NewGradientRecovery(m *mesh.Mesh, dm *dof.Numbering) (*GradientRecovery, error) {
 	if !dm.Cell.IsSimplex() {
 		return nil, fmt.Errorf("problem: gradient recovery needs linear simplices, the mesh has %v cells", dm.Cell)
 	}
@@ -81,7 +84,7 @@ func newRecovery(m *mesh.Mesh, dm *dof.Numbering) (*recovery, error) {
 			return nil, fmt.Errorf("problem: gradient recovery of %s: its element has degree %d, recovery needs linear elements", f.Name, f.Element.Degree)
 		}
 	}
-	r := &recovery{m: m, dm: dm, weight: make([]float64, dm.NumDofs)}
+	r := &GradientRecovery{m: m, dm: dm, weight: make([]float64, dm.NumDofs)}
 	if len(dm.Fields) > 0 {
 		r.fits = boundaryFits(m, dm)
 	}
@@ -232,8 +235,9 @@ func extrapolationWeights(xs []float64, d, a int, from []int32) ([]float64, bool
 	return w, true
 }
 
-// recover writes the recovered gradient of x into out (NumDofs·Dim).
-func (r *recovery) recover(x, out []float64) error {
+// Recover writes the recovered gradient of x into out (NumDofs·Dim), as
+// RecoverGradient returns it.
+func (r *GradientRecovery) Recover(x, out []float64) error {
 	m, dm := r.m, r.dm
 	d := dm.Dim
 	if len(x) != dm.NumDofs || len(out) != dm.NumDofs*d {
