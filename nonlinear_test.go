@@ -289,7 +289,12 @@ func TestNonlinearDiffusionOrders(t *testing.T) {
 // 0.6: the strong residual of P1 loses the diffusive term (the warning of
 // the derivation; Jansen, Collis, Whiting & Shakib 1999), so there only
 // L² ≥ 1.4, H¹ ≥ 0.9 for the velocity and ≥ 1 for the pressure are
-// asserted (measured 1.50, 1.01, 1.40).
+// asserted (measured 1.50, 1.01, 1.40) with the recovery of the second
+// derivatives off. With it on (the default) the errors are smaller on
+// every level, the finest velocity L² error 3.42e-3 against 5.18e-3
+// (asserted: at least 20 % smaller), but the orders are erratic: 1.84,
+// 1.93, then 1.20 on the finest pair, pressure L² 1.00 (asserted: ≥ 1.1,
+// ≥ 0.9 and ≥ 0.9, a record of that behaviour, not a target).
 func TestKovasznay(t *testing.T) {
 	if testing.Short() {
 		t.Skip("two Navier–Stokes refinement studies")
@@ -333,22 +338,28 @@ func TestKovasznay(t *testing.T) {
 		}
 	}
 	th := writeModel(t, strings.Replace(s, "unknown vel: vector P1", "unknown vel: vector P2", 1))
+	finest := map[string]float64{} // finest velocity L² error of the P1 runs
 	for _, c := range []struct {
 		path, method, levels string
 		vel                  [2]float64
 		p, tol               float64
+		recover              bool
 	}{
-		{th, "galerkin", "3", [2]float64{3, 2}, 2, 0.1},
-		{p1, "supg", "4", [2]float64{1.4, 0.9}, 1, 0},
+		{th, "galerkin", "3", [2]float64{3, 2}, 2, 0.1, true},
+		{p1, "supg", "4", [2]float64{1.4, 0.9}, 1, 0, false},
+		{p1, "supg", "4", [2]float64{1.1, 0.9}, 0.9, 0, true},
 	} {
-		args := []string{c.path, "--method", c.method, "--exact", exact, "--levels", c.levels}
+		args := []string{c.path, "--method", c.method, "--exact", exact, "--levels", c.levels, fmt.Sprintf("--recover=%v", c.recover)}
 		if c.tol == 0 {
 			args = append(args, "--check=false")
 		}
 		rep := verifyJSON(t, args...)
 		for _, tb := range rep.Methods {
 			last := tb.Levels[len(tb.Levels)-1]
-			t.Logf("%s %s %s: L² order %.2f, H¹ order %.2f (finest L² error %.3e)", tb.Method, tb.Field, tb.Element, last.OrderL2, last.OrderH1, last.L2)
+			t.Logf("%s %s %s (recovery %v): L² order %.2f, H¹ order %.2f (finest L² error %.3e)", tb.Method, tb.Field, tb.Element, c.recover, last.OrderL2, last.OrderH1, last.L2)
+			if tb.Field == "vel" && tb.Element == "P1" {
+				finest[fmt.Sprint(c.recover)] = last.L2
+			}
 			want := []float64{c.p}
 			got := []float64{last.OrderL2}
 			if tb.Field == "vel" {
@@ -364,6 +375,9 @@ func TestKovasznay(t *testing.T) {
 				}
 			}
 		}
+	}
+	if !(finest["true"] < 0.8*finest["false"]) {
+		t.Errorf("P1 SUPG finest velocity L² error with the recovery %.3e, without %.3e: want at least 20%% smaller", finest["true"], finest["false"])
 	}
 }
 
@@ -461,7 +475,9 @@ func TestCavityNewtonRe100(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
-		lf, err := lowerModel(m, meth)
+		// Without the recovery of the P1 second derivatives, whose
+		// derivative J leaves out (Newton then converges linearly).
+		lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -509,11 +525,14 @@ func TestNewtonAndPicardAgree(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
-		lf, err := lowerModel(m, meth)
+		// Without the recovery of the P1 second derivatives: the Newton
+		// iteration would converge only linearly within its limit.
+		off := compiler.DeriveOptions{Recovery: compiler.RecoverOff}
+		lf, _, err := deriveAndLowerWith(m, meth, off)
 		if err != nil {
 			t.Fatal(err)
 		}
-		pf, err := lowerModel(pm, meth)
+		pf, _, err := deriveAndLowerWith(pm, meth, off)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -559,9 +578,18 @@ func TestJacobianOfEveryModel(t *testing.T) {
 		}
 		for _, meth := range compiler.AllMethods {
 			for _, freeze := range []bool{false, true} {
-				d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}})
+				// The recovered second derivatives of P1 residuals, which J
+				// holds fixed by design, are off here (checked below).
+				d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}, Recovery: compiler.RecoverOff})
 				if err != nil {
 					t.Fatal(err)
+				}
+				if dr, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}}); err != nil {
+					t.Fatal(err)
+				} else if lr, err := dr.Lower(meth); err != nil {
+					t.Fatal(err)
+				} else if a := dr.Forms[0].Jacobian.Approximations; lr.ReadsRecovered() != (len(a) > 0 && strings.Contains(a[len(a)-1].Text, "recovered")) {
+					t.Errorf("%s %s: the form reads recovered derivatives: %v, but the approximations are %q", name, meth, lr.ReadsRecovered(), a)
 				}
 				lf, err := d.Lower(meth)
 				if err != nil {

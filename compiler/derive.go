@@ -436,6 +436,8 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 		switch {
 		case d.recovers(meth):
 			add(Assumption, `on P1 the second derivatives of $u_h$ vanish inside each cell, so the strong residual would lose %s; they are reconstructed instead: $\partial_i\partial_j u_h \approx \frac{1}{2}(\partial_j g_{h,i} + \partial_i g_{h,j})$ cell by cell, where $g_h$, continuous and P1, is the recovered gradient of $u_h$ (per component): at each interior node $a$ the lumped-mass $L^2$ projection $g_h(x_a) = \int_\Omega \varphi_a \nabla u_h\,\mathrm{d}x / \int_\Omega \varphi_a\,\mathrm{d}x$, at a boundary node the least-squares linear fit to the interior values nearby. It is computed from the current iterate before each assembly, so the residual is consistent to the order of the recovery (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174). A linear problem iterates until $g_h$ matches $u_h$; switch the recovery off to solve it in one step`, lost)
+		case d.Options.Recovery == RecoverAuto && m.Dim == 1:
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); in one dimension the second derivatives are not recovered, since with the plain residual and the optimal $\tau$ SUPG is nodally exact for constant coefficients`, lost, effect)
 		case d.Options.Recovery == RecoverAuto && m.transient():
 			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); the recovery of the second derivatives is not applied to time-stepped models`, lost, effect)
 		default:
