@@ -40,7 +40,7 @@ func addNonlinearFlags(fs *cmdFlags, solve bool) *nonlinearFlags {
 	nl := &nonlinearFlags{
 		method:     fs.String("nonlinear", "newton", "iteration for a nonlinear model: newton (the derived Jacobian, with a line search) or picard (the derived Picard linearisation)"),
 		freeze:     fs.String("freeze", "", "approximate Newton's Jacobian: tau, test (the stabilisation's test operator) or tau,test frozen at the iterate (default: the exact Jacobian)"),
-		maxIter:    fs.Int("max-nonlinear", 0, "nonlinear iteration limit (default 30 for newton, 50 for picard)"),
+		maxIter:    fs.Int("max-nonlinear", 0, "nonlinear iteration limit (default 30 for newton, 80 where the residual reads recovered second derivatives, 50 for picard)"),
 		tol:        fs.Float64("nonlinear-tol", 0, "newton: relative residual ‖F‖/‖F₀‖ to reach (default 1e-10); picard: relative change between iterates (default 1e-8)"),
 		noSearch:   fs.Bool("no-line-search", false, "newton: take the (damped, --relax) step without the backtracking line search"),
 		recover:    fs.Bool("recover", true, "stabilised methods on P1: rebuild the second derivatives the strong residual loses from the recovered gradient of the solution (a steady linear model then iterates until the recovery settles); --recover=false keeps the plain P1 residual"),

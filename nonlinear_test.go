@@ -850,3 +850,49 @@ func TestDerivedPicardIsTheHandLaggedModel(t *testing.T) {
 		}
 	}
 }
+
+// TestKovasznayRecovered: Kovasznay flow at Re 40 (Kovasznay 1948;
+// testdata/REFERENCES.md) on its usual domain (−0.5, 1) × (−0.5, 1.5), P1/P1
+// on the "quartered" pattern from 6×8 squares, three meshes. With the
+// recovered second derivatives in the residual (the default) the velocity
+// L² order on the finest pair is ≥ 1.9 for SUPG and VMS (measured 1.92,
+// 1.94; a fourth mesh gives 2.19, 2.15); with the recovery off it is
+// below 1.8 (measured 1.71, 1.72; the fourth mesh 1.87, 1.89), and the
+// finest error is at least 1.4 times larger (measured 3.8e-2 against
+// 2.5e-2 for SUPG). On the "tri" pattern the recovery also lowers the
+// errors (2.3e-3 against 3.9e-3 on 96×128 squares, SUPG) but the orders
+// stay erratic (1.79, 1.47, 1.56): not asserted here.
+func TestKovasznayRecovered(t *testing.T) {
+	if testing.Short() {
+		t.Skip("two Navier–Stokes refinement studies with linear Newton convergence")
+	}
+	_, src, _ := stdlib.Model("navier_stokes_nonlinear")
+	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
+	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n", "at all: vel = [0, 0]\n", 1)
+	l := fmt.Sprintf("(%.17g)", 20-math.Sqrt(400+4*math.Pi*math.Pi))
+	exact := "[1 - exp(" + l + "*x)*cos(2*pi*y), " + l + "/(2*pi)*exp(" + l + "*x)*sin(2*pi*y)]; -exp(2*" + l + "*x)/2"
+	path := writeModel(t, s)
+	finest := map[string]float64{}
+	for _, recover := range []bool{true, false} {
+		rep := verifyJSON(t, path, "--method", "supg,vms", "--exact", exact, "--mesh", "span:-0.5,1,-0.5,1.5:6x8:quartered", "--levels", "3", "--check=false", fmt.Sprintf("--recover=%v", recover))
+		for _, tb := range rep.Methods {
+			if tb.Field != "vel" {
+				continue
+			}
+			last := tb.Levels[len(tb.Levels)-1]
+			t.Logf("%s (recovery %v): velocity L² order %.2f on the finest pair, error %.3e", tb.Method, recover, last.OrderL2, last.L2)
+			finest[fmt.Sprint(tb.Method, recover)] = last.L2
+			if recover && last.OrderL2 < 1.9 {
+				t.Errorf("%s with the recovery: velocity L² order %.2f, want ≥ 1.9", tb.Method, last.OrderL2)
+			}
+			if !recover && last.OrderL2 >= 1.8 {
+				t.Errorf("%s without the recovery: velocity L² order %.2f, the weak consistency should show (< 1.8)", tb.Method, last.OrderL2)
+			}
+		}
+	}
+	for _, meth := range []string{"supg", "vms"} {
+		if on, off := finest[meth+"true"], finest[meth+"false"]; !(off >= 1.4*on) {
+			t.Errorf("%s: finest velocity L² error %.3e with the recovery, %.3e without: want a factor ≥ 1.4", meth, on, off)
+		}
+	}
+}
