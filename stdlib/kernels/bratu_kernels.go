@@ -29,7 +29,7 @@ func init() {
 			return BratuSUPGKernel{}
 		},
 	})
-	compiled.Register("9f721c23f593a57d42651699b5b25058", compiled.Kernels{
+	compiled.Register("307186fd89006a55c8b77a5c188ff85e", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return BratuGLSKernel{}
 		},
 	})
-	compiled.Register("1ce0376b2a6fe63d1c3757528cfcb69c", compiled.Kernels{
+	compiled.Register("eeea419714875b525a9443b8a55e9b03", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -273,23 +273,13 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:2:2]
 	}
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
-	c3 := rv[0] * rdetJ
-	c4 := rdetJ * rv[1]
-	c5 := c4 - c3 - c3 + c4
-	c6 := 0.5 * c5
-	c7 := pv[0] * rdetJ
-	c8 := pv[1] * rdetJ
+	c3 := pv[0] * rdetJ
+	c4 := pv[1] * rdetJ
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -310,60 +300,57 @@ func (BratuGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
-	rhs[0] += (-1.0)*c7 + c8
-	rhs[1] += c7 - c8
+	rhs[0] += (-1.0)*c3 + c4
+	rhs[1] += c3 - c4
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuGLSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuGLSCellBasis1Val[q][1]
 		p3 := p1 + p2
 		p4 := math.Exp(p3)
-		p5 := -p4
-		p6 := math.Abs(p4)
-		p7 := p6 * c2
-		p8 := 4.0 + p7
-		p9 := 1.0 / p8
-		tau_u := c2 * p9
-		p10 := p4 * p4
-		p11 := tau_u * p10
-		p12 := p5 - c6
-		p13 := p4 * tau_u * p12
-		p14 := fwBratuSign(p4)
-		p15 := tau_u * tau_u
-		p16 := p10 * p12 * p14 * p15
-		coef0 := p11 - p4 - p13 + p16
-		p17 := p4 * tau_u * c6
-		coef4 := p4 + p13 - p17
+		p5 := math.Abs(p4)
+		p6 := p5 * c2
+		p7 := 4.0 + p6
+		p8 := 1.0 / p7
+		tau_u := c2 * p8
+		p9 := p4 * p4
+		p10 := tau_u * p9
+		p11 := p4 * p4 * tau_u
+		p12 := fwBratuSign(p4)
+		p13 := tau_u * tau_u
+		p14 := p4 * p9 * p12 * p13
+		coef0 := p10 - p4 + p11 - p14
+		coef5 := p4 - p11
 		w := j00 * fwBratuGLSCellWeights[q]
-		p18 := coef0 * w
-		p19 := fwBratuGLSCellBasis1Val[q][0] * p18
-		p20 := fwBratuGLSCellBasis1Val[q][1] * p18
-		p21 := coef4 * w
+		p15 := coef0 * w
+		p16 := fwBratuGLSCellBasis1Val[q][0] * p15
+		p17 := fwBratuGLSCellBasis1Val[q][1] * p15
+		p18 := coef5 * w
 		// Rows 0..1, columns 0..1, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
 		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v                                   bratu.fw:15
-		//	  exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
-		//	  exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
+		//	  exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
 		//	GLS: + Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                  bratu.fw:18
 		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾)² · u · v                               bratu.fw:15
-		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · u · v  bratu.fw:15
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · u · v  bratu.fw:15
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) · ∂²u/∂x² · v                          bratu.fw:15
 		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) · u · ∂²v/∂x²                          bratu.fw:15
 		//	  τ_u · ∂²u/∂x² · ∂²v/∂x²                                 bratu.fw:18
-		acc[0] += fwBratuGLSCellBasis1Val[q][0] * p19
-		acc[1] += fwBratuGLSCellBasis1Val[q][0] * p20
-		acc[2] += fwBratuGLSCellBasis1Val[q][1] * p19
-		acc[3] += fwBratuGLSCellBasis1Val[q][1] * p20
+		acc[0] += fwBratuGLSCellBasis1Val[q][0] * p16
+		acc[1] += fwBratuGLSCellBasis1Val[q][0] * p17
+		acc[2] += fwBratuGLSCellBasis1Val[q][1] * p16
+		acc[3] += fwBratuGLSCellBasis1Val[q][1] * p17
 		// Rows 0..1 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
-		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                     bratu.fw:15
-		//	GLS: + Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K               bratu.fw:18
-		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · v  bratu.fw:15
-		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) ∂²u⁽ʳᵉᶜ⁾/∂x² · v                   bratu.fw:15
-		//	  τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
-		rhs[0] += fwBratuGLSCellBasis1Val[q][0] * p21
-		rhs[1] += fwBratuGLSCellBasis1Val[q][1] * p21
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                      bratu.fw:15
+		//	GLS: + Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                bratu.fw:18
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · v  bratu.fw:15
+		//	  τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
+		rhs[0] += fwBratuGLSCellBasis1Val[q][0] * p18
+		rhs[1] += fwBratuGLSCellBasis1Val[q][1] * p18
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -405,23 +392,13 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:2:2]
 	}
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
-	c3 := rv[0] * rdetJ
-	c4 := rdetJ * rv[1]
-	c5 := c4 - c3 - c3 + c4
-	c6 := 0.5 * c5
-	c7 := pv[0] * rdetJ
-	c8 := pv[1] * rdetJ
+	c3 := pv[0] * rdetJ
+	c4 := pv[1] * rdetJ
 	if !(j00 > 0) {
 		fwBratuFillNaN(A, b)
 		return
@@ -442,60 +419,57 @@ func (BratuVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
 	//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  bratu.fw:15
-	rhs[0] += (-1.0)*c7 + c8
-	rhs[1] += c7 - c8
+	rhs[0] += (-1.0)*c3 + c4
+	rhs[1] += c3 - c4
 	for q := 0; q < 4; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBratuVMSCellBasis1Val[q][0]
 		p2 := pv[1] * fwBratuVMSCellBasis1Val[q][1]
 		p3 := p1 + p2
 		p4 := math.Exp(p3)
-		p5 := -p4
-		p6 := math.Abs(p4)
-		p7 := p6 * c2
-		p8 := 4.0 + p7
-		p9 := 1.0 / p8
-		tau_u := c2 * p9
-		p10 := p4 * p4
-		p11 := tau_u * p10
-		p12 := p5 - c6
-		p13 := p4 * tau_u * p12
-		p14 := fwBratuSign(p4)
-		p15 := tau_u * tau_u
-		p16 := p10 * p12 * p14 * p15
-		coef0 := p13 - p4 - p11 - p16
-		p17 := p4 * tau_u * c6
-		coef4 := p4 - p13 + p17
+		p5 := math.Abs(p4)
+		p6 := p5 * c2
+		p7 := 4.0 + p6
+		p8 := 1.0 / p7
+		tau_u := c2 * p8
+		p9 := p4 * p4
+		p10 := tau_u * p9
+		p11 := p4 * p4 * tau_u
+		p12 := fwBratuSign(p4)
+		p13 := tau_u * tau_u
+		p14 := p4 * p9 * p12 * p13
+		coef0 := p14 - p4 - p10 - p11
+		coef5 := p4 + p11
 		w := j00 * fwBratuVMSCellWeights[q]
-		p18 := coef0 * w
-		p19 := fwBratuVMSCellBasis1Val[q][0] * p18
-		p20 := fwBratuVMSCellBasis1Val[q][1] * p18
-		p21 := coef4 * w
+		p15 := coef0 * w
+		p16 := fwBratuVMSCellBasis1Val[q][0] * p15
+		p17 := fwBratuVMSCellBasis1Val[q][1] * p15
+		p18 := coef5 * w
 		// Rows 0..1, columns 0..1, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
 		//	  −exp(u⁽ᵖʳᵉᵛ⁾) · u · v                                   bratu.fw:15
-		//	  −exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
-		//	  −exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾)² sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · v  bratu.fw:15
+		//	  −exp(u⁽ᵖʳᵉᵛ⁾) sign(exp(u⁽ᵖʳᵉᵛ⁾)) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²)/(|exp(u⁽ᵖʳᵉᵛ⁾)| + 4/h²)² · u · ∂²v/∂x²  bratu.fw:15
 		//	VMS: − Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                  bratu.fw:18
 		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾)² · u · v                              bratu.fw:15
-		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · u · v  bratu.fw:15
+		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · u · v  bratu.fw:15
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) · ∂²u/∂x² · v                         bratu.fw:15
 		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) · u · ∂²v/∂x²                         bratu.fw:15
 		//	  −τ_u · ∂²u/∂x² · ∂²v/∂x²                                bratu.fw:15
-		acc[0] += fwBratuVMSCellBasis1Val[q][0] * p19
-		acc[1] += fwBratuVMSCellBasis1Val[q][0] * p20
-		acc[2] += fwBratuVMSCellBasis1Val[q][1] * p19
-		acc[3] += fwBratuVMSCellBasis1Val[q][1] * p20
+		acc[0] += fwBratuVMSCellBasis1Val[q][0] * p16
+		acc[1] += fwBratuVMSCellBasis1Val[q][0] * p17
+		acc[2] += fwBratuVMSCellBasis1Val[q][1] * p16
+		acc[3] += fwBratuVMSCellBasis1Val[q][1] * p17
 		// Rows 0..1 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω −λ exp(u) v + ∇u·∇v dx, F = ∫_Ω 0 dx
-		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                      bratu.fw:15
-		//	VMS: − Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                bratu.fw:18
-		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · v  bratu.fw:15
-		//	  τ_u exp(u⁽ᵖʳᵉᵛ⁾) ∂²u⁽ʳᵉᶜ⁾/∂x² · v                     bratu.fw:15
-		//	  −τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ʳᵉᶜ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
-		rhs[0] += fwBratuVMSCellBasis1Val[q][0] * p21
-		rhs[1] += fwBratuVMSCellBasis1Val[q][1] * p21
+		//	  exp(u⁽ᵖʳᵉᵛ⁾) · v                                       bratu.fw:15
+		//	VMS: − Σ_K (τ_u R_u, −λ exp(u) v − Δv)_K                 bratu.fw:18
+		//	  −τ_u exp(u⁽ᵖʳᵉᵛ⁾) (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · v  bratu.fw:15
+		//	  −τ_u (−exp(u⁽ᵖʳᵉᵛ⁾) − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²) · ∂²v/∂x²         bratu.fw:15
+		rhs[0] += fwBratuVMSCellBasis1Val[q][0] * p18
+		rhs[1] += fwBratuVMSCellBasis1Val[q][1] * p18
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

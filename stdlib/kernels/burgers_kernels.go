@@ -21,7 +21,7 @@ func init() {
 			return BurgersGalerkinKernel{}
 		},
 	})
-	compiled.Register("6ad6b2b83a9bb6aee9ffe5bfb02e3e5a", compiled.Kernels{
+	compiled.Register("2e7295ac070a3dbb5175471fad2fb3f5", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Segment,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return BurgersSUPGKernel{}
 		},
 	})
-	compiled.Register("8b5a53c72b068d602000dfee0eccb045", compiled.Kernels{
+	compiled.Register("f7a006ab0999e366c7408cf6b1c5ff80", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return BurgersGLSKernel{}
 		},
 	})
-	compiled.Register("224543da98f3727f15813f04bf2410ff", compiled.Kernels{
+	compiled.Register("5e970a5bc2b9d1d2991486b70901a8ab", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 5,
@@ -184,12 +184,6 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:2:2]
 	}
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
@@ -201,16 +195,11 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c5 := c4 * c4
 	h := math.Sqrt(c5)
 	c6 := 1.0 / h
-	c7 := rdetJ * rv[0]
-	c8 := rdetJ * rv[1]
-	c9 := c8 - c7 - c7 + c8
-	c10 := 0.5 * c9
-	c11 := (-0.01) * c10
-	c12 := coef0 * (-0.01)
-	c13 := j00 * (-(1.0 / 3))
-	c14 := j00 * (1.0 / 3)
-	c15 := j00 * (-(1.0 / 6))
-	c16 := j00 * (1.0 / 6)
+	c7 := coef0 * (-0.01)
+	c8 := j00 * (-(1.0 / 3))
+	c9 := j00 * (1.0 / 3)
+	c10 := j00 * (-(1.0 / 6))
+	c11 := j00 * (1.0 / 6)
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
@@ -222,10 +211,10 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 	//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v  burgers.fw:24
-	acc[0] += c2*c13 + c3*c14
-	acc[1] += c2*c15 + c3*c16
-	acc[2] += c2*c15 + c3*c16
-	acc[3] += c2*c13 + c3*c14
+	acc[0] += c2*c8 + c3*c9
+	acc[1] += c2*c10 + c3*c11
+	acc[2] += c2*c10 + c3*c11
+	acc[3] += c2*c8 + c3*c9
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBurgersSUPGCellBasis1Val[q][0]
@@ -237,57 +226,55 @@ func (BurgersSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := 1.0 / p5
 		tau_u := c5 * p6
 		p7 := coef0 * coef1
-		p8 := p7 + c11
-		p9 := tau_u * p8
-		p10 := coef0 * coef1 * tau_u
-		p11 := fwBurgersSign(coef1)
-		p12 := tau_u * tau_u
-		p13 := coef1 * c6 * p8 * (-2.0) * p11 * p12
-		coef2 := p9 + p10 + p13
-		p14 := coef1 * coef1
-		p15 := tau_u * p14
-		coef3 := p15 + 0.01
-		p16 := coef1 * tau_u * p8
-		p17 := coef1 * tau_u * c10 * 0.01
-		coef5 := p17 - p16 + c12
+		p8 := tau_u * p7
+		p9 := coef0 * coef1 * tau_u
+		p10 := fwBurgersSign(coef1)
+		p11 := tau_u * tau_u
+		p12 := coef1 * c6 * p7 * (-2.0) * p10 * p11
+		coef2 := p8 + p9 + p12
+		p13 := coef1 * coef1
+		p14 := tau_u * p13
+		coef3 := p14 + 0.01
+		p15 := coef1 * tau_u * p7
+		coef6 := c7 - p15
 		w := j00 * fwBurgersSUPGCellWeights[q]
-		p18 := coef1 * w
-		p19 := rdetJ * p18
-		p20 := -p19
-		p21 := coef2 * w
-		p22 := fwBurgersSUPGCellBasis1Val[q][0] * p21
-		p23 := fwBurgersSUPGCellBasis1Val[q][1] * p21
-		p24 := coef3 * w
-		p25 := rdetJ * p24
-		p26 := p22 - p25
-		p27 := p23 + p25
-		p28 := p7 * w
-		p29 := -p28
-		p30 := coef5 * w
+		p16 := coef1 * w
+		p17 := rdetJ * p16
+		p18 := -p17
+		p19 := coef2 * w
+		p20 := fwBurgersSUPGCellBasis1Val[q][0] * p19
+		p21 := fwBurgersSUPGCellBasis1Val[q][1] * p19
+		p22 := coef3 * w
+		p23 := rdetJ * p22
+		p24 := p20 - p23
+		p25 := p21 + p23
+		p26 := p7 * w
+		p27 := -p26
+		p28 := coef6 * w
 		// Rows 0..1, columns 0..1, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
-		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
 		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
 		//	SUPG: + Σ_K (τ_u R_u, ∂ₓv u)_K                            burgers.fw:27
-		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
-		acc[0] += fwBurgersSUPGCellBasis1Val[q][0]*p20 + c1*p26
-		acc[1] += fwBurgersSUPGCellBasis1Val[q][0]*p19 + c1*p27
-		acc[2] += fwBurgersSUPGCellBasis1Val[q][1]*p20 + rdetJ*p26
-		acc[3] += fwBurgersSUPGCellBasis1Val[q][1]*p19 + rdetJ*p27
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
+		acc[0] += fwBurgersSUPGCellBasis1Val[q][0]*p18 + c1*p24
+		acc[1] += fwBurgersSUPGCellBasis1Val[q][0]*p17 + c1*p25
+		acc[2] += fwBurgersSUPGCellBasis1Val[q][1]*p18 + rdetJ*p24
+		acc[3] += fwBurgersSUPGCellBasis1Val[q][1]*p17 + rdetJ*p25
 		// Rows 0..1 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
 		//	SUPG: + Σ_K (τ_u R_u, ∂ₓv u)_K                            burgers.fw:27
-		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
-		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂²u⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x                    burgers.fw:24
-		rhs[0] += fwBurgersSUPGCellBasis1Val[q][0]*p29 + c1*p30
-		rhs[1] += fwBurgersSUPGCellBasis1Val[q][1]*p29 + rdetJ*p30
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		rhs[0] += fwBurgersSUPGCellBasis1Val[q][0]*p27 + c1*p28
+		rhs[1] += fwBurgersSUPGCellBasis1Val[q][1]*p27 + rdetJ*p28
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -329,12 +316,6 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:2:2]
 	}
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
@@ -347,12 +328,7 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c6 := pv[1] * rdetJ
 	c7 := c6 - c5
 	c8 := c7 * c7
-	c9 := rdetJ * rv[0]
-	c10 := rdetJ * rv[1]
-	c11 := c10 - c9 - c9 + c10
-	c12 := 0.5 * c11
-	c13 := (-0.01) * c12
-	c14 := c7 * (-0.01)
+	c9 := c7 * (-0.01)
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
@@ -372,77 +348,75 @@ func (BurgersGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p8 := tau_u * c8
 		p9 := fwBurgersSign(p3)
 		p10 := p3 * c7
-		p11 := p10 + c13
-		p12 := tau_u * tau_u
-		p13 := c3 * c7 * (-2.0) * p9 * p11 * p12
-		coef0 := c7 + p8 + p13
-		p14 := tau_u * p11
-		p15 := p3 * tau_u * c7
-		coef1 := p3 + p14 + p15
-		p16 := c3 * p3 * (-2.0) * p9 * p11 * p12
-		coef2 := p14 + p15 + p16
-		p17 := p3 * p3
-		p18 := tau_u * p17
-		coef3 := p18 + 0.01
-		p19 := tau_u * c7 * p11
-		p20 := tau_u * c7 * c12 * 0.01
-		coef7 := p20 - p10 - p19
-		p21 := p3 * tau_u * p11
-		p22 := p3 * tau_u * c12 * 0.01
-		coef8 := p22 - p21 + c14
+		p11 := tau_u * tau_u
+		p12 := c3 * c7 * (-2.0) * p9 * p10 * p11
+		coef0 := c7 + p8 + p12
+		p13 := tau_u * p10
+		p14 := p3 * tau_u * c7
+		coef1 := p3 + p13 + p14
+		p15 := c3 * p3 * (-2.0) * p9 * p10 * p11
+		coef3 := p13 + p14 + p15
+		p16 := p3 * p3
+		p17 := tau_u * p16
+		coef4 := p17 + 0.01
+		p18 := -p10
+		p19 := tau_u * c7 * p10
+		coef9 := p18 - p19
+		p20 := p3 * tau_u * p10
+		coef10 := c9 - p20
 		w := j00 * fwBurgersGLSCellWeights[q]
-		p23 := coef0 * w
-		p24 := fwBurgersGLSCellBasis1Val[q][0] * p23
-		p25 := fwBurgersGLSCellBasis1Val[q][1] * p23
-		p26 := coef1 * w
-		p27 := rdetJ * p26
-		p28 := p24 - p27
-		p29 := p25 + p27
-		p30 := coef2 * w
-		p31 := fwBurgersGLSCellBasis1Val[q][0] * p30
-		p32 := fwBurgersGLSCellBasis1Val[q][1] * p30
-		p33 := coef3 * w
-		p34 := rdetJ * p33
-		p35 := p31 - p34
-		p36 := p32 + p34
-		p37 := coef7 * w
-		p38 := coef8 * w
+		p21 := coef0 * w
+		p22 := fwBurgersGLSCellBasis1Val[q][0] * p21
+		p23 := fwBurgersGLSCellBasis1Val[q][1] * p21
+		p24 := coef1 * w
+		p25 := rdetJ * p24
+		p26 := p22 - p25
+		p27 := p23 + p25
+		p28 := coef3 * w
+		p29 := fwBurgersGLSCellBasis1Val[q][0] * p28
+		p30 := fwBurgersGLSCellBasis1Val[q][1] * p28
+		p31 := coef4 * w
+		p32 := rdetJ * p31
+		p33 := p29 - p32
+		p34 := p30 + p32
+		p35 := coef9 * w
+		p36 := coef10 * w
 		// Rows 0..1, columns 0..1, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
-		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · v  burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · v  burgers.fw:24
 		//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v                                     burgers.fw:24
 		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
-		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
 		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
-		//	  sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
+		//	  sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
 		//	GLS: + Σ_K (τ_u R_u, −ν Δv + ∂ₓu v + ∂ₓv u)_K             burgers.fw:27
 		//	  τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x² · u · v                                burgers.fw:24
-		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) · ∂u/∂x · v  burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · ∂u/∂x · v  burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v                     burgers.fw:24
-		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  −τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²u/∂x² · v                      burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
 		//	  −τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · u · ∂²v/∂x²                      burgers.fw:24
 		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂u/∂x · ∂²v/∂x²                      burgers.fw:24
 		//	  τ_u/10000 · ∂²u/∂x² · ∂²v/∂x²                           burgers.fw:24
-		acc[0] += fwBurgersGLSCellBasis1Val[q][0]*p28 + c4*p35
-		acc[1] += fwBurgersGLSCellBasis1Val[q][0]*p29 + c4*p36
-		acc[2] += fwBurgersGLSCellBasis1Val[q][1]*p28 + rdetJ*p35
-		acc[3] += fwBurgersGLSCellBasis1Val[q][1]*p29 + rdetJ*p36
+		acc[0] += fwBurgersGLSCellBasis1Val[q][0]*p26 + c4*p33
+		acc[1] += fwBurgersGLSCellBasis1Val[q][0]*p27 + c4*p34
+		acc[2] += fwBurgersGLSCellBasis1Val[q][1]*p26 + rdetJ*p33
+		acc[3] += fwBurgersGLSCellBasis1Val[q][1]*p27 + rdetJ*p34
 		// Rows 0..1 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
 		//	GLS: + Σ_K (τ_u R_u, −ν Δv + ∂ₓu v + ∂ₓv u)_K             burgers.fw:27
-		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x · v  burgers.fw:24
-		//	  τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂²u⁽ʳᵉᶜ⁾/∂x²/100 · v                    burgers.fw:24
-		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
-		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂²u⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x                    burgers.fw:24
-		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
-		rhs[0] += fwBurgersGLSCellBasis1Val[q][0]*p37 + c4*p38
-		rhs[1] += fwBurgersGLSCellBasis1Val[q][1]*p37 + rdetJ*p38
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) ∂u⁽ᵖʳᵉᵛ⁾/∂x · v  burgers.fw:24
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
+		rhs[0] += fwBurgersGLSCellBasis1Val[q][0]*p35 + c4*p36
+		rhs[1] += fwBurgersGLSCellBasis1Val[q][1]*p35 + rdetJ*p36
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -484,12 +458,6 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:2:2]
 	}
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
@@ -501,16 +469,11 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c5 := c4 * c4
 	h := math.Sqrt(c5)
 	c6 := 1.0 / h
-	c7 := rdetJ * rv[0]
-	c8 := rdetJ * rv[1]
-	c9 := c8 - c7 - c7 + c8
-	c10 := 0.5 * c9
-	c11 := (-0.01) * c10
-	c12 := coef0 * (-0.01)
-	c13 := j00 * (-(1.0 / 3))
-	c14 := j00 * (1.0 / 3)
-	c15 := j00 * (-(1.0 / 6))
-	c16 := j00 * (1.0 / 6)
+	c7 := coef0 * (-0.01)
+	c8 := j00 * (-(1.0 / 3))
+	c9 := j00 * (1.0 / 3)
+	c10 := j00 * (-(1.0 / 6))
+	c11 := j00 * (1.0 / 6)
 	if !(j00 > 0) {
 		fwBurgersFillNaN(A, b)
 		return
@@ -522,10 +485,10 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 	//	  ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · v  burgers.fw:24
-	acc[0] += c2*c13 + c3*c14
-	acc[1] += c2*c15 + c3*c16
-	acc[2] += c2*c15 + c3*c16
-	acc[3] += c2*c13 + c3*c14
+	acc[0] += c2*c8 + c3*c9
+	acc[1] += c2*c10 + c3*c11
+	acc[2] += c2*c10 + c3*c11
+	acc[3] += c2*c8 + c3*c9
 	for q := 0; q < 3; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwBurgersVMSCellBasis1Val[q][0]
@@ -537,76 +500,72 @@ func (BurgersVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p6 := 1.0 / p5
 		tau_u := c5 * p6
 		p7 := coef0 * coef1
-		p8 := p7 + c11
-		p9 := tau_u * p8
-		p10 := coef0 * tau_u * p9
-		p11 := coef0 * coef1 * tau_u
-		p12 := fwBurgersSign(coef1)
-		p13 := tau_u * tau_u
-		p14 := 2.0 * c6 * p8 * p9 * p12 * p13
-		p15 := coef1 * c6 * p8 * (-2.0) * p12 * p13
-		coef2 := p9 - p10 + p11 + p14 + p15
-		p16 := coef1 * coef1
-		p17 := tau_u * p16
-		p18 := coef1 * tau_u * p9
-		coef3 := p17 - p18 + 0.01
-		p19 := coef1 * tau_u * (-0.01)
-		p20 := tau_u * p9 * 0.01
-		p21 := p19 + p20
-		p22 := c10 * p21
-		p23 := coef1 * tau_u * p8
-		p24 := p9 * p9
-		p25 := 0.5 * p24
-		coef8 := c12 - p22 - p23 + p25
+		p8 := tau_u * p7
+		p9 := coef0 * tau_u * p8
+		p10 := coef0 * coef1 * tau_u
+		p11 := fwBurgersSign(coef1)
+		p12 := tau_u * tau_u
+		p13 := 2.0 * c6 * p7 * p8 * p11 * p12
+		p14 := coef1 * c6 * p7 * (-2.0) * p11 * p12
+		coef2 := p8 - p9 + p10 + p13 + p14
+		p15 := coef1 * coef1
+		p16 := tau_u * p15
+		p17 := coef1 * tau_u * p8
+		coef3 := p16 - p17 + 0.01
+		p18 := coef1 * tau_u * p7
+		p19 := p8 * p8
+		p20 := 0.5 * p19
+		coef9 := c7 - p18 + p20
 		w := j00 * fwBurgersVMSCellWeights[q]
-		p26 := coef1 * w
-		p27 := rdetJ * p26
-		p28 := -p27
-		p29 := coef2 * w
-		p30 := fwBurgersVMSCellBasis1Val[q][0] * p29
-		p31 := fwBurgersVMSCellBasis1Val[q][1] * p29
-		p32 := coef3 * w
-		p33 := rdetJ * p32
-		p34 := p30 - p33
-		p35 := p31 + p33
-		p36 := p7 * w
-		p37 := -p36
-		p38 := coef8 * w
+		p21 := coef1 * w
+		p22 := rdetJ * p21
+		p23 := -p22
+		p24 := coef2 * w
+		p25 := fwBurgersVMSCellBasis1Val[q][0] * p24
+		p26 := fwBurgersVMSCellBasis1Val[q][1] * p24
+		p27 := coef3 * w
+		p28 := rdetJ * p27
+		p29 := p25 - p28
+		p30 := p26 + p28
+		p31 := p7 * w
+		p32 := -p31
+		p33 := coef9 * w
 		// Rows 0..1, columns 0..1, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 		//	  u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · v                                     burgers.fw:24
-		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		//	  −2 sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
 		//	  1/100 · ∂u/∂x · ∂v/∂x                                   burgers.fw:24
-		//	  −sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
+		//	  −sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(50 h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂²v/∂x²  burgers.fw:24
 		//	VMS: − Σ_K (τ_u R_u, −ν Δv − ∂ₓv u)_K                     burgers.fw:27
-		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
+		//	  τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) · u · ∂v/∂x  burgers.fw:24
 		//	  τ_u u′ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                          burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                     burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                            burgers.fw:24
 		//	  τ_u u′ u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x                          burgers.fw:24
+		//	  −τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂²u/∂x² · ∂v/∂x                      burgers.fw:24
+		//	  −τ_u u′/100 · ∂²u/∂x² · ∂v/∂x                           burgers.fw:24
 		//	  τ_u ∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · u · ∂²v/∂x²                       burgers.fw:24
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾/100 · ∂u/∂x · ∂²v/∂x²                       burgers.fw:24
 		//	  −τ_u/10000 · ∂²u/∂x² · ∂²v/∂x²                          burgers.fw:24
 		//	VMS cross-stress: + Σ_K (−u′² ∂ₓv/2)_K
-		//	  −2 u′ sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100)/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
-		acc[0] += fwBurgersVMSCellBasis1Val[q][0]*p28 + c1*p34
-		acc[1] += fwBurgersVMSCellBasis1Val[q][0]*p27 + c1*p35
-		acc[2] += fwBurgersVMSCellBasis1Val[q][1]*p28 + rdetJ*p34
-		acc[3] += fwBurgersVMSCellBasis1Val[q][1]*p27 + rdetJ*p35
+		//	  −2 u′ sign(u⁽ᵖʳᵉᵛ⁾) (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/(h (2 |u⁽ᵖʳᵉᵛ⁾|/h + 1/(25 h²))²) · u · ∂v/∂x  burgers.fw:24
+		acc[0] += fwBurgersVMSCellBasis1Val[q][0]*p23 + c1*p29
+		acc[1] += fwBurgersVMSCellBasis1Val[q][0]*p22 + c1*p30
+		acc[2] += fwBurgersVMSCellBasis1Val[q][1]*p23 + rdetJ*p29
+		acc[3] += fwBurgersVMSCellBasis1Val[q][1]*p22 + rdetJ*p30
 		// Rows 0..1 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇u·∇v) + ∂ₓu u v dx, F = ∫_Ω 0 dx
 		//	  −u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · v                                burgers.fw:24
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂v/∂x                                burgers.fw:24
 		//	VMS: − Σ_K (τ_u R_u, −ν Δv − ∂ₓv u)_K                     burgers.fw:27
-		//	  −(−τ_u u⁽ᵖʳᵉᵛ⁾/100 − τ_u u′/100) ∂²u⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x   burgers.fw:24
-		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
-		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ʳᵉᶜ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100) u⁽ᵖʳᵉᵛ⁾ · ∂v/∂x  burgers.fw:24
+		//	  −τ_u (u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x − ∂²u⁽ᵖʳᵉᵛ⁾/∂x²/100)/100 · ∂²v/∂x²  burgers.fw:24
 		//	VMS cross-stress: + Σ_K (−u′² ∂ₓv/2)_K
 		//	  u′²/2 · ∂v/∂x                                           burgers.fw:24
-		rhs[0] += fwBurgersVMSCellBasis1Val[q][0]*p37 + c1*p38
-		rhs[1] += fwBurgersVMSCellBasis1Val[q][1]*p37 + rdetJ*p38
+		rhs[0] += fwBurgersVMSCellBasis1Val[q][0]*p32 + c1*p33
+		rhs[1] += fwBurgersVMSCellBasis1Val[q][1]*p32 + rdetJ*p33
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

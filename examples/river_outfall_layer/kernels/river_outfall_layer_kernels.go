@@ -21,7 +21,7 @@ func init() {
 			return RiverOutfallLayerGalerkinKernel{}
 		},
 	})
-	compiled.Register("11aa37f7f3766ea8080de3510eac31d4", compiled.Kernels{
+	compiled.Register("198b95d7e037afab2dc8fa880f78b472", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return RiverOutfallLayerSUPGKernel{}
 		},
 	})
-	compiled.Register("1af676a128ecf04836cab04fe3aac424", compiled.Kernels{
+	compiled.Register("086d13470a471c87f34084a1c3364d80", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return RiverOutfallLayerGLSKernel{}
 		},
 	})
-	compiled.Register("0b4aad7233f8fcdf4970863a2f355e44", compiled.Kernels{
+	compiled.Register("0f0c10381473d5890cdaffbb22c08d56", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Segment,
 		Degree: 1,
@@ -130,12 +130,6 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
@@ -147,40 +141,29 @@ func (RiverOutfallLayerSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
 	c9 := h * c8
-	tau_c := 0.5 * h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
-	c10 := rv[0] * rdetJ
-	c11 := rdetJ * rv[1]
-	c12 := c11 - c10 - c10 + c11
-	c13 := 0.5 * c12
-	c14 := tau_c * c13
-	c15 := 0.002 * rdetJ
-	c16 := 0.5 * rdetJ
-	c17 := -c16
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
+	clear(b)
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω a ∂ₓc v + k ∂ₓc ∂ₓv dx, F = ∫_Ω 0 dx
-	//	  ∂c/∂x · v              model.fw:18
-	//	  1/500 · ∂c/∂x · ∂v/∂x  model.fw:18
+	//	  ∂c/∂x · v                   model.fw:18
+	//	  1/500 · ∂c/∂x · ∂v/∂x       model.fw:18
 	//	SUPG: + Σ_K (τ_c R_c, a ∂ₓv)_K  model.fw:22
-	//	  τ_c · ∂c/∂x · ∂v/∂x    model.fw:22
-	A[0] = (-0.5) + c15 + c9*c16
-	A[1] = 0.5 - c15 + c9*c17
-	A[2] = (-0.5) - c15 + c9*c17
-	A[3] = 0.5 + c15 + c9*c16
-	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
-	// coefficients constant in the cell).
-	//
-	//	SUPG: + Σ_K (τ_c R_c, a ∂ₓv)_K  model.fw:22
-	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/500 · ∂v/∂x  model.fw:18
-	b[0] = (-0.002) * c14
-	b[1] = 0.002 * c14
+	//	  τ_c · ∂c/∂x · ∂v/∂x         model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x  model.fw:18
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwRiverOutfallLayerGLSLayout is the element layout of the gls kernels:
@@ -213,12 +196,6 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
@@ -230,21 +207,16 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
 	c9 := h * c8
-	tau_c := 0.5 * h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
-	c10 := rv[0] * rdetJ
-	c11 := rdetJ * rv[1]
-	c12 := c11 - c10 - c10 + c11
-	c13 := 0.5 * c12
-	c14 := tau_c * c13
-	c15 := 0.002 * rdetJ
-	c16 := 0.5 * rdetJ
-	c17 := -c16
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
+	clear(b)
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -253,19 +225,13 @@ func (RiverOutfallLayerGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/500 · ∂c/∂x · ∂v/∂x           model.fw:18
 	//	GLS: + Σ_K (τ_c R_c, a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
 	//	  τ_c · ∂c/∂x · ∂v/∂x             model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x      model.fw:18
 	//	  −τ_c/500 · ∂c/∂x · ∂²v/∂x²      model.fw:18
 	//	  τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
-	A[0] = (-0.5) + c15 + c9*c16
-	A[1] = 0.5 - c15 + c9*c17
-	A[2] = (-0.5) - c15 + c9*c17
-	A[3] = 0.5 + c15 + c9*c16
-	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
-	// coefficients constant in the cell).
-	//
-	//	GLS: + Σ_K (τ_c R_c, a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
-	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/500 · ∂v/∂x  model.fw:18
-	b[0] = (-0.002) * c14
-	b[1] = 0.002 * c14
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwRiverOutfallLayerVMSLayout is the element layout of the vms kernels:
@@ -298,12 +264,6 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:4:4]
 	b = b[:2:2]
 	x := in.Coords[:2:2]
-	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
-	var zeroR [2]float64
-	rv := zeroR[:]
-	if in.Recovered != nil {
-		rv = in.Recovered[:2:2]
-	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[1]
 	c2 := c1 * c1
@@ -315,21 +275,16 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c7 := (-0.004) * c6
 	c8 := c5 + c7
 	c9 := h * c8
-	tau_c := 0.5 * h * c8
 	j00 := x[1] - x[0]
 	rdetJ := 1.0 / j00
-	c10 := rv[0] * rdetJ
-	c11 := rdetJ * rv[1]
-	c12 := c11 - c10 - c10 + c11
-	c13 := 0.5 * c12
-	c14 := tau_c * c13
-	c15 := 0.002 * rdetJ
-	c16 := 0.5 * rdetJ
-	c17 := -c16
+	c10 := 0.002 * rdetJ
+	c11 := 0.5 * rdetJ
+	c12 := -c11
 	if !(j00 > 0) {
 		fwRiverOutfallLayerFillNaN(A, b)
 		return
 	}
+	clear(b)
 	// Rows 0..1, columns 0..1, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -338,19 +293,13 @@ func (RiverOutfallLayerVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/500 · ∂c/∂x · ∂v/∂x            model.fw:18
 	//	VMS: − Σ_K (τ_c R_c, −a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
 	//	  τ_c · ∂c/∂x · ∂v/∂x              model.fw:22
+	//	  −τ_c/500 · ∂²c/∂x² · ∂v/∂x       model.fw:18
 	//	  τ_c/500 · ∂c/∂x · ∂²v/∂x²        model.fw:18
 	//	  −τ_c/250000 · ∂²c/∂x² · ∂²v/∂x²  model.fw:18
-	A[0] = (-0.5) + c15 + c9*c16
-	A[1] = 0.5 - c15 + c9*c17
-	A[2] = (-0.5) - c15 + c9*c17
-	A[3] = 0.5 + c15 + c9*c16
-	// Rows 0..1 of the right-hand side, integrated in advance (affine cell,
-	// coefficients constant in the cell).
-	//
-	//	VMS: − Σ_K (τ_c R_c, −a ∂ₓv − k ∂ₓ(∂ₓv))_K  model.fw:22
-	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/500 · ∂v/∂x  model.fw:18
-	b[0] = (-0.002) * c14
-	b[1] = 0.002 * c14
+	A[0] = (-0.5) + c10 + c9*c11
+	A[1] = 0.5 - c10 + c9*c12
+	A[2] = (-0.5) - c10 + c9*c12
+	A[3] = 0.5 + c10 + c9*c11
 }
 
 // fwRiverOutfallLayerFillNaN fills A and b with NaN: the cell has a
