@@ -583,6 +583,13 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 			fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.Picard)
 		}
 	}
+	if sol.Form != nil && sol.Form.ReadsRecovered() {
+		what := "the Newton iteration holds them fixed in the Jacobian"
+		if !sol.Form.Newton {
+			what = "the iterations above let them settle"
+		}
+		fmt.Fprintf(w, "recovery   the residual reads second derivatives recovered from the projected gradient of the iterate; %s (--recover=false: off)\n", what)
+	}
 	for _, mc := range m.Means {
 		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)
 	}
