@@ -152,7 +152,12 @@ func lowerModel(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, error
 // deriveAndLower derives one method of a model and lowers it, returning
 // the derivation too.
 func deriveAndLower(m *compiler.Model, meth compiler.Method) (*ir.LoweredForm, *compiler.Derivation, error) {
-	d, err := compiler.Derive(m, []compiler.Method{meth})
+	return deriveAndLowerWith(m, meth, compiler.DeriveOptions{})
+}
+
+// deriveAndLowerWith is deriveAndLower with derivation options.
+func deriveAndLowerWith(m *compiler.Model, meth compiler.Method, opts compiler.DeriveOptions) (*ir.LoweredForm, *compiler.Derivation, error) {
+	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, opts)
 	if err != nil {
 		return nil, nil, &usageError{err.Error()}
 	}

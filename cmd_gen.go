@@ -2,6 +2,7 @@ package main
 
 import (
 	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -30,6 +31,9 @@ type genFile struct {
 // genRequest is what gen was asked for.
 type genRequest struct {
 	model, dir, pkg, prefix, method, lang, cmdline string
+	// noRecover derives the forms with the recovery of the P1 residual's
+	// second derivatives off (--recover=false).
+	noRecover bool
 }
 
 // generate derives, lowers and generates the kernels of a model: one Go
@@ -43,7 +47,11 @@ func generate(r genRequest) ([]genFile, error) {
 	if err != nil {
 		return nil, err
 	}
-	d, err := compiler.Derive(m, methods)
+	opts := compiler.DeriveOptions{}
+	if r.noRecover {
+		opts.Recovery = compiler.RecoverOff
+	}
+	d, err := compiler.DeriveWith(m, methods, opts)
 	if err != nil {
 		return nil, &usageError{err.Error()}
 	}
@@ -166,6 +174,7 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 	fs.StringVar(&r.method, "method", "", "methods to generate: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	fs.StringVar(&r.prefix, "prefix", "", "prefix of the exported names, so several models can share a package (default: from the model's name)")
 	fs.StringVar(&r.lang, "lang", "go", "go or c")
+	recover := fs.Bool("recover", true, "stabilised methods on P1: Go kernels whose residual reads the second derivatives recovered from the solution's gradient, as solve and verify use by default (C kernels cannot read them: --lang c derives without the recovery)")
 	builtin := fs.Bool("builtin", false, "write the Go kernels into this formwright's own source (stdlib/kernels/local), so that solve and verify use them once the command is rebuilt (go run . rebuilds it)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
@@ -175,6 +184,15 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 		return nil, "", usagef("gen takes one model")
 	}
 	r.model = pos[0]
+	r.noRecover = !*recover
+	if r.lang == "c" {
+		explicit := false
+		fs.Visit(func(f *flag.Flag) { explicit = explicit || f.Name == "recover" })
+		if explicit && *recover {
+			return nil, "", usagef("--recover: the C kernels cannot read recovered second derivatives; --lang c derives without the recovery")
+		}
+		r.noRecover = true // C kernels: the residual as derived, like the PETSc engine's
+	}
 	r.cmdline = "gen " + strings.Join(args, " ")
 	if *builtin {
 		if r.lang != "go" {

@@ -170,6 +170,11 @@ func cmdSolve(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if engineSolve != nil {
+		// The PETSc engine's kernels are the C ones, which cannot read
+		// recovered second derivatives (gen --lang c).
+		*nl.recover = false
+	}
 	prog := newProgress(stderr, *sf.quiet)
 	defer prog.done()
 	opts, err := sf.options(prog, engineSolve == nil)
@@ -598,6 +603,13 @@ func writeSummaryText(w io.Writer, m *compiler.Model, meth compiler.Method, spec
 		} else {
 			fmt.Fprintf(w, "%-10s %d iterations\n", s.Nonlinear, s.NonlinearIters)
 		}
+	}
+	if sol.Form != nil && sol.Form.ReadsRecovered() {
+		what := "the Newton iteration holds them fixed in the Jacobian"
+		if !sol.Form.Newton {
+			what = "the iterations above let them settle"
+		}
+		fmt.Fprintf(w, "recovery   the residual reads second derivatives recovered from the projected gradient of the iterate; %s (--recover=false: off)\n", what)
 	}
 	for _, mc := range m.Means {
 		fmt.Fprintf(w, "mean       %s shifted to its prescribed mean; the equation replaced by fixing one node holds to %.1e (relative)\n", m.Unknowns[mc.Unknown].Name, s.MeanResidual)

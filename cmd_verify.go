@@ -82,6 +82,11 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if engineSolve != nil {
+		// The PETSc engine's kernels are the C ones, which cannot read
+		// recovered second derivatives (gen --lang c).
+		*nl.recover = false
+	}
 	m, err := loadModel(pos[0])
 	if err != nil {
 		return err
@@ -223,7 +228,7 @@ func cmdVerify(args []string, stdout, stderr io.Writer) error {
 		}
 		rep.Sweep, err = study.Sweep(study.SweepConfig{Dim: m.Dim, Methods: names, Level: lv, Speed: *speed, SolveFunc: engineSolve,
 			FormAt: func(meth string, kappa float64) (*ir.LoweredForm, []ir.Expr, error) {
-				return sweepForm(m, mf, *sweep, meth, kappa)
+				return sweepForm(m, mf, *sweep, meth, kappa, nl.options())
 			}})
 		if err != nil {
 			return solveError(err)
@@ -335,7 +340,7 @@ func refinedLevels(m *compiler.Model, spec string, levels int) (func(int) (study
 // sweepForm is the manufactured problem of method meth with the swept
 // coefficient set to kappa, and the exact solution at that value (it may
 // involve the coefficient).
-func sweepForm(m *compiler.Model, mf *compiler.Manufactured, coef, meth string, kappa float64) (*ir.LoweredForm, []ir.Expr, error) {
+func sweepForm(m *compiler.Model, mf *compiler.Manufactured, coef, meth string, kappa float64, opts compiler.DeriveOptions) (*ir.LoweredForm, []ir.Expr, error) {
 	mm, err := compiler.OverrideCoef(m, coef, ir.NewNum(source.Pos{}, new(big.Rat).SetFloat64(kappa)))
 	if err != nil {
 		return nil, nil, usagef("--sweep-pe: %v", err)
@@ -346,7 +351,7 @@ func sweepForm(m *compiler.Model, mf *compiler.Manufactured, coef, meth string, 
 		return nil, nil, &usageError{err.Error()}
 	}
 	me, _ := compiler.MethodByName(meth)
-	lf, err := lowerModel(mf2.Model, me)
+	lf, _, err := deriveAndLowerWith(mf2.Model, me, opts)
 	if err != nil {
 		return nil, nil, err
 	}

@@ -94,7 +94,9 @@ func TestEngineSolve(t *testing.T) {
 		}
 		return js, out.String()
 	}
-	ref, _ := values("--json")
+	// The PETSc engine solves without the recovery of the P1 second
+	// derivatives (its C kernels cannot read them): compare like with like.
+	ref, _ := values("--recover=false", "--json")
 	got, _ := values("--engine", "petsc", "--ranks", "2", "--json")
 	if got.Engine == "" || got.Ranks != 2 || got.Kernels != "generated C" || !(got.Residual < 1e-8) {
 		t.Errorf("summary: engine %q, ranks %d, kernels %q, residual %g", got.Engine, got.Ranks, got.Kernels, got.Residual)
@@ -135,7 +137,7 @@ func TestEngineVerify(t *testing.T) {
 		}
 		return out.String()
 	}
-	if g, p := verify(), verify("--engine", "petsc", "--ranks", "2"); g != p {
+	if g, p := verify("--recover=false"), verify("--engine", "petsc", "--ranks", "2"); g != p { // the engine has no recovery
 		t.Errorf("verify differs between the engines:\ngo:\n%s\npetsc:\n%s", g, p)
 	}
 }

@@ -108,7 +108,11 @@ func TestExampleCrosswindPlume(t *testing.T) {
 
 // TestExampleEstuaryMixing: the velocity is not divergence-free, so the
 // adjoint gains −(∇·a) v, and the derivation warns that GLS and VMS differ;
-// verify converges at the optimal rates on six meshes.
+// verify converges at the optimal rates on six meshes. With the recovered
+// second derivatives in the residual (the default) the stabilised L²
+// orders do not dip near element Péclet number 1: ≥ 1.95 on every pair
+// (measured 2.01–2.24; README); without the recovery they dip to 1.60
+// (README), which is not rechecked here (it is the previous behaviour).
 func TestExampleEstuaryMixing(t *testing.T) {
 	const path = "examples/estuary_mixing/model.fw"
 	m, err := loadModel(path)
@@ -152,6 +156,14 @@ func TestExampleEstuaryMixing(t *testing.T) {
 		last := vm.Levels[len(vm.Levels)-1]
 		if last.OrderL2 < 1.8 || math.Abs(last.OrderH1-1) > 0.1 {
 			t.Errorf("%s: orders L2 %.2f, H1 %.2f; README states ≥ 1.8 and 1.0", vm.Method, last.OrderL2, last.OrderH1)
+		}
+		if vm.Method == "galerkin" {
+			continue
+		}
+		for _, lv := range vm.Levels[1:] {
+			if lv.OrderL2 < 1.95 {
+				t.Errorf("%s: L² order %.2f at h = %.4g: the rate dips (README: 2.01–2.24 with the recovery)", vm.Method, lv.OrderL2, lv.H)
+			}
 		}
 	}
 }

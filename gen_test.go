@@ -118,3 +118,25 @@ at all: u = 0
 		t.Errorf("solve after gen --builtin: %v\n%s", err, got)
 	}
 }
+
+// TestGenCWithoutRecovery: C kernels cannot read recovered second
+// derivatives, so gen --lang c derives adr (P1, stabilised, with
+// diffusion: the recovery would apply) without them and succeeds, while
+// asking for the recovery with --lang c is a usage error. The C source
+// then reads no recovered gradient.
+func TestGenCWithoutRecovery(t *testing.T) {
+	dir := t.TempDir()
+	if st, _, errs := runCmd("gen", "adr", "--lang", "c", "-o", dir); st != exitOK {
+		t.Fatalf("gen --lang c: status %d: %s", st, errs)
+	}
+	src, err := os.ReadFile(filepath.Join(dir, "adr_kernels.c"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(strings.ToLower(string(src)), "recovered") {
+		t.Errorf("the C kernels read recovered derivatives")
+	}
+	if st, _, errs := runCmd("gen", "adr", "--lang", "c", "--recover", "-o", t.TempDir()); st != exitBadInput || !strings.Contains(errs, "--recover") {
+		t.Errorf("gen --lang c --recover: status %d, %q; want a usage error", st, errs)
+	}
+}

@@ -289,7 +289,12 @@ func TestNonlinearDiffusionOrders(t *testing.T) {
 // 0.6: the strong residual of P1 loses the diffusive term (the warning of
 // the derivation; Jansen, Collis, Whiting & Shakib 1999), so there only
 // L² ≥ 1.4, H¹ ≥ 0.9 for the velocity and ≥ 1 for the pressure are
-// asserted (measured 1.50, 1.01, 1.40).
+// asserted (measured 1.50, 1.01, 1.40) with the recovery of the second
+// derivatives off. With it on (the default) the errors are smaller on
+// every level, the finest velocity L² error 3.42e-3 against 5.18e-3
+// (asserted: at least 20 % smaller), but the orders are erratic: 1.84,
+// 1.93, then 1.20 on the finest pair, pressure L² 1.00 (asserted: ≥ 1.1,
+// ≥ 0.9 and ≥ 0.9, a record of that behaviour, not a target).
 func TestKovasznay(t *testing.T) {
 	if testing.Short() {
 		t.Skip("two Navier–Stokes refinement studies")
@@ -333,22 +338,28 @@ func TestKovasznay(t *testing.T) {
 		}
 	}
 	th := writeModel(t, strings.Replace(s, "unknown vel: vector P1", "unknown vel: vector P2", 1))
+	finest := map[string]float64{} // finest velocity L² error of the P1 runs
 	for _, c := range []struct {
 		path, method, levels string
 		vel                  [2]float64
 		p, tol               float64
+		recover              bool
 	}{
-		{th, "galerkin", "3", [2]float64{3, 2}, 2, 0.1},
-		{p1, "supg", "4", [2]float64{1.4, 0.9}, 1, 0},
+		{th, "galerkin", "3", [2]float64{3, 2}, 2, 0.1, true},
+		{p1, "supg", "4", [2]float64{1.4, 0.9}, 1, 0, false},
+		{p1, "supg", "4", [2]float64{1.1, 0.9}, 0.9, 0, true},
 	} {
-		args := []string{c.path, "--method", c.method, "--exact", exact, "--levels", c.levels}
+		args := []string{c.path, "--method", c.method, "--exact", exact, "--levels", c.levels, fmt.Sprintf("--recover=%v", c.recover)}
 		if c.tol == 0 {
 			args = append(args, "--check=false")
 		}
 		rep := verifyJSON(t, args...)
 		for _, tb := range rep.Methods {
 			last := tb.Levels[len(tb.Levels)-1]
-			t.Logf("%s %s %s: L² order %.2f, H¹ order %.2f (finest L² error %.3e)", tb.Method, tb.Field, tb.Element, last.OrderL2, last.OrderH1, last.L2)
+			t.Logf("%s %s %s (recovery %v): L² order %.2f, H¹ order %.2f (finest L² error %.3e)", tb.Method, tb.Field, tb.Element, c.recover, last.OrderL2, last.OrderH1, last.L2)
+			if tb.Field == "vel" && tb.Element == "P1" {
+				finest[fmt.Sprint(c.recover)] = last.L2
+			}
 			want := []float64{c.p}
 			got := []float64{last.OrderL2}
 			if tb.Field == "vel" {
@@ -364,6 +375,9 @@ func TestKovasznay(t *testing.T) {
 				}
 			}
 		}
+	}
+	if !(finest["true"] < 0.8*finest["false"]) {
+		t.Errorf("P1 SUPG finest velocity L² error with the recovery %.3e, without %.3e: want at least 20%% smaller", finest["true"], finest["false"])
 	}
 }
 
@@ -461,7 +475,9 @@ func TestCavityNewtonRe100(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
-		lf, err := lowerModel(m, meth)
+		// Without the recovery of the P1 second derivatives, whose
+		// derivative J leaves out (Newton then converges linearly).
+		lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -509,11 +525,14 @@ func TestNewtonAndPicardAgree(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
-		lf, err := lowerModel(m, meth)
+		// Without the recovery of the P1 second derivatives: the Newton
+		// iteration would converge only linearly within its limit.
+		off := compiler.DeriveOptions{Recovery: compiler.RecoverOff}
+		lf, _, err := deriveAndLowerWith(m, meth, off)
 		if err != nil {
 			t.Fatal(err)
 		}
-		pf, err := lowerModel(pm, meth)
+		pf, _, err := deriveAndLowerWith(pm, meth, off)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -559,9 +578,18 @@ func TestJacobianOfEveryModel(t *testing.T) {
 		}
 		for _, meth := range compiler.AllMethods {
 			for _, freeze := range []bool{false, true} {
-				d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}})
+				// The recovered second derivatives of P1 residuals, which J
+				// holds fixed by design, are off here (checked below).
+				d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}, Recovery: compiler.RecoverOff})
 				if err != nil {
 					t.Fatal(err)
+				}
+				if dr, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Jacobian: compiler.JacobianOptions{FreezeTau: freeze, FreezeTest: freeze}}); err != nil {
+					t.Fatal(err)
+				} else if lr, err := dr.Lower(meth); err != nil {
+					t.Fatal(err)
+				} else if a := dr.Forms[0].Jacobian.Approximations; lr.ReadsRecovered() != (len(a) > 0 && strings.Contains(a[len(a)-1].Text, "recovered")) {
+					t.Errorf("%s %s: the form reads recovered derivatives: %v, but the approximations are %q", name, meth, lr.ReadsRecovered(), a)
 				}
 				lf, err := d.Lower(meth)
 				if err != nil {
@@ -819,6 +847,52 @@ func TestDerivedPicardIsTheHandLaggedModel(t *testing.T) {
 		}
 		if ir.FormHash(a) != ir.FormHash(b) {
 			t.Errorf("%s: the derived Picard form differs from navier_stokes", meth)
+		}
+	}
+}
+
+// TestKovasznayRecovered: Kovasznay flow at Re 40 (Kovasznay 1948;
+// testdata/REFERENCES.md) on its usual domain (−0.5, 1) × (−0.5, 1.5), P1/P1
+// on the "quartered" pattern from 6×8 squares, three meshes. With the
+// recovered second derivatives in the residual (the default) the velocity
+// L² order on the finest pair is ≥ 1.9 for SUPG and VMS (measured 1.92,
+// 1.94; a fourth mesh gives 2.19, 2.15); with the recovery off it is
+// below 1.8 (measured 1.71, 1.72; the fourth mesh 1.87, 1.89), and the
+// finest error is at least 1.4 times larger (measured 3.8e-2 against
+// 2.5e-2 for SUPG). On the "tri" pattern the recovery also lowers the
+// errors (2.3e-3 against 3.9e-3 on 96×128 squares, SUPG) but the orders
+// stay erratic (1.79, 1.47, 1.56): not asserted here.
+func TestKovasznayRecovered(t *testing.T) {
+	if testing.Short() {
+		t.Skip("two Navier–Stokes refinement studies with linear Newton convergence")
+	}
+	_, src, _ := stdlib.Model("navier_stokes_nonlinear")
+	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
+	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n", "at all: vel = [0, 0]\n", 1)
+	l := fmt.Sprintf("(%.17g)", 20-math.Sqrt(400+4*math.Pi*math.Pi))
+	exact := "[1 - exp(" + l + "*x)*cos(2*pi*y), " + l + "/(2*pi)*exp(" + l + "*x)*sin(2*pi*y)]; -exp(2*" + l + "*x)/2"
+	path := writeModel(t, s)
+	finest := map[string]float64{}
+	for _, recover := range []bool{true, false} {
+		rep := verifyJSON(t, path, "--method", "supg,vms", "--exact", exact, "--mesh", "span:-0.5,1,-0.5,1.5:6x8:quartered", "--levels", "3", "--check=false", fmt.Sprintf("--recover=%v", recover))
+		for _, tb := range rep.Methods {
+			if tb.Field != "vel" {
+				continue
+			}
+			last := tb.Levels[len(tb.Levels)-1]
+			t.Logf("%s (recovery %v): velocity L² order %.2f on the finest pair, error %.3e", tb.Method, recover, last.OrderL2, last.L2)
+			finest[fmt.Sprint(tb.Method, recover)] = last.L2
+			if recover && last.OrderL2 < 1.9 {
+				t.Errorf("%s with the recovery: velocity L² order %.2f, want ≥ 1.9", tb.Method, last.OrderL2)
+			}
+			if !recover && last.OrderL2 >= 1.8 {
+				t.Errorf("%s without the recovery: velocity L² order %.2f, the weak consistency should show (< 1.8)", tb.Method, last.OrderL2)
+			}
+		}
+	}
+	for _, meth := range []string{"supg", "vms"} {
+		if on, off := finest[meth+"true"], finest[meth+"false"]; !(off >= 1.4*on) {
+			t.Errorf("%s: finest velocity L² error %.3e with the recovery, %.3e without: want a factor ≥ 1.4", meth, on, off)
 		}
 	}
 }

@@ -100,6 +100,9 @@ type DeriveOptions struct {
 	// Jacobian says which approximations the Jacobian of a nonlinear model
 	// makes (none by default).
 	Jacobian JacobianOptions
+	// Recovery says whether lowering reconstructs the second derivatives
+	// the residual loses on linear elements (RecoverAuto by default).
+	Recovery Recovery
 }
 
 // Derive runs every stage for the methods requested (all of the model's
@@ -173,6 +176,9 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 		if nonlinear {
 			if f.Jacobian, err = deriveJacobian(m, d, &f, opts.Jacobian); err != nil {
 				return nil, err
+			}
+			if d.recovers(meth) {
+				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $g_h$ of the iterate, and $J$ holds $g_h$ fixed there: it leaves out $\partial g_h/\partial u$, the derivative through the projection (it is not local to a cell), so near the solution Newton converges linearly, at a rate set by the size of the recovered terms`))
 			}
 			for _, g := range f.Jacobian.Defs {
 				m.FineSym = append(m.FineSym, g.Sym)
@@ -445,7 +451,16 @@ func stabNotes(m *Model, meth Method, d *Derivation, f *MethodForm) []Note {
 				effect = `near element P\'eclet number 1 the $L^2$ rate can fall below 2 until the mesh resolves the diffusion`
 			}
 		}
-		add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174)`, lost, effect)
+		switch {
+		case d.recovers(meth):
+			add(Assumption, `on P1 the second derivatives of $u_h$ vanish inside each cell, so the strong residual would lose %s; they are reconstructed instead: $\partial_i\partial_j u_h \approx \frac{1}{2}(\partial_j g_{h,i} + \partial_i g_{h,j})$ cell by cell, where $g_h$, continuous and P1, is the recovered gradient of $u_h$ (per component): at each interior node $a$ the lumped-mass $L^2$ projection $g_h(x_a) = \int_\Omega \varphi_a \nabla u_h\,\mathrm{d}x / \int_\Omega \varphi_a\,\mathrm{d}x$, at a boundary node the least-squares linear fit to the interior values nearby. It is computed from the current iterate before each assembly, so the residual is consistent to the order of the recovery (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174). A linear problem iterates until $g_h$ matches $u_h$; switch the recovery off to solve it in one step`, lost)
+		case d.Options.Recovery == RecoverAuto && m.Dim == 1:
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); in one dimension the second derivatives are not recovered, since with the plain residual and the optimal $\tau$ SUPG is nodally exact for constant coefficients`, lost, effect)
+		case d.Options.Recovery == RecoverAuto && m.transient():
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174); the recovery of the second derivatives is not applied to time-stepped models`, lost, effect)
+		default:
+			add(Warning, `on P1 the strong residual loses %s of $u_h$ inside each cell, so the method is only weakly consistent: %s (Jansen, Collis, Whiting \& Shakib 1999, CMAME 174)`, lost, effect)
+		}
 	}
 	return notes
 }

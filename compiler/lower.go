@@ -60,6 +60,9 @@ func (d *Derivation) Lower(meth Method) (*ir.LoweredForm, error) {
 		lf.Integrals = append(lf.Integrals, in)
 	}
 	l.conditions(lf)
+	if d.recovers(meth) {
+		recoverSecondDerivatives(lf, m.Dim)
+	}
 	lf.MaxDerivative = maxDeriv(lf.Integrals)
 	return lf, nil
 }

@@ -422,6 +422,9 @@ func (d *Derivation) LowerNonlinear(meth Method) (*ir.NonlinearForm, error) {
 		step.Integrals = append(step.Integrals, in)
 	}
 	l.conditions(step)
+	if d.recovers(meth) {
+		recoverSecondDerivatives(step, m.Dim)
+	}
 	step.MaxDerivative = maxDeriv(step.Integrals)
 	nf := &ir.NonlinearForm{}
 	for _, a := range j.Approximations {

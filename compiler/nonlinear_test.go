@@ -130,7 +130,9 @@ func TestLinearisation(t *testing.T) {
 }
 
 // TestJacobianOptions: the exact Jacobian lists no approximation; freezing
-// τ or the test operator leaves out exactly their terms and says so.
+// τ or the test operator leaves out exactly their terms and says so. (With
+// the recovery of the P1 second derivatives on, the default, J also holds
+// the recovered field fixed and says so: one more approximation.)
 func TestJacobianOptions(t *testing.T) {
 	m := stdlibModel(t, "navier_stokes_nonlinear")
 	for _, c := range []struct {
@@ -144,7 +146,7 @@ func TestJacobianOptions(t *testing.T) {
 		{JacobianOptions{FreezeTest: true}, true, false, 1, "test operator"},
 		{JacobianOptions{FreezeTau: true, FreezeTest: true}, false, false, 2, "frozen"},
 	} {
-		d, err := DeriveWith(m, []Method{SUPG}, DeriveOptions{Jacobian: c.opts})
+		d, err := DeriveWith(m, []Method{SUPG}, DeriveOptions{Jacobian: c.opts, Recovery: RecoverOff})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -155,6 +157,13 @@ func TestJacobianOptions(t *testing.T) {
 		}
 		if len(j.Approximations) != c.approx || (c.approx > 0 && !strings.Contains(fmt.Sprint(j.Approximations), c.approxWords)) {
 			t.Errorf("%+v: approximations %q", c.opts, j.Approximations)
+		}
+		d, err = DeriveWith(m, []Method{SUPG}, DeriveOptions{Jacobian: c.opts})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if a := d.Forms[0].Jacobian.Approximations; len(a) != c.approx+1 || !strings.Contains(a[len(a)-1].Text, "recovered") {
+			t.Errorf("%+v with the recovery: approximations %q", c.opts, a)
 		}
 	}
 }

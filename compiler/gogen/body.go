@@ -11,6 +11,7 @@ import (
 // phases, each a method below with one job:
 //
 //	previous        the previous iterate, zeros when there is none
+//	recovered       its recovered gradient, zeros when there is none
 //	cellQuantities  geometry, cell quantities and coefficients constant in the cell
 //	guard           NaN output on a non-positive Jacobian determinant
 //	direct          everything integrated in advance: one assignment per entry
@@ -39,8 +40,25 @@ func (g *bodyGen) body(gs []*group, sym bool, cm *commenter, side string) (*body
 	}
 	sc := newScheduler(g.d)
 	w := &bodyWriter{g: g, sc: sc, need: sc.needed(roots), sym: sym, n: g.n}
+	// A recovered derivative may have dropped out of every entry (a
+	// factor that vanishes on the element): read the input only if a
+	// needed node does.
+	rec := false
+	isRec := func(id int) bool { n := &g.d.nodes[id]; return n.op == opLeaf && n.leaf == leafRec }
+	for id := range w.need {
+		if isRec(id) {
+			rec = true
+		}
+		for _, a := range g.d.nodes[id].args {
+			if isRec(a) {
+				rec = true
+			}
+		}
+	}
+	g.usesRec = rec
 	var out []stmt
 	out = append(out, w.previous()...)
+	out = append(out, w.recovered()...)
 	out = append(out, w.cellQuantities()...)
 	perPoint := g.d.nodes[g.det()].lv == lvPoint
 	if !perPoint {
@@ -51,7 +69,7 @@ func (g *bodyGen) body(gs []*group, sym bool, cm *commenter, side string) (*body
 	} else {
 		out = append(out, w.accumulated(pre, point, loops, roots, perPoint)...)
 	}
-	return &bodyPlan{facet: -1, points: g.nq, sym: sym, stmts: out, tables: g.order, prev: g.usesPrev,
+	return &bodyPlan{facet: -1, points: g.nq, sym: sym, stmts: out, tables: g.order, prev: g.usesPrev || g.usesRec, rec: g.usesRec,
 		usesSign: sc.usesSign, usesMin: sc.usesMin, usesMax: sc.usesMax}, nil
 }
 
@@ -62,6 +80,15 @@ func (w *bodyWriter) previous() []stmt {
 		return nil
 	}
 	return []stmt{commentStmt{[]string{" The previous iterate is zero when there is none."}}, previousStmt{w.n}}
+}
+
+// recovered makes the recovered gradient of the previous iterate
+// available (zeros when the input has none), if the body reads it.
+func (w *bodyWriter) recovered() []stmt {
+	if !w.g.usesRec {
+		return nil
+	}
+	return []stmt{commentStmt{[]string{" The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none."}}, recoveredStmt{w.n * w.g.dim}}
 }
 
 // cellQuantities defines the values constant in the cell.

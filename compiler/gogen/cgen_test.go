@@ -520,7 +520,7 @@ func TestCKernelsMatchInterpreted(t *testing.T) {
 				continue
 			}
 		}
-		forms, derived := lowerDerived(t, mc.file, []byte(mc.src))
+		forms, derived := lowerDerivedC(t, mc.file, []byte(mc.src))
 		if mc.name == "adrhex" || mc.name == "adrhex2" {
 			var gls []*ir.LoweredForm
 			for _, f := range forms {
@@ -560,7 +560,7 @@ func TestCHostileText(t *testing.T) {
 		if mc.name != "robin" && mc.name != "hostile" {
 			continue
 		}
-		forms, derived := lowerDerived(t, mc.file, []byte(mc.src))
+		forms, derived := lowerDerivedC(t, mc.file, []byte(mc.src))
 		if mc.name == "robin" {
 			rename := map[string]string{
 				"right": "right\"); abort(); (\"\\",

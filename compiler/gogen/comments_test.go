@@ -49,7 +49,9 @@ func TestCommentsStable(t *testing.T) {
 // derivation writes it (testdata/derive/stdlib_adr.txt, stages 5 and 6),
 // with the model line of its τ, and lists the
 // lowered terms with their model lines (stdlib/models/adr.fw: line 12 the
-// equation, line 15 the τ).
+// equation, line 15 the τ). The diffusive part of the SUPG residual reads
+// the recovered second derivatives of the iterate (compiler,
+// recoverSecondDerivatives), so it sits with the right-hand side.
 func TestBlockComments(t *testing.T) {
 	f, src := stdModel(t, "adr")
 	out := string(generate(t, f, string(src), "k"))
@@ -59,16 +61,16 @@ func TestBlockComments(t *testing.T) {
 		"\t// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients\n\t// constant in the cell).\n\t//\n",
 		"\t//\tGalerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx\n",
 		"\t//\tSUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15\n",
-		"\t//\t  τ_c · ∂c/∂x · ∂v/∂x         adr.fw:15\n",
-		"\t//\t  −τ_c/100 · ∂²c/∂x² · ∂v/∂x  adr.fw:12\n",
-		"\t//\t  1/100 · ∂c/∂x · ∂v/∂x       adr.fw:12\n",
+		"\t//\t  τ_c · ∂c/∂x · ∂v/∂x    adr.fw:15\n",
+		"\t//\t  1/100 · ∂c/∂x · ∂v/∂x  adr.fw:12\n",
+		"\t//\t  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x  adr.fw:12\n",
 	} {
 		if !strings.Contains(supg, want) {
 			t.Errorf("SUPG cell kernel lacks %q", want)
 		}
 	}
 	// The comment stands directly above the first statement of its block.
-	i := strings.Index(supg, "adr.fw:12\n\tA[0] = ")
+	i := strings.Index(supg, "adr.fw:15\n\tA[0] = ")
 	if i < 0 {
 		t.Error("the block comment is not directly above A[0]")
 	}

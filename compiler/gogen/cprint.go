@@ -68,6 +68,12 @@ func GenerateC(forms []*ir.LoweredForm, opts COptions) (header, source []byte, e
 	if !cNameRE.MatchString(opts.Name) {
 		return nil, nil, fmt.Errorf("gogen: C file name %q: use letters, digits, '_', '-' and '.'", opts.Name)
 	}
+	for _, lf := range forms {
+		if lf.ReadsRecovered() {
+			// The C ABI (struct fw_kernel_input) has no recovered gradient.
+			return nil, nil, fmt.Errorf("gogen: the %s form reads recovered second derivatives, which the C kernels cannot read: derive it with the recovery off (--recover=false)", lf.Method)
+		}
+	}
 	kf, err := planFile(forms, plan{methods: opts.Methods, derived: opts.Derived, loopAbove: opts.loopAbove})
 	if err != nil {
 		return nil, nil, err

@@ -47,6 +47,7 @@ type leafKind uint8
 const (
 	leafCoord leafKind = iota + 1 // coordinate idx of the geometry nodes (node-major)
 	leafPrev                      // local dof idx of the previous iterate
+	leafRec                       // entry idx of the recovered gradient (local dof·dim + axis)
 	leafTime                      // the time t
 	leafStep                      // the time step Δt
 	leafTable                     // table entry [q][idx] at the current point (idx < 0: [q])

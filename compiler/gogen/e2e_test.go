@@ -182,6 +182,12 @@ func main() {
 						in.Previous[i] = rng.Float64()*2 - 1
 					}
 				}
+				if lf.ReadsRecovered() {
+					in.Recovered = make([]float64, n*lf.Dim)
+					for i := range in.Recovered {
+						in.Recovered[i] = rng.Float64()*2 - 1
+					}
+				}
 				for i := range A2 {
 					A2[i] = math.NaN() // kernels overwrite
 				}

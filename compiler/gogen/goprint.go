@@ -407,6 +407,18 @@ func (w *goWriter) stmt(s stmt) []ast.Stmt {
 		body.Rbrace = w.pos()
 		iff := &ast.IfStmt{If: p, Cond: &ast.BinaryExpr{X: sel("in", "Previous"), Op: token.NEQ, Y: id("nil")}, Body: body}
 		return []ast.Stmt{decl, def, iff}
+	case recoveredStmt:
+		// var zeroR [n]float64; rv := zeroR[:]; if in.Recovered != nil { rv = in.Recovered[:n:n] }
+		decl := &ast.DeclStmt{Decl: &ast.GenDecl{TokPos: w.pos(), Tok: token.VAR, Specs: []ast.Spec{&ast.ValueSpec{
+			Names: []*ast.Ident{id("zeroR")}, Type: &ast.ArrayType{Len: intLitGo(s.n), Elt: id("float64")}}}}}
+		def := &ast.AssignStmt{Lhs: []ast.Expr{idAt("rv", w.pos())}, Tok: token.DEFINE, Rhs: []ast.Expr{&ast.SliceExpr{X: id("zeroR")}}}
+		p := w.pos()
+		body := &ast.BlockStmt{Lbrace: w.at(200)}
+		body.List = []ast.Stmt{&ast.AssignStmt{Lhs: []ast.Expr{idAt("rv", w.pos())}, Tok: token.ASSIGN,
+			Rhs: []ast.Expr{&ast.SliceExpr{X: sel("in", "Recovered"), High: intLitGo(s.n), Max: intLitGo(s.n), Slice3: true}}}}
+		body.Rbrace = w.pos()
+		iff := &ast.IfStmt{If: p, Cond: &ast.BinaryExpr{X: sel("in", "Recovered"), Op: token.NEQ, Y: id("nil")}, Body: body}
+		return []ast.Stmt{decl, def, iff}
 	}
 	panic(fmt.Sprintf("gogen: no Go for statement %T", s))
 }
@@ -448,6 +460,8 @@ func (w *goWriter) expr(x expr, ctx int) ast.Expr {
 			return index(id("x"), w.expr(x.index, 0))
 		case leafPrev:
 			return index(id("pv"), w.expr(x.index, 0))
+		case leafRec:
+			return index(id("rv"), w.expr(x.index, 0))
 		case leafTime:
 			return sel("in", "Time")
 		case leafStep:

@@ -24,6 +24,12 @@ func lowerAll(t testing.TB, file string, src []byte) []*ir.LoweredForm {
 // lowerDerivation is lowerAll that also returns the derivation.
 func lowerDerivation(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, *compiler.Derivation) {
 	t.Helper()
+	return lowerDerivationWith(t, file, src, compiler.DeriveOptions{})
+}
+
+// lowerDerivationWith is lowerDerivation with derivation options.
+func lowerDerivationWith(t testing.TB, file string, src []byte, opts compiler.DeriveOptions) ([]*ir.LoweredForm, *compiler.Derivation) {
+	t.Helper()
 	f, errs := lang.Parse(file, src)
 	m, cerrs := compiler.Check(f, compiler.CheckOptions{Load: stdlib.Module})
 	errs = append(errs, cerrs...)
@@ -32,7 +38,7 @@ func lowerDerivation(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, 
 		errs.Format(&b, m.Sources)
 		t.Fatalf("%s does not check:\n%s", file, b.String())
 	}
-	d, err := compiler.Derive(m, nil)
+	d, err := compiler.DeriveWith(m, nil, opts)
 	if err != nil {
 		t.Fatalf("%s: derive: %v", file, err)
 	}
@@ -319,4 +325,14 @@ stabilise supg, gls, vms
 tau for c = tau_doubly_asymptotic(norm(a), kappa, h)
 capture for c = capture_codina(7/10, norm(a), kappa, h, residual(c), grad(c), 1/100, 1/10000)` + tensor + `
 `
+}
+
+// lowerDerivedC is lowerDerived for the C back end: the forms are derived
+// with the recovery of the P1 residual's second derivatives off, since
+// the C kernels cannot read recovered derivatives (GenerateC refuses
+// them; `gen --lang c` derives without the recovery).
+func lowerDerivedC(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, map[string]Derived) {
+	t.Helper()
+	forms, d := lowerDerivationWith(t, file, src, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
+	return forms, derivedOf(d)
 }

@@ -75,7 +75,7 @@ func (s *scheduler) ref(id int) expr {
 func leafExpr(n *node) expr {
 	q := varRef{"q"}
 	switch n.leaf {
-	case leafCoord, leafPrev:
+	case leafCoord, leafPrev, leafRec:
 		return inputRef{n.leaf, intLit{n.idx}}
 	case leafTime, leafStep:
 		return inputRef{kind: n.leaf}

@@ -53,6 +53,7 @@ type bodyPlan struct {
 	stmts  []stmt
 	tables []*table
 	prev   bool // reads the previous iterate
+	rec    bool // reads the recovered gradient of the previous iterate
 	// usesSign, usesMin and usesMax record the helpers the body calls.
 	usesSign, usesMin, usesMax bool
 }
@@ -82,7 +83,7 @@ type varRef struct{ name string }
 // inputRef reads the kernel input: a geometry node coordinate or a
 // previous-iterate dof (index set), the time or the time step.
 type inputRef struct {
-	kind  leafKind // leafCoord, leafPrev, leafTime, leafStep
+	kind  leafKind // leafCoord, leafPrev, leafRec, leafTime, leafStep
 	index expr
 }
 
@@ -191,16 +192,21 @@ type copyStmt struct {
 // the input has none.
 type previousStmt struct{ n int }
 
-func (commentStmt) stmtNode()  {}
-func (defStmt) stmtNode()      {}
-func (setStmt) stmtNode()      {}
-func (arrayStmt) stmtNode()    {}
-func (forStmt) stmtNode()      {}
-func (rowStmt) stmtNode()      {}
-func (guardStmt) stmtNode()    {}
-func (zeroStmt) stmtNode()     {}
-func (copyStmt) stmtNode()     {}
-func (previousStmt) stmtNode() {}
+// recoveredStmt makes rv the n values of the recovered gradient at the
+// local dofs (kernel.CellInput.Recovered), zeros when the input has none.
+type recoveredStmt struct{ n int }
+
+func (commentStmt) stmtNode()   {}
+func (defStmt) stmtNode()       {}
+func (setStmt) stmtNode()       {}
+func (arrayStmt) stmtNode()     {}
+func (forStmt) stmtNode()       {}
+func (rowStmt) stmtNode()       {}
+func (guardStmt) stmtNode()     {}
+func (zeroStmt) stmtNode()      {}
+func (copyStmt) stmtNode()      {}
+func (previousStmt) stmtNode()  {}
+func (recoveredStmt) stmtNode() {}
 
 // Index arithmetic that folds constants, so that printed indices read
 // (i*9 + j) rather than ((0+i)*9 + 0 + j).

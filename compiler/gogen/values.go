@@ -56,6 +56,7 @@ type bodyGen struct {
 	err   error
 
 	usesPrev bool
+	usesRec  bool
 }
 
 func (g *bodyGen) fail(format string, a ...any) int {
@@ -597,6 +598,39 @@ func (g *bodyGen) basis(ei, a int, D [3]uint8) int {
 	return g.physHess(ei, a, ax[0], ax[1])
 }
 
+// recovered is a recovered second derivative D_ij u_c ≈ ½(∂_j g_i +
+// ∂_i g_j) of the previous iterate, from the recovered gradient g at the
+// element nodes (rv[l·dim + k] for local dof l, axis k; ir.Recovered).
+func (g *bodyGen) recovered(e *ir.FieldD) int {
+	d := g.d
+	if e.DT != 0 || order(e.D) != 2 {
+		return g.fail("gogen: a recovered derivative that is not of order 2")
+	}
+	f := e.Field.Index
+	if f < 0 || f >= len(g.fields) || e.Comp < 0 || e.Comp >= g.fields[f].comps {
+		return g.fail("gogen: recovered derivative of field %d component %d out of range", f, e.Comp)
+	}
+	for k := g.dim; k < 3; k++ {
+		if e.D[k] != 0 {
+			return g.fail("gogen: derivative along axis %d in %d dimensions", k, g.dim)
+		}
+	}
+	g.usesRec = true
+	ax := axes(e.D)
+	i, j := ax[0], ax[1]
+	var di, dj [3]uint8
+	di[i], dj[j] = 1, 1
+	fi := g.fields[f]
+	nn := fi.elem.NumNodes()
+	var ts []int
+	for a := 0; a < nn; a++ {
+		l := fi.off + e.Comp*nn + a
+		ts = append(ts, d.mul(d.input(leafRec, l*g.dim+i), g.basis(fi.ei, a, dj)))
+		ts = append(ts, d.mul(d.input(leafRec, l*g.dim+j), g.basis(fi.ei, a, di)))
+	}
+	return d.mul(d.konst(0.5), d.add(ts...))
+}
+
 // Coefficients.
 
 func (g *bodyGen) coef(e ir.Expr) int {
@@ -654,6 +688,9 @@ func (g *bodyGen) coef(e ir.Expr) int {
 		}
 		return g.fail("gogen: unknown quantity %v", e.Q)
 	case *ir.FieldD:
+		if e.Field != nil && e.Field.Role == ir.Recovered {
+			return g.recovered(e)
+		}
 		if e.Field == nil || e.Field.Role != ir.Previous {
 			return g.fail("gogen: a trial or test function inside a coefficient")
 		}

@@ -133,9 +133,19 @@ const (
 	// Jacobian form J(u; δu, v). It appears in derivations only: lowering
 	// makes it the trial function of the Newton step (see NonlinearForm).
 	Increment
+	// Recovered is a second derivative of the iterate that Previous
+	// denotes, reconstructed from the recovered gradient G_h of that
+	// iterate (a continuous field of the unknown's linear element; see
+	// LoweredForm.Recovery): a FieldD with this role and the second-order
+	// multi-index e_i + e_j reads ½(∂_j G_h,i + ∂_i G_h,j) of its
+	// component. It appears in lowered coefficients only, where the
+	// strong residual of a stabilised method on linear elements would
+	// otherwise lose the second derivatives of the unknown (Jansen,
+	// Collis, Whiting & Shakib 1999, CMAME 174).
+	Recovered
 )
 
-var roleNames = [...]string{"trial", "test", "previous", "increment"}
+var roleNames = [...]string{"trial", "test", "previous", "increment", "recovered"}
 
 func (r Role) String() string { return roleNames[r] }
 

@@ -214,6 +214,13 @@ func (lf *LoweredForm) Validate() error {
 					leafErr = bad("%v with %d arguments in a coefficient", x.Fn, len(x.Args))
 				}
 			case *FieldD:
+				if x.Field != nil && x.Field.Role == Recovered {
+					leafErr = field(x, Recovered)
+					if o := int(x.D[0]) + int(x.D[1]) + int(x.D[2]); leafErr == nil && o != 2 {
+						leafErr = bad("a recovered derivative of order %d of %s (recovery gives second derivatives only)", o, x.Field.Name)
+					}
+					break
+				}
 				leafErr = field(x, Previous)
 			default:
 				leafErr = bad("%T in a coefficient", x)
@@ -441,12 +448,23 @@ func (lf *LoweredForm) IsTransient() bool {
 }
 
 // ReadsPrevious reports whether a coefficient of the form reads the
-// previous iterate of an unknown (a Picard-iterated form).
+// previous iterate of an unknown (a Picard-iterated form), directly or
+// through the second derivatives recovered from it.
 func (lf *LoweredForm) ReadsPrevious() bool {
+	return lf.reads(Previous) || lf.reads(Recovered)
+}
+
+// ReadsRecovered reports whether a coefficient of the form reads a
+// recovered second derivative of the previous iterate (Role Recovered):
+// the runtime then computes the recovered gradient of the iterate before
+// each assembly and hands it to the kernels (CellInput.Recovered).
+func (lf *LoweredForm) ReadsRecovered() bool { return lf.reads(Recovered) }
+
+func (lf *LoweredForm) reads(r Role) bool {
 	for _, in := range lf.Integrals {
 		for _, ts := range [][]Term{in.Bilinear, in.Linear} {
 			for _, t := range ts {
-				if HasRole(t.Coef, Previous) {
+				if HasRole(t.Coef, r) {
 					return true
 				}
 			}

@@ -151,6 +151,14 @@ func mapUp(e Expr, f func(Expr) Expr, done map[Expr]Expr) Expr {
 	return r
 }
 
+// Mapper is MapUp with one memo across calls: expressions that share
+// subexpressions (the coefficients of one lowered form, which share their
+// Named nodes) are rebuilt so that the results share them too.
+func Mapper(f func(Expr) Expr) func(Expr) Expr {
+	done := map[Expr]Expr{}
+	return func(e Expr) Expr { return mapUp(e, f, done) }
+}
+
 // Expand returns e with every Named node replaced by its definition.
 func Expand(e Expr) Expr {
 	return MapUp(e, func(x Expr) Expr {

@@ -15,7 +15,7 @@ import (
 // mathText maps the math-mode commands notes may use to Unicode.
 var mathText = map[string]string{
 	`\tau`: "τ", `\sigma`: "σ", `\kappa`: "κ", `\nu`: "ν", `\varepsilon`: "ε", `\epsilon`: "ε",
-	`\delta`: "δ", `\lambda`: "λ", `\alpha`: "α", `\beta`: "β", `\mu`: "μ", `\rho`: "ρ", `\omega`: "ω",
+	`\delta`: "δ", `\lambda`: "λ", `\alpha`: "α", `\beta`: "β", `\mu`: "μ", `\rho`: "ρ", `\omega`: "ω", `\varphi`: "φ",
 	`\Omega`: "Ω", `\Delta`: "Δ", `\Sigma`: "Σ", `\Gamma`: "Γ", `\nabla`: "∇", `\partial`: "∂",
 	`\cdot`: "·", `\approx`: "≈", `\neq`: "≠", `\le`: "≤", `\ge`: "≥", `\pm`: "±", `\otimes`: "⊗",
 	`\int`: "∫", `\sum`: "Σ", `\ldots`: "…", `\lVert`: "‖", `\rVert`: "‖", `\|`: "‖", `\to`: "→",

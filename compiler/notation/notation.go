@@ -191,6 +191,16 @@ func (p printer) expr(e ir.Expr) (string, int) {
 				return `\delta ` + p.name(e.Name), precAtom
 			}
 			return "δ" + p.name(e.Name), precAtom
+		case ir.Recovered:
+			// Only in lowered forms: the second derivatives recovered
+			// from the iterate's projected gradient.
+			switch p.style {
+			case Syntax:
+				return "recovered(" + e.Name + ")", precAtom
+			case LaTeX:
+				return p.name(e.Name) + `^{\mathrm{rec}}`, precAtom
+			}
+			return p.name(e.Name) + "⁽ʳᵉᶜ⁾", precAtom
 		}
 		return p.name(e.Name), precAtom
 	case *ir.Add:
@@ -278,6 +288,8 @@ func (p printer) fieldD(f *ir.FieldD) string {
 		base = "previous(" + f.Field.Name + ")"
 	case ir.Increment:
 		base = "increment(" + f.Field.Name + ")"
+	case ir.Recovered:
+		base = "recovered(" + f.Field.Name + ")"
 	default:
 		base = f.Field.Name
 	}

@@ -84,6 +84,11 @@ type Input struct {
 	Step float64
 	// Previous is the global dof vector of the previous iterate, or nil.
 	Previous []float64
+	// Recovered is the recovered gradient of the previous iterate at the
+	// nodes, Dim values per dof (∂_k of dof g at g·Dim + k), for kernels
+	// that read recovered second derivatives; nil when none do. The
+	// kernels receive it gathered per cell (kernel.CellInput.Recovered).
+	Recovered []float64
 }
 
 // LayoutError reports a kernel whose layout does not match the dof map.
@@ -124,6 +129,7 @@ type worker struct {
 	k    kernel.Kernel
 	in   kernel.CellInput
 	prev []float64
+	rec  []float64
 	Ae   []float64
 	be   []float64
 	_    [cacheLine]byte
@@ -264,6 +270,9 @@ func (a *Assembler) Assemble(k kernel.Kernel, facets []kernel.FacetKernel, A *sp
 	if in.Previous != nil && len(in.Previous) != a.Dofs.NumDofs {
 		panic(fmt.Sprintf("assemble: previous iterate of length %d for %d dofs", len(in.Previous), a.Dofs.NumDofs))
 	}
+	if in.Recovered != nil && len(in.Recovered) != a.Dofs.NumDofs*a.Mesh.Dim {
+		panic(fmt.Sprintf("assemble: recovered gradient of length %d for %d dofs in %d dimensions", len(in.Recovered), a.Dofs.NumDofs, a.Mesh.Dim))
+	}
 	sides := make([][]mesh.FacetRef, len(facets))
 	for i, fk := range facets {
 		f, ok := a.Mesh.Boundaries[fk.Side()]
@@ -285,7 +294,7 @@ func (a *Assembler) Assemble(k kernel.Kernel, facets []kernel.FacetKernel, A *sp
 	a.growLogs()
 	if W == 1 {
 		for c := range nch {
-			a.runChunk(ws[0], c, A, b, in.Previous)
+			a.runChunk(ws[0], c, A, b, in.Previous, in.Recovered)
 		}
 	} else {
 		var next atomic.Int64
@@ -297,7 +306,7 @@ func (a *Assembler) Assemble(k kernel.Kernel, facets []kernel.FacetKernel, A *sp
 					if c >= nch {
 						return
 					}
-					a.runChunk(ws[w], c, A, b, in.Previous)
+					a.runChunk(ws[w], c, A, b, in.Previous, in.Recovered)
 				}
 			}
 			if w == W-1 {
@@ -347,7 +356,7 @@ func (a *Assembler) growLogs() {
 
 // runChunk zeroes the rows chunk k owns, then computes and adds the
 // element data of its cells (see chunkPlan).
-func (a *Assembler) runChunk(w *worker, k int, A *sparse.CSR, b, prev []float64) {
+func (a *Assembler) runChunk(w *worker, k int, A *sparse.CSR, b, prev, rec []float64) {
 	p := &a.plan
 	rp := A.RowPtr
 	for _, r := range p.rows[k] {
@@ -369,7 +378,7 @@ func (a *Assembler) runChunk(w *worker, k int, A *sparse.CSR, b, prev []float64)
 		// the scatter's scattered memory accesses run as separate loops.
 		for c := c0; c < c1; c++ {
 			i := c - c0
-			a.compute(w, c, w.Ae[i*n2:(i+1)*n2], w.be[i*n:(i+1)*n], prev)
+			a.compute(w, c, w.Ae[i*n2:(i+1)*n2], w.be[i*n:(i+1)*n], prev, rec)
 		}
 		for c := c0; c < c1; c++ {
 			i := c - c0
@@ -430,6 +439,9 @@ func (a *Assembler) newWorker(k kernel.Kernel, w int, in Input) *worker {
 	if in.Previous != nil {
 		wk.prev = padded(a.nLocal)
 	}
+	if in.Recovered != nil {
+		wk.rec = padded(a.nLocal * a.Mesh.Dim)
+	}
 	wk.Ae = padded(microBatch * a.nLocal * a.nLocal)
 	wk.be = padded(microBatch * a.nLocal)
 	return wk
@@ -456,12 +468,19 @@ func (a *Assembler) gatherCoords(c int, dst []float64) {
 }
 
 // compute runs the kernel on cell c into Ae, be. No allocation.
-func (a *Assembler) compute(w *worker, c int, Ae, be, prev []float64) {
+func (a *Assembler) compute(w *worker, c int, Ae, be, prev, rec []float64) {
 	a.gatherCoords(c, w.in.Coords)
 	w.in.Index = c
 	if prev != nil {
 		a.Dofs.Gather(c, prev, w.prev)
 		w.in.Previous = w.prev
+	}
+	if rec != nil {
+		d := a.Mesh.Dim
+		for l, g := range a.Dofs.CellDofs(c) {
+			copy(w.rec[l*d:(l+1)*d], rec[int(g)*d:(int(g)+1)*d])
+		}
+		w.in.Recovered = w.rec
 	}
 	w.k.Cell(&w.in, Ae, be)
 }

@@ -98,7 +98,7 @@ func TestPerCellPathDoesNotAllocate(t *testing.T) {
 	Ae, be := make([]float64, 9), make([]float64, 3)
 	c := 0
 	allocs := testing.AllocsPerRun(200, func() {
-		a.compute(w, c, Ae, be, nil)
+		a.compute(w, c, Ae, be, nil, nil)
 		a.scatterCell(A, b, c, Ae, be)
 		c = (c + 1) % a.Dofs.NumCells
 	})

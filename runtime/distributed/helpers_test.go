@@ -82,7 +82,9 @@ func lowerC(m *compiler.Model, method string) (*ir.LoweredForm, Kernels, error) 
 	if !ok {
 		return nil, Kernels{}, fmt.Errorf("no method %s", method)
 	}
-	d, err := compiler.Derive(m, []compiler.Method{meth})
+	// The engine's C kernels cannot read recovered second derivatives:
+	// derive with the recovery off, as the command does for --engine petsc.
+	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
 	if err != nil {
 		return nil, Kernels{}, err
 	}

@@ -87,6 +87,10 @@ func Solve(form *ir.LoweredForm, m *mesh.Mesh, k Kernels, opts Options) (*proble
 	if form.IsTransient() {
 		return nil, nil, &UnsupportedError{What: "transient forms"}
 	}
+	if form.ReadsRecovered() {
+		// The driver has no gradient recovery (runtime/problem.RecoverGradient).
+		return nil, nil, &UnsupportedError{What: "forms that read recovered second derivatives (derive them with the recovery off: --recover=false)"}
+	}
 	tc, err := findToolchain()
 	if err != nil {
 		return nil, nil, err

@@ -68,6 +68,16 @@ type prevPlan struct {
 	slot, off, vec int // off: local offset of (field, comp)
 }
 
+// recPlan evaluates a recovered second derivative D_ij u ≈ ½(∂_j g_i +
+// ∂_i g_j) of one component from the recovered gradient g at the nodes
+// (kernel.CellInput.Recovered: local dof l, axis k at l·dim + k): vi and
+// vj are the basis-derivative vectors ∂_i φ and ∂_j φ.
+type recPlan struct {
+	slot, off, nn int
+	i, j          int
+	vi, vj        int
+}
+
 // integrand is the compiled, read-only description of Σ terms of one
 // domain, shared by a kernel and its forks.
 type integrand struct {
@@ -87,6 +97,7 @@ type integrand struct {
 	blocks    []blockPlan
 	linear    []linPlan
 	prev      []prevPlan
+	rec       []recPlan
 	needDiam  bool
 	needVol   bool
 	affine    bool // simplex cells with their linear geometry
@@ -261,6 +272,17 @@ func newIntegrand(form *ir.LoweredForm, lay kernel.Layout, bil, lin []ir.Term) (
 			vec:  vecID(p.Field, p.D),
 		})
 	}
+	for _, p := range it.slots.Recovered() {
+		if p.Field < 0 || p.Field >= len(lay.Fields) || p.Comp < 0 || p.Comp >= lay.Fields[p.Field].Components {
+			return nil, fmt.Errorf("interp: recovered derivative of field %d component %d out of range", p.Field, p.Comp)
+		}
+		i, j := axisOf(p.D, 0), axisOf(p.D, 1)
+		var di, dj [3]uint8
+		di[i], dj[j] = 1, 1
+		nn := lay.Fields[p.Field].Element.NumNodes()
+		it.rec = append(it.rec, recPlan{slot: p.Slot, off: it.fieldOff[p.Field] + p.Comp*nn, nn: nn,
+			i: i, j: j, vi: vecID(p.Field, di), vj: vecID(p.Field, dj)})
+	}
 	return it, nil
 }
 
@@ -275,8 +297,9 @@ func usesQuantity(e ir.Expr, want ir.Quantity) bool {
 	return found
 }
 
-// NeedsPrevious reports whether the coefficients read a previous iterate.
-func (it *integrand) NeedsPrevious() bool { return len(it.prev) > 0 }
+// NeedsPrevious reports whether the coefficients read a previous iterate
+// (directly or through its recovered derivatives).
+func (it *integrand) NeedsPrevious() bool { return len(it.prev) > 0 || len(it.rec) > 0 }
 
 func (it *integrand) newScratch(tabs []*element.Table) *scratch {
 	s := &scratch{
@@ -458,6 +481,19 @@ func (it *integrand) point(s *scratch, tabs []*element.Table, q int, in *kernel.
 			sum += pv[i] * v[i]
 		}
 		s.env[p.slot] = sum
+	}
+	for _, p := range it.rec {
+		if in.Recovered == nil {
+			s.env[p.slot] = 0
+			continue
+		}
+		vi, vj := s.vec[p.vi][:p.nn], s.vec[p.vj][:p.nn]
+		sum := 0.0
+		for a := 0; a < p.nn; a++ {
+			l := (p.off + a) * d
+			sum += in.Recovered[l+p.i]*vj[a] + in.Recovered[l+p.j]*vi[a]
+		}
+		s.env[p.slot] = sum / 2
 	}
 	return w, true
 }

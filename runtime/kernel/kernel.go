@@ -46,6 +46,11 @@ type CellInput struct {
 	// Previous holds the local dof values of the previous iterate, in
 	// local dof order; nil when there is none.
 	Previous []float64
+	// Recovered holds the recovered gradient of the previous iterate at
+	// the element nodes, for forms that read recovered second derivatives
+	// (ir.Recovered): ∂_k of local dof l at l·Dim + k, Dim values per
+	// local dof; nil when the form reads none (kernels then read zeros).
+	Recovered []float64
 }
 
 // FacetInput is what a facet kernel receives: the cell input of the cell

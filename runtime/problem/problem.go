@@ -290,7 +290,13 @@ type system struct {
 	A        *sparse.CSR
 	b        []float64
 	needPrev bool
-	means    []meanFix
+	// needRec says the form reads recovered second derivatives
+	// (ir.LoweredForm.ReadsRecovered): each assembly first recovers the
+	// gradient of the previous iterate into rec (RecoverGradient).
+	needRec bool
+	recov   *GradientRecovery
+	rec     []float64
+	means   []meanFix
 	// mass, if not nil, is the old time level of a Picard-iterated time
 	// step (splitBackwardEuler): each iteration assembles the mass form
 	// with the current iterate and adds M(u_prev) uⁿ to the right-hand
@@ -376,6 +382,13 @@ func newSystem(form *ir.LoweredForm, m *mesh.Mesh, opts Options) (*system, error
 	// Whether the form reads the previous iterate is a property of the
 	// form, whichever kernels implement it; a kernel may also say so.
 	s.needPrev = form.ReadsPrevious()
+	if form.ReadsRecovered() {
+		s.needRec = true
+		if s.recov, err = NewGradientRecovery(m, dm); err != nil {
+			return nil, err
+		}
+		s.rec = make([]float64, dm.NumDofs*dm.Dim)
+	}
 	if p, ok := s.cellK.(previousUser); ok && p.NeedsPrevious() {
 		s.needPrev = true
 	}
@@ -611,9 +624,16 @@ func (s *system) solution(x []float64, sum Summary, t float64) *Solution {
 	return sol
 }
 
-// assemble assembles the form into s.A and s.b, with the old time level
-// M uⁿ of a Picard-iterated time step added to the right-hand side.
+// assemble assembles the form into s.A and s.b (recovering the gradient of
+// the previous iterate first when the form reads recovered derivatives),
+// with the old time level M uⁿ of a Picard-iterated time step added to the right-hand side.
 func (s *system) assemble(in assemble.Input) error {
+	if s.needRec && in.Previous != nil {
+		if err := s.recov.Recover(in.Previous, s.rec); err != nil {
+			return err
+		}
+		in.Recovered = s.rec
+	}
 	if err := s.asm.Assemble(s.cellK, s.facetK, s.A, s.b, in); err != nil {
 		return err
 	}

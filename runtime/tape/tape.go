@@ -69,11 +69,28 @@ type PrevInput struct {
 // programs that read the same environment.
 type Slots struct {
 	prev []PrevInput
+	rec  []PrevInput
 	aux  int
 }
 
 // Len is the length an environment must have.
-func (s *Slots) Len() int { return numFixedSlots + len(s.prev) + s.aux }
+func (s *Slots) Len() int { return numFixedSlots + len(s.prev) + len(s.rec) + s.aux }
+
+// Recovered lists the recovered second derivatives of the previous
+// iterate (FieldD with Role ir.Recovered; D is of order 2) with their
+// slots, in slot order. Shared slice: do not modify.
+func (s *Slots) Recovered() []PrevInput { return s.rec }
+
+func (s *Slots) recSlot(f *ir.FieldD) int {
+	for _, p := range s.rec {
+		if p.Field == f.Field.Index && p.Comp == f.Comp && p.D == f.D {
+			return p.Slot
+		}
+	}
+	p := PrevInput{Field: f.Field.Index, Comp: f.Comp, D: f.D, Slot: s.Len()}
+	s.rec = append(s.rec, p)
+	return p.Slot
+}
 
 // Aux reserves a new slot for a value the caller computes (e.g. a
 // per-cell subexpression hoisted out of per-point tapes) and returns it.
@@ -489,6 +506,13 @@ func (c *compiler) node(e ir.Expr) (Deps, error) {
 		}
 		return 0, &UnsupportedError{fmt.Sprintf("quantity %v", e.Q)}
 	case *ir.FieldD:
+		if e.Field != nil && e.Field.Role == ir.Recovered {
+			if e.DT != 0 || int(e.D[0])+int(e.D[1])+int(e.D[2]) != 2 {
+				return 0, &UnsupportedError{"recovered derivative that is not of order 2"}
+			}
+			c.emit(opLoad, int32(c.slots.recSlot(e)), 1)
+			return DepPoint, nil
+		}
 		if e.Field == nil || e.Field.Role != ir.Previous {
 			return 0, &UnsupportedError{"field that is not a previous iterate"}
 		}

@@ -21,7 +21,7 @@ func init() {
 			return AdrGalerkinKernel{}
 		},
 	})
-	compiled.Register("9b18b17bb0ccba53dd5d9bc2f7838c2c", compiled.Kernels{
+	compiled.Register("bc8ef09ff6ce55f8072661387dfdd4d5", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return AdrSUPGKernel{}
 		},
 	})
-	compiled.Register("af4a43a1c344abaae1bb5949f2a358fa", compiled.Kernels{
+	compiled.Register("52868e60e8ad2b6dde4024041456d1d4", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return AdrGLSKernel{}
 		},
 	})
-	compiled.Register("3386bd6a8a4fc311b23ce5bb6f1fa43e", compiled.Kernels{
+	compiled.Register("f48369b9299a12fbda89a671aec8430e", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -169,6 +169,12 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -192,65 +198,94 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
 	tau_c := c17 * c20
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c22 := j01 * j10
 	detJ := c21 - c22
-	c23 := j01 * (-0.5)
-	c24 := 0.5 * j00
-	c25 := j01 * j01
-	c26 := 0.25 * c25
-	c27 := 0.01 * c25
-	c28 := j00 * j01
-	c29 := c28 * (-0.25)
-	c30 := (-0.01) * c28
-	c31 := j00 * j00
-	c32 := 0.25 * c31
-	c33 := 0.01 * c31
-	c34 := j11 * j01
-	c35 := (-0.5) * c34
-	c36 := 0.5 * c22
-	c37 := 0.5 * c21
-	c38 := j00 * j10
-	c39 := (-0.5) * c38
-	c40 := j11 * j11
-	c41 := j11 * j10
-	c42 := j10 * j10
-	c43 := 0.01 * c40
-	c44 := (-0.01) * c41
-	c45 := 0.01 * c42
-	c46 := j11 + c23
-	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c48 := c27 + c43
-	c49 := rdetJ * c48
-	c50 := c26 + c35 + c35 + c40
-	c51 := rdetJ * c50
-	c52 := c30 + c44
-	c53 := rdetJ * c52
-	c54 := c29 + c36 + c37 - c41
-	c55 := rdetJ * c54
-	c56 := c33 + c45
-	c57 := rdetJ * c56
-	c58 := c32 + c39 + c39 + c42
-	c59 := rdetJ * c58
-	c60 := 0.5 * c51
-	c61 := 0.5 * c55
-	c62 := 0.5 * c59
-	c63 := c60 + c61 + c61 + c62
-	c64 := (-0.5) * c51
-	c65 := (-0.5) * c55
-	c66 := c64 + c65
-	c67 := (-0.5) * c59
-	c68 := c65 + c67
-	c69 := (-0.5) * c46
-	c70 := (-0.5) * c47
-	c71 := c69 + c70
-	c72 := 0.5 * c46
-	c73 := 0.5 * c47
+	k00 := j11 * rdetJ
+	c23 := j10 * rdetJ
+	c24 := c23 - k00
+	c25 := rv[0] * c24
+	c26 := k00 * rv[2]
+	c27 := c23 * rv[4]
+	c28 := c25 + c25 + c26 + c26 - c27 - c27
+	c29 := 0.5 * c28
+	c30 := tau_c * c29
+	c31 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c32 := c31 - k11
+	c33 := rv[1] * c32
+	c34 := c31 * rv[3]
+	c35 := k11 * rv[5]
+	c36 := c33 + c33 - c34 - c34 + c35 + c35
+	c37 := 0.5 * c36
+	c38 := tau_c * c37
+	c39 := j01 * (-0.5)
+	c40 := 0.5 * j00
+	c41 := j01 * j01
+	c42 := 0.25 * c41
+	c43 := 0.01 * c41
+	c44 := j00 * j01
+	c45 := c44 * (-0.25)
+	c46 := c44 * (-0.01)
+	c47 := j00 * j00
+	c48 := 0.25 * c47
+	c49 := 0.01 * c47
+	c50 := j11 * j01
+	c51 := (-0.5) * c50
+	c52 := 0.5 * c22
+	c53 := 0.5 * c21
+	c54 := j00 * j10
+	c55 := (-0.5) * c54
+	c56 := j11 * j11
+	c57 := 0.01 * c56
+	c58 := j11 * j10
+	c59 := (-0.01) * c58
+	c60 := j10 * j10
+	c61 := 0.01 * c60
+	c62 := j11 + c39
+	c63 := c40 - j10
+	c64 := c43 + c57
+	c65 := rdetJ * c64
+	c66 := c42 + c51 + c51 + c56
+	c67 := rdetJ * c66
+	c68 := c46 + c59
+	c69 := rdetJ * c68
+	c70 := c45 + c52 + c53 - c58
+	c71 := rdetJ * c70
+	c72 := c49 + c61
+	c73 := rdetJ * c72
+	c74 := c48 + c55 + c55 + c60
+	c75 := rdetJ * c74
+	c76 := 0.5 * c67
+	c77 := 0.5 * c71
+	c78 := 0.5 * c75
+	c79 := c76 + c77 + c77 + c78
+	c80 := (-0.5) * c67
+	c81 := (-0.5) * c71
+	c82 := c80 + c81
+	c83 := (-0.5) * c75
+	c84 := c81 + c83
+	c85 := j01 * (-0.005)
+	c86 := 0.005 * j00
+	c87 := 0.01 * j11
+	c88 := j10 * (-0.01)
+	c89 := c85 + c87
+	c90 := c86 + c88
+	c91 := (-0.5) * c62
+	c92 := (-0.5) * c63
+	c93 := c91 + c92
+	c94 := (-0.5) * c89
+	c95 := (-0.5) * c90
+	c96 := c94 + c95
+	c97 := 0.5 * c62
+	c98 := 0.5 * c89
+	c99 := 0.5 * c63
+	c100 := 0.5 * c90
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
@@ -259,39 +294,39 @@ func (AdrSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
-	//	  1/2 · ∂c/∂y · v             adr.fw:12
-	//	  ∂c/∂x · v                   adr.fw:12
-	//	  1/100 · ∂c/∂y · ∂v/∂y       adr.fw:12
-	//	  1/100 · ∂c/∂x · ∂v/∂x       adr.fw:12
+	//	  1/2 · ∂c/∂y · v        adr.fw:12
+	//	  ∂c/∂x · v              adr.fw:12
+	//	  1/100 · ∂c/∂y · ∂v/∂y  adr.fw:12
+	//	  1/100 · ∂c/∂x · ∂v/∂x  adr.fw:12
 	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
-	//	  τ_c/4 · ∂c/∂y · ∂v/∂y       adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y  adr.fw:12
-	//	  τ_c/2 · ∂c/∂x · ∂v/∂y       adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y  adr.fw:12
-	//	  τ_c/2 · ∂c/∂y · ∂v/∂x       adr.fw:12
-	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x  adr.fw:12
-	//	  τ_c · ∂c/∂x · ∂v/∂x         adr.fw:15
-	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x  adr.fw:12
-	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
-	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
-	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
-	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
-	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
-	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
-	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
-	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
-	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	//	  τ_c/4 · ∂c/∂y · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂x · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂c/∂y · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂c/∂x · ∂v/∂x    adr.fw:15
+	A[0] = (1.0/6)*(-c62-c63) + 0.5*(c65+c73) + c69 + tau_c*c79
+	A[1] = (1.0/6)*c62 + 0.5*(-c65-c69) + tau_c*c82
+	A[2] = (1.0/6)*c63 + 0.5*(-c69-c73) + tau_c*c84
+	A[3] = (1.0/6)*(-c62-c63) + 0.5*(-c65-c69) + tau_c*c82
+	A[4] = (1.0/6)*c62 + 0.5*c65 + tau_c*c76
+	A[5] = (1.0/6)*c63 + 0.5*c69 + tau_c*c77
+	A[6] = (1.0/6)*(-c62-c63) + 0.5*(-c69-c73) + tau_c*c84
+	A[7] = (1.0/6)*c62 + 0.5*c69 + tau_c*c77
+	A[8] = (1.0/6)*c63 + 0.5*c73 + tau_c*c78
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
-	//	  v              adr.fw:12
-	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K  adr.fw:15
-	//	  τ_c/2 · ∂v/∂y  adr.fw:12
-	//	  τ_c · ∂v/∂x    adr.fw:15
-	b[0] = (1.0/6)*detJ + tau_c*c71
-	b[1] = (1.0/6)*detJ + tau_c*c72
-	b[2] = (1.0/6)*detJ + tau_c*c73
+	//	  v                             adr.fw:12
+	//	SUPG: + Σ_K (τ_c R_c, a·∇v)_K   adr.fw:15
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂v/∂y                 adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂v/∂x                   adr.fw:15
+	b[0] = (1.0/6)*detJ + tau_c*c93 + c30*c96 + c38*c96
+	b[1] = (1.0/6)*detJ + tau_c*c97 + c30*c98 + c38*c98
+	b[2] = (1.0/6)*detJ + tau_c*c99 + c30*c100 + c38*c100
 }
 
 // fwAdrGLSLayout is the element layout of the gls kernels: triangle cells,
@@ -324,6 +359,12 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -347,65 +388,94 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
 	tau_c := c17 * c20
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c22 := j01 * j10
 	detJ := c21 - c22
-	c23 := j01 * (-0.5)
-	c24 := 0.5 * j00
-	c25 := j01 * j01
-	c26 := 0.25 * c25
-	c27 := 0.01 * c25
-	c28 := j00 * j01
-	c29 := c28 * (-0.25)
-	c30 := (-0.01) * c28
-	c31 := j00 * j00
-	c32 := 0.25 * c31
-	c33 := 0.01 * c31
-	c34 := j11 * j01
-	c35 := (-0.5) * c34
-	c36 := 0.5 * c22
-	c37 := 0.5 * c21
-	c38 := j00 * j10
-	c39 := (-0.5) * c38
-	c40 := j11 * j11
-	c41 := j11 * j10
-	c42 := j10 * j10
-	c43 := 0.01 * c40
-	c44 := (-0.01) * c41
-	c45 := 0.01 * c42
-	c46 := j11 + c23
-	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c48 := c27 + c43
-	c49 := rdetJ * c48
-	c50 := c26 + c35 + c35 + c40
-	c51 := rdetJ * c50
-	c52 := c30 + c44
-	c53 := rdetJ * c52
-	c54 := c29 + c36 + c37 - c41
-	c55 := rdetJ * c54
-	c56 := c33 + c45
-	c57 := rdetJ * c56
-	c58 := c32 + c39 + c39 + c42
-	c59 := rdetJ * c58
-	c60 := 0.5 * c51
-	c61 := 0.5 * c55
-	c62 := 0.5 * c59
-	c63 := c60 + c61 + c61 + c62
-	c64 := (-0.5) * c51
-	c65 := (-0.5) * c55
-	c66 := c64 + c65
-	c67 := (-0.5) * c59
-	c68 := c65 + c67
-	c69 := (-0.5) * c46
-	c70 := (-0.5) * c47
-	c71 := c69 + c70
-	c72 := 0.5 * c46
-	c73 := 0.5 * c47
+	k00 := j11 * rdetJ
+	c23 := j10 * rdetJ
+	c24 := c23 - k00
+	c25 := rv[0] * c24
+	c26 := k00 * rv[2]
+	c27 := c23 * rv[4]
+	c28 := c25 + c25 + c26 + c26 - c27 - c27
+	c29 := 0.5 * c28
+	c30 := tau_c * c29
+	c31 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c32 := c31 - k11
+	c33 := rv[1] * c32
+	c34 := c31 * rv[3]
+	c35 := k11 * rv[5]
+	c36 := c33 + c33 - c34 - c34 + c35 + c35
+	c37 := 0.5 * c36
+	c38 := tau_c * c37
+	c39 := j01 * (-0.5)
+	c40 := 0.5 * j00
+	c41 := j01 * j01
+	c42 := 0.25 * c41
+	c43 := 0.01 * c41
+	c44 := j00 * j01
+	c45 := c44 * (-0.25)
+	c46 := (-0.01) * c44
+	c47 := j00 * j00
+	c48 := 0.25 * c47
+	c49 := 0.01 * c47
+	c50 := j11 * j01
+	c51 := (-0.5) * c50
+	c52 := 0.5 * c22
+	c53 := 0.5 * c21
+	c54 := j00 * j10
+	c55 := (-0.5) * c54
+	c56 := j11 * j11
+	c57 := j11 * j10
+	c58 := j10 * j10
+	c59 := 0.01 * c56
+	c60 := (-0.01) * c57
+	c61 := 0.01 * c58
+	c62 := j11 + c39
+	c63 := c40 - j10
+	c64 := c43 + c59
+	c65 := rdetJ * c64
+	c66 := c42 + c51 + c51 + c56
+	c67 := rdetJ * c66
+	c68 := c46 + c60
+	c69 := rdetJ * c68
+	c70 := c45 + c52 + c53 - c57
+	c71 := rdetJ * c70
+	c72 := c49 + c61
+	c73 := rdetJ * c72
+	c74 := c48 + c55 + c55 + c58
+	c75 := rdetJ * c74
+	c76 := 0.5 * c67
+	c77 := 0.5 * c71
+	c78 := 0.5 * c75
+	c79 := c76 + c77 + c77 + c78
+	c80 := (-0.5) * c67
+	c81 := (-0.5) * c71
+	c82 := c80 + c81
+	c83 := (-0.5) * c75
+	c84 := c81 + c83
+	c85 := (-0.005) * j01
+	c86 := 0.005 * j00
+	c87 := 0.01 * j11
+	c88 := (-0.01) * j10
+	c89 := c85 + c87
+	c90 := c86 + c88
+	c91 := (-0.5) * c62
+	c92 := (-0.5) * c63
+	c93 := c91 + c92
+	c94 := (-0.5) * c89
+	c95 := (-0.5) * c90
+	c96 := c94 + c95
+	c97 := 0.5 * c62
+	c98 := 0.5 * c89
+	c99 := 0.5 * c63
+	c100 := 0.5 * c90
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
@@ -420,43 +490,43 @@ func (AdrGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/100 · ∂c/∂x · ∂v/∂x          adr.fw:12
 	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
 	//	  τ_c/4 · ∂c/∂y · ∂v/∂y          adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y     adr.fw:12
 	//	  τ_c/2 · ∂c/∂x · ∂v/∂y          adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y     adr.fw:12
 	//	  −τ_c/200 · ∂c/∂y · ∂²v/∂y²     adr.fw:12
 	//	  τ_c/10000 · ∂²c/∂y² · ∂²v/∂y²  adr.fw:12
 	//	  −τ_c/100 · ∂c/∂x · ∂²v/∂y²     adr.fw:12
 	//	  τ_c/10000 · ∂²c/∂x² · ∂²v/∂y²  adr.fw:12
 	//	  τ_c/2 · ∂c/∂y · ∂v/∂x          adr.fw:12
-	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x     adr.fw:12
 	//	  τ_c · ∂c/∂x · ∂v/∂x            adr.fw:15
-	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x     adr.fw:12
 	//	  −τ_c/200 · ∂c/∂y · ∂²v/∂x²     adr.fw:12
 	//	  τ_c/10000 · ∂²c/∂y² · ∂²v/∂x²  adr.fw:12
 	//	  −τ_c/100 · ∂c/∂x · ∂²v/∂x²     adr.fw:12
 	//	  τ_c/10000 · ∂²c/∂x² · ∂²v/∂x²  adr.fw:12
-	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
-	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
-	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
-	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
-	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
-	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
-	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
-	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
-	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	A[0] = (1.0/6)*(-c62-c63) + 0.5*(c65+c73) + c69 + tau_c*c79
+	A[1] = (1.0/6)*c62 + 0.5*(-c65-c69) + tau_c*c82
+	A[2] = (1.0/6)*c63 + 0.5*(-c69-c73) + tau_c*c84
+	A[3] = (1.0/6)*(-c62-c63) + 0.5*(-c65-c69) + tau_c*c82
+	A[4] = (1.0/6)*c62 + 0.5*c65 + tau_c*c76
+	A[5] = (1.0/6)*c63 + 0.5*c69 + tau_c*c77
+	A[6] = (1.0/6)*(-c62-c63) + 0.5*(-c69-c73) + tau_c*c84
+	A[7] = (1.0/6)*c62 + 0.5*c69 + tau_c*c77
+	A[8] = (1.0/6)*c63 + 0.5*c73 + tau_c*c78
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
-	//	  v                   adr.fw:12
+	//	  v                             adr.fw:12
 	//	GLS: + Σ_K (τ_c R_c, −κ Δv + σ v + a·∇v)_K  adr.fw:15
-	//	  τ_c/2 · ∂v/∂y       adr.fw:12
-	//	  −τ_c/100 · ∂²v/∂y²  adr.fw:12
-	//	  τ_c · ∂v/∂x         adr.fw:15
-	//	  −τ_c/100 · ∂²v/∂x²  adr.fw:12
-	b[0] = (1.0/6)*detJ + tau_c*c71
-	b[1] = (1.0/6)*detJ + tau_c*c72
-	b[2] = (1.0/6)*detJ + tau_c*c73
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂v/∂y                 adr.fw:12
+	//	  −τ_c/100 · ∂²v/∂y²            adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂v/∂x                   adr.fw:15
+	//	  −τ_c/100 · ∂²v/∂x²            adr.fw:12
+	b[0] = (1.0/6)*detJ + tau_c*c93 + c30*c96 + c38*c96
+	b[1] = (1.0/6)*detJ + tau_c*c97 + c30*c98 + c38*c98
+	b[2] = (1.0/6)*detJ + tau_c*c99 + c30*c100 + c38*c100
 }
 
 // fwAdrVMSLayout is the element layout of the vms kernels: triangle cells,
@@ -489,6 +559,12 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -512,65 +588,94 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c19 := 0.04 + c18
 	c20 := 1.0 / c19
 	tau_c := c17 * c20
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c22 := j01 * j10
 	detJ := c21 - c22
-	c23 := j01 * (-0.5)
-	c24 := 0.5 * j00
-	c25 := j01 * j01
-	c26 := 0.25 * c25
-	c27 := 0.01 * c25
-	c28 := j00 * j01
-	c29 := c28 * (-0.25)
-	c30 := (-0.01) * c28
-	c31 := j00 * j00
-	c32 := 0.25 * c31
-	c33 := 0.01 * c31
-	c34 := j11 * j01
-	c35 := (-0.5) * c34
-	c36 := 0.5 * c22
-	c37 := 0.5 * c21
-	c38 := j00 * j10
-	c39 := (-0.5) * c38
-	c40 := j11 * j11
-	c41 := j11 * j10
-	c42 := j10 * j10
-	c43 := 0.01 * c40
-	c44 := (-0.01) * c41
-	c45 := 0.01 * c42
-	c46 := j11 + c23
-	c47 := c24 - j10
 	rdetJ := 1.0 / detJ
-	c48 := c27 + c43
-	c49 := rdetJ * c48
-	c50 := c26 + c35 + c35 + c40
-	c51 := rdetJ * c50
-	c52 := c30 + c44
-	c53 := rdetJ * c52
-	c54 := c29 + c36 + c37 - c41
-	c55 := rdetJ * c54
-	c56 := c33 + c45
-	c57 := rdetJ * c56
-	c58 := c32 + c39 + c39 + c42
-	c59 := rdetJ * c58
-	c60 := 0.5 * c51
-	c61 := 0.5 * c55
-	c62 := 0.5 * c59
-	c63 := c60 + c61 + c61 + c62
-	c64 := (-0.5) * c51
-	c65 := (-0.5) * c55
-	c66 := c64 + c65
-	c67 := (-0.5) * c59
-	c68 := c65 + c67
-	c69 := (-0.5) * c46
-	c70 := (-0.5) * c47
-	c71 := c69 + c70
-	c72 := 0.5 * c46
-	c73 := 0.5 * c47
+	k00 := j11 * rdetJ
+	c23 := j10 * rdetJ
+	c24 := c23 - k00
+	c25 := rv[0] * c24
+	c26 := k00 * rv[2]
+	c27 := c23 * rv[4]
+	c28 := c25 + c25 + c26 + c26 - c27 - c27
+	c29 := 0.5 * c28
+	c30 := tau_c * c29
+	c31 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c32 := c31 - k11
+	c33 := rv[1] * c32
+	c34 := c31 * rv[3]
+	c35 := k11 * rv[5]
+	c36 := c33 + c33 - c34 - c34 + c35 + c35
+	c37 := 0.5 * c36
+	c38 := tau_c * c37
+	c39 := j01 * (-0.5)
+	c40 := 0.5 * j00
+	c41 := j01 * j01
+	c42 := 0.25 * c41
+	c43 := 0.01 * c41
+	c44 := j00 * j01
+	c45 := c44 * (-0.25)
+	c46 := c44 * (-0.01)
+	c47 := j00 * j00
+	c48 := 0.25 * c47
+	c49 := 0.01 * c47
+	c50 := j11 * j01
+	c51 := (-0.5) * c50
+	c52 := 0.5 * c22
+	c53 := 0.5 * c21
+	c54 := j00 * j10
+	c55 := (-0.5) * c54
+	c56 := j11 * j11
+	c57 := j11 * j10
+	c58 := j10 * j10
+	c59 := 0.01 * c56
+	c60 := (-0.01) * c57
+	c61 := 0.01 * c58
+	c62 := j11 + c39
+	c63 := c40 - j10
+	c64 := c43 + c59
+	c65 := rdetJ * c64
+	c66 := c42 + c51 + c51 + c56
+	c67 := rdetJ * c66
+	c68 := c46 + c60
+	c69 := rdetJ * c68
+	c70 := c45 + c52 + c53 - c57
+	c71 := rdetJ * c70
+	c72 := c49 + c61
+	c73 := rdetJ * c72
+	c74 := c48 + c55 + c55 + c58
+	c75 := rdetJ * c74
+	c76 := 0.5 * c67
+	c77 := 0.5 * c71
+	c78 := 0.5 * c75
+	c79 := c76 + c77 + c77 + c78
+	c80 := (-0.5) * c67
+	c81 := (-0.5) * c71
+	c82 := c80 + c81
+	c83 := (-0.5) * c75
+	c84 := c81 + c83
+	c85 := j01 * (-0.005)
+	c86 := 0.005 * j00
+	c87 := 0.01 * j11
+	c88 := j10 * (-0.01)
+	c89 := c85 + c87
+	c90 := c86 + c88
+	c91 := (-0.5) * c62
+	c92 := (-0.5) * c63
+	c93 := c91 + c92
+	c94 := (-0.5) * c89
+	c95 := (-0.5) * c90
+	c96 := c94 + c95
+	c97 := 0.5 * c62
+	c98 := 0.5 * c89
+	c99 := 0.5 * c63
+	c100 := 0.5 * c90
 	if !(detJ > 0) {
 		fwAdrFillNaN(A, b)
 		return
@@ -585,43 +690,43 @@ func (AdrVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/100 · ∂c/∂x · ∂v/∂x           adr.fw:12
 	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
 	//	  τ_c/4 · ∂c/∂y · ∂v/∂y           adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂y² · ∂v/∂y      adr.fw:12
 	//	  τ_c/2 · ∂c/∂x · ∂v/∂y           adr.fw:12
-	//	  −τ_c/200 · ∂²c/∂x² · ∂v/∂y      adr.fw:12
 	//	  τ_c/200 · ∂c/∂y · ∂²v/∂y²       adr.fw:12
 	//	  −τ_c/10000 · ∂²c/∂y² · ∂²v/∂y²  adr.fw:12
 	//	  τ_c/100 · ∂c/∂x · ∂²v/∂y²       adr.fw:12
 	//	  −τ_c/10000 · ∂²c/∂x² · ∂²v/∂y²  adr.fw:12
 	//	  τ_c/2 · ∂c/∂y · ∂v/∂x           adr.fw:12
-	//	  −τ_c/100 · ∂²c/∂y² · ∂v/∂x      adr.fw:12
 	//	  τ_c · ∂c/∂x · ∂v/∂x             adr.fw:15
-	//	  −τ_c/100 · ∂²c/∂x² · ∂v/∂x      adr.fw:12
 	//	  τ_c/200 · ∂c/∂y · ∂²v/∂x²       adr.fw:12
 	//	  −τ_c/10000 · ∂²c/∂y² · ∂²v/∂x²  adr.fw:12
 	//	  τ_c/100 · ∂c/∂x · ∂²v/∂x²       adr.fw:12
 	//	  −τ_c/10000 · ∂²c/∂x² · ∂²v/∂x²  adr.fw:12
-	A[0] = (1.0/6)*(-c46-c47) + 0.5*(c49+c57) + c53 + tau_c*c63
-	A[1] = (1.0/6)*c46 + 0.5*(-c49-c53) + tau_c*c66
-	A[2] = (1.0/6)*c47 + 0.5*(-c53-c57) + tau_c*c68
-	A[3] = (1.0/6)*(-c46-c47) + 0.5*(-c49-c53) + tau_c*c66
-	A[4] = (1.0/6)*c46 + 0.5*c49 + tau_c*c60
-	A[5] = (1.0/6)*c47 + 0.5*c53 + tau_c*c61
-	A[6] = (1.0/6)*(-c46-c47) + 0.5*(-c53-c57) + tau_c*c68
-	A[7] = (1.0/6)*c46 + 0.5*c53 + tau_c*c61
-	A[8] = (1.0/6)*c47 + 0.5*c57 + tau_c*c62
+	A[0] = (1.0/6)*(-c62-c63) + 0.5*(c65+c73) + c69 + tau_c*c79
+	A[1] = (1.0/6)*c62 + 0.5*(-c65-c69) + tau_c*c82
+	A[2] = (1.0/6)*c63 + 0.5*(-c69-c73) + tau_c*c84
+	A[3] = (1.0/6)*(-c62-c63) + 0.5*(-c65-c69) + tau_c*c82
+	A[4] = (1.0/6)*c62 + 0.5*c65 + tau_c*c76
+	A[5] = (1.0/6)*c63 + 0.5*c69 + tau_c*c77
+	A[6] = (1.0/6)*(-c62-c63) + 0.5*(-c69-c73) + tau_c*c84
+	A[7] = (1.0/6)*c62 + 0.5*c69 + tau_c*c77
+	A[8] = (1.0/6)*c63 + 0.5*c73 + tau_c*c78
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω κ (∇c·∇v) + (a·∇c) v + σ c v dx, F = ∫_Ω f v dx
-	//	  v                  adr.fw:12
+	//	  v                             adr.fw:12
 	//	VMS: − Σ_K (τ_c R_c, −κ Δv + σ v − a·∇v)_K  adr.fw:15
-	//	  τ_c/2 · ∂v/∂y      adr.fw:12
-	//	  τ_c/100 · ∂²v/∂y²  adr.fw:12
-	//	  τ_c · ∂v/∂x        adr.fw:15
-	//	  τ_c/100 · ∂²v/∂x²  adr.fw:12
-	b[0] = (1.0/6)*detJ + tau_c*c71
-	b[1] = (1.0/6)*detJ + tau_c*c72
-	b[2] = (1.0/6)*detJ + tau_c*c73
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/200 · ∂v/∂y  adr.fw:12
+	//	  τ_c/2 · ∂v/∂y                 adr.fw:12
+	//	  τ_c/100 · ∂²v/∂y²             adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂x²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c ∂²c⁽ʳᵉᶜ⁾/∂y²/100 · ∂v/∂x  adr.fw:12
+	//	  τ_c · ∂v/∂x                   adr.fw:15
+	//	  τ_c/100 · ∂²v/∂x²             adr.fw:12
+	b[0] = (1.0/6)*detJ + tau_c*c93 + c30*c96 + c38*c96
+	b[1] = (1.0/6)*detJ + tau_c*c97 + c30*c98 + c38*c98
+	b[2] = (1.0/6)*detJ + tau_c*c99 + c30*c100 + c38*c100
 }
 
 // fwAdrFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

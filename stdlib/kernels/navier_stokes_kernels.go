@@ -21,7 +21,7 @@ func init() {
 			return NavierStokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("352edff6bc9762376e25f51447d4ca26", compiled.Kernels{
+	compiled.Register("97bbee34420a4d3675f99524fe985e47", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -29,7 +29,7 @@ func init() {
 			return NavierStokesSUPGKernel{}
 		},
 	})
-	compiled.Register("24dcb5b4c037c13ad414e04e020aa1fd", compiled.Kernels{
+	compiled.Register("14104dcdd71b9835b4f2448c97957089", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -37,7 +37,7 @@ func init() {
 			return NavierStokesGLSKernel{}
 		},
 	})
-	compiled.Register("375350c33e6df760fad4b8a65e398b79", compiled.Kernels{
+	compiled.Register("f15e0a0531dc60b88088cefea37c0610", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -302,6 +302,12 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
 	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -324,29 +330,50 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c22 := j01 * j10
 	detJ := c21 - c22
-	c23 := -j10
-	c24 := -j01
 	rdetJ := 1.0 / detJ
-	c25 := j01 * rdetJ
-	k01 := -c25
-	k11 := j00 * rdetJ
-	c26 := c25 - k11
 	k00 := j11 * rdetJ
-	c27 := j10 * rdetJ
-	k10 := -c27
-	c28 := c27 - k00
+	c23 := -j10
+	c24 := j10 * rdetJ
+	k10 := -c24
+	c25 := c24 - k00
+	c26 := rv[0] * c25
+	c27 := k00 * rv[2]
+	c28 := c24 * rv[4]
+	c29 := c26 + c26 + c27 + c27 - c28 - c28
+	c30 := 0.5 * c29
+	c31 := -j01
+	c32 := j01 * rdetJ
+	k01 := -c32
+	k11 := j00 * rdetJ
+	c33 := c32 - k11
+	c34 := rv[1] * c33
+	c35 := c32 * rv[3]
+	c36 := k11 * rv[5]
+	c37 := c34 + c34 - c35 - c35 + c36 + c36
+	c38 := 0.5 * c37
+	c39 := c25 * rv[6]
+	c40 := k00 * rv[8]
+	c41 := c24 * rv[10]
+	c42 := c39 + c39 + c40 + c40 - c41 - c41
+	c43 := 0.5 * c42
+	c44 := c33 * rv[7]
+	c45 := c32 * rv[9]
+	c46 := k11 * rv[11]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
+	var rhs [9]float64
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -366,14 +393,14 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
-	acc[33] += (1.0 / 6) * (-c24 - j00)
-	acc[34] += (1.0 / 6) * c24
+	acc[33] += (1.0 / 6) * (-c31 - j00)
+	acc[34] += (1.0 / 6) * c31
 	acc[35] += (1.0 / 6) * j00
-	acc[42] += (1.0 / 6) * (-c24 - j00)
-	acc[43] += (1.0 / 6) * c24
+	acc[42] += (1.0 / 6) * (-c31 - j00)
+	acc[43] += (1.0 / 6) * c31
 	acc[44] += (1.0 / 6) * j00
-	acc[51] += (1.0 / 6) * (-c24 - j00)
-	acc[52] += (1.0 / 6) * c24
+	acc[51] += (1.0 / 6) * (-c31 - j00)
+	acc[52] += (1.0 / 6) * c31
 	acc[53] += (1.0 / 6) * j00
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -394,14 +421,14 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
-	acc[57] += (1.0 / 6) * (-c24 - j00)
-	acc[58] += (1.0 / 6) * c24
+	acc[57] += (1.0 / 6) * (-c31 - j00)
+	acc[58] += (1.0 / 6) * c31
 	acc[59] += (1.0 / 6) * j00
-	acc[66] += (1.0 / 6) * (-c24 - j00)
-	acc[67] += (1.0 / 6) * c24
+	acc[66] += (1.0 / 6) * (-c31 - j00)
+	acc[67] += (1.0 / 6) * c31
 	acc[68] += (1.0 / 6) * j00
-	acc[75] += (1.0 / 6) * (-c24 - j00)
-	acc[76] += (1.0 / 6) * c24
+	acc[75] += (1.0 / 6) * (-c31 - j00)
+	acc[76] += (1.0 / 6) * c31
 	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
@@ -425,100 +452,124 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		tau_vel := c17 * p15
 		p16 := p8 * tau_vel
 		coef3 := p16 + 0.01
-		coef7 := coef0 * tau_vel
-		coef5 := coef0 * coef1 * tau_vel
-		coef13 := coef1 * tau_vel
+		coef4 := coef0 * coef1 * tau_vel
+		coef5 := coef0 * tau_vel
 		p17 := p7 * tau_vel
 		tau_p := c17 * p12 * 0.25
-		coef10 := 0.01 + p17 + tau_p
-		coef18 := p16 + 0.01 + tau_p
-		coef25 := 0.01 + p17
+		coef7 := 0.01 + p17 + tau_p
+		coef9 := coef1 * tau_vel
+		coef14 := p16 + 0.01 + tau_p
+		coef18 := 0.01 + p17
+		p18 := coef0 * tau_vel * 0.01 * c30
+		p19 := coef0 * tau_vel * 0.01 * c38
+		coef28 := p18 + p19
+		p20 := coef1 * tau_vel * 0.01 * c30
+		p21 := coef1 * tau_vel * 0.01 * c38
+		coef29 := p20 + p21
+		p22 := coef0 * tau_vel * 0.01 * c43
+		p23 := coef0 * tau_vel * 0.01 * c48
+		coef30 := p22 + p23
+		p24 := coef1 * tau_vel * 0.01 * c43
+		p25 := coef1 * tau_vel * 0.01 * c48
+		coef31 := p24 + p25
+		p26 := tau_vel * 0.01 * c43
+		p27 := tau_vel * 0.01 * c48
+		coef32 := p26 + p27
+		p28 := tau_vel * 0.01 * c30
+		p29 := tau_vel * 0.01 * c38
+		coef33 := p28 + p29
 		w := detJ * fwNavierStokesSUPGCellWeights[q]
-		p18 := coef0 * w
-		p19 := p18 * c26
-		p20 := p18 * c25
-		p21 := p18 * k11
-		p22 := coef1 * w
-		p23 := p22 * c28
-		p24 := p19 + p23
-		p25 := p22 * k00
-		p26 := p25 - p20
-		p27 := p22 * c27
-		p28 := p21 - p27
-		p29 := coef3 * w
-		p30 := c26 * p29
-		p31 := c25 * p29
-		p32 := k11 * p29
-		p33 := coef5 * w
-		p34 := c28 * p33
-		p35 := p30 + p34
-		p36 := k00 * p33
-		p37 := p36 - p31
-		p38 := c27 * p33
-		p39 := p32 - p38
-		p40 := c26 * p33
-		p41 := c25 * p33
-		p42 := k11 * p33
-		p43 := coef10 * w
-		p44 := c28 * p43
-		p45 := p40 + p44
-		p46 := k00 * p43
-		p47 := p46 - p41
-		p48 := c27 * p43
-		p49 := p42 - p48
-		p50 := coef7 * w
-		p51 := c28 * p50
-		p52 := k00 * p50
-		p53 := c27 * p50
-		p54 := -p53
-		p55 := coef13 * w
-		p56 := c28 * p55
-		p57 := k00 * p55
-		p58 := c27 * p55
-		p59 := -p58
-		p60 := tau_p * w
-		p61 := c26 * p60
-		p62 := c25 * p60
-		p63 := -p62
-		p64 := k11 * p60
-		p65 := coef18 * w
-		p66 := c26 * p65
-		p67 := c25 * p65
-		p68 := k11 * p65
-		p69 := p34 + p66
-		p70 := p36 - p67
-		p71 := p68 - p38
-		p72 := coef25 * w
-		p73 := c28 * p72
-		p74 := p40 + p73
-		p75 := k00 * p72
-		p76 := p75 - p41
-		p77 := c27 * p72
-		p78 := p42 - p77
-		p79 := c26 * p50
-		p80 := c25 * p50
-		p81 := -p80
-		p82 := k11 * p50
-		p83 := c26 * p55
-		p84 := c25 * p55
-		p85 := -p84
-		p86 := k11 * p55
-		p87 := c28 * p60
-		p88 := k00 * p60
-		p89 := c27 * p60
-		p90 := -p89
-		p91 := p56 + p79
-		p92 := p57 - p80
-		p93 := p82 - p58
-		p94 := tau_vel * w
-		p95 := c26 * p94
-		p96 := c25 * p94
+		p30 := coef0 * w
+		p31 := c33 * p30
+		p32 := c32 * p30
+		p33 := k11 * p30
+		p34 := coef1 * w
+		p35 := c25 * p34
+		p36 := p31 + p35
+		p37 := k00 * p34
+		p38 := p37 - p32
+		p39 := c24 * p34
+		p40 := p33 - p39
+		p41 := coef3 * w
+		p42 := c33 * p41
+		p43 := c32 * p41
+		p44 := k11 * p41
+		p45 := coef4 * w
+		p46 := c25 * p45
+		p47 := p42 + p46
+		p48 := k00 * p45
+		p49 := p48 - p43
+		p50 := c24 * p45
+		p51 := p44 - p50
+		p52 := c33 * p45
+		p53 := c32 * p45
+		p54 := k11 * p45
+		p55 := coef7 * w
+		p56 := c25 * p55
+		p57 := p52 + p56
+		p58 := k00 * p55
+		p59 := p58 - p53
+		p60 := c24 * p55
+		p61 := p54 - p60
+		p62 := coef5 * w
+		p63 := c25 * p62
+		p64 := k00 * p62
+		p65 := c24 * p62
+		p66 := -p65
+		p67 := coef9 * w
+		p68 := c25 * p67
+		p69 := k00 * p67
+		p70 := c24 * p67
+		p71 := -p70
+		p72 := tau_p * w
+		p73 := c33 * p72
+		p74 := c32 * p72
+		p75 := -p74
+		p76 := k11 * p72
+		p77 := coef14 * w
+		p78 := c33 * p77
+		p79 := c32 * p77
+		p80 := k11 * p77
+		p81 := p46 + p78
+		p82 := p48 - p79
+		p83 := p80 - p50
+		p84 := coef18 * w
+		p85 := c25 * p84
+		p86 := p52 + p85
+		p87 := k00 * p84
+		p88 := p87 - p53
+		p89 := c24 * p84
+		p90 := p54 - p89
+		p91 := c33 * p62
+		p92 := c32 * p62
+		p93 := -p92
+		p94 := k11 * p62
+		p95 := c33 * p67
+		p96 := c32 * p67
 		p97 := -p96
-		p98 := k11 * p94
-		p99 := c28 * p94
-		p100 := k00 * p94
-		p101 := c27 * p94
+		p98 := k11 * p67
+		p99 := c25 * p72
+		p100 := k00 * p72
+		p101 := c24 * p72
 		p102 := -p101
+		p103 := p68 + p91
+		p104 := p69 - p92
+		p105 := p94 - p70
+		p106 := tau_vel * w
+		p107 := c33 * p106
+		p108 := c32 * p106
+		p109 := -p108
+		p110 := k11 * p106
+		p111 := c25 * p106
+		p112 := k00 * p106
+		p113 := c24 * p106
+		p114 := -p113
+		p115 := coef28 * w
+		p116 := coef29 * w
+		p117 := coef30 * w
+		p118 := coef31 * w
+		p119 := coef32 * w
+		p120 := coef33 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -528,51 +579,47 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
-		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
-		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
-		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
-		acc[9] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
-		acc[10] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
-		acc[11] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
-		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
-		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
-		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
+		acc[0] += fwNavierStokesSUPGCellBasis1Val[q][0]*p36 + c33*p47 + c25*p57
+		acc[1] += fwNavierStokesSUPGCellBasis1Val[q][0]*p38 + c33*p49 + c25*p59
+		acc[2] += fwNavierStokesSUPGCellBasis1Val[q][0]*p40 + c33*p51 + c25*p61
+		acc[9] += fwNavierStokesSUPGCellBasis1Val[q][1]*p36 + k01*p47 + k00*p57
+		acc[10] += fwNavierStokesSUPGCellBasis1Val[q][1]*p38 + k01*p49 + k00*p59
+		acc[11] += fwNavierStokesSUPGCellBasis1Val[q][1]*p40 + k01*p51 + k00*p61
+		acc[18] += fwNavierStokesSUPGCellBasis1Val[q][2]*p36 + k11*p47 + k10*p57
+		acc[19] += fwNavierStokesSUPGCellBasis1Val[q][2]*p38 + k11*p49 + k10*p59
+		acc[20] += fwNavierStokesSUPGCellBasis1Val[q][2]*p40 + k11*p51 + k10*p61
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
-		acc[6] += c26*p51 + c28*p56
-		acc[7] += c26*p52 + c28*p57
-		acc[8] += c26*p54 + c28*p59
-		acc[15] += k01*p51 + k00*p56
-		acc[16] += k01*p52 + k00*p57
-		acc[17] += k01*p54 + k00*p59
-		acc[24] += k11*p51 + k10*p56
-		acc[25] += k11*p52 + k10*p57
-		acc[26] += k11*p54 + k10*p59
+		acc[6] += c33*p63 + c25*p68
+		acc[7] += c33*p64 + c25*p69
+		acc[8] += c33*p66 + c25*p71
+		acc[15] += k01*p63 + k00*p68
+		acc[16] += k01*p64 + k00*p69
+		acc[17] += k01*p66 + k00*p71
+		acc[24] += k11*p63 + k10*p68
+		acc[25] += k11*p64 + k10*p69
+		acc[26] += k11*p66 + k10*p71
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
-		acc[3] += c28 * p61
-		acc[4] += c28 * p63
-		acc[5] += c28 * p64
-		acc[12] += k00 * p61
-		acc[13] += k00 * p63
-		acc[14] += k00 * p64
-		acc[21] += k10 * p61
-		acc[22] += k10 * p63
-		acc[23] += k10 * p64
+		acc[3] += c25 * p73
+		acc[4] += c25 * p75
+		acc[5] += c25 * p76
+		acc[12] += k00 * p73
+		acc[13] += k00 * p75
+		acc[14] += k00 * p76
+		acc[21] += k10 * p73
+		acc[22] += k10 * p75
+		acc[23] += k10 * p76
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -582,100 +629,122 @@ func (NavierStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
-		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
-		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
-		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
-		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
-		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
-		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
-		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
-		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
-		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
+		acc[30] += fwNavierStokesSUPGCellBasis1Val[q][0]*p36 + c33*p81 + c25*p86
+		acc[31] += fwNavierStokesSUPGCellBasis1Val[q][0]*p38 + c33*p82 + c25*p88
+		acc[32] += fwNavierStokesSUPGCellBasis1Val[q][0]*p40 + c33*p83 + c25*p90
+		acc[39] += fwNavierStokesSUPGCellBasis1Val[q][1]*p36 + k01*p81 + k00*p86
+		acc[40] += fwNavierStokesSUPGCellBasis1Val[q][1]*p38 + k01*p82 + k00*p88
+		acc[41] += fwNavierStokesSUPGCellBasis1Val[q][1]*p40 + k01*p83 + k00*p90
+		acc[48] += fwNavierStokesSUPGCellBasis1Val[q][2]*p36 + k11*p81 + k10*p86
+		acc[49] += fwNavierStokesSUPGCellBasis1Val[q][2]*p38 + k11*p82 + k10*p88
+		acc[50] += fwNavierStokesSUPGCellBasis1Val[q][2]*p40 + k11*p83 + k10*p90
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
-		acc[33] += c26*p79 + c28*p83
-		acc[34] += c26*p81 + c28*p85
-		acc[35] += c26*p82 + c28*p86
-		acc[42] += k01*p79 + k00*p83
-		acc[43] += k01*p81 + k00*p85
-		acc[44] += k01*p82 + k00*p86
-		acc[51] += k11*p79 + k10*p83
-		acc[52] += k11*p81 + k10*p85
-		acc[53] += k11*p82 + k10*p86
+		acc[33] += c33*p91 + c25*p95
+		acc[34] += c33*p93 + c25*p97
+		acc[35] += c33*p94 + c25*p98
+		acc[42] += k01*p91 + k00*p95
+		acc[43] += k01*p93 + k00*p97
+		acc[44] += k01*p94 + k00*p98
+		acc[51] += k11*p91 + k10*p95
+		acc[52] += k11*p93 + k10*p97
+		acc[53] += k11*p94 + k10*p98
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
-		acc[27] += c26 * p87
-		acc[28] += c26 * p88
-		acc[29] += c26 * p90
-		acc[36] += k01 * p87
-		acc[37] += k01 * p88
-		acc[38] += k01 * p90
-		acc[45] += k11 * p87
-		acc[46] += k11 * p88
-		acc[47] += k11 * p90
+		acc[27] += c33 * p99
+		acc[28] += c33 * p100
+		acc[29] += c33 * p102
+		acc[36] += k01 * p99
+		acc[37] += k01 * p100
+		acc[38] += k01 * p102
+		acc[45] += k11 * p99
+		acc[46] += k11 * p100
+		acc[47] += k11 * p102
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
-		acc[54] += c28 * p91
-		acc[55] += c28 * p92
-		acc[56] += c28 * p93
-		acc[63] += k00 * p91
-		acc[64] += k00 * p92
-		acc[65] += k00 * p93
-		acc[72] += k10 * p91
-		acc[73] += k10 * p92
-		acc[74] += k10 * p93
+		acc[54] += c25 * p103
+		acc[55] += c25 * p104
+		acc[56] += c25 * p105
+		acc[63] += k00 * p103
+		acc[64] += k00 * p104
+		acc[65] += k00 * p105
+		acc[72] += k10 * p103
+		acc[73] += k10 * p104
+		acc[74] += k10 * p105
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
-		acc[57] += c26 * p91
-		acc[58] += c26 * p92
-		acc[59] += c26 * p93
-		acc[66] += k01 * p91
-		acc[67] += k01 * p92
-		acc[68] += k01 * p93
-		acc[75] += k11 * p91
-		acc[76] += k11 * p92
-		acc[77] += k11 * p93
+		acc[57] += c33 * p103
+		acc[58] += c33 * p104
+		acc[59] += c33 * p105
+		acc[66] += k01 * p103
+		acc[67] += k01 * p104
+		acc[68] += k01 * p105
+		acc[75] += k11 * p103
+		acc[76] += k11 * p104
+		acc[77] += k11 * p105
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
-		acc[60] += c26*p95 + c28*p99
-		acc[61] += c26*p97 + c28*p100
-		acc[62] += c26*p98 + c28*p102
-		acc[69] += k01*p95 + k00*p99
-		acc[70] += k01*p97 + k00*p100
-		acc[71] += k01*p98 + k00*p102
-		acc[78] += k11*p95 + k10*p99
-		acc[79] += k11*p97 + k10*p100
-		acc[80] += k11*p98 + k10*p102
+		acc[60] += c33*p107 + c25*p111
+		acc[61] += c33*p109 + c25*p112
+		acc[62] += c33*p110 + c25*p114
+		acc[69] += k01*p107 + k00*p111
+		acc[70] += k01*p109 + k00*p112
+		acc[71] += k01*p110 + k00*p114
+		acc[78] += k11*p107 + k10*p111
+		acc[79] += k11*p109 + k10*p112
+		acc[80] += k11*p110 + k10*p114
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		rhs[0] += c33*p115 + c25*p116
+		rhs[1] += k01*p115 + k00*p116
+		rhs[2] += k11*p115 + k10*p116
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K      navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		rhs[3] += c33*p117 + c25*p118
+		rhs[4] += k01*p117 + k00*p118
+		rhs[5] += k11*p117 + k10*p118
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		rhs[6] += c33*p119 + c25*p120
+		rhs[7] += k01*p119 + k00*p120
+		rhs[8] += k11*p119 + k10*p120
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwNavierStokesGLSLayout is the element layout of the gls kernels: triangle
@@ -715,6 +784,12 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
 	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -737,29 +812,50 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c18 := 1.0 / h
 	c19 := c18 * c18
 	c20 := 0.04 * c19
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c21 := j00 * j11
+	j00 := x[2] - x[0]
+	c21 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c22 := j01 * j10
 	detJ := c21 - c22
-	c23 := -j10
-	c24 := -j01
 	rdetJ := 1.0 / detJ
-	c25 := j01 * rdetJ
-	k01 := -c25
-	k11 := j00 * rdetJ
-	c26 := c25 - k11
 	k00 := j11 * rdetJ
-	c27 := j10 * rdetJ
-	k10 := -c27
-	c28 := c27 - k00
+	c23 := -j10
+	c24 := j10 * rdetJ
+	k10 := -c24
+	c25 := c24 - k00
+	c26 := rv[0] * c25
+	c27 := k00 * rv[2]
+	c28 := c24 * rv[4]
+	c29 := c26 + c26 + c27 + c27 - c28 - c28
+	c30 := 0.5 * c29
+	c31 := -j01
+	c32 := j01 * rdetJ
+	k01 := -c32
+	k11 := j00 * rdetJ
+	c33 := c32 - k11
+	c34 := rv[1] * c33
+	c35 := c32 * rv[3]
+	c36 := k11 * rv[5]
+	c37 := c34 + c34 - c35 - c35 + c36 + c36
+	c38 := 0.5 * c37
+	c39 := c25 * rv[6]
+	c40 := k00 * rv[8]
+	c41 := c24 * rv[10]
+	c42 := c39 + c39 + c40 + c40 - c41 - c41
+	c43 := 0.5 * c42
+	c44 := c33 * rv[7]
+	c45 := c32 * rv[9]
+	c46 := k11 * rv[11]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
+	var rhs [9]float64
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -779,14 +875,14 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  navier_stokes.fw:16
-	acc[33] += (1.0 / 6) * (-c24 - j00)
-	acc[34] += (1.0 / 6) * c24
+	acc[33] += (1.0 / 6) * (-c31 - j00)
+	acc[34] += (1.0 / 6) * c31
 	acc[35] += (1.0 / 6) * j00
-	acc[42] += (1.0 / 6) * (-c24 - j00)
-	acc[43] += (1.0 / 6) * c24
+	acc[42] += (1.0 / 6) * (-c31 - j00)
+	acc[43] += (1.0 / 6) * c31
 	acc[44] += (1.0 / 6) * j00
-	acc[51] += (1.0 / 6) * (-c24 - j00)
-	acc[52] += (1.0 / 6) * c24
+	acc[51] += (1.0 / 6) * (-c31 - j00)
+	acc[52] += (1.0 / 6) * c31
 	acc[53] += (1.0 / 6) * j00
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -807,14 +903,14 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · v_p  navier_stokes.fw:16
-	acc[57] += (1.0 / 6) * (-c24 - j00)
-	acc[58] += (1.0 / 6) * c24
+	acc[57] += (1.0 / 6) * (-c31 - j00)
+	acc[58] += (1.0 / 6) * c31
 	acc[59] += (1.0 / 6) * j00
-	acc[66] += (1.0 / 6) * (-c24 - j00)
-	acc[67] += (1.0 / 6) * c24
+	acc[66] += (1.0 / 6) * (-c31 - j00)
+	acc[67] += (1.0 / 6) * c31
 	acc[68] += (1.0 / 6) * j00
-	acc[75] += (1.0 / 6) * (-c24 - j00)
-	acc[76] += (1.0 / 6) * c24
+	acc[75] += (1.0 / 6) * (-c31 - j00)
+	acc[76] += (1.0 / 6) * c31
 	acc[77] += (1.0 / 6) * j00
 	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
@@ -838,100 +934,124 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		tau_vel := c17 * p15
 		p16 := p8 * tau_vel
 		coef3 := p16 + 0.01
-		coef7 := coef0 * tau_vel
-		coef5 := coef0 * coef1 * tau_vel
-		coef18 := coef1 * tau_vel
+		coef4 := coef0 * coef1 * tau_vel
+		coef5 := coef0 * tau_vel
+		coef14 := coef1 * tau_vel
 		p17 := p7 * tau_vel
 		tau_p := c17 * p12 * 0.25
-		coef15 := 0.01 + p17 + tau_p
-		coef28 := p16 + 0.01 + tau_p
-		coef40 := 0.01 + p17
+		coef12 := 0.01 + p17 + tau_p
+		coef24 := p16 + 0.01 + tau_p
+		coef33 := 0.01 + p17
+		p18 := coef0 * tau_vel * 0.01 * c30
+		p19 := coef0 * tau_vel * 0.01 * c38
+		coef48 := p18 + p19
+		p20 := coef1 * tau_vel * 0.01 * c30
+		p21 := coef1 * tau_vel * 0.01 * c38
+		coef49 := p20 + p21
+		p22 := coef0 * tau_vel * 0.01 * c43
+		p23 := coef0 * tau_vel * 0.01 * c48
+		coef50 := p22 + p23
+		p24 := coef1 * tau_vel * 0.01 * c43
+		p25 := coef1 * tau_vel * 0.01 * c48
+		coef51 := p24 + p25
+		p26 := tau_vel * 0.01 * c43
+		p27 := tau_vel * 0.01 * c48
+		coef52 := p26 + p27
+		p28 := tau_vel * 0.01 * c30
+		p29 := tau_vel * 0.01 * c38
+		coef53 := p28 + p29
 		w := detJ * fwNavierStokesGLSCellWeights[q]
-		p18 := coef0 * w
-		p19 := p18 * c26
-		p20 := p18 * c25
-		p21 := p18 * k11
-		p22 := coef1 * w
-		p23 := p22 * c28
-		p24 := p19 + p23
-		p25 := p22 * k00
-		p26 := p25 - p20
-		p27 := p22 * c27
-		p28 := p21 - p27
-		p29 := coef3 * w
-		p30 := c26 * p29
-		p31 := c25 * p29
-		p32 := k11 * p29
-		p33 := coef5 * w
-		p34 := c28 * p33
-		p35 := p30 + p34
-		p36 := k00 * p33
-		p37 := p36 - p31
-		p38 := c27 * p33
-		p39 := p32 - p38
-		p40 := c26 * p33
-		p41 := c25 * p33
-		p42 := k11 * p33
-		p43 := coef15 * w
-		p44 := c28 * p43
-		p45 := p40 + p44
-		p46 := k00 * p43
-		p47 := p46 - p41
-		p48 := c27 * p43
-		p49 := p42 - p48
-		p50 := coef7 * w
-		p51 := c28 * p50
-		p52 := k00 * p50
-		p53 := c27 * p50
-		p54 := -p53
-		p55 := coef18 * w
-		p56 := c28 * p55
-		p57 := k00 * p55
-		p58 := c27 * p55
-		p59 := -p58
-		p60 := tau_p * w
-		p61 := c26 * p60
-		p62 := c25 * p60
-		p63 := -p62
-		p64 := k11 * p60
-		p65 := coef28 * w
-		p66 := c26 * p65
-		p67 := c25 * p65
-		p68 := k11 * p65
-		p69 := p34 + p66
-		p70 := p36 - p67
-		p71 := p68 - p38
-		p72 := coef40 * w
-		p73 := c28 * p72
-		p74 := p40 + p73
-		p75 := k00 * p72
-		p76 := p75 - p41
-		p77 := c27 * p72
-		p78 := p42 - p77
-		p79 := c26 * p50
-		p80 := c25 * p50
-		p81 := -p80
-		p82 := k11 * p50
-		p83 := c26 * p55
-		p84 := c25 * p55
-		p85 := -p84
-		p86 := k11 * p55
-		p87 := c28 * p60
-		p88 := k00 * p60
-		p89 := c27 * p60
-		p90 := -p89
-		p91 := p56 + p79
-		p92 := p57 - p80
-		p93 := p82 - p58
-		p94 := tau_vel * w
-		p95 := c26 * p94
-		p96 := c25 * p94
+		p30 := coef0 * w
+		p31 := c33 * p30
+		p32 := c32 * p30
+		p33 := k11 * p30
+		p34 := coef1 * w
+		p35 := c25 * p34
+		p36 := p31 + p35
+		p37 := k00 * p34
+		p38 := p37 - p32
+		p39 := c24 * p34
+		p40 := p33 - p39
+		p41 := coef3 * w
+		p42 := c33 * p41
+		p43 := c32 * p41
+		p44 := k11 * p41
+		p45 := coef4 * w
+		p46 := c25 * p45
+		p47 := p42 + p46
+		p48 := k00 * p45
+		p49 := p48 - p43
+		p50 := c24 * p45
+		p51 := p44 - p50
+		p52 := c33 * p45
+		p53 := c32 * p45
+		p54 := k11 * p45
+		p55 := coef12 * w
+		p56 := c25 * p55
+		p57 := p52 + p56
+		p58 := k00 * p55
+		p59 := p58 - p53
+		p60 := c24 * p55
+		p61 := p54 - p60
+		p62 := coef5 * w
+		p63 := c25 * p62
+		p64 := k00 * p62
+		p65 := c24 * p62
+		p66 := -p65
+		p67 := coef14 * w
+		p68 := c25 * p67
+		p69 := k00 * p67
+		p70 := c24 * p67
+		p71 := -p70
+		p72 := tau_p * w
+		p73 := c33 * p72
+		p74 := c32 * p72
+		p75 := -p74
+		p76 := k11 * p72
+		p77 := coef24 * w
+		p78 := c33 * p77
+		p79 := c32 * p77
+		p80 := k11 * p77
+		p81 := p46 + p78
+		p82 := p48 - p79
+		p83 := p80 - p50
+		p84 := coef33 * w
+		p85 := c25 * p84
+		p86 := p52 + p85
+		p87 := k00 * p84
+		p88 := p87 - p53
+		p89 := c24 * p84
+		p90 := p54 - p89
+		p91 := c33 * p62
+		p92 := c32 * p62
+		p93 := -p92
+		p94 := k11 * p62
+		p95 := c33 * p67
+		p96 := c32 * p67
 		p97 := -p96
-		p98 := k11 * p94
-		p99 := c28 * p94
-		p100 := k00 * p94
-		p101 := c27 * p94
+		p98 := k11 * p67
+		p99 := c25 * p72
+		p100 := k00 * p72
+		p101 := c24 * p72
 		p102 := -p101
+		p103 := p68 + p91
+		p104 := p69 - p92
+		p105 := p94 - p70
+		p106 := tau_vel * w
+		p107 := c33 * p106
+		p108 := c32 * p106
+		p109 := -p108
+		p110 := k11 * p106
+		p111 := c25 * p106
+		p112 := k00 * p106
+		p113 := c24 * p106
+		p114 := -p113
+		p115 := coef48 * w
+		p116 := coef49 * w
+		p117 := coef50 * w
+		p118 := coef51 * w
+		p119 := coef52 * w
+		p120 := coef53 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -941,32 +1061,28 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²             navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²             navier_stokes.fw:16
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
-		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p35 + c28*p45
-		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p37 + c28*p47
-		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p39 + c28*p49
-		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p35 + k00*p45
-		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
-		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
-		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p35 + k10*p45
-		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
-		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
+		acc[0] += fwNavierStokesGLSCellBasis1Val[q][0]*p36 + c33*p47 + c25*p57
+		acc[1] += fwNavierStokesGLSCellBasis1Val[q][0]*p38 + c33*p49 + c25*p59
+		acc[2] += fwNavierStokesGLSCellBasis1Val[q][0]*p40 + c33*p51 + c25*p61
+		acc[9] += fwNavierStokesGLSCellBasis1Val[q][1]*p36 + k01*p47 + k00*p57
+		acc[10] += fwNavierStokesGLSCellBasis1Val[q][1]*p38 + k01*p49 + k00*p59
+		acc[11] += fwNavierStokesGLSCellBasis1Val[q][1]*p40 + k01*p51 + k00*p61
+		acc[18] += fwNavierStokesGLSCellBasis1Val[q][2]*p36 + k11*p47 + k10*p57
+		acc[19] += fwNavierStokesGLSCellBasis1Val[q][2]*p38 + k11*p49 + k10*p59
+		acc[20] += fwNavierStokesGLSCellBasis1Val[q][2]*p40 + k11*p51 + k10*p61
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
@@ -974,28 +1090,28 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²        navier_stokes.fw:16
-		acc[6] += c26*p51 + c28*p56
-		acc[7] += c26*p52 + c28*p57
-		acc[8] += c26*p54 + c28*p59
-		acc[15] += k01*p51 + k00*p56
-		acc[16] += k01*p52 + k00*p57
-		acc[17] += k01*p54 + k00*p59
-		acc[24] += k11*p51 + k10*p56
-		acc[25] += k11*p52 + k10*p57
-		acc[26] += k11*p54 + k10*p59
+		acc[6] += c33*p63 + c25*p68
+		acc[7] += c33*p64 + c25*p69
+		acc[8] += c33*p66 + c25*p71
+		acc[15] += k01*p63 + k00*p68
+		acc[16] += k01*p64 + k00*p69
+		acc[17] += k01*p66 + k00*p71
+		acc[24] += k11*p63 + k10*p68
+		acc[25] += k11*p64 + k10*p69
+		acc[26] += k11*p66 + k10*p71
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
-		acc[3] += c28 * p61
-		acc[4] += c28 * p63
-		acc[5] += c28 * p64
-		acc[12] += k00 * p61
-		acc[13] += k00 * p63
-		acc[14] += k00 * p64
-		acc[21] += k10 * p61
-		acc[22] += k10 * p63
-		acc[23] += k10 * p64
+		acc[3] += c25 * p73
+		acc[4] += c25 * p75
+		acc[5] += c25 * p76
+		acc[12] += k00 * p73
+		acc[13] += k00 * p75
+		acc[14] += k00 * p76
+		acc[21] += k10 * p73
+		acc[22] += k10 * p75
+		acc[23] += k10 * p76
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1005,32 +1121,28 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²             navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²   navier_stokes.fw:16
 		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²             navier_stokes.fw:16
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
-		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p24 + c26*p69 + c28*p74
-		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p26 + c26*p70 + c28*p76
-		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p28 + c26*p71 + c28*p78
-		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p24 + k01*p69 + k00*p74
-		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p26 + k01*p70 + k00*p76
-		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p28 + k01*p71 + k00*p78
-		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p24 + k11*p69 + k10*p74
-		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p26 + k11*p70 + k10*p76
-		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p28 + k11*p71 + k10*p78
+		acc[30] += fwNavierStokesGLSCellBasis1Val[q][0]*p36 + c33*p81 + c25*p86
+		acc[31] += fwNavierStokesGLSCellBasis1Val[q][0]*p38 + c33*p82 + c25*p88
+		acc[32] += fwNavierStokesGLSCellBasis1Val[q][0]*p40 + c33*p83 + c25*p90
+		acc[39] += fwNavierStokesGLSCellBasis1Val[q][1]*p36 + k01*p81 + k00*p86
+		acc[40] += fwNavierStokesGLSCellBasis1Val[q][1]*p38 + k01*p82 + k00*p88
+		acc[41] += fwNavierStokesGLSCellBasis1Val[q][1]*p40 + k01*p83 + k00*p90
+		acc[48] += fwNavierStokesGLSCellBasis1Val[q][2]*p36 + k11*p81 + k10*p86
+		acc[49] += fwNavierStokesGLSCellBasis1Val[q][2]*p38 + k11*p82 + k10*p88
+		acc[50] += fwNavierStokesGLSCellBasis1Val[q][2]*p40 + k11*p83 + k10*p90
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
@@ -1038,77 +1150,103 @@ func (NavierStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²        navier_stokes.fw:16
-		acc[33] += c26*p79 + c28*p83
-		acc[34] += c26*p81 + c28*p85
-		acc[35] += c26*p82 + c28*p86
-		acc[42] += k01*p79 + k00*p83
-		acc[43] += k01*p81 + k00*p85
-		acc[44] += k01*p82 + k00*p86
-		acc[51] += k11*p79 + k10*p83
-		acc[52] += k11*p81 + k10*p85
-		acc[53] += k11*p82 + k10*p86
+		acc[33] += c33*p91 + c25*p95
+		acc[34] += c33*p93 + c25*p97
+		acc[35] += c33*p94 + c25*p98
+		acc[42] += k01*p91 + k00*p95
+		acc[43] += k01*p93 + k00*p97
+		acc[44] += k01*p94 + k00*p98
+		acc[51] += k11*p91 + k10*p95
+		acc[52] += k11*p93 + k10*p97
+		acc[53] += k11*p94 + k10*p98
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
-		acc[27] += c26 * p87
-		acc[28] += c26 * p88
-		acc[29] += c26 * p90
-		acc[36] += k01 * p87
-		acc[37] += k01 * p88
-		acc[38] += k01 * p90
-		acc[45] += k11 * p87
-		acc[46] += k11 * p88
-		acc[47] += k11 * p90
+		acc[27] += c33 * p99
+		acc[28] += c33 * p100
+		acc[29] += c33 * p102
+		acc[36] += k01 * p99
+		acc[37] += k01 * p100
+		acc[38] += k01 * p102
+		acc[45] += k11 * p99
+		acc[46] += k11 * p100
+		acc[47] += k11 * p102
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
-		acc[54] += c28 * p91
-		acc[55] += c28 * p92
-		acc[56] += c28 * p93
-		acc[63] += k00 * p91
-		acc[64] += k00 * p92
-		acc[65] += k00 * p93
-		acc[72] += k10 * p91
-		acc[73] += k10 * p92
-		acc[74] += k10 * p93
+		acc[54] += c25 * p103
+		acc[55] += c25 * p104
+		acc[56] += c25 * p105
+		acc[63] += k00 * p103
+		acc[64] += k00 * p104
+		acc[65] += k00 * p105
+		acc[72] += k10 * p103
+		acc[73] += k10 * p104
+		acc[74] += k10 * p105
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
-		acc[57] += c26 * p91
-		acc[58] += c26 * p92
-		acc[59] += c26 * p93
-		acc[66] += k01 * p91
-		acc[67] += k01 * p92
-		acc[68] += k01 * p93
-		acc[75] += k11 * p91
-		acc[76] += k11 * p92
-		acc[77] += k11 * p93
+		acc[57] += c33 * p103
+		acc[58] += c33 * p104
+		acc[59] += c33 * p105
+		acc[66] += k01 * p103
+		acc[67] += k01 * p104
+		acc[68] += k01 * p105
+		acc[75] += k11 * p103
+		acc[76] += k11 * p104
+		acc[77] += k11 * p105
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
-		acc[60] += c26*p95 + c28*p99
-		acc[61] += c26*p97 + c28*p100
-		acc[62] += c26*p98 + c28*p102
-		acc[69] += k01*p95 + k00*p99
-		acc[70] += k01*p97 + k00*p100
-		acc[71] += k01*p98 + k00*p102
-		acc[78] += k11*p95 + k10*p99
-		acc[79] += k11*p97 + k10*p100
-		acc[80] += k11*p98 + k10*p102
+		acc[60] += c33*p107 + c25*p111
+		acc[61] += c33*p109 + c25*p112
+		acc[62] += c33*p110 + c25*p114
+		acc[69] += k01*p107 + k00*p111
+		acc[70] += k01*p109 + k00*p112
+		acc[71] += k01*p110 + k00*p114
+		acc[78] += k11*p107 + k10*p111
+		acc[79] += k11*p109 + k10*p112
+		acc[80] += k11*p110 + k10*p114
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		rhs[0] += c33*p115 + c25*p116
+		rhs[1] += k01*p115 + k00*p116
+		rhs[2] += k11*p115 + k10*p116
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		rhs[3] += c33*p117 + c25*p118
+		rhs[4] += k01*p117 + k00*p118
+		rhs[5] += k11*p117 + k10*p118
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ + ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		rhs[6] += c33*p119 + c25*p120
+		rhs[7] += k01*p119 + k00*p120
+		rhs[8] += k11*p119 + k10*p120
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwNavierStokesVMSLayout is the element layout of the vms kernels: triangle
@@ -1147,6 +1285,12 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	pv := zero[:]
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
+	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
@@ -1201,23 +1345,48 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c39 := pv[4] * k00
 	c40 := pv[5] * c24
 	c41 := c38 + c39 - c40
-	c42 := c32 * pv[6]
-	c43 := c31 * pv[7]
-	c44 := k11 * pv[8]
-	c45 := c42 - c43 + c44
-	c46 := pv[0] * c32
-	c47 := pv[1] * c31
-	c48 := pv[2] * k11
-	c49 := c46 - c47 + c48
-	c50 := c25 * pv[6]
-	c51 := k00 * pv[7]
-	c52 := c24 * pv[8]
-	c53 := c50 + c51 - c52
+	c42 := c25 * rv[6]
+	c43 := k00 * rv[8]
+	c44 := c24 * rv[10]
+	c45 := c42 + c42 + c43 + c43 - c44 - c44
+	c46 := 0.5 * c45
+	c47 := (-0.01) * c46
+	c48 := c32 * rv[7]
+	c49 := c31 * rv[9]
+	c50 := k11 * rv[11]
+	c51 := c48 + c48 - c49 - c49 + c50 + c50
+	c52 := 0.5 * c51
+	c53 := (-0.01) * c52
+	c54 := c32 * pv[6]
+	c55 := c31 * pv[7]
+	c56 := k11 * pv[8]
+	c57 := c54 - c55 + c56
+	c58 := pv[0] * c32
+	c59 := pv[1] * c31
+	c60 := pv[2] * k11
+	c61 := c58 - c59 + c60
+	c62 := c25 * rv[0]
+	c63 := k00 * rv[2]
+	c64 := c24 * rv[4]
+	c65 := c62 + c62 + c63 + c63 - c64 - c64
+	c66 := 0.5 * c65
+	c67 := (-0.01) * c66
+	c68 := c32 * rv[1]
+	c69 := c31 * rv[3]
+	c70 := k11 * rv[5]
+	c71 := c68 + c68 - c69 - c69 + c70 + c70
+	c72 := 0.5 * c71
+	c73 := (-0.01) * c72
+	c74 := c25 * pv[6]
+	c75 := k00 * pv[7]
+	c76 := c24 * pv[8]
+	c77 := c74 + c75 - c76
 	if !(detJ > 0) {
 		fwNavierStokesFillNaN(A, b)
 		return
 	}
 	var acc [81]float64
+	var rhs [9]float64
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1269,141 +1438,183 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p18 := p9 * tau_vel * c37
 		p19 := p4 * c41
 		p20 := p9 * c36
-		p21 := p19 + p20 + c45
+		p21 := p19 + p20 + c47 + c53 + c57
 		p22 := tau_vel * p21
 		coef0 := p9 + p18 - p22
-		p23 := tau_vel * c37
-		p24 := p4 * tau_vel * c37
-		p25 := p4 * c29
-		p26 := p9 * c49
-		p27 := p25 + p26 + c53
-		p28 := tau_vel * p27
-		coef2 := p4 + p24 - p28
-		coef4 := 1.0 + p23
+		p23 := p4 * tau_vel * c37
+		p24 := p4 * c29
+		p25 := p9 * c61
+		p26 := p24 + p25 + c67 + c73 + c77
+		p27 := tau_vel * p26
+		coef1 := p4 + p23 - p27
+		p28 := tau_vel * c37
+		coef2 := 1.0 + p28
 		p29 := p10 * tau_vel
 		p30 := p9 * tau_vel * p22
-		coef5 := p29 - p30 + 0.01
-		coef54 := p9 * tau_vel
-		p31 := tau_vel * p22
-		p32 := p4 * tau_vel * p22
-		p33 := p4 * p9 * tau_vel
-		coef7 := p33 - p32
-		coef9 := coef54 - p31
-		coef56 := p4 * tau_vel
-		p34 := p9 * tau_vel * p28
-		coef15 := p33 - p34
-		p35 := tau_vel * p28
-		p36 := p5 * tau_vel
-		p37 := p4 * tau_vel * p28
+		coef3 := p29 - p30 + 0.01
+		p31 := p4 * tau_vel * p22
+		p32 := p4 * p9 * tau_vel
+		coef4 := p32 - p31
+		coef42 := p9 * tau_vel
+		p33 := tau_vel * p22
+		coef5 := coef42 - p33
+		coef43 := p4 * tau_vel
+		p34 := p9 * tau_vel * p27
+		coef11 := p32 - p34
+		p35 := p5 * tau_vel
+		p36 := p4 * tau_vel * p27
 		tau_p := c17 * p14 * 0.25
-		coef17 := 0.01 + p36 - p37 + tau_p
-		coef20 := coef56 - p35
-		coef32 := p29 - p30 + 0.01 + tau_p
-		coef44 := 0.01 + p36 - p37
+		coef12 := 0.01 + p35 - p36 + tau_p
+		p37 := tau_vel * p27
+		coef14 := coef43 - p37
+		coef24 := p29 - p30 + 0.01 + tau_p
+		coef33 := 0.01 + p35 - p36
+		p38 := tau_vel * c37 * c66 * 0.01
+		p39 := tau_vel * c37 * c72 * 0.01
+		coef48 := p38 + p39
+		p40 := p9 * tau_vel * (-0.01)
+		p41 := tau_vel * p22 * 0.01
+		p42 := p40 + p41
+		p43 := c66 * p42
+		p44 := -p43
+		p45 := c72 * p42
+		coef49 := p44 - p45
+		p46 := p4 * tau_vel * (-0.01)
+		p47 := tau_vel * p27 * 0.01
+		p48 := p46 + p47
+		p49 := c66 * p48
+		p50 := -p49
+		p51 := c72 * p48
+		coef50 := p50 - p51
+		p52 := tau_vel * c37 * c46 * 0.01
+		p53 := tau_vel * c37 * c52 * 0.01
+		coef51 := p52 + p53
+		p54 := c46 * p42
+		p55 := -p54
+		p56 := c52 * p42
+		coef52 := p55 - p56
+		p57 := c46 * p48
+		p58 := -p57
+		p59 := c52 * p48
+		coef53 := p58 - p59
+		p60 := tau_vel * c46 * 0.01
+		p61 := tau_vel * c52 * 0.01
+		coef54 := p60 + p61
+		p62 := tau_vel * c66 * 0.01
+		p63 := tau_vel * c72 * 0.01
+		coef55 := p62 + p63
 		w := detJ * fwNavierStokesVMSCellWeights[q]
-		p38 := coef0 * w
-		p39 := c32 * p38
-		p40 := c31 * p38
-		p41 := k11 * p38
-		p42 := coef2 * w
-		p43 := c25 * p42
-		p44 := p39 + p43
-		p45 := k00 * p42
-		p46 := p45 - p40
-		p47 := c24 * p42
-		p48 := p41 - p47
-		p49 := coef5 * w
-		p50 := c32 * p49
-		p51 := c31 * p49
-		p52 := k11 * p49
-		p53 := coef7 * w
-		p54 := c25 * p53
-		p55 := p50 + p54
-		p56 := k00 * p53
-		p57 := p56 - p51
-		p58 := c24 * p53
-		p59 := p52 - p58
-		p60 := coef15 * w
-		p61 := c32 * p60
-		p62 := c31 * p60
-		p63 := k11 * p60
-		p64 := coef17 * w
-		p65 := c25 * p64
-		p66 := p61 + p65
-		p67 := k00 * p64
-		p68 := p67 - p62
-		p69 := c24 * p64
-		p70 := p63 - p69
-		p71 := coef4 * w
-		p72 := c25 * p71
-		p73 := k00 * p71
-		p74 := c24 * p71
-		p75 := -p74
-		p76 := coef9 * w
-		p77 := c25 * p76
-		p78 := k00 * p76
-		p79 := c24 * p76
-		p80 := -p79
-		p81 := coef20 * w
-		p82 := c25 * p81
-		p83 := k00 * p81
-		p84 := c24 * p81
-		p85 := -p84
-		p86 := tau_p * w
+		p64 := coef0 * w
+		p65 := c32 * p64
+		p66 := c31 * p64
+		p67 := k11 * p64
+		p68 := coef1 * w
+		p69 := c25 * p68
+		p70 := p65 + p69
+		p71 := k00 * p68
+		p72 := p71 - p66
+		p73 := c24 * p68
+		p74 := p67 - p73
+		p75 := coef3 * w
+		p76 := c32 * p75
+		p77 := c31 * p75
+		p78 := k11 * p75
+		p79 := coef4 * w
+		p80 := c25 * p79
+		p81 := p76 + p80
+		p82 := k00 * p79
+		p83 := p82 - p77
+		p84 := c24 * p79
+		p85 := p78 - p84
+		p86 := coef11 * w
 		p87 := c32 * p86
 		p88 := c31 * p86
-		p89 := -p88
-		p90 := k11 * p86
-		p91 := coef32 * w
-		p92 := c32 * p91
-		p93 := c31 * p91
-		p94 := k11 * p91
-		p95 := p54 + p92
-		p96 := p56 - p93
-		p97 := p94 - p58
-		p98 := coef44 * w
-		p99 := c25 * p98
-		p100 := p61 + p99
-		p101 := k00 * p98
-		p102 := p101 - p62
-		p103 := c24 * p98
-		p104 := p63 - p103
-		p105 := c32 * p71
-		p106 := c31 * p71
-		p107 := -p106
-		p108 := k11 * p71
-		p109 := c32 * p76
-		p110 := c31 * p76
+		p89 := k11 * p86
+		p90 := coef12 * w
+		p91 := c25 * p90
+		p92 := p87 + p91
+		p93 := k00 * p90
+		p94 := p93 - p88
+		p95 := c24 * p90
+		p96 := p89 - p95
+		p97 := coef2 * w
+		p98 := c25 * p97
+		p99 := k00 * p97
+		p100 := c24 * p97
+		p101 := -p100
+		p102 := coef5 * w
+		p103 := c25 * p102
+		p104 := k00 * p102
+		p105 := c24 * p102
+		p106 := -p105
+		p107 := coef14 * w
+		p108 := c25 * p107
+		p109 := k00 * p107
+		p110 := c24 * p107
 		p111 := -p110
-		p112 := k11 * p76
-		p113 := c32 * p81
-		p114 := c31 * p81
+		p112 := tau_p * w
+		p113 := c32 * p112
+		p114 := c31 * p112
 		p115 := -p114
-		p116 := k11 * p81
-		p117 := c25 * p86
-		p118 := k00 * p86
-		p119 := c24 * p86
-		p120 := -p119
-		p121 := coef54 * w
-		p122 := c32 * p121
-		p123 := c31 * p121
-		p124 := k11 * p121
-		p125 := coef56 * w
-		p126 := c25 * p125
-		p127 := p122 + p126
-		p128 := k00 * p125
-		p129 := p128 - p123
-		p130 := c24 * p125
-		p131 := p124 - p130
-		p132 := tau_vel * w
-		p133 := c32 * p132
-		p134 := c31 * p132
-		p135 := -p134
-		p136 := k11 * p132
-		p137 := c25 * p132
-		p138 := k00 * p132
-		p139 := c24 * p132
-		p140 := -p139
+		p116 := k11 * p112
+		p117 := coef24 * w
+		p118 := c32 * p117
+		p119 := c31 * p117
+		p120 := k11 * p117
+		p121 := p80 + p118
+		p122 := p82 - p119
+		p123 := p120 - p84
+		p124 := coef33 * w
+		p125 := c25 * p124
+		p126 := p87 + p125
+		p127 := k00 * p124
+		p128 := p127 - p88
+		p129 := c24 * p124
+		p130 := p89 - p129
+		p131 := c32 * p97
+		p132 := c31 * p97
+		p133 := -p132
+		p134 := k11 * p97
+		p135 := c32 * p102
+		p136 := c31 * p102
+		p137 := -p136
+		p138 := k11 * p102
+		p139 := c32 * p107
+		p140 := c31 * p107
+		p141 := -p140
+		p142 := k11 * p107
+		p143 := c25 * p112
+		p144 := k00 * p112
+		p145 := c24 * p112
+		p146 := -p145
+		p147 := coef42 * w
+		p148 := c32 * p147
+		p149 := c31 * p147
+		p150 := k11 * p147
+		p151 := coef43 * w
+		p152 := c25 * p151
+		p153 := p148 + p152
+		p154 := k00 * p151
+		p155 := p154 - p149
+		p156 := c24 * p151
+		p157 := p150 - p156
+		p158 := tau_vel * w
+		p159 := c32 * p158
+		p160 := c31 * p158
+		p161 := -p160
+		p162 := k11 * p158
+		p163 := c25 * p158
+		p164 := k00 * p158
+		p165 := c24 * p158
+		p166 := -p165
+		p167 := coef48 * w
+		p168 := coef49 * w
+		p169 := coef50 * w
+		p170 := coef51 * w
+		p171 := coef52 * w
+		p172 := coef53 * w
+		p173 := coef54 * w
+		p174 := coef55 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1415,44 +1626,34 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes.fw:16
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes.fw:16
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂x² · v_vel[1]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²            navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes.fw:23
-		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p55 + c25*p66
-		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p57 + c25*p68
-		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p59 + c25*p70
-		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p44 + k01*p55 + k00*p66
-		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p46 + k01*p57 + k00*p68
-		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p48 + k01*p59 + k00*p70
-		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p55 + k10*p66
-		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p57 + k10*p68
-		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p59 + k10*p70
+		acc[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p70 + c32*p81 + c25*p92
+		acc[1] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p83 + c25*p94
+		acc[2] += fwNavierStokesVMSCellBasis1Val[q][0]*p74 + c32*p85 + c25*p96
+		acc[9] += fwNavierStokesVMSCellBasis1Val[q][1]*p70 + k01*p81 + k00*p92
+		acc[10] += fwNavierStokesVMSCellBasis1Val[q][1]*p72 + k01*p83 + k00*p94
+		acc[11] += fwNavierStokesVMSCellBasis1Val[q][1]*p74 + k01*p85 + k00*p96
+		acc[18] += fwNavierStokesVMSCellBasis1Val[q][2]*p70 + k11*p81 + k10*p92
+		acc[19] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p83 + k10*p94
+		acc[20] += fwNavierStokesVMSCellBasis1Val[q][2]*p74 + k11*p85 + k10*p96
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1465,28 +1666,28 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x               navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²                      navier_stokes.fw:16
-		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p77 + c25*p82
-		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p73 + c32*p78 + c25*p83
-		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p75 + c32*p80 + c25*p85
-		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p72 + k01*p77 + k00*p82
-		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p73 + k01*p78 + k00*p83
-		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p75 + k01*p80 + k00*p85
-		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p77 + k10*p82
-		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p73 + k11*p78 + k10*p83
-		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p75 + k11*p80 + k10*p85
+		acc[6] += fwNavierStokesVMSCellBasis1Val[q][0]*p98 + c32*p103 + c25*p108
+		acc[7] += fwNavierStokesVMSCellBasis1Val[q][0]*p99 + c32*p104 + c25*p109
+		acc[8] += fwNavierStokesVMSCellBasis1Val[q][0]*p101 + c32*p106 + c25*p111
+		acc[15] += fwNavierStokesVMSCellBasis1Val[q][1]*p98 + k01*p103 + k00*p108
+		acc[16] += fwNavierStokesVMSCellBasis1Val[q][1]*p99 + k01*p104 + k00*p109
+		acc[17] += fwNavierStokesVMSCellBasis1Val[q][1]*p101 + k01*p106 + k00*p111
+		acc[24] += fwNavierStokesVMSCellBasis1Val[q][2]*p98 + k11*p103 + k10*p108
+		acc[25] += fwNavierStokesVMSCellBasis1Val[q][2]*p99 + k11*p104 + k10*p109
+		acc[26] += fwNavierStokesVMSCellBasis1Val[q][2]*p101 + k11*p106 + k10*p111
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  navier_stokes.fw:23
-		acc[3] += c25 * p87
-		acc[4] += c25 * p89
-		acc[5] += c25 * p90
-		acc[12] += k00 * p87
-		acc[13] += k00 * p89
-		acc[14] += k00 * p90
-		acc[21] += k10 * p87
-		acc[22] += k10 * p89
-		acc[23] += k10 * p90
+		acc[3] += c25 * p113
+		acc[4] += c25 * p115
+		acc[5] += c25 * p116
+		acc[12] += k00 * p113
+		acc[13] += k00 * p115
+		acc[14] += k00 * p116
+		acc[21] += k10 * p113
+		acc[22] += k10 * p115
+		acc[23] += k10 * p116
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1498,44 +1699,34 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes.fw:16
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes.fw:16
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂x² · v_vel[2]  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²            navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes.fw:16
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes.fw:16
-		//	  −τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²    navier_stokes.fw:16
 		//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²            navier_stokes.fw:16
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes.fw:23
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes.fw:23
-		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p44 + c32*p95 + c25*p100
-		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p46 + c32*p96 + c25*p102
-		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p48 + c32*p97 + c25*p104
-		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p44 + k01*p95 + k00*p100
-		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p46 + k01*p96 + k00*p102
-		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p48 + k01*p97 + k00*p104
-		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p44 + k11*p95 + k10*p100
-		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p46 + k11*p96 + k10*p102
-		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p48 + k11*p97 + k10*p104
+		acc[30] += fwNavierStokesVMSCellBasis1Val[q][0]*p70 + c32*p121 + c25*p126
+		acc[31] += fwNavierStokesVMSCellBasis1Val[q][0]*p72 + c32*p122 + c25*p128
+		acc[32] += fwNavierStokesVMSCellBasis1Val[q][0]*p74 + c32*p123 + c25*p130
+		acc[39] += fwNavierStokesVMSCellBasis1Val[q][1]*p70 + k01*p121 + k00*p126
+		acc[40] += fwNavierStokesVMSCellBasis1Val[q][1]*p72 + k01*p122 + k00*p128
+		acc[41] += fwNavierStokesVMSCellBasis1Val[q][1]*p74 + k01*p123 + k00*p130
+		acc[48] += fwNavierStokesVMSCellBasis1Val[q][2]*p70 + k11*p121 + k10*p126
+		acc[49] += fwNavierStokesVMSCellBasis1Val[q][2]*p72 + k11*p122 + k10*p128
+		acc[50] += fwNavierStokesVMSCellBasis1Val[q][2]*p74 + k11*p123 + k10*p130
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel⁽ᵖʳᵉᵛ⁾)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1548,77 +1739,107 @@ func (NavierStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x               navier_stokes.fw:16
 		//	  τ_vel vel′⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x              navier_stokes.fw:16
 		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²                      navier_stokes.fw:16
-		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p105 + c32*p109 + c25*p113
-		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p107 + c32*p111 + c25*p115
-		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p108 + c32*p112 + c25*p116
-		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p105 + k01*p109 + k00*p113
-		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p107 + k01*p111 + k00*p115
-		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p108 + k01*p112 + k00*p116
-		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p105 + k11*p109 + k10*p113
-		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p107 + k11*p111 + k10*p115
-		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p108 + k11*p112 + k10*p116
+		acc[33] += fwNavierStokesVMSCellBasis1Val[q][0]*p131 + c32*p135 + c25*p139
+		acc[34] += fwNavierStokesVMSCellBasis1Val[q][0]*p133 + c32*p137 + c25*p141
+		acc[35] += fwNavierStokesVMSCellBasis1Val[q][0]*p134 + c32*p138 + c25*p142
+		acc[42] += fwNavierStokesVMSCellBasis1Val[q][1]*p131 + k01*p135 + k00*p139
+		acc[43] += fwNavierStokesVMSCellBasis1Val[q][1]*p133 + k01*p137 + k00*p141
+		acc[44] += fwNavierStokesVMSCellBasis1Val[q][1]*p134 + k01*p138 + k00*p142
+		acc[51] += fwNavierStokesVMSCellBasis1Val[q][2]*p131 + k11*p135 + k10*p139
+		acc[52] += fwNavierStokesVMSCellBasis1Val[q][2]*p133 + k11*p137 + k10*p141
+		acc[53] += fwNavierStokesVMSCellBasis1Val[q][2]*p134 + k11*p138 + k10*p142
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   navier_stokes.fw:23
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  navier_stokes.fw:23
-		acc[27] += c32 * p117
-		acc[28] += c32 * p118
-		acc[29] += c32 * p120
-		acc[36] += k01 * p117
-		acc[37] += k01 * p118
-		acc[38] += k01 * p120
-		acc[45] += k11 * p117
-		acc[46] += k11 * p118
-		acc[47] += k11 * p120
+		acc[27] += c32 * p143
+		acc[28] += c32 * p144
+		acc[29] += c32 * p146
+		acc[36] += k01 * p143
+		acc[37] += k01 * p144
+		acc[38] += k01 * p146
+		acc[45] += k11 * p143
+		acc[46] += k11 * p144
+		acc[47] += k11 * p146
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x        navier_stokes.fw:16
-		acc[54] += c25 * p127
-		acc[55] += c25 * p129
-		acc[56] += c25 * p131
-		acc[63] += k00 * p127
-		acc[64] += k00 * p129
-		acc[65] += k00 * p131
-		acc[72] += k10 * p127
-		acc[73] += k10 * p129
-		acc[74] += k10 * p131
+		acc[54] += c25 * p153
+		acc[55] += c25 * p155
+		acc[56] += c25 * p157
+		acc[63] += k00 * p153
+		acc[64] += k00 * p155
+		acc[65] += k00 * p157
+		acc[72] += k10 * p153
+		acc[73] += k10 * p155
+		acc[74] += k10 * p157
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y        navier_stokes.fw:16
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y  navier_stokes.fw:16
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y        navier_stokes.fw:16
-		acc[57] += c32 * p127
-		acc[58] += c32 * p129
-		acc[59] += c32 * p131
-		acc[66] += k01 * p127
-		acc[67] += k01 * p129
-		acc[68] += k01 * p131
-		acc[75] += k11 * p127
-		acc[76] += k11 * p129
-		acc[77] += k11 * p131
+		acc[57] += c32 * p153
+		acc[58] += c32 * p155
+		acc[59] += c32 * p157
+		acc[66] += k01 * p153
+		acc[67] += k01 * p155
+		acc[68] += k01 * p157
+		acc[75] += k11 * p153
+		acc[76] += k11 * p155
+		acc[77] += k11 * p157
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes.fw:22
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes.fw:22
-		acc[60] += c32*p133 + c25*p137
-		acc[61] += c32*p135 + c25*p138
-		acc[62] += c32*p136 + c25*p140
-		acc[69] += k01*p133 + k00*p137
-		acc[70] += k01*p135 + k00*p138
-		acc[71] += k01*p136 + k00*p140
-		acc[78] += k11*p133 + k10*p137
-		acc[79] += k11*p135 + k10*p138
-		acc[80] += k11*p136 + k10*p140
+		acc[60] += c32*p159 + c25*p163
+		acc[61] += c32*p161 + c25*p164
+		acc[62] += c32*p162 + c25*p166
+		acc[69] += k01*p159 + k00*p163
+		acc[70] += k01*p161 + k00*p164
+		acc[71] += k01*p162 + k00*p166
+		acc[78] += k11*p159 + k10*p163
+		acc[79] += k11*p161 + k10*p164
+		acc[80] += k11*p162 + k10*p166
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · v_vel[1]  navier_stokes.fw:16
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · v_vel[1]  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_vel[1]/∂y  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_vel[1]/∂x  navier_stokes.fw:16
+		rhs[0] += fwNavierStokesVMSCellBasis1Val[q][0]*p167 + c32*p168 + c25*p169
+		rhs[1] += fwNavierStokesVMSCellBasis1Val[q][1]*p167 + k01*p168 + k00*p169
+		rhs[2] += fwNavierStokesVMSCellBasis1Val[q][2]*p167 + k11*p168 + k10*p169
+		// Rows 3..5 of the right-hand side, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · v_vel[2]  navier_stokes.fw:16
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · v_vel[2]  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[2]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_vel[2]/∂y  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′⁽ᵖʳᵉᵛ⁾[1]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_vel[2]/∂x  navier_stokes.fw:16
+		rhs[3] += fwNavierStokesVMSCellBasis1Val[q][0]*p170 + c32*p171 + c25*p172
+		rhs[4] += fwNavierStokesVMSCellBasis1Val[q][1]*p170 + k01*p171 + k00*p172
+		rhs[5] += fwNavierStokesVMSCellBasis1Val[q][2]*p170 + k11*p171 + k10*p172
+		// Rows 6..8 of the right-hand side, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel⁽ᵖʳᵉᵛ⁾) v_vel − ∇v_vel·vel⁽ᵖʳᵉᵛ⁾ − ∇v_p)_K  navier_stokes.fw:22
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  navier_stokes.fw:16
+		rhs[6] += c32*p173 + c25*p174
+		rhs[7] += k01*p173 + k00*p174
+		rhs[8] += k11*p173 + k10*p174
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwNavierStokesFillNaN fills A and b with NaN: the cell has a non-positive

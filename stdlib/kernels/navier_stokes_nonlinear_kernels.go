@@ -21,7 +21,7 @@ func init() {
 			return NavierStokesNonlinearGalerkinKernel{}
 		},
 	})
-	compiled.Register("f07838f7d88254046e4fa4d544732d75", compiled.Kernels{
+	compiled.Register("a4485d800648f7db358bfc5917685b2a", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return NavierStokesNonlinearSUPGKernel{}
 		},
 	})
-	compiled.Register("483d9f39f766439d038b0e51dffdd0eb", compiled.Kernels{
+	compiled.Register("6456be5d570ce9790f3396e44e7309e7", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return NavierStokesNonlinearGLSKernel{}
 		},
 	})
-	compiled.Register("7480b9381fb86a49bcadafed1c536f41", compiled.Kernels{
+	compiled.Register("2741d672cddd1e805a6faa90a86d4d35", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -435,6 +435,12 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
 	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	j11 := x[5] - x[1]
 	j00 := x[2] - x[0]
@@ -487,29 +493,51 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	c36 := k00 * pv[7]
 	c37 := c4 * pv[8]
 	c38 := c35 + c36 - c37
-	c39 := pv[3] * c11
-	c40 := pv[4] * c10
-	c41 := pv[5] * k11
-	coef21 := c39 - c40 + c41
-	c42 := coef0 + coef21
-	c43 := c5 * pv[3]
-	c44 := k00 * pv[4]
-	c45 := c4 * pv[5]
-	coef20 := c43 + c44 - c45
-	c46 := c11 * pv[6]
-	c47 := c10 * pv[7]
-	c48 := k11 * pv[8]
-	c49 := c46 - c47 + c48
-	c50 := coef3 * (-0.01)
-	c51 := coef0 * (-0.01)
-	c52 := (-0.01) * coef21
-	c53 := (-0.01) * coef20
-	c54 := detJ * (1.0 / 12)
-	c55 := detJ * (-(1.0 / 12))
-	c56 := detJ * (1.0 / 24)
-	c57 := detJ * (-(1.0 / 24))
-	c58 := detJ * (-(1.0 / 6))
-	c59 := detJ * (1.0 / 6)
+	c39 := c5 * rv[0]
+	c40 := k00 * rv[2]
+	c41 := c4 * rv[4]
+	c42 := c39 + c39 + c40 + c40 - c41 - c41
+	c43 := 0.5 * c42
+	c44 := c11 * rv[1]
+	c45 := c10 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := c43 + c48
+	c50 := pv[3] * c11
+	c51 := pv[4] * c10
+	c52 := pv[5] * k11
+	coef17 := c50 - c51 + c52
+	c53 := coef0 + coef17
+	c54 := c5 * pv[3]
+	c55 := k00 * pv[4]
+	c56 := c4 * pv[5]
+	coef16 := c54 + c55 - c56
+	c57 := c11 * pv[6]
+	c58 := c10 * pv[7]
+	c59 := k11 * pv[8]
+	c60 := c57 - c58 + c59
+	c61 := c5 * rv[6]
+	c62 := k00 * rv[8]
+	c63 := c4 * rv[10]
+	c64 := c61 + c61 + c62 + c62 - c63 - c63
+	c65 := 0.5 * c64
+	c66 := c11 * rv[7]
+	c67 := c10 * rv[9]
+	c68 := k11 * rv[11]
+	c69 := c66 + c66 - c67 - c67 + c68 + c68
+	c70 := 0.5 * c69
+	c71 := c65 + c70
+	c72 := coef3 * (-0.01)
+	c73 := coef0 * (-0.01)
+	c74 := (-0.01) * coef17
+	c75 := (-0.01) * coef16
+	c76 := detJ * (1.0 / 12)
+	c77 := detJ * (-(1.0 / 12))
+	c78 := detJ * (1.0 / 24)
+	c79 := detJ * (-(1.0 / 24))
+	c80 := detJ * (-(1.0 / 6))
+	c81 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
@@ -521,29 +549,29 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-	acc[0] += c6*c54 + c7*c54 + c8*c55
-	acc[1] += c6*c56 + c7*c56 + c8*c57
-	acc[2] += c6*c56 + c7*c56 + c8*c57
-	acc[9] += c6*c56 + c7*c56 + c8*c57
-	acc[10] += c6*c54 + c7*c54 + c8*c55
-	acc[11] += c6*c56 + c7*c56 + c8*c57
-	acc[18] += c6*c56 + c7*c56 + c8*c57
-	acc[19] += c6*c56 + c7*c56 + c8*c57
-	acc[20] += c6*c54 + c7*c54 + c8*c55
+	acc[0] += c6*c76 + c7*c76 + c8*c77
+	acc[1] += c6*c78 + c7*c78 + c8*c79
+	acc[2] += c6*c78 + c7*c78 + c8*c79
+	acc[9] += c6*c78 + c7*c78 + c8*c79
+	acc[10] += c6*c76 + c7*c76 + c8*c77
+	acc[11] += c6*c78 + c7*c78 + c8*c79
+	acc[18] += c6*c78 + c7*c78 + c8*c79
+	acc[19] += c6*c78 + c7*c78 + c8*c79
+	acc[20] += c6*c76 + c7*c76 + c8*c77
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-	acc[3] += c12*c54 + c13*c55 + c14*c54
-	acc[4] += c12*c56 + c13*c57 + c14*c56
-	acc[5] += c12*c56 + c13*c57 + c14*c56
-	acc[12] += c12*c56 + c13*c57 + c14*c56
-	acc[13] += c12*c54 + c13*c55 + c14*c54
-	acc[14] += c12*c56 + c13*c57 + c14*c56
-	acc[21] += c12*c56 + c13*c57 + c14*c56
-	acc[22] += c12*c56 + c13*c57 + c14*c56
-	acc[23] += c12*c54 + c13*c55 + c14*c54
+	acc[3] += c12*c76 + c13*c77 + c14*c76
+	acc[4] += c12*c78 + c13*c79 + c14*c78
+	acc[5] += c12*c78 + c13*c79 + c14*c78
+	acc[12] += c12*c78 + c13*c79 + c14*c78
+	acc[13] += c12*c76 + c13*c77 + c14*c76
+	acc[14] += c12*c78 + c13*c79 + c14*c78
+	acc[21] += c12*c78 + c13*c79 + c14*c78
+	acc[22] += c12*c78 + c13*c79 + c14*c78
+	acc[23] += c12*c76 + c13*c77 + c14*c76
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -563,29 +591,29 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-	acc[27] += c43*c54 + c44*c54 + c45*c55
-	acc[28] += c43*c56 + c44*c56 + c45*c57
-	acc[29] += c43*c56 + c44*c56 + c45*c57
-	acc[36] += c43*c56 + c44*c56 + c45*c57
-	acc[37] += c43*c54 + c44*c54 + c45*c55
-	acc[38] += c43*c56 + c44*c56 + c45*c57
-	acc[45] += c43*c56 + c44*c56 + c45*c57
-	acc[46] += c43*c56 + c44*c56 + c45*c57
-	acc[47] += c43*c54 + c44*c54 + c45*c55
+	acc[27] += c54*c76 + c55*c76 + c56*c77
+	acc[28] += c54*c78 + c55*c78 + c56*c79
+	acc[29] += c54*c78 + c55*c78 + c56*c79
+	acc[36] += c54*c78 + c55*c78 + c56*c79
+	acc[37] += c54*c76 + c55*c76 + c56*c77
+	acc[38] += c54*c78 + c55*c78 + c56*c79
+	acc[45] += c54*c78 + c55*c78 + c56*c79
+	acc[46] += c54*c78 + c55*c78 + c56*c79
+	acc[47] += c54*c76 + c55*c76 + c56*c77
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-	acc[30] += c39*c54 + c40*c55 + c41*c54
-	acc[31] += c39*c56 + c40*c57 + c41*c56
-	acc[32] += c39*c56 + c40*c57 + c41*c56
-	acc[39] += c39*c56 + c40*c57 + c41*c56
-	acc[40] += c39*c54 + c40*c55 + c41*c54
-	acc[41] += c39*c56 + c40*c57 + c41*c56
-	acc[48] += c39*c56 + c40*c57 + c41*c56
-	acc[49] += c39*c56 + c40*c57 + c41*c56
-	acc[50] += c39*c54 + c40*c55 + c41*c54
+	acc[30] += c50*c76 + c51*c77 + c52*c76
+	acc[31] += c50*c78 + c51*c79 + c52*c78
+	acc[32] += c50*c78 + c51*c79 + c52*c78
+	acc[39] += c50*c78 + c51*c79 + c52*c78
+	acc[40] += c50*c76 + c51*c77 + c52*c76
+	acc[41] += c50*c78 + c51*c79 + c52*c78
+	acc[48] += c50*c78 + c51*c79 + c52*c78
+	acc[49] += c50*c78 + c51*c79 + c52*c78
+	acc[50] += c50*c76 + c51*c77 + c52*c76
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -634,9 +662,9 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
-	rhs[6] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
-	rhs[7] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
-	rhs[8] += c6*c58 + c7*c58 + c8*c59 + c39*c58 + c40*c59 + c41*c58
+	rhs[6] += c6*c80 + c7*c80 + c8*c81 + c50*c80 + c51*c81 + c52*c80
+	rhs[7] += c6*c80 + c7*c80 + c8*c81 + c50*c80 + c51*c81 + c52*c80
+	rhs[8] += c6*c80 + c7*c80 + c8*c81 + c50*c80 + c51*c81 + c52*c80
 	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[3] * fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]
@@ -663,365 +691,389 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		p19 := 1.0 + p10 - p17
 		p20 := 1.0 / p19
 		p21 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * c38
-		p22 := coef0 * coef2
-		p23 := coef1 * coef3
-		p24 := p22 + p23
-		p25 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p24
-		coef5 := p16 + p21 + p25
-		p26 := p8 * tau_vel
-		coef6 := p26 + 0.01
-		coef11 := coef1 * tau_vel
-		coef8 := coef1 * coef2 * tau_vel
-		p27 := tau_vel * p24
-		p28 := tau_vel * c38
-		p29 := coef1 * coef3 * tau_vel
-		p30 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c38
-		p31 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p24
-		coef10 := p27 + p28 + p29 + p30 + p31
-		p32 := coef0 * coef2 * tau_vel
-		p33 := coef2 * h * 0.5 * p17 * p20 * c42
-		p34 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c38
-		p35 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p24
-		coef12 := p27 + p28 + p32 + p33 + p34 + p35
-		coef19 := coef2 * tau_vel
-		p36 := p7 * tau_vel
+		p22 := coef1 * coef2 * c32 * p17 * p18 * p20 * 0.02 * c49
+		p23 := coef0 * coef2
+		p24 := coef1 * coef3
+		p25 := p23 + p24
+		p26 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p25
+		coef5 := p16 + p21 + p22 + p26
+		p27 := p8 * tau_vel
+		coef6 := p27 + 0.01
+		coef7 := coef1 * coef2 * tau_vel
+		p28 := tau_vel * p25
+		p29 := tau_vel * c49 * (-0.01)
+		p30 := tau_vel * c38
+		p31 := coef1 * coef3 * tau_vel
+		p32 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c38
+		p33 := c32 * p8 * p17 * p18 * p20 * 0.02 * c49
+		p34 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p25
+		coef8 := p28 + p29 + p30 + p31 + p32 + p33 + p34
+		coef9 := coef1 * tau_vel
+		p35 := coef0 * coef2 * tau_vel
+		p36 := coef2 * h * 0.5 * p17 * p20 * c53
+		p37 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c38
+		p38 := c32 * p7 * p17 * p18 * p20 * 0.02 * c49
+		p39 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p25
+		coef10 := p28 + p29 + p30 + p35 + p36 + p37 + p38 + p39
+		p40 := p7 * tau_vel
 		tau_p := c31 * p12 * 0.25
-		coef15 := 0.01 + p36 + tau_p
-		p37 := coef2 * coef3 * tau_vel
-		p38 := coef1 * h * 0.5 * p17 * p20 * c42
-		coef17 := p21 + p25 + p37 + p38
-		p39 := coef1 * tau_vel * coef20
-		p40 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * c49
-		p41 := coef2 * coef20
-		p42 := coef1 * coef21
-		p43 := p41 + p42
-		p44 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p43
-		coef25 := p33 + p39 + p40 + p44
-		p45 := tau_vel * p43
-		p46 := tau_vel * c49
-		p47 := coef1 * tau_vel * coef21
-		p48 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c49
-		p49 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p43
-		coef27 := p38 + p45 + p46 + p47 + p48 + p49
-		coef28 := p26 + 0.01 + tau_p
-		p50 := coef2 * tau_vel * coef20
-		p51 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c49
-		p52 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p43
-		coef33 := p45 + p46 + p50 + p51 + p52
-		p53 := coef2 * tau_vel * coef21
-		coef34 := p40 + p44 + p53
-		coef37 := 0.01 + p36
-		p54 := tau_vel * coef20
-		p55 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c49
-		p56 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p43
-		coef42 := p54 + p55 + p56
-		p57 := tau_vel * coef21
-		p58 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c49
-		p59 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p43
-		coef43 := p57 + p58 + p59
-		p60 := coef0 * tau_vel
-		p61 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c38
-		p62 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p24
-		coef49 := p60 + p61 + p62
-		p63 := coef3 * tau_vel
-		p64 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c38
-		p65 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p24
-		coef54 := p63 + p64 + p65
-		p66 := -p22
-		coef56 := p66 - p23 - c38
-		p67 := coef1 * tau_vel * p24
-		p68 := coef1 * tau_vel * c38
-		coef57 := c50 - p67 - p68
-		p69 := c42 * tau_p
-		p70 := coef2 * tau_vel * p24
-		p71 := coef2 * tau_vel * c38
-		coef58 := c51 - p69 - p70 - p71
-		p72 := -p41
-		coef59 := p72 - p42 - c49
-		p73 := coef1 * tau_vel * p43
-		p74 := coef1 * tau_vel * c49
-		coef60 := c52 - p69 - p73 - p74
-		p75 := coef2 * tau_vel * p43
-		p76 := coef2 * tau_vel * c49
-		coef61 := c53 - p75 - p76
-		p77 := -p45
-		coef63 := p77 - p46
-		p78 := -p27
-		coef64 := p78 - p28
+		coef12 := 0.01 + p40 + tau_p
+		p41 := coef2 * coef3 * tau_vel
+		p42 := coef1 * h * 0.5 * p17 * p20 * c53
+		coef13 := p21 + p22 + p26 + p41 + p42
+		coef15 := coef2 * tau_vel
+		p43 := coef1 * tau_vel * coef16
+		p44 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * c60
+		p45 := coef1 * coef2 * c32 * p17 * p18 * p20 * 0.02 * c71
+		p46 := coef2 * coef16
+		p47 := coef1 * coef17
+		p48 := p46 + p47
+		p49 := coef1 * coef2 * c32 * (-2.0) * p17 * p18 * p20 * p48
+		coef21 := p36 + p43 + p44 + p45 + p49
+		p50 := tau_vel * p48
+		p51 := tau_vel * (-0.01) * c71
+		p52 := tau_vel * c60
+		p53 := coef1 * tau_vel * coef17
+		p54 := c32 * p8 * (-2.0) * p17 * p18 * p20 * c60
+		p55 := c32 * p8 * p17 * p18 * p20 * 0.02 * c71
+		p56 := c32 * p8 * (-2.0) * p17 * p18 * p20 * p48
+		coef23 := p42 + p50 + p51 + p52 + p53 + p54 + p55 + p56
+		coef24 := p27 + 0.01 + tau_p
+		p57 := coef2 * tau_vel * coef16
+		p58 := c32 * p7 * (-2.0) * p17 * p18 * p20 * c60
+		p59 := c32 * p7 * p17 * p18 * p20 * 0.02 * c71
+		p60 := c32 * p7 * (-2.0) * p17 * p18 * p20 * p48
+		coef27 := p50 + p51 + p52 + p57 + p58 + p59 + p60
+		p61 := coef2 * tau_vel * coef17
+		coef28 := p44 + p45 + p49 + p61
+		coef30 := 0.01 + p40
+		p62 := tau_vel * coef16
+		p63 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c60
+		p64 := coef2 * c32 * p17 * p18 * p20 * 0.02 * c71
+		p65 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p48
+		coef34 := p62 + p63 + p64 + p65
+		p66 := tau_vel * coef17
+		p67 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c60
+		p68 := coef1 * c32 * p17 * p18 * p20 * 0.02 * c71
+		p69 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p48
+		coef35 := p66 + p67 + p68 + p69
+		p70 := coef0 * tau_vel
+		p71 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * c38
+		p72 := coef2 * c32 * p17 * p18 * p20 * 0.02 * c49
+		p73 := coef2 * c32 * (-2.0) * p17 * p18 * p20 * p25
+		coef39 := p70 + p71 + p72 + p73
+		p74 := coef3 * tau_vel
+		p75 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * c38
+		p76 := coef1 * c32 * p17 * p18 * p20 * 0.02 * c49
+		p77 := coef1 * c32 * (-2.0) * p17 * p18 * p20 * p25
+		coef42 := p74 + p75 + p76 + p77
+		p78 := -p23
+		coef44 := p78 - p24 - c38
+		p79 := coef1 * tau_vel * p25
+		p80 := coef1 * tau_vel * c49 * 0.01
+		p81 := coef1 * tau_vel * c38
+		p82 := coef1 * tau_vel * c43 * 0.01
+		p83 := coef1 * tau_vel * c48 * 0.01
+		coef45 := p80 - p79 - p81 + p82 + p83 + c72
+		p84 := c53 * tau_p
+		p85 := coef2 * tau_vel * p25
+		p86 := coef2 * tau_vel * c49 * 0.01
+		p87 := coef2 * tau_vel * c38
+		p88 := coef2 * tau_vel * c43 * 0.01
+		p89 := coef2 * tau_vel * c48 * 0.01
+		coef46 := p86 - p84 - p85 - p87 + p88 + p89 + c73
+		p90 := -p46
+		coef47 := p90 - p47 - c60
+		p91 := coef1 * tau_vel * p48
+		p92 := coef1 * tau_vel * 0.01 * c71
+		p93 := coef1 * tau_vel * c60
+		p94 := coef1 * tau_vel * 0.01 * c65
+		p95 := coef1 * tau_vel * 0.01 * c70
+		coef48 := p92 - p84 - p91 - p93 + p94 + p95 + c74
+		p96 := coef2 * tau_vel * p48
+		p97 := coef2 * tau_vel * 0.01 * c71
+		p98 := coef2 * tau_vel * c60
+		p99 := coef2 * tau_vel * 0.01 * c65
+		p100 := coef2 * tau_vel * 0.01 * c70
+		coef49 := p97 - p96 - p98 + p99 + p100 + c75
+		p101 := tau_vel * 0.01 * c71
+		p102 := tau_vel * 0.01 * c65
+		p103 := tau_vel * 0.01 * c70
+		coef51 := p101 - p50 - p52 + p102 + p103
+		p104 := tau_vel * c49 * 0.01
+		p105 := tau_vel * c43 * 0.01
+		p106 := tau_vel * c48 * 0.01
+		coef52 := p104 - p28 - p30 + p105 + p106
 		w := detJ * fwNavierStokesNonlinearSUPGCellWeights[q]
-		p79 := coef1 * w
-		p80 := c11 * p79
-		p81 := c10 * p79
-		p82 := k11 * p79
-		p83 := coef2 * w
-		p84 := c5 * p83
-		p85 := p80 + p84
-		p86 := k00 * p83
-		p87 := p86 - p81
-		p88 := c4 * p83
-		p89 := p82 - p88
-		p90 := coef5 * w
-		p91 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p90
-		p92 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p90
-		p93 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p90
-		p94 := coef6 * w
-		p95 := c11 * p94
-		p96 := p91 + p95
-		p97 := c10 * p94
-		p98 := p92 - p97
-		p99 := k11 * p94
-		p100 := p93 + p99
-		p101 := coef8 * w
-		p102 := c5 * p101
-		p103 := p96 + p102
-		p104 := k00 * p101
-		p105 := p98 + p104
-		p106 := c4 * p101
-		p107 := p100 - p106
-		p108 := coef12 * w
-		p109 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p108
-		p110 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p108
-		p111 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p108
-		p112 := c11 * p101
-		p113 := p109 + p112
-		p114 := c10 * p101
-		p115 := p110 - p114
-		p116 := k11 * p101
-		p117 := p111 + p116
-		p118 := coef15 * w
-		p119 := c5 * p118
-		p120 := p113 + p119
-		p121 := k00 * p118
-		p122 := p115 + p121
-		p123 := c4 * p118
-		p124 := p117 - p123
-		p125 := coef10 * w
-		p126 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p125
-		p127 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p125
-		p128 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p125
-		p129 := coef17 * w
-		p130 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p129
-		p131 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p129
-		p132 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p129
-		p133 := tau_p * w
-		p134 := c11 * p133
-		p135 := p130 + p134
-		p136 := c10 * p133
-		p137 := p131 - p136
-		p138 := k11 * p133
-		p139 := p132 + p138
-		p140 := coef11 * w
-		p141 := c5 * p140
-		p142 := k00 * p140
-		p143 := c4 * p140
-		p144 := -p143
-		p145 := coef19 * w
-		p146 := c5 * p145
-		p147 := k00 * p145
-		p148 := c4 * p145
-		p149 := -p148
-		p150 := coef25 * w
-		p151 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p150
-		p152 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p150
-		p153 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p150
-		p154 := c5 * p133
-		p155 := p151 + p154
-		p156 := k00 * p133
-		p157 := p152 + p156
-		p158 := c4 * p133
-		p159 := p153 - p158
-		p160 := coef33 * w
-		p161 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p160
-		p162 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p160
-		p163 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p160
-		p164 := coef27 * w
-		p165 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p164
-		p166 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p164
-		p167 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p164
-		p168 := coef28 * w
-		p169 := c11 * p168
-		p170 := p165 + p169
-		p171 := c10 * p168
-		p172 := p166 - p171
-		p173 := k11 * p168
-		p174 := p167 + p173
-		p175 := p102 + p170
-		p176 := p104 + p172
-		p177 := p174 - p106
-		p178 := coef34 * w
+		p107 := coef1 * w
+		p108 := c11 * p107
+		p109 := c10 * p107
+		p110 := k11 * p107
+		p111 := coef2 * w
+		p112 := c5 * p111
+		p113 := p108 + p112
+		p114 := k00 * p111
+		p115 := p114 - p109
+		p116 := c4 * p111
+		p117 := p110 - p116
+		p118 := coef5 * w
+		p119 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p118
+		p120 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p118
+		p121 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p118
+		p122 := coef6 * w
+		p123 := c11 * p122
+		p124 := p119 + p123
+		p125 := c10 * p122
+		p126 := p120 - p125
+		p127 := k11 * p122
+		p128 := p121 + p127
+		p129 := coef7 * w
+		p130 := c5 * p129
+		p131 := p124 + p130
+		p132 := k00 * p129
+		p133 := p126 + p132
+		p134 := c4 * p129
+		p135 := p128 - p134
+		p136 := coef10 * w
+		p137 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p136
+		p138 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p136
+		p139 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p136
+		p140 := c11 * p129
+		p141 := p137 + p140
+		p142 := c10 * p129
+		p143 := p138 - p142
+		p144 := k11 * p129
+		p145 := p139 + p144
+		p146 := coef12 * w
+		p147 := c5 * p146
+		p148 := p141 + p147
+		p149 := k00 * p146
+		p150 := p143 + p149
+		p151 := c4 * p146
+		p152 := p145 - p151
+		p153 := coef8 * w
+		p154 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p153
+		p155 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p153
+		p156 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p153
+		p157 := coef13 * w
+		p158 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p157
+		p159 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p157
+		p160 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p157
+		p161 := tau_p * w
+		p162 := c11 * p161
+		p163 := p158 + p162
+		p164 := c10 * p161
+		p165 := p159 - p164
+		p166 := k11 * p161
+		p167 := p160 + p166
+		p168 := coef9 * w
+		p169 := c5 * p168
+		p170 := k00 * p168
+		p171 := c4 * p168
+		p172 := -p171
+		p173 := coef15 * w
+		p174 := c5 * p173
+		p175 := k00 * p173
+		p176 := c4 * p173
+		p177 := -p176
+		p178 := coef21 * w
 		p179 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p178
 		p180 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p178
 		p181 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p178
-		p182 := p112 + p179
-		p183 := p180 - p114
-		p184 := p116 + p181
-		p185 := coef37 * w
-		p186 := c5 * p185
-		p187 := p182 + p186
-		p188 := k00 * p185
-		p189 := p183 + p188
-		p190 := c4 * p185
-		p191 := p184 - p190
-		p192 := c11 * p140
-		p193 := c10 * p140
-		p194 := -p193
-		p195 := k11 * p140
-		p196 := c11 * p145
-		p197 := c10 * p145
-		p198 := -p197
-		p199 := k11 * p145
-		p200 := coef42 * w
-		p201 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p200
-		p202 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p200
-		p203 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p200
-		p204 := coef49 * w
-		p205 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p204
-		p206 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p204
-		p207 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p204
-		p208 := p192 + p205
-		p209 := p206 - p193
-		p210 := p195 + p207
-		p211 := p146 + p208
-		p212 := p147 + p209
-		p213 := p210 - p148
-		p214 := coef43 * w
-		p215 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p214
-		p216 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p214
-		p217 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p214
-		p218 := p192 + p215
-		p219 := p216 - p193
-		p220 := p195 + p217
-		p221 := p146 + p218
-		p222 := p147 + p219
-		p223 := p220 - p148
-		p224 := coef54 * w
-		p225 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p224
-		p226 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p224
-		p227 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p224
-		p228 := tau_vel * w
-		p229 := c11 * p228
-		p230 := c10 * p228
-		p231 := -p230
-		p232 := k11 * p228
-		p233 := c5 * p228
-		p234 := k00 * p228
-		p235 := c4 * p228
-		p236 := -p235
-		p237 := coef56 * w
-		p238 := coef57 * w
-		p239 := coef58 * w
-		p240 := coef59 * w
-		p241 := coef60 * w
-		p242 := coef61 * w
-		p243 := coef63 * w
-		p244 := coef64 * w
+		p182 := c5 * p161
+		p183 := p179 + p182
+		p184 := k00 * p161
+		p185 := p180 + p184
+		p186 := c4 * p161
+		p187 := p181 - p186
+		p188 := coef27 * w
+		p189 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p188
+		p190 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p188
+		p191 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p188
+		p192 := coef23 * w
+		p193 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p192
+		p194 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p192
+		p195 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p192
+		p196 := coef24 * w
+		p197 := c11 * p196
+		p198 := p193 + p197
+		p199 := c10 * p196
+		p200 := p194 - p199
+		p201 := k11 * p196
+		p202 := p195 + p201
+		p203 := p130 + p198
+		p204 := p132 + p200
+		p205 := p202 - p134
+		p206 := coef28 * w
+		p207 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p206
+		p208 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p206
+		p209 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p206
+		p210 := p140 + p207
+		p211 := p208 - p142
+		p212 := p144 + p209
+		p213 := coef30 * w
+		p214 := c5 * p213
+		p215 := p210 + p214
+		p216 := k00 * p213
+		p217 := p211 + p216
+		p218 := c4 * p213
+		p219 := p212 - p218
+		p220 := c11 * p168
+		p221 := c10 * p168
+		p222 := -p221
+		p223 := k11 * p168
+		p224 := c11 * p173
+		p225 := c10 * p173
+		p226 := -p225
+		p227 := k11 * p173
+		p228 := coef34 * w
+		p229 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p228
+		p230 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p228
+		p231 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p228
+		p232 := coef39 * w
+		p233 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p232
+		p234 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p232
+		p235 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p232
+		p236 := p220 + p233
+		p237 := p234 - p221
+		p238 := p223 + p235
+		p239 := p174 + p236
+		p240 := p175 + p237
+		p241 := p238 - p176
+		p242 := coef35 * w
+		p243 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p242
+		p244 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p242
+		p245 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p242
+		p246 := p220 + p243
+		p247 := p244 - p221
+		p248 := p223 + p245
+		p249 := p174 + p246
+		p250 := p175 + p247
+		p251 := p248 - p176
+		p252 := coef42 * w
+		p253 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][0] * p252
+		p254 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][1] * p252
+		p255 := fwNavierStokesNonlinearSUPGCellBasis1Val[q][2] * p252
+		p256 := tau_vel * w
+		p257 := c11 * p256
+		p258 := c10 * p256
+		p259 := -p258
+		p260 := k11 * p256
+		p261 := c5 * p256
+		p262 := k00 * p256
+		p263 := c4 * p256
+		p264 := -p263
+		p265 := coef44 * w
+		p266 := coef45 * w
+		p267 := coef46 * w
+		p268 := coef47 * w
+		p269 := coef48 * w
+		p270 := coef49 * w
+		p271 := coef51 * w
+		p272 := coef52 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
-		acc[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p85 + c11*p103 + c5*p120
-		acc[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p87 + c11*p105 + c5*p122
-		acc[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p89 + c11*p107 + c5*p124
-		acc[9] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p85 + k01*p103 + k00*p120
-		acc[10] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p87 + k01*p105 + k00*p122
-		acc[11] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p89 + k01*p107 + k00*p124
-		acc[18] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p85 + k11*p103 + k10*p120
-		acc[19] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p87 + k11*p105 + k10*p122
-		acc[20] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p89 + k11*p107 + k10*p124
+		acc[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p113 + c11*p131 + c5*p148
+		acc[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p115 + c11*p133 + c5*p150
+		acc[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p117 + c11*p135 + c5*p152
+		acc[9] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p113 + k01*p131 + k00*p148
+		acc[10] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p115 + k01*p133 + k00*p150
+		acc[11] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p117 + k01*p135 + k00*p152
+		acc[18] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p113 + k11*p131 + k10*p148
+		acc[19] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p115 + k11*p133 + k10*p150
+		acc[20] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p117 + k11*p135 + k10*p152
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
-		acc[3] += c11*p126 + c5*p135
-		acc[4] += c11*p127 + c5*p137
-		acc[5] += c11*p128 + c5*p139
-		acc[12] += k01*p126 + k00*p135
-		acc[13] += k01*p127 + k00*p137
-		acc[14] += k01*p128 + k00*p139
-		acc[21] += k11*p126 + k10*p135
-		acc[22] += k11*p127 + k10*p137
-		acc[23] += k11*p128 + k10*p139
+		acc[3] += c11*p154 + c5*p163
+		acc[4] += c11*p155 + c5*p165
+		acc[5] += c11*p156 + c5*p167
+		acc[12] += k01*p154 + k00*p163
+		acc[13] += k01*p155 + k00*p165
+		acc[14] += k01*p156 + k00*p167
+		acc[21] += k11*p154 + k10*p163
+		acc[22] += k11*p155 + k10*p165
+		acc[23] += k11*p156 + k10*p167
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		acc[6] += c11*p141 + c5*p146
-		acc[7] += c11*p142 + c5*p147
-		acc[8] += c11*p144 + c5*p149
-		acc[15] += k01*p141 + k00*p146
-		acc[16] += k01*p142 + k00*p147
-		acc[17] += k01*p144 + k00*p149
-		acc[24] += k11*p141 + k10*p146
-		acc[25] += k11*p142 + k10*p147
-		acc[26] += k11*p144 + k10*p149
+		acc[6] += c11*p169 + c5*p174
+		acc[7] += c11*p170 + c5*p175
+		acc[8] += c11*p172 + c5*p177
+		acc[15] += k01*p169 + k00*p174
+		acc[16] += k01*p170 + k00*p175
+		acc[17] += k01*p172 + k00*p177
+		acc[24] += k11*p169 + k10*p174
+		acc[25] += k11*p170 + k10*p175
+		acc[26] += k11*p172 + k10*p177
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
-		acc[27] += c11*p155 + c5*p161
-		acc[28] += c11*p157 + c5*p162
-		acc[29] += c11*p159 + c5*p163
-		acc[36] += k01*p155 + k00*p161
-		acc[37] += k01*p157 + k00*p162
-		acc[38] += k01*p159 + k00*p163
-		acc[45] += k11*p155 + k10*p161
-		acc[46] += k11*p157 + k10*p162
-		acc[47] += k11*p159 + k10*p163
+		acc[27] += c11*p183 + c5*p189
+		acc[28] += c11*p185 + c5*p190
+		acc[29] += c11*p187 + c5*p191
+		acc[36] += k01*p183 + k00*p189
+		acc[37] += k01*p185 + k00*p190
+		acc[38] += k01*p187 + k00*p191
+		acc[45] += k11*p183 + k10*p189
+		acc[46] += k11*p185 + k10*p190
+		acc[47] += k11*p187 + k10*p191
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1029,116 +1081,108 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
-		acc[30] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p85 + c11*p175 + c5*p187
-		acc[31] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p87 + c11*p176 + c5*p189
-		acc[32] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p89 + c11*p177 + c5*p191
-		acc[39] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p85 + k01*p175 + k00*p187
-		acc[40] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p87 + k01*p176 + k00*p189
-		acc[41] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p89 + k01*p177 + k00*p191
-		acc[48] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p85 + k11*p175 + k10*p187
-		acc[49] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p87 + k11*p176 + k10*p189
-		acc[50] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p89 + k11*p177 + k10*p191
+		acc[30] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p113 + c11*p203 + c5*p215
+		acc[31] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p115 + c11*p204 + c5*p217
+		acc[32] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p117 + c11*p205 + c5*p219
+		acc[39] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p113 + k01*p203 + k00*p215
+		acc[40] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p115 + k01*p204 + k00*p217
+		acc[41] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p117 + k01*p205 + k00*p219
+		acc[48] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p113 + k11*p203 + k10*p215
+		acc[49] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p115 + k11*p204 + k10*p217
+		acc[50] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p117 + k11*p205 + k10*p219
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂p/∂y · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		acc[33] += c11*p192 + c5*p196
-		acc[34] += c11*p194 + c5*p198
-		acc[35] += c11*p195 + c5*p199
-		acc[42] += k01*p192 + k00*p196
-		acc[43] += k01*p194 + k00*p198
-		acc[44] += k01*p195 + k00*p199
-		acc[51] += k11*p192 + k10*p196
-		acc[52] += k11*p194 + k10*p198
-		acc[53] += k11*p195 + k10*p199
+		acc[33] += c11*p220 + c5*p224
+		acc[34] += c11*p222 + c5*p226
+		acc[35] += c11*p223 + c5*p227
+		acc[42] += k01*p220 + k00*p224
+		acc[43] += k01*p222 + k00*p226
+		acc[44] += k01*p223 + k00*p227
+		acc[51] += k11*p220 + k10*p224
+		acc[52] += k11*p222 + k10*p226
+		acc[53] += k11*p223 + k10*p227
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
-		acc[54] += c11*p201 + c5*p211
-		acc[55] += c11*p202 + c5*p212
-		acc[56] += c11*p203 + c5*p213
-		acc[63] += k01*p201 + k00*p211
-		acc[64] += k01*p202 + k00*p212
-		acc[65] += k01*p203 + k00*p213
-		acc[72] += k11*p201 + k10*p211
-		acc[73] += k11*p202 + k10*p212
-		acc[74] += k11*p203 + k10*p213
+		acc[54] += c11*p229 + c5*p239
+		acc[55] += c11*p230 + c5*p240
+		acc[56] += c11*p231 + c5*p241
+		acc[63] += k01*p229 + k00*p239
+		acc[64] += k01*p230 + k00*p240
+		acc[65] += k01*p231 + k00*p241
+		acc[72] += k11*p229 + k10*p239
+		acc[73] += k11*p230 + k10*p240
+		acc[74] += k11*p231 + k10*p241
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		acc[57] += c11*p221 + c5*p225
-		acc[58] += c11*p222 + c5*p226
-		acc[59] += c11*p223 + c5*p227
-		acc[66] += k01*p221 + k00*p225
-		acc[67] += k01*p222 + k00*p226
-		acc[68] += k01*p223 + k00*p227
-		acc[75] += k11*p221 + k10*p225
-		acc[76] += k11*p222 + k10*p226
-		acc[77] += k11*p223 + k10*p227
+		acc[57] += c11*p249 + c5*p253
+		acc[58] += c11*p250 + c5*p254
+		acc[59] += c11*p251 + c5*p255
+		acc[66] += k01*p249 + k00*p253
+		acc[67] += k01*p250 + k00*p254
+		acc[68] += k01*p251 + k00*p255
+		acc[75] += k11*p249 + k10*p253
+		acc[76] += k11*p250 + k10*p254
+		acc[77] += k11*p251 + k10*p255
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
-		acc[60] += c11*p229 + c5*p233
-		acc[61] += c11*p231 + c5*p234
-		acc[62] += c11*p232 + c5*p236
-		acc[69] += k01*p229 + k00*p233
-		acc[70] += k01*p231 + k00*p234
-		acc[71] += k01*p232 + k00*p236
-		acc[78] += k11*p229 + k10*p233
-		acc[79] += k11*p231 + k10*p234
-		acc[80] += k11*p232 + k10*p236
+		acc[60] += c11*p257 + c5*p261
+		acc[61] += c11*p259 + c5*p262
+		acc[62] += c11*p260 + c5*p264
+		acc[69] += k01*p257 + k00*p261
+		acc[70] += k01*p259 + k00*p262
+		acc[71] += k01*p260 + k00*p264
+		acc[78] += k11*p257 + k10*p261
+		acc[79] += k11*p259 + k10*p262
+		acc[80] += k11*p260 + k10*p264
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1149,16 +1193,20 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x                    navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		rhs[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p237 + c11*p238 + c5*p239
-		rhs[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p237 + k01*p238 + k00*p239
-		rhs[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p237 + k11*p238 + k10*p239
+		rhs[0] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p265 + c11*p266 + c5*p267
+		rhs[1] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p265 + k01*p266 + k00*p267
+		rhs[2] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p265 + k11*p266 + k10*p267
 		// Rows 3..5 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1171,26 +1219,34 @@ func (NavierStokesNonlinearSUPGKernel) Cell(in *kernel.CellInput, A, b []float64
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
-		rhs[3] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p240 + c11*p241 + c5*p242
-		rhs[4] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p240 + k01*p241 + k00*p242
-		rhs[5] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p240 + k11*p241 + k10*p242
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		rhs[3] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][0]*p268 + c11*p269 + c5*p270
+		rhs[4] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][1]*p268 + k01*p269 + k00*p270
+		rhs[5] += fwNavierStokesNonlinearSUPGCellBasis1Val[q][2]*p268 + k11*p269 + k10*p270
 		// Rows 6..8 of the right-hand side, at each quadrature point.
 		//
 		//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·vel + ∇v_p)_K            navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
-		rhs[6] += c11*p243 + c5*p244
-		rhs[7] += k01*p243 + k00*p244
-		rhs[8] += k11*p243 + k10*p244
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		rhs[6] += c11*p271 + c5*p272
+		rhs[7] += k01*p271 + k00*p272
+		rhs[8] += k11*p271 + k10*p272
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -1232,6 +1288,12 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	pv := zero[:]
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
+	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
@@ -1291,23 +1353,45 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c44 := pv[7] * c41
 	c45 := pv[8] * k11
 	c46 := c43 - c44 + c45
-	c47 := pv[0] * c42
-	c48 := pv[1] * c41
-	c49 := pv[2] * k11
-	c50 := c47 - c48 + c49
-	c51 := pv[3] * c42
-	c52 := pv[4] * c41
-	c53 := pv[5] * k11
-	c54 := c51 - c52 + c53
-	c55 := c29 + c54
-	c56 := c50 * c50
-	c57 := c54 * c54
-	c58 := c50 * (-0.01)
-	c59 := c29 * (-0.01)
-	c60 := c54 * (-0.01)
-	c61 := c34 * (-0.01)
-	c62 := detJ * (-(1.0 / 6))
-	c63 := detJ * (1.0 / 6)
+	c47 := c25 * rv[0]
+	c48 := k00 * rv[2]
+	c49 := c24 * rv[4]
+	c50 := c47 + c47 + c48 + c48 - c49 - c49
+	c51 := 0.5 * c50
+	c52 := c42 * rv[1]
+	c53 := c41 * rv[3]
+	c54 := k11 * rv[5]
+	c55 := c52 + c52 - c53 - c53 + c54 + c54
+	c56 := 0.5 * c55
+	c57 := c51 + c56
+	c58 := c25 * rv[6]
+	c59 := k00 * rv[8]
+	c60 := c24 * rv[10]
+	c61 := c58 + c58 + c59 + c59 - c60 - c60
+	c62 := 0.5 * c61
+	c63 := c42 * rv[7]
+	c64 := c41 * rv[9]
+	c65 := k11 * rv[11]
+	c66 := c63 + c63 - c64 - c64 + c65 + c65
+	c67 := 0.5 * c66
+	c68 := c62 + c67
+	c69 := pv[0] * c42
+	c70 := pv[1] * c41
+	c71 := pv[2] * k11
+	c72 := c69 - c70 + c71
+	c73 := pv[3] * c42
+	c74 := pv[4] * c41
+	c75 := pv[5] * k11
+	c76 := c73 - c74 + c75
+	c77 := c29 + c76
+	c78 := c72 * c72
+	c79 := c76 * c76
+	c80 := c72 * (-0.01)
+	c81 := c29 * (-0.01)
+	c82 := c76 * (-0.01)
+	c83 := c34 * (-0.01)
+	c84 := detJ * (-(1.0 / 6))
+	c85 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
@@ -1348,9 +1432,9 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
-	rhs[6] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
-	rhs[7] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
-	rhs[8] += c26*c62 + c27*c62 + c28*c63 + c51*c62 + c52*c63 + c53*c62
+	rhs[6] += c26*c84 + c27*c84 + c28*c85 + c73*c84 + c74*c85 + c75*c84
+	rhs[7] += c26*c84 + c27*c84 + c28*c85 + c73*c84 + c74*c85 + c75*c84
+	rhs[8] += c26*c84 + c27*c84 + c28*c85 + c73*c84 + c74*c85 + c75*c84
 	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesNonlinearGLSCellBasis1Val[q][0]
@@ -1379,436 +1463,476 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p23 := 1.0 / p22
 		p24 := c18 * p4 * c29 * (-2.0) * p20 * p21 * p23 * c39
 		p25 := c18 * p4 * c34 * (-2.0) * p20 * p21 * p23 * c46
-		p26 := p4 * c29
-		p27 := p9 * c50
-		p28 := p26 + p27
-		p29 := c18 * p4 * c29 * (-2.0) * p20 * p21 * p23 * p28
-		p30 := p4 * c34
-		p31 := p9 * c54
-		p32 := p30 + p31
-		p33 := c18 * p4 * c34 * (-2.0) * p20 * p21 * p23 * p32
-		coef0 := c29 + p18 + p19 + p24 + p25 + p29 + p33
-		p34 := p9 * tau_vel * c29
-		coef1 := p9 + p34
-		p35 := tau_vel * c29
-		p36 := tau_vel * p28
-		p37 := tau_vel * c39
-		p38 := p4 * tau_vel * c29
-		coef3 := p4 + p36 + p37 + p38
-		p39 := tau_vel * c29 * c50
-		p40 := tau_vel * c34 * c54
-		p41 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * c39
-		p42 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * c46
-		p43 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * p28
-		p44 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * p32
-		coef5 := c50 + p39 + p40 + p41 + p42 + p43 + p44
-		coef6 := p9 * tau_vel * c34
-		coef10 := tau_vel * c34
-		p45 := tau_vel * p32
-		p46 := tau_vel * c46
-		p47 := p4 * tau_vel * c34
-		coef8 := p45 + p46 + p47
-		coef11 := 1.0 + p35
-		p48 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c39
-		p49 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * p28
-		coef12 := p34 + p48 + p49
-		p50 := p10 * tau_vel
-		coef13 := p50 + 0.01
-		coef18 := p9 * tau_vel
-		coef15 := p4 * p9 * tau_vel
-		p51 := p9 * tau_vel * c50
-		p52 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c39
-		p53 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p28
-		coef17 := p36 + p37 + p51 + p52 + p53
-		coef33 := p4 * tau_vel
-		coef52 := tau_vel * c50
-		p54 := h * p4 * 0.5 * p20 * p23 * c55
-		p55 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c39
-		p56 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p28
-		coef26 := p36 + p37 + p38 + p54 + p55 + p56
-		p57 := p5 * tau_vel
+		p26 := c18 * p4 * c29 * p20 * p21 * p23 * 0.02 * c57
+		p27 := c18 * p4 * c34 * p20 * p21 * p23 * 0.02 * c68
+		p28 := p4 * c29
+		p29 := p9 * c72
+		p30 := p28 + p29
+		p31 := c18 * p4 * c29 * (-2.0) * p20 * p21 * p23 * p30
+		p32 := p4 * c34
+		p33 := p9 * c76
+		p34 := p32 + p33
+		p35 := c18 * p4 * c34 * (-2.0) * p20 * p21 * p23 * p34
+		coef0 := c29 + p18 + p19 + p24 + p25 + p26 + p27 + p31 + p35
+		p36 := p9 * tau_vel * c29
+		coef1 := p9 + p36
+		p37 := tau_vel * p30
+		p38 := tau_vel * c57 * (-0.01)
+		p39 := tau_vel * c39
+		p40 := p4 * tau_vel * c29
+		coef2 := p4 + p37 + p38 + p39 + p40
+		p41 := tau_vel * c29 * c72
+		p42 := tau_vel * c34 * c76
+		p43 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * c39
+		p44 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * c46
+		p45 := c18 * p9 * c29 * p20 * p21 * p23 * 0.02 * c57
+		p46 := c18 * p9 * c34 * p20 * p21 * p23 * 0.02 * c68
+		p47 := c18 * p9 * c29 * (-2.0) * p20 * p21 * p23 * p30
+		p48 := c18 * p9 * c34 * (-2.0) * p20 * p21 * p23 * p34
+		coef3 := c72 + p41 + p42 + p43 + p44 + p45 + p46 + p47 + p48
+		coef4 := p9 * tau_vel * c34
+		p49 := tau_vel * p34
+		p50 := tau_vel * c68 * (-0.01)
+		p51 := tau_vel * c46
+		p52 := p4 * tau_vel * c34
+		coef5 := p49 + p50 + p51 + p52
+		coef6 := tau_vel * c34
+		p53 := tau_vel * c29
+		coef7 := 1.0 + p53
+		p54 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c39
+		p55 := c18 * p4 * p9 * p20 * p21 * p23 * 0.02 * c57
+		p56 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * p30
+		coef8 := p36 + p54 + p55 + p56
+		p57 := p10 * tau_vel
+		coef9 := p57 + 0.01
+		coef10 := p4 * p9 * tau_vel
+		p58 := p9 * tau_vel * c72
+		p59 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c39
+		p60 := c18 * p10 * p20 * p21 * p23 * 0.02 * c57
+		p61 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p30
+		coef11 := p37 + p38 + p39 + p58 + p59 + p60 + p61
+		coef12 := p9 * tau_vel
+		coef25 := p4 * tau_vel
+		coef40 := tau_vel * c72
+		p62 := h * p4 * 0.5 * p20 * p23 * c77
+		p63 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c39
+		p64 := c18 * p5 * p20 * p21 * p23 * 0.02 * c57
+		p65 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p30
+		coef20 := p37 + p38 + p39 + p40 + p62 + p63 + p64 + p65
+		p66 := p5 * tau_vel
 		tau_p := c17 * p14 * 0.25
-		coef29 := 0.01 + p57 + tau_p
-		coef44 := p4 * tau_vel * c50
-		p58 := h * p9 * 0.5 * p20 * p23 * c55
-		coef31 := p48 + p49 + coef44 + p58
-		p59 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c39 * c50
-		p60 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c46 * c54
-		p61 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c50 * p28
-		p62 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c54 * p32
-		coef41 := c34 + p39 + p40 + p59 + p60 + p61 + p62
-		coef42 := p36 + p37 + p51
-		p63 := tau_vel * c56
-		p64 := tau_vel * c57
-		p65 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c39 * c50
-		p66 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c46 * c54
-		p67 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c50 * p28
-		p68 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c54 * p32
-		coef46 := c54 + p63 + p64 + p65 + p66 + p67 + p68
-		p69 := p9 * tau_vel * c54
-		coef47 := p9 + p45 + p46 + p69
-		p70 := tau_vel * c54
-		p71 := p4 * tau_vel * c54
-		coef49 := p4 + p71
-		coef51 := 1.0 + p70
-		p72 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c46
-		p73 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * p32
-		coef53 := coef6 + p54 + p72 + p73
-		p74 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c46
-		p75 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p32
-		coef55 := p45 + p46 + p58 + p69 + p74 + p75
-		coef56 := p50 + 0.01 + tau_p
-		p76 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c46
-		p77 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p32
-		coef68 := p45 + p46 + p47 + p76 + p77
-		coef69 := p71 + p72 + p73
-		coef72 := 0.01 + p57
-		p78 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c46
-		p79 := c18 * p4 * (-2.0) * p20 * p21 * p23 * p32
-		coef84 := coef10 + p78 + p79
-		p80 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c46
-		p81 := c18 * p9 * (-2.0) * p20 * p21 * p23 * p32
-		coef85 := p70 + p80 + p81
-		p82 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c39
-		p83 := c18 * p4 * (-2.0) * p20 * p21 * p23 * p28
-		coef91 := p35 + p82 + p83
-		p84 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c39
-		p85 := c18 * p9 * (-2.0) * p20 * p21 * p23 * p28
-		coef96 := coef52 + p84 + p85
-		p86 := -p26
-		p87 := tau_vel * c29 * p28
-		p88 := tau_vel * c34 * p32
-		p89 := tau_vel * c29 * c39
-		p90 := tau_vel * c34 * c46
-		coef98 := p86 - p27 - p87 - p88 - p89 - p90 - c39
-		p91 := p9 * tau_vel * p28
-		p92 := p9 * tau_vel * c39
-		coef99 := c58 - p91 - p92
-		p93 := c55 * tau_p
-		p94 := p4 * tau_vel * p28
-		p95 := p4 * tau_vel * c39
-		coef101 := c59 - p93 - p94 - p95
-		p96 := -p30
-		p97 := tau_vel * c50 * p28
-		p98 := tau_vel * c54 * p32
-		p99 := tau_vel * c39 * c50
-		p100 := tau_vel * c46 * c54
-		coef103 := p96 - p31 - p97 - p98 - p99 - p100 - c46
-		p101 := p9 * tau_vel * p32
-		p102 := p9 * tau_vel * c46
-		coef104 := c60 - p93 - p101 - p102
-		p103 := p4 * tau_vel * p32
-		p104 := p4 * tau_vel * c46
-		coef106 := c61 - p103 - p104
-		p105 := -p45
-		coef109 := p105 - p46
-		p106 := -p36
-		coef110 := p106 - p37
+		coef22 := 0.01 + p66 + tau_p
+		coef35 := p4 * tau_vel * c72
+		p67 := h * p9 * 0.5 * p20 * p23 * c77
+		coef23 := p54 + p55 + p56 + coef35 + p67
+		p68 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c39 * c72
+		p69 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c46 * c76
+		p70 := c18 * p4 * p20 * p21 * p23 * 0.02 * c57 * c72
+		p71 := c18 * p4 * p20 * p21 * p23 * 0.02 * c68 * c76
+		p72 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c72 * p30
+		p73 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c76 * p34
+		coef33 := c34 + p41 + p42 + p68 + p69 + p70 + p71 + p72 + p73
+		coef34 := p37 + p38 + p39 + p58
+		p74 := tau_vel * c78
+		p75 := tau_vel * c79
+		p76 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c39 * c72
+		p77 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c46 * c76
+		p78 := c18 * p9 * p20 * p21 * p23 * 0.02 * c57 * c72
+		p79 := c18 * p9 * p20 * p21 * p23 * 0.02 * c68 * c76
+		p80 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c72 * p30
+		p81 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c76 * p34
+		coef36 := c76 + p74 + p75 + p76 + p77 + p78 + p79 + p80 + p81
+		p82 := p9 * tau_vel * c76
+		coef37 := p9 + p49 + p50 + p51 + p82
+		p83 := p4 * tau_vel * c76
+		coef38 := p4 + p83
+		p84 := tau_vel * c76
+		coef39 := 1.0 + p84
+		p85 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * c46
+		p86 := c18 * p4 * p9 * p20 * p21 * p23 * 0.02 * c68
+		p87 := c18 * p4 * p9 * (-2.0) * p20 * p21 * p23 * p34
+		coef41 := coef4 + p62 + p85 + p86 + p87
+		p88 := c18 * p10 * (-2.0) * p20 * p21 * p23 * c46
+		p89 := c18 * p10 * p20 * p21 * p23 * 0.02 * c68
+		p90 := c18 * p10 * (-2.0) * p20 * p21 * p23 * p34
+		coef43 := p49 + p50 + p51 + p67 + p82 + p88 + p89 + p90
+		coef44 := p57 + 0.01 + tau_p
+		p91 := c18 * p5 * (-2.0) * p20 * p21 * p23 * c46
+		p92 := c18 * p5 * p20 * p21 * p23 * 0.02 * c68
+		p93 := c18 * p5 * (-2.0) * p20 * p21 * p23 * p34
+		coef54 := p49 + p50 + p51 + p52 + p91 + p92 + p93
+		coef55 := p83 + p85 + p86 + p87
+		coef57 := 0.01 + p66
+		p94 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c46
+		p95 := c18 * p4 * p20 * p21 * p23 * 0.02 * c68
+		p96 := c18 * p4 * (-2.0) * p20 * p21 * p23 * p34
+		coef68 := coef6 + p94 + p95 + p96
+		p97 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c46
+		p98 := c18 * p9 * p20 * p21 * p23 * 0.02 * c68
+		p99 := c18 * p9 * (-2.0) * p20 * p21 * p23 * p34
+		coef69 := p84 + p97 + p98 + p99
+		p100 := c18 * p4 * (-2.0) * p20 * p21 * p23 * c39
+		p101 := c18 * p4 * p20 * p21 * p23 * 0.02 * c57
+		p102 := c18 * p4 * (-2.0) * p20 * p21 * p23 * p30
+		coef73 := p53 + p100 + p101 + p102
+		p103 := c18 * p9 * (-2.0) * p20 * p21 * p23 * c39
+		p104 := c18 * p9 * p20 * p21 * p23 * 0.02 * c57
+		p105 := c18 * p9 * (-2.0) * p20 * p21 * p23 * p30
+		coef76 := coef40 + p103 + p104 + p105
+		p106 := tau_vel * c29 * p30
+		p107 := tau_vel * c34 * p34
+		p108 := tau_vel * c29 * c57 * 0.01
+		p109 := tau_vel * c34 * c68 * 0.01
+		p110 := tau_vel * c29 * c39
+		p111 := tau_vel * c29 * c51 * 0.01
+		p112 := tau_vel * c29 * c56 * 0.01
+		p113 := tau_vel * c34 * c46
+		p114 := tau_vel * c34 * c62 * 0.01
+		p115 := tau_vel * c34 * c67 * 0.01
+		coef78 := p108 - p28 - p29 - p106 - p107 + p109 - p110 + p111 + p112 - p113 + p114 + p115 - c39
+		p116 := p9 * tau_vel * p30
+		p117 := p9 * tau_vel * c57 * 0.01
+		p118 := p9 * tau_vel * c39
+		p119 := p9 * tau_vel * c51 * 0.01
+		p120 := p9 * tau_vel * c56 * 0.01
+		coef79 := p117 - p116 - p118 + p119 + p120 + c80
+		p121 := c77 * tau_p
+		p122 := p4 * tau_vel * p30
+		p123 := p4 * tau_vel * c57 * 0.01
+		p124 := p4 * tau_vel * c39
+		p125 := p4 * tau_vel * c51 * 0.01
+		p126 := p4 * tau_vel * c56 * 0.01
+		coef81 := p123 - p121 - p122 - p124 + p125 + p126 + c81
+		p127 := tau_vel * c72 * p30
+		p128 := tau_vel * c76 * p34
+		p129 := tau_vel * c57 * c72 * 0.01
+		p130 := tau_vel * c68 * c76 * 0.01
+		p131 := tau_vel * c39 * c72
+		p132 := tau_vel * c51 * c72 * 0.01
+		p133 := tau_vel * c56 * c72 * 0.01
+		p134 := tau_vel * c46 * c76
+		p135 := tau_vel * c62 * c76 * 0.01
+		p136 := tau_vel * c67 * c76 * 0.01
+		coef83 := p129 - p32 - p33 - p127 - p128 + p130 - p131 + p132 + p133 - p134 + p135 + p136 - c46
+		p137 := p9 * tau_vel * p34
+		p138 := p9 * tau_vel * c68 * 0.01
+		p139 := p9 * tau_vel * c46
+		p140 := p9 * tau_vel * c62 * 0.01
+		p141 := p9 * tau_vel * c67 * 0.01
+		coef84 := p138 - p121 - p137 - p139 + p140 + p141 + c82
+		p142 := p4 * tau_vel * p34
+		p143 := p4 * tau_vel * c68 * 0.01
+		p144 := p4 * tau_vel * c46
+		p145 := p4 * tau_vel * c62 * 0.01
+		p146 := p4 * tau_vel * c67 * 0.01
+		coef86 := p143 - p142 - p144 + p145 + p146 + c83
+		p147 := tau_vel * c68 * 0.01
+		p148 := tau_vel * c62 * 0.01
+		p149 := tau_vel * c67 * 0.01
+		coef89 := p147 - p49 - p51 + p148 + p149
+		p150 := tau_vel * c57 * 0.01
+		p151 := tau_vel * c51 * 0.01
+		p152 := tau_vel * c56 * 0.01
+		coef90 := p150 - p37 - p39 + p151 + p152
 		w := detJ * fwNavierStokesNonlinearGLSCellWeights[q]
-		p107 := coef0 * w
-		p108 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p107
-		p109 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p107
-		p110 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p107
-		p111 := coef1 * w
-		p112 := c42 * p111
-		p113 := p108 + p112
-		p114 := c41 * p111
-		p115 := p109 - p114
-		p116 := k11 * p111
-		p117 := p110 + p116
-		p118 := coef3 * w
-		p119 := c25 * p118
-		p120 := p113 + p119
-		p121 := k00 * p118
-		p122 := p115 + p121
-		p123 := c24 * p118
-		p124 := p117 - p123
-		p125 := coef12 * w
-		p126 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p125
-		p127 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p125
-		p128 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p125
-		p129 := coef13 * w
-		p130 := c42 * p129
-		p131 := p126 + p130
-		p132 := c41 * p129
-		p133 := p127 - p132
-		p134 := k11 * p129
-		p135 := p128 + p134
-		p136 := coef15 * w
-		p137 := c25 * p136
-		p138 := p131 + p137
-		p139 := k00 * p136
-		p140 := p133 + p139
-		p141 := c24 * p136
-		p142 := p135 - p141
-		p143 := coef26 * w
-		p144 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p143
-		p145 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p143
-		p146 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p143
-		p147 := c42 * p136
-		p148 := p144 + p147
-		p149 := c41 * p136
-		p150 := p145 - p149
-		p151 := k11 * p136
-		p152 := p146 + p151
-		p153 := coef29 * w
-		p154 := c25 * p153
-		p155 := p148 + p154
-		p156 := k00 * p153
-		p157 := p150 + p156
-		p158 := c24 * p153
-		p159 := p152 - p158
-		p160 := coef5 * w
-		p161 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p160
-		p162 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p160
-		p163 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p160
-		p164 := coef6 * w
-		p165 := c42 * p164
-		p166 := p161 + p165
-		p167 := c41 * p164
-		p168 := p162 - p167
-		p169 := k11 * p164
-		p170 := p163 + p169
+		p153 := coef0 * w
+		p154 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p153
+		p155 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p153
+		p156 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p153
+		p157 := coef1 * w
+		p158 := c42 * p157
+		p159 := p154 + p158
+		p160 := c41 * p157
+		p161 := p155 - p160
+		p162 := k11 * p157
+		p163 := p156 + p162
+		p164 := coef2 * w
+		p165 := c25 * p164
+		p166 := p159 + p165
+		p167 := k00 * p164
+		p168 := p161 + p167
+		p169 := c24 * p164
+		p170 := p163 - p169
 		p171 := coef8 * w
-		p172 := c25 * p171
-		p173 := p166 + p172
-		p174 := k00 * p171
-		p175 := p168 + p174
-		p176 := c24 * p171
-		p177 := p170 - p176
-		p178 := coef17 * w
-		p179 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p178
-		p180 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p178
-		p181 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p178
-		p182 := coef31 * w
-		p183 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p182
-		p184 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p182
-		p185 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p182
-		p186 := tau_p * w
-		p187 := c42 * p186
-		p188 := p183 + p187
-		p189 := c41 * p186
-		p190 := p184 - p189
-		p191 := k11 * p186
-		p192 := p185 + p191
-		p193 := coef10 * w
-		p194 := c42 * p193
-		p195 := c41 * p193
-		p196 := k11 * p193
-		p197 := coef11 * w
-		p198 := c25 * p197
-		p199 := p194 + p198
-		p200 := k00 * p197
-		p201 := p200 - p195
-		p202 := c24 * p197
-		p203 := p196 - p202
-		p204 := coef18 * w
-		p205 := c25 * p204
-		p206 := k00 * p204
-		p207 := c24 * p204
-		p208 := -p207
-		p209 := coef33 * w
-		p210 := c25 * p209
-		p211 := k00 * p209
-		p212 := c24 * p209
-		p213 := -p212
-		p214 := coef41 * w
-		p215 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p214
-		p216 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p214
-		p217 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p214
-		p218 := coef42 * w
-		p219 := c42 * p218
-		p220 := p215 + p219
-		p221 := c41 * p218
-		p222 := p216 - p221
-		p223 := k11 * p218
-		p224 := p217 + p223
-		p225 := coef44 * w
-		p226 := c25 * p225
-		p227 := p220 + p226
-		p228 := k00 * p225
-		p229 := p222 + p228
-		p230 := c24 * p225
-		p231 := p224 - p230
-		p232 := coef53 * w
-		p233 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p232
-		p234 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p232
-		p235 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p232
-		p236 := c25 * p186
-		p237 := p233 + p236
-		p238 := k00 * p186
-		p239 := p234 + p238
-		p240 := c24 * p186
-		p241 := p235 - p240
-		p242 := coef68 * w
-		p243 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p242
-		p244 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p242
-		p245 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p242
-		p246 := coef46 * w
-		p247 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p246
-		p248 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p246
-		p249 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p246
-		p250 := coef47 * w
-		p251 := c42 * p250
-		p252 := p247 + p251
-		p253 := c41 * p250
-		p254 := p248 - p253
-		p255 := k11 * p250
-		p256 := p249 + p255
-		p257 := coef49 * w
-		p258 := c25 * p257
-		p259 := p252 + p258
-		p260 := k00 * p257
-		p261 := p254 + p260
-		p262 := c24 * p257
-		p263 := p256 - p262
-		p264 := coef55 * w
-		p265 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p264
-		p266 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p264
-		p267 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p264
-		p268 := coef56 * w
-		p269 := c42 * p268
-		p270 := p265 + p269
-		p271 := c41 * p268
-		p272 := p266 - p271
-		p273 := k11 * p268
-		p274 := p267 + p273
-		p275 := p137 + p270
-		p276 := p139 + p272
-		p277 := p274 - p141
-		p278 := coef69 * w
+		p172 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p171
+		p173 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p171
+		p174 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p171
+		p175 := coef9 * w
+		p176 := c42 * p175
+		p177 := p172 + p176
+		p178 := c41 * p175
+		p179 := p173 - p178
+		p180 := k11 * p175
+		p181 := p174 + p180
+		p182 := coef10 * w
+		p183 := c25 * p182
+		p184 := p177 + p183
+		p185 := k00 * p182
+		p186 := p179 + p185
+		p187 := c24 * p182
+		p188 := p181 - p187
+		p189 := coef20 * w
+		p190 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p189
+		p191 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p189
+		p192 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p189
+		p193 := c42 * p182
+		p194 := p190 + p193
+		p195 := c41 * p182
+		p196 := p191 - p195
+		p197 := k11 * p182
+		p198 := p192 + p197
+		p199 := coef22 * w
+		p200 := c25 * p199
+		p201 := p194 + p200
+		p202 := k00 * p199
+		p203 := p196 + p202
+		p204 := c24 * p199
+		p205 := p198 - p204
+		p206 := coef3 * w
+		p207 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p206
+		p208 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p206
+		p209 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p206
+		p210 := coef4 * w
+		p211 := c42 * p210
+		p212 := p207 + p211
+		p213 := c41 * p210
+		p214 := p208 - p213
+		p215 := k11 * p210
+		p216 := p209 + p215
+		p217 := coef5 * w
+		p218 := c25 * p217
+		p219 := p212 + p218
+		p220 := k00 * p217
+		p221 := p214 + p220
+		p222 := c24 * p217
+		p223 := p216 - p222
+		p224 := coef11 * w
+		p225 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p224
+		p226 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p224
+		p227 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p224
+		p228 := coef23 * w
+		p229 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p228
+		p230 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p228
+		p231 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p228
+		p232 := tau_p * w
+		p233 := c42 * p232
+		p234 := p229 + p233
+		p235 := c41 * p232
+		p236 := p230 - p235
+		p237 := k11 * p232
+		p238 := p231 + p237
+		p239 := coef6 * w
+		p240 := c42 * p239
+		p241 := c41 * p239
+		p242 := k11 * p239
+		p243 := coef7 * w
+		p244 := c25 * p243
+		p245 := p240 + p244
+		p246 := k00 * p243
+		p247 := p246 - p241
+		p248 := c24 * p243
+		p249 := p242 - p248
+		p250 := coef12 * w
+		p251 := c25 * p250
+		p252 := k00 * p250
+		p253 := c24 * p250
+		p254 := -p253
+		p255 := coef25 * w
+		p256 := c25 * p255
+		p257 := k00 * p255
+		p258 := c24 * p255
+		p259 := -p258
+		p260 := coef33 * w
+		p261 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p260
+		p262 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p260
+		p263 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p260
+		p264 := coef34 * w
+		p265 := c42 * p264
+		p266 := p261 + p265
+		p267 := c41 * p264
+		p268 := p262 - p267
+		p269 := k11 * p264
+		p270 := p263 + p269
+		p271 := coef35 * w
+		p272 := c25 * p271
+		p273 := p266 + p272
+		p274 := k00 * p271
+		p275 := p268 + p274
+		p276 := c24 * p271
+		p277 := p270 - p276
+		p278 := coef41 * w
 		p279 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p278
 		p280 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p278
 		p281 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p278
-		p282 := p147 + p279
-		p283 := p280 - p149
-		p284 := p151 + p281
-		p285 := coef72 * w
-		p286 := c25 * p285
-		p287 := p282 + p286
-		p288 := k00 * p285
-		p289 := p283 + p288
-		p290 := c24 * p285
-		p291 := p284 - p290
-		p292 := coef51 * w
-		p293 := c42 * p292
-		p294 := c41 * p292
-		p295 := k11 * p292
-		p296 := coef52 * w
-		p297 := c25 * p296
+		p282 := c25 * p232
+		p283 := p279 + p282
+		p284 := k00 * p232
+		p285 := p280 + p284
+		p286 := c24 * p232
+		p287 := p281 - p286
+		p288 := coef54 * w
+		p289 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p288
+		p290 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p288
+		p291 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p288
+		p292 := coef36 * w
+		p293 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p292
+		p294 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p292
+		p295 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p292
+		p296 := coef37 * w
+		p297 := c42 * p296
 		p298 := p293 + p297
-		p299 := k00 * p296
-		p300 := p299 - p294
-		p301 := c24 * p296
-		p302 := p295 - p301
-		p303 := c42 * p204
-		p304 := c41 * p204
-		p305 := -p304
-		p306 := k11 * p204
-		p307 := c42 * p209
-		p308 := c41 * p209
-		p309 := -p308
-		p310 := k11 * p209
-		p311 := coef84 * w
-		p312 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p311
-		p313 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p311
-		p314 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p311
-		p315 := coef91 * w
-		p316 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p315
-		p317 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p315
-		p318 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p315
-		p319 := p303 + p316
-		p320 := p317 - p304
-		p321 := p306 + p318
-		p322 := p210 + p319
-		p323 := p211 + p320
-		p324 := p321 - p212
-		p325 := coef85 * w
-		p326 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p325
-		p327 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p325
-		p328 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p325
-		p329 := p303 + p326
-		p330 := p327 - p304
-		p331 := p306 + p328
-		p332 := p210 + p329
-		p333 := p211 + p330
-		p334 := p331 - p212
-		p335 := coef96 * w
-		p336 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p335
-		p337 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p335
-		p338 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p335
-		p339 := tau_vel * w
-		p340 := c42 * p339
-		p341 := c41 * p339
-		p342 := -p341
-		p343 := k11 * p339
-		p344 := c25 * p339
-		p345 := k00 * p339
-		p346 := c24 * p339
-		p347 := -p346
-		p348 := coef98 * w
-		p349 := coef99 * w
-		p350 := coef101 * w
-		p351 := coef103 * w
-		p352 := coef104 * w
-		p353 := coef106 * w
-		p354 := coef109 * w
-		p355 := coef110 * w
+		p299 := c41 * p296
+		p300 := p294 - p299
+		p301 := k11 * p296
+		p302 := p295 + p301
+		p303 := coef38 * w
+		p304 := c25 * p303
+		p305 := p298 + p304
+		p306 := k00 * p303
+		p307 := p300 + p306
+		p308 := c24 * p303
+		p309 := p302 - p308
+		p310 := coef43 * w
+		p311 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p310
+		p312 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p310
+		p313 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p310
+		p314 := coef44 * w
+		p315 := c42 * p314
+		p316 := p311 + p315
+		p317 := c41 * p314
+		p318 := p312 - p317
+		p319 := k11 * p314
+		p320 := p313 + p319
+		p321 := p183 + p316
+		p322 := p185 + p318
+		p323 := p320 - p187
+		p324 := coef55 * w
+		p325 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p324
+		p326 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p324
+		p327 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p324
+		p328 := p193 + p325
+		p329 := p326 - p195
+		p330 := p197 + p327
+		p331 := coef57 * w
+		p332 := c25 * p331
+		p333 := p328 + p332
+		p334 := k00 * p331
+		p335 := p329 + p334
+		p336 := c24 * p331
+		p337 := p330 - p336
+		p338 := coef39 * w
+		p339 := c42 * p338
+		p340 := c41 * p338
+		p341 := k11 * p338
+		p342 := coef40 * w
+		p343 := c25 * p342
+		p344 := p339 + p343
+		p345 := k00 * p342
+		p346 := p345 - p340
+		p347 := c24 * p342
+		p348 := p341 - p347
+		p349 := c42 * p250
+		p350 := c41 * p250
+		p351 := -p350
+		p352 := k11 * p250
+		p353 := c42 * p255
+		p354 := c41 * p255
+		p355 := -p354
+		p356 := k11 * p255
+		p357 := coef68 * w
+		p358 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p357
+		p359 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p357
+		p360 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p357
+		p361 := coef73 * w
+		p362 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p361
+		p363 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p361
+		p364 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p361
+		p365 := p349 + p362
+		p366 := p363 - p350
+		p367 := p352 + p364
+		p368 := p256 + p365
+		p369 := p257 + p366
+		p370 := p367 - p258
+		p371 := coef69 * w
+		p372 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p371
+		p373 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p371
+		p374 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p371
+		p375 := p349 + p372
+		p376 := p373 - p350
+		p377 := p352 + p374
+		p378 := p256 + p375
+		p379 := p257 + p376
+		p380 := p377 - p258
+		p381 := coef76 * w
+		p382 := fwNavierStokesNonlinearGLSCellBasis1Val[q][0] * p381
+		p383 := fwNavierStokesNonlinearGLSCellBasis1Val[q][1] * p381
+		p384 := fwNavierStokesNonlinearGLSCellBasis1Val[q][2] * p381
+		p385 := tau_vel * w
+		p386 := c42 * p385
+		p387 := c41 * p385
+		p388 := -p387
+		p389 := k11 * p385
+		p390 := c25 * p385
+		p391 := k00 * p385
+		p392 := c24 * p385
+		p393 := -p392
+		p394 := coef78 * w
+		p395 := coef79 * w
+		p396 := coef81 * w
+		p397 := coef83 * w
+		p398 := coef84 * w
+		p399 := coef86 * w
+		p400 := coef89 * w
+		p401 := coef90 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x² · vel[1] · v_vel[1]             navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x² · vel[1] · v_vel[1]             navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂y² · v_vel[1]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[1]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂x² · v_vel[1]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²             navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²             navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²             navier_stokes_nonlinear.fw:17
@@ -1816,50 +1940,48 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²             navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
-		acc[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p120 + c42*p138 + c25*p155
-		acc[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p122 + c42*p140 + c25*p157
-		acc[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p124 + c42*p142 + c25*p159
-		acc[9] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p120 + k01*p138 + k00*p155
-		acc[10] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p122 + k01*p140 + k00*p157
-		acc[11] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p124 + k01*p142 + k00*p159
-		acc[18] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p120 + k11*p138 + k10*p155
-		acc[19] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p122 + k11*p140 + k10*p157
-		acc[20] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p124 + k11*p142 + k10*p159
+		acc[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p166 + c42*p184 + c25*p201
+		acc[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p168 + c42*p186 + c25*p203
+		acc[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p170 + c42*p188 + c25*p205
+		acc[9] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p166 + k01*p184 + k00*p201
+		acc[10] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p168 + k01*p186 + k00*p203
+		acc[11] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p170 + k01*p188 + k00*p205
+		acc[18] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p166 + k11*p184 + k10*p201
+		acc[19] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p168 + k11*p186 + k10*p203
+		acc[20] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p170 + k11*p188 + k10*p205
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[2]/∂y² · v_vel[1]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[2]/∂x · v_vel[1]               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[2]/∂x² · v_vel[1]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂y²   navier_stokes_nonlinear.fw:17
@@ -1867,15 +1989,15 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂x²   navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
-		acc[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p173 + c42*p179 + c25*p188
-		acc[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p175 + c42*p180 + c25*p190
-		acc[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p177 + c42*p181 + c25*p192
-		acc[12] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p173 + k01*p179 + k00*p188
-		acc[13] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p175 + k01*p180 + k00*p190
-		acc[14] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p177 + k01*p181 + k00*p192
-		acc[21] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p173 + k11*p179 + k10*p188
-		acc[22] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p175 + k11*p180 + k10*p190
-		acc[23] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p177 + k11*p181 + k10*p192
+		acc[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p219 + c42*p225 + c25*p234
+		acc[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p221 + c42*p226 + c25*p236
+		acc[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p223 + c42*p227 + c25*p238
+		acc[12] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p219 + k01*p225 + k00*p234
+		acc[13] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p221 + k01*p226 + k00*p236
+		acc[14] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p223 + k01*p227 + k00*p238
+		acc[21] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p219 + k11*p225 + k10*p234
+		acc[22] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p221 + k11*p226 + k10*p236
+		acc[23] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p223 + k11*p227 + k10*p238
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -1887,73 +2009,71 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²        navier_stokes_nonlinear.fw:17
-		acc[6] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p199 + c42*p205 + c25*p210
-		acc[7] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p201 + c42*p206 + c25*p211
-		acc[8] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p203 + c42*p208 + c25*p213
-		acc[15] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p199 + k01*p205 + k00*p210
-		acc[16] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p201 + k01*p206 + k00*p211
-		acc[17] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p203 + k01*p208 + k00*p213
-		acc[24] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p199 + k11*p205 + k10*p210
-		acc[25] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p201 + k11*p206 + k10*p211
-		acc[26] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p203 + k11*p208 + k10*p213
+		acc[6] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p245 + c42*p251 + c25*p256
+		acc[7] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p247 + c42*p252 + c25*p257
+		acc[8] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p249 + c42*p254 + c25*p259
+		acc[15] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p245 + k01*p251 + k00*p256
+		acc[16] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p247 + k01*p252 + k00*p257
+		acc[17] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p249 + k01*p254 + k00*p259
+		acc[24] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p245 + k11*p251 + k10*p256
+		acc[25] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p247 + k11*p252 + k10*p257
+		acc[26] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p249 + k11*p254 + k10*p259
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[1]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[1]/∂y² · v_vel[2]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[1]/∂x² · v_vel[2]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
-		acc[27] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p227 + c42*p237 + c25*p243
-		acc[28] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p229 + c42*p239 + c25*p244
-		acc[29] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p231 + c42*p241 + c25*p245
-		acc[36] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p227 + k01*p237 + k00*p243
-		acc[37] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p229 + k01*p239 + k00*p244
-		acc[38] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p231 + k01*p241 + k00*p245
-		acc[45] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p227 + k11*p237 + k10*p243
-		acc[46] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p229 + k11*p239 + k10*p244
-		acc[47] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p231 + k11*p241 + k10*p245
+		acc[27] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p273 + c42*p283 + c25*p289
+		acc[28] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p275 + c42*p285 + c25*p290
+		acc[29] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p277 + c42*p287 + c25*p291
+		acc[36] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p273 + k01*p283 + k00*p289
+		acc[37] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p275 + k01*p285 + k00*p290
+		acc[38] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p277 + k01*p287 + k00*p291
+		acc[45] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p273 + k11*p283 + k10*p289
+		acc[46] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p275 + k11*p285 + k10*p290
+		acc[47] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p277 + k11*p287 + k10*p291
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[2]                    navier_stokes_nonlinear.fw:17
@@ -1961,37 +2081,33 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y² · vel[2] · v_vel[2]             navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y² · vel[2] · v_vel[2]             navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[2]/∂y · v_vel[2]               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂y² · v_vel[2]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂x² · v_vel[2]   navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²             navier_stokes_nonlinear.fw:17
@@ -1999,9 +2115,7 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²             navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²   navier_stokes_nonlinear.fw:17
 		//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²             navier_stokes_nonlinear.fw:17
@@ -2009,15 +2123,15 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²             navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
-		acc[30] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p259 + c42*p275 + c25*p287
-		acc[31] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p261 + c42*p276 + c25*p289
-		acc[32] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p263 + c42*p277 + c25*p291
-		acc[39] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p259 + k01*p275 + k00*p287
-		acc[40] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p261 + k01*p276 + k00*p289
-		acc[41] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p263 + k01*p277 + k00*p291
-		acc[48] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p259 + k11*p275 + k10*p287
-		acc[49] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p261 + k11*p276 + k10*p289
-		acc[50] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p263 + k11*p277 + k10*p291
+		acc[30] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p305 + c42*p321 + c25*p333
+		acc[31] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p307 + c42*p322 + c25*p335
+		acc[32] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p309 + c42*p323 + c25*p337
+		acc[39] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p305 + k01*p321 + k00*p333
+		acc[40] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p307 + k01*p322 + k00*p335
+		acc[41] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p309 + k01*p323 + k00*p337
+		acc[48] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p305 + k11*p321 + k10*p333
+		acc[49] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p307 + k11*p322 + k10*p335
+		acc[50] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p309 + k11*p323 + k10*p337
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -2029,79 +2143,75 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²        navier_stokes_nonlinear.fw:17
-		acc[33] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p298 + c42*p303 + c25*p307
-		acc[34] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p300 + c42*p305 + c25*p309
-		acc[35] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p302 + c42*p306 + c25*p310
-		acc[42] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p298 + k01*p303 + k00*p307
-		acc[43] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p300 + k01*p305 + k00*p309
-		acc[44] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p302 + k01*p306 + k00*p310
-		acc[51] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p298 + k11*p303 + k10*p307
-		acc[52] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p300 + k11*p305 + k10*p309
-		acc[53] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p302 + k11*p306 + k10*p310
+		acc[33] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p344 + c42*p349 + c25*p353
+		acc[34] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p346 + c42*p351 + c25*p355
+		acc[35] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p348 + c42*p352 + c25*p356
+		acc[42] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p344 + k01*p349 + k00*p353
+		acc[43] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p346 + k01*p351 + k00*p355
+		acc[44] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p348 + k01*p352 + k00*p356
+		acc[51] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p344 + k11*p349 + k10*p353
+		acc[52] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p346 + k11*p351 + k10*p355
+		acc[53] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p348 + k11*p352 + k10*p356
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
-		acc[54] += c42*p312 + c25*p322
-		acc[55] += c42*p313 + c25*p323
-		acc[56] += c42*p314 + c25*p324
-		acc[63] += k01*p312 + k00*p322
-		acc[64] += k01*p313 + k00*p323
-		acc[65] += k01*p314 + k00*p324
-		acc[72] += k11*p312 + k10*p322
-		acc[73] += k11*p313 + k10*p323
-		acc[74] += k11*p314 + k10*p324
+		acc[54] += c42*p358 + c25*p368
+		acc[55] += c42*p359 + c25*p369
+		acc[56] += c42*p360 + c25*p370
+		acc[63] += k01*p358 + k00*p368
+		acc[64] += k01*p359 + k00*p369
+		acc[65] += k01*p360 + k00*p370
+		acc[72] += k11*p358 + k10*p368
+		acc[73] += k11*p359 + k10*p369
+		acc[74] += k11*p360 + k10*p370
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		acc[57] += c42*p332 + c25*p336
-		acc[58] += c42*p333 + c25*p337
-		acc[59] += c42*p334 + c25*p338
-		acc[66] += k01*p332 + k00*p336
-		acc[67] += k01*p333 + k00*p337
-		acc[68] += k01*p334 + k00*p338
-		acc[75] += k11*p332 + k10*p336
-		acc[76] += k11*p333 + k10*p337
-		acc[77] += k11*p334 + k10*p338
+		acc[57] += c42*p378 + c25*p382
+		acc[58] += c42*p379 + c25*p383
+		acc[59] += c42*p380 + c25*p384
+		acc[66] += k01*p378 + k00*p382
+		acc[67] += k01*p379 + k00*p383
+		acc[68] += k01*p380 + k00*p384
+		acc[75] += k11*p378 + k10*p382
+		acc[76] += k11*p379 + k10*p383
+		acc[77] += k11*p380 + k10*p384
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
-		acc[60] += c42*p340 + c25*p344
-		acc[61] += c42*p342 + c25*p345
-		acc[62] += c42*p343 + c25*p347
-		acc[69] += k01*p340 + k00*p344
-		acc[70] += k01*p342 + k00*p345
-		acc[71] += k01*p343 + k00*p347
-		acc[78] += k11*p340 + k10*p344
-		acc[79] += k11*p342 + k10*p345
-		acc[80] += k11*p343 + k10*p347
+		acc[60] += c42*p386 + c25*p390
+		acc[61] += c42*p388 + c25*p391
+		acc[62] += c42*p389 + c25*p393
+		acc[69] += k01*p386 + k00*p390
+		acc[70] += k01*p388 + k00*p391
+		acc[71] += k01*p389 + k00*p393
+		acc[78] += k11*p386 + k10*p390
+		acc[79] += k11*p388 + k10*p391
+		acc[80] += k11*p389 + k10*p393
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -2113,27 +2223,35 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]          navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[1]          navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂y²                  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂x²                  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		rhs[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p348 + c42*p349 + c25*p350
-		rhs[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p348 + k01*p349 + k00*p350
-		rhs[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p348 + k11*p349 + k10*p350
+		rhs[0] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p394 + c42*p395 + c25*p396
+		rhs[1] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p394 + k01*p395 + k00*p396
+		rhs[2] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p394 + k11*p395 + k10*p396
 		// Rows 3..5 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -2145,39 +2263,51 @@ func (NavierStokesNonlinearGLSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[2]          navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]          navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂y²                  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂x²                  navier_stokes_nonlinear.fw:17
 		//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                           navier_stokes_nonlinear.fw:24
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		rhs[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p351 + c42*p352 + c25*p353
-		rhs[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p351 + k01*p352 + k00*p353
-		rhs[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p351 + k11*p352 + k10*p353
+		rhs[3] += fwNavierStokesNonlinearGLSCellBasis1Val[q][0]*p397 + c42*p398 + c25*p399
+		rhs[4] += fwNavierStokesNonlinearGLSCellBasis1Val[q][1]*p397 + k01*p398 + k00*p399
+		rhs[5] += fwNavierStokesNonlinearGLSCellBasis1Val[q][2]*p397 + k11*p398 + k10*p399
 		// Rows 6..8 of the right-hand side, at each quadrature point.
 		//
 		//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇vel·v_vel + ∇v_vel·vel + ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
-		rhs[6] += c42*p354 + c25*p355
-		rhs[7] += k01*p354 + k00*p355
-		rhs[8] += k11*p354 + k10*p355
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		rhs[6] += c42*p400 + c25*p401
+		rhs[7] += k01*p400 + k00*p401
+		rhs[8] += k11*p400 + k10*p401
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -2219,6 +2349,12 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	pv := zero[:]
 	if in.Previous != nil {
 		pv = in.Previous[:9:9]
+	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
@@ -2286,13 +2422,39 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	c52 := c32 * pv[7]
 	c53 := k11 * pv[8]
 	c54 := c51 - c52 + c53
-	c55 := c37 * c37
-	c56 := c42 * (-0.01)
-	c57 := c29 * (-0.01)
-	c58 := c37 * (-0.01)
-	c59 := c46 * (-0.01)
-	c60 := detJ * (-(1.0 / 6))
-	c61 := detJ * (1.0 / 6)
+	c55 := c25 * rv[0]
+	c56 := k00 * rv[2]
+	c57 := c24 * rv[4]
+	c58 := c55 + c55 + c56 + c56 - c57 - c57
+	c59 := 0.5 * c58
+	c60 := c33 * rv[1]
+	c61 := c32 * rv[3]
+	c62 := k11 * rv[5]
+	c63 := c60 + c60 - c61 - c61 + c62 + c62
+	c64 := 0.5 * c63
+	c65 := c59 + c64
+	c66 := c25 * rv[6]
+	c67 := k00 * rv[8]
+	c68 := c24 * rv[10]
+	c69 := c66 + c66 + c67 + c67 - c68 - c68
+	c70 := 0.5 * c69
+	c71 := c33 * rv[7]
+	c72 := c32 * rv[9]
+	c73 := k11 * rv[11]
+	c74 := c71 + c71 - c72 - c72 + c73 + c73
+	c75 := 0.5 * c74
+	c76 := c70 + c75
+	c77 := c59 * (-0.01)
+	c78 := c64 * (-0.01)
+	c79 := c70 * (-0.01)
+	c80 := c75 * (-0.01)
+	c81 := c37 * c37
+	c82 := c42 * (-0.01)
+	c83 := c29 * (-0.01)
+	c84 := c37 * (-0.01)
+	c85 := c46 * (-0.01)
+	c86 := detJ * (-(1.0 / 6))
+	c87 := detJ * (1.0 / 6)
 	if !(detJ > 0) {
 		fwNavierStokesNonlinearFillNaN(A, b)
 		return
@@ -2333,9 +2495,9 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_p  navier_stokes_nonlinear.fw:18
 	//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_p  navier_stokes_nonlinear.fw:18
-	rhs[6] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
-	rhs[7] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
-	rhs[8] += c26*c60 + c27*c60 + c28*c61 + c34*c60 + c35*c61 + c36*c60
+	rhs[6] += c26*c86 + c27*c86 + c28*c87 + c34*c86 + c35*c87 + c36*c86
+	rhs[7] += c26*c86 + c27*c86 + c28*c87 + c34*c86 + c35*c87 + c36*c86
+	rhs[8] += c26*c86 + c27*c86 + c28*c87 + c34*c86 + c35*c87 + c36*c86
 	for q := 0; q < 12; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNavierStokesNonlinearVMSCellBasis1Val[q][0]
@@ -2366,512 +2528,585 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		p25 := 2.0 * c18 * p4 * c29 * p21 * p22 * p24 * c50
 		p26 := 2.0 * c18 * p4 * c42 * p21 * p22 * p24 * c54
 		p27 := c18 * p4 * c38 * p21 * p22 * p24 * c50 * (-2.0)
-		p28 := p4 * c29
-		p29 := p9 * c42
-		p30 := p28 + p29
-		p31 := 2.0 * c18 * p4 * c29 * p21 * p22 * p24 * p30
-		p32 := c18 * p4 * c38 * p21 * p22 * p24 * (-2.0) * p30
-		p33 := p4 * c46
-		p34 := p9 * c37
-		p35 := p33 + p34
-		p36 := 2.0 * c18 * p4 * c42 * p21 * p22 * p24 * p35
-		coef0 := c29 - p18 + p19 - p20 + p25 + p26 + p27 + p31 + p32 + p36
-		p37 := tau_vel * p35
-		p38 := -p37
-		p39 := tau_vel * c54
-		p40 := p9 * tau_vel * c38
-		p41 := p9 * tau_vel * c29
-		coef1 := p9 - p37 - p39 + p40 - p41
-		p42 := tau_vel * c38
-		p43 := tau_vel * c29
-		p44 := p4 * tau_vel * c38
-		p45 := p4 * tau_vel * c29
-		coef3 := p4 + p44 - p45
-		p46 := tau_vel * c38 * c42
-		p47 := tau_vel * c29 * c42
-		p48 := tau_vel * c37 * c42
-		p49 := 2.0 * c18 * p9 * c29 * p21 * p22 * p24 * c50
-		p50 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * c54
-		p51 := c18 * p9 * c38 * p21 * p22 * p24 * c50 * (-2.0)
-		p52 := 2.0 * c18 * p9 * c29 * p21 * p22 * p24 * p30
-		p53 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p30
-		p54 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * p35
-		coef5 := c42 + p46 - p47 - p48 + p49 + p50 + p51 + p52 + p53 + p54
-		p55 := tau_vel * p30
-		p56 := tau_vel * c50
-		p57 := p9 * tau_vel * c42
-		coef6 := p55 + p56 - p57
-		p58 := tau_vel * c42
-		p59 := p4 * tau_vel * c42
-		coef11 := 1.0 + p42 - p43
-		p60 := c50 + p28 + p29
-		p61 := tau_vel * p60
-		p62 := tau_vel * c46 * p61
-		p63 := c54 + p33 + p34
-		p64 := tau_vel * p63
-		p65 := tau_vel * c29 * p64
-		p66 := 2.0 * c18 * p4 * p21 * p22 * p24 * p61 * p63
-		p67 := 2.0 * c18 * p4 * p21 * p22 * p24 * p60 * p64
-		p68 := c18 * p4 * p9 * p21 * p22 * p24 * c50 * (-2.0)
-		p69 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p30
-		coef12 := p41 - p62 - p65 + p66 + p67 + p68 + p69
-		p70 := p10 * tau_vel
-		p71 := p9 * tau_vel * p64
-		coef13 := 0.01 + p70 - p71
-		coef96 := p9 * tau_vel
-		p72 := tau_vel * p64
-		p73 := p4 * tau_vel * p64
-		p74 := p4 * p9 * tau_vel
-		coef15 := p74 - p73
-		p75 := tau_vel * c37 * p61
-		p76 := tau_vel * c42 * p64
-		p77 := c18 * p10 * p21 * p22 * p24 * c50 * (-2.0)
-		p78 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p30
-		p79 := 2.0 * c18 * p9 * p21 * p22 * p24 * p61 * p63
-		p80 := 2.0 * c18 * p9 * p21 * p22 * p24 * p60 * p64
-		coef17 := p55 + p56 + p57 - p75 - p76 + p77 + p78 + p79 + p80
-		p81 := p9 * tau_vel * p61
-		p82 := tau_vel * p61
-		p83 := p4 * tau_vel * p61
-		coef23 := coef96 - p72
-		coef98 := p4 * tau_vel
-		p84 := tau_vel * c29 * (-2.0) * p61
-		p85 := h * p4 * 0.5 * c38 * p21 * p24
-		p86 := c18 * p5 * p21 * p22 * p24 * c50 * (-2.0)
-		p87 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p30
-		p88 := c18 * p4 * p21 * p22 * p24 * p60 * p61 * 4.0
-		coef31 := p45 + p55 + p56 + p84 + p85 + p86 + p87 + p88
-		p89 := p9 * tau_vel * (-2.0) * p61
-		coef32 := p74 + p89
-		p90 := p5 * tau_vel
-		p91 := p4 * tau_vel * (-2.0) * p61
+		p28 := c18 * p4 * c38 * p21 * p22 * p24 * 0.02 * c65
+		p29 := c18 * p4 * c29 * p21 * p22 * p24 * c65 * (-0.02)
+		p30 := c18 * p4 * c42 * p21 * p22 * p24 * (-0.02) * c76
+		p31 := p4 * c29
+		p32 := p9 * c42
+		p33 := p31 + p32
+		p34 := 2.0 * c18 * p4 * c29 * p21 * p22 * p24 * p33
+		p35 := c18 * p4 * c38 * p21 * p22 * p24 * (-2.0) * p33
+		p36 := p4 * c46
+		p37 := p9 * c37
+		p38 := p36 + p37
+		p39 := 2.0 * c18 * p4 * c42 * p21 * p22 * p24 * p38
+		coef0 := c29 - p18 + p19 - p20 + p25 + p26 + p27 + p28 + p29 + p30 + p34 + p35 + p39
+		p40 := tau_vel * p38
+		p41 := tau_vel * c76 * 0.01
+		p42 := tau_vel * c54
+		p43 := p9 * tau_vel * c38
+		p44 := p9 * tau_vel * c29
+		coef1 := p9 - p40 + p41 - p42 + p43 - p44
+		p45 := p4 * tau_vel * c38
+		p46 := p4 * tau_vel * c29
+		coef2 := p4 + p45 - p46
+		p47 := tau_vel * c38 * c42
+		p48 := tau_vel * c29 * c42
+		p49 := tau_vel * c37 * c42
+		p50 := 2.0 * c18 * p9 * c29 * p21 * p22 * p24 * c50
+		p51 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * c54
+		p52 := c18 * p9 * c38 * p21 * p22 * p24 * c50 * (-2.0)
+		p53 := c18 * p9 * c38 * p21 * p22 * p24 * 0.02 * c65
+		p54 := c18 * p9 * c29 * p21 * p22 * p24 * c65 * (-0.02)
+		p55 := c18 * p9 * c42 * p21 * p22 * p24 * (-0.02) * c76
+		p56 := 2.0 * c18 * p9 * c29 * p21 * p22 * p24 * p33
+		p57 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p33
+		p58 := 2.0 * c18 * p9 * c42 * p21 * p22 * p24 * p38
+		coef3 := c42 + p47 - p48 - p49 + p50 + p51 + p52 + p53 + p54 + p55 + p56 + p57 + p58
+		p59 := tau_vel * p33
+		p60 := tau_vel * c65 * (-0.01)
+		p61 := tau_vel * c50
+		p62 := p9 * tau_vel * c42
+		coef4 := p59 + p60 + p61 - p62
+		p63 := p4 * tau_vel * c42
+		p64 := tau_vel * c42
+		p65 := tau_vel * c38
+		p66 := tau_vel * c29
+		coef7 := 1.0 + p65 - p66
+		p67 := c50 + p31 + p32 + c77 + c78
+		p68 := tau_vel * p67
+		p69 := tau_vel * c46 * p68
+		p70 := c54 + p36 + p37 + c79 + c80
+		p71 := tau_vel * p70
+		p72 := tau_vel * c29 * p71
+		p73 := 2.0 * c18 * p4 * p21 * p22 * p24 * p68 * p70
+		p74 := 2.0 * c18 * p4 * p21 * p22 * p24 * p67 * p71
+		p75 := c18 * p4 * p9 * p21 * p22 * p24 * c50 * (-2.0)
+		p76 := c18 * p4 * p9 * p21 * p22 * p24 * 0.02 * c65
+		p77 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p33
+		coef8 := p44 - p69 - p72 + p73 + p74 + p75 + p76 + p77
+		p78 := p10 * tau_vel
+		p79 := p9 * tau_vel * p71
+		coef9 := 0.01 + p78 - p79
+		p80 := p4 * tau_vel * p71
+		p81 := p4 * p9 * tau_vel
+		coef10 := p81 - p80
+		p82 := tau_vel * c37 * p68
+		p83 := tau_vel * c42 * p71
+		p84 := c18 * p10 * p21 * p22 * p24 * c50 * (-2.0)
+		p85 := c18 * p10 * p21 * p22 * p24 * 0.02 * c65
+		p86 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p33
+		p87 := 2.0 * c18 * p9 * p21 * p22 * p24 * p68 * p70
+		p88 := 2.0 * c18 * p9 * p21 * p22 * p24 * p67 * p71
+		coef11 := p59 + p60 + p61 + p62 - p82 - p83 + p84 + p85 + p86 + p87 + p88
+		p89 := p9 * tau_vel * p68
+		p90 := p4 * tau_vel * p68
+		p91 := tau_vel * p68
+		coef76 := p9 * tau_vel
+		p92 := tau_vel * p71
+		coef15 := coef76 - p92
+		p93 := tau_vel * c29 * 0.01
+		coef77 := p4 * tau_vel
+		p94 := tau_vel * c29 * (-2.0) * p68
+		p95 := h * p4 * 0.5 * c38 * p21 * p24
+		p96 := c18 * p5 * p21 * p22 * p24 * c50 * (-2.0)
+		p97 := c18 * p5 * p21 * p22 * p24 * 0.02 * c65
+		p98 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p33
+		p99 := c18 * p4 * p21 * p22 * p24 * p67 * p68 * 4.0
+		coef23 := p46 + p59 + p60 + p61 + p94 + p95 + p96 + p97 + p98 + p99
+		p100 := p9 * tau_vel * (-2.0) * p68
+		coef24 := p81 + p100
+		p101 := p5 * tau_vel
+		p102 := p4 * tau_vel * (-2.0) * p68
 		tau_p := c17 * p14 * 0.25
-		coef34 := 0.01 + p90 + p91 + tau_p
-		p92 := tau_vel * c42 * (-2.0) * p61
-		p93 := h * p9 * 0.5 * c38 * p21 * p24
-		p94 := c18 * p9 * p21 * p22 * p24 * p60 * p61 * 4.0
-		coef36 := p59 + p68 + p69 + p92 + p93 + p94
-		p95 := tau_vel * (-2.0) * p61
-		coef38 := coef98 + p95
-		p96 := tau_vel * c38 * c46
-		p97 := tau_vel * c29 * c46
-		p98 := tau_vel * c37 * c46
-		p99 := 2.0 * c18 * p4 * c46 * p21 * p22 * p24 * c50
-		p100 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * c54
-		p101 := c18 * p4 * c38 * p21 * p22 * p24 * c54 * (-2.0)
-		p102 := 2.0 * c18 * p4 * c46 * p21 * p22 * p24 * p30
-		p103 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * p35
-		p104 := c18 * p4 * c38 * p21 * p22 * p24 * (-2.0) * p35
-		coef46 := c46 + p96 - p97 - p98 + p99 + p100 + p101 + p102 + p103 + p104
-		p105 := p9 * tau_vel * c46
-		p106 := tau_vel * c46
-		p107 := p4 * tau_vel * c46
-		coef49 := p37 + p39 - p107
-		p108 := tau_vel * c55
-		p109 := tau_vel * c37 * c38
-		p110 := 2.0 * c18 * p9 * c46 * p21 * p22 * p24 * c50
-		p111 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * c54
-		p112 := c18 * p9 * c38 * p21 * p22 * p24 * c54 * (-2.0)
-		p113 := 2.0 * c18 * p9 * c46 * p21 * p22 * p24 * p30
-		p114 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * p35
-		p115 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p35
-		coef51 := c37 - p20 - p108 + p109 + p110 + p111 + p112 + p113 + p114 + p115
-		p116 := p9 * tau_vel * c37
-		coef52 := p9 + p40 - p116
-		p117 := tau_vel * c37
-		p118 := -p55
-		p119 := p4 * tau_vel * c37
-		coef54 := p4 + p44 - p55 - p56 - p119
-		coef56 := 1.0 + p42 - p117
-		p120 := tau_vel * c46 * (-2.0) * p64
-		p121 := c18 * p4 * p21 * p22 * p24 * p63 * p64 * 4.0
-		p122 := c18 * p4 * p9 * p21 * p22 * p24 * c54 * (-2.0)
-		p123 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p35
-		coef58 := p85 + p105 + p120 + p121 + p122 + p123
-		p124 := tau_vel * c37 * (-2.0) * p64
-		p125 := c18 * p10 * p21 * p22 * p24 * c54 * (-2.0)
-		p126 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p35
-		p127 := c18 * p9 * p21 * p22 * p24 * p63 * p64 * 4.0
-		coef60 := p37 + p39 + p93 + p116 + p124 + p125 + p126 + p127
-		p128 := p9 * tau_vel * (-2.0) * p64
-		coef61 := 0.01 + p70 + tau_p + p128
-		p129 := p4 * tau_vel * (-2.0) * p64
-		coef63 := p74 + p129
-		p130 := tau_vel * (-2.0) * p64
-		coef65 := coef96 + p130
-		p131 := c18 * p5 * p21 * p22 * p24 * c54 * (-2.0)
-		p132 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p35
-		coef73 := p37 + p39 - p62 - p65 + p66 + p67 + p107 + p131 + p132
-		coef78 := p79 - p75 - p76 + p80 + p119 + p122 + p123
-		coef79 := p74 - p81
-		coef81 := 0.01 - p83 + p90
-		coef83 := coef98 - p82
-		p133 := c18 * p4 * p21 * p22 * p24 * c54 * (-2.0)
-		p134 := c18 * p4 * p21 * p22 * p24 * (-2.0) * p35
-		coef94 := p106 + p133 + p134
-		p135 := c18 * p9 * p21 * p22 * p24 * c54 * (-2.0)
-		p136 := c18 * p9 * p21 * p22 * p24 * (-2.0) * p35
-		coef95 := p117 + p135 + p136
-		p137 := c18 * p4 * p21 * p22 * p24 * c50 * (-2.0)
-		p138 := c18 * p4 * p21 * p22 * p24 * (-2.0) * p30
-		coef101 := p43 + p137 + p138
-		p139 := c18 * p9 * p21 * p22 * p24 * c50 * (-2.0)
-		p140 := c18 * p9 * p21 * p22 * p24 * (-2.0) * p30
-		coef106 := p58 + p139 + p140
-		p141 := tau_vel * c38 * p30
-		p142 := tau_vel * c29 * p30
-		p143 := tau_vel * c42 * p35
-		p144 := tau_vel * c38 * c50
-		p145 := tau_vel * c29 * c50
-		p146 := tau_vel * c42 * c54
-		coef108 := p142 - p28 - p29 - p141 + p143 - p144 + p145 + p146 - c50
-		p147 := p9 * tau_vel * p30
-		p148 := p9 * tau_vel * c50
-		p149 := p61 * p64
-		coef109 := c56 - p147 - p148 + p149
-		p150 := c38 * tau_p
-		p151 := p4 * tau_vel * p30
-		p152 := p4 * tau_vel * c50
-		p153 := p61 * p61
-		coef111 := c57 - p150 - p151 - p152 + p153
-		p154 := tau_vel * c46 * p30
-		p155 := tau_vel * c38 * p35
-		p156 := tau_vel * c37 * p35
-		p157 := tau_vel * c38 * c54
-		p158 := tau_vel * c46 * c50
-		p159 := tau_vel * c37 * c54
-		coef113 := p154 - p33 - p34 - p155 + p156 - p157 + p158 + p159 - c54
-		p160 := p9 * tau_vel * p35
-		p161 := p9 * tau_vel * c54
-		p162 := p64 * p64
-		coef114 := c58 - p150 - p160 - p161 + p162
-		p163 := p4 * tau_vel * p35
-		p164 := p4 * tau_vel * c54
-		coef116 := p149 - p163 - p164 + c59
-		coef119 := p38 - p39
-		coef120 := p118 - p56
+		coef25 := 0.01 + p101 + p102 + tau_p
+		p103 := tau_vel * c42 * (-2.0) * p68
+		p104 := h * p9 * 0.5 * c38 * p21 * p24
+		p105 := c18 * p9 * p21 * p22 * p24 * p67 * p68 * 4.0
+		coef26 := p63 + p75 + p76 + p77 + p103 + p104 + p105
+		p106 := tau_vel * (-2.0) * p68
+		coef28 := coef77 + p106
+		p107 := tau_vel * c38 * c46
+		p108 := tau_vel * c29 * c46
+		p109 := tau_vel * c37 * c46
+		p110 := 2.0 * c18 * p4 * c46 * p21 * p22 * p24 * c50
+		p111 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * c54
+		p112 := c18 * p4 * c38 * p21 * p22 * p24 * c54 * (-2.0)
+		p113 := c18 * p4 * c38 * p21 * p22 * p24 * 0.02 * c76
+		p114 := c18 * p4 * c46 * p21 * p22 * p24 * c65 * (-0.02)
+		p115 := c18 * p4 * c37 * p21 * p22 * p24 * (-0.02) * c76
+		p116 := 2.0 * c18 * p4 * c46 * p21 * p22 * p24 * p33
+		p117 := 2.0 * c18 * p4 * c37 * p21 * p22 * p24 * p38
+		p118 := c18 * p4 * c38 * p21 * p22 * p24 * (-2.0) * p38
+		coef36 := c46 + p107 - p108 - p109 + p110 + p111 + p112 + p113 + p114 + p115 + p116 + p117 + p118
+		p119 := p9 * tau_vel * c46
+		p120 := tau_vel * c76 * (-0.01)
+		p121 := p4 * tau_vel * c46
+		coef38 := p40 + p42 + p120 - p121
+		p122 := tau_vel * c81
+		p123 := tau_vel * c37 * c38
+		p124 := 2.0 * c18 * p9 * c46 * p21 * p22 * p24 * c50
+		p125 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * c54
+		p126 := c18 * p9 * c38 * p21 * p22 * p24 * c54 * (-2.0)
+		p127 := c18 * p9 * c38 * p21 * p22 * p24 * 0.02 * c76
+		p128 := c18 * p9 * c46 * p21 * p22 * p24 * c65 * (-0.02)
+		p129 := c18 * p9 * c37 * p21 * p22 * p24 * (-0.02) * c76
+		p130 := 2.0 * c18 * p9 * c46 * p21 * p22 * p24 * p33
+		p131 := 2.0 * c18 * p9 * c37 * p21 * p22 * p24 * p38
+		p132 := c18 * p9 * c38 * p21 * p22 * p24 * (-2.0) * p38
+		coef39 := c37 - p20 - p122 + p123 + p124 + p125 + p126 + p127 + p128 + p129 + p130 + p131 + p132
+		p133 := p9 * tau_vel * c37
+		coef40 := p9 + p43 - p133
+		p134 := tau_vel * c65 * 0.01
+		p135 := p4 * tau_vel * c37
+		coef41 := p4 + p45 - p59 + p134 - p61 - p135
+		p136 := tau_vel * c37
+		coef42 := 1.0 + p65 - p136
+		p137 := tau_vel * c46
+		p138 := tau_vel * c46 * (-2.0) * p71
+		p139 := c18 * p4 * p21 * p22 * p24 * p70 * p71 * 4.0
+		p140 := c18 * p4 * p9 * p21 * p22 * p24 * c54 * (-2.0)
+		p141 := c18 * p4 * p9 * p21 * p22 * p24 * 0.02 * c76
+		p142 := c18 * p4 * p9 * p21 * p22 * p24 * (-2.0) * p38
+		coef44 := p95 + p119 + p138 + p139 + p140 + p141 + p142
+		p143 := tau_vel * c37 * (-2.0) * p71
+		p144 := c18 * p10 * p21 * p22 * p24 * c54 * (-2.0)
+		p145 := c18 * p10 * p21 * p22 * p24 * 0.02 * c76
+		p146 := c18 * p10 * p21 * p22 * p24 * (-2.0) * p38
+		p147 := c18 * p9 * p21 * p22 * p24 * p70 * p71 * 4.0
+		coef46 := p40 + p42 + p104 + p120 + p133 + p143 + p144 + p145 + p146 + p147
+		p148 := p9 * tau_vel * (-2.0) * p71
+		coef47 := 0.01 + p78 + tau_p + p148
+		p149 := p4 * tau_vel * (-2.0) * p71
+		coef48 := p81 + p149
+		p150 := tau_vel * (-2.0) * p71
+		coef49 := coef76 + p150
+		p151 := tau_vel * c37 * 0.01
+		p152 := c18 * p5 * p21 * p22 * p24 * c54 * (-2.0)
+		p153 := c18 * p5 * p21 * p22 * p24 * 0.02 * c76
+		p154 := c18 * p5 * p21 * p22 * p24 * (-2.0) * p38
+		coef57 := p40 + p42 - p69 - p72 + p73 + p74 + p120 + p121 + p152 + p153 + p154
+		coef60 := p87 - p82 - p83 + p88 + p135 + p140 + p141 + p142
+		coef61 := p81 - p89
+		coef62 := 0.01 - p90 + p101
+		coef63 := coef77 - p91
+		p155 := c18 * p4 * p21 * p22 * p24 * c54 * (-2.0)
+		p156 := c18 * p4 * p21 * p22 * p24 * 0.02 * c76
+		p157 := c18 * p4 * p21 * p22 * p24 * (-2.0) * p38
+		coef74 := p137 + p155 + p156 + p157
+		p158 := c18 * p9 * p21 * p22 * p24 * c54 * (-2.0)
+		p159 := c18 * p9 * p21 * p22 * p24 * 0.02 * c76
+		p160 := c18 * p9 * p21 * p22 * p24 * (-2.0) * p38
+		coef75 := p136 + p158 + p159 + p160
+		p161 := c18 * p4 * p21 * p22 * p24 * c50 * (-2.0)
+		p162 := c18 * p4 * p21 * p22 * p24 * 0.02 * c65
+		p163 := c18 * p4 * p21 * p22 * p24 * (-2.0) * p33
+		coef79 := p66 + p161 + p162 + p163
+		p164 := c18 * p9 * p21 * p22 * p24 * c50 * (-2.0)
+		p165 := c18 * p9 * p21 * p22 * p24 * 0.02 * c65
+		p166 := c18 * p9 * p21 * p22 * p24 * (-2.0) * p33
+		coef82 := p64 + p164 + p165 + p166
+		p167 := tau_vel * c38 * (-0.01)
+		p168 := p93 + p167
+		p169 := c59 * p168
+		p170 := c64 * p168
+		p171 := tau_vel * c38 * p33
+		p172 := tau_vel * c29 * p33
+		p173 := tau_vel * c42 * p38
+		p174 := tau_vel * c38 * c65 * 0.01
+		p175 := tau_vel * c38 * c50
+		p176 := tau_vel * c29 * c65 * (-0.01)
+		p177 := tau_vel * c42 * c76 * (-0.01)
+		p178 := tau_vel * c29 * c50
+		p179 := tau_vel * c42 * c54
+		p180 := tau_vel * c42 * c70 * (-0.01)
+		p181 := tau_vel * c42 * c75 * (-0.01)
+		coef84 := p172 - p169 - p170 - p31 - p32 - p171 + p173 + p174 - p175 + p176 + p177 + p178 + p179 + p180 + p181 - c50
+		p182 := p9 * tau_vel * (-0.01)
+		p183 := tau_vel * 0.01 * p71
+		p184 := p182 + p183
+		p185 := c59 * p184
+		p186 := c64 * p184
+		p187 := tau_vel * c70 * (-0.01) * p68
+		p188 := tau_vel * c75 * (-0.01) * p68
+		p189 := p9 * tau_vel * p33
+		p190 := p9 * tau_vel * c65 * 0.01
+		p191 := p9 * tau_vel * c50
+		p192 := p68 * p71
+		coef85 := p187 - p185 - p186 + p188 - p189 + p190 - p191 + c82 + p192
+		p193 := c38 * tau_p
+		p194 := p4 * tau_vel * (-0.01)
+		p195 := tau_vel * 0.02 * p68
+		p196 := p194 + p195
+		p197 := c59 * p196
+		p198 := c64 * p196
+		p199 := p4 * tau_vel * p33
+		p200 := p4 * tau_vel * c65 * 0.01
+		p201 := p4 * tau_vel * c50
+		p202 := p68 * p68
+		coef87 := p200 - p193 - p197 - p198 - p199 - p201 + c83 + p202
+		p203 := p151 + p167
+		p204 := c70 * p203
+		p205 := c75 * p203
+		p206 := tau_vel * c46 * p33
+		p207 := tau_vel * c38 * p38
+		p208 := tau_vel * c37 * p38
+		p209 := tau_vel * c38 * c76 * 0.01
+		p210 := tau_vel * c38 * c54
+		p211 := tau_vel * c46 * c65 * (-0.01)
+		p212 := tau_vel * c37 * c76 * (-0.01)
+		p213 := tau_vel * c46 * c50
+		p214 := tau_vel * c46 * c59 * (-0.01)
+		p215 := tau_vel * c46 * c64 * (-0.01)
+		p216 := tau_vel * c37 * c54
+		coef89 := p206 - p204 - p205 - p36 - p37 - p207 + p208 + p209 - p210 + p211 + p212 + p213 + p214 + p215 + p216 - c54
+		p217 := tau_vel * 0.02 * p71
+		p218 := p182 + p217
+		p219 := c70 * p218
+		p220 := c75 * p218
+		p221 := p9 * tau_vel * p38
+		p222 := p9 * tau_vel * c76 * 0.01
+		p223 := p9 * tau_vel * c54
+		p224 := p71 * p71
+		coef90 := p222 - p193 - p219 - p220 - p221 - p223 + c84 + p224
+		p225 := tau_vel * 0.01 * p68
+		p226 := p194 + p225
+		p227 := c70 * p226
+		p228 := c75 * p226
+		p229 := tau_vel * c59 * (-0.01) * p71
+		p230 := tau_vel * c64 * (-0.01) * p71
+		p231 := p4 * tau_vel * p38
+		p232 := p4 * tau_vel * c76 * 0.01
+		p233 := p4 * tau_vel * c54
+		coef92 := p192 - p227 - p228 + p229 + p230 - p231 + p232 - p233 + c85
+		p234 := tau_vel * c70 * 0.01
+		p235 := tau_vel * c75 * 0.01
+		coef95 := p41 - p40 - p42 + p234 + p235
+		p236 := tau_vel * c59 * 0.01
+		p237 := tau_vel * c64 * 0.01
+		coef96 := p134 - p59 - p61 + p236 + p237
 		w := detJ * fwNavierStokesNonlinearVMSCellWeights[q]
-		p165 := coef0 * w
-		p166 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p165
-		p167 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p165
-		p168 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p165
-		p169 := coef1 * w
-		p170 := c33 * p169
-		p171 := p166 + p170
-		p172 := c32 * p169
-		p173 := p167 - p172
-		p174 := k11 * p169
-		p175 := p168 + p174
-		p176 := coef3 * w
-		p177 := c25 * p176
-		p178 := p171 + p177
-		p179 := k00 * p176
-		p180 := p173 + p179
-		p181 := c24 * p176
-		p182 := p175 - p181
-		p183 := coef12 * w
-		p184 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p183
-		p185 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p183
-		p186 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p183
-		p187 := coef13 * w
-		p188 := c33 * p187
-		p189 := p184 + p188
-		p190 := c32 * p187
-		p191 := p185 - p190
-		p192 := k11 * p187
-		p193 := p186 + p192
-		p194 := coef15 * w
-		p195 := c25 * p194
-		p196 := p189 + p195
-		p197 := k00 * p194
-		p198 := p191 + p197
-		p199 := c24 * p194
-		p200 := p193 - p199
-		p201 := coef31 * w
-		p202 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p201
-		p203 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p201
-		p204 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p201
-		p205 := coef32 * w
-		p206 := c33 * p205
-		p207 := p202 + p206
-		p208 := c32 * p205
-		p209 := p203 - p208
-		p210 := k11 * p205
-		p211 := p204 + p210
-		p212 := coef34 * w
-		p213 := c25 * p212
-		p214 := p207 + p213
-		p215 := k00 * p212
-		p216 := p209 + p215
-		p217 := c24 * p212
-		p218 := p211 - p217
-		p219 := coef5 * w
-		p220 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p219
-		p221 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p219
-		p222 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p219
-		p223 := coef6 * w
-		p224 := c33 * p223
-		p225 := p220 + p224
-		p226 := c32 * p223
-		p227 := p221 - p226
-		p228 := k11 * p223
-		p229 := p222 + p228
-		p230 := p59 * w
-		p231 := c25 * p230
-		p232 := p225 - p231
-		p233 := k00 * p230
-		p234 := p227 - p233
-		p235 := c24 * p230
-		p236 := p229 + p235
-		p237 := coef17 * w
-		p238 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p237
-		p239 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p237
-		p240 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p237
-		p241 := p81 * w
-		p242 := c33 * p241
-		p243 := p238 - p242
-		p244 := c32 * p241
-		p245 := p239 + p244
-		p246 := k11 * p241
-		p247 := p240 - p246
-		p248 := p83 * w
-		p249 := c25 * p248
-		p250 := p243 - p249
-		p251 := k00 * p248
-		p252 := p245 - p251
-		p253 := c24 * p248
-		p254 := p247 + p253
-		p255 := coef36 * w
-		p256 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p255
-		p257 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p255
-		p258 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p255
-		p259 := tau_p * w
-		p260 := c33 * p259
-		p261 := p256 + p260
-		p262 := c32 * p259
-		p263 := p257 - p262
-		p264 := k11 * p259
-		p265 := p258 + p264
-		p266 := p58 * w
-		p267 := c33 * p266
-		p268 := c32 * p266
-		p269 := k11 * p266
-		p270 := -p269
-		p271 := coef11 * w
-		p272 := c25 * p271
-		p273 := p272 - p267
-		p274 := k00 * p271
-		p275 := p268 + p274
-		p276 := c24 * p271
-		p277 := p270 - p276
-		p278 := p82 * w
+		p238 := coef0 * w
+		p239 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p238
+		p240 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p238
+		p241 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p238
+		p242 := coef1 * w
+		p243 := c33 * p242
+		p244 := p239 + p243
+		p245 := c32 * p242
+		p246 := p240 - p245
+		p247 := k11 * p242
+		p248 := p241 + p247
+		p249 := coef2 * w
+		p250 := c25 * p249
+		p251 := p244 + p250
+		p252 := k00 * p249
+		p253 := p246 + p252
+		p254 := c24 * p249
+		p255 := p248 - p254
+		p256 := coef8 * w
+		p257 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p256
+		p258 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p256
+		p259 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p256
+		p260 := coef9 * w
+		p261 := c33 * p260
+		p262 := p257 + p261
+		p263 := c32 * p260
+		p264 := p258 - p263
+		p265 := k11 * p260
+		p266 := p259 + p265
+		p267 := coef10 * w
+		p268 := c25 * p267
+		p269 := p262 + p268
+		p270 := k00 * p267
+		p271 := p264 + p270
+		p272 := c24 * p267
+		p273 := p266 - p272
+		p274 := coef23 * w
+		p275 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p274
+		p276 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p274
+		p277 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p274
+		p278 := coef24 * w
 		p279 := c33 * p278
-		p280 := c32 * p278
-		p281 := k11 * p278
-		p282 := -p281
-		p283 := coef23 * w
-		p284 := c25 * p283
-		p285 := p284 - p279
-		p286 := k00 * p283
+		p280 := p275 + p279
+		p281 := c32 * p278
+		p282 := p276 - p281
+		p283 := k11 * p278
+		p284 := p277 + p283
+		p285 := coef25 * w
+		p286 := c25 * p285
 		p287 := p280 + p286
-		p288 := c24 * p283
-		p289 := p282 - p288
-		p290 := coef38 * w
-		p291 := c25 * p290
-		p292 := k00 * p290
-		p293 := c24 * p290
-		p294 := -p293
-		p295 := coef46 * w
-		p296 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p295
-		p297 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p295
-		p298 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p295
-		p299 := p105 * w
-		p300 := c33 * p299
-		p301 := p296 - p300
-		p302 := c32 * p299
-		p303 := p297 + p302
-		p304 := k11 * p299
+		p288 := k00 * p285
+		p289 := p282 + p288
+		p290 := c24 * p285
+		p291 := p284 - p290
+		p292 := coef3 * w
+		p293 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p292
+		p294 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p292
+		p295 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p292
+		p296 := coef4 * w
+		p297 := c33 * p296
+		p298 := p293 + p297
+		p299 := c32 * p296
+		p300 := p294 - p299
+		p301 := k11 * p296
+		p302 := p295 + p301
+		p303 := p63 * w
+		p304 := c25 * p303
 		p305 := p298 - p304
-		p306 := coef49 * w
-		p307 := c25 * p306
-		p308 := p301 + p307
-		p309 := k00 * p306
-		p310 := p303 + p309
-		p311 := c24 * p306
-		p312 := p305 - p311
-		p313 := coef58 * w
-		p314 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p313
-		p315 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p313
-		p316 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p313
-		p317 := c25 * p259
-		p318 := p314 + p317
-		p319 := k00 * p259
-		p320 := p315 + p319
-		p321 := c24 * p259
-		p322 := p316 - p321
-		p323 := coef73 * w
-		p324 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p323
-		p325 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p323
-		p326 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p323
-		p327 := p71 * w
-		p328 := c33 * p327
-		p329 := p324 - p328
-		p330 := c32 * p327
-		p331 := p325 + p330
-		p332 := k11 * p327
-		p333 := p326 - p332
-		p334 := p73 * w
-		p335 := c25 * p334
-		p336 := p329 - p335
-		p337 := k00 * p334
-		p338 := p331 - p337
-		p339 := c24 * p334
-		p340 := p333 + p339
-		p341 := coef51 * w
-		p342 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p341
-		p343 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p341
-		p344 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p341
-		p345 := coef52 * w
-		p346 := c33 * p345
-		p347 := p342 + p346
-		p348 := c32 * p345
-		p349 := p343 - p348
-		p350 := k11 * p345
-		p351 := p344 + p350
-		p352 := coef54 * w
-		p353 := c25 * p352
-		p354 := p347 + p353
-		p355 := k00 * p352
-		p356 := p349 + p355
-		p357 := c24 * p352
-		p358 := p351 - p357
-		p359 := coef60 * w
-		p360 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p359
-		p361 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p359
-		p362 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p359
-		p363 := coef61 * w
-		p364 := c33 * p363
-		p365 := p360 + p364
-		p366 := c32 * p363
-		p367 := p361 - p366
-		p368 := k11 * p363
-		p369 := p362 + p368
-		p370 := coef63 * w
-		p371 := c25 * p370
-		p372 := p365 + p371
-		p373 := k00 * p370
-		p374 := p367 + p373
-		p375 := c24 * p370
-		p376 := p369 - p375
-		p377 := coef78 * w
-		p378 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p377
-		p379 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p377
-		p380 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p377
-		p381 := coef79 * w
-		p382 := c33 * p381
-		p383 := p378 + p382
-		p384 := c32 * p381
-		p385 := p379 - p384
-		p386 := k11 * p381
-		p387 := p380 + p386
-		p388 := coef81 * w
-		p389 := c25 * p388
-		p390 := p383 + p389
-		p391 := k00 * p388
-		p392 := p385 + p391
-		p393 := c24 * p388
-		p394 := p387 - p393
-		p395 := coef56 * w
-		p396 := c33 * p395
-		p397 := c32 * p395
-		p398 := -p397
-		p399 := k11 * p395
-		p400 := p106 * w
-		p401 := c25 * p400
-		p402 := p396 - p401
-		p403 := k00 * p400
-		p404 := p398 - p403
-		p405 := c24 * p400
-		p406 := p399 + p405
-		p407 := coef65 * w
-		p408 := c33 * p407
-		p409 := c32 * p407
-		p410 := -p409
-		p411 := k11 * p407
-		p412 := coef83 * w
-		p413 := c33 * p412
-		p414 := c32 * p412
-		p415 := -p414
-		p416 := k11 * p412
-		p417 := p72 * w
-		p418 := c25 * p417
-		p419 := p413 - p418
-		p420 := k00 * p417
-		p421 := p415 - p420
-		p422 := c24 * p417
-		p423 := p416 + p422
-		p424 := coef94 * w
-		p425 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p424
-		p426 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p424
-		p427 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p424
-		p428 := coef101 * w
-		p429 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p428
-		p430 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p428
-		p431 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p428
-		p432 := coef96 * w
-		p433 := c33 * p432
-		p434 := p429 + p433
-		p435 := c32 * p432
-		p436 := p430 - p435
-		p437 := k11 * p432
-		p438 := p431 + p437
-		p439 := coef98 * w
-		p440 := c25 * p439
-		p441 := p434 + p440
-		p442 := k00 * p439
-		p443 := p436 + p442
-		p444 := c24 * p439
-		p445 := p438 - p444
-		p446 := coef95 * w
-		p447 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p446
-		p448 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p446
-		p449 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p446
-		p450 := p433 + p447
-		p451 := p448 - p435
-		p452 := p437 + p449
-		p453 := p440 + p450
-		p454 := p442 + p451
-		p455 := p452 - p444
-		p456 := coef106 * w
-		p457 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p456
-		p458 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p456
-		p459 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p456
-		p460 := tau_vel * w
-		p461 := c33 * p460
-		p462 := c32 * p460
-		p463 := -p462
-		p464 := k11 * p460
-		p465 := c25 * p460
-		p466 := k00 * p460
-		p467 := c24 * p460
-		p468 := -p467
-		p469 := coef108 * w
-		p470 := coef109 * w
-		p471 := coef111 * w
-		p472 := coef113 * w
-		p473 := coef114 * w
-		p474 := coef116 * w
-		p475 := coef119 * w
-		p476 := coef120 * w
+		p306 := k00 * p303
+		p307 := p300 - p306
+		p308 := c24 * p303
+		p309 := p302 + p308
+		p310 := coef11 * w
+		p311 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p310
+		p312 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p310
+		p313 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p310
+		p314 := p89 * w
+		p315 := c33 * p314
+		p316 := p311 - p315
+		p317 := c32 * p314
+		p318 := p312 + p317
+		p319 := k11 * p314
+		p320 := p313 - p319
+		p321 := p90 * w
+		p322 := c25 * p321
+		p323 := p316 - p322
+		p324 := k00 * p321
+		p325 := p318 - p324
+		p326 := c24 * p321
+		p327 := p320 + p326
+		p328 := coef26 * w
+		p329 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p328
+		p330 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p328
+		p331 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p328
+		p332 := tau_p * w
+		p333 := c33 * p332
+		p334 := p329 + p333
+		p335 := c32 * p332
+		p336 := p330 - p335
+		p337 := k11 * p332
+		p338 := p331 + p337
+		p339 := p64 * w
+		p340 := c33 * p339
+		p341 := c32 * p339
+		p342 := k11 * p339
+		p343 := -p342
+		p344 := coef7 * w
+		p345 := c25 * p344
+		p346 := p345 - p340
+		p347 := k00 * p344
+		p348 := p341 + p347
+		p349 := c24 * p344
+		p350 := p343 - p349
+		p351 := p91 * w
+		p352 := c33 * p351
+		p353 := c32 * p351
+		p354 := k11 * p351
+		p355 := -p354
+		p356 := coef15 * w
+		p357 := c25 * p356
+		p358 := p357 - p352
+		p359 := k00 * p356
+		p360 := p353 + p359
+		p361 := c24 * p356
+		p362 := p355 - p361
+		p363 := coef28 * w
+		p364 := c25 * p363
+		p365 := k00 * p363
+		p366 := c24 * p363
+		p367 := -p366
+		p368 := coef36 * w
+		p369 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p368
+		p370 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p368
+		p371 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p368
+		p372 := p119 * w
+		p373 := c33 * p372
+		p374 := p369 - p373
+		p375 := c32 * p372
+		p376 := p370 + p375
+		p377 := k11 * p372
+		p378 := p371 - p377
+		p379 := coef38 * w
+		p380 := c25 * p379
+		p381 := p374 + p380
+		p382 := k00 * p379
+		p383 := p376 + p382
+		p384 := c24 * p379
+		p385 := p378 - p384
+		p386 := coef44 * w
+		p387 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p386
+		p388 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p386
+		p389 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p386
+		p390 := c25 * p332
+		p391 := p387 + p390
+		p392 := k00 * p332
+		p393 := p388 + p392
+		p394 := c24 * p332
+		p395 := p389 - p394
+		p396 := coef57 * w
+		p397 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p396
+		p398 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p396
+		p399 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p396
+		p400 := p79 * w
+		p401 := c33 * p400
+		p402 := p397 - p401
+		p403 := c32 * p400
+		p404 := p398 + p403
+		p405 := k11 * p400
+		p406 := p399 - p405
+		p407 := p80 * w
+		p408 := c25 * p407
+		p409 := p402 - p408
+		p410 := k00 * p407
+		p411 := p404 - p410
+		p412 := c24 * p407
+		p413 := p406 + p412
+		p414 := coef39 * w
+		p415 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p414
+		p416 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p414
+		p417 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p414
+		p418 := coef40 * w
+		p419 := c33 * p418
+		p420 := p415 + p419
+		p421 := c32 * p418
+		p422 := p416 - p421
+		p423 := k11 * p418
+		p424 := p417 + p423
+		p425 := coef41 * w
+		p426 := c25 * p425
+		p427 := p420 + p426
+		p428 := k00 * p425
+		p429 := p422 + p428
+		p430 := c24 * p425
+		p431 := p424 - p430
+		p432 := coef46 * w
+		p433 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p432
+		p434 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p432
+		p435 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p432
+		p436 := coef47 * w
+		p437 := c33 * p436
+		p438 := p433 + p437
+		p439 := c32 * p436
+		p440 := p434 - p439
+		p441 := k11 * p436
+		p442 := p435 + p441
+		p443 := coef48 * w
+		p444 := c25 * p443
+		p445 := p438 + p444
+		p446 := k00 * p443
+		p447 := p440 + p446
+		p448 := c24 * p443
+		p449 := p442 - p448
+		p450 := coef60 * w
+		p451 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p450
+		p452 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p450
+		p453 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p450
+		p454 := coef61 * w
+		p455 := c33 * p454
+		p456 := p451 + p455
+		p457 := c32 * p454
+		p458 := p452 - p457
+		p459 := k11 * p454
+		p460 := p453 + p459
+		p461 := coef62 * w
+		p462 := c25 * p461
+		p463 := p456 + p462
+		p464 := k00 * p461
+		p465 := p458 + p464
+		p466 := c24 * p461
+		p467 := p460 - p466
+		p468 := coef42 * w
+		p469 := c33 * p468
+		p470 := c32 * p468
+		p471 := -p470
+		p472 := k11 * p468
+		p473 := p137 * w
+		p474 := c25 * p473
+		p475 := p469 - p474
+		p476 := k00 * p473
+		p477 := p471 - p476
+		p478 := c24 * p473
+		p479 := p472 + p478
+		p480 := coef49 * w
+		p481 := c33 * p480
+		p482 := c32 * p480
+		p483 := -p482
+		p484 := k11 * p480
+		p485 := coef63 * w
+		p486 := c33 * p485
+		p487 := c32 * p485
+		p488 := -p487
+		p489 := k11 * p485
+		p490 := p92 * w
+		p491 := c25 * p490
+		p492 := p486 - p491
+		p493 := k00 * p490
+		p494 := p488 - p493
+		p495 := c24 * p490
+		p496 := p489 + p495
+		p497 := coef74 * w
+		p498 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p497
+		p499 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p497
+		p500 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p497
+		p501 := coef79 * w
+		p502 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p501
+		p503 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p501
+		p504 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p501
+		p505 := coef76 * w
+		p506 := c33 * p505
+		p507 := p502 + p506
+		p508 := c32 * p505
+		p509 := p503 - p508
+		p510 := k11 * p505
+		p511 := p504 + p510
+		p512 := coef77 * w
+		p513 := c25 * p512
+		p514 := p507 + p513
+		p515 := k00 * p512
+		p516 := p509 + p515
+		p517 := c24 * p512
+		p518 := p511 - p517
+		p519 := coef75 * w
+		p520 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p519
+		p521 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p519
+		p522 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p519
+		p523 := p506 + p520
+		p524 := p521 - p508
+		p525 := p510 + p522
+		p526 := p513 + p523
+		p527 := p515 + p524
+		p528 := p525 - p517
+		p529 := coef82 * w
+		p530 := fwNavierStokesNonlinearVMSCellBasis1Val[q][0] * p529
+		p531 := fwNavierStokesNonlinearVMSCellBasis1Val[q][1] * p529
+		p532 := fwNavierStokesNonlinearVMSCellBasis1Val[q][2] * p529
+		p533 := tau_vel * w
+		p534 := c33 * p533
+		p535 := c32 * p533
+		p536 := -p535
+		p537 := k11 * p533
+		p538 := c25 * p533
+		p539 := k00 * p533
+		p540 := c24 * p533
+		p541 := -p540
+		p542 := coef84 * w
+		p543 := coef85 * w
+		p544 := coef87 * w
+		p545 := coef89 * w
+		p546 := coef90 * w
+		p547 := coef92 * w
+		p548 := coef95 * w
+		p549 := coef96 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
@@ -2879,64 +3114,52 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x                       navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x² · vel[1] · v_vel[1]            navier_stokes_nonlinear.fw:17
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[1]/∂y · v_vel[1]              navier_stokes_nonlinear.fw:17
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂y² · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂y² · v_vel[1]    navier_stokes_nonlinear.fw:17
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · ∂vel[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[1]/∂x² · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂²vel[1]/∂x² · v_vel[1]    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[1]/∂y · ∂v_vel[1]/∂y         navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²            navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²            navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[1] · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/50 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[1]/∂x · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/50 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x         navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · vel[1] · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[1]/∂y · ∂²v_vel[1]/∂x²    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²            navier_stokes_nonlinear.fw:17
@@ -2945,65 +3168,61 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
-		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		acc[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p178 + c33*p196 + c25*p214
-		acc[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p180 + c33*p198 + c25*p216
-		acc[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p182 + c33*p200 + c25*p218
-		acc[9] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p178 + k01*p196 + k00*p214
-		acc[10] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p180 + k01*p198 + k00*p216
-		acc[11] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p182 + k01*p200 + k00*p218
-		acc[18] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p178 + k11*p196 + k10*p214
-		acc[19] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p180 + k11*p198 + k10*p216
-		acc[20] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p182 + k11*p200 + k10*p218
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		acc[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p251 + c33*p269 + c25*p287
+		acc[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p253 + c33*p271 + c25*p289
+		acc[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p255 + c33*p273 + c25*p291
+		acc[9] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p251 + k01*p269 + k00*p287
+		acc[10] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p253 + k01*p271 + k00*p289
+		acc[11] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p255 + k01*p273 + k00*p291
+		acc[18] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p251 + k11*p269 + k10*p287
+		acc[19] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p253 + k11*p271 + k10*p289
+		acc[20] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p255 + k11*p273 + k10*p291
 		// Rows 0..2, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]                    navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[2]/∂y · v_vel[1]               navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[2]/∂y² · v_vel[1]    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · ∂vel[2]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂²vel[2]/∂x² · v_vel[1]    navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · vel[2] · ∂v_vel[1]/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[1]/∂y        navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · vel[2] · ∂²v_vel[1]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
@@ -3011,18 +3230,18 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x                         navier_stokes_nonlinear.fw:24
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
-		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		acc[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p232 + c33*p250 + c25*p261
-		acc[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p234 + c33*p252 + c25*p263
-		acc[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p236 + c33*p254 + c25*p265
-		acc[12] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p232 + k01*p250 + k00*p261
-		acc[13] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p234 + k01*p252 + k00*p263
-		acc[14] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p236 + k01*p254 + k00*p265
-		acc[21] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p232 + k11*p250 + k10*p261
-		acc[22] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p234 + k11*p252 + k10*p263
-		acc[23] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p236 + k11*p254 + k10*p265
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −4 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		acc[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p305 + c33*p323 + c25*p334
+		acc[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p307 + c33*p325 + c25*p336
+		acc[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p309 + c33*p327 + c25*p338
+		acc[12] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p305 + k01*p323 + k00*p334
+		acc[13] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p307 + k01*p325 + k00*p336
+		acc[14] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p309 + k01*p327 + k00*p338
+		acc[21] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p305 + k11*p323 + k10*p334
+		acc[22] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p307 + k11*p325 + k10*p336
+		acc[23] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p309 + k11*p327 + k10*p338
 		// Rows 0..2, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -3038,90 +3257,86 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂p/∂x · ∂v_vel[1]/∂x               navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[1] · ∂p/∂x · ∂v_vel[1]/∂x                  navier_stokes_nonlinear.fw:17
 		//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²                      navier_stokes_nonlinear.fw:17
-		acc[6] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p273 + c33*p285 + c25*p291
-		acc[7] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p275 + c33*p287 + c25*p292
-		acc[8] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p277 + c33*p289 + c25*p294
-		acc[15] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p273 + k01*p285 + k00*p291
-		acc[16] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p275 + k01*p287 + k00*p292
-		acc[17] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p277 + k01*p289 + k00*p294
-		acc[24] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p273 + k11*p285 + k10*p291
-		acc[25] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p275 + k11*p287 + k10*p292
-		acc[26] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p277 + k11*p289 + k10*p294
+		acc[6] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p346 + c33*p358 + c25*p364
+		acc[7] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p348 + c33*p360 + c25*p365
+		acc[8] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p350 + c33*p362 + c25*p367
+		acc[15] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p346 + k01*p358 + k00*p364
+		acc[16] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p348 + k01*p360 + k00*p365
+		acc[17] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p350 + k01*p362 + k00*p367
+		acc[24] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p346 + k11*p358 + k10*p364
+		acc[25] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p348 + k11*p360 + k10*p365
+		acc[26] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p350 + k11*p362 + k10*p367
 		// Rows 3..5, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[1] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[1]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[1]/∂y² · v_vel[2]    navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂vel[1]/∂x · v_vel[2]               navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · ∂vel[1]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂²vel[1]/∂x² · v_vel[2]    navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[1] · ∂v_vel[2]/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂y² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/100 · ∂²vel[1]/∂x² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · vel[1] · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
-		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		acc[27] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p308 + c33*p318 + c25*p336
-		acc[28] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p310 + c33*p320 + c25*p338
-		acc[29] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p312 + c33*p322 + c25*p340
-		acc[36] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p308 + k01*p318 + k00*p336
-		acc[37] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p310 + k01*p320 + k00*p338
-		acc[38] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p312 + k01*p322 + k00*p340
-		acc[45] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p308 + k11*p318 + k10*p336
-		acc[46] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p310 + k11*p320 + k10*p338
-		acc[47] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p312 + k11*p322 + k10*p340
+		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		acc[27] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p381 + c33*p391 + c25*p409
+		acc[28] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p383 + c33*p393 + c25*p411
+		acc[29] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p385 + c33*p395 + c25*p413
+		acc[36] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p381 + k01*p391 + k00*p409
+		acc[37] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p383 + k01*p393 + k00*p411
+		acc[38] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p385 + k01*p395 + k00*p413
+		acc[45] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p381 + k11*p391 + k10*p409
+		acc[46] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p383 + k11*p393 + k10*p411
+		acc[47] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p385 + k11*p395 + k10*p413
 		// Rows 3..5, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
@@ -3130,18 +3345,18 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]                    navier_stokes_nonlinear.fw:17
 		//	  h sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(2 (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2]² ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]²/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]²/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y                       navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x                       navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(5000 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y² · vel[2] · v_vel[2]            navier_stokes_nonlinear.fw:17
@@ -3149,28 +3364,20 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[2] · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂y² · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂y² · v_vel[2]    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂vel[2]/∂x · v_vel[2]              navier_stokes_nonlinear.fw:17
 		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · ∂vel[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²vel[2]/∂x² · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂²vel[2]/∂x² · v_vel[2]    navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · vel[2] · ∂v_vel[2]/∂y               navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]² · ∂vel[2]/∂y · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/50 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
 		//	  2 τ_vel vel′[2] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂x · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[2]/50 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂y         navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂y²    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²            navier_stokes_nonlinear.fw:17
@@ -3181,12 +3388,8 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1]² · ∂vel[2]/∂x · ∂v_vel[2]/∂x         navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[1] vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x   navier_stokes_nonlinear.fw:17
-		//	  −τ_vel vel′[1]/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x        navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · vel[2] · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂vel[2]/∂y · ∂²v_vel[2]/∂x²    navier_stokes_nonlinear.fw:17
 		//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²            navier_stokes_nonlinear.fw:17
@@ -3195,18 +3398,18 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y                         navier_stokes_nonlinear.fw:24
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
-		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x²/100 − ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		acc[30] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p354 + c33*p372 + c25*p390
-		acc[31] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p356 + c33*p374 + c25*p392
-		acc[32] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p358 + c33*p376 + c25*p394
-		acc[39] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p354 + k01*p372 + k00*p390
-		acc[40] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p356 + k01*p374 + k00*p392
-		acc[41] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p358 + k01*p376 + k00*p394
-		acc[48] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p354 + k11*p372 + k10*p390
-		acc[49] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p356 + k11*p374 + k10*p392
-		acc[50] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p358 + k11*p376 + k10*p394
+		//	  −4 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[1] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y − ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −2 vel′[2] sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2] − ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 − ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 + ∂p⁽ᵖʳᵉᵛ⁾/∂x) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		acc[30] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p427 + c33*p445 + c25*p463
+		acc[31] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p429 + c33*p447 + c25*p465
+		acc[32] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p431 + c33*p449 + c25*p467
+		acc[39] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p427 + k01*p445 + k00*p463
+		acc[40] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p429 + k01*p447 + k00*p465
+		acc[41] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p431 + k01*p449 + k00*p467
+		acc[48] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p427 + k11*p445 + k10*p463
+		acc[49] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p429 + k11*p447 + k10*p465
+		acc[50] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p431 + k11*p449 + k10*p467
 		// Rows 3..5, columns 6..8, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -3222,79 +3425,75 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  τ_vel vel′[1] · ∂p/∂y · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel′[2] · ∂p/∂x · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
 		//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²                      navier_stokes_nonlinear.fw:17
-		acc[33] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p402 + c33*p408 + c25*p419
-		acc[34] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p404 + c33*p410 + c25*p421
-		acc[35] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p406 + c33*p411 + c25*p423
-		acc[42] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p402 + k01*p408 + k00*p419
-		acc[43] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p404 + k01*p410 + k00*p421
-		acc[44] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p406 + k01*p411 + k00*p423
-		acc[51] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p402 + k11*p408 + k10*p419
-		acc[52] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p404 + k11*p410 + k10*p421
-		acc[53] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p406 + k11*p411 + k10*p423
+		acc[33] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p475 + c33*p481 + c25*p492
+		acc[34] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p477 + c33*p483 + c25*p494
+		acc[35] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p479 + c33*p484 + c25*p496
+		acc[42] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p475 + k01*p481 + k00*p492
+		acc[43] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p477 + k01*p483 + k00*p494
+		acc[44] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p479 + k01*p484 + k00*p496
+		acc[51] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p475 + k11*p481 + k10*p492
+		acc[52] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p477 + k11*p483 + k10*p494
+		acc[53] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p479 + k11*p484 + k10*p496
 		// Rows 6..8, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[1] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · vel[1] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · vel[1] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[1]/∂y · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[1]/∂x · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x                     navier_stokes_nonlinear.fw:17
-		acc[54] += c33*p425 + c25*p441
-		acc[55] += c33*p426 + c25*p443
-		acc[56] += c33*p427 + c25*p445
-		acc[63] += k01*p425 + k00*p441
-		acc[64] += k01*p426 + k00*p443
-		acc[65] += k01*p427 + k00*p445
-		acc[72] += k11*p425 + k10*p441
-		acc[73] += k11*p426 + k10*p443
-		acc[74] += k11*p427 + k10*p445
+		acc[54] += c33*p498 + c25*p514
+		acc[55] += c33*p499 + c25*p516
+		acc[56] += c33*p500 + c25*p518
+		acc[63] += k01*p498 + k00*p514
+		acc[64] += k01*p499 + k00*p516
+		acc[65] += k01*p500 + k00*p518
+		acc[72] += k11*p498 + k10*p514
+		acc[73] += k11*p499 + k10*p516
+		acc[74] += k11*p500 + k10*p518
 		// Rows 6..8, columns 3..5, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/(50 h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −2 sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2]/(h (2 √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)/h + 1/(25 h²))² (−sign(√(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²)) + √(vel⁽ᵖʳᵉᵛ⁾[1]² + vel⁽ᵖʳᵉᵛ⁾[2]²) + 1)) · vel[2] · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · vel[2] · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[2] · ∂vel[2]/∂y · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel vel⁽ᵖʳᵉᵛ⁾[1] · ∂vel[2]/∂x · ∂v_p/∂y               navier_stokes_nonlinear.fw:17
-		//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y                     navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · vel[2] · ∂v_p/∂x               navier_stokes_nonlinear.fw:17
-		acc[57] += c33*p453 + c25*p457
-		acc[58] += c33*p454 + c25*p458
-		acc[59] += c33*p455 + c25*p459
-		acc[66] += k01*p453 + k00*p457
-		acc[67] += k01*p454 + k00*p458
-		acc[68] += k01*p455 + k00*p459
-		acc[75] += k11*p453 + k10*p457
-		acc[76] += k11*p454 + k10*p458
-		acc[77] += k11*p455 + k10*p459
+		acc[57] += c33*p526 + c25*p530
+		acc[58] += c33*p527 + c25*p531
+		acc[59] += c33*p528 + c25*p532
+		acc[66] += k01*p526 + k00*p530
+		acc[67] += k01*p527 + k00*p531
+		acc[68] += k01*p528 + k00*p532
+		acc[75] += k11*p526 + k10*p530
+		acc[76] += k11*p527 + k10*p531
+		acc[77] += k11*p528 + k10*p532
 		// Rows 6..8, columns 6..8, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂y · ∂v_p/∂y  navier_stokes_nonlinear.fw:23
 		//	  τ_vel · ∂p/∂x · ∂v_p/∂x  navier_stokes_nonlinear.fw:23
-		acc[60] += c33*p461 + c25*p465
-		acc[61] += c33*p463 + c25*p466
-		acc[62] += c33*p464 + c25*p468
-		acc[69] += k01*p461 + k00*p465
-		acc[70] += k01*p463 + k00*p466
-		acc[71] += k01*p464 + k00*p468
-		acc[78] += k11*p461 + k10*p465
-		acc[79] += k11*p463 + k10*p466
-		acc[80] += k11*p464 + k10*p468
+		acc[60] += c33*p534 + c25*p538
+		acc[61] += c33*p536 + c25*p539
+		acc[62] += c33*p537 + c25*p541
+		acc[69] += k01*p534 + k00*p538
+		acc[70] += k01*p536 + k00*p539
+		acc[71] += k01*p537 + k00*p541
+		acc[78] += k11*p534 + k10*p538
+		acc[79] += k11*p536 + k10*p539
+		acc[80] += k11*p537 + k10*p541
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -3304,35 +3503,45 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · ∂v_vel[1]/∂y                    navier_stokes_nonlinear.fw:17
 		//	  −∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · ∂v_vel[1]/∂x                    navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −(−τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 + τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 + τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[1]           navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[1]           navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · v_vel[1]  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′[2]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′[2]/100) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[1]/∂y      navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[1] ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[1]/∂y      navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[1]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂y          navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂y²                 navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′[1]/50) ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′[1]/50) ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_vel[1]/∂x          navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2])/100 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/10000 · ∂²v_vel[1]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x/100 · ∂²v_vel[1]/∂x²                 navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[1]/∂x  navier_stokes_nonlinear.fw:17
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
 		//	  vel′[1] vel′[2] · ∂v_vel[1]/∂y                          navier_stokes_nonlinear.fw:17
 		//	  vel′[1]² · ∂v_vel[1]/∂x                                 navier_stokes_nonlinear.fw:17
-		rhs[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p469 + c33*p470 + c25*p471
-		rhs[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p469 + k01*p470 + k00*p471
-		rhs[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p469 + k11*p470 + k10*p471
+		rhs[0] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p542 + c33*p543 + c25*p544
+		rhs[1] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p542 + k01*p543 + k00*p544
+		rhs[2] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p542 + k11*p543 + k10*p544
 		// Rows 3..5 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·vel)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
@@ -3342,47 +3551,61 @@ func (NavierStokesNonlinearVMSKernel) Cell(in *kernel.CellInput, A, b []float64)
 		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · ∂v_vel[2]/∂y                    navier_stokes_nonlinear.fw:17
 		//	  −∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · ∂v_vel[2]/∂x                    navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
+		//	  −(−τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 + τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 + τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
-		//	  −τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂p⁽ᵖʳᵉᵛ⁾/∂x · v_vel[2]           navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
+		//	  −τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · v_vel[2]  navier_stokes_nonlinear.fw:17
 		//	  τ_vel ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y ∂p⁽ᵖʳᵉᵛ⁾/∂y · v_vel[2]           navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′[2]/50) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[2]/100 − τ_vel vel′[2]/50) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[2] · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[2]/100 · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[2] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂y          navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂y²  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂y²                 navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′[1]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  −(−τ_vel vel⁽ᵖʳᵉᵛ⁾[1]/100 − τ_vel vel′[1]/100) ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[2]/∂x      navier_stokes_nonlinear.fw:17
+		//	  τ_vel vel′[2] ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[2]/∂x      navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) vel⁽ᵖʳᵉᵛ⁾[1] · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²) vel⁽ᵖʳᵉᵛ⁾[1]/100 · ∂v_vel[2]/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel vel⁽ᵖʳᵉᵛ⁾[1] ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_vel[2]/∂x          navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y)/100 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/10000 · ∂²v_vel[2]/∂x²  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y/100 · ∂²v_vel[2]/∂x²                 navier_stokes_nonlinear.fw:17
 		//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                          navier_stokes_nonlinear.fw:24
 		//	  −τ_p (∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_vel[2]/∂y  navier_stokes_nonlinear.fw:17
 		//	VMS cross-stress: + Σ_K (−vel′·(∇v_vel·vel′))_K
 		//	  vel′[2]² · ∂v_vel[2]/∂y                                 navier_stokes_nonlinear.fw:17
 		//	  vel′[1] vel′[2] · ∂v_vel[2]/∂x                          navier_stokes_nonlinear.fw:17
-		rhs[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p472 + c33*p473 + c25*p474
-		rhs[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p472 + k01*p473 + k00*p474
-		rhs[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p472 + k11*p473 + k10*p474
+		rhs[3] += fwNavierStokesNonlinearVMSCellBasis1Val[q][0]*p545 + c33*p546 + c25*p547
+		rhs[4] += fwNavierStokesNonlinearVMSCellBasis1Val[q][1]*p545 + k01*p546 + k00*p547
+		rhs[5] += fwNavierStokesNonlinearVMSCellBasis1Val[q][2]*p545 + k11*p546 + k10*p547
 		// Rows 6..8 of the right-hand side, at each quadrature point.
 		//
 		//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − (∇·vel) v_vel − ∇v_vel·vel + v_vel·∇vel − ∇v_p)_K  navier_stokes_nonlinear.fw:23
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂x + vel⁽ᵖʳᵉᵛ⁾[2] ∂vel⁽ᵖʳᵉᵛ⁾[2]/∂y) · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[2]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²)/100 · ∂v_p/∂y  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂y · ∂v_p/∂y                            navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y                   navier_stokes_nonlinear.fw:17
 		//	  −τ_vel (vel⁽ᵖʳᵉᵛ⁾[1] ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂x + ∂vel⁽ᵖʳᵉᵛ⁾[1]/∂y vel⁽ᵖʳᵉᵛ⁾[2]) · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
-		//	  τ_vel (∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂x² + ∂²vel⁽ᵖʳᵉᵛ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
+		//	  τ_vel (∂²vel⁽ʳᵉᶜ⁾[1]/∂x² + ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²)/100 · ∂v_p/∂x  navier_stokes_nonlinear.fw:17
 		//	  −τ_vel ∂p⁽ᵖʳᵉᵛ⁾/∂x · ∂v_p/∂x                            navier_stokes_nonlinear.fw:17
-		rhs[6] += c33*p475 + c25*p476
-		rhs[7] += k01*p475 + k00*p476
-		rhs[8] += k11*p475 + k10*p476
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x                   navier_stokes_nonlinear.fw:17
+		rhs[6] += c33*p548 + c25*p549
+		rhs[7] += k01*p548 + k00*p549
+		rhs[8] += k11*p548 + k10*p549
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

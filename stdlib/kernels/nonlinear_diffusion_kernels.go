@@ -21,7 +21,7 @@ func init() {
 			return NonlinearDiffusionGalerkinKernel{}
 		},
 	})
-	compiled.Register("56de35a6f2d87bf8ce15936a18260ac7", compiled.Kernels{
+	compiled.Register("01db7604a6641e9c3a727e4323822e02", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return NonlinearDiffusionSUPGKernel{}
 		},
 	})
-	compiled.Register("a881c484abf145b34df6808cbc5f1a3a", compiled.Kernels{
+	compiled.Register("2311a512e533e85817809fb0a9a6aad1", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return NonlinearDiffusionGLSKernel{}
 		},
 	})
-	compiled.Register("a99761f4ad7b3d69f478a019e05106c1", compiled.Kernels{
+	compiled.Register("5cf4e003a04aa9d839852a0b61293bd4", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -234,6 +234,12 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	if in.Previous != nil {
 		pv = in.Previous[:3:3]
 	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	j01 := x[4] - x[0]
 	j00 := x[2] - x[0]
@@ -279,7 +285,18 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c32 := c31 * c31
 	c33 := c8 * c8
 	c34 := c32 + c33
-	c35 := detJ * 10.0
+	c35 := c27 * rv[0]
+	c36 := k00 * rv[2]
+	c37 := c26 * rv[4]
+	c38 := c35 + c35 + c36 + c36 - c37 - c37
+	c39 := 0.5 * c38
+	c40 := c4 * rv[1]
+	c41 := c3 * rv[3]
+	c42 := k11 * rv[5]
+	c43 := c40 + c40 - c41 - c41 + c42 + c42
+	c44 := 0.5 * c43
+	c45 := c39 + c44
+	c46 := detJ * 10.0
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
@@ -291,9 +308,9 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
 	//	  10 · v  nonlinear_diffusion.fw:13
-	rhs[0] += (1.0 / 6) * c35
-	rhs[1] += (1.0 / 6) * c35
-	rhs[2] += (1.0 / 6) * c35
+	rhs[0] += (1.0 / 6) * c46
+	rhs[1] += (1.0 / 6) * c46
+	rhs[2] += (1.0 / 6) * c46
 	for q := 0; q < 7; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := pv[0] * fwNonlinearDiffusionSUPGCellBasis1Val[q][0]
@@ -306,108 +323,114 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p8 := 1.0 / p7
 		tau_u := 0.25 * c25 * p8
 		p9 := p4 * (-2.0) * c34
-		p10 := p9 - 10.0
-		p11 := c8 * (-4.0) * tau_u * p10
-		p12 := p4 * c8 * tau_u * c34 * 8.0
-		p13 := p8 * p8
-		p14 := 2.0 * c8 * c25 * p6 * p10 * p13
-		coef0 := p5 + p11 + p12 + p14
-		p15 := p6 * tau_u * c33 * 16.0
-		p16 := p4 * (-4.0) * tau_u * p10
-		coef1 := 1.0 + p6 + p15 + p16
-		coef3 := c8 * p6 * tau_u * c31 * 16.0
-		p17 := 2.0 * p4 * c31
-		p18 := (-4.0) * tau_u * c31 * p10
-		p19 := p4 * tau_u * c31 * c34 * 8.0
-		p20 := 2.0 * c25 * p6 * c31 * p10 * p13
-		coef5 := p17 + p18 + p19 + p20
-		p21 := p6 * tau_u * c32 * 16.0
-		coef8 := 1.0 + p6 + p16 + p21
-		p22 := c8 * p6
-		p23 := p4 * c8 * tau_u * p10 * 4.0
-		coef11 := p23 - p22 - c8
-		p24 := p6 * c31
-		p25 := p4 * tau_u * c31 * p10 * 4.0
-		coef12 := p25 - p24 - c31
+		p10 := p6 * c45
+		p11 := p9 - p10 - c39 - c44 - 10.0
+		p12 := c8 * (-4.0) * tau_u * p11
+		p13 := p4 * c8 * tau_u * c34 * 8.0
+		p14 := c8 * p6 * tau_u * c45 * 8.0
+		p15 := p8 * p8
+		p16 := 2.0 * c8 * c25 * p6 * p11 * p15
+		coef0 := p5 + p12 + p13 + p14 + p16
+		p17 := p6 * tau_u * c33 * 16.0
+		p18 := p4 * (-4.0) * tau_u * p11
+		coef1 := 1.0 + p6 + p17 + p18
+		coef2 := c8 * p6 * tau_u * c31 * 16.0
+		p19 := 2.0 * p4 * c31
+		p20 := (-4.0) * tau_u * c31 * p11
+		p21 := p4 * tau_u * c31 * c34 * 8.0
+		p22 := p6 * tau_u * c31 * c45 * 8.0
+		p23 := 2.0 * c25 * p6 * c31 * p11 * p15
+		coef3 := p19 + p20 + p21 + p22 + p23
+		p24 := p6 * tau_u * c32 * 16.0
+		coef5 := 1.0 + p6 + p18 + p24
+		p25 := c8 * p6
+		p26 := p4 * p6
+		p27 := c8 * tau_u * 4.0 * p26
+		p28 := p4 * c8 * tau_u * 4.0
+		p29 := p27 + p28
+		p30 := c39 * p29
+		p31 := c44 * p29
+		p32 := p4 * c8 * tau_u * p11 * 4.0
+		coef7 := p32 - p25 - p30 - p31 - c8
+		p33 := p6 * c31
+		p34 := tau_u * c31 * 4.0 * p26
+		p35 := p4 * tau_u * c31 * 4.0
+		p36 := p34 + p35
+		p37 := c39 * p36
+		p38 := c44 * p36
+		p39 := p4 * tau_u * c31 * p11 * 4.0
+		coef8 := p39 - p33 - p37 - p38 - c31
 		w := detJ * fwNonlinearDiffusionSUPGCellWeights[q]
-		p26 := coef0 * w
-		p27 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p26
-		p28 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p26
-		p29 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p26
-		p30 := coef1 * w
-		p31 := c4 * p30
-		p32 := p27 + p31
-		p33 := c3 * p30
-		p34 := p28 - p33
-		p35 := k11 * p30
-		p36 := p29 + p35
-		p37 := coef3 * w
-		p38 := c27 * p37
-		p39 := p32 + p38
-		p40 := k00 * p37
-		p41 := p34 + p40
-		p42 := c26 * p37
-		p43 := p36 - p42
-		p44 := coef5 * w
-		p45 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p44
-		p46 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p44
-		p47 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p44
-		p48 := c4 * p37
-		p49 := p45 + p48
-		p50 := c3 * p37
-		p51 := p46 - p50
-		p52 := k11 * p37
-		p53 := p47 + p52
-		p54 := coef8 * w
-		p55 := c27 * p54
-		p56 := p49 + p55
-		p57 := k00 * p54
-		p58 := p51 + p57
-		p59 := c26 * p54
-		p60 := p53 - p59
-		p61 := coef11 * w
-		p62 := coef12 * w
+		p40 := coef0 * w
+		p41 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p40
+		p42 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p40
+		p43 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p40
+		p44 := coef1 * w
+		p45 := c4 * p44
+		p46 := p41 + p45
+		p47 := c3 * p44
+		p48 := p42 - p47
+		p49 := k11 * p44
+		p50 := p43 + p49
+		p51 := coef2 * w
+		p52 := c27 * p51
+		p53 := p46 + p52
+		p54 := k00 * p51
+		p55 := p48 + p54
+		p56 := c26 * p51
+		p57 := p50 - p56
+		p58 := coef3 * w
+		p59 := fwNonlinearDiffusionSUPGCellBasis1Val[q][0] * p58
+		p60 := fwNonlinearDiffusionSUPGCellBasis1Val[q][1] * p58
+		p61 := fwNonlinearDiffusionSUPGCellBasis1Val[q][2] * p58
+		p62 := c4 * p51
+		p63 := p59 + p62
+		p64 := c3 * p51
+		p65 := p60 - p64
+		p66 := k11 * p51
+		p67 := p61 + p66
+		p68 := coef5 * w
+		p69 := c27 * p68
+		p70 := p63 + p69
+		p71 := k00 * p68
+		p72 := p65 + p71
+		p73 := c26 * p68
+		p74 := p67 - p73
+		p75 := coef7 * w
+		p76 := coef8 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
-		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
-		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
 		//	SUPG: + Σ_K (τ_u R_u, −4 (∇u·∇v) u)_K                     nonlinear_diffusion.fw:16
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y² · ∂u/∂y · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂x · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y             nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x             nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x² · ∂u/∂x · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x             nonlinear_diffusion.fw:13
-		acc[0] += c4*p39 + c27*p56
-		acc[1] += c4*p41 + c27*p58
-		acc[2] += c4*p43 + c27*p60
-		acc[3] += k01*p39 + k00*p56
-		acc[4] += k01*p41 + k00*p58
-		acc[5] += k01*p43 + k00*p60
-		acc[6] += k11*p39 + k10*p56
-		acc[7] += k11*p41 + k10*p58
-		acc[8] += k11*p43 + k10*p60
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		acc[0] += c4*p53 + c27*p70
+		acc[1] += c4*p55 + c27*p72
+		acc[2] += c4*p57 + c27*p74
+		acc[3] += k01*p53 + k00*p70
+		acc[4] += k01*p55 + k00*p72
+		acc[5] += k01*p57 + k00*p74
+		acc[6] += k11*p53 + k10*p70
+		acc[7] += k11*p55 + k10*p72
+		acc[8] += k11*p57 + k10*p74
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
@@ -416,11 +439,15 @@ func (NonlinearDiffusionSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
 		//	SUPG: + Σ_K (τ_u R_u, −4 (∇u·∇v) u)_K                     nonlinear_diffusion.fw:16
-		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
-		rhs[0] += c4*p61 + c27*p62
-		rhs[1] += k01*p61 + k00*p62
-		rhs[2] += k11*p61 + k10*p62
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y) ∂²u⁽ʳᵉᶜ⁾/∂x² · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y) ∂²u⁽ʳᵉᶜ⁾/∂y² · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x) ∂²u⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x) ∂²u⁽ʳᵉᶜ⁾/∂y² · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		rhs[0] += c4*p75 + c27*p76
+		rhs[1] += k01*p75 + k00*p76
+		rhs[2] += k11*p75 + k10*p76
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -461,6 +488,12 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	pv := zero[:]
 	if in.Previous != nil {
 		pv = in.Previous[:3:3]
+	}
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
 	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
@@ -508,6 +541,18 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c33 := c32 * c32
 	c34 := c26 + c33
 	c35 := c34 * c34
+	c36 := c21 * rv[0]
+	c37 := k00 * rv[2]
+	c38 := c20 * rv[4]
+	c39 := c36 + c36 + c37 + c37 - c38 - c38
+	c40 := 0.5 * c39
+	c41 := c28 * rv[1]
+	c42 := c27 * rv[3]
+	c43 := k11 * rv[5]
+	c44 := c41 + c41 - c42 - c42 + c43 + c43
+	c45 := 0.5 * c44
+	c46 := c40 + c45
+	c47 := c46 * c46
 	if !(detJ > 0) {
 		fwNonlinearDiffusionFillNaN(A, b)
 		return
@@ -525,147 +570,160 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p7 := 1.0 / p6
 		tau_u := 0.25 * c17 * p7
 		p8 := 4.0 * tau_u * c35
-		p9 := p4 * c34 * (-2.0)
-		p10 := p9 - 10.0
-		p11 := p7 * p7
-		p12 := c17 * p4 * c34 * p10 * p11
-		coef0 := p8 + p12
-		p13 := tau_u * c32 * p10 * (-4.0)
-		p14 := p4 * tau_u * c32 * c34 * 8.0
-		coef1 := p13 + p14
-		p15 := tau_u * c25 * p10 * (-4.0)
-		p16 := p4 * tau_u * c25 * c34 * 8.0
-		coef3 := p15 + p16
-		p17 := p4 * c32 * 2.0
-		p18 := c17 * p5 * c32 * p10 * p11 * 2.0
-		coef5 := p13 + p14 + p17 + p18
-		p19 := p5 * tau_u * c33 * 16.0
-		p20 := p4 * tau_u * p10 * (-4.0)
-		coef6 := 1.0 + p5 + p19 + p20
-		coef8 := p5 * tau_u * c25 * c32 * 16.0
-		p21 := p4 * c25 * 2.0
-		p22 := c17 * p5 * c25 * p10 * p11 * 2.0
-		coef15 := p15 + p16 + p21 + p22
-		p23 := p5 * tau_u * c26 * 16.0
-		coef18 := 1.0 + p5 + p20 + p23
-		p24 := tau_u * c34 * p10 * 2.0
-		coef25 := p24 + 10.0
-		p25 := p5 * c32
-		p26 := 4.0 * p4 * tau_u * c32 * p10
-		coef26 := p26 - p25 - c32
-		p27 := p5 * c25
-		p28 := 4.0 * p4 * tau_u * c25 * p10
-		coef28 := p28 - p27 - c25
+		p9 := 4.0 * p5 * tau_u * c47
+		p10 := p4 * c34 * (-2.0)
+		p11 := p5 * c46
+		p12 := p10 - p11 - c40 - c45 - 10.0
+		p13 := tau_u * c46 * (-2.0) * p12
+		p14 := p4 * tau_u * c34 * c46 * 8.0
+		p15 := p7 * p7
+		p16 := c17 * p4 * c34 * p12 * p15
+		p17 := c17 * p5 * c46 * p12 * p15
+		coef0 := p8 + p9 + p13 + p14 + p16 + p17
+		p18 := tau_u * c32 * p12 * (-4.0)
+		p19 := p4 * tau_u * c32 * c34 * 8.0
+		p20 := p5 * tau_u * c32 * c46 * 8.0
+		coef1 := p18 + p19 + p20
+		p21 := tau_u * c25 * p12 * (-4.0)
+		p22 := p4 * tau_u * c25 * c34 * 8.0
+		p23 := p5 * tau_u * c25 * c46 * 8.0
+		coef2 := p21 + p22 + p23
+		p24 := p4 * c32 * 2.0
+		p25 := c17 * p5 * c32 * p12 * p15 * 2.0
+		coef3 := p18 + p19 + p20 + p24 + p25
+		p26 := p5 * tau_u * c33 * 16.0
+		p27 := p4 * tau_u * p12 * (-4.0)
+		coef4 := 1.0 + p5 + p26 + p27
+		coef5 := p5 * tau_u * c25 * c32 * 16.0
+		p28 := tau_u * c34 * 2.0
+		p29 := p5 * tau_u * c34 * 2.0
+		p30 := p4 * p5
+		p31 := tau_u * c46 * 2.0 * p30
+		p32 := p4 * tau_u * c46 * 2.0
+		p33 := p4 * tau_u * (-2.0) * p12
+		p34 := 4.0 * tau_u * c32 * p30
+		p35 := 4.0 * p4 * tau_u * c32
+		coef7 := p34 + p35
+		p36 := 4.0 * tau_u * c25 * p30
+		p37 := 4.0 * p4 * tau_u * c25
+		coef9 := p36 + p37
+		p38 := p4 * c25 * 2.0
+		p39 := c17 * p5 * c25 * p12 * p15 * 2.0
+		coef11 := p21 + p22 + p23 + p38 + p39
+		p40 := p5 * tau_u * c26 * 16.0
+		coef13 := 1.0 + p5 + p27 + p40
+		p41 := p28 + p29 + p31 + p32 + p33
+		p42 := c40 * p41
+		p43 := c45 * p41
+		p44 := tau_u * c34 * p12 * 2.0
+		p45 := p4 * tau_u * c46 * p12 * 2.0
+		coef19 := p44 - p42 - p43 + p45 + 10.0
+		p46 := p5 * c32
+		p47 := c40 * coef7
+		p48 := c45 * coef7
+		p49 := 4.0 * p4 * tau_u * c32 * p12
+		coef20 := p49 - p46 - p47 - p48 - c32
+		p50 := p5 * c25
+		p51 := c40 * coef9
+		p52 := c45 * coef9
+		p53 := 4.0 * p4 * tau_u * c25 * p12
+		coef22 := p53 - p50 - p51 - p52 - c25
 		w := detJ * fwNonlinearDiffusionGLSCellWeights[q]
-		p29 := coef0 * w
-		p30 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p29
-		p31 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p29
-		p32 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p29
-		p33 := coef1 * w
-		p34 := c28 * p33
-		p35 := p30 + p34
-		p36 := c27 * p33
-		p37 := p31 - p36
-		p38 := k11 * p33
-		p39 := p32 + p38
-		p40 := coef3 * w
-		p41 := c21 * p40
-		p42 := p35 + p41
-		p43 := k00 * p40
-		p44 := p37 + p43
-		p45 := c20 * p40
-		p46 := p39 - p45
-		p47 := coef5 * w
-		p48 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p47
-		p49 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p47
-		p50 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p47
-		p51 := coef6 * w
-		p52 := c28 * p51
-		p53 := p48 + p52
-		p54 := c27 * p51
-		p55 := p49 - p54
-		p56 := k11 * p51
-		p57 := p50 + p56
-		p58 := coef8 * w
-		p59 := c21 * p58
-		p60 := p53 + p59
-		p61 := k00 * p58
-		p62 := p55 + p61
-		p63 := c20 * p58
-		p64 := p57 - p63
-		p65 := coef15 * w
-		p66 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p65
-		p67 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p65
-		p68 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p65
-		p69 := c28 * p58
-		p70 := p66 + p69
-		p71 := c27 * p58
-		p72 := p67 - p71
-		p73 := k11 * p58
-		p74 := p68 + p73
-		p75 := coef18 * w
-		p76 := c21 * p75
-		p77 := p70 + p76
-		p78 := k00 * p75
-		p79 := p72 + p78
-		p80 := c20 * p75
-		p81 := p74 - p80
-		p82 := coef25 * w
-		p83 := coef26 * w
-		p84 := coef28 * w
+		p54 := coef0 * w
+		p55 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p54
+		p56 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p54
+		p57 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p54
+		p58 := coef1 * w
+		p59 := c28 * p58
+		p60 := p55 + p59
+		p61 := c27 * p58
+		p62 := p56 - p61
+		p63 := k11 * p58
+		p64 := p57 + p63
+		p65 := coef2 * w
+		p66 := c21 * p65
+		p67 := p60 + p66
+		p68 := k00 * p65
+		p69 := p62 + p68
+		p70 := c20 * p65
+		p71 := p64 - p70
+		p72 := coef3 * w
+		p73 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p72
+		p74 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p72
+		p75 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p72
+		p76 := coef4 * w
+		p77 := c28 * p76
+		p78 := p73 + p77
+		p79 := c27 * p76
+		p80 := p74 - p79
+		p81 := k11 * p76
+		p82 := p75 + p81
+		p83 := coef5 * w
+		p84 := c21 * p83
+		p85 := p78 + p84
+		p86 := k00 * p83
+		p87 := p80 + p86
+		p88 := c20 * p83
+		p89 := p82 - p88
+		p90 := coef11 * w
+		p91 := fwNonlinearDiffusionGLSCellBasis1Val[q][0] * p90
+		p92 := fwNonlinearDiffusionGLSCellBasis1Val[q][1] * p90
+		p93 := fwNonlinearDiffusionGLSCellBasis1Val[q][2] * p90
+		p94 := c28 * p83
+		p95 := p91 + p94
+		p96 := c27 * p83
+		p97 := p92 - p96
+		p98 := k11 * p83
+		p99 := p93 + p98
+		p100 := coef13 * w
+		p101 := c21 * p100
+		p102 := p95 + p101
+		p103 := k00 * p100
+		p104 := p97 + p103
+		p105 := c20 * p100
+		p106 := p99 - p105
+		p107 := coef19 * w
+		p108 := coef20 * w
+		p109 := coef22 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
-		//	  h² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
-		//	  h² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
+		//	  h² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
+		//	  h² (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · v  nonlinear_diffusion.fw:13
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
-		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
-		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
-		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  2 h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
-		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	GLS: + Σ_K (τ_u R_u, −2 (∇u·∇u) v − 4 (∇u·∇v) u − Δv u² − 2 Δu u v − Δv)_K  nonlinear_diffusion.fw:16
 		//	  4 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²)² · u · v            nonlinear_diffusion.fw:13
-		//	  4 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²)² u⁽ᵖʳᵉᵛ⁾² · u · v  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · u · v  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · v  nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
+		//	  4 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²)² u⁽ᵖʳᵉᵛ⁾² · u · v   nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · u · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · ∂²u/∂y² · v       nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂y² · v  nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · ∂²u/∂x² · v       nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂²u/∂x² · v  nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂u/∂x · v  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y² · ∂u/∂y · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂y² · ∂v/∂y             nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂x · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂²u/∂x² · ∂v/∂y             nonlinear_diffusion.fw:13
 		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²       nonlinear_diffusion.fw:13
 		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²            nonlinear_diffusion.fw:13
 		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²             nonlinear_diffusion.fw:13
 		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂y²                      nonlinear_diffusion.fw:13
@@ -676,21 +734,17 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂y²                      nonlinear_diffusion.fw:13
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂y²                        nonlinear_diffusion.fw:13
 		//	  τ_u · ∂²u/∂x² · ∂²v/∂y²                                 nonlinear_diffusion.fw:16
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  8 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  8 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  8 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂y² · ∂v/∂x             nonlinear_diffusion.fw:13
 		//	  16 τ_u u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x² · ∂u/∂x · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x            nonlinear_diffusion.fw:13
-		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂²u/∂x² · ∂v/∂x             nonlinear_diffusion.fw:13
+		//	  −4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · ∂u/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
 		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²       nonlinear_diffusion.fw:13
 		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²            nonlinear_diffusion.fw:13
 		//	  4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²             nonlinear_diffusion.fw:13
 		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂y² · ∂²v/∂x²                      nonlinear_diffusion.fw:13
@@ -701,15 +755,15 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  2 τ_u u⁽ᵖʳᵉᵛ⁾² · ∂²u/∂x² · ∂²v/∂x²                      nonlinear_diffusion.fw:13
 		//	  τ_u u⁽ᵖʳᵉᵛ⁾⁴ · ∂²u/∂x² · ∂²v/∂x²                        nonlinear_diffusion.fw:13
 		//	  τ_u · ∂²u/∂x² · ∂²v/∂x²                                 nonlinear_diffusion.fw:16
-		acc[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p42 + c28*p60 + c21*p77
-		acc[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p44 + c28*p62 + c21*p79
-		acc[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p46 + c28*p64 + c21*p81
-		acc[3] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p42 + k01*p60 + k00*p77
-		acc[4] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p44 + k01*p62 + k00*p79
-		acc[5] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p46 + k01*p64 + k00*p81
-		acc[6] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p42 + k11*p60 + k10*p77
-		acc[7] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p44 + k11*p62 + k10*p79
-		acc[8] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p46 + k11*p64 + k10*p81
+		acc[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p67 + c28*p85 + c21*p102
+		acc[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p69 + c28*p87 + c21*p104
+		acc[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p71 + c28*p89 + c21*p106
+		acc[3] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p67 + k01*p85 + k00*p102
+		acc[4] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p69 + k01*p87 + k00*p104
+		acc[5] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p71 + k01*p89 + k00*p106
+		acc[6] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p67 + k11*p85 + k10*p102
+		acc[7] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p69 + k11*p87 + k10*p104
+		acc[8] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p71 + k11*p89 + k10*p106
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω (∇u·∇v) u² + ∇u·∇v dx, F = ∫_Ω f v dx
@@ -719,17 +773,23 @@ func (NonlinearDiffusionGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
 		//	GLS: + Σ_K (τ_u R_u, −2 (∇u·∇u) v − 4 (∇u·∇v) u − Δv u² − 2 Δu u v − Δv)_K  nonlinear_diffusion.fw:16
-		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · v  nonlinear_diffusion.fw:13
-		//	  2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · v  nonlinear_diffusion.fw:13
-		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
-		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
-		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		rhs[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p82 + c28*p83 + c21*p84
-		rhs[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p82 + k01*p83 + k00*p84
-		rhs[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p82 + k11*p83 + k10*p84
+		//	  −(2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) + 2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² + 2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ + 2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − 2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾) ∂²u⁽ʳᵉᶜ⁾/∂x² · v  nonlinear_diffusion.fw:13
+		//	  −(2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) + 2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² + 2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ + 2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − 2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾) ∂²u⁽ʳᵉᶜ⁾/∂y² · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · v  nonlinear_diffusion.fw:13
+		//	  2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · v  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y) ∂²u⁽ʳᵉᶜ⁾/∂x² · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y) ∂²u⁽ʳᵉᶜ⁾/∂y² · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂v/∂y  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x) ∂²u⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  −(4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂x + 4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x) ∂²u⁽ʳᵉᶜ⁾/∂y² · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  4 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		rhs[0] += fwNonlinearDiffusionGLSCellBasis1Val[q][0]*p107 + c28*p108 + c21*p109
+		rhs[1] += fwNonlinearDiffusionGLSCellBasis1Val[q][1]*p107 + k01*p108 + k00*p109
+		rhs[2] += fwNonlinearDiffusionGLSCellBasis1Val[q][2]*p107 + k11*p108 + k10*p109
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -857,23 +917,23 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · u · ∂v/∂y                       nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂y · ∂v/∂y                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂y · ∂v/∂y                                           nonlinear_diffusion.fw:13
-		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  2 u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂x · u · ∂v/∂x                       nonlinear_diffusion.fw:13
 		//	  u⁽ᵖʳᵉᵛ⁾² · ∂u/∂x · ∂v/∂x                                nonlinear_diffusion.fw:13
 		//	  ∂u/∂x · ∂v/∂x                                           nonlinear_diffusion.fw:13
-		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾³/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	VMS: − Σ_K (τ_u R_u, −Δv u² − Δv)_K                       nonlinear_diffusion.fw:16
 		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²      nonlinear_diffusion.fw:13
 		//	  −2 τ_u u′² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  −4 τ_u u′ (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −4 τ_u u′ (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u u′² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²           nonlinear_diffusion.fw:13
 		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²            nonlinear_diffusion.fw:13
 		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂y²        nonlinear_diffusion.fw:13
@@ -899,12 +959,12 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²      nonlinear_diffusion.fw:13
 		//	  −2 τ_u u′² (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	  −2 τ_u (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾³ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  2 τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	  −4 τ_u u′ (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −4 τ_u u′ (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −2 τ_u u′² (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −4 τ_u u′ (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −2 τ_u u′² (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾³ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²           nonlinear_diffusion.fw:13
 		//	  −4 τ_u u⁽ᵖʳᵉᵛ⁾ ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²            nonlinear_diffusion.fw:13
 		//	  −8 τ_u u′ u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂y · ∂u/∂y · ∂²v/∂x²        nonlinear_diffusion.fw:13
@@ -928,11 +988,11 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −τ_u · ∂²u/∂x² · ∂²v/∂x²                                nonlinear_diffusion.fw:13
 		//	  −τ_u u′² · ∂²u/∂x² · ∂²v/∂x²                            nonlinear_diffusion.fw:13
 		//	VMS cross-stress: + Σ_K (−u′³ Δv/3 − u′² Δv u)_K
-		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂y²  nonlinear_diffusion.fw:13
 		//	  −u′² · u · ∂²v/∂y²                                      nonlinear_diffusion.fw:13
-		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² u′ (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾²/(u⁽ᵖʳᵉᵛ⁾² + 1)² · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −h² u′² (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾/(2 (u⁽ᵖʳᵉᵛ⁾² + 1)²) · u · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	  −u′² · u · ∂²v/∂x²                                      nonlinear_diffusion.fw:13
 		acc[0] += c4*p16 + c10*p26
 		acc[1] += c4*p18 + c10*p28
@@ -951,10 +1011,10 @@ func (NonlinearDiffusionVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  −u⁽ᵖʳᵉᵛ⁾² ∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                           nonlinear_diffusion.fw:13
 		//	  −∂u⁽ᵖʳᵉᵛ⁾/∂x · ∂v/∂x                                    nonlinear_diffusion.fw:13
 		//	VMS: − Σ_K (τ_u R_u, −Δv u² − Δv)_K                       nonlinear_diffusion.fw:16
-		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
-		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
-		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ᵖʳᵉᵛ⁾/∂x² + ∂²u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ᵖʳᵉᵛ⁾/∂x² − ∂²u⁽ᵖʳᵉᵛ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂y²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) · ∂²v/∂x²  nonlinear_diffusion.fw:13
+		//	  −τ_u (−2 (∂u⁽ᵖʳᵉᵛ⁾/∂x² + ∂u⁽ᵖʳᵉᵛ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾ − (∂²u⁽ʳᵉᶜ⁾/∂x² + ∂²u⁽ʳᵉᶜ⁾/∂y²) u⁽ᵖʳᵉᵛ⁾² − ∂²u⁽ʳᵉᶜ⁾/∂x² − ∂²u⁽ʳᵉᶜ⁾/∂y² − 10) u⁽ᵖʳᵉᵛ⁾² · ∂²v/∂x²  nonlinear_diffusion.fw:13
 		//	VMS cross-stress: + Σ_K (−u′³ Δv/3 − u′² Δv u)_K
 		//	  u′² u⁽ᵖʳᵉᵛ⁾ · ∂²v/∂y²                                   nonlinear_diffusion.fw:13
 		//	  u′³/3 · ∂²v/∂y²                                         nonlinear_diffusion.fw:13

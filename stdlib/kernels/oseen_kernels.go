@@ -21,7 +21,7 @@ func init() {
 			return OseenGalerkinKernel{}
 		},
 	})
-	compiled.Register("871dbb3e5d9df1bd55e9d18443fc539f", compiled.Kernels{
+	compiled.Register("0ec7353b24d95b8d55fb169ac772492f", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return OseenSUPGKernel{}
 		},
 	})
-	compiled.Register("8f9cd17dfdf73b13288b639378684493", compiled.Kernels{
+	compiled.Register("2d6fe4d98a3f6a33c843b53d959ae9da", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return OseenGLSKernel{}
 		},
 	})
-	compiled.Register("d93ebf53e274a757f13e57cc11ed9a61", compiled.Kernels{
+	compiled.Register("b6dd76deb920edcdb660369231b79a13", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -234,6 +234,12 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -258,164 +264,205 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c20 := 0.04 * c19
 	c21 := c18 * 2.0
 	c22 := c20 + c21
-	c23 := h * 2.0
-	c24 := 0.04 + c23
-	c25 := 1.0 / c24
-	tau_vel := c17 * c25
-	c26 := c17 * c22
-	j00 := x[2] - x[0]
+	c23 := c17 * c22
+	c24 := h * 2.0
+	c25 := 0.04 + c24
+	c26 := 1.0 / c25
+	tau_vel := c17 * c26
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	j00 := x[2] - x[0]
+	c27 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c28 := j01 * j10
 	detJ := c27 - c28
-	c29 := -j10
-	c30 := -j01
-	c31 := j01 * j01
-	c32 := 0.01 * c31
-	c33 := j00 * j01
-	c34 := -c33
-	c35 := (-0.01) * c33
-	c36 := j00 * j00
-	c37 := 0.01 * c36
-	c38 := j11 * j11
-	c39 := 0.01 * c38
-	c40 := 0.25 * c38
-	c41 := j11 * j10
-	c42 := (-0.01) * c41
-	c43 := c41 * (-0.25)
-	c44 := j10 * j10
-	c45 := 0.01 * c44
-	c46 := 0.25 * c44
 	rdetJ := 1.0 / detJ
-	c47 := c32 + c39
-	c48 := rdetJ * c47
-	c49 := c38 * rdetJ
-	c50 := c40 * rdetJ
-	c51 := c35 + c42
-	c52 := rdetJ * c51
-	c53 := c41 * rdetJ
-	c54 := c43 * rdetJ
-	c55 := c37 + c45
-	c56 := rdetJ * c55
-	c57 := c44 * rdetJ
-	c58 := c46 * rdetJ
-	c59 := c49 * 0.5
-	c60 := c53 * (-0.5)
-	c61 := c57 * 0.5
-	c62 := c59 + c60 + c60 + c61
-	c63 := c50 * 0.5
-	c64 := c54 * 0.5
-	c65 := c58 * 0.5
-	c66 := c63 + c64 + c64 + c65
-	c67 := c49 * (-0.5)
-	c68 := c53 * 0.5
-	c69 := c67 + c68
-	c70 := c50 * (-0.5)
-	c71 := c54 * (-0.5)
-	c72 := c70 + c71
-	c73 := c57 * (-0.5)
-	c74 := c68 + c73
-	c75 := c58 * (-0.5)
-	c76 := c71 + c75
-	c77 := j11 * j01
-	c78 := (-0.25) * c77
-	c79 := 0.25 * c27
-	c80 := 0.25 * c28
-	c81 := j00 * j10
-	c82 := (-0.25) * c81
-	c83 := rdetJ * c78
-	c84 := rdetJ * c79
-	c85 := rdetJ * c80
-	c86 := rdetJ * c82
-	c87 := 0.5 * c83
-	c88 := 0.5 * c84
+	k00 := j11 * rdetJ
+	c29 := -j10
+	c30 := j10 * rdetJ
+	c31 := c30 - k00
+	c32 := rv[0] * c31
+	c33 := k00 * rv[2]
+	c34 := c30 * rv[4]
+	c35 := c32 + c32 + c33 + c33 - c34 - c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := -j01
+	c39 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c40 := c39 - k11
+	c41 := rv[1] * c40
+	c42 := c39 * rv[3]
+	c43 := k11 * rv[5]
+	c44 := c41 + c41 - c42 - c42 + c43 + c43
+	c45 := 0.5 * c44
+	c46 := tau_vel * c45
+	c47 := c31 * rv[6]
+	c48 := k00 * rv[8]
+	c49 := c30 * rv[10]
+	c50 := c47 + c47 + c48 + c48 - c49 - c49
+	c51 := 0.5 * c50
+	c52 := tau_vel * c51
+	c53 := c40 * rv[7]
+	c54 := c39 * rv[9]
+	c55 := k11 * rv[11]
+	c56 := c53 + c53 - c54 - c54 + c55 + c55
+	c57 := 0.5 * c56
+	c58 := tau_vel * c57
+	c59 := j01 * j01
+	c60 := 0.01 * c59
+	c61 := j00 * j01
+	c62 := -c61
+	c63 := c61 * (-0.01)
+	c64 := j00 * j00
+	c65 := 0.01 * c64
+	c66 := j11 * j11
+	c67 := 0.01 * c66
+	c68 := 0.25 * c66
+	c69 := j11 * j10
+	c70 := (-0.01) * c69
+	c71 := c69 * (-0.25)
+	c72 := j10 * j10
+	c73 := 0.01 * c72
+	c74 := 0.25 * c72
+	c75 := c60 + c67
+	c76 := rdetJ * c75
+	c77 := rdetJ * c68
+	c78 := rdetJ * c66
+	c79 := c63 + c70
+	c80 := rdetJ * c79
+	c81 := rdetJ * c71
+	c82 := rdetJ * c69
+	c83 := c65 + c73
+	c84 := rdetJ * c83
+	c85 := rdetJ * c74
+	c86 := rdetJ * c72
+	c87 := 0.5 * c77
+	c88 := 0.5 * c81
 	c89 := 0.5 * c85
-	c90 := 0.5 * c86
-	c91 := c87 + c88 + c89 + c90
-	c92 := (-0.5) * c83
-	c93 := (-0.5) * c85
-	c94 := c92 + c93
-	c95 := (-0.5) * c84
-	c96 := (-0.5) * c86
+	c90 := c87 + c88 + c88 + c89
+	c91 := 0.5 * c78
+	c92 := c82 * (-0.5)
+	c93 := 0.5 * c86
+	c94 := c91 + c92 + c92 + c93
+	c95 := c77 * (-0.5)
+	c96 := c81 * (-0.5)
 	c97 := c95 + c96
-	c98 := c92 + c95
-	c99 := c93 + c96
-	c100 := 0.25 * c31
-	c101 := c33 * (-0.25)
-	c102 := 0.25 * c36
-	c103 := rdetJ * c100
-	c104 := rdetJ * c101
-	c105 := rdetJ * c102
-	c106 := 0.5 * c103
-	c107 := 0.5 * c104
-	c108 := 0.5 * c105
-	c109 := c106 + c107 + c107 + c108
-	c110 := (-0.5) * c103
-	c111 := (-0.5) * c104
-	c112 := c110 + c111
-	c113 := (-0.5) * c105
-	c114 := c111 + c113
-	c115 := rdetJ * c77
-	c116 := c27 * rdetJ
-	c117 := c28 * rdetJ
-	c118 := rdetJ * c81
-	c119 := (-0.5) * c115
-	c120 := 0.5 * c116
-	c121 := 0.5 * c117
-	c122 := (-0.5) * c118
-	c123 := c119 + c120 + c121 + c122
-	c124 := 0.5 * c115
-	c125 := (-0.5) * c117
-	c126 := c124 + c125
-	c127 := (-0.5) * c116
-	c128 := 0.5 * c118
-	c129 := c127 + c128
-	c130 := c124 + c127
-	c131 := c125 + c128
-	c132 := c31 + c38
-	c133 := rdetJ * c132
-	c134 := c34 - c41
-	c135 := rdetJ * c134
-	c136 := c36 + c44
-	c137 := rdetJ * c136
-	c138 := 0.5 * c133
-	c139 := 0.5 * c135
-	c140 := 0.5 * c137
-	c141 := c138 + c139 + c139 + c140
-	c142 := (-0.5) * c133
-	c143 := (-0.5) * c135
-	c144 := c142 + c143
-	c145 := (-0.5) * c137
-	c146 := c143 + c145
+	c98 := c78 * (-0.5)
+	c99 := 0.5 * c82
+	c100 := c98 + c99
+	c101 := c85 * (-0.5)
+	c102 := c96 + c101
+	c103 := c86 * (-0.5)
+	c104 := c99 + c103
+	c105 := j11 * j01
+	c106 := (-0.25) * c105
+	c107 := 0.25 * c27
+	c108 := 0.25 * c28
+	c109 := j00 * j10
+	c110 := (-0.25) * c109
+	c111 := rdetJ * c106
+	c112 := rdetJ * c107
+	c113 := rdetJ * c108
+	c114 := rdetJ * c110
+	c115 := 0.5 * c111
+	c116 := 0.5 * c112
+	c117 := 0.5 * c113
+	c118 := 0.5 * c114
+	c119 := c115 + c116 + c117 + c118
+	c120 := (-0.5) * c111
+	c121 := (-0.5) * c113
+	c122 := c120 + c121
+	c123 := (-0.5) * c112
+	c124 := (-0.5) * c114
+	c125 := c123 + c124
+	c126 := c120 + c123
+	c127 := c121 + c124
+	c128 := 0.25 * c59
+	c129 := c61 * (-0.25)
+	c130 := 0.25 * c64
+	c131 := rdetJ * c128
+	c132 := rdetJ * c129
+	c133 := rdetJ * c130
+	c134 := 0.5 * c131
+	c135 := 0.5 * c132
+	c136 := 0.5 * c133
+	c137 := c134 + c135 + c135 + c136
+	c138 := (-0.5) * c131
+	c139 := (-0.5) * c132
+	c140 := c138 + c139
+	c141 := (-0.5) * c133
+	c142 := c139 + c141
+	c143 := rdetJ * c105
+	c144 := c27 * rdetJ
+	c145 := c28 * rdetJ
+	c146 := rdetJ * c109
+	c147 := (-0.5) * c143
+	c148 := 0.5 * c144
+	c149 := 0.5 * c145
+	c150 := (-0.5) * c146
+	c151 := c147 + c148 + c149 + c150
+	c152 := 0.5 * c143
+	c153 := (-0.5) * c145
+	c154 := c152 + c153
+	c155 := (-0.5) * c144
+	c156 := 0.5 * c146
+	c157 := c155 + c156
+	c158 := c152 + c155
+	c159 := c153 + c156
+	c160 := c59 + c66
+	c161 := rdetJ * c160
+	c162 := c62 - c69
+	c163 := rdetJ * c162
+	c164 := c64 + c72
+	c165 := rdetJ * c164
+	c166 := 0.5 * c161
+	c167 := 0.5 * c163
+	c168 := 0.5 * c165
+	c169 := c166 + c167 + c167 + c168
+	c170 := (-0.5) * c161
+	c171 := (-0.5) * c163
+	c172 := c170 + c171
+	c173 := (-0.5) * c165
+	c174 := c171 + c173
+	c175 := 0.01 * j11
+	c176 := j10 * (-0.01)
+	c177 := (-0.5) * c175
+	c178 := (-0.5) * c176
+	c179 := c177 + c178
+	c180 := 0.5 * c175
+	c181 := 0.5 * c176
+	c182 := j01 * (-0.01)
+	c183 := 0.01 * j00
+	c184 := (-0.5) * c182
+	c185 := (-0.5) * c183
+	c186 := c184 + c185
+	c187 := 0.5 * c182
+	c188 := 0.5 * c183
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_vel[1]                     oseen.fw:12
-	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y         oseen.fw:12
-	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:12
+	//	  ∂vel[1]/∂x · v_vel[1]              oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  oseen.fw:12
+	//	  1/100 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  oseen.fw:12
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K     oseen.fw:18
+	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x    oseen.fw:18
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x  oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
-	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x           oseen.fw:18
-	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
-	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
-	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x  oseen.fw:17
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + c23*c90 + tau_vel*c94
+	A[1] = (1.0/6)*j11 + 0.5*(-c76-c80) + c23*c97 + tau_vel*c100
+	A[2] = (1.0/6)*c29 + 0.5*(-c80-c84) + c23*c102 + tau_vel*c104
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + c23*c97 + tau_vel*c100
+	A[10] = (1.0/6)*j11 + 0.5*c76 + c23*c87 + tau_vel*c91
+	A[11] = (1.0/6)*c29 + 0.5*c80 + c23*c88 + tau_vel*c92
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + c23*c102 + tau_vel*c104
+	A[19] = (1.0/6)*j11 + 0.5*c80 + c23*c88 + tau_vel*c92
+	A[20] = (1.0/6)*c29 + 0.5*c84 + c23*c89 + tau_vel*c93
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -423,51 +470,49 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂p/∂x · v_vel[1]              oseen.fw:12
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x  oseen.fw:17
-	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[7] = (1.0/6)*j11 + tau_vel*c69
-	A[8] = (1.0/6)*c29 + tau_vel*c74
-	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[16] = (1.0/6)*j11 + tau_vel*c59
-	A[17] = (1.0/6)*c29 + tau_vel*c60
-	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[25] = (1.0/6)*j11 + tau_vel*c60
-	A[26] = (1.0/6)*c29 + tau_vel*c61
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c94
+	A[7] = (1.0/6)*j11 + tau_vel*c100
+	A[8] = (1.0/6)*c29 + tau_vel*c104
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c100
+	A[16] = (1.0/6)*j11 + tau_vel*c91
+	A[17] = (1.0/6)*c29 + tau_vel*c92
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c104
+	A[25] = (1.0/6)*j11 + tau_vel*c92
+	A[26] = (1.0/6)*c29 + tau_vel*c93
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
-	A[3] = c26 * c91
-	A[4] = c26 * c94
-	A[5] = c26 * c97
-	A[12] = c26 * c98
-	A[13] = c26 * c87
-	A[14] = c26 * c88
-	A[21] = c26 * c99
-	A[22] = c26 * c89
-	A[23] = c26 * c90
+	A[3] = c23 * c119
+	A[4] = c23 * c122
+	A[5] = c23 * c125
+	A[12] = c23 * c126
+	A[13] = c23 * c115
+	A[14] = c23 * c116
+	A[21] = c23 * c127
+	A[22] = c23 * c117
+	A[23] = c23 * c118
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂x · v_vel[2]                     oseen.fw:12
-	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y         oseen.fw:12
-	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:12
-	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K            oseen.fw:18
-	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y           oseen.fw:18
+	//	  ∂vel[2]/∂x · v_vel[2]              oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  oseen.fw:12
+	//	  1/100 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  oseen.fw:12
+	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K     oseen.fw:18
+	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[2]/∂y    oseen.fw:18
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x  oseen.fw:12
-	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
-	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
-	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x  oseen.fw:17
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + c23*c137 + tau_vel*c94
+	A[31] = (1.0/6)*j11 + 0.5*(-c76-c80) + c23*c140 + tau_vel*c100
+	A[32] = (1.0/6)*c29 + 0.5*(-c80-c84) + c23*c142 + tau_vel*c104
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + c23*c140 + tau_vel*c100
+	A[40] = (1.0/6)*j11 + 0.5*c76 + c23*c134 + tau_vel*c91
+	A[41] = (1.0/6)*c29 + 0.5*c80 + c23*c135 + tau_vel*c92
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + c23*c142 + tau_vel*c104
+	A[49] = (1.0/6)*j11 + 0.5*c80 + c23*c135 + tau_vel*c92
+	A[50] = (1.0/6)*c29 + 0.5*c84 + c23*c136 + tau_vel*c93
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -475,80 +520,105 @@ func (OseenSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  ∂p/∂y · v_vel[2]              oseen.fw:12
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x  oseen.fw:17
-	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[34] = (1.0/6)*c30 + tau_vel*c126
-	A[35] = (1.0/6)*j00 + tau_vel*c129
-	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
-	A[43] = (1.0/6)*c30 + tau_vel*c119
-	A[44] = (1.0/6)*j00 + tau_vel*c120
-	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
-	A[52] = (1.0/6)*c30 + tau_vel*c121
-	A[53] = (1.0/6)*j00 + tau_vel*c122
+	A[33] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[34] = (1.0/6)*c38 + tau_vel*c154
+	A[35] = (1.0/6)*j00 + tau_vel*c157
+	A[42] = (1.0/6)*(-c38-j00) + tau_vel*c158
+	A[43] = (1.0/6)*c38 + tau_vel*c147
+	A[44] = (1.0/6)*j00 + tau_vel*c148
+	A[51] = (1.0/6)*(-c38-j00) + tau_vel*c159
+	A[52] = (1.0/6)*c38 + tau_vel*c149
+	A[53] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_p R_p, ∇·v_vel)_K   oseen.fw:18
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
-	A[27] = c26 * c91
-	A[28] = c26 * c98
-	A[29] = c26 * c99
-	A[36] = c26 * c94
-	A[37] = c26 * c87
-	A[38] = c26 * c89
-	A[45] = c26 * c97
-	A[46] = c26 * c88
-	A[47] = c26 * c90
+	A[27] = c23 * c119
+	A[28] = c23 * c126
+	A[29] = c23 * c127
+	A[36] = c23 * c122
+	A[37] = c23 * c115
+	A[38] = c23 * c117
+	A[45] = c23 * c125
+	A[46] = c23 * c116
+	A[47] = c23 * c118
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	  ∂vel[1]/∂x · v_p              oseen.fw:12
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
-	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[55] = (1.0/6)*j11 + tau_vel*c69
-	A[56] = (1.0/6)*c29 + tau_vel*c74
-	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[64] = (1.0/6)*j11 + tau_vel*c59
-	A[65] = (1.0/6)*c29 + tau_vel*c60
-	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[73] = (1.0/6)*j11 + tau_vel*c60
-	A[74] = (1.0/6)*c29 + tau_vel*c61
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x  oseen.fw:17
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c94
+	A[55] = (1.0/6)*j11 + tau_vel*c100
+	A[56] = (1.0/6)*c29 + tau_vel*c104
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c100
+	A[64] = (1.0/6)*j11 + tau_vel*c91
+	A[65] = (1.0/6)*c29 + tau_vel*c92
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c104
+	A[73] = (1.0/6)*j11 + tau_vel*c92
+	A[74] = (1.0/6)*c29 + tau_vel*c93
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	  ∂vel[2]/∂y · v_p              oseen.fw:12
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
-	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[58] = (1.0/6)*c30 + tau_vel*c130
-	A[59] = (1.0/6)*j00 + tau_vel*c131
-	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
-	A[67] = (1.0/6)*c30 + tau_vel*c119
-	A[68] = (1.0/6)*j00 + tau_vel*c121
-	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
-	A[76] = (1.0/6)*c30 + tau_vel*c120
-	A[77] = (1.0/6)*j00 + tau_vel*c122
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y  oseen.fw:17
+	A[57] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[58] = (1.0/6)*c38 + tau_vel*c158
+	A[59] = (1.0/6)*j00 + tau_vel*c159
+	A[66] = (1.0/6)*(-c38-j00) + tau_vel*c154
+	A[67] = (1.0/6)*c38 + tau_vel*c147
+	A[68] = (1.0/6)*j00 + tau_vel*c149
+	A[75] = (1.0/6)*(-c38-j00) + tau_vel*c157
+	A[76] = (1.0/6)*c38 + tau_vel*c148
+	A[77] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
-	A[60] = tau_vel * c141
-	A[61] = tau_vel * c144
-	A[62] = tau_vel * c146
-	A[69] = tau_vel * c144
-	A[70] = tau_vel * c138
-	A[71] = tau_vel * c139
-	A[78] = tau_vel * c146
-	A[79] = tau_vel * c139
-	A[80] = tau_vel * c140
+	A[60] = tau_vel * c169
+	A[61] = tau_vel * c172
+	A[62] = tau_vel * c174
+	A[69] = tau_vel * c172
+	A[70] = tau_vel * c166
+	A[71] = tau_vel * c167
+	A[78] = tau_vel * c174
+	A[79] = tau_vel * c167
+	A[80] = tau_vel * c168
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	b[0] = c37*c179 + c46*c179
+	b[1] = c37*c180 + c46*c180
+	b[2] = c37*c181 + c46*c181
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	b[3] = c52*c179 + c58*c179
+	b[4] = c52*c180 + c58*c180
+	b[5] = c52*c181 + c58*c181
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  oseen.fw:12
+	b[6] = c37*c179 + c46*c179 + c52*c186 + c58*c186
+	b[7] = c37*c180 + c46*c180 + c52*c187 + c58*c187
+	b[8] = c37*c181 + c46*c181 + c52*c188 + c58*c188
 }
 
 // fwOseenGLSLayout is the element layout of the gls kernels: triangle cells,
@@ -582,6 +652,12 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -611,137 +687,180 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := 1.0 / c24
 	tau_vel := c17 * c25
 	c26 := c17 * c22
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	j00 := x[2] - x[0]
+	c27 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c28 := j01 * j10
 	detJ := c27 - c28
-	c29 := -j10
-	c30 := -j01
-	c31 := j01 * j01
-	c32 := 0.01 * c31
-	c33 := j00 * j01
-	c34 := -c33
-	c35 := (-0.01) * c33
-	c36 := j00 * j00
-	c37 := 0.01 * c36
-	c38 := j11 * j11
-	c39 := j11 * j10
-	c40 := j10 * j10
-	c41 := 0.01 * c38
-	c42 := 0.25 * c38
-	c43 := (-0.01) * c39
-	c44 := c39 * (-0.25)
-	c45 := 0.01 * c40
-	c46 := 0.25 * c40
 	rdetJ := 1.0 / detJ
-	c47 := c32 + c41
-	c48 := rdetJ * c47
-	c49 := c38 * rdetJ
-	c50 := c42 * rdetJ
-	c51 := c35 + c43
-	c52 := rdetJ * c51
-	c53 := c39 * rdetJ
-	c54 := c44 * rdetJ
-	c55 := c37 + c45
-	c56 := rdetJ * c55
-	c57 := c40 * rdetJ
-	c58 := c46 * rdetJ
-	c59 := c49 * 0.5
-	c60 := c53 * (-0.5)
-	c61 := c57 * 0.5
-	c62 := c59 + c60 + c60 + c61
-	c63 := c50 * 0.5
-	c64 := c54 * 0.5
-	c65 := c58 * 0.5
-	c66 := c63 + c64 + c64 + c65
-	c67 := c49 * (-0.5)
-	c68 := c53 * 0.5
-	c69 := c67 + c68
-	c70 := c50 * (-0.5)
-	c71 := c54 * (-0.5)
-	c72 := c70 + c71
-	c73 := c57 * (-0.5)
-	c74 := c68 + c73
-	c75 := c58 * (-0.5)
-	c76 := c71 + c75
-	c77 := j11 * j01
-	c78 := (-0.25) * c77
-	c79 := 0.25 * c27
-	c80 := 0.25 * c28
-	c81 := j00 * j10
-	c82 := (-0.25) * c81
-	c83 := rdetJ * c78
-	c84 := rdetJ * c79
-	c85 := rdetJ * c80
-	c86 := rdetJ * c82
-	c87 := 0.5 * c83
-	c88 := 0.5 * c84
+	k00 := j11 * rdetJ
+	c29 := -j10
+	c30 := j10 * rdetJ
+	c31 := c30 - k00
+	c32 := rv[0] * c31
+	c33 := k00 * rv[2]
+	c34 := c30 * rv[4]
+	c35 := c32 + c32 + c33 + c33 - c34 - c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := -j01
+	c39 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c40 := c39 - k11
+	c41 := rv[1] * c40
+	c42 := c39 * rv[3]
+	c43 := k11 * rv[5]
+	c44 := c41 + c41 - c42 - c42 + c43 + c43
+	c45 := 0.5 * c44
+	c46 := tau_vel * c45
+	c47 := c31 * rv[6]
+	c48 := k00 * rv[8]
+	c49 := c30 * rv[10]
+	c50 := c47 + c47 + c48 + c48 - c49 - c49
+	c51 := 0.5 * c50
+	c52 := tau_vel * c51
+	c53 := c40 * rv[7]
+	c54 := c39 * rv[9]
+	c55 := k11 * rv[11]
+	c56 := c53 + c53 - c54 - c54 + c55 + c55
+	c57 := 0.5 * c56
+	c58 := tau_vel * c57
+	c59 := j01 * j01
+	c60 := 0.01 * c59
+	c61 := j00 * j01
+	c62 := -c61
+	c63 := (-0.01) * c61
+	c64 := j00 * j00
+	c65 := 0.01 * c64
+	c66 := j11 * j11
+	c67 := j11 * j10
+	c68 := j10 * j10
+	c69 := 0.01 * c66
+	c70 := 0.25 * c66
+	c71 := (-0.01) * c67
+	c72 := c67 * (-0.25)
+	c73 := 0.01 * c68
+	c74 := 0.25 * c68
+	c75 := c60 + c69
+	c76 := rdetJ * c75
+	c77 := rdetJ * c66
+	c78 := rdetJ * c70
+	c79 := c63 + c71
+	c80 := rdetJ * c79
+	c81 := rdetJ * c67
+	c82 := rdetJ * c72
+	c83 := c65 + c73
+	c84 := rdetJ * c83
+	c85 := rdetJ * c68
+	c86 := rdetJ * c74
+	c87 := 0.5 * c77
+	c88 := c81 * (-0.5)
 	c89 := 0.5 * c85
-	c90 := 0.5 * c86
-	c91 := c87 + c88 + c89 + c90
-	c92 := (-0.5) * c83
-	c93 := (-0.5) * c85
-	c94 := c92 + c93
-	c95 := (-0.5) * c84
-	c96 := (-0.5) * c86
+	c90 := c87 + c88 + c88 + c89
+	c91 := 0.5 * c78
+	c92 := 0.5 * c82
+	c93 := 0.5 * c86
+	c94 := c91 + c92 + c92 + c93
+	c95 := c77 * (-0.5)
+	c96 := 0.5 * c81
 	c97 := c95 + c96
-	c98 := c92 + c95
-	c99 := c93 + c96
-	c100 := 0.25 * c31
-	c101 := c33 * (-0.25)
-	c102 := 0.25 * c36
-	c103 := rdetJ * c100
-	c104 := rdetJ * c101
-	c105 := rdetJ * c102
-	c106 := 0.5 * c103
-	c107 := 0.5 * c104
-	c108 := 0.5 * c105
-	c109 := c106 + c107 + c107 + c108
-	c110 := (-0.5) * c103
-	c111 := (-0.5) * c104
-	c112 := c110 + c111
-	c113 := (-0.5) * c105
-	c114 := c111 + c113
-	c115 := rdetJ * c77
-	c116 := c27 * rdetJ
-	c117 := c28 * rdetJ
-	c118 := rdetJ * c81
-	c119 := (-0.5) * c115
-	c120 := 0.5 * c116
-	c121 := 0.5 * c117
-	c122 := (-0.5) * c118
-	c123 := c119 + c120 + c121 + c122
-	c124 := 0.5 * c115
-	c125 := (-0.5) * c117
-	c126 := c124 + c125
-	c127 := (-0.5) * c116
-	c128 := 0.5 * c118
-	c129 := c127 + c128
-	c130 := c124 + c127
-	c131 := c125 + c128
-	c132 := c31 + c38
-	c133 := rdetJ * c132
-	c134 := c34 - c39
-	c135 := rdetJ * c134
-	c136 := c36 + c40
-	c137 := rdetJ * c136
-	c138 := 0.5 * c133
-	c139 := 0.5 * c135
-	c140 := 0.5 * c137
-	c141 := c138 + c139 + c139 + c140
-	c142 := (-0.5) * c133
-	c143 := (-0.5) * c135
-	c144 := c142 + c143
-	c145 := (-0.5) * c137
-	c146 := c143 + c145
+	c98 := c78 * (-0.5)
+	c99 := c82 * (-0.5)
+	c100 := c98 + c99
+	c101 := c85 * (-0.5)
+	c102 := c96 + c101
+	c103 := c86 * (-0.5)
+	c104 := c99 + c103
+	c105 := j11 * j01
+	c106 := (-0.25) * c105
+	c107 := 0.25 * c27
+	c108 := 0.25 * c28
+	c109 := j00 * j10
+	c110 := (-0.25) * c109
+	c111 := rdetJ * c106
+	c112 := rdetJ * c107
+	c113 := rdetJ * c108
+	c114 := rdetJ * c110
+	c115 := 0.5 * c111
+	c116 := 0.5 * c112
+	c117 := 0.5 * c113
+	c118 := 0.5 * c114
+	c119 := c115 + c116 + c117 + c118
+	c120 := (-0.5) * c111
+	c121 := (-0.5) * c113
+	c122 := c120 + c121
+	c123 := (-0.5) * c112
+	c124 := (-0.5) * c114
+	c125 := c123 + c124
+	c126 := c120 + c123
+	c127 := c121 + c124
+	c128 := 0.25 * c59
+	c129 := c61 * (-0.25)
+	c130 := 0.25 * c64
+	c131 := rdetJ * c128
+	c132 := rdetJ * c129
+	c133 := rdetJ * c130
+	c134 := 0.5 * c131
+	c135 := 0.5 * c132
+	c136 := 0.5 * c133
+	c137 := c134 + c135 + c135 + c136
+	c138 := (-0.5) * c131
+	c139 := (-0.5) * c132
+	c140 := c138 + c139
+	c141 := (-0.5) * c133
+	c142 := c139 + c141
+	c143 := rdetJ * c105
+	c144 := c27 * rdetJ
+	c145 := c28 * rdetJ
+	c146 := rdetJ * c109
+	c147 := (-0.5) * c143
+	c148 := 0.5 * c144
+	c149 := 0.5 * c145
+	c150 := (-0.5) * c146
+	c151 := c147 + c148 + c149 + c150
+	c152 := 0.5 * c143
+	c153 := (-0.5) * c145
+	c154 := c152 + c153
+	c155 := (-0.5) * c144
+	c156 := 0.5 * c146
+	c157 := c155 + c156
+	c158 := c152 + c155
+	c159 := c153 + c156
+	c160 := c59 + c66
+	c161 := rdetJ * c160
+	c162 := c62 - c67
+	c163 := rdetJ * c162
+	c164 := c64 + c68
+	c165 := rdetJ * c164
+	c166 := 0.5 * c161
+	c167 := 0.5 * c163
+	c168 := 0.5 * c165
+	c169 := c166 + c167 + c167 + c168
+	c170 := (-0.5) * c161
+	c171 := (-0.5) * c163
+	c172 := c170 + c171
+	c173 := (-0.5) * c165
+	c174 := c171 + c173
+	c175 := 0.01 * j11
+	c176 := (-0.01) * j10
+	c177 := (-0.5) * c175
+	c178 := (-0.5) * c176
+	c179 := c177 + c178
+	c180 := 0.5 * c175
+	c181 := 0.5 * c176
+	c182 := (-0.01) * j01
+	c183 := 0.01 * j00
+	c184 := (-0.5) * c182
+	c185 := (-0.5) * c183
+	c186 := c184 + c185
+	c187 := 0.5 * c182
+	c188 := 0.5 * c183
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -753,23 +872,21 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x     oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x            oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K                oseen.fw:18
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x              oseen.fw:18
-	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
-	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
-	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + tau_vel*c90 + c26*c94
+	A[1] = (1.0/6)*j11 + 0.5*(-c76-c80) + tau_vel*c97 + c26*c100
+	A[2] = (1.0/6)*c29 + 0.5*(-c80-c84) + tau_vel*c102 + c26*c104
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + tau_vel*c97 + c26*c100
+	A[10] = (1.0/6)*j11 + 0.5*c76 + tau_vel*c87 + c26*c91
+	A[11] = (1.0/6)*c29 + 0.5*c80 + tau_vel*c88 + c26*c92
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + tau_vel*c102 + c26*c104
+	A[19] = (1.0/6)*j11 + 0.5*c80 + tau_vel*c88 + c26*c92
+	A[20] = (1.0/6)*c29 + 0.5*c84 + tau_vel*c89 + c26*c93
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -779,29 +896,29 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
-	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[7] = (1.0/6)*j11 + tau_vel*c69
-	A[8] = (1.0/6)*c29 + tau_vel*c74
-	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[16] = (1.0/6)*j11 + tau_vel*c59
-	A[17] = (1.0/6)*c29 + tau_vel*c60
-	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[25] = (1.0/6)*j11 + tau_vel*c60
-	A[26] = (1.0/6)*c29 + tau_vel*c61
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c90
+	A[7] = (1.0/6)*j11 + tau_vel*c97
+	A[8] = (1.0/6)*c29 + tau_vel*c102
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c97
+	A[16] = (1.0/6)*j11 + tau_vel*c87
+	A[17] = (1.0/6)*c29 + tau_vel*c88
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c102
+	A[25] = (1.0/6)*j11 + tau_vel*c88
+	A[26] = (1.0/6)*c29 + tau_vel*c89
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
-	A[3] = c26 * c91
-	A[4] = c26 * c94
-	A[5] = c26 * c97
-	A[12] = c26 * c98
-	A[13] = c26 * c87
-	A[14] = c26 * c88
-	A[21] = c26 * c99
-	A[22] = c26 * c89
-	A[23] = c26 * c90
+	A[3] = c26 * c119
+	A[4] = c26 * c122
+	A[5] = c26 * c125
+	A[12] = c26 * c126
+	A[13] = c26 * c115
+	A[14] = c26 * c116
+	A[21] = c26 * c127
+	A[22] = c26 * c117
+	A[23] = c26 * c118
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -815,21 +932,19 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x     oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x            oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
 	//	  −τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²     oseen.fw:12
 	//	  τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  oseen.fw:12
-	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
-	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
-	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + tau_vel*c90 + c26*c137
+	A[31] = (1.0/6)*j11 + 0.5*(-c76-c80) + tau_vel*c97 + c26*c140
+	A[32] = (1.0/6)*c29 + 0.5*(-c80-c84) + tau_vel*c102 + c26*c142
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + tau_vel*c97 + c26*c140
+	A[40] = (1.0/6)*j11 + 0.5*c76 + tau_vel*c87 + c26*c134
+	A[41] = (1.0/6)*c29 + 0.5*c80 + tau_vel*c88 + c26*c135
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + tau_vel*c102 + c26*c142
+	A[49] = (1.0/6)*j11 + 0.5*c80 + tau_vel*c88 + c26*c135
+	A[50] = (1.0/6)*c29 + 0.5*c84 + tau_vel*c89 + c26*c136
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -839,80 +954,105 @@ func (OseenGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x         oseen.fw:17
 	//	  −τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
-	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[34] = (1.0/6)*c30 + tau_vel*c126
-	A[35] = (1.0/6)*j00 + tau_vel*c129
-	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
-	A[43] = (1.0/6)*c30 + tau_vel*c119
-	A[44] = (1.0/6)*j00 + tau_vel*c120
-	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
-	A[52] = (1.0/6)*c30 + tau_vel*c121
-	A[53] = (1.0/6)*j00 + tau_vel*c122
+	A[33] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[34] = (1.0/6)*c38 + tau_vel*c154
+	A[35] = (1.0/6)*j00 + tau_vel*c157
+	A[42] = (1.0/6)*(-c38-j00) + tau_vel*c158
+	A[43] = (1.0/6)*c38 + tau_vel*c147
+	A[44] = (1.0/6)*j00 + tau_vel*c148
+	A[51] = (1.0/6)*(-c38-j00) + tau_vel*c159
+	A[52] = (1.0/6)*c38 + tau_vel*c149
+	A[53] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_p R_p, ∇·v_vel)_K    oseen.fw:18
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
-	A[27] = c26 * c91
-	A[28] = c26 * c98
-	A[29] = c26 * c99
-	A[36] = c26 * c94
-	A[37] = c26 * c87
-	A[38] = c26 * c89
-	A[45] = c26 * c97
-	A[46] = c26 * c88
-	A[47] = c26 * c90
+	A[27] = c26 * c119
+	A[28] = c26 * c126
+	A[29] = c26 * c127
+	A[36] = c26 * c122
+	A[37] = c26 * c115
+	A[38] = c26 * c117
+	A[45] = c26 * c125
+	A[46] = c26 * c116
+	A[47] = c26 * c118
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	  ∂vel[1]/∂x · v_p              oseen.fw:12
 	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
-	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[55] = (1.0/6)*j11 + tau_vel*c69
-	A[56] = (1.0/6)*c29 + tau_vel*c74
-	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[64] = (1.0/6)*j11 + tau_vel*c59
-	A[65] = (1.0/6)*c29 + tau_vel*c60
-	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[73] = (1.0/6)*j11 + tau_vel*c60
-	A[74] = (1.0/6)*c29 + tau_vel*c61
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x  oseen.fw:17
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c90
+	A[55] = (1.0/6)*j11 + tau_vel*c97
+	A[56] = (1.0/6)*c29 + tau_vel*c102
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c97
+	A[64] = (1.0/6)*j11 + tau_vel*c87
+	A[65] = (1.0/6)*c29 + tau_vel*c88
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c102
+	A[73] = (1.0/6)*j11 + tau_vel*c88
+	A[74] = (1.0/6)*c29 + tau_vel*c89
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	  ∂vel[2]/∂y · v_p              oseen.fw:12
 	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
-	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[58] = (1.0/6)*c30 + tau_vel*c130
-	A[59] = (1.0/6)*j00 + tau_vel*c131
-	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
-	A[67] = (1.0/6)*c30 + tau_vel*c119
-	A[68] = (1.0/6)*j00 + tau_vel*c121
-	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
-	A[76] = (1.0/6)*c30 + tau_vel*c120
-	A[77] = (1.0/6)*j00 + tau_vel*c122
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y  oseen.fw:17
+	A[57] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[58] = (1.0/6)*c38 + tau_vel*c158
+	A[59] = (1.0/6)*j00 + tau_vel*c159
+	A[66] = (1.0/6)*(-c38-j00) + tau_vel*c154
+	A[67] = (1.0/6)*c38 + tau_vel*c147
+	A[68] = (1.0/6)*j00 + tau_vel*c149
+	A[75] = (1.0/6)*(-c38-j00) + tau_vel*c157
+	A[76] = (1.0/6)*c38 + tau_vel*c148
+	A[77] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
-	A[60] = tau_vel * c141
-	A[61] = tau_vel * c144
-	A[62] = tau_vel * c146
-	A[69] = tau_vel * c144
-	A[70] = tau_vel * c138
-	A[71] = tau_vel * c139
-	A[78] = tau_vel * c146
-	A[79] = tau_vel * c139
-	A[80] = tau_vel * c140
+	A[60] = tau_vel * c169
+	A[61] = tau_vel * c172
+	A[62] = tau_vel * c174
+	A[69] = tau_vel * c172
+	A[70] = tau_vel * c166
+	A[71] = tau_vel * c167
+	A[78] = tau_vel * c174
+	A[79] = tau_vel * c167
+	A[80] = tau_vel * c168
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	b[0] = c37*c179 + c46*c179
+	b[1] = c37*c180 + c46*c180
+	b[2] = c37*c181 + c46*c181
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	b[3] = c52*c179 + c58*c179
+	b[4] = c52*c180 + c58*c180
+	b[5] = c52*c181 + c58*c181
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_vel·b + ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  oseen.fw:12
+	b[6] = c37*c179 + c46*c179 + c52*c186 + c58*c186
+	b[7] = c37*c180 + c46*c180 + c52*c187 + c58*c187
+	b[8] = c37*c181 + c46*c181 + c52*c188 + c58*c188
 }
 
 // fwOseenVMSLayout is the element layout of the vms kernels: triangle cells,
@@ -946,6 +1086,12 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -975,137 +1121,180 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c25 := 1.0 / c24
 	tau_vel := c17 * c25
 	c26 := c17 * c22
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c27 := j00 * j11
+	j00 := x[2] - x[0]
+	c27 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c28 := j01 * j10
 	detJ := c27 - c28
-	c29 := -j10
-	c30 := -j01
-	c31 := j01 * j01
-	c32 := 0.01 * c31
-	c33 := j00 * j01
-	c34 := -c33
-	c35 := (-0.01) * c33
-	c36 := j00 * j00
-	c37 := 0.01 * c36
-	c38 := j11 * j11
-	c39 := j11 * j10
-	c40 := j10 * j10
-	c41 := 0.01 * c38
-	c42 := 0.25 * c38
-	c43 := (-0.01) * c39
-	c44 := c39 * (-0.25)
-	c45 := 0.01 * c40
-	c46 := 0.25 * c40
 	rdetJ := 1.0 / detJ
-	c47 := c32 + c41
-	c48 := rdetJ * c47
-	c49 := c38 * rdetJ
-	c50 := c42 * rdetJ
-	c51 := c35 + c43
-	c52 := rdetJ * c51
-	c53 := c39 * rdetJ
-	c54 := c44 * rdetJ
-	c55 := c37 + c45
-	c56 := rdetJ * c55
-	c57 := c40 * rdetJ
-	c58 := c46 * rdetJ
-	c59 := c49 * 0.5
-	c60 := c53 * (-0.5)
-	c61 := c57 * 0.5
-	c62 := c59 + c60 + c60 + c61
-	c63 := c50 * 0.5
-	c64 := c54 * 0.5
-	c65 := c58 * 0.5
-	c66 := c63 + c64 + c64 + c65
-	c67 := c49 * (-0.5)
-	c68 := c53 * 0.5
-	c69 := c67 + c68
-	c70 := c50 * (-0.5)
-	c71 := c54 * (-0.5)
-	c72 := c70 + c71
-	c73 := c57 * (-0.5)
-	c74 := c68 + c73
-	c75 := c58 * (-0.5)
-	c76 := c71 + c75
-	c77 := j11 * j01
-	c78 := (-0.25) * c77
-	c79 := 0.25 * c27
-	c80 := 0.25 * c28
-	c81 := j00 * j10
-	c82 := (-0.25) * c81
-	c83 := rdetJ * c78
-	c84 := rdetJ * c79
-	c85 := rdetJ * c80
-	c86 := rdetJ * c82
-	c87 := 0.5 * c83
-	c88 := 0.5 * c84
+	k00 := j11 * rdetJ
+	c29 := -j10
+	c30 := j10 * rdetJ
+	c31 := c30 - k00
+	c32 := rv[0] * c31
+	c33 := k00 * rv[2]
+	c34 := c30 * rv[4]
+	c35 := c32 + c32 + c33 + c33 - c34 - c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := -j01
+	c39 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c40 := c39 - k11
+	c41 := rv[1] * c40
+	c42 := c39 * rv[3]
+	c43 := k11 * rv[5]
+	c44 := c41 + c41 - c42 - c42 + c43 + c43
+	c45 := 0.5 * c44
+	c46 := tau_vel * c45
+	c47 := c31 * rv[6]
+	c48 := k00 * rv[8]
+	c49 := c30 * rv[10]
+	c50 := c47 + c47 + c48 + c48 - c49 - c49
+	c51 := 0.5 * c50
+	c52 := tau_vel * c51
+	c53 := c40 * rv[7]
+	c54 := c39 * rv[9]
+	c55 := k11 * rv[11]
+	c56 := c53 + c53 - c54 - c54 + c55 + c55
+	c57 := 0.5 * c56
+	c58 := tau_vel * c57
+	c59 := j01 * j01
+	c60 := 0.01 * c59
+	c61 := j00 * j01
+	c62 := -c61
+	c63 := c61 * (-0.01)
+	c64 := j00 * j00
+	c65 := 0.01 * c64
+	c66 := j11 * j11
+	c67 := j11 * j10
+	c68 := j10 * j10
+	c69 := 0.01 * c66
+	c70 := 0.25 * c66
+	c71 := (-0.01) * c67
+	c72 := c67 * (-0.25)
+	c73 := 0.01 * c68
+	c74 := 0.25 * c68
+	c75 := c60 + c69
+	c76 := rdetJ * c75
+	c77 := rdetJ * c66
+	c78 := rdetJ * c70
+	c79 := c63 + c71
+	c80 := rdetJ * c79
+	c81 := rdetJ * c67
+	c82 := rdetJ * c72
+	c83 := c65 + c73
+	c84 := rdetJ * c83
+	c85 := rdetJ * c68
+	c86 := rdetJ * c74
+	c87 := 0.5 * c77
+	c88 := c81 * (-0.5)
 	c89 := 0.5 * c85
-	c90 := 0.5 * c86
-	c91 := c87 + c88 + c89 + c90
-	c92 := (-0.5) * c83
-	c93 := (-0.5) * c85
-	c94 := c92 + c93
-	c95 := (-0.5) * c84
-	c96 := (-0.5) * c86
+	c90 := c87 + c88 + c88 + c89
+	c91 := 0.5 * c78
+	c92 := 0.5 * c82
+	c93 := 0.5 * c86
+	c94 := c91 + c92 + c92 + c93
+	c95 := c77 * (-0.5)
+	c96 := 0.5 * c81
 	c97 := c95 + c96
-	c98 := c92 + c95
-	c99 := c93 + c96
-	c100 := 0.25 * c31
-	c101 := c33 * (-0.25)
-	c102 := 0.25 * c36
-	c103 := rdetJ * c100
-	c104 := rdetJ * c101
-	c105 := rdetJ * c102
-	c106 := 0.5 * c103
-	c107 := 0.5 * c104
-	c108 := 0.5 * c105
-	c109 := c106 + c107 + c107 + c108
-	c110 := (-0.5) * c103
-	c111 := (-0.5) * c104
-	c112 := c110 + c111
-	c113 := (-0.5) * c105
-	c114 := c111 + c113
-	c115 := rdetJ * c77
-	c116 := c27 * rdetJ
-	c117 := c28 * rdetJ
-	c118 := rdetJ * c81
-	c119 := (-0.5) * c115
-	c120 := 0.5 * c116
-	c121 := 0.5 * c117
-	c122 := (-0.5) * c118
-	c123 := c119 + c120 + c121 + c122
-	c124 := 0.5 * c115
-	c125 := (-0.5) * c117
-	c126 := c124 + c125
-	c127 := (-0.5) * c116
-	c128 := 0.5 * c118
-	c129 := c127 + c128
-	c130 := c124 + c127
-	c131 := c125 + c128
-	c132 := c31 + c38
-	c133 := rdetJ * c132
-	c134 := c34 - c39
-	c135 := rdetJ * c134
-	c136 := c36 + c40
-	c137 := rdetJ * c136
-	c138 := 0.5 * c133
-	c139 := 0.5 * c135
-	c140 := 0.5 * c137
-	c141 := c138 + c139 + c139 + c140
-	c142 := (-0.5) * c133
-	c143 := (-0.5) * c135
-	c144 := c142 + c143
-	c145 := (-0.5) * c137
-	c146 := c143 + c145
+	c98 := c78 * (-0.5)
+	c99 := c82 * (-0.5)
+	c100 := c98 + c99
+	c101 := c85 * (-0.5)
+	c102 := c96 + c101
+	c103 := c86 * (-0.5)
+	c104 := c99 + c103
+	c105 := j11 * j01
+	c106 := (-0.25) * c105
+	c107 := 0.25 * c27
+	c108 := 0.25 * c28
+	c109 := j00 * j10
+	c110 := (-0.25) * c109
+	c111 := rdetJ * c106
+	c112 := rdetJ * c107
+	c113 := rdetJ * c108
+	c114 := rdetJ * c110
+	c115 := 0.5 * c111
+	c116 := 0.5 * c112
+	c117 := 0.5 * c113
+	c118 := 0.5 * c114
+	c119 := c115 + c116 + c117 + c118
+	c120 := (-0.5) * c111
+	c121 := (-0.5) * c113
+	c122 := c120 + c121
+	c123 := (-0.5) * c112
+	c124 := (-0.5) * c114
+	c125 := c123 + c124
+	c126 := c120 + c123
+	c127 := c121 + c124
+	c128 := 0.25 * c59
+	c129 := c61 * (-0.25)
+	c130 := 0.25 * c64
+	c131 := rdetJ * c128
+	c132 := rdetJ * c129
+	c133 := rdetJ * c130
+	c134 := 0.5 * c131
+	c135 := 0.5 * c132
+	c136 := 0.5 * c133
+	c137 := c134 + c135 + c135 + c136
+	c138 := (-0.5) * c131
+	c139 := (-0.5) * c132
+	c140 := c138 + c139
+	c141 := (-0.5) * c133
+	c142 := c139 + c141
+	c143 := rdetJ * c105
+	c144 := c27 * rdetJ
+	c145 := c28 * rdetJ
+	c146 := rdetJ * c109
+	c147 := (-0.5) * c143
+	c148 := 0.5 * c144
+	c149 := 0.5 * c145
+	c150 := (-0.5) * c146
+	c151 := c147 + c148 + c149 + c150
+	c152 := 0.5 * c143
+	c153 := (-0.5) * c145
+	c154 := c152 + c153
+	c155 := (-0.5) * c144
+	c156 := 0.5 * c146
+	c157 := c155 + c156
+	c158 := c152 + c155
+	c159 := c153 + c156
+	c160 := c59 + c66
+	c161 := rdetJ * c160
+	c162 := c62 - c67
+	c163 := rdetJ * c162
+	c164 := c64 + c68
+	c165 := rdetJ * c164
+	c166 := 0.5 * c161
+	c167 := 0.5 * c163
+	c168 := 0.5 * c165
+	c169 := c166 + c167 + c167 + c168
+	c170 := (-0.5) * c161
+	c171 := (-0.5) * c163
+	c172 := c170 + c171
+	c173 := (-0.5) * c165
+	c174 := c171 + c173
+	c175 := 0.01 * j11
+	c176 := j10 * (-0.01)
+	c177 := (-0.5) * c175
+	c178 := (-0.5) * c176
+	c179 := c177 + c178
+	c180 := 0.5 * c175
+	c181 := 0.5 * c176
+	c182 := j01 * (-0.01)
+	c183 := 0.01 * j00
+	c184 := (-0.5) * c182
+	c185 := (-0.5) * c183
+	c186 := c184 + c185
+	c187 := 0.5 * c182
+	c188 := 0.5 * c183
 	if !(detJ > 0) {
 		fwOseenFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1117,23 +1306,21 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  oseen.fw:12
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_vel[1]/∂x      oseen.fw:12
 	//	  τ_vel · ∂vel[1]/∂x · ∂v_vel[1]/∂x             oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_vel[1]/∂x      oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[1]/∂x · ∂²v_vel[1]/∂x²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  oseen.fw:12
 	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K                oseen.fw:18
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[1]/∂x               oseen.fw:18
-	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c66
-	A[1] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[2] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c72
-	A[10] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c63
-	A[11] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c76
-	A[19] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c64
-	A[20] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c65
+	A[0] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + tau_vel*c90 + c26*c94
+	A[1] = (1.0/6)*j11 + 0.5*(-c76-c80) + tau_vel*c97 + c26*c100
+	A[2] = (1.0/6)*c29 + 0.5*(-c80-c84) + tau_vel*c102 + c26*c104
+	A[9] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + tau_vel*c97 + c26*c100
+	A[10] = (1.0/6)*j11 + 0.5*c76 + tau_vel*c87 + c26*c91
+	A[11] = (1.0/6)*c29 + 0.5*c80 + tau_vel*c88 + c26*c92
+	A[18] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + tau_vel*c102 + c26*c104
+	A[19] = (1.0/6)*j11 + 0.5*c80 + tau_vel*c88 + c26*c92
+	A[20] = (1.0/6)*c29 + 0.5*c84 + tau_vel*c89 + c26*c93
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1143,29 +1330,29 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂x · ∂v_vel[1]/∂x        oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂x · ∂²v_vel[1]/∂x²  oseen.fw:12
-	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[7] = (1.0/6)*j11 + tau_vel*c69
-	A[8] = (1.0/6)*c29 + tau_vel*c74
-	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[16] = (1.0/6)*j11 + tau_vel*c59
-	A[17] = (1.0/6)*c29 + tau_vel*c60
-	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[25] = (1.0/6)*j11 + tau_vel*c60
-	A[26] = (1.0/6)*c29 + tau_vel*c61
+	A[6] = (1.0/6)*(-j11-c29) + tau_vel*c90
+	A[7] = (1.0/6)*j11 + tau_vel*c97
+	A[8] = (1.0/6)*c29 + tau_vel*c102
+	A[15] = (1.0/6)*(-j11-c29) + tau_vel*c97
+	A[16] = (1.0/6)*j11 + tau_vel*c87
+	A[17] = (1.0/6)*c29 + tau_vel*c88
+	A[24] = (1.0/6)*(-j11-c29) + tau_vel*c102
+	A[25] = (1.0/6)*j11 + tau_vel*c88
+	A[26] = (1.0/6)*c29 + tau_vel*c89
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
 	//	  τ_p · ∂vel[2]/∂y · ∂v_vel[1]/∂x  oseen.fw:18
-	A[3] = c26 * c91
-	A[4] = c26 * c94
-	A[5] = c26 * c97
-	A[12] = c26 * c98
-	A[13] = c26 * c87
-	A[14] = c26 * c88
-	A[21] = c26 * c99
-	A[22] = c26 * c89
-	A[23] = c26 * c90
+	A[3] = c26 * c119
+	A[4] = c26 * c122
+	A[5] = c26 * c125
+	A[12] = c26 * c126
+	A[13] = c26 * c115
+	A[14] = c26 * c116
+	A[21] = c26 * c127
+	A[22] = c26 * c117
+	A[23] = c26 * c118
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1179,21 +1366,19 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂y²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  oseen.fw:12
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_vel[2]/∂x      oseen.fw:12
 	//	  τ_vel · ∂vel[2]/∂x · ∂v_vel[2]/∂x             oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_vel[2]/∂x      oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  oseen.fw:12
 	//	  τ_vel/100 · ∂vel[2]/∂x · ∂²v_vel[2]/∂x²       oseen.fw:12
 	//	  −τ_vel/10000 · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  oseen.fw:12
-	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c48+c56) + c52 + tau_vel*c62 + c26*c109
-	A[31] = (1.0/6)*j11 + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[32] = (1.0/6)*c29 + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c48-c52) + tau_vel*c69 + c26*c112
-	A[40] = (1.0/6)*j11 + 0.5*c48 + tau_vel*c59 + c26*c106
-	A[41] = (1.0/6)*c29 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c52-c56) + tau_vel*c74 + c26*c114
-	A[49] = (1.0/6)*j11 + 0.5*c52 + tau_vel*c60 + c26*c107
-	A[50] = (1.0/6)*c29 + 0.5*c56 + tau_vel*c61 + c26*c108
+	A[30] = (1.0/6)*(-j11-c29) + 0.5*(c76+c84) + c80 + tau_vel*c90 + c26*c137
+	A[31] = (1.0/6)*j11 + 0.5*(-c76-c80) + tau_vel*c97 + c26*c140
+	A[32] = (1.0/6)*c29 + 0.5*(-c80-c84) + tau_vel*c102 + c26*c142
+	A[39] = (1.0/6)*(-j11-c29) + 0.5*(-c76-c80) + tau_vel*c97 + c26*c140
+	A[40] = (1.0/6)*j11 + 0.5*c76 + tau_vel*c87 + c26*c134
+	A[41] = (1.0/6)*c29 + 0.5*c80 + tau_vel*c88 + c26*c135
+	A[48] = (1.0/6)*(-j11-c29) + 0.5*(-c80-c84) + tau_vel*c102 + c26*c142
+	A[49] = (1.0/6)*j11 + 0.5*c80 + tau_vel*c88 + c26*c135
+	A[50] = (1.0/6)*c29 + 0.5*c84 + tau_vel*c89 + c26*c136
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1203,80 +1388,105 @@ func (OseenVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂y²  oseen.fw:12
 	//	  τ_vel · ∂p/∂y · ∂v_vel[2]/∂x        oseen.fw:17
 	//	  τ_vel/100 · ∂p/∂y · ∂²v_vel[2]/∂x²  oseen.fw:12
-	A[33] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[34] = (1.0/6)*c30 + tau_vel*c126
-	A[35] = (1.0/6)*j00 + tau_vel*c129
-	A[42] = (1.0/6)*(-c30-j00) + tau_vel*c130
-	A[43] = (1.0/6)*c30 + tau_vel*c119
-	A[44] = (1.0/6)*j00 + tau_vel*c120
-	A[51] = (1.0/6)*(-c30-j00) + tau_vel*c131
-	A[52] = (1.0/6)*c30 + tau_vel*c121
-	A[53] = (1.0/6)*j00 + tau_vel*c122
+	A[33] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[34] = (1.0/6)*c38 + tau_vel*c154
+	A[35] = (1.0/6)*j00 + tau_vel*c157
+	A[42] = (1.0/6)*(-c38-j00) + tau_vel*c158
+	A[43] = (1.0/6)*c38 + tau_vel*c147
+	A[44] = (1.0/6)*j00 + tau_vel*c148
+	A[51] = (1.0/6)*(-c38-j00) + tau_vel*c159
+	A[52] = (1.0/6)*c38 + tau_vel*c149
+	A[53] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_p R_p, −∇·v_vel)_K   oseen.fw:18
 	//	  τ_p · ∂vel[1]/∂x · ∂v_vel[2]/∂y  oseen.fw:18
-	A[27] = c26 * c91
-	A[28] = c26 * c98
-	A[29] = c26 * c99
-	A[36] = c26 * c94
-	A[37] = c26 * c87
-	A[38] = c26 * c89
-	A[45] = c26 * c97
-	A[46] = c26 * c88
-	A[47] = c26 * c90
+	A[27] = c26 * c119
+	A[28] = c26 * c126
+	A[29] = c26 * c127
+	A[36] = c26 * c122
+	A[37] = c26 * c115
+	A[38] = c26 * c117
+	A[45] = c26 * c125
+	A[46] = c26 * c116
+	A[47] = c26 * c118
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                     oseen.fw:12
+	//	  ∂vel[1]/∂x · v_p              oseen.fw:12
 	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂y² · ∂v_p/∂x  oseen.fw:12
-	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[1]/∂x² · ∂v_p/∂x  oseen.fw:12
-	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c62
-	A[55] = (1.0/6)*j11 + tau_vel*c69
-	A[56] = (1.0/6)*c29 + tau_vel*c74
-	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c69
-	A[64] = (1.0/6)*j11 + tau_vel*c59
-	A[65] = (1.0/6)*c29 + tau_vel*c60
-	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c74
-	A[73] = (1.0/6)*j11 + tau_vel*c60
-	A[74] = (1.0/6)*c29 + tau_vel*c61
+	//	  τ_vel · ∂vel[1]/∂x · ∂v_p/∂x  oseen.fw:17
+	A[54] = (1.0/6)*(-j11-c29) + tau_vel*c90
+	A[55] = (1.0/6)*j11 + tau_vel*c97
+	A[56] = (1.0/6)*c29 + tau_vel*c102
+	A[63] = (1.0/6)*(-j11-c29) + tau_vel*c97
+	A[64] = (1.0/6)*j11 + tau_vel*c87
+	A[65] = (1.0/6)*c29 + tau_vel*c88
+	A[72] = (1.0/6)*(-j11-c29) + tau_vel*c102
+	A[73] = (1.0/6)*j11 + tau_vel*c88
+	A[74] = (1.0/6)*c29 + tau_vel*c89
 	// Rows 6..8, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + (∇vel·b)·v_vel + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                     oseen.fw:12
+	//	  ∂vel[2]/∂y · v_p              oseen.fw:12
 	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂y² · ∂v_p/∂y  oseen.fw:12
-	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y         oseen.fw:17
-	//	  −τ_vel/100 · ∂²vel[2]/∂x² · ∂v_p/∂y  oseen.fw:12
-	A[57] = (1.0/6)*(-c30-j00) + tau_vel*c123
-	A[58] = (1.0/6)*c30 + tau_vel*c130
-	A[59] = (1.0/6)*j00 + tau_vel*c131
-	A[66] = (1.0/6)*(-c30-j00) + tau_vel*c126
-	A[67] = (1.0/6)*c30 + tau_vel*c119
-	A[68] = (1.0/6)*j00 + tau_vel*c121
-	A[75] = (1.0/6)*(-c30-j00) + tau_vel*c129
-	A[76] = (1.0/6)*c30 + tau_vel*c120
-	A[77] = (1.0/6)*j00 + tau_vel*c122
+	//	  τ_vel · ∂vel[2]/∂x · ∂v_p/∂y  oseen.fw:17
+	A[57] = (1.0/6)*(-c38-j00) + tau_vel*c151
+	A[58] = (1.0/6)*c38 + tau_vel*c158
+	A[59] = (1.0/6)*j00 + tau_vel*c159
+	A[66] = (1.0/6)*(-c38-j00) + tau_vel*c154
+	A[67] = (1.0/6)*c38 + tau_vel*c147
+	A[68] = (1.0/6)*j00 + tau_vel*c149
+	A[75] = (1.0/6)*(-c38-j00) + tau_vel*c157
+	A[76] = (1.0/6)*c38 + tau_vel*c148
+	A[77] = (1.0/6)*j00 + tau_vel*c150
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  oseen.fw:17
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  oseen.fw:17
-	A[60] = tau_vel * c141
-	A[61] = tau_vel * c144
-	A[62] = tau_vel * c146
-	A[69] = tau_vel * c144
-	A[70] = tau_vel * c138
-	A[71] = tau_vel * c139
-	A[78] = tau_vel * c146
-	A[79] = tau_vel * c139
-	A[80] = tau_vel * c140
+	A[60] = tau_vel * c169
+	A[61] = tau_vel * c172
+	A[62] = tau_vel * c174
+	A[69] = tau_vel * c172
+	A[70] = tau_vel * c166
+	A[71] = tau_vel * c167
+	A[78] = tau_vel * c174
+	A[79] = tau_vel * c167
+	A[80] = tau_vel * c168
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_vel[1]/∂x  oseen.fw:12
+	b[0] = c37*c179 + c46*c179
+	b[1] = c37*c180 + c46*c180
+	b[2] = c37*c181 + c46*c181
+	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_vel[2]/∂x  oseen.fw:12
+	b[3] = c52*c179 + c58*c179
+	b[4] = c52*c180 + c58*c180
+	b[5] = c52*c181 + c58*c181
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_vel·b − ∇v_p)_K  oseen.fw:17
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y²/100 · ∂v_p/∂y  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x²/100 · ∂v_p/∂x  oseen.fw:12
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y²/100 · ∂v_p/∂x  oseen.fw:12
+	b[6] = c37*c179 + c46*c179 + c52*c186 + c58*c186
+	b[7] = c37*c180 + c46*c180 + c52*c187 + c58*c187
+	b[8] = c37*c181 + c46*c181 + c52*c188 + c58*c188
 }
 
 // fwOseenFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

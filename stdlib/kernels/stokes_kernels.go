@@ -21,7 +21,7 @@ func init() {
 			return StokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("b17ca2ddc01e8be0592d2e4748a8143c", compiled.Kernels{
+	compiled.Register("2bd28740a91b73c33888b0dc8f28ddb3", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return StokesSUPGKernel{}
 		},
 	})
-	compiled.Register("e1036fd323386bfe65b95e3d87e99e2f", compiled.Kernels{
+	compiled.Register("d678d162113a2e3a06b9c6f95254e272", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return StokesGLSKernel{}
 		},
 	})
-	compiled.Register("6cf13d93635d3f5155c0b7916164abe6", compiled.Kernels{
+	compiled.Register("df95a62ea4be75934e5dc84ed8da481d", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -227,6 +227,12 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -245,74 +251,120 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	j00 := x[2] - x[0]
+	tau_vel := 0.25 * c17
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := j00 * j01
-	c24 := j00 * j00
-	c25 := j11 * j11
-	c26 := 2.0 * c25
-	c27 := j11 * j10
-	c28 := c27 * (-2.0)
-	c29 := j10 * j10
-	c30 := 2.0 * c29
 	rdetJ := 1.0 / detJ
-	c31 := c22 + c26
-	c32 := rdetJ * c31
-	c33 := c28 - c23
-	c34 := rdetJ * c33
-	c35 := c24 + c30
-	c36 := rdetJ * c35
-	c37 := j11 * j01
-	c38 := j00 * j10
-	c39 := rdetJ * c37
-	c40 := -c39
-	c41 := c18 * rdetJ
-	c42 := c19 * rdetJ
-	c43 := rdetJ * c38
-	c44 := -c43
-	c45 := 2.0 * c22
-	c46 := c23 * (-2.0)
-	c47 := 2.0 * c24
-	c48 := c25 + c45
-	c49 := rdetJ * c48
-	c50 := c46 - c27
-	c51 := rdetJ * c50
-	c52 := c29 + c47
-	c53 := rdetJ * c52
-	c54 := 0.25 * c22
-	c55 := c23 * (-0.25)
-	c56 := 0.25 * c24
-	c57 := 0.25 * c25
-	c58 := c27 * (-0.25)
-	c59 := 0.25 * c29
-	c60 := c54 + c57
-	c61 := rdetJ * c60
-	c62 := c55 + c58
-	c63 := rdetJ * c62
-	c64 := c56 + c59
-	c65 := rdetJ * c64
-	c66 := c61 * 0.5
-	c67 := c63 * 0.5
-	c68 := c65 * 0.5
-	c69 := c66 + c67 + c67 + c68
-	c70 := c61 * (-0.5)
-	c71 := c63 * (-0.5)
-	c72 := c70 + c71
-	c73 := c65 * (-0.5)
-	c74 := c71 + c73
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := j00 * j01
+	c52 := j00 * j00
+	c53 := j11 * j11
+	c54 := 2.0 * c53
+	c55 := j11 * j10
+	c56 := c55 * (-2.0)
+	c57 := j10 * j10
+	c58 := 2.0 * c57
+	c59 := c50 + c54
+	c60 := rdetJ * c59
+	c61 := c56 - c51
+	c62 := rdetJ * c61
+	c63 := c52 + c58
+	c64 := rdetJ * c63
+	c65 := j11 * j01
+	c66 := j00 * j10
+	c67 := rdetJ * c65
+	c68 := -c67
+	c69 := c18 * rdetJ
+	c70 := c19 * rdetJ
+	c71 := rdetJ * c66
+	c72 := -c71
+	c73 := 2.0 * c50
+	c74 := c51 * (-2.0)
+	c75 := 2.0 * c52
+	c76 := c53 + c73
+	c77 := rdetJ * c76
+	c78 := c74 - c55
+	c79 := rdetJ * c78
+	c80 := c57 + c75
+	c81 := rdetJ * c80
+	c82 := 0.25 * c50
+	c83 := c51 * (-0.25)
+	c84 := 0.25 * c52
+	c85 := 0.25 * c53
+	c86 := c55 * (-0.25)
+	c87 := 0.25 * c57
+	c88 := c82 + c85
+	c89 := rdetJ * c88
+	c90 := c83 + c86
+	c91 := rdetJ * c90
+	c92 := c84 + c87
+	c93 := rdetJ * c92
+	c94 := 0.5 * c89
+	c95 := 0.5 * c91
+	c96 := 0.5 * c93
+	c97 := c94 + c95 + c95 + c96
+	c98 := c89 * (-0.5)
+	c99 := c91 * (-0.5)
+	c100 := c98 + c99
+	c101 := c93 * (-0.5)
+	c102 := c99 + c101
+	c103 := j01 * 0.5
+	c104 := j00 * (-0.5)
+	c105 := c103 + c104
+	c106 := j11 * (-0.5)
+	c107 := j10 * 0.5
+	c108 := c106 + c107
+	c109 := j01 * (-0.5)
+	c110 := j11 * 0.5
+	c111 := j00 * 0.5
+	c112 := j10 * (-0.5)
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	clear(b)
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
+	b[3] = 0
+	b[4] = 0
+	b[5] = 0
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -333,80 +385,77 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂y · ∂v_vel[1]/∂y      stokes.fw:11
 	//	  2 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  stokes.fw:11
-	A[0] = 0.5*(c32+c36) + c34
-	A[1] = 0.5 * (-c32 - c34)
-	A[2] = 0.5 * (-c34 - c36)
-	A[9] = 0.5 * (-c32 - c34)
-	A[10] = 0.5 * c32
-	A[11] = 0.5 * c34
-	A[18] = 0.5 * (-c34 - c36)
-	A[19] = 0.5 * c34
-	A[20] = 0.5 * c36
+	A[0] = 0.5*(c60+c64) + c62
+	A[1] = 0.5 * (-c60 - c62)
+	A[2] = 0.5 * (-c62 - c64)
+	A[9] = 0.5 * (-c60 - c62)
+	A[10] = 0.5 * c60
+	A[11] = 0.5 * c62
+	A[18] = 0.5 * (-c62 - c64)
+	A[19] = 0.5 * c62
+	A[20] = 0.5 * c64
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
-	A[3] = 0.5 * (c40 + c41 + c42 + c44)
-	A[4] = 0.5 * (-c40 - c42)
-	A[5] = 0.5 * (-c41 - c44)
-	A[12] = 0.5 * (-c40 - c41)
-	A[13] = 0.5 * c40
-	A[14] = 0.5 * c41
-	A[21] = 0.5 * (-c42 - c44)
-	A[22] = 0.5 * c42
-	A[23] = 0.5 * c44
+	A[3] = 0.5 * (c68 + c69 + c70 + c72)
+	A[4] = 0.5 * (-c68 - c70)
+	A[5] = 0.5 * (-c69 - c72)
+	A[12] = 0.5 * (-c68 - c69)
+	A[13] = 0.5 * c68
+	A[14] = 0.5 * c69
+	A[21] = 0.5 * (-c70 - c72)
+	A[22] = 0.5 * c70
+	A[23] = 0.5 * c72
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  stokes.fw:11
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
-	A[27] = 0.5 * (c40 + c42 + c41 + c44)
-	A[28] = 0.5 * (-c40 - c41)
-	A[29] = 0.5 * (-c42 - c44)
-	A[36] = 0.5 * (-c40 - c42)
-	A[37] = 0.5 * c40
-	A[38] = 0.5 * c42
-	A[45] = 0.5 * (-c41 - c44)
-	A[46] = 0.5 * c41
-	A[47] = 0.5 * c44
+	A[27] = 0.5 * (c68 + c70 + c69 + c72)
+	A[28] = 0.5 * (-c68 - c69)
+	A[29] = 0.5 * (-c70 - c72)
+	A[36] = 0.5 * (-c68 - c70)
+	A[37] = 0.5 * c68
+	A[38] = 0.5 * c70
+	A[45] = 0.5 * (-c69 - c72)
+	A[46] = 0.5 * c69
+	A[47] = 0.5 * c72
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  2 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  stokes.fw:11
 	//	  ∂vel[2]/∂x · ∂v_vel[2]/∂x      stokes.fw:11
-	A[30] = 0.5*(c49+c53) + c51
-	A[31] = 0.5 * (-c49 - c51)
-	A[32] = 0.5 * (-c51 - c53)
-	A[39] = 0.5 * (-c49 - c51)
-	A[40] = 0.5 * c49
-	A[41] = 0.5 * c51
-	A[48] = 0.5 * (-c51 - c53)
-	A[49] = 0.5 * c51
-	A[50] = 0.5 * c53
+	A[30] = 0.5*(c77+c81) + c79
+	A[31] = 0.5 * (-c77 - c79)
+	A[32] = 0.5 * (-c79 - c81)
+	A[39] = 0.5 * (-c77 - c79)
+	A[40] = 0.5 * c77
+	A[41] = 0.5 * c79
+	A[48] = 0.5 * (-c79 - c81)
+	A[49] = 0.5 * c79
+	A[50] = 0.5 * c81
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
-	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -420,18 +469,15 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
-	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -439,15 +485,26 @@ func (StokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
-	A[60] = c17 * c69
-	A[61] = c17 * c72
-	A[62] = c17 * c74
-	A[69] = c17 * c72
-	A[70] = c17 * c66
-	A[71] = c17 * c67
-	A[78] = c17 * c74
-	A[79] = c17 * c67
-	A[80] = c17 * c68
+	A[60] = c17 * c97
+	A[61] = c17 * c100
+	A[62] = c17 * c102
+	A[69] = c17 * c100
+	A[70] = c17 * c94
+	A[71] = c17 * c95
+	A[78] = c17 * c102
+	A[79] = c17 * c95
+	A[80] = c17 * c96
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K    stokes.fw:16
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	b[6] = c28*c105 + c37*c105 + c43*c108 + c49*c108
+	b[7] = c28*c109 + c37*c109 + c43*c110 + c49*c110
+	b[8] = c28*c111 + c37*c111 + c43*c112 + c49*c112
 }
 
 // fwStokesGLSLayout is the element layout of the gls kernels: triangle cells,
@@ -481,6 +538,12 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -499,74 +562,120 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	j00 := x[2] - x[0]
+	tau_vel := 0.25 * c17
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := j00 * j01
-	c24 := j00 * j00
-	c25 := j11 * j11
-	c26 := j11 * j10
-	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	c28 := 2.0 * c25
-	c29 := c26 * (-2.0)
-	c30 := 2.0 * c27
-	c31 := c22 + c28
-	c32 := rdetJ * c31
-	c33 := c29 - c23
-	c34 := rdetJ * c33
-	c35 := c24 + c30
-	c36 := rdetJ * c35
-	c37 := j11 * j01
-	c38 := j00 * j10
-	c39 := rdetJ * c37
-	c40 := -c39
-	c41 := c18 * rdetJ
-	c42 := c19 * rdetJ
-	c43 := rdetJ * c38
-	c44 := -c43
-	c45 := 2.0 * c22
-	c46 := c23 * (-2.0)
-	c47 := 2.0 * c24
-	c48 := c25 + c45
-	c49 := rdetJ * c48
-	c50 := c46 - c26
-	c51 := rdetJ * c50
-	c52 := c27 + c47
-	c53 := rdetJ * c52
-	c54 := 0.25 * c22
-	c55 := c23 * (-0.25)
-	c56 := 0.25 * c24
-	c57 := 0.25 * c25
-	c58 := (-0.25) * c26
-	c59 := 0.25 * c27
-	c60 := c54 + c57
-	c61 := rdetJ * c60
-	c62 := c55 + c58
-	c63 := rdetJ * c62
-	c64 := c56 + c59
-	c65 := rdetJ * c64
-	c66 := c61 * 0.5
-	c67 := c63 * 0.5
-	c68 := c65 * 0.5
-	c69 := c66 + c67 + c67 + c68
-	c70 := c61 * (-0.5)
-	c71 := c63 * (-0.5)
-	c72 := c70 + c71
-	c73 := c65 * (-0.5)
-	c74 := c71 + c73
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := j00 * j01
+	c52 := j00 * j00
+	c53 := j11 * j11
+	c54 := j11 * j10
+	c55 := j10 * j10
+	c56 := 2.0 * c53
+	c57 := c54 * (-2.0)
+	c58 := 2.0 * c55
+	c59 := c50 + c56
+	c60 := rdetJ * c59
+	c61 := c57 - c51
+	c62 := rdetJ * c61
+	c63 := c52 + c58
+	c64 := rdetJ * c63
+	c65 := j11 * j01
+	c66 := j00 * j10
+	c67 := rdetJ * c65
+	c68 := -c67
+	c69 := c18 * rdetJ
+	c70 := c19 * rdetJ
+	c71 := rdetJ * c66
+	c72 := -c71
+	c73 := 2.0 * c50
+	c74 := c51 * (-2.0)
+	c75 := 2.0 * c52
+	c76 := c53 + c73
+	c77 := rdetJ * c76
+	c78 := c74 - c54
+	c79 := rdetJ * c78
+	c80 := c55 + c75
+	c81 := rdetJ * c80
+	c82 := 0.25 * c50
+	c83 := c51 * (-0.25)
+	c84 := 0.25 * c52
+	c85 := 0.25 * c53
+	c86 := (-0.25) * c54
+	c87 := 0.25 * c55
+	c88 := c82 + c85
+	c89 := rdetJ * c88
+	c90 := c83 + c86
+	c91 := rdetJ * c90
+	c92 := c84 + c87
+	c93 := rdetJ * c92
+	c94 := 0.5 * c89
+	c95 := 0.5 * c91
+	c96 := 0.5 * c93
+	c97 := c94 + c95 + c95 + c96
+	c98 := c89 * (-0.5)
+	c99 := c91 * (-0.5)
+	c100 := c98 + c99
+	c101 := c93 * (-0.5)
+	c102 := c99 + c101
+	c103 := j01 * 0.5
+	c104 := j00 * (-0.5)
+	c105 := c103 + c104
+	c106 := j11 * (-0.5)
+	c107 := j10 * 0.5
+	c108 := c106 + c107
+	c109 := j01 * (-0.5)
+	c110 := j11 * 0.5
+	c111 := j00 * 0.5
+	c112 := j10 * (-0.5)
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	clear(b)
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
+	b[3] = 0
+	b[4] = 0
+	b[5] = 0
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -595,29 +704,29 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:16
 	//	  τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  stokes.fw:16
-	A[0] = 0.5*(c32+c36) + c34
-	A[1] = 0.5 * (-c32 - c34)
-	A[2] = 0.5 * (-c34 - c36)
-	A[9] = 0.5 * (-c32 - c34)
-	A[10] = 0.5 * c32
-	A[11] = 0.5 * c34
-	A[18] = 0.5 * (-c34 - c36)
-	A[19] = 0.5 * c34
-	A[20] = 0.5 * c36
+	A[0] = 0.5*(c60+c64) + c62
+	A[1] = 0.5 * (-c60 - c62)
+	A[2] = 0.5 * (-c62 - c64)
+	A[9] = 0.5 * (-c60 - c62)
+	A[10] = 0.5 * c60
+	A[11] = 0.5 * c62
+	A[18] = 0.5 * (-c62 - c64)
+	A[19] = 0.5 * c62
+	A[20] = 0.5 * c64
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
-	A[3] = 0.5 * (c40 + c41 + c42 + c44)
-	A[4] = 0.5 * (-c40 - c42)
-	A[5] = 0.5 * (-c41 - c44)
-	A[12] = 0.5 * (-c40 - c41)
-	A[13] = 0.5 * c40
-	A[14] = 0.5 * c41
-	A[21] = 0.5 * (-c42 - c44)
-	A[22] = 0.5 * c42
-	A[23] = 0.5 * c44
+	A[3] = 0.5 * (c68 + c69 + c70 + c72)
+	A[4] = 0.5 * (-c68 - c70)
+	A[5] = 0.5 * (-c69 - c72)
+	A[12] = 0.5 * (-c68 - c69)
+	A[13] = 0.5 * c68
+	A[14] = 0.5 * c69
+	A[21] = 0.5 * (-c70 - c72)
+	A[22] = 0.5 * c70
+	A[23] = 0.5 * c72
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -626,29 +735,29 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:11
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
-	A[27] = 0.5 * (c40 + c42 + c41 + c44)
-	A[28] = 0.5 * (-c40 - c41)
-	A[29] = 0.5 * (-c42 - c44)
-	A[36] = 0.5 * (-c40 - c42)
-	A[37] = 0.5 * c40
-	A[38] = 0.5 * c42
-	A[45] = 0.5 * (-c41 - c44)
-	A[46] = 0.5 * c41
-	A[47] = 0.5 * c44
+	A[27] = 0.5 * (c68 + c70 + c69 + c72)
+	A[28] = 0.5 * (-c68 - c69)
+	A[29] = 0.5 * (-c70 - c72)
+	A[36] = 0.5 * (-c68 - c70)
+	A[37] = 0.5 * c68
+	A[38] = 0.5 * c70
+	A[45] = 0.5 * (-c69 - c72)
+	A[46] = 0.5 * c69
+	A[47] = 0.5 * c72
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -660,23 +769,20 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:16
 	//	  τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  stokes.fw:16
-	A[30] = 0.5*(c49+c53) + c51
-	A[31] = 0.5 * (-c49 - c51)
-	A[32] = 0.5 * (-c51 - c53)
-	A[39] = 0.5 * (-c49 - c51)
-	A[40] = 0.5 * c49
-	A[41] = 0.5 * c51
-	A[48] = 0.5 * (-c51 - c53)
-	A[49] = 0.5 * c51
-	A[50] = 0.5 * c53
+	A[30] = 0.5*(c77+c81) + c79
+	A[31] = 0.5 * (-c77 - c79)
+	A[32] = 0.5 * (-c79 - c81)
+	A[39] = 0.5 * (-c77 - c79)
+	A[40] = 0.5 * c77
+	A[41] = 0.5 * c79
+	A[48] = 0.5 * (-c79 - c81)
+	A[49] = 0.5 * c79
+	A[50] = 0.5 * c81
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
-	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -690,18 +796,15 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
-	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -709,15 +812,26 @@ func (StokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
-	A[60] = c17 * c69
-	A[61] = c17 * c72
-	A[62] = c17 * c74
-	A[69] = c17 * c72
-	A[70] = c17 * c66
-	A[71] = c17 * c67
-	A[78] = c17 * c74
-	A[79] = c17 * c67
-	A[80] = c17 * c68
+	A[60] = c17 * c97
+	A[61] = c17 * c100
+	A[62] = c17 * c102
+	A[69] = c17 * c100
+	A[70] = c17 * c94
+	A[71] = c17 * c95
+	A[78] = c17 * c102
+	A[79] = c17 * c95
+	A[80] = c17 * c96
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_vel R_vel, −ν Δv_vel + ∇v_p)_K  stokes.fw:16
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	b[6] = c28*c105 + c37*c105 + c43*c108 + c49*c108
+	b[7] = c28*c109 + c37*c109 + c43*c110 + c49*c110
+	b[8] = c28*c111 + c37*c111 + c43*c112 + c49*c112
 }
 
 // fwStokesVMSLayout is the element layout of the vms kernels: triangle cells,
@@ -751,6 +865,12 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -769,74 +889,120 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c15 := c14 * c14
 	c16 := c13 + c15
 	c17 := max(c11, c16)
-	j00 := x[2] - x[0]
+	tau_vel := 0.25 * c17
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := j00 * j01
-	c24 := j00 * j00
-	c25 := j11 * j11
-	c26 := j11 * j10
-	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	c28 := 2.0 * c25
-	c29 := c26 * (-2.0)
-	c30 := 2.0 * c27
-	c31 := c22 + c28
-	c32 := rdetJ * c31
-	c33 := c29 - c23
-	c34 := rdetJ * c33
-	c35 := c24 + c30
-	c36 := rdetJ * c35
-	c37 := j11 * j01
-	c38 := j00 * j10
-	c39 := rdetJ * c37
-	c40 := -c39
-	c41 := c18 * rdetJ
-	c42 := c19 * rdetJ
-	c43 := rdetJ * c38
-	c44 := -c43
-	c45 := 2.0 * c22
-	c46 := c23 * (-2.0)
-	c47 := 2.0 * c24
-	c48 := c25 + c45
-	c49 := rdetJ * c48
-	c50 := c46 - c26
-	c51 := rdetJ * c50
-	c52 := c27 + c47
-	c53 := rdetJ * c52
-	c54 := 0.25 * c22
-	c55 := c23 * (-0.25)
-	c56 := 0.25 * c24
-	c57 := 0.25 * c25
-	c58 := (-0.25) * c26
-	c59 := 0.25 * c27
-	c60 := c54 + c57
-	c61 := rdetJ * c60
-	c62 := c55 + c58
-	c63 := rdetJ * c62
-	c64 := c56 + c59
-	c65 := rdetJ * c64
-	c66 := c61 * 0.5
-	c67 := c63 * 0.5
-	c68 := c65 * 0.5
-	c69 := c66 + c67 + c67 + c68
-	c70 := c61 * (-0.5)
-	c71 := c63 * (-0.5)
-	c72 := c70 + c71
-	c73 := c65 * (-0.5)
-	c74 := c71 + c73
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := j00 * j01
+	c52 := j00 * j00
+	c53 := j11 * j11
+	c54 := j11 * j10
+	c55 := j10 * j10
+	c56 := 2.0 * c53
+	c57 := c54 * (-2.0)
+	c58 := 2.0 * c55
+	c59 := c50 + c56
+	c60 := rdetJ * c59
+	c61 := c57 - c51
+	c62 := rdetJ * c61
+	c63 := c52 + c58
+	c64 := rdetJ * c63
+	c65 := j11 * j01
+	c66 := j00 * j10
+	c67 := rdetJ * c65
+	c68 := -c67
+	c69 := c18 * rdetJ
+	c70 := c19 * rdetJ
+	c71 := rdetJ * c66
+	c72 := -c71
+	c73 := 2.0 * c50
+	c74 := c51 * (-2.0)
+	c75 := 2.0 * c52
+	c76 := c53 + c73
+	c77 := rdetJ * c76
+	c78 := c74 - c54
+	c79 := rdetJ * c78
+	c80 := c55 + c75
+	c81 := rdetJ * c80
+	c82 := 0.25 * c50
+	c83 := c51 * (-0.25)
+	c84 := 0.25 * c52
+	c85 := 0.25 * c53
+	c86 := (-0.25) * c54
+	c87 := 0.25 * c55
+	c88 := c82 + c85
+	c89 := rdetJ * c88
+	c90 := c83 + c86
+	c91 := rdetJ * c90
+	c92 := c84 + c87
+	c93 := rdetJ * c92
+	c94 := 0.5 * c89
+	c95 := 0.5 * c91
+	c96 := 0.5 * c93
+	c97 := c94 + c95 + c95 + c96
+	c98 := c89 * (-0.5)
+	c99 := c91 * (-0.5)
+	c100 := c98 + c99
+	c101 := c93 * (-0.5)
+	c102 := c99 + c101
+	c103 := j01 * 0.5
+	c104 := j00 * (-0.5)
+	c105 := c103 + c104
+	c106 := j11 * (-0.5)
+	c107 := j10 * 0.5
+	c108 := c106 + c107
+	c109 := j01 * (-0.5)
+	c110 := j11 * 0.5
+	c111 := j00 * 0.5
+	c112 := j10 * (-0.5)
 	if !(detJ > 0) {
 		fwStokesFillNaN(A, b)
 		return
 	}
-	clear(b)
+	b[0] = 0
+	b[1] = 0
+	b[2] = 0
+	b[3] = 0
+	b[4] = 0
+	b[5] = 0
 	// Rows 0..2, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -865,29 +1031,29 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  stokes.fw:11
-	A[0] = 0.5*(c32+c36) + c34
-	A[1] = 0.5 * (-c32 - c34)
-	A[2] = 0.5 * (-c34 - c36)
-	A[9] = 0.5 * (-c32 - c34)
-	A[10] = 0.5 * c32
-	A[11] = 0.5 * c34
-	A[18] = 0.5 * (-c34 - c36)
-	A[19] = 0.5 * c34
-	A[20] = 0.5 * c36
+	A[0] = 0.5*(c60+c64) + c62
+	A[1] = 0.5 * (-c60 - c62)
+	A[2] = 0.5 * (-c62 - c64)
+	A[9] = 0.5 * (-c60 - c62)
+	A[10] = 0.5 * c60
+	A[11] = 0.5 * c62
+	A[18] = 0.5 * (-c62 - c64)
+	A[19] = 0.5 * c62
+	A[20] = 0.5 * c64
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[2]/∂y · ∂v_vel[1]/∂x  stokes.fw:11
-	A[3] = 0.5 * (c40 + c41 + c42 + c44)
-	A[4] = 0.5 * (-c40 - c42)
-	A[5] = 0.5 * (-c41 - c44)
-	A[12] = 0.5 * (-c40 - c41)
-	A[13] = 0.5 * c40
-	A[14] = 0.5 * c41
-	A[21] = 0.5 * (-c42 - c44)
-	A[22] = 0.5 * c42
-	A[23] = 0.5 * c44
+	A[3] = 0.5 * (c68 + c69 + c70 + c72)
+	A[4] = 0.5 * (-c68 - c70)
+	A[5] = 0.5 * (-c69 - c72)
+	A[12] = 0.5 * (-c68 - c69)
+	A[13] = 0.5 * c68
+	A[14] = 0.5 * c69
+	A[21] = 0.5 * (-c70 - c72)
+	A[22] = 0.5 * c70
+	A[23] = 0.5 * c72
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -896,29 +1062,29 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  stokes.fw:16
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
 	//	  ∂vel[1]/∂x · ∂v_vel[2]/∂y  stokes.fw:11
-	A[27] = 0.5 * (c40 + c42 + c41 + c44)
-	A[28] = 0.5 * (-c40 - c41)
-	A[29] = 0.5 * (-c42 - c44)
-	A[36] = 0.5 * (-c40 - c42)
-	A[37] = 0.5 * c40
-	A[38] = 0.5 * c42
-	A[45] = 0.5 * (-c41 - c44)
-	A[46] = 0.5 * c41
-	A[47] = 0.5 * c44
+	A[27] = 0.5 * (c68 + c70 + c69 + c72)
+	A[28] = 0.5 * (-c68 - c69)
+	A[29] = 0.5 * (-c70 - c72)
+	A[36] = 0.5 * (-c68 - c70)
+	A[37] = 0.5 * c68
+	A[38] = 0.5 * c70
+	A[45] = 0.5 * (-c69 - c72)
+	A[46] = 0.5 * c69
+	A[47] = 0.5 * c72
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -930,23 +1096,20 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  stokes.fw:11
 	//	  −τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  stokes.fw:11
-	A[30] = 0.5*(c49+c53) + c51
-	A[31] = 0.5 * (-c49 - c51)
-	A[32] = 0.5 * (-c51 - c53)
-	A[39] = 0.5 * (-c49 - c51)
-	A[40] = 0.5 * c49
-	A[41] = 0.5 * c51
-	A[48] = 0.5 * (-c51 - c53)
-	A[49] = 0.5 * c51
-	A[50] = 0.5 * c53
+	A[30] = 0.5*(c77+c81) + c79
+	A[31] = 0.5 * (-c77 - c79)
+	A[32] = 0.5 * (-c79 - c81)
+	A[39] = 0.5 * (-c77 - c79)
+	A[40] = 0.5 * c77
+	A[41] = 0.5 * c79
+	A[48] = 0.5 * (-c79 - c81)
+	A[49] = 0.5 * c79
+	A[50] = 0.5 * c81
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                 stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  stokes.fw:11
-	//	  −τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  ∂vel[1]/∂x · v_p  stokes.fw:11
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -960,18 +1123,15 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω ν (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                 stokes.fw:11
-	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
-	//	  −τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  stokes.fw:11
-	//	  −τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  stokes.fw:11
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  stokes.fw:11
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -979,15 +1139,26 @@ func (StokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  stokes.fw:16
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  stokes.fw:16
-	A[60] = c17 * c69
-	A[61] = c17 * c72
-	A[62] = c17 * c74
-	A[69] = c17 * c72
-	A[70] = c17 * c66
-	A[71] = c17 * c67
-	A[78] = c17 * c74
-	A[79] = c17 * c67
-	A[80] = c17 * c68
+	A[60] = c17 * c97
+	A[61] = c17 * c100
+	A[62] = c17 * c102
+	A[69] = c17 * c100
+	A[70] = c17 * c94
+	A[71] = c17 * c95
+	A[78] = c17 * c102
+	A[79] = c17 * c95
+	A[80] = c17 * c96
+	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_vel R_vel, −ν Δv_vel − ∇v_p)_K  stokes.fw:16
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  stokes.fw:11
+	//	  τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  stokes.fw:11
+	b[6] = c28*c105 + c37*c105 + c43*c108 + c49*c108
+	b[7] = c28*c109 + c37*c109 + c43*c110 + c49*c110
+	b[8] = c28*c111 + c37*c111 + c43*c112 + c49*c112
 }
 
 // fwStokesFillNaN fills A and b with NaN: the cell has a non-positive Jacobian

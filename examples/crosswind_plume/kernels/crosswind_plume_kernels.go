@@ -21,7 +21,7 @@ func init() {
 			return CrosswindPlumeGalerkinKernel{}
 		},
 	})
-	compiled.Register("048096486c744c717a4bf82d77fcfed0", compiled.Kernels{
+	compiled.Register("d8f5d80c6270f68d029612604a531735", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return CrosswindPlumeSUPGKernel{}
 		},
 	})
-	compiled.Register("5315c3804513d6249e8e62710b7020f1", compiled.Kernels{
+	compiled.Register("dd85b5d2cb47b382aa8b36e40b950b01", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return CrosswindPlumeGLSKernel{}
 		},
 	})
-	compiled.Register("1ecb5dac3e9ecdc463d82ebcf44fd9ac", compiled.Kernels{
+	compiled.Register("bfb5df7e8753b645aaf65b8b609b2b8d", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -164,6 +164,12 @@ func (CrosswindPlumeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -186,96 +192,131 @@ func (CrosswindPlumeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
 	tau_temp := 0.5 * h * c19
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c20 := j00 * j11
+	j00 := x[2] - x[0]
+	c20 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c21 := j01 * j10
 	detJ := c20 - c21
-	c22 := j01 * (-0.49999999999999994)
-	c23 := 0.49999999999999994 * j00
-	c24 := 0.8660254037844387 * j11
-	c25 := j10 * (-0.8660254037844387)
-	c26 := j01 * j01
-	c27 := 0.24999999999999994 * c26
-	c28 := 1e-06 * c26
-	c29 := j00 * j01
-	c30 := c29 * (-0.24999999999999994)
-	c31 := (-1e-06) * c29
-	c32 := j00 * j00
-	c33 := 0.24999999999999994 * c32
-	c34 := 1e-06 * c32
-	c35 := j11 * j01
-	c36 := c35 * (-0.4330127018922193)
-	c37 := 0.4330127018922193 * c21
-	c38 := 0.4330127018922193 * c20
-	c39 := j00 * j10
-	c40 := (-0.4330127018922193) * c39
-	c41 := j11 * j11
-	c42 := j11 * j10
-	c43 := j10 * j10
-	c44 := 1e-06 * c41
-	c45 := 0.7500000000000001 * c41
-	c46 := (-1e-06) * c42
-	c47 := c42 * (-0.7500000000000001)
-	c48 := 1e-06 * c43
-	c49 := 0.7500000000000001 * c43
-	c50 := c22 + c24
-	c51 := c23 + c25
 	rdetJ := 1.0 / detJ
-	c52 := c28 + c44
-	c53 := rdetJ * c52
-	c54 := c27 + c36 + c36 + c45
-	c55 := rdetJ * c54
-	c56 := c31 + c46
-	c57 := rdetJ * c56
-	c58 := c30 + c37 + c38 + c47
-	c59 := rdetJ * c58
-	c60 := c34 + c48
-	c61 := rdetJ * c60
-	c62 := c33 + c40 + c40 + c49
-	c63 := rdetJ * c62
-	c64 := 0.5 * c55
-	c65 := 0.5 * c59
-	c66 := 0.5 * c63
-	c67 := c64 + c65 + c65 + c66
-	c68 := (-0.5) * c55
-	c69 := (-0.5) * c59
-	c70 := c68 + c69
-	c71 := (-0.5) * c63
-	c72 := c69 + c71
+	k00 := j11 * rdetJ
+	c22 := j10 * rdetJ
+	c23 := c22 - k00
+	c24 := rv[0] * c23
+	c25 := k00 * rv[2]
+	c26 := c22 * rv[4]
+	c27 := c24 + c24 + c25 + c25 - c26 - c26
+	c28 := 0.5 * c27
+	c29 := tau_temp * c28
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[1] * c31
+	c33 := c30 * rv[3]
+	c34 := k11 * rv[5]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_temp * c36
+	c38 := j01 * (-0.49999999999999994)
+	c39 := 0.49999999999999994 * j00
+	c40 := 0.8660254037844387 * j11
+	c41 := j10 * (-0.8660254037844387)
+	c42 := j01 * j01
+	c43 := 0.24999999999999994 * c42
+	c44 := 1e-06 * c42
+	c45 := j00 * j01
+	c46 := c45 * (-0.24999999999999994)
+	c47 := c45 * (-1e-06)
+	c48 := j00 * j00
+	c49 := 0.24999999999999994 * c48
+	c50 := 1e-06 * c48
+	c51 := j11 * j01
+	c52 := c51 * (-0.4330127018922193)
+	c53 := 0.4330127018922193 * c21
+	c54 := 0.4330127018922193 * c20
+	c55 := j00 * j10
+	c56 := (-0.4330127018922193) * c55
+	c57 := j11 * j11
+	c58 := 1e-06 * c57
+	c59 := 0.7500000000000001 * c57
+	c60 := j11 * j10
+	c61 := (-1e-06) * c60
+	c62 := c60 * (-0.7500000000000001)
+	c63 := j10 * j10
+	c64 := 1e-06 * c63
+	c65 := 0.7500000000000001 * c63
+	c66 := c38 + c40
+	c67 := c39 + c41
+	c68 := c44 + c58
+	c69 := rdetJ * c68
+	c70 := c43 + c52 + c52 + c59
+	c71 := rdetJ * c70
+	c72 := c47 + c61
+	c73 := rdetJ * c72
+	c74 := c46 + c53 + c54 + c62
+	c75 := rdetJ * c74
+	c76 := c50 + c64
+	c77 := rdetJ * c76
+	c78 := c49 + c56 + c56 + c65
+	c79 := rdetJ * c78
+	c80 := 0.5 * c71
+	c81 := 0.5 * c75
+	c82 := 0.5 * c79
+	c83 := c80 + c81 + c81 + c82
+	c84 := (-0.5) * c71
+	c85 := (-0.5) * c75
+	c86 := c84 + c85
+	c87 := (-0.5) * c79
+	c88 := c85 + c87
+	c89 := j01 * (-4.999999999999999e-07)
+	c90 := j00 * 4.999999999999999e-07
+	c91 := j11 * 8.660254037844387e-07
+	c92 := j10 * (-8.660254037844387e-07)
+	c93 := c89 + c91
+	c94 := c90 + c92
+	c95 := (-0.5) * c93
+	c96 := (-0.5) * c94
+	c97 := c95 + c96
+	c98 := 0.5 * c93
+	c99 := 0.5 * c94
 	if !(detJ > 0) {
 		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω κ (∇temp·∇v) + (a·∇temp) v dx, F = ∫_Ω 0 dx
-	//	  a[2] · ∂temp/∂y · v                        model.fw:13
-	//	  a[1] · ∂temp/∂x · v                        model.fw:13
-	//	  1/1000000 · ∂temp/∂y · ∂v/∂y               model.fw:17
-	//	  1/1000000 · ∂temp/∂x · ∂v/∂x               model.fw:17
-	//	SUPG: + Σ_K (τ_temp R_temp, a·∇v)_K          model.fw:21
-	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y            model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y  model.fw:17
-	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y        model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y  model.fw:17
-	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x        model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x  model.fw:17
-	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x            model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x  model.fw:17
-	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
-	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
-	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
-	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
-	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
-	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
-	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
-	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
-	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
+	//	  a[2] · ∂temp/∂y · v                  model.fw:13
+	//	  a[1] · ∂temp/∂x · v                  model.fw:13
+	//	  1/1000000 · ∂temp/∂y · ∂v/∂y         model.fw:17
+	//	  1/1000000 · ∂temp/∂x · ∂v/∂x         model.fw:17
+	//	SUPG: + Σ_K (τ_temp R_temp, a·∇v)_K    model.fw:21
+	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y      model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y  model.fw:17
+	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x  model.fw:17
+	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x      model.fw:17
+	A[0] = (1.0/6)*(-c66-c67) + 0.5*(c69+c77) + c73 + tau_temp*c83
+	A[1] = (1.0/6)*c66 + 0.5*(-c69-c73) + tau_temp*c86
+	A[2] = (1.0/6)*c67 + 0.5*(-c73-c77) + tau_temp*c88
+	A[3] = (1.0/6)*(-c66-c67) + 0.5*(-c69-c73) + tau_temp*c86
+	A[4] = (1.0/6)*c66 + 0.5*c69 + tau_temp*c80
+	A[5] = (1.0/6)*c67 + 0.5*c73 + tau_temp*c81
+	A[6] = (1.0/6)*(-c66-c67) + 0.5*(-c73-c77) + tau_temp*c88
+	A[7] = (1.0/6)*c66 + 0.5*c73 + tau_temp*c81
+	A[8] = (1.0/6)*c67 + 0.5*c77 + tau_temp*c82
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	SUPG: + Σ_K (τ_temp R_temp, a·∇v)_K            model.fw:21
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂x  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂x  model.fw:17
+	b[0] = c29*c97 + c37*c97
+	b[1] = c29*c98 + c37*c98
+	b[2] = c29*c99 + c37*c99
 }
 
 // fwCrosswindPlumeGLSLayout is the element layout of the gls kernels: triangle
@@ -308,6 +349,12 @@ func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -330,70 +377,98 @@ func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
 	tau_temp := 0.5 * h * c19
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c20 := j00 * j11
+	j00 := x[2] - x[0]
+	c20 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c21 := j01 * j10
 	detJ := c20 - c21
-	c22 := j01 * (-0.49999999999999994)
-	c23 := 0.49999999999999994 * j00
-	c24 := 0.8660254037844387 * j11
-	c25 := j10 * (-0.8660254037844387)
-	c26 := j01 * j01
-	c27 := 0.24999999999999994 * c26
-	c28 := 1e-06 * c26
-	c29 := j00 * j01
-	c30 := c29 * (-0.24999999999999994)
-	c31 := (-1e-06) * c29
-	c32 := j00 * j00
-	c33 := 0.24999999999999994 * c32
-	c34 := 1e-06 * c32
-	c35 := j11 * j01
-	c36 := c35 * (-0.4330127018922193)
-	c37 := 0.4330127018922193 * c21
-	c38 := 0.4330127018922193 * c20
-	c39 := j00 * j10
-	c40 := (-0.4330127018922193) * c39
-	c41 := j11 * j11
-	c42 := j11 * j10
-	c43 := j10 * j10
-	c44 := 1e-06 * c41
-	c45 := 0.7500000000000001 * c41
-	c46 := (-1e-06) * c42
-	c47 := c42 * (-0.7500000000000001)
-	c48 := 1e-06 * c43
-	c49 := 0.7500000000000001 * c43
-	c50 := c22 + c24
-	c51 := c23 + c25
 	rdetJ := 1.0 / detJ
-	c52 := c28 + c44
-	c53 := rdetJ * c52
-	c54 := c27 + c36 + c36 + c45
-	c55 := rdetJ * c54
-	c56 := c31 + c46
-	c57 := rdetJ * c56
-	c58 := c30 + c37 + c38 + c47
-	c59 := rdetJ * c58
-	c60 := c34 + c48
-	c61 := rdetJ * c60
-	c62 := c33 + c40 + c40 + c49
-	c63 := rdetJ * c62
-	c64 := 0.5 * c55
-	c65 := 0.5 * c59
-	c66 := 0.5 * c63
-	c67 := c64 + c65 + c65 + c66
-	c68 := (-0.5) * c55
-	c69 := (-0.5) * c59
-	c70 := c68 + c69
-	c71 := (-0.5) * c63
-	c72 := c69 + c71
+	k00 := j11 * rdetJ
+	c22 := j10 * rdetJ
+	c23 := c22 - k00
+	c24 := rv[0] * c23
+	c25 := k00 * rv[2]
+	c26 := c22 * rv[4]
+	c27 := c24 + c24 + c25 + c25 - c26 - c26
+	c28 := 0.5 * c27
+	c29 := tau_temp * c28
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[1] * c31
+	c33 := c30 * rv[3]
+	c34 := k11 * rv[5]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_temp * c36
+	c38 := j01 * (-0.49999999999999994)
+	c39 := 0.49999999999999994 * j00
+	c40 := 0.8660254037844387 * j11
+	c41 := j10 * (-0.8660254037844387)
+	c42 := j01 * j01
+	c43 := 0.24999999999999994 * c42
+	c44 := 1e-06 * c42
+	c45 := j00 * j01
+	c46 := c45 * (-0.24999999999999994)
+	c47 := (-1e-06) * c45
+	c48 := j00 * j00
+	c49 := 0.24999999999999994 * c48
+	c50 := 1e-06 * c48
+	c51 := j11 * j01
+	c52 := c51 * (-0.4330127018922193)
+	c53 := 0.4330127018922193 * c21
+	c54 := 0.4330127018922193 * c20
+	c55 := j00 * j10
+	c56 := (-0.4330127018922193) * c55
+	c57 := j11 * j11
+	c58 := j11 * j10
+	c59 := j10 * j10
+	c60 := 1e-06 * c57
+	c61 := 0.7500000000000001 * c57
+	c62 := (-1e-06) * c58
+	c63 := c58 * (-0.7500000000000001)
+	c64 := 1e-06 * c59
+	c65 := 0.7500000000000001 * c59
+	c66 := c38 + c40
+	c67 := c39 + c41
+	c68 := c44 + c60
+	c69 := rdetJ * c68
+	c70 := c43 + c52 + c52 + c61
+	c71 := rdetJ * c70
+	c72 := c47 + c62
+	c73 := rdetJ * c72
+	c74 := c46 + c53 + c54 + c63
+	c75 := rdetJ * c74
+	c76 := c50 + c64
+	c77 := rdetJ * c76
+	c78 := c49 + c56 + c56 + c65
+	c79 := rdetJ * c78
+	c80 := 0.5 * c71
+	c81 := 0.5 * c75
+	c82 := 0.5 * c79
+	c83 := c80 + c81 + c81 + c82
+	c84 := (-0.5) * c71
+	c85 := (-0.5) * c75
+	c86 := c84 + c85
+	c87 := (-0.5) * c79
+	c88 := c85 + c87
+	c89 := (-4.999999999999999e-07) * j01
+	c90 := j00 * 4.999999999999999e-07
+	c91 := j11 * 8.660254037844387e-07
+	c92 := (-8.660254037844387e-07) * j10
+	c93 := c89 + c91
+	c94 := c90 + c92
+	c95 := (-0.5) * c93
+	c96 := (-0.5) * c94
+	c97 := c95 + c96
+	c98 := 0.5 * c93
+	c99 := 0.5 * c94
 	if !(detJ > 0) {
 		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -404,30 +479,37 @@ func (CrosswindPlumeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                 model.fw:17
 	//	GLS: + Σ_K (τ_temp R_temp, −κ Δv + a·∇v)_K     model.fw:21
 	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y              model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y    model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y          model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y    model.fw:17
 	//	  −a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂y²    model.fw:17
 	//	  τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂y²  model.fw:17
 	//	  −a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂y²    model.fw:17
 	//	  τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂y²  model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x          model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x    model.fw:17
 	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x              model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x    model.fw:17
 	//	  −a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂x²    model.fw:17
 	//	  τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂x²  model.fw:17
 	//	  −a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂x²    model.fw:17
 	//	  τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂x²  model.fw:17
-	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
-	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
-	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
-	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
-	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
-	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
-	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
-	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
-	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
+	A[0] = (1.0/6)*(-c66-c67) + 0.5*(c69+c77) + c73 + tau_temp*c83
+	A[1] = (1.0/6)*c66 + 0.5*(-c69-c73) + tau_temp*c86
+	A[2] = (1.0/6)*c67 + 0.5*(-c73-c77) + tau_temp*c88
+	A[3] = (1.0/6)*(-c66-c67) + 0.5*(-c69-c73) + tau_temp*c86
+	A[4] = (1.0/6)*c66 + 0.5*c69 + tau_temp*c80
+	A[5] = (1.0/6)*c67 + 0.5*c73 + tau_temp*c81
+	A[6] = (1.0/6)*(-c66-c67) + 0.5*(-c73-c77) + tau_temp*c88
+	A[7] = (1.0/6)*c66 + 0.5*c73 + tau_temp*c81
+	A[8] = (1.0/6)*c67 + 0.5*c77 + tau_temp*c82
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	GLS: + Σ_K (τ_temp R_temp, −κ Δv + a·∇v)_K     model.fw:21
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂x  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂x  model.fw:17
+	b[0] = c29*c97 + c37*c97
+	b[1] = c29*c98 + c37*c98
+	b[2] = c29*c99 + c37*c99
 }
 
 // fwCrosswindPlumeVMSLayout is the element layout of the vms kernels: triangle
@@ -460,6 +542,12 @@ func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -482,70 +570,98 @@ func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c18 := h * 166666.66666666666
 	c19 := min(c18, 1.0)
 	tau_temp := 0.5 * h * c19
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c20 := j00 * j11
+	j00 := x[2] - x[0]
+	c20 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c21 := j01 * j10
 	detJ := c20 - c21
-	c22 := j01 * (-0.49999999999999994)
-	c23 := 0.49999999999999994 * j00
-	c24 := 0.8660254037844387 * j11
-	c25 := j10 * (-0.8660254037844387)
-	c26 := j01 * j01
-	c27 := 0.24999999999999994 * c26
-	c28 := 1e-06 * c26
-	c29 := j00 * j01
-	c30 := c29 * (-0.24999999999999994)
-	c31 := (-1e-06) * c29
-	c32 := j00 * j00
-	c33 := 0.24999999999999994 * c32
-	c34 := 1e-06 * c32
-	c35 := j11 * j01
-	c36 := c35 * (-0.4330127018922193)
-	c37 := 0.4330127018922193 * c21
-	c38 := 0.4330127018922193 * c20
-	c39 := j00 * j10
-	c40 := (-0.4330127018922193) * c39
-	c41 := j11 * j11
-	c42 := j11 * j10
-	c43 := j10 * j10
-	c44 := 1e-06 * c41
-	c45 := 0.7500000000000001 * c41
-	c46 := (-1e-06) * c42
-	c47 := c42 * (-0.7500000000000001)
-	c48 := 1e-06 * c43
-	c49 := 0.7500000000000001 * c43
-	c50 := c22 + c24
-	c51 := c23 + c25
 	rdetJ := 1.0 / detJ
-	c52 := c28 + c44
-	c53 := rdetJ * c52
-	c54 := c27 + c36 + c36 + c45
-	c55 := rdetJ * c54
-	c56 := c31 + c46
-	c57 := rdetJ * c56
-	c58 := c30 + c37 + c38 + c47
-	c59 := rdetJ * c58
-	c60 := c34 + c48
-	c61 := rdetJ * c60
-	c62 := c33 + c40 + c40 + c49
-	c63 := rdetJ * c62
-	c64 := 0.5 * c55
-	c65 := 0.5 * c59
-	c66 := 0.5 * c63
-	c67 := c64 + c65 + c65 + c66
-	c68 := (-0.5) * c55
-	c69 := (-0.5) * c59
-	c70 := c68 + c69
-	c71 := (-0.5) * c63
-	c72 := c69 + c71
+	k00 := j11 * rdetJ
+	c22 := j10 * rdetJ
+	c23 := c22 - k00
+	c24 := rv[0] * c23
+	c25 := k00 * rv[2]
+	c26 := c22 * rv[4]
+	c27 := c24 + c24 + c25 + c25 - c26 - c26
+	c28 := 0.5 * c27
+	c29 := tau_temp * c28
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[1] * c31
+	c33 := c30 * rv[3]
+	c34 := k11 * rv[5]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_temp * c36
+	c38 := j01 * (-0.49999999999999994)
+	c39 := 0.49999999999999994 * j00
+	c40 := 0.8660254037844387 * j11
+	c41 := j10 * (-0.8660254037844387)
+	c42 := j01 * j01
+	c43 := 0.24999999999999994 * c42
+	c44 := 1e-06 * c42
+	c45 := j00 * j01
+	c46 := c45 * (-0.24999999999999994)
+	c47 := c45 * (-1e-06)
+	c48 := j00 * j00
+	c49 := 0.24999999999999994 * c48
+	c50 := 1e-06 * c48
+	c51 := j11 * j01
+	c52 := c51 * (-0.4330127018922193)
+	c53 := 0.4330127018922193 * c21
+	c54 := 0.4330127018922193 * c20
+	c55 := j00 * j10
+	c56 := (-0.4330127018922193) * c55
+	c57 := j11 * j11
+	c58 := j11 * j10
+	c59 := j10 * j10
+	c60 := 1e-06 * c57
+	c61 := 0.7500000000000001 * c57
+	c62 := (-1e-06) * c58
+	c63 := c58 * (-0.7500000000000001)
+	c64 := 1e-06 * c59
+	c65 := 0.7500000000000001 * c59
+	c66 := c38 + c40
+	c67 := c39 + c41
+	c68 := c44 + c60
+	c69 := rdetJ * c68
+	c70 := c43 + c52 + c52 + c61
+	c71 := rdetJ * c70
+	c72 := c47 + c62
+	c73 := rdetJ * c72
+	c74 := c46 + c53 + c54 + c63
+	c75 := rdetJ * c74
+	c76 := c50 + c64
+	c77 := rdetJ * c76
+	c78 := c49 + c56 + c56 + c65
+	c79 := rdetJ * c78
+	c80 := 0.5 * c71
+	c81 := 0.5 * c75
+	c82 := 0.5 * c79
+	c83 := c80 + c81 + c81 + c82
+	c84 := (-0.5) * c71
+	c85 := (-0.5) * c75
+	c86 := c84 + c85
+	c87 := (-0.5) * c79
+	c88 := c85 + c87
+	c89 := j01 * (-4.999999999999999e-07)
+	c90 := 4.999999999999999e-07 * j00
+	c91 := 8.660254037844387e-07 * j11
+	c92 := j10 * (-8.660254037844387e-07)
+	c93 := c89 + c91
+	c94 := c90 + c92
+	c95 := (-0.5) * c93
+	c96 := (-0.5) * c94
+	c97 := c95 + c96
+	c98 := 0.5 * c93
+	c99 := 0.5 * c94
 	if !(detJ > 0) {
 		fwCrosswindPlumeFillNaN(A, b)
 		return
 	}
-	clear(b)
 	// Rows 0..2, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -556,30 +672,37 @@ func (CrosswindPlumeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  1/1000000 · ∂temp/∂x · ∂v/∂x                  model.fw:17
 	//	VMS: − Σ_K (τ_temp R_temp, −κ Δv − a·∇v)_K      model.fw:21
 	//	  a[2]² τ_temp · ∂temp/∂y · ∂v/∂y               model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂y     model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂x · ∂v/∂y           model.fw:17
-	//	  −a[2] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂y     model.fw:17
 	//	  a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂y²      model.fw:17
 	//	  −τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂y²  model.fw:17
 	//	  a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂y²      model.fw:17
 	//	  −τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂y²  model.fw:17
 	//	  a[1] a[2] τ_temp · ∂temp/∂y · ∂v/∂x           model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂y² · ∂v/∂x     model.fw:17
 	//	  a[1]² τ_temp · ∂temp/∂x · ∂v/∂x               model.fw:17
-	//	  −a[1] τ_temp/1000000 · ∂²temp/∂x² · ∂v/∂x     model.fw:17
 	//	  a[2] τ_temp/1000000 · ∂temp/∂y · ∂²v/∂x²      model.fw:17
 	//	  −τ_temp/1000000000000 · ∂²temp/∂y² · ∂²v/∂x²  model.fw:17
 	//	  a[1] τ_temp/1000000 · ∂temp/∂x · ∂²v/∂x²      model.fw:17
 	//	  −τ_temp/1000000000000 · ∂²temp/∂x² · ∂²v/∂x²  model.fw:17
-	A[0] = (1.0/6)*(-c50-c51) + 0.5*(c53+c61) + c57 + tau_temp*c67
-	A[1] = (1.0/6)*c50 + 0.5*(-c53-c57) + tau_temp*c70
-	A[2] = (1.0/6)*c51 + 0.5*(-c57-c61) + tau_temp*c72
-	A[3] = (1.0/6)*(-c50-c51) + 0.5*(-c53-c57) + tau_temp*c70
-	A[4] = (1.0/6)*c50 + 0.5*c53 + tau_temp*c64
-	A[5] = (1.0/6)*c51 + 0.5*c57 + tau_temp*c65
-	A[6] = (1.0/6)*(-c50-c51) + 0.5*(-c57-c61) + tau_temp*c72
-	A[7] = (1.0/6)*c50 + 0.5*c57 + tau_temp*c65
-	A[8] = (1.0/6)*c51 + 0.5*c61 + tau_temp*c66
+	A[0] = (1.0/6)*(-c66-c67) + 0.5*(c69+c77) + c73 + tau_temp*c83
+	A[1] = (1.0/6)*c66 + 0.5*(-c69-c73) + tau_temp*c86
+	A[2] = (1.0/6)*c67 + 0.5*(-c73-c77) + tau_temp*c88
+	A[3] = (1.0/6)*(-c66-c67) + 0.5*(-c69-c73) + tau_temp*c86
+	A[4] = (1.0/6)*c66 + 0.5*c69 + tau_temp*c80
+	A[5] = (1.0/6)*c67 + 0.5*c73 + tau_temp*c81
+	A[6] = (1.0/6)*(-c66-c67) + 0.5*(-c73-c77) + tau_temp*c88
+	A[7] = (1.0/6)*c66 + 0.5*c73 + tau_temp*c81
+	A[8] = (1.0/6)*c67 + 0.5*c77 + tau_temp*c82
+	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
+	// coefficients constant in the cell).
+	//
+	//	VMS: − Σ_K (τ_temp R_temp, −κ Δv − a·∇v)_K     model.fw:21
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[2] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂y  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂x²/1000000 · ∂v/∂x  model.fw:17
+	//	  a[1] τ_temp ∂²temp⁽ʳᵉᶜ⁾/∂y²/1000000 · ∂v/∂x  model.fw:17
+	b[0] = c29*c97 + c37*c97
+	b[1] = c29*c98 + c37*c98
+	b[2] = c29*c99 + c37*c99
 }
 
 // fwCrosswindPlumeFillNaN fills A and b with NaN: the cell has a non-positive

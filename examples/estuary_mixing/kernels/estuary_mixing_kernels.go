@@ -21,7 +21,7 @@ func init() {
 			return EstuaryMixingGalerkinKernel{}
 		},
 	})
-	compiled.Register("9e5fe3a2eb833b889e07030788112b7c", compiled.Kernels{
+	compiled.Register("a07466ac2adefaae20938bac192c9431", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 5,
@@ -29,7 +29,7 @@ func init() {
 			return EstuaryMixingSUPGKernel{}
 		},
 	})
-	compiled.Register("de791f63d5cb8f9e876fc3c42de9e360", compiled.Kernels{
+	compiled.Register("3e772f5b129cdd8de6b1aebec29a2430", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -37,7 +37,7 @@ func init() {
 			return EstuaryMixingGLSKernel{}
 		},
 	})
-	compiled.Register("98ab58e5a8e9d65be3e055cf25154ed2", compiled.Kernels{
+	compiled.Register("4d35f07abf83a8df496de282721f2998", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 6,
@@ -212,6 +212,12 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -232,23 +238,33 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
 	c18 := 0.1 * c17
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	j00 := x[2] - x[0]
+	c19 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c20 := j01 * j10
 	detJ := c19 - c20
-	c21 := 0.1 * detJ
 	rdetJ := 1.0 / detJ
-	c22 := j01 * rdetJ
-	k01 := -c22
-	k11 := j00 * rdetJ
-	c23 := c22 - k11
 	k00 := j11 * rdetJ
-	c24 := j10 * rdetJ
-	k10 := -c24
-	c25 := c24 - k00
+	c21 := j10 * rdetJ
+	k10 := -c21
+	c22 := c21 - k00
+	c23 := rv[0] * c22
+	c24 := k00 * rv[2]
+	c25 := c21 * rv[4]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := j01 * rdetJ
+	k01 := -c28
+	k11 := j00 * rdetJ
+	c29 := c28 - k11
+	c30 := rv[1] * c29
+	c31 := c28 * rv[3]
+	c32 := k11 * rv[5]
+	c33 := c30 + c30 - c31 - c31 + c32 + c32
+	c34 := 0.5 * c33
+	c35 := 0.1 * detJ
 	if !(detJ > 0) {
 		fwEstuaryMixingFillNaN(A, b)
 		return
@@ -260,15 +276,15 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//
 	//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
 	//	  1/10 · salt · v  model.fw:17
-	acc[0] += (1.0 / 12) * c21
-	acc[1] += (1.0 / 24) * c21
-	acc[2] += (1.0 / 24) * c21
-	acc[3] += (1.0 / 24) * c21
-	acc[4] += (1.0 / 12) * c21
-	acc[5] += (1.0 / 24) * c21
-	acc[6] += (1.0 / 24) * c21
-	acc[7] += (1.0 / 24) * c21
-	acc[8] += (1.0 / 12) * c21
+	acc[0] += (1.0 / 12) * c35
+	acc[1] += (1.0 / 24) * c35
+	acc[2] += (1.0 / 24) * c35
+	acc[3] += (1.0 / 24) * c35
+	acc[4] += (1.0 / 12) * c35
+	acc[5] += (1.0 / 24) * c35
+	acc[6] += (1.0 / 24) * c35
+	acc[7] += (1.0 / 24) * c35
+	acc[8] += (1.0 / 12) * c35
 	// Rows 0..2 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
@@ -303,70 +319,76 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p17 := c18 + p15 + p16
 		p18 := 1.0 / p17
 		tau_salt := c17 * p18
-		coef14 := a_2 * tau_salt
+		p19 := a_2 * tau_salt
 		coef3 := 0.1 * a_2 * tau_salt
-		p19 := p12 * tau_salt
-		p20 := x1 * (-0.1)
-		p21 := 0.05 + p20
-		p22 := a_2 * tau_salt * p21
-		coef4 := kappa + p19 - p22
-		coef6 := a_2 * a_1 * tau_salt
-		coef15 := a_1 * tau_salt
-		coef8 := 0.1 * a_1 * tau_salt
-		p23 := a_1 * tau_salt * p21
-		coef9 := coef6 - p23
-		p24 := p11 * tau_salt
-		coef11 := kappa + p24
+		p20 := p12 * tau_salt
+		p21 := x1 * (-0.1)
+		p22 := 0.05 + p21
+		p23 := a_2 * tau_salt * p22
+		coef4 := kappa + p20 - p23
+		coef5 := a_2 * a_1 * tau_salt
+		p24 := a_1 * tau_salt
+		coef6 := 0.1 * a_1 * tau_salt
+		p25 := a_1 * tau_salt * p22
+		coef7 := coef5 - p25
+		p26 := p11 * tau_salt
+		coef8 := kappa + p26
+		p27 := a_2 * kappa * tau_salt * c27
+		p28 := a_2 * kappa * tau_salt * c34
+		coef10 := p19 + p27 + p28
+		p29 := a_1 * kappa * tau_salt * c27
+		p30 := a_1 * kappa * tau_salt * c34
+		coef11 := p24 + p29 + p30
 		w := detJ * fwEstuaryMixingSUPGCellWeights[q]
-		p25 := a_2 * w
-		p26 := p25 * c23
-		p27 := p25 * c22
-		p28 := p25 * k11
-		p29 := a_1 * w
-		p30 := p29 * c25
-		p31 := p26 + p30
-		p32 := p29 * k00
-		p33 := p32 - p27
-		p34 := p29 * c24
-		p35 := p28 - p34
-		p36 := coef3 * w
-		p37 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][0]
-		p38 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][1]
-		p39 := p36 * fwEstuaryMixingSUPGCellBasis1Val[q][2]
-		p40 := coef4 * w
-		p41 := c23 * p40
-		p42 := p37 + p41
-		p43 := c22 * p40
-		p44 := p38 - p43
-		p45 := k11 * p40
-		p46 := p39 + p45
-		p47 := coef6 * w
-		p48 := c25 * p47
-		p49 := p42 + p48
-		p50 := k00 * p47
-		p51 := p44 + p50
-		p52 := c24 * p47
-		p53 := p46 - p52
-		p54 := coef8 * w
-		p55 := fwEstuaryMixingSUPGCellBasis1Val[q][0] * p54
-		p56 := fwEstuaryMixingSUPGCellBasis1Val[q][1] * p54
-		p57 := fwEstuaryMixingSUPGCellBasis1Val[q][2] * p54
-		p58 := coef9 * w
-		p59 := c23 * p58
-		p60 := p55 + p59
-		p61 := c22 * p58
-		p62 := p56 - p61
-		p63 := k11 * p58
-		p64 := p57 + p63
-		p65 := coef11 * w
-		p66 := c25 * p65
-		p67 := p60 + p66
-		p68 := k00 * p65
-		p69 := p62 + p68
-		p70 := c24 * p65
-		p71 := p64 - p70
-		p72 := coef14 * w
-		p73 := coef15 * w
+		p31 := a_2 * w
+		p32 := c29 * p31
+		p33 := c28 * p31
+		p34 := k11 * p31
+		p35 := a_1 * w
+		p36 := c22 * p35
+		p37 := p32 + p36
+		p38 := k00 * p35
+		p39 := p38 - p33
+		p40 := c21 * p35
+		p41 := p34 - p40
+		p42 := coef3 * w
+		p43 := p42 * fwEstuaryMixingSUPGCellBasis1Val[q][0]
+		p44 := p42 * fwEstuaryMixingSUPGCellBasis1Val[q][1]
+		p45 := p42 * fwEstuaryMixingSUPGCellBasis1Val[q][2]
+		p46 := coef4 * w
+		p47 := c29 * p46
+		p48 := p43 + p47
+		p49 := c28 * p46
+		p50 := p44 - p49
+		p51 := k11 * p46
+		p52 := p45 + p51
+		p53 := coef5 * w
+		p54 := c22 * p53
+		p55 := p48 + p54
+		p56 := k00 * p53
+		p57 := p50 + p56
+		p58 := c21 * p53
+		p59 := p52 - p58
+		p60 := coef6 * w
+		p61 := fwEstuaryMixingSUPGCellBasis1Val[q][0] * p60
+		p62 := fwEstuaryMixingSUPGCellBasis1Val[q][1] * p60
+		p63 := fwEstuaryMixingSUPGCellBasis1Val[q][2] * p60
+		p64 := coef7 * w
+		p65 := c29 * p64
+		p66 := p61 + p65
+		p67 := c28 * p64
+		p68 := p62 - p67
+		p69 := k11 * p64
+		p70 := p63 + p69
+		p71 := coef8 * w
+		p72 := c22 * p71
+		p73 := p66 + p72
+		p74 := k00 * p71
+		p75 := p68 + p74
+		p76 := c21 * p71
+		p77 := p70 - p76
+		p78 := coef10 * w
+		p79 := coef11 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
@@ -378,32 +400,32 @@ func (EstuaryMixingSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  a[2] τ_salt/10 · salt · ∂v/∂y                   model.fw:17
 		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                 model.fw:17
 		//	  −a[2] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂y  model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y             model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y             model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y             model.fw:17
 		//	  a[1] τ_salt/10 · salt · ∂v/∂x                   model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x             model.fw:17
 		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x  model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x             model.fw:17
 		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                 model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x             model.fw:17
-		acc[0] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p31 + c23*p49 + c25*p67
-		acc[1] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p33 + c23*p51 + c25*p69
-		acc[2] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p35 + c23*p53 + c25*p71
-		acc[3] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p31 + k01*p49 + k00*p67
-		acc[4] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p33 + k01*p51 + k00*p69
-		acc[5] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p35 + k01*p53 + k00*p71
-		acc[6] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p31 + k11*p49 + k10*p67
-		acc[7] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p33 + k11*p51 + k10*p69
-		acc[8] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p35 + k11*p53 + k10*p71
+		acc[0] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p37 + c29*p55 + c22*p73
+		acc[1] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p39 + c29*p57 + c22*p75
+		acc[2] += fwEstuaryMixingSUPGCellBasis1Val[q][0]*p41 + c29*p59 + c22*p77
+		acc[3] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p37 + k01*p55 + k00*p73
+		acc[4] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p39 + k01*p57 + k00*p75
+		acc[5] += fwEstuaryMixingSUPGCellBasis1Val[q][1]*p41 + k01*p59 + k00*p77
+		acc[6] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p37 + k11*p55 + k10*p73
+		acc[7] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p39 + k11*p57 + k10*p75
+		acc[8] += fwEstuaryMixingSUPGCellBasis1Val[q][2]*p41 + k11*p59 + k10*p77
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
-		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K  model.fw:20
-		//	  a[2] τ_salt · ∂v/∂y  model.fw:17
-		//	  a[1] τ_salt · ∂v/∂x  model.fw:17
-		rhs[0] += c23*p72 + c25*p73
-		rhs[1] += k01*p72 + k00*p73
-		rhs[2] += k11*p72 + k10*p73
+		//	SUPG: + Σ_K (τ_salt R_salt, a·∇v)_K      model.fw:20
+		//	  a[2] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂y  model.fw:17
+		//	  a[2] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂y  model.fw:17
+		//	  a[2] τ_salt · ∂v/∂y                    model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x  model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂x  model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x                    model.fw:17
+		rhs[0] += c29*p78 + c22*p79
+		rhs[1] += k01*p78 + k00*p79
+		rhs[2] += k11*p78 + k10*p79
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -439,6 +461,12 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -459,22 +487,32 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
 	c18 := c17 * 0.1
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	j00 := x[2] - x[0]
+	c19 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c20 := j01 * j10
 	detJ := c19 - c20
 	rdetJ := 1.0 / detJ
-	c21 := j01 * rdetJ
-	k01 := -c21
-	k11 := j00 * rdetJ
-	c22 := c21 - k11
 	k00 := j11 * rdetJ
-	c23 := j10 * rdetJ
-	k10 := -c23
-	c24 := c23 - k00
+	c21 := j10 * rdetJ
+	k10 := -c21
+	c22 := c21 - k00
+	c23 := rv[0] * c22
+	c24 := k00 * rv[2]
+	c25 := c21 * rv[4]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := j01 * rdetJ
+	k01 := -c28
+	k11 := j00 * rdetJ
+	c29 := c28 - k11
+	c30 := rv[1] * c29
+	c31 := c28 * rv[3]
+	c32 := k11 * rv[5]
+	c33 := c30 + c30 - c31 - c31 + c32 + c32
+	c34 := 0.5 * c33
 	if !(detJ > 0) {
 		fwEstuaryMixingFillNaN(A, b)
 		return
@@ -516,80 +554,90 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p24 := tau_salt * p23
 		p25 := tau_salt * (-0.1) * p23
 		coef1 := a_2 + p21 + p25
-		coef28 := a_1 * tau_salt
-		coef15 := a_1 * 0.1 * tau_salt
-		coef3 := a_1 + coef15
-		coef5 := p21 + p25
-		p26 := p23 * p23
-		p27 := tau_salt * p26
-		p28 := p12 * tau_salt
-		p29 := a_2 * tau_salt * p23 * (-2.0)
-		coef6 := kappa + p27 + p28 + p29
-		p30 := a_1 * a_2 * tau_salt
-		p31 := a_1 * tau_salt * p23
-		coef8 := p30 - p31
-		p32 := p11 * tau_salt
-		coef18 := kappa + p32
-		p33 := 0.1 * tau_salt
-		coef25 := 1.0 + p33
-		coef26 := p20 - p24
+		p26 := a_1 * tau_salt
+		coef11 := a_1 * 0.1 * tau_salt
+		coef2 := a_1 + coef11
+		coef3 := p21 + p25
+		p27 := p23 * p23
+		p28 := tau_salt * p27
+		p29 := p12 * tau_salt
+		p30 := a_2 * tau_salt * p23 * (-2.0)
+		coef4 := kappa + p28 + p29 + p30
+		p31 := a_1 * a_2 * tau_salt
+		p32 := a_1 * tau_salt * p23
+		coef5 := p31 - p32
+		p33 := kappa * a_2 * tau_salt
+		p34 := kappa * tau_salt * p23
+		coef7 := p34 - p33
+		p35 := p11 * tau_salt
+		coef13 := kappa + p35
+		p36 := kappa * 0.1 * tau_salt * c27
+		p37 := kappa * 0.1 * tau_salt * c34
+		p38 := 0.1 * tau_salt
+		coef19 := 1.0 + p36 + p37 + p38
+		p39 := coef7 * c27
+		p40 := coef7 * c34
+		coef20 := p20 - p39 - p40 - p24
+		p41 := kappa * a_1 * tau_salt * c27
+		p42 := kappa * a_1 * tau_salt * c34
+		coef22 := p26 + p41 + p42
 		w := detJ * fwEstuaryMixingGLSCellWeights[q]
-		p34 := coef0 * w
-		p35 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][0]
-		p36 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][1]
-		p37 := p34 * fwEstuaryMixingGLSCellBasis1Val[q][2]
-		p38 := coef1 * w
-		p39 := p38 * c22
-		p40 := p35 + p39
-		p41 := p38 * c21
-		p42 := p36 - p41
-		p43 := p38 * k11
-		p44 := p37 + p43
-		p45 := coef3 * w
-		p46 := c24 * p45
-		p47 := p40 + p46
-		p48 := k00 * p45
-		p49 := p42 + p48
-		p50 := c23 * p45
-		p51 := p44 - p50
-		p52 := coef5 * w
-		p53 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p52
-		p54 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p52
-		p55 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p52
-		p56 := coef6 * w
-		p57 := c22 * p56
-		p58 := p53 + p57
-		p59 := c21 * p56
-		p60 := p54 - p59
-		p61 := k11 * p56
-		p62 := p55 + p61
-		p63 := coef8 * w
-		p64 := c24 * p63
-		p65 := p58 + p64
-		p66 := k00 * p63
-		p67 := p60 + p66
-		p68 := c23 * p63
-		p69 := p62 - p68
-		p70 := coef15 * w
-		p71 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p70
-		p72 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p70
-		p73 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p70
-		p74 := c22 * p63
-		p75 := p71 + p74
-		p76 := c21 * p63
-		p77 := p72 - p76
-		p78 := k11 * p63
-		p79 := p73 + p78
-		p80 := coef18 * w
-		p81 := c24 * p80
-		p82 := p75 + p81
-		p83 := k00 * p80
-		p84 := p77 + p83
-		p85 := c23 * p80
-		p86 := p79 - p85
-		p87 := coef25 * w
-		p88 := coef26 * w
-		p89 := coef28 * w
+		p43 := coef0 * w
+		p44 := p43 * fwEstuaryMixingGLSCellBasis1Val[q][0]
+		p45 := p43 * fwEstuaryMixingGLSCellBasis1Val[q][1]
+		p46 := p43 * fwEstuaryMixingGLSCellBasis1Val[q][2]
+		p47 := coef1 * w
+		p48 := c29 * p47
+		p49 := p44 + p48
+		p50 := c28 * p47
+		p51 := p45 - p50
+		p52 := k11 * p47
+		p53 := p46 + p52
+		p54 := coef2 * w
+		p55 := c22 * p54
+		p56 := p49 + p55
+		p57 := k00 * p54
+		p58 := p51 + p57
+		p59 := c21 * p54
+		p60 := p53 - p59
+		p61 := coef3 * w
+		p62 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p61
+		p63 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p61
+		p64 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p61
+		p65 := coef4 * w
+		p66 := c29 * p65
+		p67 := p62 + p66
+		p68 := c28 * p65
+		p69 := p63 - p68
+		p70 := k11 * p65
+		p71 := p64 + p70
+		p72 := coef5 * w
+		p73 := c22 * p72
+		p74 := p67 + p73
+		p75 := k00 * p72
+		p76 := p69 + p75
+		p77 := c21 * p72
+		p78 := p71 - p77
+		p79 := coef11 * w
+		p80 := fwEstuaryMixingGLSCellBasis1Val[q][0] * p79
+		p81 := fwEstuaryMixingGLSCellBasis1Val[q][1] * p79
+		p82 := fwEstuaryMixingGLSCellBasis1Val[q][2] * p79
+		p83 := c29 * p72
+		p84 := p80 + p83
+		p85 := c28 * p72
+		p86 := p81 - p85
+		p87 := k11 * p72
+		p88 := p82 + p87
+		p89 := coef13 * w
+		p90 := c22 * p89
+		p91 := p84 + p90
+		p92 := k00 * p89
+		p93 := p86 + p92
+		p94 := c21 * p89
+		p95 := p88 - p94
+		p96 := coef19 * w
+		p97 := coef20 * w
+		p98 := coef22 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
@@ -602,20 +650,14 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_salt/100 · salt · v                             model.fw:17
 		//	  a[2] τ_salt/10 · ∂salt/∂y · v                     model.fw:17
 		//	  −τ_salt (−y/10 + 1/20)/10 · ∂salt/∂y · v          model.fw:17
-		//	  −κ τ_salt/10 · ∂²salt/∂y² · v                     model.fw:17
 		//	  a[1] τ_salt/10 · ∂salt/∂x · v                     model.fw:17
-		//	  −κ τ_salt/10 · ∂²salt/∂x² · v                     model.fw:17
 		//	  a[2] τ_salt/10 · salt · ∂v/∂y                     model.fw:17
 		//	  −τ_salt (−y/10 + 1/20)/10 · salt · ∂v/∂y          model.fw:17
 		//	  τ_salt (−y/10 + 1/20)² · ∂salt/∂y · ∂v/∂y         model.fw:17
 		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                   model.fw:17
 		//	  −2 a[2] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂y  model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y               model.fw:17
-		//	  κ τ_salt (−y/10 + 1/20) · ∂²salt/∂y² · ∂v/∂y      model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y               model.fw:17
 		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂x · ∂v/∂y    model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y               model.fw:17
-		//	  κ τ_salt (−y/10 + 1/20) · ∂²salt/∂x² · ∂v/∂y      model.fw:17
 		//	  −κ τ_salt/10 · salt · ∂²v/∂y²                     model.fw:17
 		//	  −a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂y²               model.fw:17
 		//	  κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂y²      model.fw:17
@@ -625,38 +667,42 @@ func (EstuaryMixingGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  a[1] τ_salt/10 · salt · ∂v/∂x                     model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x               model.fw:17
 		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x    model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x               model.fw:17
 		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                   model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x               model.fw:17
 		//	  −κ τ_salt/10 · salt · ∂²v/∂x²                     model.fw:17
 		//	  −a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂x²               model.fw:17
 		//	  κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂x²      model.fw:17
 		//	  κ² τ_salt · ∂²salt/∂y² · ∂²v/∂x²                  model.fw:17
 		//	  −a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂x²               model.fw:17
 		//	  κ² τ_salt · ∂²salt/∂x² · ∂²v/∂x²                  model.fw:17
-		acc[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p47 + c22*p65 + c24*p82
-		acc[1] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p49 + c22*p67 + c24*p84
-		acc[2] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p51 + c22*p69 + c24*p86
-		acc[3] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p47 + k01*p65 + k00*p82
-		acc[4] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p49 + k01*p67 + k00*p84
-		acc[5] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p51 + k01*p69 + k00*p86
-		acc[6] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p47 + k11*p65 + k10*p82
-		acc[7] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p49 + k11*p67 + k10*p84
-		acc[8] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p51 + k11*p69 + k10*p86
+		acc[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p56 + c29*p74 + c22*p91
+		acc[1] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p58 + c29*p76 + c22*p93
+		acc[2] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p60 + c29*p78 + c22*p95
+		acc[3] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p56 + k01*p74 + k00*p91
+		acc[4] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p58 + k01*p76 + k00*p93
+		acc[5] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p60 + k01*p78 + k00*p95
+		acc[6] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p56 + k11*p74 + k10*p91
+		acc[7] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p58 + k11*p76 + k10*p93
+		acc[8] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p60 + k11*p78 + k10*p95
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
-		//	  v                               model.fw:17
+		//	  v                                                       model.fw:17
 		//	GLS: + Σ_K (τ_salt R_salt, −κ Δv + σ v + a·∇v − ∇κ·∇v)_K  model.fw:20
-		//	  τ_salt/10 · v                   model.fw:17
-		//	  a[2] τ_salt · ∂v/∂y             model.fw:17
-		//	  −τ_salt (−y/10 + 1/20) · ∂v/∂y  model.fw:17
-		//	  −κ τ_salt · ∂²v/∂y²             model.fw:17
-		//	  a[1] τ_salt · ∂v/∂x             model.fw:17
-		//	  −κ τ_salt · ∂²v/∂x²             model.fw:17
-		rhs[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p87 + c22*p88 + c24*p89
-		rhs[1] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p87 + k01*p88 + k00*p89
-		rhs[2] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p87 + k11*p88 + k10*p89
+		//	  κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂x²/10 · v                         model.fw:17
+		//	  κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂y²/10 · v                         model.fw:17
+		//	  τ_salt/10 · v                                           model.fw:17
+		//	  −(−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂y  model.fw:17
+		//	  −(−a[2] κ τ_salt + κ τ_salt (−y/10 + 1/20)) ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂y  model.fw:17
+		//	  a[2] τ_salt · ∂v/∂y                                     model.fw:17
+		//	  −τ_salt (−y/10 + 1/20) · ∂v/∂y                          model.fw:17
+		//	  −κ τ_salt · ∂²v/∂y²                                     model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x                   model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂x                   model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x                                     model.fw:17
+		//	  −κ τ_salt · ∂²v/∂x²                                     model.fw:17
+		rhs[0] += fwEstuaryMixingGLSCellBasis1Val[q][0]*p96 + c29*p97 + c22*p98
+		rhs[1] += fwEstuaryMixingGLSCellBasis1Val[q][1]*p96 + k01*p97 + k00*p98
+		rhs[2] += fwEstuaryMixingGLSCellBasis1Val[q][2]*p96 + k11*p97 + k10*p98
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])
@@ -692,6 +738,12 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -712,22 +764,32 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
 	c18 := c17 * 0.1
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c19 := j00 * j11
+	j00 := x[2] - x[0]
+	c19 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c20 := j01 * j10
 	detJ := c19 - c20
 	rdetJ := 1.0 / detJ
-	c21 := j01 * rdetJ
-	k01 := -c21
-	k11 := j00 * rdetJ
-	c22 := c21 - k11
 	k00 := j11 * rdetJ
-	c23 := j10 * rdetJ
-	k10 := -c23
-	c24 := c23 - k00
+	c21 := j10 * rdetJ
+	k10 := -c21
+	c22 := c21 - k00
+	c23 := rv[0] * c22
+	c24 := k00 * rv[2]
+	c25 := c21 * rv[4]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := j01 * rdetJ
+	k01 := -c28
+	k11 := j00 * rdetJ
+	c29 := c28 - k11
+	c30 := rv[1] * c29
+	c31 := c28 * rv[3]
+	c32 := k11 * rv[5]
+	c33 := c30 + c30 - c31 - c31 + c32 + c32
+	c34 := 0.5 * c33
 	if !(detJ > 0) {
 		fwEstuaryMixingFillNaN(A, b)
 		return
@@ -775,84 +837,98 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		p30 := a_2 * tau_salt * p21
 		p31 := tau_salt * p21 * p27
 		coef1 := a_2 + p25 + p29 + p30 - p31
-		coef28 := a_1 * tau_salt
-		p32 := a_1 * tau_salt * (-0.1)
-		p33 := a_1 * tau_salt * p21
-		coef3 := a_1 + p32 + p33
-		p34 := 0.1 * a_2 * tau_salt
-		coef5 := p29 + p34
-		p35 := p27 * p27
-		p36 := tau_salt * p35
-		p37 := p12 * tau_salt
-		coef6 := kappa - p36 + p37
-		p38 := a_1 * a_2 * tau_salt
-		p39 := a_1 * tau_salt * p27
-		coef8 := p38 + p39
-		coef15 := a_1 * 0.1 * tau_salt
-		coef16 := p38 - p39
-		p40 := p11 * tau_salt
-		coef18 := kappa + p40
-		p41 := tau_salt * (-0.1)
-		coef25 := 1.0 + p22 + p41
-		coef26 := p24 + p28
+		p32 := a_1 * tau_salt
+		p33 := a_1 * tau_salt * (-0.1)
+		p34 := a_1 * tau_salt * p21
+		coef2 := a_1 + p33 + p34
+		p35 := 0.1 * a_2 * tau_salt
+		coef3 := p29 + p35
+		p36 := p27 * p27
+		p37 := tau_salt * p36
+		p38 := p12 * tau_salt
+		coef4 := kappa - p37 + p38
+		p39 := a_1 * a_2 * tau_salt
+		p40 := a_1 * tau_salt * p27
+		coef5 := p39 + p40
+		coef6 := kappa * 0.1 * tau_salt
+		p41 := kappa * a_2 * tau_salt
+		p42 := kappa * tau_salt * p27
+		p43 := -p42
+		coef11 := a_1 * 0.1 * tau_salt
+		coef12 := p39 - p40
+		p44 := p11 * tau_salt
+		coef13 := kappa + p44
+		p45 := kappa * tau_salt * p21
+		p46 := coef6 - p45
+		p47 := p46 * c27
+		p48 := p46 * c34
+		p49 := tau_salt * (-0.1)
+		coef19 := 1.0 + p22 - p47 - p48 + p49
+		p50 := p43 - p41
+		p51 := c27 * p50
+		p52 := c34 * p50
+		coef20 := p24 + p28 - p51 - p52
+		p53 := kappa * a_1 * tau_salt * c27
+		p54 := kappa * a_1 * tau_salt * c34
+		coef22 := p32 + p53 + p54
 		w := detJ * fwEstuaryMixingVMSCellWeights[q]
-		p42 := coef0 * w
-		p43 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][0]
-		p44 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][1]
-		p45 := p42 * fwEstuaryMixingVMSCellBasis1Val[q][2]
-		p46 := coef1 * w
-		p47 := p46 * c22
-		p48 := p43 + p47
-		p49 := p46 * c21
-		p50 := p44 - p49
-		p51 := p46 * k11
-		p52 := p45 + p51
-		p53 := coef3 * w
-		p54 := c24 * p53
-		p55 := p48 + p54
-		p56 := k00 * p53
-		p57 := p50 + p56
-		p58 := c23 * p53
-		p59 := p52 - p58
-		p60 := coef5 * w
-		p61 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p60
-		p62 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p60
-		p63 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p60
-		p64 := coef6 * w
-		p65 := c22 * p64
-		p66 := p61 + p65
-		p67 := c21 * p64
-		p68 := p62 - p67
-		p69 := k11 * p64
+		p55 := coef0 * w
+		p56 := p55 * fwEstuaryMixingVMSCellBasis1Val[q][0]
+		p57 := p55 * fwEstuaryMixingVMSCellBasis1Val[q][1]
+		p58 := p55 * fwEstuaryMixingVMSCellBasis1Val[q][2]
+		p59 := coef1 * w
+		p60 := c29 * p59
+		p61 := p56 + p60
+		p62 := c28 * p59
+		p63 := p57 - p62
+		p64 := k11 * p59
+		p65 := p58 + p64
+		p66 := coef2 * w
+		p67 := c22 * p66
+		p68 := p61 + p67
+		p69 := k00 * p66
 		p70 := p63 + p69
-		p71 := coef8 * w
-		p72 := c24 * p71
-		p73 := p66 + p72
-		p74 := k00 * p71
-		p75 := p68 + p74
-		p76 := c23 * p71
-		p77 := p70 - p76
-		p78 := coef15 * w
-		p79 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p78
-		p80 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p78
-		p81 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p78
-		p82 := coef16 * w
-		p83 := c22 * p82
-		p84 := p79 + p83
-		p85 := c21 * p82
-		p86 := p80 - p85
-		p87 := k11 * p82
+		p71 := c21 * p66
+		p72 := p65 - p71
+		p73 := coef3 * w
+		p74 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p73
+		p75 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p73
+		p76 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p73
+		p77 := coef4 * w
+		p78 := c29 * p77
+		p79 := p74 + p78
+		p80 := c28 * p77
+		p81 := p75 - p80
+		p82 := k11 * p77
+		p83 := p76 + p82
+		p84 := coef5 * w
+		p85 := c22 * p84
+		p86 := p79 + p85
+		p87 := k00 * p84
 		p88 := p81 + p87
-		p89 := coef18 * w
-		p90 := c24 * p89
-		p91 := p84 + p90
-		p92 := k00 * p89
-		p93 := p86 + p92
-		p94 := c23 * p89
-		p95 := p88 - p94
-		p96 := coef25 * w
-		p97 := coef26 * w
-		p98 := coef28 * w
+		p89 := c21 * p84
+		p90 := p83 - p89
+		p91 := coef11 * w
+		p92 := fwEstuaryMixingVMSCellBasis1Val[q][0] * p91
+		p93 := fwEstuaryMixingVMSCellBasis1Val[q][1] * p91
+		p94 := fwEstuaryMixingVMSCellBasis1Val[q][2] * p91
+		p95 := coef12 * w
+		p96 := c29 * p95
+		p97 := p92 + p96
+		p98 := c28 * p95
+		p99 := p93 - p98
+		p100 := k11 * p95
+		p101 := p94 + p100
+		p102 := coef13 * w
+		p103 := c22 * p102
+		p104 := p97 + p103
+		p105 := k00 * p102
+		p106 := p99 + p105
+		p107 := c21 * p102
+		p108 := p101 - p107
+		p109 := coef19 * w
+		p110 := coef20 * w
+		p111 := coef22 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
@@ -868,22 +944,14 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  τ_salt (−y/10 + 1/20)/10 · ∂salt/∂y · v              model.fw:17
 		//	  a[2] τ_salt (−x/2 + 1/10) · ∂salt/∂y · v             model.fw:17
 		//	  −τ_salt (−x/2 + 1/10) (−y/10 + 1/20) · ∂salt/∂y · v  model.fw:17
-		//	  κ τ_salt/10 · ∂²salt/∂y² · v                         model.fw:17
-		//	  −κ τ_salt (−x/2 + 1/10) · ∂²salt/∂y² · v             model.fw:17
 		//	  −a[1] τ_salt/10 · ∂salt/∂x · v                       model.fw:17
 		//	  a[1] τ_salt (−x/2 + 1/10) · ∂salt/∂x · v             model.fw:17
-		//	  κ τ_salt/10 · ∂²salt/∂x² · v                         model.fw:17
-		//	  −κ τ_salt (−x/2 + 1/10) · ∂²salt/∂x² · v             model.fw:17
 		//	  a[2] τ_salt/10 · salt · ∂v/∂y                        model.fw:17
 		//	  τ_salt (−y/10 + 1/20)/10 · salt · ∂v/∂y              model.fw:17
 		//	  −τ_salt (−y/10 + 1/20)² · ∂salt/∂y · ∂v/∂y           model.fw:17
 		//	  a[2]² τ_salt · ∂salt/∂y · ∂v/∂y                      model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂y² · ∂v/∂y                  model.fw:17
-		//	  −κ τ_salt (−y/10 + 1/20) · ∂²salt/∂y² · ∂v/∂y        model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂x · ∂v/∂y                  model.fw:17
 		//	  a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂x · ∂v/∂y        model.fw:17
-		//	  −a[2] κ τ_salt · ∂²salt/∂x² · ∂v/∂y                  model.fw:17
-		//	  −κ τ_salt (−y/10 + 1/20) · ∂²salt/∂x² · ∂v/∂y        model.fw:17
 		//	  κ τ_salt/10 · salt · ∂²v/∂y²                         model.fw:17
 		//	  a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂y²                   model.fw:17
 		//	  −κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂y²        model.fw:17
@@ -893,39 +961,43 @@ func (EstuaryMixingVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  a[1] τ_salt/10 · salt · ∂v/∂x                        model.fw:17
 		//	  a[1] a[2] τ_salt · ∂salt/∂y · ∂v/∂x                  model.fw:17
 		//	  −a[1] τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂v/∂x       model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂y² · ∂v/∂x                  model.fw:17
 		//	  a[1]² τ_salt · ∂salt/∂x · ∂v/∂x                      model.fw:17
-		//	  −a[1] κ τ_salt · ∂²salt/∂x² · ∂v/∂x                  model.fw:17
 		//	  κ τ_salt/10 · salt · ∂²v/∂x²                         model.fw:17
 		//	  a[2] κ τ_salt · ∂salt/∂y · ∂²v/∂x²                   model.fw:17
 		//	  −κ τ_salt (−y/10 + 1/20) · ∂salt/∂y · ∂²v/∂x²        model.fw:17
 		//	  −κ² τ_salt · ∂²salt/∂y² · ∂²v/∂x²                    model.fw:17
 		//	  a[1] κ τ_salt · ∂salt/∂x · ∂²v/∂x²                   model.fw:17
 		//	  −κ² τ_salt · ∂²salt/∂x² · ∂²v/∂x²                    model.fw:17
-		acc[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p55 + c22*p73 + c24*p91
-		acc[1] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p57 + c22*p75 + c24*p93
-		acc[2] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p59 + c22*p77 + c24*p95
-		acc[3] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p55 + k01*p73 + k00*p91
-		acc[4] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p57 + k01*p75 + k00*p93
-		acc[5] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p59 + k01*p77 + k00*p95
-		acc[6] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p55 + k11*p73 + k10*p91
-		acc[7] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p57 + k11*p75 + k10*p93
-		acc[8] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p59 + k11*p77 + k10*p95
+		acc[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p68 + c29*p86 + c22*p104
+		acc[1] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p70 + c29*p88 + c22*p106
+		acc[2] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p72 + c29*p90 + c22*p108
+		acc[3] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p68 + k01*p86 + k00*p104
+		acc[4] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p70 + k01*p88 + k00*p106
+		acc[5] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p72 + k01*p90 + k00*p108
+		acc[6] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p68 + k11*p86 + k10*p104
+		acc[7] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p70 + k11*p88 + k10*p106
+		acc[8] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p72 + k11*p90 + k10*p108
 		// Rows 0..2 of the right-hand side, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇salt·∇v) + (a·∇salt) v + σ salt v dx, F = ∫_Ω f v dx
-		//	  v                              model.fw:17
+		//	  v                                                       model.fw:17
 		//	VMS: − Σ_K (τ_salt R_salt, −κ Δv + σ v − (∇·a) v − a·∇v − ∇κ·∇v)_K  model.fw:20
-		//	  −τ_salt/10 · v                 model.fw:17
-		//	  τ_salt (−x/2 + 1/10) · v       model.fw:17
-		//	  a[2] τ_salt · ∂v/∂y            model.fw:17
-		//	  τ_salt (−y/10 + 1/20) · ∂v/∂y  model.fw:17
-		//	  κ τ_salt · ∂²v/∂y²             model.fw:17
-		//	  a[1] τ_salt · ∂v/∂x            model.fw:17
-		//	  κ τ_salt · ∂²v/∂x²             model.fw:17
-		rhs[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p96 + c22*p97 + c24*p98
-		rhs[1] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p96 + k01*p97 + k00*p98
-		rhs[2] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p96 + k11*p97 + k10*p98
+		//	  −(κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) ∂²salt⁽ʳᵉᶜ⁾/∂x² · v  model.fw:17
+		//	  −(κ τ_salt/10 − κ τ_salt (−x/2 + 1/10)) ∂²salt⁽ʳᵉᶜ⁾/∂y² · v  model.fw:17
+		//	  −τ_salt/10 · v                                          model.fw:17
+		//	  τ_salt (−x/2 + 1/10) · v                                model.fw:17
+		//	  −(−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂y  model.fw:17
+		//	  −(−a[2] κ τ_salt − κ τ_salt (−y/10 + 1/20)) ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂y  model.fw:17
+		//	  a[2] τ_salt · ∂v/∂y                                     model.fw:17
+		//	  τ_salt (−y/10 + 1/20) · ∂v/∂y                           model.fw:17
+		//	  κ τ_salt · ∂²v/∂y²                                      model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂x² · ∂v/∂x                   model.fw:17
+		//	  a[1] κ τ_salt ∂²salt⁽ʳᵉᶜ⁾/∂y² · ∂v/∂x                   model.fw:17
+		//	  a[1] τ_salt · ∂v/∂x                                     model.fw:17
+		//	  κ τ_salt · ∂²v/∂x²                                      model.fw:17
+		rhs[0] += fwEstuaryMixingVMSCellBasis1Val[q][0]*p109 + c29*p110 + c22*p111
+		rhs[1] += fwEstuaryMixingVMSCellBasis1Val[q][1]*p109 + k01*p110 + k00*p111
+		rhs[2] += fwEstuaryMixingVMSCellBasis1Val[q][2]*p109 + k11*p110 + k10*p111
 	}
 	copy(A, acc[:])
 	copy(b, rhs[:])

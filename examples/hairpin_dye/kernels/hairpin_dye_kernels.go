@@ -21,7 +21,7 @@ func init() {
 			return HairpinDyeGalerkinKernel{}
 		},
 	})
-	compiled.Register("ea234826dab24f858af2e6d3af591dad", compiled.Kernels{
+	compiled.Register("8e2a16f4172594832f11d5f2bc0c6ade", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -29,7 +29,7 @@ func init() {
 			return HairpinDyeSUPGKernel{}
 		},
 	})
-	compiled.Register("c2ba48f8c93edc844c27386f7709b388", compiled.Kernels{
+	compiled.Register("ac54ce9693823d3a7c8caab135dbd17b", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -37,7 +37,7 @@ func init() {
 			return HairpinDyeGLSKernel{}
 		},
 	})
-	compiled.Register("db4bde2c26262dbd0073863e79fbc809", compiled.Kernels{
+	compiled.Register("8fadcfcf4306f7db86fb78c32cbea664", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 4,
@@ -207,6 +207,12 @@ func (HairpinDyeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -226,27 +232,38 @@ func (HairpinDyeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
 	rdetJ := 1.0 / detJ
-	c20 := j01 * rdetJ
-	k01 := -c20
-	k11 := j00 * rdetJ
-	c21 := c20 - k11
 	k00 := j11 * rdetJ
-	c22 := j10 * rdetJ
-	k10 := -c22
-	c23 := c22 - k00
+	c20 := j10 * rdetJ
+	k10 := -c20
+	c21 := c20 - k00
+	c22 := rv[0] * c21
+	c23 := k00 * rv[2]
+	c24 := c20 * rv[4]
+	c25 := c22 + c22 + c23 + c23 - c24 - c24
+	c26 := 0.5 * c25
+	c27 := j01 * rdetJ
+	k01 := -c27
+	k11 := j00 * rdetJ
+	c28 := c27 - k11
+	c29 := rv[1] * c28
+	c30 := c27 * rv[3]
+	c31 := k11 * rv[5]
+	c32 := c29 + c29 - c30 - c30 + c31 + c31
+	c33 := 0.5 * c32
 	if !(detJ > 0) {
 		fwHairpinDyeFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
+	var rhs [3]float64
 	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[0] * fwHairpinDyeSUPGCellGeomVal[q][0]
@@ -273,70 +290,84 @@ func (HairpinDyeSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		tau_phi := c17 * p17
 		p18 := p11 * tau_phi
 		coef2 := p18 + 0.1
-		coef4 := a_2 * a_1 * tau_phi
+		coef3 := a_2 * a_1 * tau_phi
 		p19 := p12 * tau_phi
-		coef8 := 0.1 + p19
+		coef5 := 0.1 + p19
+		p20 := a_2 * tau_phi * 0.1 * c26
+		p21 := a_2 * tau_phi * 0.1 * c33
+		coef6 := p20 + p21
+		p22 := a_1 * tau_phi * 0.1 * c26
+		p23 := a_1 * tau_phi * 0.1 * c33
+		coef7 := p22 + p23
 		w := detJ * fwHairpinDyeSUPGCellWeights[q]
-		p20 := a_2 * w
-		p21 := p20 * c21
-		p22 := p20 * c20
-		p23 := p20 * k11
-		p24 := a_1 * w
-		p25 := p24 * c23
-		p26 := p21 + p25
-		p27 := p24 * k00
-		p28 := p27 - p22
-		p29 := p24 * c22
-		p30 := p23 - p29
-		p31 := coef2 * w
-		p32 := c21 * p31
-		p33 := c20 * p31
-		p34 := k11 * p31
-		p35 := coef4 * w
-		p36 := c23 * p35
-		p37 := p32 + p36
-		p38 := k00 * p35
-		p39 := p38 - p33
-		p40 := c22 * p35
-		p41 := p34 - p40
-		p42 := c21 * p35
-		p43 := c20 * p35
-		p44 := k11 * p35
-		p45 := coef8 * w
-		p46 := c23 * p45
-		p47 := p42 + p46
-		p48 := k00 * p45
-		p49 := p48 - p43
-		p50 := c22 * p45
-		p51 := p44 - p50
+		p24 := a_2 * w
+		p25 := c28 * p24
+		p26 := c27 * p24
+		p27 := k11 * p24
+		p28 := a_1 * w
+		p29 := c21 * p28
+		p30 := p25 + p29
+		p31 := k00 * p28
+		p32 := p31 - p26
+		p33 := c20 * p28
+		p34 := p27 - p33
+		p35 := coef2 * w
+		p36 := c28 * p35
+		p37 := c27 * p35
+		p38 := k11 * p35
+		p39 := coef3 * w
+		p40 := c21 * p39
+		p41 := p36 + p40
+		p42 := k00 * p39
+		p43 := p42 - p37
+		p44 := c20 * p39
+		p45 := p38 - p44
+		p46 := c28 * p39
+		p47 := c27 * p39
+		p48 := k11 * p39
+		p49 := coef5 * w
+		p50 := c21 * p49
+		p51 := p46 + p50
+		p52 := k00 * p49
+		p53 := p52 - p47
+		p54 := c20 * p49
+		p55 := p48 - p54
+		p56 := coef6 * w
+		p57 := coef7 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇φ·∇v) + (a·∇φ) v dx, F = ∫_Ω 0 dx
-		//	  a[2] · ∂φ/∂y · v                  model.fw:15
-		//	  a[1] · ∂φ/∂x · v                  model.fw:15
-		//	  1/10 · ∂φ/∂y · ∂v/∂y              model.fw:19
-		//	  1/10 · ∂φ/∂x · ∂v/∂x              model.fw:19
-		//	SUPG: + Σ_K (τ_phi R_phi, a·∇v)_K   model.fw:27
-		//	  a[2]² τ_phi · ∂φ/∂y · ∂v/∂y       model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂y² · ∂v/∂y  model.fw:19
-		//	  a[1] a[2] τ_phi · ∂φ/∂x · ∂v/∂y   model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂x² · ∂v/∂y  model.fw:19
-		//	  a[1] a[2] τ_phi · ∂φ/∂y · ∂v/∂x   model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂y² · ∂v/∂x  model.fw:19
-		//	  a[1]² τ_phi · ∂φ/∂x · ∂v/∂x       model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂x² · ∂v/∂x  model.fw:19
-		acc[0] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p26 + c21*p37 + c23*p47
-		acc[1] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p28 + c21*p39 + c23*p49
-		acc[2] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p30 + c21*p41 + c23*p51
-		acc[3] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
-		acc[4] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
-		acc[5] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
-		acc[6] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
-		acc[7] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		acc[8] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		//	  a[2] · ∂φ/∂y · v                 model.fw:15
+		//	  a[1] · ∂φ/∂x · v                 model.fw:15
+		//	  1/10 · ∂φ/∂y · ∂v/∂y             model.fw:19
+		//	  1/10 · ∂φ/∂x · ∂v/∂x             model.fw:19
+		//	SUPG: + Σ_K (τ_phi R_phi, a·∇v)_K  model.fw:27
+		//	  a[2]² τ_phi · ∂φ/∂y · ∂v/∂y      model.fw:19
+		//	  a[1] a[2] τ_phi · ∂φ/∂x · ∂v/∂y  model.fw:19
+		//	  a[1] a[2] τ_phi · ∂φ/∂y · ∂v/∂x  model.fw:19
+		//	  a[1]² τ_phi · ∂φ/∂x · ∂v/∂x      model.fw:19
+		acc[0] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p30 + c28*p41 + c21*p51
+		acc[1] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p32 + c28*p43 + c21*p53
+		acc[2] += fwHairpinDyeSUPGCellBasis1Val[q][0]*p34 + c28*p45 + c21*p55
+		acc[3] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
+		acc[4] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p32 + k01*p43 + k00*p53
+		acc[5] += fwHairpinDyeSUPGCellBasis1Val[q][1]*p34 + k01*p45 + k00*p55
+		acc[6] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		acc[7] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p32 + k11*p43 + k10*p53
+		acc[8] += fwHairpinDyeSUPGCellBasis1Val[q][2]*p34 + k11*p45 + k10*p55
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	SUPG: + Σ_K (τ_phi R_phi, a·∇v)_K     model.fw:27
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂y  model.fw:19
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂y  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂x  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂x  model.fw:19
+		rhs[0] += c28*p56 + c21*p57
+		rhs[1] += k01*p56 + k00*p57
+		rhs[2] += k11*p56 + k10*p57
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwHairpinDyeGLSLayout is the element layout of the gls kernels: triangle
@@ -369,6 +400,12 @@ func (HairpinDyeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -388,27 +425,38 @@ func (HairpinDyeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
 	rdetJ := 1.0 / detJ
-	c20 := j01 * rdetJ
-	k01 := -c20
-	k11 := j00 * rdetJ
-	c21 := c20 - k11
 	k00 := j11 * rdetJ
-	c22 := j10 * rdetJ
-	k10 := -c22
-	c23 := c22 - k00
+	c20 := j10 * rdetJ
+	k10 := -c20
+	c21 := c20 - k00
+	c22 := rv[0] * c21
+	c23 := k00 * rv[2]
+	c24 := c20 * rv[4]
+	c25 := c22 + c22 + c23 + c23 - c24 - c24
+	c26 := 0.5 * c25
+	c27 := j01 * rdetJ
+	k01 := -c27
+	k11 := j00 * rdetJ
+	c28 := c27 - k11
+	c29 := rv[1] * c28
+	c30 := c27 * rv[3]
+	c31 := k11 * rv[5]
+	c32 := c29 + c29 - c30 - c30 + c31 + c31
+	c33 := 0.5 * c32
 	if !(detJ > 0) {
 		fwHairpinDyeFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
+	var rhs [3]float64
 	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[0] * fwHairpinDyeGLSCellGeomVal[q][0]
@@ -435,42 +483,50 @@ func (HairpinDyeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		tau_phi := c17 * p17
 		p18 := p11 * tau_phi
 		coef2 := p18 + 0.1
-		coef4 := a_2 * a_1 * tau_phi
+		coef3 := a_2 * a_1 * tau_phi
 		p19 := p12 * tau_phi
-		coef12 := 0.1 + p19
+		coef9 := 0.1 + p19
+		p20 := a_2 * tau_phi * 0.1 * c26
+		p21 := a_2 * tau_phi * 0.1 * c33
+		coef14 := p20 + p21
+		p22 := a_1 * tau_phi * 0.1 * c26
+		p23 := a_1 * tau_phi * 0.1 * c33
+		coef15 := p22 + p23
 		w := detJ * fwHairpinDyeGLSCellWeights[q]
-		p20 := a_2 * w
-		p21 := p20 * c21
-		p22 := p20 * c20
-		p23 := p20 * k11
-		p24 := a_1 * w
-		p25 := p24 * c23
-		p26 := p21 + p25
-		p27 := p24 * k00
-		p28 := p27 - p22
-		p29 := p24 * c22
-		p30 := p23 - p29
-		p31 := coef2 * w
-		p32 := c21 * p31
-		p33 := c20 * p31
-		p34 := k11 * p31
-		p35 := coef4 * w
-		p36 := c23 * p35
-		p37 := p32 + p36
-		p38 := k00 * p35
-		p39 := p38 - p33
-		p40 := c22 * p35
-		p41 := p34 - p40
-		p42 := c21 * p35
-		p43 := c20 * p35
-		p44 := k11 * p35
-		p45 := coef12 * w
-		p46 := c23 * p45
-		p47 := p42 + p46
-		p48 := k00 * p45
-		p49 := p48 - p43
-		p50 := c22 * p45
-		p51 := p44 - p50
+		p24 := a_2 * w
+		p25 := c28 * p24
+		p26 := c27 * p24
+		p27 := k11 * p24
+		p28 := a_1 * w
+		p29 := c21 * p28
+		p30 := p25 + p29
+		p31 := k00 * p28
+		p32 := p31 - p26
+		p33 := c20 * p28
+		p34 := p27 - p33
+		p35 := coef2 * w
+		p36 := c28 * p35
+		p37 := c27 * p35
+		p38 := k11 * p35
+		p39 := coef3 * w
+		p40 := c21 * p39
+		p41 := p36 + p40
+		p42 := k00 * p39
+		p43 := p42 - p37
+		p44 := c20 * p39
+		p45 := p38 - p44
+		p46 := c28 * p39
+		p47 := c27 * p39
+		p48 := k11 * p39
+		p49 := coef9 * w
+		p50 := c21 * p49
+		p51 := p46 + p50
+		p52 := k00 * p49
+		p53 := p52 - p47
+		p54 := c20 * p49
+		p55 := p48 - p54
+		p56 := coef14 * w
+		p57 := coef15 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇φ·∇v) + (a·∇φ) v dx, F = ∫_Ω 0 dx
@@ -480,33 +536,39 @@ func (HairpinDyeGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		//	  1/10 · ∂φ/∂x · ∂v/∂x              model.fw:19
 		//	GLS: + Σ_K (τ_phi R_phi, −κ Δv + a·∇v)_K  model.fw:27
 		//	  a[2]² τ_phi · ∂φ/∂y · ∂v/∂y       model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂y² · ∂v/∂y  model.fw:19
 		//	  a[1] a[2] τ_phi · ∂φ/∂x · ∂v/∂y   model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂x² · ∂v/∂y  model.fw:19
 		//	  −a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂y²  model.fw:19
 		//	  τ_phi/100 · ∂²φ/∂y² · ∂²v/∂y²     model.fw:19
 		//	  −a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂y²  model.fw:19
 		//	  τ_phi/100 · ∂²φ/∂x² · ∂²v/∂y²     model.fw:19
 		//	  a[1] a[2] τ_phi · ∂φ/∂y · ∂v/∂x   model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂y² · ∂v/∂x  model.fw:19
 		//	  a[1]² τ_phi · ∂φ/∂x · ∂v/∂x       model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂x² · ∂v/∂x  model.fw:19
 		//	  −a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂x²  model.fw:19
 		//	  τ_phi/100 · ∂²φ/∂y² · ∂²v/∂x²     model.fw:19
 		//	  −a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂x²  model.fw:19
 		//	  τ_phi/100 · ∂²φ/∂x² · ∂²v/∂x²     model.fw:19
-		acc[0] += fwHairpinDyeGLSCellBasis1Val[q][0]*p26 + c21*p37 + c23*p47
-		acc[1] += fwHairpinDyeGLSCellBasis1Val[q][0]*p28 + c21*p39 + c23*p49
-		acc[2] += fwHairpinDyeGLSCellBasis1Val[q][0]*p30 + c21*p41 + c23*p51
-		acc[3] += fwHairpinDyeGLSCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
-		acc[4] += fwHairpinDyeGLSCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
-		acc[5] += fwHairpinDyeGLSCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
-		acc[6] += fwHairpinDyeGLSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
-		acc[7] += fwHairpinDyeGLSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		acc[8] += fwHairpinDyeGLSCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		acc[0] += fwHairpinDyeGLSCellBasis1Val[q][0]*p30 + c28*p41 + c21*p51
+		acc[1] += fwHairpinDyeGLSCellBasis1Val[q][0]*p32 + c28*p43 + c21*p53
+		acc[2] += fwHairpinDyeGLSCellBasis1Val[q][0]*p34 + c28*p45 + c21*p55
+		acc[3] += fwHairpinDyeGLSCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
+		acc[4] += fwHairpinDyeGLSCellBasis1Val[q][1]*p32 + k01*p43 + k00*p53
+		acc[5] += fwHairpinDyeGLSCellBasis1Val[q][1]*p34 + k01*p45 + k00*p55
+		acc[6] += fwHairpinDyeGLSCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		acc[7] += fwHairpinDyeGLSCellBasis1Val[q][2]*p32 + k11*p43 + k10*p53
+		acc[8] += fwHairpinDyeGLSCellBasis1Val[q][2]*p34 + k11*p45 + k10*p55
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	GLS: + Σ_K (τ_phi R_phi, −κ Δv + a·∇v)_K  model.fw:27
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂y  model.fw:19
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂y  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂x  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂x  model.fw:19
+		rhs[0] += c28*p56 + c21*p57
+		rhs[1] += k01*p56 + k00*p57
+		rhs[2] += k11*p56 + k10*p57
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwHairpinDyeVMSLayout is the element layout of the vms kernels: triangle
@@ -539,6 +601,12 @@ func (HairpinDyeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:9:9]
 	b = b[:3:3]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [6]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:6:6]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -558,27 +626,38 @@ func (HairpinDyeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	h := math.Sqrt(c17)
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
 	rdetJ := 1.0 / detJ
-	c20 := j01 * rdetJ
-	k01 := -c20
-	k11 := j00 * rdetJ
-	c21 := c20 - k11
 	k00 := j11 * rdetJ
-	c22 := j10 * rdetJ
-	k10 := -c22
-	c23 := c22 - k00
+	c20 := j10 * rdetJ
+	k10 := -c20
+	c21 := c20 - k00
+	c22 := rv[0] * c21
+	c23 := k00 * rv[2]
+	c24 := c20 * rv[4]
+	c25 := c22 + c22 + c23 + c23 - c24 - c24
+	c26 := 0.5 * c25
+	c27 := j01 * rdetJ
+	k01 := -c27
+	k11 := j00 * rdetJ
+	c28 := c27 - k11
+	c29 := rv[1] * c28
+	c30 := c27 * rv[3]
+	c31 := k11 * rv[5]
+	c32 := c29 + c29 - c30 - c30 + c31 + c31
+	c33 := 0.5 * c32
 	if !(detJ > 0) {
 		fwHairpinDyeFillNaN(A, b)
 		return
 	}
 	var acc [9]float64
+	var rhs [3]float64
 	for q := 0; q < 6; q++ {
 		// Per quadrature point: geometry, coefficients, basis derivatives.
 		p1 := x[0] * fwHairpinDyeVMSCellGeomVal[q][0]
@@ -605,78 +684,92 @@ func (HairpinDyeVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 		tau_phi := c17 * p17
 		p18 := p11 * tau_phi
 		coef2 := p18 + 0.1
-		coef4 := a_2 * a_1 * tau_phi
+		coef3 := a_2 * a_1 * tau_phi
 		p19 := p12 * tau_phi
-		coef12 := 0.1 + p19
+		coef9 := 0.1 + p19
+		p20 := a_2 * tau_phi * 0.1 * c26
+		p21 := a_2 * tau_phi * 0.1 * c33
+		coef14 := p20 + p21
+		p22 := a_1 * tau_phi * 0.1 * c26
+		p23 := a_1 * tau_phi * 0.1 * c33
+		coef15 := p22 + p23
 		w := detJ * fwHairpinDyeVMSCellWeights[q]
-		p20 := a_2 * w
-		p21 := p20 * c21
-		p22 := p20 * c20
-		p23 := p20 * k11
-		p24 := a_1 * w
-		p25 := p24 * c23
-		p26 := p21 + p25
-		p27 := p24 * k00
-		p28 := p27 - p22
-		p29 := p24 * c22
-		p30 := p23 - p29
-		p31 := coef2 * w
-		p32 := c21 * p31
-		p33 := c20 * p31
-		p34 := k11 * p31
-		p35 := coef4 * w
-		p36 := c23 * p35
-		p37 := p32 + p36
-		p38 := k00 * p35
-		p39 := p38 - p33
-		p40 := c22 * p35
-		p41 := p34 - p40
-		p42 := c21 * p35
-		p43 := c20 * p35
-		p44 := k11 * p35
-		p45 := coef12 * w
-		p46 := c23 * p45
-		p47 := p42 + p46
-		p48 := k00 * p45
-		p49 := p48 - p43
-		p50 := c22 * p45
-		p51 := p44 - p50
+		p24 := a_2 * w
+		p25 := c28 * p24
+		p26 := c27 * p24
+		p27 := k11 * p24
+		p28 := a_1 * w
+		p29 := c21 * p28
+		p30 := p25 + p29
+		p31 := k00 * p28
+		p32 := p31 - p26
+		p33 := c20 * p28
+		p34 := p27 - p33
+		p35 := coef2 * w
+		p36 := c28 * p35
+		p37 := c27 * p35
+		p38 := k11 * p35
+		p39 := coef3 * w
+		p40 := c21 * p39
+		p41 := p36 + p40
+		p42 := k00 * p39
+		p43 := p42 - p37
+		p44 := c20 * p39
+		p45 := p38 - p44
+		p46 := c28 * p39
+		p47 := c27 * p39
+		p48 := k11 * p39
+		p49 := coef9 * w
+		p50 := c21 * p49
+		p51 := p46 + p50
+		p52 := k00 * p49
+		p53 := p52 - p47
+		p54 := c20 * p49
+		p55 := p48 - p54
+		p56 := coef14 * w
+		p57 := coef15 * w
 		// Rows 0..2, columns 0..2, at each quadrature point.
 		//
 		//	Galerkin: B = ∫_Ω κ (∇φ·∇v) + (a·∇φ) v dx, F = ∫_Ω 0 dx
-		//	  a[2] · ∂φ/∂y · v                  model.fw:15
-		//	  a[1] · ∂φ/∂x · v                  model.fw:15
-		//	  1/10 · ∂φ/∂y · ∂v/∂y              model.fw:19
-		//	  1/10 · ∂φ/∂x · ∂v/∂x              model.fw:19
+		//	  a[2] · ∂φ/∂y · v                 model.fw:15
+		//	  a[1] · ∂φ/∂x · v                 model.fw:15
+		//	  1/10 · ∂φ/∂y · ∂v/∂y             model.fw:19
+		//	  1/10 · ∂φ/∂x · ∂v/∂x             model.fw:19
 		//	VMS: − Σ_K (τ_phi R_phi, −κ Δv − a·∇v)_K  model.fw:27
-		//	  a[2]² τ_phi · ∂φ/∂y · ∂v/∂y       model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂y² · ∂v/∂y  model.fw:19
-		//	  a[1] a[2] τ_phi · ∂φ/∂x · ∂v/∂y   model.fw:19
-		//	  −a[2] τ_phi/10 · ∂²φ/∂x² · ∂v/∂y  model.fw:19
-		//	  a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂y²   model.fw:19
-		//	  −τ_phi/100 · ∂²φ/∂y² · ∂²v/∂y²    model.fw:19
-		//	  a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂y²   model.fw:19
-		//	  −τ_phi/100 · ∂²φ/∂x² · ∂²v/∂y²    model.fw:19
-		//	  a[1] a[2] τ_phi · ∂φ/∂y · ∂v/∂x   model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂y² · ∂v/∂x  model.fw:19
-		//	  a[1]² τ_phi · ∂φ/∂x · ∂v/∂x       model.fw:19
-		//	  −a[1] τ_phi/10 · ∂²φ/∂x² · ∂v/∂x  model.fw:19
-		//	  a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂x²   model.fw:19
-		//	  −τ_phi/100 · ∂²φ/∂y² · ∂²v/∂x²    model.fw:19
-		//	  a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂x²   model.fw:19
-		//	  −τ_phi/100 · ∂²φ/∂x² · ∂²v/∂x²    model.fw:19
-		acc[0] += fwHairpinDyeVMSCellBasis1Val[q][0]*p26 + c21*p37 + c23*p47
-		acc[1] += fwHairpinDyeVMSCellBasis1Val[q][0]*p28 + c21*p39 + c23*p49
-		acc[2] += fwHairpinDyeVMSCellBasis1Val[q][0]*p30 + c21*p41 + c23*p51
-		acc[3] += fwHairpinDyeVMSCellBasis1Val[q][1]*p26 + k01*p37 + k00*p47
-		acc[4] += fwHairpinDyeVMSCellBasis1Val[q][1]*p28 + k01*p39 + k00*p49
-		acc[5] += fwHairpinDyeVMSCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
-		acc[6] += fwHairpinDyeVMSCellBasis1Val[q][2]*p26 + k11*p37 + k10*p47
-		acc[7] += fwHairpinDyeVMSCellBasis1Val[q][2]*p28 + k11*p39 + k10*p49
-		acc[8] += fwHairpinDyeVMSCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		//	  a[2]² τ_phi · ∂φ/∂y · ∂v/∂y      model.fw:19
+		//	  a[1] a[2] τ_phi · ∂φ/∂x · ∂v/∂y  model.fw:19
+		//	  a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂y²  model.fw:19
+		//	  −τ_phi/100 · ∂²φ/∂y² · ∂²v/∂y²   model.fw:19
+		//	  a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂y²  model.fw:19
+		//	  −τ_phi/100 · ∂²φ/∂x² · ∂²v/∂y²   model.fw:19
+		//	  a[1] a[2] τ_phi · ∂φ/∂y · ∂v/∂x  model.fw:19
+		//	  a[1]² τ_phi · ∂φ/∂x · ∂v/∂x      model.fw:19
+		//	  a[2] τ_phi/10 · ∂φ/∂y · ∂²v/∂x²  model.fw:19
+		//	  −τ_phi/100 · ∂²φ/∂y² · ∂²v/∂x²   model.fw:19
+		//	  a[1] τ_phi/10 · ∂φ/∂x · ∂²v/∂x²  model.fw:19
+		//	  −τ_phi/100 · ∂²φ/∂x² · ∂²v/∂x²   model.fw:19
+		acc[0] += fwHairpinDyeVMSCellBasis1Val[q][0]*p30 + c28*p41 + c21*p51
+		acc[1] += fwHairpinDyeVMSCellBasis1Val[q][0]*p32 + c28*p43 + c21*p53
+		acc[2] += fwHairpinDyeVMSCellBasis1Val[q][0]*p34 + c28*p45 + c21*p55
+		acc[3] += fwHairpinDyeVMSCellBasis1Val[q][1]*p30 + k01*p41 + k00*p51
+		acc[4] += fwHairpinDyeVMSCellBasis1Val[q][1]*p32 + k01*p43 + k00*p53
+		acc[5] += fwHairpinDyeVMSCellBasis1Val[q][1]*p34 + k01*p45 + k00*p55
+		acc[6] += fwHairpinDyeVMSCellBasis1Val[q][2]*p30 + k11*p41 + k10*p51
+		acc[7] += fwHairpinDyeVMSCellBasis1Val[q][2]*p32 + k11*p43 + k10*p53
+		acc[8] += fwHairpinDyeVMSCellBasis1Val[q][2]*p34 + k11*p45 + k10*p55
+		// Rows 0..2 of the right-hand side, at each quadrature point.
+		//
+		//	VMS: − Σ_K (τ_phi R_phi, −κ Δv − a·∇v)_K  model.fw:27
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂y  model.fw:19
+		//	  a[2] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂y  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂x²/10 · ∂v/∂x  model.fw:19
+		//	  a[1] τ_phi ∂²φ⁽ʳᵉᶜ⁾/∂y²/10 · ∂v/∂x  model.fw:19
+		rhs[0] += c28*p56 + c21*p57
+		rhs[1] += k01*p56 + k00*p57
+		rhs[2] += k11*p56 + k10*p57
 	}
 	copy(A, acc[:])
-	clear(b)
+	copy(b, rhs[:])
 }
 
 // fwHairpinDyeFillNaN fills A and b with NaN: the cell has a non-positive

@@ -21,7 +21,7 @@ func init() {
 			return SeepCellStokesGalerkinKernel{}
 		},
 	})
-	compiled.Register("447888dc8976b802a371e96e0217e6f8", compiled.Kernels{
+	compiled.Register("a059a9e9da909d690be4f0d81874388a", compiled.Kernels{
 		Method: "supg",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -29,7 +29,7 @@ func init() {
 			return SeepCellStokesSUPGKernel{}
 		},
 	})
-	compiled.Register("560ae7ad44bfce136e89543a3e0970bb", compiled.Kernels{
+	compiled.Register("55544d2956a719d86c9ed0ca3052da10", compiled.Kernels{
 		Method: "gls",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -37,7 +37,7 @@ func init() {
 			return SeepCellStokesGLSKernel{}
 		},
 	})
-	compiled.Register("8aff0c55af94ffb56dc7268d8a280268", compiled.Kernels{
+	compiled.Register("2de6bf9f3a51afdaad0047e08f227c81", compiled.Kernels{
 		Method: "vms",
 		Cell:   cell.Triangle,
 		Degree: 1,
@@ -246,6 +246,12 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -265,85 +271,129 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	tau_vel := 0.0125 * c17
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := 20.0 * c22
-	c24 := j00 * j01
-	c25 := (-20.0) * c24
-	c26 := j00 * j00
-	c27 := 20.0 * c26
-	c28 := j11 * j11
-	c29 := 40.0 * c28
-	c30 := j11 * j10
-	c31 := c30 * (-40.0)
-	c32 := j10 * j10
-	c33 := 40.0 * c32
 	rdetJ := 1.0 / detJ
-	c34 := c23 + c29
-	c35 := rdetJ * c34
-	c36 := c25 + c31
-	c37 := rdetJ * c36
-	c38 := c27 + c33
-	c39 := rdetJ * c38
-	c40 := j11 * j01
-	c41 := (-20.0) * c40
-	c42 := 20.0 * c18
-	c43 := 20.0 * c19
-	c44 := j00 * j10
-	c45 := (-20.0) * c44
-	c46 := rdetJ * c41
-	c47 := rdetJ * c42
-	c48 := rdetJ * c43
-	c49 := rdetJ * c45
-	c50 := 40.0 * c22
-	c51 := c24 * (-40.0)
-	c52 := 40.0 * c26
-	c53 := 20.0 * c28
-	c54 := (-20.0) * c30
-	c55 := 20.0 * c32
-	c56 := c50 + c53
-	c57 := rdetJ * c56
-	c58 := c51 + c54
-	c59 := rdetJ * c58
-	c60 := c52 + c55
-	c61 := rdetJ * c60
-	c62 := 0.0125 * c22
-	c63 := c24 * (-0.0125)
-	c64 := 0.0125 * c26
-	c65 := 0.0125 * c28
-	c66 := c30 * (-0.0125)
-	c67 := 0.0125 * c32
-	c68 := c62 + c65
-	c69 := rdetJ * c68
-	c70 := c63 + c66
-	c71 := rdetJ * c70
-	c72 := c64 + c67
-	c73 := rdetJ * c72
-	c74 := c69 * 0.5
-	c75 := c71 * 0.5
-	c76 := c73 * 0.5
-	c77 := c74 + c75 + c75 + c76
-	c78 := c69 * (-0.5)
-	c79 := c71 * (-0.5)
-	c80 := c78 + c79
-	c81 := c73 * (-0.5)
-	c82 := c79 + c81
-	c83 := (-9.81) * detJ
-	c84 := j01 * 9.81
-	c85 := (-9.81) * j00
-	c86 := (-0.5) * c84
-	c87 := (-0.5) * c85
-	c88 := c86 + c87
-	c89 := 0.5 * c84
-	c90 := 0.5 * c85
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := 20.0 * c50
+	c52 := j00 * j01
+	c53 := c52 * (-20.0)
+	c54 := j00 * j00
+	c55 := 20.0 * c54
+	c56 := j11 * j11
+	c57 := 40.0 * c56
+	c58 := j11 * j10
+	c59 := c58 * (-40.0)
+	c60 := j10 * j10
+	c61 := 40.0 * c60
+	c62 := c51 + c57
+	c63 := rdetJ * c62
+	c64 := c53 + c59
+	c65 := rdetJ * c64
+	c66 := c55 + c61
+	c67 := rdetJ * c66
+	c68 := j11 * j01
+	c69 := (-20.0) * c68
+	c70 := 20.0 * c18
+	c71 := 20.0 * c19
+	c72 := j00 * j10
+	c73 := (-20.0) * c72
+	c74 := rdetJ * c69
+	c75 := rdetJ * c70
+	c76 := rdetJ * c71
+	c77 := rdetJ * c73
+	c78 := 40.0 * c50
+	c79 := c52 * (-40.0)
+	c80 := 40.0 * c54
+	c81 := 20.0 * c56
+	c82 := (-20.0) * c58
+	c83 := 20.0 * c60
+	c84 := c78 + c81
+	c85 := rdetJ * c84
+	c86 := c79 + c82
+	c87 := rdetJ * c86
+	c88 := c80 + c83
+	c89 := rdetJ * c88
+	c90 := 0.0125 * c50
+	c91 := c52 * (-0.0125)
+	c92 := 0.0125 * c54
+	c93 := 0.0125 * c56
+	c94 := c58 * (-0.0125)
+	c95 := 0.0125 * c60
+	c96 := c90 + c93
+	c97 := rdetJ * c96
+	c98 := c91 + c94
+	c99 := rdetJ * c98
+	c100 := c92 + c95
+	c101 := rdetJ * c100
+	c102 := 0.5 * c97
+	c103 := 0.5 * c99
+	c104 := 0.5 * c101
+	c105 := c102 + c103 + c103 + c104
+	c106 := c97 * (-0.5)
+	c107 := c99 * (-0.5)
+	c108 := c106 + c107
+	c109 := c101 * (-0.5)
+	c110 := c107 + c109
+	c111 := (-9.81) * detJ
+	c112 := j01 * (-20.0)
+	c113 := j01 * 9.81
+	c114 := 20.0 * j00
+	c115 := (-9.81) * j00
+	c116 := 20.0 * j11
+	c117 := j10 * (-20.0)
+	c118 := (-0.5) * c113
+	c119 := (-0.5) * c115
+	c120 := c118 + c119
+	c121 := (-0.5) * c112
+	c122 := (-0.5) * c114
+	c123 := c121 + c122
+	c124 := (-0.5) * c116
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := 0.5 * c113
+	c128 := 0.5 * c112
+	c129 := 0.5 * c116
+	c130 := 0.5 * c115
+	c131 := 0.5 * c114
+	c132 := 0.5 * c117
 	if !(detJ > 0) {
 		fwSeepCellStokesFillNaN(A, b)
 		return
@@ -371,80 +421,77 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂y · ∂v_vel[1]/∂y  model.fw:15
 	//	  40 · ∂vel[1]/∂x · ∂v_vel[1]/∂x  model.fw:16
-	A[0] = 0.5*(c35+c39) + c37
-	A[1] = 0.5 * (-c35 - c37)
-	A[2] = 0.5 * (-c37 - c39)
-	A[9] = 0.5 * (-c35 - c37)
-	A[10] = 0.5 * c35
-	A[11] = 0.5 * c37
-	A[18] = 0.5 * (-c37 - c39)
-	A[19] = 0.5 * c37
-	A[20] = 0.5 * c39
+	A[0] = 0.5*(c63+c67) + c65
+	A[1] = 0.5 * (-c63 - c65)
+	A[2] = 0.5 * (-c65 - c67)
+	A[9] = 0.5 * (-c63 - c65)
+	A[10] = 0.5 * c63
+	A[11] = 0.5 * c65
+	A[18] = 0.5 * (-c65 - c67)
+	A[19] = 0.5 * c65
+	A[20] = 0.5 * c67
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
-	A[3] = 0.5 * (c46 + c47 + c48 + c49)
-	A[4] = 0.5 * (-c46 - c48)
-	A[5] = 0.5 * (-c47 - c49)
-	A[12] = 0.5 * (-c46 - c47)
-	A[13] = 0.5 * c46
-	A[14] = 0.5 * c47
-	A[21] = 0.5 * (-c48 - c49)
-	A[22] = 0.5 * c48
-	A[23] = 0.5 * c49
+	A[3] = 0.5 * (c74 + c75 + c76 + c77)
+	A[4] = 0.5 * (-c74 - c76)
+	A[5] = 0.5 * (-c75 - c77)
+	A[12] = 0.5 * (-c74 - c75)
+	A[13] = 0.5 * c74
+	A[14] = 0.5 * c75
+	A[21] = 0.5 * (-c76 - c77)
+	A[22] = 0.5 * c76
+	A[23] = 0.5 * c77
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  ∂p/∂y · v_vel[2]  model.fw:15
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
-	A[27] = 0.5 * (c46 + c48 + c47 + c49)
-	A[28] = 0.5 * (-c46 - c47)
-	A[29] = 0.5 * (-c48 - c49)
-	A[36] = 0.5 * (-c46 - c48)
-	A[37] = 0.5 * c46
-	A[38] = 0.5 * c48
-	A[45] = 0.5 * (-c47 - c49)
-	A[46] = 0.5 * c47
-	A[47] = 0.5 * c49
+	A[27] = 0.5 * (c74 + c76 + c75 + c77)
+	A[28] = 0.5 * (-c74 - c75)
+	A[29] = 0.5 * (-c76 - c77)
+	A[36] = 0.5 * (-c74 - c76)
+	A[37] = 0.5 * c74
+	A[38] = 0.5 * c76
+	A[45] = 0.5 * (-c75 - c77)
+	A[46] = 0.5 * c75
+	A[47] = 0.5 * c77
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  40 · ∂vel[2]/∂y · ∂v_vel[2]/∂y  model.fw:16
 	//	  20 · ∂vel[2]/∂x · ∂v_vel[2]/∂x  model.fw:15
-	A[30] = 0.5*(c57+c61) + c59
-	A[31] = 0.5 * (-c57 - c59)
-	A[32] = 0.5 * (-c59 - c61)
-	A[39] = 0.5 * (-c57 - c59)
-	A[40] = 0.5 * c57
-	A[41] = 0.5 * c59
-	A[48] = 0.5 * (-c59 - c61)
-	A[49] = 0.5 * c59
-	A[50] = 0.5 * c61
+	A[30] = 0.5*(c85+c89) + c87
+	A[31] = 0.5 * (-c85 - c87)
+	A[32] = 0.5 * (-c87 - c89)
+	A[39] = 0.5 * (-c85 - c87)
+	A[40] = 0.5 * c85
+	A[41] = 0.5 * c87
+	A[48] = 0.5 * (-c87 - c89)
+	A[49] = 0.5 * c87
+	A[50] = 0.5 * c89
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
-	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
-	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  ∂vel[1]/∂x · v_p  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -458,18 +505,15 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K     model.fw:20
-	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
-	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  model.fw:15
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -477,31 +521,35 @@ func (SeepCellStokesSUPGKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
-	A[60] = c17 * c77
-	A[61] = c17 * c80
-	A[62] = c17 * c82
-	A[69] = c17 * c80
-	A[70] = c17 * c74
-	A[71] = c17 * c75
-	A[78] = c17 * c82
-	A[79] = c17 * c75
-	A[80] = c17 * c76
+	A[60] = c17 * c105
+	A[61] = c17 * c108
+	A[62] = c17 * c110
+	A[69] = c17 * c108
+	A[70] = c17 * c102
+	A[71] = c17 * c103
+	A[78] = c17 * c110
+	A[79] = c17 * c103
+	A[80] = c17 * c104
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  −981/100 · v_vel[2]  model.fw:15
-	b[3] = (1.0 / 6) * c83
-	b[4] = (1.0 / 6) * c83
-	b[5] = (1.0 / 6) * c83
+	b[3] = (1.0 / 6) * c111
+	b[4] = (1.0 / 6) * c111
+	b[5] = (1.0 / 6) * c111
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
-	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K  model.fw:20
-	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
-	b[6] = tau_vel * c88
-	b[7] = tau_vel * c89
-	b[8] = tau_vel * c90
+	//	SUPG: + Σ_K (τ_vel R_vel, ∇v_p)_K       model.fw:20
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −981 τ_vel/100 · ∂v_p/∂y              model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  model.fw:15
+	b[6] = tau_vel*c120 + c28*c123 + c37*c123 + c43*c126 + c49*c126
+	b[7] = tau_vel*c127 + c28*c128 + c37*c128 + c43*c129 + c49*c129
+	b[8] = tau_vel*c130 + c28*c131 + c37*c131 + c43*c132 + c49*c132
 }
 
 // fwSeepCellStokesGLSLayout is the element layout of the gls kernels: triangle
@@ -535,6 +583,12 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -554,85 +608,129 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	tau_vel := 0.0125 * c17
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := j00 * j01
-	c24 := j00 * j00
-	c25 := j11 * j11
-	c26 := j11 * j10
-	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	c28 := 20.0 * c22
-	c29 := (-20.0) * c23
-	c30 := 20.0 * c24
-	c31 := 40.0 * c25
-	c32 := c26 * (-40.0)
-	c33 := 40.0 * c27
-	c34 := c28 + c31
-	c35 := rdetJ * c34
-	c36 := c29 + c32
-	c37 := rdetJ * c36
-	c38 := c30 + c33
-	c39 := rdetJ * c38
-	c40 := j11 * j01
-	c41 := (-20.0) * c40
-	c42 := 20.0 * c18
-	c43 := 20.0 * c19
-	c44 := j00 * j10
-	c45 := (-20.0) * c44
-	c46 := rdetJ * c41
-	c47 := rdetJ * c42
-	c48 := rdetJ * c43
-	c49 := rdetJ * c45
-	c50 := 40.0 * c22
-	c51 := c23 * (-40.0)
-	c52 := 40.0 * c24
-	c53 := 20.0 * c25
-	c54 := (-20.0) * c26
-	c55 := 20.0 * c27
-	c56 := c50 + c53
-	c57 := rdetJ * c56
-	c58 := c51 + c54
-	c59 := rdetJ * c58
-	c60 := c52 + c55
-	c61 := rdetJ * c60
-	c62 := 0.0125 * c22
-	c63 := c23 * (-0.0125)
-	c64 := 0.0125 * c24
-	c65 := 0.0125 * c25
-	c66 := c26 * (-0.0125)
-	c67 := 0.0125 * c27
-	c68 := c62 + c65
-	c69 := rdetJ * c68
-	c70 := c63 + c66
-	c71 := rdetJ * c70
-	c72 := c64 + c67
-	c73 := rdetJ * c72
-	c74 := c69 * 0.5
-	c75 := c71 * 0.5
-	c76 := c73 * 0.5
-	c77 := c74 + c75 + c75 + c76
-	c78 := c69 * (-0.5)
-	c79 := c71 * (-0.5)
-	c80 := c78 + c79
-	c81 := c73 * (-0.5)
-	c82 := c79 + c81
-	c83 := (-9.81) * detJ
-	c84 := j01 * 9.81
-	c85 := (-9.81) * j00
-	c86 := (-0.5) * c84
-	c87 := (-0.5) * c85
-	c88 := c86 + c87
-	c89 := 0.5 * c84
-	c90 := 0.5 * c85
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := j00 * j01
+	c52 := j00 * j00
+	c53 := j11 * j11
+	c54 := j11 * j10
+	c55 := j10 * j10
+	c56 := 20.0 * c50
+	c57 := (-20.0) * c51
+	c58 := 20.0 * c52
+	c59 := 40.0 * c53
+	c60 := c54 * (-40.0)
+	c61 := 40.0 * c55
+	c62 := c56 + c59
+	c63 := rdetJ * c62
+	c64 := c57 + c60
+	c65 := rdetJ * c64
+	c66 := c58 + c61
+	c67 := rdetJ * c66
+	c68 := j11 * j01
+	c69 := (-20.0) * c68
+	c70 := 20.0 * c18
+	c71 := 20.0 * c19
+	c72 := j00 * j10
+	c73 := (-20.0) * c72
+	c74 := rdetJ * c69
+	c75 := rdetJ * c70
+	c76 := rdetJ * c71
+	c77 := rdetJ * c73
+	c78 := 40.0 * c50
+	c79 := c51 * (-40.0)
+	c80 := 40.0 * c52
+	c81 := 20.0 * c53
+	c82 := (-20.0) * c54
+	c83 := 20.0 * c55
+	c84 := c78 + c81
+	c85 := rdetJ * c84
+	c86 := c79 + c82
+	c87 := rdetJ * c86
+	c88 := c80 + c83
+	c89 := rdetJ * c88
+	c90 := 0.0125 * c50
+	c91 := c51 * (-0.0125)
+	c92 := 0.0125 * c52
+	c93 := 0.0125 * c53
+	c94 := c54 * (-0.0125)
+	c95 := 0.0125 * c55
+	c96 := c90 + c93
+	c97 := rdetJ * c96
+	c98 := c91 + c94
+	c99 := rdetJ * c98
+	c100 := c92 + c95
+	c101 := rdetJ * c100
+	c102 := 0.5 * c97
+	c103 := 0.5 * c99
+	c104 := 0.5 * c101
+	c105 := c102 + c103 + c103 + c104
+	c106 := c97 * (-0.5)
+	c107 := c99 * (-0.5)
+	c108 := c106 + c107
+	c109 := c101 * (-0.5)
+	c110 := c107 + c109
+	c111 := (-9.81) * detJ
+	c112 := (-20.0) * j01
+	c113 := j01 * 9.81
+	c114 := 20.0 * j00
+	c115 := (-9.81) * j00
+	c116 := 20.0 * j11
+	c117 := (-20.0) * j10
+	c118 := (-0.5) * c113
+	c119 := (-0.5) * c115
+	c120 := c118 + c119
+	c121 := (-0.5) * c112
+	c122 := (-0.5) * c114
+	c123 := c121 + c122
+	c124 := (-0.5) * c116
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := 0.5 * c113
+	c128 := 0.5 * c112
+	c129 := 0.5 * c116
+	c130 := 0.5 * c115
+	c131 := 0.5 * c114
+	c132 := 0.5 * c117
 	if !(detJ > 0) {
 		fwSeepCellStokesFillNaN(A, b)
 		return
@@ -668,29 +766,29 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
 	//	  400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
-	A[0] = 0.5*(c35+c39) + c37
-	A[1] = 0.5 * (-c35 - c37)
-	A[2] = 0.5 * (-c37 - c39)
-	A[9] = 0.5 * (-c35 - c37)
-	A[10] = 0.5 * c35
-	A[11] = 0.5 * c37
-	A[18] = 0.5 * (-c37 - c39)
-	A[19] = 0.5 * c37
-	A[20] = 0.5 * c39
+	A[0] = 0.5*(c63+c67) + c65
+	A[1] = 0.5 * (-c63 - c65)
+	A[2] = 0.5 * (-c65 - c67)
+	A[9] = 0.5 * (-c63 - c65)
+	A[10] = 0.5 * c63
+	A[11] = 0.5 * c65
+	A[18] = 0.5 * (-c65 - c67)
+	A[19] = 0.5 * c65
+	A[20] = 0.5 * c67
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
-	A[3] = 0.5 * (c46 + c47 + c48 + c49)
-	A[4] = 0.5 * (-c46 - c48)
-	A[5] = 0.5 * (-c47 - c49)
-	A[12] = 0.5 * (-c46 - c47)
-	A[13] = 0.5 * c46
-	A[14] = 0.5 * c47
-	A[21] = 0.5 * (-c48 - c49)
-	A[22] = 0.5 * c48
-	A[23] = 0.5 * c49
+	A[3] = 0.5 * (c74 + c75 + c76 + c77)
+	A[4] = 0.5 * (-c74 - c76)
+	A[5] = 0.5 * (-c75 - c77)
+	A[12] = 0.5 * (-c74 - c75)
+	A[13] = 0.5 * c74
+	A[14] = 0.5 * c75
+	A[21] = 0.5 * (-c76 - c77)
+	A[22] = 0.5 * c76
+	A[23] = 0.5 * c77
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -699,29 +797,29 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
-	A[27] = 0.5 * (c46 + c48 + c47 + c49)
-	A[28] = 0.5 * (-c46 - c47)
-	A[29] = 0.5 * (-c48 - c49)
-	A[36] = 0.5 * (-c46 - c48)
-	A[37] = 0.5 * c46
-	A[38] = 0.5 * c48
-	A[45] = 0.5 * (-c47 - c49)
-	A[46] = 0.5 * c47
-	A[47] = 0.5 * c49
+	A[27] = 0.5 * (c74 + c76 + c75 + c77)
+	A[28] = 0.5 * (-c74 - c75)
+	A[29] = 0.5 * (-c76 - c77)
+	A[36] = 0.5 * (-c74 - c76)
+	A[37] = 0.5 * c74
+	A[38] = 0.5 * c76
+	A[45] = 0.5 * (-c75 - c77)
+	A[46] = 0.5 * c75
+	A[47] = 0.5 * c77
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -733,23 +831,20 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
 	//	  400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
-	A[30] = 0.5*(c57+c61) + c59
-	A[31] = 0.5 * (-c57 - c59)
-	A[32] = 0.5 * (-c59 - c61)
-	A[39] = 0.5 * (-c57 - c59)
-	A[40] = 0.5 * c57
-	A[41] = 0.5 * c59
-	A[48] = 0.5 * (-c59 - c61)
-	A[49] = 0.5 * c59
-	A[50] = 0.5 * c61
+	A[30] = 0.5*(c85+c89) + c87
+	A[31] = 0.5 * (-c85 - c87)
+	A[32] = 0.5 * (-c87 - c89)
+	A[39] = 0.5 * (-c85 - c87)
+	A[40] = 0.5 * c85
+	A[41] = 0.5 * c87
+	A[48] = 0.5 * (-c87 - c89)
+	A[49] = 0.5 * c87
+	A[50] = 0.5 * c89
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
-	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
-	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  ∂vel[1]/∂x · v_p  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -763,18 +858,15 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
-	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
-	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  model.fw:15
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -782,15 +874,15 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
-	A[60] = c17 * c77
-	A[61] = c17 * c80
-	A[62] = c17 * c82
-	A[69] = c17 * c80
-	A[70] = c17 * c74
-	A[71] = c17 * c75
-	A[78] = c17 * c82
-	A[79] = c17 * c75
-	A[80] = c17 * c76
+	A[60] = c17 * c105
+	A[61] = c17 * c108
+	A[62] = c17 * c110
+	A[69] = c17 * c108
+	A[70] = c17 * c102
+	A[71] = c17 * c103
+	A[78] = c17 * c110
+	A[79] = c17 * c103
+	A[80] = c17 * c104
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
@@ -799,17 +891,21 @@ func (SeepCellStokesGLSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
 	//	  981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
-	b[3] = (1.0 / 6) * c83
-	b[4] = (1.0 / 6) * c83
-	b[5] = (1.0 / 6) * c83
+	b[3] = (1.0 / 6) * c111
+	b[4] = (1.0 / 6) * c111
+	b[5] = (1.0 / 6) * c111
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	GLS: + Σ_K (τ_vel R_vel, −μ Δv_vel + ∇v_p)_K  model.fw:20
-	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
-	b[6] = tau_vel * c88
-	b[7] = tau_vel * c89
-	b[8] = tau_vel * c90
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −981 τ_vel/100 · ∂v_p/∂y              model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  model.fw:15
+	b[6] = tau_vel*c120 + c28*c123 + c37*c123 + c43*c126 + c49*c126
+	b[7] = tau_vel*c127 + c28*c128 + c37*c128 + c43*c129 + c49*c129
+	b[8] = tau_vel*c130 + c28*c131 + c37*c131 + c43*c132 + c49*c132
 }
 
 // fwSeepCellStokesVMSLayout is the element layout of the vms kernels: triangle
@@ -843,6 +939,12 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	A = A[:81:81]
 	b = b[:9:9]
 	x := in.Coords[:6:6]
+	// The recovered gradient of the previous iterate (dim values per local dof) is zero when there is none.
+	var zeroR [18]float64
+	rv := zeroR[:]
+	if in.Recovered != nil {
+		rv = in.Recovered[:18:18]
+	}
 	// Per cell: geometry, cell quantities and coefficients constant in the cell.
 	c1 := x[0] - x[2]
 	c2 := c1 * c1
@@ -862,85 +964,129 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	c16 := c13 + c15
 	c17 := max(c11, c16)
 	tau_vel := 0.0125 * c17
-	j00 := x[2] - x[0]
 	j11 := x[5] - x[1]
-	c18 := j00 * j11
+	j00 := x[2] - x[0]
+	c18 := j11 * j00
 	j01 := x[4] - x[0]
 	j10 := x[3] - x[1]
 	c19 := j01 * j10
 	detJ := c18 - c19
-	c20 := -j10
-	c21 := -j01
-	c22 := j01 * j01
-	c23 := j00 * j01
-	c24 := j00 * j00
-	c25 := j11 * j11
-	c26 := j11 * j10
-	c27 := j10 * j10
 	rdetJ := 1.0 / detJ
-	c28 := 20.0 * c22
-	c29 := (-20.0) * c23
-	c30 := 20.0 * c24
-	c31 := 40.0 * c25
-	c32 := c26 * (-40.0)
-	c33 := 40.0 * c27
-	c34 := c28 + c31
-	c35 := rdetJ * c34
-	c36 := c29 + c32
-	c37 := rdetJ * c36
-	c38 := c30 + c33
-	c39 := rdetJ * c38
-	c40 := j11 * j01
-	c41 := (-20.0) * c40
-	c42 := 20.0 * c18
-	c43 := 20.0 * c19
-	c44 := j00 * j10
-	c45 := (-20.0) * c44
-	c46 := rdetJ * c41
-	c47 := rdetJ * c42
-	c48 := rdetJ * c43
-	c49 := rdetJ * c45
-	c50 := 40.0 * c22
-	c51 := c23 * (-40.0)
-	c52 := 40.0 * c24
-	c53 := 20.0 * c25
-	c54 := (-20.0) * c26
-	c55 := 20.0 * c27
-	c56 := c50 + c53
-	c57 := rdetJ * c56
-	c58 := c51 + c54
-	c59 := rdetJ * c58
-	c60 := c52 + c55
-	c61 := rdetJ * c60
-	c62 := 0.0125 * c22
-	c63 := c23 * (-0.0125)
-	c64 := 0.0125 * c24
-	c65 := 0.0125 * c25
-	c66 := c26 * (-0.0125)
-	c67 := 0.0125 * c27
-	c68 := c62 + c65
-	c69 := rdetJ * c68
-	c70 := c63 + c66
-	c71 := rdetJ * c70
-	c72 := c64 + c67
-	c73 := rdetJ * c72
-	c74 := c69 * 0.5
-	c75 := c71 * 0.5
-	c76 := c73 * 0.5
-	c77 := c74 + c75 + c75 + c76
-	c78 := c69 * (-0.5)
-	c79 := c71 * (-0.5)
-	c80 := c78 + c79
-	c81 := c73 * (-0.5)
-	c82 := c79 + c81
-	c83 := (-9.81) * detJ
-	c84 := j01 * 9.81
-	c85 := (-9.81) * j00
-	c86 := (-0.5) * c84
-	c87 := (-0.5) * c85
-	c88 := c86 + c87
-	c89 := 0.5 * c84
-	c90 := 0.5 * c85
+	k00 := j11 * rdetJ
+	c20 := -j10
+	c21 := j10 * rdetJ
+	c22 := c21 - k00
+	c23 := rv[6] * c22
+	c24 := k00 * rv[8]
+	c25 := c21 * rv[10]
+	c26 := c23 + c23 + c24 + c24 - c25 - c25
+	c27 := 0.5 * c26
+	c28 := tau_vel * c27
+	c29 := -j01
+	c30 := j01 * rdetJ
+	k11 := j00 * rdetJ
+	c31 := c30 - k11
+	c32 := rv[7] * c31
+	c33 := c30 * rv[9]
+	c34 := k11 * rv[11]
+	c35 := c32 + c32 - c33 - c33 + c34 + c34
+	c36 := 0.5 * c35
+	c37 := tau_vel * c36
+	c38 := c22 * rv[0]
+	c39 := k00 * rv[2]
+	c40 := c21 * rv[4]
+	c41 := c38 + c38 + c39 + c39 - c40 - c40
+	c42 := 0.5 * c41
+	c43 := tau_vel * c42
+	c44 := c31 * rv[1]
+	c45 := c30 * rv[3]
+	c46 := k11 * rv[5]
+	c47 := c44 + c44 - c45 - c45 + c46 + c46
+	c48 := 0.5 * c47
+	c49 := tau_vel * c48
+	c50 := j01 * j01
+	c51 := j00 * j01
+	c52 := j00 * j00
+	c53 := j11 * j11
+	c54 := j11 * j10
+	c55 := j10 * j10
+	c56 := 20.0 * c50
+	c57 := c51 * (-20.0)
+	c58 := 20.0 * c52
+	c59 := 40.0 * c53
+	c60 := c54 * (-40.0)
+	c61 := 40.0 * c55
+	c62 := c56 + c59
+	c63 := rdetJ * c62
+	c64 := c57 + c60
+	c65 := rdetJ * c64
+	c66 := c58 + c61
+	c67 := rdetJ * c66
+	c68 := j11 * j01
+	c69 := (-20.0) * c68
+	c70 := 20.0 * c18
+	c71 := 20.0 * c19
+	c72 := j00 * j10
+	c73 := (-20.0) * c72
+	c74 := rdetJ * c69
+	c75 := rdetJ * c70
+	c76 := rdetJ * c71
+	c77 := rdetJ * c73
+	c78 := 40.0 * c50
+	c79 := c51 * (-40.0)
+	c80 := 40.0 * c52
+	c81 := 20.0 * c53
+	c82 := (-20.0) * c54
+	c83 := 20.0 * c55
+	c84 := c78 + c81
+	c85 := rdetJ * c84
+	c86 := c79 + c82
+	c87 := rdetJ * c86
+	c88 := c80 + c83
+	c89 := rdetJ * c88
+	c90 := 0.0125 * c50
+	c91 := c51 * (-0.0125)
+	c92 := 0.0125 * c52
+	c93 := 0.0125 * c53
+	c94 := c54 * (-0.0125)
+	c95 := 0.0125 * c55
+	c96 := c90 + c93
+	c97 := rdetJ * c96
+	c98 := c91 + c94
+	c99 := rdetJ * c98
+	c100 := c92 + c95
+	c101 := rdetJ * c100
+	c102 := 0.5 * c97
+	c103 := 0.5 * c99
+	c104 := 0.5 * c101
+	c105 := c102 + c103 + c103 + c104
+	c106 := c97 * (-0.5)
+	c107 := c99 * (-0.5)
+	c108 := c106 + c107
+	c109 := c101 * (-0.5)
+	c110 := c107 + c109
+	c111 := (-9.81) * detJ
+	c112 := j01 * (-20.0)
+	c113 := j01 * 9.81
+	c114 := 20.0 * j00
+	c115 := (-9.81) * j00
+	c116 := 20.0 * j11
+	c117 := j10 * (-20.0)
+	c118 := (-0.5) * c113
+	c119 := (-0.5) * c115
+	c120 := c118 + c119
+	c121 := (-0.5) * c112
+	c122 := (-0.5) * c114
+	c123 := c121 + c122
+	c124 := (-0.5) * c116
+	c125 := (-0.5) * c117
+	c126 := c124 + c125
+	c127 := 0.5 * c113
+	c128 := 0.5 * c112
+	c129 := 0.5 * c116
+	c130 := 0.5 * c115
+	c131 := 0.5 * c114
+	c132 := 0.5 * c117
 	if !(detJ > 0) {
 		fwSeepCellStokesFillNaN(A, b)
 		return
@@ -976,29 +1122,29 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[1]/∂y² · ∂²v_vel[1]/∂x²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[1]/∂x² · ∂²v_vel[1]/∂x²  model.fw:15
-	A[0] = 0.5*(c35+c39) + c37
-	A[1] = 0.5 * (-c35 - c37)
-	A[2] = 0.5 * (-c37 - c39)
-	A[9] = 0.5 * (-c35 - c37)
-	A[10] = 0.5 * c35
-	A[11] = 0.5 * c37
-	A[18] = 0.5 * (-c37 - c39)
-	A[19] = 0.5 * c37
-	A[20] = 0.5 * c39
+	A[0] = 0.5*(c63+c67) + c65
+	A[1] = 0.5 * (-c63 - c65)
+	A[2] = 0.5 * (-c65 - c67)
+	A[9] = 0.5 * (-c63 - c65)
+	A[10] = 0.5 * c63
+	A[11] = 0.5 * c65
+	A[18] = 0.5 * (-c65 - c67)
+	A[19] = 0.5 * c65
+	A[20] = 0.5 * c67
 	// Rows 0..2, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[2]/∂y · ∂v_vel[1]/∂x  model.fw:16
-	A[3] = 0.5 * (c46 + c47 + c48 + c49)
-	A[4] = 0.5 * (-c46 - c48)
-	A[5] = 0.5 * (-c47 - c49)
-	A[12] = 0.5 * (-c46 - c47)
-	A[13] = 0.5 * c46
-	A[14] = 0.5 * c47
-	A[21] = 0.5 * (-c48 - c49)
-	A[22] = 0.5 * c48
-	A[23] = 0.5 * c49
+	A[3] = 0.5 * (c74 + c75 + c76 + c77)
+	A[4] = 0.5 * (-c74 - c76)
+	A[5] = 0.5 * (-c75 - c77)
+	A[12] = 0.5 * (-c74 - c75)
+	A[13] = 0.5 * c74
+	A[14] = 0.5 * c75
+	A[21] = 0.5 * (-c76 - c77)
+	A[22] = 0.5 * c76
+	A[23] = 0.5 * c77
 	// Rows 3..5, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1007,29 +1153,29 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  20 τ_vel · ∂p/∂y · ∂²v_vel[2]/∂x²  model.fw:15
-	A[33] = (1.0 / 6) * (-c21 - j00)
-	A[34] = (1.0 / 6) * c21
+	A[33] = (1.0 / 6) * (-c29 - j00)
+	A[34] = (1.0 / 6) * c29
 	A[35] = (1.0 / 6) * j00
-	A[42] = (1.0 / 6) * (-c21 - j00)
-	A[43] = (1.0 / 6) * c21
+	A[42] = (1.0 / 6) * (-c29 - j00)
+	A[43] = (1.0 / 6) * c29
 	A[44] = (1.0 / 6) * j00
-	A[51] = (1.0 / 6) * (-c21 - j00)
-	A[52] = (1.0 / 6) * c21
+	A[51] = (1.0 / 6) * (-c29 - j00)
+	A[52] = (1.0 / 6) * c29
 	A[53] = (1.0 / 6) * j00
 	// Rows 3..5, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
 	//	  20 · ∂vel[1]/∂x · ∂v_vel[2]/∂y  model.fw:16
-	A[27] = 0.5 * (c46 + c48 + c47 + c49)
-	A[28] = 0.5 * (-c46 - c47)
-	A[29] = 0.5 * (-c48 - c49)
-	A[36] = 0.5 * (-c46 - c48)
-	A[37] = 0.5 * c46
-	A[38] = 0.5 * c48
-	A[45] = 0.5 * (-c47 - c49)
-	A[46] = 0.5 * c47
-	A[47] = 0.5 * c49
+	A[27] = 0.5 * (c74 + c76 + c75 + c77)
+	A[28] = 0.5 * (-c74 - c75)
+	A[29] = 0.5 * (-c76 - c77)
+	A[36] = 0.5 * (-c74 - c76)
+	A[37] = 0.5 * c74
+	A[38] = 0.5 * c76
+	A[45] = 0.5 * (-c75 - c77)
+	A[46] = 0.5 * c75
+	A[47] = 0.5 * c77
 	// Rows 3..5, columns 3..5, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
@@ -1041,23 +1187,20 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[2]/∂y² · ∂²v_vel[2]/∂x²  model.fw:15
 	//	  −400 τ_vel · ∂²vel[2]/∂x² · ∂²v_vel[2]/∂x²  model.fw:15
-	A[30] = 0.5*(c57+c61) + c59
-	A[31] = 0.5 * (-c57 - c59)
-	A[32] = 0.5 * (-c59 - c61)
-	A[39] = 0.5 * (-c57 - c59)
-	A[40] = 0.5 * c57
-	A[41] = 0.5 * c59
-	A[48] = 0.5 * (-c59 - c61)
-	A[49] = 0.5 * c59
-	A[50] = 0.5 * c61
+	A[30] = 0.5*(c85+c89) + c87
+	A[31] = 0.5 * (-c85 - c87)
+	A[32] = 0.5 * (-c87 - c89)
+	A[39] = 0.5 * (-c85 - c87)
+	A[40] = 0.5 * c85
+	A[41] = 0.5 * c87
+	A[48] = 0.5 * (-c87 - c89)
+	A[49] = 0.5 * c87
+	A[50] = 0.5 * c89
 	// Rows 6..8, columns 0..2, integrated in advance (affine cell, coefficients
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[1]/∂x · v_p                    model.fw:15
-	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
-	//	  −20 τ_vel · ∂²vel[1]/∂y² · ∂v_p/∂x  model.fw:15
-	//	  −20 τ_vel · ∂²vel[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  ∂vel[1]/∂x · v_p  model.fw:15
 	A[54] = (1.0 / 6) * (-j11 - c20)
 	A[55] = (1.0 / 6) * j11
 	A[56] = (1.0 / 6) * c20
@@ -1071,18 +1214,15 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	// constant in the cell).
 	//
 	//	Galerkin: B = ∫_Ω μ (∇vel:∇v_vel) + (∇·vel) v_p + ∇p·v_vel dx, F = ∫_Ω ρ_g·v_vel dx
-	//	  ∂vel[2]/∂y · v_p                    model.fw:15
-	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
-	//	  −20 τ_vel · ∂²vel[2]/∂y² · ∂v_p/∂y  model.fw:15
-	//	  −20 τ_vel · ∂²vel[2]/∂x² · ∂v_p/∂y  model.fw:15
-	A[57] = (1.0 / 6) * (-c21 - j00)
-	A[58] = (1.0 / 6) * c21
+	//	  ∂vel[2]/∂y · v_p  model.fw:15
+	A[57] = (1.0 / 6) * (-c29 - j00)
+	A[58] = (1.0 / 6) * c29
 	A[59] = (1.0 / 6) * j00
-	A[66] = (1.0 / 6) * (-c21 - j00)
-	A[67] = (1.0 / 6) * c21
+	A[66] = (1.0 / 6) * (-c29 - j00)
+	A[67] = (1.0 / 6) * c29
 	A[68] = (1.0 / 6) * j00
-	A[75] = (1.0 / 6) * (-c21 - j00)
-	A[76] = (1.0 / 6) * c21
+	A[75] = (1.0 / 6) * (-c29 - j00)
+	A[76] = (1.0 / 6) * c29
 	A[77] = (1.0 / 6) * j00
 	// Rows 6..8, columns 6..8, integrated in advance (affine cell, coefficients
 	// constant in the cell).
@@ -1090,15 +1230,15 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  τ_vel · ∂p/∂y · ∂v_p/∂y  model.fw:20
 	//	  τ_vel · ∂p/∂x · ∂v_p/∂x  model.fw:20
-	A[60] = c17 * c77
-	A[61] = c17 * c80
-	A[62] = c17 * c82
-	A[69] = c17 * c80
-	A[70] = c17 * c74
-	A[71] = c17 * c75
-	A[78] = c17 * c82
-	A[79] = c17 * c75
-	A[80] = c17 * c76
+	A[60] = c17 * c105
+	A[61] = c17 * c108
+	A[62] = c17 * c110
+	A[69] = c17 * c108
+	A[70] = c17 * c102
+	A[71] = c17 * c103
+	A[78] = c17 * c110
+	A[79] = c17 * c103
+	A[80] = c17 * c104
 	// Rows 3..5 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
@@ -1107,17 +1247,21 @@ func (SeepCellStokesVMSKernel) Cell(in *kernel.CellInput, A, b []float64) {
 	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
 	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂y²  model.fw:15
 	//	  −981 τ_vel/5 · ∂²v_vel[2]/∂x²  model.fw:15
-	b[3] = (1.0 / 6) * c83
-	b[4] = (1.0 / 6) * c83
-	b[5] = (1.0 / 6) * c83
+	b[3] = (1.0 / 6) * c111
+	b[4] = (1.0 / 6) * c111
+	b[5] = (1.0 / 6) * c111
 	// Rows 6..8 of the right-hand side, integrated in advance (affine cell,
 	// coefficients constant in the cell).
 	//
 	//	VMS: − Σ_K (τ_vel R_vel, −μ Δv_vel − ∇v_p)_K  model.fw:20
-	//	  −981 τ_vel/100 · ∂v_p/∂y  model.fw:15
-	b[6] = tau_vel * c88
-	b[7] = tau_vel * c89
-	b[8] = tau_vel * c90
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂x² · ∂v_p/∂y  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[2]/∂y² · ∂v_p/∂y  model.fw:15
+	//	  −981 τ_vel/100 · ∂v_p/∂y              model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂x² · ∂v_p/∂x  model.fw:15
+	//	  20 τ_vel ∂²vel⁽ʳᵉᶜ⁾[1]/∂y² · ∂v_p/∂x  model.fw:15
+	b[6] = tau_vel*c120 + c28*c123 + c37*c123 + c43*c126 + c49*c126
+	b[7] = tau_vel*c127 + c28*c128 + c37*c128 + c43*c129 + c49*c129
+	b[8] = tau_vel*c130 + c28*c131 + c37*c131 + c43*c132 + c49*c132
 }
 
 // fwSeepCellStokesFillNaN fills A and b with NaN: the cell has a non-positive
