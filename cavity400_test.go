@@ -40,8 +40,12 @@ var ghia400 = struct{ u, v [][2]float64 }{
 // fixed); about ten minutes on two cores with the interpreted kernels (Re
 // 400 is not a standard model), so it skips under -short.
 func TestCavityRe400Recovered(t *testing.T) {
-	if testing.Short() {
-		t.Skip("128² Navier–Stokes solves at Re 400, a few minutes")
+	// About 11 minutes on the development machine: more than go test's
+	// default limit of 10 minutes for the whole package, so it runs only
+	// when asked (DEVELOPERS.md, "Long tests"):
+	//   FORMWRIGHT_LONG_TESTS=1 go test . -run TestCavityRe400Recovered -timeout 30m
+	if testing.Short() || os.Getenv("FORMWRIGHT_LONG_TESTS") == "" {
+		t.Skip("128² Navier–Stokes solves at Re 400, about 11 minutes: set FORMWRIGHT_LONG_TESTS=1")
 	}
 	n := "128"
 	if s := os.Getenv("FW_CAVITY_N"); s != "" { // a coarser run while developing

@@ -28,7 +28,22 @@ const (
 // in the forms of meth (see recoverSecondDerivatives).
 func (d *Derivation) recovers(meth Method) bool {
 	m := d.Model
-	return d.Options.Recovery == RecoverAuto && meth != Galerkin && m.Dim >= 2 && m.IsSimplexP1() && !m.transient() && hasDiffusion(d.Split)
+	return d.Options.Recovery == RecoverAuto && meth != Galerkin && m.Dim >= 2 && m.IsSimplexP1() && !m.transient() && !m.captures() && hasDiffusion(d.Split)
+}
+
+// captures reports whether the model has a discontinuity-capturing term.
+// The recovery is not applied with one: the capturing operator's
+// calibration (Codina's constant, the regularisation scales) and its
+// Newton behaviour were measured with the plain P1 residual, and with the
+// recovery held fixed in the Jacobian Newton's line search stalled on a
+// smooth problem (measured, TestCaptureSmoothCost).
+func (m *Model) captures() bool {
+	for _, c := range m.Capture {
+		if c != nil {
+			return true
+		}
+	}
+	return false
 }
 
 // transient reports whether some equation has a time derivative.
