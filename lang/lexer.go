@@ -19,7 +19,7 @@ var stmtKeywords = map[string]bool{
 	"model": true, "dimension": true, "sides": true, "use": true,
 	"unknown": true, "given": true, "formula": true, "equation": true,
 	"at": true, "stabilise": true, "tau": true, "mean": true, "quadrature": true,
-	"part": true,
+	"part":    true,
 	"capture": true,
 }
 
