@@ -53,7 +53,7 @@ func cmdMesh(args []string, stdout, stderr io.Writer) error {
 	if _, err := os.Lstat(*out); err == nil && !*replace {
 		return usagef("-o: %s exists: refusing to overwrite it (remove it, choose another name, or pass --replace)", *out)
 	}
-	if err := checkOutputDir(*out); err != nil {
+	if err := output.CheckDir(*out); err != nil {
 		return usagef("-o: %v", err)
 	}
 	var m *compiler.Model
@@ -107,20 +107,6 @@ func cmdMesh(args []string, stdout, stderr io.Writer) error {
 	fmt.Fprintf(stdout, "wrote %s: %v mesh, %d dimensions, %d cells, %d vertices\n", *out, msh.Cell, msh.Dim, msh.NumCells(), msh.NumVertices())
 	for _, n := range msh.BoundaryNames() {
 		fmt.Fprintf(stdout, "  part %-12s %d facets\n", n, len(msh.Boundaries[n]))
-	}
-	return nil
-}
-
-// checkOutputDir checks that the directory of path exists and is a
-// directory.
-func checkOutputDir(path string) error {
-	dir := filepath.Dir(path)
-	fi, err := os.Stat(dir)
-	if err != nil {
-		return fmt.Errorf("the directory of %s does not exist: create it first", path)
-	}
-	if !fi.IsDir() {
-		return fmt.Errorf("%s is not a directory", dir)
 	}
 	return nil
 }

@@ -50,11 +50,8 @@ func Written(path string) (bool, error) {
 	return false, nil
 }
 
-// CheckTarget checks, before any work is done, that path may be written:
-// its directory exists and is writable, and path is either absent or a
-// regular file that formwright wrote (Written). It returns an error that
-// says what is wrong.
-func CheckTarget(path string) error {
+// CheckDir checks that the directory of path exists and is a directory.
+func CheckDir(path string) error {
 	dir := filepath.Dir(path)
 	fi, err := os.Stat(dir)
 	if err != nil {
@@ -63,13 +60,25 @@ func CheckTarget(path string) error {
 	if !fi.IsDir() {
 		return fmt.Errorf("%s is not a directory", dir)
 	}
+	return nil
+}
+
+// CheckTarget checks, before any work is done, that path may be written:
+// its directory exists and is writable, and path is either absent or a
+// regular file that formwright wrote (Written). It returns an error that
+// says what is wrong.
+func CheckTarget(path string) error {
+	if err := CheckDir(path); err != nil {
+		return err
+	}
+	dir := filepath.Dir(path)
 	probe, err := os.CreateTemp(dir, ".formwright-probe-*")
 	if err != nil {
 		return fmt.Errorf("cannot write in %s: %v", dir, err)
 	}
 	probe.Close()
 	os.Remove(probe.Name())
-	fi, err = os.Stat(path)
+	fi, err := os.Stat(path)
 	if errors.Is(err, os.ErrNotExist) {
 		return nil
 	}
