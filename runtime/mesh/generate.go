@@ -113,7 +113,7 @@ func Span1(x0, x1 float64, n int, grading float64) *Mesh {
 	left := []FacetRef{{0, 1}}
 	right := []FacetRef{{int32(n - 1), 0}}
 	all := append(slices.Clone(left), right...)
-	slices.SortFunc(all, compareFacetRef)
+	slices.SortFunc(all, CompareFacetRef)
 	return &Mesh{Dim: 1, Cell: cell.Segment, Coords: x, Cells: cells,
 		Boundaries: map[string][]FacetRef{Left: left, Right: right, All: all}}
 }
@@ -316,9 +316,9 @@ func sides(m *Mesh, blocks []int, per int, lo, hi []float64) map[string][]FacetR
 		}
 	}
 	for s := 0; s < 2*d; s++ {
-		slices.SortFunc(out[sideNames[s]], compareFacetRef)
+		slices.SortFunc(out[sideNames[s]], CompareFacetRef)
 	}
-	slices.SortFunc(all, compareFacetRef)
+	slices.SortFunc(all, CompareFacetRef)
 	out[All] = all
 	return out
 }

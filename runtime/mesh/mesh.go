@@ -17,7 +17,9 @@ type FacetRef struct {
 	Facet int32
 }
 
-func compareFacetRef(a, b FacetRef) int {
+// CompareFacetRef orders facets by cell, then by local facet: the order
+// of the facet lists of Boundaries.
+func CompareFacetRef(a, b FacetRef) int {
 	if a.Cell != b.Cell {
 		return int(a.Cell) - int(b.Cell)
 	}
@@ -132,7 +134,7 @@ func compareFacetEntry(a, b facetEntry) int {
 	if c := slices.Compare(a.key[:], b.key[:]); c != 0 {
 		return c
 	}
-	return compareFacetRef(a.ref, b.ref)
+	return CompareFacetRef(a.ref, b.ref)
 }
 
 // facetTable lists every local facet of every cell, sorted by vertex set
@@ -200,7 +202,7 @@ func boundaryOf(t []facetEntry) []FacetRef {
 		}
 		i = j
 	}
-	slices.SortFunc(out, compareFacetRef)
+	slices.SortFunc(out, CompareFacetRef)
 	return out
 }
 

@@ -124,7 +124,7 @@ func checkMesh(t *testing.T, name string, m *Mesh, lo, hi []float64) {
 			continue
 		}
 		union += len(refs)
-		if !slices.IsSortedFunc(refs, compareFacetRef) {
+		if !slices.IsSortedFunc(refs, CompareFacetRef) {
 			t.Errorf("%s: %s not sorted", name, side)
 		}
 		axis, val := s/2, lo[s/2]

@@ -64,7 +64,7 @@ func refine(m *Mesh, rule *refineRule) *Mesh {
 				fs = append(fs, FacetRef{f.Cell*int32(nk) + cf.Cell, cf.Facet})
 			}
 		}
-		slices.SortFunc(fs, compareFacetRef)
+		slices.SortFunc(fs, CompareFacetRef)
 		out.Boundaries[name] = fs
 	}
 	if m.Regions != nil {

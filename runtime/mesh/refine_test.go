@@ -79,7 +79,7 @@ func checkRefined(t *testing.T, name string, m, r *Mesh) {
 		if math.Abs(after-before) > measureTol*before || len(r.Boundaries[b]) != len(m.Boundaries[b])<<(m.Dim-1) {
 			t.Errorf("%s: part %q: %d facets of measure %.17g, before %d of %.17g", name, b, len(r.Boundaries[b]), after, len(m.Boundaries[b]), before)
 		}
-		if !slices.IsSortedFunc(r.Boundaries[b], compareFacetRef) {
+		if !slices.IsSortedFunc(r.Boundaries[b], CompareFacetRef) {
 			t.Errorf("%s: part %q not sorted", name, b)
 		}
 	}

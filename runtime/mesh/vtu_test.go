@@ -57,7 +57,7 @@ func sampleMeshes() map[string]*Mesh {
 	q.Regions = []int32{0, 1, 1, 7, 0, 2}
 	h := ms["hexahedron"]
 	h.Boundaries["lid"] = append(slices.Clone(h.Boundaries[Top]), h.Boundaries[Back]...)
-	slices.SortFunc(h.Boundaries["lid"], compareFacetRef)
+	slices.SortFunc(h.Boundaries["lid"], CompareFacetRef)
 	h.Regions = make([]int32, h.NumCells())
 	h.Regions[3] = 4
 	return ms

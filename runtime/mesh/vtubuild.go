@@ -262,7 +262,7 @@ func (r *vtuReader) build() (*Mesh, error) {
 	m.Boundaries = make(map[string][]FacetRef, len(names)+1)
 	for id, name := range names {
 		ts := byPart[id]
-		slices.SortFunc(ts, func(a, b tagged) int { return compareFacetRef(a.ref, b.ref) })
+		slices.SortFunc(ts, func(a, b tagged) int { return CompareFacetRef(a.ref, b.ref) })
 		refs := make([]FacetRef, len(ts))
 		for i, t := range ts {
 			if i > 0 && t.ref == ts[i-1].ref {

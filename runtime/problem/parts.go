@@ -277,7 +277,7 @@ func (ev *partEvaluator) facets(s *ir.PartSet) ([]mesh.FacetRef, error) {
 	switch s.Op {
 	case ir.PartUnion:
 		out = append(slices.Clone(a), b...)
-		slices.SortFunc(out, compareFacets)
+		slices.SortFunc(out, mesh.CompareFacetRef)
 		return slices.Compact(out), nil
 	case ir.PartMeet:
 		for _, f := range a {
@@ -293,13 +293,6 @@ func (ev *partEvaluator) facets(s *ir.PartSet) ([]mesh.FacetRef, error) {
 		}
 	}
 	return out, nil
-}
-
-func compareFacets(a, b mesh.FacetRef) int {
-	if a.Cell != b.Cell {
-		return int(a.Cell) - int(b.Cell)
-	}
-	return int(a.Facet) - int(b.Facet)
 }
 
 // where evaluates a midpoint condition on every boundary facet.

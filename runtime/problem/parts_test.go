@@ -242,7 +242,7 @@ func TestPartSetAlgebra(t *testing.T) {
 		}
 		f := rm.Boundaries["p"]
 		for i := 1; i < len(f); i++ {
-			if compareFacets(f[i-1], f[i]) >= 0 {
+			if mesh.CompareFacetRef(f[i-1], f[i]) >= 0 {
 				t.Fatalf("facets not sorted or repeated: %v", f)
 			}
 		}

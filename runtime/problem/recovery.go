@@ -99,31 +99,13 @@ func boundaryFits(m *mesh.Mesh, dm *dof.Numbering) []boundaryFit {
 	d := dm.Dim
 	nodes := dm.Fields[0].NumNodes
 	xs := dm.NodeCoords(0)
-	// Boundary facets: sorted node tuples that occur once.
-	count := map[[3]int32]int{}
-	key := func(c int, f []int) [3]int32 {
-		cn := dm.CellNodes(0, c)
-		k := [3]int32{-1, -1, -1}
-		for i, l := range f {
-			k[i] = cn[l]
-		}
-		slices.Sort(k[:len(f)])
-		return k
-	}
-	facets := m.Cell.Facets()
-	for c := 0; c < dm.NumCells; c++ {
-		for _, f := range facets {
-			count[key(c, f)]++
-		}
-	}
+	// Boundary nodes: those of the facets that belong to one cell.
 	boundary := make([]bool, nodes)
-	for k, n := range count {
-		if n == 1 {
-			for _, v := range k {
-				if v >= 0 {
-					boundary[v] = true
-				}
-			}
+	facets := m.Cell.Facets()
+	for _, f := range m.TopologicalBoundary() {
+		cn := dm.CellNodes(0, int(f.Cell))
+		for _, l := range facets[f.Facet] {
+			boundary[cn[l]] = true
 		}
 	}
 	// Node → cells.
