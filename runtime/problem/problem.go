@@ -819,11 +819,11 @@ func quadratureText(form *ir.LoweredForm, c cell.Type, degree int) string {
 	if degree <= 0 {
 		degree = form.QuadratureDegree()
 	}
-	points := "points"
-	if n := quadrature.For(c, degree).NumPoints(); n == 1 {
+	n, points := quadrature.For(c, degree).NumPoints(), "points"
+	if n == 1 {
 		points = "point"
 	}
-	out := fmt.Sprintf("degree %d, %d %s per cell", degree, quadrature.For(c, degree).NumPoints(), points)
+	out := fmt.Sprintf("degree %d, %d %s per cell", degree, n, points)
 	if len(form.Sides()) > 0 {
 		n := 1
 		if c.Dim() > 1 {
