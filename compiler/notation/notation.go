@@ -442,22 +442,28 @@ func negated(e ir.Expr) (ir.Expr, bool) {
 }
 
 func (p printer) add(e *ir.Add) (string, int) {
-	var b strings.Builder
+	return strings.Join(p.terms(e), " "), precAdd
+}
+
+// terms prints the terms of a sum, each with the sign that joins it to
+// the terms before it ("a", "+ b", "− c").
+func (p printer) terms(e *ir.Add) []string {
+	out := make([]string, len(e.Terms))
 	for i, t := range e.Terms {
 		pos, neg := negated(t)
 		s := p.sub(pos, precMul)
 		switch {
 		case i == 0 && neg:
-			b.WriteString(p.minus() + s)
+			out[i] = p.minus() + s
 		case i == 0:
-			b.WriteString(s)
+			out[i] = s
 		case neg:
-			b.WriteString(" " + p.minus() + " " + s)
+			out[i] = p.minus() + " " + s
 		default:
-			b.WriteString(" + " + s)
+			out[i] = "+ " + s
 		}
 	}
-	return b.String(), precAdd
+	return out
 }
 
 func (p printer) mul(e *ir.Mul) (string, int) {
@@ -599,25 +605,9 @@ func (p printer) call(e *ir.Call) (string, int) {
 func Terms(e ir.Expr, s Style, n Names) []string {
 	left := MaxNodes
 	p := printer{s, n, &left}
-	add, ok := e.(*ir.Add)
-	if !ok {
-		str, _ := p.expr(e)
-		return []string{str}
+	if add, ok := e.(*ir.Add); ok {
+		return p.terms(add)
 	}
-	out := make([]string, len(add.Terms))
-	for i, t := range add.Terms {
-		pos, neg := negated(t)
-		str := p.sub(pos, precMul)
-		switch {
-		case i == 0 && neg:
-			out[i] = p.minus() + str
-		case i == 0:
-			out[i] = str
-		case neg:
-			out[i] = p.minus() + " " + str
-		default:
-			out[i] = "+ " + str
-		}
-	}
-	return out
+	str, _ := p.expr(e)
+	return []string{str}
 }
