@@ -21,26 +21,28 @@ import (
 // the Jacobian's approximations, limits and tolerances, and for solve a
 // Picard start and a natural-parameter ramp.
 type nonlinearFlags struct {
-	method     *string
-	freeze     *string
-	maxIter    *int
-	tol        *float64
-	noSearch   *bool
-	picard     *int
-	ramp       *string
-	rampSteps  *int
-	rampScale  *string
-	recover    *bool
-	jacobian   compiler.JacobianOptions
-	methodSet  bool
-	picardSet  bool
-	forSolving bool
+	method    *string
+	freeze    *string
+	maxIter   *int
+	tol       *float64
+	noSearch  *bool
+	picard    *int
+	ramp      *string
+	rampSteps *int
+	rampScale *string
+	recover   *bool
+	jacobian  compiler.JacobianOptions
+	// fixedRecovery: --freeze recovery (problem.NewtonOptions.FixedRecovery).
+	fixedRecovery bool
+	methodSet     bool
+	picardSet     bool
+	forSolving    bool
 }
 
 func addNonlinearFlags(fs *cmdFlags, solve bool) *nonlinearFlags {
 	nl := &nonlinearFlags{
 		method:     fs.String("nonlinear", "newton", "iteration for a nonlinear model: newton (the derived Jacobian, with a line search) or picard (the derived Picard linearisation)"),
-		freeze:     fs.String("freeze", "", "approximate Newton's Jacobian: tau, test (the stabilisation's test operator) or tau,test frozen at the iterate (default: the exact Jacobian)"),
+		freeze:     fs.String("freeze", "", "approximate Newton's Jacobian: tau, test (the stabilisation's test operator) or tau,test frozen at the iterate; recovery: take the step of the Jacobian that holds the recovered second derivatives fixed, uncorrected (default: the exact Jacobian)"),
 		maxIter:    fs.Int("max-nonlinear", 0, "nonlinear iteration limit (default 30 for newton, 80 where the residual reads recovered second derivatives, 50 for picard)"),
 		tol:        fs.Float64("nonlinear-tol", 0, "newton: relative residual ‖F‖/‖F₀‖ to reach (default 1e-10); picard: relative change between iterates (default 1e-8)"),
 		noSearch:   fs.Bool("no-line-search", false, "newton: take the (damped, --relax) step without the backtracking line search"),
@@ -82,9 +84,17 @@ func (nl *nonlinearFlags) check(fs *cmdFlags) error {
 	default:
 		return usagef("--nonlinear %q: use newton or picard", *nl.method)
 	}
-	jac, err := parseFreeze(*nl.freeze)
+	var rest []string
+	for _, f := range strings.Split(*nl.freeze, ",") {
+		if strings.TrimSpace(f) == "recovery" {
+			nl.fixedRecovery = true
+		} else {
+			rest = append(rest, f)
+		}
+	}
+	jac, err := parseFreeze(strings.Join(rest, ","))
 	if err != nil {
-		return err
+		return usagef("--freeze %q: use tau, test, recovery or a list of them such as tau,test", *nl.freeze)
 	}
 	nl.jacobian = jac
 	if *nl.maxIter < 0 {
@@ -116,6 +126,7 @@ func (nl *nonlinearFlags) apply(opts *problem.Options, stderr io.Writer, quiet b
 		opts.Newton.MaxIter, opts.Newton.RelTol = *nl.maxIter, *nl.tol
 	}
 	opts.Newton.NoLineSearch = *nl.noSearch
+	opts.Newton.FixedRecovery = nl.fixedRecovery
 	opts.Newton.Damping = opts.PicardRelax
 	if !quiet {
 		opts.Newton.Progress = func(s problem.NewtonStep) {

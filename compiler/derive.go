@@ -178,7 +178,7 @@ func DeriveWith(m *Model, methods []Method, opts DeriveOptions) (*Derivation, er
 				return nil, err
 			}
 			if d.recovers(meth) {
-				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $g_h$ of the iterate, and $J$ holds $g_h$ fixed there: it leaves out $\partial g_h/\partial u$, the derivative through the projection (it is not local to a cell), so near the solution Newton converges linearly, at a rate set by the size of the recovered terms`))
+				f.Jacobian.Approximations = append(f.Jacobian.Approximations, newNote(Warning, `the second derivatives of $u_h$ in $R$ are recovered from the projected gradient $g_h$ of the iterate, and $J$ holds $g_h$ fixed there: it leaves out $\partial g_h/\partial u$, the derivative through the projection (it is not local to a cell). With $J$ alone Newton converges linearly near the solution, at a rate set by the size of the recovered terms; solving directly, the runtime corrects each step toward the exact Jacobian's by directional differences of the residual, recovery included`))
 			}
 			for _, g := range f.Jacobian.Defs {
 				m.FineSym = append(m.FineSym, g.Sym)
