@@ -115,11 +115,13 @@ func Plain(markup string) string {
 		case inMath && (c == '^' || c == '_'):
 			arg, k := group(markup, i+1)
 			plain := Plain("$" + arg + "$")
+			ascii := false // written as _x or ^x, not as a Unicode script
 			if c == '^' && (arg == "*" || arg == "'") {
 				b.WriteString(map[string]string{"*": "*", "'": "′"}[arg])
 			} else if s, ok := scripted(plain, c == '^'); ok {
 				b.WriteString(s)
 			} else if c == '^' {
+				ascii = true
 				if utf8.RuneCountInString(plain) == 1 {
 					b.WriteString("^" + plain)
 				} else {
@@ -128,12 +130,15 @@ func Plain(markup string) string {
 			} else if strings.HasSuffix(b.String(), "|") {
 				b.WriteString(plain) // an evaluation bar: f|ε=0
 			} else {
+				ascii = true
 				b.WriteString("_" + plain)
 			}
 			i = k
 			if wasPrefix {
+				// ∂ᵢu, but ∂_j u: after an ASCII script the space stays,
+				// or the operand would read as part of the script.
 				afterPrefix = true
-				for i < len(markup) && markup[i] == ' ' {
+				for !ascii && i < len(markup) && markup[i] == ' ' {
 					i++
 				}
 			}

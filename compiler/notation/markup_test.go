@@ -12,6 +12,7 @@ func TestPlain(t *testing.T) {
 		{`$\tau_{\mathrm{vel}}$ and $x^{ab}$`, "τ_vel and x^(ab)"},
 		{`block-diagonal, P\'eclet, M\"obius, 50\%, a\_b, pages 1--2, \textbackslash{}`, `block-diagonal, Péclet, Möbius, 50%, a_b, pages 1–2, \`},
 		{`$\sum_K (\tau R, a \cdot \nabla v)_K$`, "Σ_K (τ R, a · ∇v)_K"},
+		{`$\partial_i\partial_j u_h$ and $\partial_t u$`, "∂_i∂_j u_h and ∂ₜu"},
 		{"the statement ``mean u = 0'', $\\nabla\\cdot u$, $f|_{\\varepsilon=0}$", "the statement “mean u = 0”, ∇·u, f|ε=0"},
 	} {
 		if got := Plain(c.in); got != c.want {
