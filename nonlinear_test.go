@@ -519,29 +519,7 @@ func TestRecoveredNewtonCorrection(t *testing.T) {
 	if testing.Short() {
 		t.Skip("two Navier–Stokes solves")
 	}
-	_, src, err := stdlib.Model("navier_stokes_nonlinear")
-	if err != nil {
-		t.Fatal(err)
-	}
-	l := fmt.Sprintf("(%.17g)", 20-math.Sqrt(400+4*math.Pi*math.Pi))
-	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
-	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n",
-		"at all: vel = [1 - exp("+l+"*x)*cos(2*pi*y), "+l+"/(2*pi)*exp("+l+"*x)*sin(2*pi*y)]\n", 1)
-	m, err := loadModel(writeModel(t, s))
-	if err != nil {
-		t.Fatal(err)
-	}
-	msh, err := mesh.Load("span:-0.5,1,-0.5,1.5:12x16:quartered")
-	if err != nil {
-		t.Fatal(err)
-	}
-	lf, _, err := deriveAndLowerWith(m, compiler.SUPG, compiler.DeriveOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !lf.ReadsRecovered() {
-		t.Fatal("the SUPG form does not read recovered derivatives")
-	}
+	lf, msh := kovasznayRecovered(t, "12x16")
 	var sols [2]*problem.Solution
 	for k, fixedRec := range []bool{true, false} {
 		sol, err := problem.Solve(lf, msh, problem.Options{Newton: problem.NewtonOptions{FixedRecovery: fixedRec}})
@@ -570,6 +548,77 @@ func TestRecoveredNewtonCorrection(t *testing.T) {
 	if !(corrOrder >= 1.5) || !(fixedOrder < 1.3) {
 		t.Errorf("order of the last iterations %.2f corrected (want ≥ 1.5), %.2f fixed (want < 1.3)", corrOrder, fixedOrder)
 	}
+}
+
+// kovasznayRecovered is Kovasznay flow at Re 40 (navier_stokes_nonlinear
+// with the exact velocity imposed on the whole boundary; it solves the
+// equations with no force) lowered for SUPG with the recovered second
+// derivatives, and the quartered mesh of the given squares on its usual
+// domain.
+func kovasznayRecovered(t testing.TB, squares string) (*ir.LoweredForm, *mesh.Mesh) {
+	_, src, err := stdlib.Model("navier_stokes_nonlinear")
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := fmt.Sprintf("(%.17g)", 20-math.Sqrt(400+4*math.Pi*math.Pi))
+	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
+	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n",
+		"at all: vel = [1 - exp("+l+"*x)*cos(2*pi*y), "+l+"/(2*pi)*exp("+l+"*x)*sin(2*pi*y)]\n", 1)
+	path := filepath.Join(t.TempDir(), "kovasznay.fw")
+	if err := os.WriteFile(path, []byte(s), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	m, err := loadModel(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	msh, err := mesh.Load("span:-0.5,1,-0.5,1.5:" + squares + ":quartered")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lf, _, err := deriveAndLowerWith(m, compiler.SUPG, compiler.DeriveOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !lf.ReadsRecovered() {
+		t.Fatal("the SUPG form does not read recovered derivatives")
+	}
+	return lf, msh
+}
+
+// BenchmarkRecoveredNewton times, interleaved in one run, Newton's method
+// on Kovasznay flow (kovasznayRecovered, 24×32 quartered squares, 4 779
+// dofs, interpreted kernels, direct solver) with the fixed-recovery
+// Jacobian alone and with the corrected steps, and reports iterations,
+// assemblies (directional residuals included) and the time ratio.
+//
+//	go test . -run '^$' -bench RecoveredNewton -benchtime 2x
+func BenchmarkRecoveredNewton(b *testing.B) {
+	lf, msh := kovasznayRecovered(b, "24x32")
+	var tm [2]time.Duration
+	var its, dirs [2]int
+	b.ResetTimer()
+	for b.Loop() {
+		for k, fixedRec := range []bool{true, false} {
+			t0 := time.Now()
+			sol, err := problem.Solve(lf, msh, problem.Options{Newton: problem.NewtonOptions{FixedRecovery: fixedRec}})
+			if err != nil {
+				b.Fatal(err)
+			}
+			tm[k] += time.Since(t0)
+			its[k], dirs[k] = sol.Summary.NonlinearIters, 0
+			for _, h := range sol.Summary.History {
+				dirs[k] += h.Directional
+			}
+		}
+	}
+	ms := func(d time.Duration) float64 { return float64(d.Milliseconds()) / float64(b.N) }
+	b.ReportMetric(float64(its[0]), "fixed-iters")
+	b.ReportMetric(float64(its[1]), "corrected-iters")
+	b.ReportMetric(float64(dirs[1]), "directional-residuals")
+	b.ReportMetric(ms(tm[0]), "fixed-ms")
+	b.ReportMetric(ms(tm[1]), "corrected-ms")
+	b.ReportMetric(float64(tm[1])/float64(tm[0]), "corrected/fixed")
 }
 
 // TestNewtonAndPicardAgree: the derived Picard linearisation of a
