@@ -91,6 +91,10 @@ func (handSUPG) Cell(in *kernel.CellInput, A, b []float64) {
 // not within 3×: the kernel's own arithmetic on two cores is already 3.5×
 // the bound. When other jobs hold a core, BenchmarkAssembleScaling980k
 // shows 2w/1w ≈ 1 together with cpu-2w/1w ≈ 1 (its CPU-bound control).
+// Quiet run of 2026-12-02 (AssembleScaling980k, -benchtime 10x, cpu-2w/1w
+// 0.52): 1 worker 81.4 ns/cell, 2 workers 42.9 (0.53×), triad 3.15 ns/cell
+// on 2 workers (2w/triad 13.7), the kernel alone on 2 workers 22.8 ns/cell
+// (7.2× the triad).
 
 // benchHand assembles handSUPG on a P1 mesh of nodes×nodes vertices with
 // the given number of workers and reports ns/cell.
