@@ -2,6 +2,7 @@ package main
 
 import (
 	"os"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -52,14 +53,29 @@ func picardSteps(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mes
 // derivatives (the default), against the centreline velocities of Ghia,
 // Ghia & Shin (1982, Tables I and II at Re 1000; 30 points, [memory],
 // testdata/REFERENCES.md). Newton's method does not converge from the
-// Stokes solution at Re 1000, so the start is nPicard steps of the
-// Picard linearisation from zero, then Newton without the recovery, then
-// with it (as TestCavityRe400Recovered).
+// Stokes solution at Re 1000 (64²: the line search stalls at 0.25 of the
+// first residual), so the start is nPicard = 4 steps of the Picard
+// linearisation from zero (the first is the Stokes solution;
+// FW_CAVITY_PICARD overrides the count), then Newton without the
+// recovery, then with it (as TestCavityRe400Recovered).
+//
+// Measured on 128² (the aim of 0.02 is not reached): the largest deviation
+// is 0.0313 for SUPG and 0.0338 for VMS with the recovery (u 0.0284 and
+// 0.0314), against 0.0452 and 0.0421 without; 4+20 and 4+21 Newton
+// iterations (without + with the recovery), 136 s and 214 s, about six
+// minutes for the test on two cores. Asserted: at most 0.036 at every
+// point and less than without the recovery. On 64² the deviations are
+// 0.070 (SUPG) and 0.075 (VMS).
 func TestCavityRe1000Recovered(t *testing.T) {
 	if testing.Short() || os.Getenv("FORMWRIGHT_LONG_TESTS") == "" {
-		t.Skip("128² Navier–Stokes solves at Re 1000, several minutes: set FORMWRIGHT_LONG_TESTS=1")
+		// About 6 minutes on the development machine (DEVELOPERS.md, "Long tests"):
+		//   FORMWRIGHT_LONG_TESTS=1 go test . -run TestCavityRe1000Recovered -timeout 30m
+		t.Skip("128² Navier–Stokes solves at Re 1000, about 6 minutes: set FORMWRIGHT_LONG_TESTS=1")
 	}
-	const nPicard = 4
+	nPicard := 4
+	if s := os.Getenv("FW_CAVITY_PICARD"); s != "" {
+		nPicard, _ = strconv.Atoi(s)
+	}
 	n := "128"
 	if s := os.Getenv("FW_CAVITY_N"); s != "" { // a coarser run while developing
 		n = s
@@ -98,5 +114,8 @@ func TestCavityRe1000Recovered(t *testing.T) {
 		du, dv := ghiaDeviation(sol, ghia1000.u, ghia1000.v)
 		t.Logf("%s %s²: deviation from Ghia et al. Re 1000 without recovery u %.4f, v %.4f; with recovery u %.4f, v %.4f (%d Picard steps, %d+%d Newton iterations, %.0f s)",
 			meth, n, du0, dv0, du, dv, nPicard, len(start.Summary.History)-1, len(sol.Summary.History)-1, time.Since(t0).Seconds())
+		if du > 0.036 || dv > 0.036 || !(max(du, dv) < max(du0, dv0)) {
+			t.Errorf("%s: deviation from Ghia et al. u %.4f, v %.4f (without the recovery %.4f, %.4f), want ≤ 0.036 and below the plain solution's", meth, du, dv, du0, dv0)
+		}
 	}
 }
