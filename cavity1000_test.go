@@ -25,7 +25,7 @@ var ghia1000 = struct{ u, v [][2]float64 }{
 		{0.0938, 0.32627}, {0.0781, 0.30353}, {0.0703, 0.29012}, {0.0625, 0.27485}},
 }
 
-// picardStart returns the state after k steps of the Picard linearisation
+// picardSteps returns the state after k steps of the Picard linearisation
 // of m from zero (the first is the Stokes solution for Navier–Stokes):
 // a start from which Newton's method converges at higher Re.
 func picardSteps(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mesh.Mesh, k int) []float64 {

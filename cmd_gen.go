@@ -2,7 +2,6 @@ package main
 
 import (
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -174,7 +173,7 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 	fs.StringVar(&r.method, "method", "", "methods to generate: galerkin, supg, gls, vms, a comma list, or all (default: the model's)")
 	fs.StringVar(&r.prefix, "prefix", "", "prefix of the exported names, so several models can share a package (default: from the model's name)")
 	fs.StringVar(&r.lang, "lang", "go", "go or c")
-	recover := fs.Bool("recover", true, "stabilised methods on P1: Go kernels whose residual reads the second derivatives recovered from the solution's gradient, as solve and verify use by default (C kernels cannot read them: --lang c derives without the recovery)")
+	recover := fs.Bool("recover", true, "stabilised methods on P1: kernels whose residual reads the second derivatives recovered from the solution's gradient, as solve and verify use by default (C kernels read the recovered gradient from the caller: see the header); --recover=false for the plain P1 residual")
 	builtin := fs.Bool("builtin", false, "write the Go kernels into this formwright's own source (stdlib/kernels/local), so that solve and verify use them once the command is rebuilt (go run . rebuilds it)")
 	pos, err := parseArgs(fs, args, stdout)
 	if err != nil {
@@ -185,14 +184,6 @@ func genParse(args []string, stdout io.Writer) ([]genFile, string, error) {
 	}
 	r.model = pos[0]
 	r.noRecover = !*recover
-	if r.lang == "c" {
-		explicit := false
-		fs.Visit(func(f *flag.Flag) { explicit = explicit || f.Name == "recover" })
-		if explicit && *recover {
-			return nil, "", usagef("--recover: the C kernels cannot read recovered second derivatives; --lang c derives without the recovery")
-		}
-		r.noRecover = true // C kernels: the residual as derived, like the PETSc engine's
-	}
 	r.cmdline = "gen " + strings.Join(args, " ")
 	if *builtin {
 		if r.lang != "go" {

@@ -119,12 +119,13 @@ at all: u = 0
 	}
 }
 
-// TestGenCWithoutRecovery: C kernels cannot read recovered second
-// derivatives, so gen --lang c derives adr (P1, stabilised, with
-// diffusion: the recovery would apply) without them and succeeds, while
-// asking for the recovery with --lang c is a usage error. The C source
-// then reads no recovered gradient.
-func TestGenCWithoutRecovery(t *testing.T) {
+// TestGenCRecovery: gen --lang c derives adr (P1, stabilised, with
+// diffusion: the recovery applies) with the recovered second derivatives
+// like the Go kernels, and its layouts say so (needs_recovered 1), while
+// --recover=false gives C kernels that read no recovered gradient. The C
+// kernels' values with a recovered gradient are checked against the
+// interpreted kernels in compiler/gogen (TestCKernelsMatchInterpreted).
+func TestGenCRecovery(t *testing.T) {
 	dir := t.TempDir()
 	if st, _, errs := runCmd("gen", "adr", "--lang", "c", "-o", dir); st != exitOK {
 		t.Fatalf("gen --lang c: status %d: %s", st, errs)
@@ -133,10 +134,18 @@ func TestGenCWithoutRecovery(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if strings.Contains(strings.ToLower(string(src)), "recovered") {
-		t.Errorf("the C kernels read recovered derivatives")
+	if !strings.Contains(string(src), "in->recovered") {
+		t.Errorf("the C kernels of adr read no recovered gradient")
 	}
-	if st, _, errs := runCmd("gen", "adr", "--lang", "c", "--recover", "-o", t.TempDir()); st != exitBadInput || !strings.Contains(errs, "--recover") {
-		t.Errorf("gen --lang c --recover: status %d, %q; want a usage error", st, errs)
+	plain := t.TempDir()
+	if st, _, errs := runCmd("gen", "adr", "--lang", "c", "--recover=false", "-o", plain); st != exitOK {
+		t.Fatalf("gen --lang c --recover=false: status %d: %s", st, errs)
+	}
+	src, err = os.ReadFile(filepath.Join(plain, "adr_kernels.c"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(string(src), "in->recovered") {
+		t.Errorf("the C kernels derived with --recover=false read the recovered gradient")
 	}
 }

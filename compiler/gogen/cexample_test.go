@@ -21,7 +21,7 @@ func cExampleFiles(t *testing.T) (h, src []byte) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	forms, derived := lowerDerivedC(t, "plate.fw", model)
+	forms, derived := lowerDerived(t, "plate.fw", model)
 	h, src, err = GenerateC(forms, COptions{Name: "plate_kernels", Prefix: "plate", ModelFile: "plate.fw",
 		CommandLine: "gen plate.fw -o . --lang c", Derived: derived})
 	if err != nil {

@@ -175,7 +175,7 @@ int main(void)
 		printf("L %d", k);
 		hexstr(l->method);
 		hexstr(l->cell);
-		printf(" %d %d %d %d %d %d %d %d %d %d", l->dim, l->vertices, l->dofs, l->degree, l->points, l->num_fields, l->num_sides, l->num_facets, l->needs_previous, l->symmetric);
+		printf(" %d %d %d %d %d %d %d %d %d %d %d", l->dim, l->vertices, l->dofs, l->degree, l->points, l->num_fields, l->num_sides, l->num_facets, l->needs_previous, l->needs_recovered, l->symmetric);
 		for (int f = 0; f < l->num_fields; ++f) {
 			hexstr(l->fields[f].name);
 			hexstr(l->fields[f].element);
@@ -187,7 +187,7 @@ int main(void)
 		printf("\n");
 	}
 	int k, facetKernel, side, facet, nc;
-	static double coords[64], prev[4096], A[4096 * 4096 / 64], b[4096];
+	static double coords[64], prev[4096], rec[4096 * 3], A[4096 * 4096 / 64], b[4096];
 	while (scanf("%d %d %d %d %d", &k, &facetKernel, &side, &facet, &nc) == 5) {
 		for (int i = 0; i < nc; ++i) {
 			if (scanf("%lf", &coords[i]) != 1) {
@@ -209,6 +209,16 @@ int main(void)
 		if (scanf("%lf %lf", &in.time, &in.step) != 2) {
 			return 2;
 		}
+		int hasRec, nr;
+		if (scanf("%d %d", &hasRec, &nr) != 2) {
+			return 2;
+		}
+		for (int i = 0; i < nr; ++i) {
+			if (scanf("%lf", &rec[i]) != 1) {
+				return 2;
+			}
+		}
+		in.recovered = hasRec ? rec : NULL;
 		int dofs = kernels[k].layout()->dofs;
 		for (int i = 0; i < dofs * dofs; ++i) {
 			A[i] = 12345.0; /* a kernel that writes nothing leaves this */
@@ -260,7 +270,16 @@ func (r *request) write(w *bytes.Buffer) {
 			w.WriteString(" " + strconv.FormatFloat(x, 'g', 17, 64))
 		}
 	}
-	fmt.Fprintf(w, " %s %s\n", strconv.FormatFloat(r.in.Time, 'g', 17, 64), strconv.FormatFloat(r.in.Step, 'g', 17, 64))
+	fmt.Fprintf(w, " %s %s", strconv.FormatFloat(r.in.Time, 'g', 17, 64), strconv.FormatFloat(r.in.Step, 'g', 17, 64))
+	if r.in.Recovered == nil {
+		w.WriteString(" 0 0\n")
+	} else {
+		fmt.Fprintf(w, " 1 %d", len(r.in.Recovered))
+		for _, x := range r.in.Recovered {
+			w.WriteString(" " + strconv.FormatFloat(x, 'g', 17, 64))
+		}
+		w.WriteString("\n")
+	}
 }
 
 // randomCell perturbs the reference cell, scales and shifts it, and keeps
@@ -346,6 +365,12 @@ func cRequests(t *testing.T, units []cUnit, rng *rand.Rand) ([]*request, [][]str
 						in.Previous[i] = rng.Float64()*2 - 1
 					}
 				}
+				if lf.ReadsRecovered() {
+					in.Recovered = make([]float64, n*c.Dim())
+					for i := range in.Recovered {
+						in.Recovered[i] = rng.Float64()*2 - 1
+					}
+				}
 				A, b := make([]float64, n*n), make([]float64, n)
 				ik.Cell(&in, A, b)
 				reqs = append(reqs, &request{kernel: k, in: in, wantA: A, wantB: b, what: fmt.Sprintf("%s cell %d", name, trial)})
@@ -402,7 +427,11 @@ func expectedLayout(k int, lf *ir.LoweredForm, c cell.Type, ik *interp.Kernel) [
 		prev = 1
 	}
 	out := []string{"L", strconv.Itoa(k), h(lf.Method), h(c.String())}
-	for _, v := range []int{c.Dim(), c.NumVertices(), l.N(), lf.QuadratureDegree(), ik.Rule().NumPoints(), len(l.Fields), len(lf.Sides()), c.NumFacets(), prev} {
+	rec := 0
+	if lf.ReadsRecovered() {
+		rec = 1
+	}
+	for _, v := range []int{c.Dim(), c.NumVertices(), l.N(), lf.QuadratureDegree(), ik.Rule().NumPoints(), len(l.Fields), len(lf.Sides()), c.NumFacets(), prev, rec} {
 		out = append(out, strconv.Itoa(v))
 	}
 	out = append(out, "?") // symmetric: the generator's own decision
@@ -520,7 +549,7 @@ func TestCKernelsMatchInterpreted(t *testing.T) {
 				continue
 			}
 		}
-		forms, derived := lowerDerivedC(t, mc.file, []byte(mc.src))
+		forms, derived := lowerDerived(t, mc.file, []byte(mc.src))
 		if mc.name == "adrhex" || mc.name == "adrhex2" {
 			var gls []*ir.LoweredForm
 			for _, f := range forms {
@@ -560,7 +589,7 @@ func TestCHostileText(t *testing.T) {
 		if mc.name != "robin" && mc.name != "hostile" {
 			continue
 		}
-		forms, derived := lowerDerivedC(t, mc.file, []byte(mc.src))
+		forms, derived := lowerDerived(t, mc.file, []byte(mc.src))
 		if mc.name == "robin" {
 			rename := map[string]string{
 				"right": "right\"); abort(); (\"\\",

@@ -44,7 +44,7 @@ type COptions struct {
 // cABIVersion is the version of the shared types; the header guards them
 // with FW_KERNEL_ABI_<version>, so headers of several models can be
 // included together.
-const cABIVersion = 1
+const cABIVersion = 2
 
 var (
 	cPrefixRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9]*(_[A-Za-z0-9]+)*$`)
@@ -67,12 +67,6 @@ func GenerateC(forms []*ir.LoweredForm, opts COptions) (header, source []byte, e
 	}
 	if !cNameRE.MatchString(opts.Name) {
 		return nil, nil, fmt.Errorf("gogen: C file name %q: use letters, digits, '_', '-' and '.'", opts.Name)
-	}
-	for _, lf := range forms {
-		if lf.ReadsRecovered() {
-			// The C ABI (struct fw_kernel_input) has no recovered gradient.
-			return nil, nil, fmt.Errorf("gogen: the %s form reads recovered second derivatives, which the C kernels cannot read: derive it with the recovery off (--recover=false)", lf.Method)
-		}
 	}
 	kf, err := planFile(forms, plan{methods: opts.Methods, derived: opts.Derived, loopAbove: opts.loopAbove})
 	if err != nil {
@@ -240,6 +234,7 @@ func (w *cWriter) header(kf *kernelFile, opts COptions) {
 	w.line("\tconst double *previous; /* previous iterate, local dofs; NULL: zeros */")
 	w.line("\tdouble time;            /* the time t */")
 	w.line("\tdouble step;            /* the time step of a stepped form */")
+	w.line("\tconst double *recovered; /* recovered gradient, recovered[l*dim + i]; NULL: zeros */")
 	w.line("};")
 	w.line("")
 	w.line("/* One unknown field of a kernel's element. */")
@@ -266,6 +261,7 @@ func (w *cWriter) header(kf *kernelFile, opts COptions) {
 	w.line("\tconst char *const *sides;       /* their names, by side index (NULL if none) */")
 	w.line("\tint num_facets;                 /* local facets per cell */")
 	w.line("\tint needs_previous;             /* 1: the kernels read in->previous */")
+	w.line("\tint needs_recovered;            /* 1: the kernels read in->recovered */")
 	w.line("\tint symmetric;                  /* 1: the cell kernel's A is symmetric */")
 	w.line("};")
 	w.line("")
@@ -298,17 +294,19 @@ func cABI(kf *kernelFile, opts COptions) []string {
 	base := cBase(opts.Prefix, kf.forms[0])
 	paras := []string{
 		"Element kernels of " + baseName(opts.ModelFile) + " for C and C++ codes: per form (method) a cell kernel, a facet kernel for the integrals over boundary sides and a layout function. C99, also valid C++11; they need only <math.h> (link with -lm), allocate nothing, keep no global state and may be called from several threads at once. A kernel keeps its accumulators on the stack, 8*(N*N + N) bytes and a little more.",
-		"\tstruct fw_kernel_input in;\n\tin.coords = x; in.previous = NULL; in.time = t; in.step = dt;\n\tint status = " + base + "_cell(&in, A, b);",
+		"\tstruct fw_kernel_input in;\n\tin.coords = x; in.previous = NULL; in.time = t; in.step = dt; in.recovered = NULL;\n\tint status = " + base + "_cell(&in, A, b);",
 		"A cell kernel reads",
 		"\tin->coords    the vertex coordinates of the cell: coords[k*dim + i] is\n\t              coordinate i of vertex k, the vertices in the reference\n\t              order below, with a positive Jacobian determinant\n" +
 			"\tin->previous  the local dofs of the previous iterate (dof order below),\n\t              or NULL for zeros; read only if the layout's needs_previous\n" +
 			"\tin->time      the time t of time-dependent data\n" +
-			"\tin->step      the time step of the kernels of one backward Euler\n\t              step of a transient form",
+			"\tin->step      the time step of the kernels of one backward Euler\n\t              step of a transient form\n" +
+			"\tin->recovered the recovered gradient of the previous iterate at the\n\t              local dofs: recovered[l*dim + i] is its derivative along\n\t              axis i at the node of local dof l; NULL for zeros; read\n\t              only if the layout's needs_recovered",
 		"and writes every entry of",
 		"\tA  the N*N element matrix, row-major: A[i*N + j] couples test dof i\n\t   (row) with trial dof j (column)\n\tb  the element vector, N entries",
 		"It returns FW_KERNEL_OK, or FW_KERNEL_DEGENERATE after filling A and b with NaN when det J <= 0.",
 		"A facet kernel also takes a side index (into the layout's sides) and a local facet index (below); it integrates over that facet of the cell, which the caller knows to lie on that boundary side, and writes the facet integral's own A and b, which the caller adds to the cell's. It returns FW_KERNEL_BAD_INDEX and writes nothing when either index is out of range.",
-		"Local dofs are numbered field by field, then component by component, then element node by node: dof offset + c*nodes + k is node k of component c of a field (struct fw_kernel_field). The layout function reports N, the cell, the fields, the sides, the quadrature degree and whether the form reads the previous iterate.",
+		"Local dofs are numbered field by field, then component by component, then element node by node: dof offset + c*nodes + k is node k of component c of a field (struct fw_kernel_field). The layout function reports N, the cell, the fields, the sides, the quadrature degree and whether the form reads the previous iterate and its recovered gradient.",
+		"A form whose layout has needs_recovered (stabilised methods on P1 in 2D and 3D, derived with the recovery on, the default of gen) rebuilds the second derivatives its strong residual loses on linear elements from a continuous gradient of the previous iterate that the caller computes before each assembly, as formwright's runtime does: at each node not on the boundary the lumped-mass L2 projection g(x_a) = (sum over the cells K around node a of |K| grad u_h|K) / (sum of |K|), and at a boundary node a least-squares linear fit to the projected values of nearby interior nodes (Jansen, Collis, Whiting & Shakib 1999, CMAME 174, for the method). With in->recovered NULL the kernels read zeros, the plain P1 residual. Derive with --recover=false for kernels that read no recovered gradient.",
 	}
 	cells := map[cell.Type][]*formPlan{}
 	var order []cell.Type
@@ -535,7 +533,7 @@ func (w *cWriter) layout(fp *formPlan) {
 	w.line("")
 	w.line("static const struct fw_kernel_layout %s_layout_data = {", w.base)
 	w.line("\t%s, %s, %d, %d, %d, %d, %d,", cString(fp.method), cString(fp.cell.String()), fp.cell.Dim(), fp.cell.NumVertices(), fp.n, fp.degree, fp.cellK.points)
-	w.line("\t%d, %s_fields, %d, %s, %d, %d, %d", len(fp.fields), w.base, len(fp.sides), sides, fp.cell.NumFacets(), b2i(fp.prev), b2i(fp.cellK.sym))
+	w.line("\t%d, %s_fields, %d, %s, %d, %d, %d, %d", len(fp.fields), w.base, len(fp.sides), sides, fp.cell.NumFacets(), b2i(fp.prev), b2i(fp.lf.ReadsRecovered()), b2i(fp.cellK.sym))
 	w.line("};")
 	w.line("")
 	w.line("const struct fw_kernel_layout *%s_layout(void)", w.base)
@@ -640,6 +638,9 @@ func (w *cWriter) stmt(s stmt) {
 	case previousStmt:
 		w.line("static const double zero[%d] = {0.0};", s.n)
 		w.line("const double *pv = in->previous != NULL ? in->previous : zero;")
+	case recoveredStmt:
+		w.line("static const double zeroR[%d] = {0.0};", s.n)
+		w.line("const double *rv = in->recovered != NULL ? in->recovered : zeroR;")
 	default:
 		panic(fmt.Sprintf("gogen: no C for statement %T", s))
 	}
@@ -665,6 +666,8 @@ func (w *cWriter) expr(x expr, ctx int) string {
 			return "x[" + w.expr(x.index, 0) + "]"
 		case leafPrev:
 			return "pv[" + w.expr(x.index, 0) + "]"
+		case leafRec:
+			return "rv[" + w.expr(x.index, 0) + "]"
 		case leafTime:
 			return "in->time"
 		case leafStep:

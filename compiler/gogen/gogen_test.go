@@ -89,7 +89,7 @@ func TestDeterministic(t *testing.T) {
 			}
 			var cs [2][]byte
 			for i := range cs {
-				forms, derived := lowerDerivedC(t, mc.file, []byte(mc.src))
+				forms, derived := lowerDerived(t, mc.file, []byte(mc.src))
 				h, src, err := GenerateC(forms, COptions{Prefix: mc.name, ModelFile: mc.file, Derived: derived})
 				if err != nil {
 					t.Fatal(err)

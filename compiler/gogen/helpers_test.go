@@ -326,13 +326,3 @@ tau for c = tau_doubly_asymptotic(norm(a), kappa, h)
 capture for c = capture_codina(7/10, norm(a), kappa, h, residual(c), grad(c), 1/100, 1/10000)` + tensor + `
 `
 }
-
-// lowerDerivedC is lowerDerived for the C back end: the forms are derived
-// with the recovery of the P1 residual's second derivatives off, since
-// the C kernels cannot read recovered derivatives (GenerateC refuses
-// them; `gen --lang c` derives without the recovery).
-func lowerDerivedC(t testing.TB, file string, src []byte) ([]*ir.LoweredForm, map[string]Derived) {
-	t.Helper()
-	forms, d := lowerDerivationWith(t, file, src, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
-	return forms, derivedOf(d)
-}

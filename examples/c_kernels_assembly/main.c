@@ -194,6 +194,7 @@ static int solve(int n)
 				in.previous = NULL;
 				in.time = 0;
 				in.step = 0;
+				in.recovered = NULL;
 				if (plate_galerkin_cell(&in, A, b) != FW_KERNEL_OK) {
 					fprintf(stderr, "plate: degenerate triangle\n");
 					return 1;

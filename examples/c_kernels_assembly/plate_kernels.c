@@ -46,7 +46,7 @@ static const struct fw_kernel_field plate_galerkin_fields[1] = {
 
 static const struct fw_kernel_layout plate_galerkin_layout_data = {
 	"galerkin", "triangle", 2, 3, 3, 5, 7,
-	1, plate_galerkin_fields, 0, NULL, 3, 0, 1
+	1, plate_galerkin_fields, 0, NULL, 3, 0, 0, 1
 };
 
 const struct fw_kernel_layout *plate_galerkin_layout(void)

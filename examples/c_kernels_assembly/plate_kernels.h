@@ -10,7 +10,7 @@
  * bytes and a little more.
  *
  *   struct fw_kernel_input in;
- *   in.coords = x; in.previous = NULL; in.time = t; in.step = dt;
+ *   in.coords = x; in.previous = NULL; in.time = t; in.step = dt; in.recovered = NULL;
  *   int status = plate_galerkin_cell(&in, A, b);
  *
  * A cell kernel reads
@@ -23,6 +23,10 @@
  *   in->time      the time t of time-dependent data
  *   in->step      the time step of the kernels of one backward Euler
  *                 step of a transient form
+ *   in->recovered the recovered gradient of the previous iterate at the
+ *                 local dofs: recovered[l*dim + i] is its derivative along
+ *                 axis i at the node of local dof l; NULL for zeros; read
+ *                 only if the layout's needs_recovered
  *
  * and writes every entry of
  *
@@ -43,7 +47,19 @@
  * element node by node: dof offset + c*nodes + k is node k of component c of a
  * field (struct fw_kernel_field). The layout function reports N, the cell, the
  * fields, the sides, the quadrature degree and whether the form reads the
- * previous iterate.
+ * previous iterate and its recovered gradient.
+ *
+ * A form whose layout has needs_recovered (stabilised methods on P1 in 2D and
+ * 3D, derived with the recovery on, the default of gen) rebuilds the second
+ * derivatives its strong residual loses on linear elements from a continuous
+ * gradient of the previous iterate that the caller computes before each
+ * assembly, as formwright's runtime does: at each node not on the boundary the
+ * lumped-mass L2 projection g(x_a) = (sum over the cells K around node a of
+ * |K| grad u_h|K) / (sum of |K|), and at a boundary node a least-squares
+ * linear fit to the projected values of nearby interior nodes (Jansen, Collis,
+ * Whiting & Shakib 1999, CMAME 174, for the method). With in->recovered NULL
+ * the kernels read zeros, the plain P1 residual. Derive with --recover=false
+ * for kernels that read no recovered gradient.
  *
  * Triangle cells: reference vertices 0 at (0, 0), 1 at (1, 0), 2 at (0, 1);
  * local facets 0 (vertices 1 2), 1 (vertices 2 0), 2 (vertices 0 1). The nodes
@@ -59,8 +75,8 @@
 extern "C" {
 #endif
 
-#ifndef FW_KERNEL_ABI_1
-#define FW_KERNEL_ABI_1
+#ifndef FW_KERNEL_ABI_2
+#define FW_KERNEL_ABI_2
 
 /* What a kernel reads for one cell (see above). */
 struct fw_kernel_input {
@@ -68,6 +84,7 @@ struct fw_kernel_input {
 	const double *previous; /* previous iterate, local dofs; NULL: zeros */
 	double time;            /* the time t */
 	double step;            /* the time step of a stepped form */
+	const double *recovered; /* recovered gradient, recovered[l*dim + i]; NULL: zeros */
 };
 
 /* One unknown field of a kernel's element. */
@@ -94,6 +111,7 @@ struct fw_kernel_layout {
 	const char *const *sides;       /* their names, by side index (NULL if none) */
 	int num_facets;                 /* local facets per cell */
 	int needs_previous;             /* 1: the kernels read in->previous */
+	int needs_recovered;            /* 1: the kernels read in->recovered */
 	int symmetric;                  /* 1: the cell kernel's A is symmetric */
 };
 
@@ -104,7 +122,7 @@ enum fw_kernel_status {
 	FW_KERNEL_BAD_INDEX = 2   /* side or facet out of range: nothing written */
 };
 
-#endif /* FW_KERNEL_ABI_1 */
+#endif /* FW_KERNEL_ABI_2 */
 
 /* The galerkin form on triangle cells: 3 local dofs, quadrature degree 5 (7 points). */
 int plate_galerkin_cell(const struct fw_kernel_input *in, double *A, double *b);
