@@ -61,16 +61,17 @@ func picardSteps(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mes
 //
 // Measured on 128² (the aim of 0.02 is not reached): the largest deviation
 // is 0.0313 for SUPG and 0.0338 for VMS with the recovery (u 0.0284 and
-// 0.0314), against 0.0452 and 0.0421 without; 4+20 and 4+21 Newton
-// iterations (without + with the recovery), 136 s and 214 s, about six
-// minutes for the test on two cores. Asserted: at most 0.036 at every
+// 0.0314), against 0.0452 and 0.0421 without; 4+4 Newton iterations
+// (without + with the recovery; 4+20 and 4+21 with the fixed-recovery
+// Jacobian alone), 80 s and 190 s, about five minutes for the test on two
+// cores. Asserted: at most 0.036 at every
 // point and less than without the recovery. On 64² the deviations are
 // 0.070 (SUPG) and 0.075 (VMS).
 func TestCavityRe1000Recovered(t *testing.T) {
 	if testing.Short() || os.Getenv("FORMWRIGHT_LONG_TESTS") == "" {
-		// About 6 minutes on the development machine (DEVELOPERS.md, "Long tests"):
+		// About 5 minutes on the development machine (DEVELOPERS.md, "Long tests"):
 		//   FORMWRIGHT_LONG_TESTS=1 go test . -run TestCavityRe1000Recovered -timeout 30m
-		t.Skip("128² Navier–Stokes solves at Re 1000, about 6 minutes: set FORMWRIGHT_LONG_TESTS=1")
+		t.Skip("128² Navier–Stokes solves at Re 1000, about 5 minutes: set FORMWRIGHT_LONG_TESTS=1")
 	}
 	nPicard := 4
 	if s := os.Getenv("FW_CAVITY_PICARD"); s != "" {

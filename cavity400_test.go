@@ -39,18 +39,19 @@ var ghia400 = struct{ u, v [][2]float64 }{
 // element-metric τ of Bazilevs et al. (2007) against the default
 // h = diam(K); each brings the recovered solution further from Ghia et al.
 // (128² SUPG: 0.0227 with h = √(2 meas(K)), 0.0254 with the metric τ,
-// against 0.0208), so the default stays. Cost: Newton without the recovery from the
-// Stokes start, then with it from that solution to ‖F‖ ≤ 1e-8 ‖F₀‖ (24
-// iterations, linear convergence: the Jacobian holds the recovered field
-// fixed); about ten minutes on two cores with the interpreted kernels (Re
-// 400 is not a standard model), so it skips under -short.
+// against 0.0208), so the default stays. Cost: Newton without the recovery
+// from the Stokes start, then with it from that solution to ‖F‖ ≤ 1e-8
+// ‖F₀‖: 4 iterations, each corrected toward the exact Jacobian (24 with
+// the fixed-recovery Jacobian alone, whose convergence is linear); about
+// four minutes on two cores with the interpreted kernels (Re 400 is not a
+// standard model).
 func TestCavityRe400Recovered(t *testing.T) {
-	// About 11 minutes on the development machine: more than go test's
-	// default limit of 10 minutes for the whole package, so it runs only
-	// when asked (DEVELOPERS.md, "Long tests"):
+	// About 4 minutes on the development machine, too long for the root
+	// package's share of go test's default limit of 10 minutes, so it
+	// runs only when asked (DEVELOPERS.md, "Long tests"):
 	//   FORMWRIGHT_LONG_TESTS=1 go test . -run TestCavityRe400Recovered -timeout 30m
 	if testing.Short() || os.Getenv("FORMWRIGHT_LONG_TESTS") == "" {
-		t.Skip("128² Navier–Stokes solves at Re 400, about 11 minutes: set FORMWRIGHT_LONG_TESTS=1")
+		t.Skip("128² Navier–Stokes solves at Re 400, about 4 minutes: set FORMWRIGHT_LONG_TESTS=1")
 	}
 	n := "128"
 	if s := os.Getenv("FW_CAVITY_N"); s != "" { // a coarser run while developing

@@ -338,6 +338,7 @@ static PetscErrorCode assemble(const struct part *p, const struct ghost *g, cons
 	in.step = p->h.step;
 	in.previous = pe;
 	in.coords = xc;
+	in.recovered = NULL; /* the engine solves forms derived without the recovery */
 	PetscCall(MatZeroEntries(A));
 	PetscCall(VecSet(b, 0));
 	for (PetscInt c = 0; c < p->ncell; ++c) {
