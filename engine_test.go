@@ -95,7 +95,7 @@ func TestEngineSolve(t *testing.T) {
 		return js, out.String()
 	}
 	// The PETSc engine solves without the recovery of the P1 second
-	// derivatives (its C kernels cannot read them): compare like with like.
+	// derivatives (its driver has no gradient recovery): compare like with like.
 	ref, _ := values("--recover=false", "--json")
 	got, _ := values("--engine", "petsc", "--ranks", "2", "--json")
 	if got.Engine == "" || got.Ranks != 2 || got.Kernels != "generated C" || !(got.Residual < 1e-8) {

@@ -82,8 +82,9 @@ func lowerC(m *compiler.Model, method string) (*ir.LoweredForm, Kernels, error) 
 	if !ok {
 		return nil, Kernels{}, fmt.Errorf("no method %s", method)
 	}
-	// The engine's C kernels cannot read recovered second derivatives:
-	// derive with the recovery off, as the command does for --engine petsc.
+	// The engine has no gradient recovery (its driver passes no recovered
+	// gradient): derive with the recovery off, as the command does for
+	// --engine petsc.
 	d, err := compiler.DeriveWith(m, []compiler.Method{meth}, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
 	if err != nil {
 		return nil, Kernels{}, err
