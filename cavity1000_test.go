@@ -3,14 +3,11 @@ package main
 import (
 	"os"
 	"strconv"
-	"strings"
 	"testing"
 	"time"
 
 	"github.com/formwright/formwright/compiler"
-	"github.com/formwright/formwright/runtime/mesh"
 	"github.com/formwright/formwright/runtime/problem"
-	"github.com/formwright/formwright/stdlib"
 )
 
 // ghia1000 holds Ghia, Ghia & Shin (1982, J. Comput. Phys. 48), Tables I
@@ -23,29 +20,6 @@ var ghia1000 = struct{ u, v [][2]float64 }{
 	v: [][2]float64{{0.9688, -0.21388}, {0.9609, -0.27669}, {0.9531, -0.33714}, {0.9453, -0.39188}, {0.9063, -0.51550},
 		{0.8594, -0.42665}, {0.8047, -0.31966}, {0.5, 0.02526}, {0.2344, 0.32235}, {0.2266, 0.33075}, {0.1563, 0.37095},
 		{0.0938, 0.32627}, {0.0781, 0.30353}, {0.0703, 0.29012}, {0.0625, 0.27485}},
-}
-
-// picardSteps returns the state after k steps of the Picard linearisation
-// of m from zero (the first is the Stokes solution for Navier–Stokes):
-// a start from which Newton's method converges at higher Re.
-func picardSteps(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mesh.Mesh, k int) []float64 {
-	pm, err := compiler.PicardModel(m)
-	if err != nil {
-		t.Fatal(err)
-	}
-	pf, err := lowerModel(pm, meth)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var x []float64
-	for i := 0; i < k; i++ {
-		sol, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true, Initial: x})
-		if err != nil {
-			t.Fatal(err)
-		}
-		x = sol.X
-	}
-	return x
 }
 
 // TestCavityRe1000Recovered: the lid-driven cavity at Re 1000 on a 128²
@@ -77,22 +51,7 @@ func TestCavityRe1000Recovered(t *testing.T) {
 	if s := os.Getenv("FW_CAVITY_PICARD"); s != "" {
 		nPicard, _ = strconv.Atoi(s)
 	}
-	n := "128"
-	if s := os.Getenv("FW_CAVITY_N"); s != "" { // a coarser run while developing
-		n = s
-	}
-	_, src, err := stdlib.Model("navier_stokes_nonlinear")
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := loadModel(writeModel(t, strings.Replace(string(src), "given Re = 100", "given Re = 1000", 1)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	msh, err := mesh.Load("span:0,1,0,1:" + n + "x" + n + ":tri")
-	if err != nil {
-		t.Fatal(err)
-	}
+	m, msh, n := longCavity(t, "1000")
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
 		t0 := time.Now()
 		plain, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})

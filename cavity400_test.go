@@ -53,22 +53,7 @@ func TestCavityRe400Recovered(t *testing.T) {
 	if testing.Short() || os.Getenv("FORMWRIGHT_LONG_TESTS") == "" {
 		t.Skip("128² Navier–Stokes solves at Re 400, about 4 minutes: set FORMWRIGHT_LONG_TESTS=1")
 	}
-	n := "128"
-	if s := os.Getenv("FW_CAVITY_N"); s != "" { // a coarser run while developing
-		n = s
-	}
-	_, src, err := stdlib.Model("navier_stokes_nonlinear")
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := loadModel(writeModel(t, strings.Replace(string(src), "given Re = 100", "given Re = 400", 1)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	msh, err := mesh.Load("span:0,1,0,1:" + n + "x" + n + ":tri")
-	if err != nil {
-		t.Fatal(err)
-	}
+	m, msh, n := longCavity(t, "400")
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
 		plain, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
 		if err != nil {
@@ -97,4 +82,28 @@ func TestCavityRe400Recovered(t *testing.T) {
 			t.Errorf("%s: deviation from Ghia et al. u %.4f, v %.4f (without the recovery %.4f, %.4f), want ≤ 0.024 and below the plain solution's", meth, du, dv, du0, dv0)
 		}
 	}
+}
+
+// longCavity is the lid-driven cavity of navier_stokes_nonlinear at the
+// Reynolds number re on the "tri" mesh of the long tests: 128² squares,
+// or FW_CAVITY_N² for a coarser run while developing. It returns the
+// model, the mesh and the number of squares per side.
+func longCavity(t *testing.T, re string) (*compiler.Model, *mesh.Mesh, string) {
+	n := "128"
+	if s := os.Getenv("FW_CAVITY_N"); s != "" {
+		n = s
+	}
+	_, src, err := stdlib.Model("navier_stokes_nonlinear")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := loadModel(writeModel(t, strings.Replace(string(src), "given Re = 100", "given Re = "+re, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	msh, err := mesh.Load("span:0,1,0,1:" + n + "x" + n + ":tri")
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m, msh, n
 }

@@ -440,6 +440,13 @@ func ghiaDeviation(sol *problem.Solution, tu, tv [][2]float64) (du, dv float64) 
 // stokesStart returns one step of the Picard linearisation from zero: for
 // Navier–Stokes, the Stokes solution.
 func stokesStart(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mesh.Mesh) []float64 {
+	return picardSteps(t, m, meth, msh, 1)
+}
+
+// picardSteps returns the state after k steps of the Picard linearisation
+// of m from zero (the first is the Stokes solution for Navier–Stokes):
+// a start from which Newton's method converges at higher Re.
+func picardSteps(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mesh.Mesh, k int) []float64 {
 	pm, err := compiler.PicardModel(m)
 	if err != nil {
 		t.Fatal(err)
@@ -448,11 +455,15 @@ func stokesStart(t testing.TB, m *compiler.Model, meth compiler.Method, msh *mes
 	if err != nil {
 		t.Fatal(err)
 	}
-	sol, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true})
-	if err != nil {
-		t.Fatal(err)
+	var x []float64
+	for i := 0; i < k; i++ {
+		sol, err := problem.Solve(pf, msh, problem.Options{PreviousFixed: true, Initial: x})
+		if err != nil {
+			t.Fatal(err)
+		}
+		x = sol.X
 	}
-	return sol.X
+	return x
 }
 
 // TestCavityNewtonRe100: Navier–Stokes written with grad(vel) . vel and
