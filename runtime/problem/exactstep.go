@@ -84,7 +84,9 @@ type factorPreconditioner struct{ p *linsolve.Prepared }
 
 func (f factorPreconditioner) Solve(dst, r []float64) {
 	clear(dst)
-	f.p.Solve(r, dst) // a direct solve; its residual is checked by GMRES's own
+	// A failed solve leaves dst zero, which GMRES reports as a breakdown,
+	// and exactStep then keeps the fixed-recovery step.
+	f.p.Solve(r, dst)
 }
 
 // exactStep improves delta, the step of the fixed-recovery Jacobian for
