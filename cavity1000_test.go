@@ -7,7 +7,6 @@ import (
 	"time"
 
 	"github.com/formwright/formwright/compiler"
-	"github.com/formwright/formwright/runtime/problem"
 )
 
 // ghia1000 holds Ghia, Ghia & Shin (1982, J. Comput. Phys. 48), Tables I
@@ -54,23 +53,11 @@ func TestCavityRe1000Recovered(t *testing.T) {
 	m, msh, n := longCavity(t, "1000")
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
 		t0 := time.Now()
-		plain, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
+		start, sol, err := plainThenRecovered(m, meth, msh, picardSteps(t, m, meth, msh, nPicard))
 		if err != nil {
-			t.Fatal(err)
-		}
-		start, err := problem.Solve(plain, msh, problem.Options{Initial: picardSteps(t, m, meth, msh, nPicard), Newton: problem.NewtonOptions{RelTol: 1e-8}})
-		if err != nil {
-			t.Fatalf("%s: Newton without the recovery from %d Picard steps: %v", meth, nPicard, err)
+			t.Fatalf("%s, from %d Picard steps: %v", meth, nPicard, err)
 		}
 		du0, dv0 := ghiaDeviation(start, ghia1000.u, ghia1000.v)
-		lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{})
-		if err != nil {
-			t.Fatal(err)
-		}
-		sol, err := problem.Solve(lf, msh, problem.Options{Initial: start.X, Newton: problem.NewtonOptions{RelTol: 1e-8, MaxIter: 60}})
-		if err != nil {
-			t.Fatalf("%s: Newton with the recovery: %v", meth, err)
-		}
 		du, dv := ghiaDeviation(sol, ghia1000.u, ghia1000.v)
 		t.Logf("%s %s²: deviation from Ghia et al. Re 1000 without recovery u %.4f, v %.4f; with recovery u %.4f, v %.4f (%d Picard steps, %d+%d Newton iterations, %.0f s)",
 			meth, n, du0, dv0, du, dv, nPicard, len(start.Summary.History)-1, len(sol.Summary.History)-1, time.Since(t0).Seconds())

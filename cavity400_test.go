@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"os"
 	"strings"
 	"testing"
@@ -55,26 +56,11 @@ func TestCavityRe400Recovered(t *testing.T) {
 	}
 	m, msh, n := longCavity(t, "400")
 	for _, meth := range []compiler.Method{compiler.SUPG, compiler.VMS} {
-		plain, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
+		start, sol, err := plainThenRecovered(m, meth, msh, stokesStart(t, m, meth, msh))
 		if err != nil {
-			t.Fatal(err)
-		}
-		start, err := problem.Solve(plain, msh, problem.Options{Initial: stokesStart(t, m, meth, msh), Newton: problem.NewtonOptions{RelTol: 1e-8}})
-		if err != nil {
-			t.Fatal(err)
+			t.Fatalf("%s: %v", meth, err)
 		}
 		du0, dv0 := ghiaDeviation(start, ghia400.u, ghia400.v)
-		lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{})
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !lf.ReadsRecovered() {
-			t.Fatalf("%s: the default form does not read recovered derivatives", meth)
-		}
-		sol, err := problem.Solve(lf, msh, problem.Options{Initial: start.X, Newton: problem.NewtonOptions{RelTol: 1e-8, MaxIter: 60}})
-		if err != nil {
-			t.Fatal(err)
-		}
 		du, dv := ghiaDeviation(sol, ghia400.u, ghia400.v)
 		t.Logf("%s %s²: deviation from Ghia et al. Re 400 without recovery u %.4f, v %.4f; with recovery u %.4f, v %.4f (%d Newton iterations from the plain solution, kernels %s)",
 			meth, n, du0, dv0, du, dv, len(sol.Summary.History)-1, sol.Summary.KernelPath)
@@ -106,4 +92,30 @@ func longCavity(t *testing.T, re string) (*compiler.Model, *mesh.Mesh, string) {
 		t.Fatal(err)
 	}
 	return m, msh, n
+}
+
+// plainThenRecovered is the solve of the cavity tests: Newton's method
+// without the recovered second derivatives from initial to ‖F‖ ≤ 1e-8
+// ‖F₀‖, then, from that solution, with them (the default derivation,
+// which must read them) to the same tolerance within 60 iterations. It
+// returns both solutions.
+func plainThenRecovered(m *compiler.Model, meth compiler.Method, msh *mesh.Mesh, initial []float64) (plain, recovered *problem.Solution, err error) {
+	pf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
+	if err != nil {
+		return nil, nil, err
+	}
+	if plain, err = problem.Solve(pf, msh, problem.Options{Initial: initial, Newton: problem.NewtonOptions{RelTol: 1e-8}}); err != nil {
+		return nil, nil, fmt.Errorf("Newton without the recovery: %w", err)
+	}
+	lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{})
+	if err != nil {
+		return nil, nil, err
+	}
+	if !lf.ReadsRecovered() {
+		return nil, nil, fmt.Errorf("the default form does not read recovered derivatives")
+	}
+	if recovered, err = problem.Solve(lf, msh, problem.Options{Initial: plain.X, Newton: problem.NewtonOptions{RelTol: 1e-8, MaxIter: 60}}); err != nil {
+		return nil, nil, fmt.Errorf("Newton with the recovery: %w", err)
+	}
+	return plain, recovered, nil
 }

@@ -118,25 +118,12 @@ func TestCavityTauStudy(t *testing.T) {
 		}
 		for _, meth := range meths {
 			t0 := time.Now()
-			plain, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{Recovery: compiler.RecoverOff})
+			start, sol, err := plainThenRecovered(m, meth, msh, stokesStart(t, m, meth, msh))
 			if err != nil {
-				t.Fatal(err)
-			}
-			start, err := problem.Solve(plain, msh, problem.Options{Initial: stokesStart(t, m, meth, msh), Newton: problem.NewtonOptions{RelTol: 1e-8}})
-			if err != nil {
-				t.Errorf("%s %s plain: %v", name, meth, err)
+				t.Errorf("%s %s: %v", name, meth, err)
 				continue
 			}
 			du0, dv0 := ghiaDeviation(start, ghia400.u, ghia400.v)
-			lf, _, err := deriveAndLowerWith(m, meth, compiler.DeriveOptions{})
-			if err != nil {
-				t.Fatal(err)
-			}
-			sol, err := problem.Solve(lf, msh, problem.Options{Initial: start.X, Newton: problem.NewtonOptions{RelTol: 1e-8, MaxIter: 60}})
-			if err != nil {
-				t.Errorf("%s %s recovered: %v", name, meth, err)
-				continue
-			}
 			du, dv := ghiaDeviation(sol, ghia400.u, ghia400.v)
 			t.Logf("WORST %s %s: %s", name, meth, worstPoints(sol))
 			t.Logf("STUDY %s² %-12s %-4s plain u %.4f v %.4f | recovered u %.4f v %.4f | iters %d+%d | %.0fs",

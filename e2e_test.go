@@ -136,7 +136,7 @@ func TestGalerkinOscillates1D(t *testing.T) {
 	}
 }
 
-func writeModel(t *testing.T, src string) string {
+func writeModel(t testing.TB, src string) string {
 	p := filepath.Join(t.TempDir(), "model.fw")
 	if err := os.WriteFile(p, []byte(src), 0o644); err != nil {
 		t.Fatal(err)

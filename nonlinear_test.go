@@ -575,11 +575,7 @@ func kovasznayRecovered(t testing.TB, squares string) (*ir.LoweredForm, *mesh.Me
 	s := strings.Replace(string(src), "given Re = 100", "given Re = 40", 1)
 	s = strings.Replace(s, "at left, right, bottom: vel = [0, 0]\nat top: vel = [1, 0]\n",
 		"at all: vel = [1 - exp("+l+"*x)*cos(2*pi*y), "+l+"/(2*pi)*exp("+l+"*x)*sin(2*pi*y)]\n", 1)
-	path := filepath.Join(t.TempDir(), "kovasznay.fw")
-	if err := os.WriteFile(path, []byte(s), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	m, err := loadModel(path)
+	m, err := loadModel(writeModel(t, s))
 	if err != nil {
 		t.Fatal(err)
 	}
