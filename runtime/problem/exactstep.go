@@ -89,27 +89,23 @@ func (f factorPreconditioner) Solve(dst, r []float64) {
 	f.p.Solve(r, dst)
 }
 
-// exactStep improves delta, the step of the fixed-recovery Jacobian for
-// the constrained system whose right-hand side is rhs (−F(u), zero on the
-// fixed dofs), toward the step of the exact Jacobian, to relative residual
-// eta, and reports whether it did. It returns the residual evaluations
-// spent. When GMRES does not reach eta within exactStepMaxIters (the
-// directional differences are then not those of a smooth map, or the
-// fixed-recovery Jacobian is a poor preconditioner), or fails, it leaves
-// delta as it was: the fixed-recovery step is still a descent direction
+// exactStep improves delta in place, the step of the fixed-recovery
+// Jacobian for the constrained system whose right-hand side is rhs
+// (−F(u), zero on the fixed dofs), toward the step of the exact Jacobian,
+// to relative residual eta, and reports whether it reached eta. It
+// returns the residual evaluations spent. When GMRES does not reach eta
+// within exactStepMaxIters (the directional differences are then not
+// those of a smooth map, or the fixed-recovery Jacobian is a poor
+// preconditioner), or fails, delta holds whatever GMRES left, and the
+// caller goes back to the fixed-recovery step, still a descent direction
 // for the line search to try.
 func (s *system) exactStep(u, rhs, delta []float64, fixed []bool, in assemble.Input, eta float64) (int, bool, error) {
 	op := &directionalJacobian{s: s, in: in, u: u, f0: rhs, fixed: fixed, x: make([]float64, len(u)), unorm: norm2(u)}
-	x := append([]float64(nil), delta...)
-	_, err := linsolve.GMRES(op, rhs, x, factorPreconditioner{s.prepared}, linsolve.Options{RelTol: eta, MaxIter: exactStepMaxIters, Restart: exactStepMaxIters})
+	_, err := linsolve.GMRES(op, rhs, delta, factorPreconditioner{s.prepared}, linsolve.Options{RelTol: eta, MaxIter: exactStepMaxIters, Restart: exactStepMaxIters})
 	if op.err != nil {
 		return op.evals, false, op.err // an assembly failed: not a numerical matter of the step
 	}
-	if err != nil {
-		return op.evals, false, nil
-	}
-	copy(delta, x)
-	return op.evals, true, nil
+	return op.evals, err == nil, nil
 }
 
 // forcingTerm is η_k of Eisenstat & Walker's second choice with the

@@ -226,9 +226,9 @@ func (s *system) newton(opts Options) (*Solution, error) {
 	rPrev, eta := r0, 0.0
 	// The correction is tried once a step has passed the line search
 	// undamped (near the solution, where the fixed recovery slows Newton
-	// down); before, the
-	// directional differences may cross the kinks of |u| in τ (at a zero
-	// start), and a damped step gains little from it.
+	// down); before, the directional differences may cross the kinks of
+	// |u| in τ (at a zero start), and a damped step gains little from it.
+	// fixedStep keeps the fixed-recovery step to go back to.
 	correct, lastWhole := s.needRec && !no.FixedRecovery, false
 	var fixedStep []float64
 	delta := make([]float64, dm.NumDofs)
@@ -266,6 +266,9 @@ func (s *system) newton(opts Options) (*Solution, error) {
 			tAsm += time.Since(t2)
 			if err != nil {
 				return nil, err
+			}
+			if !corrected {
+				copy(delta, fixedStep)
 			}
 		}
 		rPrev = r
