@@ -151,17 +151,7 @@ func benchTriad(b *testing.B, nodes, workers int) {
 	}
 	b.ResetTimer()
 	for b.Loop() {
-		var wg sync.WaitGroup
-		for w := range workers {
-			lo, hi := n*w/workers, n*(w+1)/workers
-			wg.Go(func() {
-				xs, ys, zs := x[lo:hi], y[lo:hi], z[lo:hi]
-				for i := range xs {
-					xs[i] = ys[i] + 3*zs[i]
-				}
-			})
-		}
-		wg.Wait()
+		triad(x, y, z, workers)
 	}
 	report(b, cells)
 	sec := b.Elapsed().Seconds() / float64(b.N)
@@ -175,16 +165,20 @@ func BenchmarkTriad980k2Workers(b *testing.B) { benchTriad(b, 701, min(2, runtim
 // triad runs the STREAM triad x = y + 3z split among workers goroutines
 // in contiguous blocks.
 func triad(x, y, z []float64, workers int) {
-	n := len(x)
+	inBlocks(len(x), workers, func(_, lo, hi int) {
+		xs, ys, zs := x[lo:hi], y[lo:hi], z[lo:hi]
+		for i := range xs {
+			xs[i] = ys[i] + 3*zs[i]
+		}
+	})
+}
+
+// inBlocks runs fn(w, lo, hi) for the contiguous blocks [lo, hi) of
+// [0, n) on workers goroutines, block w on goroutine w, and waits.
+func inBlocks(n, workers int, fn func(w, lo, hi int)) {
 	var wg sync.WaitGroup
 	for w := range workers {
-		lo, hi := n*w/workers, n*(w+1)/workers
-		wg.Go(func() {
-			xs, ys, zs := x[lo:hi], y[lo:hi], z[lo:hi]
-			for i := range xs {
-				xs[i] = ys[i] + 3*zs[i]
-			}
-		})
+		wg.Go(func() { fn(w, n*w/workers, n*(w+1)/workers) })
 	}
 	wg.Wait()
 }
@@ -194,17 +188,13 @@ func triad(x, y, z []float64, workers int) {
 // is ≈ 0.5 when two cores are free and ≈ 1 when other jobs hold one.
 func spin(steps, workers int) float64 {
 	out := make([]float64, workers)
-	var wg sync.WaitGroup
-	for w := range workers {
-		wg.Go(func() {
-			s := 1.0
-			for i := 0; i < steps/workers; i++ {
-				s = s*1.0000001 + 1e-9
-			}
-			out[w] = s
-		})
-	}
-	wg.Wait()
+	inBlocks(steps, workers, func(w, _, _ int) {
+		s := 1.0
+		for i := 0; i < steps/workers; i++ {
+			s = s*1.0000001 + 1e-9
+		}
+		out[w] = s
+	})
 	return out[0]
 }
 
@@ -214,28 +204,22 @@ func spin(steps, workers int) float64 {
 // contiguous blocks: the arithmetic an assembly cannot avoid, to set
 // beside the triad's bandwidth bound.
 func kernelOnly(m *mesh.Mesh, workers int) float64 {
-	nc := m.NumCells()
 	out := make([]float64, workers)
-	var wg sync.WaitGroup
-	for w := range workers {
-		lo, hi := nc*w/workers, nc*(w+1)/workers
-		wg.Go(func() {
-			var in kernel.CellInput
-			in.Coords = make([]float64, 6)
-			var A [9]float64
-			var rhs [3]float64
-			s := 0.0
-			for c := lo; c < hi; c++ {
-				for k, v := range m.Cells[3*c : 3*c+3] {
-					in.Coords[2*k], in.Coords[2*k+1] = m.Coords[2*v], m.Coords[2*v+1]
-				}
-				handSUPG{}.Cell(&in, A[:], rhs[:])
-				s += A[4] + rhs[0]
+	inBlocks(m.NumCells(), workers, func(w, lo, hi int) {
+		var in kernel.CellInput
+		in.Coords = make([]float64, 6)
+		var A [9]float64
+		var rhs [3]float64
+		s := 0.0
+		for c := lo; c < hi; c++ {
+			for k, v := range m.Cells[3*c : 3*c+3] {
+				in.Coords[2*k], in.Coords[2*k+1] = m.Coords[2*v], m.Coords[2*v+1]
 			}
-			out[w] = s
-		})
-	}
-	wg.Wait()
+			handSUPG{}.Cell(&in, A[:], rhs[:])
+			s += A[4] + rhs[0]
+		}
+		out[w] = s
+	})
 	return out[0]
 }
 
